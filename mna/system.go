@@ -1,0 +1,63 @@
+// Package mna builds and solves the modified nodal analysis (MNA) system
+// Y(s) = G + sC of a netlist.Circuit.
+package mna
+
+import "gonum.org/v1/gonum/mat"
+
+// OutputKind says what an Output observes.
+type OutputKind int
+
+const (
+	// NodeVoltage observes v(Node) − v(Ref).
+	NodeVoltage OutputKind = iota
+	// PartCurrent observes the current through a two-terminal part, flowing
+	// into its first terminal and out of its second (for an opamp: the
+	// current its output pushes into the output node).
+	PartCurrent
+)
+
+// Output names the observed quantity y.
+type Output struct {
+	Kind OutputKind
+	Node string // NodeVoltage: the node (Ground allowed only as Ref)
+	Ref  string // NodeVoltage: the reference node; "" means Ground
+	Part string // PartCurrent: the part's hierarchical name
+}
+
+// Input names the excitation u: the independent source whose small-signal
+// amplitude is set to 1 (phase 0) while every other independent source is
+// set to zero. Source "" (with Inject "") means the circuit's only source.
+//
+// With Inject set, u is instead a unit test current pushed into node Inject
+// from Ground with every independent source zeroed (voltage sources
+// shorted, current sources opened), as used for output impedance.
+type Input struct {
+	Source string
+	Inject string
+}
+
+// System is the MNA system of one circuit for one input and one output:
+//
+//	(G + sC)·x = B·u,  y = L·x
+//
+// so that H(s) = y/u = L·(G + sC)⁻¹·B. G and C are real n×n, B and L real
+// length-n vectors. x holds the node voltages (reference removed, in the
+// circuit's node order) then the branch currents.
+//
+// Invariants: len(Unknowns) == n; Unknowns[i] names row/column i as
+// "v(NODE)" or "i(PART)" (a branch current, or "i(PART.aux)" for internal
+// currents a model needs).
+type System struct {
+	Unknowns []string
+	G, C     *mat.Dense
+	B, L     []float64
+
+	Input  Input  // the resolved source name
+	Output Output // the resolved output
+	// SourceAmplitude is the complex small-signal amplitude the file gives
+	// the input source (amplitude·e^{j·phase}); H is per unit of it.
+	SourceAmplitude complex128
+}
+
+// Size returns n, the number of unknowns.
+func (s *System) Size() int { return len(s.Unknowns) }

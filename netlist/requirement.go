@@ -1,0 +1,53 @@
+package netlist
+
+// RequireOp is the comparison of a requirement.
+type RequireOp int
+
+const (
+	// Within passes when Lo ≤ value ≤ Hi.
+	Within RequireOp = iota + 1
+	// Below passes when value ≤ Hi.
+	Below
+	// Above passes when value ≥ Lo.
+	Above
+)
+
+// String returns the keyword of the comparison.
+func (op RequireOp) String() string {
+	switch op {
+	case Within:
+		return "within"
+	case Below:
+		return "below"
+	case Above:
+		return "above"
+	}
+	return "?"
+}
+
+// Requirement is a `require` statement: a metric (spelled as on the
+// command line, e.g. "gain@1kHz", "f3db", "q") and its limits.
+//
+// Limits are in the metric's own unit: dB for gain, peak and dc metrics
+// (written with a "dB" suffix or bare), degrees for phase, Hz for
+// frequencies, plain numbers for q.
+type Requirement struct {
+	Metric string
+	Op     RequireOp
+	Lo, Hi float64 // Lo unused for Below, Hi unused for Above
+	Text   string  // the statement as written, for reports
+	Pos    Pos
+}
+
+// Pass reports whether value meets the requirement.
+func (r Requirement) Pass(value float64) bool {
+	switch r.Op {
+	case Within:
+		return value >= r.Lo && value <= r.Hi
+	case Below:
+		return value <= r.Hi
+	case Above:
+		return value >= r.Lo
+	}
+	return false
+}
