@@ -3,7 +3,6 @@
 // tolerance spreads and requirement verdicts. It never prints.
 package analysis
 
-
 // TransferFunction is a rational transfer function
 //
 //	H(s) = N(s)/D(s) = Gain · Π(s − Zeros[i]) / Π(s − Poles[i])
