@@ -128,6 +128,7 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 		return
 	}
 	sc.elems[st.Name] = st.Pos
+	before := len(e.diags)
 	kind, ok := KindByKeyword(st.Kind.Name)
 	if !ok {
 		if b, isBlock := e.blocks[st.Kind.Name]; isBlock {
@@ -250,7 +251,7 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 		it.tol = Tolerance{}
 	}
 	p.Tol = it.tol
-	if msg := step.apply(&p, e.nom, 1); msg != "" {
+	if msg := step.apply(&p, e.nom, 1); msg != "" && len(e.diags) == before {
 		at := st.Pos
 		if it.value != nil {
 			at = it.value.Pos

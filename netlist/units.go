@@ -111,6 +111,9 @@ func decodeLiteral(text string) (literal, error) {
 		}
 		return literal{Value: v, Unit: u}, nil
 	}
+	if rest == "R" || rest == "RΩ" {
+		return literal{Value: v, Unit: UnitOhm}, nil // IEC 60062 trailing R: "100R"
+	}
 	r, size := utf8.DecodeRuneInString(rest)
 	if mult, ok := siPrefixes[r]; ok {
 		after := rest[size:]
