@@ -2,6 +2,7 @@ package netlist
 
 import (
 	"errors"
+	"fmt"
 	"strings"
 	"testing"
 )
@@ -156,5 +157,20 @@ func TestRefuseNonText(t *testing.T) {
 		if err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("%s: error %v; want %q", tc.name, err, tc.want)
 		}
+	}
+}
+
+// TestTooLarge checks that block expansion is bounded: 2^30 instances are
+// refused quickly instead of being built.
+func TestTooLarge(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("block b0 (x)\nR: resistor (x, gnd) 1\nend\n")
+	for i := 1; i <= 30; i++ {
+		fmt.Fprintf(&b, "block b%d (x)\nP: b%d (x)\nQ: b%d (x)\nend\n", i, i-1, i-1)
+	}
+	b.WriteString("X: b30 (in)\n")
+	_, err := Load("big.nodal", []byte(b.String()), nil)
+	if err == nil || !strings.Contains(err.Error(), "circuit too large") {
+		t.Errorf("error %v", err)
 	}
 }

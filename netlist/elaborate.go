@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
 	"strings"
 
 	"github.com/alecthomas/participle/v2/lexer"
@@ -16,8 +17,9 @@ type Overrides map[string]float64
 // Limits of block expansion, so that a small file cannot ask for an
 // unbounded circuit.
 const (
-	// MaxParts is the most parts a circuit may have after expanding blocks.
-	MaxParts = 200000
+	// MaxParts is the most parts a circuit may have after expanding blocks
+	// (dense MNA of a larger circuit would be impractical anyway).
+	MaxParts = 20000
 	// MaxBlockDepth is the deepest nesting of block instances.
 	MaxBlockDepth = 64
 )
@@ -112,7 +114,11 @@ func (e *elab) run() {
 			if e.c.Title != "" {
 				e.errorf(st.Pos, "", "second title statement")
 			}
-			e.c.Title = st.Title.Text
+			title, err := strconv.Unquote(st.Title.Text)
+			if err != nil {
+				e.errorf(st.Title.Pos, `write the title in double quotes; \" and \\ escape`, "bad title string")
+			}
+			e.c.Title = title
 		case st.Let != nil:
 			e.let(global, st.Let)
 		case st.Element != nil:

@@ -105,7 +105,7 @@ func (s *partStep) check(p *Part) string {
 }
 
 // maxWork bounds the statements elaborated while expanding blocks.
-const maxWork = 1_000_000
+const maxWork = 100_000
 
 func (e *elab) overBudget(p lexer.Position) bool {
 	e.work++

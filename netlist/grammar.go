@@ -30,7 +30,6 @@ var lexDef = lexer.MustSimple([]lexer.SimpleRule{
 var stmtParser = participle.MustBuild[Stmt](
 	participle.Lexer(lexDef),
 	participle.Elide("Space", "Comment"),
-	participle.Unquote("String"),
 	participle.UseLookahead(4),
 )
 
@@ -61,7 +60,7 @@ type Stmt struct {
 	Element *ElementStmt `parser:"| @@"`
 }
 
-// TitleStmt is `title "text"`.
+// TitleStmt is `title "text"`; Text is the quoted string as written.
 type TitleStmt struct {
 	Pos  lexer.Position
 	Text string `parser:"\"title\" @String"`

@@ -6,8 +6,8 @@ import (
 	"testing"
 )
 
-// close reports whether a and b agree to 1e-12 relative.
-func close(a, b float64) bool {
+// near reports whether a and b agree to 1e-12 relative.
+func near(a, b float64) bool {
 	return a == b || math.Abs(a-b) <= 1e-12*math.Max(math.Abs(a), math.Abs(b))
 }
 
@@ -24,7 +24,7 @@ func TestPrefixes(t *testing.T) {
 		{"2.5mF", 2.5e-3}, {"2.5MHz", 2.5e6}, {"1e3", 1e3}, {"1.5e-3k", 1.5}, {".5", 0.5},
 	} {
 		lit, err := decodeLiteral(tc.text)
-		if err != nil || !close(lit.Value, tc.want) {
+		if err != nil || !near(lit.Value, tc.want) {
 			t.Errorf("decodeLiteral(%q) = %v, %v; want %v", tc.text, lit.Value, err, tc.want)
 		}
 	}
@@ -51,7 +51,7 @@ func TestValueCodes(t *testing.T) {
 		} else {
 			lit, err = decodeLiteral(tc.text)
 		}
-		if err != nil || !close(lit.Value, tc.want) || lit.Unit != tc.unit {
+		if err != nil || !near(lit.Value, tc.want) || lit.Unit != tc.unit {
 			t.Errorf("%q = %v %q, %v; want %v %q", tc.text, lit.Value, lit.Unit, err, tc.want, tc.unit)
 		}
 	}
@@ -68,7 +68,7 @@ func TestLiteralUnits(t *testing.T) {
 		{"2mS", UnitSiemens, 2e-3}, {"1ms", UnitSecond, 1e-3}, {"1V", UnitVolt, 1}, {"5mA", UnitAmpere, 5e-3},
 	} {
 		lit, err := decodeLiteral(tc.text)
-		if err != nil || !close(lit.Value, tc.want) || lit.Unit != tc.unit {
+		if err != nil || !near(lit.Value, tc.want) || lit.Unit != tc.unit {
 			t.Errorf("%q = %v %q, %v; want %v %q", tc.text, lit.Value, lit.Unit, err, tc.want, tc.unit)
 		}
 	}
@@ -107,7 +107,7 @@ func TestParseValue(t *testing.T) {
 			}
 			continue
 		}
-		if err != nil || !close(v, tc.want) {
+		if err != nil || !near(v, tc.want) {
 			t.Errorf("ParseValue(%q, %q) = %v, %v; want %v", tc.text, tc.unit, v, err, tc.want)
 		}
 	}
