@@ -192,13 +192,19 @@ func (e *elab) compiler(sc *scope) *exprCompiler {
 // span returns the source range of an expression.
 func (e *elab) span(x *Expr) Span {
 	start := x.Pos.Offset
+	return Span{Pos: e.f.posAt(start), Start: start, End: tokensEnd(start, x.Tokens)}
+}
+
+// tokensEnd returns the byte offset just after the last significant token,
+// or start when there is none.
+func tokensEnd(start int, toks []lexer.Token) int {
 	end := start
-	for _, t := range x.Tokens {
+	for _, t := range toks {
 		if t.Type != symSpace && t.Type != symComment && !t.EOF() {
 			end = t.Pos.Offset + len(t.Value)
 		}
 	}
-	return Span{Pos: e.f.posAt(start), Start: start, End: end}
+	return end
 }
 
 // checkName reports a name that cannot be defined.

@@ -36,6 +36,13 @@ var kindSpecs = map[Kind]kindSpec{
 	Coupling:  {"(L1, L2)", "", valueRequired, nil},
 }
 
+// Unit returns the unit symbol of the kind's main value (Part.Value): "Ω"
+// for resistors and transresistances, "F", "H", "V", "A", "S", or "" for a
+// ratio (vcvs, cccs, coupling) and for an opamp, which has no main value.
+func (k Kind) Unit() string {
+	return kindSpecs[k].unit
+}
+
 func (k Kind) terminalCount() int {
 	return strings.Count(kindSpecs[k].terminals, ",") + 1
 }

@@ -143,13 +143,7 @@ func (e *elab) require(r *RequireStmt) {
 			req.Op, req.Lo, req.Hi = Above, lo, 0
 		}
 	}
-	end := r.Pos.Offset
-	for _, t := range r.Tokens {
-		if t.Type != symSpace && t.Type != symComment && !t.EOF() {
-			end = t.Pos.Offset + len(t.Value)
-		}
-	}
-	req.Text = string(e.f.Source[r.Pos.Offset:end])
+	req.Text = string(e.f.Source[r.Pos.Offset:tokensEnd(r.Pos.Offset, r.Tokens)])
 	e.c.Requirements = append(e.c.Requirements, req)
 }
 

@@ -129,3 +129,13 @@ func TestFormatEng(t *testing.T) {
 		}
 	}
 }
+
+func TestKindUnit(t *testing.T) {
+	want := map[Kind]string{Resistor: "Ω", Capacitor: "F", Inductor: "H", VSource: "V", ISource: "A",
+		VCVS: "", VCCS: "S", CCVS: "Ω", CCCS: "", OpAmp: "", Coupling: ""}
+	for k, u := range want {
+		if k.Unit() != u {
+			t.Errorf("%v.Unit() = %q; want %q", k, k.Unit(), u)
+		}
+	}
+}
