@@ -34,6 +34,7 @@ func TestDiagnostics(t *testing.T) {
 	}{
 		{"missing colon", base + "R2 a b 10k\n", 4, 4, `unexpected "a"`, `expected ":" after the element name`, false},
 		{"missing comma", base + "R2: resistor (a b) 10k\n", 4, 17, `unexpected "b"`, `expected "," or ")"`, false},
+		{"no terminals", base + "X: nope\n", 4, 8, "unexpected end of statement", "expected the terminals in parentheses", false},
 		{"bad char", base + "R2: resistor (in, out) 10k $\n", 4, 28, `unexpected character "$"`, "", false},
 		{"dot command", ".op\n" + base, 1, 1, `unexpected character "."`, "a statement starts with", false},
 		{"unclosed", base + "R2: resistor (in, out\n", 4, 22, "unexpected end of statement", `expected "," or ")"`, false},

@@ -177,6 +177,9 @@ func lineHint(line []lexer.Token, bad lexer.Token, hint string) string {
 			return `expected ":" after the element name`
 		}
 	}
+	if len(prev) == 3 && prev[1].Value == ":" && bad.Value != "(" {
+		return "expected the terminals in parentheses, as in (a, b)"
+	}
 	depth := 0
 	for _, t := range prev {
 		switch t.Value {
