@@ -76,7 +76,7 @@ type builder struct {
 func newBuilder(c *netlist.Circuit, in Input, out Output) (*builder, error) {
 	b := &builder{c: c, in: in, out: out, nodes: map[string]int{}, branches: map[string]int{}}
 	add := func(name string) {
-		if isGround(name) {
+		if isGround(name) || name == "" {
 			return
 		}
 		if _, ok := b.nodes[name]; !ok {
@@ -90,6 +90,11 @@ func newBuilder(c *netlist.Circuit, in Input, out Output) (*builder, error) {
 	for i := range c.Parts {
 		for _, n := range c.Parts[i].Nodes {
 			add(n)
+		}
+		if k := c.Parts[i].Kind; k == netlist.VCVS || k == netlist.VCCS {
+			for _, n := range c.Parts[i].Sense {
+				add(n)
+			}
 		}
 	}
 	for _, n := range b.names {
