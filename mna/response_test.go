@@ -319,6 +319,20 @@ func TestPartCurrents(t *testing.T) {
 	if h := hAt(t, sys, f); !nearC(h, -r, 1e-12) {
 		t.Errorf("isource into R: v(a) = %v, want −R = %g", h, -r)
 	}
+	// Output impedance with the source shorted: Z = R/(1 + sRC).
+	if z := hAt(t, build(t, rc(), mna.Input{Inject: "out"}, "out", ""), f); !nearC(z, complex(r, 0)/(1+s*complex(r*cv, 0)), 1e-12) {
+		t.Errorf("output impedance %v, want R/(1 + sRC)", z)
+	}
+	// Inverting amplifier (Sedra & Smith): v(in)/R1 flows through R1 and
+	// Rf into the output node and the op-amp sinks it, so the current it
+	// pushes into its output is i(U1) = −1/R1 per volt of input.
+	inv := testcircuit.New(testcircuit.V("Vs", "in", gnd, 1), testcircuit.R("R1", "in", "m", 1e3),
+		testcircuit.R("Rf", "m", "out", 1e4), testcircuit.OpAmp("U1", gnd, "m", "out", 0, 0, 0))
+	if sys, err := mna.Build(inv, mna.Input{}, mna.Output{Kind: mna.PartCurrent, Part: "U1"}); err != nil {
+		t.Error(err)
+	} else if i := hAt(t, sys, f); !nearC(i, -1e-3, 1e-12) {
+		t.Errorf("i(U1) = %v, want −1 mA", i)
+	}
 	if sys := build(t, rc(), mna.Input{}, "out", ""); sys.SourceAmplitude != 2 {
 		t.Errorf("SourceAmplitude = %v, want 2", sys.SourceAmplitude)
 	}
