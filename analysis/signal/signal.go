@@ -14,6 +14,7 @@ package signal
 
 import (
 	"fmt"
+	"math"
 	"strings"
 )
 
@@ -143,4 +144,18 @@ func FormatNumber(x float64) string {
 		s = fmt.Sprintf("%.0f", x)
 	}
 	return s
+}
+
+// At returns u(t) = DC + Σ A·f(ωt + φ) at time t in seconds.
+func (s *Signal) At(t float64) float64 {
+	u := s.DC
+	for _, term := range s.Terms {
+		x := term.OmegaRad*t + term.PhaseRad
+		if term.Func == "cos" {
+			u += term.Amplitude * math.Cos(x)
+		} else {
+			u += term.Amplitude * math.Sin(x)
+		}
+	}
+	return u
 }
