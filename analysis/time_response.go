@@ -450,6 +450,19 @@ func closedForm(dirac float64, ms []Mode) string {
 	if dirac != 0 {
 		pieces = append(pieces, piece{dirac, "δ(t)"})
 	}
+	// the constant and ramps (poles at s = 0) first, then by pole
+	ordered := make([]Mode, 0, len(ms))
+	for _, m := range ms {
+		if m.SigmaPerS == 0 && m.OmegaRad == 0 {
+			ordered = append(ordered, m)
+		}
+	}
+	for _, m := range ms {
+		if m.SigmaPerS != 0 || m.OmegaRad != 0 {
+			ordered = append(ordered, m)
+		}
+	}
+	ms = ordered
 	for i := 0; i < len(ms); {
 		j := i
 		for j < len(ms) && ms[j].SigmaPerS == ms[i].SigmaPerS && ms[j].OmegaRad == ms[i].OmegaRad {
@@ -596,6 +609,9 @@ func groupPieces(ms []Mode) []piece {
 			} else {
 				ph = " + " + p + "°)"
 			}
+		}
+		if m.Power == 1 && tau != 0 {
+			txt = "(" + txt + ")"
 		}
 		out = append(out, piece{amp, join(txt, exp, freq+ph)})
 	}

@@ -276,6 +276,10 @@ func TestImpulseRepeatedPair(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	// t·e^(σt) terms are written with (t/τ)
+	if !strings.Contains(double.ClosedForm, "·(t/3.33s)·e^(−t/3.33s)·sin(2π·152mHz·t") {
+		t.Errorf("closed form %q", double.ClosedForm)
+	}
 	for _, tt := range []float64{0.5, 2, 5, 11} {
 		// Simpson's rule of ∫0^t h(τ)h(t−τ)dτ
 		const n = 2000
@@ -348,6 +352,9 @@ func TestStepUnstable(t *testing.T) {
 	if got := r.At(tau); math.Abs(got-(1-math.E)) > 1e-12 {
 		t.Errorf("y(τ) = %g", got)
 	}
+	if r.ClosedForm != "y(t) = 1 − e^(t/1ms)" {
+		t.Errorf("closed form %q", r.ClosedForm)
+	}
 	if !strings.Contains(r.Metrics.Note, "grows") {
 		t.Errorf("note %q", r.Metrics.Note)
 	}
@@ -415,6 +422,21 @@ func TestEngNotation(t *testing.T) {
 	} {
 		if got := engNotation(c.x, c.unit); got != c.want {
 			t.Errorf("engNotation(%g) = %q, want %q", c.x, got, c.want)
+		}
+	}
+}
+
+// BenchmarkStepEighthOrder measures a full step response (expansion, 500
+// samples, metrics) of four damped pairs with a double pair among them.
+func BenchmarkStepEighthOrder(b *testing.B) {
+	var poles []complex128
+	for _, p := range []complex128{complex(-100, 2e3), complex(-300, 5e3), complex(-300, 5e3), complex(-1e3, 1e4)} {
+		poles = append(poles, p, cmplx.Conj(p))
+	}
+	h := tfRoots(1, []complex128{-50}, poles)
+	for b.Loop() {
+		if _, err := Step(h, TimeOptions{}); err != nil {
+			b.Fatal(err)
 		}
 	}
 }
