@@ -206,7 +206,7 @@ func modes(groups []poleGroup, res [][]complex128) []Mode {
 	return out
 }
 
-// value returns the sum of the modes at t and its time derivative.
+// modesAt returns the sum of the modes at t and its time derivative.
 func modesAt(ms []Mode, t float64) (y, dy float64) {
 	for _, m := range ms {
 		e := math.Exp(m.SigmaPerS * t)
