@@ -104,25 +104,24 @@ func (r *tfReducer) expr(e Expr) ratio {
 	return one
 }
 
+// binary reduces a two-operand node; the caller checks the size.
 func (r *tfReducer) binary(e *Binary) ratio {
-	{
-		a, b := r.expr(e.X), r.expr(e.Y)
-		switch e.Op {
-		case '+':
-			return ratAdd(a, b)
-		case '-':
-			return ratAdd(a, ratNeg(b))
-		case '*':
-			return ratMul(a, b)
-		case '/':
-			if b.num.isZero() {
-				r.errorf(e.At, "division by zero")
-				return one
-			}
-			return ratMul(a, ratInv(b))
-		case '^':
-			return r.power(e, a, b)
+	a, b := r.expr(e.X), r.expr(e.Y)
+	switch e.Op {
+	case '+':
+		return ratAdd(a, b)
+	case '-':
+		return ratAdd(a, ratNeg(b))
+	case '*':
+		return ratMul(a, b)
+	case '/':
+		if b.num.isZero() {
+			r.errorf(e.At, "division by zero")
+			return one
 		}
+		return ratMul(a, ratInv(b))
+	case '^':
+		return r.power(e, a, b)
 	}
 	return one
 }
