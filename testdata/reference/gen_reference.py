@@ -165,6 +165,10 @@ def read_parts(path):
         if sm:
             opts["sense"] = [t.strip() for t in sm.group(1).split(",")]
             rest = rest[:sm.start()] + rest[sm.end():]
+        sm = re.search(r"sense=([A-Za-z_]\w*)", rest)
+        if sm:
+            opts["sense"] = sm.group(1)  # the element whose current controls
+            rest = rest[:sm.start()] + rest[sm.end():]
         for om in re.finditer(r"(\w+)=(\S+)", rest):
             opts[om.group(1)] = evaluate(om.group(2), env)
         rest = re.sub(r"(\w+)=(\S+)", "", rest).strip()
@@ -293,7 +297,8 @@ def sensor_bridge_rc():
                        "R2": ("resistor", ["a", "gnd"]), "Rg": ("resistor", ["top", "b"]),
                        "R3": ("resistor", ["b", "gnd"]), "Cd": ("capacitor", ["a", "b"]),
                        "E1": ("vcvs", ["out", "gnd"])},
-                symbols=[R1, R2, Rg, R3, Cd, E1], H=H, order=1, checks=checks)
+                symbols=[R1, R2, Rg, R3, Cd, E1], H=H, order=1, checks=checks,
+                sense={"E1": ["a", "b"]})
 
 
 def mfb_bandpass():
@@ -532,7 +537,7 @@ def buffered_rc2():
                 parts={"Vin": ("vsource", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
                        "C1": ("capacitor", ["a", "gnd"]), "E1": ("vcvs", ["b", "gnd"]),
                        "R2": ("resistor", ["b", "out"]), "C2": ("capacitor", ["out", "gnd"])},
-                symbols=[R1, R2, C1, C2, E1], H=H, order=2, checks=checks,
+                symbols=[R1, R2, C1, C2, E1], H=H, order=2, checks=checks, sense={"E1": ["a", "gnd"]},
                 step_closed=step_closed)
 
 
@@ -625,8 +630,56 @@ def finite_gain_inverting():
                 symbol_meaning={"U1": "a0 of op-amp U1 (finite DC gain, V/V)"})
 
 
+def photodiode_hybrid_pi():
+    Rpi, Rc, Rd, Cd, Cmu = sym("Rpi Rc Rd Cd Cmu")
+    Gm, Fm, Hs = sp.symbols("Gm Fm Hs")
+    Iph, Vb, Vc, Vd, Vout = sp.symbols("Iph Vb Vc Vd Vout")
+    I_Rc = Vc / Rc  # current through Rc, into its first terminal c, out to gnd
+    I_Rd = Vd / Rd  # current through Rd, d to gnd
+    eqs = [
+        # KCL at b (Iph pushes its current into b): s*Cd*Vb + Vb/Rpi + s*Cmu*(Vb - Vc) - Iph = 0
+        s * Cd * Vb + Vb / Rpi + s * Cmu * (Vb - Vc) - Iph,
+        # KCL at c (vccs Gm (gnd, c) pushes Gm*Vb into gnd, so it draws Gm*Vb out of c):
+        # s*Cmu*(Vc - Vb) + Gm*Vb + Vc/Rc = 0
+        s * Cmu * (Vc - Vb) + Gm * Vb + I_Rc,
+        # KCL at d (cccs Fm (d, gnd) pushes Fm*I(Rc) into d): Vd/Rd - Fm*I(Rc) = 0
+        I_Rd - Fm * I_Rc,
+        # ccvs Hs (out, gnd) sense Rd: V(out) = Hs*I(Rd); output current free.
+        Vout - Hs * I_Rd,
+    ]
+    sol = sp.solve(eqs, [Vb, Vc, Vd, Vout], dict=True)[0]
+    H = sol[Vout] / Iph
+
+    def checks(H, v):
+        # Exact two-pole analysis of the common-emitter stage (Sedra & Smith,
+        # Microelectronic Circuits, CE high-frequency response), driven by a
+        # current into R's = Rpi (Cpi = Cd here):
+        # Vc/I = -Rpi*Rc*(Gm - s*Cmu) / (1 + s*((Cd + Cmu)*Rpi + Cmu*Rc + Gm*Rpi*Rc*Cmu) + s^2*Cd*Cmu*Rpi*Rc);
+        # then V(out) = Hs*Fm*Vc/Rc (mirror and readout, common practice).
+        d = 1 + s * ((Cd + Cmu) * Rpi + Cmu * Rc + Gm * Rpi * Rc * Cmu) + s**2 * Cd * Cmu * Rpi * Rc
+        same_rational(H, Hs * Fm / Rc * (-Rpi * Rc * (Gm - s * Cmu)) / d, "hybrid-pi")
+        zeros, _ = roots_of([x / v[Cmu] for x in [-v[Gm] * v[Rpi] * v[Rc], v[Cmu] * v[Rpi] * v[Rc]]])
+        close(zeros[0], v[Gm] / v[Cmu], what="RHP zero")
+        return [
+            {"what": "zero_rad_s", "value": float(v[Gm] / v[Cmu]),
+             "source": "Sedra & Smith, Microelectronic Circuits: CE transmission zero at s = gm/Cmu"},
+            {"what": "gain_dc", "value": float(-v[Hs] * v[Fm] * v[Gm] * v[Rpi]),
+             "source": "-gm*rpi*Rc times mirror and readout, V/A (common practice)"},
+        ]
+
+    return dict(file="photodiode_hybrid_pi.nodal", input="Iph", output="out",
+                parts={"Iph": ("isource", ["b", "gnd"]), "Cd": ("capacitor", ["b", "gnd"]),
+                       "Rpi": ("resistor", ["b", "gnd"]), "Cmu": ("capacitor", ["b", "c"]),
+                       "Gm": ("vccs", ["gnd", "c"]), "Rc": ("resistor", ["c", "gnd"]),
+                       "Fm": ("cccs", ["d", "gnd"]), "Rd": ("resistor", ["d", "gnd"]),
+                       "Hs": ("ccvs", ["out", "gnd"])},
+                symbols=[Rpi, Rc, Rd, Cd, Cmu, Gm, Fm, Hs], H=H, order=2, checks=checks,
+                sense={"Gm": ["b", "gnd"], "Fm": "Rc", "Hs": "Rd"})
+
+
 CIRCUITS = [sallen_key_lp, sensor_bridge_rc, mfb_bandpass, rlc_pickup, lc_ladder3,
-            wien_network, twin_t_notch, buffered_rc2, coupled_pair, finite_gain_inverting]
+            wien_network, twin_t_notch, buffered_rc2, coupled_pair, finite_gain_inverting,
+            photodiode_hybrid_pi]
 
 
 # ---------------------------------------------------------------------------
@@ -804,8 +857,15 @@ def build(c):
     for name, (kind, nodes) in c["parts"].items():
         assert parts[name]["kind"] == kind and parts[name]["nodes"] == nodes, "%s: %s differs from the hand formulation" % (c["file"], name)
     assert header and header[0].split() == ["input:", c["input"], "output:", c["output"]], "%s: header" % c["file"]
+    for name, sense in c.get("sense", {}).items():
+        assert parts[name]["opts"].get("sense") == sense, "%s: %s sense differs from the hand formulation" % (c["file"], name)
     for name, p in parts.items():
-        if p["kind"] == "vsource":
+        if p["kind"] in ("vcvs", "vccs", "ccvs", "cccs"):
+            assert name in c.get("sense", {}), "%s: hand formulation does not state the sense of %s" % (c["file"], name)
+        if p["kind"] == "opamp":
+            assert set(p["opts"]) <= {"a0"}, "%s: %s: only ideal or a0 op-amps are modelled" % (c["file"], name)
+            assert ("a0" in p["opts"]) == (name in c.get("symbol_meaning", {})), "%s: %s a0 differs" % (c["file"], name)
+        if p["kind"] in ("vsource", "isource"):
             assert p["value"] in (None, 1), "%s: source amplitude must be 1" % name
     vals = c["values"](parts) if "values" in c else part_values(parts, c["symbols"])
     H = c["H"]
