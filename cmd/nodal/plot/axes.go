@@ -110,15 +110,28 @@ func (t scaledTicks) Ticks(lo, hi float64) []gplot.Tick {
 
 // stepTicks puts labelled ticks at multiples of the first step in Steps
 // that gives at most MaxTicks ticks in the range (phase axes use 15°, 30°,
-// 45°, 90°, 180°).
+// 45°, 90°, 180°). With Steps nil the steps are 1, 2 and 5 times a power
+// of ten, chosen for the range.
 type stepTicks struct {
 	Steps    []float64
 	MaxTicks int
 }
 
 func (t stepTicks) Ticks(lo, hi float64) []gplot.Tick {
-	step := t.Steps[len(t.Steps)-1]
-	for _, s := range t.Steps {
+	if !(hi > lo) || !finite(lo) || !finite(hi) {
+		return nil
+	}
+	steps := t.Steps
+	if steps == nil {
+		e := math.Floor(math.Log10((hi - lo) / float64(t.MaxTicks)))
+		for _, k := range []float64{e, e + 1} {
+			for _, m := range []float64{1, 2, 5} {
+				steps = append(steps, m*math.Pow(10, k))
+			}
+		}
+	}
+	step := steps[len(steps)-1]
+	for _, s := range steps {
 		if (math.Floor(hi/s)-math.Ceil(lo/s))+1 <= float64(t.MaxTicks) {
 			step = s
 			break
@@ -130,12 +143,16 @@ func (t stepTicks) Ticks(lo, hi float64) []gplot.Tick {
 		if v == 0 {
 			v = 0 // no "-0"
 		}
-		ticks = append(ticks, gplot.Tick{Value: v, Label: strconv.FormatFloat(v, 'g', -1, 64)})
+		ticks = append(ticks, gplot.Tick{Value: v, Label: strconv.FormatFloat(v, 'g', 6, 64)})
 	}
 	return ticks
 }
 
-var phaseTicks = stepTicks{Steps: []float64{5, 10, 15, 30, 45, 90, 180}, MaxTicks: 8}
+// Tickers of the frequency-response panels.
+var (
+	phaseTicks = stepTicks{Steps: []float64{5, 10, 15, 30, 45, 90, 180}, MaxTicks: 8}
+	magTicks   = stepTicks{MaxTicks: 7}
+)
 
 // grid draws light grid lines at every labelled tick of both axes and,
 // on a log x axis, fainter lines at the minor ticks, so each decade is

@@ -128,6 +128,7 @@ func freqPanels(opt BodeOptions, loHz, hiHz float64) (*Figure, *panel, *panel) {
 	fig := newFigure(opt.size())
 	mag := newPanel(opt.Title, "", labelMagDB)
 	useLogFreqAxis(mag, loHz, hiHz, true)
+	mag.Y.Tick.Marker = magTicks
 	ph := newPanel("", labelFreq, labelPhase)
 	useLogFreqAxis(ph, loHz, hiHz, false)
 	ph.Y.Tick.Marker = phaseTicks

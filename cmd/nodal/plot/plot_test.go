@@ -599,3 +599,25 @@ func TestNonFiniteMagnitudeDropped(t *testing.T) {
 }
 
 func vgPoints(v float64) vg.Length { return vg.Points(v) }
+
+func TestStepTicks(t *testing.T) {
+	tests := []struct {
+		lo, hi float64
+		tk     stepTicks
+		want   string
+	}{
+		{-64, 8, magTicks, "-60 -50 -40 -30 -20 -10 0"},
+		{-0.45, 0.45, magTicks, "-0.4 -0.2 0 0.2 0.4"},
+		{-185, 5, phaseTicks, "-180 -150 -120 -90 -60 -30 0"},
+		{-95, 2, phaseTicks, "-90 -75 -60 -45 -30 -15 0"},
+	}
+	for _, tt := range tests {
+		var got []string
+		for _, tk := range tt.tk.Ticks(tt.lo, tt.hi) {
+			got = append(got, tk.Label)
+		}
+		if g := strings.Join(got, " "); g != tt.want {
+			t.Errorf("ticks(%g, %g) = %q, want %q", tt.lo, tt.hi, g, tt.want)
+		}
+	}
+}

@@ -7,6 +7,7 @@ import (
 	"html"
 	"html/template"
 	"io"
+	"regexp"
 	"strings"
 
 	"nodal/cmd/nodal/plot"
@@ -92,5 +93,13 @@ func inlineSVG(p Plot) (template.HTML, error) {
 		label = "plot"
 	}
 	src = strings.ReplaceAll(src, "font-family:Liberation Sans;", "font-family:'Liberation Sans',Arial,Helvetica,sans-serif;")
-	return template.HTML(`<svg role="img" aria-label="` + html.EscapeString(label) + `"` + src), nil // #nosec: SVG from our own plot package
+	// square plots (the s-plane map) are kept smaller than the column
+	class := "plot-wide"
+	if m := svgSize.FindStringSubmatch(src); m != nil && m[1] == m[2] {
+		class = "plot-square"
+	}
+	return template.HTML(`<svg class="` + class + `" role="img" aria-label="` + html.EscapeString(label) + `"` + src), nil // SVG from our own plot package
 }
+
+// svgSize finds the width and height attributes of the <svg> element.
+var svgSize = regexp.MustCompile(`^\s+width="([0-9.]+)pt"\s+height="([0-9.]+)pt"`)

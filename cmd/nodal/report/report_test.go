@@ -135,7 +135,7 @@ func TestRenderContainsSectionsAndNumbers(t *testing.T) {
 		d.Transfer.Factored, d.Transfer.Expanded, d.Transfer.ODE,
 		"-10 krad/s", "1.5915 kHz", "0.5385", // roots: ω0 = 1e4 rad/s, f0 = 1591.55 Hz
 		"335.8 µs", // rise time 3.3579/ω0
-		"200 runs", "seed 42", "1.019 kHz", "21.3 Hz", "961.2 Hz",
+		"200 runs", "seed 42", "1.0194 kHz", "1.0187 kHz", "21.3 Hz", "961.2 Hz", "1.019 kHz",
 		`<tr class="pass">`, `<tr class="fail">`, "PASS ✓", "FAIL ✗", "98.5 %", "-20.4 dB",
 		"1 of 2 requirements fail",
 		SafetyNote, d.Source.SHA256, "0.3.1", "tone-stage.ckt",

@@ -156,8 +156,12 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 			t := table{Caption: "Metric statistics", Header: []string{"metric", "nominal", "mean", "std dev", "min", "max"},
 				Right: []bool{false, true, true, true, true, true}}
 			for _, st := range mc.Stats {
-				t.Rows = append(t.Rows, row{Cells: []string{st.Name, formatValue(st.Nominal, st.Unit), formatValue(st.Mean, st.Unit),
-					formatValue(st.StdDev, st.Unit), formatValue(st.Min, st.Unit), formatValue(st.Max, st.Unit)}})
+				// five digits: nominal and mean often agree to four
+				cells := []string{st.Name}
+				for _, v := range []float64{st.Nominal, st.Mean, st.StdDev, st.Min, st.Max} {
+					cells = append(cells, formatDigits(v, 5, st.Unit))
+				}
+				t.Rows = append(t.Rows, row{Cells: cells})
 			}
 			s.Tables = append(s.Tables, t)
 		}
@@ -197,11 +201,14 @@ var siUnits = map[string]bool{"Hz": true, "s": true, "V": true, "A": true, "Ω":
 
 // formatValue writes v with unit: four significant digits, with an SI
 // prefix for the units in siUnits.
-func formatValue(v float64, unit string) string {
+func formatValue(v float64, unit string) string { return formatDigits(v, 4, unit) }
+
+// formatDigits is formatValue with the given significant digits.
+func formatDigits(v float64, digits int, unit string) string {
 	if siUnits[unit] {
-		return plot.EngFormat(v, 4, unit)
+		return plot.EngFormat(v, digits, unit)
 	}
-	s := strconv.FormatFloat(v, 'g', 4, 64)
+	s := strconv.FormatFloat(v, 'g', digits, 64)
 	if math.IsInf(v, 0) || math.IsNaN(v) || unit == "" {
 		return s
 	}
