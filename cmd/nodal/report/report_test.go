@@ -35,7 +35,7 @@ func h(s complex128) complex128 {
 	return w * w / (s*s + 2*w*s + w*w) // Q = 0.5: ω0/Q = 2ω0
 }
 
-func figures(t *testing.T) (bode, pz, step, band, hist *plot.Figure) {
+func figures(t testing.TB) (bode, pz, step, band, hist *plot.Figure) {
 	t.Helper()
 	var f, db, deg []float64
 	for i := 0; i <= 200; i++ {
@@ -74,7 +74,7 @@ func figures(t *testing.T) (bode, pz, step, band, hist *plot.Figure) {
 func ptr(v float64) *float64 { return &v }
 
 // demoData is a full report of the tone stage above.
-func demoData(t *testing.T) *Data {
+func demoData(t testing.TB) *Data {
 	bode, pz, step, band, hist := figures(t)
 	return &Data{
 		Title:   "Tone stage low-pass",

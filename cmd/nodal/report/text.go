@@ -61,7 +61,7 @@ func RenderText(w io.Writer, d *Data) error {
 // writeTable renders t with tablewriter, numeric columns right-aligned.
 func writeTable(w io.Writer, t table) error {
 	if t.Caption != "" {
-		fmt.Fprintln(w, t.Caption+":")
+		fmt.Fprintln(w, "\n"+t.Caption+":")
 	}
 	align := make([]tw.Align, len(t.Header))
 	for i := range align {
