@@ -129,6 +129,7 @@ func Band(b BandTrace, limits []Limit, opt BodeOptions) (*Figure, error) {
 			}
 		}
 	}
+	placeLegend(mp)
 	return fig, nil
 }
 

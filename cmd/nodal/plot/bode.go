@@ -119,7 +119,26 @@ func Bode(traces []BodeTrace, opt BodeOptions) (*Figure, error) {
 	}
 	fitY(mp, 0.06)
 	fitY(pp, 0.06)
+	placeLegend(mp)
 	return fig, nil
+}
+
+// placeLegend moves the legend of a frequency panel to the bottom right
+// when curves reach its top-right corner (the top fifth of the range over
+// the last 30 % of the axis, as a high-pass does), where it would cover
+// them.
+func placeLegend(pn *panel) {
+	xCut := pn.p.X.Min * math.Pow(pn.p.X.Max/pn.p.X.Min, 0.7) // last 30 % of the log axis
+	high := pn.p.Y.Max - 0.2*(pn.p.Y.Max-pn.p.Y.Min)          // the legend's band
+	for _, s := range pn.series {
+		for _, q := range s.xy {
+			if q[0] >= xCut && q[1] > high {
+				pn.p.Legend.Top = false
+				return
+			}
+		}
+	}
+	pn.p.Legend.Top = true
 }
 
 // freqPanels builds the magnitude-over-phase figure skeleton with shared

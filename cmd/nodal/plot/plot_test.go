@@ -621,3 +621,22 @@ func TestStepTicks(t *testing.T) {
 		}
 	}
 }
+
+func TestLegendAvoidsHighPassCurve(t *testing.T) {
+	f := logGrid(10, 100e3, 101)
+	hp := func(s complex128) complex128 { return s / (s + complex(2*math.Pi*fcHz, 0)) }
+	for _, tt := range []struct {
+		name string
+		h    func(complex128) complex128
+		top  bool
+	}{{"low-pass", rcLowPass, true}, {"high-pass", hp, false}} {
+		db, deg := responseOf(f, tt.h)
+		fig, err := Bode([]BodeTrace{{Label: tt.name, FreqHz: f, MagDB: db, PhaseDeg: deg}}, BodeOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := fig.panels[0].p.Legend.Top; got != tt.top {
+			t.Errorf("%s: legend at top = %v, want %v", tt.name, got, tt.top)
+		}
+	}
+}
