@@ -16,12 +16,12 @@ import (
 //     terminal and out of its second, through the part. For a vsource this
 //     is the current entering its + terminal from the circuit: a source that
 //     delivers power has a negative i(PART).
-//   - An isource of value J drives J through itself from its first terminal
-//     to its second; the external circuit returns it into the first
-//     terminal. So i(PART) = J, and with isource (a, gnd) into a resistor R
-//     from a to gnd, v(a) = −R·J.
-//   - A vccs or cccs drives its controlled current the same way, from its
-//     first terminal through itself to its second.
+//   - An isource of value J pushes J into the node on its first terminal,
+//     through the external circuit, and takes it back out of the node on
+//     its second. With isource (a, gnd) into a resistor R from a to gnd,
+//     v(a) = +R·J; the current through the part, i(PART), is −J.
+//   - A vccs or cccs pushes its controlled current the same way, into the
+//     node on its first terminal.
 //   - The branch current of an opamp, i(PART), is the current its output
 //     pushes into the output node.
 //   - An injected test current (Input.Inject) is pushed into the node from

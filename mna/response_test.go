@@ -265,12 +265,12 @@ func TestControlledSources(t *testing.T) {
 	}{
 		{"vcvs", testcircuit.VCVS("E1", "out", gnd, 5, "in", gnd), 5},
 		{"vcvs reversed sense", testcircuit.VCVS("E1", "out", gnd, 5, gnd, "in"), -5},
-		// gm·v(in) flows from out through the source to gnd: drawn from out.
-		{"vccs", testcircuit.VCCS("G1", "out", gnd, 1e-3, "in", gnd), -1e-3 * r2},
+		// gm·v(in) is pushed into out (language: "pushes GM·(v_c − v_d) into a").
+		{"vccs", testcircuit.VCCS("G1", "out", gnd, 1e-3, "in", gnd), 1e-3 * r2},
 		{"ccvs of a resistor", testcircuit.CCVS("H1", "out", gnd, 4e3, "R1"), 4e3 / r1},
 		// i(Vs) enters the + terminal from the circuit: −1/R1.
 		{"ccvs of a vsource", testcircuit.CCVS("H1", "out", gnd, 4e3, "Vs"), -4e3 / r1},
-		{"cccs", testcircuit.CCCS("F1", "out", gnd, 10, "R1"), -10 * r2 / r1},
+		{"cccs", testcircuit.CCCS("F1", "out", gnd, 10, "R1"), 10 * r2 / r1},
 	}
 	for _, tc := range cases {
 		parts := append(append([]netlist.Part{}, base...), tc.part, testcircuit.R("R2", "out", gnd, r2))
@@ -282,9 +282,9 @@ func TestControlledSources(t *testing.T) {
 }
 
 // Part currents and the isource direction (language convention: current
-// through a part flows into its first terminal; an isource drives its
-// value through itself from its first terminal to its second), common
-// practice.
+// through a part flows into its first terminal and out of its second; an
+// isource pushes its value into the node on its first terminal, so the
+// current through it is −J), common practice.
 func TestPartCurrents(t *testing.T) {
 	const r, cv, f = 1e3, 1e-6, 100.0
 	rc := func() *netlist.Circuit {
@@ -303,8 +303,8 @@ func TestPartCurrents(t *testing.T) {
 		{"resistor", rc(), "R1", iLoop},
 		{"capacitor", rc(), "C1", iLoop},
 		{"vsource delivers", rc(), "Vs", -iLoop},
-		{"isource", isrc, "I1", 1},
-		{"resistor fed by isource", isrc, "R1", -1},
+		{"isource", isrc, "I1", -1},
+		{"resistor fed by isource", isrc, "R1", 1},
 	}
 	for _, tc := range cases {
 		sys, err := mna.Build(tc.c, mna.Input{}, mna.Output{Kind: mna.PartCurrent, Part: tc.part})
@@ -316,8 +316,8 @@ func TestPartCurrents(t *testing.T) {
 		}
 	}
 	sys := build(t, isrc, mna.Input{}, "a", "")
-	if h := hAt(t, sys, f); !nearC(h, -r, 1e-12) {
-		t.Errorf("isource into R: v(a) = %v, want −R = %g", h, -r)
+	if h := hAt(t, sys, f); !nearC(h, r, 1e-12) {
+		t.Errorf("isource into R: v(a) = %v, want +R = %g", h, r)
 	}
 	// Output impedance with the source shorted: Z = R/(1 + sRC).
 	if z := hAt(t, build(t, rc(), mna.Input{Inject: "out"}, "out", ""), f); !nearC(z, complex(r, 0)/(1+s*complex(r*cv, 0)), 1e-12) {

@@ -184,9 +184,10 @@ func (b *builder) stampVSource(p *netlist.Part) error {
 	return nil
 }
 
-// stampISource: a current u from a through the source to b for the input
-// source, none otherwise (a zeroed current source is open). With a branch
-// current the row is i = u.
+// stampISource: the input source pushes a current u out of its first
+// terminal into node a; it returns through b. A zeroed current source is
+// open. With a branch current (flowing through the part from a to b) the
+// row is i = −u.
 func (b *builder) stampISource(p *netlist.Part) error {
 	if err := finite(p, "amplitude", p.Value); err != nil {
 		return err
@@ -201,11 +202,11 @@ func (b *builder) stampISource(p *netlist.Part) error {
 	}
 	if k >= 0 {
 		b.addG(k, k, 1)
-		b.addB(k, in)
+		b.addB(k, -in)
 		return nil
 	}
-	b.addB(a, -in)
-	b.addB(nb, in)
+	b.addB(a, in)
+	b.addB(nb, -in)
 	return nil
 }
 
@@ -228,8 +229,9 @@ func (b *builder) stampVCVS(p *netlist.Part) error {
 	return nil
 }
 
-// stampVCCS: a current gm·(v(c) − v(d)) from a through the source to b;
-// with a branch current the row is i − gm·(v(c) − v(d)) = 0.
+// stampVCCS: pushes a current gm·(v(c) − v(d)) into node a, returning
+// through b; with a branch current (through the part from a to b) the row
+// is i + gm·(v(c) − v(d)) = 0.
 func (b *builder) stampVCCS(p *netlist.Part) error {
 	if err := finite(p, "transconductance", p.Value); err != nil {
 		return err
@@ -244,15 +246,15 @@ func (b *builder) stampVCCS(p *netlist.Part) error {
 	}
 	if k >= 0 {
 		b.addG(k, k, 1)
-		b.addG(k, c, -p.Value)
-		b.addG(k, d, p.Value)
+		b.addG(k, c, p.Value)
+		b.addG(k, d, -p.Value)
 		return nil
 	}
 	gm := p.Value
-	b.addG(a, c, gm)
-	b.addG(a, d, -gm)
-	b.addG(nb, c, -gm)
-	b.addG(nb, d, gm)
+	b.addG(a, c, -gm)
+	b.addG(a, d, gm)
+	b.addG(nb, c, gm)
+	b.addG(nb, d, -gm)
 	return nil
 }
 
@@ -270,8 +272,9 @@ func (b *builder) stampCCVS(p *netlist.Part) error {
 	return nil
 }
 
-// stampCCCS: a current A·i(Control) from a through the source to b; with a
-// branch current the row is i − A·i(Control) = 0.
+// stampCCCS: pushes a current A·i(Control) into node a, returning through
+// b; with a branch current (through the part from a to b) the row is
+// i + A·i(Control) = 0.
 func (b *builder) stampCCCS(p *netlist.Part) error {
 	if err := finite(p, "gain", p.Value); err != nil {
 		return err
@@ -283,11 +286,11 @@ func (b *builder) stampCCCS(p *netlist.Part) error {
 	ctl := b.branches[p.Control]
 	if k >= 0 {
 		b.addG(k, k, 1)
-		b.addG(k, ctl, -p.Value)
+		b.addG(k, ctl, p.Value)
 		return nil
 	}
-	b.addG(a, ctl, p.Value)
-	b.addG(nb, ctl, -p.Value)
+	b.addG(a, ctl, -p.Value)
+	b.addG(nb, ctl, p.Value)
 	return nil
 }
 
