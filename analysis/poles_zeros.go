@@ -12,39 +12,42 @@ import (
 // pencil A + s·E, i.e. the roots of det(A + s·E), without forming the
 // determinant polynomial.
 //
-// Method (shift-and-invert with exact deflation of the infinite
-// eigenvalues):
+// Method:
 //
-//	det(A + sE) = det(X)·det(I + (s−σ)M),  X = A + σE,  M = X⁻¹E,
-//
-// so every finite eigenvalue λ gives an eigenvalue μ = −1/(λ−σ) of M, and
-// the infinite eigenvalues give μ = 0. Those zero eigenvalues are removed
-// before the eigen-solver sees M, because a nilpotent Jordan block of size
-// k (higher-index circuits: capacitor–source loops, inductor cut-sets, the
-// border row of the zero pencil) perturbed by rounding shows up as |μ| ~
-// ε^{1/k} and would masquerade as a huge finite root. Deflation is by
-// orthogonal compression: first onto the row space of E (null(M) ⊇
-// null(E) exactly), then repeatedly onto the complement of null(M₂) found
-// by an SVD rank decision, which keeps M block upper triangular with the
-// nilpotent part split off. Each root is finally polished by Newton steps
-// on det(A + sE) itself (log-derivative trace((A+sE)⁻¹E), deflated by the
-// other roots), which gives full relative accuracy independent of σ.
+//  1. Deflate the infinite eigenvalues exactly (staircase reduction, as in
+//     Van Dooren, "The computation of Kronecker's canonical form of a
+//     singular pencil", Linear Algebra Appl. 27, 1979): with V1 an
+//     orthonormal basis of null(E) and U from a QR factorisation of A·V1,
+//     Uᵀ(E + tA)V = [[t·R, ·], [0, E₂ + tA₂]], so det(A + sE) equals a
+//     non-zero constant times det(A₂ + sE₂) and the block t·R carries only
+//     infinite eigenvalues. Repeat on (A₂, E₂) until E₂ is non-singular.
+//     Rank decisions are on blocks of E, whose non-zero singular values are
+//     capacitances and inductances (after scaling) and whose zero ones are
+//     rounding, so the decision is clear even for high-index pencils (the
+//     border row of the zero pencil gives an index equal to the relative
+//     degree of H). Zero columns of E are split off first without an SVD.
+//  2. Shift-and-invert on the reduced pencil: with X = A₂ + σE₂ and
+//     M = X⁻¹E₂, det(A₂ + sE₂) = det(X)·det(I + (s−σ)M), so every finite
+//     eigenvalue λ gives an eigenvalue μ = −1/(λ−σ) of M (gonum's Eigen).
+//  3. Polish each root by Newton steps on det(A + sE) itself, using the
+//     log-derivative trace((A+sE)⁻¹E) deflated by the other roots, which
+//     gives full relative accuracy independent of σ and of the spread.
 
 // errBadShift says that A + σE is too ill-conditioned for the shift σ.
 var errBadShift = errors.New("shift too close to a root")
 
+// errSingularPencil says that det(A + sE) ≡ 0.
+var errSingularPencil = errors.New("singular pencil")
+
 // Rank and conditioning thresholds, all relative and dimensionless.
 const (
-	// eRankTol: singular values of E below eRankTol·max are zero. Energy
-	// store values spread over many decades stay far above it.
-	eRankTol = 1e-12
-	// mZeroTol: singular values of the compressed M below mZeroTol·‖X⁻¹‖‖E‖
-	// belong to infinite eigenvalues.
-	mZeroTol = 1e-11
-	// mFastTol: if every eigenvalue of M is above mFastTol·‖X⁻¹‖‖E‖ no
-	// infinite eigenvalue is left and no SVD is needed.
-	mFastTol = 1e-7
-	// maxShiftCond: largest accepted 1-norm condition number of A + σE.
+	// eRankTol: singular values of a block of E below eRankTol·‖E‖₂ are
+	// zero. Energy-store values spread over many decades stay far above it.
+	eRankTol = 1e-11
+	// aRankTol: a diagonal of R (QR of A·V1) below aRankTol·‖A‖ means the
+	// pencil is singular.
+	aRankTol = 1e-13
+	// maxShiftCond: largest accepted 1-norm condition number of A₂ + σE₂.
 	maxShiftCond = 1e13
 	// clusterTol: roots closer than clusterTol·|λ| are one multiple root
 	// (a perturbed Jordan block of size k splits by ε^{1/k}); they are
@@ -52,109 +55,166 @@ const (
 	clusterTol = 1e-5
 )
 
-// finiteEigenvalues returns the finite roots of det(a + s·e) using the real
-// shift sigma. It returns errBadShift when a + sigma·e is (nearly)
-// singular. cols lists the columns of e that are not identically zero.
-func finiteEigenvalues(a, e *mat.Dense, sigma float64) ([]complex128, error) {
-	n, _ := a.Dims()
-	cols := nonzeroCols(e)
-	if len(cols) == 0 {
-		return nil, nil
-	}
-	rows := nonzeroRows(e)
-	// Row space of E restricted to its non-zero columns.
-	sub := mat.NewDense(len(rows), len(cols), nil)
-	for i, r := range rows {
-		for j, c := range cols {
-			sub.Set(i, j, e.At(r, c))
-		}
-	}
-	w, r := rangeBasis(sub, eRankTol, 0)
-	if r == 0 {
-		return nil, nil
-	}
-	// Ew = E[:, cols]·W, n×r.
-	ecols := mat.NewDense(n, len(cols), nil)
-	for j, c := range cols {
-		for i := 0; i < n; i++ {
-			ecols.Set(i, j, e.At(i, c))
-		}
-	}
-	var ew mat.Dense
-	ew.Mul(ecols, w)
+// reducedPencil is a pencil A + sE with E non-singular having the same
+// finite eigenvalues as the pencil it was deflated from.
+type reducedPencil struct {
+	a, e *mat.Dense // r×r; nil when r = 0
+}
 
-	x := mat.NewDense(n, n, nil)
-	x.Scale(sigma, e)
-	x.Add(x, a)
+// deflateInfinite removes the infinite eigenvalues of the regular pencil
+// (a, e) (step 1 above). It returns errSingularPencil if det ≡ 0 is found.
+func deflateInfinite(a, e *mat.Dense) (reducedPencil, error) {
+	var svd mat.SVD
+	if !svd.Factorize(e, mat.SVDNone) {
+		return reducedPencil{}, errors.New("singular value iteration did not converge")
+	}
+	eNorm := svd.Values(nil)[0]
+	aNorm := mat.Norm(a, 1)
+	if eNorm == 0 {
+		return reducedPencil{}, nil
+	}
+	tol := eRankTol * eNorm
+	// First step: the zero columns of E span part of null(E) exactly.
+	n, _ := e.Dims()
+	nz := nonzeroCols(e)
+	v1 := make([]int, 0, n-len(nz))
+	isNZ := make([]bool, n)
+	for _, j := range nz {
+		isNZ[j] = true
+	}
+	for j := 0; j < n; j++ {
+		if !isNZ[j] {
+			v1 = append(v1, j)
+		}
+	}
+	av1 := pickCols(a, v1)
+	av2, ev2 := pickCols(a, nz), pickCols(e, nz)
+	for {
+		k := 0
+		if av1 != nil {
+			k = av1.RawMatrix().Cols
+		}
+		if k > 0 {
+			// U from QR of A·V1; keep rows k.. of Uᵀ·(A, E)·V2.
+			var qr mat.QR
+			qr.Factorize(av1)
+			var rr mat.Dense
+			qr.RTo(&rr)
+			for i := 0; i < k; i++ {
+				if math.Abs(rr.At(i, i)) <= aRankTol*aNorm {
+					return reducedPencil{}, errSingularPencil
+				}
+			}
+			var q mat.Dense
+			qr.QTo(&q)
+			m, _ := q.Dims()
+			if m == k {
+				return reducedPencil{}, nil
+			}
+			u2 := q.Slice(0, m, k, m)
+			var a2, e2 mat.Dense
+			a2.Mul(u2.T(), av2)
+			e2.Mul(u2.T(), ev2)
+			av2, ev2 = &a2, &e2
+		}
+		// Next null space, of the square E₂.
+		r, _ := ev2.Dims()
+		if r == 0 {
+			return reducedPencil{}, nil
+		}
+		var sv mat.SVD
+		if !sv.Factorize(ev2, mat.SVDFullV) {
+			return reducedPencil{}, errors.New("singular value iteration did not converge")
+		}
+		vals := sv.Values(nil)
+		nzk := 0
+		for _, v := range vals {
+			if v > tol {
+				nzk++
+			}
+		}
+		if nzk == r {
+			return reducedPencil{a: mat.DenseCopyOf(av2), e: mat.DenseCopyOf(ev2)}, nil
+		}
+		var v mat.Dense
+		sv.VTo(&v)
+		vNull, vRange := v.Slice(0, r, nzk, r), v.Slice(0, r, 0, nzk)
+		var an mat.Dense
+		an.Mul(av2, vNull)
+		av1 = &an
+		if nzk == 0 {
+			continue // E₂ is zero: the QR step checks A₂ and finishes
+		}
+		var ar, er mat.Dense
+		ar.Mul(av2, vRange)
+		er.Mul(ev2, vRange)
+		av2, ev2 = &ar, &er
+	}
+}
+
+// pickCols returns the columns idx of m as a new matrix (nil if none).
+func pickCols(m *mat.Dense, idx []int) *mat.Dense {
+	if len(idx) == 0 {
+		return nil
+	}
+	r, _ := m.Dims()
+	out := mat.NewDense(r, len(idx), nil)
+	for j, c := range idx {
+		for i := 0; i < r; i++ {
+			out.Set(i, j, m.At(i, c))
+		}
+	}
+	return out
+}
+
+// eigenvaluesShifted returns the eigenvalues of the reduced pencil by
+// shift-and-invert with the real shift sigma, or errBadShift.
+func (p reducedPencil) eigenvaluesShifted(sigma float64) ([]complex128, error) {
+	if p.a == nil {
+		return nil, nil
+	}
+	r, _ := p.a.Dims()
+	x := mat.NewDense(r, r, nil)
+	x.Scale(sigma, p.e)
+	x.Add(x, p.a)
 	var lu mat.LU
 	lu.Factorize(x)
-	cond := lu.Cond()
-	if math.IsInf(cond, 0) || math.IsNaN(cond) || cond > maxShiftCond {
+	if c := lu.Cond(); math.IsInf(c, 0) || math.IsNaN(c) || c > maxShiftCond {
 		return nil, errBadShift
 	}
-	var y mat.Dense
-	if err := lu.SolveTo(&y, false, &ew); err != nil {
+	var m mat.Dense
+	if err := lu.SolveTo(&m, false, p.e); err != nil {
 		return nil, errBadShift
 	}
-	// M = Wᵀ·Y[cols, :], r×r.
-	ycols := mat.NewDense(len(cols), r, nil)
-	for i, c := range cols {
-		for j := 0; j < r; j++ {
-			ycols.Set(i, j, y.At(c, j))
-		}
-	}
-	m := mat.NewDense(r, r, nil)
-	m.Mul(w.T(), ycols)
-	// ‖X⁻¹‖₁ ≈ cond/‖X‖₁: the scale against which μ counts as zero.
-	ref := cond / mat.Norm(x, 1) * mat.Norm(e, 1)
-
-	mu, err := deflatedEigen(m, ref)
+	mu, err := eigenvalues(&m)
 	if err != nil {
 		return nil, err
 	}
 	roots := make([]complex128, 0, len(mu))
 	for _, u := range mu {
-		roots = append(roots, complex(sigma, 0)-1/u)
+		if u != 0 {
+			roots = append(roots, complex(sigma, 0)-1/u)
+		}
 	}
 	return roots, nil
 }
 
-// deflatedEigen returns the non-zero eigenvalues of m, splitting off its
-// numerically nilpotent part (singular values below mZeroTol·ref) first.
-func deflatedEigen(m *mat.Dense, ref float64) ([]complex128, error) {
-	for {
-		r, _ := m.Dims()
-		if r == 0 {
-			return nil, nil
-		}
-		mu, err := eigenvalues(m)
-		if err != nil {
-			return nil, err
-		}
-		small := false
-		for _, u := range mu {
-			if cmplx.Abs(u) <= mFastTol*ref {
-				small = true
-				break
-			}
-		}
-		if !small {
-			return mu, nil
-		}
-		// Split off null(m): with Q = [Vnull, Vnz], QᵀmQ is block upper
-		// triangular with a zero leading block.
-		vnz, k := rangeBasis(m, 0, mZeroTol*ref)
-		if k == 0 {
-			return nil, nil // m is numerically zero: all eigenvalues infinite
-		}
-		if k == r {
-			return mu, nil // full rank: the small eigenvalues are genuine
-		}
-		var t, next mat.Dense
-		t.Mul(m, vnz)
-		next.Mul(vnz.T(), &t)
-		m = &next
+// finiteEigenvalues returns the finite roots of det(a + s·e), trying the
+// given real shifts in turn (scaled units). It returns errSingularPencil
+// when det ≡ 0.
+func finiteEigenvalues(a, e *mat.Dense, shifts []float64) ([]complex128, error) {
+	p, err := deflateInfinite(a, e)
+	if err != nil {
+		return nil, err
 	}
+	for _, sigma := range shifts {
+		roots, err := p.eigenvaluesShifted(sigma)
+		if errors.Is(err, errBadShift) {
+			continue
+		}
+		return roots, err
+	}
+	return nil, errSingularPencil
 }
 
 // eigenvalues returns the eigenvalues of the square matrix m.
@@ -166,34 +226,6 @@ func eigenvalues(m *mat.Dense) ([]complex128, error) {
 	return eig.Values(nil), nil
 }
 
-// rangeBasis returns an orthonormal basis (as columns) of the row space of
-// m: the right singular vectors whose singular values exceed
-// max(relTol·σmax, absTol), and their number.
-func rangeBasis(m *mat.Dense, relTol, absTol float64) (*mat.Dense, int) {
-	var svd mat.SVD
-	_, c := m.Dims()
-	if ok := svd.Factorize(m, mat.SVDFullV); !ok {
-		return mat.NewDense(c, 1, nil), 0
-	}
-	sv := svd.Values(nil)
-	tol := absTol
-	if len(sv) > 0 && relTol*sv[0] > tol {
-		tol = relTol * sv[0]
-	}
-	k := 0
-	for _, v := range sv {
-		if v > tol {
-			k++
-		}
-	}
-	if k == 0 {
-		return mat.NewDense(c, 1, nil), 0
-	}
-	var v mat.Dense
-	svd.VTo(&v)
-	return mat.DenseCopyOf(v.Slice(0, c, 0, k)), k
-}
-
 // nonzeroCols lists the columns of m that have a non-zero entry.
 func nonzeroCols(m *mat.Dense) []int {
 	r, c := m.Dims()
@@ -202,21 +234,6 @@ func nonzeroCols(m *mat.Dense) []int {
 		for i := 0; i < r; i++ {
 			if m.At(i, j) != 0 {
 				out = append(out, j)
-				break
-			}
-		}
-	}
-	return out
-}
-
-// nonzeroRows lists the rows of m that have a non-zero entry.
-func nonzeroRows(m *mat.Dense) []int {
-	r, c := m.Dims()
-	var out []int
-	for i := 0; i < r; i++ {
-		for j := 0; j < c; j++ {
-			if m.At(i, j) != 0 {
-				out = append(out, i)
 				break
 			}
 		}

@@ -297,24 +297,14 @@ func (s *scaledSystem) evalAtShift(sigma float64) (h, scale float64, ok bool) {
 
 // extract runs the whole computation in scaled units.
 func (s *scaledSystem) extract() (*TransferFunction, error) {
-	// Poles, and H at the pole shift (used for the gain).
-	var poles []complex128
+	// H at a well-conditioned shift (used for the gain).
 	sigma, hSig, hScale := 0.0, 0.0, 0.0
 	found := false
 	for _, f := range shiftFactors {
-		h, sc, ok := s.evalAtShift(f)
-		if !ok {
-			continue
+		if h, sc, ok := s.evalAtShift(f); ok {
+			sigma, hSig, hScale, found = f, h, sc, true
+			break
 		}
-		p, err := finiteEigenvalues(s.g, s.c, f)
-		if errors.Is(err, errBadShift) {
-			continue
-		}
-		if err != nil {
-			return nil, fmt.Errorf("transfer function poles: %w", err)
-		}
-		poles, sigma, hSig, hScale, found = p, f, h, sc, true
-		break
 	}
 	if !found {
 		return nil, ErrSingularSystem
@@ -338,23 +328,17 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 			return &TransferFunction{Num: []float64{0}, Den: []float64{1}}, nil
 		}
 	}
-	polishRoots(s.g, s.c, poles)
-
-	var zeros []complex128
-	found = false
-	for _, f := range shiftFactors {
-		z, err := finiteEigenvalues(s.gb, s.cb, f)
-		if errors.Is(err, errBadShift) {
-			continue
+	poles, err := finiteEigenvalues(s.g, s.c, shiftFactors[:])
+	if err != nil {
+		if errors.Is(err, errSingularPencil) {
+			return nil, ErrSingularSystem
 		}
-		if err != nil {
-			return nil, fmt.Errorf("transfer function zeros: %w", err)
-		}
-		zeros, found = z, true
-		break
+		return nil, fmt.Errorf("transfer function poles: %w", err)
 	}
-	if !found {
-		return nil, fmt.Errorf("transfer function zeros: %w", ErrSingularSystem)
+	polishRoots(s.g, s.c, poles)
+	zeros, err := finiteEigenvalues(s.gb, s.cb, shiftFactors[:])
+	if err != nil {
+		return nil, fmt.Errorf("transfer function zeros: %w", err)
 	}
 	polishRoots(s.gb, s.cb, zeros)
 
@@ -381,11 +365,16 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 	return newTransferFunction(gain, zeros, poles, cancelled), nil
 }
 
-// snapZero sets roots within zeroRootTol of s = 0 (scaled units) to 0.
+// snapZero sets roots within zeroRootTol of s = 0 (scaled units) to 0,
+// and the real part of complex roots within zeroRootTol·|r| of the jω axis
+// to 0 (a Q above 10⁹ is rounding of an undamped pair, e.g. a notch).
 func snapZero(roots []complex128) {
 	for i, r := range roots {
-		if cmplx.Abs(r) <= zeroRootTol {
+		switch {
+		case cmplx.Abs(r) <= zeroRootTol:
 			roots[i] = 0
+		case imag(r) != 0 && math.Abs(real(r)) <= zeroRootTol*cmplx.Abs(r):
+			roots[i] = complex(0, imag(r))
 		}
 	}
 }
