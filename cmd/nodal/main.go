@@ -36,7 +36,7 @@ type cli struct {
 	Parts     partsCmd     `cmd:"" help:"Show the elaborated parts and nodes of a circuit."`
 	Equations equationsCmd `cmd:"" help:"Show the MNA equations (G + sC)x = b being solved."`
 	Sweep     sweepCmd     `cmd:"" help:"Frequency response: magnitude, phase and group delay."`
-	// TF        tfCmd        `cmd:"" name:"tf" help:"Transfer function H(s), poles, zeros, f0, Q and the circuit's ODE."`
+	TF        tfCmd        `cmd:"" name:"tf" help:"Transfer function H(s), poles, zeros, f0, Q and the circuit's ODE."`
 	// Check     checkCmd     `cmd:"" help:"Check a hand-derived ODE or transfer function against the circuit."`
 	Drive   driveCmd   `cmd:"" help:"Sinusoidal steady-state output for a given input signal."`
 	Step    stepCmd    `cmd:"" help:"Exact step response with rise, overshoot and settling figures."`
