@@ -28,6 +28,9 @@ func engNumber(v float64) string {
 	if f, _ := strconv.ParseFloat(ms, 64); math.Abs(f) >= 1000 {
 		e3++
 		ms = strconv.FormatFloat(m/1000, 'g', 4, 64)
+		if e3 == 0 {
+			return ms
+		}
 	}
 	return fmt.Sprintf("%se%d", ms, 3*e3)
 }
