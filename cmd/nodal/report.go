@@ -212,4 +212,3 @@ func reportTol(t netlist.Tolerance) string {
 	}
 	return tolText(t)
 }
-
