@@ -1,0 +1,210 @@
+package plot
+
+import (
+	"math"
+	"strconv"
+
+	gplot "gonum.org/v1/plot"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+)
+
+// siPrefixes maps a power-of-1000 exponent to its SI prefix.
+var siPrefixes = map[int]string{-4: "p", -3: "n", -2: "µ", -1: "m", 0: "", 1: "k", 2: "M", 3: "G", 4: "T"}
+
+// siExponent returns the power of 1000 (clamped to p…T) that brings |v|
+// into [1, 1000). Zero and non-finite values give 0.
+func siExponent(v float64) int {
+	v = math.Abs(v)
+	if v == 0 || math.IsInf(v, 0) || math.IsNaN(v) {
+		return 0
+	}
+	return max(-4, min(4, int(math.Floor(math.Log10(v)/3))))
+}
+
+// EngFormat formats v with the given number of significant digits and an
+// SI prefix in front of unit (digits below 3 count as 3), e.g. EngFormat(1591.5, 4, "Hz") = "1.592 kHz".
+// An empty unit still gets the prefix ("1.5 k"). Non-finite values print
+// as Go does ("+Inf", "NaN").
+func EngFormat(v float64, digits int, unit string) string {
+	if math.IsInf(v, 0) || math.IsNaN(v) {
+		return strconv.FormatFloat(v, 'g', -1, 64)
+	}
+	digits = max(digits, 3) // fewer would print 150 as 1.5e+02
+	e := siExponent(v)
+	s := strconv.FormatFloat(v/math.Pow(1000, float64(e)), 'g', digits, 64)
+	// rounding may carry into the next power of 1000 (999.96 → "1000")
+	if r, _ := strconv.ParseFloat(s, 64); math.Abs(r) >= 1000 && e < 4 {
+		e++
+		s = strconv.FormatFloat(v/math.Pow(1000, float64(e)), 'g', digits, 64)
+	}
+	if unit == "" && e == 0 {
+		return s
+	}
+	return s + " " + siPrefixes[e] + unit
+}
+
+// logTicks marks a log-scaled frequency axis: a labelled major tick on
+// every decade (with an SI prefix: 100, 1k, 10k), unlabelled minor ticks at
+// 2…9 times the decade. When the range holds fewer than two decade ticks
+// the 2× and 5× ticks are labelled as well. hideLabels blanks every label
+// (to a single space, so the ticks stay major) for a panel that shares its
+// x axis with the one below.
+type logTicks struct {
+	hideLabels bool
+}
+
+func (t logTicks) Ticks(lo, hi float64) []gplot.Tick {
+	if lo <= 0 || hi <= 0 || hi < lo {
+		return nil
+	}
+	d0 := int(math.Floor(math.Log10(lo)))
+	d1 := int(math.Ceil(math.Log10(hi)))
+	decadesInside := 0
+	for d := d0; d <= d1; d++ {
+		if v := math.Pow10(d); v >= lo && v <= hi {
+			decadesInside++
+		}
+	}
+	var ticks []gplot.Tick
+	for d := d0; d <= d1; d++ {
+		dec := math.Pow10(d)
+		for m := 1; m <= 9; m++ {
+			v := dec * float64(m)
+			if d == d1 && m > 1 {
+				break
+			}
+			tk := gplot.Tick{Value: v}
+			if m == 1 || (decadesInside < 2 && (m == 2 || m == 5)) {
+				tk.Label = tickLabel(v)
+				if t.hideLabels {
+					tk.Label = " "
+				}
+			}
+			ticks = append(ticks, tk)
+		}
+	}
+	return ticks
+}
+
+// tickLabel writes a tick value with an SI prefix and no unit.
+func tickLabel(v float64) string {
+	e := siExponent(v)
+	return strconv.FormatFloat(v/math.Pow(1000, float64(e)), 'g', 3, 64) + siPrefixes[e]
+}
+
+// scaledTicks divides the axis values by Scale before choosing round
+// ticks, so an axis in rad/s can be labelled in krad/s while the plotted
+// data stay in rad/s.
+type scaledTicks struct {
+	Scale float64
+}
+
+func (t scaledTicks) Ticks(lo, hi float64) []gplot.Tick {
+	ticks := gplot.DefaultTicks{}.Ticks(lo/t.Scale, hi/t.Scale)
+	for i := range ticks {
+		ticks[i].Value *= t.Scale
+	}
+	return ticks
+}
+
+// stepTicks puts labelled ticks at multiples of the first step in Steps
+// that gives at most MaxTicks ticks in the range (phase axes use 15°, 30°,
+// 45°, 90°, 180°). With Steps nil the steps are 1, 2 and 5 times a power
+// of ten, chosen for the range.
+type stepTicks struct {
+	Steps    []float64
+	MaxTicks int
+}
+
+func (t stepTicks) Ticks(lo, hi float64) []gplot.Tick {
+	if !(hi > lo) || !finite(lo) || !finite(hi) {
+		return nil
+	}
+	steps := t.Steps
+	if steps == nil {
+		e := math.Floor(math.Log10((hi - lo) / float64(t.MaxTicks)))
+		for _, k := range []float64{e, e + 1} {
+			for _, m := range []float64{1, 2, 5} {
+				steps = append(steps, m*math.Pow(10, k))
+			}
+		}
+	}
+	step := steps[len(steps)-1]
+	for _, s := range steps {
+		if (math.Floor(hi/s)-math.Ceil(lo/s))+1 <= float64(t.MaxTicks) {
+			step = s
+			break
+		}
+	}
+	var ticks []gplot.Tick
+	for k := math.Ceil(lo / step); k*step <= hi; k++ {
+		v := k * step
+		if v == 0 {
+			v = 0 // no "-0"
+		}
+		ticks = append(ticks, gplot.Tick{Value: v, Label: strconv.FormatFloat(v, 'g', 6, 64)})
+	}
+	return ticks
+}
+
+// Tickers of the frequency-response panels.
+var (
+	phaseTicks = stepTicks{Steps: []float64{5, 10, 15, 30, 45, 90, 180}, MaxTicks: 8}
+	magTicks   = stepTicks{MaxTicks: 7}
+)
+
+// grid draws light grid lines at every labelled tick of both axes and,
+// on a log x axis, fainter lines at the minor ticks, so each decade is
+// visibly subdivided.
+type grid struct {
+	logX bool
+}
+
+func (g grid) Plot(c draw.Canvas, p *gplot.Plot) {
+	trX, trY := p.Transforms(&c)
+	major := draw.LineStyle{Color: gridMajor, Width: vg.Points(0.5)}
+	minor := draw.LineStyle{Color: gridMinor, Width: vg.Points(0.4)}
+	for _, tk := range p.X.Tick.Marker.Ticks(p.X.Min, p.X.Max) {
+		x := trX(tk.Value)
+		if x < c.Min.X || x > c.Max.X {
+			continue
+		}
+		switch {
+		case tk.Label != "":
+			c.StrokeLine2(major, x, c.Min.Y, x, c.Max.Y)
+		case g.logX:
+			c.StrokeLine2(minor, x, c.Min.Y, x, c.Max.Y)
+		}
+	}
+	for _, tk := range p.Y.Tick.Marker.Ticks(p.Y.Min, p.Y.Max) {
+		y := trY(tk.Value)
+		if tk.Label == "" || y < c.Min.Y || y > c.Max.Y {
+			continue
+		}
+		c.StrokeLine2(major, c.Min.X, y, c.Max.X, y)
+	}
+}
+
+// originAxes draws the real and imaginary axes through the origin across
+// the whole data area (for the s-plane).
+type originAxes struct{}
+
+func (originAxes) Plot(c draw.Canvas, p *gplot.Plot) {
+	trX, trY := p.Transforms(&c)
+	sty := draw.LineStyle{Color: inkColor, Width: vg.Points(0.8)}
+	if x := trX(0); x >= c.Min.X && x <= c.Max.X {
+		c.StrokeLine2(sty, x, c.Min.Y, x, c.Max.Y)
+	}
+	if y := trY(0); y >= c.Min.Y && y <= c.Max.Y {
+		c.StrokeLine2(sty, c.Min.X, y, c.Max.X, y)
+	}
+}
+
+// useLogFreqAxis turns the x axis of p into a log frequency axis over
+// [loHz, hiHz], optionally without tick labels.
+func useLogFreqAxis(p *gplot.Plot, loHz, hiHz float64, hideLabels bool) {
+	p.X.Scale = gplot.LogScale{}
+	p.X.Tick.Marker = logTicks{hideLabels: hideLabels}
+	p.X.Min, p.X.Max = loHz, hiHz
+}

@@ -1,0 +1,284 @@
+package plot
+
+import (
+	"fmt"
+	"math"
+
+	gplot "gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+)
+
+// BodeTrace is one frequency response to draw: magnitude in dB and phase
+// in degrees at increasing positive frequencies in Hz.
+//
+// Minus3dBHz lists the frequencies (Hz) where the magnitude is 3 dB below
+// its reference, as the analysis found them; each is marked on the curve.
+// PeakHz/PeakDB, when both are set, mark a resonance peak. Points whose
+// magnitude or phase is not finite (−Inf dB at a transmission zero) are
+// left out of that curve.
+type BodeTrace struct {
+	Label          string
+	FreqHz         []float64
+	MagDB          []float64
+	PhaseDeg       []float64
+	Minus3dBHz     []float64
+	PeakHz, PeakDB *float64
+}
+
+// BodeOptions are the presentation choices of Bode and Band.
+type BodeOptions struct {
+	// Title is printed above the magnitude panel; empty for none.
+	Title string
+	// Width and Height of the whole figure; zero for 17 cm × 14 cm.
+	Width, Height vg.Length
+}
+
+// size returns the figure size with defaults filled in.
+func (o BodeOptions) size() (vg.Length, vg.Length) {
+	w, h := o.Width, o.Height
+	if w <= 0 {
+		w = 17 * vg.Centimeter
+	}
+	if h <= 0 {
+		h = 14 * vg.Centimeter
+	}
+	return w, h
+}
+
+// Axis labels of the frequency-response panels.
+const (
+	labelFreq  = "frequency (Hz)"
+	labelMagDB = "magnitude (dB)"
+	labelPhase = "phase (°)"
+)
+
+// Panel names used as the first part of Series keys.
+const (
+	PanelMagnitude = "magnitude"
+	PanelPhase     = "phase"
+)
+
+// Bode draws the traces as a Bode plot: magnitude (dB) above phase (°),
+// both against a shared logarithmic frequency axis with grid lines on
+// every decade and fainter ones within it.
+//
+// Series keys: "magnitude/LABEL" and "phase/LABEL" (Hz, dB / Hz, °);
+// "magnitude/LABEL/-3dB" with one point per −3 dB frequency (the dB value
+// interpolated on the curve, linear in log f); "magnitude/LABEL/peak".
+// An empty label is named "trace N" (N from 1); labels must be unique.
+func Bode(traces []BodeTrace, opt BodeOptions) (*Figure, error) {
+	if len(traces) == 0 {
+		return nil, fmt.Errorf("plot: Bode needs at least one trace")
+	}
+	lo, hi := math.Inf(1), math.Inf(-1)
+	labels := make([]string, len(traces))
+	seen := map[string]bool{}
+	for i, tr := range traces {
+		labels[i] = tr.Label
+		if labels[i] == "" {
+			labels[i] = fmt.Sprintf("trace %d", i+1)
+		}
+		if seen[labels[i]] {
+			return nil, fmt.Errorf("plot: two Bode traces are labelled %q", labels[i])
+		}
+		seen[labels[i]] = true
+		what := fmt.Sprintf("trace %q", labels[i])
+		if err := checkFreqs(what, tr.FreqHz); err != nil {
+			return nil, err
+		}
+		if err := checkLen(what, "magnitude", len(tr.FreqHz), len(tr.MagDB)); err != nil {
+			return nil, err
+		}
+		if err := checkLen(what, "phase", len(tr.FreqHz), len(tr.PhaseDeg)); err != nil {
+			return nil, err
+		}
+		lo, hi = math.Min(lo, tr.FreqHz[0]), math.Max(hi, tr.FreqHz[len(tr.FreqHz)-1])
+	}
+
+	fig, mp, pp := freqPanels(opt, lo, hi)
+	for i, tr := range traces {
+		st := styleFor(i)
+		magPts := pairs(tr.FreqHz, tr.MagDB)
+		phPts := pairs(tr.FreqHz, tr.PhaseDeg)
+		if len(magPts) < 2 {
+			return nil, fmt.Errorf("plot: trace %q has fewer than 2 finite magnitude values", labels[i])
+		}
+		if err := addTrace(mp, labels[i], magPts, st, i, len(traces), len(traces) > 1 || traces[i].Label != ""); err != nil {
+			return nil, err
+		}
+		if len(phPts) >= 2 {
+			if err := addTrace(pp, labels[i], phPts, st, i, len(traces), false); err != nil {
+				return nil, err
+			}
+		}
+		if err := markBode(mp, pp, labels[i], tr); err != nil {
+			return nil, err
+		}
+	}
+	fitY(mp, 0.06)
+	fitY(pp, 0.06)
+	placeLegend(mp)
+	return fig, nil
+}
+
+// placeLegend moves the legend of a frequency panel to the bottom right
+// when curves reach its top-right corner (the top fifth of the range over
+// the last 30 % of the axis, as a high-pass does), where it would cover
+// them.
+func placeLegend(pn *panel) {
+	xCut := pn.p.X.Min * math.Pow(pn.p.X.Max/pn.p.X.Min, 0.7) // last 30 % of the log axis
+	high := pn.p.Y.Max - 0.2*(pn.p.Y.Max-pn.p.Y.Min)          // the legend's band
+	for _, s := range pn.series {
+		for _, q := range s.xy {
+			if q[0] >= xCut && q[1] > high {
+				pn.p.Legend.Top = false
+				return
+			}
+		}
+	}
+	pn.p.Legend.Top = true
+}
+
+// freqPanels builds the magnitude-over-phase figure skeleton with shared
+// log frequency axes over [loHz, hiHz].
+func freqPanels(opt BodeOptions, loHz, hiHz float64) (*Figure, *panel, *panel) {
+	fig := newFigure(opt.size())
+	mag := newPanel(opt.Title, "", labelMagDB)
+	useLogFreqAxis(mag, loHz, hiHz, true)
+	mag.Y.Tick.Marker = magTicks
+	ph := newPanel("", labelFreq, labelPhase)
+	useLogFreqAxis(ph, loHz, hiHz, false)
+	ph.Y.Tick.Marker = phaseTicks
+	ph.Legend.Top = false
+	mag.Add(grid{logX: true})
+	ph.Add(grid{logX: true})
+	return fig, fig.add(PanelMagnitude, mag), fig.add(PanelPhase, ph)
+}
+
+// addTrace draws pts as the i-th of n traces: a styled line with a few
+// marker glyphs on it (offset per trace so they do not coincide), listed
+// in the legend when legend is set.
+func addTrace(pn *panel, name string, pts [][2]float64, st traceStyle, i, n int, legend bool) error {
+	xys := pn.addSeries(name, pts)
+	line, err := plotter.NewLine(xys)
+	if err != nil {
+		return fmt.Errorf("plot: %s %q: %w", pn.name, name, err)
+	}
+	line.LineStyle = st.line
+	const marksPerTrace = 6
+	var marks plotter.XYs
+	for k := 0; k < marksPerTrace; k++ {
+		j := int((float64(k) + float64(i+1)/float64(n+1)) * float64(len(xys)-1) / marksPerTrace)
+		marks = append(marks, xys[j])
+	}
+	sc, err := plotter.NewScatter(marks)
+	if err != nil {
+		return fmt.Errorf("plot: %s %q markers: %w", pn.name, name, err)
+	}
+	sc.GlyphStyle = st.glyph
+	pn.p.Add(line, sc)
+	if legend {
+		pn.p.Legend.Add(name, line, sc)
+	}
+	return nil
+}
+
+// markBode marks the −3 dB frequencies and the peak of tr.
+func markBode(mp, pp *panel, label string, tr BodeTrace) error {
+	var pts [][2]float64
+	var notes []string
+	for _, f := range tr.Minus3dBHz {
+		y := interpLogX(tr.FreqHz, tr.MagDB, f)
+		if !finite(y) {
+			return fmt.Errorf("plot: trace %q: −3 dB frequency %g Hz lies outside its sweep %g…%g Hz",
+				label, f, tr.FreqHz[0], tr.FreqHz[len(tr.FreqHz)-1])
+		}
+		pts = append(pts, [2]float64{f, y})
+		notes = append(notes, "-3 dB at "+EngFormat(f, 4, "Hz"))
+		for _, pn := range []*panel{mp, pp} {
+			pn.p.Add(refLine{vertical: true, at: f, style: markLineStyle()})
+		}
+	}
+	if len(pts) > 0 {
+		if err := addMarks(mp, label+"/-3dB", pts, notes, draw.RingGlyph{}); err != nil {
+			return err
+		}
+	}
+	if tr.PeakHz != nil && tr.PeakDB != nil {
+		pk := [][2]float64{{*tr.PeakHz, *tr.PeakDB}}
+		note := "peak " + EngFormat(*tr.PeakDB, 3, "dB") + " at " + EngFormat(*tr.PeakHz, 4, "Hz")
+		if err := addMarks(mp, label+"/peak", pk, []string{note}, draw.PyramidGlyph{}); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// addMarks draws annotated points (series name) with glyph shape.
+func addMarks(pn *panel, name string, pts [][2]float64, notes []string, shape draw.GlyphDrawer) error {
+	xys := pn.addSeries(name, pts)
+	sc, err := plotter.NewScatter(xys)
+	if err != nil {
+		return fmt.Errorf("plot: %s %q: %w", pn.name, name, err)
+	}
+	sc.GlyphStyle = draw.GlyphStyle{Color: markColor, Radius: vg.Points(3.6), Shape: shape}
+	pn.p.Add(sc)
+	return addNotes(pn, xys, notes)
+}
+
+// addNotes writes notes[i] just above and right of xys[i]; annotations,
+// not data, so no series is recorded.
+func addNotes(pn *panel, xys plotter.XYs, notes []string) error {
+	lb, err := plotter.NewLabels(plotter.XYLabels{XYs: xys, Labels: notes})
+	if err != nil {
+		return fmt.Errorf("plot: %s notes: %w", pn.name, err)
+	}
+	for i := range lb.TextStyle {
+		lb.TextStyle[i] = noteStyle()
+	}
+	lb.Offset = vg.Point{X: vg.Points(5), Y: vg.Points(3)}
+	pn.p.Add(lb)
+	return nil
+}
+
+// markLineStyle is the thin dotted style of vertical/horizontal marks.
+func markLineStyle() draw.LineStyle {
+	return draw.LineStyle{Color: markColor, Width: vg.Points(0.6), Dashes: []vg.Length{vg.Points(1), vg.Points(2)}}
+}
+
+// refLine is a line across the whole data area at a fixed x (vertical)
+// or y; a visual reference, not data.
+type refLine struct {
+	vertical bool
+	at       float64
+	style    draw.LineStyle
+}
+
+func (r refLine) Plot(c draw.Canvas, p *gplot.Plot) {
+	trX, trY := p.Transforms(&c)
+	if r.vertical {
+		if x := trX(r.at); x >= c.Min.X && x <= c.Max.X {
+			c.StrokeLine2(r.style, x, c.Min.Y, x, c.Max.Y)
+		}
+		return
+	}
+	if y := trY(r.at); y >= c.Min.Y && y <= c.Max.Y {
+		c.StrokeLine2(r.style, c.Min.X, y, c.Max.X, y)
+	}
+}
+
+// fitY sets the y range of the panel to its series' range widened by
+// frac on each side.
+func fitY(pn *panel, frac float64) {
+	var all [][][2]float64
+	for _, s := range pn.series {
+		all = append(all, s.xy)
+	}
+	lo, hi := yRange(all...)
+	if !finite(lo) || !finite(hi) {
+		lo, hi = -1, 1
+	}
+	pn.p.Y.Min, pn.p.Y.Max = padRange(lo, hi, frac)
+}

@@ -1,0 +1,125 @@
+package report
+
+import (
+	"context"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"regexp"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+)
+
+// chromiumPath is Debian's chromium package binary, which the CI script
+// installs.
+const chromiumPath = "/usr/bin/chromium"
+
+// probeScript is added to a test copy of the report only (the report
+// itself has no script): it writes the rendered size of every inline plot
+// into the DOM, which --dump-dom then prints.
+const probeScript = `<script>
+(function () {
+  var out = [];
+  document.querySelectorAll('figure > svg').forEach(function (s) {
+    var r = s.getBoundingClientRect();
+    out.push(Math.round(r.width) + 'x' + Math.round(r.height));
+  });
+  var p = document.createElement('pre');
+  p.id = 'nodal-probe';
+  p.textContent = 'plots:' + out.join(',') + ';';
+  document.body.appendChild(p);
+})();
+</script>
+`
+
+// dumpDOM loads path in headless Chromium and returns the serialised DOM
+// and Chromium's log (stderr), where console messages appear as
+// "...:CONSOLE(line)] ..." lines.
+func dumpDOM(t *testing.T, path string) (dom, log string) {
+	t.Helper()
+	ctx, cancel := context.WithTimeout(context.Background(), 40*time.Second)
+	defer cancel()
+	cmd := exec.CommandContext(ctx, chromiumPath,
+		"--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+		"--disable-background-networking", "--disable-component-update", "--disable-sync",
+		"--user-data-dir="+t.TempDir(), "--enable-logging=stderr", "--v=0",
+		"--window-size=1200,900", "--dump-dom", "file://"+path)
+	var stdout, stderr strings.Builder
+	cmd.Stdout, cmd.Stderr = &stdout, &stderr
+	if err := cmd.Run(); err != nil {
+		t.Fatalf("chromium: %v\n%s", err, stderr.String())
+	}
+	return stdout.String(), stderr.String()
+}
+
+// consoleLines returns Chromium's log lines that carry page console
+// output or uncaught errors.
+func consoleLines(log string) []string {
+	var out []string
+	for _, l := range strings.Split(log, "\n") {
+		if strings.Contains(l, ":CONSOLE") || strings.Contains(l, "Uncaught") {
+			out = append(out, l)
+		}
+	}
+	return out
+}
+
+var probeResult = regexp.MustCompile(`plots:([0-9x,]*);`)
+
+// TestChromiumRendersReport opens the report in headless Chromium and
+// checks that the page logs no console message or error and that every
+// inline plot is laid out with a non-zero size. A control page that does
+// log an error proves the console check can fail.
+func TestChromiumRendersReport(t *testing.T) {
+	if _, err := os.Stat(chromiumPath); err != nil {
+		t.Skipf("headless browser check skipped: %s not found (install Debian's chromium package)", chromiumPath)
+	}
+	if testing.Short() {
+		t.Skip("headless browser check skipped in -short mode")
+	}
+	dir := t.TempDir()
+	page := render(t, demoData(t))
+	probe := strings.Replace(page, "</body>", probeScript+"</body>", 1)
+	path := filepath.Join(dir, "report.html")
+	if err := os.WriteFile(path, []byte(probe), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	dom, log := dumpDOM(t, path)
+	if lines := consoleLines(log); len(lines) > 0 {
+		t.Errorf("console output while rendering:\n%s", strings.Join(lines, "\n"))
+	}
+	m := probeResult.FindStringSubmatch(dom)
+	if m == nil {
+		t.Fatalf("probe did not run; DOM tail: %.300s", dom[max(0, len(dom)-300):])
+	}
+	sizes := strings.Split(m[1], ",")
+	t.Logf("plot sizes (px): %s", m[1])
+	if want := strings.Count(page, "<figure><svg"); len(sizes) != want || want != 5 {
+		t.Fatalf("%d plots laid out (%q), %d in the page, want 5", len(sizes), m[1], want)
+	}
+	for i, s := range sizes {
+		wh := strings.Split(s, "x")
+		w, _ := strconv.Atoi(wh[0])
+		h, _ := strconv.Atoi(wh[1])
+		if w <= 0 || h <= 0 {
+			t.Errorf("plot %d has size %s", i+1, s)
+		}
+		if w > 1200 {
+			t.Errorf("plot %d is %d px wide, wider than the window", i+1, w)
+		}
+	}
+	if !strings.Contains(dom, "Tone stage low-pass") || !strings.Contains(dom, SafetyNote) {
+		t.Error("rendered DOM lacks the title or the safety note")
+	}
+
+	// control: the same check must see a page's console error
+	bad := filepath.Join(dir, "control.html")
+	if err := os.WriteFile(bad, []byte(`<!DOCTYPE html><html><body><script>console.error("nodal control");</script></body></html>`), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, log := dumpDOM(t, bad); len(consoleLines(log)) == 0 {
+		t.Errorf("console check did not see the control page's error; log:\n%s", log)
+	}
+}

@@ -1,0 +1,219 @@
+package report
+
+import (
+	"fmt"
+	"math"
+	"regexp"
+	"strconv"
+	"strings"
+
+	"nodal/cmd/nodal/plot"
+)
+
+// section is one titled part of a report, in the form both renderers
+// walk: short paragraphs, labelled preformatted blocks, figures and
+// tables, in that order.
+type section struct {
+	ID, Heading string
+	Paras       []string
+	Blocks      []block
+	Figures     []Plot
+	Tables      []table
+}
+
+// block is a labelled piece of preformatted text (a formula).
+type block struct {
+	Label, Text string
+}
+
+// table is a header and rows of cells; Right marks right-aligned
+// (numeric) columns.
+type table struct {
+	Caption string
+	Header  []string
+	Right   []bool
+	Rows    []row
+}
+
+// row is one table row; Class is "pass", "fail" or "".
+type row struct {
+	Cells []string
+	Class string
+}
+
+// footer is what closes every report.
+type footer struct {
+	Version, SourceName, SHA256, Safety string
+}
+
+var hex64 = regexp.MustCompile(`^[0-9a-f]{64}$`)
+
+// build checks d and turns it into sections and the footer.
+func build(d *Data) (title string, secs []section, foot footer, err error) {
+	if d == nil {
+		return "", nil, footer{}, fmt.Errorf("report: no data")
+	}
+	if !hex64.MatchString(d.Source.SHA256) {
+		return "", nil, footer{}, fmt.Errorf("report: source checksum %q is not a SHA-256 in hex (64 digits 0-9a-f)", d.Source.SHA256)
+	}
+	title = d.Title
+	if title == "" {
+		title = "nodal report"
+	}
+	foot = footer{Version: d.Version, SourceName: d.Source.Name, SHA256: d.Source.SHA256, Safety: SafetyNote}
+	if foot.Version == "" {
+		foot.Version = "development build"
+	}
+
+	sum := section{ID: "summary", Heading: "Circuit"}
+	if d.Source.BuiltIn {
+		sum.Paras = append(sum.Paras, "This is nodal's built-in demo circuit ("+d.Source.Name+"); give a FILE to analyse your own.")
+	} else if d.Source.Name != "" {
+		sum.Paras = append(sum.Paras, "Circuit file: "+d.Source.Name)
+	}
+	if d.Summary != "" {
+		sum.Paras = append(sum.Paras, d.Summary)
+	}
+	sum.Paras = append(sum.Paras, d.Notes...)
+	parts := table{Caption: "Parts", Header: []string{"name", "kind", "nodes", "value", "tolerance"}, Right: []bool{false, false, false, true, true}}
+	for _, p := range d.Parts {
+		tol := p.Tolerance
+		if tol == "" {
+			tol = "—"
+		}
+		parts.Rows = append(parts.Rows, row{Cells: []string{p.Name, p.Kind, strings.Join(p.Nodes, " – "), p.Value, tol}})
+	}
+	sum.Tables = append(sum.Tables, parts)
+	secs = append(secs, sum)
+
+	if tf := d.Transfer; tf != nil {
+		s := section{ID: "transfer", Heading: "Transfer function"}
+		if tf.Input != "" || tf.Output != "" {
+			s.Paras = append(s.Paras, "H(s) = "+tf.Output+" / "+tf.Input+", s in rad/s.")
+		}
+		for _, b := range []block{{"factored", tf.Factored}, {"expanded", tf.Expanded}} {
+			if b.Text != "" {
+				s.Blocks = append(s.Blocks, b)
+			}
+		}
+		if len(s.Blocks) > 0 || len(s.Paras) > 0 {
+			secs = append(secs, s)
+		}
+		if tf.ODE != "" {
+			secs = append(secs, section{ID: "ode", Heading: "Differential equation",
+				Paras:  []string{"The same relation in time, with d/dt for s."},
+				Blocks: []block{{"", tf.ODE}}})
+		}
+	}
+
+	if len(d.Roots) > 0 {
+		t := table{Header: []string{"", "real part", "imaginary part", "f0", "Q"}, Right: []bool{false, true, true, true, true}}
+		for _, r := range d.Roots {
+			q := "—"
+			if r.Q != nil {
+				q = strconv.FormatFloat(*r.Q, 'g', 4, 64)
+			}
+			t.Rows = append(t.Rows, row{Cells: []string{r.Kind.String(),
+				plot.EngFormat(real(r.S), 6, "rad/s"), plot.EngFormat(imag(r.S), 6, "rad/s"),
+				plot.EngFormat(r.F0Hz, 5, "Hz"), q}})
+		}
+		s := section{ID: "roots", Heading: "Poles and zeros", Tables: []table{t},
+			Paras: []string{"f0 = |s|/2π; Q = |s|/(−2·Re s) for complex pairs."}}
+		if d.PoleZero.present() {
+			s.Figures = append(s.Figures, d.PoleZero)
+		}
+		secs = append(secs, s)
+	} else if d.PoleZero.present() {
+		secs = append(secs, section{ID: "roots", Heading: "Poles and zeros", Figures: []Plot{d.PoleZero}})
+	}
+
+	if d.Bode.present() {
+		secs = append(secs, section{ID: "bode", Heading: "Frequency response", Figures: []Plot{d.Bode}})
+	}
+
+	if st := d.Step; st != nil {
+		s := section{ID: "step", Heading: "Step response"}
+		if st.Plot.present() {
+			s.Figures = append(s.Figures, st.Plot)
+		}
+		if len(st.Metrics) > 0 {
+			t := table{Header: []string{"metric", "value", "note"}, Right: []bool{false, true, false}}
+			for _, m := range st.Metrics {
+				t.Rows = append(t.Rows, row{Cells: []string{m.Name, formatValue(m.Value, m.Unit), m.Note}})
+			}
+			s.Tables = append(s.Tables, t)
+		}
+		secs = append(secs, s)
+	}
+
+	if mc := d.MonteCarlo; mc != nil {
+		s := section{ID: "montecarlo", Heading: "Tolerances (Monte Carlo)",
+			Paras: []string{fmt.Sprintf("%d runs drawn from seed %d; every toleranced part varies at once.", mc.Runs, mc.Seed)}}
+		if mc.Band.present() {
+			s.Figures = append(s.Figures, mc.Band)
+		}
+		if len(mc.Stats) > 0 {
+			t := table{Caption: "Metric statistics", Header: []string{"metric", "nominal", "mean", "std dev", "min", "max"},
+				Right: []bool{false, true, true, true, true, true}}
+			for _, st := range mc.Stats {
+				// five digits: nominal and mean often agree to four
+				cells := []string{st.Name}
+				for _, v := range []float64{st.Nominal, st.Mean, st.StdDev, st.Min, st.Max} {
+					cells = append(cells, formatDigits(v, 5, st.Unit))
+				}
+				t.Rows = append(t.Rows, row{Cells: cells})
+			}
+			s.Tables = append(s.Tables, t)
+		}
+		if mc.Histograms.present() {
+			s.Figures = append(s.Figures, mc.Histograms)
+		}
+		secs = append(secs, s)
+	}
+
+	if len(d.Verdicts) > 0 {
+		t := table{Header: []string{"requirement", "nominal value", "verdict", "yield"}, Right: []bool{false, true, false, true}}
+		failed := 0
+		for _, v := range d.Verdicts {
+			verdict, class := "PASS ✓", "pass"
+			if !v.Pass {
+				verdict, class = "FAIL ✗", "fail"
+				failed++
+			}
+			yield := "—"
+			if v.Yield != nil {
+				yield = strconv.FormatFloat(100**v.Yield, 'f', 1, 64) + " %"
+			}
+			t.Rows = append(t.Rows, row{Cells: []string{v.Requirement, formatValue(v.Value, v.Unit), verdict, yield}, Class: class})
+		}
+		para := fmt.Sprintf("All %d requirements pass at nominal values.", len(d.Verdicts))
+		if failed > 0 {
+			para = fmt.Sprintf("%d of %d requirements fail at nominal values.", failed, len(d.Verdicts))
+		}
+		secs = append(secs, section{ID: "verdicts", Heading: "Requirements", Paras: []string{para}, Tables: []table{t}})
+	}
+	return title, secs, foot, nil
+}
+
+// siUnits take SI prefixes when printed; other units (dB, °, %, plain
+// ratios) are printed as plain numbers.
+var siUnits = map[string]bool{"Hz": true, "s": true, "V": true, "A": true, "Ω": true, "F": true, "H": true, "rad/s": true, "S": true, "W": true}
+
+// formatValue writes v with unit: four significant digits, with an SI
+// prefix for the units in siUnits.
+func formatValue(v float64, unit string) string { return formatDigits(v, 4, unit) }
+
+// formatDigits is formatValue with the given significant digits.
+func formatDigits(v float64, digits int, unit string) string {
+	if siUnits[unit] {
+		return plot.EngFormat(v, digits, unit)
+	}
+	s := strconv.FormatFloat(v, 'g', digits, 64)
+	if math.IsInf(v, 0) || math.IsNaN(v) || unit == "" {
+		return s
+	}
+	if unit == "°" {
+		return s + unit
+	}
+	return s + " " + unit
+}

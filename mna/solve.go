@@ -1,0 +1,399 @@
+package mna
+
+import (
+	"fmt"
+	"math"
+)
+
+// luFactor is an LU factorisation with threshold partial (row) pivoting
+// of the complex matrix Y = G + sC, held in preallocated memory so that one
+// value can factor and solve at many frequencies without allocating.
+//
+// The unknowns are eliminated in a fill-reducing order fixed once per
+// system (minimum degree on the pattern of G and C): position k of the
+// working matrix is unknown perm[k]. Rows are then exchanged for
+// stability: the diagonal pivot is kept while it is at least pivotKeep
+// times the largest candidate in its column, else the largest is taken.
+//
+// Invariants: len(a) == n*n (row-major, in elimination positions); after
+// a successful factor, a holds the unit lower triangle L (below the
+// diagonal) and U (on and above), and rows were exchanged k ↔ piv[k] in
+// order k = 0…n−1, as in LAPACK's getrf. Columns are never exchanged after
+// the initial ordering, so a vanished pivot at position k names unknown
+// perm[k].
+//
+// The factor also records, step by step, the non-zero multipliers of L
+// (lRow, lVal from lStart[k]) and the non-zero columns of U's rows (uCol
+// from uStart[k]), so that solves cost only the non-zeros.
+type luFactor struct {
+	n      int
+	perm   []int // elimination position → unknown index
+	a      []complex128
+	piv    []int
+	dinv   []complex128 // 1/U_kk
+	colmax []float64    // per column: the largest |Y_ij| before elimination
+	w      []complex128 // scratch: a right-hand side in elimination positions
+	rows   []int        // scratch: rows below the pivot with a non-zero in its column
+
+	pat []patEntry // the non-zeros of G and C, fixed when the factor is made
+
+	lStart, uStart []int
+	lRow, uCol     []int
+	lVal           []complex128
+}
+
+// patEntry is one non-zero of G or C: its place in the working matrix
+// (position row·n + column) and in the raw data of G and C.
+type patEntry struct {
+	pos, col, g, c int
+}
+
+func newLUFactor(sys *System) *luFactor {
+	n := sys.Size()
+	f := &luFactor{
+		n:      n,
+		perm:   minimumDegree(sys),
+		a:      make([]complex128, n*n),
+		piv:    make([]int, n),
+		dinv:   make([]complex128, n),
+		colmax: make([]float64, n),
+		w:      make([]complex128, n),
+		rows:   make([]int, 0, n),
+		lStart: make([]int, n+1),
+		uStart: make([]int, n+1),
+		lRow:   make([]int, 0, n*n/2+n),
+		uCol:   make([]int, 0, n*n/2+n),
+		lVal:   make([]complex128, 0, n*n/2+n),
+	}
+	g, c := sys.G.RawMatrix(), sys.C.RawMatrix()
+	for i, pi := range f.perm {
+		for j, pj := range f.perm {
+			e := patEntry{pos: i*n + j, col: j, g: pi*g.Stride + pj, c: pi*c.Stride + pj}
+			if g.Data[e.g] != 0 || c.Data[e.c] != 0 {
+				f.pat = append(f.pat, e)
+			}
+		}
+	}
+	return f
+}
+
+// pivotKeep is the threshold of threshold partial pivoting: the diagonal
+// pivot is kept while it is at least this fraction of the column's largest
+// candidate (0.1 is the usual choice of sparse LU codes; growth stays
+// bounded by (1 + 1/pivotKeep) per step).
+const pivotKeep = 0.1
+
+// minimumDegree returns an elimination order of the unknowns that keeps
+// fill-in low: repeatedly the unknown with the fewest neighbours in the
+// symmetrised pattern of G and C, its neighbours then joined into a clique
+// (ties by lowest index, so the order is deterministic).
+func minimumDegree(sys *System) []int {
+	n := sys.Size()
+	g, c := sys.G.RawMatrix(), sys.C.RawMatrix()
+	adj := make([]bool, n*n)
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			if i != j && (g.Data[i*g.Stride+j] != 0 || c.Data[i*c.Stride+j] != 0) {
+				adj[i*n+j], adj[j*n+i] = true, true
+			}
+		}
+	}
+	done := make([]bool, n)
+	perm := make([]int, 0, n)
+	nb := make([]int, 0, n)
+	for len(perm) < n {
+		best, bestDeg := -1, n+1
+		for v := 0; v < n; v++ {
+			if done[v] {
+				continue
+			}
+			d := 0
+			for u := 0; u < n; u++ {
+				if !done[u] && adj[v*n+u] {
+					d++
+				}
+			}
+			if d < bestDeg {
+				best, bestDeg = v, d
+			}
+		}
+		done[best] = true
+		perm = append(perm, best)
+		nb = nb[:0]
+		for u := 0; u < n; u++ {
+			if !done[u] && adj[best*n+u] {
+				nb = append(nb, u)
+			}
+		}
+		for _, u := range nb {
+			for _, v := range nb {
+				if u != v {
+					adj[u*n+v] = true
+				}
+			}
+		}
+	}
+	return perm
+}
+
+// pivotTol is the relative size below which a pivot counts as vanished: a
+// pivot smaller than pivotTol·n times the largest entry of its original
+// column is at the level of rounding error.
+const pivotTol = 4 * 2.220446049250313e-16
+
+// mag1 is |re|+|im|, a cheap norm within √2 of |z|.
+func mag1(z complex128) float64 { return math.Abs(real(z)) + math.Abs(imag(z)) }
+
+// assemble sets a = G + sC from the system's matrices, visiting only the
+// pattern fixed when the factor was made.
+func (f *luFactor) assemble(sys *System, s complex128) {
+	g, c := sys.G.RawMatrix().Data, sys.C.RawMatrix().Data
+	sr, si := real(s), imag(s)
+	clear(f.a)
+	clear(f.colmax)
+	for _, e := range f.pat {
+		z := complex(g[e.g]+sr*c[e.c], si*c[e.c])
+		f.a[e.pos] = z
+		if m := mag1(z); m > f.colmax[e.col] {
+			f.colmax[e.col] = m
+		}
+	}
+}
+
+// factor runs Gaussian elimination with partial pivoting in place. It
+// skips zero multipliers and zero entries of the pivot row, so a sparse
+// MNA matrix costs far less than n³. On a vanished pivot it returns the
+// index of its column (unknown), else -1.
+func (f *luFactor) factor() int {
+	n, a := f.n, f.a
+	tol := pivotTol * float64(n)
+	f.lRow, f.lVal, f.uCol = f.lRow[:0], f.lVal[:0], f.uCol[:0]
+	for k := 0; k < n; k++ {
+		f.lStart[k], f.uStart[k] = len(f.lRow), len(f.uCol)
+		// One pass down column k: the pivot candidate and the rows
+		// below the diagonal that need eliminating.
+		diag := mag1(a[k*n+k])
+		p, best := k, diag
+		rows := f.rows[:0]
+		for i := k + 1; i < n; i++ {
+			if z := a[i*n+k]; z != 0 {
+				rows = append(rows, i)
+				if m := mag1(z); m > best {
+					p, best = i, m
+				}
+			}
+		}
+		if best == 0 || best <= tol*f.colmax[k] {
+			return k
+		}
+		if diag >= pivotKeep*best {
+			p = k
+		}
+		f.piv[k] = p
+		if p != k {
+			// Columns left of k hold nothing needed any more (the
+			// multipliers are recorded), so swap from k on. The old
+			// row k, now at p, needs eliminating when its entry is
+			// non-zero; row p, now the pivot row, does not.
+			rk, rp := a[k*n+k:k*n+n], a[p*n+k:p*n+n]
+			for j := range rk {
+				rk[j], rp[j] = rp[j], rk[j]
+			}
+			for r, i := range rows {
+				if i == p {
+					if diag != 0 {
+						rows[r] = p
+					} else {
+						rows = append(rows[:r], rows[r+1:]...)
+					}
+					break
+				}
+			}
+		}
+		rowk := a[k*n : k*n+n]
+		u0 := len(f.uCol)
+		for j := k + 1; j < n; j++ {
+			if rowk[j] != 0 {
+				f.uCol = append(f.uCol, j)
+			}
+		}
+		nz := f.uCol[u0:]
+		inv := 1 / rowk[k]
+		f.dinv[k] = inv
+		for _, i := range rows {
+			ri := a[i*n : i*n+n]
+			l := ri[k] * inv
+			ri[k] = l
+			f.lRow = append(f.lRow, i)
+			f.lVal = append(f.lVal, l)
+			for _, j := range nz {
+				ri[j] -= l * rowk[j]
+			}
+		}
+	}
+	f.lStart[n], f.uStart[n] = len(f.lRow), len(f.uCol)
+	return -1
+}
+
+// solve overwrites x (indexed by unknown) with Y⁻¹x using the
+// factorisation.
+func (f *luFactor) solve(x []complex128) {
+	w := f.w
+	for k, pk := range f.perm {
+		w[k] = x[pk]
+	}
+	f.solvePermuted(w)
+	for k, pk := range f.perm {
+		x[pk] = w[k]
+	}
+}
+
+// solvePermuted solves in place in elimination positions, replaying the
+// row exchanges and eliminations of factor in their order, then back
+// substitution along U's recorded non-zeros.
+func (f *luFactor) solvePermuted(x []complex128) {
+	n, a := f.n, f.a
+	for k := 0; k < n; k++ {
+		if p := f.piv[k]; p != k {
+			x[k], x[p] = x[p], x[k]
+		}
+		xk := x[k]
+		if xk == 0 {
+			continue
+		}
+		for e := f.lStart[k]; e < f.lStart[k+1]; e++ {
+			x[f.lRow[e]] -= f.lVal[e] * xk
+		}
+	}
+	for k := n - 1; k >= 0; k-- {
+		v := x[k]
+		row := a[k*n : k*n+n]
+		for _, j := range f.uCol[f.uStart[k]:f.uStart[k+1]] {
+			v -= row[j] * x[j]
+		}
+		x[k] = v * f.dinv[k]
+	}
+}
+
+// factorAt assembles and factors Y(s), returning a *SingularError naming the
+// unknown whose pivot vanished.
+func (f *luFactor) factorAt(sys *System, s complex128) error {
+	f.assemble(sys, s)
+	if k := f.factor(); k >= 0 {
+		u := f.perm[k]
+		return &SingularError{S: s, Unknown: sys.Unknowns[u], Index: u}
+	}
+	return nil
+}
+
+// Solve solves (G + sC)·x = B at the complex frequency s (rad/s) into x,
+// which must have length Size(). It allocates its working memory; for many
+// frequencies use a Sweeper. A numerically singular Y(s) gives a
+// *SingularError.
+func (s *System) Solve(sv complex128, x []complex128) error {
+	n := s.Size()
+	if len(x) != n {
+		return fmt.Errorf("solve: x has length %d, the system has %d unknowns", len(x), n)
+	}
+	f := newLUFactor(s)
+	if err := f.factorAt(s, sv); err != nil {
+		return err
+	}
+	for i, b := range s.B {
+		x[i] = complex(b, 0)
+	}
+	f.solve(x)
+	return nil
+}
+
+// SolveAll returns the whole solution x of (G + sC)·x = B at s (rad/s): the
+// phasor of every node voltage and branch current, named by Unknowns, per
+// unit of the input (multiply by SourceAmplitude for the file's drive).
+func (s *System) SolveAll(sv complex128) ([]complex128, error) {
+	x := make([]complex128, s.Size())
+	if err := s.Solve(sv, x); err != nil {
+		return nil, err
+	}
+	return x, nil
+}
+
+// H returns the transfer function y/u = L·(G + sC)⁻¹·B at one complex
+// frequency s (rad/s).
+func (s *System) H(sv complex128) (complex128, error) {
+	x, err := s.SolveAll(sv)
+	if err != nil {
+		return 0, err
+	}
+	return dotReal(s.L, x), nil
+}
+
+// dotReal returns Σ l_i·x_i.
+func dotReal(l []float64, x []complex128) complex128 {
+	var h complex128
+	for i, li := range l {
+		if li != 0 {
+			h += complex(li, 0) * x[i]
+		}
+	}
+	return h
+}
+
+// Sweeper evaluates H(s) and dH/ds of one System at many frequencies with
+// one set of working memory: Eval does not allocate. A Sweeper is not safe
+// for concurrent use; give each goroutine its own (they may share the
+// System, which Eval only reads). Eval reads G, C, B and L at every call.
+//
+// The pattern of non-zeros of G and C is fixed when the Sweeper is made;
+// their values, and B and L, are read at every Eval.
+type Sweeper struct {
+	sys  *System
+	f    *luFactor
+	x, z []complex128
+	cnz  []cEntry // the non-zeros of C
+}
+
+// cEntry is one non-zero C_ij and its index in C's raw data.
+type cEntry struct{ i, j, raw int }
+
+// NewSweeper allocates the working memory for sys.
+func NewSweeper(sys *System) *Sweeper {
+	n := sys.Size()
+	w := &Sweeper{sys: sys, f: newLUFactor(sys), x: make([]complex128, n), z: make([]complex128, n)}
+	c := sys.C.RawMatrix()
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			if r := i*c.Stride + j; c.Data[r] != 0 {
+				w.cnz = append(w.cnz, cEntry{i, j, r})
+			}
+		}
+	}
+	return w
+}
+
+// Eval returns H(s) = L·Y⁻¹·B and its derivative dH/ds = −L·Y⁻¹·C·Y⁻¹·B at
+// the complex frequency s (rad/s), with Y = G + sC, from one factorisation
+// and two triangular solves. At s = jω the group delay is −Re(dH/ds / H)
+// seconds, exactly. A numerically singular Y(s) gives a *SingularError.
+func (w *Sweeper) Eval(s complex128) (h, dh complex128, err error) {
+	sys := w.sys
+	if err := w.f.factorAt(sys, s); err != nil {
+		return 0, 0, err
+	}
+	for i, b := range sys.B {
+		w.x[i] = complex(b, 0)
+	}
+	w.f.solve(w.x)
+	h = dotReal(sys.L, w.x)
+	c := sys.C.RawMatrix().Data
+	clear(w.z)
+	for _, e := range w.cnz {
+		w.z[e.i] += complex(c[e.raw], 0) * w.x[e.j]
+	}
+	w.f.solve(w.z)
+	dh = -dotReal(sys.L, w.z)
+	return h, dh, nil
+}
+
+// X returns the solution vector of the last successful Eval (valid until
+// the next call; do not modify).
+func (w *Sweeper) X() []complex128 { return w.x }

@@ -1,0 +1,177 @@
+package netlist
+
+import (
+	"errors"
+	"fmt"
+	"strings"
+	"testing"
+)
+
+// base is a valid circuit that diagnostic cases extend.
+const base = "V1: vsource (in, gnd) 1\nR1: resistor (in, out) 1k\nC1: capacitor (out, gnd) 1n\n"
+
+// loadDiags loads src and returns every diagnostic (errors and warnings).
+func loadDiags(t *testing.T, src string) ErrorList {
+	t.Helper()
+	c, err := Load("t.nodal", []byte(src), nil)
+	if err != nil {
+		var l ErrorList
+		if !errors.As(err, &l) {
+			t.Fatalf("error %v is not an ErrorList", err)
+		}
+		return l
+	}
+	return c.Warnings
+}
+
+func TestDiagnostics(t *testing.T) {
+	for _, tc := range []struct {
+		name      string
+		src       string
+		line, col int
+		msg, hint string
+		warning   bool
+	}{
+		{"missing colon", base + "R2 a b 10k\n", 4, 4, `unexpected "a"`, `expected ":" after the element name`, false},
+		{"missing comma", base + "R2: resistor (a b) 10k\n", 4, 17, `unexpected "b"`, `expected "," or ")"`, false},
+		{"no terminals", base + "X: nope\n", 4, 8, "unexpected end of statement", "expected the terminals in parentheses", false},
+		{"bad char", base + "R2: resistor (in, out) 10k $\n", 4, 28, `unexpected character "$"`, "", false},
+		{"dot command", ".op\n" + base, 1, 1, `unexpected character "."`, "a statement starts with", false},
+		{"unclosed", base + "R2: resistor (in, out\n", 4, 22, "unexpected end of statement", `expected "," or ")"`, false},
+		{"unknown kind", base + "C2: capacitr (out, gnd) 1n\n", 4, 5, `unknown element kind or block "capacitr"`, `did you mean "capacitor"?`, false},
+		{"unknown block", "block amp (a, b)\nR1: resistor (a, b) 1k\nend\n" + base + "X1: ampp (in, out)\n", 7, 5, `unknown element kind or block "ampp"`, `did you mean "amp"?`, false},
+		{"duplicate element", base + "R1: resistor (in, gnd) 1k\n", 4, 1, `duplicate name "R1" (first defined at t.nodal:2:1)`, "", false},
+		{"duplicate let", "let a = 1\nlet a = 2\n" + base, 2, 1, `duplicate parameter "a"`, "", false},
+		{"duplicate block", "block b (x)\nend\nblock b (x)\nend\n" + base, 3, 1, `duplicate block "b"`, "", false},
+		{"terminal count", base + "R2: resistor (in, out, gnd) 1k\n", 4, 1, "resistor R2 takes 2 terminals (a, b), got 3", "", false},
+		{"opamp terminals", base + "U1: opamp (in, out)\n", 4, 1, "opamp U1 takes 3 terminals", "", false},
+		{"missing value", base + "R2: resistor (in, out)\n", 4, 1, "resistor R2 needs a value in Ω", "", false},
+		{"zero value", base + "R2: resistor (in, out) 0\n", 4, 24, "resistor R2: value must be > 0, got 0 Ω", "", false},
+		{"negative value", base + "C2: capacitor (in, out) -1n\n", 4, 25, "value must be > 0", "", false},
+		{"infinite value", base + "R2: resistor (in, out) 1/0\n", 4, 24, "value is not finite", "", false},
+		{"undefined parameter", "let Rbase = 1k\n" + base + "R2: resistor (in, out) Rbse\n", 5, 24, `undefined parameter "Rbse"`, `did you mean "Rbase"?`, false},
+		{"unit mismatch", base + "R2: resistor (in, out) 10nF\n", 4, 24, "unit mismatch: the value of resistor R2 is in Ω, not F", "", false},
+		{"unit via let", "let C = 10nF\n" + base + "R2: resistor (in, out) 2*C\n", 5, 24, "is in Ω, not F", "", false},
+		{"gain unit", base + "E1: vcvs (x, gnd) 2V sense=(in, out)\n", 4, 19, "is a plain number, not V", "", false},
+		{"percent as value", base + "R2: resistor (in, out) 5%\n", 4, 24, "% is only allowed in a tolerance", "", false},
+		{"add units", base + "R2: resistor (in, out) 1kΩ + 1nF\n", 4, 28, "cannot add Ω and F", "", false},
+		{"coupling not inductor", base + "L1: inductor (in, gnd) 1m\nK1: coupling (L1, R1) 0.5\n", 5, 19, "coupling K1: R1 is a resistor, not an inductor", "", false},
+		{"coupling K too big", base + "L1: inductor (in, gnd) 1m\nL2: inductor (out, gnd) 1m\nK1: coupling (L1, L2) 1.2\n", 6, 23, "0 < |K| ≤ 1", "", false},
+		{"coupling missing", base + "L1: inductor (in, gnd) 1m\nK1: coupling (L1, L9) 0.5\n", 5, 19, `coupling K1: no element "L9"`, "", false},
+		{"coupling self", base + "L1: inductor (in, gnd) 1m\nK1: coupling (L1, L1) 0.5\n", 5, 19, "couples L1 with itself", "", false},
+		{"sense missing element", base + "H1: ccvs (x, gnd) 1k sense=Vx\n", 4, 28, `ccvs H1: no element "Vx"`, "", false},
+		{"sense needed", base + "G1: vccs (x, gnd) 1m\n", 4, 1, "vccs G1 needs sense=(c, d)", "", false},
+		{"sense form", base + "E1: vcvs (x, gnd) 2 sense=V1\n", 4, 27, "vcvs takes sense=(c, d)", "", false},
+		{"unknown option", base + "U1: opamp (in, x, x) gwb=1MHz\n", 4, 22, `unknown option "gwb" for opamp`, `did you mean "gbw"?`, false},
+		{"opamp value", base + "U1: opamp (in, x, x) 5\n", 4, 22, "an opamp takes no value", "", false},
+		{"opamp a0", base + "U1: opamp (in, x, x) a0=0\n", 4, 1, "a0 must be finite and > 0", "", false},
+		{"bad tolerance", base + "R2: resistor (in, out) 1k ±150%\n", 4, 28, "tolerance must be between 0 and 100%", "", false},
+		{"tolerance unit", base + "R2: resistor (in, out) 1k tol=5Hz\n", 4, 31, "unit Hz is not allowed", "", false},
+		{"dist without tol", base + "R2: resistor (in, out) 1k dist=normal\n", 4, 27, "dist= without a tolerance", "", false},
+		{"bad dist", base + "R2: resistor (in, out) 1k ±1% dist=gauss\n", 4, 36, "unknown distribution", "", false},
+		{"two tolerances", base + "R2: resistor (in, out) 1k ±1% tol=2%\n", 4, 31, "second tolerance", "", false},
+		{"block cycle", "block a (x)\nY: b (x)\nend\nblock b (x)\nZ: a (x)\nend\n" + base + "X1: a (in)\n", 5, 1, "block cycle: a → b → a", "", false},
+		{"self cycle", "block a (x)\nY: a (x)\nend\n" + base + "X1: a (in)\n", 2, 1, "block cycle: a → a", "", false},
+		{"block ports", "block a (x, y)\nR1: resistor (x, y) 1k\nend\n" + base + "X1: a (in)\n", 7, 1, "block a has 2 ports, got 1 terminals", "", false},
+		{"block param", "block a (x, y) R=1k\nR1: resistor (x, y) R\nend\n" + base + "X1: a (in, out) Q=2\n", 7, 17, `block a has no parameter "Q"`, "block a has parameters: R", false},
+		{"instance value", "block a (x, y)\nR1: resistor (x, y) 1k\nend\n" + base + "X1: a (in, out) 5\n", 7, 17, "a block instance takes no value", "", false},
+		{"nested block", "block a (x)\nblock b (y)\nend\nend\n" + base, 2, 1, `block "b" starts inside block "a"`, "", false},
+		{"block without end", base + "block a (x)\nR9: resistor (x, gnd) 1\n", 4, 1, `block "a" has no end`, "", false},
+		{"end without block", base + "end\n", 4, 1, "end without a block", "", false},
+		{"no ground", "V1: vsource (a, b) 1\nR1: resistor (a, b) 1k\n", 1, 1, "no element touches the reference node gnd", "", false},
+		{"empty", "# nothing\n", 1, 1, "the circuit has no elements", "", false},
+		{"single terminal", base + "R2: resistor (out, dangling) 1k\n", 4, 20, `node "dangling" is connected to only one terminal (of R2)`, "", true},
+		{"unknown function", base + "R2: resistor (in, out) sqr(4)\n", 4, 24, `unknown function "sqr"`, `did you mean "sqrt"?`, false},
+		{"arity", base + "R2: resistor (in, out) min(4)\n", 4, 24, "min takes two or more arguments", "", false},
+		{"trig degrees", base + "R2: resistor (in, out) 1k*sin(30deg)\n", 4, 27, "sin takes radians", "", false},
+		{"reserved", "let pi = 3\n" + base, 1, 1, `"pi" is reserved`, "", false},
+		{"second title", "title \"a\"\ntitle \"b\"\n" + base, 2, 1, "second title", "", false},
+		{"require metric", base + "require gian@1kHz below 0dB\n", 4, 9, `unknown metric "gian"`, `did you mean "gain"?`, false},
+		{"require list", base + "require zzz above 1\n", 4, 9, `unknown metric "zzz"`, "metrics: gain@F, phase@F, f3db, peak, fpeak, f0, q, dc", false},
+		{"require freq", base + "require gain below 0dB\n", 4, 9, "gain needs a frequency", "", false},
+		{"require unit", base + "require f3db within 1kHz..2dB\n", 4, 27, "limit of f3db must be Hz", "", false},
+		{"require range", base + "require q within 1\n", 4, 18, "within needs a range", "", false},
+		{"require empty range", base + "require q within 2..1\n", 4, 18, "empty range", "", false},
+		{"node name", base + "R2: resistor (in, 1x) 1k\n", 4, 19, "node names are identifiers or non-negative integers", "", false},
+		{"dotted name", base + "R.2: resistor (in, out) 1k\n", 4, 1, `element name "R.2" may not contain "."`, "", false},
+		{"unit prefix K", base + "R2: resistor (in, out) 10K\n", 4, 24, "kilo is a lower-case k", "", false},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			diags := loadDiags(t, tc.src)
+			for _, d := range diags {
+				if strings.Contains(d.Msg, tc.msg) {
+					if d.Pos.Line != tc.line || d.Pos.Col != tc.col || d.Pos.File != "t.nodal" {
+						t.Errorf("%q at %s; want line %d col %d", d.Msg, d.Pos, tc.line, tc.col)
+					}
+					if !strings.Contains(d.Hint, tc.hint) {
+						t.Errorf("hint %q; want %q", d.Hint, tc.hint)
+					}
+					if (d.Severity == SevWarning) != tc.warning {
+						t.Errorf("severity %v; want warning=%v", d.Severity, tc.warning)
+					}
+					if d.Line == "" {
+						t.Errorf("diagnostic has no source line")
+					}
+					return
+				}
+			}
+			t.Errorf("no diagnostic %q in:\n%v", tc.msg, diags)
+		})
+	}
+}
+
+// TestDiagnosticFormat checks the FILE:LINE:COL form with source line and
+// caret, and that several errors are reported at once.
+func TestDiagnosticFormat(t *testing.T) {
+	_, err := Load("f.nodal", []byte(base+"R2: resistr (in, out) 1k\nR3: resistor (in, out)\n"), nil)
+	if err == nil {
+		t.Fatal("no error")
+	}
+	want := "f.nodal:4:5: unknown element kind or block \"resistr\" (did you mean \"resistor\"?)\n    R2: resistr (in, out) 1k\n        ^\n" +
+		"f.nodal:5:1: resistor R3 needs a value in Ω\n    R3: resistor (in, out)\n    ^"
+	if err.Error() != want {
+		t.Errorf("got\n%s\nwant\n%s", err, want)
+	}
+	var many strings.Builder
+	many.WriteString(base)
+	for i := 0; i < 30; i++ {
+		many.WriteString("Rx: resistor (a b)\n")
+	}
+	_, err = Parse("m.nodal", []byte(many.String()))
+	var l ErrorList
+	if !errors.As(err, &l) || len(l) != 30 || !strings.HasSuffix(err.Error(), "(and 10 more errors)") {
+		t.Errorf("want 30 syntax errors, 20 printed; got %d: ...%s", len(l), err.Error()[max(0, len(err.Error())-40):])
+	}
+}
+
+func TestRefuseNonText(t *testing.T) {
+	for _, tc := range []struct {
+		name string
+		src  []byte
+		want string
+	}{
+		{"nul", []byte("R1: resistor (a, gnd) 1k\x00\n"), "not text (it contains a NUL byte)"},
+		{"utf8", []byte("R1: resistor (a, gnd) 1k \xff\xfe\n"), "not UTF-8 text"},
+		{"oversize", make([]byte, MaxSourceBytes+1), "limited to 16777216 bytes (16 MiB)"},
+	} {
+		_, err := Parse("bin", tc.src)
+		if err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%s: error %v; want %q", tc.name, err, tc.want)
+		}
+	}
+}
+
+// TestTooLarge checks that block expansion is bounded: 2^30 instances are
+// refused quickly instead of being built.
+func TestTooLarge(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("block b0 (x)\nR: resistor (x, gnd) 1\nend\n")
+	for i := 1; i <= 30; i++ {
+		fmt.Fprintf(&b, "block b%d (x)\nP: b%d (x)\nQ: b%d (x)\nend\n", i, i-1, i-1)
+	}
+	b.WriteString("X: b30 (in)\n")
+	_, err := Load("big.nodal", []byte(b.String()), nil)
+	if err == nil || !strings.Contains(err.Error(), "circuit too large") {
+		t.Errorf("error %v", err)
+	}
+}

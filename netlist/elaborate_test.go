@@ -1,0 +1,372 @@
+package netlist
+
+import (
+	"math"
+	"reflect"
+	"sync"
+	"testing"
+)
+
+const allForms = `# every statement form
+title "Logger input filter"
+let fc = 2kHz
+let C  = 10nF ±5%
+let R  = 1/(2*pi*fc*C)
+let k  = 3 tol=2% dist=normal
+Vin: vsource (in, gnd) 1 phase=30deg
+I1:  isource (0, n1) 2mA
+R1:  resistor (in, a) R ±1% fixed
+R2:  resistor (a, b) R tol=1% dist=normal
+C1:  capacitor (a, out) 2*C
+C2:  capacitor (b, gnd) C
+U1:  opamp (b, out, out) a0=200k gbw=1MHz rout=50
+U2:  opamp (b, n1, n1)
+E1:  vcvs (e, gnd) -2^2 sense=(a, b)
+G1:  vccs (n1, 0) 1mS sense=(in, 0)
+H1:  ccvs (e, n1) 1kΩ sense=R1
+F1:  cccs (e, gnd) k sense=Vin
+L1:  inductor (e, gnd) 1mH
+L2:  inductor (n1, gnd) 4m7 +-10%
+K1:  coupling (L1, L2) -0.98
+R3:  resistor (e, n1) 2R2
+R4:  resistor (e, n1) max(1k, sqrt(4e6)) + abs(-1) - 1
+require gain@1kHz within -0.5dB..0.5dB
+require gain@20kHz below -40dB
+require f3db within 1.9kHz..2.1kHz
+require q above 0.6
+`
+
+func TestStatementForms(t *testing.T) {
+	c, err := Load("forms.nodal", []byte(allForms), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Title != "Logger input filter" || c.File != "forms.nodal" {
+		t.Errorf("title %q file %q", c.Title, c.File)
+	}
+	R := 1 / (2 * math.Pi * 2000 * 10e-9) // the file's own formula
+	part := func(name string) Part {
+		p, ok := c.Part(name)
+		if !ok {
+			t.Fatalf("no part %s", name)
+		}
+		return *p
+	}
+	for _, tc := range []struct {
+		name  string
+		kind  Kind
+		nodes []string
+		value float64
+	}{
+		{"Vin", VSource, []string{"in", "gnd"}, 1}, {"I1", ISource, []string{"gnd", "n1"}, 2e-3},
+		{"R1", Resistor, []string{"in", "a"}, R}, {"R2", Resistor, []string{"a", "b"}, R},
+		{"C1", Capacitor, []string{"a", "out"}, 20e-9}, {"C2", Capacitor, []string{"b", "gnd"}, 10e-9},
+		{"U1", OpAmp, []string{"b", "out", "out"}, 0}, {"E1", VCVS, []string{"e", "gnd"}, -4},
+		{"G1", VCCS, []string{"n1", "gnd"}, 1e-3}, {"H1", CCVS, []string{"e", "n1"}, 1000},
+		{"F1", CCCS, []string{"e", "gnd"}, 3}, {"L1", Inductor, []string{"e", "gnd"}, 1e-3},
+		{"L2", Inductor, []string{"n1", "gnd"}, 4.7e-3}, {"K1", Coupling, nil, -0.98},
+		{"R3", Resistor, []string{"e", "n1"}, 2.2}, {"R4", Resistor, []string{"e", "n1"}, 2000},
+	} {
+		p := part(tc.name)
+		if p.Kind != tc.kind || !reflect.DeepEqual(p.Nodes, tc.nodes) || !near(p.Value, tc.value) {
+			t.Errorf("%s = %v %v %v; want %v %v %v", tc.name, p.Kind, p.Nodes, p.Value, tc.kind, tc.nodes, tc.value)
+		}
+	}
+	if p := part("Vin"); !near(p.PhaseRad, math.Pi/6) || p.ValueSpan.End-p.ValueSpan.Start != 1 {
+		t.Errorf("Vin phase %v span %+v", p.PhaseRad, p.ValueSpan)
+	}
+	if p := part("U1"); p.A0 != 2e5 || p.GBWHz != 1e6 || p.Rout != 50 {
+		t.Errorf("U1 model %v %v %v", p.A0, p.GBWHz, p.Rout)
+	}
+	if p := part("U2"); p.A0 != 0 || p.GBWHz != 0 || p.Rout != 0 {
+		t.Errorf("U2 not ideal: %+v", p)
+	}
+	if p := part("E1"); p.Sense != [2]string{"a", "b"} {
+		t.Errorf("E1 sense %v", p.Sense)
+	}
+	if part("H1").Control != "R1" || part("F1").Control != "Vin" || part("K1").Coupled != [2]string{"L1", "L2"} {
+		t.Errorf("controls %q %q %v", part("H1").Control, part("F1").Control, part("K1").Coupled)
+	}
+	if p := part("R1"); !p.Fixed || p.Tol != (Tolerance{0.01, Uniform}) || string(c.sourceOf(p.ValueSpan)) != "R" {
+		t.Errorf("R1 %+v", p)
+	}
+	if p := part("R2"); p.Fixed || p.Tol != (Tolerance{0.01, Normal}) {
+		t.Errorf("R2 %+v", p)
+	}
+	if p := part("C1"); string(c.sourceOf(p.ValueSpan)) != "2*C" || p.ValueSpan.Pos.Line != 11 || p.Pos.Line != 11 || p.Pos.Col != 1 {
+		t.Errorf("C1 span %+v pos %v", p.ValueSpan, p.Pos)
+	}
+	if p := part("L2"); p.Tol.Rel != 0.1 {
+		t.Errorf("L2 tol %v", p.Tol)
+	}
+	wantNodes := []string{"gnd", "in", "n1", "a", "b", "out", "e"}
+	if !reflect.DeepEqual(c.Nodes, wantNodes) {
+		t.Errorf("nodes %v; want %v", c.Nodes, wantNodes)
+	}
+	if len(c.Params) != 4 || c.Params[1].Name != "C" || c.Params[1].Unit != "F" || c.Params[1].Tol.Rel != 0.05 ||
+		string(c.sourceOf(c.Params[2].Span)) != "1/(2*pi*fc*C)" || !near(c.Params[2].Value, R) {
+		t.Errorf("params %+v", c.Params)
+	}
+	var vnames []string
+	for _, v := range c.Variations {
+		vnames = append(vnames, v.Name)
+	}
+	if !reflect.DeepEqual(vnames, []string{"C", "k", "R1", "R2", "L2"}) || !c.Variations[0].IsParam || c.Variations[2].IsParam {
+		t.Errorf("variations %+v", c.Variations)
+	}
+	wantReq := []Requirement{
+		{Metric: "gain@1kHz", Op: Within, Lo: -0.5, Hi: 0.5, Text: "require gain@1kHz within -0.5dB..0.5dB"},
+		{Metric: "gain@20kHz", Op: Below, Hi: -40, Text: "require gain@20kHz below -40dB"},
+		{Metric: "f3db", Op: Within, Lo: 1900, Hi: 2100, Text: "require f3db within 1.9kHz..2.1kHz"},
+		{Metric: "q", Op: Above, Lo: 0.6, Text: "require q above 0.6"},
+	}
+	for i := range c.Requirements {
+		c.Requirements[i].Pos = Pos{}
+	}
+	if !reflect.DeepEqual(c.Requirements, wantReq) {
+		t.Errorf("requirements\n%+v\nwant\n%+v", c.Requirements, wantReq)
+	}
+}
+
+// sourceOf returns the source text of a span (test helper).
+func (c *Circuit) sourceOf(s Span) []byte { return testSource[c.File][s.Start:s.End] }
+
+var testSource = map[string][]byte{"forms.nodal": []byte(allForms), "blocks.nodal": []byte(blockSrc)}
+
+const blockSrc = `let Cs = 10n ±5%
+block lowpass2 (inp, outp) R=10k C=Cs
+  let R2 = 2*R
+  R1: resistor (inp, a) R ±1%
+  R2: resistor (a, b) R2
+  C1: capacitor (a, outp) 2*C
+  C2: capacitor (b, gnd) C
+  U1: opamp (b, outp, outp)
+end
+block twice (i, o) Rt=1k
+  A: lowpass2 (i, m) R=Rt
+  B: lowpass2 (m, o) R=2*Rt C=1n
+end
+V1: vsource (in, 0) 1
+X1: lowpass2 (in, out) R=4.7k
+X2: twice (out, out2) Rt=2k fixed
+`
+
+func TestBlocks(t *testing.T) {
+	c, err := Load("blocks.nodal", []byte(blockSrc), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name  string
+		nodes []string
+		value float64
+		fixed bool
+	}{
+		{"X1.R1", []string{"in", "X1.a"}, 4700, false},
+		{"X1.R2", []string{"X1.a", "X1.b"}, 9400, false},
+		{"X1.C1", []string{"X1.a", "out"}, 20e-9, false},
+		{"X1.C2", []string{"X1.b", "gnd"}, 10e-9, false},
+		{"X2.A.R1", []string{"out", "X2.A.a"}, 2000, true},
+		{"X2.B.R1", []string{"X2.m", "X2.B.a"}, 4000, true},
+		{"X2.B.C2", []string{"X2.B.b", "gnd"}, 1e-9, true},
+		{"X2.B.U1", []string{"X2.B.b", "out2", "out2"}, 0, true},
+	} {
+		p, ok := c.Part(tc.name)
+		if !ok {
+			t.Errorf("no part %s", tc.name)
+			continue
+		}
+		if !reflect.DeepEqual(p.Nodes, tc.nodes) || !near(p.Value, tc.value) || p.Fixed != tc.fixed {
+			t.Errorf("%s = %v %v fixed=%v; want %v %v %v", tc.name, p.Nodes, p.Value, p.Fixed, tc.nodes, tc.value, tc.fixed)
+		}
+	}
+	var vnames []string
+	for _, v := range c.Variations {
+		vnames = append(vnames, v.Name)
+	}
+	if want := []string{"Cs", "X1.R1", "X2.A.R1", "X2.B.R1"}; !reflect.DeepEqual(vnames, want) {
+		t.Errorf("variations %v; want %v", vnames, want)
+	}
+}
+
+func ones(n int) []float64 {
+	f := make([]float64, n)
+	for i := range f {
+		f[i] = 1
+	}
+	return f
+}
+
+// TestVarySharedDraw checks "one shared draw for every use": varying the
+// toleranced let C moves every value built from it, including the derived
+// let R = 1/(2π·fc·C), while part tolerances scale only their part.
+func TestVarySharedDraw(t *testing.T) {
+	c, err := Load("forms.nodal", []byte(allForms), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := ones(len(c.Variations))
+	f[0] = 1.05 // C
+	f[2] = 0.99 // R1
+	d, err := c.Vary(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	C := 10e-9 * 1.05
+	R := 1 / (2 * math.Pi * 2000 * C)
+	for _, tc := range []struct {
+		name string
+		want float64
+	}{{"C1", 2 * C}, {"C2", C}, {"R1", R * 0.99}, {"R2", R}, {"E1", -4}, {"L1", 1e-3}} {
+		p, _ := d.Part(tc.name)
+		if !near(p.Value, tc.want) {
+			t.Errorf("%s = %v; want %v", tc.name, p.Value, tc.want)
+		}
+	}
+	if !near(d.Params[1].Value, C) || !near(d.Params[2].Value, R) {
+		t.Errorf("params not updated: %+v", d.Params)
+	}
+	// The original is untouched.
+	if p, _ := c.Part("C2"); p.Value != 10e-9 {
+		t.Errorf("Vary changed the nominal circuit: C2 = %v", p.Value)
+	}
+	// The derived gain F1 = k follows k's draw.
+	f = ones(len(c.Variations))
+	f[1] = 1.02
+	d, _ = c.Vary(f)
+	if p, _ := d.Part("F1"); !near(p.Value, 3*1.02) {
+		t.Errorf("F1 = %v; want %v", p.Value, 3*1.02)
+	}
+	if _, err := c.Vary(f[:2]); err == nil {
+		t.Error("Vary accepted too few factors")
+	}
+	f = ones(len(c.Variations))
+	f[4] = -1 // L2 negative
+	if _, err := c.Vary(f); err == nil {
+		t.Error("Vary accepted a negative inductance")
+	}
+}
+
+func TestVaryBlocks(t *testing.T) {
+	c, err := Load("blocks.nodal", []byte(blockSrc), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := []float64{1.1, 0.9, 1.01, 1} // Cs, X1.R1, X2.A.R1, X2.B.R1
+	d, err := c.Vary(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name string
+		want float64
+	}{
+		{"X1.C2", 11e-9}, {"X1.C1", 22e-9}, {"X1.R1", 4700 * 0.9}, {"X1.R2", 9400},
+		{"X2.A.C2", 11e-9}, {"X2.A.R1", 2020}, {"X2.B.C2", 1e-9}, {"X2.B.R1", 4000},
+	} {
+		p, _ := d.Part(tc.name)
+		if !near(p.Value, tc.want) {
+			t.Errorf("%s = %v; want %v", tc.name, p.Value, tc.want)
+		}
+	}
+}
+
+func TestVaryConcurrent(t *testing.T) {
+	c, err := Load("forms.nodal", []byte(allForms), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var wg sync.WaitGroup
+	for g := 0; g < 8; g++ {
+		wg.Add(1)
+		go func(g int) {
+			defer wg.Done()
+			for i := 0; i < 200; i++ {
+				f := ones(len(c.Variations))
+				f[0] = 1 + float64(g)/100
+				d, err := c.Vary(f)
+				if err != nil {
+					t.Error(err)
+					return
+				}
+				if p, _ := d.Part("C2"); !near(p.Value, 10e-9*f[0]) {
+					t.Errorf("C2 = %v; want %v", p.Value, 10e-9*f[0])
+					return
+				}
+			}
+		}(g)
+	}
+	wg.Wait()
+}
+
+func TestOverrides(t *testing.T) {
+	c, err := Load("forms.nodal", []byte(allForms), Overrides{"fc": 1000})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p, _ := c.Part("R2"); !near(p.Value, 1/(2*math.Pi*1000*10e-9)) {
+		t.Errorf("R2 = %v with fc overridden", p.Value)
+	}
+	_, err = Load("forms.nodal", []byte(allForms), Overrides{"fx": 1000})
+	if err == nil || err.Error() != `forms.nodal: no top-level parameter "fx" to override (did you mean "fc"?)` {
+		t.Errorf("error %v", err)
+	}
+}
+
+func TestMetrics(t *testing.T) {
+	if got := MetricNames(); !reflect.DeepEqual(got, []string{"gain@F", "phase@F", "f3db", "peak", "fpeak", "f0", "q", "dc"}) {
+		t.Errorf("MetricNames = %v", got)
+	}
+	for _, tc := range []struct {
+		in   string
+		name string
+		f    float64
+		ok   bool
+	}{{"gain@1kHz", "gain", 1000, true}, {"phase@20k", "phase", 20000, true}, {"q", "q", 0, true},
+		{"gain", "", 0, false}, {"q@1k", "", 0, false}, {"gain@1nF", "", 0, false}, {"gainx", "", 0, false}} {
+		name, f, err := ParseMetric(tc.in)
+		if (err == nil) != tc.ok || name != tc.name || f != tc.f {
+			t.Errorf("ParseMetric(%q) = %q %v %v", tc.in, name, f, err)
+		}
+	}
+}
+
+func TestEvalExpr(t *testing.T) {
+	for _, tc := range []struct {
+		in   string
+		want float64
+		unit string
+	}{
+		{"2^3^2", 512, ""}, {"-2^2", -4, ""}, {"2*pi*1kHz", 2 * math.Pi * 1000, "Hz"}, {"(1+2)*3", 9, ""},
+		{"sqrt(2)/2", math.Sqrt2 / 2, ""}, {"ln(exp(2))", 2, ""}, {"log10(1k)", 3, ""}, {"atan(1)*4", math.Pi, ""},
+		{"min(3, 1, 2)", 1, ""}, {"max(1nF, 2nF)", 2e-9, "F"}, {"cos(0)+sin(0)+tan(0)", 1, ""}, {"4k7/2", 2350, ""},
+		{"10 - 2 - 3", 5, ""}, {"12/2/3", 2, ""}, {"2^-1", 0.5, ""},
+	} {
+		v, u, err := EvalExpr(tc.in)
+		if err != nil || !near(v, tc.want) || u != tc.unit {
+			t.Errorf("EvalExpr(%q) = %v %q %v; want %v %q", tc.in, v, u, err, tc.want, tc.unit)
+		}
+	}
+	for _, bad := range []string{"", "1 +", "(1", "x", "foo(1)", "1 2", "(1, 2)"} {
+		if _, _, err := EvalExpr(bad); err == nil {
+			t.Errorf("EvalExpr(%q) accepted", bad)
+		}
+	}
+}
+
+// BenchmarkVary measures one Monte Carlo re-evaluation of a circuit with
+// toleranced parameters, derived lets and block instances.
+func BenchmarkVary(b *testing.B) {
+	c, err := Load("blocks.nodal", []byte(blockSrc), nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	f := ones(len(c.Variations))
+	f[0] = 1.01
+	b.ReportAllocs()
+	for b.Loop() {
+		if _, err := c.Vary(f); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

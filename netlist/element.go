@@ -1,0 +1,416 @@
+package netlist
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/alecthomas/participle/v2/lexer"
+)
+
+// kindSpec describes how an element kind is written.
+type kindSpec struct {
+	terminals string   // the terminal names, for messages
+	unit      string   // unit of the main value ("" for a ratio)
+	value     int      // valueRequired, valueDefaultOne or valueNone
+	options   []string // options besides tol= and dist=
+}
+
+const (
+	valueRequired = iota
+	valueDefaultOne
+	valueNone
+)
+
+var kindSpecs = map[Kind]kindSpec{
+	Resistor:  {"(a, b)", UnitOhm, valueRequired, nil},
+	Capacitor: {"(a, b)", UnitFarad, valueRequired, nil},
+	Inductor:  {"(a, b)", UnitHenry, valueRequired, nil},
+	VSource:   {"(p, n)", UnitVolt, valueDefaultOne, []string{"phase"}},
+	ISource:   {"(a, b)", UnitAmpere, valueDefaultOne, []string{"phase"}},
+	VCVS:      {"(p, n)", "", valueRequired, []string{"sense"}},
+	VCCS:      {"(a, b)", UnitSiemens, valueRequired, []string{"sense"}},
+	CCVS:      {"(p, n)", UnitOhm, valueRequired, []string{"sense"}},
+	CCCS:      {"(a, b)", "", valueRequired, []string{"sense"}},
+	OpAmp:     {"(noninverting, inverting, output)", "", valueNone, []string{"a0", "gbw", "rout"}},
+	Coupling:  {"(L1, L2)", "", valueRequired, nil},
+}
+
+// Unit returns the unit symbol of the kind's main value (Part.Value): "Ω"
+// for resistors and transresistances, "F", "H", "V", "A", "S", or "" for a
+// ratio (vcvs, cccs, coupling) and for an opamp, which has no main value.
+func (k Kind) Unit() string {
+	return kindSpecs[k].unit
+}
+
+func (k Kind) terminalCount() int {
+	return strings.Count(kindSpecs[k].terminals, ",") + 1
+}
+
+// partStep recomputes one part in Vary. Nil functions are options not
+// given.
+type partStep struct {
+	idx   int
+	value evalFn
+	vi    int // index into Variations of the part's own tolerance, or -1
+	phase evalFn
+	a0    evalFn
+	gbw   evalFn
+	rout  evalFn
+}
+
+// apply evaluates the part's values from slots and its own factor, and
+// returns a description of any invalid value.
+func (s *partStep) apply(p *Part, slots []float64, factor float64) string {
+	if s.value != nil {
+		p.Value = s.value(slots) * factor
+	}
+	if s.phase != nil {
+		p.PhaseRad = s.phase(slots) * math.Pi / 180
+	}
+	if s.a0 != nil {
+		p.A0 = s.a0(slots)
+	}
+	if s.gbw != nil {
+		p.GBWHz = s.gbw(slots)
+	}
+	if s.rout != nil {
+		p.Rout = s.rout(slots)
+	}
+	return s.check(p)
+}
+
+// check validates the values of a part.
+func (s *partStep) check(p *Part) string {
+	finite := func(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+	if !finite(p.Value) {
+		return fmt.Sprintf("value is not finite (%v)", p.Value)
+	}
+	switch p.Kind {
+	case Resistor, Capacitor, Inductor:
+		if p.Value <= 0 {
+			return fmt.Sprintf("value must be > 0, got %s", FormatEng(p.Value, kindSpecs[p.Kind].unit))
+		}
+	case Coupling:
+		if p.Value == 0 || math.Abs(p.Value) > 1 {
+			return fmt.Sprintf("coupling factor must satisfy 0 < |K| ≤ 1, got %v", p.Value)
+		}
+	}
+	for _, o := range []struct {
+		name string
+		fn   evalFn
+		v    float64
+	}{{"a0", s.a0, p.A0}, {"gbw", s.gbw, p.GBWHz}, {"rout", s.rout, p.Rout}} {
+		if o.fn != nil && !(o.v > 0 && finite(o.v)) {
+			return fmt.Sprintf("%s must be finite and > 0, got %v", o.name, o.v)
+		}
+	}
+	if !finite(p.PhaseRad) {
+		return "phase is not finite"
+	}
+	return ""
+}
+
+// maxWork bounds the statements elaborated while expanding blocks.
+const maxWork = 100_000
+
+func (e *elab) overBudget(p lexer.Position) bool {
+	e.work++
+	if len(e.c.Parts) < MaxParts && e.work < maxWork {
+		return false
+	}
+	if !e.tooBig {
+		e.tooBig = true
+		e.errorf(p, "", "circuit too large: more than %d parts or %d statements after expanding blocks", MaxParts, maxWork)
+	}
+	return true
+}
+
+func (e *elab) element(sc *scope, st *ElementStmt) {
+	if e.overBudget(st.Pos) || !e.checkName(st.Pos, st.Name, "element") {
+		return
+	}
+	if prev, dup := sc.elems[st.Name]; dup {
+		e.errorf(st.Pos, "", "duplicate name %q (first defined at %s)", st.Name, e.f.Position(prev))
+		return
+	}
+	sc.elems[st.Name] = st.Pos
+	before := len(e.diags)
+	kind, ok := KindByKeyword(st.Kind.Name)
+	if !ok {
+		if b, isBlock := e.blocks[st.Kind.Name]; isBlock {
+			e.instance(sc, st, b)
+			return
+		}
+		cands := Keywords()
+		for n := range e.blocks {
+			cands = append(cands, n)
+		}
+		e.errorf(st.Kind.Pos, suggest(st.Kind.Name, cands), "unknown element kind or block %q", st.Kind.Name)
+		return
+	}
+	spec := kindSpecs[kind]
+	if n := kind.terminalCount(); len(st.Terms) != n {
+		e.errorf(st.Pos, "", "%s %s takes %d terminals %s, got %d", kind, st.Name, n, spec.terminals, len(st.Terms))
+		return
+	}
+	full := sc.prefix + st.Name
+	idx := len(e.c.Parts)
+	p := Part{Name: full, Kind: kind, Pos: e.f.Position(st.Pos)}
+	if kind == Coupling {
+		for i, t := range st.Terms {
+			e.pending = append(e.pending, pendingRef{part: idx, target: sc.prefix + t.Name, pos: t.Pos, slot: i})
+		}
+	} else {
+		for _, t := range st.Terms {
+			n := e.node(sc, t)
+			p.Nodes = append(p.Nodes, n)
+			e.touch(n, full, t.Pos)
+		}
+	}
+	it := e.items(sc, st.Items, "element")
+	p.Fixed = sc.fixed || it.fixed
+	for _, x := range it.exprs {
+		e.errorf(x.Pos, "the value comes right after the terminals; options are NAME=VALUE", "unexpected expression")
+	}
+	step := partStep{idx: idx, vi: -1}
+	dynamic := false // some value depends on parameters
+	c := e.compiler(sc)
+	compile := func(x *Expr, unit, what string) evalFn {
+		v, ok := c.expr(x)
+		if !ok {
+			return nil
+		}
+		if v.d.known && v.d.unit != "" && v.d.unit != unit {
+			switch {
+			case v.d.unit == UnitPercent:
+				e.errorf(x.Pos, "give a tolerance with ± or tol=", "%% is only allowed in a tolerance")
+			case unit == "":
+				e.errorf(x.Pos, "", "unit mismatch: %s of %s %s is a plain number, not %s", what, kind, full, v.d.unit)
+			default:
+				e.errorf(x.Pos, "", "unit mismatch: %s of %s %s is in %s, not %s", what, kind, full, unit, v.d.unit)
+			}
+			return nil
+		}
+		dynamic = dynamic || !v.konst
+		return v.fn
+	}
+	switch {
+	case it.value != nil && spec.value == valueNone:
+		e.errorf(it.value.Pos, "use a0=, gbw= and rout=", "an opamp takes no value")
+	case it.value != nil:
+		step.value = compile(it.value, spec.unit, "the value")
+		p.ValueSpan = e.span(it.value)
+	case spec.value == valueRequired:
+		e.errorf(st.Pos, "", "%s %s needs a value%s", kind, full, unitWord(spec.unit))
+	case spec.value == valueDefaultOne:
+		step.value = func([]float64) float64 { return 1 }
+	}
+	hasSense := false
+	for _, o := range it.opts {
+		switch {
+		case o.Key == "sense" && (kind == VCVS || kind == VCCS):
+			hasSense = true
+			refs := pairNodes(o.Value)
+			if refs == nil {
+				e.errorf(o.Value.Pos, "", "%s takes sense=(c, d): the controlling node pair", kind)
+				continue
+			}
+			for i, r := range refs {
+				n := e.node(sc, r)
+				p.Sense[i] = n
+				e.touch(n, full, r.Pos)
+			}
+		case o.Key == "sense" && (kind == CCVS || kind == CCCS):
+			hasSense = true
+			target := bareName(o.Value)
+			if target == "" {
+				e.errorf(o.Value.Pos, "", "%s takes sense=ELEM: the element whose current controls", kind)
+				continue
+			}
+			e.pending = append(e.pending, pendingRef{part: idx, target: sc.prefix + target, pos: o.Value.Pos, slot: -1})
+		case o.Key == "phase" && (kind == VSource || kind == ISource):
+			step.phase = compile(o.Value, UnitDegree, "phase")
+		case kind == OpAmp && o.Key == "a0":
+			step.a0 = compile(o.Value, "", "a0")
+		case kind == OpAmp && o.Key == "gbw":
+			step.gbw = compile(o.Value, UnitHertz, "gbw")
+		case kind == OpAmp && o.Key == "rout":
+			step.rout = compile(o.Value, UnitOhm, "rout")
+		default:
+			allowed := append([]string{"tol", "dist"}, spec.options...)
+			hint := suggest(o.Key, allowed)
+			if hint == "" {
+				hint = kind.String() + " takes " + strings.Join(allowed, "=, ") + "= and the flag fixed"
+			}
+			e.errorf(o.Pos, hint, "unknown option %q for %s", o.Key, kind)
+		}
+	}
+	if !hasSense && contains(spec.options, "sense") {
+		form := "sense=(c, d)"
+		if kind == CCVS || kind == CCCS {
+			form = "sense=ELEM"
+		}
+		e.errorf(st.Pos, "", "%s %s needs %s", kind, full, form)
+	}
+	if it.hasTol && spec.value == valueNone {
+		e.errorf(st.Pos, "put the tolerance on a let used by a0= or gbw=", "an opamp takes no tolerance")
+		it.tol = Tolerance{}
+	}
+	p.Tol = it.tol
+	if msg := step.apply(&p, e.nom, 1); msg != "" && len(e.diags) == before {
+		at := st.Pos
+		if it.value != nil {
+			at = it.value.Pos
+		}
+		e.errorf(at, "", "%s %s: %s", kind, full, msg)
+	}
+	e.partIndex[full] = idx
+	if p.Tol.Rel > 0 {
+		step.vi = len(e.c.Variations)
+		e.c.Variations = append(e.c.Variations, Variation{Name: full, Nominal: p.Value, Tol: p.Tol, Pos: p.Pos})
+	}
+	e.c.Parts = append(e.c.Parts, p)
+	if dynamic || step.vi >= 0 {
+		e.m.parts = append(e.m.parts, step)
+	}
+}
+
+func unitWord(u string) string {
+	if u == "" {
+		return ""
+	}
+	return " in " + u
+}
+
+func contains(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+// pairNodes returns the two node names of `(c, d)`, or nil.
+func pairNodes(x *Expr) []*NodeRef {
+	if len(x.Rest) > 0 || len(x.Left.Rest) > 0 || x.Left.Left.Neg != nil || x.Left.Left.Power.Exp != nil {
+		return nil
+	}
+	g := x.Left.Left.Power.Base.Group
+	if len(g) != 2 {
+		return nil
+	}
+	var out []*NodeRef
+	for _, el := range g {
+		name := bareName(el)
+		if name == "" {
+			b := el.Left.Left.Power.Base
+			if len(el.Rest) > 0 || len(el.Left.Rest) > 0 || el.Left.Left.Power.Exp != nil || !isPlainInt(b.Number) {
+				return nil
+			}
+			name = b.Number
+		}
+		out = append(out, &NodeRef{Pos: el.Pos, Name: name})
+	}
+	return out
+}
+
+// instance expands a block instance into sc.
+func (e *elab) instance(sc *scope, st *ElementStmt, b *BlockStmt) {
+	if len(st.Terms) != len(b.Ports) {
+		e.errorf(st.Pos, "", "block %s has %d ports, got %d terminals", b.Name, len(b.Ports), len(st.Terms))
+		return
+	}
+	for i, s := range sc.stack {
+		if s == b.Name {
+			if !e.cycles[st.Pos.Offset] {
+				e.cycles[st.Pos.Offset] = true
+				chain := append(append([]string(nil), sc.stack[i:]...), b.Name)
+				e.errorf(st.Pos, "", "block cycle: %s", strings.Join(chain, " → "))
+			}
+			return
+		}
+	}
+	if len(sc.stack) >= MaxBlockDepth {
+		e.errorf(st.Pos, "", "blocks nested more than %d deep", MaxBlockDepth)
+		return
+	}
+	it := e.items(sc, st.Items, "instance")
+	if it.value != nil {
+		e.errorf(it.value.Pos, "give parameters as NAME=VALUE", "a block instance takes no value")
+	}
+	for _, x := range it.exprs {
+		e.errorf(x.Pos, "give parameters as NAME=VALUE", "unexpected expression")
+	}
+	if it.hasTol {
+		e.errorf(st.Pos, "put tolerances on the parts inside the block or on a let", "a block instance takes no tolerance")
+	}
+	global := sc
+	if sc.parent != nil {
+		global = sc.parent
+	}
+	inner := &scope{
+		prefix: sc.prefix + st.Name + ".",
+		vars:   map[string]varInfo{},
+		parent: global,
+		ports:  map[string]string{},
+		stack:  append(append([]string(nil), sc.stack...), b.Name),
+		elems:  map[string]lexer.Position{},
+		fixed:  sc.fixed || it.fixed,
+		block:  b,
+	}
+	for i, port := range b.Ports {
+		inner.ports[port.Name] = e.node(sc, st.Terms[i])
+	}
+	given := map[string]*Option{}
+	var params []string
+	for _, d := range b.Defaults {
+		params = append(params, d.Key)
+	}
+	for _, o := range it.opts {
+		if !contains(params, o.Key) {
+			hint := suggest(o.Key, params)
+			if hint == "" {
+				hint = fmt.Sprintf("block %s has parameters: %s", b.Name, strings.Join(params, ", "))
+				if len(params) == 0 {
+					hint = fmt.Sprintf("block %s has no parameters", b.Name)
+				}
+			}
+			e.errorf(o.Pos, hint, "block %s has no parameter %q", b.Name, o.Key)
+			continue
+		}
+		given[o.Key] = o
+	}
+	for _, d := range b.Defaults {
+		var val compiled
+		var ok bool
+		x := d.Value
+		if o, has := given[d.Key]; has {
+			x = o.Value
+			val, ok = e.compiler(sc).expr(x)
+		} else {
+			val, ok = e.compiler(inner).expr(x)
+		}
+		if !ok {
+			continue
+		}
+		v := val.fn(e.nom)
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			e.errorf(x.Pos, "", "parameter %s of %s%s is not finite (%v)", d.Key, sc.prefix, st.Name, v)
+			continue
+		}
+		slot := e.defineVar(inner, d.Key, val.d, v)
+		e.m.lets = append(e.m.lets, letStep{slot: slot, fn: val.fn, vi: -1, param: -1, konst: val.konst, name: inner.prefix + d.Key})
+	}
+	for _, bs := range b.Body {
+		switch {
+		case bs.Let != nil:
+			if !e.overBudget(bs.Pos) {
+				e.let(inner, bs.Let)
+			}
+		case bs.Element != nil:
+			e.element(inner, bs.Element)
+		}
+	}
+}

@@ -1,0 +1,218 @@
+package netlist
+
+import (
+	"github.com/alecthomas/participle/v2"
+	"github.com/alecthomas/participle/v2/lexer"
+)
+
+// The syntax tree of a circuit file. Every node carries the lexer position
+// of its first token (Pos) and the tokens it was parsed from (Tokens), so
+// diagnostics and spans can point back into the source; File.Position turns
+// a lexer position into a Pos with a rune column.
+
+// lexDef tokenises circuit files. Newlines separate statements; Space and
+// Comment are elided; Bad catches any other character so that lexing never
+// fails and the parser reports it with its position.
+var lexDef = lexer.MustSimple([]lexer.SimpleRule{
+	{Name: "Comment", Pattern: `#[^\n]*`},
+	{Name: "Newline", Pattern: `\n`},
+	{Name: "Space", Pattern: `[ \t\r\f\v]+`},
+	{Name: "String", Pattern: `"(\\.|[^"\\\n])*"`},
+	{Name: "PlusMinus", Pattern: `±|\+-`},
+	{Name: "Range", Pattern: `\.\.`},
+	{Name: "Value", Pattern: `(\d+(\.\d+)?|\.\d+)([eE][+-]?\d+)?([\pL%]+\d*\pL*)?`},
+	{Name: "Ident", Pattern: `[A-Za-z_][A-Za-z0-9_]*(\.[A-Za-z_0-9]+)*`},
+	{Name: "Punct", Pattern: `[-+*/^(),:=@]`},
+	{Name: "Bad", Pattern: `.`},
+})
+
+// stmtParser parses one statement (one line of the file).
+var stmtParser = participle.MustBuild[Stmt](
+	participle.Lexer(lexDef),
+	participle.Elide("Space", "Comment"),
+	participle.UseLookahead(4),
+)
+
+// exprParser parses a lone expression (for FuzzExpr and ParseExpr).
+var exprParser = participle.MustBuild[Expr](
+	participle.Lexer(lexDef),
+	participle.Elide("Space", "Comment"),
+	participle.UseLookahead(4),
+)
+
+// File is a parsed circuit file.
+type File struct {
+	Name   string  // file name as given to Parse
+	Source []byte  // the source text
+	Stmts  []*Stmt // top-level statements in order; a block statement holds its body
+
+	lineStarts []int // byte offset of each line start, for positions
+}
+
+// Stmt is one statement: exactly one of its pointer fields is set.
+type Stmt struct {
+	Pos     lexer.Position
+	Title   *TitleStmt   `parser:"  @@"`
+	Let     *LetStmt     `parser:"| @@"`
+	Block   *BlockStmt   `parser:"| @@"`
+	End     *EndStmt     `parser:"| @@"`
+	Require *RequireStmt `parser:"| @@"`
+	Element *ElementStmt `parser:"| @@"`
+}
+
+// TitleStmt is `title "text"`; Text is the quoted string as written.
+type TitleStmt struct {
+	Pos  lexer.Position
+	Text string `parser:"\"title\" @String"`
+}
+
+// LetStmt is `let NAME = EXPR [tolerance]`; Items may hold a tolerance
+// (`±5%`, `tol=5%`, `dist=normal`).
+type LetStmt struct {
+	Pos   lexer.Position
+	Name  string  `parser:"\"let\" @Ident \"=\""`
+	Value *Expr   `parser:"@@"`
+	Items []*Item `parser:"@@*"`
+}
+
+// BlockStmt is the header `block NAME (PORTS) [NAME=DEFAULT ...]`. Body
+// holds the statements up to the matching `end` (filled by Parse).
+type BlockStmt struct {
+	Pos      lexer.Position
+	Name     string     `parser:"\"block\" @Ident"`
+	Ports    []*NodeRef `parser:"\"(\" (@@ (\",\" @@)*)? \")\""`
+	Defaults []*Option  `parser:"@@*"`
+
+	Body   []*Stmt
+	EndPos lexer.Position // position of the closing `parser:"end"`
+}
+
+// EndStmt closes a block.
+type EndStmt struct {
+	Pos lexer.Position
+	Kw  string `parser:"@\"end\""`
+}
+
+// RequireStmt is `require METRIC[@FREQ] within LO..HI | below HI | above LO`.
+type RequireStmt struct {
+	Pos    lexer.Position
+	Tokens []lexer.Token
+	Metric *NameRef `parser:"\"require\" @@"`
+	At     *Limit   `parser:"(\"@\" @@)?"`
+	Op     string   `parser:"@(\"within\" | \"below\" | \"above\")"`
+	Lo     *Limit   `parser:"@@"`
+	Hi     *Limit   `parser:"(Range @@)?"`
+}
+
+// Limit is a signed literal value in a requirement ("-0.5dB", "2.1kHz").
+type Limit struct {
+	Pos   lexer.Position
+	Sign  string `parser:"@(\"-\" | \"+\")?"`
+	Value string `parser:"@Value"`
+}
+
+// ElementStmt is `NAME: KIND (TERMINALS) [VALUE] [OPTIONS] [TOLERANCE]`;
+// KIND is an element keyword or a block name. Items holds, in order, the
+// value expression, options, flags (a bare `fixed`) and the tolerance.
+type ElementStmt struct {
+	Pos   lexer.Position
+	Name  string     `parser:"@Ident \":\""`
+	Kind  *NameRef   `parser:"@@"`
+	Terms []*NodeRef `parser:"\"(\" (@@ (\",\" @@)*)? \")\""`
+	Items []*Item    `parser:"@@*"`
+}
+
+// NameRef is a name with its position.
+type NameRef struct {
+	Pos  lexer.Position
+	Name string `parser:"@Ident"`
+}
+
+// NodeRef names a node (an identifier or a non-negative integer).
+type NodeRef struct {
+	Pos  lexer.Position
+	Name string `parser:"@(Ident | Value)"`
+}
+
+// Item is one trailing item of an element or let: an option, a tolerance
+// or a bare expression (the value, or a flag such as `fixed`).
+type Item struct {
+	Pos    lexer.Position
+	Option *Option  `parser:"  @@"`
+	Tol    *TolSpec `parser:"| @@"`
+	Expr   *Expr    `parser:"| @@"`
+}
+
+// Option is `KEY=EXPR`; for sense= the expression may be a pair `(c, d)`.
+type Option struct {
+	Pos   lexer.Position
+	Key   string `parser:"@Ident \"=\""`
+	Value *Expr  `parser:"@@"`
+}
+
+// TolSpec is `±EXPR` or `+-EXPR`.
+type TolSpec struct {
+	Pos   lexer.Position
+	Value *Expr `parser:"PlusMinus @@"`
+}
+
+// Expr is a sum: Left followed by `+`/`-` terms.
+type Expr struct {
+	Pos    lexer.Position
+	Tokens []lexer.Token
+	Left   *Term     `parser:"@@"`
+	Rest   []*OpTerm `parser:"@@*"`
+}
+
+// OpTerm is one `+ TERM` or `- TERM` of a sum.
+type OpTerm struct {
+	Pos  lexer.Position
+	Op   string `parser:"@(\"+\" | \"-\")"`
+	Term *Term  `parser:"@@"`
+}
+
+// Term is a product: Left followed by `*`/`/` factors.
+type Term struct {
+	Pos  lexer.Position
+	Left *Unary     `parser:"@@"`
+	Rest []*OpUnary `parser:"@@*"`
+}
+
+// OpUnary is one `* FACTOR` or `/ FACTOR` of a product.
+type OpUnary struct {
+	Pos   lexer.Position
+	Op    string `parser:"@(\"*\" | \"/\")"`
+	Unary *Unary `parser:"@@"`
+}
+
+// Unary is a negation or a power.
+type Unary struct {
+	Pos   lexer.Position
+	Neg   *Unary `parser:"  \"-\" @@"`
+	Power *Power `parser:"| @@"`
+}
+
+// Power is Base [^ Exp]; `^` is right-associative and binds tighter than
+// unary minus (-2^2 = -4).
+type Power struct {
+	Pos  lexer.Position
+	Base *Primary `parser:"@@"`
+	Exp  *Unary   `parser:"(\"^\" @@)?"`
+}
+
+// Primary is a literal, a name or call, or a parenthesised expression
+// (a list of several is a tuple, used by sense=(c, d)).
+type Primary struct {
+	Pos    lexer.Position
+	Number string  `parser:"  @Value"`
+	Ref    *Ref    `parser:"| @@"`
+	Group  []*Expr `parser:"| \"(\" @@ (\",\" @@)* \")\""`
+}
+
+// Ref is a parameter name, or a function call when Open is set.
+type Ref struct {
+	Pos  lexer.Position
+	Name string  `parser:"@Ident"`
+	Open string  `parser:"( @\"(\""`
+	Args []*Expr `parser:"  (@@ (\",\" @@)*)? \")\" )?"`
+}

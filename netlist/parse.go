@@ -1,0 +1,342 @@
+package netlist
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"sort"
+	"strings"
+	"unicode/utf8"
+
+	"github.com/alecthomas/participle/v2"
+	"github.com/alecthomas/participle/v2/lexer"
+)
+
+// MaxSourceBytes is the largest circuit file Parse accepts (16 MiB).
+const MaxSourceBytes = 16 << 20
+
+// Parse parses a circuit file. name is used in positions. On failure the
+// error is an ErrorList of positioned diagnostics (every syntax error, one
+// per statement, up to the whole file); the returned File then holds the
+// statements that did parse. Input that is not UTF-8 text (invalid UTF-8
+// or NUL bytes) or larger than MaxSourceBytes is refused.
+func Parse(name string, src []byte) (*File, error) {
+	f := &File{Name: name, Source: src}
+	f.lineStarts = lineStarts(src)
+	if len(src) > MaxSourceBytes {
+		return f, ErrorList{{Pos: Pos{File: name}, Msg: fmt.Sprintf("file is %d bytes; circuit files are limited to %d bytes (16 MiB)", len(src), MaxSourceBytes)}}
+	}
+	if i := bytes.IndexByte(src, 0); i >= 0 {
+		return f, ErrorList{f.diagAt(i, SevError, "file is not text (it contains a NUL byte)", "")}
+	}
+	if !utf8.Valid(src) {
+		i := 0
+		for i < len(src) {
+			r, size := utf8.DecodeRune(src[i:])
+			if r == utf8.RuneError && size <= 1 {
+				break
+			}
+			i += size
+		}
+		return f, ErrorList{f.diagAt(i, SevError, "file is not UTF-8 text (invalid byte sequence)", "")}
+	}
+	toks, err := lexDef.LexString(name, string(src))
+	if err != nil {
+		return f, ErrorList{{Pos: Pos{File: name}, Msg: err.Error()}}
+	}
+	all, err := lexer.ConsumeAll(toks)
+	if err != nil {
+		return f, ErrorList{{Pos: Pos{File: name}, Msg: err.Error()}}
+	}
+	var diags ErrorList
+	var flat []*Stmt
+	for _, line := range splitLines(all) {
+		st, d := f.parseLine(line)
+		if d != nil {
+			diags = append(diags, d)
+			continue
+		}
+		flat = append(flat, st)
+	}
+	f.Stmts, diags = f.nest(flat, diags)
+	diags.Sort()
+	return f, diags.Err()
+}
+
+var (
+	symNewline = lexDef.Symbols()["Newline"]
+	symSpace   = lexDef.Symbols()["Space"]
+	symComment = lexDef.Symbols()["Comment"]
+	symIdent   = lexDef.Symbols()["Ident"]
+	symValue   = lexDef.Symbols()["Value"]
+	symBad     = lexDef.Symbols()["Bad"]
+)
+
+// splitLines cuts the token stream at newlines, dropping lines with no
+// significant token. Each line ends with an EOF token at its end.
+func splitLines(all []lexer.Token) [][]lexer.Token {
+	var out [][]lexer.Token
+	var cur []lexer.Token
+	significant := false
+	flush := func(end lexer.Token) {
+		if significant {
+			out = append(out, append(cur, lexer.EOFToken(end.Pos)))
+		}
+		cur, significant = nil, false
+	}
+	for _, t := range all {
+		switch {
+		case t.Type == symNewline || t.EOF():
+			flush(t)
+		default:
+			cur = append(cur, t)
+			if t.Type != symSpace && t.Type != symComment {
+				significant = true
+			}
+		}
+	}
+	return out
+}
+
+// sliceLexer replays tokens already lexed.
+type sliceLexer struct {
+	toks []lexer.Token
+	i    int
+}
+
+func (s *sliceLexer) Next() (lexer.Token, error) {
+	if s.i >= len(s.toks) {
+		return s.toks[len(s.toks)-1], nil
+	}
+	t := s.toks[s.i]
+	s.i++
+	return t, nil
+}
+
+// parseLine parses the statement on one line.
+func (f *File) parseLine(line []lexer.Token) (*Stmt, *Diagnostic) {
+	pl, err := lexer.Upgrade(&sliceLexer{toks: line}, symSpace, symComment)
+	if err == nil {
+		var st *Stmt
+		st, err = stmtParser.ParseFromLexer(pl)
+		if err == nil {
+			return st, nil
+		}
+	}
+	return nil, f.syntaxDiag(line, err)
+}
+
+// syntaxDiag turns a participle error into a positioned Diagnostic with a
+// hint.
+func (f *File) syntaxDiag(line []lexer.Token, err error) *Diagnostic {
+	var perr participle.Error
+	if !errors.As(err, &perr) {
+		return f.diagAt(line[0].Pos.Offset, SevError, "syntax error: "+err.Error(), "")
+	}
+	pos := perr.Position()
+	msg := perr.Message()
+	hint := ""
+	var ute *participle.UnexpectedTokenError
+	if errors.As(err, &ute) {
+		tok := ute.Unexpected
+		pos = tok.Pos
+		switch {
+		case tok.EOF():
+			msg = "unexpected end of statement"
+		case tok.Type == symBad:
+			msg = fmt.Sprintf("unexpected character %q", tok.Value)
+		default:
+			msg = fmt.Sprintf("unexpected %q", tok.Value)
+		}
+		if ute.Expect != "" {
+			hint = "expected " + ute.Expect
+		}
+		hint = lineHint(line, tok, hint)
+	}
+	return f.diagAt(pos.Offset, SevError, "syntax error: "+msg, hint)
+}
+
+// lineHint improves the hint of a syntax error from the tokens before it.
+func lineHint(line []lexer.Token, bad lexer.Token, hint string) string {
+	var prev []lexer.Token
+	for _, t := range line {
+		if t.Pos.Offset >= bad.Pos.Offset || t.EOF() {
+			break
+		}
+		if t.Type != symSpace && t.Type != symComment {
+			prev = append(prev, t)
+		}
+	}
+	if len(prev) == 0 {
+		return `a statement starts with "NAME:" or with title, let, block, end or require`
+	}
+	if len(prev) == 1 && prev[0].Type == symIdent && bad.Value != ":" {
+		switch prev[0].Value {
+		case "title", "let", "block", "end", "require":
+		default:
+			return `expected ":" after the element name`
+		}
+	}
+	if len(prev) == 3 && prev[1].Value == ":" && bad.Value != "(" {
+		return "expected the terminals in parentheses, as in (a, b)"
+	}
+	depth := 0
+	for _, t := range prev {
+		switch t.Value {
+		case "(":
+			depth++
+		case ")":
+			depth--
+		}
+	}
+	last := prev[len(prev)-1]
+	if depth > 0 && (last.Type == symIdent || last.Type == symValue || last.Value == ")") {
+		return `expected "," or ")"`
+	}
+	if bad.Type == symValue && last.Type == symValue {
+		return "write an operator between two values"
+	}
+	return hint
+}
+
+// nest groups block bodies under their headers and reports misplaced
+// statements.
+func (f *File) nest(flat []*Stmt, diags ErrorList) ([]*Stmt, ErrorList) {
+	var top []*Stmt
+	var open *Stmt
+	for _, st := range flat {
+		switch {
+		case st.Block != nil:
+			if open != nil {
+				diags = append(diags, f.diag(st.Pos, SevError, fmt.Sprintf("block %q starts inside block %q", st.Block.Name, open.Block.Name), "blocks cannot be nested; close the outer block with end first"))
+				continue
+			}
+			open = st
+			top = append(top, st)
+		case st.End != nil:
+			if open == nil {
+				diags = append(diags, f.diag(st.Pos, SevError, "end without a block", ""))
+				continue
+			}
+			open.Block.EndPos = st.Pos
+			open = nil
+		case open != nil:
+			if st.Title != nil || st.Require != nil {
+				diags = append(diags, f.diag(st.Pos, SevError, "title and require belong at the top level, not inside a block", ""))
+				continue
+			}
+			open.Block.Body = append(open.Block.Body, st)
+		default:
+			top = append(top, st)
+		}
+	}
+	if open != nil {
+		diags = append(diags, f.diag(open.Pos, SevError, fmt.Sprintf("block %q has no end", open.Block.Name), `close it with a line "end"`))
+	}
+	return top, diags
+}
+
+// Position converts a lexer position into a Pos with a rune column.
+func (f *File) Position(p lexer.Position) Pos {
+	return f.posAt(p.Offset)
+}
+
+// posAt returns the Pos of a byte offset.
+func (f *File) posAt(off int) Pos {
+	if off > len(f.Source) {
+		off = len(f.Source)
+	}
+	if off < 0 {
+		off = 0
+	}
+	starts := f.lineStarts
+	if starts == nil {
+		starts = lineStarts(f.Source)
+	}
+	line := sort.SearchInts(starts, off+1) // starts[line-1] <= off
+	start := starts[line-1]
+	col := utf8.RuneCount(f.Source[start:off]) + 1
+	return Pos{File: f.Name, Line: line, Col: col, Offset: off}
+}
+
+// lineStarts returns the byte offset of the start of every line.
+func lineStarts(src []byte) []int {
+	starts := []int{0}
+	for i, c := range src {
+		if c == '\n' {
+			starts = append(starts, i+1)
+		}
+	}
+	return starts
+}
+
+// lineText returns the source line containing the byte offset, without
+// its newline.
+func (f *File) lineText(off int) string {
+	if off > len(f.Source) {
+		off = len(f.Source)
+	}
+	start := bytes.LastIndexByte(f.Source[:off], '\n') + 1
+	end := bytes.IndexByte(f.Source[start:], '\n')
+	if end < 0 {
+		end = len(f.Source) - start
+	}
+	s := string(f.Source[start : start+end])
+	return strings.TrimRight(s, "\r")
+}
+
+// diagAt makes a diagnostic at a byte offset, with its source line.
+func (f *File) diagAt(off int, sev Severity, msg, hint string) *Diagnostic {
+	line := ""
+	if utf8.Valid(f.Source) && bytes.IndexByte(f.Source, 0) < 0 {
+		line = f.lineText(off)
+	}
+	return &Diagnostic{Pos: f.posAt(off), Severity: sev, Msg: msg, Hint: hint, Line: line}
+}
+
+// diag makes a diagnostic at a lexer position.
+func (f *File) diag(p lexer.Position, sev Severity, msg, hint string) *Diagnostic {
+	return f.diagAt(p.Offset, sev, msg, hint)
+}
+
+// suggest returns `did you mean "x"?` for the candidate closest to word
+// (edit distance at most 2, and less than the word's length), or "".
+func suggest(word string, candidates []string) string {
+	best, bestD := "", 3
+	sorted := append([]string(nil), candidates...)
+	sort.Strings(sorted)
+	for _, c := range sorted {
+		if d := editDistance(word, c); d < bestD && d < utf8.RuneCountInString(word) {
+			best, bestD = c, d
+		}
+	}
+	if best == "" {
+		return ""
+	}
+	return fmt.Sprintf("did you mean %q?", best)
+}
+
+// editDistance is the Levenshtein distance between a and b (in runes).
+func editDistance(a, b string) int {
+	ra, rb := []rune(a), []rune(b)
+	if len(ra) > 64 || len(rb) > 64 {
+		return 99
+	}
+	prev := make([]int, len(rb)+1)
+	cur := make([]int, len(rb)+1)
+	for j := range prev {
+		prev[j] = j
+	}
+	for i := 1; i <= len(ra); i++ {
+		cur[0] = i
+		for j := 1; j <= len(rb); j++ {
+			cost := 1
+			if ra[i-1] == rb[j-1] {
+				cost = 0
+			}
+			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
+		}
+		prev, cur = cur, prev
+	}
+	return prev[len(rb)]
+}

@@ -1,0 +1,287 @@
+package netlist
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+)
+
+// Unit symbols of the circuit language. Every literal's unit is normalised
+// to one of these ("ohm" becomes "Ω").
+const (
+	UnitOhm     = "Ω"
+	UnitFarad   = "F"
+	UnitHenry   = "H"
+	UnitHertz   = "Hz"
+	UnitDegree  = "deg"
+	UnitVolt    = "V"
+	UnitAmpere  = "A"
+	UnitSiemens = "S"
+	UnitSecond  = "s"
+	UnitDecibel = "dB"
+	UnitPercent = "%"
+)
+
+// unitSymbols maps every accepted spelling to its normalised symbol.
+var unitSymbols = map[string]string{
+	"Ω": UnitOhm, "\u2126": UnitOhm /* OHM SIGN */, "ohm": UnitOhm,
+	"F": UnitFarad, "H": UnitHenry, "Hz": UnitHertz, "deg": UnitDegree,
+	"V": UnitVolt, "A": UnitAmpere, "S": UnitSiemens, "s": UnitSecond,
+	"dB": UnitDecibel, "%": UnitPercent,
+}
+
+// noPrefixUnits are units that never take an SI prefix in nodal (neither on
+// input nor in FormatEng).
+var noPrefixUnits = map[string]bool{UnitDegree: true, UnitDecibel: true, UnitPercent: true}
+
+// siPrefixes are the SI prefixes nodal accepts, case-sensitive (SI
+// Brochure, BIPM, 9th edition 2019, table 7). Both U+00B5 MICRO SIGN and
+// U+03BC GREEK SMALL LETTER MU are accepted for micro; "u" is the ASCII
+// stand-in (common practice).
+var siPrefixes = map[rune]float64{
+	'f': 1e-15, 'p': 1e-12, 'n': 1e-9, 'u': 1e-6, 'µ': 1e-6, 'μ': 1e-6,
+	'm': 1e-3, 'k': 1e3, 'M': 1e6, 'G': 1e9, 'T': 1e12,
+}
+
+// codeLetters are the multiplier letters of IEC 60062 value codes, written
+// in place of the decimal point ("4k7", "2R2", "4n7"). R and F stand for
+// the unit itself (×1, ohms and farads); K is accepted beside k because
+// the standard writes resistance codes in capitals ("4K7"). From memory of
+// IEC 60062:2016, clause 5.
+var codeLetters = map[rune]float64{
+	'R': 1, 'F': 1, 'k': 1e3, 'K': 1e3, 'M': 1e6, 'G': 1e9, 'T': 1e12,
+	'p': 1e-12, 'n': 1e-9, 'u': 1e-6, 'µ': 1e-6, 'μ': 1e-6, 'm': 1e-3,
+}
+
+// literal is a decoded value literal: Value in SI (a percentage already
+// divided by 100, degrees and decibels as written) with its unit symbol.
+type literal struct {
+	Value float64
+	Unit  string
+}
+
+// decodeLiteral decodes the text of a Value token: a decimal number with
+// an optional exponent, SI prefix and unit ("22nF", "4.7kohm", "1e-9",
+// "5%"), or an IEC 60062 code with an optional unit ("4k7", "2R2Ω").
+func decodeLiteral(text string) (literal, error) {
+	i := 0
+	for i < len(text) && (isDigit(text[i]) || text[i] == '.') {
+		i++
+	}
+	if i < len(text) && (text[i] == 'e' || text[i] == 'E') {
+		j := i + 1
+		if j < len(text) && (text[j] == '+' || text[j] == '-') {
+			j++
+		}
+		if j < len(text) && isDigit(text[j]) {
+			for j < len(text) && isDigit(text[j]) {
+				j++
+			}
+			i = j
+		}
+	}
+	num, rest := text[:i], text[i:]
+	if num == "" || num == "." {
+		return literal{}, fmt.Errorf("%q is not a number", text)
+	}
+	if rest != "" && isPlainInt(num) {
+		r, size := utf8.DecodeRuneInString(rest)
+		if mult, ok := codeLetters[r]; ok {
+			k := size
+			for k < len(rest) && isDigit(rest[k]) {
+				k++
+			}
+			if k > size {
+				return decodeCode(text, num+"."+rest[size:k], mult, r, rest[k:])
+			}
+		}
+	}
+	v, err := strconv.ParseFloat(num, 64)
+	if err != nil || math.IsInf(v, 0) {
+		return literal{}, fmt.Errorf("%q is not a finite number", text)
+	}
+	if rest == "" {
+		return literal{Value: v}, nil
+	}
+	if u, ok := unitSymbols[rest]; ok {
+		if u == UnitPercent {
+			v /= 100
+		}
+		return literal{Value: v, Unit: u}, nil
+	}
+	if rest == "R" || rest == "RΩ" {
+		return literal{Value: v, Unit: UnitOhm}, nil // IEC 60062 trailing R: "100R"
+	}
+	r, size := utf8.DecodeRuneInString(rest)
+	if mult, ok := siPrefixes[r]; ok {
+		after := rest[size:]
+		if after == "" {
+			return literal{Value: v * mult}, nil
+		}
+		if u, ok := unitSymbols[after]; ok {
+			if noPrefixUnits[u] {
+				return literal{}, fmt.Errorf("%q: the unit %s takes no prefix", text, u)
+			}
+			return literal{Value: v * mult, Unit: u}, nil
+		}
+	}
+	if r == 'K' && (len(rest) == 1 || unitSymbols[rest[1:]] != "") {
+		return literal{}, fmt.Errorf("%q: unknown prefix \"K\" (kilo is a lower-case k)", text)
+	}
+	return literal{}, fmt.Errorf("%q: unknown unit or prefix %q", text, rest)
+}
+
+// decodeCode finishes an IEC 60062 code: mantissa is the code with its
+// letter replaced by a decimal point.
+func decodeCode(text, mantissa string, mult float64, letter rune, unitText string) (literal, error) {
+	v, err := strconv.ParseFloat(mantissa, 64)
+	if err != nil {
+		return literal{}, fmt.Errorf("%q is not a value code", text)
+	}
+	implied := ""
+	switch letter {
+	case 'R':
+		implied = UnitOhm
+	case 'F':
+		implied = UnitFarad
+	}
+	u := implied
+	if unitText != "" {
+		var ok bool
+		u, ok = unitSymbols[unitText]
+		if !ok || noPrefixUnits[u] {
+			return literal{}, fmt.Errorf("%q: unknown unit %q after a value code", text, unitText)
+		}
+		if implied != "" && u != implied {
+			return literal{}, fmt.Errorf("%q: the code letter %c means %s but the unit is %s", text, letter, implied, u)
+		}
+	}
+	return literal{Value: v * mult, Unit: u}, nil
+}
+
+// leadingCode decodes the IEC 60062 form with the letter R first ("R47" is
+// 0.47 Ω). The lexer reads such a word as a name, so the elaborator tries
+// it only for names that are not parameters.
+func leadingCode(name string) (literal, bool) {
+	if len(name) < 2 || name[0] != 'R' {
+		return literal{}, false
+	}
+	for i := 1; i < len(name); i++ {
+		if !isDigit(name[i]) {
+			return literal{}, false
+		}
+	}
+	v, err := strconv.ParseFloat("0."+name[1:], 64)
+	if err != nil {
+		return literal{}, false
+	}
+	return literal{Value: v, Unit: UnitOhm}, true
+}
+
+func isDigit(c byte) bool { return c >= '0' && c <= '9' }
+
+func isPlainInt(s string) bool {
+	for i := 0; i < len(s); i++ {
+		if !isDigit(s[i]) {
+			return false
+		}
+	}
+	return s != ""
+}
+
+// ParseValue parses a value as typed on the command line: a number with an
+// optional sign, SI prefix and unit ("10Hz", "1MHz", "2k", "-3dB"), or an
+// IEC 60062 code ("4k7", "2R2", "R47"). Spaces are ignored. The result is
+// in SI units; a percentage is returned as a fraction (5% → 0.05).
+//
+// unit is the unit the caller expects ("Hz", "Ω", "ohm", ...); when the
+// text carries a unit it must be that one. unit "" accepts any unit or none.
+func ParseValue(text string, unit string) (float64, error) {
+	t := strings.Join(strings.Fields(text), "")
+	sign := 1.0
+	if strings.HasPrefix(t, "-") {
+		sign, t = -1, t[1:]
+	} else if strings.HasPrefix(t, "+") {
+		t = t[1:]
+	}
+	var lit literal
+	if l, ok := leadingCode(t); ok {
+		lit = l
+	} else {
+		var err error
+		if lit, err = decodeLiteral(t); err != nil {
+			return 0, fmt.Errorf("bad value: %w", err)
+		}
+	}
+	if unit != "" && lit.Unit != "" {
+		want, ok := unitSymbols[unit]
+		if !ok {
+			want = unit
+		}
+		if lit.Unit != want {
+			return 0, fmt.Errorf("bad value %q: unit %s where %s is expected", text, lit.Unit, want)
+		}
+	}
+	return sign * lit.Value, nil
+}
+
+// engPrefixes lists the prefixes FormatEng uses, by exponent/3 + 5.
+var engPrefixes = []string{"f", "p", "n", "µ", "m", "", "k", "M", "G", "T"}
+
+// FormatEng formats v in engineering notation with four significant digits
+// (trailing zeros dropped) and an SI prefix: FormatEng(4700, "Ω") is
+// "4.7 kΩ", FormatEng(1e-8, "F") is "10 nF", FormatEng(0.1, "Ω") is
+// "100 mΩ", FormatEng(2000, "") is "2k". Units that take no prefix (dB,
+// deg) are printed plainly; for "%" v is a fraction (0.05 → "5 %"). Zero
+// prints as "0 Ω"; values outside the prefix range use an exponent.
+func FormatEng(v float64, unit string) string {
+	if u, ok := unitSymbols[unit]; ok {
+		unit = u
+	}
+	sep := ""
+	if unit != "" {
+		sep = " "
+	}
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return fmt.Sprint(v) + sep + unit
+	}
+	if noPrefixUnits[unit] {
+		if unit == UnitPercent {
+			v *= 100
+		}
+		return strconv.FormatFloat(v, 'g', 4, 64) + sep + unit
+	}
+	if v == 0 {
+		return "0" + sep + unit
+	}
+	if unit == "" && math.Abs(v) < 1 {
+		return strconv.FormatFloat(v, 'g', 4, 64)
+	}
+	exp3 := int(math.Floor(math.Log10(math.Abs(v)) / 3))
+	m := v / math.Pow(1000, float64(exp3))
+	// Rounding to four digits may carry into the next prefix (999.97 → 1000).
+	if r, _ := strconv.ParseFloat(strconv.FormatFloat(m, 'g', 4, 64), 64); math.Abs(r) >= 1000 {
+		exp3++
+		m = v / math.Pow(1000, float64(exp3))
+	}
+	if exp3 < -5 || exp3 > 4 {
+		return strconv.FormatFloat(v, 'g', 4, 64) + sep + unit
+	}
+	p := engPrefixes[exp3+5]
+	if unit == "" {
+		return trimG(m) + p
+	}
+	return trimG(m) + " " + p + unit
+}
+
+// trimG formats m with four significant digits without an exponent.
+func trimG(m float64) string {
+	s := strconv.FormatFloat(m, 'g', 4, 64)
+	if strings.ContainsAny(s, "eE") {
+		f, _ := strconv.ParseFloat(s, 64)
+		s = strconv.FormatFloat(f, 'f', -1, 64)
+	}
+	return s
+}
