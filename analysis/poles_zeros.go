@@ -402,8 +402,8 @@ func polishRoots(a, e *mat.Dense, roots []complex128) {
 				break // not in the basin: keep the eigen-solver's value
 			}
 			s -= d
-			if cmplx.Abs(d) <= 1e-15*scale {
-				break
+			if cmplx.Abs(d) <= 1e-9*scale {
+				break // quadratic convergence: the next step is below 1e-18
 			}
 		}
 		if partner >= 0 && imag(s) <= 0 {
