@@ -60,6 +60,8 @@ func circuit(parts ...netlist.Part) *netlist.Circuit {
 	return &netlist.Circuit{File: "test", Parts: parts}
 }
 
+var inputAuto = mna.Input{}
+
 func nodeOut(n string) mna.Output { return mna.Output{Kind: mna.NodeVoltage, Node: n} }
 
 func mustTransfer(t testing.TB, c *netlist.Circuit, out mna.Output, opt Options) *Result {

@@ -296,3 +296,24 @@ func TestErrors(t *testing.T) {
 		t.Errorf("cancelled context: %v", err)
 	}
 }
+
+func TestSizeLimit(t *testing.T) {
+	// A 6-section RC ladder's D is a continuant with F(13) = 233 terms
+	// (Fibonacci count of ladder continuants, from memory); a limit of 100
+	// must stop it.
+	for _, method := range []Method{Minors, Bareiss} {
+		_, err := Transfer(context.Background(), rcLadder(6), mna.Input{}, nodeOut("n6"), Options{MaxTerms: 100, Method: method})
+		var se *SizeError
+		if !errors.As(err, &se) || se.Terms <= 100 || se.Limit != 100 || !strings.Contains(err.Error(), "--keep") {
+			t.Errorf("%s: err = %v, want *SizeError over 100 terms suggesting --keep", method, err)
+		}
+	}
+	r := mustTransfer(t, rcLadder(6), nodeOut("n6"), Options{})
+	total := 0
+	for _, p := range r.Den {
+		total += p.Len()
+	}
+	if total != 233 {
+		t.Errorf("6-section ladder D has %d terms, want 233", total)
+	}
+}
