@@ -33,9 +33,10 @@ func (d PowerDiff) String() string {
 }
 
 // Diff explains why two transfer functions differ. Scale is the factor
-// applied to side 1 before the per-power comparison (chosen so the
+// applied to side 2 before the per-power comparison (chosen so the
 // lowest-order denominator coefficients agree when they differ only by a
-// constant); Powers lists every coefficient that still differs.
+// constant), so the terms read in side 1's own scaling; Powers lists every
+// coefficient that still differs.
 type Diff struct {
 	Scale  *big.Rat
 	Powers []PowerDiff
@@ -53,9 +54,10 @@ func (d Diff) String() string {
 // Equivalent reports whether n1/d1 and n2/d2 (ascending coefficients in s,
 // free of s) are the same rational function: N1·D2 − N2·D1 ≡ 0 exactly.
 // When they are not, the Diff lists, per power of s, which terms side 1
-// has extra and which it misses relative to side 2, after scaling side 1
+// has extra and which it misses relative to side 2, after scaling side 2
 // by a constant so the lowest-order denominator coefficients match when
-// that is possible. Both denominators must be non-zero.
+// that is possible (side 1 is typically the hand derivation, side 2 the
+// circuit). Both denominators must be non-zero.
 func Equivalent(n1, d1, n2, d2 []Poly) (bool, Diff) {
 	N1, D1 := FromPowers(LaplaceVar, n1), FromPowers(LaplaceVar, d1)
 	N2, D2 := FromPowers(LaplaceVar, n2), FromPowers(LaplaceVar, d2)
@@ -64,7 +66,7 @@ func Equivalent(n1, d1, n2, d2 []Poly) (bool, Diff) {
 	}
 	scale := big.NewRat(1, 1)
 	if l1, l2 := lowest(d1), lowest(d2); !l1.IsZero() && !l2.IsZero() {
-		if q, ok := l2.Div(l1); ok {
+		if q, ok := l1.Div(l2); ok {
 			if c, isConst := q.IsConst(); isConst {
 				scale = c
 			}
@@ -72,8 +74,8 @@ func Equivalent(n1, d1, n2, d2 []Poly) (bool, Diff) {
 	}
 	var out Diff
 	out.Scale = scale
-	out.Powers = append(out.Powers, powerDiffs(false, scaleAll(n1, scale), n2)...)
-	out.Powers = append(out.Powers, powerDiffs(true, scaleAll(d1, scale), d2)...)
+	out.Powers = append(out.Powers, powerDiffs(false, n1, scaleAll(n2, scale))...)
+	out.Powers = append(out.Powers, powerDiffs(true, d1, scaleAll(d2, scale))...)
 	return false, out
 }
 
