@@ -49,27 +49,38 @@ func (p Poly) varUsed(i int) bool {
 	return false
 }
 
+// CoefficientValues substitutes values (SI units, as in Result.Values)
+// into every coefficient as it stands, without rescaling: num[k] and
+// den[k] are the values of Num[k] and Den[k] (the numbers to print beside
+// the symbolic coefficients). A symbol without a value is an error.
+func (r *Result) CoefficientValues(values map[string]float64) (num, den []float64, err error) {
+	eval := func(what string, ps []Poly) ([]float64, error) {
+		out := make([]float64, len(ps))
+		for k, p := range ps {
+			v, err := p.EvalFloat(values)
+			if err != nil {
+				return nil, fmt.Errorf("symbolic: %s coefficient of s^%d: %w", what, k, err)
+			}
+			out[k] = v
+		}
+		return out, nil
+	}
+	if num, err = eval("numerator", r.Num); err != nil {
+		return nil, nil, err
+	}
+	if den, err = eval("denominator", r.Den); err != nil {
+		return nil, nil, err
+	}
+	return num, den, nil
+}
+
 // EvalNumeric substitutes values (SI units, as in Result.Values) into the
 // result. It returns the ascending coefficients of N and D, scaled so that
 // the lowest-order non-zero coefficient of D is 1 (as in
 // analysis.TransferFunction), and H(s) for complex s in rad/s by Horner's
 // rule on those coefficients. A symbol without a value is an error.
 func (r *Result) EvalNumeric(values map[string]float64) (num, den []float64, h func(s complex128) complex128, err error) {
-	eval := func(ps []Poly) ([]float64, error) {
-		out := make([]float64, len(ps))
-		for k, p := range ps {
-			v, err := p.EvalFloat(values)
-			if err != nil {
-				return nil, fmt.Errorf("symbolic: coefficient of s^%d: %w", k, err)
-			}
-			out[k] = v
-		}
-		return out, nil
-	}
-	if num, err = eval(r.Num); err != nil {
-		return nil, nil, nil, err
-	}
-	if den, err = eval(r.Den); err != nil {
+	if num, den, err = r.CoefficientValues(values); err != nil {
 		return nil, nil, nil, err
 	}
 	low := 0.0

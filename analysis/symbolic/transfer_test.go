@@ -2,7 +2,9 @@ package symbolic
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
+	"math"
 	"strings"
 	"testing"
 
@@ -315,5 +317,39 @@ func TestSizeLimit(t *testing.T) {
 	}
 	if total != 233 {
 		t.Errorf("6-section ladder D has %d terms, want 233", total)
+	}
+}
+
+func TestJSONAndValues(t *testing.T) {
+	// MFB band-pass (Sedra & Smith form, see publishedCases): D0 = R1 + R3.
+	tc := publishedCases()[9]
+	if tc.name != "multiple-feedback band-pass" {
+		t.Fatalf("case order changed: %s", tc.name)
+	}
+	r := mustTransfer(t, tc.c, tc.out, Options{})
+	b, err := json.Marshal(r.JSON())
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := `{"symbolic":{"num":["0","-R2*R3*C1"],"den":["R1 + R3","R1*R3*C1 + R1*R3*C2","R1*R2*R3*C1*C2"]}}`
+	if string(b) != want {
+		t.Errorf("JSON %s\nwant %s", b, want)
+	}
+	num, den, err := r.CoefficientValues(r.Values)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// R1 = 10k, R2 = 100k, R3 = 1k, C1 = C2 = 10 nF (values of the case).
+	wantDen := []float64{11e3, 10e3 * 1e3 * 20e-9, 10e3 * 100e3 * 1e3 * 100e-18}
+	for k := range wantDen {
+		if math.Abs(den[k]-wantDen[k]) > 1e-12*wantDen[k] {
+			t.Errorf("den[%d] = %g, want %g", k, den[k], wantDen[k])
+		}
+	}
+	if math.Abs(num[1]+100e3*1e3*10e-9) > 1e-15 {
+		t.Errorf("num[1] = %g", num[1])
+	}
+	if _, _, err := r.CoefficientValues(map[string]float64{"R1": 1}); err == nil {
+		t.Error("missing values accepted")
 	}
 }
