@@ -353,3 +353,23 @@ func TestJSONAndValues(t *testing.T) {
 		t.Error("missing values accepted")
 	}
 }
+
+func TestCancelsBufferedSection(t *testing.T) {
+	// Observed before an ideal buffer, the second RC section cannot
+	// matter: H = 1/(1 + sR1C1) (first-order section, Van Valkenburg),
+	// although det Y carries the factor of the buffered section.
+	c := circuit(vsrc("V1", "in", "gnd"), res("R1", "in", "a", 1e3), capa("C1", "a", "gnd", 1e-6),
+		vcvs("E1", "b", "gnd", "a", "gnd", 1), res("R2", "b", "out", 2e3), capa("C2", "out", "gnd", 1e-7))
+	for _, method := range []Method{Minors, Bareiss} {
+		r, err := Transfer(context.Background(), c, mna.Input{}, nodeOut("a"), Options{Method: method})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(r.Cancelled) != 1 || !r.Cancelled[0].Equal(sum(Int(1), m("R2", "C2", LaplaceVar))) {
+			t.Errorf("%s: cancelled %q, want [1 + R2*C2*s]", method, strs(r.Cancelled))
+		}
+		if !polysEqual(r.Num, []Poly{Int(1)}) || !polysEqual(r.Den, []Poly{Int(1), m("R1", "C1")}) {
+			t.Errorf("%s: num=%q den=%q, want 1/(1 + R1*C1·s); cancelled %q", method, r.NumStrings(), r.DenStrings(), strs(r.Cancelled))
+		}
+	}
+}
