@@ -201,7 +201,7 @@ func (fs *refFindings) within(check string, err, tol float64, format string, arg
 	if tol == 0 && err == 0 {
 		ratio = 0
 	}
-	if math.IsNaN(ratio) || ratio > fs.worst[check] {
+	if old, ok := fs.worst[check]; !ok || math.IsNaN(ratio) || ratio > old {
 		fs.worst[check] = ratio
 	}
 	if !(err <= tol) {
