@@ -36,15 +36,15 @@ type cli struct {
 	Parts     partsCmd     `cmd:"" help:"Show the elaborated parts and nodes of a circuit."`
 	Equations equationsCmd `cmd:"" help:"Show the MNA equations (G + sC)x = b being solved."`
 	Sweep     sweepCmd     `cmd:"" help:"Frequency response: magnitude, phase and group delay."`
-	// TF        tfCmd        `cmd:"" name:"tf" help:"Transfer function H(s), poles, zeros, f0, Q and the circuit's ODE."`
-	// Check     checkCmd     `cmd:"" help:"Check a hand-derived ODE or transfer function against the circuit."`
-	Drive   driveCmd   `cmd:"" help:"Sinusoidal steady-state output for a given input signal."`
-	Step    stepCmd    `cmd:"" help:"Exact step response with rise, overshoot and settling figures."`
-	Impulse impulseCmd `cmd:"" help:"Exact impulse response."`
+	TF        tfCmd        `cmd:"" name:"tf" help:"Transfer function H(s), poles, zeros, f0, Q and the circuit's ODE."`
+	Check     checkCmd     `cmd:"" help:"Check a hand-derived ODE or transfer function against the circuit."`
+	Drive     driveCmd     `cmd:"" help:"Sinusoidal steady-state output for a given input signal."`
+	Step      stepCmd      `cmd:"" help:"Exact step response with rise, overshoot and settling figures."`
+	Impulse   impulseCmd   `cmd:"" help:"Exact impulse response."`
 	// Tolerance toleranceCmd `cmd:"" help:"Monte Carlo, worst case and sensitivities of response metrics."`
 	// Verify    verifyCmd    `cmd:"" help:"Check the file's require statements at nominal, worst case and as yield."`
 	// Snap      snapCmd      `cmd:"" help:"Round R and C values to an IEC 60063 E-series and show what moves."`
-	// Report    reportCmd    `cmd:"" help:"Write a self-contained HTML report (the built-in demo when no FILE)."`
+	Report reportCmd `cmd:"" help:"Write a self-contained HTML report (the built-in demo when no FILE)."`
 }
 
 // env is what every command may touch: the streams, the context and the
