@@ -312,8 +312,10 @@ func compareRef(r *refResult, g *refGolden) *refFindings {
 		}
 	} else {
 		want := *g.GainDC
-		// A golden DC gain of exactly 0 is compared on the scale of the
-		// response: absolute refMagTol·max|H| over the golden grid.
+		// A golden DC gain of exactly 0 has no relative scale: it is
+		// compared on the scale of the response, max|H| over the golden
+		// grid (times refCoefTol for Extract's H(0), refMagTol for the
+		// direct solve at 0 Hz).
 		scale := math.Abs(want)
 		for _, p := range g.Freq {
 			scale = math.Max(scale, p.Mag)
