@@ -19,17 +19,13 @@ package analysis_test
 // Tolerances follow testdata/reference/README.md ("Suggested tolerances").
 
 import (
-	"bufio"
-	"bytes"
 	"context"
 	"encoding/json"
 	"fmt"
 	"math"
 	"math/cmplx"
-	"os"
-	"path/filepath"
+	"nodal/analysis/internal/reference"
 	"sort"
-	"strings"
 	"testing"
 
 	"nodal/analysis"
@@ -125,52 +121,22 @@ type refCase struct {
 	src  []byte
 }
 
-// loadRefCases reads every golden and its circuit, checking that the
-// circuit's header line `# input: SRC   output: NODE` names the same input
-// and output as the golden.
+// loadRefCases reads every golden and its circuit (see package reference).
 func loadRefCases(t *testing.T) []refCase {
 	t.Helper()
-	files, err := filepath.Glob(filepath.Join(refDir, "golden", "*.json"))
+	all, err := reference.Load(refDir)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(files) != 11 {
-		t.Fatalf("found %d goldens in %s, want the 11 the README lists", len(files), refDir)
-	}
 	var cases []refCase
-	for _, f := range files {
-		raw, err := os.ReadFile(f)
-		if err != nil {
-			t.Fatal(err)
-		}
+	for _, rc := range all {
 		var g refGolden
-		if err := json.Unmarshal(raw, &g); err != nil {
-			t.Fatalf("%s: %v", f, err)
+		if err := json.Unmarshal(rc.Raw, &g); err != nil {
+			t.Fatalf("%s: %v", rc.Name, err)
 		}
-		src, err := os.ReadFile(filepath.Join(refDir, "circuits", g.Circuit))
-		if err != nil {
-			t.Fatal(err)
-		}
-		in, out, err := refHeader(src)
-		if err != nil {
-			t.Fatalf("%s: %v", g.Circuit, err)
-		}
-		if in != g.Input || out != g.Output {
-			t.Fatalf("%s: header says input %s output %s, golden %s / %s", g.Circuit, in, out, g.Input, g.Output)
-		}
-		cases = append(cases, refCase{name: strings.TrimSuffix(g.Circuit, ".nodal"), g: g, src: src})
+		cases = append(cases, refCase{name: rc.Name, g: g, src: rc.Src})
 	}
 	return cases
-}
-
-// refHeader reads `# input: SRC   output: NODE` from the first line.
-func refHeader(src []byte) (in, out string, err error) {
-	line, _, _ := bufio.NewReader(bytes.NewReader(src)).ReadLine()
-	f := strings.Fields(string(line))
-	if len(f) != 5 || f[0] != "#" || f[1] != "input:" || f[3] != "output:" {
-		return "", "", fmt.Errorf("first line %q is not `# input: SRC   output: NODE`", line)
-	}
-	return f[2], f[4], nil
 }
 
 // refFinding is one disagreement with a golden; Check names the group

@@ -19,8 +19,7 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
-	"os"
-	"path/filepath"
+	"nodal/analysis/internal/reference"
 	"sort"
 	"strings"
 	"testing"
@@ -157,32 +156,21 @@ type refSymCase struct {
 	res  *symbolic.Result
 }
 
-// loadRefSymCases reads every golden and derives its circuit symbolically
-// with every symbol kept.
+// loadRefSymCases reads every golden (see package reference) and derives
+// its circuit symbolically with every symbol kept.
 func loadRefSymCases(t *testing.T) []refSymCase {
 	t.Helper()
-	files, err := filepath.Glob(filepath.Join(refDir, "golden", "*.json"))
+	all, err := reference.Load(refDir)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(files) != 11 {
-		t.Fatalf("found %d goldens in %s, want the 11 the README lists", len(files), refDir)
-	}
 	var cases []refSymCase
-	for _, f := range files {
-		raw, err := os.ReadFile(f)
-		if err != nil {
-			t.Fatal(err)
-		}
+	for _, rc := range all {
 		var g refSymGolden
-		if err := json.Unmarshal(raw, &g); err != nil {
-			t.Fatalf("%s: %v", f, err)
+		if err := json.Unmarshal(rc.Raw, &g); err != nil {
+			t.Fatalf("%s: %v", rc.Name, err)
 		}
-		src, err := os.ReadFile(filepath.Join(refDir, "circuits", g.Circuit))
-		if err != nil {
-			t.Fatal(err)
-		}
-		c, err := netlist.Load(g.Circuit, src, nil)
+		c, err := netlist.Load(g.Circuit, rc.Src, nil)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -191,7 +179,7 @@ func loadRefSymCases(t *testing.T) []refSymCase {
 		if err != nil {
 			t.Fatalf("%s: %v", g.Circuit, err)
 		}
-		cases = append(cases, refSymCase{strings.TrimSuffix(g.Circuit, ".nodal"), g, res})
+		cases = append(cases, refSymCase{rc.Name, g, res})
 	}
 	return cases
 }
