@@ -256,7 +256,7 @@ func FormatEng(v float64, unit string) string {
 	if v == 0 {
 		return "0" + sep + unit
 	}
-	if unit == "" && math.Abs(v) < 1 {
+	if unit == "" && math.Abs(v) < 1 && math.Abs(v) >= 1e-3 {
 		return strconv.FormatFloat(v, 'g', 4, 64)
 	}
 	exp3 := int(math.Floor(math.Log10(math.Abs(v)) / 3))
