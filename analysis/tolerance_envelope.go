@@ -137,7 +137,7 @@ func bodeCurve(c *netlist.Circuit, in mna.Input, out mna.Output, freqsHz, db, ph
 		if err != nil {
 			return err
 		}
-		db[k] = dB(h)
+		db[k] = 20 * math.Log10(cmplx.Abs(h))
 		phaseDeg[k] = cmplx.Phase(h) * 180 / math.Pi
 	}
 	UnwrapDeg(phaseDeg)

@@ -17,15 +17,17 @@ func TestEnvelopeSharesMonteCarloRuns(t *testing.T) {
 		t.Fatal(err)
 	}
 	mc := tolMonteCarlo(t, c, tolEvaluator(t, c, "out", "gain@100Hz", "gain@1kHz", "gain@10kHz", "phase@1kHz"), opt)
-	// The same seed draws the same boards: the band at F is exactly the
-	// Monte Carlo range of gain@F.
+	// The same seed draws the same boards: the band at F is the Monte
+	// Carlo range of gain@F (computed from H(jω) here and from the
+	// extracted transfer function there, so equal to rounding, 1e-9 dB,
+	// far inside the 0.15 dB spread another draw would show).
 	for k := range freqs {
 		m := mc.Metrics[k]
-		if env.MinDB[k] != m.Min || env.MaxDB[k] != m.Max || env.NominalDB[k] != m.Nominal {
+		if math.Abs(env.MinDB[k]-m.Min) > 1e-9 || math.Abs(env.MaxDB[k]-m.Max) > 1e-9 || math.Abs(env.NominalDB[k]-m.Nominal) > 1e-9 {
 			t.Errorf("%g Hz: band %v..%v (nominal %v); Monte Carlo %v..%v (%v)", freqs[k], env.MinDB[k], env.MaxDB[k], env.NominalDB[k], m.Min, m.Max, m.Nominal)
 		}
 	}
-	if p := mc.Metrics[3]; math.Abs(env.MinPhaseDeg[1]-p.Min) > 1e-12 || math.Abs(env.MaxPhaseDeg[1]-p.Max) > 1e-12 {
+	if p := mc.Metrics[3]; math.Abs(env.MinPhaseDeg[1]-p.Min) > 1e-9 || math.Abs(env.MaxPhaseDeg[1]-p.Max) > 1e-9 {
 		t.Errorf("phase band %v..%v; Monte Carlo %v..%v", env.MinPhaseDeg[1], env.MaxPhaseDeg[1], p.Min, p.Max)
 	}
 	// Nominal: −3.0103 dB and −45° at fc ≈ 1 kHz (closed form of 1/(1 + jf/fc)).
@@ -47,5 +49,22 @@ func TestEnvelopeSharesMonteCarloRuns(t *testing.T) {
 	}
 	if _, err := Envelope(context.Background(), c, mna.Input{}, mna.Output{Node: "out"}, nil, opt); err == nil {
 		t.Error("no frequencies accepted")
+	}
+}
+
+// BenchmarkEnvelope6thOrder10k times 10 000 Monte Carlo runs of the
+// 6th-order filter (tol6thOrder), each swept over 200 frequencies, on all
+// cores: one op is the whole analysis.
+func BenchmarkEnvelope6thOrder10k(b *testing.B) {
+	c := tolLoad(b, tol6thOrder)
+	freqs := LogGrid(10, 100e3, 50)
+	if len(freqs) != 201 {
+		b.Fatalf("%d frequencies", len(freqs))
+	}
+	for b.Loop() {
+		res, err := Envelope(context.Background(), c, mna.Input{}, mna.Output{Node: "out"}, freqs, MonteCarloOptions{Runs: 10000, Seed: 1})
+		if err != nil || res.Failed != 0 {
+			b.Fatal(err, res.Failed)
+		}
 	}
 }

@@ -67,27 +67,28 @@ func TestMetricEvaluatorErrors(t *testing.T) {
 		want    string
 	}{
 		{[]string{"bandwidth"}, "f3db"}, // lists the valid ones
-		{[]string{"gain"}, "needs a frequency"},
+		{[]string{"gain"}, "gain@FREQ"},
 		{nil, "no metric"},
 		{[]string{"f0"}, "no complex pole pair"},
 	} {
-		_, err := NewMetricEvaluator(c, mna.Input{}, mna.Output{Node: "out"}, tc.metrics, 0)
+		_, err := NewMetricEvaluator(c, mna.Input{}, mna.Output{Node: "out"}, tc.metrics)
 		if err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("%v: error %v; want %q", tc.metrics, err, tc.want)
 		}
 	}
 	hp := tolLoad(t, "Vin: vsource (in, gnd) 1\nC1: capacitor (in, out) 1uF\nR1: resistor (out, gnd) 1k\n")
-	if _, err := NewMetricEvaluator(hp, mna.Input{}, mna.Output{Node: "out"}, []string{"dc"}, 0); err == nil {
+	if _, err := NewMetricEvaluator(hp, mna.Input{}, mna.Output{Node: "out"}, []string{"dc"}); err == nil {
 		t.Error("dc of a high-pass accepted")
 	}
-	if _, err := NewMetricEvaluator(c, mna.Input{}, mna.Output{Node: "nowhere"}, []string{"dc"}, 0); err == nil {
+	if _, err := NewMetricEvaluator(c, mna.Input{}, mna.Output{Node: "nowhere"}, []string{"dc"}); err == nil {
 		t.Error("unknown output node accepted")
 	}
 }
 
 func TestMetricEvaluatorPhaseBranch(t *testing.T) {
-	// An inverting integrator-like stage sits near ±180°: every run must
-	// stay on the nominal's branch rather than jump by 360°.
+	// An inverting stage sits at ±180° (common practice: −R2/R1 is a
+	// half-turn): every run must stay on the nominal's branch rather than
+	// jump by 360° between draws.
 	c := tolLoad(t, `
 Vin: vsource (in, gnd) 1
 R1: resistor (in, m) 10k ±5%

@@ -20,10 +20,10 @@ type WorstCaseOptions struct {
 	RelStep       float64 // finite-difference step of the sensitivity signs; ≤ 0 means DefaultSensitivityStep
 }
 
-// Corner is one tolerance corner: every item at nominal·(1 + tol) (High)
+// ToleranceCorner is one tolerance corner: every item at nominal·(1 + tol) (High)
 // or nominal·(1 − tol) (Low). For a normally distributed item ±tol is ±3σ.
 // Both lists keep source order.
-type Corner struct {
+type ToleranceCorner struct {
 	High []string
 	Low  []string
 }
@@ -34,7 +34,7 @@ type WorstCaseMetric struct {
 	Metric               string
 	Unit                 string
 	Nominal, Min, Max    float64
-	MinCorner, MaxCorner Corner
+	MinCorner, MaxCorner ToleranceCorner
 }
 
 // WorstCaseResult is the outcome of WorstCase. Exhaustive says whether all
@@ -144,8 +144,8 @@ func WorstCase(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt WorstC
 }
 
 // cornerOf names the high and low items of a corner.
-func cornerOf(vars []netlist.Variation, high []bool) Corner {
-	var c Corner
+func cornerOf(vars []netlist.Variation, high []bool) ToleranceCorner {
+	var c ToleranceCorner
 	for i, v := range vars {
 		if high[i] {
 			c.High = append(c.High, v.Name)
