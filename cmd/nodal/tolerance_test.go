@@ -8,6 +8,7 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"sync/atomic"
 	"testing"
 
 	"github.com/alecthomas/kong"
@@ -121,11 +122,65 @@ func TestToleranceTableEnvelopePlot(t *testing.T) {
 	}
 }
 
+// countdownCtx reports itself cancelled from its n-th Err call on, like a
+// Ctrl-C arriving part-way through the runs (the engine asks Err before
+// every run).
+type countdownCtx struct {
+	context.Context
+	n atomic.Int64
+}
+
+func (c *countdownCtx) Err() error {
+	if c.n.Add(-1) < 0 {
+		return context.Canceled
+	}
+	return nil
+}
+
 func TestToleranceCancelReportsFinishedRuns(t *testing.T) {
-	ctx, cancel := context.WithCancel(context.Background())
+	ctx := &countdownCtx{Context: context.Background()}
+	ctx.n.Store(150)
+	out, stderr, err := runTolerance(t, ctx, rcFile, "--out", "out", "--metric", "f3db", "--runs", "1000",
+		"--worst-case", "--format", "json", "--workers", "1")
+	if err != nil {
+		t.Fatalf("%v; stderr %s", err, stderr)
+	}
+	var doc struct {
+		Runs          int  `json:"runs"`
+		RunsRequested int  `json:"runs_requested"`
+		Cancelled     bool `json:"cancelled"`
+		WorstCase     []any
+		Metrics       []struct{ Mean float64 }
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if !doc.Cancelled || doc.Runs < 100 || doc.Runs > 150 || doc.RunsRequested != 1000 || len(doc.WorstCase) != 0 || !(doc.Metrics[0].Mean > 0) {
+		t.Errorf("document %s", out)
+	}
+	if !strings.Contains(stderr, "interrupted") {
+		t.Errorf("stderr %q lacks the interruption note", stderr)
+	}
+	ctx2, cancel := context.WithCancel(context.Background())
 	cancel() // Ctrl-C before the first run: nothing to report
-	if _, _, err := runTolerance(t, ctx, rcFile, "--out", "out", "--metric", "f3db"); err == nil || !strings.Contains(err.Error(), "before any run") {
+	if _, _, err := runTolerance(t, ctx2, rcFile, "--out", "out", "--metric", "f3db"); err == nil || !strings.Contains(err.Error(), "before any run") {
 		t.Errorf("error %v", err)
+	}
+}
+
+func TestToleranceProgressBarOnTerminal(t *testing.T) {
+	for _, terminal := range []bool{false, true} {
+		var out, errb bytes.Buffer
+		e := &env{ctx: context.Background(), stdin: strings.NewReader(""), stdout: &out, stderr: &errb, stderrIsTerminal: terminal}
+		c := &toleranceCmd{Metric: []string{"f3db"}, Runs: progressMinRuns, Seed: 1, Format: "json"}
+		c.File, c.Out = rcFile, "out"
+		c.PerDecade = 50
+		if err := c.Run(e); err != nil {
+			t.Fatal(err)
+		}
+		if got := strings.Contains(errb.String(), "monte carlo"); got != terminal {
+			t.Errorf("terminal %v: stderr %q", terminal, errb.String())
+		}
 	}
 }
 
