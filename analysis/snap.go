@@ -85,7 +85,9 @@ func Snap(name string, src []byte, ov netlist.Overrides, series map[netlist.Kind
 		kept = append(kept, ch)
 	}
 	res.Changes = kept
-	sort.SliceStable(res.Skipped, func(i, j int) bool { return partIndex(before, res.Skipped[i].Part) < partIndex(before, res.Skipped[j].Part) })
+	sort.SliceStable(res.Skipped, func(i, j int) bool {
+		return partIndex(before, res.Skipped[i].Part) < partIndex(before, res.Skipped[j].Part)
+	})
 	res.Source, err = netlist.ReplaceValues(src, plan.Edits)
 	if err != nil {
 		return nil, fmt.Errorf("snap: %w", err)

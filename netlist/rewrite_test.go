@@ -114,9 +114,9 @@ func TestPlanValues(t *testing.T) {
 	text := string(out)
 	for _, want := range []string{
 		"let Rb = 10.2k          # bridge arm value", // rule 2: the let, comment kept
-		"let Rc = 22k ",                              // used in C2's expression: kept
-		"R4: resistor (c, d) 22.1k\n",                // rule 2 fallback to a literal
-		"R1: resistor (in, a) 4.7k ±1%   # literal",  // rule 1, tolerance and comment kept
+		"let Rc = 22k ",                             // used in C2's expression: kept
+		"R4: resistor (c, d) 22.1k\n",               // rule 2 fallback to a literal
+		"R1: resistor (in, a) 4.7k ±1%   # literal", // rule 1, tolerance and comment kept
 		"R2: resistor (a, b) Rb\n",
 		"C1: capacitor (a, gnd) 22nF       # expression", // rule 3
 		"X1: stage (d, y) R=3.32k\n",                     // rule 4
