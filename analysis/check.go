@@ -64,11 +64,11 @@ type Complex struct {
 	Im float64 `json:"im"`
 }
 
-// RootPair sets a circuit pole or zero beside the nearest one of yours.
+// RootMatch sets a circuit pole or zero beside the nearest one of yours.
 // Circuit or Yours is nil when that side has no counterpart. RelDiff is
 // |yours − circuit| / |circuit| (absolute in rad/s for a root at 0), and 0
 // when a side is missing.
-type RootPair struct {
+type RootMatch struct {
 	Circuit *Complex `json:"circuit"`
 	Yours   *Complex `json:"yours"`
 	RelDiff float64  `json:"rel_diff"`
@@ -90,8 +90,8 @@ type CheckResult struct {
 	// numerator rows first, each side ascending.
 	Coefficients []CoefRow `json:"coefficients"`
 	// Poles and Zeros pair roots by nearest distance (rad/s).
-	Poles []RootPair `json:"poles"`
-	Zeros []RootPair `json:"zeros"`
+	Poles []RootMatch `json:"poles"`
+	Zeros []RootMatch `json:"zeros"`
 	// The sweep range (Hz) and the largest differences of yours against
 	// the circuit's response: 20·log10|H_yours/H_circuit| in dB and
 	// arg(H_yours/H_circuit) in degrees (signed), with their frequencies.
@@ -471,7 +471,7 @@ func cancelCommon(zeros, poles []complex128, w0, relTol float64) (common, zs, ps
 }
 
 // pairRoots matches circuit roots with yours, globally nearest first.
-func pairRoots(c, y []complex128) []RootPair {
+func pairRoots(c, y []complex128) []RootMatch {
 	type cand struct {
 		i, j int
 		d    float64
@@ -484,7 +484,7 @@ func pairRoots(c, y []complex128) []RootPair {
 	}
 	sort.SliceStable(cs, func(a, b int) bool { return cs[a].d < cs[b].d })
 	ci, yi := map[int]bool{}, map[int]bool{}
-	var out []RootPair
+	var out []RootMatch
 	for _, k := range cs {
 		if ci[k.i] || yi[k.j] {
 			continue
@@ -494,23 +494,23 @@ func pairRoots(c, y []complex128) []RootPair {
 		if a := cmplx.Abs(c[k.i]); a != 0 {
 			rel /= a
 		}
-		out = append(out, RootPair{Circuit: plain(c[k.i]), Yours: plain(y[k.j]), RelDiff: rel})
+		out = append(out, RootMatch{Circuit: plain(c[k.i]), Yours: plain(y[k.j]), RelDiff: rel})
 	}
 	for i := range c {
 		if !ci[i] {
-			out = append(out, RootPair{Circuit: plain(c[i])})
+			out = append(out, RootMatch{Circuit: plain(c[i])})
 		}
 	}
 	for j := range y {
 		if !yi[j] {
-			out = append(out, RootPair{Yours: plain(y[j])})
+			out = append(out, RootMatch{Yours: plain(y[j])})
 		}
 	}
 	sort.SliceStable(out, func(a, b int) bool { return rootKey(out[a]) < rootKey(out[b]) })
 	return out
 }
 
-func rootKey(p RootPair) float64 {
+func rootKey(p RootMatch) float64 {
 	r := p.Circuit
 	if r == nil {
 		r = p.Yours

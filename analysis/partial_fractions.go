@@ -34,7 +34,7 @@ type poleGroup struct {
 func clusterPoles(ps []complex128) ([]poleGroup, error) {
 	scale := 0.0
 	for _, p := range ps {
-		if !finite(p) {
+		if !finiteComplex(p) {
 			return nil, fmt.Errorf("pole %v is not finite", p)
 		}
 		scale = math.Max(scale, cmplx.Abs(p))

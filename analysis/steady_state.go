@@ -66,19 +66,20 @@ const (
 	poleRatio    = 1e6
 )
 
-func finite(v complex128) bool { return !cmplx.IsInf(v) && !cmplx.IsNaN(v) }
+// finiteComplex reports whether v has no Inf or NaN part.
+func finiteComplex(v complex128) bool { return !cmplx.IsInf(v) && !cmplx.IsNaN(v) }
 
 // atPole evaluates h at jω and says whether jω is (numerically) a pole.
 func atPole(h func(s complex128) complex128, omega float64) (complex128, bool) {
 	v := h(complex(0, omega))
-	if !finite(v) {
+	if !finiteComplex(v) {
 		return v, true
 	}
 	if omega == 0 {
 		return v, false
 	}
 	probe := h(complex(0, omega*(1+poleProbeRel)))
-	return v, finite(probe) && cmplx.Abs(v) > poleRatio*cmplx.Abs(probe)
+	return v, finiteComplex(probe) && cmplx.Abs(v) > poleRatio*cmplx.Abs(probe)
 }
 
 // SteadyState returns the sinusoidal steady state of y = H·u for the drive
@@ -92,7 +93,7 @@ func SteadyState(h func(s complex128) complex128, sig *signal.Signal) (*Steady, 
 	st := &Steady{DCIn: sig.DC}
 	if sig.DC != 0 {
 		v := h(0)
-		if finite(v) {
+		if finiteComplex(v) {
 			out := real(v) * sig.DC
 			st.DCOut = &out
 		} else {

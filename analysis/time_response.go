@@ -51,6 +51,8 @@ type PoleRad struct {
 type Metrics struct {
 	Final         *float64 `json:"final"`
 	RiseTimeS     *float64 `json:"rise_time_s"`
+	Rise10S       *float64 `json:"rise_10pct_s,omitempty"` // first time y reaches 10 % of Final
+	Rise90S       *float64 `json:"rise_90pct_s,omitempty"` // first time y reaches 90 % of Final
 	OvershootPct  *float64 `json:"overshoot_pct"`
 	PeakTimeS     *float64 `json:"peak_time_s"`
 	Peak          *float64 `json:"peak"`
@@ -315,6 +317,7 @@ func metrics(ms []Mode, span float64) Metrics {
 		t10, t90 := level(0.1), level(0.9)
 		if t10 != nil && t90 != nil {
 			out.RiseTimeS = ptr(*t90 - *t10)
+			out.Rise10S, out.Rise90S = t10, t90
 		}
 		k := 0
 		for i, y := range ys {

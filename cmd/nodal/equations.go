@@ -1,0 +1,118 @@
+package main
+
+import (
+	"fmt"
+	"io"
+
+	"nodal/mna"
+)
+
+// equationsCmd prints the MNA system (G + sC)x = b.
+type equationsCmd struct {
+	circuitArgs
+	In     string `help:"Input source whose unit amplitude makes b; may be left out when the circuit has one source." placeholder:"SOURCE"`
+	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
+}
+
+// Help is the extended help with a worked example.
+func (c *equationsCmd) Help() string {
+	return `Shows the modified nodal analysis equations nodal solves: the unknowns by
+name (node voltages v(NODE), branch currents i(PART)), the real matrices G
+and C of Y(s) = G + sC, and the excitation vector b for a unit input.
+
+Example:
+
+    nodal equations testdata/examples/logger_antialias.nodal --in Vin`
+}
+
+// Run prints the equations.
+func (c *equationsCmd) Run(e *env) error {
+	l, err := c.load(e)
+	if err != nil {
+		return err
+	}
+	out := mna.Output{Kind: mna.NodeVoltage}
+	if len(l.circuit.Nodes) > 1 {
+		out.Node = l.circuit.Nodes[1]
+	}
+	sys, err := mna.Build(l.circuit, mna.Input{Source: c.In}, out)
+	if err != nil && sys == nil {
+		return err
+	}
+	if err != nil {
+		// Print the equations anyway: they show why the system is singular.
+		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
+	}
+	werr := writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
+		if c.Format == "json" {
+			return writeJSON(w, equationsJSON(sys))
+		}
+		return equationsTable(w, sys)
+	})
+	if werr != nil {
+		return werr
+	}
+	return err
+}
+
+// equationsJSON is the JSON document of `nodal equations`.
+func equationsJSON(sys *mna.System) any {
+	n := sys.Size()
+	g := make([][]float64, n)
+	cm := make([][]float64, n)
+	for i := 0; i < n; i++ {
+		g[i] = make([]float64, n)
+		cm[i] = make([]float64, n)
+		for j := 0; j < n; j++ {
+			g[i][j] = sys.G.At(i, j)
+			cm[i][j] = sys.C.At(i, j)
+		}
+	}
+	return struct {
+		Input    string      `json:"input"`
+		Unknowns []string    `json:"unknowns"`
+		G        [][]float64 `json:"G"`
+		C        [][]float64 `json:"C"`
+		B        []float64   `json:"b"`
+	}{sys.Input.Source, sys.Unknowns, g, cm, sys.B}
+}
+
+// equationsTable prints G, C and b as tables with named rows and columns.
+func equationsTable(w io.Writer, sys *mna.System) error {
+	n := sys.Size()
+	fmt.Fprintf(w, "(G + sC)·x = b for input %s, %d unknowns\n\n", sys.Input.Source, n)
+	for _, m := range []struct {
+		name string
+		at   func(i, j int) float64
+	}{{"G (S and dimensionless)", sys.G.At}, {"C (F, H and s)", sys.C.At}} {
+		fmt.Fprintln(w, m.name)
+		t := newTable(w, append([]string{"row"}, sys.Unknowns...)...)
+		for i := 0; i < n; i++ {
+			cells := []string{sys.Unknowns[i]}
+			for j := 0; j < n; j++ {
+				v := m.at(i, j)
+				if v == 0 {
+					cells = append(cells, ".")
+				} else {
+					cells = append(cells, num(v))
+				}
+			}
+			if err := t.row(cells...); err != nil {
+				return err
+			}
+		}
+		if err := t.render(); err != nil {
+			return err
+		}
+		fmt.Fprintln(w)
+	}
+	fmt.Fprintln(w, "b")
+	t := newTable(w, "row", "b")
+	for i := 0; i < n; i++ {
+		if err := t.row(sys.Unknowns[i], num(sys.B[i])); err != nil {
+			return err
+		}
+	}
+	return t.render()
+}

@@ -1,0 +1,43 @@
+package main
+
+import (
+	"math"
+	"strconv"
+)
+
+// pi is π, spelled short for unit conversions.
+const pi = math.Pi
+
+// trimFloat formats v with at most digits significant digits and no
+// exponent for ordinary magnitudes.
+func trimFloat(v float64, digits int) string {
+	return strconv.FormatFloat(v, 'g', digits, 64)
+}
+
+// num formats a table number with 6 significant digits.
+func num(v float64) string {
+	if math.IsNaN(v) {
+		return "-"
+	}
+	if math.IsInf(v, 0) {
+		if v > 0 {
+			return "inf"
+		}
+		return "-inf"
+	}
+	return strconv.FormatFloat(v, 'g', 6, 64)
+}
+
+// fixed formats v with the given decimals (for dB and degrees).
+func fixed(v float64, decimals int) string {
+	if math.IsNaN(v) {
+		return "-"
+	}
+	if math.IsInf(v, 0) {
+		if v > 0 {
+			return "inf"
+		}
+		return "-inf"
+	}
+	return strconv.FormatFloat(v, 'f', decimals, 64)
+}

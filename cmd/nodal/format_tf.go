@@ -1,0 +1,283 @@
+package main
+
+import (
+	"fmt"
+	"math"
+	"math/cmplx"
+	"strconv"
+	"strings"
+
+	"nodal/analysis"
+)
+
+// engNumber formats v in engineering notation: a mantissa of 4 significant
+// digits and an exponent that is a multiple of 3 ("112.5e-6", "2.53e9",
+// "1" for 1).
+func engNumber(v float64) string {
+	if v == 0 || math.IsNaN(v) || math.IsInf(v, 0) {
+		return num(v)
+	}
+	exp := int(math.Floor(math.Log10(math.Abs(v))))
+	e3 := int(math.Floor(float64(exp) / 3))
+	if e3 == 0 {
+		return strconv.FormatFloat(v, 'g', 4, 64)
+	}
+	m := v / math.Pow(10, float64(3*e3))
+	// Rounding may carry to 1000.
+	ms := strconv.FormatFloat(m, 'g', 4, 64)
+	if f, _ := strconv.ParseFloat(ms, 64); math.Abs(f) >= 1000 {
+		e3++
+		ms = strconv.FormatFloat(m/1000, 'g', 4, 64)
+		if e3 == 0 {
+			return ms
+		}
+	}
+	return fmt.Sprintf("%se%d", ms, 3*e3)
+}
+
+// sPower writes s^k in readable form.
+func sPower(k int, sym string) string {
+	switch k {
+	case 0:
+		return ""
+	case 1:
+		return sym
+	}
+	return sym + superscript(k)
+}
+
+// superscript writes k with Unicode superscript digits.
+func superscript(k int) string {
+	const sup = "⁰¹²³⁴⁵⁶⁷⁸⁹"
+	digits := []rune(sup)
+	var b strings.Builder
+	for _, c := range strconv.Itoa(k) {
+		if c == '-' {
+			b.WriteRune('⁻')
+			continue
+		}
+		b.WriteRune(digits[c-'0'])
+	}
+	return b.String()
+}
+
+// polyText writes an ascending polynomial in s: "1 + 112.5e-6·s + 6.33e-9·s²".
+func polyText(c []float64) string {
+	var b strings.Builder
+	first := true
+	for k, v := range c {
+		if v == 0 {
+			continue
+		}
+		term := engNumber(math.Abs(v))
+		if k > 0 {
+			if term == "1" {
+				term = sPower(k, "s")
+			} else {
+				term += "·" + sPower(k, "s")
+			}
+		}
+		switch {
+		case first && v < 0:
+			b.WriteString("−")
+		case !first && v < 0:
+			b.WriteString(" − ")
+		case !first:
+			b.WriteString(" + ")
+		}
+		b.WriteString(term)
+		first = false
+	}
+	if first {
+		return "0"
+	}
+	return b.String()
+}
+
+// rationalText writes N(s)/D(s) with parentheses where needed.
+func rationalText(num, den []float64) string {
+	n, d := polyText(num), polyText(den)
+	if d == "1" {
+		return n
+	}
+	return paren(n) + " / " + paren(d)
+}
+
+// paren wraps a sum in parentheses.
+func paren(s string) string {
+	if strings.ContainsAny(s, "+−") && !(strings.HasPrefix(s, "(") && strings.HasSuffix(s, ")")) {
+		return "(" + s + ")"
+	}
+	return s
+}
+
+// factorText writes the normalised factors of roots (constant term 1):
+// (1 + s/ω) for a real root −ω, (1 + s/(Q·ω0)·… ) written as
+// (1 + s/A + (s/ω0)²) for a complex pair. Roots at s = 0 are counted and
+// returned separately.
+func factorText(roots []complex128) (factors []string, atZero int) {
+	for _, r := range roots {
+		switch {
+		case r == 0:
+			atZero++
+		case imag(r) == 0:
+			w := -real(r) // the factor is (1 + s/w)
+			if w > 0 {
+				factors = append(factors, fmt.Sprintf("(1 + s/%s)", engNumber(w)))
+			} else {
+				factors = append(factors, fmt.Sprintf("(1 − s/%s)", engNumber(-w)))
+			}
+		case imag(r) > 0:
+			w0 := cmplx.Abs(r)
+			// (s − r)(s − r*)/|r|² = 1 − 2Re(r)/|r|²·s + s²/|r|²
+			lin := -2 * real(r) / (w0 * w0)
+			sq := fmt.Sprintf("(s/%s)²", engNumber(w0))
+			switch {
+			case lin == 0:
+				factors = append(factors, fmt.Sprintf("(1 + %s)", sq))
+			case lin > 0:
+				factors = append(factors, fmt.Sprintf("(1 + s/%s + %s)", engNumber(1/lin), sq))
+			default:
+				factors = append(factors, fmt.Sprintf("(1 − s/%s + %s)", engNumber(-1/lin), sq))
+			}
+		}
+	}
+	return factors, atZero
+}
+
+// factoredText writes H(s) as K·s^k·Π(zero factors)/Π(pole factors) with
+// every factor normalised to a constant term of 1, frequencies in rad/s.
+func factoredText(h *analysis.TransferFunction) string {
+	if len(h.Num) == 0 || allZero(h.Num) {
+		return "0"
+	}
+	zf, z0 := factorText(h.Zeros)
+	pf, p0 := factorText(h.Poles)
+	// K is the ratio of the lowest-order non-zero coefficients.
+	k := lowest(h.Num) / lowest(h.Den)
+	var top []string
+	top = append(top, engNumber(k))
+	if z0 > p0 {
+		top = append(top, sPower(z0-p0, "s"))
+	}
+	top = append(top, zf...)
+	var bottom []string
+	if p0 > z0 {
+		bottom = append(bottom, sPower(p0-z0, "s"))
+	}
+	bottom = append(bottom, pf...)
+	s := strings.Join(top, "·")
+	switch len(bottom) {
+	case 0:
+	case 1:
+		s += " / " + bottom[0]
+	default:
+		s += " / [" + strings.Join(bottom, "·") + "]"
+	}
+	return s
+}
+
+// zpkText writes H(s) = Gain·Π(s − z)/Π(s − p).
+func zpkText(h *analysis.TransferFunction) string {
+	if len(h.Num) == 0 || allZero(h.Num) {
+		return "0"
+	}
+	lin := func(roots []complex128) []string {
+		var out []string
+		for _, r := range roots {
+			switch {
+			case r == 0:
+				out = append(out, "s")
+			case imag(r) == 0:
+				if real(r) < 0 {
+					out = append(out, fmt.Sprintf("(s + %s)", engNumber(-real(r))))
+				} else {
+					out = append(out, fmt.Sprintf("(s − %s)", engNumber(real(r))))
+				}
+			case imag(r) > 0:
+				w0 := cmplx.Abs(r)
+				b := -2 * real(r)
+				sign := "+"
+				if b < 0 {
+					sign, b = "−", -b
+				}
+				if b == 0 {
+					out = append(out, fmt.Sprintf("(s² + %s)", engNumber(w0*w0)))
+				} else {
+					out = append(out, fmt.Sprintf("(s² %s %s·s + %s)", sign, engNumber(b), engNumber(w0*w0)))
+				}
+			}
+		}
+		return out
+	}
+	s := engNumber(h.Gain)
+	if z := lin(h.Zeros); len(z) > 0 {
+		s += "·" + strings.Join(z, "·")
+	}
+	if p := lin(h.Poles); len(p) > 0 {
+		s += " / (" + strings.Join(p, "·") + ")"
+	}
+	return s
+}
+
+// odeText writes the circuit's differential equation
+// a_n·y⁽ⁿ⁾ + … + a_0·y = b_m·u⁽ᵐ⁾ + … + b_0·u.
+func odeText(ode analysis.ODE, y, u string) string {
+	side := func(c []float64, v string) string {
+		var b strings.Builder
+		first := true
+		for k := len(c) - 1; k >= 0; k-- {
+			if c[k] == 0 {
+				continue
+			}
+			term := v
+			switch k {
+			case 0:
+			case 1:
+				term += "′"
+			case 2:
+				term += "″"
+			default:
+				term += "⁽" + strings.TrimPrefix(superscript(k), "") + "⁾"
+			}
+			coef := engNumber(math.Abs(c[k]))
+			if coef != "1" {
+				term = coef + "·" + term
+			}
+			switch {
+			case first && c[k] < 0:
+				b.WriteString("−")
+			case !first && c[k] < 0:
+				b.WriteString(" − ")
+			case !first:
+				b.WriteString(" + ")
+			}
+			b.WriteString(term)
+			first = false
+		}
+		if first {
+			return "0"
+		}
+		return b.String()
+	}
+	return side(ode.A, y) + " = " + side(ode.B, u)
+}
+
+func allZero(c []float64) bool {
+	for _, v := range c {
+		if v != 0 {
+			return false
+		}
+	}
+	return true
+}
+
+// lowest returns the lowest-order non-zero coefficient.
+func lowest(c []float64) float64 {
+	for _, v := range c {
+		if v != 0 {
+			return v
+		}
+	}
+	return 0
+}

@@ -1,0 +1,80 @@
+package main
+
+import (
+	"fmt"
+	"strings"
+
+	"nodal/analysis"
+	"nodal/netlist"
+)
+
+// freqArgs choose the frequencies of a sweep. With none given the range
+// covers the circuit's poles and zeros by two decades either side.
+type freqArgs struct {
+	From      string `help:"Start frequency, e.g. 10Hz or 1k." placeholder:"F"`
+	To        string `help:"Stop frequency, e.g. 1MHz." placeholder:"F"`
+	PerDecade int    `help:"Points per decade on a log scale." default:"50"`
+	Points    int    `help:"Number of points with --linear (default 201)." placeholder:"N"`
+	Linear    bool   `help:"Space points linearly from --from to --to."`
+	At        string `help:"Explicit frequencies, comma-separated, e.g. 50Hz,1k,10k." placeholder:"F1,F2,..."`
+}
+
+// frequencies returns the sweep frequencies in Hz. auto gives the default
+// range when --from/--to are missing.
+func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error) {
+	if f.At != "" {
+		if f.From != "" || f.To != "" || f.Linear {
+			return nil, fmt.Errorf("--at cannot be combined with --from, --to or --linear")
+		}
+		var out []float64
+		for _, s := range strings.Split(f.At, ",") {
+			v, err := netlist.ParseValue(strings.TrimSpace(s), "Hz")
+			if err != nil {
+				return nil, fmt.Errorf("--at %q: %w", s, err)
+			}
+			if v < 0 {
+				return nil, fmt.Errorf("--at %q: frequency must be ≥ 0", s)
+			}
+			out = append(out, v)
+		}
+		return out, nil
+	}
+	from, to := auto()
+	var err error
+	if f.From != "" {
+		if from, err = netlist.ParseValue(f.From, "Hz"); err != nil {
+			return nil, fmt.Errorf("--from: %w", err)
+		}
+	}
+	if f.To != "" {
+		if to, err = netlist.ParseValue(f.To, "Hz"); err != nil {
+			return nil, fmt.Errorf("--to: %w", err)
+		}
+	}
+	if !(to > from) {
+		return nil, fmt.Errorf("--to (%s) must be above --from (%s)", netlist.FormatEng(to, "Hz"), netlist.FormatEng(from, "Hz"))
+	}
+	if f.Linear {
+		n := f.Points
+		if n == 0 {
+			n = 201
+		}
+		if n < 2 {
+			return nil, fmt.Errorf("--points must be at least 2")
+		}
+		if from < 0 {
+			return nil, fmt.Errorf("--from must be ≥ 0")
+		}
+		return analysis.LinearGrid(from, to, n), nil
+	}
+	if f.Points != 0 {
+		return nil, fmt.Errorf("--points goes with --linear; use --per-decade for a log sweep")
+	}
+	if from <= 0 {
+		return nil, fmt.Errorf("a log sweep needs --from > 0 (got %s); use --linear to start at 0 Hz", netlist.FormatEng(from, "Hz"))
+	}
+	if f.PerDecade < 1 || f.PerDecade > 10000 {
+		return nil, fmt.Errorf("--per-decade must be between 1 and 10000")
+	}
+	return analysis.LogGrid(from, to, f.PerDecade), nil
+}

@@ -1,0 +1,202 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"strings"
+
+	"nodal/netlist"
+)
+
+// partsCmd prints the elaborated circuit: what nodal understood.
+type partsCmd struct {
+	circuitArgs
+	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
+}
+
+// Help is the extended help with a worked example.
+func (c *partsCmd) Help() string {
+	return `Shows every part after elaboration: hierarchical names of block parts,
+node names, values in SI with units, tolerances, and the node list.
+
+Example:
+
+    nodal parts testdata/examples/logger_antialias.nodal
+    nodal parts filter.nodal --format json`
+}
+
+// partJSON is one part in the JSON output.
+type partJSON struct {
+	Name  string   `json:"name"`
+	Kind  string   `json:"kind"`
+	Nodes []string `json:"nodes"`
+	Value float64  `json:"value"`
+	Unit  string   `json:"unit,omitempty"`
+	Tol   float64  `json:"tol"`
+	Dist  string   `json:"dist"`
+	Fixed bool     `json:"fixed,omitempty"`
+	// Extra carries kind-specific settings (sense, control, opamp model).
+	Extra map[string]any `json:"extra,omitempty"`
+}
+
+// Run prints the parts.
+func (c *partsCmd) Run(e *env) error {
+	l, err := c.load(e)
+	if err != nil {
+		return err
+	}
+	return writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
+		if c.Format == "json" {
+			return writeJSON(w, partsJSON(l.circuit))
+		}
+		return partsTable(w, l.circuit)
+	})
+}
+
+// partsJSON is the JSON document of `nodal parts`.
+func partsJSON(c *netlist.Circuit) any {
+	parts := make([]partJSON, 0, len(c.Parts))
+	for _, p := range c.Parts {
+		pj := partJSON{Name: p.Name, Kind: p.Kind.String(), Nodes: append([]string{}, p.Nodes...),
+			Value: p.Value, Unit: p.Kind.Unit(), Tol: p.Tol.Rel, Dist: p.Tol.Dist.String(), Fixed: p.Fixed}
+		if x := partExtra(p); len(x) > 0 {
+			pj.Extra = x
+		}
+		parts = append(parts, pj)
+	}
+	return struct {
+		Title string     `json:"title"`
+		Parts []partJSON `json:"parts"`
+		Nodes []string   `json:"nodes"`
+	}{c.Title, parts, c.Nodes}
+}
+
+// partExtra returns the kind-specific settings of p.
+func partExtra(p netlist.Part) map[string]any {
+	x := map[string]any{}
+	switch p.Kind {
+	case netlist.VCVS, netlist.VCCS:
+		x["sense"] = []string{p.Sense[0], p.Sense[1]}
+	case netlist.CCVS, netlist.CCCS:
+		x["sense"] = p.Control
+	case netlist.Coupling:
+		x["inductors"] = []string{p.Coupled[0], p.Coupled[1]}
+	case netlist.VSource, netlist.ISource:
+		if p.PhaseRad != 0 {
+			x["phase_deg"] = p.PhaseRad * 180 / pi
+		}
+	case netlist.OpAmp:
+		if p.A0 > 0 {
+			x["a0"] = p.A0
+		}
+		if p.GBWHz > 0 {
+			x["gbw_hz"] = p.GBWHz
+		}
+		if p.Rout > 0 {
+			x["rout"] = p.Rout
+		}
+	}
+	return x
+}
+
+// partValueText is the value column of the parts table.
+func partValueText(p netlist.Part) string {
+	switch p.Kind {
+	case netlist.OpAmp:
+		var opts []string
+		if p.A0 > 0 {
+			opts = append(opts, "a0="+netlist.FormatEng(p.A0, ""))
+		}
+		if p.GBWHz > 0 {
+			opts = append(opts, "gbw="+netlist.FormatEng(p.GBWHz, "Hz"))
+		}
+		if p.Rout > 0 {
+			opts = append(opts, "rout="+netlist.FormatEng(p.Rout, "Ω"))
+		}
+		if len(opts) == 0 {
+			return "ideal"
+		}
+		return strings.Join(opts, " ")
+	case netlist.VCVS, netlist.VCCS:
+		return fmt.Sprintf("%s sense=(%s, %s)", netlist.FormatEng(p.Value, p.Kind.Unit()), p.Sense[0], p.Sense[1])
+	case netlist.CCVS, netlist.CCCS:
+		return fmt.Sprintf("%s sense=%s", netlist.FormatEng(p.Value, p.Kind.Unit()), p.Control)
+	case netlist.Coupling:
+		return fmt.Sprintf("K=%s", netlist.FormatEng(p.Value, ""))
+	case netlist.VSource, netlist.ISource:
+		v := netlist.FormatEng(p.Value, p.Kind.Unit())
+		if p.PhaseRad != 0 {
+			v += fmt.Sprintf(" ∠%.4g°", p.PhaseRad*180/pi)
+		}
+		return v
+	}
+	return netlist.FormatEng(p.Value, p.Kind.Unit())
+}
+
+// partNodesText is the nodes column of the parts table.
+func partNodesText(p netlist.Part) string {
+	if p.Kind == netlist.Coupling {
+		return p.Coupled[0] + ", " + p.Coupled[1]
+	}
+	return strings.Join(p.Nodes, ", ")
+}
+
+// tolText formats a tolerance for tables.
+func tolText(t netlist.Tolerance) string {
+	if t.Rel == 0 {
+		return "-"
+	}
+	s := "±" + trimFloat(t.Rel*100, 4) + " %"
+	if t.Dist == netlist.Normal {
+		s += " normal"
+	}
+	return s
+}
+
+// partsTable prints the parts and nodes tables.
+func partsTable(w io.Writer, c *netlist.Circuit) error {
+	if c.Title != "" {
+		fmt.Fprintf(w, "%s\n\n", c.Title)
+	}
+	t := newTable(w, "name", "kind", "nodes", "value", "tolerance")
+	for _, p := range c.Parts {
+		name := p.Name
+		if p.Fixed {
+			name += " (fixed)"
+		}
+		if err := t.row(name, p.Kind.String(), partNodesText(p), partValueText(p), tolText(p.Tol)); err != nil {
+			return err
+		}
+	}
+	if err := t.render(); err != nil {
+		return err
+	}
+	var shared []string
+	for _, v := range c.Variations {
+		if v.IsParam {
+			shared = append(shared, fmt.Sprintf("%s = %s %s", v.Name, netlist.FormatEng(v.Nominal, paramUnit(c, v.Name)), tolText(v.Tol)))
+		}
+	}
+	if len(shared) > 0 {
+		fmt.Fprintf(w, "\ntoleranced parameters (one shared draw each): %s\n", strings.Join(shared, "; "))
+	}
+	fmt.Fprintf(w, "\nnodes (%d): %s\n", len(c.Nodes), strings.Join(c.Nodes, ", "))
+	if len(c.Requirements) > 0 {
+		fmt.Fprintln(w, "\nrequirements:")
+		for _, r := range c.Requirements {
+			fmt.Fprintf(w, "  %s\n", r.Text)
+		}
+	}
+	return nil
+}
+
+// paramUnit returns the unit a parameter was written with.
+func paramUnit(c *netlist.Circuit, name string) string {
+	for _, p := range c.Params {
+		if p.Name == name {
+			return p.Unit
+		}
+	}
+	return ""
+}

@@ -1,0 +1,234 @@
+package main
+
+import (
+	"encoding/csv"
+	"fmt"
+	"io"
+	"strconv"
+
+	"nodal/analysis"
+	"nodal/cmd/nodal/plot"
+	"nodal/netlist"
+)
+
+// timeArgs are the flags shared by step and impulse.
+type timeArgs struct {
+	circuitArgs
+	probeArgs
+	Until  string `help:"End of the time span, e.g. 5ms (default: from the slowest pole, about 7 time constants or 10 periods)." placeholder:"T"`
+	Points int    `help:"Number of samples from t = 0 to the end." default:"200"`
+	Format string `help:"Output format: table, csv or json." enum:"table,csv,json" default:"table"`
+	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
+	Plot   string `help:"Also plot the response to this file (.svg or .png)." placeholder:"FILE" type:"path"`
+}
+
+// stepCmd prints the exact step response.
+type stepCmd struct{ timeArgs }
+
+// impulseCmd prints the exact impulse response.
+type impulseCmd struct{ timeArgs }
+
+// Help is the extended help with a worked example.
+func (c *stepCmd) Help() string {
+	return `Gives the exact response to a unit step of the input from the partial-
+fraction expansion of H(s)/s: the closed form, sampled points, and the final
+value, 10–90 % rise time, overshoot, peak time and 2 % settling time, found
+on the closed form (not read off the samples). Unstable circuits are named as
+such with their poles, and get no settling figures.
+
+Examples:
+
+    nodal step filter.nodal --out out
+    nodal step filter.nodal --out out --until 2ms --points 400 --format csv -o step.csv
+    nodal step filter.nodal --out out --plot step.svg`
+}
+
+// Help is the extended help with a worked example.
+func (c *impulseCmd) Help() string {
+	return `Gives the exact response to a unit impulse from the partial-fraction
+expansion of H(s). Where H(s) is proper but not strictly proper the response
+holds a Dirac term δ(t), which is named with its weight, not sampled.
+
+Examples:
+
+    nodal impulse filter.nodal --out out
+    nodal impulse filter.nodal --out out --format json`
+}
+
+// Run computes the step response.
+func (c *stepCmd) Run(e *env) error { return c.run(e, "step") }
+
+// Run computes the impulse response.
+func (c *impulseCmd) Run(e *env) error { return c.run(e, "impulse") }
+
+// run computes and prints a time response of the given kind.
+func (c *timeArgs) run(e *env, kind string) error {
+	l, err := c.load(e)
+	if err != nil {
+		return err
+	}
+	sys, err := c.system(l)
+	if err != nil {
+		return err
+	}
+	tf, err := analysis.Extract(sys)
+	if err != nil {
+		return err
+	}
+	opt := analysis.TimeOptions{Points: c.Points}
+	if c.Until != "" {
+		if opt.UntilS, err = netlist.ParseValue(c.Until, "s"); err != nil {
+			return fmt.Errorf("--until: %w", err)
+		}
+		if !(opt.UntilS > 0) {
+			return fmt.Errorf("--until must be > 0")
+		}
+	}
+	if c.Points < 2 {
+		return fmt.Errorf("--points must be at least 2")
+	}
+	var r *analysis.TimeResponse
+	if kind == "step" {
+		r, err = analysis.Step(tf, opt)
+	} else {
+		r, err = analysis.Impulse(tf, opt)
+	}
+	if err != nil {
+		return err
+	}
+	if c.Plot != "" {
+		if err := writeTimePlot(e, c.Plot, []string{c.File, c.Output}, l, r); err != nil {
+			return err
+		}
+	}
+	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
+		switch c.Format {
+		case "json":
+			return writeJSON(w, r)
+		case "csv":
+			cw := csv.NewWriter(w)
+			if err := cw.Write([]string{"t_s", "y"}); err != nil {
+				return err
+			}
+			for _, p := range r.Points {
+				if err := cw.Write([]string{strconv.FormatFloat(p.TS, 'g', 10, 64), strconv.FormatFloat(p.Y, 'g', 10, 64)}); err != nil {
+					return err
+				}
+			}
+			cw.Flush()
+			return cw.Error()
+		}
+		return timeTable(w, r, sys.Input.Source, c.Out)
+	})
+}
+
+// timeTable prints the closed form, the figures and the samples.
+func timeTable(w io.Writer, r *analysis.TimeResponse, in, out string) error {
+	fmt.Fprintf(w, "%s response of %s to a unit %s of %s\n\n", r.Kind, out, r.Kind, in)
+	fmt.Fprintln(w, r.ClosedForm)
+	if r.Unstable {
+		fmt.Fprintln(w, "\nthe circuit is UNSTABLE: poles in the right half-plane or repeated on the jω axis:")
+		for _, p := range r.UnstablePoles {
+			fmt.Fprintf(w, "  s = %s rad/s\n", complexText(complex(p.Re, p.Im)))
+		}
+	}
+	fmt.Fprintln(w)
+	m := r.Metrics
+	t := newTable(w, "figure", "value")
+	rows := [][2]string{
+		{"final value", optEng(m.Final, "")},
+		{"rise time 10-90 %", optEng(m.RiseTimeS, "s")},
+		{"overshoot", optPct(m.OvershootPct)},
+		{"peak time", optEng(m.PeakTimeS, "s")},
+		{"settling time 2 %", optEng(m.SettlingTimeS, "s")},
+	}
+	for _, row := range rows {
+		if err := t.row(row[0], row[1]); err != nil {
+			return err
+		}
+	}
+	if err := t.render(); err != nil {
+		return err
+	}
+	if m.Note != "" {
+		fmt.Fprintf(w, "note: %s\n", m.Note)
+	}
+	fmt.Fprintln(w)
+	st := newTable(w, "t_s", "y")
+	for _, p := range r.Points {
+		if err := st.row(num(p.TS), num(p.Y)); err != nil {
+			return err
+		}
+	}
+	return st.render()
+}
+
+// optEng formats an optional value in engineering notation.
+func optEng(v *float64, unit string) string {
+	if v == nil {
+		return "-"
+	}
+	if unit == "" {
+		return num(*v)
+	}
+	return netlist.FormatEng(*v, unit)
+}
+
+// optPct formats an optional percentage.
+func optPct(v *float64) string {
+	if v == nil {
+		return "-"
+	}
+	return fixed(*v, 2) + " %"
+}
+
+// complexText formats a complex number as a ± bj.
+func complexText(z complex128) string {
+	re, im := real(z), imag(z)
+	if im == 0 {
+		return num(re)
+	}
+	sign := "+"
+	if im < 0 {
+		sign, im = "-", -im
+	}
+	return fmt.Sprintf("%s %s %sj", num(re), sign, num(im))
+}
+
+// writeTimePlot draws a time response with its marks.
+func writeTimePlot(e *env, path string, protect []string, l *loaded, r *analysis.TimeResponse) error {
+	format, err := plot.FormatFromPath(path)
+	if err != nil {
+		return err
+	}
+	ts := make([]float64, len(r.Points))
+	ys := make([]float64, len(r.Points))
+	for i, p := range r.Points {
+		ts[i], ys[i] = p.TS, p.Y
+	}
+	marks := plot.StepMarks{}
+	if r.Kind == "step" {
+		if r.Metrics.Final != nil {
+			marks.Final = *r.Metrics.Final
+			marks.RiseStartS, marks.RiseEndS = r.Metrics.Rise10S, r.Metrics.Rise90S
+			marks.SettlingS = r.Metrics.SettlingTimeS
+			marks.SettlingBand = 0.02
+			if r.Metrics.OvershootPct != nil && *r.Metrics.OvershootPct > 0 {
+				marks.PeakTimeS, marks.PeakValue = r.Metrics.PeakTimeS, r.Metrics.Peak
+			}
+		} else if len(ys) > 0 {
+			marks.Final = ys[len(ys)-1]
+		}
+	} else if len(ys) > 0 {
+		marks.Final = ys[len(ys)-1]
+	}
+	title := fmt.Sprintf("%s response", r.Kind)
+	if l.circuit.Title != "" {
+		title = l.circuit.Title + ": " + title
+	}
+	fig, err := plot.Step(ts, ys, marks, plot.StepOptions{Title: title})
+	if err != nil {
+		return err
+	}
+	return writeTo(e, path, append(protect, l.name), func(w io.Writer) error { return fig.Encode(w, format) })
+}

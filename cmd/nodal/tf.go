@@ -1,0 +1,410 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strings"
+
+	"nodal/analysis"
+	"nodal/cmd/nodal/plot"
+	"nodal/mna"
+	"nodal/netlist"
+)
+
+// tfCmd prints the transfer function and what can be read off it.
+type tfCmd struct {
+	circuitArgs
+	In     string `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
+	Out    string `help:"Output node, or i(PART) for the current through a part." placeholder:"NODE"`
+	Ref    string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
+	Zin    string `help:"Instead of a voltage ratio: the input impedance seen by this source." placeholder:"SOURCE"`
+	Zout   string `help:"Instead of a voltage ratio: the impedance at this node to gnd, every independent source zeroed." placeholder:"NODE"`
+	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
+	Plot   string `help:"Also draw the pole-zero map to this file (.svg or .png)." placeholder:"FILE" type:"path"`
+}
+
+// Help is the extended help with a worked example.
+func (c *tfCmd) Help() string {
+	return `Computes the exact rational transfer function H(s) = N(s)/D(s) of the
+circuit from its MNA pencil: poles as generalised eigenvalues, zeros from
+the bordered pencil, the gain from one evaluation. It prints H(s) expanded
+and factored, poles and zeros (rad/s and Hz) with corner frequencies, f0, Q
+and ζ, the DC gain and high-frequency asymptote, the −3 dB frequencies, the
+peak gain, and the circuit's differential equation. D(s) is normalised so
+that its lowest-order non-zero coefficient is 1.
+
+Examples:
+
+    nodal tf filter.nodal --out out
+    nodal tf filter.nodal --out out --format json
+    nodal tf filter.nodal --zin Vs          # input impedance seen by Vs
+    nodal tf filter.nodal --zout out        # output impedance at node out
+    nodal tf filter.nodal --out out --plot pz.svg`
+}
+
+// tfRequest says which transfer function to extract.
+type tfRequest struct {
+	In, Out, Ref, Zin, Zout string
+}
+
+// tfResult is an extracted transfer function with what it is of.
+type tfResult struct {
+	tf     *analysis.TransferFunction
+	sys    *mna.System
+	what   string // "H(s) = v(out)/v(Vs)", "Zin(s) seen by Vs" ...
+	yName  string // output signal name for the ODE
+	uName  string // input signal name for the ODE
+	unit   string // unit of H: "V/V", "Ω", ...
+	invert bool   // H was inverted (input impedance of a voltage source)
+}
+
+// extractTF builds the system and extracts the requested transfer function.
+func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
+	n := 0
+	for _, s := range []string{q.Out, q.Zin, q.Zout} {
+		if s != "" {
+			n++
+		}
+	}
+	if n != 1 {
+		return nil, errors.New("give exactly one of --out, --zin or --zout")
+	}
+	switch {
+	case q.Zout != "":
+		sys, err := mna.Build(l.circuit, mna.Input{Inject: q.Zout}, mna.Output{Kind: mna.NodeVoltage, Node: q.Zout})
+		if err != nil {
+			return nil, err
+		}
+		tf, err := analysis.Extract(sys)
+		if err != nil {
+			return nil, err
+		}
+		return &tfResult{tf: tf, sys: sys, what: fmt.Sprintf("Zout(s) at node %s (independent sources zeroed)", q.Zout), yName: "v", uName: "i", unit: "Ω"}, nil
+	case q.Zin != "":
+		src, ok := l.circuit.Part(q.Zin)
+		if !ok || (src.Kind != netlist.VSource && src.Kind != netlist.ISource) {
+			return nil, &mna.LookupError{What: "source", Name: q.Zin, Known: sourceNames(l.circuit)}
+		}
+		if src.Kind == netlist.ISource {
+			sys, err := mna.Build(l.circuit, mna.Input{Source: q.Zin}, mna.Output{Kind: mna.NodeVoltage, Node: src.Nodes[0], Ref: src.Nodes[1]})
+			if err != nil {
+				return nil, err
+			}
+			tf, err := analysis.Extract(sys)
+			if err != nil {
+				return nil, err
+			}
+			return &tfResult{tf: tf, sys: sys, what: fmt.Sprintf("Zin(s) seen by %s", q.Zin), yName: "v", uName: "i", unit: "Ω"}, nil
+		}
+		// A voltage source: Y = current delivered per volt; Zin = 1/Y. The
+		// current through the source flows into its + terminal, so the
+		// delivered current is −i(Vs).
+		sys, err := mna.Build(l.circuit, mna.Input{Source: q.Zin}, mna.Output{Kind: mna.PartCurrent, Part: q.Zin})
+		if err != nil {
+			return nil, err
+		}
+		y, err := analysis.Extract(sys)
+		if err != nil {
+			return nil, err
+		}
+		if len(y.Num) == 0 || allZero(y.Num) {
+			return nil, fmt.Errorf("%s delivers no current: its input impedance is infinite", q.Zin)
+		}
+		return &tfResult{tf: invertTF(y, -1), sys: sys, what: fmt.Sprintf("Zin(s) seen by %s", q.Zin), yName: "v", uName: "i", unit: "Ω", invert: true}, nil
+	}
+	out := outputFor(q.Out, q.Ref)
+	sys, err := mna.Build(l.circuit, mna.Input{Source: q.In}, out)
+	if err != nil {
+		return nil, err
+	}
+	tf, err := analysis.Extract(sys)
+	if err != nil {
+		return nil, err
+	}
+	src, _ := l.circuit.Part(sys.Input.Source)
+	unit := "V/V"
+	if src != nil && src.Kind == netlist.ISource {
+		unit = "V/A"
+		if out.Kind == mna.PartCurrent {
+			unit = "A/A"
+		}
+	} else if out.Kind == mna.PartCurrent {
+		unit = "A/V"
+	}
+	return &tfResult{tf: tf, sys: sys, what: fmt.Sprintf("H(s) = %s / %s", analysis.OutputLabel(sys.Output), sys.Input.Source), yName: "y", uName: "u", unit: unit}, nil
+}
+
+// sourceNames lists the independent sources of c.
+func sourceNames(c *netlist.Circuit) []string {
+	var out []string
+	for _, p := range c.Parts {
+		if p.Kind == netlist.VSource || p.Kind == netlist.ISource {
+			out = append(out, p.Name)
+		}
+	}
+	return out
+}
+
+// invertTF returns sign/h: poles and zeros exchanged, D re-normalised.
+func invertTF(h *analysis.TransferFunction, sign float64) *analysis.TransferFunction {
+	num := append([]float64(nil), h.Den...)
+	den := append([]float64(nil), h.Num...)
+	k := lowest(den)
+	for i := range num {
+		num[i] *= sign / k
+	}
+	for i := range den {
+		den[i] /= k
+	}
+	out := &analysis.TransferFunction{Num: num, Den: den, Zeros: append([]complex128(nil), h.Poles...), Poles: append([]complex128(nil), h.Zeros...), Cancelled: h.Cancelled}
+	out.Gain = num[len(num)-1] / den[len(den)-1]
+	return out
+}
+
+// Run prints the transfer function report.
+func (c *tfCmd) Run(e *env) error {
+	l, err := c.load(e)
+	if err != nil {
+		return err
+	}
+	r, err := extractTF(l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref, Zin: c.Zin, Zout: c.Zout})
+	if err != nil {
+		return err
+	}
+	if c.Plot != "" {
+		format, err := plot.FormatFromPath(c.Plot)
+		if err != nil {
+			return err
+		}
+		fig, err := plot.PoleZero(r.tf.Poles, r.tf.Zeros, plot.PoleZeroOptions{Title: "poles (×) and zeros (○) of " + r.what})
+		if err != nil {
+			return err
+		}
+		if err := writeTo(e, c.Plot, []string{c.File, c.Output}, func(w io.Writer) error { return fig.Encode(w, format) }); err != nil {
+			return err
+		}
+	}
+	rep := newTFReport(r)
+	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
+		if c.Format == "json" {
+			return writeJSON(w, rep.json())
+		}
+		return rep.table(w)
+	})
+}
+
+// tfReport holds every figure read off a transfer function, computed once
+// for the table, the JSON and the HTML report.
+type tfReport struct {
+	r         *tfResult
+	dc, hf    analysis.Asymptote
+	bw        *analysis.Bandwidth
+	bwErr     error
+	peak      *analysis.Peak
+	peakErr   error
+	pairs     []analysis.RootPair
+	zeroPairs []analysis.RootPair
+	ode       analysis.ODE
+}
+
+// newTFReport computes the report figures.
+func newTFReport(r *tfResult) *tfReport {
+	rep := &tfReport{r: r, dc: r.tf.DCGain(), hf: r.tf.HighFreqAsymptote(), pairs: r.tf.PolePairs(), zeroPairs: r.tf.ZeroPairs(), ode: r.tf.ODE()}
+	if bw, err := r.tf.F3dB(); err == nil {
+		rep.bw = &bw
+	} else {
+		rep.bwErr = err
+	}
+	if pk, err := r.tf.Peak(); err == nil {
+		rep.peak = &pk
+	} else {
+		rep.peakErr = err
+	}
+	return rep
+}
+
+// rootJSON is a pole or zero in JSON, rad/s.
+type rootJSON struct {
+	Re float64 `json:"re"`
+	Im float64 `json:"im"`
+}
+
+// pairJSON is a complex pair in JSON.
+type pairJSON struct {
+	F0Hz     float64  `json:"f0_hz"`
+	OmegaRad float64  `json:"omega0_rad_s"`
+	Q        *float64 `json:"q"`
+	Zeta     float64  `json:"zeta"`
+}
+
+func rootsJSON(rs []complex128) []rootJSON {
+	out := make([]rootJSON, len(rs))
+	for i, r := range rs {
+		out[i] = rootJSON{real(r), imag(r)}
+	}
+	return out
+}
+
+func pairsJSON(ps []analysis.RootPair) []pairJSON {
+	out := make([]pairJSON, len(ps))
+	for i, p := range ps {
+		out[i] = pairJSON{F0Hz: p.F0Hz, OmegaRad: p.OmegaRad, Q: finiteOrNil(p.Q), Zeta: p.Zeta}
+	}
+	return out
+}
+
+// json is the JSON document of `nodal tf`.
+func (rep *tfReport) json() any {
+	h := rep.r.tf
+	doc := map[string]any{
+		"what":       rep.r.what,
+		"unit":       rep.r.unit,
+		"num":        h.Num,
+		"den":        h.Den,
+		"poles":      rootsJSON(h.Poles),
+		"zeros":      rootsJSON(h.Zeros),
+		"pairs":      pairsJSON(rep.pairs),
+		"zero_pairs": pairsJSON(rep.zeroPairs),
+		"gain":       h.Gain,
+		"factored":   factoredText(h),
+		"ode":        odeText(rep.ode, rep.r.yName, rep.r.uName),
+		"hf_asymptote": map[string]any{
+			"gain": rep.hf.Gain, "power": rep.hf.Power, "slope_db_per_decade": rep.hf.SlopeDBPerDecade,
+		},
+	}
+	if rep.dc.Power == 0 {
+		doc["gain_dc"] = rep.dc.Gain
+		doc["gain_dc_db"] = finiteOrNil(rep.dc.GainDB)
+	} else if rep.dc.Power > 0 {
+		doc["gain_dc"] = 0.0
+	} else {
+		doc["gain_dc"] = nil
+	}
+	if len(h.Cancelled) > 0 {
+		doc["cancelled"] = rootsJSON(h.Cancelled)
+	}
+	if rep.bw != nil {
+		doc["f3db_hz"] = rep.bw.CrossingsHz
+		doc["f3db_ref_db"] = rep.bw.RefDB
+	}
+	if rep.peak != nil {
+		doc["peak_db"] = rep.peak.GainDB
+		doc["peak_hz"] = finiteOrNil(rep.peak.FreqHz)
+	}
+	return doc
+}
+
+// table prints the report for the terminal.
+func (rep *tfReport) table(w io.Writer) error {
+	h := rep.r.tf
+	fmt.Fprintf(w, "%s  [%s]\n\n", rep.r.what, rep.r.unit)
+	fmt.Fprintf(w, "expanded:   %s\n", rationalText(h.Num, h.Den))
+	fmt.Fprintf(w, "factored:   %s\n", factoredText(h))
+	fmt.Fprintf(w, "zero-pole:  %s\n", zpkText(h))
+	fmt.Fprintln(w, "            (s and every frequency in rad/s)")
+	fmt.Fprintf(w, "\norder %d; differential equation (%s output, %s input, t in s):\n    %s\n", h.Order(), rep.r.yName, rep.r.uName, odeText(rep.ode, rep.r.yName, rep.r.uName))
+	for _, cz := range h.Cancelled {
+		fmt.Fprintf(w, "cancelled pole-zero pair at s = %s rad/s (a mode the output does not see)\n", complexText(cz))
+	}
+	fmt.Fprintln(w)
+	if err := rootsTable(w, "poles", h.Poles); err != nil {
+		return err
+	}
+	if len(h.Zeros) > 0 {
+		fmt.Fprintln(w)
+		if err := rootsTable(w, "zeros", h.Zeros); err != nil {
+			return err
+		}
+	} else {
+		fmt.Fprintln(w, "\nno finite zeros")
+	}
+	fmt.Fprintln(w)
+	t := newTable(w, "figure", "value")
+	rows := rep.figureRows()
+	for _, row := range rows {
+		if err := t.row(row[0], row[1]); err != nil {
+			return err
+		}
+	}
+	return t.render()
+}
+
+// figureRows are the name/value rows of the gain figures.
+func (rep *tfReport) figureRows() [][2]string {
+	var rows [][2]string
+	switch {
+	case rep.dc.Power == 0:
+		rows = append(rows, [2]string{"DC gain", fmt.Sprintf("%s (%s dB)", num(rep.dc.Gain), fixed(rep.dc.GainDB, 3))})
+	case rep.dc.Power > 0:
+		rows = append(rows, [2]string{"DC gain", fmt.Sprintf("0 (rises %+g dB/decade from DC)", rep.dc.SlopeDBPerDecade)})
+	default:
+		rows = append(rows, [2]string{"DC gain", fmt.Sprintf("unbounded (integrator, %+g dB/decade)", rep.dc.SlopeDBPerDecade)})
+	}
+	if rep.hf.Power == 0 {
+		rows = append(rows, [2]string{"high-frequency gain", fmt.Sprintf("%s (%s dB), flat", num(rep.hf.Gain), fixed(rep.hf.GainDB, 3))})
+	} else {
+		rows = append(rows, [2]string{"high-frequency asymptote", fmt.Sprintf("%s·s%s: %+g dB/decade", engNumber(rep.hf.Gain), superscript(rep.hf.Power), rep.hf.SlopeDBPerDecade)})
+	}
+	if rep.bw != nil {
+		var fs []string
+		for _, f := range rep.bw.CrossingsHz {
+			fs = append(fs, netlist.FormatEng(f, "Hz"))
+		}
+		v := "none"
+		if len(fs) > 0 {
+			v = strings.Join(fs, ", ")
+		}
+		rows = append(rows, [2]string{"−3 dB frequencies", fmt.Sprintf("%s (reference %s dB)", v, fixed(rep.bw.RefDB, 3))})
+	} else {
+		rows = append(rows, [2]string{"−3 dB frequencies", "none: " + rep.bwErr.Error()})
+	}
+	if rep.peak != nil {
+		where := netlist.FormatEng(rep.peak.FreqHz, "Hz")
+		if rep.peak.OmegaRad == 0 {
+			where = "DC"
+		} else if math.IsInf(rep.peak.OmegaRad, 1) {
+			where = "the high-frequency limit"
+		}
+		rows = append(rows, [2]string{"peak gain", fmt.Sprintf("%s dB at %s", fixed(rep.peak.GainDB, 3), where)})
+	} else {
+		rows = append(rows, [2]string{"peak gain", "none: " + rep.peakErr.Error()})
+	}
+	return rows
+}
+
+// rootsTable prints poles or zeros with their meaning.
+func rootsTable(w io.Writer, what string, roots []complex128) error {
+	fmt.Fprintln(w, what)
+	t := newTable(w, "re_rad_s", "im_rad_s", "freq_hz", "meaning")
+	for _, r := range roots {
+		mag := math.Hypot(real(r), imag(r))
+		meaning := ""
+		switch {
+		case r == 0:
+			meaning = "at s = 0"
+		case imag(r) == 0:
+			meaning = "real: corner " + netlist.FormatEng(mag/(2*math.Pi), "Hz")
+			if real(r) > 0 {
+				meaning += ", right half-plane"
+			}
+		default:
+			q := mag / (-2 * real(r))
+			zeta := -real(r) / mag
+			qs := "∞"
+			if !math.IsInf(q, 0) && real(r) != 0 {
+				qs = trimFloat(q, 4)
+			}
+			meaning = fmt.Sprintf("pair: f0 %s, Q %s, ζ %s", netlist.FormatEng(mag/(2*math.Pi), "Hz"), qs, trimFloat(zeta, 4))
+			if real(r) > 0 {
+				meaning += ", right half-plane"
+			}
+		}
+		if err := t.row(num(real(r)), num(imag(r)), num(mag/(2*math.Pi)), meaning); err != nil {
+			return err
+		}
+	}
+	return t.render()
+}
