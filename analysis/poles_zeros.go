@@ -53,6 +53,10 @@ const (
 	// (a perturbed Jordan block of size k splits by ε^{1/k}); they are
 	// replaced by their mean, which is accurate to O(ε).
 	clusterTol = 1e-5
+	// clusterAbs: in scaled units (multiples of the characteristic
+	// frequency), roots closer than clusterAbs are one multiple root too;
+	// this catches a multiple root at s = 0, split by ±√ε.
+	clusterAbs = 1e-7
 )
 
 // reducedPencil is a pencil A + sE with E non-singular having the same
@@ -398,8 +402,8 @@ func polishRoots(a, e *mat.Dense, roots []complex128) {
 				break // not in the basin: keep the eigen-solver's value
 			}
 			s -= d
-			if cmplx.Abs(d) <= 1e-15*scale {
-				break
+			if cmplx.Abs(d) <= 1e-9*scale {
+				break // quadratic convergence: the next step is below 1e-18
 			}
 		}
 		if partner >= 0 && imag(s) <= 0 {
@@ -419,11 +423,17 @@ func inCluster(roots []complex128, i int) bool {
 		if j == i || (imag(roots[i]) != 0 && r == cmplx.Conj(roots[i])) {
 			continue
 		}
-		if cmplx.Abs(r-roots[i]) <= clusterTol*cmplx.Abs(roots[i]) {
+		if near(r, roots[i]) {
 			return true
 		}
 	}
 	return false
+}
+
+// near reports whether two roots belong to one cluster (clusterTol,
+// clusterAbs).
+func near(a, b complex128) bool {
+	return cmplx.Abs(a-b) <= math.Max(clusterTol*math.Max(cmplx.Abs(a), cmplx.Abs(b)), clusterAbs)
 }
 
 // mergeClusters replaces each group of roots within clusterTol of each
@@ -444,7 +454,7 @@ func mergeClusters(roots []complex128) {
 		for k := 0; k < len(members); k++ {
 			ri := roots[members[k]]
 			for j := 0; j < n; j++ {
-				if group[j] < 0 && cmplx.Abs(roots[j]-ri) <= clusterTol*math.Max(cmplx.Abs(ri), cmplx.Abs(roots[j])) {
+				if group[j] < 0 && near(roots[j], ri) {
 					group[j] = i
 					members = append(members, j)
 				}

@@ -4,6 +4,7 @@ import (
 	"math"
 	"math/cmplx"
 	"sort"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -402,5 +403,32 @@ func TestDegenerateTransferFunctions(t *testing.T) {
 	checkInvariants(t, sys, tf, 1e-12, wideOmegas...)
 	if len(tf.Poles) != 0 || len(tf.Zeros) != 1 || tf.Zeros[0] != 0 || math.Abs(math.Abs(tf.Gain)-1e-6) > 1e-18 {
 		t.Errorf("capacitor current: %+v, want ±s·1µF", tf)
+	}
+}
+
+func TestExtractErrors(t *testing.T) {
+	good := func() *mna.System {
+		return newStamper().V("in", "0").R("in", "o", 1e3).C("o", "0", 1e-9).Out("o", "0").System()
+	}
+	nan := good()
+	nan.G.Set(0, 0, math.NaN())
+	short := good()
+	short.L = short.L[:1]
+	floating := newStamper().V("in", "0").R("in", "a", 1e3).C("b", "c", 1e-9).R("b", "c", 1e3).Out("a", "0").System()
+	cases := []struct {
+		name string
+		sys  *mna.System
+		want string
+	}{
+		{"nil", nil, "no system"},
+		{"nan", nan, "non-finite"},
+		{"short L", short, "L has"},
+		{"floating nodes", floating, "singular"},
+	}
+	for _, c := range cases {
+		_, err := Extract(c.sys)
+		if err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: error %v, want one containing %q", c.name, err, c.want)
+		}
 	}
 }

@@ -1,0 +1,208 @@
+package analysis
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+)
+
+// MetricKind is what a Metric measures.
+type MetricKind int
+
+const (
+	// MetricGainAt is "gain@FREQ": 20·log10|H(j2πf)|, dB.
+	MetricGainAt MetricKind = iota + 1
+	// MetricPhaseAt is "phase@FREQ": the phase of H(j2πf), degrees, as
+	// TransferFunction.PhaseDeg (continuous sum of factor phases).
+	MetricPhaseAt
+	// MetricF3dB is "f3db": the lowest −3 dB frequency, Hz (see F3dB for
+	// the reference gain: DC gain, high-pass gain, or band-pass peak).
+	MetricF3dB
+	// MetricPeak is "peak": the largest gain on the frequency axis, dB.
+	MetricPeak
+	// MetricFPeak is "fpeak": where the peak occurs, Hz (0 at DC).
+	MetricFPeak
+	// MetricF0 is "f0": the natural frequency of the dominant complex pole
+	// pair, Hz.
+	MetricF0
+	// MetricQ is "q": the quality factor of the dominant complex pole pair.
+	MetricQ
+	// MetricDC is "dc": the DC gain, dB (−Inf for a zero at DC, +Inf for
+	// a pole at DC).
+	MetricDC
+)
+
+// metricNames spells every metric; FREQ stands for a frequency.
+var metricNames = []string{"gain@FREQ", "phase@FREQ", "f3db", "peak", "fpeak", "f0", "q", "dc"}
+
+// Metric is a parsed requirement or tolerance metric, as spelled in a
+// `require` statement or on the command line.
+//
+// Invariant: FreqHz > 0 (finite) exactly when Kind is MetricGainAt or
+// MetricPhaseAt.
+type Metric struct {
+	Kind   MetricKind
+	FreqHz float64 // the frequency after '@', Hz
+	Name   string  // the spelling parsed
+}
+
+// String returns the metric as it was written.
+func (m Metric) String() string { return m.Name }
+
+// Unit returns the unit of the metric's value: "dB", "deg", "Hz" or "".
+func (m Metric) Unit() string {
+	switch m.Kind {
+	case MetricGainAt, MetricPeak, MetricDC:
+		return "dB"
+	case MetricPhaseAt:
+		return "deg"
+	case MetricF3dB, MetricFPeak, MetricF0:
+		return "Hz"
+	}
+	return ""
+}
+
+// ErrNoPolePair means the q or f0 metric was asked of a transfer function
+// without complex poles.
+var ErrNoPolePair = errors.New("no complex pole pair")
+
+// ParseMetric parses a metric name: gain@FREQ, phase@FREQ, f3db, peak,
+// fpeak, f0, q or dc (exact spelling). FREQ is a positive number with an
+// optional SI prefix (f p n u µ m k M G T) and an optional "Hz", e.g.
+// 1kHz, 20k, 500Hz, 2.2MHz. Unknown names give an error listing the valid
+// ones.
+func ParseMetric(name string) (Metric, error) {
+	m := Metric{Name: name}
+	if at := strings.IndexByte(name, '@'); at >= 0 {
+		switch name[:at] {
+		case "gain":
+			m.Kind = MetricGainAt
+		case "phase":
+			m.Kind = MetricPhaseAt
+		default:
+			return Metric{}, unknownMetric(name)
+		}
+		f, err := parseFreqHz(name[at+1:])
+		if err != nil {
+			return Metric{}, fmt.Errorf("metric %q: %w", name, err)
+		}
+		m.FreqHz = f
+		return m, nil
+	}
+	switch name {
+	case "f3db":
+		m.Kind = MetricF3dB
+	case "peak":
+		m.Kind = MetricPeak
+	case "fpeak":
+		m.Kind = MetricFPeak
+	case "f0":
+		m.Kind = MetricF0
+	case "q":
+		m.Kind = MetricQ
+	case "dc":
+		m.Kind = MetricDC
+	default:
+		return Metric{}, unknownMetric(name)
+	}
+	return m, nil
+}
+
+func unknownMetric(name string) error {
+	return fmt.Errorf("unknown metric %q: valid metrics are %s", name, strings.Join(metricNames, ", "))
+}
+
+// siPrefixes maps an SI prefix to its factor.
+var siPrefixes = map[string]float64{
+	"f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3,
+	"k": 1e3, "M": 1e6, "G": 1e9, "T": 1e12,
+}
+
+// parseFreqHz parses a positive frequency with optional SI prefix and
+// optional "Hz" suffix.
+func parseFreqHz(s string) (float64, error) {
+	body := strings.TrimSuffix(s, "Hz")
+	mult := 1.0
+	for p, f := range siPrefixes {
+		if strings.HasSuffix(body, p) {
+			body, mult = strings.TrimSuffix(body, p), f
+			break
+		}
+	}
+	v, err := strconv.ParseFloat(body, 64)
+	if err != nil || body == "" || strings.ContainsAny(body, "xXpP_") || strings.EqualFold(body, "inf") || strings.EqualFold(body, "nan") {
+		return 0, fmt.Errorf("frequency %q: want a number with optional SI prefix and Hz, e.g. 1kHz", s)
+	}
+	v *= mult
+	if !(v > 0) || math.IsInf(v, 0) {
+		return 0, fmt.Errorf("frequency %q must be positive and finite", s)
+	}
+	return v, nil
+}
+
+// DominantPair returns the dominant complex pole pair: the one closest to
+// the jω axis (smallest |Re p|, i.e. the slowest-decaying oscillation),
+// the lower f0 on a tie. It returns ErrNoPolePair when there is none.
+func (h *TransferFunction) DominantPair() (RootPair, error) {
+	pairs := h.PolePairs()
+	if len(pairs) == 0 {
+		return RootPair{}, ErrNoPolePair
+	}
+	best := pairs[0]
+	for _, p := range pairs[1:] {
+		d, db := math.Abs(real(p.Root)), math.Abs(real(best.Root))
+		if d < db || (d == db && p.OmegaRad < best.OmegaRad) {
+			best = p
+		}
+	}
+	return best, nil
+}
+
+// Eval returns the metric's value for tf in the metric's unit (Unit).
+func (m Metric) Eval(tf *TransferFunction) (float64, error) {
+	switch m.Kind {
+	case MetricGainAt:
+		return tf.GainDB(2 * math.Pi * m.FreqHz), nil
+	case MetricPhaseAt:
+		return tf.PhaseDeg(2 * math.Pi * m.FreqHz), nil
+	case MetricF3dB:
+		bw, err := tf.F3dB()
+		if err != nil {
+			return 0, fmt.Errorf("%s: %w", m.Name, err)
+		}
+		if len(bw.CrossingsHz) == 0 {
+			return 0, fmt.Errorf("%s: the gain never falls 3 dB below %.4g dB", m.Name, bw.RefDB)
+		}
+		return bw.CrossingsHz[0], nil
+	case MetricPeak, MetricFPeak:
+		pk, err := tf.Peak()
+		if err != nil {
+			return 0, fmt.Errorf("%s: %w", m.Name, err)
+		}
+		if m.Kind == MetricPeak {
+			return pk.GainDB, nil
+		}
+		return pk.FreqHz, nil
+	case MetricF0, MetricQ:
+		p, err := tf.DominantPair()
+		if err != nil {
+			return 0, fmt.Errorf("%s: %w", m.Name, err)
+		}
+		if m.Kind == MetricF0 {
+			return p.F0Hz, nil
+		}
+		return p.Q, nil
+	case MetricDC:
+		dc := tf.DCGain()
+		switch {
+		case tf.Gain == 0 || dc.Power > 0:
+			return math.Inf(-1), nil
+		case dc.Power < 0:
+			return math.Inf(1), nil
+		}
+		return dc.GainDB, nil
+	}
+	return 0, fmt.Errorf("metric %q not parsed", m.Name)
+}
