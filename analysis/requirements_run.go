@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/rand/v2"
 
+	"nodal/mna"
 	"nodal/netlist"
 )
 
@@ -210,4 +211,63 @@ func ones(n int) []float64 {
 		f[i] = 1
 	}
 	return f
+}
+
+// RequirementMetrics evaluates the metrics of a list of requirements on the
+// transfer function from one input to one output: the standard
+// MetricsFunc of `verify` and `snap`.
+type RequirementMetrics struct {
+	metrics []Metric
+	in      mna.Input
+	out     mna.Output
+}
+
+// NewRequirementMetrics parses the metric of every requirement. An
+// unknown metric is an error naming the requirement and the valid metrics.
+func NewRequirementMetrics(reqs []netlist.Requirement, in mna.Input, out mna.Output) (*RequirementMetrics, error) {
+	r := &RequirementMetrics{in: in, out: out}
+	for _, q := range reqs {
+		m, err := ParseMetric(q.Metric)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", q.Pos, err)
+		}
+		r.metrics = append(r.metrics, m)
+	}
+	return r, nil
+}
+
+// Eval returns one value per requirement for c, NaN where the metric does
+// not exist for this circuit (Explain says why). It fails when the MNA
+// system cannot be built or its transfer function extracted.
+func (r *RequirementMetrics) Eval(c *netlist.Circuit) ([]float64, error) {
+	vals, _, err := r.evaluate(c)
+	return vals, err
+}
+
+// Explain returns, per requirement, the reason its metric does not exist
+// for c (nil where it does), or the error that stops the analysis.
+func (r *RequirementMetrics) Explain(c *netlist.Circuit) ([]error, error) {
+	_, why, err := r.evaluate(c)
+	return why, err
+}
+
+func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, error) {
+	sys, err := mna.Build(c, r.in, r.out)
+	if err != nil {
+		return nil, nil, err
+	}
+	tf, err := Extract(sys)
+	if err != nil {
+		return nil, nil, err
+	}
+	vals := make([]float64, len(r.metrics))
+	why := make([]error, len(r.metrics))
+	for i, m := range r.metrics {
+		v, err := m.Eval(tf)
+		if err != nil {
+			v, why[i] = math.NaN(), err
+		}
+		vals[i] = v
+	}
+	return vals, why, nil
 }

@@ -4,8 +4,10 @@ import (
 	"context"
 	"errors"
 	"math"
+	"strings"
 	"testing"
 
+	"nodal/mna"
 	"nodal/netlist"
 )
 
@@ -345,5 +347,44 @@ func TestVerifyErrors(t *testing.T) {
 	cancel()
 	if _, err := Verify(ctx, c, rcCorner, VerifyOptions{Runs: 10}); !errors.Is(err, context.Canceled) {
 		t.Errorf("cancelled: %v", err)
+	}
+}
+
+// TestRequirementMetricsRC evaluates requirement metrics of the RC low-pass
+// through MNA and Extract: f3db = 1/(2πRC) and |H(j·2πf0)| = 1/√2, i.e.
+// −10·log10(2) = −3.0103 dB (first-order low-pass, any circuits textbook);
+// q does not exist for a single real pole.
+func TestRequirementMetricsRC(t *testing.T) {
+	c := loadRC(t, "require f3db below 1.6kHz\nrequire gain@1.5915494kHz within -3.1dB..-2.9dB\nrequire q above 0.5\n")
+	rm, err := NewRequirementMetrics(c.Requirements, mna.Input{}, mna.Output{Kind: mna.NodeVoltage, Node: "out"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	vals, err := rm.Eval(c)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f0 := 1 / (2 * math.Pi * 10e3 * 10e-9)
+	if math.Abs(vals[0]-f0) > 1e-9*f0 {
+		t.Errorf("f3db %v, want %v", vals[0], f0)
+	}
+	if want := -10 * math.Log10(2); math.Abs(vals[1]-want) > 1e-6 {
+		t.Errorf("gain at f0 %v dB, want %v", vals[1], want)
+	}
+	why, err := rm.Explain(c)
+	if err != nil || !math.IsNaN(vals[2]) || !errors.Is(why[2], ErrNoPolePair) || why[0] != nil {
+		t.Errorf("q: %v, why %v, err %v", vals[2], why, err)
+	}
+	// The full path agrees with the closed-form evaluator on the worst case.
+	res, err := Verify(context.Background(), c, rm.Eval, VerifyOptions{Runs: 50, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := res.Verdicts[0]; math.Abs(d.WorstMin-f0/(1.05*1.05)) > 1e-6*f0 || math.Abs(d.WorstMax-f0/(0.95*0.95)) > 1e-6*f0 {
+		t.Errorf("worst %v..%v", d.WorstMin, d.WorstMax)
+	}
+	bad := []netlist.Requirement{{Metric: "bandwidth"}}
+	if _, err := NewRequirementMetrics(bad, mna.Input{}, mna.Output{}); err == nil || !strings.Contains(err.Error(), "f3db") {
+		t.Errorf("unknown metric: %v", err)
 	}
 }
