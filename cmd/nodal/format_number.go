@@ -3,6 +3,7 @@ package main
 import (
 	"math"
 	"strconv"
+	"strings"
 )
 
 // pi is π, spelled short for unit conversions.
@@ -39,5 +40,10 @@ func fixed(v float64, decimals int) string {
 		}
 		return "-inf"
 	}
-	return strconv.FormatFloat(v, 'f', decimals, 64)
+	s := strconv.FormatFloat(v, 'f', decimals, 64)
+	if strings.Trim(s, "-0.") == "" {
+		// −0.000 reads as a sign where there is none.
+		return strings.TrimPrefix(s, "-")
+	}
+	return s
 }

@@ -361,7 +361,9 @@ func (rep *tfReport) figureRows() [][2]string {
 	} else {
 		rows = append(rows, [2]string{"−3 dB frequencies", "none: " + rep.bwErr.Error()})
 	}
-	if rep.peak != nil {
+	if rep.peak != nil && rep.bw != nil && rep.peak.GainDB-rep.bw.RefDB < 0.01 {
+		rows = append(rows, [2]string{"peak gain", "no peaking (within 0.01 dB of the reference)"})
+	} else if rep.peak != nil {
 		where := netlist.FormatEng(rep.peak.FreqHz, "Hz")
 		if rep.peak.OmegaRad == 0 {
 			where = "DC"
