@@ -4,88 +4,75 @@ import (
 	"context"
 	"fmt"
 	"math"
-	"math/rand/v2"
 
 	"nodal/mna"
 	"nodal/netlist"
 )
-
-// MetricsFunc evaluates a circuit's requirement metrics: one value per
-// requirement of the circuit, each in the requirement's unit, NaN for a
-// value that does not exist (no -3 dB point, say). An error means the
-// circuit could not be analysed at all.
-type MetricsFunc func(c *netlist.Circuit) ([]float64, error)
 
 // VerifyOptions controls Verify.
 type VerifyOptions struct {
 	// Runs is the number of Monte Carlo runs; 0 skips Monte Carlo (the
 	// yields are then NaN).
 	Runs int
-	// Seed makes the Monte Carlo draws reproducible.
+	// Seed makes the Monte Carlo draws reproducible: run i uses the same
+	// stream as run i of MonteCarlo with this seed, so verify and the
+	// tolerance analysis see the same builds.
 	Seed uint64
 	// MaxExhaustive is the most toleranced items for which every vertex of
-	// the tolerance box (2^n corners) is evaluated; above it the corners
-	// follow the sign of each item's one-at-a-time effect on each metric
-	// (two corners per requirement). Zero means 10.
+	// the tolerance box (2^n corners) is evaluated; above it each
+	// requirement gets the two corners its metric's sensitivity signs point
+	// to, as in WorstCase. ≤ 0 means DefaultMaxExhaustiveItems.
 	MaxExhaustive int
+	Workers       int            // goroutines; ≤ 0 means runtime.NumCPU()
+	Progress      func(done int) // called after each Monte Carlo run, as in MonteCarloOptions
 }
 
 // VerifyResult is a Verification with the count of varied circuits that
 // could not be analysed (they count as failing every requirement).
 type VerifyResult struct {
 	*Verification
-	Failed       int    // corners and runs whose circuit could not be analysed
-	FirstFailure string // the first such error, for the report
+	Failed       int   // corners and runs whose circuit could not be analysed
+	FirstFailure error // the error of the first of them (corners first, then runs by index)
 }
 
-// Verify evaluates every requirement of c at nominal values, at the
-// worst-case corners of the toleranced items (each at 1 ± Tol.Rel; for a
-// normal distribution Tol.Rel is 3σ) and over opt.Runs Monte Carlo draws
-// (uniform over 1 ± Tol.Rel, or normal with σ = Tol.Rel/3, one draw per
-// Variation so a toleranced let is shared by all its uses).
-func Verify(ctx context.Context, c *netlist.Circuit, eval MetricsFunc, opt VerifyOptions) (*VerifyResult, error) {
-	if len(c.Requirements) == 0 {
+// Verify evaluates ev, whose metrics are those of c's requirements in
+// order, at nominal values, at the worst-case corners of the toleranced
+// items (each at 1 ± Tol.Rel; for a normal distribution Tol.Rel is 3σ) and
+// over opt.Runs Monte Carlo draws (drawn as by MonteCarlo: uniform over
+// 1 ± Tol.Rel or normal with σ = Tol.Rel/3, one draw per Variation so a
+// toleranced let is shared by all its uses), and judges each requirement
+// (Judge). ev may return NaN for a metric that does not exist in a
+// circuit; that value fails. A nominal evaluation error is an error; a
+// varied circuit whose evaluation fails counts as failing.
+func Verify(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt VerifyOptions) (*VerifyResult, error) {
+	n := len(c.Requirements)
+	if n == 0 {
 		return nil, fmt.Errorf("verify: the circuit has no require statements")
 	}
 	if opt.Runs < 0 {
 		return nil, fmt.Errorf("verify: runs must be ≥ 0, got %d", opt.Runs)
 	}
-	nominal, err := eval(c)
-	if err != nil {
-		return nil, fmt.Errorf("verify: at nominal values: %w", err)
+	if m := len(ev.Metrics()); m != n {
+		return nil, fmt.Errorf("verify: the evaluator has %d metrics for %d requirements", m, n)
 	}
-	if len(nominal) != len(c.Requirements) {
-		return nil, fmt.Errorf("verify: %d metric values for %d requirements", len(nominal), len(c.Requirements))
-	}
-	res := &VerifyResult{}
-	at := func(f []float64) ([]float64, error) {
-		if err := ctx.Err(); err != nil {
-			return nil, err
-		}
-		vals, err := evalVaried(c, eval, f)
-		if err != nil {
-			res.Failed++
-			if res.FirstFailure == "" {
-				res.FirstFailure = err.Error()
-			}
-			vals = nanRow(len(nominal))
-		}
-		return vals, nil
-	}
-	corners, err := worstCorners(c.Variations, nominal, opt.MaxExhaustive, at)
+	nominal, err := evalNominal("verify", c, ev)
 	if err != nil {
 		return nil, err
 	}
-	rng := rand.New(rand.NewPCG(opt.Seed, opt.Seed^0x9e3779b97f4a7c15))
-	runs := make([][]float64, 0, opt.Runs)
-	for range opt.Runs {
-		row, err := at(drawFactors(rng, c.Variations))
-		if err != nil {
-			return nil, err
-		}
-		runs = append(runs, row)
+	res := &VerifyResult{}
+	corners, err := cornerFactors(ctx, c, ev, opt)
+	if err != nil {
+		return nil, err
 	}
-	v, err := Judge(c.Requirements, nominal, corners, runs)
+	cornerRows, err := evalRows(ctx, c, ev, len(corners), opt.Workers, nil, func(_, i int, dst []float64) { copy(dst, corners[i]) }, res)
+	if err != nil {
+		return nil, err
+	}
+	runRows, err := evalRows(ctx, c, ev, opt.Runs, opt.Workers, opt.Progress, func(_, i int, dst []float64) { drawFactors(c.Variations, opt.Seed, i, dst) }, res)
+	if err != nil {
+		return nil, err
+	}
+	v, err := Judge(c.Requirements, nominal, cornerRows, runRows)
 	if err != nil {
 		return nil, err
 	}
@@ -93,130 +80,101 @@ func Verify(ctx context.Context, c *netlist.Circuit, eval MetricsFunc, opt Verif
 	return res, nil
 }
 
-// evalVaried evaluates the circuit with multiplicative factors on its
-// Variations.
-func evalVaried(c *netlist.Circuit, eval MetricsFunc, factors []float64) ([]float64, error) {
-	d, err := c.Vary(factors)
-	if err != nil {
-		return nil, err
-	}
-	vals, err := eval(d)
-	if err != nil {
-		return nil, err
-	}
-	if len(vals) != len(c.Requirements) {
-		return nil, fmt.Errorf("%d metric values for %d requirements", len(vals), len(c.Requirements))
-	}
-	return vals, nil
-}
-
-func nanRow(n int) []float64 {
-	r := make([]float64, n)
-	for i := range r {
-		r[i] = math.NaN()
-	}
-	return r
-}
-
-// drawFactors draws one factor per Variation.
-func drawFactors(rng *rand.Rand, vars []netlist.Variation) []float64 {
-	f := make([]float64, len(vars))
-	for i, v := range vars {
-		if v.Tol.Dist == netlist.Normal {
-			f[i] = 1 + v.Tol.Rel/3*rng.NormFloat64()
-		} else {
-			f[i] = 1 + v.Tol.Rel*(2*rng.Float64()-1)
-		}
-	}
-	return f
-}
-
-// worstCorners evaluates the worst-case corners and returns their metric
-// rows. at evaluates one factor vector.
-func worstCorners(vars []netlist.Variation, nominal []float64, maxExhaustive int, at func([]float64) ([]float64, error)) ([][]float64, error) {
-	n := len(vars)
-	if n == 0 {
+// evalRows evaluates ev on count varied circuits, the factors of job i
+// filled by factors, on workers goroutines. A failed evaluation gives a
+// NaN row and is counted in res.
+func evalRows(ctx context.Context, c *netlist.Circuit, ev Evaluator, count, workers int, progress func(int), factors func(w, i int, dst []float64), res *VerifyResult) ([][]float64, error) {
+	if count == 0 {
 		return nil, nil
 	}
-	if maxExhaustive <= 0 {
-		maxExhaustive = 10
+	m := len(ev.Metrics())
+	rows := make([][]float64, count)
+	errs := make([]error, count)
+	buf := make([][]float64, resolveWorkers(workers, count))
+	for w := range buf {
+		buf[w] = make([]float64, len(c.Variations))
 	}
-	var out [][]float64
-	if n <= maxExhaustive {
-		for mask := 0; mask < 1<<n; mask++ {
-			f := make([]float64, n)
-			for i, v := range vars {
-				f[i] = 1 - v.Tol.Rel
-				if mask&(1<<i) != 0 {
-					f[i] = 1 + v.Tol.Rel
-				}
-			}
-			row, err := at(f)
-			if err != nil {
-				return nil, err
-			}
-			out = append(out, row)
+	_, cancelled := forEachJob(ctx, count, workers, progress, func(w, i int) {
+		factors(w, i, buf[w])
+		rows[i], errs[i] = evalVaried(c, ev, buf[w], m)
+	})
+	if cancelled {
+		return nil, fmt.Errorf("verify: %w", context.Cause(ctx))
+	}
+	for i, err := range errs {
+		if err == nil {
+			continue
 		}
-		return out, nil
+		if res.Failed == 0 {
+			res.FirstFailure = err
+		}
+		res.Failed++
+		rows[i] = make([]float64, m)
+		for j := range rows[i] {
+			rows[i][j] = math.NaN()
+		}
 	}
-	// One-at-a-time effects: sign[i][j] is the direction in which raising
-	// item i moves metric j.
-	sign := make([][]float64, n)
-	for i, v := range vars {
-		f := ones(n)
-		f[i] = 1 + v.Tol.Rel
-		row, err := at(f)
+	return rows, nil
+}
+
+// cornerFactors returns the factor vectors of the worst-case corners, as
+// WorstCase chooses them: every vertex for up to MaxExhaustive items,
+// otherwise two per metric from the signs of the sensitivities (an item
+// with zero or undefined sensitivity is put low).
+func cornerFactors(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt VerifyOptions) ([][]float64, error) {
+	k := len(c.Variations)
+	if k == 0 {
+		return nil, nil
+	}
+	limit := opt.MaxExhaustive
+	if limit <= 0 {
+		limit = DefaultMaxExhaustiveItems
+	}
+	var high [][]bool
+	if k <= limit {
+		for mask := 0; mask < 1<<k; mask++ {
+			h := make([]bool, k)
+			for i := range h {
+				h[i] = mask&(1<<i) != 0
+			}
+			high = append(high, h)
+		}
+	} else {
+		d, err := derivatives(ctx, c, ev, SensitivityOptions{Workers: opt.Workers})
 		if err != nil {
-			return nil, err
+			return nil, fmt.Errorf("verify: worst-case corners: %w", err)
 		}
-		sign[i] = make([]float64, len(nominal))
-		for j := range nominal {
-			if row[j] < nominal[j] {
-				sign[i][j] = -1
-			} else {
-				sign[i][j] = 1
+		for j := range ev.Metrics() {
+			up, down := make([]bool, k), make([]bool, k)
+			for i := range k {
+				up[i], down[i] = d[i][j] > 0, d[i][j] < 0
 			}
+			high = append(high, up, down)
 		}
 	}
-	seen := map[string]bool{}
-	for j := range nominal {
-		for _, dir := range []float64{1, -1} {
-			f := make([]float64, n)
-			key := make([]byte, n)
-			for i, v := range vars {
-				s := dir * sign[i][j]
-				f[i] = 1 + s*v.Tol.Rel
-				key[i] = '+'
-				if s < 0 {
-					key[i] = '-'
-				}
+	out := make([][]float64, len(high))
+	for n, h := range high {
+		out[n] = make([]float64, k)
+		for i, v := range c.Variations {
+			out[n][i] = 1 - v.Tol.Rel
+			if h[i] {
+				out[n][i] = 1 + v.Tol.Rel
 			}
-			if seen[string(key)] {
-				continue
-			}
-			seen[string(key)] = true
-			row, err := at(f)
-			if err != nil {
-				return nil, err
-			}
-			out = append(out, row)
 		}
 	}
 	return out, nil
 }
 
-func ones(n int) []float64 {
-	f := make([]float64, n)
-	for i := range f {
-		f[i] = 1
-	}
-	return f
-}
-
 // RequirementMetrics evaluates the metrics of a list of requirements on the
 // transfer function from one input to one output: the standard
 // MetricsFunc of `verify` and `snap`.
+//
+// It is an Evaluator, and unlike MetricEvaluator it does not fail a
+// circuit in which a metric does not exist: that value is NaN (and fails
+// its requirement), and an infinite value (dc of a high-pass, −Inf dB) is
+// kept, since `dc below -40dB` holds for it.
 type RequirementMetrics struct {
+	names   []string
 	metrics []Metric
 	in      mna.Input
 	out     mna.Output
@@ -232,9 +190,13 @@ func NewRequirementMetrics(reqs []netlist.Requirement, in mna.Input, out mna.Out
 			return nil, fmt.Errorf("%s: %w", q.Pos, err)
 		}
 		r.metrics = append(r.metrics, m)
+		r.names = append(r.names, q.Metric)
 	}
 	return r, nil
 }
+
+// Metrics returns the requirement metrics as written, in order.
+func (r *RequirementMetrics) Metrics() []string { return r.names }
 
 // Eval returns one value per requirement for c, NaN where the metric does
 // not exist for this circuit (Explain says why). It fails when the MNA

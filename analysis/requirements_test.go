@@ -5,6 +5,7 @@ import (
 	"errors"
 	"math"
 	"strings"
+	"sync/atomic"
 	"testing"
 
 	"nodal/mna"
@@ -172,6 +173,24 @@ func rcCorner(c *netlist.Circuit) ([]float64, error) {
 	return out, nil
 }
 
+// funcEval is an Evaluator from a function, with one metric per
+// requirement of the circuit it is made for.
+type funcEval struct {
+	names []string
+	fn    func(c *netlist.Circuit) ([]float64, error)
+}
+
+func (f funcEval) Metrics() []string                          { return f.names }
+func (f funcEval) Eval(c *netlist.Circuit) ([]float64, error) { return f.fn(c) }
+
+func evalFor(c *netlist.Circuit, fn func(c *netlist.Circuit) ([]float64, error)) funcEval {
+	var names []string
+	for _, r := range c.Requirements {
+		names = append(names, r.Metric)
+	}
+	return funcEval{names, fn}
+}
+
 func loadRC(t *testing.T, reqs string) *netlist.Circuit {
 	t.Helper()
 	c, err := netlist.Load("rc.nodal", []byte(rcSource+reqs), nil)
@@ -245,7 +264,7 @@ func TestVerifyYieldRC(t *testing.T) {
 	f0 := 1 / (2 * math.Pi * 10e3 * 10e-9)
 	for _, limit := range []struct{ text string }{{"1.6kHz"}, {"1.55kHz"}, {"1.5kHz"}} {
 		c := loadRC(t, "require f3db below "+limit.text+"\n")
-		res, err := Verify(context.Background(), c, rcCorner, VerifyOptions{Runs: runs, Seed: 7})
+		res, err := Verify(context.Background(), c, evalFor(c, rcCorner), VerifyOptions{Runs: runs, Seed: 7})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -275,7 +294,7 @@ func TestWilsonCoverageRC(t *testing.T) {
 	p := rcPassProbability(1/(2*math.Pi*10e3*10e-9)/1600, 0.05)
 	covered := 0
 	for seed := range uint64(400) {
-		res, err := Verify(context.Background(), c, rcCorner, VerifyOptions{Runs: 200, Seed: seed})
+		res, err := Verify(context.Background(), c, evalFor(c, rcCorner), VerifyOptions{Runs: 200, Seed: seed})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -295,7 +314,7 @@ func TestVerifyWorstCaseRC(t *testing.T) {
 	f0 := 1 / (2 * math.Pi * 10e3 * 10e-9)
 	c := loadRC(t, "require f3db within 1.5kHz..1.7kHz\nrequire f3db within 1.4kHz..1.8kHz\n")
 	for _, maxEx := range []int{0, 1} {
-		res, err := Verify(context.Background(), c, rcCorner, VerifyOptions{MaxExhaustive: maxEx})
+		res, err := Verify(context.Background(), c, evalFor(c, rcCorner), VerifyOptions{MaxExhaustive: maxEx})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -319,33 +338,32 @@ func TestVerifyWorstCaseRC(t *testing.T) {
 
 func TestVerifyErrors(t *testing.T) {
 	c := loadRC(t, "")
-	if _, err := Verify(context.Background(), c, rcCorner, VerifyOptions{}); err == nil {
+	if _, err := Verify(context.Background(), c, evalFor(c, rcCorner), VerifyOptions{}); err == nil {
 		t.Error("no requirements accepted")
 	}
 	c = loadRC(t, "require f3db below 2kHz\n")
 	boom := errors.New("boom")
-	if _, err := Verify(context.Background(), c, func(*netlist.Circuit) ([]float64, error) { return nil, boom }, VerifyOptions{}); !errors.Is(err, boom) {
+	if _, err := Verify(context.Background(), c, evalFor(c, func(*netlist.Circuit) ([]float64, error) { return nil, boom }), VerifyOptions{}); !errors.Is(err, boom) {
 		t.Errorf("nominal error: %v", err)
 	}
 	// A varied circuit that cannot be analysed fails, and is counted.
-	calls := 0
+	var calls atomic.Int64
 	flaky := func(d *netlist.Circuit) ([]float64, error) {
-		calls++
-		if calls > 1 {
+		if calls.Add(1) > 1 {
 			return nil, boom
 		}
 		return rcCorner(d)
 	}
-	res, err := Verify(context.Background(), c, flaky, VerifyOptions{Runs: 10})
+	res, err := Verify(context.Background(), c, evalFor(c, flaky), VerifyOptions{Runs: 10})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if res.Failed != 14 || res.Verdicts[0].WorstPass || res.Yield.Passed != 0 || res.FirstFailure != "boom" {
+	if res.Failed != 14 || res.Verdicts[0].WorstPass || res.Yield.Passed != 0 || !errors.Is(res.FirstFailure, boom) {
 		t.Errorf("failed %d, worst %v, yield %d, first %q", res.Failed, res.Verdicts[0].WorstPass, res.Yield.Passed, res.FirstFailure)
 	}
 	ctx, cancel := context.WithCancel(context.Background())
 	cancel()
-	if _, err := Verify(ctx, c, rcCorner, VerifyOptions{Runs: 10}); !errors.Is(err, context.Canceled) {
+	if _, err := Verify(ctx, c, evalFor(c, rcCorner), VerifyOptions{Runs: 10}); !errors.Is(err, context.Canceled) {
 		t.Errorf("cancelled: %v", err)
 	}
 }
@@ -376,12 +394,27 @@ func TestRequirementMetricsRC(t *testing.T) {
 		t.Errorf("q: %v, why %v, err %v", vals[2], why, err)
 	}
 	// The full path agrees with the closed-form evaluator on the worst case.
-	res, err := Verify(context.Background(), c, rm.Eval, VerifyOptions{Runs: 50, Seed: 1})
+	res, err := Verify(context.Background(), c, rm, VerifyOptions{Runs: 50, Seed: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if d := res.Verdicts[0]; math.Abs(d.WorstMin-f0/(1.05*1.05)) > 1e-6*f0 || math.Abs(d.WorstMax-f0/(0.95*0.95)) > 1e-6*f0 {
 		t.Errorf("worst %v..%v", d.WorstMin, d.WorstMax)
+	}
+	// Verify's corners are WorstCase's: the same extremes, exhaustive and
+	// sign-based.
+	for _, maxEx := range []int{0, 1} {
+		wc, err := WorstCase(context.Background(), c, rm, WorstCaseOptions{MaxExhaustive: maxEx})
+		if err != nil {
+			t.Fatal(err)
+		}
+		vr, err := Verify(context.Background(), c, rm, VerifyOptions{MaxExhaustive: maxEx})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if d := vr.Verdicts[0]; d.WorstMin != wc.Metrics[0].Min || d.WorstMax != wc.Metrics[0].Max || vr.Corners != wc.Corners {
+			t.Errorf("maxExhaustive %d: verify %v..%v (%d corners), worst case %v..%v (%d)", maxEx, d.WorstMin, d.WorstMax, vr.Corners, wc.Metrics[0].Min, wc.Metrics[0].Max, wc.Corners)
+		}
 	}
 	bad := []netlist.Requirement{{Metric: "bandwidth"}}
 	if _, err := NewRequirementMetrics(bad, mna.Input{}, mna.Output{}); err == nil || !strings.Contains(err.Error(), "f3db") {

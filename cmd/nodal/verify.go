@@ -136,7 +136,7 @@ func (c *verifyCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	res, err := analysis.Verify(e.ctx, l.circuit, rm.Eval, analysis.VerifyOptions{Runs: c.Runs, Seed: uint64(c.Seed)})
+	res, err := analysis.Verify(e.ctx, l.circuit, rm, analysis.VerifyOptions{Runs: c.Runs, Seed: uint64(c.Seed)})
 	if err != nil {
 		return err
 	}
@@ -165,7 +165,7 @@ func (c *verifyCmd) Run(e *env) error {
 		}
 	}
 	if res.Failed > 0 {
-		rep.Notes = append(rep.Notes, fmt.Sprintf("%d varied builds could not be analysed and count as failing (first: %s)", res.Failed, res.FirstFailure))
+		rep.Notes = append(rep.Notes, fmt.Sprintf("%d varied builds could not be analysed and count as failing (first: %v)", res.Failed, res.FirstFailure))
 	}
 	if err := writeTo(e, "", nil, func(w io.Writer) error {
 		if c.Format == "json" {
