@@ -85,8 +85,12 @@ func Snap(name string, src []byte, ov netlist.Overrides, series map[netlist.Kind
 		kept = append(kept, ch)
 	}
 	res.Changes = kept
+	order := make(map[string]int, len(before.Parts))
+	for i, p := range before.Parts {
+		order[p.Name] = i
+	}
 	sort.SliceStable(res.Skipped, func(i, j int) bool {
-		return partIndex(before, res.Skipped[i].Part) < partIndex(before, res.Skipped[j].Part)
+		return order[res.Skipped[i].Part] < order[res.Skipped[j].Part]
 	})
 	res.Source, err = netlist.ReplaceValues(src, plan.Edits)
 	if err != nil {
@@ -96,24 +100,18 @@ func Snap(name string, src []byte, ov netlist.Overrides, series map[netlist.Kind
 	if err != nil {
 		return nil, fmt.Errorf("snap: the rewritten file does not load: %w", err)
 	}
+	after := make(map[string]float64, len(res.After.Parts))
+	for _, p := range res.After.Parts {
+		after[p.Name] = p.Value
+	}
 	for _, ch := range res.Changes {
-		p, ok := res.After.Part(ch.Part)
-		if !ok || math.Abs(p.Value-ch.New) > 1e-9*math.Abs(ch.New) {
-			got := math.NaN()
-			if ok {
-				got = p.Value
+		got, ok := after[ch.Part]
+		if !ok || math.Abs(got-ch.New) > 1e-9*math.Abs(ch.New) {
+			if !ok {
+				got = math.NaN()
 			}
 			return nil, fmt.Errorf("snap: %s is %v in the rewritten file, want %v", ch.Part, got, ch.New)
 		}
 	}
 	return res, nil
-}
-
-func partIndex(c *netlist.Circuit, name string) int {
-	for i, p := range c.Parts {
-		if p.Name == name {
-			return i
-		}
-	}
-	return len(c.Parts)
 }

@@ -116,6 +116,10 @@ func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov O
 			toleranced[v.Name] = true
 		}
 	}
+	byName := make(map[string]*Part, len(c.Parts))
+	for i := range c.Parts {
+		byName[c.Parts[i].Name] = &c.Parts[i]
+	}
 	names := make([]string, 0, len(values))
 	for n := range values {
 		names = append(names, n)
@@ -143,7 +147,7 @@ func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov O
 	}
 	literal := map[string]ValueEdit{}
 	for _, name := range names {
-		p, ok := c.Part(name)
+		p, ok := byName[name]
 		if !ok {
 			plan.Skipped[name] = "no such part"
 			continue
@@ -225,7 +229,7 @@ func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov O
 			}
 		default:
 			for _, name := range t.parts {
-				p, _ := c.Part(name)
+				p := byName[name]
 				literal[name] = ValueEdit{Span: p.ValueSpan, Text: FormatLiteral(values[name], literalUnit(p.Kind), digits)}
 			}
 			plan.Notes = append(plan.Notes, fmt.Sprintf("%s kept: %s", what, why))
