@@ -5,6 +5,9 @@ import (
 	"io"
 	"math"
 	"strings"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
 
 	"nodal/analysis"
 	"nodal/mna"
@@ -55,8 +58,8 @@ func (c *verifyCmd) Help() string {
 the input source (--in, default the only source) to the output (--out,
 default the node named out): at nominal values, over the worst-case
 corners of the tolerances (every part and toleranced let at its limits;
-for more than 10 toleranced items, the corners each metric's sensitivities
-point to), and as the Monte Carlo yield: the fraction of --runs random
+for more than 12 toleranced items, the corners each metric's sensitivities
+point to, as in the tolerance command), and as the Monte Carlo yield: the fraction of --runs random
 builds meeting each requirement and all of them, with its 95 % Wilson
 score interval.
 
@@ -136,7 +139,21 @@ func (c *verifyCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	res, err := analysis.Verify(e.ctx, l.circuit, rm, analysis.VerifyOptions{Runs: c.Runs, Seed: uint64(c.Seed)})
+	out, _ := c.outNode(l)
+	sys, err := mna.Build(l.circuit, mna.Input{Source: c.In}, outputFor(out, c.Ref))
+	if err != nil {
+		return err
+	}
+	opt := analysis.VerifyOptions{Runs: c.Runs, Seed: uint64(c.Seed)}
+	finish := func() {}
+	if e.stderrIsTerminal && c.Runs > 0 {
+		bar := progressbar.NewOptions(c.Runs, progressbar.OptionSetWriter(e.stderr), progressbar.OptionSetDescription("verify"),
+			progressbar.OptionShowCount(), progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
+		opt.Progress = func(done int) { _ = bar.Set(done) }
+		finish = func() { _ = bar.Finish() }
+	}
+	res, err := analysis.Verify(e.ctx, l.circuit, rm, opt)
+	finish()
 	if err != nil {
 		return err
 	}
@@ -144,13 +161,9 @@ func (c *verifyCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	out, _ := c.outNode(l)
 	rep := &verifyReport{
-		File: l.name, Input: c.In, Output: out, Runs: c.Runs, Seed: c.Seed, Corners: res.Corners,
+		File: l.name, Input: sys.Input.Source, Output: analysis.OutputLabel(sys.Output), Runs: c.Runs, Seed: c.Seed, Corners: res.Corners,
 		Failed: res.Failed, Yield: proportionOut(res.Yield), PassNominal: res.PassNominal(), PassWorst: res.PassWorst(),
-	}
-	if rep.Input == "" {
-		rep.Input = "(the only source)"
 	}
 	for i, d := range res.Verdicts {
 		unit, _ := netlist.MetricUnit(metricBase(d.Requirement.Metric))
@@ -223,7 +236,7 @@ func yieldText(p *proportionJSON) string {
 }
 
 func verifyTable(w io.Writer, rep *verifyReport) error {
-	fmt.Fprintf(w, "%s: requirements on %s / %s\n", rep.File, analysis.OutputLabel(outputFor(rep.Output, "")), rep.Input)
+	fmt.Fprintf(w, "%s: requirements on the output %s driven by %s\n", rep.File, rep.Output, rep.Input)
 	t := newTable(w, "requirement", "nominal", "verdict", "worst case", "verdict", "yield [95 % CI]")
 	for _, v := range rep.Requirements {
 		worst := "-"
