@@ -93,20 +93,22 @@ type ValuePlan struct {
 // The rules:
 //
 //  1. A top-level part whose value is a literal gets the new literal.
-//  2. A top-level part whose value is a plain reference to a top-level
-//     `let` P (`R1: resistor (a, b) R`) rewrites P's value instead, when
-//     every use of P anywhere in the file is such a plain part value, all
-//     of them get the same new value and P is not overridden (ov). The
-//     let keeps its tolerance, so a shared draw stays shared. When the
-//     conditions fail, the parts fall back to rule 3 and the let stays.
-//  3. Any other top-level value expression is replaced by the literal; a
-//     note says so, and says when the expression used a toleranced let
-//     whose shared draw the part no longer follows.
+//  2. A value that is a plain reference to a top-level `let` P
+//     (`R1: resistor (a, b) R`, or an instance option `Rfb=Rf` under rule
+//  4. rewrites P's value instead, when every use of P anywhere in the
+//     file is such a plain reference, all of them get the same new value
+//     and P is not overridden (ov). The let keeps its tolerance, so a
+//     shared draw stays shared. When the conditions fail, each use gets
+//     the literal (rule 3) and the let stays.
+//  3. Any other value expression is replaced by the literal; a note says
+//     so, and says when the expression used a toleranced let whose shared
+//     draw the part no longer follows.
 //  4. A part inside a block instance X (one level deep) whose value in
 //     the block body is a plain reference to a block parameter K that the
 //     instance sets (`X1: lowpass2 (in, out) R=10k`) rewrites that
-//     instance option, under the same conditions as rule 2 within the
-//     block. Every other part of an instance is skipped with the reason.
+//     instance option (by rules 1–3), when every use of K in the block is
+//     such a plain part value and they all get the same new value. Every
+//     other part of an instance is skipped with the reason.
 func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov Overrides) *ValuePlan {
 	plan := &ValuePlan{Skipped: map[string]string{}}
 	idx := indexFile(f)
@@ -126,50 +128,49 @@ func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov O
 	}
 	sort.Strings(names)
 
-	// A shared target: a let or instance option rewritten for all parts
-	// that refer to it.
-	type shared struct {
-		span  Span
-		text  string
-		uses  int // references to the name in its scope
-		parts []string
-		same  bool
-	}
-	targets := map[string]*shared{} // "let:P" or "inst:X1:K"
-	addShared := func(key string, span Span, uses int, part, text string) {
-		t := targets[key]
-		if t == nil {
-			t = &shared{span: span, text: text, uses: uses, same: true}
-			targets[key] = t
+	lets := map[string]*shareGroup{}  // by let name
+	insts := map[string]*shareGroup{} // by "X1:K"
+	join := func(m map[string]*shareGroup, key string, span Span, uses int, s shareSite) {
+		g := m[key]
+		if g == nil {
+			g = &shareGroup{span: span, text: s.text, uses: uses, same: true}
+			m[key] = g
 		}
-		t.parts = append(t.parts, part)
-		t.same = t.same && t.text == text
+		g.sites = append(g.sites, s)
+		g.same = g.same && g.text == s.text
 	}
-	literal := map[string]ValueEdit{}
+	letOf := func(x *Expr) string {
+		if ref := bareName(x); ref != "" && idx.lets[ref] != nil && !hasOverride(ov, ref) {
+			return ref
+		}
+		return ""
+	}
+	literal := func(s shareSite) {
+		plan.Edits = append(plan.Edits, ValueEdit{Span: s.span, Text: s.text})
+		if !isLiteralExpr(s.expr) {
+			plan.Notes = append(plan.Notes, fmt.Sprintf("%s: value %s replaced by %s", s.label, f.Source[s.span.Start:s.span.End], s.text)+droppedNote(s.expr, toleranced))
+		}
+	}
+
 	for _, name := range names {
 		p, ok := byName[name]
 		if !ok {
 			plan.Skipped[name] = "no such part"
 			continue
 		}
-		if p.ValueSpan.End <= p.ValueSpan.Start {
+		x := idx.exprAt[p.ValueSpan.Start]
+		if p.ValueSpan.End <= p.ValueSpan.Start || x == nil {
 			plan.Skipped[name] = "its value is not written in the file"
 			continue
 		}
-		text := FormatLiteral(values[name], literalUnit(p.Kind), digits)
-		x := idx.exprAt[p.ValueSpan.Start]
-		if x == nil {
-			plan.Skipped[name] = "its value expression was not found in the source"
-			continue
-		}
+		site := shareSite{span: p.ValueSpan, expr: x, parts: []string{name}, label: name, text: FormatLiteral(values[name], literalUnit(p.Kind), digits)}
 		prefix, local, nested := strings.Cut(name, ".")
 		if !nested {
-			ref := bareName(x)
-			if l := idx.lets[ref]; ref != "" && l != nil && !hasOverride(ov, ref) {
-				addShared("let:"+ref, spanOf(f, l.Value), idx.globalUses[ref], name, text)
-				continue
+			if l := letOf(x); l != "" {
+				join(lets, l, spanOf(f, idx.lets[l].Value), idx.globalUses[l], site)
+			} else {
+				literal(site)
 			}
-			literal[name] = ValueEdit{Span: p.ValueSpan, Text: text}
 			continue
 		}
 		inst := idx.elems[prefix]
@@ -191,65 +192,93 @@ func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov O
 			case opt == nil:
 				plan.Skipped[name] = fmt.Sprintf("its value is the default of parameter %s of block %s; give %s= on instance %s to snap it", k, b.Name, k, prefix)
 			default:
-				addShared("inst:"+prefix+":"+k, spanOf(f, opt.Value), idx.blockUses[b.Name][k], name, text)
+				join(insts, prefix+":"+k, spanOf(f, opt.Value), idx.blockUses[b.Name][k], site)
 			}
 		}
 	}
-	keys := make([]string, 0, len(targets))
-	for k := range targets {
-		keys = append(keys, k)
+	for _, key := range sortedKeys(insts) {
+		g := insts[key]
+		inst, k, _ := strings.Cut(key, ":")
+		what := "option " + k + "= of " + inst
+		if why := g.problem(what); why != "" {
+			for _, s := range g.sites {
+				for _, name := range s.parts {
+					plan.Skipped[name] = why + "; override it on the instance"
+				}
+			}
+			continue
+		}
+		opt := instanceOption(idx.elems[inst], k)
+		site := shareSite{span: g.span, expr: opt.Value, parts: g.partNames(), label: what, text: g.text}
+		if l := letOf(opt.Value); l != "" {
+			join(lets, l, spanOf(f, idx.lets[l].Value), idx.globalUses[l], site)
+		} else {
+			literal(site)
+		}
 	}
-	sort.Strings(keys)
-	for _, key := range keys {
-		t := targets[key]
-		kind, rest, _ := strings.Cut(key, ":")
-		what := "let " + rest
-		if kind == "inst" {
-			inst, k, _ := strings.Cut(rest, ":")
-			what = "option " + k + "= of " + inst
-		}
-		why := ""
-		switch {
-		case !t.same:
-			why = fmt.Sprintf("the parts using %s (%s) round to different values", what, strings.Join(t.parts, ", "))
-		case t.uses != len(t.parts):
-			why = fmt.Sprintf("%s is also used elsewhere", what)
-		}
-		switch {
-		case why == "":
-			plan.Edits = append(plan.Edits, ValueEdit{Span: t.span, Text: t.text})
-			note := fmt.Sprintf("%s rewritten to %s for %s", what, t.text, strings.Join(t.parts, ", "))
-			if l := idx.lets[rest]; kind == "let" && l != nil {
-				note += droppedNote(l.Value, toleranced)
-			}
-			plan.Notes = append(plan.Notes, note)
-		case kind == "inst":
-			for _, name := range t.parts {
-				plan.Skipped[name] = why + "; override it on the instance"
-			}
-		default:
-			for _, name := range t.parts {
-				p := byName[name]
-				literal[name] = ValueEdit{Span: p.ValueSpan, Text: FormatLiteral(values[name], literalUnit(p.Kind), digits)}
-			}
+	for _, name := range sortedKeys(lets) {
+		g := lets[name]
+		what := "let " + name
+		if why := g.problem(what); why != "" {
 			plan.Notes = append(plan.Notes, fmt.Sprintf("%s kept: %s", what, why))
-		}
-	}
-	for _, name := range names {
-		e, ok := literal[name]
-		if !ok {
+			for _, s := range g.sites {
+				literal(s)
+			}
 			continue
 		}
-		plan.Edits = append(plan.Edits, e)
-		x := idx.exprAt[e.Span.Start]
-		if isLiteralExpr(x) {
-			continue
-		}
-		note := fmt.Sprintf("%s: value %s replaced by %s", name, f.Source[e.Span.Start:e.Span.End], e.Text)
-		plan.Notes = append(plan.Notes, note+droppedNote(x, toleranced))
+		plan.Edits = append(plan.Edits, ValueEdit{Span: g.span, Text: g.text})
+		plan.Notes = append(plan.Notes, fmt.Sprintf("%s rewritten to %s for %s", what, g.text, strings.Join(g.partNames(), ", "))+droppedNote(idx.lets[name].Value, toleranced))
 	}
 	sort.Slice(plan.Edits, func(i, j int) bool { return plan.Edits[i].Span.Start < plan.Edits[j].Span.Start })
 	return plan
+}
+
+// shareSite is one place that refers to a shared let or block parameter:
+// the expression a literal would replace, the parts whose value it sets
+// and their new value text.
+type shareSite struct {
+	span  Span
+	expr  *Expr
+	parts []string
+	label string // the part name, or "option K= of X1"
+	text  string
+}
+
+// shareGroup collects the sites of one let or instance option.
+type shareGroup struct {
+	span  Span // the let's or the option's value expression
+	text  string
+	uses  int // references to the name in its scope
+	sites []shareSite
+	same  bool // every site has the same text
+}
+
+// problem says why the shared value cannot be rewritten; "" when it can.
+func (g *shareGroup) problem(what string) string {
+	switch {
+	case !g.same:
+		return fmt.Sprintf("the parts using %s (%s) round to different values", what, strings.Join(g.partNames(), ", "))
+	case g.uses != len(g.sites):
+		return fmt.Sprintf("%s is also used elsewhere", what)
+	}
+	return ""
+}
+
+func (g *shareGroup) partNames() []string {
+	var out []string
+	for _, s := range g.sites {
+		out = append(out, s.parts...)
+	}
+	return out
+}
+
+func sortedKeys(m map[string]*shareGroup) []string {
+	keys := make([]string, 0, len(m))
+	for k := range m {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	return keys
 }
 
 func hasOverride(ov Overrides, name string) bool {

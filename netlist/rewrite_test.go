@@ -183,3 +183,47 @@ func TestPlanValuesSharedDiffer(t *testing.T) {
 		t.Errorf("override: %s", out)
 	}
 }
+
+// TestPlanValuesInstanceLet: an instance option that is a plain reference
+// to a let (`Rfb=Rf`) rewrites the let when every use agrees, keeping its
+// tolerance; when only one instance changes, the options get literals.
+func TestPlanValuesInstanceLet(t *testing.T) {
+	src := `let Rf = 24.9k ±1%   # feedback pair
+block gain (i, fb, o) Rfb=10k
+  U: opamp (i, fb, o)
+  Rfb: resistor (o, fb) Rfb
+end
+V: vsource (p, gnd)
+Rn: resistor (n, gnd) 1k
+A1: gain (p, g1, o1) Rfb=Rf
+A2: gain (n, g2, o2) Rfb=Rf
+RG: resistor (g1, g2) 1k
+`
+	f, err := Parse("inamp.nodal", []byte(src))
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, err := Elaborate(f, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	plan := PlanValues(f, c, map[string]float64{"A1.Rfb": 24e3, "A2.Rfb": 24e3}, 2, nil)
+	out, err := ReplaceValues(f.Source, plan.Edits)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := strings.Replace(src, "let Rf = 24.9k ±1%", "let Rf = 24k ±1%", 1); string(out) != want {
+		t.Errorf("got\n%s\nwant\n%s", out, want)
+	}
+	if len(plan.Skipped) != 0 || !strings.Contains(strings.Join(plan.Notes, "\n"), "let Rf rewritten to 24k for A1.Rfb, A2.Rfb") {
+		t.Errorf("skipped %v, notes %v", plan.Skipped, plan.Notes)
+	}
+	plan = PlanValues(f, c, map[string]float64{"A1.Rfb": 24e3}, 2, nil)
+	out, _ = ReplaceValues(f.Source, plan.Edits)
+	if !strings.Contains(string(out), "A1: gain (p, g1, o1) Rfb=24k\n") || !strings.Contains(string(out), "A2: gain (n, g2, o2) Rfb=Rf\n") {
+		t.Errorf("one instance:\n%s", out)
+	}
+	if notes := strings.Join(plan.Notes, "\n"); !strings.Contains(notes, "option Rfb= of A1: value Rf replaced by 24k; it no longer follows the shared tolerance of Rf") {
+		t.Errorf("notes %s", notes)
+	}
+}

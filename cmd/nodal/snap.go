@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"strings"
 
 	"nodal/analysis"
@@ -107,6 +108,8 @@ type snapRequireJSON struct {
 	After       *float64 `json:"after"`
 	PassBefore  bool     `json:"pass_before"`
 	PassAfter   bool     `json:"pass_after"`
+
+	before, after float64 // as evaluated, ±Inf and NaN included, for the table
 }
 
 // Run rounds, reports and writes the new file.
@@ -181,23 +184,29 @@ func (c *snapCmd) requirementMoves(l *loaded, res *analysis.SnapResult) ([]snapR
 	if err != nil {
 		return nil, "", err
 	}
-	before, err := rm.Eval(res.Before)
-	if err != nil {
-		return nil, "", err
+	var notes []string
+	eval := func(c *netlist.Circuit, when string) []float64 {
+		v, err := rm.Eval(c)
+		if err != nil {
+			notes = append(notes, fmt.Sprintf("%s the circuit cannot be analysed: %v", when, err))
+			v = make([]float64, len(c.Requirements))
+			for i := range v {
+				v[i] = math.NaN()
+			}
+		}
+		return v
 	}
-	after, err := rm.Eval(res.After)
-	if err != nil {
-		return nil, "", fmt.Errorf("after rounding: %w", err)
-	}
+	before, after := eval(res.Before, "before rounding"), eval(res.After, "after rounding")
 	var rows []snapRequireJSON
 	for i, r := range l.circuit.Requirements {
 		unit, _ := netlist.MetricUnit(metricBase(r.Metric))
 		rows = append(rows, snapRequireJSON{
 			Requirement: r.Text, Unit: unit, Before: finiteOrNil(before[i]), After: finiteOrNil(after[i]),
 			PassBefore: r.Pass(before[i]), PassAfter: r.Pass(after[i]),
+			before: before[i], after: after[i],
 		})
 	}
-	return rows, "", nil
+	return rows, strings.Join(notes, "; "), nil
 }
 
 func snapTable(w io.Writer, rep *snapReport) error {
@@ -223,7 +232,7 @@ func snapTable(w io.Writer, rep *snapReport) error {
 	if len(rep.Requirements) > 0 {
 		t := newTable(w, "requirement", "before", "verdict", "after", "verdict")
 		for _, r := range rep.Requirements {
-			if err := t.row(strings.TrimPrefix(r.Requirement, "require "), optMetric(r.Before, r.Unit), passText(r.PassBefore), optMetric(r.After, r.Unit), passText(r.PassAfter)); err != nil {
+			if err := t.row(strings.TrimPrefix(r.Requirement, "require "), metricText(r.before, r.Unit), passText(r.PassBefore), metricText(r.after, r.Unit), passText(r.PassAfter)); err != nil {
 				return err
 			}
 		}
@@ -240,11 +249,4 @@ func snapTable(w io.Writer, rep *snapReport) error {
 		fmt.Fprintln(w, "no file written (give -o NEW_FILE to write the rounded circuit)")
 	}
 	return nil
-}
-
-func optMetric(v *float64, unit string) string {
-	if v == nil {
-		return "-"
-	}
-	return metricText(*v, unit)
 }

@@ -133,3 +133,29 @@ func TestSnapFailsAfter(t *testing.T) {
 		t.Errorf("file not written: %v", err)
 	}
 }
+
+// TestSnapBalancesBridge: rounding both arms of a slightly unbalanced
+// bridge to the same E24 value (350 Ω and 350.7 Ω both become 360 Ω, above
+// the log midpoint 344.7 Ω of 330 and 360) balances it: the output carries
+// no signal (−inf dB) and the requirement fails after rounding (exit 1).
+func TestSnapBalancesBridge(t *testing.T) {
+	in := filepath.Join(t.TempDir(), "bridge.nodal")
+	src := "Vex: vsource (exc, gnd) 5\nRa: resistor (exc, p) 350\nRc: resistor (p, gnd) 350.7\nRd: resistor (exc, n) 350\nRe: resistor (n, gnd) 350\nE1: vcvs (out, gnd) 100 sense=(p, n)\nRl: resistor (out, gnd) 10k\nrequire dc above -30dB\n"
+	if err := os.WriteFile(in, []byte(src), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, out, errOut := runCaptured(t, "", "snap", in, "--series", "E24")
+	if code != exitVerdict || !strings.Contains(out, "-26.03 dB") || !strings.Contains(out, "-inf dB") {
+		t.Errorf("exit %d\n%s%s", code, out, errOut)
+	}
+}
+
+// TestSnapUnanalysableAfter: the instrumentation-amplifier example balances
+// the same way, and its opamp circuit then has no transfer function to
+// extract; snap says so instead of failing.
+func TestSnapUnanalysableAfter(t *testing.T) {
+	code, out, errOut := runCaptured(t, "", "snap", "../../testdata/examples/bridge_inamp.nodal", "--series", "R=E24")
+	if code != exitVerdict || !strings.Contains(out, "after rounding the circuit cannot be analysed") {
+		t.Errorf("exit %d\n%s%s", code, out, errOut)
+	}
+}

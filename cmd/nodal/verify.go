@@ -106,6 +106,8 @@ type verdictJSON struct {
 	WorstMax    *float64        `json:"worst_max"`
 	WorstPass   bool            `json:"worst_pass"`
 	Yield       *proportionJSON `json:"yield,omitempty"`
+
+	nominal, worstMin, worstMax float64 // as evaluated, ±Inf and NaN included, for the table
 }
 
 type proportionJSON struct {
@@ -171,7 +173,8 @@ func (c *verifyCmd) Run(e *env) error {
 			Requirement: d.Requirement.Text, Line: d.Requirement.Pos.Line, Unit: unit,
 			Nominal: finiteOrNil(d.Nominal), NominalPass: d.NominalPass,
 			WorstMin: finiteOrNil(d.WorstMin), WorstMax: finiteOrNil(d.WorstMax), WorstPass: d.WorstPass,
-			Yield: proportionOut(d.Yield),
+			Yield:   proportionOut(d.Yield),
+			nominal: d.Nominal, worstMin: d.WorstMin, worstMax: d.WorstMax,
 		})
 		if why[i] != nil {
 			rep.Notes = append(rep.Notes, fmt.Sprintf("%s: at nominal values: %v", d.Requirement.Text, why[i]))
@@ -240,13 +243,10 @@ func verifyTable(w io.Writer, rep *verifyReport) error {
 	t := newTable(w, "requirement", "nominal", "verdict", "worst case", "verdict", "yield [95 % CI]")
 	for _, v := range rep.Requirements {
 		worst := "-"
-		if v.WorstMin != nil && v.WorstMax != nil {
-			worst = metricText(*v.WorstMin, v.Unit) + " .. " + metricText(*v.WorstMax, v.Unit)
+		if !math.IsNaN(v.worstMin) {
+			worst = metricText(v.worstMin, v.Unit) + " .. " + metricText(v.worstMax, v.Unit)
 		}
-		nominal := "-"
-		if v.Nominal != nil {
-			nominal = metricText(*v.Nominal, v.Unit)
-		}
+		nominal := metricText(v.nominal, v.Unit)
 		if err := t.row(strings.TrimPrefix(v.Requirement, "require "), nominal, passText(v.NominalPass), worst, passText(v.WorstPass), yieldText(v.Yield)); err != nil {
 			return err
 		}
