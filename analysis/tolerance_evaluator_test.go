@@ -102,3 +102,35 @@ U1: opamp (gnd, m, out)
 		t.Errorf("phase nominal %v, spread %v..%v; want ±180° on one branch", m.Nominal, m.Min, m.Max)
 	}
 }
+
+func TestMetricEvaluatorSpotPathAgrees(t *testing.T) {
+	// The direct solve for spot metrics must give what Metric.Eval gives
+	// on the extracted transfer function, run by run.
+	c := tolLoad(t, tol6thOrder)
+	spot := tolEvaluator(t, c, "out", "gain@1kHz", "phase@1kHz", "phase@3kHz", "dc")
+	full := tolEvaluator(t, c, "out", "gain@1kHz", "phase@1kHz", "phase@3kHz", "dc", "f0")
+	if !spot.spot || full.spot {
+		t.Fatal("paths not chosen as documented")
+	}
+	factors := make([]float64, len(c.Variations))
+	for run := range 20 {
+		drawFactors(c.Variations, 5, run, factors)
+		vc, err := c.Vary(factors)
+		if err != nil {
+			t.Fatal(err)
+		}
+		a, err := spot.Eval(vc)
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, err := full.Eval(vc)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i := range a {
+			if math.Abs(a[i]-b[i]) > 1e-9*math.Max(1, math.Abs(b[i])) {
+				t.Errorf("run %d %s: direct %v, transfer function %v", run, spot.Metrics()[i], a[i], b[i])
+			}
+		}
+	}
+}

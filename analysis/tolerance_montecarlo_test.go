@@ -314,3 +314,17 @@ func BenchmarkMonteCarlo6thOrder10k(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkMonteCarlo6thOrderSpot10k times 10 000 runs of the 6th-order
+// filter with spot metrics only (gain@1kHz, phase@1kHz), which skip the
+// pole extraction.
+func BenchmarkMonteCarlo6thOrderSpot10k(b *testing.B) {
+	c := tolLoad(b, tol6thOrder)
+	ev := tolEvaluator(b, c, "out", "gain@1kHz", "phase@1kHz")
+	for b.Loop() {
+		res, err := MonteCarlo(context.Background(), c, ev, MonteCarloOptions{Runs: 10000, Seed: 1})
+		if err != nil || res.Failed != 0 {
+			b.Fatal(err, res.Failed)
+		}
+	}
+}
