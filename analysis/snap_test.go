@@ -69,9 +69,9 @@ func TestSnap(t *testing.T) {
 	if strings.Count(text, "\n") != strings.Count(snapSource, "\n") {
 		t.Errorf("line count changed:\n%s", text)
 	}
-	notes := strings.Join(res.Notes, "\n")
+	notes := strings.Join(res.Notes, "\n") + "\n"
 	for _, want := range []string{
-		"let R rewritten to 8.2k for R1, R2; it no longer follows the shared tolerance of C0",
+		"let R rewritten to 8.2k for R1, R2\n",
 		"C1: value 2*C0/sqrt(2) replaced by 15nF; it no longer follows the shared tolerance of C0",
 	} {
 		if !strings.Contains(notes, want) {

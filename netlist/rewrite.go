@@ -227,7 +227,9 @@ func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov O
 			continue
 		}
 		plan.Edits = append(plan.Edits, ValueEdit{Span: g.span, Text: g.text})
-		plan.Notes = append(plan.Notes, fmt.Sprintf("%s rewritten to %s for %s", what, g.text, strings.Join(g.partNames(), ", "))+droppedNote(idx.lets[name].Value, toleranced))
+		// A let is a design equation held at nominal in tolerance runs, so
+		// replacing its expression drops no shared draw.
+		plan.Notes = append(plan.Notes, fmt.Sprintf("%s rewritten to %s for %s", what, g.text, strings.Join(g.partNames(), ", ")))
 	}
 	sort.Slice(plan.Edits, func(i, j int) bool { return plan.Edits[i].Span.Start < plan.Edits[j].Span.Start })
 	return plan
