@@ -42,6 +42,9 @@ func MetricNames() []string {
 // MetricUnit returns the unit of a metric's values and limits ("dB",
 // "deg", "Hz" or "" for q); ok is false for an unknown metric name.
 func MetricUnit(name string) (unit string, ok bool) {
+	if i := strings.IndexByte(name, '@'); i >= 0 {
+		name = name[:i] + "@F" // gain@1kHz is a gain@F metric
+	}
 	if m, found := findMetric(name); found {
 		return m.unit, true
 	}

@@ -27,14 +27,21 @@ func reportMetrics(c *netlist.Circuit) []string {
 	return names
 }
 
-// addToleranceSections adds the Monte Carlo band, statistics and
-// histograms when the circuit has toleranced items.
+// addToleranceSections adds the requirement verdicts when the file has
+// requirements, and the Monte Carlo band, statistics and histograms when
+// it has toleranced items.
 func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs int, seed uint64) error {
 	c := l.circuit
-	if len(c.Variations) == 0 || runs <= 0 {
+	in, out := mna.Input{Source: r.sys.Input.Source}, r.sys.Output
+	if len(c.Variations) == 0 {
+		runs = 0
+	}
+	if err := addVerdicts(e, c, in, out, d, runs, seed); err != nil {
+		return err
+	}
+	if runs <= 0 {
 		return nil
 	}
-	in, out := mna.Input{Source: r.sys.Input.Source}, r.sys.Output
 	// Keep the metrics the nominal circuit can give a value for.
 	var metrics []string
 	for _, m := range reportMetrics(c) {
@@ -90,5 +97,39 @@ func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs i
 	}
 	mc.Band = report.Plot{Figure: fig, Caption: fmt.Sprintf("nominal response with the min–max band of %d Monte Carlo runs (seed %d); requirement limits drawn", env.Finished, seed)}
 	d.MonteCarlo = mc
+	return nil
+}
+
+// addVerdicts judges the file's requirements at nominal, over the worst-case
+// corners and as Monte Carlo yield (the same draws as the tolerance
+// section for the same seed).
+func addVerdicts(e *env, c *netlist.Circuit, in mna.Input, out mna.Output, d *report.Data, runs int, seed uint64) error {
+	if len(c.Requirements) == 0 {
+		return nil
+	}
+	rm, err := analysis.NewRequirementMetrics(c.Requirements, in, out)
+	if err != nil {
+		return err
+	}
+	res, err := analysis.Verify(e.ctx, c, rm, analysis.VerifyOptions{Runs: runs, Seed: seed})
+	if err != nil {
+		return err
+	}
+	for _, v := range res.Verdicts {
+		unit := ""
+		if m, err := analysis.ParseMetric(v.Requirement.Metric); err == nil {
+			unit = m.Unit()
+		}
+		rv := report.Verdict{Requirement: v.Requirement.Text, Value: v.Nominal, Unit: unit, Pass: v.NominalPass}
+		if runs > 0 {
+			y := v.Yield.Fraction
+			rv.Yield = &y
+		}
+		d.Verdicts = append(d.Verdicts, rv)
+		if v.NominalPass && !v.WorstPass {
+			d.Notes = append(d.Notes, fmt.Sprintf("%s passes at nominal but not in the worst case (%s .. %s).",
+				v.Requirement.Text, num(v.WorstMin), num(v.WorstMax)))
+		}
+	}
 	return nil
 }
