@@ -27,7 +27,9 @@ func (c *checkCmd) Help() string {
 H(s), independent of overall scale: coefficient by coefficient (circuit,
 yours, ratio), poles and zeros side by side, and the largest magnitude and
 phase difference over the frequency range. Coefficients may use the file's
-parameters and part values by name (R1, C2, X1.R3, fc). The verdict is
+parameters and part values by name (R1, C2, X1.R3, fc) and op-amp and
+coupling symbols (U1.a0 DC gain, U1.rout ohms, U1.wt = 2π·gbw in rad/s,
+K1.M mutual inductance in henries). The verdict is
 "agrees" (exit 0) or "differs" (exit 1), with a note on the likely slip.
 
 When your expression uses only part names (R1, C2, U1.a0) and numbers, it is
@@ -64,7 +66,7 @@ func (c *checkCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	num, den, err := yours.Evaluate(l.circuit.Lookup)
+	num, den, err := yours.Evaluate(symbolLookup(l.circuit))
 	if err != nil {
 		return err
 	}
@@ -91,7 +93,8 @@ func (c *checkCmd) Run(e *env) error {
 // reduceDerivation parses the user's ODE or transfer function into a
 // rational function of s whose coefficients may name circuit values.
 func reduceDerivation(c *netlist.Circuit, ode, tf string) (*derivation.Rational, error) {
-	known := func(name string) bool { _, ok := c.Lookup(name); return ok }
+	lookup := symbolLookup(c)
+	known := func(name string) bool { _, ok := lookup(name); return ok }
 	if ode != "" {
 		eq, err := derivation.ParseODE("--ode", ode)
 		if err != nil {

@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"math"
 	"sort"
 	"strings"
 
@@ -156,6 +157,42 @@ func formatPolys(ps []symbolic.Poly, order []string) []string {
 		out[i] = p.Format(order)
 	}
 	return out
+}
+
+// symbolLookup is c.Lookup extended by the symbols of analysis/symbolic
+// that are not part values: NAME.a0 (op-amp DC gain, V/V), NAME.rout
+// (op-amp output resistance, Ω), NAME.wt (op-amp ωt = 2π·gbw, rad/s) and
+// NAME.M (mutual inductance K·√(L1·L2) of a coupling, H), each only when
+// the part has that parameter.
+func symbolLookup(c *netlist.Circuit) derivation.Lookup {
+	return func(name string) (float64, bool) {
+		if v, ok := c.Lookup(name); ok {
+			return v, true
+		}
+		i := strings.LastIndexByte(name, '.')
+		if i <= 0 {
+			return 0, false
+		}
+		p, ok := c.Part(name[:i])
+		if !ok {
+			return 0, false
+		}
+		switch suffix := name[i+1:]; {
+		case p.Kind == netlist.OpAmp && suffix == "a0" && p.A0 > 0:
+			return p.A0, true
+		case p.Kind == netlist.OpAmp && suffix == "rout" && p.Rout > 0:
+			return p.Rout, true
+		case p.Kind == netlist.OpAmp && suffix == "wt" && p.GBWHz > 0:
+			return 2 * math.Pi * p.GBWHz, true
+		case p.Kind == netlist.Coupling && suffix == "M":
+			l1, ok1 := c.Lookup(p.Coupled[0])
+			l2, ok2 := c.Lookup(p.Coupled[1])
+			if ok1 && ok2 {
+				return p.Value * math.Sqrt(l1*l2), true
+			}
+		}
+		return 0, false
+	}
 }
 
 // checkVerdict is the final verdict: the symbolic one when it was
