@@ -94,16 +94,9 @@ func mono(names ...string) symbolic.Poly {
 	return p
 }
 
+// samePolys compares coefficient lists as one polynomial in s.
 func samePolys(a, b []symbolic.Poly) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if !a[i].Equal(b[i]) {
-			return false
-		}
-	}
-	return true
+	return symbolic.FromPowers("s", a).Equal(symbolic.FromPowers("s", b))
 }
 
 // First-order RC low-pass: H(s) = 1/(1 + s·R1·C1) (common practice); the
