@@ -38,9 +38,10 @@ var siPrefixExp = map[string]int{
 // change, which Equivalent ignores).
 //
 // ok is false, with why saying what could not be converted, for sqrt, the
-// constant pi, a non-integer or symbolic exponent, a division by an
-// expression that is identically zero, or a name "s" (the Laplace
-// variable must not occur in a coefficient).
+// constant pi (also when folded into another constant), a non-integer or
+// symbolic exponent, a division by an expression that is identically
+// zero, a name "s" (the Laplace variable must not occur in a coefficient),
+// or an expansion past DefaultMaxTerms terms or a power of 64 of a name.
 func FromDerivation(r *derivation.Rational) (num, den []Poly, ok bool, why string) {
 	if r == nil || len(r.Den) == 0 {
 		return nil, nil, false, "no denominator"
@@ -120,6 +121,39 @@ func (a ratFunc) mul(b ratFunc) ratFunc {
 	return ratFunc{a.p.Mul(b.p), a.q.Mul(b.q)}.reduce()
 }
 
+// maxDerivationDegree bounds the exponent of any name in a converted hand
+// derivation, well inside Poly's 255 and far beyond any circuit's.
+const maxDerivationDegree = 64
+
+// checkSize refuses an operation on a and b whose result would grow past
+// what a hand derivation holds: an exponent above maxDerivationDegree or
+// more than DefaultMaxTerms terms (bounds computed before expanding;
+// Poly.Mul itself would panic past an exponent of 255).
+func checkSize(at derivation.Pos, op byte, a, b ratFunc) error {
+	// The products an operation forms: p·p' and q·q' for * and /, the
+	// cross products for + and −.
+	pairs := [][2]Poly{{a.p, b.p}, {a.q, b.q}}
+	if op == '+' || op == '-' {
+		pairs = [][2]Poly{{a.p, b.q}, {b.p, a.q}, {a.q, b.q}}
+	}
+	if op == '/' {
+		pairs = [][2]Poly{{a.p, b.q}, {a.q, b.p}}
+	}
+	terms := 0
+	for _, pr := range pairs {
+		for _, v := range append(pr[0].Vars(), pr[1].Vars()...) {
+			if d := pr[0].Degree(v) + pr[1].Degree(v); d > maxDerivationDegree {
+				return fmt.Errorf("%s: %s would be raised past the power %d", posText(at), v, maxDerivationDegree)
+			}
+		}
+		terms += max(pr[0].Len(), 1) * max(pr[1].Len(), 1)
+	}
+	if terms > 2*DefaultMaxTerms {
+		return fmt.Errorf("%s: the expression expands past %d terms", posText(at), DefaultMaxTerms)
+	}
+	return nil
+}
+
 // reduce divides out a constant denominator so constants stay polynomial.
 func (a ratFunc) reduce() ratFunc {
 	if c, isConst := a.q.IsConst(); isConst && c.Sign() != 0 {
@@ -161,6 +195,9 @@ func convertExpr(e derivation.Expr) (ratFunc, error) {
 		}
 		y, err := convertExpr(n.Y)
 		if err != nil {
+			return ratFunc{}, err
+		}
+		if err := checkSize(n.At, n.Op, x, y); err != nil {
 			return ratFunc{}, err
 		}
 		switch n.Op {
@@ -205,6 +242,9 @@ func power(x ratFunc, n *derivation.Binary) (ratFunc, error) {
 	}
 	out := ratFunc{Int(1), Int(1)}
 	for ; k > 0; k-- {
+		if err := checkSize(n.At, '*', out, base); err != nil {
+			return ratFunc{}, err
+		}
 		out = out.mul(base)
 	}
 	return out, nil

@@ -96,3 +96,14 @@ func TestFromDerivationRefuses(t *testing.T) {
 		}
 	}
 }
+
+// Expressions that would blow up are refused before they are expanded
+// (Poly.Mul panics past an exponent of 255).
+func TestFromDerivationSizeGuard(t *testing.T) {
+	for _, src := range []string{"((R1+R2)^16)^16*y' + y = u", "(R1+R2+R3+R4+R5+R6)^16*y' + y = u", "R1^16*R1^16*R1^16*R1^16*R1^16*y = u"} {
+		_, _, ok, why := FromDerivation(rationalOf(t, src))
+		if ok || why == "" {
+			t.Errorf("%s: ok=%v why=%q; want a refusal", src, ok, why)
+		}
+	}
+}
