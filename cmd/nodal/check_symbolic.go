@@ -1,6 +1,7 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"sort"
@@ -50,11 +51,18 @@ func compareSymbolic(e *env, l *loaded, q tfRequest, yours *derivation.Rational)
 	if ps := paramNames(l.circuit, names); len(ps) > 0 {
 		return symbolicCheck{Reason: fmt.Sprintf("your expression uses the parameter%s %s, not part symbols", plural(len(ps)), strings.Join(ps, ", "))}
 	}
+	if ns := nonSymbols(l.circuit, names); len(ns) > 0 {
+		return symbolicCheck{Reason: fmt.Sprintf("your expression uses %s, not a part symbol (symbols are the names of resistors, capacitors, inductors and controlled sources, NAME.a0, NAME.rout, NAME.wt, NAME.M)", strings.Join(ns, ", "))}
+	}
 	p, err := resolveProbe(l, q)
 	if err != nil {
 		return symbolicCheck{Reason: err.Error()}
 	}
 	res, err := symbolic.Transfer(e.ctx, l.circuit, p.in, p.out, symbolic.Options{Keep: names})
+	var se *symbolic.SizeError
+	if errors.As(err, &se) {
+		return symbolicCheck{Reason: fmt.Sprintf("the circuit's H(s) in your %d names grows past %d terms", len(names), se.Limit)}
+	}
 	if err != nil {
 		return symbolicCheck{Reason: err.Error()}
 	}
@@ -127,6 +135,28 @@ func polyNames(ps []symbolic.Poly) []string {
 		out = append(out, v)
 	}
 	sort.Strings(out)
+	return out
+}
+
+// nonSymbols returns the names that are no symbol of analysis/symbolic:
+// a symbol is the name of a resistor, capacitor, inductor or controlled
+// source, or an op-amp or coupling parameter that symbolLookup resolves.
+func nonSymbols(c *netlist.Circuit, names []string) []string {
+	lookup := symbolLookup(c)
+	var out []string
+	for _, n := range names {
+		if p, ok := c.Part(n); ok {
+			switch p.Kind {
+			case netlist.Resistor, netlist.Capacitor, netlist.Inductor, netlist.VCVS, netlist.VCCS, netlist.CCVS, netlist.CCCS:
+				continue
+			}
+		} else if _, ok := lookup(n); ok && strings.Contains(n, ".") {
+			if _, plain := c.Lookup(n); !plain {
+				continue
+			}
+		}
+		out = append(out, n)
+	}
 	return out
 }
 

@@ -56,6 +56,8 @@ func TestCheckSymbolic(t *testing.T) {
 			[]string{"symbolic comparison: not possible, your expression uses the parameters C0, R, not part symbols; the verdict is the numeric one"}},
 		{"sqrt", rcFile, "", "--ode=sqrt(R1*R1)*C1*y' + y = u", 0,
 			[]string{"symbolic comparison: not possible, your expression is not a polynomial", "sqrt", "verdict: agrees"}},
+		{"a source is no symbol", rcFile, "", "--ode=Vs*R1*C1*y' + y = u", 0,
+			[]string{"symbolic comparison: not possible, your expression uses Vs, not a part symbol", "verdict: agrees"}},
 		{"numbers only", rcFile, "", "--ode=159.155u*y' + y = u", 0,
 			[]string{"symbolic comparison: not possible, your expression names no part", "verdict: agrees"}},
 	} {
