@@ -10,6 +10,10 @@ import (
 	"nodal/analysis/signal"
 )
 
+// ErrNoTimeScale means a time response needs an explicit end time
+// (TimeOptions.UntilS) because H(s) has no pole off s = 0.
+var ErrNoTimeScale = errors.New("give an end time")
+
 // TimeOptions controls the sampling of a time response.
 type TimeOptions struct {
 	// UntilS is the end of the sampled span in seconds; 0 chooses it from
@@ -166,7 +170,7 @@ func timeResponse(tf *TransferFunction, kind string, opt TimeOptions) (*TimeResp
 	if r.SpanS == 0 {
 		r.SpanS = defaultSpan(hGroups)
 		if r.SpanS == 0 {
-			return nil, fmt.Errorf("%s response: H(s) has no pole off s = 0, so there is no time scale to choose the span from; give an end time", kind)
+			return nil, fmt.Errorf("%s response: H(s) has no pole off s = 0, so there is no time scale to choose the span from: %w", kind, ErrNoTimeScale)
 		}
 	}
 	r.Points = samplePoints(r, opt.Points)

@@ -51,7 +51,9 @@ var shiftFactors = [...]float64{1, 1.7182818, 0.5772157, 3.1415927, 0.3183099, 7
 //
 // Poles and zeros are ordered by increasing magnitude, a conjugate pair
 // with the positive imaginary part first; roots within 1e-10 of the
-// characteristic frequency of zero are exactly 0. If H ≡ 0, Num is [0],
+// characteristic frequency of zero are exactly 0, and so is a cluster of m
+// roots around 0 that rounding split from an m-fold root at s = 0 (see
+// snapZero). If H ≡ 0, Num is [0],
 // Den is [1] and there are no poles or zeros. Zeros at infinity are not
 // listed (len(Zeros) may be below or, for improper H, above len(Poles)).
 func Extract(sys *mna.System) (*TransferFunction, error) {
@@ -365,18 +367,54 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 	return newTransferFunction(gain, zeros, poles, cancelled), nil
 }
 
-// snapZero sets roots within zeroRootTol of s = 0 (scaled units) to 0,
-// and the real part of complex roots within zeroRootTol·|r| of the jω axis
-// to 0 (a Q above 10⁹ is rounding of an undamped pair, e.g. a notch).
+// snapZero sets to exactly 0 the roots that are s = 0 up to rounding
+// (scaled units), and the real part of complex roots within
+// zeroRootTol·|r| of the jω axis to 0 (a Q above 10⁹ is rounding of an
+// undamped pair, e.g. a notch).
+//
+// A root of multiplicity m at s = 0 (two series capacitors, a coupled
+// pair: H ∝ s²) does not come out as m tiny roots: a relative error δ in
+// the pencil splits it into m roots of size about δ^(1/m) around 0 (√ε ≈
+// 1.5e-8 for a double root), while their mean stays O(δ). So the m
+// smallest roots are set to 0 when the largest of them is below
+// originClusterTol(m) and the modulus of their mean is below zeroRootTol,
+// for the largest such m. For m = 1 this is the plain bound zeroRootTol.
 func snapZero(roots []complex128) {
+	idx := make([]int, len(roots))
+	for i := range idx {
+		idx[i] = i
+	}
+	sort.SliceStable(idx, func(a, b int) bool { return cmplx.Abs(roots[idx[a]]) < cmplx.Abs(roots[idx[b]]) })
+	for m := len(roots); m >= 1; m-- {
+		if cmplx.Abs(roots[idx[m-1]]) > originClusterTol(m) {
+			continue
+		}
+		var sum complex128
+		for _, i := range idx[:m] {
+			sum += roots[i]
+		}
+		if cmplx.Abs(sum)/float64(m) <= zeroRootTol {
+			for _, i := range idx[:m] {
+				roots[i] = 0
+			}
+			break
+		}
+	}
 	for i, r := range roots {
-		switch {
-		case cmplx.Abs(r) <= zeroRootTol:
-			roots[i] = 0
-		case imag(r) != 0 && math.Abs(real(r)) <= zeroRootTol*cmplx.Abs(r):
+		if imag(r) != 0 && math.Abs(real(r)) <= zeroRootTol*cmplx.Abs(r) {
 			roots[i] = complex(0, imag(r))
 		}
 	}
+}
+
+// originClusterTol is the largest modulus (scaled units) of a member of
+// an m-fold root at s = 0 split by rounding: (1e4·ε)^(1/m), allowing a
+// pencil condition of 1e4 after balancing, and never below zeroRootTol.
+// A genuine cluster of m distinct roots this close to 0 with a mean below
+// zeroRootTol (for m = 2 a pair ±a or ±ja below 1.5e-6 of the
+// characteristic frequency) cannot be told from it in float64.
+func originClusterTol(m int) float64 {
+	return math.Max(zeroRootTol, math.Pow(1e4*0x1p-52, 1/float64(m))) // ε = 2⁻⁵²
 }
 
 // scaleRoots multiplies every root by w.

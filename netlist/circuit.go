@@ -217,9 +217,12 @@ func (c *Circuit) Clone() *Circuit {
 }
 
 // Vary returns a copy of c in which Variation i takes the value
-// Nominal·factors[i], with every value that depends on a varied parameter
-// re-evaluated ("one shared draw for every use"). len(factors) must equal
-// len(c.Variations).
+// Nominal·factors[i], with every part value that depends on a varied
+// parameter re-evaluated ("one shared draw for every use"), through block
+// parameters too. A `let` is a design equation: an untoleranced let keeps
+// its nominal value even when it is computed from a toleranced one, and a
+// toleranced let is its own nominal value times its own factor.
+// len(factors) must equal len(c.Variations).
 func (c *Circuit) Vary(factors []float64) (*Circuit, error) {
 	if len(factors) != len(c.Variations) {
 		return nil, fmt.Errorf("vary: %d factors for %d toleranced items", len(factors), len(c.Variations))

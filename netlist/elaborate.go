@@ -314,7 +314,7 @@ func (e *elab) let(sc *scope, l *LetStmt) {
 		}
 		e.c.Params = append(e.c.Params, Param{Name: l.Name, Value: v, Unit: unit, Tol: it.tol, Pos: e.f.Position(l.Pos), Span: e.span(l.Value)})
 	}
-	e.m.lets = append(e.m.lets, letStep{slot: slot, fn: val.fn, vi: vi, param: param, konst: val.konst, name: sc.prefix + l.Name})
+	e.m.lets = append(e.m.lets, letStep{slot: slot, fn: val.fn, vi: vi, param: param, konst: val.konst, name: sc.prefix + l.Name, design: true})
 }
 
 // itemSet is the classified trailing items of an element or let.

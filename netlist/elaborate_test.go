@@ -198,8 +198,10 @@ func ones(n int) []float64 {
 }
 
 // TestVarySharedDraw checks "one shared draw for every use": varying the
-// toleranced let C moves every value built from it, including the derived
-// let R = 1/(2π·fc·C), while part tolerances scale only their part.
+// toleranced let C moves every part value built from it, while the design
+// equation let R = 1/(2π·fc·C) keeps its nominal value (the resistor bought
+// does not follow the capacitor reel) and part tolerances scale only their
+// part.
 func TestVarySharedDraw(t *testing.T) {
 	c, err := Load("forms.nodal", []byte(allForms), nil)
 	if err != nil {
@@ -213,7 +215,7 @@ func TestVarySharedDraw(t *testing.T) {
 		t.Fatal(err)
 	}
 	C := 10e-9 * 1.05
-	R := 1 / (2 * math.Pi * 2000 * C)
+	R := 1 / (2 * math.Pi * 2000 * 10e-9) // nominal: a design equation
 	for _, tc := range []struct {
 		name string
 		want float64

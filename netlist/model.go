@@ -23,6 +23,11 @@ type letStep struct {
 	vi    int  // index into Variations, or -1
 	param int  // index into Circuit.Params, or -1
 	konst bool // fn is constant
+	// design marks a `let` statement: a design equation, evaluated once at
+	// nominal values. Vary keeps its nominal value (times its own draw when
+	// it is toleranced) instead of recomputing it from drawn inputs. Block
+	// parameter bindings are not design lets: they pass drawn values on.
+	design bool
 }
 
 // finish freezes the model: it keeps the nominal slots and drops the
@@ -31,6 +36,9 @@ func (m *model) finish(nominal []float64) {
 	m.nominal = append([]float64(nil), nominal...)
 	kept := m.lets[:0]
 	for _, l := range m.lets {
+		if l.design && l.vi < 0 {
+			continue // a design let keeps its nominal value
+		}
 		if !l.konst || l.vi >= 0 {
 			kept = append(kept, l)
 		}
@@ -43,7 +51,12 @@ func (m *model) revalue(dst *Circuit, factors []float64) error {
 	slots := make([]float64, len(m.nominal))
 	copy(slots, m.nominal)
 	for _, l := range m.lets {
-		v := l.fn(slots)
+		var v float64
+		if l.design {
+			v = m.nominal[l.slot]
+		} else {
+			v = l.fn(slots)
+		}
 		if l.vi >= 0 {
 			v *= factors[l.vi]
 		}

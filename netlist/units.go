@@ -235,7 +235,9 @@ var engPrefixes = []string{"f", "p", "n", "µ", "m", "", "k", "M", "G", "T"}
 // "4.7 kΩ", FormatEng(1e-8, "F") is "10 nF", FormatEng(0.1, "Ω") is
 // "100 mΩ", FormatEng(2000, "") is "2k". Units that take no prefix (dB,
 // deg) are printed plainly; for "%" v is a fraction (0.05 → "5 %"). Zero
-// prints as "0 Ω"; values outside the prefix range use an exponent.
+// prints as "0 Ω"; values outside the prefix range use an exponent. A
+// plain number (unit "") from 1e-3 to 1 prints without a prefix ("0.98"),
+// a smaller one with it ("4.7n").
 func FormatEng(v float64, unit string) string {
 	if u, ok := unitSymbols[unit]; ok {
 		unit = u
@@ -256,7 +258,7 @@ func FormatEng(v float64, unit string) string {
 	if v == 0 {
 		return "0" + sep + unit
 	}
-	if unit == "" && math.Abs(v) < 1 {
+	if unit == "" && math.Abs(v) < 1 && math.Abs(v) >= 1e-3 {
 		return strconv.FormatFloat(v, 'g', 4, 64)
 	}
 	exp3 := int(math.Floor(math.Log10(math.Abs(v)) / 3))

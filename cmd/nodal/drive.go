@@ -120,11 +120,11 @@ func steadyTable(w io.Writer, st *analysis.Steady, phasors []nodePhasor, sig *si
 		}
 	}
 	if st.DCIn != 0 {
-		dcOut := "unbounded"
+		dcOut, gain := "unbounded", "unbounded"
 		if st.DCOut != nil {
-			dcOut = num(*st.DCOut)
+			dcOut, gain = num(*st.DCOut), num(*st.DCOut/st.DCIn)
 		}
-		if err := t.row("dc", "0", "0", num(st.DCIn), "-", "", "-", dcOut, "-"); err != nil {
+		if err := t.row("dc", "0", "0", num(st.DCIn), "-", gain, "-", dcOut, "-"); err != nil {
 			return err
 		}
 	}

@@ -3,6 +3,7 @@ package main
 import (
 	"fmt"
 	"io"
+	"strings"
 
 	"nodal/mna"
 )
@@ -81,15 +82,15 @@ func equationsJSON(sys *mna.System) any {
 // equationsTable prints G, C and b as tables with named rows and columns.
 func equationsTable(w io.Writer, sys *mna.System) error {
 	n := sys.Size()
-	fmt.Fprintf(w, "(G + sC)·x = b for input %s, %d unknowns\n\n", sys.Input.Source, n)
+	fmt.Fprintf(w, "(G + sC)·x = b for a unit input %s: %d unknowns, columns x, rows the equations\n\n", sys.Input.Source, n)
 	for _, m := range []struct {
 		name string
 		at   func(i, j int) float64
 	}{{"G (S and dimensionless)", sys.G.At}, {"C (F, H and s)", sys.C.At}} {
 		fmt.Fprintln(w, m.name)
-		t := newTable(w, append([]string{"row"}, sys.Unknowns...)...)
+		t := newTable(w, append([]string{"equation"}, sys.Unknowns...)...)
 		for i := 0; i < n; i++ {
-			cells := []string{sys.Unknowns[i]}
+			cells := []string{equationName(sys.Unknowns[i])}
 			for j := 0; j < n; j++ {
 				v := m.at(i, j)
 				if v == 0 {
@@ -108,11 +109,23 @@ func equationsTable(w io.Writer, sys *mna.System) error {
 		fmt.Fprintln(w)
 	}
 	fmt.Fprintln(w, "b")
-	t := newTable(w, "row", "b")
+	t := newTable(w, "equation", "b")
 	for i := 0; i < n; i++ {
-		if err := t.row(sys.Unknowns[i], num(sys.B[i])); err != nil {
+		if err := t.row(equationName(sys.Unknowns[i]), num(sys.B[i])); err != nil {
 			return err
 		}
 	}
 	return t.render()
+}
+
+// equationName names MNA row i after the unknown it pairs with: the
+// current balance (KCL) at a node, or the branch equation of a part.
+func equationName(unknown string) string {
+	switch {
+	case strings.HasPrefix(unknown, "v(") && strings.HasSuffix(unknown, ")"):
+		return "KCL at " + unknown[2:len(unknown)-1]
+	case strings.HasPrefix(unknown, "i(") && strings.HasSuffix(unknown, ")"):
+		return "branch " + unknown[2:len(unknown)-1]
+	}
+	return unknown
 }

@@ -214,7 +214,11 @@ func zpkText(h *analysis.TransferFunction) string {
 	if z := lin(h.Zeros); len(z) > 0 {
 		s += "·" + strings.Join(z, "·")
 	}
-	if p := lin(h.Poles); len(p) > 0 {
+	switch p := lin(h.Poles); len(p) {
+	case 0:
+	case 1:
+		s += " / " + p[0]
+	default:
 		s += " / (" + strings.Join(p, "·") + ")"
 	}
 	return s

@@ -41,7 +41,7 @@ type cli struct {
 	Drive     driveCmd     `cmd:"" help:"Sinusoidal steady-state output for a given input signal."`
 	Step      stepCmd      `cmd:"" help:"Exact step response with rise, overshoot and settling figures."`
 	Impulse   impulseCmd   `cmd:"" help:"Exact impulse response."`
-	// Tolerance toleranceCmd `cmd:"" help:"Monte Carlo, worst case and sensitivities of response metrics."`
+	Tolerance toleranceCmd `cmd:"" help:"Monte Carlo, worst case and sensitivities of response metrics."`
 	// Verify    verifyCmd    `cmd:"" help:"Check the file's require statements at nominal, worst case and as yield."`
 	// Snap      snapCmd      `cmd:"" help:"Round R and C values to an IEC 60063 E-series and show what moves."`
 	Report reportCmd `cmd:"" help:"Write a self-contained HTML report (the built-in demo when no FILE)."`

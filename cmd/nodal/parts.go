@@ -159,7 +159,7 @@ func partsTable(w io.Writer, c *netlist.Circuit) error {
 	if c.Title != "" {
 		fmt.Fprintf(w, "%s\n\n", c.Title)
 	}
-	t := newTable(w, "name", "kind", "nodes", "value", "tolerance")
+	t := newTextTable(w, "name", "kind", "nodes", "value", "tolerance")
 	for _, p := range c.Parts {
 		name := p.Name
 		if p.Fixed {

@@ -24,6 +24,17 @@ func newTable(w io.Writer, headers ...string) *table {
 	return &table{t: t}
 }
 
+// newTextTable starts a table whose cells are text, left-aligned.
+func newTextTable(w io.Writer, headers ...string) *table {
+	t := tablewriter.NewTable(w,
+		tablewriter.WithHeaderAutoFormat(tw.Off),
+		tablewriter.WithRowAlignment(tw.AlignLeft),
+		tablewriter.WithHeaderAlignment(tw.AlignCenter),
+	)
+	t.Header(toAny(headers)...)
+	return &table{t: t}
+}
+
 // row appends one row of cells.
 func (t *table) row(cells ...string) error { return t.t.Append(toAny(cells)...) }
 

@@ -21,7 +21,7 @@ type reportCmd struct {
 	Output string   `short:"o" help:"Report file (default nodal-report.html; with --format text, standard output)." placeholder:"FILE" type:"path"`
 	Format string   `help:"html: one self-contained HTML file; text: the same sections as terminal tables." enum:"html,text" default:"html"`
 	Runs   int      `help:"Monte Carlo runs when the file has tolerances." default:"2000"`
-	Seed   int64    `help:"Seed of the Monte Carlo draws." default:"1"`
+	Seed   uint64   `help:"Seed of the Monte Carlo draws." default:"1"`
 }
 
 // Help is the extended help with a worked example.
@@ -82,7 +82,7 @@ func (c *reportCmd) Run(e *env) error {
 }
 
 // buildReport runs every analysis the report shows.
-func buildReport(e *env, l *loaded, q tfRequest, runs int, seed int64) (*report.Data, error) {
+func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report.Data, error) {
 	c := l.circuit
 	d := &report.Data{
 		Title:   c.Title,

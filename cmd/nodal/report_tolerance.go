@@ -1,9 +1,94 @@
 package main
 
-import "nodal/cmd/nodal/report"
+import (
+	"fmt"
 
-// addToleranceSections adds the Monte Carlo and requirement sections when
-// the circuit has tolerances or requirements.
-func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs int, seed int64) error {
+	"nodal/analysis"
+	"nodal/cmd/nodal/plot"
+	"nodal/cmd/nodal/report"
+	"nodal/mna"
+	"nodal/netlist"
+)
+
+// reportMetrics are the metrics the report's Monte Carlo section follows:
+// those the file's requirements name, or f3db when there are none.
+func reportMetrics(c *netlist.Circuit) []string {
+	var names []string
+	seen := map[string]bool{}
+	for _, r := range c.Requirements {
+		if !seen[r.Metric] {
+			seen[r.Metric] = true
+			names = append(names, r.Metric)
+		}
+	}
+	if len(names) == 0 {
+		names = []string{"f3db"}
+	}
+	return names
+}
+
+// addToleranceSections adds the Monte Carlo band, statistics and
+// histograms when the circuit has toleranced items.
+func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs int, seed uint64) error {
+	c := l.circuit
+	if len(c.Variations) == 0 || runs <= 0 {
+		return nil
+	}
+	in, out := mna.Input{Source: r.sys.Input.Source}, r.sys.Output
+	// Keep the metrics the nominal circuit can give a value for.
+	var metrics []string
+	for _, m := range reportMetrics(c) {
+		if _, err := analysis.NewMetricEvaluator(c, in, out, []string{m}); err != nil {
+			d.Notes = append(d.Notes, fmt.Sprintf("Metric %s left out of the tolerance analysis: %v", m, err))
+			continue
+		}
+		metrics = append(metrics, m)
+	}
+	opt := analysis.MonteCarloOptions{Runs: runs, Seed: seed}
+	mc := &report.MonteCarlo{Runs: runs, Seed: int64(seed)}
+	if len(metrics) > 0 {
+		ev, err := analysis.NewMetricEvaluator(c, in, out, metrics)
+		if err != nil {
+			return err
+		}
+		res, err := analysis.MonteCarlo(e.ctx, c, ev, opt)
+		if err != nil {
+			return err
+		}
+		mc.Runs = res.Finished
+		if res.Failed > 0 {
+			d.Notes = append(d.Notes, fmt.Sprintf("%d of %d Monte Carlo runs failed (first: %v).", res.Failed, res.Finished, res.FirstFailure))
+		}
+		var hists []*plot.Figure
+		for _, m := range res.Metrics {
+			mc.Stats = append(mc.Stats, report.Stat{Name: m.Name, Unit: m.Unit, Nominal: m.Nominal, Mean: m.Mean, StdDev: m.Std, Min: m.Min, Max: m.Max})
+			h, err := plot.Histogram(metricLabel(m.Name, m.Unit), m.Samples, 0, m.Nominal)
+			if err != nil {
+				return err
+			}
+			hists = append(hists, h)
+		}
+		if len(hists) > 0 {
+			fig, err := plot.Stack(hists...)
+			if err != nil {
+				return err
+			}
+			mc.Histograms = report.Plot{Figure: fig, Caption: fmt.Sprintf("metric histograms over %d runs (nominal marked)", res.Finished)}
+		}
+	}
+	lo, hi := autoRange(l, r.sys)
+	freqs := analysis.LogGrid(lo, hi, 25)
+	env, err := analysis.Envelope(e.ctx, c, in, out, freqs, opt)
+	if err != nil {
+		return err
+	}
+	band := plot.BandTrace{Label: "nominal", FreqHz: env.FreqHz, NominalDB: env.NominalDB, MinDB: env.MinDB, MaxDB: env.MaxDB,
+		NominalDeg: env.NominalPhaseDeg, MinDeg: env.MinPhaseDeg, MaxDeg: env.MaxPhaseDeg, Runs: env.Finished}
+	fig, err := plot.Band(band, requirementLimits(c.Requirements, env.FreqHz), plot.BodeOptions{})
+	if err != nil {
+		return err
+	}
+	mc.Band = report.Plot{Figure: fig, Caption: fmt.Sprintf("nominal response with the min–max band of %d Monte Carlo runs (seed %d); requirement limits drawn", env.Finished, seed)}
+	d.MonteCarlo = mc
 	return nil
 }

@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/csv"
+	"errors"
 	"fmt"
 	"io"
 	"strconv"
@@ -92,6 +93,9 @@ func (c *timeArgs) run(e *env, kind string) error {
 		r, err = analysis.Step(tf, opt)
 	} else {
 		r, err = analysis.Impulse(tf, opt)
+	}
+	if errors.Is(err, analysis.ErrNoTimeScale) {
+		return fmt.Errorf("%w with --until T", err)
 	}
 	if err != nil {
 		return err

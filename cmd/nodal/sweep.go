@@ -177,15 +177,20 @@ func writeBodePlot(e *env, path string, protect []string, l *loaded, systems []*
 	if err != nil {
 		return err
 	}
+	fig, err := bodeFigure(l.circuit.Title, systems, resps)
+	if err != nil {
+		return err
+	}
+	return writeTo(e, path, append(protect, l.name), func(w io.Writer) error { return fig.Encode(w, format) })
+}
+
+// bodeFigure is the Bode plot of the responses, one labelled trace each,
+// with −3 dB points and peaks marked.
+func bodeFigure(title string, systems []*mna.System, resps []*analysis.Response) (*plot.Figure, error) {
 	traces := make([]plot.BodeTrace, len(resps))
 	for i, r := range resps {
 		traces[i] = plot.BodeTrace{Label: r.Output, FreqHz: r.FreqHz, MagDB: r.MagDB, PhaseDeg: r.PhaseDeg}
 		addBodeMarks(&traces[i], systems[i], r)
 	}
-	title := l.circuit.Title
-	fig, err := plot.Bode(traces, plot.BodeOptions{Title: title})
-	if err != nil {
-		return err
-	}
-	return writeTo(e, path, append(protect, l.name), func(w io.Writer) error { return fig.Encode(w, format) })
+	return plot.Bode(traces, plot.BodeOptions{Title: title})
 }

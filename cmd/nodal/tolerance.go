@@ -1,0 +1,523 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strings"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
+
+	"nodal/analysis"
+	"nodal/cmd/nodal/plot"
+	"nodal/mna"
+	"nodal/netlist"
+)
+
+// toleranceCmd runs the tolerance analyses: Monte Carlo always, worst case,
+// sensitivities and the response envelope on request.
+type toleranceCmd struct {
+	circuitArgs
+	probeArgs
+	Metric      []string `required:"" sep:"none" help:"Metric to analyse (repeatable): gain@F, phase@F, f3db, peak, fpeak, f0, q, dc." placeholder:"M"`
+	Runs        int      `help:"Monte Carlo runs." default:"1000"`
+	Seed        uint64   `help:"Random seed; the same seed gives the same numbers for any --workers." default:"1"`
+	Workers     int      `help:"Goroutines (default: all cores)." default:"0"`
+	WorstCase   bool     `help:"Also evaluate the tolerance corners and report each metric's extremes."`
+	Sensitivity bool     `help:"Also report each metric's sensitivity to every toleranced item."`
+	Envelope    bool     `help:"Also report the min–max band of |H| and phase over a sweep across the runs."`
+	freqArgs
+	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Output string `short:"o" help:"Write the table/JSON to this file instead of standard output." placeholder:"FILE" type:"path"`
+	Plot   string `help:"Draw the histograms (and with --envelope the Bode band) to this file (.svg or .png)." placeholder:"FILE" type:"path"`
+}
+
+// Help is the extended help with a worked example.
+func (c *toleranceCmd) Help() string {
+	return `Draws every toleranced part and parameter at random (uniform over
+nominal·(1 ± tol), or normal with σ = tol/3 when the file says
+dist=normal; a toleranced let is one draw shared by all its uses) and
+reports, per metric, the nominal value, mean, standard deviation, min,
+max and the 0.135 % and 99.865 % points (the ±3σ equivalents).
+
+--worst-case tries all 2^k tolerance corners for up to 12 toleranced
+items (otherwise the two corners the sensitivity signs point to) and
+names the corner giving each extreme. --sensitivity gives
+(∂M/M)/(∂x/x) in %/% for Hz and q metrics, dB/% or deg/% for dB and
+phase metrics, largest first. --envelope sweeps |H| and phase for every
+run (--from, --to, --per-decade; default: the poles and zeros ± two
+decades). Ctrl-C stops and reports the runs finished.
+
+Examples:
+
+    nodal tolerance filter.nodal --out out --metric f3db --metric q
+    nodal tolerance filter.nodal --out out --metric gain@1kHz --runs 10000 --seed 7 --format json
+    nodal tolerance filter.nodal --out out --metric f0 --worst-case --sensitivity
+    nodal tolerance filter.nodal --out out --metric f3db --envelope --plot band.svg`
+}
+
+// progressMinRuns is the run count from which a progress bar is shown on
+// a terminal.
+const progressMinRuns = 2000
+
+// toleranceJSON is the JSON document of the command.
+type toleranceJSON struct {
+	Runs          int               `json:"runs"` // runs finished
+	RunsRequested int               `json:"runs_requested,omitempty"`
+	Cancelled     bool              `json:"cancelled,omitempty"`
+	Failed        int               `json:"failed,omitempty"`
+	Seed          uint64            `json:"seed"`
+	Metrics       []metricStatsJSON `json:"metrics"`
+	WorstCase     []worstCaseJSON   `json:"worst_case"`
+	Sensitivity   []sensitivityJSON `json:"sensitivity"`
+	Envelope      *envelopeJSON     `json:"envelope,omitempty"`
+}
+
+type metricStatsJSON struct {
+	Name    string  `json:"name"`
+	Unit    string  `json:"unit"`
+	Nominal float64 `json:"nominal"`
+	Mean    float64 `json:"mean"`
+	Std     float64 `json:"std"`
+	Min     float64 `json:"min"`
+	Max     float64 `json:"max"`
+	P00135  float64 `json:"p00135"`
+	P99865  float64 `json:"p99865"`
+}
+
+type cornerJSON struct {
+	High []string `json:"high"`
+	Low  []string `json:"low"`
+}
+
+type worstCaseJSON struct {
+	Name       string     `json:"name"`
+	Unit       string     `json:"unit"`
+	Nominal    float64    `json:"nominal"`
+	Min        float64    `json:"min"`
+	Max        float64    `json:"max"`
+	MinCorner  cornerJSON `json:"min_corner"`
+	MaxCorner  cornerJSON `json:"max_corner"`
+	Exhaustive bool       `json:"exhaustive"`
+	Corners    int        `json:"corners"`
+}
+
+type itemSensitivityJSON struct {
+	Item  string  `json:"item"`
+	Value float64 `json:"value"`
+}
+
+type sensitivityJSON struct {
+	Name  string                `json:"name"`
+	Unit  string                `json:"unit"`
+	Items []itemSensitivityJSON `json:"items"`
+}
+
+type envelopePointJSON struct {
+	FreqHz          float64  `json:"freq_hz"`
+	NominalDB       *float64 `json:"nominal_db"`
+	MinDB           *float64 `json:"min_db"`
+	MaxDB           *float64 `json:"max_db"`
+	NominalPhaseDeg float64  `json:"nominal_phase_deg"`
+	MinPhaseDeg     float64  `json:"min_phase_deg"`
+	MaxPhaseDeg     float64  `json:"max_phase_deg"`
+}
+
+type envelopeJSON struct {
+	Runs   int                 `json:"runs"`
+	Points []envelopePointJSON `json:"points"`
+}
+
+// toleranceResult gathers what the analyses gave.
+type toleranceResult struct {
+	mc   *analysis.MonteCarloResult
+	wc   *analysis.WorstCaseResult
+	sens *analysis.SensitivityResult
+	env  *analysis.EnvelopeResult
+}
+
+// Run performs the analyses and writes the report.
+func (c *toleranceCmd) Run(e *env) error {
+	if c.Runs < 1 {
+		return fmt.Errorf("--runs must be at least 1")
+	}
+	seen := map[string]bool{}
+	for _, m := range c.Metric {
+		if seen[m] {
+			return fmt.Errorf("--metric %s is given twice", m)
+		}
+		seen[m] = true
+	}
+	if c.Plot != "" {
+		if _, err := plot.FormatFromPath(c.Plot); err != nil {
+			return err
+		}
+	}
+	l, err := c.load(e)
+	if err != nil {
+		return err
+	}
+	cir := l.circuit
+	if len(cir.Variations) == 0 {
+		return fmt.Errorf("%s: no toleranced part or parameter; give one a tolerance, e.g. 10k ±1%%", l.name)
+	}
+	in := mna.Input{Source: c.In}
+	ev, err := analysis.NewMetricEvaluator(cir, in, c.output(), c.Metric)
+	if err != nil {
+		return err
+	}
+	var freqs []float64
+	if c.Envelope {
+		sys, err := c.system(l)
+		if err != nil {
+			return err
+		}
+		if freqs, err = c.frequencies(func() (float64, float64) { return autoRange(l, sys) }); err != nil {
+			return err
+		}
+	}
+	opt := analysis.MonteCarloOptions{Runs: c.Runs, Seed: c.Seed, Workers: c.Workers}
+	var res toleranceResult
+	stopBar := c.progress(e, &opt, "monte carlo")
+	res.mc, err = analysis.MonteCarlo(e.ctx, cir, ev, opt)
+	stopBar()
+	if err != nil {
+		return err
+	}
+	if res.mc.Failed > 0 {
+		fmt.Fprintf(e.stderr, "nodal: %d of %d runs failed and are left out; first: %v\n", res.mc.Failed, res.mc.Finished, res.mc.FirstFailure)
+	}
+	if res.mc.Cancelled {
+		fmt.Fprintf(e.stderr, "nodal: interrupted: %d of %d runs finished; the figures cover those only\n", res.mc.Finished, res.mc.Runs)
+	} else if err := c.extras(e, cir, ev, freqs, opt, &res); err != nil {
+		return err
+	}
+	if c.Plot != "" {
+		if err := c.writePlot(e, l, &res); err != nil {
+			return err
+		}
+	}
+	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
+		if c.Format == "json" {
+			return writeJSON(w, toleranceDoc(&res))
+		}
+		return toleranceTables(w, &res)
+	})
+}
+
+// extras runs the analyses asked for besides Monte Carlo. An interrupt
+// skips the rest with a note, keeping what is done.
+func (c *toleranceCmd) extras(e *env, cir *netlist.Circuit, ev analysis.Evaluator, freqs []float64, opt analysis.MonteCarloOptions, res *toleranceResult) error {
+	interrupted := func(what string) bool {
+		if e.ctx.Err() != nil {
+			fmt.Fprintf(e.stderr, "nodal: interrupted: %s skipped\n", what)
+			return true
+		}
+		return false
+	}
+	var err error
+	if c.WorstCase && !interrupted("worst case") {
+		if res.wc, err = analysis.WorstCase(e.ctx, cir, ev, analysis.WorstCaseOptions{Workers: c.Workers}); err != nil && e.ctx.Err() == nil {
+			return err
+		}
+		if res.wc != nil && res.wc.Failed > 0 {
+			fmt.Fprintf(e.stderr, "nodal: %d of %d corners failed and are left out\n", res.wc.Failed, res.wc.Corners)
+		}
+	}
+	if c.Sensitivity && !interrupted("sensitivity") {
+		if res.sens, err = analysis.Sensitivity(e.ctx, cir, ev, analysis.SensitivityOptions{Workers: c.Workers}); err != nil && e.ctx.Err() == nil {
+			return err
+		}
+	}
+	if c.Envelope && !interrupted("envelope") {
+		opt.Progress = nil
+		stop := c.progress(e, &opt, "envelope")
+		res.env, err = analysis.Envelope(e.ctx, cir, mna.Input{Source: c.In}, c.output(), freqs, opt)
+		stop()
+		if err != nil && e.ctx.Err() == nil {
+			return err
+		}
+		if res.env != nil && res.env.Cancelled {
+			fmt.Fprintf(e.stderr, "nodal: interrupted: the envelope covers %d of %d runs\n", res.env.Finished, res.env.Runs)
+		}
+	}
+	return nil
+}
+
+// progress installs a progress bar on stderr into opt when stderr is a
+// terminal and the run is long; the returned function removes it.
+func (c *toleranceCmd) progress(e *env, opt *analysis.MonteCarloOptions, what string) func() {
+	if !e.stderrIsTerminal || opt.Runs < progressMinRuns {
+		return func() {}
+	}
+	bar := progressbar.NewOptions(opt.Runs,
+		progressbar.OptionSetWriter(e.stderr),
+		progressbar.OptionSetDescription(what),
+		progressbar.OptionShowCount(),
+		progressbar.OptionThrottle(100*time.Millisecond),
+		progressbar.OptionClearOnFinish(),
+	)
+	opt.Progress = func(done int) { _ = bar.Set(done) }
+	return func() { _ = bar.Clear(); opt.Progress = nil }
+}
+
+// toleranceDoc converts the results for JSON. Non-finite numbers cannot
+// occur: the evaluator fails a run with a non-finite value and at least
+// one run succeeded.
+func toleranceDoc(r *toleranceResult) toleranceJSON {
+	mc := r.mc
+	d := toleranceJSON{Runs: mc.Finished, Seed: mc.Seed, Failed: mc.Failed, Cancelled: mc.Cancelled,
+		Metrics: []metricStatsJSON{}, WorstCase: []worstCaseJSON{}, Sensitivity: []sensitivityJSON{}}
+	if mc.Cancelled {
+		d.RunsRequested = mc.Runs
+	}
+	for _, m := range mc.Metrics {
+		d.Metrics = append(d.Metrics, metricStatsJSON{Name: m.Name, Unit: m.Unit, Nominal: m.Nominal, Mean: m.Mean,
+			Std: m.Std, Min: m.Min, Max: m.Max, P00135: m.P00135, P99865: m.P99865})
+	}
+	if r.wc != nil {
+		for _, m := range r.wc.Metrics {
+			d.WorstCase = append(d.WorstCase, worstCaseJSON{Name: m.Metric, Unit: m.Unit, Nominal: m.Nominal, Min: m.Min, Max: m.Max,
+				MinCorner: cornerDoc(m.MinCorner), MaxCorner: cornerDoc(m.MaxCorner), Exhaustive: r.wc.Exhaustive, Corners: r.wc.Corners})
+		}
+	}
+	if r.sens != nil {
+		for _, m := range r.sens.Metrics {
+			s := sensitivityJSON{Name: m.Metric, Unit: m.Unit, Items: []itemSensitivityJSON{}}
+			for _, it := range m.Items {
+				s.Items = append(s.Items, itemSensitivityJSON{Item: it.Item, Value: it.Value})
+			}
+			d.Sensitivity = append(d.Sensitivity, s)
+		}
+	}
+	if r.env != nil {
+		ej := &envelopeJSON{Runs: r.env.Finished}
+		for k, f := range r.env.FreqHz {
+			ej.Points = append(ej.Points, envelopePointJSON{FreqHz: f, NominalDB: finiteOrNil(r.env.NominalDB[k]),
+				MinDB: finiteOrNil(r.env.MinDB[k]), MaxDB: finiteOrNil(r.env.MaxDB[k]),
+				NominalPhaseDeg: r.env.NominalPhaseDeg[k], MinPhaseDeg: r.env.MinPhaseDeg[k], MaxPhaseDeg: r.env.MaxPhaseDeg[k]})
+		}
+		d.Envelope = ej
+	}
+	return d
+}
+
+func cornerDoc(c analysis.ToleranceCorner) cornerJSON {
+	return cornerJSON{High: append([]string{}, c.High...), Low: append([]string{}, c.Low...)}
+}
+
+// metricLabel is a metric with its unit, "f3db (Hz)".
+func metricLabel(name, unit string) string {
+	if unit == "" {
+		return name
+	}
+	return name + " (" + unit + ")"
+}
+
+// toleranceTables prints the results as terminal tables.
+func toleranceTables(w io.Writer, r *toleranceResult) error {
+	mc := r.mc
+	fmt.Fprintf(w, "Monte Carlo: %d runs, seed %d", mc.Finished, mc.Seed)
+	if mc.Cancelled {
+		fmt.Fprintf(w, " (interrupted; %d requested)", mc.Runs)
+	}
+	if mc.Failed > 0 {
+		fmt.Fprintf(w, ", %d failed", mc.Failed)
+	}
+	fmt.Fprintln(w)
+	t := newTable(w, "metric", "nominal", "mean", "std", "min", "max", "p00135", "p99865")
+	for _, m := range mc.Metrics {
+		if err := t.row(metricLabel(m.Name, m.Unit), num(m.Nominal), num(m.Mean), num(m.Std), num(m.Min), num(m.Max), num(m.P00135), num(m.P99865)); err != nil {
+			return err
+		}
+	}
+	if err := t.render(); err != nil {
+		return err
+	}
+	for _, m := range mc.Metrics {
+		fmt.Fprintf(w, "\n%s\n", metricLabel(m.Name, m.Unit))
+		textHistogram(w, m.Samples, m.Nominal, 12, 40)
+	}
+	if r.wc != nil {
+		method := "all %d corners"
+		if !r.wc.Exhaustive {
+			method = "%d corners from the sensitivity signs"
+		}
+		fmt.Fprintf(w, "\nWorst case ("+method+"; a normal item's corner is ±tol = ±3σ)\n", r.wc.Corners)
+		t := newTable(w, "metric", "nominal", "min", "max")
+		for _, m := range r.wc.Metrics {
+			if err := t.row(metricLabel(m.Metric, m.Unit), num(m.Nominal), num(m.Min), num(m.Max)); err != nil {
+				return err
+			}
+		}
+		if err := t.render(); err != nil {
+			return err
+		}
+		for _, m := range r.wc.Metrics {
+			fmt.Fprintf(w, "%s min at %s\n", m.Metric, cornerText(m.MinCorner))
+			fmt.Fprintf(w, "%s max at %s\n", m.Metric, cornerText(m.MaxCorner))
+		}
+	}
+	if r.sens != nil {
+		for _, m := range r.sens.Metrics {
+			fmt.Fprintf(w, "\nSensitivity of %s (%s)\n", m.Metric, m.Unit)
+			t := newTable(w, "item", m.Unit)
+			for _, it := range m.Items {
+				if err := t.row(it.Item, fixed(it.Value, 4)); err != nil {
+					return err
+				}
+			}
+			if err := t.render(); err != nil {
+				return err
+			}
+		}
+	}
+	if r.env != nil {
+		fmt.Fprintf(w, "\nEnvelope over %d runs\n", r.env.Finished)
+		t := newTable(w, "freq_hz", "nominal_db", "min_db", "max_db", "nominal_deg", "min_deg", "max_deg")
+		for k, f := range r.env.FreqHz {
+			if err := t.row(num(f), fixed(r.env.NominalDB[k], 4), fixed(r.env.MinDB[k], 4), fixed(r.env.MaxDB[k], 4),
+				fixed(r.env.NominalPhaseDeg[k], 3), fixed(r.env.MinPhaseDeg[k], 3), fixed(r.env.MaxPhaseDeg[k], 3)); err != nil {
+				return err
+			}
+		}
+		if err := t.render(); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// cornerText writes a corner as "R1+ C1+ R2− C2−" (+ high, − low).
+func cornerText(c analysis.ToleranceCorner) string {
+	var parts []string
+	for _, n := range c.High {
+		parts = append(parts, n+"+")
+	}
+	for _, n := range c.Low {
+		parts = append(parts, n+"−")
+	}
+	return strings.Join(parts, " ")
+}
+
+// textHistogram draws bins equal-width bins of values from min to max as
+// rows of '#' at most width long, marking the bin holding nominal.
+func textHistogram(w io.Writer, values []float64, nominal float64, bins, width int) {
+	if len(values) == 0 {
+		fmt.Fprintln(w, "  (no runs)")
+		return
+	}
+	lo, hi := values[0], values[0]
+	for _, v := range values {
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	if hi == lo {
+		bins = 1
+	}
+	counts := make([]int, bins)
+	bin := func(v float64) int {
+		if hi == lo {
+			return 0
+		}
+		return min(bins-1, max(0, int(float64(bins)*(v-lo)/(hi-lo))))
+	}
+	most := 0
+	for _, v := range values {
+		k := bin(v)
+		counts[k]++
+		most = max(most, counts[k])
+	}
+	nb := -1
+	if nominal >= lo && nominal <= hi {
+		nb = bin(nominal)
+	}
+	step := (hi - lo) / float64(bins)
+	for k, n := range counts {
+		mark := " "
+		if k == nb {
+			mark = "*"
+		}
+		bar := strings.Repeat("#", (n*width+most-1)/most)
+		fmt.Fprintf(w, "  %12s .. %-12s %s %-*s %d\n", num(lo+float64(k)*step), num(lo+float64(k+1)*step), mark, width, bar, n)
+	}
+	fmt.Fprintln(w, "  (* bin of the nominal value)")
+}
+
+// writePlot draws the histograms, with --envelope the Bode band on top.
+func (c *toleranceCmd) writePlot(e *env, l *loaded, r *toleranceResult) error {
+	format, err := plot.FormatFromPath(c.Plot)
+	if err != nil {
+		return err
+	}
+	var figs []*plot.Figure
+	if r.env != nil {
+		b := plot.BandTrace{Label: "nominal", FreqHz: r.env.FreqHz, NominalDB: r.env.NominalDB, MinDB: r.env.MinDB, MaxDB: r.env.MaxDB,
+			NominalDeg: r.env.NominalPhaseDeg, MinDeg: r.env.MinPhaseDeg, MaxDeg: r.env.MaxPhaseDeg, Runs: r.env.Finished}
+		fig, err := plot.Band(b, requirementLimits(l.circuit.Requirements, r.env.FreqHz), plot.BodeOptions{Title: l.circuit.Title})
+		if err != nil {
+			return err
+		}
+		figs = append(figs, fig)
+	}
+	for _, m := range r.mc.Metrics {
+		fig, err := plot.Histogram(metricLabel(m.Name, m.Unit), m.Samples, 0, m.Nominal)
+		if err != nil {
+			return err
+		}
+		figs = append(figs, fig)
+	}
+	fig, err := plot.Stack(figs...)
+	if err != nil {
+		return err
+	}
+	return writeTo(e, c.Plot, []string{c.File, c.Output, l.name}, func(w io.Writer) error { return fig.Encode(w, format) })
+}
+
+// requirementLimits turns the file's gain@F, phase@F and f3db
+// requirements into limits for the band plot; requirements at
+// frequencies outside the sweep are left out.
+func requirementLimits(reqs []netlist.Requirement, freqs []float64) []plot.Limit {
+	lo, hi := freqs[0], freqs[len(freqs)-1]
+	inside := func(f float64) bool { return f >= lo && f <= hi }
+	var out []plot.Limit
+	for _, r := range reqs {
+		m, err := analysis.ParseMetric(r.Metric)
+		if err != nil {
+			continue
+		}
+		l := plot.Limit{Label: r.Text}
+		switch m.Kind {
+		case analysis.MetricGainAt, analysis.MetricPhaseAt:
+			if !inside(m.FreqHz) {
+				continue
+			}
+			if m.Kind == analysis.MetricPhaseAt {
+				l.Quantity = plot.Phase
+			}
+			l.FromHz, l.ToHz = m.FreqHz, m.FreqHz
+			lo, hi := r.Lo, r.Hi
+			if r.Op != netlist.Below {
+				l.Lo = &lo
+			}
+			if r.Op != netlist.Above {
+				l.Hi = &hi
+			}
+		case analysis.MetricF3dB:
+			l.FromHz, l.ToHz = r.Lo, r.Hi
+			switch r.Op {
+			case netlist.Below:
+				l.FromHz = r.Hi
+			case netlist.Above:
+				l.ToHz = r.Lo
+			}
+			if !inside(l.FromHz) || !inside(l.ToHz) {
+				continue
+			}
+		default:
+			continue
+		}
+		out = append(out, l)
+	}
+	return out
+}
