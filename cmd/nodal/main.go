@@ -42,9 +42,9 @@ type cli struct {
 	Step      stepCmd      `cmd:"" help:"Exact step response with rise, overshoot and settling figures."`
 	Impulse   impulseCmd   `cmd:"" help:"Exact impulse response."`
 	Tolerance toleranceCmd `cmd:"" help:"Monte Carlo, worst case and sensitivities of response metrics."`
-	// Verify    verifyCmd    `cmd:"" help:"Check the file's require statements at nominal, worst case and as yield."`
-	// Snap      snapCmd      `cmd:"" help:"Round R and C values to an IEC 60063 E-series and show what moves."`
-	Report reportCmd `cmd:"" help:"Write a self-contained HTML report (the built-in demo when no FILE)."`
+	Verify    verifyCmd    `cmd:"" help:"Check the file's require statements at nominal, worst case and as yield."`
+	Snap      snapCmd      `cmd:"" help:"Round R and C values to an IEC 60063 E-series and show what moves."`
+	Report    reportCmd    `cmd:"" help:"Write a self-contained HTML report (the built-in demo when no FILE)."`
 }
 
 // env is what every command may touch: the streams, the context and the

@@ -1,0 +1,273 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strings"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
+
+	"nodal/analysis"
+	"nodal/mna"
+	"nodal/netlist"
+)
+
+// requireProbe chooses the input and output that the file's requirements
+// are taken on.
+type requireProbe struct {
+	In  string `help:"Input source of the requirements (default: the circuit's only source)." placeholder:"SOURCE"`
+	Out string `help:"Output node of the requirements, or i(PART) (default: the node named out)." placeholder:"NODE"`
+	Ref string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
+}
+
+// outNode returns --out, or "out" when the circuit has a node of that name.
+func (p *requireProbe) outNode(l *loaded) (string, error) {
+	if p.Out != "" {
+		return p.Out, nil
+	}
+	if !l.circuit.HasNode("out") {
+		return "", fmt.Errorf("%s has no node named out: say where the requirements are measured with --out NODE (nodes: %s)", l.name, strings.Join(l.circuit.Nodes[1:], ", "))
+	}
+	return "out", nil
+}
+
+// metrics returns the evaluator of the circuit's requirement metrics.
+func (p *requireProbe) metrics(l *loaded) (*analysis.RequirementMetrics, error) {
+	out, err := p.outNode(l)
+	if err != nil {
+		return nil, err
+	}
+	return analysis.NewRequirementMetrics(l.circuit.Requirements, mna.Input{Source: p.In}, outputFor(out, p.Ref))
+}
+
+// verifyCmd checks the file's requirements.
+type verifyCmd struct {
+	circuitArgs
+	requireProbe
+	Runs   int    `help:"Monte Carlo runs for the yield (0: none)." default:"1000"`
+	Seed   int64  `help:"Seed of the Monte Carlo draws." default:"1"`
+	Strict bool   `help:"Also fail (exit 1) when a requirement fails in the worst case."`
+	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+}
+
+// Help is the extended help with a worked example.
+func (c *verifyCmd) Help() string {
+	return `Checks every require statement of the file on the transfer function from
+the input source (--in, default the only source) to the output (--out,
+default the node named out): at nominal values, over the worst-case
+corners of the tolerances (every part and toleranced let at its limits;
+for more than 12 toleranced items, the corners each metric's sensitivities
+point to, as in the tolerance command), and as the Monte Carlo yield: the fraction of --runs random
+builds meeting each requirement and all of them, with its 95 % Wilson
+score interval.
+
+Exit status: 0 when every requirement passes at nominal (with --strict:
+also in the worst case), 1 otherwise, 2 for bad input. A file without
+require statements is bad input.
+
+Requirements in the file:
+
+    require gain@1kHz within -0.5dB..0.5dB
+    require f3db within 1.9kHz..2.1kHz
+    require q above 0.6
+
+Examples:
+
+    nodal verify filter.nodal
+    nodal verify filter.nodal --out vout --runs 5000 --strict
+    nodal verify filter.nodal --format json`
+}
+
+// verifyReport is the JSON form of a verification.
+type verifyReport struct {
+	File         string          `json:"file"`
+	Input        string          `json:"input"`
+	Output       string          `json:"output"`
+	Runs         int             `json:"runs"`
+	Seed         int64           `json:"seed"`
+	Corners      int             `json:"corners"`
+	Failed       int             `json:"failed_evaluations"`
+	Requirements []verdictJSON   `json:"requirements"`
+	Yield        *proportionJSON `json:"yield_all,omitempty"`
+	PassNominal  bool            `json:"pass_nominal"`
+	PassWorst    bool            `json:"pass_worst_case"`
+	Notes        []string        `json:"notes,omitempty"`
+}
+
+type verdictJSON struct {
+	Requirement string          `json:"requirement"`
+	Line        int             `json:"line"`
+	Unit        string          `json:"unit"`
+	Nominal     *float64        `json:"nominal"`
+	NominalPass bool            `json:"nominal_pass"`
+	WorstMin    *float64        `json:"worst_min"`
+	WorstMax    *float64        `json:"worst_max"`
+	WorstPass   bool            `json:"worst_pass"`
+	Yield       *proportionJSON `json:"yield,omitempty"`
+
+	nominal, worstMin, worstMax float64 // as evaluated, ±Inf and NaN included, for the table
+}
+
+type proportionJSON struct {
+	Passed   int     `json:"passed"`
+	Runs     int     `json:"runs"`
+	Fraction float64 `json:"fraction"`
+	Lo95     float64 `json:"wilson95_lo"`
+	Hi95     float64 `json:"wilson95_hi"`
+}
+
+func proportionOut(p analysis.Proportion) *proportionJSON {
+	if p.Runs == 0 {
+		return nil
+	}
+	return &proportionJSON{Passed: p.Passed, Runs: p.Runs, Fraction: p.Fraction, Lo95: p.Lo, Hi95: p.Hi}
+}
+
+// Run verifies and prints the verdicts.
+func (c *verifyCmd) Run(e *env) error {
+	if c.Runs < 0 {
+		return fmt.Errorf("--runs must be ≥ 0, got %d", c.Runs)
+	}
+	l, err := c.load(e)
+	if err != nil {
+		return err
+	}
+	if len(l.circuit.Requirements) == 0 {
+		return fmt.Errorf("%s has no require statements to verify; add one such as `require f3db within 1.9kHz..2.1kHz` (metrics: %s)", l.name, strings.Join(netlist.MetricNames(), ", "))
+	}
+	rm, err := c.metrics(l)
+	if err != nil {
+		return err
+	}
+	out, _ := c.outNode(l)
+	sys, err := mna.Build(l.circuit, mna.Input{Source: c.In}, outputFor(out, c.Ref))
+	if err != nil {
+		return err
+	}
+	opt := analysis.VerifyOptions{Runs: c.Runs, Seed: uint64(c.Seed)}
+	finish := func() {}
+	if e.stderrIsTerminal && c.Runs > 0 {
+		bar := progressbar.NewOptions(c.Runs, progressbar.OptionSetWriter(e.stderr), progressbar.OptionSetDescription("verify"),
+			progressbar.OptionShowCount(), progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
+		opt.Progress = func(done int) { _ = bar.Set(done) }
+		finish = func() { _ = bar.Finish() }
+	}
+	res, err := analysis.Verify(e.ctx, l.circuit, rm, opt)
+	finish()
+	if err != nil {
+		return err
+	}
+	why, err := rm.Explain(l.circuit)
+	if err != nil {
+		return err
+	}
+	rep := &verifyReport{
+		File: l.name, Input: sys.Input.Source, Output: analysis.OutputLabel(sys.Output), Runs: c.Runs, Seed: c.Seed, Corners: res.Corners,
+		Failed: res.Failed, Yield: proportionOut(res.Yield), PassNominal: res.PassNominal(), PassWorst: res.PassWorst(),
+	}
+	for i, d := range res.Verdicts {
+		unit, _ := netlist.MetricUnit(metricBase(d.Requirement.Metric))
+		rep.Requirements = append(rep.Requirements, verdictJSON{
+			Requirement: d.Requirement.Text, Line: d.Requirement.Pos.Line, Unit: unit,
+			Nominal: finiteOrNil(d.Nominal), NominalPass: d.NominalPass,
+			WorstMin: finiteOrNil(d.WorstMin), WorstMax: finiteOrNil(d.WorstMax), WorstPass: d.WorstPass,
+			Yield:   proportionOut(d.Yield),
+			nominal: d.Nominal, worstMin: d.WorstMin, worstMax: d.WorstMax,
+		})
+		if why[i] != nil {
+			rep.Notes = append(rep.Notes, fmt.Sprintf("%s: at nominal values: %v", d.Requirement.Text, why[i]))
+		}
+	}
+	if res.Failed > 0 {
+		rep.Notes = append(rep.Notes, fmt.Sprintf("%d varied builds could not be analysed and count as failing (first: %v)", res.Failed, res.FirstFailure))
+	}
+	if err := writeTo(e, "", nil, func(w io.Writer) error {
+		if c.Format == "json" {
+			return writeJSON(w, rep)
+		}
+		return verifyTable(w, rep)
+	}); err != nil {
+		return err
+	}
+	switch {
+	case !res.PassNominal():
+		return &verdictError{msg: "requirements fail at nominal values"}
+	case c.Strict && !res.PassWorst():
+		return &verdictError{msg: "requirements fail in the worst case"}
+	}
+	return nil
+}
+
+// metricBase is the metric name without its frequency ("gain@1kHz" → "gain").
+func metricBase(metric string) string {
+	name, _, _ := strings.Cut(metric, "@")
+	return name
+}
+
+// metricText formats a metric value in its unit.
+func metricText(v float64, unit string) string {
+	switch {
+	case math.IsNaN(v):
+		return "-"
+	case math.IsInf(v, 0):
+		return num(v) + " " + unit
+	case unit == netlist.UnitDecibel:
+		return fixed(v, 2) + " dB"
+	case unit == netlist.UnitDegree:
+		return fixed(v, 1) + "°"
+	case unit == "":
+		return trimFloat(v, 4)
+	}
+	return netlist.FormatEng(v, unit)
+}
+
+func passText(ok bool) string {
+	if ok {
+		return "pass"
+	}
+	return "FAIL"
+}
+
+// yieldText is "97.3 % [96.1, 98.2]".
+func yieldText(p *proportionJSON) string {
+	if p == nil {
+		return "-"
+	}
+	return fmt.Sprintf("%.1f %% [%.1f, %.1f]", 100*p.Fraction, 100*p.Lo95, 100*p.Hi95)
+}
+
+func verifyTable(w io.Writer, rep *verifyReport) error {
+	fmt.Fprintf(w, "%s: requirements on the output %s driven by %s\n", rep.File, rep.Output, rep.Input)
+	t := newTable(w, "requirement", "nominal", "verdict", "worst case", "verdict", "yield [95 % CI]")
+	for _, v := range rep.Requirements {
+		worst := "-"
+		if !math.IsNaN(v.worstMin) {
+			worst = metricText(v.worstMin, v.Unit) + " .. " + metricText(v.worstMax, v.Unit)
+		}
+		nominal := metricText(v.nominal, v.Unit)
+		if err := t.row(strings.TrimPrefix(v.Requirement, "require "), nominal, passText(v.NominalPass), worst, passText(v.WorstPass), yieldText(v.Yield)); err != nil {
+			return err
+		}
+	}
+	if err := t.row("all", "", passText(rep.PassNominal), "", passText(rep.PassWorst), yieldText(rep.Yield)); err != nil {
+		return err
+	}
+	if err := t.render(); err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "worst case over %d corners; yield from %d Monte Carlo runs (seed %d)\n", rep.Corners, rep.Runs, rep.Seed)
+	for _, n := range rep.Notes {
+		fmt.Fprintf(w, "note: %s\n", n)
+	}
+	switch {
+	case !rep.PassNominal:
+		fmt.Fprintln(w, "verdict: FAIL at nominal values")
+	case !rep.PassWorst:
+		fmt.Fprintln(w, "verdict: pass at nominal values; FAIL in the worst case")
+	default:
+		fmt.Fprintln(w, "verdict: pass at nominal values and in the worst case")
+	}
+	return nil
+}
