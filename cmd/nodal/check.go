@@ -27,8 +27,17 @@ func (c *checkCmd) Help() string {
 H(s), independent of overall scale: coefficient by coefficient (circuit,
 yours, ratio), poles and zeros side by side, and the largest magnitude and
 phase difference over the frequency range. Coefficients may use the file's
-parameters and part values by name (R1, C2, X1.R3, fc). The verdict is
+parameters and part values by name (R1, C2, X1.R3, fc) and op-amp and
+coupling symbols (U1.a0 DC gain, U1.rout ohms, U1.wt = 2π·gbw in rad/s,
+K1.M mutual inductance in henries). The verdict is
 "agrees" (exit 0) or "differs" (exit 1), with a note on the likely slip.
+
+When your expression uses only part names (R1, C2, U1.a0) and numbers, it is
+also compared exactly with the circuit's symbolic H(s) in those names (the
+other parts at their nominal values): "identical", or per power of s which
+terms are missing or extra. That exact comparison gives the verdict, so a
+slip hidden by equal part values (R1*C1 written for R2*C2) is caught.
+Parameters (let), sqrt and pi leave the numeric comparison alone in charge.
 
 ODE notation: y' y'' y^(3) dy/dt d^2y/dt^2; the output is the signal with
 derivatives on the left, the input the one on the right.
@@ -57,7 +66,7 @@ func (c *checkCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	num, den, err := yours.Evaluate(l.circuit.Lookup)
+	num, den, err := yours.Evaluate(symbolLookup(l.circuit))
 	if err != nil {
 		return err
 	}
@@ -65,15 +74,17 @@ func (c *checkCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
+	sc := compareSymbolic(e, l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref}, yours)
+	agrees := checkVerdict(res, sc)
 	if err := writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
 		if c.Format == "json" {
-			return writeJSON(w, res)
+			return writeJSON(w, checkJSON{CheckResult: res, Agrees: agrees, NumericAgrees: res.Agrees, Symbolic: sc})
 		}
-		return checkTable(w, r, res)
+		return checkTable(w, r, res, sc)
 	}); err != nil {
 		return err
 	}
-	if !res.Agrees {
+	if !agrees {
 		return &verdictError{msg: "differs"}
 	}
 	return nil
@@ -82,7 +93,8 @@ func (c *checkCmd) Run(e *env) error {
 // reduceDerivation parses the user's ODE or transfer function into a
 // rational function of s whose coefficients may name circuit values.
 func reduceDerivation(c *netlist.Circuit, ode, tf string) (*derivation.Rational, error) {
-	known := func(name string) bool { _, ok := c.Lookup(name); return ok }
+	lookup := symbolLookup(c)
+	known := func(name string) bool { _, ok := lookup(name); return ok }
 	if ode != "" {
 		eq, err := derivation.ParseODE("--ode", ode)
 		if err != nil {
@@ -98,7 +110,7 @@ func reduceDerivation(c *netlist.Circuit, ode, tf string) (*derivation.Rational,
 }
 
 // checkTable prints the comparison and the verdict line.
-func checkTable(w io.Writer, r *tfResult, res *analysis.CheckResult) error {
+func checkTable(w io.Writer, r *tfResult, res *analysis.CheckResult, sc symbolicCheck) error {
 	fmt.Fprintf(w, "%s against your derivation (both normalised: lowest-order denominator coefficient 1)\n\n", r.what)
 	t := newTable(w, "coefficient", "circuit", "yours", "ratio", "status")
 	for _, row := range res.Coefficients {
@@ -139,8 +151,16 @@ func checkTable(w io.Writer, r *tfResult, res *analysis.CheckResult) error {
 	for _, d := range res.Diagnosis {
 		fmt.Fprintf(w, "  - %s\n", d)
 	}
+	numeric := "differs"
+	if res.Agrees {
+		numeric = "agrees"
+	}
+	fmt.Fprintf(w, "numeric comparison: %s\n", numeric)
+	for _, line := range symbolicLines(sc, res.Agrees) {
+		fmt.Fprintln(w, line)
+	}
 	verdict := "agrees"
-	if !res.Agrees {
+	if !checkVerdict(res, sc) {
 		verdict = "differs"
 	}
 	fmt.Fprintf(w, "\nverdict: %s\n", verdict)

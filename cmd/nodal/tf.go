@@ -24,6 +24,9 @@ type tfCmd struct {
 	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot   string `help:"Also draw the pole-zero map to this file (.svg or .png)." placeholder:"FILE" type:"path"`
+
+	Symbolic bool     `help:"Give N(s) and D(s) in the parts' own names (R1, C2, U1.a0) with each coefficient's value."`
+	Keep     []string `help:"With --symbolic: keep only these parts (or symbols such as U1.a0) symbolic, substitute the rest." placeholder:"R1,C1,..." sep:","`
 }
 
 // Help is the extended help with a worked example.
@@ -42,7 +45,18 @@ Examples:
     nodal tf filter.nodal --out out --format json
     nodal tf filter.nodal --zin Vs          # input impedance seen by Vs
     nodal tf filter.nodal --zout out        # output impedance at node out
-    nodal tf filter.nodal --out out --plot pz.svg`
+    nodal tf filter.nodal --out out --plot pz.svg
+    nodal tf filter.nodal --out out --symbolic
+    nodal tf filter.nodal --out out --symbolic --keep R1,C1
+
+With --symbolic, N(s) and D(s) are exact polynomials in s whose
+coefficients are sums of products of part names (resistors as R, so
+nothing is divided), printed by power of s with the value of each
+coefficient beside it, followed by H(s) and the ODE written in the
+syntax of nodal check (paste them into --tf or --ode). Ideal op-amps
+contribute no symbol; a finite gain is NAME.a0. --keep keeps only the
+named parts symbolic and substitutes the others exactly; use it when a
+large circuit's expressions grow past the size limit.`
 }
 
 // tfRequest says which transfer function to extract.
@@ -61,8 +75,22 @@ type tfResult struct {
 	invert bool   // H was inverted (input impedance of a voltage source)
 }
 
-// extractTF builds the system and extracts the requested transfer function.
-func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
+// tfProbe is a resolved tfRequest: the excitation and observation of the
+// MNA system, and what the transfer function means.
+type tfProbe struct {
+	in  mna.Input
+	out mna.Output
+	// invert: the wanted function is −1/(out/in), the input impedance of
+	// a voltage source from the current it carries (which flows into its
+	// + terminal, so the delivered current is −i(Vs)).
+	invert       bool
+	what         string // "" for a voltage ratio: set from the resolved source
+	yName, uName string
+	unit         string // "" for a voltage ratio: set from the resolved source
+}
+
+// resolveProbe checks the request and says which system to build.
+func resolveProbe(l *loaded, q tfRequest) (tfProbe, error) {
 	n := 0
 	for _, s := range []string{q.Out, q.Zin, q.Zout} {
 		if s != "" {
@@ -70,62 +98,37 @@ func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
 		}
 	}
 	if n != 1 {
-		return nil, errors.New("give exactly one of --out, --zin or --zout")
+		return tfProbe{}, errors.New("give exactly one of --out, --zin or --zout")
 	}
 	switch {
 	case q.Zout != "":
-		sys, err := mna.Build(l.circuit, mna.Input{Inject: q.Zout}, mna.Output{Kind: mna.NodeVoltage, Node: q.Zout})
-		if err != nil {
-			return nil, err
-		}
-		tf, err := analysis.Extract(sys)
-		if err != nil {
-			return nil, err
-		}
-		return &tfResult{tf: tf, sys: sys, what: fmt.Sprintf("Zout(s) at node %s (independent sources zeroed)", q.Zout), yName: "v", uName: "i", unit: "Ω"}, nil
+		return tfProbe{in: mna.Input{Inject: q.Zout}, out: mna.Output{Kind: mna.NodeVoltage, Node: q.Zout},
+			what: fmt.Sprintf("Zout(s) at node %s (independent sources zeroed)", q.Zout), yName: "v", uName: "i", unit: "Ω"}, nil
 	case q.Zin != "":
 		src, ok := l.circuit.Part(q.Zin)
 		if !ok || (src.Kind != netlist.VSource && src.Kind != netlist.ISource) {
-			return nil, &mna.LookupError{What: "source", Name: q.Zin, Known: sourceNames(l.circuit)}
+			return tfProbe{}, &mna.LookupError{What: "source", Name: q.Zin, Known: sourceNames(l.circuit)}
 		}
+		p := tfProbe{in: mna.Input{Source: q.Zin}, what: fmt.Sprintf("Zin(s) seen by %s", q.Zin), yName: "v", uName: "i", unit: "Ω"}
 		if src.Kind == netlist.ISource {
-			sys, err := mna.Build(l.circuit, mna.Input{Source: q.Zin}, mna.Output{Kind: mna.NodeVoltage, Node: src.Nodes[0], Ref: src.Nodes[1]})
-			if err != nil {
-				return nil, err
-			}
-			tf, err := analysis.Extract(sys)
-			if err != nil {
-				return nil, err
-			}
-			return &tfResult{tf: tf, sys: sys, what: fmt.Sprintf("Zin(s) seen by %s", q.Zin), yName: "v", uName: "i", unit: "Ω"}, nil
+			p.out = mna.Output{Kind: mna.NodeVoltage, Node: src.Nodes[0], Ref: src.Nodes[1]}
+			return p, nil
 		}
-		// A voltage source: Y = current delivered per volt; Zin = 1/Y. The
-		// current through the source flows into its + terminal, so the
-		// delivered current is −i(Vs).
-		sys, err := mna.Build(l.circuit, mna.Input{Source: q.Zin}, mna.Output{Kind: mna.PartCurrent, Part: q.Zin})
-		if err != nil {
-			return nil, err
-		}
-		y, err := analysis.Extract(sys)
-		if err != nil {
-			return nil, err
-		}
-		if len(y.Num) == 0 || allZero(y.Num) {
-			return nil, fmt.Errorf("%s delivers no current: its input impedance is infinite", q.Zin)
-		}
-		return &tfResult{tf: invertTF(y, -1), sys: sys, what: fmt.Sprintf("Zin(s) seen by %s", q.Zin), yName: "v", uName: "i", unit: "Ω", invert: true}, nil
+		p.out = mna.Output{Kind: mna.PartCurrent, Part: q.Zin}
+		p.invert = true
+		return p, nil
 	}
-	out := outputFor(q.Out, q.Ref)
-	sys, err := mna.Build(l.circuit, mna.Input{Source: q.In}, out)
-	if err != nil {
-		return nil, err
+	return tfProbe{in: mna.Input{Source: q.In}, out: outputFor(q.Out, q.Ref), yName: "y", uName: "u"}, nil
+}
+
+// describe fills in the meaning and unit of a voltage or current ratio
+// once the input source is resolved.
+func (p tfProbe) describe(c *netlist.Circuit, in mna.Input, out mna.Output) (what, unit string) {
+	if p.what != "" {
+		return p.what, p.unit
 	}
-	tf, err := analysis.Extract(sys)
-	if err != nil {
-		return nil, err
-	}
-	src, _ := l.circuit.Part(sys.Input.Source)
-	unit := "V/V"
+	src, _ := c.Part(in.Source)
+	unit = "V/V"
 	if src != nil && src.Kind == netlist.ISource {
 		unit = "V/A"
 		if out.Kind == mna.PartCurrent {
@@ -134,7 +137,32 @@ func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
 	} else if out.Kind == mna.PartCurrent {
 		unit = "A/V"
 	}
-	return &tfResult{tf: tf, sys: sys, what: fmt.Sprintf("H(s) = %s / %s", analysis.OutputLabel(sys.Output), sys.Input.Source), yName: "y", uName: "u", unit: unit}, nil
+	return fmt.Sprintf("H(s) = %s / %s", analysis.OutputLabel(out), in.Source), unit
+}
+
+// extractTF builds the system and extracts the requested transfer function.
+func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
+	p, err := resolveProbe(l, q)
+	if err != nil {
+		return nil, err
+	}
+	sys, err := mna.Build(l.circuit, p.in, p.out)
+	if err != nil {
+		return nil, err
+	}
+	tf, err := analysis.Extract(sys)
+	if err != nil {
+		return nil, err
+	}
+	what, unit := p.describe(l.circuit, sys.Input, sys.Output)
+	r := &tfResult{tf: tf, sys: sys, what: what, yName: p.yName, uName: p.uName, unit: unit}
+	if p.invert {
+		if len(tf.Num) == 0 || allZero(tf.Num) {
+			return nil, fmt.Errorf("%s delivers no current: its input impedance is infinite", q.Zin)
+		}
+		r.tf, r.invert = invertTF(tf, -1), true
+	}
+	return r, nil
 }
 
 // sourceNames lists the independent sources of c.
@@ -166,9 +194,15 @@ func invertTF(h *analysis.TransferFunction, sign float64) *analysis.TransferFunc
 
 // Run prints the transfer function report.
 func (c *tfCmd) Run(e *env) error {
+	if c.Keep != nil && !c.Symbolic {
+		return errors.New("--keep chooses the symbols of --symbolic: add --symbolic")
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err
+	}
+	if c.Symbolic {
+		return c.runSymbolic(e, l)
 	}
 	r, err := extractTF(l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref, Zin: c.Zin, Zout: c.Zout})
 	if err != nil {
