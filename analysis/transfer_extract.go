@@ -20,7 +20,7 @@ var ErrSingularSystem = errors.New("the circuit equations are singular for every
 // Tolerances of Extract (relative, dimensionless).
 const (
 	// cancelTol: a pole and a zero closer than cancelTol·|root| cancel.
-	cancelTol = 1e-6
+	cancelTol = 1e-9
 	// zeroRootTol: a root smaller than zeroRootTol times the characteristic
 	// frequency is taken to be exactly s = 0.
 	zeroRootTol = 1e-10
@@ -45,7 +45,7 @@ var shiftFactors = [...]float64{1, 1.7182818, 0.5772157, 3.1415927, 0.3183099, 7
 // invert with exact deflation of the infinite eigenvalues and polished by
 // Newton steps on the determinant (see poles_zeros.go), after frequency
 // scaling and power-of-two balancing of the pencil. A pole and a zero
-// equal within 1e-6 relative are an exact cancellation (an uncontrollable
+// equal within 1e-9 relative are an exact cancellation (an uncontrollable
 // or unobservable mode): both are removed and the pole is listed in
 // Cancelled. The constant comes from one evaluation of H at the shift.
 //
