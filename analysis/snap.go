@@ -69,6 +69,9 @@ func Snap(name string, src []byte, ov netlist.Overrides, series map[netlist.Kind
 		}
 		digits = max(digits, s.Digits())
 		nv := Nearest(p.Value, s)
+		if math.Abs(nv-p.Value) <= 1e-12*math.Abs(p.Value) {
+			nv = p.Value // already a series value up to rounding of its literal (4n7 is 4.700000000000001e-9)
+		}
 		res.Changes = append(res.Changes, SnapChange{Part: p.Name, Kind: p.Kind, Series: s.Name, Old: p.Value, New: nv, RelChange: (nv - p.Value) / p.Value})
 		if nv != p.Value {
 			targets[p.Name] = nv
