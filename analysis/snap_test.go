@@ -40,7 +40,7 @@ func TestSnap(t *testing.T) {
 		t.Fatalf("changes %+v", res.Changes)
 	}
 	for _, ch := range res.Changes {
-		if ch.New != want[ch.Part] {
+		if math.Abs(ch.New-want[ch.Part]) > 1e-12*want[ch.Part] { // 6.8nF parses as 6.8·1e-9, one ulp off 6.8e-9
 			t.Errorf("%s → %v, want %v", ch.Part, ch.New, want[ch.Part])
 		}
 		if math.Abs(ch.RelChange-(ch.New-ch.Old)/ch.Old) > 1e-15 {
