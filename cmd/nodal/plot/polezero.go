@@ -66,8 +66,8 @@ func PoleZero(poles, zeros []complex128, opt PoleZeroOptions) (*Figure, error) {
 	scale, unit := OmegaScale(maxAbs)
 	fig := newFigure(size, size)
 	p := newPanel(opt.Title, "σ, real part ("+unit+")", "jω, imaginary part ("+unit+")")
-	p.X.Tick.Marker = scaledTicks{Scale: scale}
-	p.Y.Tick.Marker = scaledTicks{Scale: scale}
+	p.X.Tick.Marker = linearTicks{Scale: scale}
+	p.Y.Tick.Marker = linearTicks{Scale: scale}
 	p.Add(grid{}, originAxes{})
 	pn := fig.add(PanelPoleZero, p)
 	pn.equalScale = true

@@ -88,7 +88,7 @@ func Step(t, y []float64, m StepMarks, opt StepOptions) (*Figure, error) {
 	scale := math.Pow(1000, float64(e))
 	fig := newFigure(w, h)
 	p := newPanel(opt.Title, "time ("+siPrefixes[e]+"s)", ylabel)
-	p.X.Tick.Marker = scaledTicks{Scale: scale}
+	p.X.Tick.Marker = linearTicks{Scale: scale}
 	p.Add(grid{})
 	pn := fig.add(PanelStep, p)
 
