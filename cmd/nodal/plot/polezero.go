@@ -122,7 +122,7 @@ func PoleZero(poles, zeros []complex128, opt PoleZeroOptions) (*Figure, error) {
 		}
 		sc.GlyphStyle = rs.glyph
 		p.Add(sc)
-		p.Legend.Add(rs.legend, sc)
+		pn.addLegend(rs.legend, sc)
 		if len(notes.Labels) > 0 {
 			lb, err := plotter.NewLabels(notes)
 			if err != nil {
@@ -138,6 +138,7 @@ func PoleZero(poles, zeros []complex128, opt PoleZeroOptions) (*Figure, error) {
 	// Add widened the ranges to the data; restore the requested ones
 	// (layout equalises them)
 	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = pn.xMin, pn.xMax, pn.yMin, pn.yMax
+	fig.Layout() // equalises the ranges and places the legend for the default size
 	return fig, nil
 }
 
