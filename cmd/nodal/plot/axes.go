@@ -103,8 +103,20 @@ type stepTicks struct {
 }
 
 func (t stepTicks) Ticks(lo, hi float64) []gplot.Tick {
+	vals, _ := t.values(lo, hi)
+	labels := linearTickLabels(vals, true)
+	ticks := make([]gplot.Tick, len(vals))
+	for i, v := range vals {
+		ticks[i] = gplot.Tick{Value: v, Label: labels[i]}
+	}
+	return ticks
+}
+
+// values returns the tick values in [lo, hi] and the step between them
+// (none for an empty or non-finite range).
+func (t stepTicks) values(lo, hi float64) ([]float64, float64) {
 	if !(hi > lo) || !finite(lo) || !finite(hi) {
-		return nil
+		return nil, 0
 	}
 	steps := t.Steps
 	if steps == nil {
@@ -126,12 +138,7 @@ func (t stepTicks) Ticks(lo, hi float64) []gplot.Tick {
 	for k := math.Ceil(lo / step); k*step <= hi; k++ {
 		vals = append(vals, k*step)
 	}
-	labels := linearTickLabels(vals, true)
-	ticks := make([]gplot.Tick, len(vals))
-	for i, v := range vals {
-		ticks[i] = gplot.Tick{Value: v, Label: labels[i]}
-	}
-	return ticks
+	return vals, step
 }
 
 // Tickers of the frequency-response panels.

@@ -97,43 +97,45 @@ func exactAndDistinct(vals []float64, k int, spacing float64) bool {
 	return true
 }
 
-// relabel rewrites the labels of the labelled (major) ticks with
-// linearTickLabels, leaving unlabelled minor ticks as they are.
-func relabel(ticks []gplot.Tick, si bool) []gplot.Tick {
-	var idx []int
-	var vals []float64
-	for i, tk := range ticks {
-		if tk.Label != "" {
-			idx = append(idx, i)
-			vals = append(vals, tk.Value)
-		}
-	}
-	for j, l := range linearTickLabels(vals, si) {
-		ticks[idx[j]].Label = l
-	}
-	return ticks
-}
-
-// linearTicks chooses round ticks on a linear axis and labels them with
-// linearTickLabels. A Scale other than 0 or 1 divides the axis values by
-// Scale before choosing the ticks, so an axis in rad/s can be labelled in
-// krad/s while the data stay in rad/s; such an axis gets exponents rather
-// than SI prefixes for extreme values.
+// linearTicks marks a linear axis with labelled ticks at multiples of a
+// round step (1, 2 or 5 times a power of ten; at most linearMaxTicks
+// ticks, so zero is a tick whenever the range holds it) and unlabelled
+// minor ticks between them, labelled by linearTickLabels. A Scale other
+// than 0 or 1 divides the axis values by Scale before choosing the ticks,
+// so an axis in rad/s can be labelled in krad/s while the data stay in
+// rad/s; such an axis gets exponents rather than SI prefixes for extreme
+// values.
 type linearTicks struct {
 	Scale float64
 }
 
+// linearMaxTicks is the most labelled ticks linearTicks puts on an axis.
+const linearMaxTicks = 6
+
 func (t linearTicks) Ticks(lo, hi float64) []gplot.Tick {
-	if !(hi > lo) || !finite(lo) || !finite(hi) {
-		return nil
-	}
 	scale := t.Scale
 	if scale == 0 {
 		scale = 1
 	}
-	ticks := relabel(gplot.DefaultTicks{}.Ticks(lo/scale, hi/scale), scale == 1)
-	for i := range ticks {
-		ticks[i].Value *= scale
+	vals, step := stepTicks{MaxTicks: linearMaxTicks}.values(lo/scale, hi/scale)
+	if len(vals) == 0 {
+		return nil
+	}
+	labels := linearTickLabels(vals, scale == 1)
+	// minor ticks: fifths of a 1 or 5 step, halves of a 2 step
+	parts := 5.0
+	if m := step / math.Pow(10, math.Floor(math.Log10(step))); math.Abs(m-2) < 1e-9 {
+		parts = 2
+	}
+	var ticks []gplot.Tick
+	minor := step / parts
+	for k := math.Ceil(lo / scale / minor); k*minor <= hi/scale; k++ {
+		if math.Mod(math.Round(k), parts) != 0 {
+			ticks = append(ticks, gplot.Tick{Value: k * minor * scale})
+		}
+	}
+	for i, v := range vals {
+		ticks = append(ticks, gplot.Tick{Value: v * scale, Label: labels[i]})
 	}
 	return ticks
 }
