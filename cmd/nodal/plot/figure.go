@@ -39,7 +39,8 @@ const pngDPI = 144
 //
 // A Figure is built by Bode, Band, PoleZero, Step, Histogram or Stack and
 // is not safe for concurrent use: laying it out adjusts the axis ranges of
-// equal-scaled panels (idempotently).
+// equal-scaled panels and the place of each legend (idempotently, for the
+// figure's current size).
 type Figure struct {
 	width, height vg.Length
 	panels        []*panel
