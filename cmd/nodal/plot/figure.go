@@ -44,6 +44,16 @@ const pngDPI = 144
 type Figure struct {
 	width, height vg.Length
 	panels        []*panel
+	// laidOut caches the last layout: the page rectangle it was made for
+	// and each panel's tile on it. The panels do not change after
+	// construction, so a layout depends only on the rectangle.
+	laidOut *pageLayout
+}
+
+// pageLayout is a cached layout of a figure.
+type pageLayout struct {
+	page  vg.Rectangle
+	tiles []vg.Rectangle
 }
 
 // panel is one gonum plot plus the data series it shows.
@@ -188,6 +198,24 @@ func (f *Figure) tilesFor() draw.Tiles {
 // no data or, when every corner has some, above the data area (which
 // needs a second alignment, as the room taken shrinks the data area).
 func (f *Figure) layout(dc draw.Canvas) [][]draw.Canvas {
+	if c := f.laidOut; c != nil && c.page == dc.Rectangle && len(c.tiles) == len(f.panels) {
+		cs := make([][]draw.Canvas, len(c.tiles))
+		for i, r := range c.tiles {
+			cs[i] = []draw.Canvas{{Canvas: dc.Canvas, Rectangle: r}}
+		}
+		return cs
+	}
+	cs := f.placeLegends(dc)
+	f.laidOut = &pageLayout{page: dc.Rectangle}
+	for _, row := range cs {
+		f.laidOut.tiles = append(f.laidOut.tiles, row[0].Rectangle)
+	}
+	return cs
+}
+
+// placeLegends aligns the panels on dc (see align) and places their
+// legends (see layout).
+func (f *Figure) placeLegends(dc draw.Canvas) [][]draw.Canvas {
 	for _, pn := range f.panels {
 		pn.legendInside()
 	}
