@@ -93,21 +93,6 @@ func tickLabel(v float64) string {
 	return strconv.FormatFloat(v/math.Pow(1000, float64(e)), 'g', 3, 64) + siPrefixes[e]
 }
 
-// scaledTicks divides the axis values by Scale before choosing round
-// ticks, so an axis in rad/s can be labelled in krad/s while the plotted
-// data stay in rad/s.
-type scaledTicks struct {
-	Scale float64
-}
-
-func (t scaledTicks) Ticks(lo, hi float64) []gplot.Tick {
-	ticks := gplot.DefaultTicks{}.Ticks(lo/t.Scale, hi/t.Scale)
-	for i := range ticks {
-		ticks[i].Value *= t.Scale
-	}
-	return ticks
-}
-
 // stepTicks puts labelled ticks at multiples of the first step in Steps
 // that gives at most MaxTicks ticks in the range (phase axes use 15°, 30°,
 // 45°, 90°, 180°). With Steps nil the steps are 1, 2 and 5 times a power
@@ -118,8 +103,20 @@ type stepTicks struct {
 }
 
 func (t stepTicks) Ticks(lo, hi float64) []gplot.Tick {
+	vals, _ := t.values(lo, hi)
+	labels := linearTickLabels(vals, true)
+	ticks := make([]gplot.Tick, len(vals))
+	for i, v := range vals {
+		ticks[i] = gplot.Tick{Value: v, Label: labels[i]}
+	}
+	return ticks
+}
+
+// values returns the tick values in [lo, hi] and the step between them
+// (none for an empty or non-finite range).
+func (t stepTicks) values(lo, hi float64) ([]float64, float64) {
 	if !(hi > lo) || !finite(lo) || !finite(hi) {
-		return nil
+		return nil, 0
 	}
 	steps := t.Steps
 	if steps == nil {
@@ -137,15 +134,11 @@ func (t stepTicks) Ticks(lo, hi float64) []gplot.Tick {
 			break
 		}
 	}
-	var ticks []gplot.Tick
+	var vals []float64
 	for k := math.Ceil(lo / step); k*step <= hi; k++ {
-		v := k * step
-		if v == 0 {
-			v = 0 // no "-0"
-		}
-		ticks = append(ticks, gplot.Tick{Value: v, Label: strconv.FormatFloat(v, 'g', 6, 64)})
+		vals = append(vals, k*step)
 	}
-	return ticks
+	return vals, step
 }
 
 // Tickers of the frequency-response panels.

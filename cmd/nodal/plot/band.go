@@ -129,7 +129,7 @@ func Band(b BandTrace, limits []Limit, opt BodeOptions) (*Figure, error) {
 			}
 		}
 	}
-	placeLegend(mp)
+	fig.Layout() // places the legend for the default size
 	return fig, nil
 }
 
@@ -161,8 +161,9 @@ func addBand(pn *panel, fHz, nom, minY, maxY []float64, label, envelope string) 
 	if len(lower) < 2 || len(upper) < 2 {
 		return fmt.Errorf("plot: %s band has fewer than 2 finite points", pn.name)
 	}
-	lowXY := pn.addSeries("min", lower)
-	upXY := pn.addSeries("max", upper)
+	lowXY := pn.addLineSeries("min", lower)
+	upXY := pn.addLineSeries("max", upper)
+	pn.fills = append(pn.fills, [2]int{len(pn.series) - 2, len(pn.series) - 1})
 	ring := make(plotter.XYs, 0, len(lowXY)+len(upXY))
 	ring = append(ring, upXY...)
 	for i := len(lowXY) - 1; i >= 0; i-- {
@@ -188,7 +189,7 @@ func addBand(pn *panel, fHz, nom, minY, maxY []float64, label, envelope string) 
 	if len(nomPts) < 2 {
 		return fmt.Errorf("plot: %s nominal curve has fewer than 2 finite points", pn.name)
 	}
-	nomXY := pn.addSeries("nominal", nomPts)
+	nomXY := pn.addLineSeries("nominal", nomPts)
 	nl, err := plotter.NewLine(nomXY)
 	if err != nil {
 		return fmt.Errorf("plot: %s nominal: %w", pn.name, err)
@@ -196,8 +197,8 @@ func addBand(pn *panel, fHz, nom, minY, maxY []float64, label, envelope string) 
 	nl.LineStyle = styleFor(0).line
 	pn.p.Add(nl)
 	if envelope != "" {
-		pn.p.Legend.Add(label, nl)
-		pn.p.Legend.Add(envelope, poly)
+		pn.addLegend(label, nl)
+		pn.addLegend(envelope, poly)
 	}
 	return nil
 }
@@ -240,7 +241,7 @@ func addLimit(pn *panel, k int, l Limit, loHz, hiHz float64) error {
 	}
 	sty := draw.LineStyle{Color: limitColor, Width: vg.Points(1.2), Dashes: []vg.Length{vg.Points(5), vg.Points(2)}}
 	for i, seg := range segs {
-		xy := pn.addSeries(name+"/"+keys[i], seg)
+		xy := pn.addLineSeries(name+"/"+keys[i], seg)
 		ln, err := plotter.NewLine(xy)
 		if err != nil {
 			return fmt.Errorf("plot: %s: %w", name, err)

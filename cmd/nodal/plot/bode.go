@@ -119,26 +119,8 @@ func Bode(traces []BodeTrace, opt BodeOptions) (*Figure, error) {
 	}
 	fitY(mp, 0.06)
 	fitY(pp, 0.06)
-	placeLegend(mp)
+	fig.Layout() // places the legend for the default size
 	return fig, nil
-}
-
-// placeLegend moves the legend of a frequency panel to the bottom right
-// when curves reach its top-right corner (the top fifth of the range over
-// the last 30 % of the axis, as a high-pass does), where it would cover
-// them.
-func placeLegend(pn *panel) {
-	xCut := pn.p.X.Min * math.Pow(pn.p.X.Max/pn.p.X.Min, 0.7) // last 30 % of the log axis
-	high := pn.p.Y.Max - 0.2*(pn.p.Y.Max-pn.p.Y.Min)          // the legend's band
-	for _, s := range pn.series {
-		for _, q := range s.xy {
-			if q[0] >= xCut && q[1] > high {
-				pn.p.Legend.Top = false
-				return
-			}
-		}
-	}
-	pn.p.Legend.Top = true
 }
 
 // freqPanels builds the magnitude-over-phase figure skeleton with shared
@@ -151,7 +133,6 @@ func freqPanels(opt BodeOptions, loHz, hiHz float64) (*Figure, *panel, *panel) {
 	ph := newPanel("", labelFreq, labelPhase)
 	useLogFreqAxis(ph, loHz, hiHz, false)
 	ph.Y.Tick.Marker = phaseTicks
-	ph.Legend.Top = false
 	mag.Add(grid{logX: true})
 	ph.Add(grid{logX: true})
 	return fig, fig.add(PanelMagnitude, mag), fig.add(PanelPhase, ph)
@@ -161,7 +142,7 @@ func freqPanels(opt BodeOptions, loHz, hiHz float64) (*Figure, *panel, *panel) {
 // marker glyphs on it (offset per trace so they do not coincide), listed
 // in the legend when legend is set.
 func addTrace(pn *panel, name string, pts [][2]float64, st traceStyle, i, n int, legend bool) error {
-	xys := pn.addSeries(name, pts)
+	xys := pn.addLineSeries(name, pts)
 	line, err := plotter.NewLine(xys)
 	if err != nil {
 		return fmt.Errorf("plot: %s %q: %w", pn.name, name, err)
@@ -180,7 +161,7 @@ func addTrace(pn *panel, name string, pts [][2]float64, st traceStyle, i, n int,
 	sc.GlyphStyle = st.glyph
 	pn.p.Add(line, sc)
 	if legend {
-		pn.p.Legend.Add(name, line, sc)
+		pn.addLegend(name, line, sc)
 	}
 	return nil
 }

@@ -39,10 +39,21 @@ const pngDPI = 144
 //
 // A Figure is built by Bode, Band, PoleZero, Step, Histogram or Stack and
 // is not safe for concurrent use: laying it out adjusts the axis ranges of
-// equal-scaled panels (idempotently).
+// equal-scaled panels and the place of each legend (idempotently, for the
+// figure's current size).
 type Figure struct {
 	width, height vg.Length
 	panels        []*panel
+	// laidOut caches the last layout: the page rectangle it was made for
+	// and each panel's tile on it. The panels do not change after
+	// construction, so a layout depends only on the rectangle.
+	laidOut *pageLayout
+}
+
+// pageLayout is a cached layout of a figure.
+type pageLayout struct {
+	page  vg.Rectangle
+	tiles []vg.Rectangle
 }
 
 // panel is one gonum plot plus the data series it shows.
@@ -54,12 +65,28 @@ type panel struct {
 	equalScale             bool
 	xMin, xMax, yMin, yMax float64 // requested range before equalising
 	series                 []series
+	// legend holds the texts of the legend entries, in order.
+	legend []string
+	// fills lists pairs of series indexes (lower edge, upper edge, on the
+	// same x grid) whose area between is shaded.
+	fills [][2]int
+	// legendAt and legendHits are the legend box (page coordinates) and
+	// the data under it from the last layout.
+	legendAt   vg.Rectangle
+	legendHits int
+	legendOut  bool // legend drawn above the data area
+	// baseTitle and basePad are the title and its padding as built,
+	// before a legend above the data area makes room for itself.
+	baseTitle string
+	basePad   vg.Length
 }
 
-// series is a named list of plotted (x, y) points in data units.
+// series is a named list of plotted (x, y) points in data units;
+// joined series are drawn as a line through the points.
 type series struct {
-	name string
-	xy   [][2]float64
+	name   string
+	xy     [][2]float64
+	joined bool
 }
 
 // addSeries records pts under name and returns them as plotter.XYs.
@@ -72,12 +99,19 @@ func (pn *panel) addSeries(name string, pts [][2]float64) plotter.XYs {
 	return xys
 }
 
+// addLineSeries is addSeries for points drawn joined by a line.
+func (pn *panel) addLineSeries(name string, pts [][2]float64) plotter.XYs {
+	xys := pn.addSeries(name, pts)
+	pn.series[len(pn.series)-1].joined = true
+	return xys
+}
+
 // newFigure returns an empty figure of the given size.
 func newFigure(w, h vg.Length) *Figure { return &Figure{width: w, height: h} }
 
 // add appends a panel showing p.
 func (f *Figure) add(name string, p *gplot.Plot) *panel {
-	pn := &panel{name: name, p: p}
+	pn := &panel{name: name, p: p, baseTitle: p.Title.Text, basePad: p.Title.Padding}
 	f.panels = append(f.panels, pn)
 	return pn
 }
@@ -114,6 +148,15 @@ type PanelLayout struct {
 	XMin, XMax, YMin, YMax float64   // final axis ranges in data units
 	LogX                   bool      // x axis is logarithmic
 	Width, Height          vg.Length // size of the data area
+	// Legend is the legend's box relative to the lower-left corner of the
+	// data area (zero when the panel has no legend). Inside the data area
+	// it sits in the corner with the fewest data; LegendHits counts the
+	// plotted points, line segments and shaded band columns within 6 pt
+	// of it. When every corner has data the legend goes above the data
+	// area (LegendAbove, Legend.Min.Y ≥ Height) and LegendHits is 0.
+	Legend      vg.Rectangle
+	LegendHits  int
+	LegendAbove bool
 }
 
 // Layout lays the figure out at its size and returns each panel's final
@@ -126,11 +169,15 @@ func (f *Figure) Layout() []PanelLayout {
 		da := pn.p.DataCanvas(tiles[i][0])
 		_, logX := pn.p.X.Scale.(gplot.LogScale)
 		out[i] = PanelLayout{
-			Name: pn.name, Title: pn.p.Title.Text,
+			Name: pn.name, Title: pn.baseTitle,
 			XLabel: pn.p.X.Label.Text, YLabel: pn.p.Y.Label.Text,
 			XMin: pn.p.X.Min, XMax: pn.p.X.Max, YMin: pn.p.Y.Min, YMax: pn.p.Y.Max,
 			LogX:  logX,
 			Width: da.Max.X - da.Min.X, Height: da.Max.Y - da.Min.Y,
+			LegendHits: pn.legendHits, LegendAbove: pn.legendOut,
+		}
+		if len(pn.legend) > 0 {
+			out[i].Legend = pn.legendAt.Add(vg.Point{X: -da.Min.X, Y: -da.Min.Y})
 		}
 	}
 	return out
@@ -146,10 +193,57 @@ func (f *Figure) tilesFor() draw.Tiles {
 	}
 }
 
-// layout aligns the panels on dc and settles the ranges of equal-scaled
+// layout aligns the panels on dc, settles the ranges of equal-scaled
+// panels and then puts each legend in the corner of its data area with
+// no data or, when every corner has some, above the data area (which
+// needs a second alignment, as the room taken shrinks the data area).
+func (f *Figure) layout(dc draw.Canvas) [][]draw.Canvas {
+	if c := f.laidOut; c != nil && c.page == dc.Rectangle && len(c.tiles) == len(f.panels) {
+		cs := make([][]draw.Canvas, len(c.tiles))
+		for i, r := range c.tiles {
+			cs[i] = []draw.Canvas{{Canvas: dc.Canvas, Rectangle: r}}
+		}
+		return cs
+	}
+	cs := f.placeLegends(dc)
+	f.laidOut = &pageLayout{page: dc.Rectangle}
+	for _, row := range cs {
+		f.laidOut.tiles = append(f.laidOut.tiles, row[0].Rectangle)
+	}
+	return cs
+}
+
+// placeLegends aligns the panels on dc (see align) and places their
+// legends (see layout).
+func (f *Figure) placeLegends(dc draw.Canvas) [][]draw.Canvas {
+	for _, pn := range f.panels {
+		pn.legendInside()
+	}
+	cs := f.align(dc)
+	moved := false
+	for i, pn := range f.panels {
+		pn.legendAt, pn.legendHits = pn.placeLegend(pn.p.DataCanvas(cs[i][0]))
+		if pn.legendHits > 0 {
+			pn.legendAbove()
+			moved = true
+		}
+	}
+	if !moved {
+		return cs
+	}
+	cs = f.align(dc)
+	for i, pn := range f.panels {
+		if pn.legendOut {
+			pn.legendAt, pn.legendHits = pn.aboveBox(pn.p.DataCanvas(cs[i][0])), 0
+		}
+	}
+	return cs
+}
+
+// align aligns the panels on dc and settles the ranges of equal-scaled
 // panels. Changing a range can change the tick labels and so the data
 // area, hence the few rounds.
-func (f *Figure) layout(dc draw.Canvas) [][]draw.Canvas {
+func (f *Figure) align(dc draw.Canvas) [][]draw.Canvas {
 	plots := make([][]*gplot.Plot, len(f.panels))
 	for i, pn := range f.panels {
 		plots[i] = []*gplot.Plot{pn.p}

@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/cmplx"
 
+	gplot "gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -37,6 +38,19 @@ func OmegaScale(maxAbsRad float64) (factor float64, unit string) {
 	return 1e9, "Grad/s"
 }
 
+// PanelPoleZeroZoom is the panel name, in Series keys, of the zoom on
+// the dominant roots that PoleZero adds when the roots spread widely.
+const PanelPoleZeroZoom = "polezero zoom"
+
+// zoomSpan is the ratio of the largest to the smallest non-zero root
+// magnitude beyond which PoleZero adds a zoomed panel (two decades);
+// dominantSpan is how far above the smallest magnitude a root still
+// counts as dominant (one decade).
+const (
+	zoomSpan     = 100
+	dominantSpan = 10
+)
+
 // PoleZero draws the s-plane map: poles as ×, zeros as ○, with the real
 // and imaginary axes through the origin and equal scaling (one rad/s is
 // the same length on both axes). Coordinates are in rad/s; the axis
@@ -44,8 +58,16 @@ func OmegaScale(maxAbsRad float64) (factor float64, unit string) {
 // within 1e-9 of the largest root magnitude) are drawn once and annotated
 // with their multiplicity ("×2"). Non-finite roots are an error.
 //
+// When the non-zero root magnitudes span more than two decades, the
+// dominant roots would sit on the origin; a second panel below, titled
+// "zoom: …", then shows the dominant roots — those within a decade of
+// the smallest non-zero magnitude, and any at the origin — with equal
+// scaling too; other roots appear on it only where they fall inside its
+// ranges. The figure is then twice as tall.
+//
 // Series keys: "polezero/poles" and "polezero/zeros", one (Re, Im) point
-// per root as given, in rad/s.
+// per root as given, in rad/s; with the zoom, "polezero zoom/poles" and
+// "polezero zoom/zeros" list the dominant roots, in the order given.
 func PoleZero(poles, zeros []complex128, opt PoleZeroOptions) (*Figure, error) {
 	maxAbs := 0.0
 	for _, set := range []struct {
@@ -63,39 +85,95 @@ func PoleZero(poles, zeros []complex128, opt PoleZeroOptions) (*Figure, error) {
 	if size <= 0 {
 		size = 12 * vg.Centimeter
 	}
-	scale, unit := OmegaScale(maxAbs)
+	tol := 1e-9 * math.Max(maxAbs, 1e-300)
 	fig := newFigure(size, size)
-	p := newPanel(opt.Title, "σ, real part ("+unit+")", "jω, imaginary part ("+unit+")")
-	p.X.Tick.Marker = scaledTicks{Scale: scale}
-	p.Y.Tick.Marker = scaledTicks{Scale: scale}
-	p.Add(grid{}, originAxes{})
-	pn := fig.add(PanelPoleZero, p)
-	pn.equalScale = true
+	if err := addRootMap(fig, PanelPoleZero, opt.Title, poles, zeros, poles, zeros, tol); err != nil {
+		return nil, err
+	}
+	if limit, ok := dominantLimit(poles, zeros); ok {
+		domP, domZ := within(poles, limit), within(zeros, limit)
+		title := "zoom: roots with |s| ≤ " + EngFormat(limit, 3, "rad/s")
+		if err := addRootMap(fig, PanelPoleZeroZoom, title, domP, domZ, poles, zeros, tol); err != nil {
+			return nil, err
+		}
+		fig.height = 2 * size
+	}
+	fig.Layout() // equalises the ranges and places the legends for the default size
+	return fig, nil
+}
 
-	// requested range: all roots and the origin, padded by 15 % of the
-	// larger span (never empty)
+// dominantLimit returns the largest magnitude (rad/s) among the dominant
+// roots — those within dominantSpan of the smallest non-zero magnitude —
+// and whether the non-zero magnitudes span more than zoomSpan, so that a
+// zoom on them is worth drawing.
+func dominantLimit(poles, zeros []complex128) (float64, bool) {
+	lo, hi := math.Inf(1), 0.0
+	for _, r := range append(append([]complex128(nil), poles...), zeros...) {
+		if m := cmplx.Abs(r); m > 0 {
+			lo, hi = math.Min(lo, m), math.Max(hi, m)
+		}
+	}
+	if !(hi > zoomSpan*lo) {
+		return 0, false
+	}
+	limit := 0.0
+	for _, r := range append(append([]complex128(nil), poles...), zeros...) {
+		if m := cmplx.Abs(r); m <= dominantSpan*lo {
+			limit = math.Max(limit, m)
+		}
+	}
+	return limit, true
+}
+
+// within returns the roots of magnitude at most limit (rad/s), in order.
+func within(roots []complex128, limit float64) []complex128 {
+	var out []complex128
+	for _, r := range roots {
+		if cmplx.Abs(r) <= limit {
+			out = append(out, r)
+		}
+	}
+	return out
+}
+
+// addRootMap adds an equal-scaled s-plane panel to fig whose requested
+// range holds the roots poles and zeros (recorded as its series) and the
+// origin. It draws allPoles and allZeros, which include them: on a zoom
+// these are every root, drawn only where they fall inside the ranges.
+func addRootMap(fig *Figure, name, title string, poles, zeros, allPoles, allZeros []complex128, tol float64) error {
 	x0, x1, y0, y1 := 0.0, 0.0, 0.0, 0.0
 	for _, r := range append(append([]complex128(nil), poles...), zeros...) {
 		x0, x1 = math.Min(x0, real(r)), math.Max(x1, real(r))
 		y0, y1 = math.Min(y0, imag(r)), math.Max(y1, imag(r))
 	}
+	scale, unit := OmegaScale(math.Max(math.Max(-x0, x1), math.Max(-y0, y1)))
+	p := newPanel(title, "σ, real part ("+unit+")", "jω, imaginary part ("+unit+")")
+	p.X.Tick.Marker = linearTicks{Scale: scale}
+	p.Y.Tick.Marker = linearTicks{Scale: scale}
+	p.Add(grid{}, originAxes{})
+	pn := fig.add(name, p)
+	pn.equalScale = true
+
+	// requested range: the roots and the origin, padded by 15 % of the
+	// larger span (never empty)
 	span := math.Max(x1-x0, y1-y0)
 	if span == 0 {
 		span = 1
 	}
 	pn.xMin, pn.xMax = x0-0.15*span, x1+0.15*span
 	pn.yMin, pn.yMax = y0-0.15*span, y1+0.15*span
-	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = pn.xMin, pn.xMax, pn.yMin, pn.yMax
+	// a zoom draws roots that lie outside its ranges; gonum would shrink
+	// the data area to fit their glyphs, so they are drawn clipped instead
+	zoomed := len(poles) != len(allPoles) || len(zeros) != len(allZeros)
 
-	tol := 1e-9 * math.Max(maxAbs, 1e-300)
 	rootStyles := []struct {
-		name   string
-		roots  []complex128
-		legend string
-		glyph  draw.GlyphStyle
+		name        string
+		roots, draw []complex128
+		legend      string
+		glyph       draw.GlyphStyle
 	}{
-		{"poles", poles, "pole", draw.GlyphStyle{Color: traceColors[0], Radius: vg.Points(4.5), Shape: boldCross{}}},
-		{"zeros", zeros, "zero", draw.GlyphStyle{Color: traceColors[1], Radius: vg.Points(4.5), Shape: boldRing{}}},
+		{"poles", poles, allPoles, "pole", draw.GlyphStyle{Color: traceColors[0], Radius: vg.Points(4.5), Shape: boldCross{}}},
+		{"zeros", zeros, allZeros, "zero", draw.GlyphStyle{Color: traceColors[1], Radius: vg.Points(4.5), Shape: boldRing{}}},
 	}
 	for _, rs := range rootStyles {
 		pts := make([][2]float64, len(rs.roots))
@@ -103,7 +181,7 @@ func PoleZero(poles, zeros []complex128, opt PoleZeroOptions) (*Figure, error) {
 			pts[i] = [2]float64{real(r), imag(r)}
 		}
 		pn.addSeries(rs.name, pts)
-		distinct, counts := groupRoots(rs.roots, tol)
+		distinct, counts := groupRoots(rs.draw, tol)
 		if len(distinct) == 0 {
 			continue
 		}
@@ -118,27 +196,42 @@ func PoleZero(poles, zeros []complex128, opt PoleZeroOptions) (*Figure, error) {
 		}
 		sc, err := plotter.NewScatter(xys)
 		if err != nil {
-			return nil, fmt.Errorf("plot: %s: %w", rs.name, err)
+			return fmt.Errorf("plot: %s: %w", rs.name, err)
 		}
 		sc.GlyphStyle = rs.glyph
-		p.Add(sc)
-		p.Legend.Add(rs.legend, sc)
+		addUnpadded(p, zoomed, sc)
+		if len(rs.roots) > 0 {
+			pn.addLegend(rs.legend, sc)
+		}
 		if len(notes.Labels) > 0 {
 			lb, err := plotter.NewLabels(notes)
 			if err != nil {
-				return nil, fmt.Errorf("plot: %s multiplicity: %w", rs.name, err)
+				return fmt.Errorf("plot: %s multiplicity: %w", rs.name, err)
 			}
 			for i := range lb.TextStyle {
 				lb.TextStyle[i] = noteStyle()
 			}
 			lb.Offset = vg.Point{X: vg.Points(6), Y: vg.Points(3)}
-			p.Add(lb)
+			addUnpadded(p, zoomed, lb)
 		}
 	}
 	// Add widened the ranges to the data; restore the requested ones
 	// (layout equalises them)
 	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = pn.xMin, pn.xMax, pn.yMin, pn.yMax
-	return fig, nil
+	return nil
+}
+
+// unpadded hides a plotter's glyph boxes and data range, so that gonum
+// neither widens the axes nor shrinks the data area for marks outside
+// the ranges; gonum clips such marks when drawing.
+type unpadded struct{ gplot.Plotter }
+
+// addUnpadded adds pl to p, wrapped in unpadded when clip is set.
+func addUnpadded(p *gplot.Plot, clip bool, pl gplot.Plotter) {
+	if clip {
+		pl = unpadded{pl}
+	}
+	p.Add(pl)
 }
 
 // groupRoots merges roots closer than tol, keeping the first of each

@@ -88,7 +88,7 @@ func Step(t, y []float64, m StepMarks, opt StepOptions) (*Figure, error) {
 	scale := math.Pow(1000, float64(e))
 	fig := newFigure(w, h)
 	p := newPanel(opt.Title, "time ("+siPrefixes[e]+"s)", ylabel)
-	p.X.Tick.Marker = scaledTicks{Scale: scale}
+	p.X.Tick.Marker = linearTicks{Scale: scale}
 	p.Add(grid{})
 	pn := fig.add(PanelStep, p)
 
@@ -159,7 +159,7 @@ func Step(t, y []float64, m StepMarks, opt StepOptions) (*Figure, error) {
 
 // addPlain draws pts as a plain line in style sty (series name).
 func addPlain(pn *panel, name string, pts [][2]float64, sty draw.LineStyle) error {
-	ln, err := plotter.NewLine(pn.addSeries(name, pts))
+	ln, err := plotter.NewLine(pn.addLineSeries(name, pts))
 	if err != nil {
 		return fmt.Errorf("plot: %s %q: %w", pn.name, name, err)
 	}

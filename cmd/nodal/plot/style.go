@@ -102,6 +102,7 @@ func newPanel(title, xLabel, yLabel string) *gplot.Plot {
 		a.Label.TextStyle.Font = sansFont(labelFontPt)
 		a.Label.TextStyle.Color = inkColor
 		a.Padding = vg.Points(2)
+		a.Tick.Marker = linearTicks{}
 	}
 	p.X.Label.Text = xLabel
 	p.Y.Label.Text = yLabel
