@@ -75,6 +75,9 @@ type panel struct {
 	legendAt   vg.Rectangle
 	legendHits int
 	legendOut  bool // legend drawn above the data area
+	// legendOutside keeps the legend above the data area always: on a
+	// pole-zero map a legend symbol inside the plane reads as a root.
+	legendOutside bool
 	// baseTitle and basePad are the title and its padding as built,
 	// before a legend above the data area makes room for itself.
 	baseTitle string
@@ -223,7 +226,7 @@ func (f *Figure) placeLegends(dc draw.Canvas) [][]draw.Canvas {
 	moved := false
 	for i, pn := range f.panels {
 		pn.legendAt, pn.legendHits = pn.placeLegend(pn.p.DataCanvas(cs[i][0]))
-		if pn.legendHits > 0 {
+		if pn.legendHits > 0 || (pn.legendOutside && len(pn.legend) > 0) {
 			pn.legendAbove()
 			moved = true
 		}

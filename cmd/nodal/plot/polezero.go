@@ -152,6 +152,7 @@ func addRootMap(fig *Figure, name, title string, poles, zeros, allPoles, allZero
 	p.Y.Tick.Marker = linearTicks{Scale: scale}
 	p.Add(grid{}, originAxes{})
 	pn := fig.add(name, p)
+	pn.legendOutside = true
 	pn.equalScale = true
 
 	// requested range: the roots and the origin, padded by 15 % of the
