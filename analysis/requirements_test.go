@@ -234,8 +234,8 @@ func rcPassProbability(k, t float64) float64 {
 }
 
 // TestRCPassProbabilityIntegral checks the closed form above against a
-// direct numerical integration of P(Y ≥ k/X) over X (midpoint rule), which
-// does not use the derivation.
+// direct numerical integration of P(Y ≥ k/X) over X (midpoint rule; Press
+// et al., Numerical Recipes, ch. 4), which does not use the derivation.
 func TestRCPassProbabilityIntegral(t *testing.T) {
 	const tol = 0.05
 	a, b := 1-tol, 1+tol
@@ -308,8 +308,9 @@ func TestWilsonCoverageRC(t *testing.T) {
 }
 
 // TestVerifyWorstCaseRC: with R and C at ±5 %, f3db spans
-// f0/(1.05)² .. f0/(0.95)² (f3db = 1/(2πRC) falls as either rises), for the
-// exhaustive corners and for the sign-based corners alike.
+// f0/(1.05)² .. f0/(0.95)² (f3db = 1/(2πRC), the first-order RC low-pass,
+// common practice, falls as either rises), for the exhaustive corners and
+// for the sign-based corners alike.
 func TestVerifyWorstCaseRC(t *testing.T) {
 	f0 := 1 / (2 * math.Pi * 10e3 * 10e-9)
 	c := loadRC(t, "require f3db within 1.5kHz..1.7kHz\nrequire f3db within 1.4kHz..1.8kHz\n")

@@ -34,7 +34,9 @@ func TestSnap(t *testing.T) {
 	}
 	// R = 1/(2π·2 kHz·10 nF) = 7957.7 Ω → E24 8.2k (log midpoint of 7.5
 	// and 8.2 is 7.842k); C1 = 14.14 nF → E12 15n (midpoint of 12 and 15
-	// is 13.42n); C2 and R9 are standard values already.
+	// is 13.42n); C2 and R9 are standard values already. Series values
+	// from IEC 60063 (preferred number series for resistors and capacitors);
+	// nearest in log distance is common practice.
 	want := map[string]float64{"R1": 8.2e3, "R2": 8.2e3, "C1": 15e-9, "C2": 6.8e-9, "R9": 100e3}
 	if len(res.Changes) != len(want) {
 		t.Fatalf("changes %+v", res.Changes)

@@ -126,7 +126,8 @@ func TestImpulseFirstOrder(t *testing.T) {
 }
 
 // High-pass sτ/(1 + sτ): impulse δ(t) − (1/τ)e^(−t/τ), step e^(−t/τ), a
-// jump to 1 at 0+ (standard Laplace table).
+// jump to 1 at 0+ (Ogata, Modern Control Engineering, table of Laplace
+// transform pairs).
 func TestDirectTerm(t *testing.T) {
 	const tau = 1e-3
 	h := tfRoots(1, []complex128{0}, []complex128{-1 / tau})
@@ -301,7 +302,8 @@ func TestImpulseRepeatedPair(t *testing.T) {
 	}
 }
 
-// Integrator 1/(sτ): the step ramps t/τ, no final value (Laplace table).
+// Integrator 1/(sτ): the step ramps t/τ, no final value (Ogata, Modern
+// Control Engineering, table of Laplace transform pairs).
 // With a second pole it ramps after a lag; 1/s alone has no time scale.
 func TestStepIntegrator(t *testing.T) {
 	const tau = 1e-3
@@ -348,7 +350,8 @@ func TestStepUnstable(t *testing.T) {
 	if !r.Unstable || len(r.UnstablePoles) != 1 || r.UnstablePoles[0].Re != 1/tau || r.Metrics.SettlingTimeS != nil || r.Metrics.Final != nil {
 		t.Errorf("unstable %+v", r)
 	}
-	// 1/(1 − sτ) step: 1 − e^(t/τ) (Laplace table)
+	// 1/(1 − sτ) step: 1 − e^(t/τ) (Ogata, Modern Control Engineering, table
+	// of Laplace transform pairs)
 	if got := r.At(tau); math.Abs(got-(1-math.E)) > 1e-12 {
 		t.Errorf("y(τ) = %g", got)
 	}

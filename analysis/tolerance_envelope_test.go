@@ -30,7 +30,8 @@ func TestEnvelopeSharesMonteCarloRuns(t *testing.T) {
 	if p := mc.Metrics[3]; math.Abs(env.MinPhaseDeg[1]-p.Min) > 1e-9 || math.Abs(env.MaxPhaseDeg[1]-p.Max) > 1e-9 {
 		t.Errorf("phase band %v..%v; Monte Carlo %v..%v", env.MinPhaseDeg[1], env.MaxPhaseDeg[1], p.Min, p.Max)
 	}
-	// Nominal: −3.0103 dB and −45° at fc ≈ 1 kHz (closed form of 1/(1 + jf/fc)).
+	// Nominal: −3.0103 dB and −45° at fc ≈ 1 kHz (closed form of 1/(1 + jf/fc),
+	// the first-order low-pass; common practice).
 	fc := 1 / (2 * math.Pi * 10e3 * 15.9155e-9)
 	if !tolRel(env.NominalDB[1], -10*math.Log10(1+math.Pow(1000/fc, 2)), 1e-12) || !tolRel(env.NominalPhaseDeg[1], -math.Atan(1000/fc)*180/math.Pi, 1e-12) {
 		t.Errorf("nominal %v dB %v°", env.NominalDB[1], env.NominalPhaseDeg[1])

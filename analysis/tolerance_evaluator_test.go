@@ -13,14 +13,17 @@ func tolRel(got, want, rel float64) bool { return math.Abs(got-want) <= rel*math
 func TestMetricEvaluatorClosedForms(t *testing.T) {
 	const fc = 1 / (2 * math.Pi * 10e3 * 15.9155e-9)
 	// Sallen-Key (see tolSallenKey): ω0 = 1/√(R1R2C1C2),
-	// Q = √(R1R2C1C2)/(C2(R1+R2)); a second-order low-pass with Q > 1/√2
+	// Q = √(R1R2C1C2)/(C2(R1+R2)) (unity-gain Sallen-Key low-pass; Sallen &
+	// Key, IRE Trans. Circuit Theory, 1955; from memory); a second-order low-pass with Q > 1/√2
 	// peaks at ω0·√(1 − 1/(2Q²)) with |H| = Q/√(1 − 1/(4Q²)) (closed form of
-	// |1/(1 − u² + ju/Q)|, maximised over u = ω/ω0).
+	// |1/(1 − u² + ju/Q)|, maximised over u = ω/ω0; Zverev, Handbook of
+	// Filter Synthesis; from memory).
 	t0 := math.Sqrt(10e3 * 22e3 * 20e-9 * 5e-9)
 	q := t0 / (5e-9 * 32e3)
 	f0 := 1 / (2 * math.Pi * t0)
 	// Series RLC band-pass across R (R 100 Ω, L 10 mH, C 100 nF):
-	// ω0 = 1/√(LC), Q = √(L/C)/R, lower −3 dB edge ω0(√(1 + 1/(4Q²)) − 1/(2Q)).
+	// ω0 = 1/√(LC), Q = √(L/C)/R, lower −3 dB edge ω0(√(1 + 1/(4Q²)) − 1/(2Q))
+	// (series resonance; Nilsson & Riedel, Electric Circuits; from memory).
 	w0 := 1 / math.Sqrt(10e-3*100e-9)
 	qb := math.Sqrt(10e-3/100e-9) / 100
 	fLow := w0 * (math.Sqrt(1+1/(4*qb*qb)) - 1/(2*qb)) / (2 * math.Pi)

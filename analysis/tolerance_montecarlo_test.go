@@ -64,9 +64,11 @@ func TestMonteCarloRCUniform(t *testing.T) {
 	// f3db/f0 = 1/((1+a)(1+b)), a and b independent uniform on ±t. Exactly
 	// (integrate 1/(1+a) and 1/(1+a)² over the uniform density):
 	// E[1/(1+a)] = ln((1+t)/(1−t))/(2t), E[1/(1+a)²] = 1/(1−t²), so
-	// Var = E2² − E1⁴ (closed form). To first order the relative σ is
-	// √2·t/√3 ≈ 0.816 % (propagation of independent uniform errors; common
-	// practice); the exact value differs from it by O(t²).
+	// Var = E2² − E1⁴ (closed form: expectation of a function of a random
+	// variable, E[g(a)] = ∫ g(a)·p(a) da; common practice). To first order
+	// the relative σ is √2·t/√3 ≈ 0.816 % (propagation of independent
+	// uniform errors; common practice); the exact value differs from it by
+	// O(t²).
 	e1 := math.Log((1+tol)/(1-tol)) / (2 * tol)
 	e2 := 1 / (1 - tol*tol)
 	exactRel := math.Sqrt(e2*e2-math.Pow(e1, 4)) / (e1 * e1)
@@ -107,8 +109,10 @@ func TestMonteCarloNormalSigma(t *testing.T) {
 	res := tolMonteCarlo(t, c, tolEvaluator(t, c, "out", "f3db"), MonteCarloOptions{Runs: runs, Seed: 3})
 	m := res.Metrics[0]
 	// f = f0/(1 + δ), δ ~ N(0, σ²), σ = tol/3 = 1 %: relative σ(f) ≈ σ (first
-	// order; the O(σ²) correction is 0.03 %). The standard error of a
-	// normal sample's σ is σ/√(2N) (any statistics text), 0.71 % at N =
+	// order propagation of error; common practice; the O(σ²) correction is
+	// 0.03 %). The standard error of a normal sample's σ is σ/√(2N)
+	// (large-sample result, Papoulis, Probability, Random Variables and
+	// Stochastic Processes; from memory), 0.71 % at N =
 	// 10 000; allow 4 of them.
 	rel := m.Std / m.Nominal
 	if math.Abs(rel/0.01-1) > 4/math.Sqrt(2*runs) {
@@ -262,7 +266,8 @@ func TestMonteCarloFailures(t *testing.T) {
 
 func TestPercentileType7(t *testing.T) {
 	// Hyndman & Fan type 7 on 1..5: h = 4p, Q = x[⌊h⌋] + frac(h)·Δ
-	// (worked by hand from the definition).
+	// (evaluated from the definition in Hyndman & Fan, Sample Quantiles in
+	// Statistical Packages, The American Statistician 50(4), 1996).
 	x := []float64{1, 2, 3, 4, 5}
 	for _, tc := range []struct{ p, want float64 }{
 		{0, 1}, {0.1, 1.4}, {0.25, 2}, {0.5, 3}, {0.9, 4.6}, {1, 5},

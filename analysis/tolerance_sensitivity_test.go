@@ -63,7 +63,8 @@ func TestSensitivitySallenKey(t *testing.T) {
 func TestSensitivityDecibel(t *testing.T) {
 	// Divider gain G = 20·log10(R2/(R1 + R2)): ∂G/∂(x/x0) is
 	// −(20/ln 10)·R1/(R1 + R2) for R1 and +(20/ln 10)·R1/(R1 + R2) for R2
-	// (differentiating the closed form); per % that is divided by 100.
+	// (differentiating the divider's closed form; common practice); per %
+	// that is divided by 100.
 	res := tolSensitivity(t, `
 Vin: vsource (in, gnd) 1
 R1: resistor (in, out) 30k ±1%
@@ -90,8 +91,9 @@ func TestWorstCaseRC(t *testing.T) {
 	c := tolLoad(t, tolRC)
 	ev := tolEvaluator(t, c, "out", "f3db")
 	const r, cv, tol = 10e3, 15.9155e-9, 0.01
-	// Closed form: f3db = 1/(2πRC) is extreme at R and C both high (min)
-	// and both low (max).
+	// Closed form: f3db = 1/(2πRC) (first-order RC low-pass; Sedra & Smith,
+	// Microelectronic Circuits, STC networks; from memory) is extreme at R
+	// and C both high (min) and both low (max).
 	lo := 1 / (2 * math.Pi * r * (1 + tol) * cv * (1 + tol))
 	hi := 1 / (2 * math.Pi * r * (1 - tol) * cv * (1 - tol))
 	for _, limit := range []int{0, 1} { // exhaustive, then from sensitivity signs
@@ -113,9 +115,11 @@ func TestWorstCaseRC(t *testing.T) {
 }
 
 func TestWorstCaseSallenKeyQ(t *testing.T) {
-	// Q = √(R1R2C1C2)/(C2(R1+R2)) rises with C1 and falls with C2; with
-	// R1 < R2 it rises with R1 and falls with R2 (signs of the closed-form
-	// sensitivities above), so the max corner is R1, C1 high, R2, C2 low.
+	// Q = √(R1R2C1C2)/(C2(R1+R2)) (unity-gain Sallen-Key low-pass; Sallen &
+	// Key, IRE Trans. Circuit Theory, 1955; from memory) rises with C1 and
+	// falls with C2; with R1 < R2 it rises with R1 and falls with R2 (signs
+	// of the partial derivatives of that closed form; common practice), so
+	// the max corner is R1, C1 high, R2, C2 low.
 	c := tolLoad(t, tolSallenKey)
 	res, err := WorstCase(context.Background(), c, tolEvaluator(t, c, "out", "q"), WorstCaseOptions{})
 	if err != nil {

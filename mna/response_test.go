@@ -253,7 +253,7 @@ func TestCoupledInductors(t *testing.T) {
 }
 
 // Every controlled source and the sign conventions, each against Ohm's
-// law worked by hand (common practice). Vs = 1 V at "in", R1 = 2 kΩ from
+// law applied to each branch (common practice). Vs = 1 V at "in", R1 = 2 kΩ from
 // in to gnd carries i(R1) = 0.5 mA, R2 = 1 kΩ loads every output.
 func TestControlledSources(t *testing.T) {
 	const r1, r2 = 2e3, 1e3

@@ -113,7 +113,9 @@ func TestSweeperAgreesWithLAPACK(t *testing.T) {
 }
 
 // Group delay of the RC low-pass: τ = −Re(H'/H) at s = jω equals
-// RC/(1 + (ωRC)²) (closed form of −d/dω(−atan ωRC)).
+// RC/(1 + (ωRC)²) (closed form of −d/dω(−atan ωRC); group delay as the
+// negative phase derivative, Oppenheim & Schafer, Discrete-Time Signal
+// Processing; from memory).
 func TestGroupDelayRC(t *testing.T) {
 	c, fc := rcLowPass()
 	rc := 1 / (2 * math.Pi * fc)

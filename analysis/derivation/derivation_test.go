@@ -54,7 +54,8 @@ func sameList(got, want []float64) bool {
 
 // TestODEForms checks every accepted ODE notation by the coefficients it
 // reduces to: a_k·y⁽ᵏ⁾ summed = b_k·u⁽ᵏ⁾ summed gives Den = a, Num = b.
-// The expected lists are worked by hand from the equations.
+// The expected lists are read off the equations by collecting the
+// coefficient of each derivative order (common practice).
 func TestODEForms(t *testing.T) {
 	RC := 10e3 * 10e-9
 	tests := []struct {
@@ -92,7 +93,8 @@ func TestODEForms(t *testing.T) {
 }
 
 // TestTFForms checks transfer-function expressions by their coefficients,
-// worked by hand.
+// expanded from the written expressions by polynomial arithmetic (common
+// practice).
 func TestTFForms(t *testing.T) {
 	R1, R2, C1, C2 := 10e3, 22e3, 10e-9, 4.7e-9
 	tests := []struct {

@@ -9,7 +9,7 @@ import (
 
 func near(a, b float64) bool { return math.Abs(a-b) <= 1e-12*math.Max(1, math.Abs(b)) }
 
-// The expected values below are worked by hand from the definitions
+// The expected values below are computed from the definitions
 // (ω = 2πf, 1 deg = π/180 rad, SI prefixes per the SI brochure, BIPM).
 func TestParseValues(t *testing.T) {
 	type want struct {

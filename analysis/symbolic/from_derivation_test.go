@@ -34,7 +34,7 @@ func rationalOf(t *testing.T, src string) *derivation.Rational {
 	return r
 }
 
-// The expected polynomials are written out by hand from the expressions
+// The expected polynomials are expanded from the expressions
 // (exact rational arithmetic, common practice); where denominators are
 // cleared the expectation is compared up to a common factor with
 // Equivalent and, where the cleared form is determined, exactly.

@@ -127,7 +127,8 @@ func TestSweepRCJSON(t *testing.T) {
 	if math.Abs(p1.Mag-1/math.Sqrt(101)) > 1e-9 || math.Abs(p1.PhaseDeg+84.2894) > 1e-3 {
 		t.Errorf("at 10 fc: %g %g°, want 0.0995 −84.29°", p1.Mag, p1.PhaseDeg)
 	}
-	// Group delay of a first-order low-pass: RC/(1 + (ωRC)²) (closed form).
+	// Group delay of a first-order low-pass: RC/(1 + (ωRC)²) (closed form:
+	// −d/dω of the phase −atan ωRC; common practice).
 	rc := 10e3 * 15.9155e-9
 	if want := rc / 2; math.Abs(*p0.GroupDelayS-want) > 1e-9*want {
 		t.Errorf("group delay at fc %g, want RC/2 = %g", *p0.GroupDelayS, want)

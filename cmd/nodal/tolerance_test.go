@@ -74,7 +74,8 @@ func TestToleranceJSON(t *testing.T) {
 	}
 	f := doc.Metrics[0]
 	// fc = 1/(2πRC) at nominal; R and C uniform ±1 %: every run within the
-	// corners 1/(2πR(1±t)C(1±t)) (closed form), relative σ ≈ √2·1 %/√3 =
+	// corners 1/(2πR(1±t)C(1±t)) (closed form of the first-order low-pass;
+	// common practice), relative σ ≈ √2·1 %/√3 =
 	// 0.816 % (common practice; 400 runs give it to about ±3.0 % of itself
 	// at 1σ, so allow ±15 %).
 	lo, hi := rcCornerHz/(1.01*1.01), rcCornerHz/(0.99*0.99)
@@ -87,7 +88,8 @@ func TestToleranceJSON(t *testing.T) {
 	if w := doc.WorstCase[0]; math.Abs(w.Min/lo-1) > 1e-9 || len(w.MinCorner.High) != 2 {
 		t.Errorf("worst case %+v; want min %v with R1 and C1 high", w, lo)
 	}
-	// f3db ∝ 1/(RC): −1 %/% for each (closed form).
+	// f3db ∝ 1/(RC): −1 %/% for each (logarithmic derivative of the closed
+	// form; common practice).
 	for _, it := range doc.Sensitivity[0].Items {
 		if doc.Sensitivity[0].Unit != "%/%" || math.Abs(it.Value+1) > 1e-6 {
 			t.Errorf("sensitivity of f3db to %s: %v %s; want −1 %%/%%", it.Item, it.Value, doc.Sensitivity[0].Unit)
