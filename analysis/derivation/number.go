@@ -5,17 +5,13 @@ import (
 	"strconv"
 	"strings"
 	"unicode/utf8"
+
+	"nodal/netlist"
 )
 
-// siPrefix maps the accepted prefix letters to their factors (SI brochure,
-// 9th edition, table 7). Both u and µ mean micro.
-var siPrefix = map[string]float64{
-	"f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3,
-	"k": 1e3, "M": 1e6, "G": 1e9, "T": 1e12,
-}
-
 // parseNumber converts a Number token (digits, optional exponent, optional
-// single SI prefix letter) to its SI value.
+// single SI prefix letter, looked up in netlist's prefix table) to its SI
+// value.
 func parseNumber(tok string) (float64, error) {
 	i := strings.IndexFunc(tok, func(r rune) bool {
 		return (r >= 'a' && r <= 'z' || r >= 'A' && r <= 'Z' || r == '_' || r == 'µ') && r != 'e' && r != 'E'
@@ -38,11 +34,11 @@ func parseNumber(tok string) (float64, error) {
 	if suffix == "" {
 		return v, nil
 	}
-	if f, ok := siPrefix[suffix]; ok {
+	if f, ok := netlist.PrefixScale(suffix); ok {
 		return v * f, nil
 	}
 	if r, n := utf8.DecodeRuneInString(suffix); n < len(suffix) {
-		if _, ok := siPrefix[string(r)]; ok {
+		if _, ok := netlist.PrefixScale(string(r)); ok {
 			return 0, fmt.Errorf("number %q carries %q after its prefix: write numbers without units, and * between factors", tok, suffix[n:])
 		}
 	}

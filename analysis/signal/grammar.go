@@ -10,6 +10,8 @@ import (
 
 	"github.com/alecthomas/participle/v2"
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist"
 )
 
 const piValue = math.Pi
@@ -108,11 +110,6 @@ type number struct {
 	angle string // "", "deg" or "rad"
 }
 
-var siPrefix = map[string]float64{
-	"T": 1e12, "G": 1e9, "M": 1e6, "k": 1e3,
-	"m": 1e-3, "u": 1e-6, "µ": 1e-6, "n": 1e-9, "p": 1e-12, "f": 1e-15,
-}
-
 // parseNumber splits a Number token into digits and suffix and applies it.
 func parseNumber(tok string, pos lexer.Position) (number, error) {
 	i := 0
@@ -146,9 +143,11 @@ func parseNumber(tok string, pos lexer.Position) (number, error) {
 		n.angle = "deg"
 	case suffix == "rad":
 		n.angle = "rad"
-	case siPrefix[suffix] != 0:
-		n.value *= siPrefix[suffix]
 	default:
+		if scale, ok := netlist.PrefixScale(suffix); ok {
+			n.value *= scale
+			break
+		}
 		hint := ""
 		if strings.HasPrefix(suffix, "pi") || strings.HasPrefix(suffix, "t") || strings.HasPrefix(suffix, "sin") || strings.HasPrefix(suffix, "cos") {
 			hint = " (write the multiplication with *)"

@@ -5,23 +5,16 @@ import (
 	"math"
 	"math/big"
 	"strconv"
-	"strings"
+	"unicode/utf8"
 
 	"nodal/analysis/derivation"
+	"nodal/netlist"
 )
 
 // maxDerivationPower bounds an integer exponent in a hand derivation
 // (x^n with |n| ≤ 16); a larger power is far outside what a hand
 // derivation of a circuit holds and would only blow up the expansion.
 const maxDerivationPower = 16
-
-// siPrefixExp maps the SI prefix letters of the derivation syntax to their
-// decimal exponents (SI brochure, 9th edition, table 7; u and µ are both
-// micro). They must match the prefixes analysis/derivation accepts.
-var siPrefixExp = map[string]int{
-	"f": -15, "p": -12, "n": -9, "u": -6, "µ": -6, "m": -3,
-	"k": 3, "M": 6, "G": 9, "T": 12,
-}
 
 // FromDerivation converts the coefficient expressions of a hand derivation
 // into exact polynomials in its names, ascending in s like r.Num and r.Den,
@@ -259,10 +252,11 @@ func numberRat(n *derivation.Number) (*big.Rat, error) {
 		return foldedRat(n.Value)
 	}
 	mant, exp := n.Text, 0
-	for p, e := range siPrefixExp {
-		if strings.HasSuffix(mant, p) {
-			mant, exp = strings.TrimSuffix(mant, p), e
-			break
+	// A trailing SI prefix (the same table analysis/derivation reads) is an
+	// exact power of ten.
+	if r, size := utf8.DecodeLastRuneInString(mant); size > 0 {
+		if e, ok := netlist.PrefixExponent(string(r)); ok {
+			mant, exp = mant[:len(mant)-size], e
 		}
 	}
 	r, ok := new(big.Rat).SetString(mant)

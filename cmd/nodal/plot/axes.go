@@ -7,10 +7,16 @@ import (
 	gplot "gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+
+	"nodal/netlist"
 )
 
-// siPrefixes maps a power-of-1000 exponent to its SI prefix.
-var siPrefixes = map[int]string{-4: "p", -3: "n", -2: "µ", -1: "m", 0: "", 1: "k", 2: "M", 3: "G", 4: "T"}
+// siPrefix returns the SI prefix of the power of 1000 e (from netlist's
+// prefix table, the one the circuit language reads); e outside f…T gives "".
+func siPrefix(e int) string {
+	p, _ := netlist.PrefixSymbol(e)
+	return p
+}
 
 // siExponent returns the power of 1000 (clamped to p…T) that brings |v|
 // into [1, 1000). Zero and non-finite values give 0.
@@ -41,7 +47,7 @@ func EngFormat(v float64, digits int, unit string) string {
 	if unit == "" && e == 0 {
 		return s
 	}
-	return s + " " + siPrefixes[e] + unit
+	return s + " " + siPrefix(e) + unit
 }
 
 // logTicks marks a log-scaled frequency axis: a labelled major tick on
@@ -90,7 +96,7 @@ func (t logTicks) Ticks(lo, hi float64) []gplot.Tick {
 // tickLabel writes a tick value with an SI prefix and no unit.
 func tickLabel(v float64) string {
 	e := siExponent(v)
-	return strconv.FormatFloat(v/math.Pow(1000, float64(e)), 'g', 3, 64) + siPrefixes[e]
+	return strconv.FormatFloat(v/math.Pow(1000, float64(e)), 'g', 3, 64) + siPrefix(e)
 }
 
 // stepTicks puts labelled ticks at multiples of the first step in Steps

@@ -87,7 +87,7 @@ func Step(t, y []float64, m StepMarks, opt StepOptions) (*Figure, error) {
 	e = min(e, 0) // no ks
 	scale := math.Pow(1000, float64(e))
 	fig := newFigure(w, h)
-	p := newPanel(opt.Title, "time ("+siPrefixes[e]+"s)", ylabel)
+	p := newPanel(opt.Title, "time ("+siPrefix(e)+"s)", ylabel)
 	p.X.Tick.Marker = linearTicks{Scale: scale}
 	p.Add(grid{})
 	pn := fig.add(PanelStep, p)

@@ -42,7 +42,7 @@ func linearTickLabels(vals []float64, si bool) []string {
 	if e != 0 {
 		suffix = "e" + strconv.Itoa(3*e)
 		if si {
-			suffix = siPrefixes[e]
+			suffix = siPrefix(e)
 		}
 	}
 	div := math.Pow(1000, float64(e))
