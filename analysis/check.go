@@ -57,8 +57,9 @@ type CoefRow struct {
 	Status  CoefStatus `json:"status"`
 }
 
-// Complex is a complex number in plain (JSON-friendly) form; for poles
-// and zeros the unit is rad/s.
+// Complex is a complex number in plain (JSON-friendly) form, since JSON
+// cannot carry complex128: s = Re + j·Im. For poles and zeros (check
+// results, TimeResponse.UnstablePoles and AxisPoles) the unit is rad/s.
 type Complex struct {
 	Re float64 `json:"re"`
 	Im float64 `json:"im"`

@@ -33,12 +33,6 @@ type Point struct {
 	Y  float64 `json:"y"`
 }
 
-// PoleRad is a pole s = Re + j·Im in rad/s (JSON cannot carry complex128).
-type PoleRad struct {
-	Re float64 `json:"re"`
-	Im float64 `json:"im"`
-}
-
 // Metrics are the figures of a time response, computed on the exact closed
 // form (extrema and level crossings refined by bisection), never read off
 // the sampled points. A nil field has no value: see Note.
@@ -88,8 +82,8 @@ type TimeResponse struct {
 	Points        []Point   `json:"points"`
 	SpanS         float64   `json:"span_s"`
 	Unstable      bool      `json:"unstable"`
-	UnstablePoles []PoleRad `json:"unstable_poles,omitempty"`
-	AxisPoles     []PoleRad `json:"axis_poles,omitempty"`
+	UnstablePoles []Complex `json:"unstable_poles,omitempty"`
+	AxisPoles     []Complex `json:"axis_poles,omitempty"`
 	Overflow      bool      `json:"overflow,omitempty"`
 }
 
@@ -145,7 +139,7 @@ func timeResponse(tf *TransferFunction, kind string, opt TimeOptions) (*TimeResp
 	}
 	r := &TimeResponse{Kind: kind}
 	for _, g := range hGroups {
-		pr := PoleRad{real(g.p), imag(g.p)}
+		pr := Complex{Re: real(g.p), Im: imag(g.p)}
 		switch {
 		case real(g.p) > 0 || real(g.p) == 0 && g.mult > 1:
 			r.Unstable = true
