@@ -254,8 +254,8 @@ func (b *builder) currentParts() []string {
 func (b *builder) checkControl(p *netlist.Part) error {
 	ctl, ok := b.c.Part(p.Control)
 	if !ok || ctl.Kind == netlist.Coupling {
-		return &PartError{Part: p.Name, Msg: (&LookupError{What: "part", Name: p.Control, Known: b.currentParts(),
-			Why: fmt.Sprintf("sense=%q names no part with a current", p.Control)}).Error()}
+		return partLookupError(p.Name, &LookupError{What: "part", Name: p.Control, Known: b.currentParts(),
+			Why: fmt.Sprintf("sense=%q names no part with a current", p.Control)})
 	}
 	return nil
 }

@@ -35,14 +35,26 @@ func (e *LookupError) Error() string {
 
 // PartError reports a part that cannot be stamped (bad terminal count, a
 // value that is not finite or not positive, a sense naming a part without
-// a current).
+// a current). Err, when set, is the underlying error (a *LookupError for a
+// sense naming a missing node or part) and Msg is its text; errors.As
+// reaches it through Unwrap.
 type PartError struct {
 	Part string
 	Msg  string
+	Err  error
 }
 
 // Error formats the part name and the problem.
 func (e *PartError) Error() string { return fmt.Sprintf("part %q: %s", e.Part, e.Msg) }
+
+// Unwrap returns the underlying error, nil when there is none.
+func (e *PartError) Unwrap() error { return e.Err }
+
+// partLookupError wraps a failed lookup made on behalf of part, keeping the
+// lookup's text as the message.
+func partLookupError(part string, le *LookupError) *PartError {
+	return &PartError{Part: part, Msg: le.Error(), Err: le}
+}
 
 // Problem is one structural defect of a circuit found by Structure.
 type Problem struct {

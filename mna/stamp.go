@@ -44,8 +44,8 @@ func (b *builder) terminals(p *netlist.Part, want int) ([]int, error) {
 func (b *builder) sense(p *netlist.Part) (int, int, error) {
 	for _, n := range p.Sense {
 		if !b.hasNode(n) {
-			return 0, 0, &PartError{Part: p.Name, Msg: (&LookupError{What: "node", Name: n, Known: b.nodeList(),
-				Why: fmt.Sprintf("sense node %q does not exist", n)}).Error()}
+			return 0, 0, partLookupError(p.Name, &LookupError{What: "node", Name: n, Known: b.nodeList(),
+				Why: fmt.Sprintf("sense node %q does not exist", n)})
 		}
 	}
 	return b.node(p.Sense[0]), b.node(p.Sense[1]), nil
