@@ -42,11 +42,11 @@ func Parse(name string, src []byte) (*File, error) {
 	}
 	toks, err := lexDef.LexString(name, string(src))
 	if err != nil {
-		return f, ErrorList{{Pos: Pos{File: name}, Msg: err.Error()}}
+		return f, ErrorList{f.lexDiag(err)}
 	}
 	all, err := lexer.ConsumeAll(toks)
 	if err != nil {
-		return f, ErrorList{{Pos: Pos{File: name}, Msg: err.Error()}}
+		return f, ErrorList{f.lexDiag(err)}
 	}
 	var diags ErrorList
 	var flat []*Stmt
@@ -292,6 +292,18 @@ func (f *File) diagAt(off int, sev Severity, msg, hint string) *Diagnostic {
 		line = f.lineText(off)
 	}
 	return &Diagnostic{Pos: f.posAt(off), Severity: sev, Msg: msg, Hint: hint, Line: line}
+}
+
+// lexDiag turns a lexer failure into a diagnostic at the lexer's position
+// (FILE:LINE:COL with the source line and caret); an error that carries no
+// position is reported at the file alone. The lexer's Bad rule matches any
+// character, so this guards a lexer change rather than a known input.
+func (f *File) lexDiag(err error) *Diagnostic {
+	var le *lexer.Error
+	if errors.As(err, &le) && le.Pos.Offset >= 0 && le.Pos.Offset <= len(f.Source) {
+		return f.diagAt(le.Pos.Offset, SevError, le.Msg, "")
+	}
+	return &Diagnostic{Pos: Pos{File: f.Name}, Msg: err.Error()}
 }
 
 // diag makes a diagnostic at a lexer position.
