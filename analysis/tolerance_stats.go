@@ -57,7 +57,8 @@ func summarise(name string, nominal float64, samples []float64) MetricStats {
 // Fan's definition 7 ("Sample quantiles in statistical packages", The
 // American Statistician 50(4), 1996): with h = (n − 1)·p,
 // Q = x[⌊h⌋] + (h − ⌊h⌋)·(x[⌊h⌋+1] − x[⌊h⌋]) (0-based). With 1000 runs the
-// 0.135 % point lies between the two smallest values. NaN for no values.
+// 0.135 % point has h = 999·0.00135 ≈ 1.35, so it lies between the second
+// and third smallest values (x[1] and x[2]). NaN for no values.
 func Percentile(sorted []float64, p float64) float64 {
 	n := len(sorted)
 	if n == 0 || math.IsNaN(p) {

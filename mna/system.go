@@ -45,8 +45,7 @@ type Input struct {
 // circuit's node order) then the branch currents.
 //
 // Invariants: len(Unknowns) == n; Unknowns[i] names row/column i as
-// "v(NODE)" or "i(PART)" (a branch current, or "i(PART.aux)" for internal
-// currents a model needs).
+// "v(NODE)" or "i(PART)" (a branch current).
 type System struct {
 	Unknowns []string
 	G, C     *mat.Dense

@@ -87,14 +87,29 @@ type TF struct {
 	Src  string
 }
 
-func (n *Number) Position() Pos   { return n.At }
-func (n *Name) Position() Pos     { return n.At }
-func (n *Deriv) Position() Pos    { return n.At }
-func (n *Unary) Position() Pos    { return n.At }
-func (n *Binary) Position() Pos   { return n.At }
-func (n *Call) Position() Pos     { return n.At }
+// Position returns the source position of the number literal (its At field).
+func (n *Number) Position() Pos { return n.At }
+
+// Position returns the source position of the name (its At field).
+func (n *Name) Position() Pos { return n.At }
+
+// Position returns the source position of the derivative (its At field).
+func (n *Deriv) Position() Pos { return n.At }
+
+// Position returns the source position of the unary minus (its At field).
+func (n *Unary) Position() Pos { return n.At }
+
+// Position returns the source position of the binary expression's operator (its At field).
+func (n *Binary) Position() Pos { return n.At }
+
+// Position returns the source position of the function name of the call (its At field).
+func (n *Call) Position() Pos { return n.At }
+
+// Position returns the source position of the equation (its At field).
 func (n *Equation) Position() Pos { return n.At }
-func (n *TF) Position() Pos       { return n.At }
+
+// Position returns the source position of the transfer-function expression (its At field).
+func (n *TF) Position() Pos { return n.At }
 
 func (*Number) exprNode() {}
 func (*Name) exprNode()   {}
