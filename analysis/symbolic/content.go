@@ -1,6 +1,7 @@
 package symbolic
 
 import (
+	"fmt"
 	"math/big"
 	"sort"
 )
@@ -55,8 +56,10 @@ func CommonMonomial(ps ...Poly) Poly {
 }
 
 // FromTerms builds a polynomial from terms named by variable; repeated
-// monomials are summed. It is the inverse of Poly.Terms.
-func FromTerms(terms []Term) Poly {
+// monomials are summed. It is the inverse of Poly.Terms. An exponent that
+// is negative or whose sum for one variable exceeds MaxExponent gives an
+// error wrapping ErrExponentRange.
+func FromTerms(terms []Term) (Poly, error) {
 	set := map[string]bool{}
 	for _, t := range terms {
 		for _, pw := range t.Powers {
@@ -78,8 +81,8 @@ func FromTerms(terms []Term) Poly {
 		clear(buf)
 		for _, pw := range t.Powers {
 			e := int(buf[idx[pw.Var]]) + pw.Exp
-			if e > 255 || pw.Exp < 0 {
-				panic("symbolic: exponent out of range 0..255")
+			if e > MaxExponent || pw.Exp < 0 {
+				return Poly{}, fmt.Errorf("%w: %s^%d", ErrExponentRange, pw.Var, pw.Exp)
 			}
 			buf[idx[pw.Var]] = byte(e)
 		}
@@ -89,5 +92,5 @@ func FromTerms(terms []Term) Poly {
 			acc[string(buf)] = new(big.Rat).Set(t.Coef)
 		}
 	}
-	return fromMap(vars, acc)
+	return fromMap(vars, acc), nil
 }

@@ -69,7 +69,10 @@ func FromDerivation(r *derivation.Rational) (num, den []Poly, ok bool, why strin
 	}
 	lcm := Int(1)
 	for _, d := range dens {
-		lcm = lcm.Mul(d)
+		var err error
+		if lcm, err = lcm.TryMul(d); err != nil {
+			return nil, nil, false, "clearing the denominators: " + err.Error()
+		}
 	}
 	out := make([]Poly, len(all))
 	for i, f := range all {
@@ -78,7 +81,10 @@ func FromDerivation(r *derivation.Rational) (num, den []Poly, ok bool, why strin
 			// Cannot happen: f.q is a constant or one of the factors.
 			return nil, nil, false, fmt.Sprintf("internal: denominator %s does not divide %s", f.q, lcm)
 		}
-		out[i] = f.p.Mul(m)
+		var err error
+		if out[i], err = f.p.TryMul(m); err != nil {
+			return nil, nil, false, "clearing the denominators: " + err.Error()
+		}
 	}
 	num, den = trimZeroCoeffs(out[:len(r.Num)]), trimZeroCoeffs(out[len(r.Num):])
 	if len(den) == 1 && den[0].IsZero() {

@@ -1,6 +1,7 @@
 package symbolic
 
 import (
+	"errors"
 	"fmt"
 	"math/big"
 	"sort"
@@ -275,8 +276,29 @@ func (p Poly) addScaled(q Poly, negate bool) Poly {
 	return out
 }
 
-// Mul returns p·q. It panics if an exponent would exceed 255; circuits
-// stop far earlier at the size limit of Transfer.
+// MaxExponent is the largest exponent of one variable a Poly can hold
+// (monomials store one byte per variable).
+const MaxExponent = 255
+
+// ErrExponentRange is wrapped by the errors of FromTerms and TryMul when an
+// exponent would leave 0..MaxExponent.
+var ErrExponentRange = errors.New("exponent out of range 0..255")
+
+// TryMul returns p·q, or an error wrapping ErrExponentRange when the
+// product would raise a variable past MaxExponent (checked before any
+// expansion). Use it where the factors come from user input.
+func (p Poly) TryMul(q Poly) (Poly, error) {
+	for _, v := range p.Vars() {
+		if d := p.Degree(v) + q.Degree(v); d > MaxExponent {
+			return Poly{}, fmt.Errorf("%w: %s would be raised to the power %d", ErrExponentRange, v, d)
+		}
+	}
+	return p.Mul(q), nil
+}
+
+// Mul returns p·q. Exponents must stay within MaxExponent (an invariant
+// the caller keeps: circuits stop far earlier at the size limit of
+// Transfer); TryMul checks it and returns an error instead.
 func (p Poly) Mul(q Poly) Poly {
 	if len(p.terms) == 0 || len(q.terms) == 0 {
 		return Poly{}

@@ -135,7 +135,7 @@ func TestSubstCoeffsEval(t *testing.T) {
 	if _, err := p.Eval(map[string]complex128{"s": 1}); err == nil || !strings.Contains(err.Error(), `"C"`) {
 		t.Errorf("missing value: %v", err)
 	}
-	if got := FromTerms(p.Terms()); !got.Equal(p) {
+	if got, err := FromTerms(p.Terms()); err != nil || !got.Equal(p) {
 		t.Errorf("FromTerms(Terms(p)) = %v", got)
 	}
 }

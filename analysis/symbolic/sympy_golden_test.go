@@ -36,7 +36,10 @@ func goldenPolys(t *testing.T, cs [][]goldenTerm) []Poly {
 			}
 			ts = append(ts, Term{Coef: c, Powers: pw})
 		}
-		out[k] = FromTerms(ts)
+		var err error
+		if out[k], err = FromTerms(ts); err != nil {
+			t.Fatal(err)
+		}
 	}
 	return out
 }

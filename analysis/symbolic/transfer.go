@@ -149,7 +149,10 @@ func toResistances(ps []Poly, resistor map[string]string) ([]Poly, error) {
 			}
 			terms[k].Powers = pw
 		}
-		out[i] = FromTerms(terms)
+		var err error
+		if out[i], err = FromTerms(terms); err != nil {
+			return nil, fmt.Errorf("internal error: %w", err)
+		}
 	}
 	for g, d := range deg {
 		if d > 1 && len(ps) > 1 {
