@@ -15,7 +15,7 @@ import (
 type snapCmd struct {
 	circuitArgs
 	requireProbe
-	Series string `required:"" help:"E-series for every resistor and capacitor (E6, E12, E24, E48, E96, E192), or per kind: R=E96,C=E12 (kinds R, C, L)." placeholder:"SERIES"`
+	Series string `required:"" help:"E-series for every resistor and capacitor (E6, E12, E24, E48, E96, E192), or per kind: R=E96,C=E12 (kinds R, C, L, or resistor, capacitor, inductor)." placeholder:"SERIES"`
 	Output string `short:"o" help:"Write the snapped circuit file here (never over the input); without it only the report is printed." placeholder:"NEW_FILE" type:"path"`
 	Format string `help:"Output format of the report: table or json." enum:"table,json" default:"table"`
 }
@@ -45,7 +45,26 @@ Examples:
     nodal snap filter.nodal --series R=E96,C=E12 -o filter-e96.nodal`
 }
 
-// parseSeriesFlag reads "E24" (resistors and capacitors) or "R=E96,C=E12".
+// seriesKinds are the part kinds --series can name, each by its letter
+// (R, C, L; any case) or its kind keyword (resistor, capacitor, inductor).
+var seriesKinds = []struct {
+	letter string
+	kind   netlist.Kind
+}{{"R", netlist.Resistor}, {"C", netlist.Capacitor}, {"L", netlist.Inductor}}
+
+// seriesKind resolves one KIND of --series KIND=SERIES.
+func seriesKind(k string) (netlist.Kind, bool) {
+	k = strings.TrimSpace(k)
+	for _, sk := range seriesKinds {
+		if strings.EqualFold(k, sk.letter) || strings.EqualFold(k, sk.kind.String()) {
+			return sk.kind, true
+		}
+	}
+	return 0, false
+}
+
+// parseSeriesFlag reads "E24" (resistors and capacitors) or "R=E96,C=E12"
+// (also "resistor=E96,capacitor=E12").
 func parseSeriesFlag(s string) (map[netlist.Kind]analysis.Series, error) {
 	out := map[netlist.Kind]analysis.Series{}
 	if !strings.Contains(s, "=") {
@@ -56,15 +75,14 @@ func parseSeriesFlag(s string) (map[netlist.Kind]analysis.Series, error) {
 		out[netlist.Resistor], out[netlist.Capacitor] = ser, ser
 		return out, nil
 	}
-	kinds := map[string]netlist.Kind{"R": netlist.Resistor, "C": netlist.Capacitor, "L": netlist.Inductor}
 	for _, item := range strings.Split(s, ",") {
 		k, name, ok := strings.Cut(strings.TrimSpace(item), "=")
-		kind, known := kinds[strings.ToUpper(strings.TrimSpace(k))]
+		kind, known := seriesKind(k)
 		if !ok || !known {
-			return nil, fmt.Errorf("--series %q: want SERIES or KIND=SERIES,... with kinds R, C, L (e.g. R=E96,C=E12)", s)
+			return nil, fmt.Errorf("--series %q: want SERIES or KIND=SERIES,... with kinds R, C, L or resistor, capacitor, inductor (e.g. R=E96,C=E12)", s)
 		}
 		if _, dup := out[kind]; dup {
-			return nil, fmt.Errorf("--series %q: %s given twice", s, k)
+			return nil, fmt.Errorf("--series %q: %s given twice", s, kind)
 		}
 		ser, err := analysis.SeriesByName(name)
 		if err != nil {
