@@ -15,30 +15,32 @@ func trimFloat(v float64, digits int) string {
 	return strconv.FormatFloat(v, 'g', digits, 64)
 }
 
+// nonFinite returns the table text of a NaN ("-") or infinite ("inf",
+// "-inf") value; ok is false for a finite v.
+func nonFinite(v float64) (text string, ok bool) {
+	switch {
+	case math.IsNaN(v):
+		return "-", true
+	case math.IsInf(v, 1):
+		return "inf", true
+	case math.IsInf(v, -1):
+		return "-inf", true
+	}
+	return "", false
+}
+
 // num formats a table number with 6 significant digits.
 func num(v float64) string {
-	if math.IsNaN(v) {
-		return "-"
-	}
-	if math.IsInf(v, 0) {
-		if v > 0 {
-			return "inf"
-		}
-		return "-inf"
+	if s, ok := nonFinite(v); ok {
+		return s
 	}
 	return strconv.FormatFloat(v, 'g', 6, 64)
 }
 
 // fixed formats v with the given decimals (for dB and degrees).
 func fixed(v float64, decimals int) string {
-	if math.IsNaN(v) {
-		return "-"
-	}
-	if math.IsInf(v, 0) {
-		if v > 0 {
-			return "inf"
-		}
-		return "-inf"
+	if s, ok := nonFinite(v); ok {
+		return s
 	}
 	s := strconv.FormatFloat(v, 'f', decimals, 64)
 	if strings.Trim(s, "-0.") == "" {

@@ -63,8 +63,7 @@ func superscript(k int) string {
 
 // polyText writes an ascending polynomial in s: "1 + 112.5e-6·s + 6.33e-9·s²".
 func polyText(c []float64) string {
-	var b strings.Builder
-	first := true
+	var terms []signedTerm
 	for k, v := range c {
 		if v == 0 {
 			continue
@@ -77,19 +76,35 @@ func polyText(c []float64) string {
 				term += "·" + sPower(k, "s")
 			}
 		}
+		terms = append(terms, signedTerm{text: term, neg: v < 0})
+	}
+	return joinSigned(terms)
+}
+
+// signedTerm is one term of a written sum: the text of its magnitude and
+// whether it is subtracted.
+type signedTerm struct {
+	text string
+	neg  bool
+}
+
+// joinSigned writes terms as "a + b − c", a negative first term with a
+// leading "−"; no terms give "0".
+func joinSigned(terms []signedTerm) string {
+	if len(terms) == 0 {
+		return "0"
+	}
+	var b strings.Builder
+	for i, t := range terms {
 		switch {
-		case first && v < 0:
+		case i == 0 && t.neg:
 			b.WriteString("−")
-		case !first && v < 0:
+		case t.neg:
 			b.WriteString(" − ")
-		case !first:
+		case i > 0:
 			b.WriteString(" + ")
 		}
-		b.WriteString(term)
-		first = false
-	}
-	if first {
-		return "0"
+		b.WriteString(t.text)
 	}
 	return b.String()
 }
@@ -228,8 +243,7 @@ func zpkText(h *analysis.TransferFunction) string {
 // a_n·y⁽ⁿ⁾ + … + a_0·y = b_m·u⁽ᵐ⁾ + … + b_0·u.
 func odeText(ode analysis.ODE, y, u string) string {
 	side := func(c []float64, v string) string {
-		var b strings.Builder
-		first := true
+		var terms []signedTerm
 		for k := len(c) - 1; k >= 0; k-- {
 			if c[k] == 0 {
 				continue
@@ -248,21 +262,9 @@ func odeText(ode analysis.ODE, y, u string) string {
 			if coef != "1" {
 				term = coef + "·" + term
 			}
-			switch {
-			case first && c[k] < 0:
-				b.WriteString("−")
-			case !first && c[k] < 0:
-				b.WriteString(" − ")
-			case !first:
-				b.WriteString(" + ")
-			}
-			b.WriteString(term)
-			first = false
+			terms = append(terms, signedTerm{text: term, neg: c[k] < 0})
 		}
-		if first {
-			return "0"
-		}
-		return b.String()
+		return joinSigned(terms)
 	}
 	return side(ode.A, y) + " = " + side(ode.B, u)
 }
