@@ -28,7 +28,7 @@ func runNodal(t *testing.T, stdin string, args ...string) result {
 }
 
 // rcFile is the first-order RC low-pass of the command tests: R = 10 kΩ,
-// C = 15.9155 nF, fc = 1/(2πRC) = 1000.0 Hz.
+// C = 15.9155 nF, fc = 1/(2πRC) = 1000.0 Hz (common practice).
 const rcFile = "testdata/rc_lowpass.nodal"
 
 // rcCornerHz is 1/(2πRC) for rcFile.

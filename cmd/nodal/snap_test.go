@@ -14,7 +14,8 @@ import (
 // TestSnapWritesFile rounds bridge_snap.nodal to E12: Rf = 1/(2π·1.6 kHz·
 // 10 nF) = 9947 Ω → 10k; Cf = 9.6 nF → 10 nF across the decade (log
 // midpoint of 8.2 and 10 is 9.055); Rs = 560 Ω is an E12 value; Rl is
-// fixed.
+// fixed. Series values from IEC 60063; rounding to the nearest value on a
+// log scale and fc = 1/(2πRC) are common practice.
 func TestSnapWritesFile(t *testing.T) {
 	dst := filepath.Join(t.TempDir(), "snapped.nodal")
 	code, out, errOut := runCaptured(t, "", "snap", "testdata/bridge_snap.nodal", "--series", "E12", "-o", dst)
@@ -66,7 +67,8 @@ func TestSnapReportOnly(t *testing.T) {
 		t.Errorf("written %q without -o", rep.Written)
 	}
 	// E96: 9947 Ω → 10.0k (√(9.76·10.0) = 9.879k is the midpoint below);
-	// 560 Ω → 562 (midpoint of 549 and 562 is 555.5); E6: 9.6 nF → 10 nF.
+	// 560 Ω → 562 (midpoint of 549 and 562 is 555.5); E6: 9.6 nF → 10 nF
+	// (IEC 60063 series values).
 	want := map[string]float64{"Rf": 10e3, "Rs": 562, "Cf": 10e-9}
 	for _, p := range rep.Parts {
 		if math.Abs(p.New-want[p.Part]) > 1e-12*want[p.Part] {
@@ -116,7 +118,8 @@ func TestSnapFailsAfter(t *testing.T) {
 	in := filepath.Join(dir, "tight.nodal")
 	// f3db before: 1/(2π·9.1k·9.6n) = 1821.8 Hz; after E12 (9.1k → 10k, above
 	// the log midpoint 9.055k of 8.2k and 10k; 9.6n → 10n):
-	// 1/(2π·10k·10n) = 1591.5 Hz.
+	// 1/(2π·10k·10n) = 1591.5 Hz (IEC 60063 E12 values; the RC corner is
+	// common practice).
 	src := "Vb: vsource (in, gnd) 1\nRf: resistor (in, out) 9.1k\nCf: capacitor (out, gnd) 9.6nF\nrequire f3db within 1.8kHz..1.9kHz\n"
 	if err := os.WriteFile(in, []byte(src), 0o644); err != nil {
 		t.Fatal(err)
