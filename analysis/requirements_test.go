@@ -257,8 +257,9 @@ func TestRCPassProbabilityIntegral(t *testing.T) {
 // TestVerifyYieldRC checks the Monte Carlo yield of `f3db below L` against
 // the closed-form pass probability, in both branches of the product
 // distribution: with N runs the observed yield has standard deviation
-// √(p(1−p)/N) (binomial proportion; common practice); the test allows 4.5 of them (a false alarm about once in
-// 150 000 seeds; the seed is fixed, so the test is deterministic).
+// √(p(1−p)/N) (binomial proportion; common practice); the test allows 4.5
+// of them (a false alarm about once in 150 000 seeds; the seed is fixed, so
+// the test is deterministic).
 func TestVerifyYieldRC(t *testing.T) {
 	const runs = 20000
 	f0 := 1 / (2 * math.Pi * 10e3 * 10e-9)
