@@ -105,7 +105,7 @@ type ValuePlan struct {
 //     draw the part no longer follows.
 //  4. A part inside a block instance X (one level deep) whose value in
 //     the block body is a plain reference to a block parameter K that the
-//     instance sets (`X1: lowpass2 (in, out) R=10k`) rewrites that
+//     instance sets (`LP1: lowpass2 (in, out) R=10k`) rewrites that
 //     instance option (by rules 1–3), when every use of K in the block is
 //     such a plain part value and they all get the same new value. Every
 //     other part of an instance is skipped with the reason.
@@ -129,7 +129,7 @@ func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov O
 	sort.Strings(names)
 
 	lets := map[string]*shareGroup{}  // by let name
-	insts := map[string]*shareGroup{} // by "X1:K"
+	insts := map[string]*shareGroup{} // by "LP1:R" (instance:parameter)
 	join := func(m map[string]*shareGroup, key string, span Span, uses int, s shareSite) {
 		g := m[key]
 		if g == nil {
@@ -242,7 +242,7 @@ type shareSite struct {
 	span  Span
 	expr  *Expr
 	parts []string
-	label string // the part name, or "option K= of X1"
+	label string // the part name, or "option R= of LP1"
 	text  string
 }
 
