@@ -12,6 +12,9 @@ const pi = math.Pi
 // trimFloat formats v with at most digits significant digits and no
 // exponent for ordinary magnitudes.
 func trimFloat(v float64, digits int) string {
+	if v == 0 {
+		v = 0 // −0 prints as 0
+	}
 	return strconv.FormatFloat(v, 'g', digits, 64)
 }
 
@@ -25,6 +28,9 @@ func num(v float64) string {
 			return "inf"
 		}
 		return "-inf"
+	}
+	if v == 0 {
+		v = 0 // −0 prints as 0
 	}
 	return strconv.FormatFloat(v, 'g', 6, 64)
 }
