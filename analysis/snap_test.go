@@ -72,7 +72,7 @@ func TestSnap(t *testing.T) {
 	notes := strings.Join(res.Notes, "\n") + "\n"
 	for _, want := range []string{
 		"let R rewritten to 8.2k for R1, R2\n",
-		"C1: value 2*C0/sqrt(2) replaced by 15nF; it no longer follows the shared tolerance of C0",
+		"C1: value 2*C0/sqrt(2) replaced by 1.5*C0 (= 15nF), still one draw with C0",
 	} {
 		if !strings.Contains(notes, want) {
 			t.Errorf("notes lack %q:\n%s", want, notes)

@@ -118,7 +118,7 @@ func TestPlanValues(t *testing.T) {
 		"R4: resistor (c, d) 22.1k\n",               // rule 2 fallback to a literal
 		"R1: resistor (in, a) 4.7k ±1%   # literal", // rule 1, tolerance and comment kept
 		"R2: resistor (a, b) Rb\n",
-		"C1: capacitor (a, gnd) 22nF       # expression", // rule 3
+		"C1: capacitor (a, gnd) 2.2*Cs       # expression", // rule 3: still one draw with Cs
 		"LP1: stage (d, y) R=3.32k\n",                    // rule 4
 		"LP2: stage (y, z)\n",
 	} {
@@ -138,7 +138,7 @@ func TestPlanValues(t *testing.T) {
 		t.Errorf("skipped %v", plan.Skipped)
 	}
 	notes := strings.Join(plan.Notes, "\n")
-	for _, want := range []string{"let Rb rewritten to 10.2k for R2, R3", "let Rc kept: let Rc is also used elsewhere", "C1: value 2*Cs replaced by 22nF; it no longer follows the shared tolerance of Cs"} {
+	for _, want := range []string{"let Rb rewritten to 10.2k for R2, R3", "let Rc kept: let Rc is also used elsewhere", "C1: value 2*Cs replaced by 2.2*Cs (= 22nF), still one draw with Cs"} {
 		if !strings.Contains(notes, want) {
 			t.Errorf("notes lack %q:\n%s", want, notes)
 		}
