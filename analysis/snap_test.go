@@ -57,7 +57,7 @@ func TestSnap(t *testing.T) {
 	text := string(res.Source)
 	for _, line := range []string{
 		"let R  = 8.2k        # 7.958 kΩ",
-		"C1:  capacitor (a, out) 15nF\n",
+		"C1:  capacitor (a, out) 1.5*C0\n",
 		"C2:  capacitor (b, gnd) 6.8nF\n",
 		"RL:  resistor (out, gnd) 9.1k fixed   # ADC input load",
 		"require f3db within 1.9kHz..2.1kHz",
