@@ -131,19 +131,11 @@ func (f *File) parseLine(line []lexer.Token) (*Stmt, *Diagnostic) {
 // nestingDiag reports a line that nests deeper than MaxNesting, at the
 // token that goes too deep, or returns nil.
 func (f *File) nestingDiag(line []lexer.Token) *Diagnostic {
-	var sig []lexer.Token
-	var texts []string
-	for _, t := range line {
-		if t.Type != symSpace && t.Type != symComment && !t.EOF() {
-			sig = append(sig, t)
-			texts = append(texts, t.Value)
-		}
-	}
-	i := TooDeep(texts)
-	if i < 0 {
+	tok, deep := TooDeep(line, symSpace, symComment)
+	if !deep {
 		return nil
 	}
-	return f.diagAt(sig[i].Pos.Offset, SevError, fmt.Sprintf("expression nested too deeply (more than %d levels of parentheses, signs and powers)", MaxNesting), "split it with let")
+	return f.diagAt(tok.Pos.Offset, SevError, fmt.Sprintf("expression nested too deeply (more than %d levels of parentheses, signs and powers)", MaxNesting), "split it with let")
 }
 
 // syntaxDiag turns a participle error into a positioned Diagnostic with a

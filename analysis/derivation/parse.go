@@ -131,28 +131,11 @@ const MaxSourceBytes = 64 << 10
 // token that goes too deep, or returns nil. Text that does not lex is left
 // to the parser, which reports it.
 func nestingDiag(name, src string) *netlist.Diagnostic {
-	toks, err := lex.LexString(name, src)
-	if err != nil {
+	tok, deep := netlist.TooDeepText(lex, name, src, "Whitespace")
+	if !deep {
 		return nil
 	}
-	all, err := lexer.ConsumeAll(toks)
-	if err != nil {
-		return nil
-	}
-	ws := lex.Symbols()["Whitespace"]
-	var sig []lexer.Token
-	var texts []string
-	for _, t := range all {
-		if t.Type != ws && !t.EOF() {
-			sig = append(sig, t)
-			texts = append(texts, t.Value)
-		}
-	}
-	i := netlist.TooDeep(texts)
-	if i < 0 {
-		return nil
-	}
-	p := sig[i].Pos
+	p := tok.Pos
 	return diagf(name, src, Pos{File: name, Line: p.Line, Col: p.Column, Offset: p.Offset}, "expression nested too deeply (more than %d levels of parentheses, signs and powers)", netlist.MaxNesting)
 }
 

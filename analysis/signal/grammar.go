@@ -103,15 +103,7 @@ const MaxSourceBytes = 4 << 10
 // token that goes too deep, or returns nil. Text that does not lex is left
 // to the parser, which reports it.
 func nestingError(src string) *Error {
-	toks, err := signalLexer.LexString("signal", src)
-	if err != nil {
-		return nil
-	}
-	all, err := lexer.ConsumeAll(toks)
-	if err != nil {
-		return nil
-	}
-	tok, deep := netlist.TooDeep(all, signalLexer.Symbols()["Whitespace"])
+	tok, deep := netlist.TooDeepText(signalLexer, "signal", src, "Whitespace")
 	if !deep {
 		return nil
 	}
