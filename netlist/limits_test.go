@@ -7,19 +7,19 @@ import (
 
 // TestInputLimits: oversized files and deeply nested expressions fail with
 // a positioned error (and quickly: the parsers recurse once per level, so
-// without the limit 100000 "(" take seconds or overflow the stack).
+// without the limit 20000 "(" take seconds or overflow the stack).
 func TestInputLimits(t *testing.T) {
-	deep := strings.Repeat("(", 100000) + "1" + strings.Repeat(")", 100000)
+	deep := strings.Repeat("(", 20000) + "1" + strings.Repeat(")", 20000)
 	for _, c := range []struct {
 		name, src, want string
 		line, col       int
 	}{
 		{"16 MiB+", strings.Repeat("# filler line\n", MaxSourceBytes/14+1), "limited to", 1, 1},
 		{"parens", base + "R2: resistor (in, out) " + deep + "\n", "nested too deeply", 4, 24 + MaxNesting},
-		{"unclosed", base + "let x = " + strings.Repeat("(", 100000) + "\n", "nested too deeply", 4, 9 + MaxNesting},
-		{"signs", base + "let x = " + strings.Repeat("-", 100000) + "1\n", "nested too deeply", 4, 9 + MaxNesting},
-		{"powers", base + "let x = 2" + strings.Repeat("^2", 100000) + "\n", "nested too deeply", 4, 10 + 2*MaxNesting},
-		{"many bad lines", strings.Repeat("R1: resistor (a 0) 1k\n", 5000), "syntax error", 1, 17},
+		{"unclosed", base + "let x = " + strings.Repeat("(", 20000) + "\n", "nested too deeply", 4, 9 + MaxNesting},
+		{"signs", base + "let x = " + strings.Repeat("-", 20000) + "1\n", "nested too deeply", 4, 9 + MaxNesting},
+		{"powers", base + "let x = 2" + strings.Repeat("^2", 20000) + "\n", "nested too deeply", 4, 10 + 2*MaxNesting},
+		{"many bad lines", strings.Repeat("R1: resistor (a 0) 1k\n", 2000), "syntax error", 1, 17},
 	} {
 		_, err := Load("in.nod", []byte(c.src), nil)
 		l, ok := err.(ErrorList)

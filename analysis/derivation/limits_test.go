@@ -9,7 +9,7 @@ import (
 
 // TestInputLimits: oversized and deeply nested text fails with a
 // positioned error instead of exhausting time or stack (before the limit,
-// 100000 nested "sqrt(" overflowed the stack), and a denominator that
+// 40000 nested "sqrt(" overflowed the stack), and a denominator that
 // evaluates to zero is a positioned error like every other.
 func TestInputLimits(t *testing.T) {
 	n := MaxSourceBytes / 2
@@ -18,10 +18,10 @@ func TestInputLimits(t *testing.T) {
 		line, col       int
 	}{
 		{"too long", strings.Repeat("1+", n) + "1", "at most", 1, 1},
-		{"parens", strings.Repeat("(", 30000) + "1" + strings.Repeat(")", 30000), "nested too deeply", 1, netlist.MaxNesting + 1},
-		{"sqrt", strings.Repeat("sqrt(", 10000) + "s" + strings.Repeat(")", 10000), "nested too deeply", 1, 5*netlist.MaxNesting + 5},
-		{"signs", "1/(\n" + strings.Repeat("-", 30000) + "s)", "nested too deeply", 2, netlist.MaxNesting},
-		{"powers", "s" + strings.Repeat("^2", 30000), "nested too deeply", 1, 2*netlist.MaxNesting + 2},
+		{"parens", strings.Repeat("(", 8000) + "1" + strings.Repeat(")", 8000), "nested too deeply", 1, netlist.MaxNesting + 1},
+		{"sqrt", strings.Repeat("sqrt(", 4000) + "s" + strings.Repeat(")", 4000), "nested too deeply", 1, 5*netlist.MaxNesting + 5},
+		{"signs", "1/(\n" + strings.Repeat("-", 8000) + "s)", "nested too deeply", 2, netlist.MaxNesting},
+		{"powers", "s" + strings.Repeat("^2", 8000), "nested too deeply", 1, 2*netlist.MaxNesting + 2},
 	} {
 		_, err := ParseTF("tf", c.src)
 		l, ok := err.(netlist.ErrorList)
