@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sort"
 	"strconv"
 	"strings"
 )
@@ -24,10 +25,11 @@ const (
 	MetricPeak
 	// MetricFPeak is "fpeak": where the peak occurs, Hz (0 at DC).
 	MetricFPeak
-	// MetricF0 is "f0": the natural frequency of the dominant complex pole
-	// pair, Hz.
+	// MetricF0 is "f0": the natural frequency ω0/(2π) of the dominant
+	// second-order section (see DominantPair), Hz.
 	MetricF0
-	// MetricQ is "q": the quality factor of the dominant complex pole pair.
+	// MetricQ is "q": the quality factor of the dominant second-order
+	// section (see DominantPair); at most 0.5 when its poles are real.
 	MetricQ
 	// MetricDC is "dc": the DC gain, dB (−Inf for a zero at DC, +Inf for
 	// a pole at DC).
@@ -65,8 +67,9 @@ func (m Metric) Unit() string {
 }
 
 // ErrNoPolePair means the q or f0 metric was asked of a transfer function
-// without complex poles.
-var ErrNoPolePair = errors.New("no complex pole pair")
+// without a second-order section: no complex pole pair and fewer than two
+// real poles of one sign (see DominantPair).
+var ErrNoPolePair = errors.New("no complex pole pair nor two real poles of one sign")
 
 // ParseMetric parses a metric name: gain@FREQ, phase@FREQ, f3db, peak,
 // fpeak, f0, q or dc (exact spelling). FREQ is a positive number with an
@@ -142,22 +145,46 @@ func parseFreqHz(s string) (float64, error) {
 	return v, nil
 }
 
-// DominantPair returns the dominant complex pole pair: the one closest to
-// the jω axis (smallest |Re p|, i.e. the slowest-decaying oscillation),
-// the lower f0 on a tie. It returns ErrNoPolePair when there is none.
+// DominantPair returns the dominant second-order section of the poles,
+// written s² + (ω0/Q)·s + ω0² = (s − p1)(s − p2), so that ω0 = √(p1·p2)
+// and Q = √(p1·p2)/(−(p1 + p2)) (common practice). The pair is
+//
+//   - the complex pair closest to the jω axis (smallest |Re p|, i.e. the
+//     slowest-decaying oscillation; the lower f0 on a tie) if there is one;
+//   - otherwise the two real poles of smallest magnitude (Root the smaller,
+//     Other the larger).
+//
+// For a complex pair this is ω0 = |p| and Q = |p|/(−2·Re p). For two real
+// poles of the same sign Q ≤ 0.5 (equality for a double pole), so Q and f0
+// stay defined, and continuous, when rounding or a tolerance corner moves
+// a nearly critically damped pair onto the real axis. It returns an error
+// wrapping ErrNoPolePair when there are fewer than two poles, or when the
+// only candidates are real poles of opposite sign or a double pole at
+// s = 0 (no ω0 or Q exists).
 func (h *TransferFunction) DominantPair() (RootPair, error) {
-	pairs := h.PolePairs()
-	if len(pairs) == 0 {
+	if pairs := h.PolePairs(); len(pairs) > 0 {
+		best := pairs[0]
+		for _, p := range pairs[1:] {
+			d, db := math.Abs(real(p.Root)), math.Abs(real(best.Root))
+			if d < db || (d == db && p.OmegaRad < best.OmegaRad) {
+				best = p
+			}
+		}
+		return best, nil
+	}
+	rp := h.RealPoles()
+	if len(rp) < 2 {
 		return RootPair{}, ErrNoPolePair
 	}
-	best := pairs[0]
-	for _, p := range pairs[1:] {
-		d, db := math.Abs(real(p.Root)), math.Abs(real(best.Root))
-		if d < db || (d == db && p.OmegaRad < best.OmegaRad) {
-			best = p
-		}
+	sort.SliceStable(rp, func(a, b int) bool { return rp[a].OmegaRad < rp[b].OmegaRad })
+	p1, p2 := rp[0].Root, rp[1].Root
+	prod, sum := p1*p2, p1+p2
+	if prod < 0 || (prod == 0 && sum == 0) {
+		return RootPair{}, fmt.Errorf("real poles %.4g and %.4g rad/s: %w", p1, p2, ErrNoPolePair)
 	}
-	return best, nil
+	w0 := math.Sqrt(prod)
+	q := w0 / -sum
+	return RootPair{Root: complex(p1, 0), Other: complex(p2, 0), OmegaRad: w0, F0Hz: w0 / (2 * math.Pi), Q: q, Zeta: -sum / (2 * w0)}, nil
 }
 
 // Eval returns the metric's value for tf in the metric's unit (Unit).
