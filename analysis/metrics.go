@@ -5,8 +5,9 @@ import (
 	"fmt"
 	"math"
 	"sort"
-	"strconv"
 	"strings"
+
+	"nodal/netlist"
 )
 
 // MetricKind is what a Metric measures.
@@ -36,8 +37,20 @@ const (
 	MetricDC
 )
 
-// metricNames spells every metric; FREQ stands for a frequency.
-var metricNames = []string{"gain@FREQ", "phase@FREQ", "f3db", "peak", "fpeak", "f0", "q", "dc"}
+// metricNames spells every metric as netlist.MetricNames does, with the
+// frequency placeholder written FREQ (gain@FREQ). Read-only.
+var metricNames = metricNameList()
+
+// metricNameList returns netlist.MetricNames with "@F" spelled "@FREQ".
+func metricNameList() []string {
+	names := netlist.MetricNames()
+	for i, n := range names {
+		if base, ok := strings.CutSuffix(n, "@F"); ok {
+			names[i] = base + "@FREQ"
+		}
+	}
+	return names
+}
 
 // Metric is a parsed requirement or tolerance metric, as spelled in a
 // `require` statement or on the command line.
@@ -71,30 +84,23 @@ func (m Metric) Unit() string {
 // real poles of one sign (see DominantPair).
 var ErrNoPolePair = errors.New("no complex pole pair nor two real poles of one sign")
 
-// ParseMetric parses a metric name: gain@FREQ, phase@FREQ, f3db, peak,
-// fpeak, f0, q or dc (exact spelling). FREQ is a positive number with an
-// optional SI prefix (f p n u µ m k M G T) and an optional "Hz", e.g.
-// 1kHz, 20k, 500Hz, 2.2MHz. Unknown names give an error listing the valid
-// ones.
+// ParseMetric parses a metric as spelled in a `require` statement:
+// gain@FREQ, phase@FREQ, f3db, peak, fpeak, f0, q or dc, with FREQ a
+// positive frequency value in the file format's syntax (1kHz, 20k, 1k5,
+// 500Hz, ...). The spelling is the one netlist.ParseMetric accepts, so a
+// metric that parses in a file also parses here. Errors list the valid
+// metrics.
 func ParseMetric(name string) (Metric, error) {
-	m := Metric{Name: name}
-	if at := strings.IndexByte(name, '@'); at >= 0 {
-		switch name[:at] {
-		case "gain":
-			m.Kind = MetricGainAt
-		case "phase":
-			m.Kind = MetricPhaseAt
-		default:
-			return Metric{}, unknownMetric(name)
-		}
-		f, err := parseFreqHz(name[at+1:])
-		if err != nil {
-			return Metric{}, fmt.Errorf("metric %q: %w", name, err)
-		}
-		m.FreqHz = f
-		return m, nil
+	base, freqHz, err := netlist.ParseMetric(name)
+	if err != nil {
+		return Metric{}, fmt.Errorf("%w; valid metrics are %s", err, strings.Join(metricNames, ", "))
 	}
-	switch name {
+	m := Metric{Name: name, FreqHz: freqHz}
+	switch base {
+	case "gain":
+		m.Kind = MetricGainAt
+	case "phase":
+		m.Kind = MetricPhaseAt
 	case "f3db":
 		m.Kind = MetricF3dB
 	case "peak":
@@ -108,41 +114,12 @@ func ParseMetric(name string) (Metric, error) {
 	case "dc":
 		m.Kind = MetricDC
 	default:
-		return Metric{}, unknownMetric(name)
+		return Metric{}, fmt.Errorf("metric %q is not evaluated by this version; valid metrics are %s", name, strings.Join(metricNames, ", "))
+	}
+	if hasFreq := m.Kind == MetricGainAt || m.Kind == MetricPhaseAt; hasFreq != (freqHz > 0) || math.IsInf(freqHz, 0) {
+		return Metric{}, fmt.Errorf("metric %q: frequency %g Hz out of range", name, freqHz)
 	}
 	return m, nil
-}
-
-func unknownMetric(name string) error {
-	return fmt.Errorf("unknown metric %q: valid metrics are %s", name, strings.Join(metricNames, ", "))
-}
-
-// siPrefixes maps an SI prefix to its factor.
-var siPrefixes = map[string]float64{
-	"f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3,
-	"k": 1e3, "M": 1e6, "G": 1e9, "T": 1e12,
-}
-
-// parseFreqHz parses a positive frequency with optional SI prefix and
-// optional "Hz" suffix.
-func parseFreqHz(s string) (float64, error) {
-	body := strings.TrimSuffix(s, "Hz")
-	mult := 1.0
-	for p, f := range siPrefixes {
-		if strings.HasSuffix(body, p) {
-			body, mult = strings.TrimSuffix(body, p), f
-			break
-		}
-	}
-	v, err := strconv.ParseFloat(body, 64)
-	if err != nil || body == "" || strings.ContainsAny(body, "xXpP_") || strings.EqualFold(body, "inf") || strings.EqualFold(body, "nan") {
-		return 0, fmt.Errorf("frequency %q: want a number with optional SI prefix and Hz, e.g. 1kHz", s)
-	}
-	v *= mult
-	if !(v > 0) || math.IsInf(v, 0) {
-		return 0, fmt.Errorf("frequency %q must be positive and finite", s)
-	}
-	return v, nil
 }
 
 // DominantPair returns the dominant second-order section of the poles,

@@ -7,6 +7,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"nodal/netlist"
 )
 
 func TestParseMetric(t *testing.T) {
@@ -23,6 +25,10 @@ func TestParseMetric(t *testing.T) {
 		{"gain@100mHz", MetricGainAt, 0.1, "dB"},
 		{"phase@1kHz", MetricPhaseAt, 1e3, "deg"},
 		{"phase@50", MetricPhaseAt, 50, "deg"},
+		// 1k5 is 1.5 kHz in the file format (netlist.ParseValue); a
+		// requirement that parses in a file must parse here too.
+		{"gain@1k5", MetricGainAt, 1.5e3, "dB"},
+		{"phase@4u7Hz", MetricPhaseAt, 4.7e-6, "deg"},
 		{"f3db", MetricF3dB, 0, "Hz"},
 		{"peak", MetricPeak, 0, "dB"},
 		{"fpeak", MetricFPeak, 0, "Hz"},
@@ -40,7 +46,7 @@ func TestParseMetric(t *testing.T) {
 			t.Errorf("%s: got %+v unit %q", c.in, m, m.Unit())
 		}
 	}
-	for _, bad := range []string{"", "gain", "gain@", "gain@-1k", "gain@0", "gain@1kk", "gain@Hz", "F3DB", "Q", "band@1k", "gain@infHz", "gain@0x10", "phase@1 kHz"} {
+	for _, bad := range []string{"", "gain", "gain@", "gain@-1k", "gain@0", "gain@1kk", "gain@Hz", "F3DB", "Q", "band@1k", "gain@infHz", "gain@0x10", "f3db@1k", "gain@1e400"} {
 		_, err := ParseMetric(bad)
 		if err == nil {
 			t.Errorf("%q: no error", bad)
@@ -52,12 +58,19 @@ func TestParseMetric(t *testing.T) {
 	}
 }
 
+// FuzzParseMetric: analysis.ParseMetric accepts exactly what the file
+// format's netlist.ParseMetric accepts, with the same frequency, and keeps
+// the Metric invariant.
 func FuzzParseMetric(f *testing.F) {
-	for _, s := range []string{"gain@1kHz", "phase@20k", "f3db", "q", "gain@1e3", "gain@µHz", "dc@"} {
+	for _, s := range []string{"gain@1kHz", "phase@20k", "f3db", "q", "gain@1e3", "gain@µHz", "dc@", "gain@1k5"} {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, s string) {
 		m, err := ParseMetric(s)
+		_, fn, errN := netlist.ParseMetric(s)
+		if (err == nil) != (errN == nil) || (err == nil && m.FreqHz != fn) {
+			t.Fatalf("%q: analysis %+v %v, netlist %g %v", s, m, err, fn, errN)
+		}
 		if err != nil {
 			return
 		}
