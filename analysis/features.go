@@ -18,13 +18,16 @@ var ErrUnbounded = errors.New("the gain is unbounded on the frequency axis")
 // integrator (infinite gain at DC) or is identically zero.
 var ErrNoReference = errors.New("no reference gain for a −3 dB frequency")
 
-// RootPair describes a complex-conjugate pair of poles or zeros.
+// RootPair describes a second-order section (s − Root)(s − Other) =
+// s² + (ω0/Q)·s + ω0²: a complex-conjugate pair of poles or zeros, or, from
+// DominantPair only, two real poles.
 type RootPair struct {
-	Root     complex128 // the member with positive imaginary part, rad/s
-	OmegaRad float64    // natural frequency ω0 = |Root|, rad/s
+	Root     complex128 // the member with positive imaginary part (for two real poles, the smaller in magnitude), rad/s
+	Other    complex128 // the other member: the conjugate of Root, or the second real pole, rad/s
+	OmegaRad float64    // natural frequency ω0 = √(Root·Other) (|Root| for a complex pair), rad/s
 	F0Hz     float64    // ω0/(2π), Hz
-	Q        float64    // quality factor ω0/(−2·Re Root); +Inf on the jω axis, negative in the right half-plane
-	Zeta     float64    // damping ratio −Re Root/ω0 = 1/(2Q)
+	Q        float64    // quality factor ω0/(−(Root + Other)); +Inf on the jω axis, negative in the right half-plane, ≤ 0.5 for real poles
+	Zeta     float64    // damping ratio −(Root + Other)/(2ω0) = 1/(2Q)
 }
 
 // Corner is a real pole or zero.
@@ -58,7 +61,7 @@ func rootPairs(roots []complex128) []RootPair {
 		if real(r) != 0 {
 			q = w0 / (-2 * real(r))
 		}
-		out = append(out, RootPair{Root: r, OmegaRad: w0, F0Hz: w0 / (2 * math.Pi), Q: q, Zeta: zeta})
+		out = append(out, RootPair{Root: r, Other: cmplx.Conj(r), OmegaRad: w0, F0Hz: w0 / (2 * math.Pi), Q: q, Zeta: zeta})
 	}
 	return out
 }

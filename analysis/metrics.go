@@ -4,8 +4,10 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"strconv"
+	"sort"
 	"strings"
+
+	"nodal/netlist"
 )
 
 // MetricKind is what a Metric measures.
@@ -24,18 +26,31 @@ const (
 	MetricPeak
 	// MetricFPeak is "fpeak": where the peak occurs, Hz (0 at DC).
 	MetricFPeak
-	// MetricF0 is "f0": the natural frequency of the dominant complex pole
-	// pair, Hz.
+	// MetricF0 is "f0": the natural frequency ω0/(2π) of the dominant
+	// second-order section (see DominantPair), Hz.
 	MetricF0
-	// MetricQ is "q": the quality factor of the dominant complex pole pair.
+	// MetricQ is "q": the quality factor of the dominant second-order
+	// section (see DominantPair); at most 0.5 when its poles are real.
 	MetricQ
 	// MetricDC is "dc": the DC gain, dB (−Inf for a zero at DC, +Inf for
 	// a pole at DC).
 	MetricDC
 )
 
-// metricNames spells every metric; FREQ stands for a frequency.
-var metricNames = []string{"gain@FREQ", "phase@FREQ", "f3db", "peak", "fpeak", "f0", "q", "dc"}
+// metricNames spells every metric as netlist.MetricNames does, with the
+// frequency placeholder written FREQ (gain@FREQ). Read-only.
+var metricNames = metricNameList()
+
+// metricNameList returns netlist.MetricNames with "@F" spelled "@FREQ".
+func metricNameList() []string {
+	names := netlist.MetricNames()
+	for i, n := range names {
+		if base, ok := strings.CutSuffix(n, "@F"); ok {
+			names[i] = base + "@FREQ"
+		}
+	}
+	return names
+}
 
 // Metric is a parsed requirement or tolerance metric, as spelled in a
 // `require` statement or on the command line.
@@ -65,33 +80,27 @@ func (m Metric) Unit() string {
 }
 
 // ErrNoPolePair means the q or f0 metric was asked of a transfer function
-// without complex poles.
-var ErrNoPolePair = errors.New("no complex pole pair")
+// without a second-order section: no complex pole pair and fewer than two
+// real poles of one sign (see DominantPair).
+var ErrNoPolePair = errors.New("no complex pole pair nor two real poles of one sign")
 
-// ParseMetric parses a metric name: gain@FREQ, phase@FREQ, f3db, peak,
-// fpeak, f0, q or dc (exact spelling). FREQ is a positive number with an
-// optional SI prefix (f p n u µ m k M G T) and an optional "Hz", e.g.
-// 1kHz, 20k, 500Hz, 2.2MHz. Unknown names give an error listing the valid
-// ones.
+// ParseMetric parses a metric as spelled in a `require` statement:
+// gain@FREQ, phase@FREQ, f3db, peak, fpeak, f0, q or dc, with FREQ a
+// positive frequency value in the file format's syntax (1kHz, 20k, 1k5,
+// 500Hz, ...). The spelling is the one netlist.ParseMetric accepts, so a
+// metric that parses in a file also parses here. Errors list the valid
+// metrics.
 func ParseMetric(name string) (Metric, error) {
-	m := Metric{Name: name}
-	if at := strings.IndexByte(name, '@'); at >= 0 {
-		switch name[:at] {
-		case "gain":
-			m.Kind = MetricGainAt
-		case "phase":
-			m.Kind = MetricPhaseAt
-		default:
-			return Metric{}, unknownMetric(name)
-		}
-		f, err := parseFreqHz(name[at+1:])
-		if err != nil {
-			return Metric{}, fmt.Errorf("metric %q: %w", name, err)
-		}
-		m.FreqHz = f
-		return m, nil
+	base, freqHz, err := netlist.ParseMetric(name)
+	if err != nil {
+		return Metric{}, fmt.Errorf("%w; valid metrics are %s", err, strings.Join(metricNames, ", "))
 	}
-	switch name {
+	m := Metric{Name: name, FreqHz: freqHz}
+	switch base {
+	case "gain":
+		m.Kind = MetricGainAt
+	case "phase":
+		m.Kind = MetricPhaseAt
 	case "f3db":
 		m.Kind = MetricF3dB
 	case "peak":
@@ -105,59 +114,54 @@ func ParseMetric(name string) (Metric, error) {
 	case "dc":
 		m.Kind = MetricDC
 	default:
-		return Metric{}, unknownMetric(name)
+		return Metric{}, fmt.Errorf("metric %q is not evaluated by this version; valid metrics are %s", name, strings.Join(metricNames, ", "))
+	}
+	if hasFreq := m.Kind == MetricGainAt || m.Kind == MetricPhaseAt; hasFreq != (freqHz > 0) || math.IsInf(freqHz, 0) {
+		return Metric{}, fmt.Errorf("metric %q: frequency %g Hz out of range", name, freqHz)
 	}
 	return m, nil
 }
 
-func unknownMetric(name string) error {
-	return fmt.Errorf("unknown metric %q: valid metrics are %s", name, strings.Join(metricNames, ", "))
-}
-
-// siPrefixes maps an SI prefix to its factor.
-var siPrefixes = map[string]float64{
-	"f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3,
-	"k": 1e3, "M": 1e6, "G": 1e9, "T": 1e12,
-}
-
-// parseFreqHz parses a positive frequency with optional SI prefix and
-// optional "Hz" suffix.
-func parseFreqHz(s string) (float64, error) {
-	body := strings.TrimSuffix(s, "Hz")
-	mult := 1.0
-	for p, f := range siPrefixes {
-		if strings.HasSuffix(body, p) {
-			body, mult = strings.TrimSuffix(body, p), f
-			break
-		}
-	}
-	v, err := strconv.ParseFloat(body, 64)
-	if err != nil || body == "" || strings.ContainsAny(body, "xXpP_") || strings.EqualFold(body, "inf") || strings.EqualFold(body, "nan") {
-		return 0, fmt.Errorf("frequency %q: want a number with optional SI prefix and Hz, e.g. 1kHz", s)
-	}
-	v *= mult
-	if !(v > 0) || math.IsInf(v, 0) {
-		return 0, fmt.Errorf("frequency %q must be positive and finite", s)
-	}
-	return v, nil
-}
-
-// DominantPair returns the dominant complex pole pair: the one closest to
-// the jω axis (smallest |Re p|, i.e. the slowest-decaying oscillation),
-// the lower f0 on a tie. It returns ErrNoPolePair when there is none.
+// DominantPair returns the dominant second-order section of the poles,
+// written s² + (ω0/Q)·s + ω0² = (s − p1)(s − p2), so that ω0 = √(p1·p2)
+// and Q = √(p1·p2)/(−(p1 + p2)) (common practice). The pair is
+//
+//   - the complex pair closest to the jω axis (smallest |Re p|, i.e. the
+//     slowest-decaying oscillation; the lower f0 on a tie) if there is one;
+//   - otherwise the two real poles of smallest magnitude (Root the smaller,
+//     Other the larger).
+//
+// For a complex pair this is ω0 = |p| and Q = |p|/(−2·Re p). For two real
+// poles of the same sign Q ≤ 0.5 (equality for a double pole), so Q and f0
+// stay defined, and continuous, when rounding or a tolerance corner moves
+// a nearly critically damped pair onto the real axis. It returns an error
+// wrapping ErrNoPolePair when there are fewer than two poles, or when the
+// only candidates are real poles of opposite sign or a double pole at
+// s = 0 (no ω0 or Q exists).
 func (h *TransferFunction) DominantPair() (RootPair, error) {
-	pairs := h.PolePairs()
-	if len(pairs) == 0 {
+	if pairs := h.PolePairs(); len(pairs) > 0 {
+		best := pairs[0]
+		for _, p := range pairs[1:] {
+			d, db := math.Abs(real(p.Root)), math.Abs(real(best.Root))
+			if d < db || (d == db && p.OmegaRad < best.OmegaRad) {
+				best = p
+			}
+		}
+		return best, nil
+	}
+	rp := h.RealPoles()
+	if len(rp) < 2 {
 		return RootPair{}, ErrNoPolePair
 	}
-	best := pairs[0]
-	for _, p := range pairs[1:] {
-		d, db := math.Abs(real(p.Root)), math.Abs(real(best.Root))
-		if d < db || (d == db && p.OmegaRad < best.OmegaRad) {
-			best = p
-		}
+	sort.SliceStable(rp, func(a, b int) bool { return rp[a].OmegaRad < rp[b].OmegaRad })
+	p1, p2 := rp[0].Root, rp[1].Root
+	prod, sum := p1*p2, p1+p2
+	if prod < 0 || (prod == 0 && sum == 0) {
+		return RootPair{}, fmt.Errorf("real poles %.4g and %.4g rad/s: %w", p1, p2, ErrNoPolePair)
 	}
-	return best, nil
+	w0 := math.Sqrt(prod)
+	q := w0 / -sum
+	return RootPair{Root: complex(p1, 0), Other: complex(p2, 0), OmegaRad: w0, F0Hz: w0 / (2 * math.Pi), Q: q, Zeta: -sum / (2 * w0)}, nil
 }
 
 // Eval returns the metric's value for tf in the metric's unit (Unit).

@@ -1,10 +1,14 @@
 package analysis
 
 import (
+	"errors"
 	"math"
+	"math/cmplx"
 	"strconv"
 	"strings"
 	"testing"
+
+	"nodal/netlist"
 )
 
 func TestParseMetric(t *testing.T) {
@@ -21,6 +25,10 @@ func TestParseMetric(t *testing.T) {
 		{"gain@100mHz", MetricGainAt, 0.1, "dB"},
 		{"phase@1kHz", MetricPhaseAt, 1e3, "deg"},
 		{"phase@50", MetricPhaseAt, 50, "deg"},
+		// 1k5 is 1.5 kHz in the file format (netlist.ParseValue); a
+		// requirement that parses in a file must parse here too.
+		{"gain@1k5", MetricGainAt, 1.5e3, "dB"},
+		{"phase@4u7Hz", MetricPhaseAt, 4.7e-6, "deg"},
 		{"f3db", MetricF3dB, 0, "Hz"},
 		{"peak", MetricPeak, 0, "dB"},
 		{"fpeak", MetricFPeak, 0, "Hz"},
@@ -38,7 +46,7 @@ func TestParseMetric(t *testing.T) {
 			t.Errorf("%s: got %+v unit %q", c.in, m, m.Unit())
 		}
 	}
-	for _, bad := range []string{"", "gain", "gain@", "gain@-1k", "gain@0", "gain@1kk", "gain@Hz", "F3DB", "Q", "band@1k", "gain@infHz", "gain@0x10", "phase@1 kHz"} {
+	for _, bad := range []string{"", "gain", "gain@", "gain@-1k", "gain@0", "gain@1kk", "gain@Hz", "F3DB", "Q", "band@1k", "gain@infHz", "gain@0x10", "f3db@1k", "gain@1e400"} {
 		_, err := ParseMetric(bad)
 		if err == nil {
 			t.Errorf("%q: no error", bad)
@@ -50,12 +58,19 @@ func TestParseMetric(t *testing.T) {
 	}
 }
 
+// FuzzParseMetric: analysis.ParseMetric accepts exactly what the file
+// format's netlist.ParseMetric accepts, with the same frequency, and keeps
+// the Metric invariant.
 func FuzzParseMetric(f *testing.F) {
-	for _, s := range []string{"gain@1kHz", "phase@20k", "f3db", "q", "gain@1e3", "gain@µHz", "dc@"} {
+	for _, s := range []string{"gain@1kHz", "phase@20k", "f3db", "q", "gain@1e3", "gain@µHz", "dc@", "gain@1k5"} {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, s string) {
 		m, err := ParseMetric(s)
+		_, fn, errN := netlist.ParseMetric(s)
+		if (err == nil) != (errN == nil) || (err == nil && m.FreqHz != fn) {
+			t.Fatalf("%q: analysis %+v %v, netlist %g %v", s, m, err, fn, errN)
+		}
 		if err != nil {
 			return
 		}
@@ -126,5 +141,68 @@ func TestDominantPair(t *testing.T) {
 	p, err := tf.DominantPair()
 	if err != nil || math.Abs(p.Q-1.9319) > 1e-9 {
 		t.Errorf("dominant %+v %v, want Q 1.9319", p, err)
+	}
+}
+
+// TestDominantPairRealPoles: a unity-gain Sallen-Key low-pass with
+// Q = √(R1R2C1C2)/(C2(R1+R2)) < 0.5 has two real poles; q and f0 are those
+// of its section s² + (ω0/Q)s + ω0², ω0 = 1/√(R1R2C1C2) (Sedra & Smith,
+// from memory), not undefined. For a complex pair the same formula holds,
+// so the last case (Q above 0.5) checks the complex branch.
+func TestDominantPairRealPoles(t *testing.T) {
+	const r1, r2 = 10e3, 22e3
+	for _, tc := range []struct{ c1, c2 float64 }{
+		{4.7e-9, 10e-9},    // Q 0.338: well separated real poles
+		{9.69e-9, 10.5e-9}, // Q 0.4803
+		{1e-9, 47e-9},      // Q 0.0687
+		{40e-9, 10e-9},     // Q 0.932: complex pair
+	} {
+		sys := newStamper().V("in", "0").R("in", "a", r1).R("a", "b", r2).
+			C("a", "out", tc.c1).C("b", "0", tc.c2).Amp("b", "out", "out", math.Inf(1)).Out("out", "0").System()
+		tf := mustExtract(t, sys)
+		w0 := 1 / math.Sqrt(r1*r2*tc.c1*tc.c2)
+		q := math.Sqrt(r1*r2*tc.c1*tc.c2) / (tc.c2 * (r1 + r2))
+		for name, want := range map[string]float64{"q": q, "f0": w0 / (2 * math.Pi)} {
+			m, err := ParseMetric(name)
+			if err != nil {
+				t.Fatal(err)
+			}
+			got, err := m.Eval(tf)
+			if err != nil || math.Abs(got-want) > 1e-9*want {
+				t.Errorf("C1 %g C2 %g: %s = %.12g (%v), want %.12g", tc.c1, tc.c2, name, got, err, want)
+			}
+		}
+		p, err := tf.DominantPair()
+		if err != nil {
+			t.Fatal(err)
+		}
+		if q < 0.5 && (imag(p.Root) != 0 || imag(p.Other) != 0 || cmplx.Abs(p.Root) > cmplx.Abs(p.Other) || p.Q > 0.5) {
+			t.Errorf("Q %g: pair %+v, want two real poles, smaller first, Q ≤ 0.5", q, p)
+		}
+		if math.Abs(p.Zeta-1/(2*q)) > 1e-9/q {
+			t.Errorf("Q %g: ζ %g, want %g", q, p.Zeta, 1/(2*q))
+		}
+	}
+}
+
+// TestDominantPairRule: with no complex pair the two real poles of
+// smallest magnitude are taken, −1 and −10 here (ω0 = √10, Q = √10/11);
+// one real pole, real poles of opposite sign or a double pole at s = 0
+// have no section.
+func TestDominantPairRule(t *testing.T) {
+	tf := newTransferFunction(1, nil, []complex128{-1, -10, -100}, nil)
+	p, err := tf.DominantPair()
+	if err != nil || p.Root != -1 || p.Other != -10 || math.Abs(p.OmegaRad-math.Sqrt(10)) > 1e-15 || math.Abs(p.Q-math.Sqrt(10)/11) > 1e-15 {
+		t.Errorf("got %+v, %v", p, err)
+	}
+	for _, poles := range [][]complex128{{-1}, {-1, 2}, {0, 0}} {
+		if _, err := newTransferFunction(1, nil, poles, nil).DominantPair(); !errors.Is(err, ErrNoPolePair) {
+			t.Errorf("poles %v: error %v, want ErrNoPolePair", poles, err)
+		}
+	}
+	// A complex pair wins over closer real poles.
+	tf = newTransferFunction(1, nil, []complex128{-1, -2, complex(-50, 100), complex(-50, -100)}, nil)
+	if p, err := tf.DominantPair(); err != nil || p.Root != complex(-50, 100) || p.Other != complex(-50, -100) {
+		t.Errorf("got %+v, %v; want the complex pair", p, err)
 	}
 }

@@ -49,9 +49,10 @@ const (
 	aRankTol = 1e-13
 	// maxShiftCond: largest accepted 1-norm condition number of A₂ + σE₂.
 	maxShiftCond = 1e13
-	// clusterTol: roots closer than clusterTol·|λ| are one multiple root
-	// (a perturbed Jordan block of size k splits by ε^{1/k}); they are
-	// replaced by their mean, which is accurate to O(ε).
+	// clusterTol: two roots closer than clusterTol·|λ| are one double
+	// root; larger groups get the wider multipleRootTol(m) (a perturbed
+	// Jordan block of size m splits by ε^{1/m}). A group is replaced by its
+	// mean, which is accurate to O(ε).
 	clusterTol = 1e-5
 	// clusterAbs: in scaled units (multiples of the characteristic
 	// frequency), roots closer than clusterAbs are one multiple root too;
@@ -352,7 +353,7 @@ func (f *complexLU) logDerivative(e *mat.Dense, cols []int) complex128 {
 }
 
 // polishRoots improves roots of det(a + s·e) in place by deflated Newton
-// steps. Roots in a cluster (see clusterTol) are replaced by the cluster
+// steps. Roots in a cluster (see mergeClusters) are replaced by the cluster
 // mean and not polished; a real root stays real; for a conjugate pair only
 // the member with positive imaginary part is iterated and mirrored.
 func polishRoots(a, e *mat.Dense, roots []complex128) {
@@ -417,57 +418,90 @@ func polishRoots(a, e *mat.Dense, roots []complex128) {
 }
 
 // inCluster reports whether another root lies within clusterTol of roots[i]
-// (its own conjugate excluded).
+// (its own conjugate excluded). After mergeClusters the members of a
+// cluster are equal, so this finds them.
 func inCluster(roots []complex128, i int) bool {
 	for j, r := range roots {
 		if j == i || (imag(roots[i]) != 0 && r == cmplx.Conj(roots[i])) {
 			continue
 		}
-		if near(r, roots[i]) {
+		if near(r, roots[i], clusterTol) {
 			return true
 		}
 	}
 	return false
 }
 
-// near reports whether two roots belong to one cluster (clusterTol,
-// clusterAbs).
-func near(a, b complex128) bool {
-	return cmplx.Abs(a-b) <= math.Max(clusterTol*math.Max(cmplx.Abs(a), cmplx.Abs(b)), clusterAbs)
+// near reports whether two roots are within tol relative (or clusterAbs
+// absolute) of each other.
+func near(a, b complex128, tol float64) bool {
+	return cmplx.Abs(a-b) <= math.Max(tol*math.Max(cmplx.Abs(a), cmplx.Abs(b)), clusterAbs)
 }
 
-// mergeClusters replaces each group of roots within clusterTol of each
-// other by the group mean (made real when the group is closed under
-// conjugation and its mean is real to rounding).
+// multipleRootTol is the relative spread (diameter over magnitude) up to
+// which m roots are taken as one m-fold root: a relative perturbation δ of
+// the pencil splits an m-fold root by about δ^(1/m), so the bound is
+// (1e6·ε)^(1/m), allowing a condition of 1e6 (a triple pole of a
+// seven-unknown circuit was seen split by 1.5e-4, i.e. δ ≈ 1.5e4·ε), and
+// never below clusterTol: 1.5e-5 for m = 2, 6e-4 for m = 3, 3.9e-3 for
+// m = 4. Distinct roots closer than this cannot be told from a multiple
+// root in float64.
+func multipleRootTol(m int) float64 {
+	return math.Max(clusterTol, math.Pow(1e6*0x1p-52, 1/float64(m)))
+}
+
+// mergeClusters replaces each group of roots that is one multiple root
+// split by rounding by the group mean (made real when its imaginary part
+// is within clusterTol of its modulus, as for a real m-fold root split
+// into a real root and conjugate pairs). A group is a connected set under
+// near with the tolerance of its size: candidates are linked with
+// multipleRootTol(len(roots)); a group of k roots whose diameter exceeds
+// multipleRootTol(k) is split again with multipleRootTol(k−1), and so on
+// down to clusterTol for pairs.
 func mergeClusters(roots []complex128) {
-	n := len(roots)
-	group := make([]int, n)
-	for i := range group {
-		group[i] = -1
+	all := make([]int, len(roots))
+	for i := range all {
+		all[i] = i
 	}
-	for i := 0; i < n; i++ {
-		if group[i] >= 0 {
+	mergeGroups(roots, all, len(roots))
+}
+
+// mergeGroups links the roots idx with multipleRootTol(m) and merges or
+// re-splits each linked group (see mergeClusters).
+func mergeGroups(roots []complex128, idx []int, m int) {
+	if m < 2 {
+		return
+	}
+	tol := multipleRootTol(m)
+	done := make([]bool, len(idx))
+	for a := range idx {
+		if done[a] {
 			continue
 		}
-		group[i] = i
-		members := []int{i}
+		done[a] = true
+		members := []int{idx[a]}
 		for k := 0; k < len(members); k++ {
 			ri := roots[members[k]]
-			for j := 0; j < n; j++ {
-				if group[j] < 0 && near(roots[j], ri) {
-					group[j] = i
-					members = append(members, j)
+			for b := range idx {
+				if !done[b] && near(roots[idx[b]], ri, tol) {
+					done[b] = true
+					members = append(members, idx[b])
 				}
 			}
 		}
-		if len(members) < 2 {
+		k := len(members)
+		if k < 2 {
+			continue
+		}
+		if k > m || !withinDiameter(roots, members, multipleRootTol(k)) {
+			mergeGroups(roots, members, min(k, m)-1)
 			continue
 		}
 		var sum complex128
 		for _, j := range members {
 			sum += roots[j]
 		}
-		mean := sum / complex(float64(len(members)), 0)
+		mean := sum / complex(float64(k), 0)
 		if math.Abs(imag(mean)) <= clusterTol*cmplx.Abs(mean) {
 			mean = complex(real(mean), 0)
 		}
@@ -475,4 +509,17 @@ func mergeClusters(roots []complex128) {
 			roots[j] = mean
 		}
 	}
+}
+
+// withinDiameter reports whether every two of the roots idx are near
+// with tolerance tol.
+func withinDiameter(roots []complex128, idx []int, tol float64) bool {
+	for a, i := range idx {
+		for _, j := range idx[a+1:] {
+			if !near(roots[i], roots[j], tol) {
+				return false
+			}
+		}
+	}
+	return true
 }

@@ -59,7 +59,7 @@ func TestSnap(t *testing.T) {
 	text := string(res.Source)
 	for _, line := range []string{
 		"let R  = 8.2k        # 7.958 kΩ",
-		"C1:  capacitor (a, out) 15nF\n",
+		"C1:  capacitor (a, out) 1.5*C0\n",
 		"C2:  capacitor (b, gnd) 6.8nF\n",
 		"RL:  resistor (out, gnd) 9.1k fixed   # ADC input load",
 		"require f3db within 1.9kHz..2.1kHz",
@@ -74,7 +74,7 @@ func TestSnap(t *testing.T) {
 	notes := strings.Join(res.Notes, "\n") + "\n"
 	for _, want := range []string{
 		"let R rewritten to 8.2k for R1, R2\n",
-		"C1: value 2*C0/sqrt(2) replaced by 15nF; it no longer follows the shared tolerance of C0",
+		"C1: value 2*C0/sqrt(2) replaced by 1.5*C0 (= 15nF), still one draw with C0",
 	} {
 		if !strings.Contains(notes, want) {
 			t.Errorf("notes lack %q:\n%s", want, notes)

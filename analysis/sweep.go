@@ -31,7 +31,7 @@ type Response struct {
 	PhaseDeg    []float64
 	GroupDelayS []float64
 	Input       string // the input source name, or "inject:NODE"
-	Output      string // "NODE", "NODE,REF" or "i(PART)"
+	Output      string // "NODE", "NODE-REF" (v(NODE) − v(REF)) or "i(PART)"
 }
 
 // Sweep evaluates sys at every frequency of freqsHz (Hz, each ≥ 0) on
@@ -163,8 +163,9 @@ func InputLabel(in mna.Input) string {
 	return in.Source
 }
 
-// OutputLabel names an output: "NODE", "NODE,REF" for a node pair, or
-// "i(PART)" for a part current.
+// OutputLabel names an output: "NODE", "NODE-REF" for a node pair
+// (v(NODE) − v(REF); node names hold no "-"), or "i(PART)" for a part
+// current.
 func OutputLabel(out mna.Output) string {
 	switch {
 	case out.Kind == mna.PartCurrent:
@@ -172,5 +173,5 @@ func OutputLabel(out mna.Output) string {
 	case out.Ref == "" || out.Ref == "gnd" || out.Ref == "0":
 		return out.Node
 	}
-	return out.Node + "," + out.Ref
+	return out.Node + "-" + out.Ref
 }

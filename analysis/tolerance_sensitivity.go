@@ -41,6 +41,9 @@ type MetricSensitivity struct {
 	Unit    string
 	Nominal float64
 	Items   []ItemSensitivity
+	// Undefined says why the metric has no normalised sensitivity (a ratio
+	// metric that is 0 at nominal); Items is then empty.
+	Undefined string
 }
 
 // SensitivityResult holds one MetricSensitivity per metric, in the order of
@@ -53,7 +56,7 @@ type SensitivityResult struct {
 // toleranced item of c by central finite differences on Circuit.Vary: for
 // item i, M± = M(x_i·(1 ± h)) with every other item nominal, and
 // ∂M/∂(x/x₀) ≈ (M+ − M−)/(2h). It is normalised by M(nominal) for ratio
-// metrics (an error when that is 0) and divided by 100 for dB and degree
+// metrics (undefined, with the reason in Undefined, when that is 0) and divided by 100 for dB and degree
 // metrics (see MetricSensitivity). Any failed evaluation is an error.
 func Sensitivity(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt SensitivityOptions) (*SensitivityResult, error) {
 	names := ev.Metrics()
@@ -71,7 +74,9 @@ func Sensitivity(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt Sens
 		if metricPerPercent(name) {
 			ms.Unit = metricUnit(name) + "/%"
 		} else if nominal[j] == 0 {
-			return nil, fmt.Errorf("sensitivity: %s is 0 at nominal: no normalised sensitivity", name)
+			ms.Undefined = fmt.Sprintf("%s is 0 at nominal: no normalised sensitivity", name)
+			res.Metrics = append(res.Metrics, ms)
+			continue
 		}
 		for i, v := range c.Variations {
 			s := d[i][j]

@@ -8,6 +8,7 @@ import (
 	"sort"
 	"strings"
 
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"nodal/mna"
@@ -24,7 +25,7 @@ const (
 	// zeroRootTol: a root smaller than zeroRootTol times the characteristic
 	// frequency is taken to be exactly s = 0.
 	zeroRootTol = 1e-10
-	// nullGainTol: H(σ) below nullGainTol·Σ|Lᵢxᵢ| at two shifts means H ≡ 0.
+	// nullGainTol: H(σ) below nullGainTol·‖L‖₂‖x‖₂ at two shifts means H ≡ 0.
 	nullGainTol = 1e-12
 )
 
@@ -47,7 +48,9 @@ var shiftFactors = [...]float64{1, 1.7182818, 0.5772157, 3.1415927, 0.3183099, 7
 // scaling and power-of-two balancing of the pencil. A pole and a zero
 // equal within 1e-9 relative are an exact cancellation (an uncontrollable
 // or unobservable mode): both are removed and the pole is listed in
-// Cancelled. The constant comes from one evaluation of H at the shift.
+// Cancelled. The constant comes from one complex evaluation of H at the
+// point, among a few on circles around the characteristic frequency,
+// relatively farthest from every pole, zero and cancelled mode.
 //
 // Poles and zeros are ordered by increasing magnitude, a conjugate pair
 // with the positive imaginary part first; roots within 1e-10 of the
@@ -275,8 +278,10 @@ func pow2Inv(m float64) float64 {
 	return math.Ldexp(1, -e+1)
 }
 
-// evalAtShift returns H(σ̂·ωc) and the magnitude scale Σ|L̂ᵢxᵢ| of its
-// terms, or ok=false when G + σC is ill conditioned.
+// evalAtShift returns H(σ̂·ωc) and the magnitude scale ‖L̂‖₂·‖x‖₂ that
+// bounds it (Cauchy–Schwarz), or ok=false when G + σC is ill conditioned.
+// An |H| that is a rounding-level fraction of the scale is no evidence of
+// a non-zero H: for a single-node output Σ|L̂ᵢxᵢ| would equal |H| itself.
 func (s *scaledSystem) evalAtShift(sigma float64) (h, scale float64, ok bool) {
 	x := mat.NewDense(s.n, s.n, nil)
 	x.Scale(sigma, s.c)
@@ -292,9 +297,57 @@ func (s *scaledSystem) evalAtShift(sigma float64) (h, scale float64, ok bool) {
 	}
 	for i := 0; i < s.n; i++ {
 		h += s.l[i] * v.AtVec(i)
-		scale += math.Abs(s.l[i] * v.AtVec(i))
 	}
-	return h, scale, true
+	return h, floats.Norm(s.l, 2) * mat.Norm(&v, 2), true
+}
+
+// gainPointRadii and gainPointAngles span the candidate points ŝ = r·e^{jθ}
+// (scaled units) at which the gain is evaluated once the roots are known.
+var (
+	gainPointRadii  = [...]float64{1, 0.37, 2.7, 0.1, 10}
+	gainPointAngles = [...]float64{0, 0.3, 0.7, 1.1, 1.5, 1.9, 2.3, 2.7, math.Pi}
+)
+
+// gainPoint returns the candidate point ŝ that maximises min |ŝ − r|/|ŝ|
+// over every root r given, i.e. the one relatively farthest from all
+// poles, zeros and cancelled modes, where H(ŝ) is accurate and dividing by
+// Π(ŝ − ẑ) amplifies no rounding.
+func gainPoint(roots ...[]complex128) complex128 {
+	best, bestD := complex(1, 0), -1.0
+	for _, rad := range gainPointRadii {
+		for _, th := range gainPointAngles {
+			s := cmplx.Rect(rad, th)
+			d := math.Inf(1)
+			for _, l := range roots {
+				for _, r := range l {
+					d = math.Min(d, cmplx.Abs(s-r)/rad)
+				}
+			}
+			if d > bestD {
+				best, bestD = s, d
+			}
+		}
+	}
+	return best
+}
+
+// evalComplex returns H(ŝ) = L̂(Ĝ + ŝĈ)⁻¹B̂ and ok=false if the matrix is
+// exactly singular.
+func (s *scaledSystem) evalComplex(sv complex128) (complex128, bool) {
+	var f complexLU
+	if f.factor(s.g, s.c, sv) {
+		return 0, false
+	}
+	b := make([]complex128, s.n)
+	for i, v := range s.b {
+		b[i] = complex(v, 0)
+	}
+	f.solve(b, make([]complex128, s.n))
+	var h complex128
+	for i, l := range s.l {
+		h += complex(l, 0) * b[i]
+	}
+	return h, true
 }
 
 // extract runs the whole computation in scaled units.
@@ -348,13 +401,19 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 	snapZero(zeros)
 	poles, zeros, cancelled := cancelPairs(poles, zeros)
 
-	// Gain from H(σ) = K̂·Π(σ−ẑ)/Π(σ−p̂) in scaled units.
-	k := complex(hSig, 0)
+	// Gain K̂ = H(ŝ)·Π(ŝ−p̂)/Π(ŝ−ẑ) at the point farthest from every root
+	// (not at σ, which may sit on a zero: H(σ) is then rounding noise).
+	sg := gainPoint(poles, zeros, cancelled)
+	hs, ok := s.evalComplex(sg)
+	if !ok {
+		hs, sg = complex(hSig, 0), complex(sigma, 0)
+	}
+	k := hs
 	for _, p := range poles {
-		k *= complex(sigma, 0) - p
+		k *= sg - p
 	}
 	for _, z := range zeros {
-		k /= complex(sigma, 0) - z
+		k /= sg - z
 	}
 	gain := real(k) * math.Pow(s.wc, float64(len(poles)-len(zeros)))
 

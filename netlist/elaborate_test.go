@@ -21,13 +21,13 @@ C1:  capacitor (a, out) 2*C
 C2:  capacitor (b, gnd) C
 U1:  opamp (b, out, out) a0=200k gbw=1MHz rout=50
 U2:  opamp (b, n1, n1)
-E1:  vcvs (e, gnd) -2^2 sense=(a, b)
-G1:  vccs (n1, 0) 1mS sense=(in, 0)
-H1:  ccvs (e, n1) 1kΩ sense=R1
-F1:  cccs (e, gnd) k sense=Vin
+Gain1: vcvs (e, gnd) -2^2 sense=(a, b)
+Gm1: vccs (n1, 0) 1mS sense=(in, 0)
+Tz1: ccvs (e, n1) 1kΩ sense=R1
+Mirror1: cccs (e, gnd) k sense=Vin
 L1:  inductor (e, gnd) 1mH
 L2:  inductor (n1, gnd) 4m7 +-10%
-K1:  coupling (L1, L2) -0.98
+Link1: coupling (L1, L2) -0.98
 R3:  resistor (e, n1) 2R2
 R4:  resistor (e, n1) max(1k, sqrt(4e6)) + abs(-1) - 1
 require gain@1kHz within -0.5dB..0.5dB
@@ -61,10 +61,10 @@ func TestStatementForms(t *testing.T) {
 		{"Vin", VSource, []string{"in", "gnd"}, 1}, {"I1", ISource, []string{"gnd", "n1"}, 2e-3},
 		{"R1", Resistor, []string{"in", "a"}, R}, {"R2", Resistor, []string{"a", "b"}, R},
 		{"C1", Capacitor, []string{"a", "out"}, 20e-9}, {"C2", Capacitor, []string{"b", "gnd"}, 10e-9},
-		{"U1", OpAmp, []string{"b", "out", "out"}, 0}, {"E1", VCVS, []string{"e", "gnd"}, -4},
-		{"G1", VCCS, []string{"n1", "gnd"}, 1e-3}, {"H1", CCVS, []string{"e", "n1"}, 1000},
-		{"F1", CCCS, []string{"e", "gnd"}, 3}, {"L1", Inductor, []string{"e", "gnd"}, 1e-3},
-		{"L2", Inductor, []string{"n1", "gnd"}, 4.7e-3}, {"K1", Coupling, nil, -0.98},
+		{"U1", OpAmp, []string{"b", "out", "out"}, 0}, {"Gain1", VCVS, []string{"e", "gnd"}, -4},
+		{"Gm1", VCCS, []string{"n1", "gnd"}, 1e-3}, {"Tz1", CCVS, []string{"e", "n1"}, 1000},
+		{"Mirror1", CCCS, []string{"e", "gnd"}, 3}, {"L1", Inductor, []string{"e", "gnd"}, 1e-3},
+		{"L2", Inductor, []string{"n1", "gnd"}, 4.7e-3}, {"Link1", Coupling, nil, -0.98},
 		{"R3", Resistor, []string{"e", "n1"}, 2.2}, {"R4", Resistor, []string{"e", "n1"}, 2000},
 	} {
 		p := part(tc.name)
@@ -81,11 +81,11 @@ func TestStatementForms(t *testing.T) {
 	if p := part("U2"); p.A0 != 0 || p.GBWHz != 0 || p.Rout != 0 {
 		t.Errorf("U2 not ideal: %+v", p)
 	}
-	if p := part("E1"); p.Sense != [2]string{"a", "b"} {
-		t.Errorf("E1 sense %v", p.Sense)
+	if p := part("Gain1"); p.Sense != [2]string{"a", "b"} {
+		t.Errorf("Gain1 sense %v", p.Sense)
 	}
-	if part("H1").Control != "R1" || part("F1").Control != "Vin" || part("K1").Coupled != [2]string{"L1", "L2"} {
-		t.Errorf("controls %q %q %v", part("H1").Control, part("F1").Control, part("K1").Coupled)
+	if part("Tz1").Control != "R1" || part("Mirror1").Control != "Vin" || part("Link1").Coupled != [2]string{"L1", "L2"} {
+		t.Errorf("controls %q %q %v", part("Tz1").Control, part("Mirror1").Control, part("Link1").Coupled)
 	}
 	if p := part("R1"); !p.Fixed || p.Tol != (Tolerance{0.01, Uniform}) || string(c.sourceOf(p.ValueSpan)) != "R" {
 		t.Errorf("R1 %+v", p)
@@ -147,8 +147,8 @@ block twice (i, o) Rt=1k
   B: lowpass2 (m, o) R=2*Rt C=1n
 end
 V1: vsource (in, 0) 1
-X1: lowpass2 (in, out) R=4.7k
-X2: twice (out, out2) Rt=2k fixed
+LP1: lowpass2 (in, out) R=4.7k
+Pair1: twice (out, out2) Rt=2k fixed
 `
 
 func TestBlocks(t *testing.T) {
@@ -162,14 +162,14 @@ func TestBlocks(t *testing.T) {
 		value float64
 		fixed bool
 	}{
-		{"X1.R1", []string{"in", "X1.a"}, 4700, false},
-		{"X1.R2", []string{"X1.a", "X1.b"}, 9400, false},
-		{"X1.C1", []string{"X1.a", "out"}, 20e-9, false},
-		{"X1.C2", []string{"X1.b", "gnd"}, 10e-9, false},
-		{"X2.A.R1", []string{"out", "X2.A.a"}, 2000, true},
-		{"X2.B.R1", []string{"X2.m", "X2.B.a"}, 4000, true},
-		{"X2.B.C2", []string{"X2.B.b", "gnd"}, 1e-9, true},
-		{"X2.B.U1", []string{"X2.B.b", "out2", "out2"}, 0, true},
+		{"LP1.R1", []string{"in", "LP1.a"}, 4700, false},
+		{"LP1.R2", []string{"LP1.a", "LP1.b"}, 9400, false},
+		{"LP1.C1", []string{"LP1.a", "out"}, 20e-9, false},
+		{"LP1.C2", []string{"LP1.b", "gnd"}, 10e-9, false},
+		{"Pair1.A.R1", []string{"out", "Pair1.A.a"}, 2000, true},
+		{"Pair1.B.R1", []string{"Pair1.m", "Pair1.B.a"}, 4000, true},
+		{"Pair1.B.C2", []string{"Pair1.B.b", "gnd"}, 1e-9, true},
+		{"Pair1.B.U1", []string{"Pair1.B.b", "out2", "out2"}, 0, true},
 	} {
 		p, ok := c.Part(tc.name)
 		if !ok {
@@ -184,7 +184,7 @@ func TestBlocks(t *testing.T) {
 	for _, v := range c.Variations {
 		vnames = append(vnames, v.Name)
 	}
-	if want := []string{"Cs", "X1.R1", "X2.A.R1", "X2.B.R1"}; !reflect.DeepEqual(vnames, want) {
+	if want := []string{"Cs", "LP1.R1", "Pair1.A.R1", "Pair1.B.R1"}; !reflect.DeepEqual(vnames, want) {
 		t.Errorf("variations %v; want %v", vnames, want)
 	}
 }
@@ -219,7 +219,7 @@ func TestVarySharedDraw(t *testing.T) {
 	for _, tc := range []struct {
 		name string
 		want float64
-	}{{"C1", 2 * C}, {"C2", C}, {"R1", R * 0.99}, {"R2", R}, {"E1", -4}, {"L1", 1e-3}} {
+	}{{"C1", 2 * C}, {"C2", C}, {"R1", R * 0.99}, {"R2", R}, {"Gain1", -4}, {"L1", 1e-3}} {
 		p, _ := d.Part(tc.name)
 		if !near(p.Value, tc.want) {
 			t.Errorf("%s = %v; want %v", tc.name, p.Value, tc.want)
@@ -232,12 +232,12 @@ func TestVarySharedDraw(t *testing.T) {
 	if p, _ := c.Part("C2"); p.Value != 10e-9 {
 		t.Errorf("Vary changed the nominal circuit: C2 = %v", p.Value)
 	}
-	// The derived gain F1 = k follows k's draw.
+	// The derived gain Mirror1 = k follows k's draw.
 	f = ones(len(c.Variations))
 	f[1] = 1.02
 	d, _ = c.Vary(f)
-	if p, _ := d.Part("F1"); !near(p.Value, 3*1.02) {
-		t.Errorf("F1 = %v; want %v", p.Value, 3*1.02)
+	if p, _ := d.Part("Mirror1"); !near(p.Value, 3*1.02) {
+		t.Errorf("Mirror1 = %v; want %v", p.Value, 3*1.02)
 	}
 	if _, err := c.Vary(f[:2]); err == nil {
 		t.Error("Vary accepted too few factors")
@@ -254,7 +254,7 @@ func TestVaryBlocks(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	f := []float64{1.1, 0.9, 1.01, 1} // Cs, X1.R1, X2.A.R1, X2.B.R1
+	f := []float64{1.1, 0.9, 1.01, 1} // Cs, LP1.R1, Pair1.A.R1, Pair1.B.R1
 	d, err := c.Vary(f)
 	if err != nil {
 		t.Fatal(err)
@@ -263,8 +263,8 @@ func TestVaryBlocks(t *testing.T) {
 		name string
 		want float64
 	}{
-		{"X1.C2", 11e-9}, {"X1.C1", 22e-9}, {"X1.R1", 4700 * 0.9}, {"X1.R2", 9400},
-		{"X2.A.C2", 11e-9}, {"X2.A.R1", 2020}, {"X2.B.C2", 1e-9}, {"X2.B.R1", 4000},
+		{"LP1.C2", 11e-9}, {"LP1.C1", 22e-9}, {"LP1.R1", 4700 * 0.9}, {"LP1.R2", 9400},
+		{"Pair1.A.C2", 11e-9}, {"Pair1.A.R1", 2020}, {"Pair1.B.C2", 1e-9}, {"Pair1.B.R1", 4000},
 	} {
 		p, _ := d.Part(tc.name)
 		if !near(p.Value, tc.want) {

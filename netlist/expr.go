@@ -294,25 +294,31 @@ type noScope struct{}
 func (noScope) lookup(string) (varInfo, bool) { return varInfo{}, false }
 func (noScope) visibleNames() []string        { return nil }
 
+// maxExprBytes bounds the text EvalExpr accepts.
+const maxExprBytes = 4096
+
 // EvalExpr parses and evaluates a constant expression ("2*pi*1kHz",
 // "sqrt(2)/2", "4k7") with no parameters, returning its SI value and the
 // unit it was written in ("" when plain or compound). Errors are an
 // ErrorList positioned in a pseudo-file named "expression".
 func EvalExpr(text string) (float64, string, error) {
-	f := &File{Name: "expression", Source: []byte(text)}
-	if len(text) > 4096 {
-		return 0, "", fmt.Errorf("expression longer than 4096 bytes")
+	f := newFile("expression", []byte(text))
+	if len(text) > maxExprBytes {
+		return 0, "", ErrorList{f.diagAt(0, SevError, fmt.Sprintf("expression longer than %d bytes", maxExprBytes), "")}
+	}
+	toks, lerr := lexDef.LexString("expression", text)
+	var line []lexer.Token
+	if lerr == nil {
+		line, _ = lexer.ConsumeAll(toks)
+	}
+	if len(line) == 0 {
+		line = []lexer.Token{lexer.EOFToken(lexer.Position{})}
+	}
+	if d := f.nestingDiag(line); d != nil {
+		return 0, "", ErrorList{d}
 	}
 	x, err := exprParser.ParseString("expression", text)
 	if err != nil {
-		toks, lerr := lexDef.LexString("expression", text)
-		var line []lexer.Token
-		if lerr == nil {
-			line, _ = lexer.ConsumeAll(toks)
-		}
-		if len(line) == 0 {
-			line = []lexer.Token{lexer.EOFToken(lexer.Position{})}
-		}
 		return 0, "", ErrorList{f.syntaxDiag(line, err)}
 	}
 	var diags ErrorList

@@ -1,13 +1,35 @@
 package netlist
 
 import (
+	"errors"
+	"math"
 	"strings"
 	"testing"
 	"time"
 )
 
+// checkDiags asserts that err is a non-empty ErrorList whose diagnostics
+// all name file, sit at line >= 1 and column >= 1 and carry a message.
+func checkDiags(t *testing.T, file string, err error) {
+	t.Helper()
+	var l ErrorList
+	if !errors.As(err, &l) || len(l) == 0 {
+		t.Fatalf("error %T %v is not a non-empty ErrorList", err, err)
+	}
+	for _, d := range l {
+		if d.Pos.File != file || d.Pos.Line < 1 || d.Pos.Col < 1 || d.Msg == "" {
+			t.Fatalf("diagnostic badly positioned or empty: %+v", d)
+		}
+		if !strings.HasPrefix(d.Error(), file+":") {
+			t.Fatalf("diagnostic without file: %q", d.Error())
+		}
+	}
+}
+
 // FuzzParse checks that parsing and elaborating any input never panics,
-// takes bounded time, and fails only with positioned diagnostics.
+// takes bounded time, fails only with positioned diagnostics, and that a
+// circuit that loads keeps the invariants of Part (finite values, > 0 for
+// R, L and C) and varies at nominal to the same values.
 func FuzzParse(f *testing.F) {
 	f.Add([]byte(allForms))
 	f.Add([]byte(blockSrc))
@@ -19,35 +41,65 @@ func FuzzParse(f *testing.F) {
 			t.Fatalf("Load took %v for %d bytes", el, len(src))
 		}
 		if err != nil {
-			l, ok := err.(ErrorList)
-			if !ok || len(l) == 0 {
-				t.Fatalf("error %T %v is not a non-empty ErrorList", err, err)
-			}
-			for _, d := range l {
-				if !strings.HasPrefix(d.Error(), "fuzz") {
-					t.Fatalf("diagnostic without file: %q", d.Error())
-				}
-			}
+			checkDiags(t, "fuzz", err)
 			return
 		}
 		if len(c.Nodes) == 0 || c.Nodes[0] != Ground {
 			t.Fatalf("Nodes[0] = %v", c.Nodes)
 		}
-		if _, err := c.Vary(ones(len(c.Variations))); err != nil {
+		for _, p := range c.Parts {
+			if math.IsNaN(p.Value) || math.IsInf(p.Value, 0) {
+				t.Fatalf("part %s has value %v", p.Name, p.Value)
+			}
+			if (p.Kind == Resistor || p.Kind == Capacitor || p.Kind == Inductor) && !(p.Value > 0) {
+				t.Fatalf("part %s (%v) has value %v", p.Name, p.Kind, p.Value)
+			}
+		}
+		v, err := c.Vary(ones(len(c.Variations)))
+		if err != nil {
 			t.Fatalf("Vary at nominal: %v", err)
+		}
+		for i := range c.Parts {
+			if a, b := c.Parts[i].Value, v.Parts[i].Value; a != b && math.Abs(a-b) > 1e-12*math.Abs(a) {
+				t.Fatalf("Vary at nominal changed %s from %v to %v", c.Parts[i].Name, a, b)
+			}
 		}
 	})
 }
 
-// FuzzExpr checks that evaluating any expression never panics.
+// FuzzExpr checks that evaluating any expression never panics, and fails
+// only with positioned diagnostics in the pseudo-file "expression".
 func FuzzExpr(f *testing.F) {
 	for _, s := range []string{"2*pi*1kHz", "-2^2^-1", "max(1, sqrt(4k7))", "(1, 2)", "1/0", "R47*2R2"} {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, s string) {
 		_, _, err := EvalExpr(s)
-		if err != nil && err.Error() == "" {
-			t.Fatal("empty error")
+		if err != nil {
+			checkDiags(t, "expression", err)
+		}
+	})
+}
+
+// FuzzParseValue checks ParseValue and ParseMetric: no panic, a value
+// that parses is finite, and a metric that parses names a known metric
+// with a positive finite frequency exactly when it is taken at one.
+func FuzzParseValue(f *testing.F) {
+	for _, s := range []string{"10Hz", "-3dB", "4k7", "2R2", "R47", "5%", "1e308*10", "1e400", "µ", "10 kΩ", "gain@1kHz", "phase@-1", "f3db", "q@1", "gain@1e-400Hz", "gain@\x00"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		if v, err := ParseValue(s, ""); err == nil && (math.IsNaN(v) || math.IsInf(v, 0)) {
+			t.Fatalf("ParseValue(%q) = %v", s, v)
+		}
+		name, fHz, err := ParseMetric(s)
+		if err != nil {
+			return
+		}
+		_, ok := MetricUnit(name)
+		atFreq := strings.Contains(s, "@")
+		if !ok || atFreq != (fHz > 0) || math.IsInf(fHz, 0) || math.IsNaN(fHz) || fHz < 0 {
+			t.Fatalf("ParseMetric(%q) = %q, %v", s, name, fHz)
 		}
 	})
 }

@@ -47,6 +47,7 @@ type File struct {
 	Stmts  []*Stmt // top-level statements in order; a block statement holds its body
 
 	lineStarts []int // byte offset of each line start, for positions
+	notText    bool  // Source has a NUL byte or invalid UTF-8: diagnostics omit the source line
 }
 
 // Stmt is one statement: exactly one of its pointer fields is set.

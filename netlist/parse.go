@@ -21,10 +21,9 @@ const MaxSourceBytes = 16 << 20
 // statements that did parse. Input that is not UTF-8 text (invalid UTF-8
 // or NUL bytes) or larger than MaxSourceBytes is refused.
 func Parse(name string, src []byte) (*File, error) {
-	f := &File{Name: name, Source: src}
-	f.lineStarts = lineStarts(src)
+	f := newFile(name, src)
 	if len(src) > MaxSourceBytes {
-		return f, ErrorList{{Pos: Pos{File: name}, Msg: fmt.Sprintf("file is %d bytes; circuit files are limited to %d bytes (16 MiB)", len(src), MaxSourceBytes)}}
+		return f, ErrorList{{Pos: f.posAt(0), Msg: fmt.Sprintf("file is %d bytes; circuit files are limited to %d bytes (16 MiB)", len(src), MaxSourceBytes)}}
 	}
 	if i := bytes.IndexByte(src, 0); i >= 0 {
 		return f, ErrorList{f.diagAt(i, SevError, "file is not text (it contains a NUL byte)", "")}
@@ -115,6 +114,9 @@ func (s *sliceLexer) Next() (lexer.Token, error) {
 
 // parseLine parses the statement on one line.
 func (f *File) parseLine(line []lexer.Token) (*Stmt, *Diagnostic) {
+	if d := f.nestingDiag(line); d != nil {
+		return nil, d
+	}
 	pl, err := lexer.Upgrade(&sliceLexer{toks: line}, symSpace, symComment)
 	if err == nil {
 		var st *Stmt
@@ -124,6 +126,16 @@ func (f *File) parseLine(line []lexer.Token) (*Stmt, *Diagnostic) {
 		}
 	}
 	return nil, f.syntaxDiag(line, err)
+}
+
+// nestingDiag reports a line that nests deeper than MaxNesting, at the
+// token that goes too deep, or returns nil.
+func (f *File) nestingDiag(line []lexer.Token) *Diagnostic {
+	tok, deep := TooDeep(line, symSpace, symComment)
+	if !deep {
+		return nil
+	}
+	return f.diagAt(tok.Pos.Offset, SevError, fmt.Sprintf("expression nested too deeply (more than %d levels of parentheses, signs and powers)", MaxNesting), "split it with let")
 }
 
 // syntaxDiag turns a participle error into a positioned Diagnostic with a
@@ -259,6 +271,12 @@ func (f *File) posAt(off int) Pos {
 	return Pos{File: f.Name, Line: line, Col: col, Offset: off}
 }
 
+// newFile makes a File for src, indexing its lines once so that positions
+// and source lines of many diagnostics cost no rescans of the whole text.
+func newFile(name string, src []byte) *File {
+	return &File{Name: name, Source: src, lineStarts: lineStarts(src), notText: !utf8.Valid(src) || bytes.IndexByte(src, 0) >= 0}
+}
+
 // lineStarts returns the byte offset of the start of every line.
 func lineStarts(src []byte) []int {
 	starts := []int{0}
@@ -288,7 +306,7 @@ func (f *File) lineText(off int) string {
 // diagAt makes a diagnostic at a byte offset, with its source line.
 func (f *File) diagAt(off int, sev Severity, msg, hint string) *Diagnostic {
 	line := ""
-	if utf8.Valid(f.Source) && bytes.IndexByte(f.Source, 0) < 0 {
+	if !f.notText {
 		line = f.lineText(off)
 	}
 	return &Diagnostic{Pos: f.posAt(off), Severity: sev, Msg: msg, Hint: hint, Line: line}
@@ -296,14 +314,17 @@ func (f *File) diagAt(off int, sev Severity, msg, hint string) *Diagnostic {
 
 // lexDiag turns a lexer failure into a diagnostic at the lexer's position
 // (FILE:LINE:COL with the source line and caret); an error that carries no
-// position is reported at the file alone. The lexer's Bad rule matches any
-// character, so this guards a lexer change rather than a known input.
+// position is reported at the start of the file (1:1). The lexer's Bad rule
+// matches any character, so this guards a lexer change rather than a known
+// input.
 func (f *File) lexDiag(err error) *Diagnostic {
+	off := 0
+	msg := err.Error()
 	var le *lexer.Error
 	if errors.As(err, &le) && le.Pos.Offset >= 0 && le.Pos.Offset <= len(f.Source) {
-		return f.diagAt(le.Pos.Offset, SevError, le.Msg, "")
+		off, msg = le.Pos.Offset, le.Msg
 	}
-	return &Diagnostic{Pos: Pos{File: f.Name}, Msg: err.Error()}
+	return f.diagAt(off, SevError, msg, "")
 }
 
 // diag makes a diagnostic at a lexer position.

@@ -101,11 +101,13 @@ type ValuePlan struct {
 //     shared draw stays shared. When the conditions fail, each use gets
 //     the literal (rule 3) and the let stays.
 //  3. Any other value expression is replaced by the literal; a note says
-//     so, and says when the expression used a toleranced let whose shared
-//     draw the part no longer follows.
+//     so. An expression that uses exactly one toleranced let P (`2*C`) is
+//     replaced by k*P instead (`2.2*C`), so the part keeps following P's
+//     shared draw; with several toleranced lets the note says which draws
+//     the part no longer follows.
 //  4. A part inside a block instance X (one level deep) whose value in
 //     the block body is a plain reference to a block parameter K that the
-//     instance sets (`X1: lowpass2 (in, out) R=10k`) rewrites that
+//     instance sets (`LP1: lowpass2 (in, out) R=10k`) rewrites that
 //     instance option (by rules 1–3), when every use of K in the block is
 //     such a plain part value and they all get the same new value. Every
 //     other part of an instance is skipped with the reason.
@@ -129,7 +131,7 @@ func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov O
 	sort.Strings(names)
 
 	lets := map[string]*shareGroup{}  // by let name
-	insts := map[string]*shareGroup{} // by "X1:K"
+	insts := map[string]*shareGroup{} // by "LP1:R" (instance:parameter)
 	join := func(m map[string]*shareGroup, key string, span Span, uses int, s shareSite) {
 		g := m[key]
 		if g == nil {
@@ -145,10 +147,28 @@ func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov O
 		}
 		return ""
 	}
+	paramValue, paramUnit := map[string]float64{}, map[string]string{}
+	for _, p := range c.Params {
+		paramValue[p.Name], paramUnit[p.Name] = p.Value, p.Unit
+	}
 	literal := func(s shareSite) {
+		old := string(f.Source[s.span.Start:s.span.End])
+		// An expression that follows one toleranced let P keeps following
+		// it: the new value is written as k*P, so the shared draw (parts
+		// from one reel) survives the rounding.
+		// Only when P is in the part's own unit (C in F for a capacitor),
+		// so that k is a plain ratio.
+		if shared := usedNames(s.expr, toleranced); !isLiteralExpr(s.expr) && len(shared) == 1 && paramValue[shared[0]] != 0 && s.value != 0 &&
+			s.unit != "" && paramUnit[shared[0]] == s.unit {
+			k := s.value / paramValue[shared[0]]
+			text := strconv.FormatFloat(k, 'g', 12, 64) + "*" + shared[0]
+			plan.Edits = append(plan.Edits, ValueEdit{Span: s.span, Text: text})
+			plan.Notes = append(plan.Notes, fmt.Sprintf("%s: value %s replaced by %s (= %s), still one draw with %s", s.label, old, text, s.text, shared[0]))
+			return
+		}
 		plan.Edits = append(plan.Edits, ValueEdit{Span: s.span, Text: s.text})
 		if !isLiteralExpr(s.expr) {
-			plan.Notes = append(plan.Notes, fmt.Sprintf("%s: value %s replaced by %s", s.label, f.Source[s.span.Start:s.span.End], s.text)+droppedNote(s.expr, toleranced))
+			plan.Notes = append(plan.Notes, fmt.Sprintf("%s: value %s replaced by %s", s.label, old, s.text)+droppedNote(s.expr, toleranced))
 		}
 	}
 
@@ -163,7 +183,7 @@ func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov O
 			plan.Skipped[name] = "its value is not written in the file"
 			continue
 		}
-		site := shareSite{span: p.ValueSpan, expr: x, parts: []string{name}, label: name, text: FormatLiteral(values[name], literalUnit(p.Kind), digits)}
+		site := shareSite{span: p.ValueSpan, expr: x, parts: []string{name}, label: name, text: FormatLiteral(values[name], literalUnit(p.Kind), digits), value: values[name], unit: p.Kind.Unit()}
 		prefix, local, nested := strings.Cut(name, ".")
 		if !nested {
 			if l := letOf(x); l != "" {
@@ -209,7 +229,7 @@ func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov O
 			continue
 		}
 		opt := instanceOption(idx.elems[inst], k)
-		site := shareSite{span: g.span, expr: opt.Value, parts: g.partNames(), label: what, text: g.text}
+		site := shareSite{span: g.span, expr: opt.Value, parts: g.partNames(), label: what, text: g.text, value: g.sites[0].value, unit: g.sites[0].unit}
 		if l := letOf(opt.Value); l != "" {
 			join(lets, l, spanOf(f, idx.lets[l].Value), idx.globalUses[l], site)
 		} else {
@@ -242,8 +262,10 @@ type shareSite struct {
 	span  Span
 	expr  *Expr
 	parts []string
-	label string // the part name, or "option K= of X1"
+	label string // the part name, or "option R= of LP1"
 	text  string
+	value float64 // the new value in SI units
+	unit  string  // the unit of the part's value ("F", "Ω", ...)
 }
 
 // shareGroup collects the sites of one let or instance option.

@@ -87,8 +87,8 @@ block stage (i, o) R=1k C=1nF
   Ra: resistor (i, o) R
   Ca: capacitor (o, gnd) C*2
 end
-X1: stage (d, y) R=3.3k
-X2: stage (y, z)
+LP1: stage (d, y) R=3.3k
+LP2: stage (y, z)
 RL: resistor (z, gnd) 100k
 `
 
@@ -103,7 +103,7 @@ func TestPlanValues(t *testing.T) {
 	}
 	values := map[string]float64{
 		"R1": 4.7e3, "R2": 10e3 * 1.0, "R3": 10e3, "R4": 22.1e3, "C1": 22e-9,
-		"X1.Ra": 3.32e3, "X1.Ca": 2.2e-9, "X2.Ra": 1.02e3,
+		"LP1.Ra": 3.32e3, "LP1.Ca": 2.2e-9, "LP2.Ra": 1.02e3,
 	}
 	values["R2"], values["R3"] = 10.2e3, 10.2e3
 	plan := PlanValues(f, c, values, 3, nil)
@@ -118,17 +118,17 @@ func TestPlanValues(t *testing.T) {
 		"R4: resistor (c, d) 22.1k\n",               // rule 2 fallback to a literal
 		"R1: resistor (in, a) 4.7k ±1%   # literal", // rule 1, tolerance and comment kept
 		"R2: resistor (a, b) Rb\n",
-		"C1: capacitor (a, gnd) 22nF       # expression", // rule 3
-		"X1: stage (d, y) R=3.32k\n",                     // rule 4
-		"X2: stage (y, z)\n",
+		"C1: capacitor (a, gnd) 2.2*Cs       # expression", // rule 3: still one draw with Cs
+		"LP1: stage (d, y) R=3.32k\n",                    // rule 4
+		"LP2: stage (y, z)\n",
 	} {
 		if !strings.Contains(text, want) {
 			t.Errorf("new source lacks %q:\n%s", want, text)
 		}
 	}
 	for part, reason := range map[string]string{
-		"X1.Ca": "set inside block stage",
-		"X2.Ra": "default of parameter R of block stage; give R= on instance X2",
+		"LP1.Ca": "set inside block stage",
+		"LP2.Ra": "default of parameter R of block stage; give R= on instance LP2",
 	} {
 		if !strings.Contains(plan.Skipped[part], reason) {
 			t.Errorf("%s skipped for %q, want %q", part, plan.Skipped[part], reason)
@@ -138,7 +138,7 @@ func TestPlanValues(t *testing.T) {
 		t.Errorf("skipped %v", plan.Skipped)
 	}
 	notes := strings.Join(plan.Notes, "\n")
-	for _, want := range []string{"let Rb rewritten to 10.2k for R2, R3", "let Rc kept: let Rc is also used elsewhere", "C1: value 2*Cs replaced by 22nF; it no longer follows the shared tolerance of Cs"} {
+	for _, want := range []string{"let Rb rewritten to 10.2k for R2, R3", "let Rc kept: let Rc is also used elsewhere", "C1: value 2*Cs replaced by 2.2*Cs (= 22nF), still one draw with Cs"} {
 		if !strings.Contains(notes, want) {
 			t.Errorf("notes lack %q:\n%s", want, notes)
 		}

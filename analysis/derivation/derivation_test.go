@@ -169,7 +169,7 @@ func TestErrors(t *testing.T) {
 		{true, "G(x) = 1/s", `tf:1:1: the left of "=" must name the function of s`},
 		{true, "1/(1 + s*Rx*C1)", `tf:1:10: unknown name Rx: not a parameter or part`},
 		{false, "y' + y = u/(C1-C1)", `ode:1:11: division by zero (C1 - C1 is 0)`},
-		{true, "1/(s*R1 - s*R1)", `the denominator evaluates to zero`},
+		{true, "1/(s*R1 - s*R1)", `tf:1:1: the denominator evaluates to zero`},
 	}
 	for _, tt := range tests {
 		_, _, _, err := coefsOf(tt.tf, tt.src)

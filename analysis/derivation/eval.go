@@ -1,7 +1,6 @@
 package derivation
 
 import (
-	"fmt"
 	"math"
 
 	"nodal/netlist"
@@ -28,7 +27,12 @@ func (r *Rational) Evaluate(lookup Lookup) (num, den []float64, err error) {
 	}
 	num, den = trimZeros(num), trimZeros(den)
 	if len(den) == 1 && den[0] == 0 {
-		return nil, nil, fmt.Errorf("the denominator evaluates to zero for these values")
+		var at Pos
+		if len(r.Den) > 0 {
+			at = r.Den[0].Position()
+		}
+		ev.errorf(at, "the denominator evaluates to zero for these values")
+		return nil, nil, ev.errs
 	}
 	return num, den, nil
 }
@@ -56,6 +60,9 @@ func (ev *evaluator) errorf(at Pos, format string, args ...any) {
 	name := at.File
 	if name == "" {
 		name = ev.file
+	}
+	if at.Line < 1 { // a node made by the reduction, not read from the text
+		at = Pos{File: name, Line: 1, Col: 1}
 	}
 	ev.errs = append(ev.errs, diagf(name, ev.src, at, format, args...))
 }

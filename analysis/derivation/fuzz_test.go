@@ -2,6 +2,7 @@ package derivation
 
 import (
 	"errors"
+	"math"
 	"testing"
 
 	"nodal/netlist"
@@ -17,16 +18,43 @@ func fuzzLookup(name string) (float64, bool) {
 	return 1.5, true
 }
 
-// checkErr asserts that a failure is a positioned error list.
-func checkErr(t *testing.T, src string, err error) {
+// checkErr asserts that a failure is a non-empty error list whose
+// diagnostics name the file and sit at line >= 1, column >= 1.
+func checkErr(t *testing.T, file, src string, err error) {
+	t.Helper()
 	var el netlist.ErrorList
-	if err != nil && errors.As(err, &el) && len(el) == 0 {
-		t.Fatalf("%q: empty error list", src)
+	if !errors.As(err, &el) || len(el) == 0 {
+		t.Fatalf("%q: error %T %v is not a non-empty ErrorList", src, err, err)
+	}
+	for _, d := range el {
+		if d.Pos.File != file || d.Pos.Line < 1 || d.Pos.Col < 1 || d.Msg == "" {
+			t.Fatalf("%q: badly positioned diagnostic %+v", src, d)
+		}
+	}
+}
+
+// checkFinite asserts that evaluated coefficients are finite and that the
+// denominator is not all zero.
+func checkFinite(t *testing.T, src string, num, den []float64) {
+	t.Helper()
+	nonzero := false
+	for _, c := range append(append([]float64(nil), num...), den...) {
+		if math.IsNaN(c) || math.IsInf(c, 0) {
+			t.Fatalf("%q: coefficient %v in %v / %v", src, c, num, den)
+		}
+	}
+	for _, c := range den {
+		nonzero = nonzero || c != 0
+	}
+	if len(num) == 0 || !nonzero {
+		t.Fatalf("%q: evaluates to %v / %v", src, num, den)
 	}
 }
 
 // FuzzParseODE: parsing, reducing and evaluating any text never panics,
-// and whatever parses formats back to text that parses.
+// fails only with positioned errors, evaluates to finite coefficients,
+// and whatever parses formats back to text that parses and formats the
+// same again.
 func FuzzParseODE(f *testing.F) {
 	for _, s := range []string{"R1*C1*y' + y = u", "2.2e-7*y'' + 3.3e-4*dy/dt + y = 5*u", "d^2y/dt^2 = u", "y^(3) = u'", "y = (u"} {
 		f.Add(s)
@@ -34,20 +62,28 @@ func FuzzParseODE(f *testing.F) {
 	f.Fuzz(func(t *testing.T, src string) {
 		eq, err := ParseODE("ode", src)
 		if err != nil {
-			checkErr(t, src, err)
+			checkErr(t, "ode", src, err)
 			return
 		}
-		if _, err := ParseODE("ode", Format(eq.Left)+" = "+Format(eq.Right)); err != nil {
-			t.Fatalf("%q formats to text that does not parse: %v", src, err)
+		text := Format(eq.Left) + " = " + Format(eq.Right)
+		again, err := ParseODE("ode", text)
+		if err != nil {
+			t.Fatalf("%q formats to %q, which does not parse: %v", src, text, err)
+		}
+		if t2 := Format(again.Left) + " = " + Format(again.Right); t2 != text {
+			t.Fatalf("%q formats to %q, which formats to %q", src, text, t2)
 		}
 		r, err := eq.Reduce(Signals{Known: func(n string) bool { _, ok := fuzzLookup(n); return ok }})
 		if err != nil {
-			checkErr(t, src, err)
+			checkErr(t, "ode", src, err)
 			return
 		}
-		if _, _, err := r.Evaluate(fuzzLookup); err != nil {
-			checkErr(t, src, err)
+		num, den, err := r.Evaluate(fuzzLookup)
+		if err != nil {
+			checkErr(t, "ode", src, err)
+			return
 		}
+		checkFinite(t, src, num, den)
 	})
 }
 
@@ -59,19 +95,27 @@ func FuzzParseTF(f *testing.F) {
 	f.Fuzz(func(t *testing.T, src string) {
 		tf, err := ParseTF("tf", src)
 		if err != nil {
-			checkErr(t, src, err)
+			checkErr(t, "tf", src, err)
 			return
 		}
-		if _, err := ParseTF("tf", Format(tf.Expr)); err != nil {
-			t.Fatalf("%q formats to %q, which does not parse: %v", src, Format(tf.Expr), err)
+		text := Format(tf.Expr)
+		again, err := ParseTF("tf", text)
+		if err != nil {
+			t.Fatalf("%q formats to %q, which does not parse: %v", src, text, err)
+		}
+		if t2 := Format(again.Expr); t2 != text {
+			t.Fatalf("%q formats to %q, which formats to %q", src, text, t2)
 		}
 		r, err := tf.Reduce()
 		if err != nil {
-			checkErr(t, src, err)
+			checkErr(t, "tf", src, err)
 			return
 		}
-		if _, _, err := r.Evaluate(fuzzLookup); err != nil {
-			checkErr(t, src, err)
+		num, den, err := r.Evaluate(fuzzLookup)
+		if err != nil {
+			checkErr(t, "tf", src, err)
+			return
 		}
+		checkFinite(t, src, num, den)
 	})
 }

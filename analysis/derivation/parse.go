@@ -81,6 +81,12 @@ func parseGrammar(name, src string) (*gEquation, error) {
 	if strings.TrimSpace(src) == "" {
 		return nil, netlist.ErrorList{diag(name, src, Pos{File: name, Line: 1, Col: 1}, "empty expression")}
 	}
+	if len(src) > MaxSourceBytes {
+		return nil, netlist.ErrorList{diagf(name, src, Pos{File: name, Line: 1, Col: 1}, "expression is %d bytes; at most %d are accepted", len(src), MaxSourceBytes)}
+	}
+	if d := nestingDiag(name, src); d != nil {
+		return nil, netlist.ErrorList{d}
+	}
 	g, err := parser.ParseString(name, src)
 	if err == nil {
 		return g, nil
@@ -115,6 +121,22 @@ func parseGrammar(name, src string) (*gEquation, error) {
 		msg = perr.Message()
 	}
 	return nil, netlist.ErrorList{diag(name, src, pos, msg)}
+}
+
+// MaxSourceBytes is the longest text ParseODE and ParseTF accept (64 KiB,
+// far more than any hand derivation).
+const MaxSourceBytes = 64 << 10
+
+// nestingDiag reports text nesting deeper than netlist.MaxNesting at the
+// token that goes too deep, or returns nil. Text that does not lex is left
+// to the parser, which reports it.
+func nestingDiag(name, src string) *netlist.Diagnostic {
+	tok, deep := netlist.TooDeepText(lex, name, src, "Whitespace")
+	if !deep {
+		return nil
+	}
+	p := tok.Pos
+	return diagf(name, src, Pos{File: name, Line: p.Line, Col: p.Column, Offset: p.Offset}, "expression nested too deeply (more than %d levels of parentheses, signs and powers)", netlist.MaxNesting)
 }
 
 // unexpectedMessage explains an unexpected token at byte offset off.

@@ -196,6 +196,11 @@ func (b *builder) term(call *factorAST) (Term, error) {
 	if math.IsInf(t.PhaseRad, 0) || math.IsNaN(t.PhaseRad) {
 		return t, errAt(call.Pos, "phase out of range")
 	}
+	if math.Abs(t.PhaseRad) > 2*piValue {
+		// More than a full turn: reduce it, so that the phase prints in
+		// degrees without overflow and reads back as the same angle.
+		t.PhaseRad = math.Remainder(t.PhaseRad, 2*piValue)
+	}
 	t.OmegaText = strings.Join(strings.Fields(b.src[omegaProd.Pos.Offset:omegaProd.EndPos.Offset]), "")
 	return t, nil
 }

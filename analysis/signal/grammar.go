@@ -77,6 +77,12 @@ func Parse(src string) (*Signal, error) {
 	if !utf8.ValidString(src) {
 		return nil, &Error{Pos: Position{Line: 1, Column: 1}, Msg: "signal is not valid UTF-8"}
 	}
+	if len(src) > MaxSourceBytes {
+		return nil, &Error{Pos: Position{Line: 1, Column: 1}, Msg: fmt.Sprintf("signal is %d bytes; at most %d are accepted", len(src), MaxSourceBytes)}
+	}
+	if e := nestingError(src); e != nil {
+		return nil, e
+	}
 	ast, err := parser.ParseString("signal", src)
 	if err != nil {
 		var pe participle.Error
@@ -87,6 +93,21 @@ func Parse(src string) (*Signal, error) {
 	}
 	b := builder{src: src}
 	return b.signal(ast)
+}
+
+// MaxSourceBytes is the longest signal text Parse accepts (4 KiB, far
+// more than a sum of sinusoids written by hand).
+const MaxSourceBytes = 4 << 10
+
+// nestingError reports text nesting deeper than netlist.MaxNesting at the
+// token that goes too deep, or returns nil. Text that does not lex is left
+// to the parser, which reports it.
+func nestingError(src string) *Error {
+	tok, deep := netlist.TooDeepText(signalLexer, "signal", src, "Whitespace")
+	if !deep {
+		return nil
+	}
+	return &Error{Pos: toPosition(tok.Pos), Msg: fmt.Sprintf("signal nested too deeply (more than %d levels of parentheses and signs)", netlist.MaxNesting)}
 }
 
 // friendly replaces participle's grammar-node names in a message by words.

@@ -39,7 +39,8 @@ func (e *Error) Error() string { return e.Pos.String() + ": " + e.Msg }
 // Term is one sinusoid Amplitude·Func(OmegaRad·t + PhaseRad).
 //
 // Invariants: Func is "sin" or "cos"; OmegaRad > 0 and finite; Amplitude
-// and PhaseRad are finite. Amplitude keeps the sign as written (-sin(...)
+// and PhaseRad are finite; a phase written as more than a full turn is
+// reduced to [−π, π], a smaller one is kept as written. Amplitude keeps the sign as written (-sin(...)
 // gives −1). OmegaText is the ω·t product as written with blanks removed
 // (e.g. "2*pi*400*t" or "2500*t"), so output can be printed in the style of
 // the input; WrittenAsHz says it was written as 2*pi*f*t.

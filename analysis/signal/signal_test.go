@@ -175,7 +175,9 @@ func TestFormatNumber(t *testing.T) {
 }
 
 // FuzzParse checks that Parse never panics, that errors are positioned,
-// and that a parsed signal prints to text that parses again.
+// that a parsed signal is finite and prints to text that parses back to
+// the same signal to printing precision (4 significant digits for
+// amplitudes and the constant, 0.1° for phases, ω·t as written).
 func FuzzParse(f *testing.F) {
 	for _, s := range []string{
 		"0.8*sin(2*pi*400*t)",
@@ -191,18 +193,36 @@ func FuzzParse(f *testing.F) {
 		s, err := Parse(src)
 		if err != nil {
 			var se *Error
-			if !errors.As(err, &se) || se.Pos.Line < 1 || se.Pos.Column < 1 {
+			if !errors.As(err, &se) || se.Pos.Line < 1 || se.Pos.Column < 1 || se.Msg == "" {
 				t.Fatalf("%q: unpositioned error %v", src, err)
 			}
 			return
 		}
+		finite := func(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 		for _, term := range s.Terms {
-			if !(term.OmegaRad > 0) || math.IsInf(term.OmegaRad, 0) || math.IsNaN(term.Amplitude) || math.IsNaN(term.PhaseRad) {
+			if !(term.OmegaRad > 0) || !finite(term.OmegaRad) || !finite(term.Amplitude) || !finite(term.PhaseRad) {
 				t.Fatalf("%q: invalid term %+v", src, term)
 			}
 		}
-		if _, err := Parse(s.String()); err != nil {
+		if !finite(s.DC) || !finite(s.At(1e-3)) {
+			t.Fatalf("%q: DC %v, u(1 ms) %v", src, s.DC, s.At(1e-3))
+		}
+		again, err := Parse(s.String())
+		if err != nil {
 			t.Fatalf("%q printed as %q does not parse: %v", src, s.String(), err)
+		}
+		// The printed amplitude is rounded to 4 digits: relative error at
+		// most 5e-4 (half a unit in the fourth digit).
+		near := func(a, b float64) bool { return math.Abs(a-b) <= 5e-4*math.Max(math.Abs(a), math.Abs(b)) }
+		if !near(again.DC, s.DC) || len(again.Terms) != len(s.Terms) {
+			t.Fatalf("%q printed as %q parses to %+v, want %+v", src, s.String(), again, s)
+		}
+		for i, a := range again.Terms {
+			b := s.Terms[i]
+			dph := math.Remainder(a.PhaseRad-b.PhaseRad, 2*math.Pi)
+			if a.Func != b.Func || !near(a.Amplitude, b.Amplitude) || a.OmegaRad != b.OmegaRad || math.Abs(dph) > 0.051*math.Pi/180 {
+				t.Fatalf("%q printed as %q: term %d is %+v, want %+v", src, s.String(), i, a, b)
+			}
 		}
 	})
 }

@@ -59,8 +59,8 @@ type refSymGolden struct {
 
 // nodalName maps a golden symbol to nodal's symbol name: an op-amp's a0
 // is the op-amp's name in the golden ("U1") and NAME.a0 in nodal; the
-// mutual inductance is the derived "M" = K1*sqrt(L1*L2) in the golden and
-// "K1.M" in nodal. Every other symbol is the part name on both sides.
+// mutual inductance is the derived "M" = Link1*sqrt(L1*L2) in the golden and
+// "Link1.M" in nodal. Every other symbol is the part name on both sides.
 func nodalName(g *refSymGolden, sym string) string {
 	if strings.HasPrefix(g.Symbols[sym], "a0 of op-amp") {
 		return sym + ".a0"
@@ -318,7 +318,7 @@ func TestReferenceSymbolicCanFail(t *testing.T) {
 // a hand-expanded case: (R1 + R2)·(R1 − R2) = R1·R1 − R2·R2 (common practice).
 func TestReferenceSymbolicParser(t *testing.T) {
 	g := &refSymGolden{Symbols: map[string]string{"R1": "resistor", "R2": "resistor", "U1": "a0 of op-amp U1"},
-		Derived: map[string]string{"M": "K1*sqrt(L1*L2)"}}
+		Derived: map[string]string{"M": "Link1*sqrt(L1*L2)"}}
 	for _, tc := range []struct{ a, b string }{
 		{"R1*R1 - R2*R2", "(R1 + R2)*(R1 - R2)"},
 		{"R1*U1 + 2*M*M", "U1*R1 + M^2 + M*M"},
@@ -339,7 +339,7 @@ func TestReferenceSymbolicParser(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if want := symbolic.Var("R1").Mul(symbolic.Var("U1.a0")).Add(symbolic.Var("K1.M").Mul(symbolic.Var("K1.M"))); !p.Equal(want) {
+	if want := symbolic.Var("R1").Mul(symbolic.Var("U1.a0")).Add(symbolic.Var("Link1.M").Mul(symbolic.Var("Link1.M"))); !p.Equal(want) {
 		t.Errorf("renaming: got %v, want %v", p, want)
 	}
 	for _, bad := range []string{"R1/R2", "sqrt(R1)", "0.5*R1", "s*R1"} {

@@ -165,9 +165,11 @@ func toResistances(ps []Poly, resistor map[string]string) ([]Poly, error) {
 // cancelCommon divides num and den by their common monomial factor and by
 // every candidate (non-monomial, up to content) that divides both.
 func cancelCommon(ctx context.Context, num, den Poly, cands []Poly) (Poly, Poly, []Poly) {
-	// s-coefficients are candidates too.
+	// s-coefficients are candidates too, and N and D themselves (N dividing
+	// D is the common case of a mode the output does not see).
 	cands = append(cands, num.CoeffsIn(LaplaceVar)...)
 	cands = append(cands, den.CoeffsIn(LaplaceVar)...)
+	cands = append(cands, num, den)
 	seen := map[string]bool{}
 	var uniq []Poly
 	for _, c := range cands {

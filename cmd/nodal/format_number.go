@@ -12,6 +12,9 @@ const pi = math.Pi
 // trimFloat formats v with at most digits significant digits and no
 // exponent for ordinary magnitudes.
 func trimFloat(v float64, digits int) string {
+	if v == 0 {
+		v = 0 // −0 prints as 0
+	}
 	return strconv.FormatFloat(v, 'g', digits, 64)
 }
 
@@ -33,6 +36,9 @@ func nonFinite(v float64) (text string, ok bool) {
 func num(v float64) string {
 	if s, ok := nonFinite(v); ok {
 		return s
+	}
+	if v == 0 {
+		v = 0 // −0 prints as 0
 	}
 	return strconv.FormatFloat(v, 'g', 6, 64)
 }

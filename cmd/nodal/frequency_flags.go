@@ -8,6 +8,10 @@ import (
 	"nodal/netlist"
 )
 
+// maxPoints bounds every sampled output (sweep and time points): a million
+// points is far beyond any plot or table and still fits in memory.
+const maxPoints = 1_000_000
+
 // freqArgs choose the frequencies of a sweep. With none given the range
 // covers the circuit's poles and zeros by two decades either side.
 type freqArgs struct {
@@ -59,8 +63,8 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 		if n == 0 {
 			n = 201
 		}
-		if n < 2 {
-			return nil, fmt.Errorf("--points must be at least 2")
+		if n < 2 || n > maxPoints {
+			return nil, fmt.Errorf("--points must be between 2 and %d", maxPoints)
 		}
 		if from < 0 {
 			return nil, fmt.Errorf("--from must be ≥ 0")

@@ -64,6 +64,10 @@ type verdictError struct{ msg string }
 
 func (e *verdictError) Error() string { return e.msg }
 
+// errInterrupted marks a run stopped by Ctrl-C after it printed what it had
+// finished: exit status 2 with no further message.
+var errInterrupted = errors.New("interrupted")
+
 // exitRequest carries kong's requested exit (after --help or --version).
 type exitRequest int
 
@@ -110,6 +114,9 @@ func run(e *env, args []string) (code int) {
 		var v *verdictError
 		if errors.As(err, &v) {
 			return exitVerdict
+		}
+		if errors.Is(err, errInterrupted) {
+			return exitInput
 		}
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
 		return exitInput

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 
 	"nodal/analysis"
 	"nodal/cmd/nodal/plot"
@@ -127,6 +128,7 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 		return nil, err
 	}
 	d.Bode = report.Plot{Figure: bode, Caption: fmt.Sprintf("Bode plot of %s", r.what)}
+	d.Response = responseRows(e, r, lo, hi, tr.Minus3dBHz)
 	pz, err := plot.PoleZero(h.Poles, h.Zeros, plot.PoleZeroOptions{})
 	if err != nil {
 		return nil, err
@@ -181,7 +183,11 @@ func reportStep(h *analysis.TransferFunction) (*report.Step, error) {
 	add("final value", m.Final, "")
 	add("rise time 10–90 %", m.RiseTimeS, "s")
 	add("overshoot", m.OvershootPct, "%")
-	add("peak time", m.PeakTimeS, "s")
+	if m.OvershootPct != nil && *m.OvershootPct == 0 {
+		st.Metrics = append(st.Metrics, report.Metric{Name: "peak time", Value: math.NaN(), Unit: "s", Note: "no overshoot"})
+	} else {
+		add("peak time", m.PeakTimeS, "s")
+	}
 	add("settling time 2 %", m.SettlingTimeS, "s")
 	return st, nil
 }
@@ -211,4 +217,24 @@ func reportTol(t netlist.Tolerance) string {
 		return ""
 	}
 	return tolText(t)
+}
+
+// responseRows is the report's frequency-response table: one point per
+// decade of the Bode range and the −3 dB points, in increasing frequency.
+func responseRows(e *env, r *tfResult, lo, hi float64, minus3dB []float64) []report.ResponsePoint {
+	var fs []float64
+	for f := lo; f <= hi*1.0001; f *= 10 {
+		fs = append(fs, f)
+	}
+	fs = append(fs, minus3dB...)
+	slices.Sort(fs)
+	resp, err := analysis.Sweep(e.ctx, r.sys, fs, 1)
+	if err != nil {
+		return nil
+	}
+	rows := make([]report.ResponsePoint, len(fs))
+	for i := range fs {
+		rows[i] = report.ResponsePoint{FreqHz: resp.FreqHz[i], MagDB: resp.MagDB[i], PhaseDeg: resp.PhaseDeg[i]}
+	}
+	return rows
 }

@@ -85,8 +85,8 @@ func (c *timeArgs) run(e *env, kind string) error {
 			return fmt.Errorf("--until must be > 0")
 		}
 	}
-	if c.Points < 2 {
-		return fmt.Errorf("--points must be at least 2")
+	if c.Points < 2 || c.Points > maxPoints {
+		return fmt.Errorf("--points must be between 2 and %d", maxPoints)
 	}
 	var r *analysis.TimeResponse
 	if kind == "step" {

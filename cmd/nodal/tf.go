@@ -306,11 +306,11 @@ func (rep *tfReport) json() any {
 		"factored":   factoredText(h),
 		"ode":        odeText(rep.ode, rep.r.yName, rep.r.uName),
 		"hf_asymptote": map[string]any{
-			"gain": rep.hf.Gain, "power": rep.hf.Power, "slope_db_per_decade": rep.hf.SlopeDBPerDecade,
+			"gain": finiteOrNil(rep.hf.Gain), "power": rep.hf.Power, "slope_db_per_decade": finiteOrNil(rep.hf.SlopeDBPerDecade),
 		},
 	}
 	if rep.dc.Power == 0 {
-		doc["gain_dc"] = rep.dc.Gain
+		doc["gain_dc"] = finiteOrNil(rep.dc.Gain)
 		doc["gain_dc_db"] = finiteOrNil(rep.dc.GainDB)
 	} else if rep.dc.Power > 0 {
 		doc["gain_dc"] = 0.0
@@ -322,10 +322,10 @@ func (rep *tfReport) json() any {
 	}
 	if rep.bw != nil {
 		doc["f3db_hz"] = rep.bw.CrossingsHz
-		doc["f3db_ref_db"] = rep.bw.RefDB
+		doc["f3db_ref_db"] = finiteOrNil(rep.bw.RefDB)
 	}
 	if rep.peak != nil {
-		doc["peak_db"] = rep.peak.GainDB
+		doc["peak_db"] = finiteOrNil(rep.peak.GainDB)
 		doc["peak_hz"] = finiteOrNil(rep.peak.FreqHz)
 	}
 	return doc

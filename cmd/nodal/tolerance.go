@@ -109,9 +109,10 @@ type itemSensitivityJSON struct {
 }
 
 type sensitivityJSON struct {
-	Name  string                `json:"name"`
-	Unit  string                `json:"unit"`
-	Items []itemSensitivityJSON `json:"items"`
+	Name      string                `json:"name"`
+	Unit      string                `json:"unit"`
+	Items     []itemSensitivityJSON `json:"items"`
+	Undefined string                `json:"undefined,omitempty"`
 }
 
 type envelopePointJSON struct {
@@ -198,12 +199,19 @@ func (c *toleranceCmd) Run(e *env) error {
 			return err
 		}
 	}
-	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
+	if err := writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		if c.Format == "json" {
 			return writeJSON(w, toleranceDoc(&res))
 		}
 		return toleranceTables(w, &res)
-	})
+	}); err != nil {
+		return err
+	}
+	if e.ctx.Err() != nil {
+		// The figures are partial: a script must not take them for a full run.
+		return errInterrupted
+	}
+	return nil
 }
 
 // extras runs the analyses asked for besides Monte Carlo. An interrupt
@@ -284,7 +292,7 @@ func toleranceDoc(r *toleranceResult) toleranceJSON {
 	}
 	if r.sens != nil {
 		for _, m := range r.sens.Metrics {
-			s := sensitivityJSON{Name: m.Metric, Unit: m.Unit, Items: []itemSensitivityJSON{}}
+			s := sensitivityJSON{Name: m.Metric, Unit: m.Unit, Items: []itemSensitivityJSON{}, Undefined: m.Undefined}
 			for _, it := range m.Items {
 				s.Items = append(s.Items, itemSensitivityJSON{Item: it.Item, Value: it.Value})
 			}
@@ -362,6 +370,10 @@ func toleranceTables(w io.Writer, r *toleranceResult) error {
 	if r.sens != nil {
 		for _, m := range r.sens.Metrics {
 			fmt.Fprintf(w, "\nSensitivity of %s (%s)\n", m.Metric, m.Unit)
+			if m.Undefined != "" {
+				fmt.Fprintf(w, "  n/a: %s\n", m.Undefined)
+				continue
+			}
 			t := newTable(w, "item", m.Unit)
 			for _, it := range m.Items {
 				if err := t.row(it.Item, fixed(it.Value, 4)); err != nil {

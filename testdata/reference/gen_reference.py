@@ -263,16 +263,16 @@ def sallen_key_lp():
 
 def sensor_bridge_rc():
     R1, R2, Rg, R3, Cd = sym("R1 R2 Rg R3 Cd")
-    E1 = sp.Symbol("E1")
+    Amp1 = sp.Symbol("Amp1")
     Vexc, Va, Vb, Vout = sp.symbols("Vexc Va Vb Vout")
     eqs = [
         # KCL at a: (Va - Vexc)/R1 + Va/R2 + s*Cd*(Va - Vb) = 0
         (Va - Vexc) / R1 + Va / R2 + s * Cd * (Va - Vb),
         # KCL at b: (Vb - Vexc)/Rg + Vb/R3 + s*Cd*(Vb - Va) = 0
         (Vb - Vexc) / Rg + Vb / R3 + s * Cd * (Vb - Va),
-        # vcvs E1 (out, gnd) sense (a, b): V(out) = E1*(V(a) - V(b));
+        # vcvs Amp1 (out, gnd) sense (a, b): V(out) = Amp1*(V(a) - V(b));
         # its sense terminals draw no current, its output current is free.
-        Vout - E1 * (Va - Vb),
+        Vout - Amp1 * (Va - Vb),
     ]
     sol = sp.solve(eqs, [Va, Vb, Vout], dict=True)[0]
     H = sol[Vout] / Vexc
@@ -281,14 +281,14 @@ def sensor_bridge_rc():
         # Thevenin equivalent of each bridge half (common practice):
         # V(a)-V(b) = (R2/(R1+R2) - R3/(Rg+R3)) / (1 + s*Cd*(R1||R2 + Rg||R3)).
         Ra, Rb = R1 * R2 / (R1 + R2), Rg * R3 / (Rg + R3)
-        same_rational(H, E1 * (R2 / (R1 + R2) - R3 / (Rg + R3)) / (1 + s * Cd * (Ra + Rb)), "bridge")
+        same_rational(H, Amp1 * (R2 / (R1 + R2) - R3 / (Rg + R3)) / (1 + s * Cd * (Ra + Rb)), "bridge")
         fc = 1 / (2 * sp.pi * v[Cd] * (Ra + Rb).subs(v))
         pole = roots_of(numeric_den(H, v))[0][0]
         close(-pole / (2 * sp.pi), fc, what="bridge RC corner")
         return [
             {"what": "corner_hz", "value": float(fc),
              "source": "first-order RC corner 1/(2 pi R C) with R the Thevenin resistance (common practice)"},
-            {"what": "gain_dc", "value": float((E1 * (R2 / (R1 + R2) - R3 / (Rg + R3))).subs(v)),
+            {"what": "gain_dc", "value": float((Amp1 * (R2 / (R1 + R2) - R3 / (Rg + R3))).subs(v)),
              "source": "bridge imbalance times amplifier gain (common practice)"},
         ]
 
@@ -296,9 +296,9 @@ def sensor_bridge_rc():
                 parts={"Vexc": ("vsource", ["top", "gnd"]), "R1": ("resistor", ["top", "a"]),
                        "R2": ("resistor", ["a", "gnd"]), "Rg": ("resistor", ["top", "b"]),
                        "R3": ("resistor", ["b", "gnd"]), "Cd": ("capacitor", ["a", "b"]),
-                       "E1": ("vcvs", ["out", "gnd"])},
-                symbols=[R1, R2, Rg, R3, Cd, E1], H=H, order=1, checks=checks,
-                sense={"E1": ["a", "b"]})
+                       "Amp1": ("vcvs", ["out", "gnd"])},
+                symbols=[R1, R2, Rg, R3, Cd, Amp1], H=H, order=1, checks=checks,
+                sense={"Amp1": ["a", "b"]})
 
 
 def mfb_bandpass():
@@ -501,13 +501,13 @@ def twin_t_notch():
 
 def buffered_rc2():
     R1, C1, R2, C2 = sym("R1 C1 R2 C2")
-    E1 = sp.Symbol("E1")
+    Buf1 = sp.Symbol("Buf1")
     Vin, Va, Vb, Vout = sp.symbols("Vin Va Vb Vout")
     eqs = [
         # KCL at a (the vcvs sense draws no current): (Va - Vin)/R1 + s*C1*Va = 0
         (Va - Vin) / R1 + s * C1 * Va,
-        # vcvs E1 (b, gnd) sense (a, gnd): V(b) = E1*V(a); its output current is free.
-        Vb - E1 * Va,
+        # vcvs Buf1 (b, gnd) sense (a, gnd): V(b) = Buf1*V(a); its output current is free.
+        Vb - Buf1 * Va,
         # KCL at out: (Vout - Vb)/R2 + s*C2*Vout = 0
         (Vout - Vb) / R2 + s * C2 * Vout,
     ]
@@ -516,9 +516,9 @@ def buffered_rc2():
 
     def checks(H, v):
         # Cascade of buffered first-order sections (common practice):
-        # H = E1 / ((1 + s R1 C1)(1 + s R2 C2)); for equal sections a double pole at -1/(RC)
+        # H = Buf1 / ((1 + s R1 C1)(1 + s R2 C2)); for equal sections a double pole at -1/(RC)
         # and the step response 1 - (1 + t/tau) e^(-t/tau), tau = RC.
-        same_rational(H, E1 / ((1 + s * R1 * C1) * (1 + s * R2 * C2)), "buffered RC")
+        same_rational(H, Buf1 / ((1 + s * R1 * C1) * (1 + s * R2 * C2)), "buffered RC")
         poles, mult = roots_of(numeric_den(H, v))
         tau = v[R1] * v[C1]
         assert mult == [2] and len(poles) == 2, "repeated pole expected"
@@ -535,9 +535,9 @@ def buffered_rc2():
 
     return dict(file="buffered_rc2.nodal", input="Vin", output="out",
                 parts={"Vin": ("vsource", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
-                       "C1": ("capacitor", ["a", "gnd"]), "E1": ("vcvs", ["b", "gnd"]),
+                       "C1": ("capacitor", ["a", "gnd"]), "Buf1": ("vcvs", ["b", "gnd"]),
                        "R2": ("resistor", ["b", "out"]), "C2": ("capacitor", ["out", "gnd"])},
-                symbols=[R1, R2, C1, C2, E1], H=H, order=2, checks=checks, sense={"E1": ["a", "gnd"]},
+                symbols=[R1, R2, C1, C2, Buf1], H=H, order=2, checks=checks, sense={"Buf1": ["a", "gnd"]},
                 step_closed=step_closed)
 
 
@@ -551,7 +551,7 @@ def coupled_pair():
         s * C1 * (Vp - Va) + I1,
         # KCL at sec (I2 into L2 at its dotted terminal sec): I2 + s*C2*Vsec + Vsec/RL = 0
         I2 + s * C2 * Vsec + Vsec / RL,
-        # L1 (p, gnd): V(p) = s*L1*I1 + s*M*I2, with M = K1*sqrt(L1*L2)
+        # L1 (p, gnd): V(p) = s*L1*I1 + s*M*I2, with M = Link1*sqrt(L1*L2)
         Vp - (s * L1 * I1 + s * M * I2),
         # L2 (sec, gnd): V(sec) = s*M*I1 + s*L2*I2
         Vsec - (s * M * I1 + s * L2 * I2),
@@ -578,7 +578,7 @@ def coupled_pair():
 
     def values(p):
         v = part_values(p, [R1, C1, L1, L2, C2, RL])
-        k = exact(p["K1"]["value"])
+        k = exact(p["Link1"]["value"])
         v[M] = k * sp.sqrt(v[L1] * v[L2])
         return v
 
@@ -586,9 +586,9 @@ def coupled_pair():
                 parts={"Vin": ("vsource", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
                        "C1": ("capacitor", ["a", "p"]), "L1": ("inductor", ["p", "gnd"]),
                        "L2": ("inductor", ["sec", "gnd"]), "C2": ("capacitor", ["sec", "gnd"]),
-                       "RL": ("resistor", ["sec", "gnd"]), "K1": ("coupling", ["L1", "L2"])},
+                       "RL": ("resistor", ["sec", "gnd"]), "Link1": ("coupling", ["L1", "L2"])},
                 symbols=[R1, RL, L1, L2, M, C1, C2], H=H, order=4, values=values, checks=checks,
-                derived={"M": "K1*sqrt(L1*L2)"})
+                derived={"M": "Link1*sqrt(L1*L2)"})
 
 
 def finite_gain_inverting():
@@ -632,7 +632,7 @@ def finite_gain_inverting():
 
 def photodiode_hybrid_pi():
     Rpi, Rc, Rd, Cd, Cmu = sym("Rpi Rc Rd Cd Cmu")
-    Gm, Fm, Hs = sp.symbols("Gm Fm Hs")
+    Gm, Mirror1, Tz1 = sp.symbols("Gm Mirror1 Tz1")
     Iph, Vb, Vc, Vd, Vout = sp.symbols("Iph Vb Vc Vd Vout")
     I_Rc = Vc / Rc  # current through Rc, into its first terminal c, out to gnd
     I_Rd = Vd / Rd  # current through Rd, d to gnd
@@ -642,10 +642,10 @@ def photodiode_hybrid_pi():
         # KCL at c (vccs Gm (gnd, c) pushes Gm*Vb into gnd, so it draws Gm*Vb out of c):
         # s*Cmu*(Vc - Vb) + Gm*Vb + Vc/Rc = 0
         s * Cmu * (Vc - Vb) + Gm * Vb + I_Rc,
-        # KCL at d (cccs Fm (d, gnd) pushes Fm*I(Rc) into d): Vd/Rd - Fm*I(Rc) = 0
-        I_Rd - Fm * I_Rc,
-        # ccvs Hs (out, gnd) sense Rd: V(out) = Hs*I(Rd); output current free.
-        Vout - Hs * I_Rd,
+        # KCL at d (cccs Mirror1 (d, gnd) pushes Mirror1*I(Rc) into d): Vd/Rd - Mirror1*I(Rc) = 0
+        I_Rd - Mirror1 * I_Rc,
+        # ccvs Tz1 (out, gnd) sense Rd: V(out) = Tz1*I(Rd); output current free.
+        Vout - Tz1 * I_Rd,
     ]
     sol = sp.solve(eqs, [Vb, Vc, Vd, Vout], dict=True)[0]
     H = sol[Vout] / Iph
@@ -655,15 +655,15 @@ def photodiode_hybrid_pi():
         # Microelectronic Circuits, CE high-frequency response), driven by a
         # current into R's = Rpi (Cpi = Cd here):
         # Vc/I = -Rpi*Rc*(Gm - s*Cmu) / (1 + s*((Cd + Cmu)*Rpi + Cmu*Rc + Gm*Rpi*Rc*Cmu) + s^2*Cd*Cmu*Rpi*Rc);
-        # then V(out) = Hs*Fm*Vc/Rc (mirror and readout, common practice).
+        # then V(out) = Tz1*Mirror1*Vc/Rc (mirror and readout, common practice).
         d = 1 + s * ((Cd + Cmu) * Rpi + Cmu * Rc + Gm * Rpi * Rc * Cmu) + s**2 * Cd * Cmu * Rpi * Rc
-        same_rational(H, Hs * Fm / Rc * (-Rpi * Rc * (Gm - s * Cmu)) / d, "hybrid-pi")
+        same_rational(H, Tz1 * Mirror1 / Rc * (-Rpi * Rc * (Gm - s * Cmu)) / d, "hybrid-pi")
         zeros, _ = roots_of([x / v[Cmu] for x in [-v[Gm] * v[Rpi] * v[Rc], v[Cmu] * v[Rpi] * v[Rc]]])
         close(zeros[0], v[Gm] / v[Cmu], what="RHP zero")
         return [
             {"what": "zero_rad_s", "value": float(v[Gm] / v[Cmu]),
              "source": "Sedra & Smith, Microelectronic Circuits: CE transmission zero at s = gm/Cmu"},
-            {"what": "gain_dc", "value": float(-v[Hs] * v[Fm] * v[Gm] * v[Rpi]),
+            {"what": "gain_dc", "value": float(-v[Tz1] * v[Mirror1] * v[Gm] * v[Rpi]),
              "source": "-gm*rpi*Rc times mirror and readout, V/A (common practice)"},
         ]
 
@@ -671,10 +671,10 @@ def photodiode_hybrid_pi():
                 parts={"Iph": ("isource", ["b", "gnd"]), "Cd": ("capacitor", ["b", "gnd"]),
                        "Rpi": ("resistor", ["b", "gnd"]), "Cmu": ("capacitor", ["b", "c"]),
                        "Gm": ("vccs", ["gnd", "c"]), "Rc": ("resistor", ["c", "gnd"]),
-                       "Fm": ("cccs", ["d", "gnd"]), "Rd": ("resistor", ["d", "gnd"]),
-                       "Hs": ("ccvs", ["out", "gnd"])},
-                symbols=[Rpi, Rc, Rd, Cd, Cmu, Gm, Fm, Hs], H=H, order=2, checks=checks,
-                sense={"Gm": ["b", "gnd"], "Fm": "Rc", "Hs": "Rd"})
+                       "Mirror1": ("cccs", ["d", "gnd"]), "Rd": ("resistor", ["d", "gnd"]),
+                       "Tz1": ("ccvs", ["out", "gnd"])},
+                symbols=[Rpi, Rc, Rd, Cd, Cmu, Gm, Mirror1, Tz1], H=H, order=2, checks=checks,
+                sense={"Gm": ["b", "gnd"], "Mirror1": "Rc", "Tz1": "Rd"})
 
 
 CIRCUITS = [sallen_key_lp, sensor_bridge_rc, mfb_bandpass, rlc_pickup, lc_ladder3,

@@ -3,6 +3,7 @@ package plot
 import (
 	"fmt"
 	"math"
+	"strconv"
 
 	gplot "gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -113,7 +114,7 @@ func Bode(traces []BodeTrace, opt BodeOptions) (*Figure, error) {
 				return nil, err
 			}
 		}
-		if err := markBode(mp, pp, labels[i], tr); err != nil {
+		if err := markBode(mp, pp, labels[i], tr, len(traces) > 1); err != nil {
 			return nil, err
 		}
 	}
@@ -166,10 +167,15 @@ func addTrace(pn *panel, name string, pts [][2]float64, st traceStyle, i, n int,
 	return nil
 }
 
-// markBode marks the −3 dB frequencies and the peak of tr.
-func markBode(mp, pp *panel, label string, tr BodeTrace) error {
+// markBode marks the −3 dB frequencies and the peak of tr; with several
+// traces each note starts with the trace's label.
+func markBode(mp, pp *panel, label string, tr BodeTrace, named bool) error {
 	var pts [][2]float64
 	var notes []string
+	prefix := ""
+	if named {
+		prefix = label + ": "
+	}
 	for _, f := range tr.Minus3dBHz {
 		y := interpLogX(tr.FreqHz, tr.MagDB, f)
 		if !finite(y) {
@@ -177,7 +183,7 @@ func markBode(mp, pp *panel, label string, tr BodeTrace) error {
 				label, f, tr.FreqHz[0], tr.FreqHz[len(tr.FreqHz)-1])
 		}
 		pts = append(pts, [2]float64{f, y})
-		notes = append(notes, "-3 dB at "+EngFormat(f, 4, "Hz"))
+		notes = append(notes, prefix+"-3 dB at "+EngFormat(f, 4, "Hz"))
 		for _, pn := range []*panel{mp, pp} {
 			pn.p.Add(refLine{vertical: true, at: f, style: markLineStyle()})
 		}
@@ -189,7 +195,7 @@ func markBode(mp, pp *panel, label string, tr BodeTrace) error {
 	}
 	if tr.PeakHz != nil && tr.PeakDB != nil {
 		pk := [][2]float64{{*tr.PeakHz, *tr.PeakDB}}
-		note := "peak " + EngFormat(*tr.PeakDB, 3, "dB") + " at " + EngFormat(*tr.PeakHz, 4, "Hz")
+		note := prefix + "peak " + strconv.FormatFloat(*tr.PeakDB, 'f', 2, 64) + " dB at " + EngFormat(*tr.PeakHz, 4, "Hz")
 		if err := addMarks(mp, label+"/peak", pk, []string{note}, draw.PyramidGlyph{}); err != nil {
 			return err
 		}

@@ -34,6 +34,10 @@ type Data struct {
 	Transfer *Transfer
 	Roots    []Root
 	Bode     Plot
+	// Response is a short table of the frequency response (for instance one
+	// point per decade and the −3 dB points), shown under the Bode plot and
+	// in the text report.
+	Response []ResponsePoint
 	PoleZero Plot
 	Step     *Step
 	// MonteCarlo is the tolerance analysis, when the file has tolerances.
@@ -164,4 +168,10 @@ type Verdict struct {
 	Unit        string
 	Pass        bool
 	Yield       *float64
+}
+
+// ResponsePoint is one row of the frequency-response table: frequency in
+// Hz, magnitude in dB and phase in degrees.
+type ResponsePoint struct {
+	FreqHz, MagDB, PhaseDeg float64
 }

@@ -127,8 +127,20 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 		secs = append(secs, section{ID: "roots", Heading: "Poles and zeros", Figures: []Plot{d.PoleZero}})
 	}
 
-	if d.Bode.present() {
-		secs = append(secs, section{ID: "bode", Heading: "Frequency response", Figures: []Plot{d.Bode}})
+	if d.Bode.present() || len(d.Response) > 0 {
+		s := section{ID: "bode", Heading: "Frequency response"}
+		if d.Bode.present() {
+			s.Figures = append(s.Figures, d.Bode)
+		}
+		if len(d.Response) > 0 {
+			t := table{Header: []string{"frequency", "magnitude", "phase"}, Right: []bool{true, true, true}}
+			for _, p := range d.Response {
+				t.Rows = append(t.Rows, row{Cells: []string{plot.EngFormat(p.FreqHz, 4, "Hz"),
+					fixedDecimals(p.MagDB, 3) + " dB", fixedDecimals(p.PhaseDeg, 2) + "°"}})
+			}
+			s.Tables = append(s.Tables, t)
+		}
+		secs = append(secs, s)
 	}
 
 	if st := d.Step; st != nil {
@@ -205,6 +217,9 @@ func formatValue(v float64, unit string) string { return formatDigits(v, 4, unit
 
 // formatDigits is formatValue with the given significant digits.
 func formatDigits(v float64, digits int, unit string) string {
+	if math.IsNaN(v) {
+		return "—" // no value: the note says why
+	}
 	if siUnits[unit] {
 		return plot.EngFormat(v, digits, unit)
 	}
@@ -216,4 +231,14 @@ func formatDigits(v float64, digits int, unit string) string {
 		return s + unit
 	}
 	return s + " " + unit
+}
+
+// fixedDecimals writes v with the given decimals, without the sign of a
+// value that rounds to zero ("-0.000" reads as a sign where there is none).
+func fixedDecimals(v float64, decimals int) string {
+	t := strconv.FormatFloat(v, 'f', decimals, 64)
+	if strings.Trim(t, "-0.") == "" {
+		return strings.TrimPrefix(t, "-")
+	}
+	return t
 }
