@@ -16,7 +16,7 @@ import (
 var lexDef = lexer.MustSimple([]lexer.SimpleRule{
 	{Name: "Comment", Pattern: `#[^\n]*`},
 	{Name: "Newline", Pattern: `\n`},
-	{Name: "Space", Pattern: `[ \t\r\f\v]+`},
+	{Name: "Space", Pattern: `[ \t\r\f\v\x{FEFF}]+`},
 	{Name: "String", Pattern: `"(\\.|[^"\\\n])*"`},
 	{Name: "PlusMinus", Pattern: `±|\+-`},
 	{Name: "Range", Pattern: `\.\.`},
