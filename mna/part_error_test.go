@@ -19,12 +19,12 @@ func TestPartErrorWrapsLookup(t *testing.T) {
 		name, part, what, missing, msg string
 		sense                          func() netlist.Part
 	}{
-		{"cccs names no part", "F1", "part", "Rx", `sense="Rx" names no part with a current`,
-			func() netlist.Part { return testcircuit.CCCS("F1", "out", gnd, 2, "Rx") }},
+		{"cccs names no part", "Mirror1", "part", "Rx", `sense="Rx" names no part with a current`,
+			func() netlist.Part { return testcircuit.CCCS("Mirror1", "out", gnd, 2, "Rx") }},
 		// Build registers every named sense node, so only an empty name
 		// (a Circuit not made by Elaborate) misses.
-		{"vcvs names no node", "E1", "node", "", `sense node "" does not exist`,
-			func() netlist.Part { return testcircuit.VCVS("E1", "o2", gnd, 2, "", gnd) }},
+		{"vcvs names no node", "Gain1", "node", "", `sense node "" does not exist`,
+			func() netlist.Part { return testcircuit.VCVS("Gain1", "o2", gnd, 2, "", gnd) }},
 	}
 	for _, tc := range cases {
 		c := testcircuit.New(testcircuit.V("Vs", "in", gnd, 1), testcircuit.R("R1", "in", "out", 1e3),

@@ -234,7 +234,7 @@ func TestCoupledInductors(t *testing.T) {
 	for _, k := range []float64{1, 0.999, 0.5, -0.8} {
 		c := testcircuit.New(testcircuit.V("Vs", "p", gnd, 1),
 			testcircuit.L("L1", "p", gnd, l1), testcircuit.L("L2", "sec", gnd, l2),
-			testcircuit.K("K1", "L1", "L2", k), testcircuit.R("RL", "sec", gnd, rl))
+			testcircuit.K("Link1", "L1", "L2", k), testcircuit.R("RL", "sec", gnd, rl))
 		sys := build(t, c, mna.Input{}, "sec", "")
 		m := k * math.Sqrt(l1*l2)
 		for _, f := range []float64{10, 1e3, 1e5} {
@@ -263,14 +263,14 @@ func TestControlledSources(t *testing.T) {
 		part netlist.Part
 		want float64 // v(out)
 	}{
-		{"vcvs", testcircuit.VCVS("E1", "out", gnd, 5, "in", gnd), 5},
-		{"vcvs reversed sense", testcircuit.VCVS("E1", "out", gnd, 5, gnd, "in"), -5},
+		{"vcvs", testcircuit.VCVS("Gain1", "out", gnd, 5, "in", gnd), 5},
+		{"vcvs reversed sense", testcircuit.VCVS("Gain1", "out", gnd, 5, gnd, "in"), -5},
 		// gm·v(in) is pushed into out (language: "pushes GM·(v_c − v_d) into a").
-		{"vccs", testcircuit.VCCS("G1", "out", gnd, 1e-3, "in", gnd), 1e-3 * r2},
-		{"ccvs of a resistor", testcircuit.CCVS("H1", "out", gnd, 4e3, "R1"), 4e3 / r1},
+		{"vccs", testcircuit.VCCS("Gm1", "out", gnd, 1e-3, "in", gnd), 1e-3 * r2},
+		{"ccvs of a resistor", testcircuit.CCVS("Tz1", "out", gnd, 4e3, "R1"), 4e3 / r1},
 		// i(Vs) enters the + terminal from the circuit: −1/R1.
-		{"ccvs of a vsource", testcircuit.CCVS("H1", "out", gnd, 4e3, "Vs"), -4e3 / r1},
-		{"cccs", testcircuit.CCCS("F1", "out", gnd, 10, "R1"), 10 * r2 / r1},
+		{"ccvs of a vsource", testcircuit.CCVS("Tz1", "out", gnd, 4e3, "Vs"), -4e3 / r1},
+		{"cccs", testcircuit.CCCS("Mirror1", "out", gnd, 10, "R1"), 10 * r2 / r1},
 	}
 	for _, tc := range cases {
 		parts := append(append([]netlist.Part{}, base...), tc.part, testcircuit.R("R2", "out", gnd, r2))
@@ -369,7 +369,7 @@ func TestReciprocity(t *testing.T) {
 		testcircuit.R("R1", "a", gnd, 1e3), testcircuit.C("C1", "a", "b", 47e-9),
 		testcircuit.L("L1", "b", "c", 10e-3), testcircuit.R("R2", "c", gnd, 220),
 		testcircuit.C("C2", "b", gnd, 10e-9), testcircuit.L("L2", "a", "d", 3e-3),
-		testcircuit.R("R3", "d", "c", 470), testcircuit.K("K1", "L1", "L2", 0.4),
+		testcircuit.R("R3", "d", "c", 470), testcircuit.K("Link1", "L1", "L2", 0.4),
 	)
 	z21 := build(t, c, mna.Input{Inject: "a"}, "d", "")
 	z12 := build(t, c, mna.Input{Inject: "d"}, "a", "")

@@ -24,7 +24,7 @@ func TestStructureErrors(t *testing.T) {
 	}{
 		{"floating node", tc(v("Vs", "in", gnd, 1), r("R1", "in", gnd, 1e3), r("R2", "x", "y", 1e3), r("R3", "y", "x", 1e3)),
 			"in", []string{`nodes "x", "y" are not connected to gnd by any part`}},
-		{"single floating node", tc(v("Vs", "in", gnd, 1), r("R1", "in", gnd, 1e3), testcircuit.VCVS("E1", "o", gnd, 2, "in", "x")),
+		{"single floating node", tc(v("Vs", "in", gnd, 1), r("R1", "in", gnd, 1e3), testcircuit.VCVS("Gain1", "o", gnd, 2, "in", "x")),
 			"o", []string{`node "x" is not connected to gnd by any part`}},
 		{"vsource loop", tc(v("Vs", "in", gnd, 1), v("V2", "in", "a", 1), v("V3", "a", gnd, 1), r("R1", "in", gnd, 1e3)),
 			"in", []string{"V3, Vs, V2", "form a loop", `"a"`, "every frequency"}},
@@ -127,9 +127,9 @@ func TestPartErrors(t *testing.T) {
 	bad := []netlist.Part{
 		{Name: "R9", Kind: netlist.Resistor, Nodes: []string{"in"}, Value: 1},
 		{Name: "R9", Kind: netlist.Resistor, Nodes: []string{"in", gnd}, Value: 0},
-		{Name: "F9", Kind: netlist.CCCS, Nodes: []string{"in", gnd}, Value: 1, Control: "nobody"},
-		{Name: "K9", Kind: netlist.Coupling, Value: 0.5, Coupled: [2]string{"R1", "R1"}},
-		{Name: "K9", Kind: netlist.Coupling, Value: 1.5},
+		{Name: "Mirror9", Kind: netlist.CCCS, Nodes: []string{"in", gnd}, Value: 1, Control: "nobody"},
+		{Name: "Link9", Kind: netlist.Coupling, Value: 0.5, Coupled: [2]string{"R1", "R1"}},
+		{Name: "Link9", Kind: netlist.Coupling, Value: 1.5},
 		{Name: "Q9", Kind: netlist.Kind(99), Nodes: []string{"in", gnd}},
 	}
 	for _, p := range bad {

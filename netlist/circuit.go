@@ -85,7 +85,7 @@ const Ground = "gnd"
 
 // Part is one flat, evaluated element of a circuit.
 //
-// Invariants after Elaborate: Name is unique and hierarchical ("X1.R1");
+// Invariants after Elaborate: Name is unique and hierarchical ("LP1.R1");
 // Nodes holds the terminal node names in the order of the kind's terminals
 // (the reference node is always Ground); Value is in SI units, finite, and
 // > 0 for resistors, capacitors and inductors.
@@ -140,7 +140,7 @@ type Param struct {
 // Variation is one toleranced item of a circuit: a part with its own
 // tolerance, or a toleranced parameter (one shared draw for every use).
 type Variation struct {
-	Name    string  // part name ("X1.R1") or parameter name ("C")
+	Name    string  // part name ("LP1.R1") or parameter name ("C")
 	IsParam bool    // true for a toleranced `let`
 	Nominal float64 // SI value
 	Tol     Tolerance

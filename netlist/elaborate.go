@@ -155,7 +155,7 @@ func (e *elab) checkOverrides() {
 
 // scope is the name space of the top level or of one block instance.
 type scope struct {
-	prefix string             // "" at the top level, "X1." inside instance X1
+	prefix string             // "" at the top level, "LP1." inside instance LP1
 	vars   map[string]varInfo // parameters defined here
 	order  []string           // their names, in order
 	parent *scope             // the top level, for block scopes

@@ -119,7 +119,7 @@ func TestPlanValues(t *testing.T) {
 		"R1: resistor (in, a) 4.7k ±1%   # literal", // rule 1, tolerance and comment kept
 		"R2: resistor (a, b) Rb\n",
 		"C1: capacitor (a, gnd) 2.2*Cs       # expression", // rule 3: still one draw with Cs
-		"LP1: stage (d, y) R=3.32k\n",                    // rule 4
+		"LP1: stage (d, y) R=3.32k\n",                      // rule 4
 		"LP2: stage (y, z)\n",
 	} {
 		if !strings.Contains(text, want) {

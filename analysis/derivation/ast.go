@@ -34,7 +34,7 @@ type Number struct {
 	Text  string
 }
 
-// Name is a parameter, part (dotted hierarchical names such as X1.R1),
+// Name is a parameter, part (dotted hierarchical names such as LP1.R1),
 // signal or, in a transfer function, the Laplace variable s.
 type Name struct {
 	At   Pos

@@ -9,7 +9,7 @@ import (
 // values is a small circuit-like name table for the tests.
 var values = map[string]float64{
 	"R1": 10e3, "R2": 22e3, "C1": 10e-9, "C2": 4.7e-9, "L1": 1e-3,
-	"X1.R1": 4.7e3, "a1": 3, "a0": 2, "b0": 5, "w0": 1000, "zeta": 0.5, "K": 2,
+	"LP1.R1": 4.7e3, "a1": 3, "a0": 2, "b0": 5, "w0": 1000, "zeta": 0.5, "K": 2,
 }
 
 func lookup(name string) (float64, bool) { v, ok := values[name]; return v, ok }
@@ -72,7 +72,7 @@ func TestODEForms(t *testing.T) {
 		{"y' = (u - y)/(R1*C1)", []float64{1 / RC}, []float64{1 / RC, 1}, "y", "u"},
 		{"R1*C1*y' + y - u = 0", []float64{1}, []float64{1, RC}, "y", "u"},
 		{"4.7k*10n*dv_out/dt + v_out = v_in", []float64{1}, []float64{1, 4.7e-5}, "v_out", "v_in"},
-		{"X1.R1*C1*y' + y = K*u", []float64{2}, []float64{1, 4.7e3 * 10e-9}, "y", "u"},
+		{"LP1.R1*C1*y' + y = K*u", []float64{2}, []float64{1, 4.7e3 * 10e-9}, "y", "u"},
 		{"-(y' + y) = -u", []float64{-1}, []float64{-1, -1}, "y", "u"}, // scale as written
 		{"y' + y = sqrt(K)*pi*u", []float64{math.Sqrt2 * math.Pi}, []float64{1, 1}, "y", "u"},
 		{"y'+y=100µ*u+1m*u", []float64{1.1e-3}, []float64{1, 1}, "y", "u"},
@@ -241,7 +241,7 @@ func TestCoefficientExpressions(t *testing.T) {
 // TestWalkNodeSet checks that Walk reaches every node kind and only the
 // documented kinds appear in reduced coefficients.
 func TestWalkNodeSet(t *testing.T) {
-	eq, err := ParseODE("ode", "R1*C1*y' + sqrt(K)*y = -u + 0*X1.R1^2")
+	eq, err := ParseODE("ode", "R1*C1*y' + sqrt(K)*y = -u + 0*LP1.R1^2")
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -25,7 +25,7 @@
 //     letter, no units: 4.7k, 10n, 2.2e-7, 1.5M, 100µ (or 100u). Prefixes:
 //     f p n u µ m k M G T (case matters: m is milli, M is mega). Anything
 //     else glued to a number (10nF, 2s) is an error.
-//   - Names: letters, digits and _, dotted for hierarchy (X1.R1). The name
+//   - Names: letters, digits and _, dotted for hierarchy (LP1.R1). The name
 //     pi is the constant π; sqrt(x) is the only function. In a transfer
 //     function the name s is always the Laplace variable (rad/s).
 //   - Derivatives, each one token (no spaces inside except around the "/"

@@ -8,7 +8,7 @@ import (
 
 // A first-order RC section read at its own node a, with a loaded buffer
 // stage hanging off it that a does not see: H = 1/(1 + s·R1·C1) (common
-// practice). The stage's factor R2 + s·L1·(1 + F1) appears in both N and D
+// practice). The stage's factor R2 + s·L1·(1 + Mirror1) appears in both N and D
 // of the determinant quotient and must be cancelled as a whole.
 func TestCancelWholeNumerator(t *testing.T) {
 	src := `Vin: vsource (in, gnd) 1

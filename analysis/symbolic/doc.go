@@ -1,7 +1,7 @@
 // Package symbolic derives a circuit's transfer function H(s) = N(s)/D(s)
 // in the parts' own names: N and D are polynomials in s whose coefficients
 // are exact polynomials, with rational coefficients, in part values (R1, C2,
-// X1.L3), controlled-source gains (E1) and op-amp parameters (U1.a0).
+// LP1.L3), controlled-source gains (Gain1) and op-amp parameters (U1.a0).
 //
 // # Method
 //
@@ -25,11 +25,11 @@
 // # Symbols
 //
 //   - resistor, capacitor, inductor, vcvs, vccs, ccvs, cccs: the part name
-//     ("R1", "C2", "E1"); capacitors enter as s·C, inductors as a branch
+//     ("R1", "C2", "Gain1"); capacitors enter as s·C, inductors as a branch
 //     v = s·L·i, so L is polynomial too.
 //   - coupling: the mutual inductance M = K·√(L1·L2) is not polynomial in
 //     K, L1 and L2, so it is its own symbol, the coupling's name followed by
-//     ".M" ("K1.M"). When it is substituted numerically it uses the nominal
+//     ".M" ("Link1.M"). When it is substituted numerically it uses the nominal
 //     inductances.
 //   - opamp: an ideal op-amp (no a0, no gbw) is a nullor (v+ = v−, free
 //     output current) and contributes no symbol. A finite DC gain is the

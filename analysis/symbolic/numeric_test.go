@@ -276,7 +276,7 @@ func numericCases() []numericCase {
 		cases = append(cases, numericCase{name: tc.name, c: tc.c, in: tc.in, out: tc.out})
 	}
 	transformer := circuit(vsrc("V1", "in", "gnd"), res("R1", "in", "p", 50), ind("L1", "p", "gnd", 2e-3),
-		ind("L2", "sec", "gnd", 8e-3), coupling("K1", "L1", "L2", 0.95), res("R2", "sec", "gnd", 200),
+		ind("L2", "sec", "gnd", 8e-3), coupling("Link1", "L1", "L2", 0.95), res("R2", "sec", "gnd", 200),
 		capa("C1", "sec", "gnd", 1e-7))
 	cases = append(cases,
 		numericCase{name: "coupled inductors", c: transformer, out: nodeOut("sec")},
@@ -291,10 +291,10 @@ func numericCases() []numericCase {
 			out: nodeOut("out")},
 		numericCase{name: "controlled sources: vccs into RC, ccvs and cccs",
 			c: circuit(isrc("I1", "a", "gnd"), res("R1", "a", "gnd", 1e3), capa("C1", "a", "gnd", 1e-9),
-				vccs("G1", "b", "gnd", "a", "gnd", 2e-3), res("R2", "b", "gnd", 5e3),
+				vccs("Gm1", "b", "gnd", "a", "gnd", 2e-3), res("R2", "b", "gnd", 5e3),
 				vsrc("Vs", "b", "m"), res("R3", "m", "gnd", 1e3),
-				ccvs("H1", "c", "gnd", "Vs", 300), res("R4", "c", "d", 1e3), capa("C2", "d", "gnd", 1e-8),
-				cccs("F1", "e", "gnd", "R4", 4), res("R5", "e", "gnd", 2e3), ind("L1", "e", "gnd", 1e-2)),
+				ccvs("Tz1", "c", "gnd", "Vs", 300), res("R4", "c", "d", 1e3), capa("C2", "d", "gnd", 1e-8),
+				cccs("Mirror1", "e", "gnd", "R4", 4), res("R5", "e", "gnd", 2e3), ind("L1", "e", "gnd", 1e-2)),
 			in: mna.Input{Source: "I1"}, out: nodeOut("e")},
 		numericCase{name: "differential output, node pair",
 			c: circuit(vsrc("V1", "in", "gnd"), res("R1", "in", "a", 1e3), capa("C1", "a", "gnd", 1e-7),

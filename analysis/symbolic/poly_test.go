@@ -80,7 +80,7 @@ func TestFormat(t *testing.T) {
 		{sum(m("R2", "C1"), m("R1", "C1"), m("R2", "C2")), []string{"R1", "R2", "C1", "C2"}, "R1*C1 + R2*C1 + R2*C2"},
 		{sum(m("R10"), m("R2")), nil, "R2 + R10"},
 		{sum(prod(-1, "a", "b"), Const(big.NewRat(1, 4)), Const(big.NewRat(1, 3)).Mul(m("a", "a"))), nil, "0.25 + 1/3*a*a - a*b"},
-		{prod(-2, "X1.R3", "U1.a0"), []string{"X1.R3"}, "-2*X1.R3*U1.a0"},
+		{prod(-2, "LP1.R3", "U1.a0"), []string{"LP1.R3"}, "-2*LP1.R3*U1.a0"},
 	} {
 		if got := tc.p.Format(tc.first); got != tc.want {
 			t.Errorf("Format = %q, want %q", got, tc.want)
@@ -99,8 +99,8 @@ func TestFormat(t *testing.T) {
 }
 
 func TestNaturalOrder(t *testing.T) {
-	names := []string{"R10", "R2", "C1", "R1", "X1.R3", "R01"}
-	want := "C1 R01 R1 R2 R10 X1.R3" // numeric tie broken by bytes
+	names := []string{"R10", "R2", "C1", "R1", "X9.R3", "R01"}
+	want := "C1 R01 R1 R2 R10 X9.R3" // numeric tie broken by bytes; letters by bytes
 	for i := range names {
 		for j := i + 1; j < len(names); j++ {
 			if varLess(names[j], names[i]) {

@@ -65,7 +65,7 @@ func TestSympyGoldens(t *testing.T) {
 		"lossy integrator, finite a0": circuit(vsrc("V1", "in", "gnd"), res("R1", "in", "n", 10e3),
 			res("R2", "n", "out", 100e3), capa("C1", "n", "out", 1e-9), opamp("U1", "gnd", "n", "out", 1e5, 0, 0)),
 		"coupled inductors": circuit(vsrc("V1", "in", "gnd"), res("R1", "in", "p", 50), ind("L1", "p", "gnd", 2e-3),
-			ind("L2", "out", "gnd", 8e-3), coupling("K1", "L1", "L2", 0.95), res("R2", "out", "gnd", 200),
+			ind("L2", "out", "gnd", 8e-3), coupling("Link1", "L1", "L2", 0.95), res("R2", "out", "gnd", 200),
 			capa("C1", "out", "gnd", 1e-7)),
 	}
 	if len(goldens) != len(circuits) {

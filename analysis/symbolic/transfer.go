@@ -21,7 +21,7 @@ const DefaultMaxTerms = 5000
 // Options tune Transfer.
 type Options struct {
 	// Keep lists the symbols to keep; every other value is substituted
-	// numerically. An entry is a symbol name ("R1", "U1.a0", "K1.M") or a
+	// numerically. An entry is a symbol name ("R1", "U1.a0", "Link1.M") or a
 	// part name, which keeps all of that part's symbols except NAME.wt
 	// (the op-amp ωt is kept only when named). nil keeps every symbol; a
 	// non-nil empty slice keeps none.

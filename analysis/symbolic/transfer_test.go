@@ -359,7 +359,7 @@ func TestCancelsBufferedSection(t *testing.T) {
 	// matter: H = 1/(1 + sR1C1) (first-order section, Van Valkenburg),
 	// although det Y carries the factor of the buffered section.
 	c := circuit(vsrc("V1", "in", "gnd"), res("R1", "in", "a", 1e3), capa("C1", "a", "gnd", 1e-6),
-		vcvs("E1", "b", "gnd", "a", "gnd", 1), res("R2", "b", "out", 2e3), capa("C2", "out", "gnd", 1e-7))
+		vcvs("Gain1", "b", "gnd", "a", "gnd", 1), res("R2", "b", "out", 2e3), capa("C2", "out", "gnd", 1e-7))
 	for _, method := range []Method{Minors, Bareiss} {
 		r, err := Transfer(context.Background(), c, mna.Input{}, nodeOut("a"), Options{Method: method})
 		if err != nil {

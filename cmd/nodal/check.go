@@ -27,9 +27,9 @@ func (c *checkCmd) Help() string {
 H(s), independent of overall scale: coefficient by coefficient (circuit,
 yours, ratio), poles and zeros side by side, and the largest magnitude and
 phase difference over the frequency range. Coefficients may use the file's
-parameters and part values by name (R1, C2, X1.R3, fc) and op-amp and
+parameters and part values by name (R1, C2, LP1.R3, fc) and op-amp and
 coupling symbols (U1.a0 DC gain, U1.rout ohms, U1.wt = 2π·gbw in rad/s,
-K1.M mutual inductance in henries). The verdict is
+Link1.M mutual inductance in henries). The verdict is
 "agrees" (exit 0) or "differs" (exit 1), with a note on the likely slip.
 
 When your expression uses only part names (R1, C2, U1.a0) and numbers, it is

@@ -83,7 +83,7 @@ goldens["lossy integrator, finite a0"] = golden(solve_h(eqs, [vn], vn) * (-a0), 
 
 # Coupled inductors: R1 from the source to the primary L1, secondary L2
 # loaded by R2 || C1; mutual inductance M (dots on the top terminals).
-R1, R2, L1, L2, M, C1 = sym('R1 R2 L1 L2 K1.M C1')
+R1, R2, L1, L2, M, C1 = sym('R1 R2 L1 L2 Link1.M C1')
 i1, i2, vp, vsec = sp.symbols('i1 i2 vp vsec')
 eqs = [
     vin - R1 * i1 - vp,              # source loop
@@ -91,6 +91,6 @@ eqs = [
     vsec - s * L2 * i2 - s * M * i1,  # secondary: i2 into the dot
     i2 + vsec / R2 + vsec * s * C1,   # KCL at the secondary top node
 ]
-goldens["coupled inductors"] = golden(solve_h(eqs, [i1, i2, vp, vsec], vsec), ['R1', 'R2', 'L1', 'L2', 'K1.M', 'C1'])
+goldens["coupled inductors"] = golden(solve_h(eqs, [i1, i2, vp, vsec], vsec), ['R1', 'R2', 'L1', 'L2', 'Link1.M', 'C1'])
 
 print(json.dumps(goldens, indent=1, sort_keys=True))
