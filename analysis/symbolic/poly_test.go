@@ -99,8 +99,8 @@ func TestFormat(t *testing.T) {
 }
 
 func TestNaturalOrder(t *testing.T) {
-	names := []string{"R10", "R2", "C1", "R1", "X9.R3", "R01"}
-	want := "C1 R01 R1 R2 R10 X9.R3" // numeric tie broken by bytes; letters by bytes
+	names := []string{"R10", "R2", "C1", "R1", "Stage9.R3", "R01"}
+	want := "C1 R01 R1 R2 R10 Stage9.R3" // numeric tie broken by bytes; letters by bytes
 	for i := range names {
 		for j := i + 1; j < len(names); j++ {
 			if varLess(names[j], names[i]) {
