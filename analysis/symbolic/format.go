@@ -1,6 +1,7 @@
 package symbolic
 
 import (
+	"fmt"
 	"math/big"
 	"sort"
 	"strings"
@@ -115,9 +116,33 @@ func FormatRat(r *big.Rat) string {
 		break
 	}
 	if d.Cmp(big.NewInt(1)) == 0 {
-		return r.FloatString(max(a, c))
+		k := max(a, c)
+		if plain := r.FloatString(k); len(plain) <= 16 {
+			return plain
+		}
+		return scientific(r, k)
 	}
 	return r.Num().String() + "/" + r.Denom().String()
+}
+
+// scientific writes the terminating decimal r = M·10^−k exactly in
+// exponent form ("1.5e-9"), for values whose plain decimal would run to
+// many zeros.
+func scientific(r *big.Rat, k int) string {
+	m := new(big.Int).Mul(r.Num(), new(big.Int).Exp(big.NewInt(10), big.NewInt(int64(k)), nil))
+	m.Quo(m, r.Denom()) // exact: r·10^k is an integer
+	sign := ""
+	if m.Sign() < 0 {
+		sign = "-"
+		m.Neg(m)
+	}
+	digits := strings.TrimRight(m.String(), "0")
+	exp := len(m.String()) - 1 - k
+	mant := digits[:1]
+	if len(digits) > 1 {
+		mant += "." + digits[1:]
+	}
+	return fmt.Sprintf("%s%se%d", sign, mant, exp)
 }
 
 // monoDegree is the total degree of an exponent string.
