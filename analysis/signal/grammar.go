@@ -115,6 +115,11 @@ func friendly(msg string) string {
 	const operand = "(expected a number, pi, t, sin(...) or cos(...))"
 	msg = strings.Replace(msg, "(expected ProdAST RestAST*)", operand, 1)
 	msg = strings.Replace(msg, "(expected ProdAST)", operand, 1)
+	if rest, ok := strings.CutPrefix(msg, "lexer: invalid input text "); ok {
+		// Name the character instead of the lexer's remainder of the line.
+		r, _ := utf8.DecodeRuneInString(strings.Trim(rest, `"`))
+		return fmt.Sprintf("unexpected character %q: a signal is a sum of A*sin(w*t + phi), A*cos(...) and constants", r)
+	}
 	if strings.HasPrefix(msg, "unexpected token") && !strings.Contains(msg, "(expected") {
 		msg += " (expected an operator + - * / or the end)"
 	}

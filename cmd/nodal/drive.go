@@ -1,10 +1,13 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
 	"math"
 	"math/cmplx"
+	"strings"
+	"unicode/utf8"
 
 	"nodal/analysis"
 	"nodal/analysis/signal"
@@ -49,7 +52,7 @@ func (c *driveCmd) Run(e *env) error {
 	}
 	sig, err := signal.Parse(c.Signal)
 	if err != nil {
-		return fmt.Errorf("--signal: %w", err)
+		return fmt.Errorf("--signal: %w%s", err, caretLine(c.Signal, err))
 	}
 	sys, err := c.system(l)
 	if err != nil {
@@ -144,4 +147,15 @@ func steadyTable(w io.Writer, st *analysis.Steady, phasors []nodePhasor, sig *si
 		}
 	}
 	return nil
+}
+
+// caretLine shows a one-line input with a caret under the column of a
+// positioned signal error ("" when the error has no column).
+func caretLine(src string, err error) string {
+	var se *signal.Error
+	if !errors.As(err, &se) || se.Pos.Column < 1 || strings.Contains(src, "\n") {
+		return ""
+	}
+	col := min(se.Pos.Column-1, utf8.RuneCountInString(src))
+	return "\n    " + src + "\n    " + strings.Repeat(" ", col) + "^"
 }
