@@ -19,3 +19,14 @@ func TestByteOrderMark(t *testing.T) {
 		t.Errorf("value span %q, want \"4k7\"", got)
 	}
 }
+
+// A misspelt requirement comparison gets the three forms and the closest
+// one as a hint.
+func TestRequireComparisonHint(t *testing.T) {
+	_, err := Load("rq.nodal", []byte("Vs: vsource (in, gnd) 1\nR1: resistor (in, out) 1k\nrequire dc belw 3dB\n"), nil)
+	list, ok := err.(ErrorList)
+	if !ok || len(list) != 1 || list[0].Pos.Line != 3 || list[0].Pos.Col != 12 ||
+		list[0].Hint != `expected within LO..HI, below HI or above LO; did you mean "below"?` {
+		t.Fatalf("error %v", err)
+	}
+}

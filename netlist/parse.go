@@ -189,6 +189,9 @@ func lineHint(line []lexer.Token, bad lexer.Token, hint string) string {
 			return `expected ":" after the element name`
 		}
 	}
+	if prev[0].Value == "require" && len(prev) >= 2 && bad.Type == symIdent {
+		return "expected within LO..HI, below HI or above LO" + suggestSuffix(bad.Value, []string{"within", "below", "above"})
+	}
 	if len(prev) == 3 && prev[1].Value == ":" && bad.Value != "(" {
 		return "expected the terminals in parentheses, as in (a, b)"
 	}
@@ -372,4 +375,12 @@ func editDistance(a, b string) int {
 		prev, cur = cur, prev
 	}
 	return prev[len(rb)]
+}
+
+// suggestSuffix is ` (did you mean "x"?)`-style text for a hint, or "".
+func suggestSuffix(word string, candidates []string) string {
+	if h := suggest(word, candidates); h != "" {
+		return "; " + h
+	}
+	return ""
 }
