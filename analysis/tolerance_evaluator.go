@@ -108,7 +108,7 @@ func (e *MetricEvaluator) evalSpot(c *netlist.Circuit) ([]float64, error) {
 			out[i] = 20 * math.Log10(cmplx.Abs(h))
 		}
 		if math.IsNaN(out[i]) || math.IsInf(out[i], 0) {
-			return nil, fmt.Errorf("%s is %v", m.Name, out[i])
+			return nil, nonFiniteMetric(m.Name, out[i])
 		}
 	}
 	return out, nil
@@ -131,7 +131,7 @@ func (e *MetricEvaluator) evalExtract(c *netlist.Circuit) ([]float64, error) {
 			return nil, err
 		}
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, fmt.Errorf("%s is %v", m.Name, v)
+			return nil, nonFiniteMetric(m.Name, v)
 		}
 		if m.Kind == MetricPhaseAt && e.phaseRefDeg != nil {
 			v = e.nearBranch(i, v)
@@ -167,3 +167,16 @@ func metricPerPercent(name string) bool {
 
 // omegaOf converts Hz to rad/s.
 func omegaOf(fHz float64) float64 { return 2 * math.Pi * fHz }
+
+// nonFiniteMetric explains a metric value that has no statistics: −∞ dB
+// (a zero of H at that frequency, e.g. the dc gain of a high-pass), +∞
+// (a pole there) or undefined.
+func nonFiniteMetric(name string, v float64) error {
+	switch {
+	case math.IsInf(v, -1):
+		return fmt.Errorf("%s is −∞ dB (H has a zero there, e.g. the DC gain of a high-pass): no statistics; choose another metric", name)
+	case math.IsInf(v, 1):
+		return fmt.Errorf("%s is +∞ (H has a pole there): no statistics; choose another metric", name)
+	}
+	return fmt.Errorf("%s is undefined for this circuit", name)
+}
