@@ -11,36 +11,7 @@ import (
 // tfRoots builds H(s) = gain·Π(s − zeros)/Π(s − poles) with consistent
 // ascending coefficients (Den normalised to a lowest non-zero coefficient 1).
 func tfRoots(gain float64, zeros, poles []complex128) *TransferFunction {
-	expand := func(roots []complex128) []float64 {
-		c := []complex128{1}
-		for _, r := range roots {
-			n := make([]complex128, len(c)+1)
-			for k := range c {
-				n[k+1] += c[k]
-				n[k] -= r * c[k]
-			}
-			c = n
-		}
-		out := make([]float64, len(c))
-		for k := range c {
-			out[k] = real(c[k])
-		}
-		return out
-	}
-	num, den := expand(zeros), expand(poles)
-	lo := 0.0
-	for _, v := range den {
-		if v != 0 {
-			lo = v
-			break
-		}
-	}
-	for k := range den {
-		den[k] /= lo
-	}
-	for k := range num {
-		num[k] *= gain / lo
-	}
+	num, den := normaliseMonic(gain, polyFromRoots(zeros, 1), polyFromRoots(poles, 1))
 	return &TransferFunction{Num: num, Den: den, Zeros: zeros, Poles: poles, Gain: gain}
 }
 

@@ -606,8 +606,14 @@ func countReal(r []complex128) int {
 // newTransferFunction builds the polynomial form from gain, zeros and
 // poles (all in rad/s), normalising Den's lowest non-zero coefficient to 1.
 func newTransferFunction(gain float64, zeros, poles, cancelled []complex128) *TransferFunction {
-	num := rootsPoly(zeros)
-	den := rootsPoly(poles)
+	num, den := normaliseMonic(gain, rootsPoly(zeros), rootsPoly(poles))
+	return &TransferFunction{Num: num, Den: den, Zeros: zeros, Poles: poles, Gain: gain, Cancelled: cancelled}
+}
+
+// normaliseMonic turns gain·num/den, num and den monic, into the invariant
+// form: den divided by its lowest-order non-zero coefficient, num scaled
+// to match. It works in place and returns its arguments.
+func normaliseMonic(gain float64, num, den []float64) ([]float64, []float64) {
 	lo := 0.0
 	for _, d := range den {
 		if d != 0 {
@@ -621,7 +627,7 @@ func newTransferFunction(gain float64, zeros, poles, cancelled []complex128) *Tr
 	for i := range num {
 		num[i] *= gain / lo
 	}
-	return &TransferFunction{Num: num, Den: den, Zeros: zeros, Poles: poles, Gain: gain, Cancelled: cancelled}
+	return num, den
 }
 
 // rootsPoly returns the ascending coefficients of the monic polynomial
