@@ -13,13 +13,29 @@ import (
 // and zero covered by two decades either side; the parts' own corner
 // frequencies when the transfer function cannot be had or has no roots.
 func autoRange(l *loaded, sys *mna.System) (float64, float64) {
-	tf, err := analysis.Extract(sys)
-	if err == nil {
+	tf, _ := analysis.Extract(sys) // no transfer function: the parts' corners
+	return rangeOf(l, tf)
+}
+
+// rangeOf is autoRange for an already extracted transfer function of the
+// system (nil when it could not be had).
+func rangeOf(l *loaded, tf *analysis.TransferFunction) (float64, float64) {
+	if tf != nil {
 		if lo, hi, ok := rootRange(tf); ok {
 			return lo, hi
 		}
 	}
 	return analysis.DefaultRange(l.circuit)
+}
+
+// systemTF extracts sys's transfer function, nil when it cannot be had
+// (the callers then fall back to the parts' corners and draw no marks).
+func systemTF(sys *mna.System) *analysis.TransferFunction {
+	tf, err := analysis.Extract(sys)
+	if err != nil {
+		return nil
+	}
+	return tf
 }
 
 // rootRange spans the magnitudes of the non-zero poles and zeros (Hz), two
@@ -40,10 +56,10 @@ func rootRange(tf *analysis.TransferFunction) (float64, float64, bool) {
 }
 
 // addBodeMarks marks the −3 dB points and a resonance peak (more than
-// 0.1 dB above the −3 dB reference) on a trace.
-func addBodeMarks(tr *plot.BodeTrace, sys *mna.System, r *analysis.Response) {
-	tf, err := analysis.Extract(sys)
-	if err != nil {
+// 0.1 dB above the −3 dB reference) on a trace, from the transfer function
+// of the traced system (none when tf is nil).
+func addBodeMarks(tr *plot.BodeTrace, tf *analysis.TransferFunction, r *analysis.Response) {
+	if tf == nil {
 		return
 	}
 	lo, hi := r.FreqHz[0], r.FreqHz[len(r.FreqHz)-1]

@@ -96,7 +96,7 @@ func TestBodeFigureMatchesResponse(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	fig, err := bodeFigure("rc", []*mna.System{sys}, []*analysis.Response{resp})
+	fig, err := bodeFigure("rc", []*analysis.TransferFunction{systemTF(sys)}, []*analysis.Response{resp})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -70,7 +70,15 @@ func (c *sweepCmd) Run(e *env) error {
 		}
 		systems = append(systems, sys)
 	}
-	freqs, err := c.frequencies(func() (float64, float64) { return autoRange(l, systems[0]) })
+	// Each system's transfer function serves the default range and the
+	// plot's marks; extract it once.
+	tfs := make([]*analysis.TransferFunction, len(systems))
+	for i, sys := range systems {
+		if i == 0 || c.Plot != "" {
+			tfs[i] = systemTF(sys)
+		}
+	}
+	freqs, err := c.frequencies(func() (float64, float64) { return rangeOf(l, tfs[0]) })
 	if err != nil {
 		return err
 	}
@@ -83,7 +91,7 @@ func (c *sweepCmd) Run(e *env) error {
 		resps = append(resps, r)
 	}
 	if c.Plot != "" {
-		if err := writeBodePlot(e, c.Plot, []string{c.File, c.Output}, l, systems, resps); err != nil {
+		if err := writeBodePlot(e, c.Plot, []string{c.File, c.Output}, l, tfs, resps); err != nil {
 			return err
 		}
 	}
@@ -172,12 +180,12 @@ func responseTable(w io.Writer, r *analysis.Response) error {
 }
 
 // writeBodePlot draws the responses as a Bode plot.
-func writeBodePlot(e *env, path string, protect []string, l *loaded, systems []*mna.System, resps []*analysis.Response) error {
+func writeBodePlot(e *env, path string, protect []string, l *loaded, tfs []*analysis.TransferFunction, resps []*analysis.Response) error {
 	format, err := plot.FormatFromPath(path)
 	if err != nil {
 		return err
 	}
-	fig, err := bodeFigure(l.circuit.Title, systems, resps)
+	fig, err := bodeFigure(l.circuit.Title, tfs, resps)
 	if err != nil {
 		return err
 	}
@@ -185,12 +193,13 @@ func writeBodePlot(e *env, path string, protect []string, l *loaded, systems []*
 }
 
 // bodeFigure is the Bode plot of the responses, one labelled trace each,
-// with −3 dB points and peaks marked.
-func bodeFigure(title string, systems []*mna.System, resps []*analysis.Response) (*plot.Figure, error) {
+// with −3 dB points and peaks marked from tfs[i], the transfer function of
+// response i (nil: no marks).
+func bodeFigure(title string, tfs []*analysis.TransferFunction, resps []*analysis.Response) (*plot.Figure, error) {
 	traces := make([]plot.BodeTrace, len(resps))
 	for i, r := range resps {
 		traces[i] = plot.BodeTrace{Label: r.Output, FreqHz: r.FreqHz, MagDB: r.MagDB, PhaseDeg: r.PhaseDeg}
-		addBodeMarks(&traces[i], systems[i], r)
+		addBodeMarks(&traces[i], tfs[i], r)
 	}
 	return plot.Bode(traces, plot.BodeOptions{Title: title})
 }

@@ -165,6 +165,15 @@ func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
 	return r, nil
 }
 
+// sysTF is the transfer function of r.sys itself: r.tf, except for the
+// input impedance of a voltage source, where r.tf is its inverse.
+func (r *tfResult) sysTF() *analysis.TransferFunction {
+	if r.invert {
+		return systemTF(r.sys)
+	}
+	return r.tf
+}
+
 // sourceNames lists the independent sources of c.
 func sourceNames(c *netlist.Circuit) []string {
 	var out []string
