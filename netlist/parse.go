@@ -336,8 +336,19 @@ func (f *File) diag(p lexer.Position, sev Severity, msg, hint string) *Diagnosti
 }
 
 // suggest returns `did you mean "x"?` for the candidate closest to word
-// (edit distance at most 2, and less than the word's length), or "".
+// (see Closest), or "".
 func suggest(word string, candidates []string) string {
+	best := Closest(word, candidates)
+	if best == "" {
+		return ""
+	}
+	return fmt.Sprintf("did you mean %q?", best)
+}
+
+// Closest returns the candidate closest to word in edit distance, when
+// that distance is at most 2 and less than the word's length (ties: the
+// first in sorted order), or "" when none is close.
+func Closest(word string, candidates []string) string {
 	best, bestD := "", 3
 	sorted := append([]string(nil), candidates...)
 	sort.Strings(sorted)
@@ -346,10 +357,7 @@ func suggest(word string, candidates []string) string {
 			best, bestD = c, d
 		}
 	}
-	if best == "" {
-		return ""
-	}
-	return fmt.Sprintf("did you mean %q?", best)
+	return best
 }
 
 // editDistance is the Levenshtein distance between a and b (in runes).
