@@ -65,6 +65,10 @@ type Result struct {
 // cancellation and returns a *SizeError when an expression grows past the
 // limit, ErrSingular when the circuit has no unique solution.
 func Transfer(ctx context.Context, c *netlist.Circuit, in mna.Input, out mna.Output, opt Options) (*Result, error) {
+	in, out, err := mna.Resolve(c, in, out)
+	if err != nil {
+		return nil, err // the same message as the numeric engine's
+	}
 	sys, err := buildSystem(c, in, out, opt.Keep)
 	if err != nil {
 		return nil, fmt.Errorf("symbolic: %w", err)

@@ -54,11 +54,11 @@ func compareSymbolic(e *env, l *loaded, q tfRequest, yours *derivation.Rational)
 	if ns := nonSymbols(l.circuit, names); len(ns) > 0 {
 		return symbolicCheck{Reason: fmt.Sprintf("your expression uses %s, not a part symbol (symbols are the names of resistors, capacitors, inductors and controlled sources, NAME.a0, NAME.rout, NAME.wt, NAME.M)", strings.Join(ns, ", "))}
 	}
-	p, err := resolveProbe(l, q)
+	p, err := resolveProbe(q)
 	if err != nil {
 		return symbolicCheck{Reason: err.Error()}
 	}
-	res, err := symbolic.Transfer(e.ctx, l.circuit, p.in, p.out, symbolic.Options{Keep: names})
+	res, err := symbolic.Transfer(e.ctx, l.circuit, p.Ex, p.Ob, symbolic.Options{Keep: names})
 	var se *symbolic.SizeError
 	if errors.As(err, &se) {
 		return symbolicCheck{Reason: fmt.Sprintf("the circuit's H(s) in your %d names grows past %d terms", len(names), se.Limit)}

@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"nodal/analysis"
+	"nodal/analysis/symbolic"
 	"nodal/cmd/nodal/plot"
 	"nodal/mna"
 	"nodal/netlist"
@@ -66,31 +67,26 @@ type tfRequest struct {
 
 // tfResult is an extracted transfer function with what it is of.
 type tfResult struct {
-	tf     *analysis.TransferFunction
-	sys    *mna.System
-	what   string // "H(s) = v(out)/v(Vs)", "Zin(s) seen by Vs" ...
-	yName  string // output signal name for the ODE
-	uName  string // input signal name for the ODE
-	unit   string // unit of H: "V/V", "Ω", ...
-	invert bool   // H was inverted (input impedance of a voltage source)
+	tf    *analysis.TransferFunction
+	sys   *mna.System
+	what  string // "H(s) = v(out)/v(Vs)", "Zin(s) seen by Vs" ...
+	yName string // output signal name for the ODE
+	uName string // input signal name for the ODE
+	unit  string // unit of H: "V/V", "Ω", ...
 }
 
-// tfProbe is a resolved tfRequest: the excitation and observation of the
-// MNA system, and what the transfer function means.
+// tfProbe is a resolved tfRequest: the probe of the MNA system, and what
+// the transfer function means.
 type tfProbe struct {
-	in  mna.Input
-	out mna.Output
-	// invert: the wanted function is −1/(out/in), the input impedance of
-	// a voltage source from the current it carries (which flows into its
-	// + terminal, so the delivered current is −i(Vs)).
-	invert       bool
+	mna.Probe
 	what         string // "" for a voltage ratio: set from the resolved source
 	yName, uName string
 	unit         string // "" for a voltage ratio: set from the resolved source
 }
 
-// resolveProbe checks the request and says which system to build.
-func resolveProbe(l *loaded, q tfRequest) (tfProbe, error) {
+// resolveProbe checks the request and says which probe to build: --zin and
+// --zout are impedance probes (test current in, voltage across it out).
+func resolveProbe(q tfRequest) (tfProbe, error) {
 	n := 0
 	for _, s := range []string{q.Out, q.Zin, q.Zout} {
 		if s != "" {
@@ -102,23 +98,12 @@ func resolveProbe(l *loaded, q tfRequest) (tfProbe, error) {
 	}
 	switch {
 	case q.Zout != "":
-		return tfProbe{in: mna.Input{Inject: q.Zout}, out: mna.Output{Kind: mna.NodeVoltage, Node: q.Zout},
+		return tfProbe{Probe: mna.NodeImpedance(q.Zout, ""),
 			what: fmt.Sprintf("Zout(s) at node %s (independent sources zeroed)", q.Zout), yName: "v", uName: "i", unit: "Ω"}, nil
 	case q.Zin != "":
-		src, ok := l.circuit.Part(q.Zin)
-		if !ok || (src.Kind != netlist.VSource && src.Kind != netlist.ISource) {
-			return tfProbe{}, &mna.LookupError{What: "source", Name: q.Zin, Known: sourceNames(l.circuit)}
-		}
-		p := tfProbe{in: mna.Input{Source: q.Zin}, what: fmt.Sprintf("Zin(s) seen by %s", q.Zin), yName: "v", uName: "i", unit: "Ω"}
-		if src.Kind == netlist.ISource {
-			p.out = mna.Output{Kind: mna.NodeVoltage, Node: src.Nodes[0], Ref: src.Nodes[1]}
-			return p, nil
-		}
-		p.out = mna.Output{Kind: mna.PartCurrent, Part: q.Zin}
-		p.invert = true
-		return p, nil
+		return tfProbe{Probe: mna.SourceImpedance(q.Zin), what: fmt.Sprintf("Zin(s) seen by %s", q.Zin), yName: "v", uName: "i", unit: "Ω"}, nil
 	}
-	return tfProbe{in: mna.Input{Source: q.In}, out: outputFor(q.Out, q.Ref), yName: "y", uName: "u"}, nil
+	return tfProbe{Probe: mna.Probe{Ex: mna.Excitation{Source: q.In}, Ob: outputFor(q.Out, q.Ref)}, yName: "y", uName: "u"}, nil
 }
 
 // describe fills in the meaning and unit of a voltage or current ratio
@@ -142,64 +127,36 @@ func (p tfProbe) describe(c *netlist.Circuit, in mna.Input, out mna.Output) (wha
 
 // extractTF builds the system and extracts the requested transfer function.
 func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
-	p, err := resolveProbe(l, q)
+	p, err := resolveProbe(q)
 	if err != nil {
 		return nil, err
 	}
-	sys, err := mna.Build(l.circuit, p.in, p.out)
+	sys, err := mna.Build(l.circuit, p.Ex, p.Ob)
 	if err != nil {
-		return nil, err
+		return nil, impedanceError(p, err)
 	}
 	tf, err := analysis.Extract(sys)
 	if err != nil {
-		return nil, err
+		return nil, impedanceError(p, err)
 	}
 	what, unit := p.describe(l.circuit, sys.Input, sys.Output)
-	r := &tfResult{tf: tf, sys: sys, what: what, yName: p.yName, uName: p.uName, unit: unit}
-	if p.invert {
-		if len(tf.Num) == 0 || allZero(tf.Num) {
-			return nil, fmt.Errorf("%s delivers no current: its input impedance is infinite", q.Zin)
-		}
-		r.tf, r.invert = invertTF(tf, -1), true
-	}
-	return r, nil
+	return &tfResult{tf: tf, sys: sys, what: what, yName: p.yName, uName: p.uName, unit: unit}, nil
 }
 
-// sysTF is the transfer function of r.sys itself: r.tf, except for the
-// input impedance of a voltage source, where r.tf is its inverse.
-func (r *tfResult) sysTF() *analysis.TransferFunction {
-	if r.invert {
-		return systemTF(r.sys)
+// impedanceError says, for the input impedance of a source whose system
+// (source replaced by a test current) is singular for every s, that the
+// test current has no path: the impedance is infinite. The numeric and
+// the symbolic engines give the same message.
+func impedanceError(p tfProbe, err error) error {
+	var se *mna.StructureError
+	if p.Ex.Kind == mna.SourceTest && (errors.As(err, &se) || errors.Is(err, symbolic.ErrSingular)) {
+		return fmt.Errorf("%s delivers no current: its input impedance is infinite", p.Ex.Source)
 	}
-	return r.tf
+	return err
 }
 
-// sourceNames lists the independent sources of c.
-func sourceNames(c *netlist.Circuit) []string {
-	var out []string
-	for _, p := range c.Parts {
-		if p.Kind == netlist.VSource || p.Kind == netlist.ISource {
-			out = append(out, p.Name)
-		}
-	}
-	return out
-}
-
-// invertTF returns sign/h: poles and zeros exchanged, D re-normalised.
-func invertTF(h *analysis.TransferFunction, sign float64) *analysis.TransferFunction {
-	num := append([]float64(nil), h.Den...)
-	den := append([]float64(nil), h.Num...)
-	k := lowest(den)
-	for i := range num {
-		num[i] *= sign / k
-	}
-	for i := range den {
-		den[i] /= k
-	}
-	out := &analysis.TransferFunction{Num: num, Den: den, Zeros: append([]complex128(nil), h.Poles...), Poles: append([]complex128(nil), h.Zeros...), Cancelled: h.Cancelled}
-	out.Gain = num[len(num)-1] / den[len(den)-1]
-	return out
-}
+// sysTF is the transfer function of r.sys itself.
+func (r *tfResult) sysTF() *analysis.TransferFunction { return r.tf }
 
 // Run prints the transfer function report.
 func (c *tfCmd) Run(e *env) error {
