@@ -25,74 +25,13 @@ func probeH(t *testing.T, c *netlist.Circuit, p mna.Probe, fHz float64) complex1
 
 var probeFreqsHz = []float64{0.5, 10, 159.15, 1e3, 2.2e4, 1e6}
 
-// Each probe kind against a closed form of circuit theory (common
-// practice: series and parallel impedances, the voltage divider,
-// Thévenin's theorem; Bode's return ratio, H. W. Bode, Network Analysis
-// and Feedback Amplifier Design, 1945, for the loop gain a·β of a
-// non-inverting amplifier).
+// Each probe kind against a closed form (testcircuit.ProbeClosedForms,
+// which names the sources), at several frequencies.
 func TestProbesClosedForms(t *testing.T) {
-	const r1, r2, r3, cv = 1e3, 3.3e3, 4.7e3, 100e-9
-	seriesRC := testcircuit.New( // Vs — R1 — C1 — gnd, a second source Ib elsewhere
-		testcircuit.V("Vs", "in", gnd, 1),
-		testcircuit.R("R1", "in", "m", r1),
-		testcircuit.C("C1", "m", gnd, cv),
-		testcircuit.I("Ib", "x", gnd, 1e-3),
-		testcircuit.R("R3", "x", gnd, r3),
-	)
-	parallelRC := testcircuit.New( // Is into R1 ∥ C1
-		testcircuit.I("Is", "a", gnd, 1),
-		testcircuit.R("R1", "a", gnd, r1),
-		testcircuit.C("C1", "a", gnd, cv),
-	)
-	divider := testcircuit.New(
-		testcircuit.V("Vs", "in", gnd, 5),
-		testcircuit.R("R1", "in", "out", r1),
-		testcircuit.R("R2", "out", gnd, r2),
-	)
-	floating := testcircuit.New( // a —R1— b, a —R2— gnd, b —R3— gnd
-		testcircuit.R("R1", "a", "b", r1),
-		testcircuit.R("R2", "a", gnd, r2),
-		testcircuit.R("R3", "b", gnd, r3),
-	)
-	par := func(a, b complex128) complex128 { return a * b / (a + b) }
-	cases := []struct {
-		name string
-		c    *netlist.Circuit
-		p    mna.Probe
-		want func(s complex128) complex128
-	}{
-		{"Zin of series RC, R + 1/(sC)", seriesRC, mna.SourceImpedance("Vs"),
-			func(s complex128) complex128 { return r1 + 1/(s*cv) }},
-		{"Zin seen by a current source, R ∥ 1/(sC)", parallelRC, mna.SourceImpedance(""),
-			func(s complex128) complex128 { return par(r1, 1/(s*cv)) }},
-		{"Thévenin Zout of a divider, R1 ∥ R2", divider, mna.NodeImpedance("out", ""),
-			func(complex128) complex128 { return r1 * r2 / (r1 + r2) }},
-		{"impedance between two nodes, R1 ∥ (R2 + R3)", floating, mna.NodeImpedance("a", "b"),
-			func(complex128) complex128 { return par(r1, r2+r3) }},
-		{"transfer impedance a→b to gnd, R2·R3/(R1+R2+R3)", floating,
-			mna.Probe{Ex: mna.Excitation{Kind: mna.Injection, Inject: "a"}, Ob: mna.Observation{Node: "b"}},
-			func(complex128) complex128 { return r2 * r3 / (r1 + r2 + r3) }},
-		{"difference of two nodes, divider in − out = R1/(R1+R2)", divider,
-			mna.Probe{Ob: mna.Observation{Node: "in", Ref: "out"}},
-			func(complex128) complex128 { return r1 / (r1 + r2) }},
-		{"current through a resistor, 1/(R1+R2)", divider,
-			mna.Probe{Ob: mna.Observation{Kind: mna.PartCurrent, Part: "R2"}},
-			func(complex128) complex128 { return 1 / (r1 + r2) }},
-		{"current through a capacitor, sC/(1 + sRC)", seriesRC,
-			mna.Probe{Ex: mna.Excitation{Source: "Vs"}, Ob: mna.Observation{Kind: mna.PartCurrent, Part: "C1"}},
-			func(s complex128) complex128 { return s * cv / (1 + s*r1*cv) }},
-		{"current a voltage source delivers, 1/(R + 1/(sC))", seriesRC,
-			mna.Probe{Ex: mna.Excitation{Source: "Vs"}, Ob: mna.Observation{Kind: mna.SourceCurrent, Part: "Vs"}},
-			func(s complex128) complex128 { return 1 / (r1 + 1/(s*cv)) }},
-		{"current through the driven current source, −1", parallelRC,
-			mna.Probe{Ob: mna.Observation{Kind: mna.PartCurrent, Part: "Is"}},
-			func(complex128) complex128 { return -1 }},
-	}
-	for _, tc := range cases {
+	for _, tc := range testcircuit.ProbeClosedForms() {
 		for _, f := range probeFreqsHz {
-			s := jw(f)
-			if got, want := probeH(t, tc.c, tc.p, f), tc.want(s); !nearC(got, want, 1e-12) {
-				t.Errorf("%s at %g Hz: %v, want %v", tc.name, f, got, want)
+			if got, want := probeH(t, tc.Circuit, tc.Probe, f), tc.Want(jw(f)); !nearC(got, want, 1e-12) {
+				t.Errorf("%s at %g Hz: %v, want %v", tc.Name, f, got, want)
 			}
 		}
 	}

@@ -61,9 +61,12 @@ type Result struct {
 }
 
 // Transfer derives the symbolic transfer function of c from input in to
-// output out (the semantics of mna.Input and mna.Output). It honours ctx
-// cancellation and returns a *SizeError when an expression grows past the
-// limit, ErrSingular when the circuit has no unique solution.
+// output out (the semantics of mna.Excitation and mna.Observation; every
+// kind but BrokenControl). The probe is resolved by mna.Resolve, whose
+// *mna.LookupError is returned unwrapped so that a wrong name reads the
+// same as from the numeric engine. It honours ctx cancellation and returns
+// a *SizeError when an expression grows past the limit, ErrSingular when
+// the circuit has no unique solution.
 func Transfer(ctx context.Context, c *netlist.Circuit, in mna.Input, out mna.Output, opt Options) (*Result, error) {
 	in, out, err := mna.Resolve(c, in, out)
 	if err != nil {
