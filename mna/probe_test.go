@@ -151,3 +151,57 @@ func TestAdjointEqualsForwardSolves(t *testing.T) {
 		}
 	}
 }
+
+// Factor, Solve and Adjoint reuse the Solver's memory: no allocation per
+// frequency.
+func TestSolverNoAlloc(t *testing.T) {
+	m, err := mna.BuildMatrices(testcircuit.TowThomas(2, 1e3, 2, 1e5, 1e6))
+	if err != nil {
+		t.Fatal(err)
+	}
+	e, err := m.Excite(mna.Excitation{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	row, _, err := e.Observe(mna.Observation{Node: "lp2"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := mna.NewSolver(m)
+	x, z := make([]complex128, m.Size()), make([]complex128, m.Size())
+	f := 10.0
+	allocs := testing.AllocsPerRun(50, func() {
+		f *= 1.1
+		if w.Factor(jw(f)) != nil || w.Solve(e.B, x) != nil || w.Adjoint(row, z) != nil {
+			t.Fatal("solve failed")
+		}
+	})
+	if allocs != 0 {
+		t.Errorf("%v allocations per frequency, want 0", allocs)
+	}
+}
+
+// BenchmarkAdjointTowThomas4 is one factorisation and one adjoint solve
+// per frequency on an 8th-order op-amp filter.
+func BenchmarkAdjointTowThomas4(b *testing.B) {
+	m, err := mna.BuildMatrices(testcircuit.TowThomas(4, 1e3, 2, 1e5, 1e6))
+	if err != nil {
+		b.Fatal(err)
+	}
+	e, _ := m.Excite(mna.Excitation{})
+	row, _, err := e.Observe(mna.Observation{Node: "lp4"})
+	if err != nil {
+		b.Fatal(err)
+	}
+	w := mna.NewSolver(m)
+	z := make([]complex128, m.Size())
+	b.ReportAllocs()
+	for i := 0; b.Loop(); i++ {
+		if err := w.Factor(jw(100 + float64(i%1000))); err != nil {
+			b.Fatal(err)
+		}
+		if err := w.Adjoint(row, z); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

@@ -20,7 +20,7 @@ type tfCmd struct {
 	In     string `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
 	Out    string `help:"Output node, or i(PART) for the current through a part." placeholder:"NODE"`
 	Ref    string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
-	Zin    string `help:"Instead of a voltage ratio: the input impedance seen by this source." placeholder:"SOURCE"`
+	Zin    string `help:"Instead of a voltage ratio: the impedance this source sees at its terminals (source replaced by a test current, other sources zeroed)." placeholder:"SOURCE"`
 	Zout   string `help:"Instead of a voltage ratio: the impedance at this node to gnd, every independent source zeroed." placeholder:"NODE"`
 	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
