@@ -205,3 +205,45 @@ func BenchmarkAdjointTowThomas4(b *testing.B) {
 		}
 	}
 }
+
+// One Matrices serves several excitations: a test source replacing the
+// voltage source gets its own copy, and a drive afterwards still sees the
+// source in place (divider: H = R2/(R1+R2), Zin = R1 + R2; common practice).
+func TestExciteLeavesSharedMatricesAlone(t *testing.T) {
+	const r1, r2 = 1e3, 3.3e3
+	c := testcircuit.New(testcircuit.V("Vs", "in", gnd, 5), testcircuit.R("R1", "in", "out", r1), testcircuit.R("R2", "out", gnd, r2))
+	m, err := mna.BuildMatrices(c)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g0 := mat.DenseCopyOf(m.G)
+	zin := mna.SourceImpedance("Vs")
+	ez, err := m.Excite(zin.Ex)
+	if err != nil {
+		t.Fatal(err)
+	}
+	zsys, err := ez.System(zin.Ob)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ed, err := m.Excite(mna.Excitation{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	dsys, err := ed.System(mna.Observation{Node: "out"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !mat.Equal(m.G, g0) || ez.M == m || ed.M != m {
+		t.Fatal("a test source changed the shared matrices, or a drive did not use them")
+	}
+	if z := hAt(t, zsys, 1e3); !nearC(z, r1+r2, 1e-12) {
+		t.Errorf("Zin = %v, want R1 + R2 = %g", z, r1+r2)
+	}
+	if h := hAt(t, dsys, 1e3); !nearC(h, r2/(r1+r2), 1e-12) {
+		t.Errorf("H = %v, want R2/(R1+R2) = %g", h, r2/(r1+r2))
+	}
+	if ed.Amplitude != 5 || ez.Amplitude != 1 {
+		t.Errorf("amplitudes %v (drive), %v (test source), want 5 and 1", ed.Amplitude, ez.Amplitude)
+	}
+}

@@ -116,13 +116,13 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 		d.Roots = append(d.Roots, reportRoot(report.Zero, z))
 	}
 	// Bode plot over the default range.
-	lo, hi := rangeOf(l, r.sysTF())
+	lo, hi := rangeOf(l, r.tf)
 	resp, err := analysis.Sweep(e.ctx, r.sys, analysis.LogGrid(lo, hi, 50), 0)
 	if err != nil {
 		return nil, err
 	}
 	tr := plot.BodeTrace{Label: d.Transfer.Output, FreqHz: resp.FreqHz, MagDB: resp.MagDB, PhaseDeg: resp.PhaseDeg}
-	addBodeMarks(&tr, r.sysTF(), resp)
+	addBodeMarks(&tr, r.tf, resp)
 	bode, err := plot.Bode([]plot.BodeTrace{tr}, plot.BodeOptions{})
 	if err != nil {
 		return nil, err

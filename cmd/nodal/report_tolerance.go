@@ -83,7 +83,7 @@ func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs i
 			mc.Histograms = report.Plot{Figure: fig, Caption: fmt.Sprintf("metric histograms over %d runs (nominal marked)", res.Finished)}
 		}
 	}
-	lo, hi := rangeOf(l, r.sysTF())
+	lo, hi := rangeOf(l, r.tf)
 	freqs := analysis.LogGrid(lo, hi, 25)
 	env, err := analysis.Envelope(e.ctx, c, in, out, freqs, opt)
 	if err != nil {

@@ -155,9 +155,6 @@ func impedanceError(p tfProbe, err error) error {
 	return err
 }
 
-// sysTF is the transfer function of r.sys itself.
-func (r *tfResult) sysTF() *analysis.TransferFunction { return r.tf }
-
 // Run prints the transfer function report.
 func (c *tfCmd) Run(e *env) error {
 	if c.Keep != nil && !c.Symbolic {
