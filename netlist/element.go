@@ -6,6 +6,8 @@ import (
 	"strings"
 
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // kindSpec describes how an element kind is written.
@@ -306,7 +308,7 @@ func pairNodes(x *Expr) []*NodeRef {
 		name := bareName(el)
 		if name == "" {
 			b := el.Left.Left.Power.Base
-			if len(el.Rest) > 0 || len(el.Left.Rest) > 0 || el.Left.Left.Power.Exp != nil || !isPlainInt(b.Number) {
+			if len(el.Rest) > 0 || len(el.Left.Rest) > 0 || el.Left.Left.Power.Exp != nil || !syntax.IsDigits(b.Number) {
 				return nil
 			}
 			name = b.Number

@@ -3,6 +3,8 @@ package netlist
 import (
 	"github.com/alecthomas/participle/v2"
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // The syntax tree of a circuit file. Every node carries the lexer position
@@ -20,7 +22,7 @@ var lexDef = lexer.MustSimple([]lexer.SimpleRule{
 	{Name: "String", Pattern: `"(\\.|[^"\\\n])*"`},
 	{Name: "PlusMinus", Pattern: `±|\+-`},
 	{Name: "Range", Pattern: `\.\.`},
-	{Name: "Value", Pattern: `(\d+(\.\d+)?|\.\d+)([eE][+-]?\d+)?([\pL%]+\d*\pL*)?`},
+	{Name: "Value", Pattern: syntax.NumberPattern},
 	{Name: "Ident", Pattern: `[A-Za-z_][A-Za-z0-9_]*(\.[A-Za-z_0-9]+)*`},
 	{Name: "Punct", Pattern: `[-+*/^(),:=@]`},
 	{Name: "Bad", Pattern: `.`},
@@ -46,8 +48,7 @@ type File struct {
 	Source []byte  // the source text
 	Stmts  []*Stmt // top-level statements in order; a block statement holds its body
 
-	lineStarts []int // byte offset of each line start, for positions
-	notText    bool  // Source has a NUL byte or invalid UTF-8: diagnostics omit the source line
+	text *syntax.Text // positions and source lines of diagnostics
 }
 
 // Stmt is one statement: exactly one of its pointer fields is set.

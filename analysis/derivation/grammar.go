@@ -3,6 +3,8 @@ package derivation
 import (
 	"github.com/alecthomas/participle/v2"
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // The participle grammar below is private: it is converted into the public
@@ -19,7 +21,7 @@ var lex = lexer.MustSimple([]lexer.SimpleRule{
 	{Name: "Leibniz", Pattern: `d(?:\^?[0-9]+)?[ \t]*` + identRE + `[ \t]*/[ \t]*dt(?:\^?[0-9]+)?\b`},
 	{Name: "Primed", Pattern: identRE + `'+`},
 	{Name: "ParenOrder", Pattern: identRE + `\^\([0-9]+\)`},
-	{Name: "Number", Pattern: `(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?[A-Za-z_µ]*`},
+	{Name: "Number", Pattern: syntax.NumberPattern},
 	{Name: "Ident", Pattern: identRE},
 	{Name: "Op", Pattern: `[-+*/^()=]`},
 })

@@ -10,20 +10,20 @@ import (
 	"github.com/alecthomas/participle/v2"
 	"github.com/alecthomas/participle/v2/lexer"
 
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // ParseODE parses a hand-written ODE such as `R1*C1*y' + y = u`. name
 // labels positions in errors (for example "ode"). Errors are a
-// netlist.ErrorList.
+// syntax.ErrorList.
 func ParseODE(name, src string) (*Equation, error) {
 	g, err := parseGrammar(name, src)
 	if err != nil {
 		return nil, err
 	}
-	c := converter{name: name, src: src}
+	c := converter{text: syntax.NewText(name, []byte(src))}
 	if !g.Eq {
-		c.errorf(endPos(name, src), `expected "=": an equation has a left and a right side`)
+		c.errorf(c.text.End(), `expected "=": an equation has a left and a right side`)
 		return nil, c.errs
 	}
 	eq := &Equation{At: c.pos(g.Pos), Left: c.expr(g.Left), Right: c.expr(g.Right), Src: src}
@@ -40,7 +40,7 @@ func ParseTF(name, src string) (*TF, error) {
 	if err != nil {
 		return nil, err
 	}
-	c := converter{name: name, src: src, inS: true}
+	c := converter{text: syntax.NewText(name, []byte(src)), inS: true}
 	body := g.Left
 	if g.Eq {
 		if !isCallOfS(g.Left) {
@@ -78,14 +78,15 @@ func isCallOfS(e *gExpr) bool {
 // parseGrammar runs participle and turns its errors into positioned
 // diagnostics with messages written for engineers.
 func parseGrammar(name, src string) (*gEquation, error) {
+	text := syntax.NewText(name, []byte(src))
 	if strings.TrimSpace(src) == "" {
-		return nil, netlist.ErrorList{diag(name, src, Pos{File: name, Line: 1, Col: 1}, "empty expression")}
+		return nil, syntax.ErrorList{text.Errorf(0, "empty expression")}
 	}
 	if len(src) > MaxSourceBytes {
-		return nil, netlist.ErrorList{diagf(name, src, Pos{File: name, Line: 1, Col: 1}, "expression is %d bytes; at most %d are accepted", len(src), MaxSourceBytes)}
+		return nil, syntax.ErrorList{text.Errorf(0, "expression is %d bytes; at most %d are accepted", len(src), MaxSourceBytes)}
 	}
-	if d := nestingDiag(name, src); d != nil {
-		return nil, netlist.ErrorList{d}
+	if tok, deep := syntax.TooDeepText(lex, name, src, "Whitespace"); deep {
+		return nil, syntax.ErrorList{text.NestingDiag(tok, "")}
 	}
 	g, err := parser.ParseString(name, src)
 	if err == nil {
@@ -95,49 +96,36 @@ func parseGrammar(name, src string) (*gEquation, error) {
 	if !errors.As(err, &perr) {
 		return nil, fmt.Errorf("%s: %w", name, err)
 	}
-	lp := perr.Position()
-	pos := Pos{File: name, Line: lp.Line, Col: lp.Column, Offset: lp.Offset}
-	if lp.Line == 0 {
-		pos = endPos(name, src)
+	off := perr.Position().Offset
+	if perr.Position().Line == 0 {
+		off = len(src)
 	}
 	var msg string
 	var lerr *lexer.Error
 	var uerr *participle.UnexpectedTokenError
 	switch {
 	case errors.As(err, &lerr):
-		r := []rune(src[min(lp.Offset, len(src)):])
+		r := []rune(src[min(off, len(src)):])
 		if len(r) > 0 {
 			msg = fmt.Sprintf("unexpected character %q", r[0])
 		} else {
 			msg = "unexpected end of input"
 		}
 	case errors.As(err, &uerr):
-		pos = Pos{File: name, Line: uerr.Unexpected.Pos.Line, Col: uerr.Unexpected.Pos.Column, Offset: uerr.Unexpected.Pos.Offset}
+		off = uerr.Unexpected.Pos.Offset
 		if uerr.Unexpected.EOF() {
-			pos = endPos(name, src)
+			off = len(src)
 		}
-		msg = unexpectedMessage(src, pos.Offset, uerr.Unexpected)
+		msg = unexpectedMessage(src, off, uerr.Unexpected)
 	default:
 		msg = perr.Message()
 	}
-	return nil, netlist.ErrorList{diag(name, src, pos, msg)}
+	return nil, syntax.ErrorList{text.Errorf(off, "%s", msg)}
 }
 
 // MaxSourceBytes is the longest text ParseODE and ParseTF accept (64 KiB,
 // far more than any hand derivation).
 const MaxSourceBytes = 64 << 10
-
-// nestingDiag reports text nesting deeper than netlist.MaxNesting at the
-// token that goes too deep, or returns nil. Text that does not lex is left
-// to the parser, which reports it.
-func nestingDiag(name, src string) *netlist.Diagnostic {
-	tok, deep := netlist.TooDeepText(lex, name, src, "Whitespace")
-	if !deep {
-		return nil
-	}
-	p := tok.Pos
-	return diagf(name, src, Pos{File: name, Line: p.Line, Col: p.Column, Offset: p.Offset}, "expression nested too deeply (more than %d levels of parentheses, signs and powers)", netlist.MaxNesting)
-}
 
 // unexpectedMessage explains an unexpected token at byte offset off.
 func unexpectedMessage(src string, off int, tok lexer.Token) string {
@@ -169,45 +157,26 @@ func unexpectedMessage(src string, off int, tok lexer.Token) string {
 	}
 }
 
-// endPos is the position just past the last character of src.
-func endPos(name, src string) Pos {
-	p := lexer.Position{Line: 1, Column: 1}
-	p.Advance(src)
-	return Pos{File: name, Line: p.Line, Col: p.Column, Offset: p.Offset}
-}
-
-// diag builds a diagnostic with the source line for the caret display.
-func diag(name, src string, pos Pos, msg string) *netlist.Diagnostic {
-	line := ""
-	lines := strings.Split(src, "\n")
-	if pos.Line >= 1 && pos.Line <= len(lines) {
-		line = strings.TrimRight(lines[pos.Line-1], "\r")
-	}
-	pos.File = name
-	return &netlist.Diagnostic{Pos: pos, Msg: msg, Line: line}
-}
-
-// diagf is diag with a formatted message.
-func diagf(name, src string, pos Pos, format string, args ...any) *netlist.Diagnostic {
-	return diag(name, src, pos, fmt.Sprintf(format, args...))
+// diagf builds a diagnostic at pos in the text src named name, with the
+// source line for the caret display.
+func diagf(name, src string, pos Pos, format string, args ...any) *syntax.Diagnostic {
+	return syntax.NewText(name, []byte(src)).Errorf(pos.Offset, format, args...)
 }
 
 // converter turns the participle tree into the public AST, collecting
 // errors for tokens whose content is invalid (bad number suffix, unknown
 // function, mismatched derivative orders).
 type converter struct {
-	name, src string
+	text *syntax.Text
 	// inS is set for a transfer function, where NAME^(n) is a power.
 	inS  bool
-	errs netlist.ErrorList
+	errs syntax.ErrorList
 }
 
-func (c *converter) pos(p lexer.Position) Pos {
-	return Pos{File: c.name, Line: p.Line, Col: p.Column, Offset: p.Offset}
-}
+func (c *converter) pos(p lexer.Position) Pos { return c.text.At(p) }
 
 func (c *converter) errorf(p Pos, format string, args ...any) {
-	c.errs = append(c.errs, diagf(c.name, c.src, p, format, args...))
+	c.errs = append(c.errs, c.text.Errorf(p.Offset, format, args...))
 }
 
 func (c *converter) expr(g *gExpr) Expr {
@@ -251,7 +220,7 @@ func (c *converter) primary(g *gPrimary) Expr {
 	case g.Group != nil:
 		return c.expr(g.Group)
 	case g.Number != "":
-		v, err := parseNumber(g.Number)
+		v, err := parseNumber(g.Number, c.inS)
 		if err != nil {
 			c.errorf(at, "%v", err)
 		}

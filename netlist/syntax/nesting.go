@@ -1,6 +1,7 @@
-package netlist
+package syntax
 
 import (
+	"fmt"
 	"slices"
 	"strings"
 
@@ -85,4 +86,10 @@ func TooDeepText(def lexer.Definition, name, src string, skip ...string) (tok le
 		types[i] = def.Symbols()[n]
 	}
 	return TooDeep(all, types...)
+}
+
+// NestingDiag is the diagnostic for text that nests deeper than
+// MaxNesting, at the token TooDeep returned.
+func (t *Text) NestingDiag(tok lexer.Token, hint string) *Diagnostic {
+	return t.Diag(tok.Pos.Offset, SevError, fmt.Sprintf("expression nested too deeply (more than %d levels of parentheses, signs and powers)", MaxNesting), hint)
 }
