@@ -412,7 +412,7 @@ func bareName(x *Expr) string {
 		return ""
 	}
 	u := x.Left.Left
-	if u.Neg != nil || u.Power.Exp != nil || u.Power.Base.Ref == nil || u.Power.Base.Ref.Open != "" {
+	if u.Power == nil || u.Power.Exp != nil || u.Power.Base.Ref == nil || u.Power.Base.Ref.Open != "" {
 		return ""
 	}
 	return u.Power.Base.Ref.Name

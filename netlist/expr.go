@@ -135,6 +135,9 @@ func (c *exprCompiler) unary(u *Unary) (compiled, bool) {
 		f := a.fn
 		return compiled{fn: func(s []float64) float64 { return -f(s) }, d: a.d}, true
 	}
+	if u.Plus != nil {
+		return c.unary(u.Plus)
+	}
 	base, ok := c.primary(u.Power.Base)
 	if u.Power.Exp == nil || !ok {
 		return base, ok

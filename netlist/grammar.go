@@ -158,49 +158,28 @@ type TolSpec struct {
 	Value *Expr `parser:"PlusMinus @@"`
 }
 
+// The expression ladder (sum, product, sign, power) is the one every
+// grammar with powers shares (syntax.Sum and its parts), over this
+// language's Primary.
+
 // Expr is a sum: Left followed by `+`/`-` terms.
-type Expr struct {
-	Pos    lexer.Position
-	Tokens []lexer.Token
-	Left   *Term     `parser:"@@"`
-	Rest   []*OpTerm `parser:"@@*"`
-}
+type Expr = syntax.Sum[Primary]
 
 // OpTerm is one `+ TERM` or `- TERM` of a sum.
-type OpTerm struct {
-	Pos  lexer.Position
-	Op   string `parser:"@(\"+\" | \"-\")"`
-	Term *Term  `parser:"@@"`
-}
+type OpTerm = syntax.SumOp[Primary]
 
 // Term is a product: Left followed by `*`/`/` factors.
-type Term struct {
-	Pos  lexer.Position
-	Left *Unary     `parser:"@@"`
-	Rest []*OpUnary `parser:"@@*"`
-}
+type Term = syntax.Product[Primary]
 
 // OpUnary is one `* FACTOR` or `/ FACTOR` of a product.
-type OpUnary struct {
-	Pos   lexer.Position
-	Op    string `parser:"@(\"*\" | \"/\")"`
-	Unary *Unary `parser:"@@"`
-}
+type OpUnary = syntax.ProductOp[Primary]
 
-// Unary is a negation or a power.
-type Unary struct {
-	Pos   lexer.Position
-	Neg   *Unary `parser:"  \"-\" @@"`
-	Power *Power `parser:"| @@"`
-}
+// Unary is a negation, a unary plus or a power.
+type Unary = syntax.Unary[Primary]
 
 // Power is Base [^ Exp]; `^` is right-associative and binds tighter than
 // unary minus (-2^2 = -4).
-type Power struct {
-	Pos  lexer.Position
-	Base *Primary `parser:"@@"`
-	Exp  *Unary   `parser:"(\"^\" @@)?"`
-}
+type Power = syntax.Power[Primary]
 
 // Primary is a literal, a name or call, or a parenthesised expression
 // (a list of several is a tuple, used by sense=(c, d)).

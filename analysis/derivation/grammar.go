@@ -33,47 +33,14 @@ type gEquation struct {
 	Right *gExpr `parser:"  @@ )?"`
 }
 
-type gExpr struct {
-	Pos  lexer.Position
-	Head *gTerm   `parser:"@@"`
-	Rest []*gOpTm `parser:"@@*"`
-}
-
-type gOpTm struct {
-	Pos  lexer.Position
-	Op   string `parser:"@('+' | '-')"`
-	Term *gTerm `parser:"@@"`
-}
-
-type gTerm struct {
-	Pos  lexer.Position
-	Head *gUnary  `parser:"@@"`
-	Rest []*gOpUn `parser:"@@*"`
-}
-
-type gOpUn struct {
-	Pos  lexer.Position
-	Op   string  `parser:"@('*' | '/')"`
-	Fact *gUnary `parser:"@@"`
-}
-
-type gUnary struct {
-	Pos   lexer.Position
-	Op    string  `parser:"(  @('-' | '+')"`
-	Inner *gUnary `parser:"   @@ )"`
-	Power *gPower `parser:"| @@"`
-}
-
-type gPower struct {
-	Pos  lexer.Position
-	Base *gPrimary `parser:"@@"`
-	Tail *gPowTail `parser:"@@?"`
-}
-
-type gPowTail struct {
-	Pos lexer.Position // of the "^"
-	Exp *gUnary        `parser:"'^' @@"`
-}
+// The expression ladder (sum, product, sign, power) is the one the
+// circuit language shares (syntax.Sum and its parts), over gPrimary.
+type (
+	gExpr  = syntax.Sum[gPrimary]
+	gTerm  = syntax.Product[gPrimary]
+	gUnary = syntax.Unary[gPrimary]
+	gPower = syntax.Power[gPrimary]
+)
 
 type gPrimary struct {
 	Pos     lexer.Position

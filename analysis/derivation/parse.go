@@ -1,6 +1,7 @@
 package derivation
 
 import (
+	"bytes"
 	"errors"
 	"fmt"
 	"math"
@@ -64,15 +65,15 @@ func ParseTF(name, src string) (*TF, error) {
 
 // isCallOfS reports whether e is exactly NAME(s).
 func isCallOfS(e *gExpr) bool {
-	if len(e.Rest) > 0 || len(e.Head.Rest) > 0 || e.Head.Head.Power == nil || e.Head.Head.Power.Tail != nil {
+	if len(e.Rest) > 0 || len(e.Left.Rest) > 0 || e.Left.Left.Power == nil || e.Left.Left.Power.Exp != nil {
 		return false
 	}
-	p := e.Head.Head.Power.Base
-	if p.Ident == "" || p.Args == nil || len(p.Args.Rest) > 0 || len(p.Args.Head.Rest) > 0 {
+	p := e.Left.Left.Power.Base
+	if p.Ident == "" || p.Args == nil || len(p.Args.Rest) > 0 || len(p.Args.Left.Rest) > 0 {
 		return false
 	}
-	a := p.Args.Head.Head.Power
-	return a != nil && a.Tail == nil && a.Base.Ident == "s" && a.Base.Args == nil
+	a := p.Args.Left.Left.Power
+	return a != nil && a.Exp == nil && a.Base.Ident == "s" && a.Base.Args == nil
 }
 
 // parseGrammar runs participle and turns its errors into positioned
@@ -180,7 +181,7 @@ func (c *converter) errorf(p Pos, format string, args ...any) {
 }
 
 func (c *converter) expr(g *gExpr) Expr {
-	x := c.term(g.Head)
+	x := c.term(g.Left)
 	for _, r := range g.Rest {
 		x = &Binary{At: c.pos(r.Pos), Op: r.Op[0], X: x, Y: c.term(r.Term)}
 	}
@@ -188,30 +189,31 @@ func (c *converter) expr(g *gExpr) Expr {
 }
 
 func (c *converter) term(g *gTerm) Expr {
-	x := c.unary(g.Head)
+	x := c.unary(g.Left)
 	for _, r := range g.Rest {
-		x = &Binary{At: c.pos(r.Pos), Op: r.Op[0], X: x, Y: c.unary(r.Fact)}
+		x = &Binary{At: c.pos(r.Pos), Op: r.Op[0], X: x, Y: c.unary(r.Unary)}
 	}
 	return x
 }
 
 func (c *converter) unary(g *gUnary) Expr {
-	if g.Power != nil {
+	switch {
+	case g.Power != nil:
 		return c.power(g.Power)
+	case g.Plus != nil:
+		return c.unary(g.Plus)
 	}
-	x := c.unary(g.Inner)
-	if g.Op == "+" {
-		return x
-	}
-	return &Unary{At: c.pos(g.Pos), Op: '-', X: x}
+	return &Unary{At: c.pos(g.Pos), Op: '-', X: c.unary(g.Neg)}
 }
 
 func (c *converter) power(g *gPower) Expr {
 	x := c.primary(g.Base)
-	if g.Tail == nil {
+	if g.Exp == nil {
 		return x
 	}
-	return &Binary{At: c.pos(g.Tail.Pos), Op: '^', X: x, Y: c.unary(g.Tail.Exp)}
+	// The "^" is the last one before the exponent (only blanks between).
+	caret := bytes.LastIndexByte(c.text.Source[:g.Exp.Pos.Offset], '^')
+	return &Binary{At: c.text.Pos(caret), Op: '^', X: x, Y: c.unary(g.Exp)}
 }
 
 func (c *converter) primary(g *gPrimary) Expr {
