@@ -19,9 +19,12 @@ import (
 //	product = factor { ("*" | "·" | "/") factor } .
 //	factor  = Number | Ident [ "(" sum ")" ] .
 //
-// Number is a decimal with optional exponent and an optional suffix of
-// letters (an SI prefix, deg, ° or rad); Ident is a name (sin, cos, pi, π,
-// t). Meaning is checked after parsing, in build.go.
+// Number is the number token every nodal grammar shares
+// (syntax.NumberPattern: SI prefixes, IEC 60062 codes, attached units;
+// deg, ° and rad mark a phase); Ident is a name (sin, cos, pi, π, t).
+// The grammar has no powers and no parentheses other than a call's, so
+// it keeps its own two levels rather than syntax.Sum. Meaning is checked
+// after parsing, in build.go.
 
 type sumAST struct {
 	Lead  string     `parser:"@('+' | '-' | '−')?"`
@@ -128,7 +131,7 @@ func (b *builder) number(tok string, pos lexer.Position) (number, error) {
 	n, err := syntax.ParseNumber(tok)
 	if err != nil {
 		hint := ""
-		if suffix := strings.TrimLeft(tok, "0123456789."); strings.HasPrefix(suffix, "pi") || strings.HasPrefix(suffix, "t") || strings.HasPrefix(suffix, "sin") || strings.HasPrefix(suffix, "cos") {
+		if suffix := strings.TrimLeft(tok, "0123456789."); strings.HasPrefix(suffix, "pi") || strings.HasPrefix(suffix, "π") || strings.HasPrefix(suffix, "t") || strings.HasPrefix(suffix, "sin") || strings.HasPrefix(suffix, "cos") {
 			hint = " (write the multiplication with *)"
 		}
 		return number{}, b.errAt(pos, "number %v%s", err, hint)

@@ -8,8 +8,9 @@
 //
 // Angular frequency may be written directly in rad/s (2500*t) or as 2*pi*f
 // with f in Hz. Phases are in radians unless a number carries the suffix
-// deg or °. Numbers may carry an SI prefix (T G M k m u µ n p f). The
-// grammar is built with participle; see grammar.go.
+// deg or °. Numbers are read as everywhere in nodal (syntax.ParseNumber):
+// SI prefixes (T G M k m u µ n p f), IEC 60062 codes (1k5) and attached
+// units (1kHz). The grammar is built with participle; see grammar.go.
 package signal
 
 import (
