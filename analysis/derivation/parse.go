@@ -83,11 +83,8 @@ func parseGrammar(name, src string) (*gEquation, error) {
 	if strings.TrimSpace(src) == "" {
 		return nil, syntax.ErrorList{text.Errorf(0, "empty expression")}
 	}
-	if len(src) > MaxSourceBytes {
-		return nil, syntax.ErrorList{text.Errorf(0, "expression is %d bytes; at most %d are accepted", len(src), MaxSourceBytes)}
-	}
-	if tok, deep := syntax.TooDeepText(lex, name, src, "Whitespace"); deep {
-		return nil, syntax.ErrorList{text.NestingDiag(tok, "")}
+	if d := text.Admit("expression", MaxSourceBytes, lex, "Whitespace"); d != nil {
+		return nil, syntax.ErrorList{d}
 	}
 	g, err := parser.ParseString(name, src)
 	if err == nil {

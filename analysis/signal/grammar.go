@@ -75,14 +75,8 @@ var parser = participle.MustBuild[sumAST](
 // NAME:LINE:COL with the line and a caret; Parse never panics.
 func Parse(name, src string) (*Signal, error) {
 	text := syntax.NewText(name, []byte(src))
-	if !utf8.ValidString(src) {
-		return nil, syntax.ErrorList{text.Errorf(0, "signal is not valid UTF-8")}
-	}
-	if len(src) > MaxSourceBytes {
-		return nil, syntax.ErrorList{text.Errorf(0, "signal is %d bytes; at most %d are accepted", len(src), MaxSourceBytes)}
-	}
-	if tok, deep := syntax.TooDeepText(signalLexer, name, src, "Whitespace"); deep {
-		return nil, syntax.ErrorList{text.NestingDiag(tok, "")}
+	if d := text.Admit("signal", MaxSourceBytes, signalLexer, "Whitespace"); d != nil {
+		return nil, syntax.ErrorList{d}
 	}
 	ast, err := parser.ParseString(name, src)
 	if err != nil {
