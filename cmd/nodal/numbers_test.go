@@ -172,4 +172,12 @@ func TestMessageEcho(t *testing.T) {
 	if r.code != exitInput || strings.ContainsAny(r.stderr, "\x1b\u202e") || !strings.Contains(r.stderr, `# \x1b[2J\u202egnp.exe`) {
 		t.Errorf("control characters: exit %d, stderr %q", r.code, r.stderr)
 	}
+	titled := filepath.Join(dir, "title.nodal")
+	if err := os.WriteFile(titled, []byte(`title "logger \x1b[2J\u202efront end"`+"\nV1: vsource (in, gnd) 1\nR1: resistor (in, gnd) 1k\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	r = runNodal(t, "", "parts", titled)
+	if r.code != 0 || strings.ContainsAny(r.stdout, "\x1b\u202e") || !strings.HasPrefix(r.stdout, `logger \x1b[2J\u202efront end`) {
+		t.Errorf("title with control characters: exit %d, stdout %.80q", r.code, r.stdout)
+	}
 }
