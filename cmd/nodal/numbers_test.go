@@ -164,6 +164,14 @@ func TestMessageEcho(t *testing.T) {
 	if caret := utf8.RuneCountInString(lines[2]) - 1; []rune(lines[1])[caret] != '$' {
 		t.Errorf("caret not under the $")
 	}
+	name := filepath.Join(dir, "name.nodal")
+	if err := os.WriteFile(name, []byte("V1: vsource (in, gnd) 1\nR1: resistor (in, out) 1k\nC1: capacitor (out, gnd) C"+pad+"\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	r = runNodal(t, "", "tf", name, "--out", "out")
+	if r.code != exitInput || !strings.Contains(r.stderr, `undefined parameter "Cxxx`) || len(r.stderr) > 1000 {
+		t.Errorf("100000-character name: exit %d, %d bytes of message: %.200q", r.code, len(r.stderr), r.stderr)
+	}
 	ctl := filepath.Join(dir, "ctl.nodal")
 	if err := os.WriteFile(ctl, []byte("V1: vsource (in, gnd) 1\nR1: resistor (in, out) 1k $ # \x1b[2J\u202egnp.exe\n"), 0o644); err != nil {
 		t.Fatal(err)

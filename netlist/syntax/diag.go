@@ -2,6 +2,7 @@ package syntax
 
 import (
 	"fmt"
+	"regexp"
 	"sort"
 	"strings"
 	"unicode/utf8"
@@ -30,7 +31,10 @@ type Diagnostic struct {
 // most: a window around the column, with "…" where the line is cut.
 const MaxEcho = 200
 
-// Error formats the diagnostic as SOURCE:LINE:COL: message (hint),
+// Error formats the diagnostic as SOURCE:LINE:COL: message (hint), the
+// message and hint escaped like the line in case they quote file text
+// (and every quoted piece longer than MaxQuoted characters cut in its
+// middle, so a 10 MB token is not repeated in full),
 // followed, when the line is known, by the source line (at most MaxEcho
 // characters around the column, control and bidirectional-override
 // characters escaped) and a caret under the column.
@@ -41,10 +45,10 @@ func (d *Diagnostic) Error() string {
 	if d.Severity == SevWarning {
 		b.WriteString("warning: ")
 	}
-	b.WriteString(d.Msg)
+	b.WriteString(shortenQuoted(EscapeText(d.Msg)))
 	if d.Hint != "" {
 		b.WriteString(" (")
-		b.WriteString(d.Hint)
+		b.WriteString(shortenQuoted(EscapeText(d.Hint)))
 		b.WriteString(")")
 	}
 	if d.Line != "" && d.Pos.Col > 0 {
@@ -133,6 +137,28 @@ func escapeRune(r rune) string {
 		return fmt.Sprintf(`\x%02x`, r)
 	}
 	return fmt.Sprintf(`\u%04x`, r)
+}
+
+// MaxQuoted is how many characters of a quoted piece of text ("name")
+// a message shows at most.
+const MaxQuoted = 60
+
+// quotedRE is a double-quoted piece of a message, as %q writes it.
+var quotedRE = regexp.MustCompile(`"(?:\\.|[^"\\])*"`)
+
+// shortenQuoted cuts every quoted piece of msg longer than MaxQuoted
+// characters to its first and last characters around "…".
+func shortenQuoted(msg string) string {
+	if utf8.RuneCountInString(msg) <= MaxQuoted {
+		return msg
+	}
+	return quotedRE.ReplaceAllStringFunc(msg, func(q string) string {
+		r := []rune(q)
+		if len(r) <= MaxQuoted+2 {
+			return q
+		}
+		return string(r[:MaxQuoted*2/3]) + "…" + string(r[len(r)-MaxQuoted/3:])
+	})
 }
 
 // ErrorList is a list of diagnostics, like go/scanner.ErrorList. Its Error

@@ -24,6 +24,7 @@ func TestDiagnosticForm(t *testing.T) {
 		{"flag", NewText("--at", []byte("1k,2x")).Errorf(3, "bad value"), "--at:1:4: bad value\n    1k,2x\n       ^"},
 		{"end of text", NewText("--ode", []byte("y' =")).Errorf(4, "expected a term"), "--ode:1:5: expected a term\n    y' =\n        ^"},
 		{"no line", &Diagnostic{Pos: Pos{File: "f", Line: 3, Col: 2}, Msg: "m"}, "f:3:2: m"},
+		{"raw text in the message", &Diagnostic{Pos: Pos{File: "f", Line: 1, Col: 1}, Msg: "name \x1b[2J", Hint: "did you mean \u202ex"}, `f:1:1: name \x1b[2J (did you mean \u202ex)`},
 	} {
 		if got := tc.d.Error(); got != tc.want {
 			t.Errorf("%s:\n got %q\nwant %q", tc.name, got, tc.want)
@@ -77,9 +78,12 @@ func TestEchoWindow(t *testing.T) {
 	if shown, _ := Echo(long, 5001); !strings.Contains(shown, "X") {
 		t.Errorf("the window around column 5001 misses it")
 	}
-	d := NewText("big.nodal", []byte(long)).Errorf(5000, "here")
+	d := NewText("big.nodal", []byte(long)).Errorf(5000, "undefined parameter %q (or %q)", long, "short")
 	if got := d.Error(); len(got) > 3*MaxEcho+100 {
 		t.Errorf("a 10001-character line gives a %d-byte message", len(got))
+	}
+	if first := strings.SplitN(d.Error(), "\n", 2)[0]; !strings.HasPrefix(first, `big.nodal:1:5001: undefined parameter "aaa`) || !strings.Contains(first, `…bbb`) || !strings.HasSuffix(first, `b" (or "short")`) || utf8.RuneCountInString(first) > 60+MaxQuoted+20 {
+		t.Errorf("quoted token not shortened: %q", first)
 	}
 }
 
