@@ -10,7 +10,12 @@
 // (ParseNumber) for decimals, exponents, SI prefixes, IEC 60062 value
 // codes (4k7, 1k5, 4n7, 2R2) and attached units (2kHz, 10kΩ), with the one
 // SI prefix table of the program (PrefixScale, PrefixExponent,
-// PrefixSymbol). It imports nothing of nodal.
+// PrefixSymbol), and the expression precedence ladder (Sum, Product,
+// Unary, Power) as participle nodes generic in a grammar's primary.
+// Diagnostic.Error shows at most MaxEcho characters of a line and escapes
+// control and bidirectional characters (Echo, EscapeText); Text.Admit is
+// the check a one-piece expression passes before it is parsed. It imports
+// nothing of nodal.
 package syntax
 
 import (
