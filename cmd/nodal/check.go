@@ -6,8 +6,9 @@ import (
 	"io"
 	"math"
 
-	"nodal/analysis"
+	"nodal/analysis/check"
 	"nodal/analysis/derivation"
+	"nodal/analysis/transfer"
 	"nodal/netlist"
 )
 
@@ -70,7 +71,7 @@ func (c *checkCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	res, err := analysis.Compare(r.tf, num, den, analysis.CompareOptions{Values: circuitValues(l.circuit)})
+	res, err := check.Compare(r.tf, num, den, check.CompareOptions{Values: circuitValues(l.circuit)})
 	if err != nil {
 		return err
 	}
@@ -110,7 +111,7 @@ func reduceDerivation(c *netlist.Circuit, ode, tf string) (*derivation.Rational,
 }
 
 // checkTable prints the comparison and the verdict line.
-func checkTable(w io.Writer, r *tfResult, res *analysis.CheckResult, sc symbolicCheck) error {
+func checkTable(w io.Writer, r *tfResult, res *check.CheckResult, sc symbolicCheck) error {
 	fmt.Fprintf(w, "%s against your derivation (both normalised: lowest-order denominator coefficient 1)\n\n", r.what)
 	t := newTable(w, "coefficient", "circuit", "yours", "ratio", "status")
 	for _, row := range res.Coefficients {
@@ -128,7 +129,7 @@ func checkTable(w io.Writer, r *tfResult, res *analysis.CheckResult, sc symbolic
 	}
 	for _, set := range []struct {
 		name string
-		ms   []analysis.RootMatch
+		ms   []check.RootMatch
 	}{{"poles", res.Poles}, {"zeros", res.Zeros}} {
 		if len(set.ms) == 0 {
 			continue
@@ -168,7 +169,7 @@ func checkTable(w io.Writer, r *tfResult, res *analysis.CheckResult, sc symbolic
 }
 
 // matchText formats one side of a root match.
-func matchText(z *analysis.Complex) string {
+func matchText(z *transfer.Complex) string {
 	if z == nil {
 		return "(none)"
 	}

@@ -7,7 +7,7 @@ import (
 	"sort"
 	"strings"
 
-	"nodal/analysis"
+	"nodal/analysis/check"
 	"nodal/analysis/derivation"
 	"nodal/analysis/symbolic"
 	"nodal/netlist"
@@ -227,7 +227,7 @@ func symbolLookup(c *netlist.Circuit) derivation.Lookup {
 
 // checkVerdict is the final verdict: the symbolic one when it was
 // possible, else the numeric one.
-func checkVerdict(res *analysis.CheckResult, sc symbolicCheck) bool {
+func checkVerdict(res *check.CheckResult, sc symbolicCheck) bool {
 	if sc.Done {
 		return sc.Identical
 	}
@@ -255,7 +255,7 @@ func symbolicLines(sc symbolicCheck, numericAgrees bool) []string {
 // checkJSON is the JSON document of `nodal check`: the numeric comparison
 // with the symbolic one; agrees is the final verdict.
 type checkJSON struct {
-	*analysis.CheckResult
+	*check.CheckResult
 	Agrees        bool          `json:"agrees"`
 	NumericAgrees bool          `json:"numeric_agrees"`
 	Symbolic      symbolicCheck `json:"symbolic"`

@@ -9,8 +9,8 @@ import (
 	"strings"
 	"unicode/utf8"
 
-	"nodal/analysis"
 	"nodal/analysis/signal"
+	"nodal/analysis/steady"
 )
 
 // driveCmd prints the sinusoidal steady-state output for a drive signal.
@@ -66,7 +66,7 @@ func (c *driveCmd) Run(e *env) error {
 		}
 		return v
 	}
-	st, err := analysis.SteadyState(h, sig)
+	st, err := steady.SteadyState(h, sig)
 	if err != nil {
 		return err
 	}
@@ -92,10 +92,10 @@ func (c *driveCmd) Run(e *env) error {
 	return writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
 		if c.Format == "json" {
 			doc := struct {
-				*analysis.Steady
+				*steady.Steady
 				Output  string       `json:"output_expression"`
 				Phasors []nodePhasor `json:"phasors,omitempty"`
-			}{st, analysis.FormatSteady(st), phasors}
+			}{st, steady.FormatSteady(st), phasors}
 			return writeJSON(w, doc)
 		}
 		return steadyTable(w, st, phasors, sig)
@@ -103,8 +103,8 @@ func (c *driveCmd) Run(e *env) error {
 }
 
 // steadyTable prints the closed form and the per-term table.
-func steadyTable(w io.Writer, st *analysis.Steady, phasors []nodePhasor, sig *signal.Signal) error {
-	fmt.Fprintln(w, analysis.FormatSteady(st))
+func steadyTable(w io.Writer, st *steady.Steady, phasors []nodePhasor, sig *signal.Signal) error {
+	fmt.Fprintln(w, steady.FormatSteady(st))
 	fmt.Fprintln(w)
 	t := newTable(w, "term", "freq_hz", "omega_rad_s", "in_amplitude", "in_phase_deg", "gain", "shift_deg", "out_amplitude", "out_phase_deg")
 	opt := func(p *float64, dec int) string {

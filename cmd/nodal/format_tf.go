@@ -7,7 +7,7 @@ import (
 	"strconv"
 	"strings"
 
-	"nodal/analysis"
+	"nodal/analysis/transfer"
 )
 
 // engNumber formats v in engineering notation: a mantissa of 4 significant
@@ -162,7 +162,7 @@ func factorText(roots []complex128) (factors []string, atZero int) {
 
 // factoredText writes H(s) as K·s^k·Π(zero factors)/Π(pole factors) with
 // every factor normalised to a constant term of 1, frequencies in rad/s.
-func factoredText(h *analysis.TransferFunction) string {
+func factoredText(h *transfer.TransferFunction) string {
 	if len(h.Num) == 0 || allZero(h.Num) {
 		return "0"
 	}
@@ -193,7 +193,7 @@ func factoredText(h *analysis.TransferFunction) string {
 }
 
 // zpkText writes H(s) = Gain·Π(s − z)/Π(s − p).
-func zpkText(h *analysis.TransferFunction) string {
+func zpkText(h *transfer.TransferFunction) string {
 	if len(h.Num) == 0 || allZero(h.Num) {
 		return "0"
 	}
@@ -241,7 +241,7 @@ func zpkText(h *analysis.TransferFunction) string {
 
 // odeText writes the circuit's differential equation
 // a_n·y⁽ⁿ⁾ + … + a_0·y = b_m·u⁽ᵐ⁾ + … + b_0·u.
-func odeText(ode analysis.ODE, y, u string) string {
+func odeText(ode transfer.ODE, y, u string) string {
 	side := func(c []float64, v string) string {
 		var terms []signedTerm
 		for k := len(c) - 1; k >= 0; k-- {

@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"strings"
 
-	"nodal/analysis"
+	"nodal/analysis/response"
 	"nodal/netlist"
 )
 
@@ -69,7 +69,7 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 		if from < 0 {
 			return nil, fmt.Errorf("--from must be ≥ 0")
 		}
-		return analysis.LinearGrid(from, to, n), nil
+		return response.LinearGrid(from, to, n), nil
 	}
 	if f.Points != 0 {
 		return nil, fmt.Errorf("--points goes with --linear; use --per-decade for a log sweep")
@@ -80,5 +80,5 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 	if f.PerDecade < 1 || f.PerDecade > 10000 {
 		return nil, fmt.Errorf("--per-decade must be between 1 and 10000")
 	}
-	return analysis.LogGrid(from, to, f.PerDecade), nil
+	return response.LogGrid(from, to, f.PerDecade), nil
 }

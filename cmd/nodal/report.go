@@ -6,7 +6,9 @@ import (
 	"math"
 	"slices"
 
-	"nodal/analysis"
+	"nodal/analysis/response"
+	"nodal/analysis/timeresp"
+	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
 	"nodal/cmd/nodal/report"
 	"nodal/netlist"
@@ -101,7 +103,7 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 	d.Summary = fmt.Sprintf("%d parts, %d nodes; analysed %s, order %d.", len(c.Parts), len(c.Nodes), r.what, h.Order())
 	d.Transfer = &report.Transfer{
 		Input:    r.sys.Input.Source,
-		Output:   analysis.OutputLabel(r.sys.Output),
+		Output:   response.OutputLabel(r.sys.Output),
 		Factored: "H(s) = " + factoredText(h),
 		Expanded: "H(s) = " + rationalText(h.Num, h.Den),
 		ODE:      odeText(h.ODE(), r.yName, r.uName),
@@ -117,7 +119,7 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 	}
 	// Bode plot over the default range.
 	lo, hi := rangeOf(l, r.sysTF())
-	resp, err := analysis.Sweep(e.ctx, r.sys, analysis.LogGrid(lo, hi, 50), 0)
+	resp, err := response.Sweep(e.ctx, r.sys, response.LogGrid(lo, hi, 50), 0)
 	if err != nil {
 		return nil, err
 	}
@@ -146,8 +148,8 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 }
 
 // reportStep computes the step response section.
-func reportStep(h *analysis.TransferFunction) (*report.Step, error) {
-	sr, err := analysis.Step(h, analysis.TimeOptions{Points: 400})
+func reportStep(h *transfer.TransferFunction) (*report.Step, error) {
+	sr, err := timeresp.Step(h, timeresp.TimeOptions{Points: 400})
 	if err != nil {
 		return nil, err
 	}
@@ -228,7 +230,7 @@ func responseRows(e *env, r *tfResult, lo, hi float64, minus3dB []float64) []rep
 	}
 	fs = append(fs, minus3dB...)
 	slices.Sort(fs)
-	resp, err := analysis.Sweep(e.ctx, r.sys, fs, 1)
+	resp, err := response.Sweep(e.ctx, r.sys, fs, 1)
 	if err != nil {
 		return nil
 	}

@@ -7,7 +7,8 @@ import (
 	"io"
 	"strconv"
 
-	"nodal/analysis"
+	"nodal/analysis/timeresp"
+	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
 	"nodal/netlist"
 )
@@ -72,11 +73,11 @@ func (c *timeArgs) run(e *env, kind string) error {
 	if err != nil {
 		return err
 	}
-	tf, err := analysis.Extract(sys)
+	tf, err := transfer.Extract(sys)
 	if err != nil {
 		return err
 	}
-	opt := analysis.TimeOptions{Points: c.Points}
+	opt := timeresp.TimeOptions{Points: c.Points}
 	if c.Until != "" {
 		if opt.UntilS, err = netlist.ParseValue(c.Until, "s"); err != nil {
 			return fmt.Errorf("--until: %w", err)
@@ -88,13 +89,13 @@ func (c *timeArgs) run(e *env, kind string) error {
 	if c.Points < 2 || c.Points > maxPoints {
 		return fmt.Errorf("--points must be between 2 and %d", maxPoints)
 	}
-	var r *analysis.TimeResponse
+	var r *timeresp.TimeResponse
 	if kind == "step" {
-		r, err = analysis.Step(tf, opt)
+		r, err = timeresp.Step(tf, opt)
 	} else {
-		r, err = analysis.Impulse(tf, opt)
+		r, err = timeresp.Impulse(tf, opt)
 	}
-	if errors.Is(err, analysis.ErrNoTimeScale) {
+	if errors.Is(err, timeresp.ErrNoTimeScale) {
 		return fmt.Errorf("%w with --until T", err)
 	}
 	if err != nil {
@@ -127,7 +128,7 @@ func (c *timeArgs) run(e *env, kind string) error {
 }
 
 // timeTable prints the closed form, the figures and the samples.
-func timeTable(w io.Writer, r *analysis.TimeResponse, in, out string) error {
+func timeTable(w io.Writer, r *timeresp.TimeResponse, in, out string) error {
 	fmt.Fprintf(w, "%s response of %s to a unit %s of %s\n\n", r.Kind, out, r.Kind, in)
 	fmt.Fprintln(w, r.ClosedForm)
 	if r.Unstable {
@@ -200,7 +201,7 @@ func complexText(z complex128) string {
 }
 
 // writeTimePlot draws a time response with its marks.
-func writeTimePlot(e *env, path string, protect []string, l *loaded, r *analysis.TimeResponse) error {
+func writeTimePlot(e *env, path string, protect []string, l *loaded, r *timeresp.TimeResponse) error {
 	format, err := plot.FormatFromPath(path)
 	if err != nil {
 		return err

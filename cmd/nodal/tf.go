@@ -7,7 +7,8 @@ import (
 	"math"
 	"strings"
 
-	"nodal/analysis"
+	"nodal/analysis/response"
+	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
 	"nodal/mna"
 	"nodal/netlist"
@@ -66,7 +67,7 @@ type tfRequest struct {
 
 // tfResult is an extracted transfer function with what it is of.
 type tfResult struct {
-	tf     *analysis.TransferFunction
+	tf     *transfer.TransferFunction
 	sys    *mna.System
 	what   string // "H(s) = v(out)/v(Vs)", "Zin(s) seen by Vs" ...
 	yName  string // output signal name for the ODE
@@ -137,7 +138,7 @@ func (p tfProbe) describe(c *netlist.Circuit, in mna.Input, out mna.Output) (wha
 	} else if out.Kind == mna.PartCurrent {
 		unit = "A/V"
 	}
-	return fmt.Sprintf("H(s) = %s / %s", analysis.OutputLabel(out), in.Source), unit
+	return fmt.Sprintf("H(s) = %s / %s", response.OutputLabel(out), in.Source), unit
 }
 
 // extractTF builds the system and extracts the requested transfer function.
@@ -150,7 +151,7 @@ func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
 	if err != nil {
 		return nil, err
 	}
-	tf, err := analysis.Extract(sys)
+	tf, err := transfer.Extract(sys)
 	if err != nil {
 		return nil, err
 	}
@@ -167,7 +168,7 @@ func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
 
 // sysTF is the transfer function of r.sys itself: r.tf, except for the
 // input impedance of a voltage source, where r.tf is its inverse.
-func (r *tfResult) sysTF() *analysis.TransferFunction {
+func (r *tfResult) sysTF() *transfer.TransferFunction {
 	if r.invert {
 		return systemTF(r.sys)
 	}
@@ -186,7 +187,7 @@ func sourceNames(c *netlist.Circuit) []string {
 }
 
 // invertTF returns sign/h: poles and zeros exchanged, D re-normalised.
-func invertTF(h *analysis.TransferFunction, sign float64) *analysis.TransferFunction {
+func invertTF(h *transfer.TransferFunction, sign float64) *transfer.TransferFunction {
 	num := append([]float64(nil), h.Den...)
 	den := append([]float64(nil), h.Num...)
 	k := lowest(den)
@@ -196,7 +197,7 @@ func invertTF(h *analysis.TransferFunction, sign float64) *analysis.TransferFunc
 	for i := range den {
 		den[i] /= k
 	}
-	out := &analysis.TransferFunction{Num: num, Den: den, Zeros: append([]complex128(nil), h.Poles...), Poles: append([]complex128(nil), h.Zeros...), Cancelled: h.Cancelled}
+	out := &transfer.TransferFunction{Num: num, Den: den, Zeros: append([]complex128(nil), h.Poles...), Poles: append([]complex128(nil), h.Zeros...), Cancelled: h.Cancelled}
 	out.Gain = num[len(num)-1] / den[len(den)-1]
 	return out
 }
@@ -243,14 +244,14 @@ func (c *tfCmd) Run(e *env) error {
 // for the table, the JSON and the HTML report.
 type tfReport struct {
 	r         *tfResult
-	dc, hf    analysis.Asymptote
-	bw        *analysis.Bandwidth
+	dc, hf    transfer.Asymptote
+	bw        *transfer.Bandwidth
 	bwErr     error
-	peak      *analysis.Peak
+	peak      *transfer.Peak
 	peakErr   error
-	pairs     []analysis.RootPair
-	zeroPairs []analysis.RootPair
-	ode       analysis.ODE
+	pairs     []transfer.RootPair
+	zeroPairs []transfer.RootPair
+	ode       transfer.ODE
 }
 
 // newTFReport computes the report figures.
@@ -291,7 +292,7 @@ func rootsJSON(rs []complex128) []rootJSON {
 	return out
 }
 
-func pairsJSON(ps []analysis.RootPair) []pairJSON {
+func pairsJSON(ps []transfer.RootPair) []pairJSON {
 	out := make([]pairJSON, len(ps))
 	for i, p := range ps {
 		out[i] = pairJSON{F0Hz: p.F0Hz, OmegaRad: p.OmegaRad, Q: finiteOrNil(p.Q), Zeta: p.Zeta}

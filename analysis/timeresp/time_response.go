@@ -1,0 +1,670 @@
+package timeresp
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/cmplx"
+	"nodal/analysis/transfer"
+	"strings"
+
+	"nodal/analysis/signal"
+)
+
+// ErrNoTimeScale means a time response needs an explicit end time
+// (TimeOptions.UntilS) because H(s) has no pole off s = 0.
+var ErrNoTimeScale = errors.New("give an end time")
+
+// TimeOptions controls the sampling of a time response.
+type TimeOptions struct {
+	// UntilS is the end of the sampled span in seconds; 0 chooses it from
+	// the slowest pole (see Step).
+	UntilS float64
+	// Points is the number of samples from t = 0 to the end inclusive;
+	// 0 means DefaultTimePoints. At least 2.
+	Points int
+}
+
+// DefaultTimePoints is the number of samples when TimeOptions.Points is 0.
+const DefaultTimePoints = 500
+
+// Point is one sample y(TS) of a time response, TS in seconds.
+type Point struct {
+	TS float64 `json:"t_s"`
+	Y  float64 `json:"y"`
+}
+
+// Metrics are the figures of a time response, computed on the exact closed
+// form (extrema and level crossings refined by bisection), never read off
+// the sampled points. A nil field has no value: see Note.
+//
+//   - Final: lim y(t) for t → ∞ (nil if y ramps, oscillates or grows).
+//   - RiseTimeS: time from 10 % to 90 % of Final (first crossings); nil if
+//     Final is nil or 0.
+//   - OvershootPct: (max y/Final − 1)·100, 0 if y never exceeds Final; nil
+//     if Final is nil or 0.
+//   - PeakTimeS, Peak: time and value of the largest y/Final when
+//     OvershootPct > 0; when Final is 0, of the largest |y|.
+//   - SettlingTimeS: the last time |y − Final| equals 2 % of |Final| (2 %
+//     of the largest |y| when Final is 0); 0 if never outside the band.
+type Metrics struct {
+	Final         *float64 `json:"final"`
+	RiseTimeS     *float64 `json:"rise_time_s"`
+	Rise10S       *float64 `json:"rise_10pct_s,omitempty"` // first time y reaches 10 % of Final
+	Rise90S       *float64 `json:"rise_90pct_s,omitempty"` // first time y reaches 90 % of Final
+	OvershootPct  *float64 `json:"overshoot_pct"`
+	PeakTimeS     *float64 `json:"peak_time_s"`
+	Peak          *float64 `json:"peak"`
+	SettlingTimeS *float64 `json:"settling_time_s"`
+	Note          string   `json:"note,omitempty"`
+}
+
+// TimeResponse is the exact step or impulse response of a rational H(s),
+//
+//	y(t) = Dirac·δ(t) + Σ Modes[i](t)   for t ≥ 0 (y = 0 for t < 0),
+//
+// from the partial-fraction expansion of H(s)/s (step) or H(s) (impulse).
+// Kind is "step" or "impulse". Dirac is the weight of δ(t) (impulse of a
+// proper but not strictly proper H; always 0 for a step). ClosedForm is
+// y(t) as readable text. Points are samples over [0, SpanS]; if the
+// response overflows float64, sampling stops there and Overflow is set.
+//
+// Unstable is set when a pole has Re > 0 or a repeated pole lies on the jω
+// axis (UnstablePoles lists them); AxisPoles lists simple poles on the jω
+// axis (s = 0 included), which keep y bounded for an impulse but leave no
+// final value when oscillating. No settling figures are given without a
+// final value. All fields are finite, so the value marshals to JSON.
+type TimeResponse struct {
+	Kind          string             `json:"kind"`
+	ClosedForm    string             `json:"closed_form"`
+	Dirac         float64            `json:"dirac"`
+	Modes         []Mode             `json:"modes"`
+	Metrics       Metrics            `json:"metrics"`
+	Points        []Point            `json:"points"`
+	SpanS         float64            `json:"span_s"`
+	Unstable      bool               `json:"unstable"`
+	UnstablePoles []transfer.Complex `json:"unstable_poles,omitempty"`
+	AxisPoles     []transfer.Complex `json:"axis_poles,omitempty"`
+	Overflow      bool               `json:"overflow,omitempty"`
+}
+
+// At returns y(t) from the closed form: 0 for t < 0, the right limit y(0+)
+// at t = 0, and without the Dirac term (see Dirac).
+func (r *TimeResponse) At(t float64) float64 {
+	if t < 0 {
+		return 0
+	}
+	y, _ := modesAt(r.Modes, t)
+	return y
+}
+
+// Step returns the exact response of y to a unit step u(t) = 1 for t ≥ 0.
+//
+// The default span is the largest over the poles of H of about 7 time
+// constants 1/|Re p| (plus 3 per extra multiplicity), at least 10 periods
+// for a lightly damped pair (ζ < 0.2) or a pole pair on the jω axis, and
+// 5 time constants of an unstable pole. A circuit with no pole off s = 0
+// has no time scale: then opt.UntilS must be set.
+func Step(tf *transfer.TransferFunction, opt TimeOptions) (*TimeResponse, error) {
+	return timeResponse(tf, "step", opt)
+}
+
+// Impulse returns the exact response of y to a unit impulse δ(t); a direct
+// term of H is reported as Dirac, not sampled. Span as for Step.
+func Impulse(tf *transfer.TransferFunction, opt TimeOptions) (*TimeResponse, error) {
+	return timeResponse(tf, "impulse", opt)
+}
+
+func timeResponse(tf *transfer.TransferFunction, kind string, opt TimeOptions) (*TimeResponse, error) {
+	if tf == nil {
+		return nil, errors.New(kind + " response: nil transfer function")
+	}
+	if len(tf.Zeros) > len(tf.Poles) {
+		return nil, fmt.Errorf("%s response: H(s) has more zeros (%d) than poles (%d), so the response contains derivatives of δ(t)", kind, len(tf.Zeros), len(tf.Poles))
+	}
+	if math.IsNaN(tf.Gain) || math.IsInf(tf.Gain, 0) {
+		return nil, fmt.Errorf("%s response: gain %g is not finite", kind, tf.Gain)
+	}
+	if opt.Points == 0 {
+		opt.Points = DefaultTimePoints
+	}
+	if opt.Points < 2 {
+		return nil, fmt.Errorf("%s response: %d points; need at least 2", kind, opt.Points)
+	}
+	if opt.UntilS < 0 || math.IsNaN(opt.UntilS) || math.IsInf(opt.UntilS, 0) {
+		return nil, fmt.Errorf("%s response: end time %g s must be positive and finite", kind, opt.UntilS)
+	}
+	hGroups, err := clusterPoles(tf.Poles)
+	if err != nil {
+		return nil, fmt.Errorf("%s response: %w", kind, err)
+	}
+	r := &TimeResponse{Kind: kind}
+	for _, g := range hGroups {
+		pr := transfer.Complex{Re: real(g.p), Im: imag(g.p)}
+		switch {
+		case real(g.p) > 0 || real(g.p) == 0 && g.mult > 1:
+			r.Unstable = true
+			r.UnstablePoles = append(r.UnstablePoles, pr)
+		case real(g.p) == 0:
+			r.AxisPoles = append(r.AxisPoles, pr)
+		}
+	}
+	poles := tf.Poles
+	if kind == "step" {
+		poles = append(append([]complex128(nil), tf.Poles...), 0)
+	} else if len(tf.Zeros) == len(tf.Poles) {
+		r.Dirac = tf.Gain
+	}
+	groups, err := clusterPoles(poles)
+	if err != nil {
+		return nil, fmt.Errorf("%s response: %w", kind, err)
+	}
+	r.Modes = modes(groups, laurent(tf.Gain, tf.Zeros, groups))
+
+	r.SpanS = opt.UntilS
+	if r.SpanS == 0 {
+		r.SpanS = defaultSpan(hGroups)
+		if r.SpanS == 0 {
+			return nil, fmt.Errorf("%s response: H(s) has no pole off s = 0, so there is no time scale to choose the span from: %w", kind, ErrNoTimeScale)
+		}
+	}
+	r.Points = samplePoints(r, opt.Points)
+	r.Overflow = len(r.Points) < opt.Points
+	r.Metrics = metrics(r.Modes, r.SpanS)
+	r.ClosedForm = closedForm(r.Dirac, r.Modes)
+	return r, nil
+}
+
+// defaultSpan implements the span rule documented on Step; 0 if no pole
+// gives a time scale.
+func defaultSpan(groups []poleGroup) float64 {
+	span := 0.0
+	for _, g := range groups {
+		sigma, omega := real(g.p), math.Abs(imag(g.p))
+		c := 0.0
+		switch {
+		case sigma < 0:
+			c = (7 + 3*float64(g.mult-1)) / -sigma
+			if omega > 0 && -sigma/cmplx.Abs(g.p) < 0.2 {
+				c = math.Max(c, 10*2*math.Pi/omega)
+			}
+		case sigma > 0:
+			c = 5 / sigma
+		case omega > 0:
+			c = 10 * 2 * math.Pi / omega
+		}
+		span = math.Max(span, c)
+	}
+	return span
+}
+
+// samplePoints samples y uniformly over [0, SpanS], stopping before the
+// first non-finite value.
+func samplePoints(r *TimeResponse, n int) []Point {
+	pts := make([]Point, 0, n)
+	for i := 0; i < n; i++ {
+		t := r.SpanS * float64(i) / float64(n-1)
+		y := r.At(t)
+		if math.IsNaN(y) || math.IsInf(y, 0) {
+			break
+		}
+		pts = append(pts, Point{TS: t, Y: y})
+	}
+	return pts
+}
+
+// finalValue returns lim y(t), t → ∞, if every mode other than a constant
+// decays; otherwise a note saying why there is none.
+func finalValue(ms []Mode) (float64, bool, string) {
+	final := 0.0
+	ramp, osc, grow := false, false, false
+	for _, m := range ms {
+		switch {
+		case m.SigmaPerS == 0 && m.OmegaRad == 0 && m.Power == 0:
+			final += m.Cos
+		case m.Cos == 0 && m.Sin == 0:
+		case m.SigmaPerS > 0 || m.SigmaPerS == 0 && m.Power > 0 && m.OmegaRad != 0:
+			grow = true
+		case m.SigmaPerS == 0 && m.OmegaRad == 0:
+			ramp = true
+		case m.SigmaPerS == 0:
+			osc = true
+		}
+	}
+	switch {
+	case grow:
+		return 0, false, "no final value: the response grows without bound (unstable)"
+	case ramp:
+		return 0, false, "no final value: the response ramps (H has a pole at s = 0)"
+	case osc:
+		return 0, false, "no final value: the response keeps oscillating (poles on the jω axis)"
+	}
+	return final, true, ""
+}
+
+// settleBand is the half-width of the settling band: 2 % of |final|, or of
+// the largest |y| when the final value is 0 (common practice).
+const settleBand = 0.02
+
+// metrics computes Metrics on the exact closed form (see Metrics).
+func metrics(ms []Mode, span float64) Metrics {
+	var out Metrics
+	final, ok, note := finalValue(ms)
+	if !ok {
+		out.Note = note
+		return out
+	}
+	out.Final = &final
+	at := func(t float64) float64 { y, _ := modesAt(ms, t); return y }
+	slope := func(t float64) float64 { _, d := modesAt(ms, t); return d }
+
+	// A first look at the size of the transient sets the band for a zero
+	// final value; the envelope bound then gives a horizon after which y
+	// provably stays inside the band.
+	peakAbs := 0.0
+	for i := 0; i <= 400; i++ {
+		peakAbs = math.Max(peakAbs, math.Abs(at(span*float64(i)/400)))
+	}
+	band := settleBand * math.Abs(final)
+	if final == 0 {
+		band = settleBand * peakAbs
+	}
+	horizon := envelopeHorizon(ms, band/2, span)
+	ts := searchGrid(ms, horizon)
+
+	// Extrema of y: sign changes of dy/dt refined by bisection.
+	var samples []float64
+	prev := slope(ts[0])
+	samples = append(samples, ts[0])
+	for i := 1; i < len(ts); i++ {
+		d := slope(ts[i])
+		if prev*d < 0 {
+			samples = append(samples, bisect(slope, ts[i-1], ts[i]))
+		}
+		samples = append(samples, ts[i])
+		prev = d
+	}
+	ys := make([]float64, len(samples))
+	for i, t := range samples {
+		ys[i] = at(t)
+	}
+	// Between consecutive samples y is monotone (all extrema are samples),
+	// so each crossing located by a sign change is the only one there.
+
+	if final == 0 {
+		k := 0
+		for i, y := range ys {
+			if math.Abs(y) > math.Abs(ys[k]) {
+				k = i
+			}
+		}
+		out.PeakTimeS, out.Peak = ptr(samples[k]), ptr(ys[k])
+		band = settleBand * math.Abs(ys[k])
+	} else {
+		level := func(frac float64) *float64 {
+			for i, y := range ys {
+				if y/final >= frac {
+					if i == 0 {
+						return ptr(0)
+					}
+					g := func(t float64) float64 { return at(t)/final - frac }
+					return ptr(bisect(g, samples[i-1], samples[i]))
+				}
+			}
+			return nil
+		}
+		t10, t90 := level(0.1), level(0.9)
+		if t10 != nil && t90 != nil {
+			out.RiseTimeS = ptr(*t90 - *t10)
+			out.Rise10S, out.Rise90S = t10, t90
+		}
+		k := 0
+		for i, y := range ys {
+			if y/final > ys[k]/final {
+				k = i
+			}
+		}
+		over := 0.0
+		if r := ys[k] / final; r > 1+1e-9 {
+			over = (r - 1) * 100
+			out.PeakTimeS, out.Peak = ptr(samples[k]), ptr(ys[k])
+		}
+		out.OvershootPct = &over
+	}
+
+	if band == 0 {
+		out.SettlingTimeS = ptr(0)
+		return out
+	}
+	outside := func(t float64) float64 { return math.Abs(at(t)-final) - band }
+	last := -1
+	for i, y := range ys {
+		if math.Abs(y-final) > band {
+			last = i
+		}
+	}
+	switch {
+	case last < 0:
+		out.SettlingTimeS = ptr(0)
+	case last == len(ys)-1:
+		out.Note = "settling time beyond the search horizon"
+	default:
+		out.SettlingTimeS = ptr(bisect(outside, samples[last], samples[last+1]))
+	}
+	return out
+}
+
+func ptr(v float64) *float64 { return &v }
+
+// envelopeHorizon returns a time T ≥ span after which the decaying modes'
+// envelope Σ t^k·e^(σt)·√(Cos²+Sin²) stays below level (each term is
+// decreasing for t > k/|σ|).
+func envelopeHorizon(ms []Mode, level, span float64) float64 {
+	t := span
+	for _, m := range ms {
+		if m.SigmaPerS < 0 && m.Power > 0 {
+			t = math.Max(t, float64(m.Power)/-m.SigmaPerS)
+		}
+	}
+	envelope := func(t float64) float64 {
+		e := 0.0
+		for _, m := range ms {
+			if m.SigmaPerS == 0 && m.OmegaRad == 0 {
+				continue // the constant
+			}
+			e += math.Pow(t, float64(m.Power)) * math.Exp(m.SigmaPerS*t) * math.Hypot(m.Cos, m.Sin)
+		}
+		return e
+	}
+	for i := 0; i < 200 && envelope(t) > level; i++ {
+		t *= 1.25
+	}
+	return t
+}
+
+// searchGrid returns sorted times in [0, T]: a uniform grid fine enough for
+// the fastest oscillation (≥ 20 points per period) plus a geometric grid
+// down to the fastest time constant, so that fast and slow parts are both
+// resolved.
+func searchGrid(ms []Mode, T float64) []float64 {
+	fastest := 0.0
+	wmax := 0.0
+	for _, m := range ms {
+		fastest = math.Max(fastest, math.Hypot(m.SigmaPerS, m.OmegaRad))
+		wmax = math.Max(wmax, m.OmegaRad)
+	}
+	n := int(math.Min(200000, math.Max(2000, 20*wmax*T/(2*math.Pi))))
+	ts := make([]float64, 0, n+400)
+	if fastest > 0 && 1/fastest/20 < T/float64(n) {
+		lo := 1 / fastest / 20
+		hi := T / float64(n)
+		for i := 0; i < 400; i++ {
+			ts = append(ts, lo*math.Pow(hi/lo, float64(i)/400))
+		}
+	}
+	ts = append([]float64{0}, ts...)
+	for i := 1; i <= n; i++ {
+		ts = append(ts, T*float64(i)/float64(n))
+	}
+	return ts
+}
+
+// bisect finds a root of f in [a, b] where f(a) and f(b) differ in sign
+// (or f(b) = 0), to float64 resolution.
+func bisect(f func(float64) float64, a, b float64) float64 {
+	fa := f(a)
+	for i := 0; i < 200; i++ {
+		m := a + (b-a)/2
+		if m <= a || m >= b {
+			break
+		}
+		fm := f(m)
+		if fm == 0 {
+			return m
+		}
+		if (fm > 0) == (fa > 0) {
+			a, fa = m, fm
+		} else {
+			b = m
+		}
+	}
+	return a + (b-a)/2
+}
+
+// piece is one signed term of a closed form: coef·body.
+type piece struct {
+	coef float64 // signed magnitude
+	body string  // text after the coefficient, "" for a plain number
+}
+
+// closedForm renders y(t) = Dirac·δ(t) + Σ modes, grouped by pole, e.g.
+//
+//	y(t) = 1 − e^(−t/1ms)
+//	y(t) = 1 − (1 + t/1ms)·e^(−t/1ms)
+//	y(t) = 1 − 1.155·e^(−t/2ms)·sin(2π·500Hz·t + 60°)
+//
+// Time constants and frequencies use engineering notation, coefficients
+// 4 significant digits; terms below 1e-9 of the largest are left out of the
+// text (not out of At). A pair is written as M·sin(ωt + φ) with φ in
+// (−90°, 90°]. Ramps from poles at s = 0 are written ±(t/T)^k.
+func closedForm(dirac float64, ms []Mode) string {
+	var pieces []piece
+	if dirac != 0 {
+		pieces = append(pieces, piece{dirac, "δ(t)"})
+	}
+	// the constant and ramps (poles at s = 0) first, then by pole
+	ordered := make([]Mode, 0, len(ms))
+	for _, m := range ms {
+		if m.SigmaPerS == 0 && m.OmegaRad == 0 {
+			ordered = append(ordered, m)
+		}
+	}
+	for _, m := range ms {
+		if m.SigmaPerS != 0 || m.OmegaRad != 0 {
+			ordered = append(ordered, m)
+		}
+	}
+	ms = ordered
+	for i := 0; i < len(ms); {
+		j := i
+		for j < len(ms) && ms[j].SigmaPerS == ms[i].SigmaPerS && ms[j].OmegaRad == ms[i].OmegaRad {
+			j++
+		}
+		pieces = append(pieces, groupPieces(ms[i:j])...)
+		i = j
+	}
+	big := 0.0
+	for _, p := range pieces {
+		big = math.Max(big, math.Abs(p.coef))
+	}
+	var b []byte
+	for _, p := range pieces {
+		if p.coef == 0 || math.Abs(p.coef) < 1e-9*big {
+			continue
+		}
+		neg := p.coef < 0
+		switch {
+		case len(b) == 0 && neg:
+			b = append(b, "−"...)
+		case neg:
+			b = append(b, " − "...)
+		case len(b) > 0:
+			b = append(b, " + "...)
+		}
+		num := formatCoef(math.Abs(p.coef))
+		switch {
+		case p.body == "":
+			b = append(b, num...)
+		case num == "1":
+			b = append(b, p.body...)
+		default:
+			b = append(b, num+"·"+p.body...)
+		}
+	}
+	if len(b) == 0 {
+		return "y(t) = 0"
+	}
+	return "y(t) = " + string(b)
+}
+
+// groupPieces renders the modes of one pole (all with the same σ and ω,
+// ascending Power) as signed pieces.
+func groupPieces(ms []Mode) []piece {
+	sigma, omega := ms[0].SigmaPerS, ms[0].OmegaRad
+	var out []piece
+	if sigma == 0 && omega == 0 {
+		for _, m := range ms {
+			if m.Power == 0 {
+				out = append(out, piece{m.Cos, ""})
+				continue
+			}
+			T := math.Pow(math.Abs(m.Cos), -1/float64(m.Power))
+			out = append(out, piece{math.Copysign(1, m.Cos), powerText("t/"+engNotation(T, "s"), m.Power)})
+		}
+		return out
+	}
+	tau := 0.0
+	exp := ""
+	if sigma != 0 {
+		tau = 1 / math.Abs(sigma)
+		if sigma < 0 {
+			exp = "e^(−t/" + engNotation(tau, "s") + ")"
+		} else {
+			exp = "e^(t/" + engNotation(tau, "s") + ")"
+		}
+	}
+	// scale of t^k: (t/τ)^k for a decaying or growing pole, t^k on the axis
+	scaled := func(k int) (float64, string) {
+		if k == 0 {
+			return 1, ""
+		}
+		if tau == 0 {
+			return 1, powerText("t", k)
+		}
+		return math.Pow(tau, float64(k)), powerText("t/"+engNotation(tau, "s"), k)
+	}
+	join := func(parts ...string) string {
+		s := ""
+		for _, p := range parts {
+			if p == "" {
+				continue
+			}
+			if s != "" {
+				s += "·"
+			}
+			s += p
+		}
+		return s
+	}
+	if omega == 0 {
+		if len(ms) == 1 {
+			return []piece{{ms[0].Cos, exp}}
+		}
+		// (b0 + b1·t/τ + …)·e^(σt), the sign of the first term factored out
+		lead := 0.0
+		for _, m := range ms {
+			if m.Cos != 0 {
+				lead = m.Cos
+				break
+			}
+		}
+		sign := math.Copysign(1, lead)
+		poly := ""
+		for _, m := range ms {
+			f, txt := scaled(m.Power)
+			c := sign * m.Cos * f
+			if c == 0 {
+				continue
+			}
+			num := formatCoef(math.Abs(c))
+			term := join(num, txt)
+			if num == "1" && txt != "" {
+				term = txt
+			}
+			switch {
+			case poly == "" && c < 0:
+				poly = "−" + term
+			case poly == "":
+				poly = term
+			case c < 0:
+				poly += " − " + term
+			default:
+				poly += " + " + term
+			}
+		}
+		return []piece{{sign, join("("+poly+")", exp)}}
+	}
+	freq := "sin(2π·" + engNotation(omega/(2*math.Pi), "Hz") + "·t"
+	for _, m := range ms {
+		f, txt := scaled(m.Power)
+		amp := math.Hypot(m.Cos, m.Sin) * f
+		phi := math.Atan2(m.Cos, m.Sin) * 180 / math.Pi
+		if phi > 90 {
+			amp, phi = -amp, phi-180
+		} else if phi <= -90 {
+			amp, phi = -amp, phi+180
+		}
+		ph := ")"
+		if p := fmt.Sprintf("%.1f", math.Abs(phi)); p != "0.0" {
+			if phi < 0 {
+				ph = " − " + p + "°)"
+			} else {
+				ph = " + " + p + "°)"
+			}
+		}
+		if m.Power == 1 && tau != 0 {
+			txt = "(" + txt + ")"
+		}
+		out = append(out, piece{amp, join(txt, exp, freq+ph)})
+	}
+	return out
+}
+
+// powerText writes base^k as "base" (k = 1) or "(base)²" etc.
+func powerText(base string, k int) string {
+	if k == 1 {
+		return base
+	}
+	if base != "t" {
+		base = "(" + base + ")"
+	}
+	return base + superscript(k)
+}
+
+func superscript(k int) string {
+	digits := []string{"⁰", "¹", "²", "³", "⁴", "⁵", "⁶", "⁷", "⁸", "⁹"}
+	s := ""
+	for _, c := range fmt.Sprint(k) {
+		s += digits[c-'0']
+	}
+	return s
+}
+
+// formatCoef prints a coefficient with 4 significant digits.
+func formatCoef(x float64) string { return signal.FormatNumber(x) }
+
+// engNotation prints x (≥ 0) with 3 significant digits and an SI prefix,
+// e.g. 0.001 s → "1ms", 1591.5 Hz → "1.59kHz".
+func engNotation(x float64, unit string) string {
+	if x == 0 {
+		return "0" + unit
+	}
+	prefixes := []string{"f", "p", "n", "µ", "m", "", "k", "M", "G", "T"}
+	e := int(math.Floor(math.Log10(x)/3 + 1e-12))
+	if e < -5 {
+		e = -5
+	}
+	if e > 4 {
+		e = 4
+	}
+	v := x / math.Pow(1000, float64(e))
+	s := fmt.Sprintf("%.3g", v)
+	if v >= 999.5 && e < 4 { // rounding carried into the next prefix
+		e++
+		s = fmt.Sprintf("%.3g", v/1000)
+	}
+	if strings.ContainsAny(s, "e") {
+		s = fmt.Sprintf("%.0f", v)
+	}
+	return s + prefixes[e+5] + unit
+}
