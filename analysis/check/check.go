@@ -50,12 +50,12 @@ const (
 // CoefRow compares the coefficient of s^Power on one Side ("num" or "den")
 // after normalisation. Ratio is Yours/Circuit, 0 when Circuit is zero.
 type CoefRow struct {
-	Side    string     `json:"side"`
-	Power   int        `json:"power"`
-	Circuit float64    `json:"circuit"`
-	Yours   float64    `json:"yours"`
-	Ratio   float64    `json:"ratio"`
-	Status  CoefStatus `json:"status"`
+	Side    string
+	Power   int
+	Circuit float64
+	Yours   float64
+	Ratio   float64
+	Status  CoefStatus
 }
 
 // RootMatch sets a circuit pole or zero beside the nearest one of yours.
@@ -63,42 +63,42 @@ type CoefRow struct {
 // |yours − circuit| / |circuit| (absolute in rad/s for a root at 0), and 0
 // when a side is missing.
 type RootMatch struct {
-	Circuit *transfer.Complex `json:"circuit"`
-	Yours   *transfer.Complex `json:"yours"`
-	RelDiff float64           `json:"rel_diff"`
+	Circuit *complex128
+	Yours   *complex128
+	RelDiff float64
 }
 
-// CheckResult is the outcome of Compare, plain data for tables and JSON.
+// CheckResult is the outcome of Compare: plain data, roots in rad/s.
 type CheckResult struct {
 	// Agrees is the verdict: every coefficient agrees within RelTol after
 	// normalisation (after cancelling common factors in yours) and the
 	// response differences stay within MagTolDB and PhaseTolDeg.
-	Agrees bool `json:"agrees"`
+	Agrees bool
 	// The four lists are ascending and normalised so that the lowest-order
 	// non-zero denominator coefficient is 1.
-	CircuitNum []float64 `json:"circuit_num"`
-	CircuitDen []float64 `json:"circuit_den"`
-	YoursNum   []float64 `json:"yours_num"`
-	YoursDen   []float64 `json:"yours_den"`
+	CircuitNum []float64
+	CircuitDen []float64
+	YoursNum   []float64
+	YoursDen   []float64
 	// Coefficients has a row for every power present on either side:
 	// numerator rows first, each side ascending.
-	Coefficients []CoefRow `json:"coefficients"`
+	Coefficients []CoefRow
 	// Poles and Zeros pair roots by nearest distance (rad/s).
-	Poles []RootMatch `json:"poles"`
-	Zeros []RootMatch `json:"zeros"`
+	Poles []RootMatch
+	Zeros []RootMatch
 	// The sweep range (Hz) and the largest differences of yours against
 	// the circuit's response: 20·log10|H_yours/H_circuit| in dB and
 	// arg(H_yours/H_circuit) in degrees (signed), with their frequencies.
-	FromHz           float64            `json:"from_hz"`
-	ToHz             float64            `json:"to_hz"`
-	MaxMagDiffDB     float64            `json:"max_mag_diff_db"`
-	MaxMagDiffHz     float64            `json:"max_mag_diff_hz"`
-	MaxPhaseDiffDeg  float64            `json:"max_phase_diff_deg"`
-	MaxPhaseDiffHz   float64            `json:"max_phase_diff_hz"`
-	YoursCancelled   []transfer.Complex `json:"yours_cancelled"`
-	CircuitCancelled []transfer.Complex `json:"circuit_cancelled"`
+	FromHz           float64
+	ToHz             float64
+	MaxMagDiffDB     float64
+	MaxMagDiffHz     float64
+	MaxPhaseDiffDeg  float64
+	MaxPhaseDiffHz   float64
+	YoursCancelled   []complex128
+	CircuitCancelled []complex128
 	// Diagnosis says in words what differs and what slip may explain it.
-	Diagnosis []string `json:"diagnosis"`
+	Diagnosis []string
 }
 
 // Compare checks a hand derivation H_yours = numYours/denYours (ascending
@@ -509,13 +509,13 @@ func rootKey(p RootMatch) float64 {
 	if r == nil {
 		r = p.Yours
 	}
-	return math.Hypot(r.Re, r.Im)
+	return cmplx.Abs(*r)
 }
 
-func plain(z complex128) *transfer.Complex { return &transfer.Complex{Re: real(z), Im: imag(z)} }
+func plain(z complex128) *complex128 { return &z }
 
-func plainRoots(zs []complex128) []transfer.Complex {
-	var out []transfer.Complex
+func plainRoots(zs []complex128) []complex128 {
+	var out []complex128
 	for _, z := range zs {
 		out = append(out, *plain(z))
 	}

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
-	"strings"
 
 	"nodal/analysis/signal"
 )
@@ -19,28 +18,28 @@ import (
 // negative amplitude). Phases are in degrees; OutPhaseDeg is wrapped to
 // (−180, 180]. When Gain is 0 (a zero of H at ω) ShiftDeg is 0 by convention.
 type SteadyTerm struct {
-	FreqHz       float64  `json:"freq_hz"`
-	OmegaRad     float64  `json:"omega"`
-	Function     string   `json:"function"`
-	InAmplitude  float64  `json:"in_amplitude"`
-	InPhaseDeg   float64  `json:"in_phase_deg"`
-	Gain         *float64 `json:"gain"`
-	ShiftDeg     *float64 `json:"shift_deg"`
-	OutAmplitude *float64 `json:"out_amplitude"`
-	OutPhaseDeg  *float64 `json:"out_phase_deg"`
-	Unbounded    bool     `json:"unbounded,omitempty"`
+	FreqHz       float64
+	OmegaRad     float64
+	Function     string
+	InAmplitude  float64
+	InPhaseDeg   float64
+	Gain         *float64
+	ShiftDeg     *float64
+	OutAmplitude *float64
+	OutPhaseDeg  *float64
+	Unbounded    bool
 	// Input is the drive term as parsed, kept for printing in its style.
-	Input signal.Term `json:"-"`
+	Input signal.Term
 }
 
 // Steady is the sinusoidal steady state of y for a drive u(t) = DC + Σ
 // terms, by superposition. DCOut = H(0)·DCIn; DCOut is nil and DCUnbounded
 // set when H has a pole at s = 0 and DCIn ≠ 0.
 type Steady struct {
-	Terms       []SteadyTerm `json:"terms"`
-	DCIn        float64      `json:"dc_in"`
-	DCOut       *float64     `json:"dc_out"`
-	DCUnbounded bool         `json:"dc_unbounded,omitempty"`
+	Terms       []SteadyTerm
+	DCIn        float64
+	DCOut       *float64
+	DCUnbounded bool
 }
 
 // Unbounded reports whether any part of the steady state is unbounded.
@@ -144,44 +143,4 @@ func wrapDeg(d float64) float64 {
 		d += 360
 	}
 	return d
-}
-
-// FormatSteady renders the steady-state output as a closed form in the
-// style of the drive, e.g.
-//
-//	y(t) = 0.5657*sin(2*pi*400*t - 45.0°) + 2
-//
-// Amplitudes have 4 significant digits, phases one decimal in degrees; the
-// text parses again with signal.Parse. An unbounded part is named instead
-// of given a number:
-//
-//	y(t) unbounded: sin(2*pi*50*t) drives a pole on the jω axis
-func FormatSteady(st *Steady) string {
-	var bad []string
-	for _, t := range st.Terms {
-		if t.Unbounded {
-			bad = append(bad, t.Input.Func+"("+t.Input.OmegaText+")")
-		}
-	}
-	if st.DCUnbounded {
-		bad = append(bad, "the constant")
-	}
-	if len(bad) > 0 {
-		verb := "drives a pole"
-		if len(bad) > 1 {
-			verb = "drive poles"
-		}
-		return "y(t) unbounded: " + strings.Join(bad, ", ") + " " + verb + " on the jω axis"
-	}
-	var b strings.Builder
-	for _, t := range st.Terms {
-		if *t.OutAmplitude == 0 {
-			continue
-		}
-		signal.WriteTerm(&b, b.Len() == 0, t.Function, *t.OutAmplitude, t.Input.OmegaText, *t.OutPhaseDeg)
-	}
-	if *st.DCOut != 0 || b.Len() == 0 {
-		signal.WriteConstant(&b, b.Len() == 0, *st.DCOut)
-	}
-	return "y(t) = " + b.String()
 }

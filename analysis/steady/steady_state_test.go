@@ -1,10 +1,8 @@
 package steady
 
 import (
-	"encoding/json"
 	"math"
 	"nodal/analysis/transfer"
-	"strings"
 	"testing"
 
 	"nodal/analysis/signal"
@@ -47,45 +45,6 @@ func TestSteadyStateDecadeAboveCorner(t *testing.T) {
 	if !relNear(r.FreqHz, 10e3, 1e-12) || r.Function != "sin" {
 		t.Errorf("term %+v", r)
 	}
-	if got, want := FormatSteady(st), "y(t) = 0.0995*sin(2*pi*10k*t - 84.3°)"; got != want {
-		t.Errorf("FormatSteady = %q, want %q", got, want)
-	}
-}
-
-// Superposition: the printed steady state of a several-term drive into
-// dy/dt = ωc·(u − y) must satisfy that differential equation (the defining
-// property of a steady-state solution; common practice). The derivative is
-// taken by a central difference of the re-parsed printed output, so the
-// check covers SteadyState, FormatSteady and the 4-digit rounding.
-func TestSteadyStateSuperpositionSatisfiesODE(t *testing.T) {
-	const wc = 2 * math.Pi * 100
-	h := lowPass1(wc)
-	drive := mustSignal(t, "1.5*cos(2*pi*50*t + 30deg) + 0.2*sin(2*pi*150*t) - sin(2*pi*100*t - 0.5) + 2")
-	st, err := SteadyState(h.Eval, drive)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if len(st.Terms) != 3 || *st.DCOut != 2 {
-		t.Fatalf("terms %d dc %v", len(st.Terms), *st.DCOut)
-	}
-	// At the corner: gain 1/√2, shift −45° (common practice).
-	if r := st.Terms[2]; !relNear(*r.Gain, 1/math.Sqrt2, 1e-12) || math.Abs(*r.ShiftDeg+45) > 1e-9 {
-		t.Errorf("corner term gain %v shift %v", *r.Gain, *r.ShiftDeg)
-	}
-	text := FormatSteady(st)
-	y := mustSignal(t, strings.TrimPrefix(text, "y(t) = "))
-	const dt = 1e-7
-	worst := 0.0
-	for i := 0; i < 200; i++ {
-		tt := float64(i) * 1.37e-4
-		dy := (y.At(tt+dt) - y.At(tt-dt)) / (2 * dt)
-		res := dy - wc*(drive.At(tt)-y.At(tt))
-		worst = math.Max(worst, math.Abs(res)/wc)
-	}
-	// 4 significant digits on amplitudes ≈ 1e-3 of the largest term (1.5).
-	if worst > 2e-3 {
-		t.Errorf("ODE residual %g (relative to ωc) too large for %s", worst, text)
-	}
 }
 
 // A drive at a pole on the jω axis has no steady state: H = 1/(1 + s²/ω0²)
@@ -101,13 +60,8 @@ func TestSteadyStateAtPole(t *testing.T) {
 	if !st.Terms[0].Unbounded || st.Terms[0].Gain != nil || st.Terms[1].Unbounded {
 		t.Fatalf("terms %+v", st.Terms)
 	}
-	if !st.Unbounded() || !strings.Contains(FormatSteady(st), "sin(2*pi*159*t) drives a pole") {
-		t.Errorf("FormatSteady = %q", FormatSteady(st))
-	}
-	// JSON stays valid and shows null for the unbounded figures.
-	js, err := json.Marshal(st)
-	if err != nil || !strings.Contains(string(js), `"gain":null`) {
-		t.Errorf("json %s %v", js, err)
+	if !st.Unbounded() {
+		t.Error("Unbounded() is false for a drive at a pole")
 	}
 	integ := &transfer.TransferFunction{Num: []float64{1}, Den: []float64{0, 1}, Poles: []complex128{0}, Gain: 1}
 	st, err = SteadyState(integ.Eval, mustSignal(t, "2 + sin(t)"))

@@ -172,11 +172,11 @@ func divLinear(a []complex128, d complex128) {
 // OmegaRad = 0 and Sin = 0; a conjugate pair p, p̄ is one Mode with
 // OmegaRad = Im p > 0. Cos and Sin carry the 1/Power! of the expansion.
 type Mode struct {
-	Power     int     `json:"power"`
-	SigmaPerS float64 `json:"sigma_per_s"`
-	OmegaRad  float64 `json:"omega"`
-	Cos       float64 `json:"cos"`
-	Sin       float64 `json:"sin"`
+	Power     int
+	SigmaPerS float64
+	OmegaRad  float64
+	Cos       float64
+	Sin       float64
 }
 
 // modes turns the principal parts of a real rational function into the

@@ -6,9 +6,6 @@ import (
 	"math"
 	"math/cmplx"
 	"nodal/analysis/transfer"
-	"strings"
-
-	"nodal/analysis/signal"
 )
 
 // ErrNoTimeScale means a time response needs an explicit end time
@@ -30,8 +27,8 @@ const DefaultTimePoints = 500
 
 // Point is one sample y(TS) of a time response, TS in seconds.
 type Point struct {
-	TS float64 `json:"t_s"`
-	Y  float64 `json:"y"`
+	TS float64
+	Y  float64
 }
 
 // Metrics are the figures of a time response, computed on the exact closed
@@ -48,15 +45,15 @@ type Point struct {
 //   - SettlingTimeS: the last time |y − Final| equals 2 % of |Final| (2 %
 //     of the largest |y| when Final is 0); 0 if never outside the band.
 type Metrics struct {
-	Final         *float64 `json:"final"`
-	RiseTimeS     *float64 `json:"rise_time_s"`
-	Rise10S       *float64 `json:"rise_10pct_s,omitempty"` // first time y reaches 10 % of Final
-	Rise90S       *float64 `json:"rise_90pct_s,omitempty"` // first time y reaches 90 % of Final
-	OvershootPct  *float64 `json:"overshoot_pct"`
-	PeakTimeS     *float64 `json:"peak_time_s"`
-	Peak          *float64 `json:"peak"`
-	SettlingTimeS *float64 `json:"settling_time_s"`
-	Note          string   `json:"note,omitempty"`
+	Final         *float64
+	RiseTimeS     *float64
+	Rise10S       *float64 // first time y reaches 10 % of Final
+	Rise90S       *float64 // first time y reaches 90 % of Final
+	OvershootPct  *float64
+	PeakTimeS     *float64
+	Peak          *float64
+	SettlingTimeS *float64
+	Note          string
 }
 
 // TimeResponse is the exact step or impulse response of a rational H(s),
@@ -65,8 +62,7 @@ type Metrics struct {
 //
 // from the partial-fraction expansion of H(s)/s (step) or H(s) (impulse).
 // Kind is "step" or "impulse". Dirac is the weight of δ(t) (impulse of a
-// proper but not strictly proper H; always 0 for a step). ClosedForm is
-// y(t) as readable text. Points are samples over [0, SpanS]; if the
+// proper but not strictly proper H; always 0 for a step). Points are samples over [0, SpanS]; if the
 // response overflows float64, sampling stops there and Overflow is set.
 //
 // Unstable is set when a pole has Re > 0 or a repeated pole lies on the jω
@@ -75,17 +71,16 @@ type Metrics struct {
 // final value when oscillating. No settling figures are given without a
 // final value. All fields are finite, so the value marshals to JSON.
 type TimeResponse struct {
-	Kind          string             `json:"kind"`
-	ClosedForm    string             `json:"closed_form"`
-	Dirac         float64            `json:"dirac"`
-	Modes         []Mode             `json:"modes"`
-	Metrics       Metrics            `json:"metrics"`
-	Points        []Point            `json:"points"`
-	SpanS         float64            `json:"span_s"`
-	Unstable      bool               `json:"unstable"`
-	UnstablePoles []transfer.Complex `json:"unstable_poles,omitempty"`
-	AxisPoles     []transfer.Complex `json:"axis_poles,omitempty"`
-	Overflow      bool               `json:"overflow,omitempty"`
+	Kind          string
+	Dirac         float64
+	Modes         []Mode
+	Metrics       Metrics
+	Points        []Point
+	SpanS         float64
+	Unstable      bool
+	UnstablePoles []complex128
+	AxisPoles     []complex128
+	Overflow      bool
 }
 
 // At returns y(t) from the closed form: 0 for t < 0, the right limit y(0+)
@@ -140,7 +135,7 @@ func timeResponse(tf *transfer.TransferFunction, kind string, opt TimeOptions) (
 	}
 	r := &TimeResponse{Kind: kind}
 	for _, g := range hGroups {
-		pr := transfer.Complex{Re: real(g.p), Im: imag(g.p)}
+		pr := g.p
 		switch {
 		case real(g.p) > 0 || real(g.p) == 0 && g.mult > 1:
 			r.Unstable = true
@@ -171,7 +166,6 @@ func timeResponse(tf *transfer.TransferFunction, kind string, opt TimeOptions) (
 	r.Points = samplePoints(r, opt.Points)
 	r.Overflow = len(r.Points) < opt.Points
 	r.Metrics = metrics(r.Modes, r.SpanS)
-	r.ClosedForm = closedForm(r.Dirac, r.Modes)
 	return r, nil
 }
 
@@ -429,242 +423,4 @@ func bisect(f func(float64) float64, a, b float64) float64 {
 		}
 	}
 	return a + (b-a)/2
-}
-
-// piece is one signed term of a closed form: coef·body.
-type piece struct {
-	coef float64 // signed magnitude
-	body string  // text after the coefficient, "" for a plain number
-}
-
-// closedForm renders y(t) = Dirac·δ(t) + Σ modes, grouped by pole, e.g.
-//
-//	y(t) = 1 − e^(−t/1ms)
-//	y(t) = 1 − (1 + t/1ms)·e^(−t/1ms)
-//	y(t) = 1 − 1.155·e^(−t/2ms)·sin(2π·500Hz·t + 60°)
-//
-// Time constants and frequencies use engineering notation, coefficients
-// 4 significant digits; terms below 1e-9 of the largest are left out of the
-// text (not out of At). A pair is written as M·sin(ωt + φ) with φ in
-// (−90°, 90°]. Ramps from poles at s = 0 are written ±(t/T)^k.
-func closedForm(dirac float64, ms []Mode) string {
-	var pieces []piece
-	if dirac != 0 {
-		pieces = append(pieces, piece{dirac, "δ(t)"})
-	}
-	// the constant and ramps (poles at s = 0) first, then by pole
-	ordered := make([]Mode, 0, len(ms))
-	for _, m := range ms {
-		if m.SigmaPerS == 0 && m.OmegaRad == 0 {
-			ordered = append(ordered, m)
-		}
-	}
-	for _, m := range ms {
-		if m.SigmaPerS != 0 || m.OmegaRad != 0 {
-			ordered = append(ordered, m)
-		}
-	}
-	ms = ordered
-	for i := 0; i < len(ms); {
-		j := i
-		for j < len(ms) && ms[j].SigmaPerS == ms[i].SigmaPerS && ms[j].OmegaRad == ms[i].OmegaRad {
-			j++
-		}
-		pieces = append(pieces, groupPieces(ms[i:j])...)
-		i = j
-	}
-	big := 0.0
-	for _, p := range pieces {
-		big = math.Max(big, math.Abs(p.coef))
-	}
-	var b []byte
-	for _, p := range pieces {
-		if p.coef == 0 || math.Abs(p.coef) < 1e-9*big {
-			continue
-		}
-		neg := p.coef < 0
-		switch {
-		case len(b) == 0 && neg:
-			b = append(b, "−"...)
-		case neg:
-			b = append(b, " − "...)
-		case len(b) > 0:
-			b = append(b, " + "...)
-		}
-		num := formatCoef(math.Abs(p.coef))
-		switch {
-		case p.body == "":
-			b = append(b, num...)
-		case num == "1":
-			b = append(b, p.body...)
-		default:
-			b = append(b, num+"·"+p.body...)
-		}
-	}
-	if len(b) == 0 {
-		return "y(t) = 0"
-	}
-	return "y(t) = " + string(b)
-}
-
-// groupPieces renders the modes of one pole (all with the same σ and ω,
-// ascending Power) as signed pieces.
-func groupPieces(ms []Mode) []piece {
-	sigma, omega := ms[0].SigmaPerS, ms[0].OmegaRad
-	var out []piece
-	if sigma == 0 && omega == 0 {
-		for _, m := range ms {
-			if m.Power == 0 {
-				out = append(out, piece{m.Cos, ""})
-				continue
-			}
-			T := math.Pow(math.Abs(m.Cos), -1/float64(m.Power))
-			out = append(out, piece{math.Copysign(1, m.Cos), powerText("t/"+engNotation(T, "s"), m.Power)})
-		}
-		return out
-	}
-	tau := 0.0
-	exp := ""
-	if sigma != 0 {
-		tau = 1 / math.Abs(sigma)
-		if sigma < 0 {
-			exp = "e^(−t/" + engNotation(tau, "s") + ")"
-		} else {
-			exp = "e^(t/" + engNotation(tau, "s") + ")"
-		}
-	}
-	// scale of t^k: (t/τ)^k for a decaying or growing pole, t^k on the axis
-	scaled := func(k int) (float64, string) {
-		if k == 0 {
-			return 1, ""
-		}
-		if tau == 0 {
-			return 1, powerText("t", k)
-		}
-		return math.Pow(tau, float64(k)), powerText("t/"+engNotation(tau, "s"), k)
-	}
-	join := func(parts ...string) string {
-		s := ""
-		for _, p := range parts {
-			if p == "" {
-				continue
-			}
-			if s != "" {
-				s += "·"
-			}
-			s += p
-		}
-		return s
-	}
-	if omega == 0 {
-		if len(ms) == 1 {
-			return []piece{{ms[0].Cos, exp}}
-		}
-		// (b0 + b1·t/τ + …)·e^(σt), the sign of the first term factored out
-		lead := 0.0
-		for _, m := range ms {
-			if m.Cos != 0 {
-				lead = m.Cos
-				break
-			}
-		}
-		sign := math.Copysign(1, lead)
-		poly := ""
-		for _, m := range ms {
-			f, txt := scaled(m.Power)
-			c := sign * m.Cos * f
-			if c == 0 {
-				continue
-			}
-			num := formatCoef(math.Abs(c))
-			term := join(num, txt)
-			if num == "1" && txt != "" {
-				term = txt
-			}
-			switch {
-			case poly == "" && c < 0:
-				poly = "−" + term
-			case poly == "":
-				poly = term
-			case c < 0:
-				poly += " − " + term
-			default:
-				poly += " + " + term
-			}
-		}
-		return []piece{{sign, join("("+poly+")", exp)}}
-	}
-	freq := "sin(2π·" + engNotation(omega/(2*math.Pi), "Hz") + "·t"
-	for _, m := range ms {
-		f, txt := scaled(m.Power)
-		amp := math.Hypot(m.Cos, m.Sin) * f
-		phi := math.Atan2(m.Cos, m.Sin) * 180 / math.Pi
-		if phi > 90 {
-			amp, phi = -amp, phi-180
-		} else if phi <= -90 {
-			amp, phi = -amp, phi+180
-		}
-		ph := ")"
-		if p := fmt.Sprintf("%.1f", math.Abs(phi)); p != "0.0" {
-			if phi < 0 {
-				ph = " − " + p + "°)"
-			} else {
-				ph = " + " + p + "°)"
-			}
-		}
-		if m.Power == 1 && tau != 0 {
-			txt = "(" + txt + ")"
-		}
-		out = append(out, piece{amp, join(txt, exp, freq+ph)})
-	}
-	return out
-}
-
-// powerText writes base^k as "base" (k = 1) or "(base)²" etc.
-func powerText(base string, k int) string {
-	if k == 1 {
-		return base
-	}
-	if base != "t" {
-		base = "(" + base + ")"
-	}
-	return base + superscript(k)
-}
-
-func superscript(k int) string {
-	digits := []string{"⁰", "¹", "²", "³", "⁴", "⁵", "⁶", "⁷", "⁸", "⁹"}
-	s := ""
-	for _, c := range fmt.Sprint(k) {
-		s += digits[c-'0']
-	}
-	return s
-}
-
-// formatCoef prints a coefficient with 4 significant digits.
-func formatCoef(x float64) string { return signal.FormatNumber(x) }
-
-// engNotation prints x (≥ 0) with 3 significant digits and an SI prefix,
-// e.g. 0.001 s → "1ms", 1591.5 Hz → "1.59kHz".
-func engNotation(x float64, unit string) string {
-	if x == 0 {
-		return "0" + unit
-	}
-	prefixes := []string{"f", "p", "n", "µ", "m", "", "k", "M", "G", "T"}
-	e := int(math.Floor(math.Log10(x)/3 + 1e-12))
-	if e < -5 {
-		e = -5
-	}
-	if e > 4 {
-		e = 4
-	}
-	v := x / math.Pow(1000, float64(e))
-	s := fmt.Sprintf("%.3g", v)
-	if v >= 999.5 && e < 4 { // rounding carried into the next prefix
-		e++
-		s = fmt.Sprintf("%.3g", v/1000)
-	}
-	if strings.ContainsAny(s, "e") {
-		s = fmt.Sprintf("%.0f", v)
-	}
-	return s + prefixes[e+5] + unit
 }

@@ -1,7 +1,6 @@
 package timeresp
 
 import (
-	"encoding/json"
 	"math"
 	"math/cmplx"
 	"nodal/analysis/transfer"
@@ -26,10 +25,25 @@ func closeTo(t *testing.T, what string, got *float64, want, rel float64) {
 	}
 }
 
+// mustJSON checks that every figure of r is finite or absent, so that the
+// JSON of `nodal step` (which never carries NaN or Inf) can be written.
 func mustJSON(t *testing.T, r *TimeResponse) {
 	t.Helper()
-	if _, err := json.Marshal(r); err != nil {
-		t.Errorf("json: %v", err)
+	m := r.Metrics
+	for _, v := range []*float64{m.Final, m.RiseTimeS, m.Rise10S, m.Rise90S, m.OvershootPct, m.PeakTimeS, m.Peak, m.SettlingTimeS} {
+		if v != nil && (math.IsNaN(*v) || math.IsInf(*v, 0)) {
+			t.Errorf("metric %v in %+v", *v, m)
+		}
+	}
+	for _, p := range r.Points {
+		if math.IsNaN(p.Y) || math.IsInf(p.Y, 0) {
+			t.Errorf("sample y(%g) = %v", p.TS, p.Y)
+		}
+	}
+	for _, md := range r.Modes {
+		if math.IsNaN(md.Cos+md.Sin+md.SigmaPerS+md.OmegaRad) || math.IsInf(md.Cos+md.Sin, 0) {
+			t.Errorf("mode %+v", md)
+		}
 	}
 }
 
@@ -53,9 +67,6 @@ func TestStepFirstOrder(t *testing.T) {
 	closeTo(t, "overshoot+1", ptr(*m.OvershootPct+1), 1, 1e-12)
 	if m.PeakTimeS != nil {
 		t.Errorf("peak time %g for a monotone response", *m.PeakTimeS)
-	}
-	if r.ClosedForm != "y(t) = 1 − e^(−t/1ms)" {
-		t.Errorf("closed form %q", r.ClosedForm)
 	}
 	// default span: 7τ, 500 points
 	if math.Abs(r.SpanS-7*tau) > 1e-15 || len(r.Points) != 500 || r.Points[499].TS != r.SpanS {
@@ -91,9 +102,6 @@ func TestImpulseFirstOrder(t *testing.T) {
 	}
 	// |h| falls to 2 % of its peak 1/τ at τ·ln 50.
 	closeTo(t, "settling", r.Metrics.SettlingTimeS, math.Log(50)*tau, 1e-9)
-	if r.ClosedForm != "y(t) = 454545·e^(−t/2.2µs)" {
-		t.Errorf("closed form %q", r.ClosedForm)
-	}
 }
 
 // High-pass sτ/(1 + sτ): impulse δ(t) − (1/τ)e^(−t/τ), step e^(−t/τ), a
@@ -106,8 +114,8 @@ func TestDirectTerm(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if imp.Dirac != 1 || !strings.HasPrefix(imp.ClosedForm, "y(t) = δ(t) − 1000·e^(−t/1ms)") {
-		t.Errorf("dirac %g closed form %q", imp.Dirac, imp.ClosedForm)
+	if imp.Dirac != 1 {
+		t.Errorf("dirac %g", imp.Dirac)
 	}
 	if got := imp.At(tau); math.Abs(got+math.Exp(-1)/tau) > 1e-9 {
 		t.Errorf("impulse at τ = %g", got)
@@ -173,22 +181,6 @@ func TestStepSecondOrder(t *testing.T) {
 	}
 }
 
-// The closed form writes a pair as M·sin(ωd·t + φ): for ζ = 0.5 the step is
-// 1 − (2/√3)·e^(−ζω0t)·sin(ωd t + 60°) (Ogata, Modern Control Engineering).
-func TestClosedFormSecondOrder(t *testing.T) {
-	const zeta = 0.5
-	wd := 2 * math.Pi * 500
-	w0 := wd / math.Sqrt(1-zeta*zeta)
-	p := complex(-zeta*w0, wd)
-	r, err := Step(tfRoots(w0*w0, nil, []complex128{p, cmplx.Conj(p)}), TimeOptions{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	if want := "y(t) = 1 − 1.155·e^(−t/551µs)·sin(2π·500Hz·t + 60.0°)"; r.ClosedForm != want {
-		t.Errorf("closed form %q, want %q", r.ClosedForm, want)
-	}
-}
-
 // Repeated real poles (standard Laplace table, e.g. Ogata):
 // 1/(1+sτ)² → 1 − (1 + t/τ)e^(−t/τ); 1/(1+sτ)³ → 1 − (1 + t/τ + (t/τ)²/2)e^(−t/τ).
 // The poles are given split as a root finder returns them, and exactly.
@@ -199,16 +191,15 @@ func TestStepRepeatedPoles(t *testing.T) {
 		name  string
 		poles []complex128
 		want  func(x float64) float64
-		text  string
 	}{
 		{"double exact", []complex128{complex(p, 0), complex(p, 0)},
-			func(x float64) float64 { return 1 - (1+x)*math.Exp(-x) }, "y(t) = 1 − (1 + t/1ms)·e^(−t/1ms)"},
+			func(x float64) float64 { return 1 - (1+x)*math.Exp(-x) }},
 		{"double split", []complex128{complex(p*(1+2e-8), 0), complex(p*(1-2e-8), 0)},
-			func(x float64) float64 { return 1 - (1+x)*math.Exp(-x) }, "y(t) = 1 − (1 + t/1ms)·e^(−t/1ms)"},
+			func(x float64) float64 { return 1 - (1+x)*math.Exp(-x) }},
 		{"double as a pair", []complex128{complex(p, 3e-6), complex(p, -3e-6)},
-			func(x float64) float64 { return 1 - (1+x)*math.Exp(-x) }, "y(t) = 1 − (1 + t/1ms)·e^(−t/1ms)"},
+			func(x float64) float64 { return 1 - (1+x)*math.Exp(-x) }},
 		{"triple split", []complex128{complex(p*(1+4e-6), 0), complex(p*(1-2e-6), 3.4e-6*p), complex(p*(1-2e-6), -3.4e-6*p)},
-			func(x float64) float64 { return 1 - (1+x+x*x/2)*math.Exp(-x) }, "y(t) = 1 − (1 + t/1ms + 0.5·(t/1ms)²)·e^(−t/1ms)"},
+			func(x float64) float64 { return 1 - (1+x+x*x/2)*math.Exp(-x) }},
 	}
 	for _, c := range cases {
 		gain := 1.0
@@ -224,9 +215,6 @@ func TestStepRepeatedPoles(t *testing.T) {
 			if got, want := r.At(x*tau), c.want(x); math.Abs(got-want) > 1e-9 {
 				t.Errorf("%s: y(%gτ) = %.12g, want %.12g", c.name, x, got, want)
 			}
-		}
-		if r.ClosedForm != c.text {
-			t.Errorf("%s: closed form %q, want %q", c.name, r.ClosedForm, c.text)
 		}
 		if r.Unstable || r.Metrics.SettlingTimeS == nil {
 			t.Errorf("%s: unstable %v settling %v", c.name, r.Unstable, r.Metrics.SettlingTimeS)
@@ -247,10 +235,6 @@ func TestImpulseRepeatedPair(t *testing.T) {
 	double, err := Impulse(tfRoots(1, nil, []complex128{p, cmplx.Conj(p), p, cmplx.Conj(p)}), TimeOptions{})
 	if err != nil {
 		t.Fatal(err)
-	}
-	// t·e^(σt) terms are written with (t/τ)
-	if !strings.Contains(double.ClosedForm, "·(t/3.33s)·e^(−t/3.33s)·sin(2π·152mHz·t") {
-		t.Errorf("closed form %q", double.ClosedForm)
 	}
 	for _, tt := range []float64{0.5, 2, 5, 11} {
 		// Simpson's rule of ∫0^t h(τ)h(t−τ)dτ
@@ -282,8 +266,8 @@ func TestStepIntegrator(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if r.Metrics.Final != nil || !strings.Contains(r.Metrics.Note, "ramps") || r.ClosedForm != "y(t) = t/1ms" {
-		t.Errorf("metrics %+v closed form %q", r.Metrics, r.ClosedForm)
+	if r.Metrics.Final != nil || !strings.Contains(r.Metrics.Note, "ramps") {
+		t.Errorf("metrics %+v", r.Metrics)
 	}
 	if got := r.At(2e-3); math.Abs(got-2) > 1e-12 {
 		t.Errorf("y(2ms) = %g", got)
@@ -318,16 +302,13 @@ func TestStepUnstable(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !r.Unstable || len(r.UnstablePoles) != 1 || r.UnstablePoles[0].Re != 1/tau || r.Metrics.SettlingTimeS != nil || r.Metrics.Final != nil {
+	if !r.Unstable || len(r.UnstablePoles) != 1 || real(r.UnstablePoles[0]) != 1/tau || r.Metrics.SettlingTimeS != nil || r.Metrics.Final != nil {
 		t.Errorf("unstable %+v", r)
 	}
 	// 1/(1 − sτ) step: 1 − e^(t/τ) (Ogata, Modern Control Engineering, table
 	// of Laplace transform pairs)
 	if got := r.At(tau); math.Abs(got-(1-math.E)) > 1e-12 {
 		t.Errorf("y(τ) = %g", got)
-	}
-	if r.ClosedForm != "y(t) = 1 − e^(t/1ms)" {
-		t.Errorf("closed form %q", r.ClosedForm)
 	}
 	if !strings.Contains(r.Metrics.Note, "grows") {
 		t.Errorf("note %q", r.Metrics.Note)
@@ -382,21 +363,6 @@ func TestTimeResponseErrors(t *testing.T) {
 	}
 	if _, err := Step(nil, TimeOptions{}); err == nil {
 		t.Error("nil accepted")
-	}
-}
-
-func TestEngNotation(t *testing.T) {
-	for _, c := range []struct {
-		x    float64
-		unit string
-		want string
-	}{
-		{1e-3, "s", "1ms"}, {2.2e-6, "s", "2.2µs"}, {1591.549, "Hz", "1.59kHz"},
-		{999.7, "Hz", "1kHz"}, {0.5, "s", "500ms"}, {12, "s", "12s"}, {3.3e-12, "s", "3.3ps"},
-	} {
-		if got := engNotation(c.x, c.unit); got != c.want {
-			t.Errorf("engNotation(%g) = %q, want %q", c.x, got, c.want)
-		}
 	}
 }
 

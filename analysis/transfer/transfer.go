@@ -51,14 +51,6 @@ func Horner(c []float64, s complex128) complex128 {
 	return v
 }
 
-// Complex is a complex number in plain (JSON-friendly) form, since JSON
-// cannot carry complex128: s = Re + j·Im. For poles and zeros (check
-// results, TimeResponse.UnstablePoles and AxisPoles) the unit is rad/s.
-type Complex struct {
-	Re float64 `json:"re"`
-	Im float64 `json:"im"`
-}
-
 // FromRoots builds H(s) = gain·Π(s − zeros)/Π(s − poles) (roots in rad/s)
 // in the invariant form: Den's lowest-order non-zero coefficient is 1.
 func FromRoots(gain float64, zeros, poles []complex128) *TransferFunction {

@@ -5,10 +5,10 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"nodal/cmd/nodal/notation"
 
 	"nodal/analysis/check"
 	"nodal/analysis/derivation"
-	"nodal/analysis/transfer"
 	"nodal/netlist"
 )
 
@@ -79,7 +79,7 @@ func (c *checkCmd) Run(e *env) error {
 	agrees := checkVerdict(res, sc)
 	if err := writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
 		if c.Format == "json" {
-			return writeJSON(w, checkJSON{CheckResult: res, Agrees: agrees, NumericAgrees: res.Agrees, Symbolic: sc})
+			return writeJSON(w, checkDoc(res, agrees, sc))
 		}
 		return checkTable(w, r, res, sc)
 	}); err != nil {
@@ -146,9 +146,9 @@ func checkTable(w io.Writer, r *tfResult, res *check.CheckResult, sc symbolicChe
 		}
 	}
 	fmt.Fprintf(w, "\nover %s to %s: largest magnitude difference %s dB (at %s), largest phase difference %s° (at %s)\n",
-		netlist.FormatEng(res.FromHz, "Hz"), netlist.FormatEng(res.ToHz, "Hz"),
-		fixed(res.MaxMagDiffDB, 4), netlist.FormatEng(res.MaxMagDiffHz, "Hz"),
-		fixed(res.MaxPhaseDiffDeg, 3), netlist.FormatEng(res.MaxPhaseDiffHz, "Hz"))
+		notation.Eng(res.FromHz, "Hz"), notation.Eng(res.ToHz, "Hz"),
+		fixed(res.MaxMagDiffDB, 4), notation.Eng(res.MaxMagDiffHz, "Hz"),
+		fixed(res.MaxPhaseDiffDeg, 3), notation.Eng(res.MaxPhaseDiffHz, "Hz"))
 	for _, d := range res.Diagnosis {
 		fmt.Fprintf(w, "  - %s\n", d)
 	}
@@ -169,14 +169,14 @@ func checkTable(w io.Writer, r *tfResult, res *check.CheckResult, sc symbolicChe
 }
 
 // matchText formats one side of a root match.
-func matchText(z *transfer.Complex) string {
+func matchText(z *complex128) string {
 	if z == nil {
 		return "(none)"
 	}
-	if math.Abs(z.Im) == 0 {
-		return num(z.Re)
+	if math.Abs(imag(*z)) == 0 {
+		return num(real(*z))
 	}
-	return complexText(complex(z.Re, z.Im))
+	return complexText(*z)
 }
 
 // circuitValues maps every parameter and part name to its SI value, so

@@ -91,12 +91,7 @@ func (c *driveCmd) Run(e *env) error {
 	}
 	return writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
 		if c.Format == "json" {
-			doc := struct {
-				*steady.Steady
-				Output  string       `json:"output_expression"`
-				Phasors []nodePhasor `json:"phasors,omitempty"`
-			}{st, steady.FormatSteady(st), phasors}
-			return writeJSON(w, doc)
+			return writeJSON(w, steadyDoc(st, phasors))
 		}
 		return steadyTable(w, st, phasors, sig)
 	})
@@ -104,7 +99,7 @@ func (c *driveCmd) Run(e *env) error {
 
 // steadyTable prints the closed form and the per-term table.
 func steadyTable(w io.Writer, st *steady.Steady, phasors []nodePhasor, sig *signal.Signal) error {
-	fmt.Fprintln(w, steady.FormatSteady(st))
+	fmt.Fprintln(w, steadyText(st))
 	fmt.Fprintln(w)
 	t := newTable(w, "term", "freq_hz", "omega_rad_s", "in_amplitude", "in_phase_deg", "gain", "shift_deg", "out_amplitude", "out_phase_deg")
 	opt := func(p *float64, dec int) string {

@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"nodal/cmd/nodal/notation"
 	"strings"
 
 	"nodal/analysis/response"
@@ -56,7 +57,7 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 		}
 	}
 	if !(to > from) {
-		return nil, fmt.Errorf("--to (%s) must be above --from (%s)", netlist.FormatEng(to, "Hz"), netlist.FormatEng(from, "Hz"))
+		return nil, fmt.Errorf("--to (%s) must be above --from (%s)", notation.Eng(to, "Hz"), notation.Eng(from, "Hz"))
 	}
 	if f.Linear {
 		n := f.Points
@@ -75,7 +76,7 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 		return nil, fmt.Errorf("--points goes with --linear; use --per-decade for a log sweep")
 	}
 	if from <= 0 {
-		return nil, fmt.Errorf("a log sweep needs --from > 0 (got %s); use --linear to start at 0 Hz", netlist.FormatEng(from, "Hz"))
+		return nil, fmt.Errorf("a log sweep needs --from > 0 (got %s); use --linear to start at 0 Hz", notation.Eng(from, "Hz"))
 	}
 	if f.PerDecade < 1 || f.PerDecade > 10000 {
 		return nil, fmt.Errorf("--per-decade must be between 1 and 10000")

@@ -174,7 +174,7 @@ func reportStep(h *transfer.TransferFunction) (*report.Step, error) {
 	if err != nil {
 		return nil, err
 	}
-	st := &report.Step{Plot: report.Plot{Figure: fig, Caption: sr.ClosedForm}}
+	st := &report.Step{Plot: report.Plot{Figure: fig, Caption: closedFormText(sr)}}
 	add := func(name string, v *float64, unit string) {
 		if v != nil {
 			st.Metrics = append(st.Metrics, report.Metric{Name: name, Value: *v, Unit: unit})

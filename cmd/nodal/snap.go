@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"nodal/cmd/nodal/notation"
 	"strings"
 
 	"nodal/analysis/stdvalue"
@@ -234,7 +235,7 @@ func snapTable(w io.Writer, rep *snapReport) error {
 		if p.New != p.Old {
 			change = fmt.Sprintf("%+.2f %%", 100*p.RelChange)
 		}
-		if err := t.row(p.Part, p.Series, netlist.FormatEng(p.Old, p.Unit), netlist.FormatEng(p.New, p.Unit), change); err != nil {
+		if err := t.row(p.Part, p.Series, notation.Eng(p.Old, p.Unit), notation.Eng(p.New, p.Unit), change); err != nil {
 			return err
 		}
 	}

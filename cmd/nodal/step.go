@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"nodal/cmd/nodal/notation"
 	"strconv"
 
 	"nodal/analysis/timeresp"
@@ -109,7 +110,7 @@ func (c *timeArgs) run(e *env, kind string) error {
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		switch c.Format {
 		case "json":
-			return writeJSON(w, r)
+			return writeJSON(w, timeDoc(r))
 		case "csv":
 			cw := csv.NewWriter(w)
 			if err := cw.Write([]string{"t_s", "y"}); err != nil {
@@ -130,11 +131,11 @@ func (c *timeArgs) run(e *env, kind string) error {
 // timeTable prints the closed form, the figures and the samples.
 func timeTable(w io.Writer, r *timeresp.TimeResponse, in, out string) error {
 	fmt.Fprintf(w, "%s response of %s to a unit %s of %s\n\n", r.Kind, out, r.Kind, in)
-	fmt.Fprintln(w, r.ClosedForm)
+	fmt.Fprintln(w, closedFormText(r))
 	if r.Unstable {
 		fmt.Fprintln(w, "\nthe circuit is UNSTABLE: poles in the right half-plane or repeated on the jω axis:")
 		for _, p := range r.UnstablePoles {
-			fmt.Fprintf(w, "  s = %s rad/s\n", complexText(complex(p.Re, p.Im)))
+			fmt.Fprintf(w, "  s = %s rad/s\n", complexText(p))
 		}
 	}
 	fmt.Fprintln(w)
@@ -176,7 +177,7 @@ func optEng(v *float64, unit string) string {
 	if unit == "" {
 		return num(*v)
 	}
-	return netlist.FormatEng(*v, unit)
+	return notation.Eng(*v, unit)
 }
 
 // optPct formats an optional percentage.

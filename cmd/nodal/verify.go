@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"nodal/cmd/nodal/notation"
 	"strings"
 	"time"
 
@@ -221,7 +222,7 @@ func metricText(v float64, unit string) string {
 	case unit == "":
 		return trimFloat(v, 4)
 	}
-	return netlist.FormatEng(v, unit)
+	return notation.Eng(v, unit)
 }
 
 func passText(ok bool) string {
