@@ -10,56 +10,15 @@ import (
 	"nodal/netlist"
 )
 
-// MetricKind is what a Metric measures.
-type MetricKind int
-
-const (
-	// MetricGainAt is "gain@FREQ": 20·log10|H(j2πf)|, dB.
-	MetricGainAt MetricKind = iota + 1
-	// MetricPhaseAt is "phase@FREQ": the phase of H(j2πf), degrees, as
-	// TransferFunction.PhaseDeg (continuous sum of factor phases).
-	MetricPhaseAt
-	// MetricF3dB is "f3db": the lowest −3 dB frequency, Hz (see F3dB for
-	// the reference gain: DC gain, high-pass gain, or band-pass peak).
-	MetricF3dB
-	// MetricPeak is "peak": the largest gain on the frequency axis, dB.
-	MetricPeak
-	// MetricFPeak is "fpeak": where the peak occurs, Hz (0 at DC).
-	MetricFPeak
-	// MetricF0 is "f0": the natural frequency ω0/(2π) of the dominant
-	// second-order section (see DominantPair), Hz.
-	MetricF0
-	// MetricQ is "q": the quality factor of the dominant second-order
-	// section (see DominantPair); at most 0.5 when its poles are real.
-	MetricQ
-	// MetricDC is "dc": the DC gain, dB (−Inf for a zero at DC, +Inf for
-	// a pole at DC).
-	MetricDC
-)
-
-// metricNames spells every metric as netlist.MetricNames does, with the
-// frequency placeholder written FREQ (gain@FREQ). Read-only.
-var metricNames = MetricNames()
-
-// MetricNames returns netlist.MetricNames with "@F" spelled "@FREQ": every
-// metric as written in messages and help.
-func MetricNames() []string {
-	names := netlist.MetricNames()
-	for i, n := range names {
-		if base, ok := strings.CutSuffix(n, "@F"); ok {
-			names[i] = base + "@FREQ"
-		}
-	}
-	return names
-}
-
 // Metric is a parsed requirement or tolerance metric, as spelled in a
-// `require` statement or on the command line.
+// `require` statement or on the command line: its entry in the metric
+// registry (netlist.Metrics) and its parameter.
 //
-// Invariant: FreqHz > 0 (finite) exactly when Kind is MetricGainAt or
-// MetricPhaseAt.
+// Invariant: FreqHz = Param.FreqHz, > 0 and finite exactly when the
+// metric takes a frequency (gain@F, phase@F).
 type Metric struct {
-	Kind   MetricKind
+	Spec   netlist.MetricSpec
+	Param  netlist.MetricParam
 	FreqHz float64 // the frequency after '@', Hz
 	Name   string  // the spelling parsed
 }
@@ -68,59 +27,24 @@ type Metric struct {
 func (m Metric) String() string { return m.Name }
 
 // Unit returns the unit of the metric's value: "dB", "deg", "Hz" or "".
-func (m Metric) Unit() string {
-	switch m.Kind {
-	case MetricGainAt, MetricPeak, MetricDC:
-		return "dB"
-	case MetricPhaseAt:
-		return "deg"
-	case MetricF3dB, MetricFPeak, MetricF0:
-		return "Hz"
-	}
-	return ""
-}
+func (m Metric) Unit() string { return m.Spec.Unit }
 
 // ErrNoPolePair means the q or f0 metric was asked of a transfer function
 // without a second-order section: no complex pole pair and fewer than two
 // real poles of one sign (see DominantPair).
 var ErrNoPolePair = errors.New("no complex pole pair nor two real poles of one sign")
 
-// ParseMetric parses a metric as spelled in a `require` statement:
-// gain@FREQ, phase@FREQ, f3db, peak, fpeak, f0, q or dc, with FREQ a
-// positive frequency value in the file format's syntax (1kHz, 20k, 1k5,
-// 500Hz, ...). The spelling is the one netlist.ParseMetric accepts, so a
-// metric that parses in a file also parses here. Errors list the valid
-// metrics.
+// ParseMetric parses a metric as spelled in a `require` statement
+// (netlist.ParseMetric: gain@F, phase@F, f3db, peak, fpeak, f0, q or dc,
+// with F a positive frequency in the file format's syntax: 1kHz, 20k, 1k5,
+// 500Hz, ...), so a metric that parses in a file parses here. Errors list
+// the valid metrics.
 func ParseMetric(name string) (Metric, error) {
-	base, freqHz, err := netlist.ParseMetric(name)
+	spec, p, err := netlist.ParseMetric(name)
 	if err != nil {
-		return Metric{}, fmt.Errorf("%w; valid metrics are %s", err, strings.Join(metricNames, ", "))
+		return Metric{}, fmt.Errorf("%w; valid metrics are %s", err, strings.Join(netlist.MetricNames(), ", "))
 	}
-	m := Metric{Name: name, FreqHz: freqHz}
-	switch base {
-	case "gain":
-		m.Kind = MetricGainAt
-	case "phase":
-		m.Kind = MetricPhaseAt
-	case "f3db":
-		m.Kind = MetricF3dB
-	case "peak":
-		m.Kind = MetricPeak
-	case "fpeak":
-		m.Kind = MetricFPeak
-	case "f0":
-		m.Kind = MetricF0
-	case "q":
-		m.Kind = MetricQ
-	case "dc":
-		m.Kind = MetricDC
-	default:
-		return Metric{}, fmt.Errorf("metric %q is not evaluated by this version; valid metrics are %s", name, strings.Join(metricNames, ", "))
-	}
-	if hasFreq := m.Kind == MetricGainAt || m.Kind == MetricPhaseAt; hasFreq != (freqHz > 0) || math.IsInf(freqHz, 0) {
-		return Metric{}, fmt.Errorf("metric %q: frequency %g Hz out of range", name, freqHz)
-	}
-	return m, nil
+	return Metric{Spec: spec, Param: p, FreqHz: p.FreqHz, Name: name}, nil
 }
 
 // DominantPair returns the dominant second-order section of the poles,
@@ -165,49 +89,73 @@ func (h *TransferFunction) DominantPair() (RootPair, error) {
 	return RootPair{Root: complex(p1, 0), Other: complex(p2, 0), OmegaRad: w0, F0Hz: w0 / (2 * math.Pi), Q: q, Zeta: -sum / (2 * w0)}, nil
 }
 
-// Eval returns the metric's value for tf in the metric's unit (Unit).
+// Eval returns the metric's value for tf in the metric's unit (Unit),
+// through the registry entry's Eval on tf's MetricSubject.
 func (m Metric) Eval(tf *TransferFunction) (float64, error) {
-	switch m.Kind {
-	case MetricGainAt:
-		return tf.GainDB(2 * math.Pi * m.FreqHz), nil
-	case MetricPhaseAt:
-		return tf.PhaseDeg(2 * math.Pi * m.FreqHz), nil
-	case MetricF3dB:
-		bw, err := tf.F3dB()
-		if err != nil {
-			return 0, fmt.Errorf("%s: %w", m.Name, err)
-		}
-		if len(bw.CrossingsHz) == 0 {
-			return 0, fmt.Errorf("%s: the gain never falls 3 dB below %.4g dB", m.Name, bw.RefDB)
-		}
-		return bw.CrossingsHz[0], nil
-	case MetricPeak, MetricFPeak:
-		pk, err := tf.Peak()
-		if err != nil {
-			return 0, fmt.Errorf("%s: %w", m.Name, err)
-		}
-		if m.Kind == MetricPeak {
-			return pk.GainDB, nil
-		}
-		return pk.FreqHz, nil
-	case MetricF0, MetricQ:
-		p, err := tf.DominantPair()
-		if err != nil {
-			return 0, fmt.Errorf("%s: %w", m.Name, err)
-		}
-		if m.Kind == MetricF0 {
-			return p.F0Hz, nil
-		}
-		return p.Q, nil
-	case MetricDC:
-		dc := tf.DCGain()
-		switch {
-		case tf.Gain == 0 || dc.Power > 0:
-			return math.Inf(-1), nil
-		case dc.Power < 0:
-			return math.Inf(1), nil
-		}
-		return dc.GainDB, nil
+	if m.Spec.Eval == nil {
+		return 0, fmt.Errorf("metric %q not parsed", m.Name)
 	}
-	return 0, fmt.Errorf("metric %q not parsed", m.Name)
+	v, err := m.Spec.Eval(tf.Subject(), m.Param)
+	if err != nil {
+		return 0, fmt.Errorf("%s: %w", m.Name, err)
+	}
+	return v, nil
+}
+
+// Subject returns tf as what metrics are evaluated on.
+func (h *TransferFunction) Subject() netlist.MetricSubject { return tfSubject{h} }
+
+// tfSubject evaluates the quantities of the metric registry on a transfer
+// function.
+type tfSubject struct{ tf *TransferFunction }
+
+func (s tfSubject) GainDBAt(freqHz float64) (float64, error) {
+	return s.tf.GainDB(2 * math.Pi * freqHz), nil
+}
+
+func (s tfSubject) PhaseDegAt(freqHz float64) (float64, error) {
+	return s.tf.PhaseDeg(2 * math.Pi * freqHz), nil
+}
+
+func (s tfSubject) F3dBHz() (float64, error) {
+	bw, err := s.tf.F3dB()
+	if err != nil {
+		return 0, err
+	}
+	if len(bw.CrossingsHz) == 0 {
+		return 0, fmt.Errorf("the gain never falls 3 dB below %.4g dB", bw.RefDB)
+	}
+	return bw.CrossingsHz[0], nil
+}
+
+func (s tfSubject) PeakDB() (float64, error) {
+	pk, err := s.tf.Peak()
+	return pk.GainDB, err
+}
+
+func (s tfSubject) PeakHz() (float64, error) {
+	pk, err := s.tf.Peak()
+	return pk.FreqHz, err
+}
+
+func (s tfSubject) F0Hz() (float64, error) {
+	p, err := s.tf.DominantPair()
+	return p.F0Hz, err
+}
+
+func (s tfSubject) Q() (float64, error) {
+	p, err := s.tf.DominantPair()
+	return p.Q, err
+}
+
+// DCGainDB is −Inf for a zero at DC (or H ≡ 0) and +Inf for a pole there.
+func (s tfSubject) DCGainDB() (float64, error) {
+	dc := s.tf.DCGain()
+	switch {
+	case s.tf.Gain == 0 || dc.Power > 0:
+		return math.Inf(-1), nil
+	case dc.Power < 0:
+		return math.Inf(1), nil
+	}
+	return dc.GainDB, nil
 }

@@ -1,6 +1,7 @@
 package variation
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -56,7 +57,7 @@ type MetricEvaluator struct {
 // metric a finite value for this input and output.
 func NewMetricEvaluator(nominal *netlist.Circuit, in mna.Input, out mna.Output, metrics []string) (*MetricEvaluator, error) {
 	if len(metrics) == 0 {
-		return nil, fmt.Errorf("no metric given (metrics: %s)", strings.Join(transfer.MetricNames(), ", "))
+		return nil, fmt.Errorf("no metric given (metrics: %s)", strings.Join(netlist.MetricNames(), ", "))
 	}
 	e := &MetricEvaluator{in: in, out: out, names: append([]string(nil), metrics...)}
 	for _, name := range metrics {
@@ -73,7 +74,7 @@ func NewMetricEvaluator(nominal *netlist.Circuit, in mna.Input, out mna.Output, 
 	e.phaseRefDeg = nom
 	e.spot = true
 	for _, m := range e.metrics {
-		e.spot = e.spot && (m.Kind == transfer.MetricGainAt || m.Kind == transfer.MetricPhaseAt || m.Kind == transfer.MetricDC)
+		e.spot = e.spot && m.Spec.Spot
 	}
 	return e, nil
 }
@@ -95,19 +96,17 @@ func (e *MetricEvaluator) evalSpot(c *netlist.Circuit) ([]float64, error) {
 	if err != nil {
 		return nil, err
 	}
-	sw := mna.NewSweeper(sys)
+	sub := spotSubject{mna.NewSweeper(sys)}
 	out := make([]float64, len(e.metrics))
 	for i, m := range e.metrics {
-		h, _, err := sw.Eval(complex(0, omegaOf(m.FreqHz))) // FreqHz is 0 for dc
+		v, err := m.Spec.Eval(sub, m.Param)
 		if err != nil {
 			return nil, fmt.Errorf("%s: %w", m.Name, err)
 		}
-		switch m.Kind {
-		case transfer.MetricPhaseAt:
-			out[i] = e.nearBranch(i, cmplx.Phase(h)*180/math.Pi)
-		default:
-			out[i] = 20 * math.Log10(cmplx.Abs(h))
+		if m.Spec.Turns {
+			v = e.nearBranch(i, v)
 		}
+		out[i] = v
 		if math.IsNaN(out[i]) || math.IsInf(out[i], 0) {
 			return nil, nonFiniteMetric(m.Name, out[i])
 		}
@@ -134,7 +133,7 @@ func (e *MetricEvaluator) evalExtract(c *netlist.Circuit) ([]float64, error) {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			return nil, nonFiniteMetric(m.Name, v)
 		}
-		if m.Kind == transfer.MetricPhaseAt && e.phaseRefDeg != nil {
+		if m.Spec.Turns && e.phaseRefDeg != nil {
 			v = e.nearBranch(i, v)
 		}
 		out[i] = v
@@ -148,6 +147,38 @@ func (e *MetricEvaluator) evalExtract(c *netlist.Circuit) ([]float64, error) {
 func (e *MetricEvaluator) nearBranch(i int, phaseDeg float64) float64 {
 	return phaseDeg - 360*math.Round((phaseDeg-e.phaseRefDeg[i])/360)
 }
+
+// spotSubject evaluates the spot quantities of the metric registry (gain
+// and phase at a frequency, the DC gain) from H solved directly at that
+// frequency; it has no poles, so every other quantity is an error (a
+// metric whose registry entry is Spot never asks for one).
+type spotSubject struct{ sw *mna.Sweeper }
+
+// at returns H(j2πf).
+func (s spotSubject) at(freqHz float64) (complex128, error) {
+	h, _, err := s.sw.Eval(complex(0, omegaOf(freqHz)))
+	return h, err
+}
+
+func (s spotSubject) GainDBAt(freqHz float64) (float64, error) {
+	h, err := s.at(freqHz)
+	return 20 * math.Log10(cmplx.Abs(h)), err
+}
+
+func (s spotSubject) PhaseDegAt(freqHz float64) (float64, error) {
+	h, err := s.at(freqHz)
+	return cmplx.Phase(h) * 180 / math.Pi, err
+}
+
+func (s spotSubject) DCGainDB() (float64, error) { return s.GainDBAt(0) }
+
+var errNeedsPoles = errors.New("needs the poles and zeros, not a spot solve")
+
+func (spotSubject) F3dBHz() (float64, error) { return 0, errNeedsPoles }
+func (spotSubject) PeakDB() (float64, error) { return 0, errNeedsPoles }
+func (spotSubject) PeakHz() (float64, error) { return 0, errNeedsPoles }
+func (spotSubject) F0Hz() (float64, error)   { return 0, errNeedsPoles }
+func (spotSubject) Q() (float64, error)      { return 0, errNeedsPoles }
 
 // metricUnit returns the unit of a metric's values ("dB", "deg", "Hz",
 // or "" for q and for names ParseMetric does not know).

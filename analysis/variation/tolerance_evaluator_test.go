@@ -70,7 +70,7 @@ func TestMetricEvaluatorErrors(t *testing.T) {
 		want    string
 	}{
 		{[]string{"bandwidth"}, "f3db"}, // lists the valid ones
-		{[]string{"gain"}, "gain@FREQ"},
+		{[]string{"gain"}, "gain@F"},
 		{nil, "no metric"},
 		{[]string{"f0"}, "no complex pole pair"},
 	} {

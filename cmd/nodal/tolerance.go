@@ -21,7 +21,7 @@ import (
 type toleranceCmd struct {
 	circuitArgs
 	probeArgs
-	Metric      []string `required:"" sep:"none" help:"Metric to analyse (repeatable): gain@F, phase@F, f3db, peak, fpeak, f0, q, dc." placeholder:"M"`
+	Metric      []string `required:"" sep:"none" help:"Metric to analyse (repeatable): ${metrics}." placeholder:"M"`
 	Runs        int      `help:"Monte Carlo runs." default:"1000"`
 	Seed        uint64   `help:"Random seed; the same seed gives the same numbers for any --workers." default:"1"`
 	Workers     int      `help:"Goroutines (default: all cores)." default:"0"`
@@ -500,12 +500,12 @@ func requirementLimits(reqs []netlist.Requirement, freqs []float64) []plot.Limit
 			continue
 		}
 		l := plot.Limit{Label: r.Text}
-		switch m.Kind {
-		case transfer.MetricGainAt, transfer.MetricPhaseAt:
+		switch m.Spec.Name {
+		case "gain", "phase":
 			if !inside(m.FreqHz) {
 				continue
 			}
-			if m.Kind == transfer.MetricPhaseAt {
+			if m.Spec.Name == "phase" {
 				l.Quantity = plot.Phase
 			}
 			l.FromHz, l.ToHz = m.FreqHz, m.FreqHz
@@ -516,7 +516,7 @@ func requirementLimits(reqs []netlist.Requirement, freqs []float64) []plot.Limit
 			if r.Op != netlist.Above {
 				l.Hi = &hi
 			}
-		case transfer.MetricF3dB:
+		case "f3db":
 			l.FromHz, l.ToHz = r.Lo, r.Hi
 			switch r.Op {
 			case netlist.Below:
