@@ -55,15 +55,24 @@ func rootPairs(roots []complex128) []RootPair {
 		if imag(r) <= 0 {
 			continue
 		}
-		w0 := cmplx.Abs(r)
-		zeta := -real(r) / w0
-		q := math.Inf(1)
-		if real(r) != 0 {
-			q = w0 / (-2 * real(r))
-		}
-		out = append(out, RootPair{Root: r, Other: cmplx.Conj(r), OmegaRad: w0, F0Hz: w0 / (2 * math.Pi), Q: q, Zeta: zeta})
+		out = append(out, PairOf(r))
 	}
 	return out
+}
+
+// PairOf returns the second-order section of the complex root r and its
+// conjugate, (s − r)(s − r̄) = s² + (ω0/Q)·s + ω0²: ω0 = |r|, f0 = ω0/2π,
+// Q = ω0/(−2·Re r) and ζ = −Re r/ω0 = 1/(2Q) (common practice). It is the
+// one place nodal computes f0, Q and ζ of a pair. A pair on the jω axis
+// (Re r = 0) has Q = +Inf and ζ = 0; one in the right half-plane has
+// Q < 0. Root is r as given, Other its conjugate.
+func PairOf(r complex128) RootPair {
+	w0 := cmplx.Abs(r)
+	zeta, q := 0.0, math.Inf(1) // on the jω axis (ζ = +0, not −0)
+	if real(r) != 0 {
+		zeta, q = -real(r)/w0, w0/(-2*real(r))
+	}
+	return RootPair{Root: r, Other: cmplx.Conj(r), OmegaRad: w0, F0Hz: w0 / (2 * math.Pi), Q: q, Zeta: zeta}
 }
 
 func corners(roots []complex128) []Corner {

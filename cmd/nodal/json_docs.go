@@ -1,6 +1,7 @@
 package main
 
 import (
+	"math"
 	"nodal/analysis/check"
 	"nodal/analysis/steady"
 	"nodal/analysis/timeresp"
@@ -242,13 +243,18 @@ type asymptoteJSON struct {
 	SlopeDBPerDecade *float64 `json:"slope_db_per_decade"`
 }
 
-// pairJSON is a complex pair.
+// pairJSON is a complex pair. q is null for a pair on the jω axis (Q is
+// infinite, which JSON cannot carry) and q_reason says so.
 type pairJSON struct {
 	F0Hz     float64  `json:"f0_hz"`
 	OmegaRad float64  `json:"omega0_rad_s"`
 	Q        *float64 `json:"q"`
+	QReason  string   `json:"q_reason,omitempty"`
 	Zeta     float64  `json:"zeta"`
 }
+
+// qOnAxis is the reason a pair on the jω axis has no number for Q.
+const qOnAxis = "pair on the jω axis"
 
 // rootsJSON returns rs as complexJSON, [] for none.
 func rootsJSON(rs []complex128) []complexJSON {
@@ -263,6 +269,9 @@ func pairsJSON(ps []transfer.RootPair) []pairJSON {
 	out := make([]pairJSON, len(ps))
 	for i, p := range ps {
 		out[i] = pairJSON{F0Hz: p.F0Hz, OmegaRad: p.OmegaRad, Q: finiteOrNil(p.Q), Zeta: p.Zeta}
+		if math.IsInf(p.Q, 1) {
+			out[i].QReason = qOnAxis
+		}
 	}
 	return out
 }

@@ -24,6 +24,7 @@ var schemaCases = []struct {
 	{"sweep", []string{"sweep", rcFile, "--out", "out", "--at", "1k,2k", "--format", "json"}},
 	{"tf", []string{"tf", "../../testdata/examples/logger_antialias.nodal", "--out", "out", "--format", "json"}},
 	{"tf_rc", []string{"tf", rcFile, "--out", "out", "--format", "json"}},
+	{"tf_axis", []string{"tf", "testdata/lc_tank.nodal", "--out", "out", "--format", "json"}},
 	{"tf_symbolic", []string{"tf", rcFile, "--out", "out", "--symbolic", "--format", "json"}},
 	{"check", []string{"check", rcFile, "--out", "out", "--ode", "R1*C1*y' + y = u", "--format", "json"}},
 	{"drive", []string{"drive", rcFile, "--out", "out", "--signal", "sin(2*pi*1k*t) + 1", "--format", "json"}},

@@ -198,8 +198,8 @@ func reportStep(h *transfer.TransferFunction) (*report.Step, error) {
 func reportRoot(k report.RootKind, s complex128) report.Root {
 	mag := math.Hypot(real(s), imag(s))
 	r := report.Root{Kind: k, S: s, F0Hz: mag / (2 * math.Pi)}
-	if imag(s) != 0 && real(s) != 0 {
-		q := mag / (-2 * real(s))
+	if imag(s) != 0 {
+		q := transfer.PairOf(s).Q // +Inf on the jω axis
 		r.Q = &q
 	}
 	return r

@@ -367,13 +367,8 @@ func rootsTable(w io.Writer, what string, roots []complex128) error {
 				meaning += ", right half-plane"
 			}
 		default:
-			q := mag / (-2 * real(r))
-			zeta := -real(r) / mag
-			qs := "∞"
-			if !math.IsInf(q, 0) && real(r) != 0 {
-				qs = trimFloat(q, 4)
-			}
-			meaning = fmt.Sprintf("pair: f0 %s, Q %s, ζ %s", notation.Eng(mag/(2*math.Pi), "Hz"), qs, trimFloat(zeta, 4))
+			p := transfer.PairOf(r)
+			meaning = fmt.Sprintf("pair: f0 %s, Q %s, ζ %s", notation.Eng(p.F0Hz, "Hz"), notation.Q(p.Q), trimFloat(p.Zeta, 4))
 			if real(r) > 0 {
 				meaning += ", right half-plane"
 			}

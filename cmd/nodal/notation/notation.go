@@ -169,3 +169,13 @@ func AxisExp3(v float64) int {
 	}
 	return max(minExp3+1, min(maxExp3, int(math.Floor(math.Log10(v)/3))))
 }
+
+// Q writes a quality factor with four significant digits, and "∞" for
+// the +Inf of a pair on the jω axis: the one way every table, the report
+// and the plots show Q.
+func Q(q float64) string {
+	if math.IsInf(q, 1) {
+		return "∞"
+	}
+	return strconv.FormatFloat(q, 'g', 4, 64)
+}

@@ -100,3 +100,11 @@ func TestAxisExp3AndPrefix(t *testing.T) {
 		}
 	}
 }
+
+func TestQ(t *testing.T) {
+	for q, want := range map[float64]string{math.Inf(1): "∞", 0.70710678: "0.7071", 12.3456: "12.35", -3.2: "-3.2", 0.5: "0.5"} {
+		if got := Q(q); got != want {
+			t.Errorf("Q(%g) = %q, want %q", q, got, want)
+		}
+	}
+}

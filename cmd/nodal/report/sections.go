@@ -110,7 +110,7 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 		for _, r := range d.Roots {
 			q := "—"
 			if r.Q != nil {
-				q = strconv.FormatFloat(*r.Q, 'g', 4, 64)
+				q = notation.Q(*r.Q)
 			}
 			t.Rows = append(t.Rows, row{Cells: []string{r.Kind.String(),
 				notation.Digits(real(r.S), 6, "rad/s"), notation.Digits(imag(r.S), 6, "rad/s"),
