@@ -92,28 +92,27 @@ func TestCompare(t *testing.T) {
 	hp := tfFrom([]float64{0, R2 * C1}, []float64{1, R2 * C1})
 
 	tests := []struct {
-		name     string
-		circuit  *transfer.TransferFunction
-		src      string
-		agrees   bool
-		diagnose string // substring of one diagnosis line
-		status   map[[2]int]CoefStatus
+		name    string
+		circuit *transfer.TransferFunction
+		src     string
+		agrees  bool
+		status  map[[2]int]CoefStatus
 	}{
-		{"rc ode", rc, "R1*C1*y' + y = u", true, "every coefficient agrees", nil},
-		{"rc ode times 3", rc, "3*R1*C1*dy/dt + 3*y = 3*u", true, "every coefficient agrees", nil},
-		{"rc tf scaled", rc, "5/(5 + 5*s*R1*C1)", true, "every coefficient agrees", nil},
-		{"rc factor 2", rc, "2*R1*C1*y' + y = u", false, "den s^1: yours is 2.000× the circuit's — a missing or extra factor 2?", map[[2]int]CoefStatus{{1, 1}: CoefDiffers}},
-		{"rc wrong order", rc, "R1*C1*y'' + y = u", false, "den: yours has the circuit's s^1 coefficient at s^2 — a derivative of the wrong order (y'' where y' belongs)?", map[[2]int]CoefStatus{{1, 1}: CoefMissing, {1, 2}: CoefExtra}},
-		{"rc gain", rc, "R1*C1*y' + y = 2*u", false, "num s^0: yours is 2.000× the circuit's — a missing or extra factor 2?", map[[2]int]CoefStatus{{0, 0}: CoefDiffers}},
-		{"rc Hz for rad/s", rc, "1/(1 + 2*pi*s*R1*C1)", false, "a factor 2π", nil},
-		{"rlc", rlc, "L1*C1*y'' + R1*C1*y' + y = u", true, "every coefficient agrees", nil},
-		{"rlc missing term", rlc, "L1*C1*y'' + y = u", false, "den s^1: the circuit has 0.0001, yours has none — a missing term?", map[[2]int]CoefStatus{{1, 1}: CoefMissing}},
-		{"rlc extra term", rlc, "L1*C1*y'' + R1*C1*y' + y = u + R1*C1*u'", false, "num s^1: yours has 0.0001, the circuit has no such term — an extra term?", map[[2]int]CoefStatus{{0, 1}: CoefExtra}},
-		{"sallen-key", sk, "1/(1 + s*C2*(R1+R2) + s^2*R1*R2*C1*C2)", true, "every coefficient agrees", nil},
-		{"sallen-key swapped C", sk, "1/(1 + s*C1*(R1+R2) + s^2*R1*R2*C1*C2)", false, "den s^1: yours is 2.128× the circuit's = C1/C2 — C1 written where C2 belongs?", map[[2]int]CoefStatus{{1, 1}: CoefDiffers}},
-		{"common factor", rc, "(1 + s*R2*C2)/((1 + s*R1*C1)*(1 + s*R2*C2))", true, "common factor", nil},
-		{"high-pass", hp, "R2*C1*y' + y = R2*C1*u'", true, "every coefficient agrees", nil},
-		{"high-pass sign", hp, "R2*C1*y' + y = -R2*C1*u'", false, "a sign slip?", nil},
+		{"rc ode", rc, "R1*C1*y' + y = u", true, nil},
+		{"rc ode times 3", rc, "3*R1*C1*dy/dt + 3*y = 3*u", true, nil},
+		{"rc tf scaled", rc, "5/(5 + 5*s*R1*C1)", true, nil},
+		{"rc factor 2", rc, "2*R1*C1*y' + y = u", false, map[[2]int]CoefStatus{{1, 1}: CoefDiffers}},
+		{"rc wrong order", rc, "R1*C1*y'' + y = u", false, map[[2]int]CoefStatus{{1, 1}: CoefMissing, {1, 2}: CoefExtra}},
+		{"rc gain", rc, "R1*C1*y' + y = 2*u", false, map[[2]int]CoefStatus{{0, 0}: CoefDiffers}},
+		{"rc Hz for rad/s", rc, "1/(1 + 2*pi*s*R1*C1)", false, nil},
+		{"rlc", rlc, "L1*C1*y'' + R1*C1*y' + y = u", true, nil},
+		{"rlc missing term", rlc, "L1*C1*y'' + y = u", false, map[[2]int]CoefStatus{{1, 1}: CoefMissing}},
+		{"rlc extra term", rlc, "L1*C1*y'' + R1*C1*y' + y = u + R1*C1*u'", false, map[[2]int]CoefStatus{{0, 1}: CoefExtra}},
+		{"sallen-key", sk, "1/(1 + s*C2*(R1+R2) + s^2*R1*R2*C1*C2)", true, nil},
+		{"sallen-key swapped C", sk, "1/(1 + s*C1*(R1+R2) + s^2*R1*R2*C1*C2)", false, map[[2]int]CoefStatus{{1, 1}: CoefDiffers}},
+		{"common factor", rc, "(1 + s*R2*C2)/((1 + s*R1*C1)*(1 + s*R2*C2))", true, nil},
+		{"high-pass", hp, "R2*C1*y' + y = R2*C1*u'", true, nil},
+		{"high-pass sign", hp, "R2*C1*y' + y = -R2*C1*u'", false, nil},
 	}
 	for _, tt := range tests {
 		num, den := yours(t, tt.src)
@@ -123,14 +122,7 @@ func TestCompare(t *testing.T) {
 			continue
 		}
 		if res.Agrees != tt.agrees {
-			t.Errorf("%s: agrees = %v, want %v; diagnosis %q", tt.name, res.Agrees, tt.agrees, res.Diagnosis)
-		}
-		found := false
-		for _, d := range res.Diagnosis {
-			found = found || strings.Contains(d, tt.diagnose)
-		}
-		if !found {
-			t.Errorf("%s: no diagnosis containing %q in %q", tt.name, tt.diagnose, res.Diagnosis)
+			t.Errorf("%s: agrees = %v, want %v", tt.name, res.Agrees, tt.agrees)
 		}
 		for _, row := range res.Coefficients {
 			side := 0
@@ -212,7 +204,7 @@ func TestCompareCircuitCancellation(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !res.Agrees || !strings.Contains(strings.Join(res.Diagnosis, "\n"), "pole/zero cancellation at s = -5000") {
-		t.Errorf("agrees %v, diagnosis %q", res.Agrees, res.Diagnosis)
+	if !res.Agrees || len(res.CircuitCancelled) != 1 || res.CircuitCancelled[0] != -5000 {
+		t.Errorf("agrees %v, circuit cancelled %v", res.Agrees, res.CircuitCancelled)
 	}
 }

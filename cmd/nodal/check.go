@@ -149,7 +149,7 @@ func checkTable(w io.Writer, r *tfResult, res *check.CheckResult, sc symbolicChe
 		notation.Eng(res.FromHz, "Hz"), notation.Eng(res.ToHz, "Hz"),
 		fixed(res.MaxMagDiffDB, 4), notation.Eng(res.MaxMagDiffHz, "Hz"),
 		fixed(res.MaxPhaseDiffDeg, 3), notation.Eng(res.MaxPhaseDiffHz, "Hz"))
-	for _, d := range res.Diagnosis {
+	for _, d := range diagnosis(res) {
 		fmt.Fprintf(w, "  - %s\n", d)
 	}
 	numeric := "differs"

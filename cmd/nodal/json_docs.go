@@ -203,7 +203,7 @@ func checkDoc(res *check.CheckResult, agrees bool, sc symbolicCheck) checkJSON {
 		FromHz: res.FromHz, ToHz: res.ToHz, MaxMagDiffDB: res.MaxMagDiffDB, MaxMagDiffHz: res.MaxMagDiffHz,
 		MaxPhaseDiffDeg: res.MaxPhaseDiffDeg, MaxPhaseDiffHz: res.MaxPhaseDiffHz,
 		YoursCancelled: complexDocs(res.YoursCancelled), CircuitCancelled: complexDocs(res.CircuitCancelled),
-		Diagnosis: res.Diagnosis, Symbolic: sc}
+		Diagnosis: diagnosis(res), Symbolic: sc}
 	for _, c := range res.Coefficients {
 		d.Coefficients = append(d.Coefficients, coefJSON{Side: c.Side, Power: c.Power, Circuit: c.Circuit, Yours: c.Yours, Ratio: c.Ratio, Status: string(c.Status)})
 	}
