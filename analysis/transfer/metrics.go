@@ -143,8 +143,15 @@ func (s tfSubject) F0Hz() (float64, error) {
 	return p.F0Hz, err
 }
 
+// ErrQInfinite means the dominant pair is on the jω axis: Q = ∞, a
+// figure with no statistics and no limit to judge.
+var ErrQInfinite = errors.New("Q is infinite: the dominant pole pair is on the jω axis")
+
 func (s tfSubject) Q() (float64, error) {
 	p, err := s.tf.DominantPair()
+	if err == nil && math.IsInf(p.Q, 1) {
+		return p.Q, ErrQInfinite
+	}
 	return p.Q, err
 }
 

@@ -1,6 +1,7 @@
 package transfer
 
 import (
+	"errors"
 	"math"
 	"math/cmplx"
 	"testing"
@@ -41,5 +42,22 @@ func TestPairOf(t *testing.T) {
 	tank := FromRoots(w0*w0, nil, []complex128{complex(0, w0), complex(0, -w0)})
 	if ps := tank.PolePairs(); len(ps) != 1 || !math.IsInf(ps[0].Q, 1) || ps[0].Zeta != 0 {
 		t.Errorf("tank pairs %+v", ps)
+	}
+}
+
+// The q metric of an LC tank says why it has no number (Q = ∞ on the jω
+// axis) instead of giving +Inf.
+func TestMetricQOnAxis(t *testing.T) {
+	w0 := 1e4
+	tank := FromRoots(w0*w0, nil, []complex128{complex(0, w0), complex(0, -w0)})
+	m, err := ParseMetric("q")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := m.Eval(tank); !errors.Is(err, ErrQInfinite) {
+		t.Errorf("q of an LC tank: %v, want ErrQInfinite", err)
+	}
+	if f0, err := (Metric{}).Eval(tank); err == nil {
+		t.Errorf("an unparsed metric gave %g", f0)
 	}
 }
