@@ -5,34 +5,33 @@ import (
 	"testing"
 
 	"nodal/analysis/check"
-	"nodal/analysis/derivation"
 	"nodal/analysis/transfer"
+	"nodal/netlist"
 )
 
-// diagnosisValues are the part values of a tone-stage filter (SI units).
-var diagnosisValues = map[string]float64{
-	"R1": 10e3, "R2": 22e3, "C1": 10e-9, "C2": 4.7e-9, "L1": 10e-3,
-}
+// diagnosisParts holds the part values of a tone-stage filter; the
+// derivations name them (R1 = 10 kΩ, R2 = 22 kΩ, C1 = 10 nF, C2 = 4.7 nF,
+// L1 = 10 mH).
+const diagnosisParts = `title "tone-stage parts"
+Vs: vsource (in, gnd) 1
+R1: resistor (in, a) 10k
+R2: resistor (a, b) 22k
+C1: capacitor (b, gnd) 10n
+C2: capacitor (a, gnd) 4.7n
+L1: inductor (b, out) 10m
+`
 
-// derivationCoefs parses and evaluates a hand derivation (an ODE when it
-// holds "=") with diagnosisValues.
-func derivationCoefs(t *testing.T, src string) (num, den []float64) {
+// derivationCoefs reads a hand derivation (an ODE when it holds "=") as
+// nodal check does and evaluates it with the parts of c.
+func derivationCoefs(t *testing.T, c *netlist.Circuit, src string) (num, den []float64) {
 	t.Helper()
-	var r *derivation.Rational
-	var err error
+	ode, tf := "", src
 	if strings.Contains(src, "=") {
-		var eq *derivation.Equation
-		if eq, err = derivation.ParseODE("ode", src); err == nil {
-			r, err = eq.Reduce(derivation.Signals{Known: func(n string) bool { _, ok := diagnosisValues[n]; return ok }})
-		}
-	} else {
-		var tf *derivation.TF
-		if tf, err = derivation.ParseTF("tf", src); err == nil {
-			r, err = tf.Reduce()
-		}
+		ode, tf = src, ""
 	}
+	r, err := reduceDerivation(c, ode, tf)
 	if err == nil {
-		num, den, err = r.Evaluate(func(n string) (float64, bool) { v, ok := diagnosisValues[n]; return v, ok })
+		num, den, err = r.Evaluate(symbolLookup(c))
 	}
 	if err != nil {
 		t.Fatalf("%q: %v", src, err)
@@ -46,7 +45,12 @@ func derivationCoefs(t *testing.T, src string) (num, den []float64) {
 // Sallen-Key low-pass 1 + s·C2(R1+R2) + s²R1R2C1C2 (Sedra & Smith,
 // Microelectronic Circuits; from memory) and a first-order high-pass.
 func TestDiagnosis(t *testing.T) {
-	R1, R2, C1, C2, L1 := 10e3, 22e3, 10e-9, 4.7e-9, 10e-3
+	parts, err := netlist.Load("parts.nodal", []byte(diagnosisParts), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	values := circuitValues(parts)
+	R1, R2, C1, C2, L1 := values["R1"], values["R2"], values["C1"], values["C2"], values["L1"]
 	// Den is normalised already (lowest coefficient 1); Compare finds the roots.
 	tf := func(num, den []float64) *transfer.TransferFunction {
 		return &transfer.TransferFunction{Num: num, Den: den, Gain: num[len(num)-1] / den[len(den)-1]}
@@ -77,8 +81,8 @@ func TestDiagnosis(t *testing.T) {
 		{"high-pass", hp, "R2*C1*y' + y = R2*C1*u'", "every coefficient agrees"},
 		{"high-pass sign", hp, "R2*C1*y' + y = -R2*C1*u'", "a sign slip?"},
 	} {
-		num, den := derivationCoefs(t, tt.src)
-		res, err := check.Compare(tt.circuit, num, den, check.CompareOptions{Values: diagnosisValues})
+		num, den := derivationCoefs(t, parts, tt.src)
+		res, err := check.Compare(tt.circuit, num, den, check.CompareOptions{Values: values})
 		if err != nil {
 			t.Fatalf("%s: %v", tt.name, err)
 		}

@@ -12,10 +12,7 @@ import (
 
 // steadyLowPass is H(s) = 1/(1 + s/ωc), a first-order low-pass.
 func steadyLowPass(omegaC float64) *transfer.TransferFunction {
-	return &transfer.TransferFunction{
-		Num: []float64{1}, Den: []float64{1, 1 / omegaC},
-		Poles: []complex128{complex(-omegaC, 0)}, Gain: omegaC,
-	}
+	return transfer.FromRoots(omegaC, nil, []complex128{complex(-omegaC, 0)})
 }
 
 func steadySignal(t *testing.T, src string) *signal.Signal {
@@ -25,10 +22,6 @@ func steadySignal(t *testing.T, src string) *signal.Signal {
 		t.Fatal(err)
 	}
 	return s
-}
-
-func steadyNear(got, want, rel float64) bool {
-	return math.Abs(got-want) <= rel*math.Max(math.Abs(want), 1e-300)
 }
 
 // steadyText writes the drive's own style: a first-order low-pass one
@@ -75,7 +68,7 @@ func TestSteadyStateSuperpositionSatisfiesODE(t *testing.T) {
 		t.Fatalf("terms %d dc %v", len(st.Terms), *st.DCOut)
 	}
 	// At the corner: gain 1/√2, shift −45° (common practice).
-	if r := st.Terms[2]; !steadyNear(*r.Gain, 1/math.Sqrt2, 1e-12) || math.Abs(*r.ShiftDeg+45) > 1e-9 {
+	if r := st.Terms[2]; math.Abs(*r.Gain-1/math.Sqrt2) > 1e-12 || math.Abs(*r.ShiftDeg+45) > 1e-9 {
 		t.Errorf("corner term gain %v shift %v", *r.Gain, *r.ShiftDeg)
 	}
 	text := steadyText(st)
