@@ -326,9 +326,9 @@ func TestMetrics(t *testing.T) {
 		ok   bool
 	}{{"gain@1kHz", "gain", 1000, true}, {"phase@20k", "phase", 20000, true}, {"q", "q", 0, true},
 		{"gain", "", 0, false}, {"q@1k", "", 0, false}, {"gain@1nF", "", 0, false}, {"gainx", "", 0, false}} {
-		name, f, err := ParseMetric(tc.in)
-		if (err == nil) != tc.ok || name != tc.name || f != tc.f {
-			t.Errorf("ParseMetric(%q) = %q %v %v", tc.in, name, f, err)
+		m, p, err := ParseMetric(tc.in)
+		if name, f := m.Name, p.FreqHz; (err == nil) != tc.ok || name != tc.name || f != tc.f {
+			t.Errorf("ParseMetric(%q) = %q %v %v", tc.in, m.Name, p.FreqHz, err)
 		}
 	}
 }

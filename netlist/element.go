@@ -3,6 +3,7 @@ package netlist
 import (
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 
 	"github.com/alecthomas/participle/v2/lexer"
@@ -91,7 +92,7 @@ func (s *partStep) check(p *Part) string {
 	switch p.Kind {
 	case Resistor, Capacitor, Inductor:
 		if p.Value <= 0 {
-			return fmt.Sprintf("value must be > 0, got %s", FormatEng(p.Value, kindSpecs[p.Kind].unit))
+			return fmt.Sprintf("value must be > 0, got %s", strings.TrimSpace(strconv.FormatFloat(p.Value, 'g', 4, 64)+" "+kindSpecs[p.Kind].unit))
 		}
 	case Coupling:
 		if p.Value == 0 || math.Abs(p.Value) > 1 {

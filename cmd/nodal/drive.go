@@ -6,8 +6,8 @@ import (
 	"math"
 	"math/cmplx"
 
-	"nodal/analysis"
 	"nodal/analysis/signal"
+	"nodal/analysis/steady"
 )
 
 // driveCmd prints the sinusoidal steady-state output for a drive signal.
@@ -63,7 +63,7 @@ func (c *driveCmd) Run(e *env) error {
 		}
 		return v
 	}
-	st, err := analysis.SteadyState(h, sig)
+	st, err := steady.SteadyState(h, sig)
 	if err != nil {
 		return err
 	}
@@ -88,20 +88,15 @@ func (c *driveCmd) Run(e *env) error {
 	}
 	return writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
 		if c.Format == "json" {
-			doc := struct {
-				*analysis.Steady
-				Output  string       `json:"output_expression"`
-				Phasors []nodePhasor `json:"phasors,omitempty"`
-			}{st, analysis.FormatSteady(st), phasors}
-			return writeJSON(w, doc)
+			return writeJSON(w, steadyDoc(st, phasors))
 		}
 		return steadyTable(w, st, phasors, sig)
 	})
 }
 
 // steadyTable prints the closed form and the per-term table.
-func steadyTable(w io.Writer, st *analysis.Steady, phasors []nodePhasor, sig *signal.Signal) error {
-	fmt.Fprintln(w, analysis.FormatSteady(st))
+func steadyTable(w io.Writer, st *steady.Steady, phasors []nodePhasor, sig *signal.Signal) error {
+	fmt.Fprintln(w, steadyText(st))
 	fmt.Fprintln(w)
 	t := newTable(w, "term", "freq_hz", "omega_rad_s", "in_amplitude", "in_phase_deg", "gain", "shift_deg", "out_amplitude", "out_phase_deg")
 	opt := func(p *float64, dec int) string {

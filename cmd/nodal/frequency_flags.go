@@ -3,8 +3,8 @@ package main
 import (
 	"fmt"
 
-	"nodal/analysis"
-	"nodal/netlist"
+	"nodal/analysis/response"
+	"nodal/cmd/nodal/notation"
 	"nodal/netlist/syntax"
 )
 
@@ -36,7 +36,7 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 		}
 		for _, v := range out {
 			if v < 0 {
-				return nil, fmt.Errorf("--at %s: frequency must be ≥ 0", netlist.FormatEng(v, "Hz"))
+				return nil, fmt.Errorf("--at %s: frequency must be ≥ 0", notation.Eng(v, "Hz"))
 			}
 		}
 		return out, nil
@@ -54,7 +54,7 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 		}
 	}
 	if !(to > from) {
-		return nil, fmt.Errorf("--to (%s) must be above --from (%s)", netlist.FormatEng(to, "Hz"), netlist.FormatEng(from, "Hz"))
+		return nil, fmt.Errorf("--to (%s) must be above --from (%s)", notation.Eng(to, "Hz"), notation.Eng(from, "Hz"))
 	}
 	if f.Linear {
 		n := f.Points
@@ -67,16 +67,16 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 		if from < 0 {
 			return nil, fmt.Errorf("--from must be ≥ 0")
 		}
-		return analysis.LinearGrid(from, to, n), nil
+		return response.LinearGrid(from, to, n), nil
 	}
 	if f.Points != 0 {
 		return nil, fmt.Errorf("--points goes with --linear; use --per-decade for a log sweep")
 	}
 	if from <= 0 {
-		return nil, fmt.Errorf("a log sweep needs --from > 0 (got %s); use --linear to start at 0 Hz", netlist.FormatEng(from, "Hz"))
+		return nil, fmt.Errorf("a log sweep needs --from > 0 (got %s); use --linear to start at 0 Hz", notation.Eng(from, "Hz"))
 	}
 	if f.PerDecade < 1 || f.PerDecade > 10000 {
 		return nil, fmt.Errorf("--per-decade must be between 1 and 10000")
 	}
-	return analysis.LogGrid(from, to, f.PerDecade), nil
+	return response.LogGrid(from, to, f.PerDecade), nil
 }

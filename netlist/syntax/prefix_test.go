@@ -4,7 +4,7 @@ import "testing"
 
 // TestPrefixTable checks the one SI prefix table against the SI Brochure
 // (BIPM, 9th edition 2019, table 7): factor, exponent and the symbol
-// FormatEng writes. "u" and U+03BC stand in for U+00B5 MICRO SIGN (common
+// nodal writes. "u" and U+03BC stand in for U+00B5 MICRO SIGN (common
 // practice).
 func TestPrefixTable(t *testing.T) {
 	for _, tc := range []struct {
