@@ -16,11 +16,67 @@ package analysis
 // stored next to each other, the one with positive imaginary part first;
 // Gain is the leading-coefficient ratio Num[m]/Den[n].
 // Cancelled lists the pole-zero pairs found equal and removed.
+//
+// At high order the expanded form need not fit a float64 (a 200-section
+// ladder has Den[200] ≈ 10⁻¹⁰⁰⁰, Gain ≈ 10¹⁰⁰⁰): then Num, Den or Gain
+// hold 0 or ±Inf and Fits reports false. The factored form is always
+// exact: with ScaleRad > 0,
+//
+//	H(s) = ScaledGain · Π(s/ScaleRad − Zeros[i]/ScaleRad) / Π(s/ScaleRad − Poles[i]/ScaleRad),
+//
+// ScaledGain dimensionless in the units of H, and ScaledPoly gives the
+// expanded form in ŝ = s/ScaleRad. ScaleRad = 0 means "not set": Gain
+// with scale 1. DirectDC, when not nil, is H(0) from a direct solve of the
+// circuit at s = 0 (no pole or zero there); DCGain returns it.
 type TransferFunction struct {
 	Num, Den     []float64
 	Zeros, Poles []complex128
 	Gain         float64
 	Cancelled    []complex128
+	ScaledGain   float64
+	ScaleRad     float64
+	DirectDC     *float64
+}
+
+// scaled returns the gain and frequency scale of the factored form.
+func (h *TransferFunction) scaled() (k, w float64) {
+	if h.ScaleRad > 0 {
+		return h.ScaledGain, h.ScaleRad
+	}
+	return h.Gain, 1
+}
+
+// Fits reports whether Num, Den and Gain are all finite with no
+// coefficient lost to underflow, i.e. the expanded form can be printed
+// as it is; otherwise print ScaledPoly.
+func (h *TransferFunction) Fits() bool {
+	if !finite(h.Gain) || len(h.Num) == 0 || len(h.Den) == 0 {
+		return false
+	}
+	for _, c := range [][]float64{h.Num, h.Den} {
+		for _, v := range c {
+			if !finite(v) {
+				return false
+			}
+		}
+	}
+	zero := len(h.Num) == 1 && h.Num[0] == 0 // H ≡ 0
+	return zero || (h.Gain != 0 && h.Num[len(h.Num)-1] != 0 && h.Den[len(h.Den)-1] != 0)
+}
+
+// ScaledPoly returns the ascending coefficients of H in ŝ = s/ScaleRad
+// (ŝ dimensionless): H = Σ num[k]ŝᵏ / Σ den[k]ŝᵏ, den's lowest non-zero
+// coefficient 1, and the scale w in rad/s (1 when ScaleRad is unset).
+// They fit a float64 whenever the roots span less than about 300
+// decades in total.
+func (h *TransferFunction) ScaledPoly() (num, den []float64, w float64) {
+	k, w := h.scaled()
+	sz := append([]complex128(nil), h.Zeros...)
+	sp := append([]complex128(nil), h.Poles...)
+	scaleRoots(sz, 1/w)
+	scaleRoots(sp, 1/w)
+	num, den = normaliseMonic(k, rootsPoly(sz), rootsPoly(sp))
+	return num, den, w
 }
 
 // Eval returns H(s) from the coefficients (Horner's rule).
@@ -28,15 +84,21 @@ func (h *TransferFunction) Eval(s complex128) complex128 {
 	return horner(h.Num, s) / horner(h.Den, s)
 }
 
-// EvalFactored returns H(s) from the gain, zeros and poles; better
-// conditioned than Eval for high orders.
+// EvalFactored returns H(s) from the gain, zeros and poles, in scaled
+// units and alternating zero and pole factors so that no partial product
+// overflows; exact at any order, unlike Eval.
 func (h *TransferFunction) EvalFactored(s complex128) complex128 {
-	v := complex(h.Gain, 0)
-	for _, z := range h.Zeros {
-		v *= s - z
-	}
-	for _, p := range h.Poles {
-		v /= s - p
+	k, w := h.scaled()
+	v := complex(k, 0)
+	sh := s / complex(w, 0)
+	n := max(len(h.Zeros), len(h.Poles))
+	for i := 0; i < n; i++ {
+		if i < len(h.Zeros) {
+			v *= sh - h.Zeros[i]/complex(w, 0)
+		}
+		if i < len(h.Poles) {
+			v /= sh - h.Poles[i]/complex(w, 0)
+		}
 	}
 	return v
 }

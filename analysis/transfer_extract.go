@@ -8,7 +8,6 @@ import (
 	"sort"
 	"strings"
 
-	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"nodal/mna"
@@ -25,8 +24,13 @@ const (
 	// zeroRootTol: a root smaller than zeroRootTol times the characteristic
 	// frequency is taken to be exactly s = 0.
 	zeroRootTol = 1e-10
-	// nullGainTol: H(σ) below nullGainTol·‖L‖₂‖x‖₂ at two shifts means H ≡ 0.
+	// nullGainTol: H(σ) below nullGainTol·Σ|Lᵢxᵢ| (the response's own
+	// scale: the terms the output sums) at two shifts means H ≡ 0. A
+	// single-node output is then zero only when it is exactly 0.
 	nullGainTol = 1e-12
+	// verifyTol: the extracted H(jω) must equal a direct solve within
+	// verifyTol relative at every check frequency, or Extract fails.
+	verifyTol = 1e-7
 )
 
 // shiftFactors are the multiples of the characteristic frequency tried as
@@ -278,10 +282,12 @@ func pow2Inv(m float64) float64 {
 	return math.Ldexp(1, -e+1)
 }
 
-// evalAtShift returns H(σ̂·ωc) and the magnitude scale ‖L̂‖₂·‖x‖₂ that
-// bounds it (Cauchy–Schwarz), or ok=false when G + σC is ill conditioned.
-// An |H| that is a rounding-level fraction of the scale is no evidence of
-// a non-zero H: for a single-node output Σ|L̂ᵢxᵢ| would equal |H| itself.
+// evalAtShift returns H(σ̂·ωc) and the magnitude scale Σ|L̂ᵢxᵢ| of the
+// terms the output sums, or ok=false when G + σC is ill conditioned. An
+// |H| that is a rounding-level fraction of that scale is a cancellation
+// (a balanced bridge): no evidence of a non-zero H. The norm of the whole
+// solution is never the scale: the far end of a long ladder is 10⁻⁸⁰ of
+// its first node and still exact.
 func (s *scaledSystem) evalAtShift(sigma float64) (h, scale float64, ok bool) {
 	x := mat.NewDense(s.n, s.n, nil)
 	x.Scale(sigma, s.c)
@@ -296,9 +302,11 @@ func (s *scaledSystem) evalAtShift(sigma float64) (h, scale float64, ok bool) {
 		return 0, 0, false
 	}
 	for i := 0; i < s.n; i++ {
-		h += s.l[i] * v.AtVec(i)
+		t := s.l[i] * v.AtVec(i)
+		h += t
+		scale += math.Abs(t)
 	}
-	return h, floats.Norm(s.l, 2) * mat.Norm(&v, 2), true
+	return h, scale, true
 }
 
 // gainPointRadii and gainPointAngles span the candidate points ŝ = r·e^{jθ}
@@ -392,6 +400,12 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 	}
 	polishRoots(s.g, s.c, poles)
 	zeros, err := finiteEigenvalues(s.gb, s.cb, shiftFactors[:])
+	if errors.Is(err, errSingularPencil) {
+		// The bordered pencil is singular while G + sC is not: its
+		// determinant −det(G + sC)·H(s) vanishes identically, so H ≡ 0
+		// (an output at a virtual ground, a balanced bridge).
+		return &TransferFunction{Num: []float64{0}, Den: []float64{1}}, nil
+	}
 	if err != nil {
 		return nil, fmt.Errorf("transfer function zeros: %w", err)
 	}
@@ -423,7 +437,25 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 	sortRoots(poles)
 	sortRoots(zeros)
 	sortRoots(cancelled)
-	return newTransferFunction(gain, zeros, poles, cancelled), nil
+	tf := newTransferFunction(gain, zeros, poles, cancelled)
+	tf.ScaledGain, tf.ScaleRad = real(k), s.wc
+	if h0, ok := s.evalComplex(0); ok && !hasRootAtZero(poles, zeros) {
+		v := real(h0)
+		tf.DirectDC = &v
+	}
+	return tf, nil
+}
+
+// hasRootAtZero reports whether a root of any list is exactly 0.
+func hasRootAtZero(lists ...[]complex128) bool {
+	for _, l := range lists {
+		for _, r := range l {
+			if r == 0 {
+				return true
+			}
+		}
+	}
+	return false
 }
 
 // snapZero sets to exactly 0 the roots that are s = 0 up to rounding
