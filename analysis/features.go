@@ -118,17 +118,23 @@ func (h *TransferFunction) DCGain() Asymptote {
 		return newAsymptote(*h.DirectDC, 0)
 	}
 	// G0 = k·w^(−power)·Π(−ẑ)/Π(−p̂), interleaved in scaled units.
-	v := complex(k, 0)
+	v := newWideProduct(complex(k, 0))
 	cw := complex(w, 0)
 	for i := 0; i < max(len(nz), len(np)); i++ {
 		if i < len(nz) {
-			v *= -nz[i] / cw
+			v.mul(-nz[i] / cw)
 		}
 		if i < len(np) {
-			v /= -np[i] / cw
+			v.div(-np[i] / cw)
 		}
 	}
-	return newAsymptote(real(v)*math.Pow(w, -float64(power)), power)
+	for i := 0; i < power; i++ {
+		v.div(cw)
+	}
+	for i := 0; i > power; i-- {
+		v.mul(cw)
+	}
+	return newAsymptote(real(v.value()), power)
 }
 
 // HighFreqAsymptote returns H(s) ≈ Gain·s^(m−n) as s → ∞ (slope 20·(m−n)

@@ -85,22 +85,22 @@ func (h *TransferFunction) Eval(s complex128) complex128 {
 }
 
 // EvalFactored returns H(s) from the gain, zeros and poles, in scaled
-// units and alternating zero and pole factors so that no partial product
-// overflows; exact at any order, unlike Eval.
+// units with a separate binary exponent (wideProduct), so that no partial
+// product overflows; exact at any order, unlike Eval.
 func (h *TransferFunction) EvalFactored(s complex128) complex128 {
 	k, w := h.scaled()
-	v := complex(k, 0)
-	sh := s / complex(w, 0)
-	n := max(len(h.Zeros), len(h.Poles))
-	for i := 0; i < n; i++ {
+	v := newWideProduct(complex(k, 0))
+	cw := complex(w, 0)
+	sh := s / cw
+	for i := 0; i < max(len(h.Zeros), len(h.Poles)); i++ {
 		if i < len(h.Zeros) {
-			v *= sh - h.Zeros[i]/complex(w, 0)
+			v.mul(sh - h.Zeros[i]/cw)
 		}
 		if i < len(h.Poles) {
-			v /= sh - h.Poles[i]/complex(w, 0)
+			v.div(sh - h.Poles[i]/cw)
 		}
 	}
-	return v
+	return v.value()
 }
 
 // Order returns the number of poles.

@@ -92,20 +92,118 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 	}
 
 	wc := characteristicFreq(sys)
-	sc := newScaledSystem(sys, wc)
-	tf, err := sc.extract()
-	if err != nil {
-		return nil, err
-	}
-	// Second pass when the poles sit far from the first guess of the
-	// characteristic frequency: centre the shift on them for accuracy.
-	if c := rootCentre(tf.Poles, tf.Cancelled); c > 0 && (c > 100*wc || c < wc/100) {
-		if tf2, err2 := newScaledSystem(sys, c).extract(); err2 == nil {
-			tf = tf2
+	// Orders above polishMaxOrder are not polished first (the shift-and-
+	// invert eigenvalues are then accurate enough as a rule, and Newton on
+	// the determinant costs O(n⁴)); the check against direct solves
+	// decides whether polishing is needed after all.
+	var verr error
+	for _, polish := range []bool{n <= polishMaxOrder, true} {
+		t, err := newScaledSystem(sys, wc).extract(polish)
+		if err != nil {
+			return nil, err
+		}
+		// Second pass when the poles sit far from the first guess of the
+		// characteristic frequency: centre the shift on them for accuracy.
+		if c := rootCentre(t.Poles, t.Cancelled); c > 0 && (c > 100*wc || c < wc/100) {
+			if t2, err2 := newScaledSystem(sys, c).extract(polish); err2 == nil {
+				t = t2
+			}
+		}
+		if verr = verifyExtraction(sys, t); verr == nil {
+			return t, nil
+		}
+		if polish {
+			break
 		}
 	}
-	return tf, nil
+	return nil, verr
 }
+
+// polishMaxOrder is the largest system size whose roots are always
+// polished by Newton steps.
+const polishMaxOrder = 40
+
+// ErrIllConditioned means the extracted H(s) disagrees with direct solves
+// of the circuit: the extraction cannot be trusted and no H is returned.
+var ErrIllConditioned = errors.New("the transfer-function extraction is ill-conditioned")
+
+// verifyPoints is the number of frequencies at which verifyExtraction
+// compares H with direct solves.
+const verifyPoints = 12
+
+// verifyExtraction compares the factored H(jω) with direct sparse solves
+// of the circuit at verifyPoints frequencies spaced geometrically from a
+// tenth of the smallest non-zero root magnitude to ten times the largest
+// (the sweep range and more). They must agree within verifyTol relative,
+// or within 1e-10 of Σ|Lᵢxᵢ| (the response's own scale: a cancellation
+// in the output is rounding in both), or within verifyFloor of the peak. A frequency where the circuit is
+// singular (a pole on the jω axis) is skipped. An H ≡ 0 (decided by
+// the rank of the bordered pencil) is checked against rounding of the
+// whole solution instead.
+func verifyExtraction(sys *mna.System, tf *TransferFunction) error {
+	lo, hi := math.Inf(1), 0.0
+	for _, l := range [][]complex128{tf.Poles, tf.Zeros, tf.Cancelled} {
+		for _, r := range l {
+			if a := cmplx.Abs(r); a > 0 {
+				lo, hi = math.Min(lo, a), math.Max(hi, a)
+			}
+		}
+	}
+	if hi == 0 {
+		lo, hi = 1, 1
+		if _, w := tf.scaled(); w > 0 {
+			lo, hi = w, w
+		}
+	}
+	lo, hi = lo/10, hi*10
+	type point struct {
+		w         float64
+		hd, hf    complex128
+		scale     float64
+		evaluated bool
+	}
+	pts := make([]point, verifyPoints)
+	peak := 0.0
+	zero := tf.ScaledGain == 0 && tf.Gain == 0
+	for k := range pts {
+		w := lo * math.Pow(hi/lo, (float64(k)+0.5)/verifyPoints)
+		s := complex(0, w)
+		x, err := sys.SolveAll(s)
+		if err != nil {
+			continue
+		}
+		p := point{w: w, hf: tf.EvalFactored(s), evaluated: true}
+		xmax := 0.0
+		for i, l := range sys.L {
+			t := complex(l, 0) * x[i]
+			p.hd += t
+			p.scale += cmplx.Abs(t)
+			xmax = math.Max(xmax, cmplx.Abs(x[i]))
+		}
+		if zero {
+			// H ≡ 0 was decided by a rank test: the direct solve must be
+			// rounding of the whole solution.
+			p.scale = math.Max(p.scale, normInf(sys.L)*xmax*1e3)
+		}
+		pts[k] = p
+		peak = math.Max(peak, cmplx.Abs(p.hd))
+	}
+	for _, p := range pts {
+		if !p.evaluated {
+			continue
+		}
+		if d := cmplx.Abs(p.hf - p.hd); !(d <= verifyTol*cmplx.Abs(p.hd)+1e-10*p.scale+verifyFloor*peak) {
+			return fmt.Errorf("%w: at %g rad/s the factored form gives %.6g, a direct solve %.6g", ErrIllConditioned, p.w, p.hf, p.hd)
+		}
+	}
+	return nil
+}
+
+// verifyFloor: below verifyFloor times the largest |H| over the check
+// points, a direct solve deep in a stop band carries the solver's own
+// rounding (ε times the magnitudes it eliminates), so the comparison is
+// absolute there.
+const verifyFloor = 1e-12
 
 // finite reports whether v is neither NaN nor infinite.
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
@@ -358,8 +456,45 @@ func (s *scaledSystem) evalComplex(sv complex128) (complex128, bool) {
 	return h, true
 }
 
-// extract runs the whole computation in scaled units.
-func (s *scaledSystem) extract() (*TransferFunction, error) {
+// evalDC returns H(0) = L̂Ĝ⁻¹B̂ by LU with two steps of iterative
+// refinement (the residual in float64), so that a DC gain that is exactly
+// representable (a resistive divider of equal parts, an unloaded ladder:
+// 1) comes out exactly. ok=false when Ĝ is exactly singular.
+func (s *scaledSystem) evalDC() (float64, bool) {
+	var f complexLU
+	if f.factor(s.g, s.c, 0) {
+		return 0, false
+	}
+	x := make([]complex128, s.n)
+	r := make([]complex128, s.n)
+	buf := make([]complex128, s.n)
+	for i, v := range s.b {
+		x[i] = complex(v, 0)
+	}
+	f.solve(x, buf)
+	for it := 0; it < 2; it++ {
+		for i := 0; i < s.n; i++ {
+			v := s.b[i]
+			for j := 0; j < s.n; j++ {
+				v -= s.g.At(i, j) * real(x[j])
+			}
+			r[i] = complex(v, 0)
+		}
+		f.solve(r, buf)
+		for i := range x {
+			x[i] += r[i]
+		}
+	}
+	h := 0.0
+	for i, l := range s.l {
+		h += l * real(x[i])
+	}
+	return h, true
+}
+
+// extract runs the whole computation in scaled units; polish says whether
+// the roots get Newton steps on the determinant (O(n⁴), see polishRoots).
+func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 	// H at a well-conditioned shift (used for the gain).
 	sigma, hSig, hScale := 0.0, 0.0, 0.0
 	found := false
@@ -398,7 +533,11 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 		}
 		return nil, fmt.Errorf("transfer function poles: %w", err)
 	}
-	polishRoots(s.g, s.c, poles)
+	if polish {
+		polishRoots(s.g, s.c, poles)
+	} else {
+		mergeClusters(poles)
+	}
 	zeros, err := finiteEigenvalues(s.gb, s.cb, shiftFactors[:])
 	if errors.Is(err, errSingularPencil) {
 		// The bordered pencil is singular while G + sC is not: its
@@ -409,7 +548,11 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 	if err != nil {
 		return nil, fmt.Errorf("transfer function zeros: %w", err)
 	}
-	polishRoots(s.gb, s.cb, zeros)
+	if polish {
+		polishRoots(s.gb, s.cb, zeros)
+	} else {
+		mergeClusters(zeros)
+	}
 
 	snapZero(poles)
 	snapZero(zeros)
@@ -422,14 +565,35 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 	if !ok {
 		hs, sg = complex(hSig, 0), complex(sigma, 0)
 	}
-	k := hs
-	for _, p := range poles {
-		k *= sg - p
+	k := newWideProduct(hs)
+	for i := 0; i < max(len(poles), len(zeros)); i++ {
+		if i < len(poles) {
+			k.mul(sg - poles[i])
+		}
+		if i < len(zeros) {
+			k.div(sg - zeros[i])
+		}
 	}
-	for _, z := range zeros {
-		k /= sg - z
+	// Present the factored form in the scale w at which the gain is ±1
+	// (w = ωc·|K̂|^(1/(n−m))), so that no gain overflows however many
+	// decades the roots span; Gain in rad/s units may not fit.
+	rel := len(poles) - len(zeros)
+	w, kw := s.wc, real(k.m)
+	if rel != 0 && kw != 0 {
+		lg := math.Log(math.Abs(kw)) + float64(k.e)*math.Ln2
+		w = s.wc * math.Exp(lg/float64(rel))
+		kw = math.Copysign(1, kw)
+	} else {
+		kw = math.Ldexp(kw, k.e)
 	}
-	gain := real(k) * math.Pow(s.wc, float64(len(poles)-len(zeros)))
+	gp := newWideProduct(complex(kw, 0))
+	for i := 0; i < rel; i++ {
+		gp.mul(complex(w, 0))
+	}
+	for i := 0; i > rel; i-- {
+		gp.div(complex(w, 0))
+	}
+	gain := gp.value()
 
 	scaleRoots(poles, s.wc)
 	scaleRoots(zeros, s.wc)
@@ -437,13 +601,43 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 	sortRoots(poles)
 	sortRoots(zeros)
 	sortRoots(cancelled)
-	tf := newTransferFunction(gain, zeros, poles, cancelled)
-	tf.ScaledGain, tf.ScaleRad = real(k), s.wc
-	if h0, ok := s.evalComplex(0); ok && !hasRootAtZero(poles, zeros) {
-		v := real(h0)
-		tf.DirectDC = &v
+	tf := newTransferFunction(real(gain), zeros, poles, cancelled)
+	tf.ScaledGain, tf.ScaleRad = kw, w
+	if h0, ok := s.evalDC(); ok && !hasRootAtZero(poles, zeros) {
+		tf.DirectDC = &h0
 	}
 	return tf, nil
+}
+
+// wideProduct is a complex product m·2^e kept with |m| near 1, so that
+// products of hundreds of factors neither overflow nor underflow.
+type wideProduct struct {
+	m complex128
+	e int
+}
+
+func newWideProduct(v complex128) wideProduct {
+	p := wideProduct{m: v}
+	p.norm()
+	return p
+}
+
+func (p *wideProduct) norm() {
+	a := math.Max(math.Abs(real(p.m)), math.Abs(imag(p.m)))
+	if a == 0 || math.IsInf(a, 0) || math.IsNaN(a) {
+		return
+	}
+	_, e := math.Frexp(a)
+	p.m = complex(math.Ldexp(real(p.m), -e), math.Ldexp(imag(p.m), -e))
+	p.e += e
+}
+
+func (p *wideProduct) mul(v complex128) { p.m *= v; p.norm() }
+func (p *wideProduct) div(v complex128) { p.m /= v; p.norm() }
+
+// value returns m·2^e (±Inf or 0 when it does not fit a float64).
+func (p wideProduct) value() complex128 {
+	return complex(math.Ldexp(real(p.m), p.e), math.Ldexp(imag(p.m), p.e))
 }
 
 // hasRootAtZero reports whether a root of any list is exactly 0.
