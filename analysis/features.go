@@ -35,6 +35,35 @@ type Corner struct {
 	FreqHz   float64 // corner frequency |Root|/(2π), Hz; 0 for a root at s = 0
 }
 
+// MultipleRoot is a distinct root with its multiplicity.
+type MultipleRoot struct {
+	Root         complex128 // rad/s
+	Multiplicity int        // ≥ 1
+}
+
+// DistinctPoles returns each distinct pole once with its multiplicity,
+// in the order of Poles (Extract merges an m-fold pole split by rounding
+// into m equal values, so equality is exact).
+func (h *TransferFunction) DistinctPoles() []MultipleRoot { return distinctRoots(h.Poles) }
+
+// DistinctZeros is DistinctPoles for the zeros.
+func (h *TransferFunction) DistinctZeros() []MultipleRoot { return distinctRoots(h.Zeros) }
+
+func distinctRoots(roots []complex128) []MultipleRoot {
+	var out []MultipleRoot
+next:
+	for _, r := range roots {
+		for i := range out {
+			if out[i].Root == r {
+				out[i].Multiplicity++
+				continue next
+			}
+		}
+		out = append(out, MultipleRoot{Root: r, Multiplicity: 1})
+	}
+	return out
+}
+
 // PolePairs returns the complex pole pairs in the order of Poles.
 func (h *TransferFunction) PolePairs() []RootPair { return rootPairs(h.Poles) }
 

@@ -554,6 +554,8 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 		mergeClusters(zeros)
 	}
 
+	snapOrigin(poles, originMultiplicity(s.g, s.c))
+	snapOrigin(zeros, originMultiplicity(s.gb, s.cb))
 	snapZero(poles)
 	snapZero(zeros)
 	poles, zeros, cancelled := cancelPairs(poles, zeros)
@@ -650,6 +652,50 @@ func hasRootAtZero(lists ...[]complex128) bool {
 		}
 	}
 	return false
+}
+
+// originGuard (scaled units): the rank test's m roots at s = 0 are set
+// to 0 only when the eigen-solver also put them below this, so a rank
+// decision alone never moves a genuine root.
+const originGuard = 1e-3
+
+// originMultiplicity returns the multiplicity of s = 0 as a root of
+// det(a + s·e), by a rank test on the pencil at s = 0: the roots at s = 0
+// of a + s·e are the infinite eigenvalues of e + t·a (t = 1/s), which
+// deflateInfinite removes exactly by the staircase on null spaces of a.
+// It returns 0 when the test fails (a singular pencil).
+func originMultiplicity(a, e *mat.Dense) int {
+	n, _ := a.Dims()
+	p, err := deflateInfinite(e, a)
+	if err != nil {
+		return 0
+	}
+	if p.a == nil {
+		return n
+	}
+	r, _ := p.a.Dims()
+	return n - r
+}
+
+// snapOrigin sets the m smallest roots exactly to 0 when all of them lie
+// below originGuard (an m-fold root at s = 0 split by rounding, as the
+// rank test says: two series capacitors, the current of a coupling
+// capacitor, H ∝ s²).
+func snapOrigin(roots []complex128, m int) {
+	if m <= 0 || m > len(roots) {
+		return
+	}
+	idx := make([]int, len(roots))
+	for i := range idx {
+		idx[i] = i
+	}
+	sort.SliceStable(idx, func(a, b int) bool { return cmplx.Abs(roots[idx[a]]) < cmplx.Abs(roots[idx[b]]) })
+	if cmplx.Abs(roots[idx[m-1]]) > originGuard {
+		return
+	}
+	for _, i := range idx[:m] {
+		roots[i] = 0
+	}
 }
 
 // snapZero sets to exactly 0 the roots that are s = 0 up to rounding
