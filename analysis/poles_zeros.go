@@ -69,6 +69,12 @@ type reducedPencil struct {
 // deflateInfinite removes the infinite eigenvalues of the regular pencil
 // (a, e) (step 1 above). It returns errSingularPencil if det ≡ 0 is found.
 func deflateInfinite(a, e *mat.Dense) (reducedPencil, error) {
+	return deflateInfiniteTol(a, e, aRankTol)
+}
+
+// deflateInfiniteTol is deflateInfinite with the rank tolerance aTol of
+// A (relative to ‖A‖₁) given.
+func deflateInfiniteTol(a, e *mat.Dense, aTol float64) (reducedPencil, error) {
 	// Frobenius norm: within √n of ‖E‖₂, and free of an SVD.
 	eNorm := mat.Norm(e, 2)
 	aNorm := mat.Norm(a, 1)
@@ -103,7 +109,7 @@ func deflateInfinite(a, e *mat.Dense) (reducedPencil, error) {
 			var rr mat.Dense
 			qr.RTo(&rr)
 			for i := 0; i < k; i++ {
-				if math.Abs(rr.At(i, i)) <= aRankTol*aNorm {
+				if math.Abs(rr.At(i, i)) <= aTol*aNorm {
 					return reducedPencil{}, errSingularPencil
 				}
 			}
@@ -212,7 +218,13 @@ func (p reducedPencil) eigenvaluesShifted(sigma float64) ([]complex128, error) {
 // given real shifts in turn (scaled units). It returns errSingularPencil
 // when det ≡ 0.
 func finiteEigenvalues(a, e *mat.Dense, shifts []float64) ([]complex128, error) {
-	p, err := deflateInfinite(a, e)
+	return finiteEigenvaluesTol(a, e, shifts, aRankTol)
+}
+
+// finiteEigenvaluesTol is finiteEigenvalues with the rank tolerance of
+// deflateInfiniteTol.
+func finiteEigenvaluesTol(a, e *mat.Dense, shifts []float64, aTol float64) ([]complex128, error) {
+	p, err := deflateInfiniteTol(a, e, aTol)
 	if err != nil {
 		return nil, err
 	}

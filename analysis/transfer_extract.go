@@ -31,6 +31,12 @@ const (
 	// verifyTol: the extracted H(jω) must equal a direct solve within
 	// verifyTol relative at every check frequency, or Extract fails.
 	verifyTol = 1e-7
+	// roundingGainTol: |H(σ)| below roundingGainTol·‖L‖∞‖x‖∞ after
+	// refinement is rounding of the whole solution.
+	roundingGainTol = 1e-14
+	// tinyRankTol: the rank tolerance of the zero pencil when H is tiny
+	// but not rounding (see extract), a few ulps of ‖A‖.
+	tinyRankTol = 1e-15
 )
 
 // shiftFactors are the multiples of the characteristic frequency tried as
@@ -60,7 +66,7 @@ var shiftFactors = [...]float64{1, 1.7182818, 0.5772157, 3.1415927, 0.3183099, 7
 // with the positive imaginary part first; roots within 1e-10 of the
 // characteristic frequency of zero are exactly 0, and so is a cluster of m
 // roots around 0 that rounding split from an m-fold root at s = 0 (see
-// snapZero). If H ≡ 0, Num is [0],
+// snapOrigin). If H ≡ 0, Num is [0],
 // Den is [1] and there are no poles or zeros. Zeros at infinity are not
 // listed (len(Zeros) may be below or, for improper H, above len(Poles)).
 func Extract(sys *mna.System) (*TransferFunction, error) {
@@ -98,13 +104,16 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 	// decides whether polishing is needed after all.
 	var verr error
 	for _, polish := range []bool{n <= polishMaxOrder, true} {
-		t, err := newScaledSystem(sys, wc).extract(polish)
+		first := newScaledSystem(sys, wc)
+		t, err := first.extract(polish)
 		if err != nil {
 			return nil, err
 		}
-		// Second pass when the poles sit far from the first guess of the
-		// characteristic frequency: centre the shift on them for accuracy.
-		if c := rootCentre(t.Poles, t.Cancelled); c > 0 && (c > 100*wc || c < wc/100) {
+		// Second pass when the roots sit far from the first guess of the
+		// characteristic frequency (judged before any root is set to 0:
+		// a genuine root 10⁻¹² of the guess looks like s = 0 there):
+		// centre the shift on them for accuracy.
+		if c := first.rawCentre; c > 0 && (c > 100*wc || c < wc/100) {
 			if t2, err2 := newScaledSystem(sys, c).extract(polish); err2 == nil {
 				t = t2
 			}
@@ -293,6 +302,9 @@ type scaledSystem struct {
 	b, l   []float64
 	n      int
 	gb, cb *mat.Dense // the bordered zero pencil
+	// rawCentre (rad/s) is rootCentre of the poles before any
+	// is set to 0: where the roots are, for a second pass.
+	rawCentre float64
 }
 
 // newScaledSystem balances sys for the characteristic frequency wc (rad/s).
@@ -386,25 +398,34 @@ func pow2Inv(m float64) float64 {
 // (a balanced bridge): no evidence of a non-zero H. The norm of the whole
 // solution is never the scale: the far end of a long ladder is 10⁻⁸⁰ of
 // its first node and still exact.
-func (s *scaledSystem) evalAtShift(sigma float64) (h, scale float64, ok bool) {
+func (s *scaledSystem) evalAtShift(sigma float64) (h, scale, norm float64, ok bool) {
 	x := mat.NewDense(s.n, s.n, nil)
 	x.Scale(sigma, s.c)
 	x.Add(x, s.g)
 	var lu mat.LU
 	lu.Factorize(x)
 	if c := lu.Cond(); math.IsInf(c, 0) || math.IsNaN(c) || c > maxShiftCond {
-		return 0, 0, false
+		return 0, 0, 0, false
 	}
 	var v mat.VecDense
-	if err := lu.SolveVecTo(&v, false, mat.NewVecDense(s.n, append([]float64(nil), s.b...))); err != nil {
-		return 0, 0, false
+	bv := mat.NewVecDense(s.n, append([]float64(nil), s.b...))
+	if err := lu.SolveVecTo(&v, false, bv); err != nil {
+		return 0, 0, 0, false
+	}
+	// One step of iterative refinement: a value that is rounding of a
+	// cancellation shrinks by another factor ε, a genuine tiny one stays.
+	var r, d mat.VecDense
+	r.MulVec(x, &v)
+	r.SubVec(bv, &r)
+	if err := lu.SolveVecTo(&d, false, &r); err == nil {
+		v.AddVec(&v, &d)
 	}
 	for i := 0; i < s.n; i++ {
 		t := s.l[i] * v.AtVec(i)
 		h += t
 		scale += math.Abs(t)
 	}
-	return h, scale, true
+	return h, scale, normInf(s.l) * mat.Norm(&v, math.Inf(1)), true
 }
 
 // gainPointRadii and gainPointAngles span the candidate points ŝ = r·e^{jθ}
@@ -496,11 +517,11 @@ func (s *scaledSystem) evalDC() (float64, bool) {
 // the roots get Newton steps on the determinant (O(n⁴), see polishRoots).
 func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 	// H at a well-conditioned shift (used for the gain).
-	sigma, hSig, hScale := 0.0, 0.0, 0.0
+	sigma, hSig, hScale, hNorm := 0.0, 0.0, 0.0, 0.0
 	found := false
 	for _, f := range shiftFactors {
-		if h, sc, ok := s.evalAtShift(f); ok {
-			sigma, hSig, hScale, found = f, h, sc, true
+		if h, sc, nm, ok := s.evalAtShift(f); ok {
+			sigma, hSig, hScale, hNorm, found = f, h, sc, nm, true
 			break
 		}
 	}
@@ -514,7 +535,7 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 			if f == sigma {
 				continue
 			}
-			if h, sc, ok := s.evalAtShift(f); ok {
+			if h, sc, _, ok := s.evalAtShift(f); ok {
 				zero = sc == 0 || math.Abs(h) <= nullGainTol*sc
 				if !zero {
 					sigma, hSig = f, h
@@ -540,10 +561,16 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 	}
 	zeros, err := finiteEigenvalues(s.gb, s.cb, shiftFactors[:])
 	if errors.Is(err, errSingularPencil) {
-		// The bordered pencil is singular while G + sC is not: its
+		// The bordered pencil looks singular while G + sC is not: its
 		// determinant −det(G + sC)·H(s) vanishes identically, so H ≡ 0
-		// (an output at a virtual ground, a balanced bridge).
-		return &TransferFunction{Num: []float64{0}, Den: []float64{1}}, nil
+		// (an output at a virtual ground, a balanced bridge) — when H at
+		// the shift is rounding of the whole solution too. Otherwise H is
+		// tiny but real (a 1 TΩ / 0.1 Ω divider: the determinant is 10⁻¹³
+		// of the entries): decide the rank at rounding level instead.
+		if math.Abs(hSig) <= roundingGainTol*hNorm {
+			return &TransferFunction{Num: []float64{0}, Den: []float64{1}}, nil
+		}
+		zeros, err = finiteEigenvaluesTol(s.gb, s.cb, shiftFactors[:], tinyRankTol)
 	}
 	if err != nil {
 		return nil, fmt.Errorf("transfer function zeros: %w", err)
@@ -554,10 +581,11 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 		mergeClusters(zeros)
 	}
 
+	s.rawCentre = rootCentre(poles) * s.wc
 	snapOrigin(poles, originMultiplicity(s.g, s.c))
 	snapOrigin(zeros, originMultiplicity(s.gb, s.cb))
-	snapZero(poles)
-	snapZero(zeros)
+	snapAxis(poles)
+	snapAxis(zeros)
 	poles, zeros, cancelled := cancelPairs(poles, zeros)
 
 	// Gain K̂ = H(ŝ)·Π(ŝ−p̂)/Π(ŝ−ẑ) at the point farthest from every root
@@ -698,54 +726,17 @@ func snapOrigin(roots []complex128, m int) {
 	}
 }
 
-// snapZero sets to exactly 0 the roots that are s = 0 up to rounding
-// (scaled units), and the real part of complex roots within
-// zeroRootTol·|r| of the jω axis to 0 (a Q above 10⁹ is rounding of an
-// undamped pair, e.g. a notch).
-//
-// A root of multiplicity m at s = 0 (two series capacitors, a coupled
-// pair: H ∝ s²) does not come out as m tiny roots: a relative error δ in
-// the pencil splits it into m roots of size about δ^(1/m) around 0 (√ε ≈
-// 1.5e-8 for a double root), while their mean stays O(δ). So the m
-// smallest roots are set to 0 when the largest of them is below
-// originClusterTol(m) and the modulus of their mean is below zeroRootTol,
-// for the largest such m. For m = 1 this is the plain bound zeroRootTol.
-func snapZero(roots []complex128) {
-	idx := make([]int, len(roots))
-	for i := range idx {
-		idx[i] = i
-	}
-	sort.SliceStable(idx, func(a, b int) bool { return cmplx.Abs(roots[idx[a]]) < cmplx.Abs(roots[idx[b]]) })
-	for m := len(roots); m >= 1; m-- {
-		if cmplx.Abs(roots[idx[m-1]]) > originClusterTol(m) {
-			continue
-		}
-		var sum complex128
-		for _, i := range idx[:m] {
-			sum += roots[i]
-		}
-		if cmplx.Abs(sum)/float64(m) <= zeroRootTol {
-			for _, i := range idx[:m] {
-				roots[i] = 0
-			}
-			break
-		}
-	}
+// snapAxis sets to 0 the real part of complex roots within
+// zeroRootTol·|r| of the jω axis (a Q above 10⁹ is rounding of an
+// undamped pair, e.g. a notch). Roots at s = 0 are decided by the rank
+// test alone (snapOrigin): a tiny genuine root (a 2 TΩ resistor with
+// 1 pF far from the characteristic frequency) is never set to 0.
+func snapAxis(roots []complex128) {
 	for i, r := range roots {
 		if imag(r) != 0 && math.Abs(real(r)) <= zeroRootTol*cmplx.Abs(r) {
 			roots[i] = complex(0, imag(r))
 		}
 	}
-}
-
-// originClusterTol is the largest modulus (scaled units) of a member of
-// an m-fold root at s = 0 split by rounding: (1e4·ε)^(1/m), allowing a
-// pencil condition of 1e4 after balancing, and never below zeroRootTol.
-// A genuine cluster of m distinct roots this close to 0 with a mean below
-// zeroRootTol (for m = 2 a pair ±a or ±ja below 1.5e-6 of the
-// characteristic frequency) cannot be told from it in float64.
-func originClusterTol(m int) float64 {
-	return math.Max(zeroRootTol, math.Pow(1e4*0x1p-52, 1/float64(m))) // ε = 2⁻⁵²
 }
 
 // scaleRoots multiplies every root by w.
