@@ -238,8 +238,21 @@ func finiteEigenvaluesTol(a, e *mat.Dense, shifts []float64, aTol float64) ([]co
 	return nil, errSingularPencil
 }
 
-// eigenvalues returns the eigenvalues of the square matrix m.
+// errNonFinite says a matrix handed to the eigenvalue routine holds NaN
+// or ±Inf; it is refused before the call, which might not return on it.
+var errNonFinite = errors.New("non-finite matrix entry before an eigenvalue computation")
+
+// eigenvalues returns the eigenvalues of the square matrix m; it refuses
+// non-finite entries (errNonFinite) before calling the iteration.
 func eigenvalues(m *mat.Dense) ([]complex128, error) {
+	raw := m.RawMatrix()
+	for i := 0; i < raw.Rows; i++ {
+		for _, v := range raw.Data[i*raw.Stride : i*raw.Stride+raw.Cols] {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, errNonFinite
+			}
+		}
+	}
 	var eig mat.Eigen
 	if ok := eig.Factorize(m, mat.EigenNone); !ok {
 		return nil, errors.New("eigenvalue iteration did not converge")
