@@ -26,6 +26,13 @@ The poles come from the closed form (from memory)
 checked here against scipy's eigenvalues of the nodal matrix -(1/RC)·T
 (T tridiagonal 2,-1 with the last diagonal 1: the open end), to 1e-9
 relative, so a slip in either fails the script.
+
+Step responses at the far end (for STEP_SECTIONS) come from the residues
+of H(s)/s at the closed-form poles, in 120-digit arithmetic:
+
+    y(t) = 1 + Σ_j e^(p_j·t) / (p_j · V_0'(p_j)),
+
+V_0'(p) by mpmath.diff of the same walk; the script checks y(0) = 0.
 """
 
 import json
@@ -41,6 +48,7 @@ import scipy.linalg
 HERE = os.path.dirname(os.path.abspath(__file__))
 R, C = 1e3, 10e-9
 SECTIONS = [10, 22, 30, 40, 64, 100, 200]
+STEP_SECTIONS = [22, 64, 100]
 mpmath.mp.dps = 60
 
 
@@ -56,22 +64,33 @@ def scipy_poles(k):
     return sorted((-w / (R * C)).tolist(), key=abs)
 
 
-def responses(k, f_hz):
-    s = mpmath.mpc(0, 2 * mpmath.pi * mpmath.mpf(f_hz))
+def v0(k, s):
+    """V_0 for V_K = 1: walk back from the open far end over k sections."""
     r, c = mpmath.mpf(R), mpmath.mpf(C)
-    v = mpmath.mpc(1)
+    v = mpmath.mpf(1)
     i = s * c * v
     for _ in range(k):
         v = v + r * i
         i = i + s * c * v
-    # v is now V_0 (the last update of i is the source current, unused).
-    # V_1 is found by a second walk that stops one section early.
-    v_1 = mpmath.mpc(1)
-    i_1 = s * c * v_1
-    for _ in range(k - 1):
-        v_1 = v_1 + r * i_1
-        i_1 = i_1 + s * c * v_1
-    return abs(1 / v), abs(v_1 / v)
+    return v
+
+
+def responses(k, f_hz):
+    """|H| at the far end (1/V_0) and at the first node (V_1/V_0): walking
+    k-1 sections from the open end gives V_1."""
+    s = mpmath.mpc(0, 2 * mpmath.pi * mpmath.mpf(f_hz))
+    v = v0(k, s)
+    return abs(1 / v), abs(v0(k - 1, s) / v)
+
+
+def step_far(k, times):
+    with mpmath.workdps(120):
+        r, c = mpmath.mpf(R), mpmath.mpf(C)
+        poles = [-(4 / (r * c)) * mpmath.sin((2 * j - 1) * mpmath.pi / (2 * (2 * k + 1))) ** 2 for j in range(1, k + 1)]
+        res = [1 / (p * mpmath.diff(lambda x: v0(k, x), p)) for p in poles]
+        y0 = 1 + sum(res)
+        assert abs(y0) < mpmath.mpf(10) ** -30, (k, y0)
+        return [float(1 + sum(rj * mpmath.exp(p * mpmath.mpf(t)) for rj, p in zip(res, poles))) for t in times]
 
 
 def main():
@@ -95,6 +114,11 @@ def main():
             first.append(float(b))
         out["ladders"].append({"sections": k, "freq_hz": freqs, "mag_far": far,
                                "mag_first": first, "poles_rad_s": cf})
+    out["steps"] = []
+    for k in STEP_SECTIONS:
+        slow = abs(closed_form_poles(k)[0])
+        times = [7 / slow * i / 9 for i in range(10)]
+        out["steps"].append({"sections": k, "t_s": times, "y_far": step_far(k, times)})
     with open(os.path.join(HERE, "ladders.json"), "w") as fh:
         json.dump(out, fh, indent=1)
         fh.write("\n")
