@@ -165,3 +165,17 @@ func TestLadderStepResponse(t *testing.T) {
 		}
 	}
 }
+
+// BenchmarkExtractLadder200 is the speed target for high orders: a
+// 200-section ladder (401 unknowns) read at its far end.
+func BenchmarkExtractLadder200(b *testing.B) {
+	sys, err := mna.Build(rcLadder(200, 1e3, 10e-9), mna.Input{}, mna.Output{Kind: mna.NodeVoltage, Node: "n200"})
+	if err != nil {
+		b.Fatal(err)
+	}
+	for b.Loop() {
+		if _, err := Extract(sys); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
