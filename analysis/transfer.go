@@ -3,6 +3,8 @@
 // tolerance spreads and requirement verdicts. It never prints.
 package analysis
 
+import "math"
+
 // TransferFunction is a rational transfer function
 //
 //	H(s) = N(s)/D(s) = Gain · Π(s − Zeros[i]) / Π(s − Poles[i])
@@ -77,6 +79,24 @@ func (h *TransferFunction) ScaledPoly() (num, den []float64, w float64) {
 	scaleRoots(sp, 1/w)
 	num, den = normaliseMonic(k, rootsPoly(sz), rootsPoly(sp))
 	return num, den, w
+}
+
+// GainDecimal returns Gain as mantissa·10^exp10 with 1 ≤ |mantissa| < 10,
+// also when Gain itself does not fit a float64 (from ScaledGain and
+// ScaleRad: Gain = ScaledGain·ScaleRad^(len(Poles)−len(Zeros))). A zero
+// gain gives (0, 0).
+func (h *TransferFunction) GainDecimal() (mantissa float64, exp10 int) {
+	k, w := h.scaled()
+	if k == 0 {
+		return 0, 0
+	}
+	lg := math.Log10(math.Abs(k)) + float64(len(h.Poles)-len(h.Zeros))*math.Log10(w)
+	e := math.Floor(lg)
+	m := math.Copysign(math.Pow(10, lg-e), k)
+	if math.Abs(m) >= 10 { // rounding at the boundary
+		m, e = m/10, e+1
+	}
+	return m, int(e)
 }
 
 // Eval returns H(s) from the coefficients (Horner's rule).

@@ -299,19 +299,28 @@ func pairsJSON(ps []analysis.RootPair) []pairJSON {
 	return out
 }
 
+// coefsJSON returns c for JSON, or nil when the coefficients do not fit
+// a float64 (see TransferFunction.Fits and the scaled ones).
+func coefsJSON(c []float64, fits bool) []float64 {
+	if !fits {
+		return nil
+	}
+	return c
+}
+
 // json is the JSON document of `nodal tf`.
 func (rep *tfReport) json() any {
 	h := rep.r.tf
 	doc := map[string]any{
 		"what":       rep.r.what,
 		"unit":       rep.r.unit,
-		"num":        h.Num,
-		"den":        h.Den,
+		"num":        coefsJSON(h.Num, h.Fits()),
+		"den":        coefsJSON(h.Den, h.Fits()),
 		"poles":      rootsJSON(h.Poles),
 		"zeros":      rootsJSON(h.Zeros),
 		"pairs":      pairsJSON(rep.pairs),
 		"zero_pairs": pairsJSON(rep.zeroPairs),
-		"gain":       h.Gain,
+		"gain":       finiteOrNil(h.Gain),
 		"factored":   factoredText(h),
 		"ode":        odeText(rep.ode, rep.r.yName, rep.r.uName),
 		"hf_asymptote": map[string]any{
@@ -325,6 +334,12 @@ func (rep *tfReport) json() any {
 		doc["gain_dc"] = 0.0
 	} else {
 		doc["gain_dc"] = nil
+	}
+	if !h.Fits() {
+		// The coefficients in s do not fit a float64 at this order:
+		// give them in ŝ = s/scale_rad_s.
+		num, den, w := h.ScaledPoly()
+		doc["num_scaled"], doc["den_scaled"], doc["scale_rad_s"] = num, den, w
 	}
 	if len(h.Cancelled) > 0 {
 		doc["cancelled"] = rootsJSON(h.Cancelled)
@@ -344,7 +359,13 @@ func (rep *tfReport) json() any {
 func (rep *tfReport) table(w io.Writer) error {
 	h := rep.r.tf
 	fmt.Fprintf(w, "%s  [%s]\n\n", rep.r.what, rep.r.unit)
-	fmt.Fprintf(w, "expanded:   %s\n", rationalText(h.Num, h.Den))
+	if h.Fits() {
+		fmt.Fprintf(w, "expanded:   %s\n", rationalText(h.Num, h.Den))
+	} else {
+		num, den, sc := h.ScaledPoly()
+		fmt.Fprintf(w, "expanded:   %s  (ŝ = s/%s: the coefficients in s do not fit a float64)\n",
+			strings.ReplaceAll(rationalText(num, den), "s", "ŝ"), engNumber(sc))
+	}
 	fmt.Fprintf(w, "factored:   %s\n", factoredText(h))
 	fmt.Fprintf(w, "zero-pole:  %s\n", zpkText(h))
 	fmt.Fprintln(w, "            (s and every frequency in rad/s)")
