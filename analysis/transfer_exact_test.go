@@ -1,6 +1,7 @@
 package analysis
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"os"
@@ -37,6 +38,21 @@ func TestTinyGainsAndHighQ(t *testing.T) {
 		}
 		if want := -(1/rt + 1/rb) / c; len(tf.Poles) != 1 || relErr(tf.Poles[0], complex(want, 0)) > 1e-9 {
 			t.Errorf("poles %v, want [%g]", tf.Poles, want)
+		}
+	})
+	t.Run("1 PΩ/0.1 Ω divider: exact or refused, never zero", func(t *testing.T) {
+		rt, rb, c := 1e15, 0.1, 1e-9
+		sys := buildOut(t, testcircuit.New(testcircuit.V("Vin", "in", "gnd", 1), testcircuit.R("Rt", "in", "out", rt),
+			testcircuit.R("Rb", "out", "gnd", rb), testcircuit.C("C1", "out", "gnd", c)), mna.Output{Kind: mna.NodeVoltage, Node: "out"})
+		tf, err := Extract(sys)
+		if err != nil {
+			if !errors.Is(err, ErrIllConditioned) {
+				t.Errorf("error %v, want ErrIllConditioned", err)
+			}
+			return
+		}
+		if dc, want := tf.DCGain(), rb/(rt+rb); dc.Power != 0 || math.Abs(dc.Gain-want) > 1e-9*want {
+			t.Errorf("DC gain %v, want %g", dc, want)
 		}
 	})
 	t.Run("current through 2 TΩ into 1 pF", func(t *testing.T) {

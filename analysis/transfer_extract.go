@@ -398,19 +398,27 @@ func pow2Inv(m float64) float64 {
 // (a balanced bridge): no evidence of a non-zero H. The norm of the whole
 // solution is never the scale: the far end of a long ladder is 10⁻⁸⁰ of
 // its first node and still exact.
-func (s *scaledSystem) evalAtShift(sigma float64) (h, scale, norm float64, ok bool) {
+//
+// stable reports whether the refinement step left H unchanged to 1e-3
+// relative (and non-zero): a genuine tiny H is computed stably, while a
+// value that is rounding of a cancellation moves by its own size.
+func (s *scaledSystem) evalAtShift(sigma float64) (h, scale, norm float64, stable, ok bool) {
 	x := mat.NewDense(s.n, s.n, nil)
 	x.Scale(sigma, s.c)
 	x.Add(x, s.g)
 	var lu mat.LU
 	lu.Factorize(x)
 	if c := lu.Cond(); math.IsInf(c, 0) || math.IsNaN(c) || c > maxShiftCond {
-		return 0, 0, 0, false
+		return 0, 0, 0, false, false
 	}
 	var v mat.VecDense
 	bv := mat.NewVecDense(s.n, append([]float64(nil), s.b...))
 	if err := lu.SolveVecTo(&v, false, bv); err != nil {
-		return 0, 0, 0, false
+		return 0, 0, 0, false, false
+	}
+	h0 := 0.0
+	for i := 0; i < s.n; i++ {
+		h0 += s.l[i] * v.AtVec(i)
 	}
 	// One step of iterative refinement: a value that is rounding of a
 	// cancellation shrinks by another factor ε, a genuine tiny one stays.
@@ -425,7 +433,8 @@ func (s *scaledSystem) evalAtShift(sigma float64) (h, scale, norm float64, ok bo
 		h += t
 		scale += math.Abs(t)
 	}
-	return h, scale, normInf(s.l) * mat.Norm(&v, math.Inf(1)), true
+	stable = h != 0 && h0 != 0 && math.Abs(h-h0) <= 1e-3*math.Abs(h)
+	return h, scale, normInf(s.l) * mat.Norm(&v, math.Inf(1)), stable, true
 }
 
 // gainPointRadii and gainPointAngles span the candidate points ŝ = r·e^{jθ}
@@ -517,11 +526,11 @@ func (s *scaledSystem) evalDC() (float64, bool) {
 // the roots get Newton steps on the determinant (O(n⁴), see polishRoots).
 func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 	// H at a well-conditioned shift (used for the gain).
-	sigma, hSig, hScale, hNorm := 0.0, 0.0, 0.0, 0.0
+	sigma, hSig, hScale, hNorm, hStable := 0.0, 0.0, 0.0, 0.0, false
 	found := false
 	for _, f := range shiftFactors {
-		if h, sc, nm, ok := s.evalAtShift(f); ok {
-			sigma, hSig, hScale, hNorm, found = f, h, sc, nm, true
+		if h, sc, nm, st, ok := s.evalAtShift(f); ok {
+			sigma, hSig, hScale, hNorm, hStable, found = f, h, sc, nm, st, true
 			break
 		}
 	}
@@ -535,7 +544,7 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 			if f == sigma {
 				continue
 			}
-			if h, sc, _, ok := s.evalAtShift(f); ok {
+			if h, sc, _, _, ok := s.evalAtShift(f); ok {
 				zero = sc == 0 || math.Abs(h) <= nullGainTol*sc
 				if !zero {
 					sigma, hSig = f, h
@@ -564,13 +573,18 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 		// The bordered pencil looks singular while G + sC is not: its
 		// determinant −det(G + sC)·H(s) vanishes identically, so H ≡ 0
 		// (an output at a virtual ground, a balanced bridge) — when H at
-		// the shift is rounding of the whole solution too. Otherwise H is
-		// tiny but real (a 1 TΩ / 0.1 Ω divider: the determinant is 10⁻¹³
-		// of the entries): decide the rank at rounding level instead.
-		if math.Abs(hSig) <= roundingGainTol*hNorm {
+		// the shift is rounding of the whole solution too and moves under
+		// refinement. Otherwise H is tiny but real (a 1 TΩ / 0.1 Ω
+		// divider: the determinant is 10⁻¹³ of the entries): decide the
+		// rank at rounding level instead.
+		if math.Abs(hSig) <= roundingGainTol*hNorm && !hStable {
 			return &TransferFunction{Num: []float64{0}, Den: []float64{1}}, nil
 		}
 		zeros, err = finiteEigenvaluesTol(s.gb, s.cb, shiftFactors[:], tinyRankTol)
+		if errors.Is(err, errSingularPencil) {
+			return nil, fmt.Errorf("%w: the response (|H| = %.3g at s = %.4g rad/s) is too small beside the circuit's other quantities (%.3g) to factor its zeros in float64",
+				ErrIllConditioned, math.Abs(hSig), sigma*s.wc, hNorm)
+		}
 	}
 	if err != nil {
 		return nil, fmt.Errorf("transfer function zeros: %w", err)
