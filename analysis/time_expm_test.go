@@ -4,6 +4,8 @@ import (
 	"math"
 	"math/cmplx"
 	"testing"
+
+	"nodal/mna"
 )
 
 // TestCascadeMatchesClosedForms: the matrix-exponential samples of the
@@ -65,6 +67,54 @@ func TestCascadeMatchesClosedForms(t *testing.T) {
 				t.Errorf("%s: y(%g) = %.12g, want %.12g", tc.name, float64(i)*h, y, want)
 				break
 			}
+		}
+	}
+}
+
+// TestExpmStepFigures: step figures from the matrix exponential against
+// closed forms (common practice for a second-order pair: overshoot
+// 100·e^(−πζ/√(1−ζ²)) %, peak time π/ωd) and against the partial-fraction
+// figures of a well-conditioned 22-section ladder.
+func TestExpmStepFigures(t *testing.T) {
+	w0, zeta := 2*math.Pi*1e3, 0.3
+	wd := w0 * math.Sqrt(1-zeta*zeta)
+	pair := complex(-zeta*w0, wd)
+	tf := newTransferFunction(w0*w0, nil, []complex128{pair, cmplx.Conj(pair)}, nil)
+	c, err := newCascade(tf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, ok := expmStepMetrics(c, 1, 10/(zeta*w0))
+	if !ok || m.OvershootPct == nil || m.PeakTimeS == nil {
+		t.Fatalf("metrics %+v", m)
+	}
+	if want := 100 * math.Exp(-math.Pi*zeta/math.Sqrt(1-zeta*zeta)); math.Abs(*m.OvershootPct-want) > 1e-7*want {
+		t.Errorf("overshoot %.10g %%, want %.10g %%", *m.OvershootPct, want)
+	}
+	if want := math.Pi / wd; math.Abs(*m.PeakTimeS-want) > 1e-6*want {
+		t.Errorf("peak time %.10g s, want %.10g s", *m.PeakTimeS, want)
+	}
+
+	sys := buildOut(t, rcLadder(22, 1e3, 10e-9), mna.Output{Kind: mna.NodeVoltage, Node: "n22"})
+	ltf := mustExtract(t, sys)
+	st, err := Step(ltf, TimeOptions{})
+	if err != nil || st.IllConditioned {
+		t.Fatalf("22-section step: %v (ill-conditioned %v)", err, st != nil && st.IllConditioned)
+	}
+	lc, err := newCascade(ltf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	em, ok := expmStepMetrics(lc, 1, st.SpanS)
+	if !ok {
+		t.Fatal("no figures")
+	}
+	for _, f := range []struct {
+		name     string
+		got, ref *float64
+	}{{"rise", em.RiseTimeS, st.Metrics.RiseTimeS}, {"settling", em.SettlingTimeS, st.Metrics.SettlingTimeS}} {
+		if f.got == nil || f.ref == nil || math.Abs(*f.got-*f.ref) > 1e-8**f.ref {
+			t.Errorf("%s: matrix exponential %v, partial fractions %v", f.name, f.got, f.ref)
 		}
 	}
 }

@@ -237,8 +237,10 @@ func crossCheck(r *TimeResponse, tf *TransferFunction, step bool, n int, only bo
 			}
 			r.Points = append(r.Points, Point{TS: r.SpanS * float64(i) / float64(n-1), Y: y})
 		}
-		r.Metrics.Note = "figures withheld: at this order the gain does not fit a float64, so there is no partial-fraction form; the samples are from the matrix exponential"
-		r.ClosedForm = "(not shown: " + r.Metrics.Note + ")"
+		why := "at this order the gain does not fit a float64, so there is no partial-fraction form"
+		r.Metrics.Note = "figures withheld: " + why + "; the samples are from the matrix exponential"
+		r.ClosedForm = "(not shown: " + why + ")"
+		expmFigures(r, c, step, why)
 		r.Modes = nil
 		r.IllConditioned = true
 		return true
@@ -255,15 +257,35 @@ func crossCheck(r *TimeResponse, tf *TransferFunction, step bool, n int, only bo
 		r.Points[i].Y = ys[i]
 	}
 	final := r.Metrics.Final
-	r.Metrics = Metrics{Note: fmt.Sprintf("figures withheld: the partial-fraction form is ill-conditioned for these poles (off the matrix exponential by %.2g of the largest value); the samples are from the matrix exponential", diff/math.Max(scale, math.SmallestNonzeroFloat64))}
+	why := fmt.Sprintf("the partial-fraction form is ill-conditioned for these poles (off the matrix exponential by %.2g of the largest value)", diff/math.Max(scale, math.SmallestNonzeroFloat64))
+	r.Metrics = Metrics{Note: "figures withheld: " + why + "; the samples are from the matrix exponential"}
 	if dc := tf.DCGain(); step && final != nil && dc.Power == 0 {
 		v := dc.Gain
 		r.Metrics.Final = &v
 	}
-	r.ClosedForm = "(not shown: " + r.Metrics.Note + ")"
+	r.ClosedForm = "(not shown: " + why + ")"
+	expmFigures(r, c, step, why)
 	r.Modes = nil
 	r.IllConditioned = true
 	return true
+}
+
+// expmFigures replaces withheld step figures by those of the matrix
+// exponential (expmStepMetrics) when the step has a non-zero final value.
+func expmFigures(r *TimeResponse, c *cascade, step bool, why string) {
+	if !step || r.Metrics.Final == nil {
+		return
+	}
+	m, ok := expmStepMetrics(c, *r.Metrics.Final, r.SpanS)
+	if !ok {
+		return
+	}
+	note := "no closed form: " + why + "; samples and figures are from the matrix exponential"
+	if m.Note != "" {
+		note += "; " + m.Note
+	}
+	m.Note = note
+	r.Metrics = m
 }
 
 // defaultSpan implements the span rule documented on Step; 0 if no pole

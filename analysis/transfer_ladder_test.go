@@ -163,6 +163,9 @@ func TestLadderStepResponse(t *testing.T) {
 		if r.Metrics.Final == nil || *r.Metrics.Final != 1 {
 			t.Errorf("K=%d: final value %v, want 1", st.Sections, r.Metrics.Final)
 		}
+		if r.Metrics.RiseTimeS == nil || r.Metrics.OvershootPct == nil || *r.Metrics.OvershootPct != 0 {
+			t.Errorf("K=%d: figures %+v, want a rise time and no overshoot (an RC ladder's step is monotone)", st.Sections, r.Metrics)
+		}
 	}
 }
 
