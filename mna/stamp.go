@@ -344,7 +344,10 @@ func (b *builder) stampControl(part string, rows []int, w []float64, cols []int,
 
 // stampCouplings adds the mutual inductance M = K·√(L1·L2) of every
 // coupling as −sM terms between the two inductor branch rows (dots on the
-// first terminals: both currents entering the dots add flux).
+// first terminals: both currents entering the dots add flux). Two
+// couplings of one pair are an error, and so is a set of couplings whose
+// inductance matrix is not positive semidefinite (netlist.CouplingProblem:
+// Elaborate reports it with a position, this catches drawn values).
 func (b *builder) stampCouplings() error {
 	for i := range b.c.Parts {
 		p := &b.c.Parts[i]
@@ -372,6 +375,9 @@ func (b *builder) stampCouplings() error {
 		k1, k2 := b.branches[ind[0].Name], b.branches[ind[1].Name]
 		b.addC(k1, k2, -m)
 		b.addC(k2, k1, -m)
+	}
+	if p, msg := netlist.CouplingProblem(b.c.Parts); p != nil {
+		return &PartError{Part: p.Name, Msg: msg}
 	}
 	return nil
 }

@@ -130,6 +130,9 @@ func (e *elab) run() {
 		}
 	}
 	e.resolvePending()
+	if p, msg := CouplingProblem(e.c.Parts); p != nil {
+		e.diags = append(e.diags, &Diagnostic{Pos: p.Pos, Msg: fmt.Sprintf("coupling %s: %s", p.Name, msg), Line: e.f.lineText(p.Pos.Offset)})
+	}
 	e.checkOverrides()
 	e.checkTopology()
 }

@@ -118,13 +118,19 @@ func TestSweepErrors(t *testing.T) {
 		t.Error("negative frequency accepted")
 	}
 	// A lossless tank fed by a current source is singular at resonance,
-	// 1/(2π) Hz for L = C = 1 (common practice).
+	// 1/(2π) Hz for L = C = 1 (common practice): that point is a pole on
+	// the jω axis (+Inf, marked) and the sweep goes on; a sweep of that
+	// point alone has nothing to show and fails.
 	tank := testcircuit.New(testcircuit.I("I1", gnd, "x", 1),
 		testcircuit.C("C1", "x", gnd, 1), testcircuit.L("L1", "x", gnd, 1))
-	_, err := response.Sweep(context.Background(), buildV(t, tank, "x"), []float64{0.1, 1 / (2 * math.Pi), 1}, 2)
+	r, err := response.Sweep(context.Background(), buildV(t, tank, "x"), []float64{0.1, 1 / (2 * math.Pi), 1}, 2)
+	if err != nil || !r.AtPole[1] || !math.IsInf(r.Mag[1], 1) || r.AtPole[0] || r.AtPole[2] {
+		t.Errorf("tank at resonance: %v, want the middle point on a pole", err)
+	}
+	_, err = response.Sweep(context.Background(), buildV(t, tank, "x"), []float64{1 / (2 * math.Pi)}, 1)
 	var se *mna.SingularError
 	if !errors.As(err, &se) {
-		t.Errorf("tank at resonance: %v, want a *mna.SingularError", err)
+		t.Errorf("tank at resonance alone: %v, want a *mna.SingularError", err)
 	}
 }
 

@@ -220,20 +220,25 @@ type tfJSON struct {
 	F3dBHz      []float64     `json:"f3db_hz,omitempty"`
 	F3dBRefDB   *float64      `json:"f3db_ref_db,omitempty"`
 	Factored    string        `json:"factored"`
-	Gain        float64       `json:"gain"`
+	Gain        *float64      `json:"gain"`
 	GainDC      *float64      `json:"gain_dc"`
 	GainDCDB    *float64      `json:"gain_dc_db,omitempty"`
 	HFAsymptote asymptoteJSON `json:"hf_asymptote"`
 	Num         []float64     `json:"num"`
-	ODE         string        `json:"ode"`
-	Pairs       []pairJSON    `json:"pairs"`
-	PeakDB      *float64      `json:"peak_db,omitempty"`
-	PeakHz      *float64      `json:"peak_hz,omitempty"`
-	Poles       []complexJSON `json:"poles"`
-	Unit        string        `json:"unit"`
-	What        string        `json:"what"`
-	ZeroPairs   []pairJSON    `json:"zero_pairs"`
-	Zeros       []complexJSON `json:"zeros"`
+	// NumScaled, DenScaled: the coefficients in ŝ = s/ScaleRadS, given
+	// only when those in s do not fit a float64 (Num, Den, Gain null).
+	NumScaled []float64     `json:"num_scaled,omitempty"`
+	DenScaled []float64     `json:"den_scaled,omitempty"`
+	ScaleRadS *float64      `json:"scale_rad_s,omitempty"`
+	ODE       string        `json:"ode"`
+	Pairs     []pairJSON    `json:"pairs"`
+	PeakDB    *float64      `json:"peak_db,omitempty"`
+	PeakHz    *float64      `json:"peak_hz,omitempty"`
+	Poles     []complexJSON `json:"poles"`
+	Unit      string        `json:"unit"`
+	What      string        `json:"what"`
+	ZeroPairs []pairJSON    `json:"zero_pairs"`
+	Zeros     []complexJSON `json:"zeros"`
 }
 
 // asymptoteJSON is gain·s^power, the slope in dB per decade.
@@ -279,10 +284,16 @@ func pairsJSON(ps []transfer.RootPair) []pairJSON {
 // tfDoc returns the document of `nodal tf` for rep.
 func tfDoc(rep *tfReport) tfJSON {
 	h := rep.r.tf
-	doc := tfJSON{What: rep.r.what, Unit: rep.r.unit, Num: h.Num, Den: h.Den,
+	doc := tfJSON{What: rep.r.what, Unit: rep.r.unit,
 		Poles: rootsJSON(h.Poles), Zeros: rootsJSON(h.Zeros), Pairs: pairsJSON(rep.pairs), ZeroPairs: pairsJSON(rep.zeroPairs),
-		Gain: h.Gain, Factored: factoredText(h), ODE: odeText(rep.ode, rep.r.yName, rep.r.uName),
+		Factored: factoredText(h), ODE: odeText(rep.ode, rep.r.yName, rep.r.uName),
 		HFAsymptote: asymptoteJSON{Gain: finiteOrNil(rep.hf.Gain), Power: rep.hf.Power, SlopeDBPerDecade: finiteOrNil(rep.hf.SlopeDBPerDecade)}}
+	if h.Fits() {
+		doc.Num, doc.Den, doc.Gain = h.Num, h.Den, finiteOrNil(h.Gain)
+	} else {
+		num, den, w := h.ScaledPoly()
+		doc.NumScaled, doc.DenScaled, doc.ScaleRadS = num, den, &w
+	}
 	switch {
 	case rep.dc.Power == 0:
 		doc.GainDC, doc.GainDCDB = finiteOrNil(rep.dc.Gain), finiteOrNil(rep.dc.GainDB)

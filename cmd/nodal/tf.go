@@ -229,7 +229,13 @@ func newTFReport(r *tfResult) *tfReport {
 func (rep *tfReport) table(w io.Writer) error {
 	h := rep.r.tf
 	fmt.Fprintf(w, "%s  [%s]\n\n", rep.r.what, rep.r.unit)
-	fmt.Fprintf(w, "expanded:   %s\n", rationalText(h.Num, h.Den))
+	if h.Fits() {
+		fmt.Fprintf(w, "expanded:   %s\n", rationalText(h.Num, h.Den))
+	} else {
+		num, den, sc := h.ScaledPoly()
+		fmt.Fprintf(w, "expanded:   %s  (ŝ = s/%s: the coefficients in s do not fit a float64)\n",
+			strings.ReplaceAll(rationalText(num, den), "s", "ŝ"), engNumber(sc))
+	}
 	fmt.Fprintf(w, "factored:   %s\n", factoredText(h))
 	fmt.Fprintf(w, "zero-pole:  %s\n", zpkText(h))
 	fmt.Fprintln(w, "            (s and every frequency in rad/s)")

@@ -156,3 +156,15 @@ func TowThomas(stages int, f0Hz, q, a0, gbwHz float64) *netlist.Circuit {
 	}
 	return New(parts...)
 }
+
+// RCLadder is k uniform sections of series r (Ω) and shunt c (F), driven
+// by a unit voltage source Vin at node n0 and left open at node nK.
+func RCLadder(k int, r, c float64) *netlist.Circuit {
+	parts := []netlist.Part{V("Vin", "n0", "gnd", 1)}
+	for j := 1; j <= k; j++ {
+		parts = append(parts,
+			R(fmt.Sprintf("R%d", j), fmt.Sprintf("n%d", j-1), fmt.Sprintf("n%d", j), r),
+			C(fmt.Sprintf("C%d", j), fmt.Sprintf("n%d", j), "gnd", c))
+	}
+	return New(parts...)
+}
