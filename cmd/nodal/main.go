@@ -15,6 +15,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"syscall"
 
 	"github.com/alecthomas/kong"
 )
@@ -51,7 +52,10 @@ type cli struct {
 // process's working directory. Commands never use os.Stdout directly, so
 // they can be tested.
 type env struct {
-	ctx    context.Context
+	ctx context.Context
+	// temps lists temporary output files for removal on a forced exit
+	// (nil: none kept).
+	temps  *tempFiles
 	stdin  io.Reader
 	stdout io.Writer
 	stderr io.Writer
@@ -72,10 +76,33 @@ var errInterrupted = errors.New("interrupted")
 type exitRequest int
 
 func main() {
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	temps := &tempFiles{}
+	ctx, stop := interruptContext(temps)
 	defer stop()
-	e := &env{ctx: ctx, stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, stderrIsTerminal: isTerminal(os.Stderr)}
+	e := &env{ctx: ctx, temps: temps, stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, stderrIsTerminal: isTerminal(os.Stderr)}
 	os.Exit(run(e, os.Args[1:]))
+}
+
+// interruptContext returns a context cancelled by the first SIGINT (Ctrl-C),
+// SIGTERM or SIGHUP: long work stops, a half-written output file is
+// removed, and the command exits with status 2 after printing what it had
+// finished where that is meaningful. A second signal exits at once with
+// status 2, after removing the temporary output files listed in temps.
+func interruptContext(temps *tempFiles) (context.Context, func()) {
+	ctx, cancel := context.WithCancel(context.Background())
+	sig := make(chan os.Signal, 2)
+	signal.Notify(sig, os.Interrupt, syscall.SIGTERM, syscall.SIGHUP)
+	go func() {
+		<-sig
+		cancel()
+		<-sig
+		temps.removeAll()
+		os.Exit(exitInput)
+	}()
+	return ctx, func() {
+		signal.Stop(sig)
+		cancel()
+	}
 }
 
 // run parses args, runs the command and returns the exit status. It never
@@ -116,6 +143,10 @@ func run(e *env, args []string) (code int) {
 			return exitVerdict
 		}
 		if errors.Is(err, errInterrupted) {
+			return exitInput
+		}
+		if e.ctx.Err() != nil && (errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded)) {
+			fmt.Fprintln(e.stderr, "nodal: interrupted; nothing written")
 			return exitInput
 		}
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)

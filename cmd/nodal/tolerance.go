@@ -194,12 +194,14 @@ func (c *toleranceCmd) Run(e *env) error {
 	} else if err := c.extras(e, cir, ev, freqs, opt, &res); err != nil {
 		return err
 	}
+	// An interrupted run still writes the runs it finished, on purpose.
+	we := e.keepWriting()
 	if c.Plot != "" {
-		if err := c.writePlot(e, l, &res); err != nil {
+		if err := c.writePlot(we, l, &res); err != nil {
 			return err
 		}
 	}
-	if err := writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
+	if err := writeTo(we, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		if c.Format == "json" {
 			return writeJSON(w, toleranceDoc(&res))
 		}
