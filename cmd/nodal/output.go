@@ -103,21 +103,38 @@ const (
 	xOK = 0x1
 )
 
-// checkOutputs checks several output paths before the work, each against
-// the inputs and the other outputs.
+// checkOutputs checks a command's output paths before any work: each
+// against the inputs, and no two naming the same file.
 func checkOutputs(inputs []string, outputs ...string) error {
-	for i, o := range outputs {
-		protect := append([]string(nil), inputs...)
-		for j, other := range outputs {
-			if j != i {
-				protect = append(protect, other)
-			}
-		}
-		if _, err := checkOutput(o, protect); err != nil {
+	var seen []*outputTarget
+	for _, o := range outputs {
+		t, err := checkOutput(o, inputs)
+		if err != nil {
 			return err
 		}
+		if t == nil {
+			continue
+		}
+		for _, s := range seen {
+			if sameFile(s.real, t.real) {
+				return fmt.Errorf("%s and %s name the same file: give each output its own", s.path, t.path)
+			}
+		}
+		seen = append(seen, t)
 	}
 	return nil
+}
+
+// sameFile reports whether a and b are one path or one existing file.
+func sameFile(a, b string) bool {
+	absA, _ := filepath.Abs(a)
+	absB, _ := filepath.Abs(b)
+	if absA == absB {
+		return true
+	}
+	sa, errA := os.Stat(a)
+	sb, errB := os.Stat(b)
+	return errA == nil && errB == nil && os.SameFile(sa, sb)
 }
 
 // followLinks returns the file path names once every symbolic link in its
@@ -295,21 +312,12 @@ func (c ctxWriter) Write(p []byte) (int, error) {
 // refuseInput returns an error when path (or real, the file it leads to)
 // names the same file as one of the inputs.
 func refuseInput(path, real string, inputs []string) error {
-	out, err := os.Stat(real)
-	absOut, _ := filepath.Abs(path)
-	absReal, _ := filepath.Abs(real)
 	for _, in := range inputs {
 		if in == "" || in == "-" {
 			continue
 		}
-		absIn, _ := filepath.Abs(in)
-		if absIn == absOut || absIn == absReal {
+		if sameFile(in, path) || sameFile(in, real) {
 			return fmt.Errorf("refusing to overwrite the input file %s", in)
-		}
-		if err == nil {
-			if st, e2 := os.Stat(in); e2 == nil && os.SameFile(st, out) {
-				return fmt.Errorf("refusing to overwrite the input file %s", in)
-			}
 		}
 	}
 	return nil

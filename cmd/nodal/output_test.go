@@ -1,6 +1,8 @@
 package main
 
 import (
+	"bytes"
+	"context"
 	"io"
 	"os"
 	"path/filepath"
@@ -199,5 +201,45 @@ func TestReportDefaultFileKeepsForeignFile(t *testing.T) {
 	r = runNodal(t, "", "report")
 	if r.code != 0 || strings.Contains(r.stderr, "instead") {
 		t.Errorf("own report: code %d, stderr %q", r.code, r.stderr)
+	}
+}
+
+// TestOutputCheckedBeforeWork runs every command that writes files with an
+// already cancelled context: a command that checks its output paths first
+// fails on the path; one that checks only after the analysis would fail on
+// the cancelled work (or write nothing) instead.
+func TestOutputCheckedBeforeWork(t *testing.T) {
+	dir := t.TempDir()
+	missing := filepath.Join(dir, "no-such", "out")
+	bridge := "testdata/bridge_pass.nodal"
+	cases := [][]string{
+		{"parts", rcFile, "-o", missing},
+		{"equations", rcFile, "-o", missing},
+		{"sweep", rcFile, "--out", "out", "-o", missing},
+		{"sweep", rcFile, "--out", "out", "--plot", missing + ".svg"},
+		{"tf", rcFile, "--out", "out", "-o", missing},
+		{"tf", rcFile, "--out", "out", "--plot", missing + ".svg"},
+		{"check", rcFile, "--out", "out", "--tf", "1/(1+s*R1*C1)", "-o", missing},
+		{"drive", rcFile, "--out", "out", "--signal", "sin(2*pi*1k*t)", "-o", missing},
+		{"step", rcFile, "--out", "out", "-o", missing},
+		{"impulse", rcFile, "--out", "out", "--plot", missing + ".svg"},
+		{"tolerance", bridge, "--out", "out", "--metric", "f3db", "--runs", "100000", "-o", missing},
+		{"tolerance", bridge, "--out", "out", "--metric", "f3db", "--runs", "100000", "--plot", missing + ".svg"},
+		{"snap", bridge, "--series", "E24", "-o", missing},
+		{"report", rcFile, "-o", missing},
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	for _, args := range cases {
+		var out, errb bytes.Buffer
+		e := &env{ctx: ctx, stdin: strings.NewReader(""), stdout: &out, stderr: &errb}
+		code := run(e, args)
+		if code != exitInput || !strings.Contains(errb.String(), "does not exist") {
+			t.Errorf("%v: code %d, stderr %q; want the missing folder named before any work", args, code, errb.String())
+		}
+	}
+	r := runNodal(t, "", "sweep", rcFile, "--out", "out", "-o", filepath.Join(dir, "a"), "--plot", filepath.Join(dir, "a"))
+	if r.code != exitInput || !strings.Contains(r.stderr, "name the same file") {
+		t.Errorf("-o and --plot the same: code %d, stderr %q", r.code, r.stderr)
 	}
 }

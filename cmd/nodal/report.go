@@ -48,6 +48,9 @@ Examples:
 
 // Run builds and writes the report.
 func (c *reportCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+		return err
+	}
 	var l *loaded
 	var err error
 	builtIn := c.File == ""

@@ -58,6 +58,9 @@ type sweepJSON struct {
 
 // Run sweeps every output.
 func (c *sweepCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+		return err
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err

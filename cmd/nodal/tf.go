@@ -203,6 +203,9 @@ func invertTF(h *analysis.TransferFunction, sign float64) *analysis.TransferFunc
 
 // Run prints the transfer function report.
 func (c *tfCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+		return err
+	}
 	if c.Keep != nil && !c.Symbolic {
 		return errors.New("--keep chooses the symbols of --symbolic: add --symbolic")
 	}

@@ -140,6 +140,9 @@ type toleranceResult struct {
 
 // Run performs the analyses and writes the report.
 func (c *toleranceCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+		return err
+	}
 	if c.Runs < 1 {
 		return fmt.Errorf("--runs must be at least 1")
 	}
