@@ -142,11 +142,11 @@ func run(e *env, args []string) (code int) {
 		if errors.As(err, &v) {
 			return exitVerdict
 		}
-		if errors.Is(err, errInterrupted) {
-			return exitInput
+		if err == errInterrupted {
+			return exitInput // the command said what it finished
 		}
-		if e.ctx.Err() != nil && (errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded)) {
-			fmt.Fprintln(e.stderr, "nodal: interrupted; nothing written")
+		if errors.Is(err, errInterrupted) || e.ctx.Err() != nil && (errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded)) {
+			fmt.Fprintln(e.stderr, "nodal: interrupted: no output file was written; output to the terminal may be cut short")
 			return exitInput
 		}
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)

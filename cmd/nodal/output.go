@@ -173,7 +173,7 @@ func writeTo(e *env, path string, protect []string, fill func(w io.Writer) error
 	}
 	if t == nil {
 		bw := bufio.NewWriter(e.stdout)
-		if err := fill(bw); err != nil {
+		if err := fill(ctxWriter{e.ctx, bw}); err != nil {
 			return err
 		}
 		return bw.Flush()
@@ -190,8 +190,8 @@ func writeInPlace(ctx context.Context, t *outputTarget, fill func(w io.Writer) e
 	if err != nil {
 		return fmt.Errorf("cannot write %s: %w", t.path, err)
 	}
-	bw := bufio.NewWriter(ctxWriter{ctx, f})
-	err = fill(bw)
+	bw := bufio.NewWriter(f)
+	err = fill(ctxWriter{ctx, bw})
 	if err == nil {
 		err = bw.Flush()
 	}
@@ -221,8 +221,8 @@ func writeReplace(ctx context.Context, temps *tempFiles, t *outputTarget, fill f
 		}
 		temps.done(tmpName)
 	}()
-	bw := bufio.NewWriter(ctxWriter{ctx, tmp})
-	if err := fill(bw); err != nil {
+	bw := bufio.NewWriter(tmp)
+	if err := fill(ctxWriter{ctx, bw}); err != nil {
 		return err
 	}
 	if err := bw.Flush(); err != nil {
@@ -235,7 +235,7 @@ func writeReplace(ctx context.Context, temps *tempFiles, t *outputTarget, fill f
 		return fmt.Errorf("cannot write %s: %w", t.path, err)
 	}
 	if err := ctx.Err(); err != nil {
-		return fmt.Errorf("cannot write %s: %w", t.path, errInterrupted)
+		return fmt.Errorf("cannot write %s: %w", t.path, errOutputInterrupted)
 	}
 	if err := os.Rename(tmpName, t.real); err != nil {
 		return fmt.Errorf("cannot write %s: %w", t.path, err)
@@ -295,16 +295,31 @@ func (e *env) keepWriting() *env {
 	return &k
 }
 
+// errOutputInterrupted is returned by writes and tables once the run is
+// interrupted: exit status 2 with a note that the output is incomplete.
+var errOutputInterrupted = fmt.Errorf("output stopped: %w", errInterrupted)
+
 // ctxWriter fails every write once ctx is done, so an interrupted run
-// stops writing and its temporary file is removed.
+// stops writing and its temporary file is removed. It is the writer every
+// fill function gets; writerContext recovers ctx from it, so long
+// formatting (a table of a million rows) can stop early too.
 type ctxWriter struct {
 	ctx context.Context
 	w   io.Writer
 }
 
+// writerContext returns the context of a writer writeTo handed out, or
+// context.Background() for any other writer.
+func writerContext(w io.Writer) context.Context {
+	if cw, ok := w.(ctxWriter); ok {
+		return cw.ctx
+	}
+	return context.Background()
+}
+
 func (c ctxWriter) Write(p []byte) (int, error) {
 	if c.ctx.Err() != nil {
-		return 0, errInterrupted
+		return 0, errOutputInterrupted
 	}
 	return c.w.Write(p)
 }
