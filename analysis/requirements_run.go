@@ -52,6 +52,11 @@ func Verify(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt VerifyOpt
 	if opt.Runs < 0 {
 		return nil, fmt.Errorf("verify: runs must be ≥ 0, got %d", opt.Runs)
 	}
+	if opt.Runs > 0 {
+		if err := checkRuns("verify", opt.Runs); err != nil {
+			return nil, err
+		}
+	}
 	if m := len(ev.Metrics()); m != n {
 		return nil, fmt.Errorf("verify: the evaluator has %d metrics for %d requirements", m, n)
 	}

@@ -43,8 +43,8 @@ type EnvelopeResult struct {
 // the worker count. A nominal failure is an error; failed runs are
 // counted; cancelling ctx keeps the finished runs (Cancelled).
 func Envelope(ctx context.Context, c *netlist.Circuit, in mna.Input, out mna.Output, freqsHz []float64, opt MonteCarloOptions) (*EnvelopeResult, error) {
-	if opt.Runs <= 0 {
-		return nil, fmt.Errorf("envelope: %d runs; want at least 1", opt.Runs)
+	if err := checkRuns("envelope", opt.Runs); err != nil {
+		return nil, err
 	}
 	if len(freqsHz) == 0 {
 		return nil, fmt.Errorf("envelope: no frequencies")
