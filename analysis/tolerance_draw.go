@@ -90,6 +90,17 @@ func forEachJob(ctx context.Context, n, workers int, progress func(done int), jo
 	return done, done < n
 }
 
+// isDone reports whether ctx's Done channel is closed, without counting as
+// a call of ctx.Err.
+func isDone(ctx context.Context) bool {
+	select {
+	case <-ctx.Done():
+		return true
+	default:
+		return false
+	}
+}
+
 // streamWindowPerWorker bounds how far the workers of streamJobs may run
 // ahead of the oldest unfinished job: at most this many results per worker
 // wait for their turn, so memory does not grow with n.
@@ -99,8 +110,9 @@ const streamWindowPerWorker = 64
 // goroutines and hands each result to consume in index order (consume
 // calls are serialised), then calls progress with the number consumed so
 // far. At most streamWindowPerWorker·workers results wait for their turn.
-// When ctx is cancelled no new job starts and results after the first gap
-// are dropped, so consume has seen exactly jobs 0 … consumed−1: an
+// ctx is checked once before each job; once it is cancelled no new job
+// starts and results after the first gap are dropped, so consume has seen
+// exactly jobs 0 … consumed−1: an
 // interrupted Monte Carlo covers the first N draws, which the same seed
 // with N runs reproduces.
 func streamJobs[T any](ctx context.Context, n, workers int, progress func(done int), job func(worker, i int) T, consume func(i int, v T)) (consumed int) {
@@ -122,7 +134,7 @@ func streamJobs[T any](ctx context.Context, n, workers int, progress func(done i
 					turn.Wait()
 				}
 				if stopped || next >= n || ctx.Err() != nil {
-					stopped = stopped || ctx.Err() != nil
+					stopped = stopped || next < n
 					turn.Broadcast()
 					mu.Unlock()
 					return
@@ -132,14 +144,8 @@ func streamJobs[T any](ctx context.Context, n, workers int, progress func(done i
 				mu.Unlock()
 				v := job(w, i)
 				mu.Lock()
-				if ctx.Err() != nil {
-					stopped = true
-					turn.Broadcast()
-					mu.Unlock()
-					return
-				}
 				pending[i] = v
-				for ctx.Err() == nil {
+				for !stopped && !isDone(ctx) {
 					v, ok := pending[prefix]
 					if !ok {
 						break
