@@ -65,7 +65,7 @@ func TestDiagnostics(t *testing.T) {
 		{"unknown option", base + "U1: opamp (in, x, x) gwb=1MHz\n", 4, 22, `unknown option "gwb" for opamp`, `did you mean "gbw"?`, false},
 		{"opamp value", base + "U1: opamp (in, x, x) 5\n", 4, 22, "an opamp takes no value", "", false},
 		{"opamp a0", base + "U1: opamp (in, x, x) a0=0\n", 4, 1, "a0 must be finite and > 0", "", false},
-		{"bad tolerance", base + "R2: resistor (in, out) 1k ±150%\n", 4, 28, "tolerance must be between 0 and 100%", "", false},
+		{"bad tolerance", base + "R2: resistor (in, out) 1k ±150%\n", 4, 28, "tolerance must be above 0 and below 100%", "", false},
 		{"tolerance unit", base + "R2: resistor (in, out) 1k tol=5Hz\n", 4, 31, "unit Hz is not allowed", "", false},
 		{"dist without tol", base + "R2: resistor (in, out) 1k dist=normal\n", 4, 27, "dist= without a tolerance", "", false},
 		{"bad dist", base + "R2: resistor (in, out) 1k ±1% dist=gauss\n", 4, 36, "unknown distribution", "", false},
@@ -173,5 +173,14 @@ func TestTooLarge(t *testing.T) {
 	_, err := Load("big.nodal", []byte(b.String()), nil)
 	if err == nil || !strings.Contains(err.Error(), "circuit too large") {
 		t.Errorf("error %v", err)
+	}
+}
+
+// TestToleranceLimitNamed: ±100 % is refused with the limit said and the
+// value as written (not "between 0 and 100 %, got 1").
+func TestToleranceLimitNamed(t *testing.T) {
+	_, err := Load("t.nodal", []byte("Vs: vsource (in, gnd) 1\nR1: resistor (in, gnd) 1k ±100%\n"), Overrides{})
+	if err == nil || !strings.Contains(err.Error(), "below 100%") || !strings.Contains(err.Error(), "got 100 %") {
+		t.Errorf("error %v; want the limit and the value written", err)
 	}
 }

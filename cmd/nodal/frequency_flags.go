@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"math"
 	"strings"
 
 	"nodal/analysis"
@@ -11,6 +12,17 @@ import (
 // maxPoints bounds every sampled output (sweep and time points): a million
 // points is far beyond any plot or table and still fits in memory.
 const maxPoints = 1_000_000
+
+// maxFrequencyHz is the highest frequency a flag may give.
+const maxFrequencyHz = netlist.MaxFrequencyHz
+
+// pointCount writes a point count, "more than 10^18" when it saturated.
+func pointCount(n int) string {
+	if n == math.MaxInt {
+		return "more than 10^18"
+	}
+	return fmt.Sprint(n)
+}
 
 // freqArgs choose the frequencies of a sweep. With none given the range
 // covers the circuit's poles and zeros by two decades either side.
@@ -39,6 +51,9 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 			if v < 0 {
 				return nil, fmt.Errorf("--at %q: frequency must be ≥ 0", s)
 			}
+			if v > maxFrequencyHz || math.IsInf(v, 0) {
+				return nil, fmt.Errorf("--at %q: the frequency is out of range: frequencies go up to %s", s, netlist.FormatEng(maxFrequencyHz, "Hz"))
+			}
 			out = append(out, v)
 		}
 		return out, nil
@@ -53,6 +68,14 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 	if f.To != "" {
 		if to, err = netlist.ParseValue(f.To, "Hz"); err != nil {
 			return nil, fmt.Errorf("--to: %w", err)
+		}
+	}
+	for _, v := range []struct {
+		flag string
+		hz   float64
+	}{{"--from", from}, {"--to", to}} {
+		if math.IsInf(v.hz, 0) || math.IsNaN(v.hz) || v.hz > maxFrequencyHz {
+			return nil, fmt.Errorf("%s: %s is out of range: frequencies go up to %s", v.flag, netlist.FormatEng(v.hz, "Hz"), netlist.FormatEng(maxFrequencyHz, "Hz"))
 		}
 	}
 	if !(to > from) {
@@ -79,6 +102,10 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 	}
 	if f.PerDecade < 1 || f.PerDecade > 10000 {
 		return nil, fmt.Errorf("--per-decade must be between 1 and 10000")
+	}
+	if n := analysis.LogGridSize(from, to, f.PerDecade); n > maxPoints {
+		return nil, fmt.Errorf("%s to %s at %d points per decade is %s points, more than the maximum of %d: narrow the range or lower --per-decade",
+			netlist.FormatEng(from, "Hz"), netlist.FormatEng(to, "Hz"), f.PerDecade, pointCount(n), maxPoints)
 	}
 	return analysis.LogGrid(from, to, f.PerDecade), nil
 }
