@@ -16,6 +16,7 @@ import (
 	"os"
 	"os/signal"
 	"syscall"
+	"time"
 
 	"github.com/alecthomas/kong"
 )
@@ -83,11 +84,19 @@ func main() {
 	os.Exit(run(e, os.Args[1:]))
 }
 
+// interruptGrace is how long a command may take to stop after the first
+// signal: long work that watches its context stops at once, and a command
+// that reports partial results (tolerance) writes them within it; work that
+// cannot be stopped (a numeric transfer-function extraction of a huge
+// circuit) is ended when it runs out.
+const interruptGrace = 900 * time.Millisecond
+
 // interruptContext returns a context cancelled by the first SIGINT (Ctrl-C),
 // SIGTERM or SIGHUP: long work stops, a half-written output file is
 // removed, and the command exits with status 2 after printing what it had
-// finished where that is meaningful. A second signal exits at once with
-// status 2, after removing the temporary output files listed in temps.
+// finished where that is meaningful. A second signal, or interruptGrace
+// passing, exits with status 2 after removing the temporary output files
+// listed in temps, so every command stops within a second.
 func interruptContext(temps *tempFiles) (context.Context, func()) {
 	ctx, cancel := context.WithCancel(context.Background())
 	sig := make(chan os.Signal, 2)
@@ -95,7 +104,11 @@ func interruptContext(temps *tempFiles) (context.Context, func()) {
 	go func() {
 		<-sig
 		cancel()
-		<-sig
+		select {
+		case <-sig:
+		case <-time.After(interruptGrace):
+			fmt.Fprintln(os.Stderr, "nodal: interrupted")
+		}
 		temps.removeAll()
 		os.Exit(exitInput)
 	}()
