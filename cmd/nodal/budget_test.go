@@ -17,6 +17,7 @@ func TestBudgetsRefuseWithMessage(t *testing.T) {
 		{"tolerance runs", []string{"tolerance", bridge, "--out", "out", "--metric", "f3db", "--runs=10000000000000000"}, "maximum of 10000000"},
 		{"verify runs", []string{"verify", bridge, "--runs=10000000000000000"}, "maximum of 10000000"},
 		{"points after the range", []string{"sweep", rcFile, "--out", "out", "--per-decade", "10000", "--from", "1e-150", "--to", "1e150"}, "3000001 points, more than the maximum of 1000000"},
+		{"envelope work", []string{"tolerance", bridge, "--out", "out", "--metric", "f3db", "--envelope", "--runs", "5000000", "--from", "1", "--to", "1MHz", "--per-decade", "100"}, "part-points, more than the maximum"},
 		{"--at out of range", []string{"sweep", rcFile, "--out", "out", "--at", "1e308"}, "out of range"},
 		{"--to out of range", []string{"sweep", rcFile, "--out", "out", "--to", "1e308"}, "out of range"},
 		{"metric out of range", []string{"tolerance", bridge, "--out", "out", "--metric", "gain@1e308Hz"}, "out of range"},

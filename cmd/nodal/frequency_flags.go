@@ -13,6 +13,22 @@ import (
 // points is far beyond any plot or table and still fits in memory.
 const maxPoints = 1_000_000
 
+// maxPartPoints bounds the work of a frequency analysis: parts × points ×
+// repeats (outputs of a sweep, runs of an envelope). Each part-point is a
+// few sparse-matrix operations, so 10⁹ is minutes of work.
+const maxPartPoints = 1_000_000_000
+
+// checkWork refuses an analysis of parts × points × repeats above
+// maxPartPoints, saying what to reduce.
+func checkWork(what string, parts, points, repeats int, repeatName string) error {
+	w := float64(parts) * float64(points) * float64(repeats)
+	if w <= maxPartPoints {
+		return nil
+	}
+	return fmt.Errorf("%s: %d parts × %d points × %d %s is %.3g part-points, more than the maximum of %.0e: use fewer points (--per-decade, --points, a narrower range) or fewer %s",
+		what, parts, points, repeats, repeatName, w, float64(maxPartPoints), repeatName)
+}
+
 // maxFrequencyHz is the highest frequency a flag may give.
 const maxFrequencyHz = netlist.MaxFrequencyHz
 

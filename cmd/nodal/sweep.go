@@ -85,6 +85,9 @@ func (c *sweepCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
+	if err := checkWork("sweep", len(l.circuit.Parts), len(freqs), len(systems), "outputs"); err != nil {
+		return err
+	}
 	var resps []*analysis.Response
 	for _, sys := range systems {
 		r, err := analysis.Sweep(e.ctx, sys, freqs, c.Workers)

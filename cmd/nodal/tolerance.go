@@ -180,6 +180,9 @@ func (c *toleranceCmd) Run(e *env) error {
 		if freqs, err = c.frequencies(func() (float64, float64) { return autoRange(l, sys) }); err != nil {
 			return err
 		}
+		if err := checkWork("envelope", len(cir.Parts), len(freqs), c.Runs, "runs"); err != nil {
+			return err
+		}
 	}
 	opt := analysis.MonteCarloOptions{Runs: c.Runs, Seed: c.Seed, Workers: c.Workers}
 	var res toleranceResult
