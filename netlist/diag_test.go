@@ -47,6 +47,8 @@ func TestDiagnostics(t *testing.T) {
 		{"opamp terminals", base + "U1: opamp (in, out)\n", 4, 1, "opamp U1 takes 3 terminals", "", false},
 		{"missing value", base + "R2: resistor (in, out)\n", 4, 1, "resistor R2 needs a value in Ω", "", false},
 		{"zero value", base + "R2: resistor (in, out) 0\n", 4, 24, "resistor R2: value must be > 0, got 0 Ω", "", false},
+		{"value too small", base + "R2: resistor (in, out) 1e-300\n", 4, 24, "too small to represent", "", false},
+		{"value too large", base + "C2: capacitor (in, out) 1e200\n", 4, 25, "too large to represent", "", false},
 		{"negative value", base + "C2: capacitor (in, out) -1n\n", 4, 25, "value must be > 0", "", false},
 		{"infinite value", base + "R2: resistor (in, out) 1/0\n", 4, 24, "value is not finite", "", false},
 		{"undefined parameter", "let Rbase = 1k\n" + base + "R2: resistor (in, out) Rbse\n", 5, 24, `undefined parameter "Rbse"`, `did you mean "Rbase"?`, false},
