@@ -3,6 +3,7 @@ package netlist
 import (
 	"errors"
 	"fmt"
+	"math"
 	"strings"
 	"testing"
 )
@@ -184,5 +185,16 @@ func TestToleranceLimitNamed(t *testing.T) {
 	_, err := Load("t.nodal", []byte("Vs: vsource (in, gnd) 1\nR1: resistor (in, gnd) 1k ±100%\n"), Overrides{})
 	if err == nil || !strings.Contains(err.Error(), "below 100%") || !strings.Contains(err.Error(), "got 100 %") {
 		t.Errorf("error %v; want the limit and the value written", err)
+	}
+}
+
+// TestLeadingPlusIsAccepted: +1k is 1k, as a value and inside expressions.
+func TestLeadingPlusIsAccepted(t *testing.T) {
+	c, err := Load("t.nodal", []byte("Vs: vsource (in, gnd) 1\nR1: resistor (in, out) +1k\nC1: capacitor (out, gnd) 1n + +2n\n"), Overrides{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Parts[1].Value != 1e3 || math.Abs(c.Parts[2].Value-3e-9) > 1e-24 {
+		t.Errorf("values %v, %v; want 1k and 3n", c.Parts[1].Value, c.Parts[2].Value)
 	}
 }

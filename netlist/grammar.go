@@ -186,11 +186,12 @@ type OpUnary struct {
 	Unary *Unary `parser:"@@"`
 }
 
-// Unary is a negation or a power.
+// Unary is a negation or a power; a leading + is accepted and means
+// nothing (+1k is 1k).
 type Unary struct {
 	Pos   lexer.Position
 	Neg   *Unary `parser:"  \"-\" @@"`
-	Power *Power `parser:"| @@"`
+	Power *Power `parser:"| \"+\"? @@"`
 }
 
 // Power is Base [^ Exp]; `^` is right-associative and binds tighter than
