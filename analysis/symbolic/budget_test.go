@@ -72,3 +72,15 @@ func TestWorkBudgetIsCharged(t *testing.T) {
 		}
 	}
 }
+
+// TestSingularLoopNamesParts: two current-controlled voltage sources in
+// parallel (a loop of voltage-fixing parts) are refused naming both, and
+// the error is still ErrSingular.
+func TestSingularLoopNamesParts(t *testing.T) {
+	c := circuit(vsrc("Vs", "in", "gnd"), res("R1", "in", "a", 1e3), res("R2", "a", "gnd", 1e3),
+		ccvs("H1", "b", "gnd", "R1", 1e3), ccvs("H2", "b", "gnd", "R2", 2e3), res("R3", "b", "gnd", 1e3))
+	_, err := Transfer(context.Background(), c, inputAuto, nodeOut("a"), Options{})
+	if !errors.Is(err, ErrSingular) || !strings.Contains(err.Error(), "H1") || !strings.Contains(err.Error(), "H2") {
+		t.Errorf("error %v; want ErrSingular naming H1 and H2", err)
+	}
+}

@@ -2,6 +2,7 @@ package symbolic
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 	"math/big"
@@ -94,11 +95,11 @@ func Transfer(ctx context.Context, c *netlist.Circuit, in mna.Input, out mna.Out
 		lim.work.limit = math.MaxInt64
 	}
 	detY, detM, pivots, err := borderedDets(sys.m, opt.Method, lim)
+	if errors.Is(err, ErrSingular) || err == nil && detY.IsZero() {
+		return nil, fmt.Errorf("symbolic: %w", singularWhy(c, in, out))
+	}
 	if err != nil {
 		return nil, fmt.Errorf("symbolic: %w", err)
-	}
-	if detY.IsZero() {
-		return nil, fmt.Errorf("symbolic: %w", ErrSingular)
 	}
 	num, den := detM.Neg(), detY
 	rs, err := toResistances([]Poly{num, den}, sys.resistor)
@@ -382,3 +383,23 @@ type JSONPolys struct {
 func (r *Result) JSON() JSONForm {
 	return JSONForm{Symbolic: JSONPolys{Num: r.NumStrings(), Den: r.DenStrings()}}
 }
+
+// singularWhy explains ErrSingular with the numeric system's structural
+// diagnosis when it has one (the loop of voltage-fixing parts or the cut
+// set of current sources, by name); the error still matches ErrSingular.
+func singularWhy(c *netlist.Circuit, in mna.Input, out mna.Output) error {
+	sys, err := mna.Build(c, in, out)
+	if err == nil {
+		err = sys.Structure()
+	}
+	if err == nil {
+		return ErrSingular
+	}
+	return singularError{why: err}
+}
+
+// singularError is ErrSingular with the reason named.
+type singularError struct{ why error }
+
+func (e singularError) Error() string   { return e.why.Error() }
+func (e singularError) Unwrap() []error { return []error{e.why, ErrSingular} }
