@@ -18,7 +18,8 @@ import (
 // command checks its output paths with checkOutput before any analysis runs,
 // so a mistyped folder or the input file named as output fails at once.
 //
-//   - "" or "-" is standard output.
+//   - "", "-", /dev/stdout, /dev/fd/1 and /proc/self/fd/1 are standard
+//     output, written through the open descriptor.
 //   - An existing target that is not a regular file (a character device
 //     such as /dev/null, a FIFO, a socket) is opened and written in place:
 //     never renamed over, never replaced.
@@ -55,7 +56,7 @@ const maxLinkHops = 40
 // output goes. It writes nothing. path "" or "-" (standard output) gives
 // nil and no error.
 func checkOutput(path string, protect []string) (*outputTarget, error) {
-	if path == "" || path == "-" {
+	if isStdout(path) {
 		return nil, nil
 	}
 	real, err := followLinks(path)
@@ -135,6 +136,22 @@ func sameFile(a, b string) bool {
 	sa, errA := os.Stat(a)
 	sb, errB := os.Stat(b)
 	return errA == nil && errB == nil && os.SameFile(sa, sb)
+}
+
+// isStdout reports whether path means standard output: "", "-" or one of
+// the names of file descriptor 1 (/dev/stdout, /dev/fd/1,
+// /proc/self/fd/1). Those are written through the open descriptor, so
+// `-o /dev/stdout >> log` appends as the shell set it up instead of
+// reopening (and replacing or overwriting) the file behind it.
+func isStdout(path string) bool {
+	if path == "" || path == "-" {
+		return true
+	}
+	switch filepath.Clean(path) {
+	case "/dev/stdout", "/dev/fd/1", "/proc/self/fd/1":
+		return true
+	}
+	return false
 }
 
 // followLinks returns the file path names once every symbolic link in its

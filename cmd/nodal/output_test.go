@@ -243,3 +243,14 @@ func TestOutputCheckedBeforeWork(t *testing.T) {
 		t.Errorf("-o and --plot the same: code %d, stderr %q", r.code, r.stderr)
 	}
 }
+
+// TestOutputDevStdoutIsStandardOutput: -o /dev/stdout writes through the
+// command's standard output, never reopening what is behind it.
+func TestOutputDevStdoutIsStandardOutput(t *testing.T) {
+	for _, p := range []string{"/dev/stdout", "/dev/fd/1", "/proc/self/fd/1"} {
+		r := runNodal(t, "", partsArgs(p)...)
+		if r.code != 0 || !strings.Contains(r.stdout, "R1") {
+			t.Errorf("-o %s: code %d, stdout %q, stderr %q", p, r.code, r.stdout, r.stderr)
+		}
+	}
+}
