@@ -53,6 +53,18 @@ func (c *reportCmd) Run(e *env) error {
 	}
 	var l *loaded
 	var err error
+	path := c.Output
+	if path == "" && c.Format == "html" {
+		if path, err = defaultReportPath(c.Force); err != nil {
+			return err
+		}
+		if err := checkOutputs([]string{c.File}, path); err != nil {
+			return err
+		}
+		if path != defaultReportName {
+			fmt.Fprintf(e.stderr, "nodal: %s exists and was not written by nodal; writing %s instead (--force overwrites it)\n", defaultReportName, path)
+		}
+	}
 	builtIn := c.File == ""
 	if builtIn {
 		fmt.Fprintf(e.stderr, "nodal: no circuit file given: analysing the built-in demo (%s)\n", demoName)
@@ -76,17 +88,8 @@ func (c *reportCmd) Run(e *env) error {
 		return err
 	}
 	d.Source.BuiltIn = builtIn
-	path := c.Output
 	if c.Format == "text" {
 		return writeTo(e, path, []string{c.File}, func(w io.Writer) error { return report.RenderText(w, d) })
-	}
-	if path == "" {
-		if path, err = defaultReportPath(c.Force); err != nil {
-			return err
-		}
-		if path != defaultReportName {
-			fmt.Fprintf(e.stderr, "nodal: %s exists and was not written by nodal; writing %s instead (--force overwrites it)\n", defaultReportName, path)
-		}
 	}
 	if err := writeTo(e, path, []string{c.File}, func(w io.Writer) error { return report.Render(w, d) }); err != nil {
 		return err
