@@ -155,10 +155,10 @@ func run(e *env, args []string) (code int) {
 		if errors.As(err, &v) {
 			return exitVerdict
 		}
-		if err == errInterrupted {
+		if errors.Is(err, errInterrupted) && !errors.Is(err, errOutputInterrupted) {
 			return exitInput // the command said what it finished
 		}
-		if errors.Is(err, errInterrupted) || e.ctx.Err() != nil && (errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded)) {
+		if errors.Is(err, errOutputInterrupted) || e.ctx.Err() != nil && (errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded)) {
 			fmt.Fprintln(e.stderr, "nodal: interrupted: no output file was written; output to the terminal may be cut short")
 			return exitInput
 		}

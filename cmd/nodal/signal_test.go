@@ -1,6 +1,8 @@
 package main
 
 import (
+	"bytes"
+	"context"
 	"errors"
 	"fmt"
 	"os"
@@ -148,4 +150,27 @@ func TestSIGINTStopsWorkThatIgnoresContext(t *testing.T) {
 		return
 	}
 	t.Skip("every signal arrived before the handler was installed")
+}
+
+// TestInterruptMessages: an interrupted tolerance run prints its partial
+// figures and says so, without claiming nothing was written; an interrupted
+// sweep says its output was not written. Both exit with status 2.
+func TestInterruptMessages(t *testing.T) {
+	ctx := &countdownCtx{Context: context.Background()}
+	ctx.n.Store(150)
+	var out, errb bytes.Buffer
+	e := &env{ctx: ctx, stdin: strings.NewReader(""), stdout: &out, stderr: &errb}
+	code := run(e, []string{"tolerance", rcFile, "--out", "out", "--metric", "f3db", "--runs", "1000", "--workers", "1"})
+	if code != exitInput || !strings.Contains(errb.String(), "the figures cover those only") || strings.Contains(errb.String(), "no output file") || !strings.Contains(out.String(), "f3db") {
+		t.Errorf("tolerance: code %d, stderr %q, stdout %q", code, errb.String(), out.String())
+	}
+	cctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	out.Reset()
+	errb.Reset()
+	e = &env{ctx: cctx, stdin: strings.NewReader(""), stdout: &out, stderr: &errb}
+	code = run(e, []string{"sweep", rcFile, "--out", "out", "-o", filepath.Join(t.TempDir(), "s.txt")})
+	if code != exitInput || !strings.Contains(errb.String(), "interrupted") {
+		t.Errorf("sweep: code %d, stderr %q", code, errb.String())
+	}
 }
