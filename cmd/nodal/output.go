@@ -53,8 +53,8 @@ const maxLinkHops = 40
 
 // checkOutput checks that path can receive a command's output without
 // touching any of the protect files (the inputs) and returns where the
-// output goes. It writes nothing. path "" or "-" (standard output) gives
-// nil and no error.
+// output goes. It writes nothing. Standard output (see isStdout) gives nil
+// and no error.
 func checkOutput(path string, protect []string) (*outputTarget, error) {
 	if isStdout(path) {
 		return nil, nil
@@ -76,8 +76,11 @@ func checkOutput(path string, protect []string) (*outputTarget, error) {
 		return t, nil
 	case err == nil:
 		t.perm = st.Mode().Perm()
-		if t.perm&0o222 == 0 || syscall.Access(real, wOK) != nil {
+		if t.perm&0o222 == 0 {
 			return nil, fmt.Errorf("cannot write %s: the file is read-only (mode %04o); make it writable (chmod u+w) or choose another file", path, t.perm)
+		}
+		if err := syscall.Access(real, wOK); err != nil {
+			return nil, fmt.Errorf("cannot write %s: you may not write this file (%w); choose another file", path, err)
 		}
 	case !errors.Is(err, fs.ErrNotExist):
 		return nil, fmt.Errorf("cannot write %s: %w", path, err)
