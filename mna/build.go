@@ -3,7 +3,6 @@ package mna
 import (
 	"fmt"
 	"math"
-	"math/cmplx"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -27,16 +26,40 @@ import (
 //   - An injected test current (Input.Inject) is pushed into the node from
 //     Ground, so v(node)/1 A is the impedance seen at the node.
 
-// Build stamps every part of c into the MNA system for the given input and
-// output and checks its structure (see Structure). The returned system is
-// complete even when the structure check fails: the error is then a
-// *StructureError and the system may still be printed.
+// Build resolves the probe (in, out) against c (see Resolve), stamps every
+// part of c into its MNA matrices (BuildMatrices), applies the excitation
+// and the observation, and checks the structure of the result (see
+// Structure). The returned system is complete even when the structure
+// check fails: the error is then a *StructureError and the system may
+// still be printed.
 //
-// Errors: *LookupError for an unknown node, source or part (listing the
-// ones that exist), *PartError for a part that cannot be stamped,
+// Errors: *LookupError for an unknown node, source or part (naming the
+// closest existing name), *PartError for a part that cannot be stamped,
 // *StructureError for a system singular at every s.
 func Build(c *netlist.Circuit, in Input, out Output) (*System, error) {
-	b, err := newBuilder(c, in, out)
+	in, out, err := Resolve(c, in, out)
+	if err != nil {
+		return nil, err
+	}
+	m, err := BuildMatrices(c)
+	if err != nil {
+		return nil, err
+	}
+	e, err := m.Excite(in)
+	if err != nil {
+		return nil, err
+	}
+	return e.System(out)
+}
+
+// BuildMatrices stamps every part of c into the circuit's MNA matrices,
+// independent of any input or output: every independent source zeroed
+// (voltage sources shorted, current sources opened). Build one per circuit
+// and derive systems and solvers for any number of probes from it.
+//
+// Errors: *PartError for a part that cannot be stamped.
+func BuildMatrices(c *netlist.Circuit) (*Matrices, error) {
+	b, err := newBuilder(c)
 	if err != nil {
 		return nil, err
 	}
@@ -48,19 +71,12 @@ func Build(c *netlist.Circuit, in Input, out Output) (*System, error) {
 	if err := b.stampCouplings(); err != nil {
 		return nil, err
 	}
-	sys := b.system()
-	if err := sys.Structure(); err != nil {
-		return sys, err
-	}
-	return sys, nil
+	return b.matrices(), nil
 }
 
 // builder holds the unknown numbering and the matrices while stamping.
 type builder struct {
-	c      *netlist.Circuit
-	in     Input
-	out    Output
-	source *netlist.Part // the input source, nil with Inject
+	c *netlist.Circuit
 
 	nodes    map[string]int
 	names    []string // node names in row order
@@ -68,43 +84,16 @@ type builder struct {
 	unknowns []string
 	n        int
 	g, cap   []float64 // row-major n×n
-	bvec     []float64
-	lvec     []float64
 	edges    []edge
+	controls map[string]control
 }
 
-func newBuilder(c *netlist.Circuit, in Input, out Output) (*builder, error) {
-	b := &builder{c: c, in: in, out: out, nodes: map[string]int{}, branches: map[string]int{}}
-	add := func(name string) {
-		if isGround(name) || name == "" {
-			return
-		}
-		if _, ok := b.nodes[name]; !ok {
-			b.nodes[name] = len(b.names)
-			b.names = append(b.names, name)
-		}
-	}
-	for _, n := range c.Nodes {
-		add(n)
-	}
-	for i := range c.Parts {
-		for _, n := range c.Parts[i].Nodes {
-			add(n)
-		}
-		if k := c.Parts[i].Kind; k == netlist.VCVS || k == netlist.VCCS {
-			for _, n := range c.Parts[i].Sense {
-				add(n)
-			}
-		}
-	}
-	for _, n := range b.names {
+func newBuilder(c *netlist.Circuit) (*builder, error) {
+	b := &builder{c: c, nodes: map[string]int{}, branches: map[string]int{}, controls: map[string]control{}}
+	b.names = circuitNodes(c)
+	for i, n := range b.names {
+		b.nodes[n] = i
 		b.unknowns = append(b.unknowns, "v("+n+")")
-	}
-	if err := b.resolveInput(); err != nil {
-		return nil, err
-	}
-	if err := b.resolveOutput(); err != nil {
-		return nil, err
 	}
 	sensed := map[string]bool{}
 	for i := range c.Parts {
@@ -116,9 +105,6 @@ func newBuilder(c *netlist.Circuit, in Input, out Output) (*builder, error) {
 			sensed[p.Control] = true
 		}
 	}
-	if out.Kind == PartCurrent {
-		sensed[out.Part] = true
-	}
 	for i := range c.Parts {
 		p := &c.Parts[i]
 		if needsBranch(p.Kind) || sensed[p.Name] {
@@ -129,17 +115,6 @@ func newBuilder(c *netlist.Circuit, in Input, out Output) (*builder, error) {
 	b.n = len(b.unknowns)
 	b.g = make([]float64, b.n*b.n)
 	b.cap = make([]float64, b.n*b.n)
-	b.bvec = make([]float64, b.n)
-	b.lvec = make([]float64, b.n)
-	if in.Inject != "" {
-		b.bvec[b.nodes[in.Inject]] = 1
-	}
-	if out.Kind == PartCurrent {
-		b.lvec[b.branches[out.Part]] = 1
-	} else {
-		b.addL(b.node(out.Node), 1)
-		b.addL(b.node(out.Ref), -1)
-	}
 	return b, nil
 }
 
@@ -174,101 +149,22 @@ func (b *builder) hasNode(name string) bool {
 	return ok
 }
 
-func (b *builder) resolveInput() error {
-	var sources []string
-	var only *netlist.Part
-	for i := range b.c.Parts {
-		p := &b.c.Parts[i]
-		if p.Kind == netlist.VSource || p.Kind == netlist.ISource {
-			sources = append(sources, p.Name)
-			only = p
-		}
-	}
-	switch {
-	case b.in.Inject != "":
-		if b.in.Source != "" {
-			return fmt.Errorf("input: give either a source (%q) or a node to inject into (%q), not both", b.in.Source, b.in.Inject)
-		}
-		if isGround(b.in.Inject) || !b.hasNode(b.in.Inject) {
-			return &LookupError{What: "node", Name: b.in.Inject, Known: b.names,
-				Why: fmt.Sprintf("cannot inject a test current into node %q", b.in.Inject)}
-		}
-		return nil
-	case b.in.Source == "":
-		if len(sources) != 1 {
-			why := "the circuit has several independent sources; name the input"
-			if len(sources) == 0 {
-				why = "the circuit has no independent source; inject a test current into a node instead"
-			}
-			return &LookupError{What: "source", Known: sources, Why: why}
-		}
-		b.source = only
-	default:
-		p, ok := b.c.Part(b.in.Source)
-		if !ok || (p.Kind != netlist.VSource && p.Kind != netlist.ISource) {
-			return &LookupError{What: "source", Name: b.in.Source, Known: sources}
-		}
-		b.source = p
-	}
-	b.in.Source = b.source.Name
-	return nil
-}
-
-func (b *builder) resolveOutput() error {
-	switch b.out.Kind {
-	case NodeVoltage:
-		if b.out.Ref == "" {
-			b.out.Ref = netlist.Ground
-		}
-		for _, n := range []string{b.out.Node, b.out.Ref} {
-			if !b.hasNode(n) {
-				return &LookupError{What: "node", Name: n, Known: b.nodeList()}
-			}
-		}
-		if isGround(b.out.Node) && isGround(b.out.Ref) {
-			return &LookupError{What: "node", Name: b.out.Node, Known: b.nodeList(),
-				Why: "the output node is the reference node"}
-		}
-		return nil
-	case PartCurrent:
-		p, ok := b.c.Part(b.out.Part)
-		if !ok || p.Kind == netlist.Coupling {
-			return &LookupError{What: "part", Name: b.out.Part, Known: b.currentParts()}
-		}
-		return nil
-	}
-	return fmt.Errorf("output: unknown output kind %d", b.out.Kind)
-}
-
-// currentParts lists the parts that have a current (every kind but coupling).
-func (b *builder) currentParts() []string {
-	var names []string
-	for i := range b.c.Parts {
-		if b.c.Parts[i].Kind != netlist.Coupling {
-			names = append(names, b.c.Parts[i].Name)
-		}
-	}
-	return names
-}
-
 func (b *builder) checkControl(p *netlist.Part) error {
 	ctl, ok := b.c.Part(p.Control)
 	if !ok || ctl.Kind == netlist.Coupling {
-		return partLookupError(p.Name, &LookupError{What: "part", Name: p.Control, Known: b.currentParts(),
+		return partLookupError(p.Name, &LookupError{What: "part", Name: p.Control, Known: newNames(b.c).currentParts(),
 			Why: fmt.Sprintf("sense=%q names no part with a current", p.Control)})
 	}
 	return nil
 }
 
-func (b *builder) system() *System {
-	sys := &System{
+func (b *builder) matrices() *Matrices {
+	return &Matrices{
 		Unknowns: b.unknowns,
 		G:        mat.NewDense(max(b.n, 1), max(b.n, 1), padded(b.g, b.n)),
 		C:        mat.NewDense(max(b.n, 1), max(b.n, 1), padded(b.cap, b.n)),
-		B:        b.bvec,
-		L:        b.lvec,
-		Input:    b.in,
-		Output:   b.out,
+		c:        b.c,
+		controls: b.controls,
 		idx: index{
 			nodeIndex:   b.nodes,
 			branchIndex: b.branches,
@@ -276,11 +172,6 @@ func (b *builder) system() *System {
 			edges:       b.edges,
 		},
 	}
-	sys.SourceAmplitude = 1
-	if b.source != nil {
-		sys.SourceAmplitude = complex(b.source.Value, 0) * cmplx.Exp(complex(0, b.source.PhaseRad))
-	}
-	return sys
 }
 
 // padded returns data, or a 1×1 zero matrix for an empty system (gonum
@@ -303,21 +194,6 @@ func (b *builder) addC(r, c int, v float64) {
 		b.cap[r*b.n+c] += v
 	}
 }
-
-func (b *builder) addB(r int, v float64) {
-	if r >= 0 {
-		b.bvec[r] += v
-	}
-}
-
-func (b *builder) addL(r int, v float64) {
-	if r >= 0 {
-		b.lvec[r] += v
-	}
-}
-
-// isInput reports whether p is the excitation.
-func (b *builder) isInput(p *netlist.Part) bool { return b.source != nil && p.Name == b.source.Name }
 
 // finitePositive checks a part value that must be finite and > 0.
 func finitePositive(p *netlist.Part, what string, v float64) error {

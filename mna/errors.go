@@ -5,6 +5,8 @@ import (
 	"math"
 	"math/cmplx"
 	"strings"
+
+	"nodal/netlist"
 )
 
 // LookupError reports a name (node, source or part) that the circuit does
@@ -16,7 +18,9 @@ type LookupError struct {
 	Why   string   // optional explanation replacing "no such"
 }
 
-// Error formats the lookup failure and the names that exist.
+// Error formats the lookup failure: `no node "otu"; did you mean "out"?`
+// when a known name is close to the one asked for, else the names that
+// exist.
 func (e *LookupError) Error() string {
 	var b strings.Builder
 	switch {
@@ -25,12 +29,25 @@ func (e *LookupError) Error() string {
 	default:
 		fmt.Fprintf(&b, "no %s %q", e.What, e.Name)
 	}
+	if h := e.Hint(); h != "" {
+		fmt.Fprintf(&b, "; did you mean %q?", h)
+		return b.String()
+	}
 	if len(e.Known) == 0 {
 		fmt.Fprintf(&b, " (the circuit has no %ss)", e.What)
 	} else {
 		fmt.Fprintf(&b, " (%ss: %s)", e.What, quoteList(e.Known))
 	}
 	return b.String()
+}
+
+// Hint returns the known name closest to Name (see netlist.Closest), or ""
+// when none is close or no name was asked for.
+func (e *LookupError) Hint() string {
+	if e.Name == "" {
+		return ""
+	}
+	return netlist.Closest(e.Name, e.Known)
 }
 
 // PartError reports a part that cannot be stamped (bad terminal count, a

@@ -40,7 +40,8 @@ func TestPartErrorWrapsLookup(t *testing.T) {
 			t.Errorf("%s: errors.As found lookup %+v in %v", tc.name, le, err)
 			continue
 		}
-		if pe.Msg != le.Error() || !strings.HasPrefix(err.Error(), `part "`+tc.part+`": `+tc.msg+" (") {
+		head := `part "` + tc.part + `": ` + tc.msg
+		if pe.Msg != le.Error() || !(strings.HasPrefix(err.Error(), head+" (") || strings.HasPrefix(err.Error(), head+"; did you mean ")) {
 			t.Errorf("%s: message %q (lookup %q)", tc.name, err, le.Error())
 		}
 	}

@@ -3,6 +3,8 @@ package mna
 import (
 	"fmt"
 	"math"
+
+	"gonum.org/v1/gonum/mat"
 )
 
 // luFactor is an LU factorisation with threshold partial (row) pivoting
@@ -48,8 +50,18 @@ type patEntry struct {
 	pos, col, g, c int
 }
 
-func newLUFactor(sys *System) *luFactor {
-	n := sys.Size()
+// pencil is the pair (G, C) of Y(s) = G + sC with the names of its
+// unknowns, as held by a System or a Matrices.
+type pencil struct {
+	g, c     *mat.Dense
+	unknowns []string
+}
+
+func (s *System) pencil() pencil   { return pencil{s.G, s.C, s.Unknowns} }
+func (m *Matrices) pencil() pencil { return pencil{m.G, m.C, m.Unknowns} }
+
+func newLUFactor(sys pencil) *luFactor {
+	n := len(sys.unknowns)
 	f := &luFactor{
 		n:      n,
 		perm:   minimumDegree(sys),
@@ -65,7 +77,7 @@ func newLUFactor(sys *System) *luFactor {
 		uCol:   make([]int, 0, n*n/2+n),
 		lVal:   make([]complex128, 0, n*n/2+n),
 	}
-	g, c := sys.G.RawMatrix(), sys.C.RawMatrix()
+	g, c := sys.g.RawMatrix(), sys.c.RawMatrix()
 	for i, pi := range f.perm {
 		for j, pj := range f.perm {
 			e := patEntry{pos: i*n + j, col: j, g: pi*g.Stride + pj, c: pi*c.Stride + pj}
@@ -87,9 +99,9 @@ const pivotKeep = 0.1
 // fill-in low: repeatedly the unknown with the fewest neighbours in the
 // symmetrised pattern of G and C, its neighbours then joined into a clique
 // (ties by lowest index, so the order is deterministic).
-func minimumDegree(sys *System) []int {
-	n := sys.Size()
-	g, c := sys.G.RawMatrix(), sys.C.RawMatrix()
+func minimumDegree(sys pencil) []int {
+	n := len(sys.unknowns)
+	g, c := sys.g.RawMatrix(), sys.c.RawMatrix()
 	adj := make([]bool, n*n)
 	for i := 0; i < n; i++ {
 		for j := 0; j < n; j++ {
@@ -146,8 +158,8 @@ func mag1(z complex128) float64 { return math.Abs(real(z)) + math.Abs(imag(z)) }
 
 // assemble sets a = G + sC from the system's matrices, visiting only the
 // pattern fixed when the factor was made.
-func (f *luFactor) assemble(sys *System, s complex128) {
-	g, c := sys.G.RawMatrix().Data, sys.C.RawMatrix().Data
+func (f *luFactor) assemble(sys pencil, s complex128) {
+	g, c := sys.g.RawMatrix().Data, sys.c.RawMatrix().Data
 	sr, si := real(s), imag(s)
 	clear(f.a)
 	clear(f.colmax)
@@ -275,13 +287,50 @@ func (f *luFactor) solvePermuted(x []complex128) {
 	}
 }
 
+// solveTransposed overwrites x (indexed by unknown) with Y⁻ᵀx (the plain
+// transpose, no conjugation) using the factorisation. With the
+// factorisation Q·Y·Qᵀ = (M_{n−1}P_{n−1}⋯M_0P_0)⁻¹·U (Q the fill-reducing
+// order, P_k the row exchanges, M_k the eliminations), Y⁻ᵀ is Uᵀ solved
+// first, then M_kᵀ and P_k replayed from k = n−1 down to 0.
+func (f *luFactor) solveTransposed(x []complex128) {
+	w := f.w
+	for k, pk := range f.perm {
+		w[k] = x[pk]
+	}
+	n, a := f.n, f.a
+	for k := 0; k < n; k++ {
+		v := w[k] * f.dinv[k]
+		w[k] = v
+		if v == 0 {
+			continue
+		}
+		row := a[k*n : k*n+n]
+		for _, j := range f.uCol[f.uStart[k]:f.uStart[k+1]] {
+			w[j] -= row[j] * v
+		}
+	}
+	for k := n - 1; k >= 0; k-- {
+		v := w[k]
+		for e := f.lStart[k]; e < f.lStart[k+1]; e++ {
+			v -= f.lVal[e] * w[f.lRow[e]]
+		}
+		w[k] = v
+		if p := f.piv[k]; p != k {
+			w[k], w[p] = w[p], w[k]
+		}
+	}
+	for k, pk := range f.perm {
+		x[pk] = w[k]
+	}
+}
+
 // factorAt assembles and factors Y(s), returning a *SingularError naming the
 // unknown whose pivot vanished.
-func (f *luFactor) factorAt(sys *System, s complex128) error {
+func (f *luFactor) factorAt(sys pencil, s complex128) error {
 	f.assemble(sys, s)
 	if k := f.factor(); k >= 0 {
 		u := f.perm[k]
-		return &SingularError{S: s, Unknown: sys.Unknowns[u], Index: u}
+		return &SingularError{S: s, Unknown: sys.unknowns[u], Index: u}
 	}
 	return nil
 }
@@ -295,8 +344,8 @@ func (s *System) Solve(sv complex128, x []complex128) error {
 	if len(x) != n {
 		return fmt.Errorf("solve: x has length %d, the system has %d unknowns", len(x), n)
 	}
-	f := newLUFactor(s)
-	if err := f.factorAt(s, sv); err != nil {
+	f := newLUFactor(s.pencil())
+	if err := f.factorAt(s.pencil(), sv); err != nil {
 		return err
 	}
 	for i, b := range s.B {
@@ -347,6 +396,7 @@ func dotReal(l []float64, x []complex128) complex128 {
 // their values, and B and L, are read at every Eval.
 type Sweeper struct {
 	sys  *System
+	p    pencil
 	f    *luFactor
 	x, z []complex128
 	cnz  []cEntry // the non-zeros of C
@@ -358,7 +408,7 @@ type cEntry struct{ i, j, raw int }
 // NewSweeper allocates the working memory for sys.
 func NewSweeper(sys *System) *Sweeper {
 	n := sys.Size()
-	w := &Sweeper{sys: sys, f: newLUFactor(sys), x: make([]complex128, n), z: make([]complex128, n)}
+	w := &Sweeper{sys: sys, p: sys.pencil(), f: newLUFactor(sys.pencil()), x: make([]complex128, n), z: make([]complex128, n)}
 	c := sys.C.RawMatrix()
 	for i := 0; i < n; i++ {
 		for j := 0; j < n; j++ {
@@ -376,7 +426,7 @@ func NewSweeper(sys *System) *Sweeper {
 // seconds, exactly. A numerically singular Y(s) gives a *SingularError.
 func (w *Sweeper) Eval(s complex128) (h, dh complex128, err error) {
 	sys := w.sys
-	if err := w.f.factorAt(sys, s); err != nil {
+	if err := w.f.factorAt(w.p, s); err != nil {
 		return 0, 0, err
 	}
 	for i, b := range sys.B {

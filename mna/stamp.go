@@ -167,8 +167,8 @@ func (b *builder) stampInductor(p *netlist.Part) error {
 	return nil
 }
 
-// stampVSource: v(p) − v(n) = u for the input source, 0 otherwise (a
-// zeroed voltage source is a short).
+// stampVSource: v(p) − v(n) = 0, a zeroed voltage source (a short); an
+// excitation that drives it puts u on the right of row k.
 func (b *builder) stampVSource(p *netlist.Part) error {
 	if err := finite(p, "amplitude", p.Value); err != nil {
 		return err
@@ -178,35 +178,24 @@ func (b *builder) stampVSource(p *netlist.Part) error {
 		return err
 	}
 	b.branchVoltage(k, a, nb)
-	if b.isInput(p) {
-		b.addB(k, 1)
-	}
 	return nil
 }
 
-// stampISource: the input source pushes a current u out of its first
-// terminal into node a; it returns through b. A zeroed current source is
-// open. With a branch current (flowing through the part from a to b) the
-// row is i = −u.
+// stampISource: a zeroed current source is open; with a branch current
+// (flowing through the part from a to b) the row is i = 0. An excitation
+// that drives it pushes u out of its first terminal into node a, returning
+// through b (with a branch: the row becomes i = −u).
 func (b *builder) stampISource(p *netlist.Part) error {
 	if err := finite(p, "amplitude", p.Value); err != nil {
 		return err
 	}
-	a, nb, k, err := b.twoTerminal(p, edgeCurrent)
+	_, _, k, err := b.twoTerminal(p, edgeCurrent)
 	if err != nil {
 		return err
 	}
-	in := 0.0
-	if b.isInput(p) {
-		in = 1
-	}
 	if k >= 0 {
 		b.addG(k, k, 1)
-		b.addB(k, -in)
-		return nil
 	}
-	b.addB(a, in)
-	b.addB(nb, -in)
 	return nil
 }
 
@@ -224,8 +213,7 @@ func (b *builder) stampVCVS(p *netlist.Part) error {
 		return err
 	}
 	b.branchVoltage(k, a, nb)
-	b.addG(k, c, -p.Value)
-	b.addG(k, d, p.Value)
+	b.stampControl(p.Name, []int{k}, []float64{-p.Value}, []int{c, d}, []float64{1, -1})
 	return nil
 }
 
@@ -246,15 +234,10 @@ func (b *builder) stampVCCS(p *netlist.Part) error {
 	}
 	if k >= 0 {
 		b.addG(k, k, 1)
-		b.addG(k, c, p.Value)
-		b.addG(k, d, -p.Value)
+		b.stampControl(p.Name, []int{k}, []float64{p.Value}, []int{c, d}, []float64{1, -1})
 		return nil
 	}
-	gm := p.Value
-	b.addG(a, c, -gm)
-	b.addG(a, d, gm)
-	b.addG(nb, c, gm)
-	b.addG(nb, d, -gm)
+	b.stampControl(p.Name, []int{a, nb}, []float64{-p.Value, p.Value}, []int{c, d}, []float64{1, -1})
 	return nil
 }
 
@@ -268,7 +251,7 @@ func (b *builder) stampCCVS(p *netlist.Part) error {
 		return err
 	}
 	b.branchVoltage(k, a, nb)
-	b.addG(k, b.branches[p.Control], -p.Value)
+	b.stampControl(p.Name, []int{k}, []float64{-p.Value}, []int{b.branches[p.Control]}, []float64{1})
 	return nil
 }
 
@@ -286,11 +269,10 @@ func (b *builder) stampCCCS(p *netlist.Part) error {
 	ctl := b.branches[p.Control]
 	if k >= 0 {
 		b.addG(k, k, 1)
-		b.addG(k, ctl, p.Value)
+		b.stampControl(p.Name, []int{k}, []float64{p.Value}, []int{ctl}, []float64{1})
 		return nil
 	}
-	b.addG(a, ctl, -p.Value)
-	b.addG(nb, ctl, p.Value)
+	b.stampControl(p.Name, []int{a, nb}, []float64{-p.Value, p.Value}, []int{ctl}, []float64{1})
 	return nil
 }
 
@@ -335,9 +317,29 @@ func (b *builder) stampOpAmp(p *netlist.Part) error {
 	b.addG(k, k, g0*p.Rout)
 	b.addC(k, out, c0)
 	b.addC(k, k, c0*p.Rout)
-	b.addG(k, plus, -1)
-	b.addG(k, minus, 1)
+	b.stampControl(p.Name, []int{k}, []float64{-1}, []int{plus, minus}, []float64{1, -1})
 	return nil
+}
+
+// control records how a gain element's control quantity q = Σ sig[j]·x[cols[j]]
+// enters its equations: row rows[i] holds the term w[i]·q (rows and cols
+// −1 for Ground are skipped). Breaking the control removes these terms and
+// puts −w[i]·t on the right of row rows[i].
+type control struct {
+	rows []int
+	w    []float64
+	cols []int
+	sig  []float64
+}
+
+// stampControl stamps the control terms of a gain element and records them.
+func (b *builder) stampControl(part string, rows []int, w []float64, cols []int, sig []float64) {
+	for i, r := range rows {
+		for j, c := range cols {
+			b.addG(r, c, w[i]*sig[j])
+		}
+	}
+	b.controls[part] = control{rows: rows, w: w, cols: cols, sig: sig}
 }
 
 // stampCouplings adds the mutual inductance M = K·√(L1·L2) of every

@@ -4,39 +4,8 @@ package mna
 
 import "gonum.org/v1/gonum/mat"
 
-// OutputKind says what an Output observes.
-type OutputKind int
-
-const (
-	// NodeVoltage observes v(Node) − v(Ref).
-	NodeVoltage OutputKind = iota
-	// PartCurrent observes the current through a two-terminal part, flowing
-	// into its first terminal and out of its second (for an opamp: the
-	// current its output pushes into the output node).
-	PartCurrent
-)
-
-// Output names the observed quantity y.
-type Output struct {
-	Kind OutputKind
-	Node string // NodeVoltage: the node (Ground allowed only as Ref)
-	Ref  string // NodeVoltage: the reference node; "" means Ground
-	Part string // PartCurrent: the part's hierarchical name
-}
-
-// Input names the excitation u: the independent source whose small-signal
-// amplitude is set to 1 (phase 0) while every other independent source is
-// set to zero. Source "" (with Inject "") means the circuit's only source.
-//
-// With Inject set, u is instead a unit test current pushed into node Inject
-// from Ground with every independent source zeroed (voltage sources
-// shorted, current sources opened), as used for output impedance.
-type Input struct {
-	Source string
-	Inject string
-}
-
-// System is the MNA system of one circuit for one input and one output:
+// System is the MNA system of one circuit for one probe (one input and one
+// output), made by Build or Excited.System:
 //
 //	(G + sC)·x = B·u,  y = L·x
 //
@@ -45,14 +14,17 @@ type Input struct {
 // circuit's node order) then the branch currents.
 //
 // Invariants: len(Unknowns) == n; Unknowns[i] names row/column i as
-// "v(NODE)" or "i(PART)" (a branch current).
+// "v(NODE)", "i(PART)" (a branch current) or "y" (the observed quantity,
+// when Excited.System adds it as an unknown). G and C may be shared with
+// the circuit's Matrices: treat them as read-only unless the System came
+// from Build, which makes its own.
 type System struct {
 	Unknowns []string
 	G, C     *mat.Dense
 	B, L     []float64
 
-	Input  Input  // the resolved source name
-	Output Output // the resolved output
+	Input  Input  // the resolved excitation
+	Output Output // the resolved observation
 	// SourceAmplitude is the complex small-signal amplitude the file gives
 	// the input source (amplitude·e^{j·phase}); H is per unit of it.
 	SourceAmplitude complex128

@@ -8,6 +8,8 @@ import (
 	"strings"
 
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // Overrides maps a top-level parameter name to an SI value that replaces
@@ -399,7 +401,7 @@ func (e *elab) tolerance(sc *scope, x *Expr) float64 {
 	t := v.fn(e.nom)
 	if !(t > 0 && t < 1) {
 		e.errorf(x.Pos, "write a percentage such as 1% (a plain number is a fraction)",
-			"tolerance must be above 0 and below 100%% (at −100%% a part would vanish), got %s", FormatEng(t, UnitPercent))
+			"tolerance must be above 0 and below 100%% (at −100%% a part would vanish), got %s", valueText(t*100, "%"))
 		return 0
 	}
 	return t
@@ -411,7 +413,7 @@ func bareName(x *Expr) string {
 		return ""
 	}
 	u := x.Left.Left
-	if u.Neg != nil || u.Power.Exp != nil || u.Power.Base.Ref == nil || u.Power.Base.Ref.Open != "" {
+	if u.Power == nil || u.Power.Exp != nil || u.Power.Base.Ref == nil || u.Power.Base.Ref.Open != "" {
 		return ""
 	}
 	return u.Power.Base.Ref.Name
@@ -423,7 +425,7 @@ func (e *elab) node(sc *scope, r *NodeRef) string {
 	switch {
 	case name == Ground || name == "0":
 		return Ground
-	case isDigit(name[0]) && !isPlainInt(name):
+	case name[0] >= '0' && name[0] <= '9' && !syntax.IsDigits(name):
 		e.errorf(r.Pos, "", "node %q: node names are identifiers or non-negative integers", name)
 	case strings.Contains(name, "."):
 		e.errorf(r.Pos, "", "node %q: node names may not contain \".\"", name)

@@ -3,9 +3,12 @@ package netlist
 import (
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // kindSpec describes how an element kind is written.
@@ -90,6 +93,11 @@ const (
 	MaxPartValue = 1e100
 )
 
+// valueText writes v with 4 significant digits and its unit, for messages.
+func valueText(v float64, unit string) string {
+	return strings.TrimSpace(strconv.FormatFloat(v, 'g', 4, 64) + " " + unit)
+}
+
 // check validates the values of a part.
 func (s *partStep) check(p *Part) string {
 	finite := func(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
@@ -99,13 +107,13 @@ func (s *partStep) check(p *Part) string {
 	switch p.Kind {
 	case Resistor, Capacitor, Inductor:
 		if p.Value <= 0 {
-			return fmt.Sprintf("value must be > 0, got %s", FormatEng(p.Value, kindSpecs[p.Kind].unit))
+			return fmt.Sprintf("value must be > 0, got %s", valueText(p.Value, kindSpecs[p.Kind].unit))
 		}
 		if p.Value < MinPartValue {
-			return fmt.Sprintf("value %s is too small to represent: R, L and C values must be at least %g (in Ω, H, F)", FormatEng(p.Value, kindSpecs[p.Kind].unit), MinPartValue)
+			return fmt.Sprintf("value %s is too small to represent: R, L and C values must be at least %g (in Ω, H, F)", valueText(p.Value, kindSpecs[p.Kind].unit), MinPartValue)
 		}
 		if p.Value > MaxPartValue {
-			return fmt.Sprintf("value %s is too large to represent: R, L and C values must be at most %g (in Ω, H, F)", FormatEng(p.Value, kindSpecs[p.Kind].unit), MaxPartValue)
+			return fmt.Sprintf("value %s is too large to represent: R, L and C values must be at most %g (in Ω, H, F)", valueText(p.Value, kindSpecs[p.Kind].unit), MaxPartValue)
 		}
 	case Coupling:
 		if p.Value == 0 || math.Abs(p.Value) > 1 {
@@ -310,7 +318,7 @@ func contains(list []string, s string) bool {
 
 // pairNodes returns the two node names of `(c, d)`, or nil.
 func pairNodes(x *Expr) []*NodeRef {
-	if len(x.Rest) > 0 || len(x.Left.Rest) > 0 || x.Left.Left.Neg != nil || x.Left.Left.Power.Exp != nil {
+	if len(x.Rest) > 0 || len(x.Left.Rest) > 0 || x.Left.Left.Power == nil || x.Left.Left.Power.Exp != nil {
 		return nil
 	}
 	g := x.Left.Left.Power.Base.Group
@@ -321,11 +329,10 @@ func pairNodes(x *Expr) []*NodeRef {
 	for _, el := range g {
 		name := bareName(el)
 		if name == "" {
-			b := el.Left.Left.Power.Base
-			if len(el.Rest) > 0 || len(el.Left.Rest) > 0 || el.Left.Left.Power.Exp != nil || !isPlainInt(b.Number) {
+			if len(el.Rest) > 0 || len(el.Left.Rest) > 0 || el.Left.Left.Power == nil || el.Left.Left.Power.Exp != nil || !syntax.IsDigits(el.Left.Left.Power.Base.Number) {
 				return nil
 			}
-			name = b.Number
+			name = el.Left.Left.Power.Base.Number
 		}
 		out = append(out, &NodeRef{Pos: el.Pos, Name: name})
 	}

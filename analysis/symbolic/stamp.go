@@ -282,57 +282,38 @@ func (bd *builder) hasNode(n string) bool {
 	return ok || isGround(n)
 }
 
-// resolveInput writes the input vector B.
+// resolveInput writes the input vector B for an excitation resolved by
+// mna.Resolve.
 func (bd *builder) resolveInput(in mna.Input) error {
-	c := bd.c
-	if in.Inject != "" {
-		if !bd.hasNode(in.Inject) {
-			return fmt.Errorf("input: node %q is not a node of the circuit", in.Inject)
+	bd.sys.input = in
+	inject := func(a, b string) {
+		if i := bd.nodeIndex(a); i >= 0 {
+			bd.b[i] = bd.b[i].Add(Int(1))
 		}
-		if isGround(in.Inject) {
-			return fmt.Errorf("input: cannot inject a test current into the reference node")
+		if i := bd.nodeIndex(b); i >= 0 {
+			bd.b[i] = bd.b[i].Sub(Int(1))
 		}
-		bd.b[bd.node[in.Inject]] = Int(1)
-		bd.sys.input = in
+	}
+	switch in.Kind {
+	case mna.Injection:
+		inject(in.Inject, in.Ref)
+		return nil
+	case mna.Drive, mna.SourceTest:
+		p, _ := bd.c.Part(in.Source)
+		switch {
+		case p.Kind == netlist.VSource && in.Kind == mna.Drive:
+			bd.b[bd.br[p.Name]] = Int(1)
+		case p.Kind == netlist.VSource:
+			// The test current u leaves the + terminal: i = −u
+			// (stampPart writes the row).
+			bd.b[bd.br[p.Name]] = Int(-1)
+		default:
+			// The source pushes u into its first terminal's node.
+			inject(p.Nodes[0], p.Nodes[1])
+		}
 		return nil
 	}
-	name := in.Source
-	if name == "" {
-		var found []string
-		for _, p := range c.Parts {
-			if p.Kind == netlist.VSource || p.Kind == netlist.ISource {
-				found = append(found, p.Name)
-			}
-		}
-		switch len(found) {
-		case 0:
-			return fmt.Errorf("input: the circuit has no independent source")
-		case 1:
-			name = found[0]
-		default:
-			return fmt.Errorf("input: the circuit has %d sources (%s); name one", len(found), strings.Join(found, ", "))
-		}
-	}
-	p, ok := c.Part(name)
-	if !ok {
-		return fmt.Errorf("input: no part %q", name)
-	}
-	switch p.Kind {
-	case netlist.VSource:
-		bd.b[bd.br[name]] = Int(1)
-	case netlist.ISource:
-		// The source pushes u into its first terminal's node.
-		if a := bd.nodeIndex(p.Nodes[0]); a >= 0 {
-			bd.b[a] = bd.b[a].Add(Int(1))
-		}
-		if b := bd.nodeIndex(p.Nodes[1]); b >= 0 {
-			bd.b[b] = bd.b[b].Sub(Int(1))
-		}
-	default:
-		return fmt.Errorf("input: part %q is a %s, not an independent source", name, p.Kind)
-	}
-	bd.sys.input = mna.Input{Source: name}
-	return nil
+	return fmt.Errorf("input: a %s is not supported symbolically", in.Kind)
 }
 
 func (bd *builder) nodes2(p *netlist.Part) (int, int, error) {
@@ -377,7 +358,14 @@ func (bd *builder) stampPart(p *netlist.Part) error {
 		bd.stampBranch(k, a, b)
 		bd.stamp(k, k, s.Mul(lv).Neg()) // v_a − v_b − sL·i = 0
 	case netlist.VSource:
-		bd.stampBranch(bd.br[p.Name], a, b) // v_a − v_b = u or 0
+		k := bd.br[p.Name]
+		if in := bd.sys.input; in.Kind == mna.SourceTest && in.Source == p.Name {
+			bd.stamp(a, k, Int(1)) // replaced by a test current: i = −u
+			bd.stamp(b, k, Int(-1))
+			bd.stamp(k, k, Int(1))
+			break
+		}
+		bd.stampBranch(k, a, b) // v_a − v_b = u or 0
 	case netlist.ISource:
 		// Stamped only as the input (resolveInput); otherwise open.
 	case netlist.VCVS:
@@ -576,36 +564,27 @@ func (bd *builder) currentForm(name string, seen map[string]bool) (linForm, erro
 	return f, nil
 }
 
-// outputForm returns the output y as a linear form.
+// outputForm returns the output y, resolved by mna.Resolve, as a linear
+// form.
 func (bd *builder) outputForm(out mna.Output) (linForm, error) {
+	bd.sys.output = out
 	switch out.Kind {
 	case mna.NodeVoltage:
 		f := linForm{coef: map[int]Poly{}}
-		if !bd.hasNode(out.Node) {
-			return f, fmt.Errorf("output: node %q is not a node of the circuit", out.Node)
-		}
-		if isGround(out.Node) {
-			return f, fmt.Errorf("output: the reference node cannot be the observed node")
-		}
-		ref := out.Ref
-		if ref == "" {
-			ref = netlist.Ground
-		}
-		if !bd.hasNode(ref) {
-			return f, fmt.Errorf("output: reference node %q is not a node of the circuit", ref)
-		}
 		f.add(bd.nodeIndex(out.Node), Int(1))
-		if !isGround(ref) {
-			f.add(bd.nodeIndex(ref), Int(-1))
-		}
-		bd.sys.output = mna.Output{Kind: mna.NodeVoltage, Node: out.Node, Ref: out.Ref}
+		f.add(bd.nodeIndex(out.Ref), Int(-1))
 		return f, nil
-	case mna.PartCurrent:
+	case mna.PartCurrent, mna.SourceCurrent:
 		f, err := bd.currentForm(out.Part, map[string]bool{})
 		if err != nil {
 			return f, fmt.Errorf("output: %w", err)
 		}
-		bd.sys.output = out
+		if out.Kind == mna.SourceCurrent {
+			for j, c := range f.coef {
+				f.coef[j] = c.Neg()
+			}
+			f.feed = f.feed.Neg()
+		}
 		return f, nil
 	}
 	return linForm{}, fmt.Errorf("output: unknown kind %d", out.Kind)

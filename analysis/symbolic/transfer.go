@@ -76,10 +76,17 @@ type Result struct {
 }
 
 // Transfer derives the symbolic transfer function of c from input in to
-// output out (the semantics of mna.Input and mna.Output). It honours ctx
-// cancellation and returns a *SizeError when an expression grows past the
-// limit, ErrSingular when the circuit has no unique solution.
+// output out (the semantics of mna.Excitation and mna.Observation; every
+// kind but BrokenControl). The probe is resolved by mna.Resolve, whose
+// *mna.LookupError is returned unwrapped so that a wrong name reads the
+// same as from the numeric engine. It honours ctx cancellation and returns
+// a *SizeError when an expression grows past the limit, ErrSingular when
+// the circuit has no unique solution.
 func Transfer(ctx context.Context, c *netlist.Circuit, in mna.Input, out mna.Output, opt Options) (*Result, error) {
+	in, out, err := mna.Resolve(c, in, out)
+	if err != nil {
+		return nil, err // the same message as the numeric engine's
+	}
 	sys, err := buildSystem(c, in, out, opt.Keep)
 	if err != nil {
 		return nil, fmt.Errorf("symbolic: %w", err)
@@ -361,27 +368,6 @@ func (r *Result) format(ps []Poly) []string {
 		out[k] = p.Format(r.Symbols)
 	}
 	return out
-}
-
-// JSONForm is the JSON shape of a symbolic result:
-//
-//	{"symbolic": {"num": ["R2*C1", ...], "den": ["1", ...]}}
-//
-// index k is the coefficient of s^k; each string uses only numbers, names,
-// "*", "+" and "-" (and "/" inside an exact fraction such as "1/3").
-type JSONForm struct {
-	Symbolic JSONPolys `json:"symbolic"`
-}
-
-// JSONPolys holds the coefficient strings of N and D.
-type JSONPolys struct {
-	Num []string `json:"num"`
-	Den []string `json:"den"`
-}
-
-// JSON returns the result in its JSON shape.
-func (r *Result) JSON() JSONForm {
-	return JSONForm{Symbolic: JSONPolys{Num: r.NumStrings(), Den: r.DenStrings()}}
 }
 
 // singularWhy explains ErrSingular with the numeric system's structural

@@ -5,9 +5,12 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"nodal/cmd/nodal/notation"
 	"strings"
 
-	"nodal/analysis"
+	"nodal/analysis/response"
+	"nodal/analysis/symbolic"
+	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
 	"nodal/mna"
 	"nodal/netlist"
@@ -19,7 +22,7 @@ type tfCmd struct {
 	In     string `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
 	Out    string `help:"Output node, or i(PART) for the current through a part." placeholder:"NODE"`
 	Ref    string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
-	Zin    string `help:"Instead of a voltage ratio: the input impedance seen by this source." placeholder:"SOURCE"`
+	Zin    string `help:"Instead of a voltage ratio: the impedance this source sees at its terminals (source replaced by a test current, other sources zeroed)." placeholder:"SOURCE"`
 	Zout   string `help:"Instead of a voltage ratio: the impedance at this node to gnd, every independent source zeroed." placeholder:"NODE"`
 	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
@@ -66,31 +69,26 @@ type tfRequest struct {
 
 // tfResult is an extracted transfer function with what it is of.
 type tfResult struct {
-	tf     *analysis.TransferFunction
-	sys    *mna.System
-	what   string // "H(s) = v(out)/v(Vs)", "Zin(s) seen by Vs" ...
-	yName  string // output signal name for the ODE
-	uName  string // input signal name for the ODE
-	unit   string // unit of H: "V/V", "Ω", ...
-	invert bool   // H was inverted (input impedance of a voltage source)
+	tf    *transfer.TransferFunction
+	sys   *mna.System
+	what  string // "H(s) = v(out)/v(Vs)", "Zin(s) seen by Vs" ...
+	yName string // output signal name for the ODE
+	uName string // input signal name for the ODE
+	unit  string // unit of H: "V/V", "Ω", ...
 }
 
-// tfProbe is a resolved tfRequest: the excitation and observation of the
-// MNA system, and what the transfer function means.
+// tfProbe is a resolved tfRequest: the probe of the MNA system, and what
+// the transfer function means.
 type tfProbe struct {
-	in  mna.Input
-	out mna.Output
-	// invert: the wanted function is −1/(out/in), the input impedance of
-	// a voltage source from the current it carries (which flows into its
-	// + terminal, so the delivered current is −i(Vs)).
-	invert       bool
+	mna.Probe
 	what         string // "" for a voltage ratio: set from the resolved source
 	yName, uName string
 	unit         string // "" for a voltage ratio: set from the resolved source
 }
 
-// resolveProbe checks the request and says which system to build.
-func resolveProbe(l *loaded, q tfRequest) (tfProbe, error) {
+// resolveProbe checks the request and says which probe to build: --zin and
+// --zout are impedance probes (test current in, voltage across it out).
+func resolveProbe(q tfRequest) (tfProbe, error) {
 	n := 0
 	for _, s := range []string{q.Out, q.Zin, q.Zout} {
 		if s != "" {
@@ -102,23 +100,12 @@ func resolveProbe(l *loaded, q tfRequest) (tfProbe, error) {
 	}
 	switch {
 	case q.Zout != "":
-		return tfProbe{in: mna.Input{Inject: q.Zout}, out: mna.Output{Kind: mna.NodeVoltage, Node: q.Zout},
+		return tfProbe{Probe: mna.NodeImpedance(q.Zout, ""),
 			what: fmt.Sprintf("Zout(s) at node %s (independent sources zeroed)", q.Zout), yName: "v", uName: "i", unit: "Ω"}, nil
 	case q.Zin != "":
-		src, ok := l.circuit.Part(q.Zin)
-		if !ok || (src.Kind != netlist.VSource && src.Kind != netlist.ISource) {
-			return tfProbe{}, &mna.LookupError{What: "source", Name: q.Zin, Known: sourceNames(l.circuit)}
-		}
-		p := tfProbe{in: mna.Input{Source: q.Zin}, what: fmt.Sprintf("Zin(s) seen by %s", q.Zin), yName: "v", uName: "i", unit: "Ω"}
-		if src.Kind == netlist.ISource {
-			p.out = mna.Output{Kind: mna.NodeVoltage, Node: src.Nodes[0], Ref: src.Nodes[1]}
-			return p, nil
-		}
-		p.out = mna.Output{Kind: mna.PartCurrent, Part: q.Zin}
-		p.invert = true
-		return p, nil
+		return tfProbe{Probe: mna.SourceImpedance(q.Zin), what: fmt.Sprintf("Zin(s) seen by %s", q.Zin), yName: "v", uName: "i", unit: "Ω"}, nil
 	}
-	return tfProbe{in: mna.Input{Source: q.In}, out: outputFor(q.Out, q.Ref), yName: "y", uName: "u"}, nil
+	return tfProbe{Probe: mna.Probe{Ex: mna.Excitation{Source: q.In}, Ob: outputFor(q.Out, q.Ref)}, yName: "y", uName: "u"}, nil
 }
 
 // describe fills in the meaning and unit of a voltage or current ratio
@@ -137,68 +124,37 @@ func (p tfProbe) describe(c *netlist.Circuit, in mna.Input, out mna.Output) (wha
 	} else if out.Kind == mna.PartCurrent {
 		unit = "A/V"
 	}
-	return fmt.Sprintf("H(s) = %s / %s", analysis.OutputLabel(out), in.Source), unit
+	return fmt.Sprintf("H(s) = %s / %s", response.OutputLabel(out), in.Source), unit
 }
 
 // extractTF builds the system and extracts the requested transfer function.
 func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
-	p, err := resolveProbe(l, q)
+	p, err := resolveProbe(q)
 	if err != nil {
 		return nil, err
 	}
-	sys, err := mna.Build(l.circuit, p.in, p.out)
+	sys, err := mna.Build(l.circuit, p.Ex, p.Ob)
 	if err != nil {
-		return nil, err
+		return nil, impedanceError(p, err)
 	}
-	tf, err := analysis.Extract(sys)
+	tf, err := transfer.Extract(sys)
 	if err != nil {
-		return nil, err
+		return nil, impedanceError(p, err)
 	}
 	what, unit := p.describe(l.circuit, sys.Input, sys.Output)
-	r := &tfResult{tf: tf, sys: sys, what: what, yName: p.yName, uName: p.uName, unit: unit}
-	if p.invert {
-		if len(tf.Num) == 0 || allZero(tf.Num) {
-			return nil, fmt.Errorf("%s delivers no current: its input impedance is infinite", q.Zin)
-		}
-		r.tf, r.invert = invertTF(tf, -1), true
-	}
-	return r, nil
+	return &tfResult{tf: tf, sys: sys, what: what, yName: p.yName, uName: p.uName, unit: unit}, nil
 }
 
-// sysTF is the transfer function of r.sys itself: r.tf, except for the
-// input impedance of a voltage source, where r.tf is its inverse.
-func (r *tfResult) sysTF() *analysis.TransferFunction {
-	if r.invert {
-		return systemTF(r.sys)
+// impedanceError says, for the input impedance of a source whose system
+// (source replaced by a test current) is singular for every s, that the
+// test current has no path: the impedance is infinite. The numeric and
+// the symbolic engines give the same message.
+func impedanceError(p tfProbe, err error) error {
+	var se *mna.StructureError
+	if p.Ex.Kind == mna.SourceTest && (errors.As(err, &se) || errors.Is(err, symbolic.ErrSingular)) {
+		return fmt.Errorf("%s delivers no current: its input impedance is infinite", p.Ex.Source)
 	}
-	return r.tf
-}
-
-// sourceNames lists the independent sources of c.
-func sourceNames(c *netlist.Circuit) []string {
-	var out []string
-	for _, p := range c.Parts {
-		if p.Kind == netlist.VSource || p.Kind == netlist.ISource {
-			out = append(out, p.Name)
-		}
-	}
-	return out
-}
-
-// invertTF returns sign/h: poles and zeros exchanged, D re-normalised.
-func invertTF(h *analysis.TransferFunction, sign float64) *analysis.TransferFunction {
-	num := append([]float64(nil), h.Den...)
-	den := append([]float64(nil), h.Num...)
-	k := lowest(den)
-	for i := range num {
-		num[i] *= sign / k
-	}
-	for i := range den {
-		den[i] /= k
-	}
-	out := &analysis.TransferFunction{Num: num, Den: den, Zeros: append([]complex128(nil), h.Poles...), Poles: append([]complex128(nil), h.Zeros...), Cancelled: h.Cancelled}
-	out.Gain = num[len(num)-1] / den[len(den)-1]
-	return out
+	return err
 }
 
 // Run prints the transfer function report.
@@ -236,7 +192,7 @@ func (c *tfCmd) Run(e *env) error {
 	rep := newTFReport(r)
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		if c.Format == "json" {
-			return writeJSON(w, rep.json())
+			return writeJSON(w, tfDoc(rep))
 		}
 		return rep.table(w)
 	})
@@ -246,14 +202,14 @@ func (c *tfCmd) Run(e *env) error {
 // for the table, the JSON and the HTML report.
 type tfReport struct {
 	r         *tfResult
-	dc, hf    analysis.Asymptote
-	bw        *analysis.Bandwidth
+	dc, hf    transfer.Asymptote
+	bw        *transfer.Bandwidth
 	bwErr     error
-	peak      *analysis.Peak
+	peak      *transfer.Peak
 	peakErr   error
-	pairs     []analysis.RootPair
-	zeroPairs []analysis.RootPair
-	ode       analysis.ODE
+	pairs     []transfer.RootPair
+	zeroPairs []transfer.RootPair
+	ode       transfer.ODE
 }
 
 // newTFReport computes the report figures.
@@ -270,77 +226,6 @@ func newTFReport(r *tfResult) *tfReport {
 		rep.peakErr = err
 	}
 	return rep
-}
-
-// rootJSON is a pole or zero in JSON, rad/s.
-type rootJSON struct {
-	Re float64 `json:"re"`
-	Im float64 `json:"im"`
-}
-
-// pairJSON is a complex pair in JSON.
-type pairJSON struct {
-	F0Hz     float64  `json:"f0_hz"`
-	OmegaRad float64  `json:"omega0_rad_s"`
-	Q        *float64 `json:"q"`
-	Zeta     float64  `json:"zeta"`
-}
-
-func rootsJSON(rs []complex128) []rootJSON {
-	out := make([]rootJSON, len(rs))
-	for i, r := range rs {
-		out[i] = rootJSON{real(r), imag(r)}
-	}
-	return out
-}
-
-func pairsJSON(ps []analysis.RootPair) []pairJSON {
-	out := make([]pairJSON, len(ps))
-	for i, p := range ps {
-		out[i] = pairJSON{F0Hz: p.F0Hz, OmegaRad: p.OmegaRad, Q: finiteOrNil(p.Q), Zeta: p.Zeta}
-	}
-	return out
-}
-
-// json is the JSON document of `nodal tf`.
-func (rep *tfReport) json() any {
-	h := rep.r.tf
-	doc := map[string]any{
-		"what":       rep.r.what,
-		"unit":       rep.r.unit,
-		"num":        h.Num,
-		"den":        h.Den,
-		"poles":      rootsJSON(h.Poles),
-		"zeros":      rootsJSON(h.Zeros),
-		"pairs":      pairsJSON(rep.pairs),
-		"zero_pairs": pairsJSON(rep.zeroPairs),
-		"gain":       h.Gain,
-		"factored":   factoredText(h),
-		"ode":        odeText(rep.ode, rep.r.yName, rep.r.uName),
-		"hf_asymptote": map[string]any{
-			"gain": finiteOrNil(rep.hf.Gain), "power": rep.hf.Power, "slope_db_per_decade": finiteOrNil(rep.hf.SlopeDBPerDecade),
-		},
-	}
-	if rep.dc.Power == 0 {
-		doc["gain_dc"] = finiteOrNil(rep.dc.Gain)
-		doc["gain_dc_db"] = finiteOrNil(rep.dc.GainDB)
-	} else if rep.dc.Power > 0 {
-		doc["gain_dc"] = 0.0
-	} else {
-		doc["gain_dc"] = nil
-	}
-	if len(h.Cancelled) > 0 {
-		doc["cancelled"] = rootsJSON(h.Cancelled)
-	}
-	if rep.bw != nil {
-		doc["f3db_hz"] = rep.bw.CrossingsHz
-		doc["f3db_ref_db"] = finiteOrNil(rep.bw.RefDB)
-	}
-	if rep.peak != nil {
-		doc["peak_db"] = finiteOrNil(rep.peak.GainDB)
-		doc["peak_hz"] = finiteOrNil(rep.peak.FreqHz)
-	}
-	return doc
 }
 
 // table prints the report for the terminal.
@@ -392,12 +277,12 @@ func (rep *tfReport) figureRows() [][2]string {
 	if rep.hf.Power == 0 {
 		rows = append(rows, [2]string{"high-frequency gain", fmt.Sprintf("%s (%s dB), flat", num(rep.hf.Gain), fixed(rep.hf.GainDB, 3))})
 	} else {
-		rows = append(rows, [2]string{"high-frequency asymptote", fmt.Sprintf("%s·s%s: %+g dB/decade", engNumber(rep.hf.Gain), superscript(rep.hf.Power), rep.hf.SlopeDBPerDecade)})
+		rows = append(rows, [2]string{"high-frequency asymptote", fmt.Sprintf("%s·s%s: %+g dB/decade", engNumber(rep.hf.Gain), notation.Superscript(rep.hf.Power), rep.hf.SlopeDBPerDecade)})
 	}
 	if rep.bw != nil {
 		var fs []string
 		for _, f := range rep.bw.CrossingsHz {
-			fs = append(fs, netlist.FormatEng(f, "Hz"))
+			fs = append(fs, notation.Eng(f, "Hz"))
 		}
 		v := "none"
 		if len(fs) > 0 {
@@ -410,7 +295,7 @@ func (rep *tfReport) figureRows() [][2]string {
 	if rep.peak != nil && rep.bw != nil && rep.peak.GainDB-rep.bw.RefDB < 0.01 {
 		rows = append(rows, [2]string{"peak gain", "no peaking (within 0.01 dB of the reference)"})
 	} else if rep.peak != nil {
-		where := netlist.FormatEng(rep.peak.FreqHz, "Hz")
+		where := notation.Eng(rep.peak.FreqHz, "Hz")
 		if rep.peak.OmegaRad == 0 {
 			where = "DC"
 		} else if math.IsInf(rep.peak.OmegaRad, 1) {
@@ -434,18 +319,13 @@ func rootsTable(w io.Writer, what string, roots []complex128) error {
 		case r == 0:
 			meaning = "at s = 0"
 		case imag(r) == 0:
-			meaning = "real: corner " + netlist.FormatEng(mag/(2*math.Pi), "Hz")
+			meaning = "real: corner " + notation.Eng(mag/(2*math.Pi), "Hz")
 			if real(r) > 0 {
 				meaning += ", right half-plane"
 			}
 		default:
-			q := mag / (-2 * real(r))
-			zeta := -real(r) / mag
-			qs := "∞"
-			if !math.IsInf(q, 0) && real(r) != 0 {
-				qs = trimFloat(q, 4)
-			}
-			meaning = fmt.Sprintf("pair: f0 %s, Q %s, ζ %s", netlist.FormatEng(mag/(2*math.Pi), "Hz"), qs, trimFloat(zeta, 4))
+			p := transfer.PairOf(r)
+			meaning = fmt.Sprintf("pair: f0 %s, Q %s, ζ %s", notation.Eng(p.F0Hz, "Hz"), notation.Q(p.Q), trimFloat(p.Zeta, 4))
 			if real(r) > 0 {
 				meaning += ", right half-plane"
 			}

@@ -41,69 +41,25 @@ func parseKeep(keep []string, given bool) []string {
 // A too-large expression is a *symbolic.SizeError wrapped with an example
 // of --keep.
 func deriveSymbolic(e *env, l *loaded, q tfRequest, keep []string) (*symbolicTF, error) {
-	p, err := resolveProbe(l, q)
+	p, err := resolveProbe(q)
 	if err != nil {
 		return nil, err
 	}
-	res, err := symbolic.Transfer(e.ctx, l.circuit, p.in, p.out, symbolic.Options{Keep: keep})
+	res, err := symbolic.Transfer(e.ctx, l.circuit, p.Ex, p.Ob, symbolic.Options{Keep: keep})
 	if err != nil {
 		var se *symbolic.SizeError
 		if errors.As(err, &se) {
 			return nil, fmt.Errorf("%w, for example --keep %s", err, strings.Join(keepExample(l.circuit), ","))
 		}
-		return nil, err
+		return nil, impedanceError(p, err)
 	}
 	what, unit := p.describe(l.circuit, res.Input, res.Output)
-	if p.invert {
-		if res, err = invertSymbolic(res, q.Zin); err != nil {
-			return nil, err
-		}
-	}
 	st := &symbolicTF{res: res, what: what, unit: unit, yName: p.yName, uName: p.uName}
 	st.numVals, st.denVals, err = res.CoefficientValues(res.Values)
 	if err != nil {
 		return nil, err
 	}
 	return st, nil
-}
-
-// invertSymbolic returns −1/H for the input impedance of a voltage source
-// from its current (see tfProbe.invert), with a denominator whose
-// lowest-order coefficient reads with a positive first term.
-func invertSymbolic(r *symbolic.Result, src string) (*symbolic.Result, error) {
-	zero := true
-	for _, c := range r.Num {
-		if !c.IsZero() {
-			zero = false
-		}
-	}
-	if zero {
-		return nil, fmt.Errorf("%s delivers no current: its input impedance is infinite", src)
-	}
-	out := *r
-	out.Num = append([]symbolic.Poly(nil), r.Den...)
-	out.Den = negate(r.Num)
-	for n := len(out.Den); n > 1 && out.Den[n-1].IsZero(); n-- {
-		out.Den = out.Den[:n-1]
-	}
-	for _, c := range out.Den {
-		if c.IsZero() {
-			continue
-		}
-		if strings.HasPrefix(c.Format(r.Symbols), "-") {
-			out.Num, out.Den = negate(out.Num), negate(out.Den)
-		}
-		break
-	}
-	return &out, nil
-}
-
-func negate(ps []symbolic.Poly) []symbolic.Poly {
-	out := make([]symbolic.Poly, len(ps))
-	for i, p := range ps {
-		out[i] = p.Neg()
-	}
-	return out
 }
 
 // keepExample names up to three resistors and capacitors of c, to show
@@ -286,7 +242,7 @@ func (st *symbolicTF) table(w io.Writer) error {
 type symbolicJSON struct {
 	What         string             `json:"what"`
 	Unit         string             `json:"unit"`
-	Symbolic     symbolic.JSONPolys `json:"symbolic"`
+	Symbolic     polysJSON          `json:"symbolic"`
 	Values       valuesJSON         `json:"values"`
 	Symbols      []string           `json:"symbols"`
 	SymbolValues map[string]float64 `json:"symbol_values"`
@@ -305,7 +261,7 @@ type valuesJSON struct {
 func (st *symbolicTF) json() symbolicJSON {
 	doc := symbolicJSON{
 		What: st.what, Unit: st.unit,
-		Symbolic:     st.res.JSON().Symbolic,
+		Symbolic:     polysJSON{Num: st.res.NumStrings(), Den: st.res.DenStrings()},
 		Values:       valuesJSON{Num: st.numVals, Den: st.denVals},
 		Symbols:      append([]string{}, st.res.Symbols...),
 		SymbolValues: map[string]float64{},
