@@ -3,6 +3,7 @@ package netlist
 import (
 	"errors"
 	"fmt"
+	"math"
 	"strings"
 	"testing"
 )
@@ -47,6 +48,8 @@ func TestDiagnostics(t *testing.T) {
 		{"opamp terminals", base + "U1: opamp (in, out)\n", 4, 1, "opamp U1 takes 3 terminals", "", false},
 		{"missing value", base + "R2: resistor (in, out)\n", 4, 1, "resistor R2 needs a value in Ω", "", false},
 		{"zero value", base + "R2: resistor (in, out) 0\n", 4, 24, "resistor R2: value must be > 0, got 0 Ω", "", false},
+		{"value too small", base + "R2: resistor (in, out) 1e-300\n", 4, 24, "too small to represent", "", false},
+		{"value too large", base + "C2: capacitor (in, out) 1e200\n", 4, 25, "too large to represent", "", false},
 		{"negative value", base + "C2: capacitor (in, out) -1n\n", 4, 25, "value must be > 0", "", false},
 		{"infinite value", base + "R2: resistor (in, out) 1/0\n", 4, 24, "value is not finite", "", false},
 		{"undefined parameter", "let Rbase = 1k\n" + base + "R2: resistor (in, out) Rbse\n", 5, 24, `undefined parameter "Rbse"`, `did you mean "Rbase"?`, false},
@@ -66,7 +69,7 @@ func TestDiagnostics(t *testing.T) {
 		{"unknown option", base + "U1: opamp (in, x, x) gwb=1MHz\n", 4, 22, `unknown option "gwb" for opamp`, `did you mean "gbw"?`, false},
 		{"opamp value", base + "U1: opamp (in, x, x) 5\n", 4, 22, "an opamp takes no value", "", false},
 		{"opamp a0", base + "U1: opamp (in, x, x) a0=0\n", 4, 1, "a0 must be finite and > 0", "", false},
-		{"bad tolerance", base + "R2: resistor (in, out) 1k ±150%\n", 4, 28, "tolerance must be between 0 and 100%", "", false},
+		{"bad tolerance", base + "R2: resistor (in, out) 1k ±150%\n", 4, 28, "tolerance must be above 0 and below 100%", "", false},
 		{"tolerance unit", base + "R2: resistor (in, out) 1k tol=5Hz\n", 4, 31, "unit Hz is not allowed", "", false},
 		{"dist without tol", base + "R2: resistor (in, out) 1k dist=normal\n", 4, 27, "dist= without a tolerance", "", false},
 		{"bad dist", base + "R2: resistor (in, out) 1k ±1% dist=gauss\n", 4, 36, "unknown distribution", "", false},
@@ -174,5 +177,25 @@ func TestTooLarge(t *testing.T) {
 	_, err := Load("big.nodal", []byte(b.String()), nil)
 	if err == nil || !strings.Contains(err.Error(), "circuit too large") {
 		t.Errorf("error %v", err)
+	}
+}
+
+// TestToleranceLimitNamed: ±100 % is refused with the limit said and the
+// value as written (not "between 0 and 100 %, got 1").
+func TestToleranceLimitNamed(t *testing.T) {
+	_, err := Load("t.nodal", []byte("Vs: vsource (in, gnd) 1\nR1: resistor (in, gnd) 1k ±100%\n"), Overrides{})
+	if err == nil || !strings.Contains(err.Error(), "below 100%") || !strings.Contains(err.Error(), "got 100 %") {
+		t.Errorf("error %v; want the limit and the value written", err)
+	}
+}
+
+// TestLeadingPlusIsAccepted: +1k is 1k, as a value and inside expressions.
+func TestLeadingPlusIsAccepted(t *testing.T) {
+	c, err := Load("t.nodal", []byte("Vs: vsource (in, gnd) 1\nR1: resistor (in, out) +1k\nC1: capacitor (out, gnd) 1n + +2n\n"), Overrides{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Parts[1].Value != 1e3 || math.Abs(c.Parts[2].Value-3e-9) > 1e-24 {
+		t.Errorf("values %v, %v; want 1k and 3n", c.Parts[1].Value, c.Parts[2].Value)
 	}
 }

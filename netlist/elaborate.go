@@ -403,7 +403,8 @@ func (e *elab) tolerance(sc *scope, x *Expr) float64 {
 	}
 	t := v.fn(e.nom)
 	if !(t > 0 && t < 1) {
-		e.errorf(x.Pos, "write a percentage such as 1% (a plain number is a fraction)", "tolerance must be between 0 and 100%%, got %v", t)
+		e.errorf(x.Pos, "write a percentage such as 1% (a plain number is a fraction)",
+			"tolerance must be above 0 and below 100%% (at −100%% a part would vanish), got %s", valueText(t*100, "%"))
 		return 0
 	}
 	return t

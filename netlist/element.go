@@ -83,6 +83,21 @@ func (s *partStep) apply(p *Part, slots []float64, factor float64) string {
 	return s.check(p)
 }
 
+// MinPartValue and MaxPartValue bound resistor, inductor and capacitor
+// values in SI units (Ω, H, F): within them, products of three values and
+// their reciprocals (the coefficients of a third-order response) stay
+// inside the float64 range of about 1e±308, so no coefficient silently
+// underflows to zero or overflows. Real parts lie many decades inside.
+const (
+	MinPartValue = 1e-100
+	MaxPartValue = 1e100
+)
+
+// valueText writes v with 4 significant digits and its unit, for messages.
+func valueText(v float64, unit string) string {
+	return strings.TrimSpace(strconv.FormatFloat(v, 'g', 4, 64) + " " + unit)
+}
+
 // check validates the values of a part.
 func (s *partStep) check(p *Part) string {
 	finite := func(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
@@ -92,7 +107,13 @@ func (s *partStep) check(p *Part) string {
 	switch p.Kind {
 	case Resistor, Capacitor, Inductor:
 		if p.Value <= 0 {
-			return fmt.Sprintf("value must be > 0, got %s", strings.TrimSpace(strconv.FormatFloat(p.Value, 'g', 4, 64)+" "+kindSpecs[p.Kind].unit))
+			return fmt.Sprintf("value must be > 0, got %s", valueText(p.Value, kindSpecs[p.Kind].unit))
+		}
+		if p.Value < MinPartValue {
+			return fmt.Sprintf("value %s is too small to represent: R, L and C values must be at least %g (in Ω, H, F)", valueText(p.Value, kindSpecs[p.Kind].unit), MinPartValue)
+		}
+		if p.Value > MaxPartValue {
+			return fmt.Sprintf("value %s is too large to represent: R, L and C values must be at most %g (in Ω, H, F)", valueText(p.Value, kindSpecs[p.Kind].unit), MaxPartValue)
 		}
 	case Coupling:
 		if p.Value == 0 || math.Abs(p.Value) > 1 {

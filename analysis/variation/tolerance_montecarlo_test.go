@@ -225,6 +225,16 @@ func TestMonteCarloCancel(t *testing.T) {
 	if last != res.Finished {
 		t.Errorf("last progress %d, finished %d", last, res.Finished)
 	}
+	// The interrupted run covers exactly the first Finished draws: the same
+	// seed with that many runs gives bit-identical figures.
+	again, err := MonteCarlo(context.Background(), c, ev, MonteCarloOptions{Runs: res.Finished, Seed: 1, Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, b := res.Metrics[0], again.Metrics[0]
+	if a.Mean != b.Mean || a.Std != b.Std || a.Min != b.Min || a.Max != b.Max || a.P00135 != b.P00135 || a.P99865 != b.P99865 {
+		t.Errorf("interrupted at %d runs: %+v; --runs %d: %+v", res.Finished, a, res.Finished, b)
+	}
 	ctx2, cancel2 := context.WithCancel(context.Background())
 	cancel2()
 	if _, err := MonteCarlo(ctx2, c, ev, MonteCarloOptions{Runs: 10}); !errors.Is(err, context.Canceled) {

@@ -17,6 +17,8 @@ import (
 	"os"
 	"os/signal"
 	"strings"
+	"syscall"
+	"time"
 
 	"github.com/alecthomas/kong"
 )
@@ -53,7 +55,10 @@ type cli struct {
 // process's working directory. Commands never use os.Stdout directly, so
 // they can be tested.
 type env struct {
-	ctx    context.Context
+	ctx context.Context
+	// temps lists temporary output files for removal on a forced exit
+	// (nil: none kept).
+	temps  *tempFiles
 	stdin  io.Reader
 	stdout io.Writer
 	stderr io.Writer
@@ -74,10 +79,45 @@ var errInterrupted = errors.New("interrupted")
 type exitRequest int
 
 func main() {
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	temps := &tempFiles{}
+	ctx, stop := interruptContext(temps)
 	defer stop()
-	e := &env{ctx: ctx, stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, stderrIsTerminal: isTerminal(os.Stderr)}
+	e := &env{ctx: ctx, temps: temps, stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, stderrIsTerminal: isTerminal(os.Stderr)}
 	os.Exit(run(e, os.Args[1:]))
+}
+
+// interruptGrace is how long a command may take to stop after the first
+// signal: long work that watches its context stops at once, and a command
+// that reports partial results (tolerance) writes them within it; work that
+// cannot be stopped (a numeric transfer-function extraction of a huge
+// circuit) is ended when it runs out.
+const interruptGrace = 900 * time.Millisecond
+
+// interruptContext returns a context cancelled by the first SIGINT (Ctrl-C),
+// SIGTERM or SIGHUP: long work stops, a half-written output file is
+// removed, and the command exits with status 2 after printing what it had
+// finished where that is meaningful. A second signal, or interruptGrace
+// passing, exits with status 2 after removing the temporary output files
+// listed in temps, so every command stops within a second.
+func interruptContext(temps *tempFiles) (context.Context, func()) {
+	ctx, cancel := context.WithCancel(context.Background())
+	sig := make(chan os.Signal, 2)
+	signal.Notify(sig, os.Interrupt, syscall.SIGTERM, syscall.SIGHUP)
+	go func() {
+		<-sig
+		cancel()
+		select {
+		case <-sig:
+		case <-time.After(interruptGrace):
+			fmt.Fprintln(os.Stderr, "nodal: interrupted")
+		}
+		temps.removeAll()
+		os.Exit(exitInput)
+	}()
+	return ctx, func() {
+		signal.Stop(sig)
+		cancel()
+	}
 }
 
 // run parses args, runs the command and returns the exit status. It never
@@ -117,7 +157,11 @@ func run(e *env, args []string) (code int) {
 		if errors.As(err, &v) {
 			return exitVerdict
 		}
-		if errors.Is(err, errInterrupted) {
+		if errors.Is(err, errInterrupted) && !errors.Is(err, errOutputInterrupted) {
+			return exitInput // the command said what it finished
+		}
+		if errors.Is(err, errOutputInterrupted) || e.ctx.Err() != nil && (errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded)) {
+			fmt.Fprintln(e.stderr, "nodal: interrupted: no output file was written; output to the terminal may be cut short")
 			return exitInput
 		}
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)

@@ -44,6 +44,9 @@ type partJSON struct {
 
 // Run prints the parts.
 func (c *partsCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+		return err
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err

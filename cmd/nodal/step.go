@@ -66,6 +66,9 @@ func (c *impulseCmd) Run(e *env) error { return c.run(e, "impulse") }
 
 // run computes and prints a time response of the given kind.
 func (c *timeArgs) run(e *env, kind string) error {
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+		return err
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err

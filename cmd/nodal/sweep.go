@@ -73,6 +73,9 @@ type sweepJSON struct {
 
 // Run sweeps every output.
 func (c *sweepCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+		return err
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err
@@ -95,6 +98,9 @@ func (c *sweepCmd) Run(e *env) error {
 	}
 	freqs, err := c.frequencies(func() (float64, float64) { return rangeOf(l, tfs[0]) })
 	if err != nil {
+		return err
+	}
+	if err := checkWork("sweep", len(l.circuit.Parts), len(freqs), len(systems), "outputs"); err != nil {
 		return err
 	}
 	var resps []*response.Response

@@ -159,6 +159,9 @@ func impedanceError(p tfProbe, err error) error {
 
 // Run prints the transfer function report.
 func (c *tfCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+		return err
+	}
 	if c.Keep != nil && !c.Symbolic {
 		return errors.New("--keep chooses the symbols of --symbolic: add --symbolic")
 	}
