@@ -120,14 +120,7 @@ func TestButterworthLadder(t *testing.T) {
 // f0 = 1/(2πRC) (common practice).
 func TestWien(t *testing.T) {
 	const r, cv = 10e3, 10e-9
-	c := testcircuit.New(
-		testcircuit.V("Vs", "in", gnd, 1),
-		testcircuit.R("R1", "in", "a", r),
-		testcircuit.C("C1", "a", "out", cv),
-		testcircuit.R("R2", "out", gnd, r),
-		testcircuit.C("C2", "out", gnd, cv),
-	)
-	sys := build(t, c, mna.Input{}, "out", "")
+	sys := build(t, testcircuit.Wien(r, cv), mna.Input{}, "out", "")
 	if h := hAt(t, sys, 1/(2*math.Pi*r*cv)); !nearC(h, 1.0/3, 1e-12) {
 		t.Errorf("H(f0) = %v, want 1/3 at 0°", h)
 	}

@@ -110,9 +110,12 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 			return nil, err
 		}
 		// Second pass when the roots sit far from the first guess of the
-		// characteristic frequency (judged before any root is set to 0:
-		// a genuine root 10⁻¹² of the guess looks like s = 0 there):
-		// centre the shift on them for accuracy.
+		// characteristic frequency: centre the shift on them for
+		// accuracy. The centre leaves out the poles the rank test puts at
+		// s = 0 (only those: a genuine tiny pole counts): an origin pole
+		// carries no scale, and its unrounded value (10⁻¹² of the guess)
+		// would centre the pass 10⁻⁶ below every other root, where the
+		// gain point's G + sC rounds away the capacitors' admittances.
 		if c := first.rawCentre; c > 0 && (c > 100*wc || c < wc/100) {
 			if t2, err2 := newScaledSystem(sys, c).extract(polish); err2 == nil {
 				t = t2
@@ -302,8 +305,9 @@ type scaledSystem struct {
 	b, l   []float64
 	n      int
 	gb, cb *mat.Dense // the bordered zero pencil
-	// rawCentre (rad/s) is rootCentre of the poles before any
-	// is set to 0: where the roots are, for a second pass.
+	// rawCentre (rad/s) is rootCentre of the poles other than those
+	// the rank test sets to s = 0: where the roots are, for a second
+	// pass.
 	rawCentre float64
 }
 
@@ -595,8 +599,8 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 		mergeClusters(zeros)
 	}
 
-	s.rawCentre = rootCentre(poles) * s.wc
 	snapOrigin(poles, originMultiplicity(s.g, s.c))
+	s.rawCentre = rootCentre(poles) * s.wc
 	snapOrigin(zeros, originMultiplicity(s.gb, s.cb))
 	snapAxis(poles)
 	snapAxis(zeros)

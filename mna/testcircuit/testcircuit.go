@@ -168,3 +168,16 @@ func RCLadder(k int, r, c float64) *netlist.Circuit {
 	}
 	return New(parts...)
 }
+
+// Wien is the Wien network driven by a unit voltage source Vs at node in:
+// series R1 (r Ω) and C1 (c F) from in through node a to node out, then
+// R2 ∥ C2 (the same values) from out to ground.
+func Wien(r, c float64) *netlist.Circuit {
+	return New(
+		V("Vs", "in", "gnd", 1),
+		R("R1", "in", "a", r),
+		C("C1", "a", "out", c),
+		R("R2", "out", "gnd", r),
+		C("C2", "out", "gnd", c),
+	)
+}
