@@ -192,7 +192,7 @@ func (c *exprCompiler) primary(p *Primary) (compiled, bool) {
 	case len(p.Group) == 1:
 		return c.expr(p.Group[0])
 	case len(p.Group) > 1:
-		c.report(p.Pos, "unexpected list of values", "a list (c, d) is only allowed for sense=")
+		c.report(p.Pos, "unexpected list of values", "a list (c, d) is no value; the voltage of c with respect to d is v(c, d)")
 		return compiled{}, false
 	}
 	lit, err := syntax.ParseNumber(p.Number)
