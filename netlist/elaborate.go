@@ -330,7 +330,7 @@ type itemSet struct {
 	hasTol bool
 }
 
-// items classifies trailing items: tolerance (± or ±) and dist= are
+// items classifies trailing items: the tolerance (±) and normal are
 // handled here; other options and bare expressions are returned. what
 // names the statement for messages; values are allowed unless "let".
 func (e *elab) items(sc *scope, list []*Item, what string) itemSet {

@@ -34,7 +34,7 @@ a test current injected, every independent source zeroed). It prints Z(s)
 as nodal transfer prints H(s) (expanded, factored, poles, zeros, the value
 at DC in Ω), then |Z| and its phase over frequency (the range of the poles
 and zeros, or --from/--to/--per-decade/--at), the smallest and largest |Z|
-and where they occur, and the resonances: series where the phase rises
+and where they occur (over the table and the resonances), and the resonances: series where the phase rises
 through 0° (a minimum of |Z| nearby), parallel where it falls (a maximum).
 
 Examples:
@@ -69,8 +69,9 @@ type impedanceExtreme struct {
 }
 
 // impedanceJSON is the document of nodal impedance: the keys of the
-// transfer document, the frequency table and the extremes of |Z| (null
-// when no point has a finite |Z|).
+// transfer document, the frequency table and the extremes of |Z| over the
+// table and the resonances found in it (null when no point has a finite
+// |Z|).
 type impedanceJSON struct {
 	tfJSON
 	Points []impedancePoint  `json:"points"`
@@ -113,6 +114,19 @@ func (c *impedanceCmd) Run(e *env) error {
 	res := response.Resonances(resp, func(w float64) complex128 { return r.tf.Eval(complex(0, w)) })
 	res = append(res, response.AxisResonances(r.tf.Poles, r.tf.Zeros, resp.FreqHz[0], resp.FreqHz[len(resp.FreqHz)-1])...)
 	sort.SliceStable(res, func(i, j int) bool { return res[i].FreqHz < res[j].FreqHz })
+	// A resonance is an exact point between two rows: it counts for the
+	// extremes too, so a coarse table does not hide a deep minimum.
+	for _, x := range res {
+		if !ok || math.IsInf(x.Mag, 0) {
+			continue
+		}
+		if x.Mag < lo.Mag {
+			lo = response.Extreme{FreqHz: x.FreqHz, Mag: x.Mag}
+		}
+		if x.Mag > hi.Mag {
+			hi = response.Extreme{FreqHz: x.FreqHz, Mag: x.Mag}
+		}
+	}
 	if c.Plot != "" {
 		format, err := plot.FormatFromPath(c.Plot)
 		if err != nil {

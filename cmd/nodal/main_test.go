@@ -178,7 +178,7 @@ func TestSweepCSVAndAtomicFile(t *testing.T) {
 
 // H(s) = 1/(1 + sRC): one pole at −1/RC, D normalised to 1 + RC·s
 // (common practice).
-func TestTFJSON(t *testing.T) {
+func TestTransferJSON(t *testing.T) {
 	r := runNodal(t, "", "transfer", rcFile, "--out", "out", "--format", "json")
 	if r.code != 0 {
 		t.Fatalf("code %d: %s", r.code, r.stderr)
@@ -259,7 +259,7 @@ func TestDriveJSON(t *testing.T) {
 
 // Step of a first-order low-pass: final value 1, 10–90 % rise 2.197·RC
 // (common practice).
-func TestStepJSON(t *testing.T) {
+func TestTimeStepJSON(t *testing.T) {
 	r := runNodal(t, "", "time", rcFile, "--out", "out", "--format", "json", "--points", "50")
 	if r.code != 0 {
 		t.Fatalf("code %d: %s", r.code, r.stderr)

@@ -400,3 +400,35 @@ func sourceNames(c *netlist.Circuit) []string {
 	}
 	return out
 }
+
+// What nodal transfer --symbolic prints as H(s) and as the ODE pastes into
+// nodal check --tf and --ode, which agree with the circuit (exit 0), for
+// circuits with an op-amp, with every controlled-source form and with a
+// current-source input; a perturbed copy is refused (exit 1).
+func TestSymbolicPastesIntoCheck(t *testing.T) {
+	for _, tc := range []struct{ file, out string }{
+		{"../../testdata/examples/tone_lowpass_ideal.nodal", "out"},
+		{"../../testdata/reference/circuits/photodiode_hybrid_pi.nodal", "out"},
+		{"../../testdata/reference/circuits/sensor_bridge_rc.nodal", "out"},
+		{"../../testdata/reference/circuits/buffered_rc2.nodal", "out"},
+	} {
+		doc := symbolicJSONOf(t, tc.file, "--out", tc.out)
+		for _, flag := range []string{"--tf", "--ode"} {
+			text := doc.H
+			if flag == "--ode" {
+				text = doc.ODE
+			}
+			r := runNodal(t, "", "check", tc.file, "--out", tc.out, flag, text)
+			if r.code != 0 {
+				t.Errorf("%s: check %s %q: code %d\n%s%s", filepath.Base(tc.file), flag, text, r.code, r.stdout, r.stderr)
+			}
+			bad := "2*(" + text + ")" // twice the gain
+			if lhs, rhs, ok := strings.Cut(text, " = "); ok {
+				bad = lhs + " = 2*(" + rhs + ")"
+			}
+			if r := runNodal(t, "", "check", tc.file, "--out", tc.out, flag, bad); r.code != exitVerdict {
+				t.Errorf("%s: check %s %q (perturbed): code %d, want %d", filepath.Base(tc.file), flag, bad, r.code, exitVerdict)
+			}
+		}
+	}
+}
