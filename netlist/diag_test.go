@@ -71,6 +71,8 @@ func TestDiagnostics(t *testing.T) {
 		{"control power", base + "Gain1: voltage source (x, gnd) 2*v(in)^2\n", 4, 34, "voltage source Gain1: a control must be a factor", ControlForms, false},
 		{"control of two parts", base + "Gain1: voltage source (x, gnd) 2*i(R1, R2)\n", 4, 34, "voltage source Gain1: i( ) takes the name of one part", ControlForms, false},
 		{"control self", base + "Gain1: voltage source (x, gnd) 2*i(Gain1)\n", 4, 36, "voltage source Gain1: i(Gain1) names the source itself", "", false},
+		{"control in a resistor", base + "R2: resistor (in, out) 10*v(in)\n", 4, 27, "a control v( ) is not a value here", "nothing else takes a control", false},
+		{"control in a let", "let k = i(R1)\n" + base, 1, 9, "a control i( ) is not a value here", "", false},
 		{"old vsource", base + "V2: vsource (in, gnd) 1\n", 4, 5, `unknown element kind or block "vsource"`, `the nearest is "voltage source"`, false},
 		{"old isource", base + "I2: isource (in, gnd) 1\n", 4, 5, `unknown element kind or block "isource"`, `the nearest is "current source"`, false},
 		{"old vcvs", base + "E2: vcvs (in, gnd) 1 sense=(out, gnd)\n", 4, 5, `unknown element kind or block "vcvs"`, `the nearest is "voltage source"`, false},

@@ -226,6 +226,10 @@ func (c *exprCompiler) ref(r *Ref) (compiled, bool) {
 }
 
 func (c *exprCompiler) call(r *Ref) (compiled, bool) {
+	if isControl(r) {
+		c.report(r.Pos, fmt.Sprintf("a control %s( ) is not a value here", r.Name), ControlForms+"; nothing else takes a control")
+		return compiled{}, false
+	}
 	args := make([]compiled, 0, len(r.Args))
 	ok := true
 	for _, a := range r.Args {
