@@ -146,7 +146,8 @@ func helpVars() kong.Vars {
 }
 
 // unknownCommand names a first argument that is no command, with the
-// nearest command as a hint, or returns nil.
+// nearest command as a hint (or the one command and flag it is a value
+// of), or returns nil.
 func unknownCommand(parser *kong.Kong, args []string) error {
 	if len(args) == 0 || strings.HasPrefix(args[0], "-") {
 		return nil
@@ -158,5 +159,18 @@ func unknownCommand(parser *kong.Kong, args []string) error {
 		}
 		names = append(names, n.Name)
 	}
-	return fmt.Errorf("unknown command %q; the nearest is %q (commands: %s)", args[0], netlist.Nearest(args[0], names), strings.Join(names, ", "))
+	list := strings.Join(names, ", ")
+	var uses [][2]string // command and flag of which the word is a value
+	for _, n := range parser.Model.Children {
+		for _, f := range n.Flags {
+			if f.Enum != "" && f.EnumMap()[args[0]] {
+				uses = append(uses, [2]string{n.Name, f.Name})
+			}
+		}
+	}
+	if len(uses) == 1 {
+		u := uses[0]
+		return fmt.Errorf("unknown command %q; it is a value of %q: nodal %s FILE --%s %s (commands: %s)", args[0], u[0]+" --"+u[1], u[0], u[1], args[0], list)
+	}
+	return fmt.Errorf("unknown command %q; the nearest is %q (commands: %s)", args[0], netlist.Nearest(args[0], names), list)
 }

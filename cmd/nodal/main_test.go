@@ -55,8 +55,10 @@ func TestUsageErrorsExitTwo(t *testing.T) {
 	}{
 		{"unknown command", []string{"frobnicate"}, `unknown command "frobnicate"`},
 		{"old tf", []string{"tf", rcFile, "--out", "out"}, `unknown command "tf"; the nearest is "transfer"`},
-		{"old step", []string{"step", rcFile, "--out", "out"}, `unknown command "step"; the nearest is "snap" (commands: parts, equations, sweep, transfer, impedance, check, drive, time,`},
-		{"old impulse", []string{"impulse", rcFile, "--out", "out"}, `unknown command "impulse"; the nearest is "impedance"`},
+		{"old step", []string{"step", rcFile, "--out", "out"}, `unknown command "step"; it is a value of "time --input": nodal time FILE --input step (commands: parts, equations, sweep, transfer, impedance, check, drive, time,`},
+		{"old impulse", []string{"impulse", rcFile, "--out", "out"}, `unknown command "impulse"; it is a value of "time --input": nodal time FILE --input impulse`},
+		{"unknown command near one", []string{"sweeep", rcFile}, `unknown command "sweeep"; the nearest is "sweep"`},
+		{"a value of many commands", []string{"json", rcFile}, `unknown command "json"; the nearest is`},
 		{"old zin", []string{"transfer", rcFile, "--zin", "Vs"}, "unknown flag --zin"},
 		{"old zout", []string{"transfer", rcFile, "--zout", "out"}, "unknown flag --zout"},
 		{"old vsource", []string{"parts", "-"}, `unknown element kind or block "vsource" (the nearest is "voltage source"`},
