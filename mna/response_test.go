@@ -256,14 +256,14 @@ func TestControlledSources(t *testing.T) {
 		part netlist.Part
 		want float64 // v(out)
 	}{
-		{"vcvs", testcircuit.VCVS("Gain1", "out", gnd, 5, "in", gnd), 5},
-		{"vcvs reversed sense", testcircuit.VCVS("Gain1", "out", gnd, 5, gnd, "in"), -5},
+		{"voltage gain", testcircuit.VCVS("Gain1", "out", gnd, 5, "in", gnd), 5},
+		{"voltage gain with v(gnd, in)", testcircuit.VCVS("Gain1", "out", gnd, 5, gnd, "in"), -5},
 		// gm·v(in) is pushed into out (language: "pushes GM·(v_c − v_d) into a").
-		{"vccs", testcircuit.VCCS("Gm1", "out", gnd, 1e-3, "in", gnd), 1e-3 * r2},
-		{"ccvs of a resistor", testcircuit.CCVS("Tz1", "out", gnd, 4e3, "R1"), 4e3 / r1},
+		{"transconductance", testcircuit.VCCS("Gm1", "out", gnd, 1e-3, "in", gnd), 1e-3 * r2},
+		{"transresistance of a resistor", testcircuit.CCVS("Tz1", "out", gnd, 4e3, "R1"), 4e3 / r1},
 		// i(Vs) enters the + terminal from the circuit: −1/R1.
-		{"ccvs of a vsource", testcircuit.CCVS("Tz1", "out", gnd, 4e3, "Vs"), -4e3 / r1},
-		{"cccs", testcircuit.CCCS("Mirror1", "out", gnd, 10, "R1"), 10 * r2 / r1},
+		{"transresistance of a voltage source", testcircuit.CCVS("Tz1", "out", gnd, 4e3, "Vs"), -4e3 / r1},
+		{"current gain", testcircuit.CCCS("Mirror1", "out", gnd, 10, "R1"), 10 * r2 / r1},
 	}
 	for _, tc := range cases {
 		parts := append(append([]netlist.Part{}, base...), tc.part, testcircuit.R("R2", "out", gnd, r2))
@@ -295,8 +295,8 @@ func TestPartCurrents(t *testing.T) {
 	}{
 		{"resistor", rc(), "R1", iLoop},
 		{"capacitor", rc(), "C1", iLoop},
-		{"vsource delivers", rc(), "Vs", -iLoop},
-		{"isource", isrc, "I1", -1},
+		{"voltage source delivers", rc(), "Vs", -iLoop},
+		{"current source", isrc, "I1", -1},
 		{"resistor fed by isource", isrc, "R1", 1},
 	}
 	for _, tc := range cases {

@@ -12,7 +12,7 @@ import (
 // the signs (k, k, −k) are the same matrix with one coil's dot reversed.
 // Three perfect couplings (K = 1) are singular but valid (from memory).
 func TestCouplingSets(t *testing.T) {
-	const head = "Vin: vsource (in, gnd) 1\nR1: resistor (in, a) 50\nL1: inductor (a, gnd) 1m\nL2: inductor (b, gnd) 1m\nL3: inductor (c, gnd) 1m\nR2: resistor (b, gnd) 50\nR3: resistor (c, gnd) 50\n"
+	const head = "Vin: voltage source (in, gnd) 1\nR1: resistor (in, a) 50\nL1: inductor (a, gnd) 1m\nL2: inductor (b, gnd) 1m\nL3: inductor (c, gnd) 1m\nR2: resistor (b, gnd) 50\nR3: resistor (c, gnd) 50\n"
 	cases := []struct {
 		name, couplings, want string
 	}{

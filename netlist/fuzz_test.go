@@ -114,7 +114,7 @@ func FuzzParseValue(f *testing.F) {
 // custom metric ns/byte is the speed the bounded fuzz inputs rely on.
 func BenchmarkLoadPerByte(b *testing.B) {
 	var sb strings.Builder
-	sb.WriteString("Vs: vsource (in, gnd) 1\n")
+	sb.WriteString("Vs: voltage source (in, gnd) 1\n")
 	for i := 0; sb.Len() < maxFuzzInput; i++ {
 		fmt.Fprintf(&sb, "R%d: resistor (in, n%d) 1k ±1%%\nC%d: capacitor (n%d, gnd) (1n + 2n*%d)/3\n", i, i, i, i, i%7)
 	}

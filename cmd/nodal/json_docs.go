@@ -42,7 +42,7 @@ func complexPtrDoc(z *complex128) *complexJSON {
 	return &d
 }
 
-// timeJSON is the document of `nodal step` and `nodal impulse`.
+// timeJSON is the document of `nodal time`.
 type timeJSON struct {
 	Kind          string        `json:"kind"`
 	ClosedForm    string        `json:"closed_form"`
@@ -210,7 +210,7 @@ func checkDoc(res *check.CheckResult, agrees bool, sc symbolicCheck) checkJSON {
 	return d
 }
 
-// tfJSON is the document of `nodal tf` (numeric), keys in alphabetical
+// tfJSON is the document of `nodal transfer` (numeric), keys in alphabetical
 // order. gain_dc is null for a
 // pole at DC and 0 for a zero there; gain_dc_db only for a finite,
 // non-zero DC gain; f3db and the peak only when they exist.
@@ -281,7 +281,7 @@ func pairsJSON(ps []transfer.RootPair) []pairJSON {
 	return out
 }
 
-// tfDoc returns the document of `nodal tf` for rep.
+// tfDoc returns the document of `nodal transfer` for rep.
 func tfDoc(rep *tfReport) tfJSON {
 	h := rep.r.tf
 	doc := tfJSON{What: rep.r.what, Unit: rep.r.unit,

@@ -40,11 +40,11 @@ type cli struct {
 	Parts     partsCmd     `cmd:"" help:"Show the elaborated parts and nodes of a circuit."`
 	Equations equationsCmd `cmd:"" help:"Show the MNA equations (G + sC)x = b being solved."`
 	Sweep     sweepCmd     `cmd:"" help:"Frequency response: magnitude, phase and group delay."`
-	TF        tfCmd        `cmd:"" name:"tf" help:"Transfer function H(s), poles, zeros, f0, Q and the circuit's ODE."`
+	Transfer  transferCmd  `cmd:"" help:"Transfer function H(s), poles, zeros, f0, Q and the circuit's ODE."`
+	Impedance impedanceCmd `cmd:"" help:"Impedance Z(s) at a source's port or a node, over frequency, with its resonances."`
 	Check     checkCmd     `cmd:"" help:"Check a hand-derived ODE or transfer function against the circuit."`
 	Drive     driveCmd     `cmd:"" help:"Sinusoidal steady-state output for a given input signal."`
-	Step      stepCmd      `cmd:"" help:"Exact step response with rise, overshoot and settling figures."`
-	Impulse   impulseCmd   `cmd:"" help:"Exact impulse response."`
+	Time      timeCmd      `cmd:"" help:"Exact step or impulse response with rise, overshoot and settling figures."`
 	Tolerance toleranceCmd `cmd:"" help:"Monte Carlo, worst case and sensitivities of response metrics."`
 	Verify    verifyCmd    `cmd:"" help:"Check the file's require statements at nominal, worst case and as yield."`
 	Snap      snapCmd      `cmd:"" help:"Round R and C values to an IEC 60063 E-series and show what moves."`
@@ -147,6 +147,10 @@ func run(e *env, args []string) (code int) {
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
 		return exitInput
 	}
+	if err := unknownCommand(parser, args); err != nil {
+		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
+		return exitInput
+	}
 	kctx, err := parser.Parse(args)
 	if err != nil {
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
@@ -183,4 +187,34 @@ func isTerminal(f *os.File) bool {
 // metric list, read from the metric registry.
 func helpVars() kong.Vars {
 	return kong.Vars{"version": "nodal " + version, "metrics": strings.Join(netlist.MetricNames(), ", ")}
+}
+
+// unknownCommand names a first argument that is no command, with the
+// nearest command as a hint (or the one command and flag it is a value
+// of), or returns nil.
+func unknownCommand(parser *kong.Kong, args []string) error {
+	if len(args) == 0 || strings.HasPrefix(args[0], "-") {
+		return nil
+	}
+	var names []string
+	for _, n := range parser.Model.Children {
+		if n.Name == args[0] {
+			return nil
+		}
+		names = append(names, n.Name)
+	}
+	list := strings.Join(names, ", ")
+	var uses [][2]string // command and flag of which the word is a value
+	for _, n := range parser.Model.Children {
+		for _, f := range n.Flags {
+			if f.Enum != "" && f.EnumMap()[args[0]] {
+				uses = append(uses, [2]string{n.Name, f.Name})
+			}
+		}
+	}
+	if len(uses) == 1 {
+		u := uses[0]
+		return fmt.Errorf("unknown command %q; it is a value of %q: nodal %s FILE --%s %s (commands: %s)", args[0], u[0]+" --"+u[1], u[0], u[1], args[0], list)
+	}
+	return fmt.Errorf("unknown command %q; the nearest is %q (commands: %s)", args[0], netlist.Nearest(args[0], names), list)
 }

@@ -110,7 +110,7 @@ func TestSIGINTStopsWorkThatIgnoresContext(t *testing.T) {
 	}
 	bin := buildNodal(t)
 	var sb strings.Builder
-	sb.WriteString("V1: vsource (n0, gnd) 1\n")
+	sb.WriteString("V1: voltage source (n0, gnd) 1\n")
 	for i := 1; i <= 4000; i++ {
 		fmt.Fprintf(&sb, "R%d: resistor (n%d, n%d) 1k\nC%d: capacitor (n%d, gnd) 1n\n", i, i-1, i, i, i)
 	}
@@ -119,7 +119,7 @@ func TestSIGINTStopsWorkThatIgnoresContext(t *testing.T) {
 		t.Fatal(err)
 	}
 	for wait := 200 * time.Millisecond; wait <= 3*time.Second; wait *= 2 {
-		cmd := exec.Command(bin, "tf", file, "--out", "n4000")
+		cmd := exec.Command(bin, "transfer", file, "--out", "n4000")
 		if err := cmd.Start(); err != nil {
 			t.Fatal(err)
 		}

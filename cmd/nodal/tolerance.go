@@ -37,8 +37,8 @@ type toleranceCmd struct {
 // Help is the extended help with a worked example.
 func (c *toleranceCmd) Help() string {
 	return `Draws every toleranced part and parameter at random (uniform over
-nominal·(1 ± tol), or normal with σ = tol/3 when the file says
-dist=normal; a toleranced let is one draw shared by all its uses) and
+nominal·(1 ± tol), or normal with σ = tol/3 when the file says, as in
+"±5% normal"; a toleranced let is one draw shared by all its uses) and
 reports, per metric, the nominal value, mean, standard deviation, min,
 max and the 0.135 % and 99.865 % points (the ±3σ equivalents).
 
