@@ -110,6 +110,9 @@ func (e *elab) run() {
 		if st.Block != nil {
 			e.defineBlock(st.Block)
 		}
+		if st.Response != nil {
+			e.response(st.Response)
+		}
 	}
 	for _, st := range e.f.Stmts {
 		switch {

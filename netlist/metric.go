@@ -250,16 +250,20 @@ func paramExample(m MetricSpec) string {
 const MaxFrequencyHz = math.MaxFloat64 / (2 * math.Pi)
 
 func (e *elab) require(r *RequireStmt) {
-	metric := r.Metric.Name
+	resp, metric := splitResponse(r.Metric.Name)
+	base := metric
 	if r.At != nil {
 		metric += "@" + r.At.Sign + r.At.Value
 	}
-	if _, ok := findMetric(r.Metric.Name); !ok {
-		hint := suggest(r.Metric.Name, metricNamesPlain())
+	if !e.requireResponse(r, resp) {
+		return
+	}
+	if _, ok := findMetric(base); !ok {
+		hint := suggest(base, metricNamesPlain())
 		if hint == "" {
 			hint = "metrics: " + strings.Join(MetricNames(), ", ")
 		}
-		e.errorf(r.Metric.Pos, hint, "unknown metric %q", r.Metric.Name)
+		e.errorf(r.Metric.Pos, hint, "unknown metric %q", base)
 		return
 	}
 	m, _, err := ParseMetric(metric)
@@ -267,7 +271,7 @@ func (e *elab) require(r *RequireStmt) {
 		e.errorf(r.Metric.Pos, "", "%v", err)
 		return
 	}
-	req := Requirement{Metric: metric, Pos: e.f.Position(r.Pos)}
+	req := Requirement{Metric: metric, Response: resp, Pos: e.f.Position(r.Pos)}
 	limit := func(l *Limit) (float64, bool) {
 		v, err := ParseValue(l.Sign+l.Value, m.Unit)
 		if err != nil {

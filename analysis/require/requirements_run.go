@@ -6,6 +6,7 @@ import (
 	"math"
 	"nodal/analysis/transfer"
 	"nodal/analysis/variation"
+	"slices"
 
 	"nodal/mna"
 	"nodal/netlist"
@@ -227,9 +228,10 @@ func cornerFactors(ctx context.Context, c *netlist.Circuit, ev variation.Evaluat
 	return out, nil
 }
 
-// RequirementMetrics evaluates the metrics of a list of requirements on the
-// transfer function from one input to one output: the standard
-// MetricsFunc of `verify` and `snap`.
+// RequirementMetrics evaluates the metrics of a list of requirements, each
+// on the transfer function of its own probe (one input, one output; the
+// named responses of a file): the standard MetricsFunc of `verify` and
+// `snap`. Requirements sharing a probe share one extraction.
 //
 // It is an Evaluator, and unlike MetricEvaluator it does not fail a
 // circuit in which a metric does not exist: that value is NaN (and fails
@@ -238,21 +240,41 @@ func cornerFactors(ctx context.Context, c *netlist.Circuit, ev variation.Evaluat
 type RequirementMetrics struct {
 	names   []string
 	metrics []transfer.Metric
-	in      mna.Input
-	out     mna.Output
+	probes  []mna.Probe // distinct probes, in order of first use
+	of      []int       // per requirement: its index in probes
 }
 
-// NewRequirementMetrics parses the metric of every requirement. An
-// unknown metric is an error naming the requirement and the valid metrics.
+// NewRequirementMetrics parses the metric of every requirement, all taken
+// on the transfer from in to out. An unknown metric is an error naming the
+// requirement and the valid metrics.
 func NewRequirementMetrics(reqs []netlist.Requirement, in mna.Input, out mna.Output) (*RequirementMetrics, error) {
-	r := &RequirementMetrics{in: in, out: out}
-	for _, q := range reqs {
+	probes := make([]mna.Probe, len(reqs))
+	for i := range probes {
+		probes[i] = mna.Probe{Ex: in, Ob: out}
+	}
+	return NewProbeMetrics(reqs, probes)
+}
+
+// NewProbeMetrics is NewRequirementMetrics with one probe per requirement
+// (probes[i] for reqs[i]).
+func NewProbeMetrics(reqs []netlist.Requirement, probes []mna.Probe) (*RequirementMetrics, error) {
+	if len(probes) != len(reqs) {
+		return nil, fmt.Errorf("requirement metrics: %d probes for %d requirements", len(probes), len(reqs))
+	}
+	r := &RequirementMetrics{}
+	for i, q := range reqs {
 		m, err := transfer.ParseMetric(q.Metric)
 		if err != nil {
 			return nil, fmt.Errorf("%s: %w", q.Pos, err)
 		}
 		r.metrics = append(r.metrics, m)
 		r.names = append(r.names, q.Metric)
+		k := slices.Index(r.probes, probes[i])
+		if k < 0 {
+			k = len(r.probes)
+			r.probes = append(r.probes, probes[i])
+		}
+		r.of = append(r.of, k)
 	}
 	return r, nil
 }
@@ -261,7 +283,7 @@ func NewRequirementMetrics(reqs []netlist.Requirement, in mna.Input, out mna.Out
 func (r *RequirementMetrics) Metrics() []string { return r.names }
 
 // Eval returns one value per requirement for c, NaN where the metric does
-// not exist for this circuit (Explain says why). It fails when the MNA
+// not exist for this circuit (Explain says why). It fails when an MNA
 // system cannot be built or its transfer function extracted.
 func (r *RequirementMetrics) Eval(c *netlist.Circuit) ([]float64, error) {
 	vals, _, err := r.evaluate(c)
@@ -276,18 +298,20 @@ func (r *RequirementMetrics) Explain(c *netlist.Circuit) ([]error, error) {
 }
 
 func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, error) {
-	sys, err := mna.Build(c, r.in, r.out)
-	if err != nil {
-		return nil, nil, err
-	}
-	tf, err := transfer.Extract(sys)
-	if err != nil {
-		return nil, nil, err
+	tfs := make([]*transfer.TransferFunction, len(r.probes))
+	for k, p := range r.probes {
+		sys, err := mna.Build(c, p.Ex, p.Ob)
+		if err != nil {
+			return nil, nil, err
+		}
+		if tfs[k], err = transfer.Extract(sys); err != nil {
+			return nil, nil, err
+		}
 	}
 	vals := make([]float64, len(r.metrics))
 	why := make([]error, len(r.metrics))
 	for i, m := range r.metrics {
-		v, err := m.Eval(tf)
+		v, err := m.Eval(tfs[r.of[i]])
 		if err != nil {
 			v, why[i] = math.NaN(), err
 		}

@@ -36,6 +36,8 @@ var schemaCases = []struct {
 	{"tolerance", []string{"tolerance", rcFile, "--out", "out", "--metric", "f3db", "--metric", "gain@1kHz", "--worst-case", "--sensitivity", "--runs", "20", "--format", "json"}},
 	{"verify", []string{"verify", "testdata/bridge_pass.nodal", "--runs", "20", "--format", "json"}},
 	{"snap", []string{"snap", "testdata/bridge_snap.nodal", "--series", "E24", "--format", "json"}},
+	{"verify_responses", []string{"verify", "../../testdata/examples/speaker_crossover.nodal", "--runs", "20", "--format", "json"}},
+	{"sweep_responses", []string{"sweep", "../../testdata/examples/speaker_crossover.nodal", "--out", "woofer", "--out", "woofer+tweeter", "--at", "1k", "--format", "json"}},
 }
 
 // keyPaths adds the key paths of v under prefix to set.

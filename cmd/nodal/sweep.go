@@ -7,6 +7,7 @@ import (
 	"io"
 	"math"
 	"strconv"
+	"strings"
 
 	"nodal/analysis/response"
 	"nodal/analysis/transfer"
@@ -18,7 +19,7 @@ import (
 type sweepCmd struct {
 	circuitArgs
 	In  string   `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
-	Out []string `required:"" help:"Output node, or i(PART) for a part's current; repeat for several traces." placeholder:"NODE"`
+	Out []string `help:"Output: a response of the file, a sum of them (woofer+tweeter), a node, or i(PART); repeat for several traces (default: every response of the file, then the node named out)." placeholder:"NAME"`
 	Ref string   `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 	freqArgs
 	Format  string `help:"Output format: table, csv or json." enum:"table,csv,json" default:"table"`
@@ -71,6 +72,77 @@ type sweepJSON struct {
 	Points []sweepPoint `json:"points"`
 }
 
+// sweepTrace is one output of a sweep: the systems whose responses it
+// sums (one, or the named responses of --out A+B) and its label.
+type sweepTrace struct {
+	label   string
+	systems []*mna.System
+}
+
+// traces resolves the --out values: each a response, a node, i(PART) or
+// a sum of responses; none means every response of the file (then the
+// node named out).
+func (c *sweepCmd) traces(l *loaded) ([]sweepTrace, error) {
+	outs := c.Out
+	if len(outs) == 0 {
+		outs = l.circuit.ResponseNames()
+		if len(outs) == 0 {
+			outs = []string{""}
+		}
+	}
+	var traces []sweepTrace
+	for _, o := range outs {
+		names, err := sumParts(l.circuit, o)
+		if err != nil {
+			return nil, err
+		}
+		if names == nil {
+			names = []string{o}
+		}
+		t := sweepTrace{label: strings.Join(names, "+")}
+		for _, n := range names {
+			p, name, err := probeFor(l.circuit, c.In, n, c.Ref)
+			if err != nil {
+				return nil, err
+			}
+			sys, err := mna.Build(l.circuit, p.Ex, p.Ob)
+			if err != nil {
+				return nil, err
+			}
+			if len(t.systems) > 0 && sys.Input.Source != t.systems[0].Input.Source {
+				return nil, fmt.Errorf("--out %s: %s is driven by %s and %s by %s; a sum adds responses from the same input", o, names[0], t.systems[0].Input.Source, n, sys.Input.Source)
+			}
+			if name == "" && len(names) == 1 {
+				t.label = response.OutputLabel(sys.Output)
+			}
+			t.systems = append(t.systems, sys)
+		}
+		traces = append(traces, t)
+	}
+	return traces, nil
+}
+
+// sweepTraces sweeps every trace over freqs, summing the terms of a sum.
+func sweepTraces(e *env, traces []sweepTrace, freqs []float64, workers int) ([]*response.Response, error) {
+	var resps []*response.Response
+	for _, t := range traces {
+		var terms []*response.Response
+		for _, sys := range t.systems {
+			r, err := response.Sweep(e.ctx, sys, freqs, workers)
+			if err != nil {
+				return nil, err
+			}
+			terms = append(terms, r)
+		}
+		r, err := response.Sum(t.label, terms...)
+		if err != nil {
+			return nil, err
+		}
+		resps = append(resps, r)
+	}
+	return resps, nil
+}
+
 // Run sweeps every output.
 func (c *sweepCmd) Run(e *env) error {
 	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
@@ -80,36 +152,28 @@ func (c *sweepCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	var systems []*mna.System
-	for _, o := range c.Out {
-		sys, err := mna.Build(l.circuit, mna.Input{Source: c.In}, outputFor(o, c.Ref))
-		if err != nil {
-			return err
-		}
-		systems = append(systems, sys)
+	traces, err := c.traces(l)
+	if err != nil {
+		return err
 	}
-	// Each system's transfer function serves the default range and the
-	// plot's marks; extract it once.
-	tfs := make([]*transfer.TransferFunction, len(systems))
-	for i, sys := range systems {
-		if i == 0 || c.Plot != "" {
-			tfs[i] = systemTF(sys)
+	// Each trace's transfer function serves the default range and the
+	// plot's marks; extract it once (a sum has none: no marks).
+	tfs := make([]*transfer.TransferFunction, len(traces))
+	for i, t := range traces {
+		if (i == 0 || c.Plot != "") && len(t.systems) == 1 {
+			tfs[i] = systemTF(t.systems[0])
 		}
 	}
 	freqs, err := c.frequencies(func() (float64, float64) { return rangeOf(l, tfs[0]) })
 	if err != nil {
 		return err
 	}
-	if err := checkWork("sweep", len(l.circuit.Parts), len(freqs), len(systems), "outputs"); err != nil {
+	if err := checkWork("sweep", len(l.circuit.Parts), len(freqs), len(traces), "outputs"); err != nil {
 		return err
 	}
-	var resps []*response.Response
-	for _, sys := range systems {
-		r, err := response.Sweep(e.ctx, sys, freqs, c.Workers)
-		if err != nil {
-			return err
-		}
-		resps = append(resps, r)
+	resps, err := sweepTraces(e, traces, freqs, c.Workers)
+	if err != nil {
+		return err
 	}
 	if c.Plot != "" {
 		if err := writeBodePlot(e, c.Plot, []string{c.File, c.Output}, l, tfs, resps); err != nil {
@@ -130,15 +194,10 @@ func (c *sweepCmd) Run(e *env) error {
 		case "csv":
 			return responseCSV(w, resps)
 		}
-		for i, r := range resps {
-			if i > 0 {
-				fmt.Fprintln(w)
-			}
-			if err := responseTable(w, r); err != nil {
-				return err
-			}
+		if len(resps) > 1 {
+			return responsesTable(w, resps)
 		}
-		return nil
+		return responseTable(w, resps[0])
 	})
 }
 
@@ -197,6 +256,29 @@ func responseTable(w io.Writer, r *response.Response) error {
 	t := newTable(w, "freq_hz", "mag", "mag_db", "phase_deg", "group_delay_s")
 	for i := range r.FreqHz {
 		if err := t.row(num(r.FreqHz[i]), num(r.Mag[i]), fixed(r.MagDB[i], 4), fixed(r.PhaseDeg[i], 3), num(r.GroupDelayS[i])); err != nil {
+			return err
+		}
+	}
+	return t.render()
+}
+
+// responsesTable prints several responses over the same frequencies side
+// by side: one group of mag_db and phase_deg columns each.
+func responsesTable(w io.Writer, resps []*response.Response) error {
+	var labels []string
+	header := []string{"freq_hz"}
+	for _, r := range resps {
+		labels = append(labels, r.Output)
+		header = append(header, r.Output+" mag_db", r.Output+" phase_deg")
+	}
+	fmt.Fprintf(w, "H = (%s) / %s\n", strings.Join(labels, ", "), resps[0].Input)
+	t := newTable(w, header...)
+	for i := range resps[0].FreqHz {
+		row := []string{num(resps[0].FreqHz[i])}
+		for _, r := range resps {
+			row = append(row, fixed(r.MagDB[i], 4), fixed(r.PhaseDeg[i], 3))
+		}
+		if err := t.row(row...); err != nil {
 			return err
 		}
 	}

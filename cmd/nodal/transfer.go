@@ -86,7 +86,7 @@ type tfProbe struct {
 
 // resolveProbe checks the request and says which probe to build: a port
 // or node impedance is a test current in and the voltage across it out.
-func resolveProbe(q tfRequest) (tfProbe, error) {
+func resolveProbe(c *netlist.Circuit, q tfRequest) (tfProbe, error) {
 	switch {
 	case q.Port != "" && q.Node != "":
 		return tfProbe{}, errors.New("give one of --port or --node")
@@ -100,10 +100,9 @@ func resolveProbe(q tfRequest) (tfProbe, error) {
 		return tfProbe{Probe: mna.NodeImpedance(q.Node, q.ZRef), what: what, yName: "v", uName: "i", unit: "Ω"}, nil
 	case q.Port != "":
 		return tfProbe{Probe: mna.SourceImpedance(q.Port), what: fmt.Sprintf("Z(s) at the port of %s (the source removed)", q.Port), yName: "v", uName: "i", unit: "Ω"}, nil
-	case q.Out == "":
-		return tfProbe{}, errors.New("give the output with --out NODE or --out i(PART)")
 	}
-	return tfProbe{Probe: mna.Probe{Ex: mna.Excitation{Source: q.In}, Ob: outputFor(q.Out, q.Ref)}, yName: "y", uName: "u"}, nil
+	p, _, err := probeFor(c, q.In, q.Out, q.Ref)
+	return tfProbe{Probe: p, yName: "y", uName: "u"}, err
 }
 
 // describe fills in the meaning and unit of a voltage or current ratio
@@ -127,7 +126,7 @@ func (p tfProbe) describe(c *netlist.Circuit, in mna.Input, out mna.Output) (wha
 
 // extractTF builds the system and extracts the requested transfer function.
 func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
-	p, err := resolveProbe(q)
+	p, err := resolveProbe(l.circuit, q)
 	if err != nil {
 		return nil, err
 	}

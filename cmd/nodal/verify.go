@@ -5,6 +5,7 @@ import (
 	"io"
 	"math"
 	"nodal/cmd/nodal/notation"
+	"slices"
 	"strings"
 	"time"
 
@@ -17,31 +18,40 @@ import (
 )
 
 // requireProbe chooses the input and output that the file's requirements
-// are taken on.
+// are taken on: a requirement that names a response (tweeter.f3db) is
+// taken on it, the others on --out (default: the file's first response,
+// then the node named out).
 type requireProbe struct {
 	In  string `help:"Input source of the requirements (default: the circuit's only source)." placeholder:"SOURCE"`
-	Out string `help:"Output node of the requirements, or i(PART) (default: the node named out)." placeholder:"NODE"`
+	Out string `help:"Output of the unqualified requirements: a response, a node or i(PART) (default: the file's first response, then the node named out)." placeholder:"NAME"`
 	Ref string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 }
 
-// outNode returns --out, or "out" when the circuit has a node of that name.
-func (p *requireProbe) outNode(l *loaded) (string, error) {
-	if p.Out != "" {
-		return p.Out, nil
+// probes returns the probe of every requirement of the circuit and the
+// name of the response each is taken on (the output label for a node).
+func (p *requireProbe) probes(l *loaded) ([]mna.Probe, []string, error) {
+	c := l.circuit
+	probes := make([]mna.Probe, len(c.Requirements))
+	names := make([]string, len(c.Requirements))
+	for i, r := range c.Requirements {
+		in, out, ref := p.In, p.Out, p.Ref
+		if r.Response != "" {
+			out, ref = r.Response, ""
+		}
+		q, name, err := probeFor(c, in, out, ref)
+		if err != nil {
+			return nil, nil, fmt.Errorf("%s: requirements: %w", l.name, err)
+		}
+		if _, err := mna.Build(c, q.Ex, q.Ob); err != nil {
+			return nil, nil, err
+		}
+		if name == "" {
+			ex, ob, _ := mna.Resolve(c, q.Ex, q.Ob)
+			q, name = mna.Probe{Ex: ex, Ob: ob}, response.OutputLabel(ob)
+		}
+		probes[i], names[i] = q, name
 	}
-	if !l.circuit.HasNode("out") {
-		return "", fmt.Errorf("%s has no node named out: say where the requirements are measured with --out NODE (nodes: %s)", l.name, strings.Join(l.circuit.Nodes[1:], ", "))
-	}
-	return "out", nil
-}
-
-// metrics returns the evaluator of the circuit's requirement metrics.
-func (p *requireProbe) metrics(l *loaded) (*require.RequirementMetrics, error) {
-	out, err := p.outNode(l)
-	if err != nil {
-		return nil, err
-	}
-	return require.NewRequirementMetrics(l.circuit.Requirements, mna.Input{Source: p.In}, outputFor(out, p.Ref))
+	return probes, names, nil
 }
 
 // verifyCmd checks the file's requirements.
@@ -100,6 +110,7 @@ type verifyReport struct {
 
 type verdictJSON struct {
 	Requirement string          `json:"requirement"`
+	Response    string          `json:"response"`
 	Line        int             `json:"line"`
 	Unit        string          `json:"unit"`
 	Nominal     *float64        `json:"nominal"`
@@ -139,12 +150,11 @@ func (c *verifyCmd) Run(e *env) error {
 	if len(l.circuit.Requirements) == 0 {
 		return fmt.Errorf("%s has no require statements to verify; add one such as `require f3db within 1.9kHz..2.1kHz` (metrics: %s)", l.name, strings.Join(netlist.MetricNames(), ", "))
 	}
-	rm, err := c.metrics(l)
+	probes, names, err := c.probes(l)
 	if err != nil {
 		return err
 	}
-	out, _ := c.outNode(l)
-	sys, err := mna.Build(l.circuit, mna.Input{Source: c.In}, outputFor(out, c.Ref))
+	rm, err := require.NewProbeMetrics(l.circuit.Requirements, probes)
 	if err != nil {
 		return err
 	}
@@ -166,13 +176,13 @@ func (c *verifyCmd) Run(e *env) error {
 		return err
 	}
 	rep := &verifyReport{
-		File: l.name, Input: sys.Input.Source, Output: response.OutputLabel(sys.Output), Runs: c.Runs, Seed: c.Seed, Corners: res.Corners,
+		File: l.name, Input: inputsOf(probes), Output: strings.Join(uniq(names), ", "), Runs: c.Runs, Seed: c.Seed, Corners: res.Corners,
 		Failed: res.Failed, Yield: proportionOut(res.Yield), PassNominal: res.PassNominal(), PassWorst: res.PassWorst(),
 	}
 	for i, d := range res.Verdicts {
 		unit, _ := netlist.MetricUnit(metricBase(d.Requirement.Metric))
 		rep.Requirements = append(rep.Requirements, verdictJSON{
-			Requirement: d.Requirement.Text, Line: d.Requirement.Pos.Line, Unit: unit,
+			Requirement: d.Requirement.Text, Response: names[i], Line: d.Requirement.Pos.Line, Unit: unit,
 			Nominal: finiteOrNil(d.Nominal), NominalPass: d.NominalPass,
 			WorstMin: finiteOrNil(d.WorstMin), WorstMax: finiteOrNil(d.WorstMax), WorstPass: d.WorstPass,
 			Yield:   proportionOut(d.Yield),
@@ -200,6 +210,26 @@ func (c *verifyCmd) Run(e *env) error {
 		return &verdictError{msg: "requirements fail in the worst case"}
 	}
 	return nil
+}
+
+// inputsOf names the sources of the probes, each once.
+func inputsOf(probes []mna.Probe) string {
+	var in []string
+	for _, p := range probes {
+		in = append(in, p.Ex.Source)
+	}
+	return strings.Join(uniq(in), ", ")
+}
+
+// uniq returns the strings in order with repeats left out.
+func uniq(names []string) []string {
+	var out []string
+	for _, n := range names {
+		if !slices.Contains(out, n) {
+			out = append(out, n)
+		}
+	}
+	return out
 }
 
 // metricBase is the metric name without its frequency ("gain@1kHz" → "gain").
@@ -241,19 +271,19 @@ func yieldText(p *proportionJSON) string {
 }
 
 func verifyTable(w io.Writer, rep *verifyReport) error {
-	fmt.Fprintf(w, "%s: requirements on the output %s driven by %s\n", rep.File, rep.Output, rep.Input)
-	t := newTable(w, "requirement", "nominal", "verdict", "worst case", "verdict", "yield [95 % CI]")
+	fmt.Fprintf(w, "%s: requirements on %s driven by %s\n", rep.File, rep.Output, rep.Input)
+	t := newTable(w, "response", "requirement", "nominal", "verdict", "worst case", "verdict", "yield [95 % CI]")
 	for _, v := range rep.Requirements {
 		worst := "-"
 		if !math.IsNaN(v.worstMin) {
 			worst = metricText(v.worstMin, v.Unit) + " .. " + metricText(v.worstMax, v.Unit)
 		}
 		nominal := metricText(v.nominal, v.Unit)
-		if err := t.row(strings.TrimPrefix(v.Requirement, "require "), nominal, passText(v.NominalPass), worst, passText(v.WorstPass), yieldText(v.Yield)); err != nil {
+		if err := t.row(v.Response, strings.TrimPrefix(v.Requirement, "require "), nominal, passText(v.NominalPass), worst, passText(v.WorstPass), yieldText(v.Yield)); err != nil {
 			return err
 		}
 	}
-	if err := t.row("all", "", passText(rep.PassNominal), "", passText(rep.PassWorst), yieldText(rep.Yield)); err != nil {
+	if err := t.row("all", "", "", passText(rep.PassNominal), "", passText(rep.PassWorst), yieldText(rep.Yield)); err != nil {
 		return err
 	}
 	if err := t.render(); err != nil {
