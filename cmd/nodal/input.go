@@ -27,7 +27,7 @@ const maxInputBytes = 16 << 20
 // circuitArgs are the arguments shared by every command that reads a circuit.
 type circuitArgs struct {
 	File string   `arg:"" help:"Circuit file (.nodal), or - for standard input." type:"string"`
-	Set  []string `help:"Override a top-level parameter, NAME=VALUE (repeatable), e.g. --set fc=2.2kHz." placeholder:"NAME=VALUE"`
+	Set  []string `help:"Override a top-level parameter or a part value, NAME=VALUE (repeatable), e.g. --set fc=2.2kHz or --set Rf=6.8k." placeholder:"NAME=VALUE"`
 }
 
 // probeArgs choose the input source and the observed output.

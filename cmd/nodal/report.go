@@ -21,7 +21,7 @@ import (
 // reportCmd writes the single-file report.
 type reportCmd struct {
 	File   string   `arg:"" optional:"" help:"Circuit file (.nodal), or - for standard input; the built-in demo when left out." type:"string"`
-	Set    []string `help:"Override a top-level parameter, NAME=VALUE (repeatable)." placeholder:"NAME=VALUE"`
+	Set    []string `help:"Override a top-level parameter or a part value, NAME=VALUE (repeatable)." placeholder:"NAME=VALUE"`
 	In     string   `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
 	Out    string   `help:"Output node (default: the node named out)." placeholder:"NODE"`
 	Ref    string   `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
