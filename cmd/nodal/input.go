@@ -81,9 +81,21 @@ func (a *circuitArgs) load(e *env) (*loaded, error) {
 
 // elaborate parses src under name with the --set overrides.
 func elaborate(e *env, name string, src []byte, sets []string) (*loaded, error) {
+	return elaborateWith(e, name, src, sets, nil)
+}
+
+// elaborateWith is elaborate with extra overrides (a --vary value) on top
+// of the --set ones.
+func elaborateWith(e *env, name string, src []byte, sets []string, extra netlist.Overrides) (*loaded, error) {
 	ov, err := parseOverrides(sets)
 	if err != nil {
 		return nil, err
+	}
+	if len(extra) > 0 && ov == nil {
+		ov = netlist.Overrides{}
+	}
+	for k, v := range extra {
+		ov[k] = v
 	}
 	c, err := netlist.Load(name, src, ov)
 	if err != nil {

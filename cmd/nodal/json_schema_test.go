@@ -36,6 +36,8 @@ var schemaCases = []struct {
 	{"tolerance", []string{"tolerance", rcFile, "--out", "out", "--metric", "f3db", "--metric", "gain@1kHz", "--worst-case", "--sensitivity", "--runs", "20", "--format", "json"}},
 	{"verify", []string{"verify", "testdata/bridge_pass.nodal", "--runs", "20", "--format", "json"}},
 	{"snap", []string{"snap", "testdata/bridge_snap.nodal", "--series", "E24", "--format", "json"}},
+	{"sweep_vary", []string{"sweep", rcFile, "--vary", "R=1k,2k", "--at", "1k", "--format", "json"}},
+	{"transfer_vary", []string{"transfer", rcFile, "--vary", "C1=10n,20n", "--format", "json"}},
 	{"verify_responses", []string{"verify", "../../testdata/examples/speaker_crossover.nodal", "--runs", "20", "--format", "json"}},
 	{"sweep_responses", []string{"sweep", "../../testdata/examples/speaker_crossover.nodal", "--out", "woofer", "--out", "woofer+tweeter", "--at", "1k", "--format", "json"}},
 }

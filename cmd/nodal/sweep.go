@@ -18,6 +18,7 @@ import (
 // sweepCmd prints the frequency response.
 type sweepCmd struct {
 	circuitArgs
+	varyArgs
 	In  string   `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
 	Out []string `help:"Output: a response of the file, a sum of them (woofer+tweeter), a node, or i(PART); repeat for several traces (default: every response of the file, then the node named out)." placeholder:"NAME"`
 	Ref string   `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
@@ -67,9 +68,10 @@ func (p sweepPoint) MarshalJSON() ([]byte, error) {
 
 // sweepJSON is the JSON document of one output.
 type sweepJSON struct {
-	Input  string       `json:"input"`
-	Output string       `json:"output"`
-	Points []sweepPoint `json:"points"`
+	Input   string        `json:"input"`
+	Output  string        `json:"output"`
+	Variant []variantJSON `json:"variant,omitempty"` // the --vary values of this trace
+	Points  []sweepPoint  `json:"points"`
 }
 
 // sweepTrace is one output of a sweep: the systems whose responses it
@@ -143,19 +145,35 @@ func sweepTraces(e *env, traces []sweepTrace, freqs []float64, workers int) ([]*
 	return resps, nil
 }
 
-// Run sweeps every output.
+// Run sweeps every output (for every --vary value).
 func (c *sweepCmd) Run(e *env) error {
 	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
 		return err
 	}
-	l, err := c.load(e)
+	vs, err := c.variants()
 	if err != nil {
 		return err
 	}
-	traces, err := c.traces(l)
+	ls, err := c.loadVariants(e, vs)
 	if err != nil {
 		return err
 	}
+	var traces []sweepTrace
+	var of []int // per trace: its variant
+	for i, l := range ls {
+		ts, err := c.traces(l)
+		if err != nil {
+			return err
+		}
+		for _, t := range ts {
+			if lab := vs[i].label(); lab != "" {
+				t.label += " " + lab
+			}
+			traces = append(traces, t)
+			of = append(of, i)
+		}
+	}
+	l := ls[0]
 	// Each trace's transfer function serves the default range and the
 	// plot's marks; extract it once (a sum has none: no marks).
 	tfs := make([]*transfer.TransferFunction, len(traces))
@@ -186,8 +204,9 @@ func (c *sweepCmd) Run(e *env) error {
 			docs := make([]sweepJSON, len(resps))
 			for i, r := range resps {
 				docs[i] = responseJSON(r)
+				docs[i].Variant = vs[of[i]].json()
 			}
-			if len(docs) == 1 {
+			if len(docs) == 1 && len(c.Vary) == 0 {
 				return writeJSON(w, docs[0])
 			}
 			return writeJSON(w, docs)

@@ -19,8 +19,9 @@ import (
 // transferCmd prints the transfer function and what can be read off it.
 type transferCmd struct {
 	circuitArgs
+	varyArgs
 	In     string `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
-	Out    string `help:"Output node, or i(PART) for the current through a part." placeholder:"NODE"`
+	Out    string `help:"Output: a response of the file, a node, or i(PART) (default: the first response, then the node named out)." placeholder:"NAME"`
 	Ref    string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
@@ -162,6 +163,12 @@ func (c *transferCmd) Run(e *env) error {
 	if err := c.symbolicArgs.check(); err != nil {
 		return err
 	}
+	if len(c.Vary) > 0 {
+		if c.Symbolic || c.Plot != "" {
+			return errors.New("--vary goes with the numeric transfer function and no --plot")
+		}
+		return c.runVariants(e)
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err
@@ -192,6 +199,52 @@ func (c *transferCmd) Run(e *env) error {
 			return writeJSON(w, tfDoc(rep))
 		}
 		return rep.table(w)
+	})
+}
+
+// variantTFJSON is the transfer function of one --vary value.
+type variantTFJSON struct {
+	Variant  []variantJSON `json:"variant"`
+	Transfer any           `json:"transfer"`
+}
+
+// runVariants prints the transfer function for every --vary value: a
+// section each, or a JSON array of {variant, transfer}.
+func (c *transferCmd) runVariants(e *env) error {
+	vs, err := c.variants()
+	if err != nil {
+		return err
+	}
+	ls, err := c.loadVariants(e, vs)
+	if err != nil {
+		return err
+	}
+	reps := make([]*tfReport, len(ls))
+	for i, l := range ls {
+		r, err := extractTF(l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref})
+		if err != nil {
+			return fmt.Errorf("%s: %w", vs[i].label(), err)
+		}
+		reps[i] = newTFReport(r)
+	}
+	return writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
+		if c.Format == "json" {
+			docs := make([]variantTFJSON, len(reps))
+			for i, rep := range reps {
+				docs[i] = variantTFJSON{Variant: vs[i].json(), Transfer: tfDoc(rep)}
+			}
+			return writeJSON(w, docs)
+		}
+		for i, rep := range reps {
+			if i > 0 {
+				fmt.Fprintln(w)
+			}
+			fmt.Fprintf(w, "── %s ──\n", vs[i].label())
+			if err := rep.table(w); err != nil {
+				return err
+			}
+		}
+		return nil
 	})
 }
 
