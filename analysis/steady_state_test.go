@@ -19,7 +19,7 @@ func lowPass1(omegaC float64) *TransferFunction {
 
 func mustSignal(t *testing.T, src string) *signal.Signal {
 	t.Helper()
-	s, err := signal.Parse(src)
+	s, err := signal.Parse("signal", src)
 	if err != nil {
 		t.Fatal(err)
 	}

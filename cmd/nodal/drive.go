@@ -1,13 +1,10 @@
 package main
 
 import (
-	"errors"
 	"fmt"
 	"io"
 	"math"
 	"math/cmplx"
-	"strings"
-	"unicode/utf8"
 
 	"nodal/analysis"
 	"nodal/analysis/signal"
@@ -50,9 +47,9 @@ func (c *driveCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	sig, err := signal.Parse(c.Signal)
+	sig, err := signal.Parse("--signal", c.Signal)
 	if err != nil {
-		return fmt.Errorf("--signal: %w%s", err, caretLine(c.Signal, err))
+		return err
 	}
 	sys, err := c.system(l)
 	if err != nil {
@@ -147,15 +144,4 @@ func steadyTable(w io.Writer, st *analysis.Steady, phasors []nodePhasor, sig *si
 		}
 	}
 	return nil
-}
-
-// caretLine shows a one-line input with a caret under the column of a
-// positioned signal error ("" when the error has no column).
-func caretLine(src string, err error) string {
-	var se *signal.Error
-	if !errors.As(err, &se) || se.Pos.Column < 1 || strings.Contains(src, "\n") {
-		return ""
-	}
-	col := min(se.Pos.Column-1, utf8.RuneCountInString(src))
-	return "\n    " + src + "\n    " + strings.Repeat(" ", col) + "^"
 }

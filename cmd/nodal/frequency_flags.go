@@ -2,10 +2,10 @@ package main
 
 import (
 	"fmt"
-	"strings"
 
 	"nodal/analysis"
 	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // maxPoints bounds every sampled output (sweep and time points): a million
@@ -30,29 +30,27 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 		if f.From != "" || f.To != "" || f.Linear {
 			return nil, fmt.Errorf("--at cannot be combined with --from, --to or --linear")
 		}
-		var out []float64
-		for _, s := range strings.Split(f.At, ",") {
-			v, err := netlist.ParseValue(strings.TrimSpace(s), "Hz")
-			if err != nil {
-				return nil, fmt.Errorf("--at %q: %w", s, err)
-			}
+		out, err := syntax.ParseFlagList("--at", f.At, "Hz")
+		if err != nil {
+			return nil, err
+		}
+		for _, v := range out {
 			if v < 0 {
-				return nil, fmt.Errorf("--at %q: frequency must be ≥ 0", s)
+				return nil, fmt.Errorf("--at %s: frequency must be ≥ 0", netlist.FormatEng(v, "Hz"))
 			}
-			out = append(out, v)
 		}
 		return out, nil
 	}
 	from, to := auto()
 	var err error
 	if f.From != "" {
-		if from, err = netlist.ParseValue(f.From, "Hz"); err != nil {
-			return nil, fmt.Errorf("--from: %w", err)
+		if from, err = syntax.ParseFlag("--from", f.From, "Hz"); err != nil {
+			return nil, err
 		}
 	}
 	if f.To != "" {
-		if to, err = netlist.ParseValue(f.To, "Hz"); err != nil {
-			return nil, fmt.Errorf("--to: %w", err)
+		if to, err = syntax.ParseFlag("--to", f.To, "Hz"); err != nil {
+			return nil, err
 		}
 	}
 	if !(to > from) {

@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // partsCmd prints the elaborated circuit: what nodal understood.
@@ -157,7 +158,7 @@ func tolText(t netlist.Tolerance) string {
 // partsTable prints the parts and nodes tables.
 func partsTable(w io.Writer, c *netlist.Circuit) error {
 	if c.Title != "" {
-		fmt.Fprintf(w, "%s\n\n", c.Title)
+		fmt.Fprintf(w, "%s\n\n", syntax.EscapeText(c.Title)) // file text: no terminal controls
 	}
 	t := newTextTable(w, "name", "kind", "nodes", "value", "tolerance")
 	for _, p := range c.Parts {

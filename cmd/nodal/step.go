@@ -10,6 +10,7 @@ import (
 	"nodal/analysis"
 	"nodal/cmd/nodal/plot"
 	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // timeArgs are the flags shared by step and impulse.
@@ -78,8 +79,8 @@ func (c *timeArgs) run(e *env, kind string) error {
 	}
 	opt := analysis.TimeOptions{Points: c.Points}
 	if c.Until != "" {
-		if opt.UntilS, err = netlist.ParseValue(c.Until, "s"); err != nil {
-			return fmt.Errorf("--until: %w", err)
+		if opt.UntilS, err = syntax.ParseFlag("--until", c.Until, "s"); err != nil {
+			return err
 		}
 		if !(opt.UntilS > 0) {
 			return fmt.Errorf("--until must be > 0")

@@ -8,13 +8,13 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
-// siPrefix returns the SI prefix of the power of 1000 e (from netlist's
+// siPrefix returns the SI prefix of the power of 1000 e (from the
 // prefix table, the one the circuit language reads); e outside f…T gives "".
 func siPrefix(e int) string {
-	p, _ := netlist.PrefixSymbol(e)
+	p, _ := syntax.PrefixSymbol(e)
 	return p
 }
 

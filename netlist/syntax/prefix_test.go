@@ -1,4 +1,4 @@
-package netlist
+package syntax
 
 import "testing"
 

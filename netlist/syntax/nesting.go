@@ -1,8 +1,10 @@
-package netlist
+package syntax
 
 import (
+	"fmt"
 	"slices"
 	"strings"
+	"unicode/utf8"
 
 	"github.com/alecthomas/participle/v2/lexer"
 )
@@ -85,4 +87,28 @@ func TooDeepText(def lexer.Definition, name, src string, skip ...string) (tok le
 		types[i] = def.Symbols()[n]
 	}
 	return TooDeep(all, types...)
+}
+
+// NestingDiag is the diagnostic for text that nests deeper than
+// MaxNesting, at the token TooDeep returned.
+func (t *Text) NestingDiag(tok lexer.Token, hint string) *Diagnostic {
+	return t.Diag(tok.Pos.Offset, SevError, fmt.Sprintf("expression nested too deeply (more than %d levels of parentheses, signs and powers)", MaxNesting), hint)
+}
+
+// Admit checks a one-piece text (an expression given on the command line)
+// before it is parsed: what names it in messages ("signal",
+// "expression"); the text must be UTF-8, at most maxBytes long, and nest
+// no deeper than MaxNesting when lexed with def (skipping the token types
+// named in blank). It returns nil when the text may be parsed.
+func (t *Text) Admit(what string, maxBytes int, def lexer.Definition, blank ...string) *Diagnostic {
+	switch {
+	case !utf8.Valid(t.Source):
+		return t.Errorf(0, "%s is not valid UTF-8", what)
+	case len(t.Source) > maxBytes:
+		return t.Errorf(0, "%s is %d bytes; at most %d are accepted", what, len(t.Source), maxBytes)
+	}
+	if tok, deep := TooDeepText(def, t.Name, string(t.Source), blank...); deep {
+		return t.NestingDiag(tok, "")
+	}
+	return nil
 }
