@@ -35,6 +35,17 @@ const (
 	// MetricDC is "dc": the DC gain, dB (−Inf for a zero at DC, +Inf for
 	// a pole at DC).
 	MetricDC
+	// MetricStable is "stable": 1 when every natural frequency of the
+	// circuit is in the open left half-plane, else 0 (analysis/stability).
+	MetricStable
+	// MetricPhaseMargin is "phase_margin@PART": the smallest phase margin
+	// of the loop gain around PART over its gain crossovers, degrees.
+	MetricPhaseMargin
+	// MetricGainMargin is "gain_margin@PART": the smallest gain margin of
+	// that loop gain over its phase crossovers, dB.
+	MetricGainMargin
+	// MetricCrossover is "crossover@PART": its highest gain crossover, Hz.
+	MetricCrossover
 )
 
 // metricNames spells every metric as netlist.MetricNames does, with the
@@ -60,6 +71,7 @@ func metricNameList() []string {
 type Metric struct {
 	Kind   MetricKind
 	FreqHz float64 // the frequency after '@', Hz
+	Part   string  // the gain element after '@' of a loop metric
 	Name   string  // the spelling parsed
 }
 
@@ -69,11 +81,11 @@ func (m Metric) String() string { return m.Name }
 // Unit returns the unit of the metric's value: "dB", "deg", "Hz" or "".
 func (m Metric) Unit() string {
 	switch m.Kind {
-	case MetricGainAt, MetricPeak, MetricDC:
+	case MetricGainAt, MetricPeak, MetricDC, MetricGainMargin:
 		return "dB"
-	case MetricPhaseAt:
+	case MetricPhaseAt, MetricPhaseMargin:
 		return "deg"
-	case MetricF3dB, MetricFPeak, MetricF0:
+	case MetricF3dB, MetricFPeak, MetricF0, MetricCrossover:
 		return "Hz"
 	}
 	return ""
@@ -95,7 +107,7 @@ func ParseMetric(name string) (Metric, error) {
 	if err != nil {
 		return Metric{}, fmt.Errorf("%w; valid metrics are %s", err, strings.Join(metricNames, ", "))
 	}
-	m := Metric{Name: name, FreqHz: freqHz}
+	m := Metric{Name: name, FreqHz: freqHz, Part: netlist.MetricPart(name)}
 	switch base {
 	case "gain":
 		m.Kind = MetricGainAt
@@ -113,6 +125,14 @@ func ParseMetric(name string) (Metric, error) {
 		m.Kind = MetricQ
 	case "dc":
 		m.Kind = MetricDC
+	case "stable":
+		m.Kind = MetricStable
+	case "phase_margin":
+		m.Kind = MetricPhaseMargin
+	case "gain_margin":
+		m.Kind = MetricGainMargin
+	case "crossover":
+		m.Kind = MetricCrossover
 	default:
 		return Metric{}, fmt.Errorf("metric %q is not evaluated by this version; valid metrics are %s", name, strings.Join(metricNames, ", "))
 	}
@@ -207,6 +227,9 @@ func (m Metric) Eval(tf *TransferFunction) (float64, error) {
 			return math.Inf(1), nil
 		}
 		return dc.GainDB, nil
+	}
+	if m.circuitMetric() {
+		return 0, fmt.Errorf("metric %s is judged on the circuit, not on one transfer function", m.Name)
 	}
 	return 0, fmt.Errorf("metric %q not parsed", m.Name)
 }

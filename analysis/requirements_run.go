@@ -214,22 +214,47 @@ func (r *RequirementMetrics) Explain(c *netlist.Circuit) ([]error, error) {
 }
 
 func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, error) {
-	sys, err := mna.Build(c, r.in, r.out)
-	if err != nil {
-		return nil, nil, err
-	}
-	tf, err := Extract(sys)
-	if err != nil {
-		return nil, nil, err
-	}
+	x := &metricContext{c: c, in: r.in, out: r.out}
 	vals := make([]float64, len(r.metrics))
 	why := make([]error, len(r.metrics))
+	// An unstable build fails every requirement: its response does not
+	// settle, so no metric of it exists.
 	for i, m := range r.metrics {
-		v, err := m.Eval(tf)
+		if m.Kind != MetricStable {
+			continue
+		}
+		v, _, err := x.value(m)
+		if err != nil {
+			return nil, nil, err
+		}
+		if v == 0 {
+			for j := range vals {
+				vals[j], why[j] = math.NaN(), ErrUnstable
+			}
+			vals[i], why[i] = 0, nil
+			return vals, why, nil
+		}
+	}
+	for i, m := range r.metrics {
+		v, fatal, err := x.value(m)
+		if fatal {
+			return nil, nil, err
+		}
 		if err != nil {
 			v, why[i] = math.NaN(), err
 		}
 		vals[i] = v
 	}
 	return vals, why, nil
+}
+
+// WithStable returns reqs with the implicit first requirement `stable`
+// (verify judges every circuit on it), unless reqs names it already.
+func WithStable(reqs []netlist.Requirement) []netlist.Requirement {
+	for _, q := range reqs {
+		if q.Metric == "stable" {
+			return reqs
+		}
+	}
+	return append([]netlist.Requirement{{Metric: "stable", Op: netlist.Holds, Text: "stable (implicit)"}}, reqs...)
 }

@@ -6,6 +6,7 @@ import (
 	"math/cmplx"
 	"strings"
 
+	"nodal/analysis/stability"
 	"nodal/mna"
 	"nodal/netlist"
 )
@@ -65,7 +66,7 @@ func NewMetricEvaluator(nominal *netlist.Circuit, in mna.Input, out mna.Output, 
 		}
 		e.metrics = append(e.metrics, m)
 	}
-	nom, err := e.evalExtract(nominal)
+	nom, err := e.evalExtract(nominal, false)
 	if err != nil {
 		return nil, fmt.Errorf("nominal circuit: %w", err)
 	}
@@ -80,12 +81,29 @@ func NewMetricEvaluator(nominal *netlist.Circuit, in mna.Input, out mna.Output, 
 // Metrics returns the metric names as given, in order.
 func (e *MetricEvaluator) Metrics() []string { return e.names }
 
-// Eval builds the MNA system of c and returns one value per metric.
+// Eval builds the MNA system of c and returns one value per metric. A
+// circuit that is not stable is an error wrapping ErrUnstable (its
+// metrics do not exist), so tolerance runs count it.
 func (e *MetricEvaluator) Eval(c *netlist.Circuit) ([]float64, error) {
 	if e.spot {
+		if err := checkStable(c); err != nil {
+			return nil, err
+		}
 		return e.evalSpot(c)
 	}
-	return e.evalExtract(c)
+	return e.evalExtract(c, true)
+}
+
+// checkStable returns an error wrapping ErrUnstable when c is not stable.
+func checkStable(c *netlist.Circuit) error {
+	st, err := stability.Analyze(c, stability.Options{})
+	if err != nil {
+		return err
+	}
+	if st.Class != stability.Stable {
+		return fmt.Errorf("%w: %s", ErrUnstable, st.Class)
+	}
+	return nil
 }
 
 // evalSpot evaluates gain@F, phase@F and dc from H solved at each point.
@@ -114,19 +132,23 @@ func (e *MetricEvaluator) evalSpot(c *netlist.Circuit) ([]float64, error) {
 	return out, nil
 }
 
-// evalExtract evaluates every metric on the extracted transfer function.
-func (e *MetricEvaluator) evalExtract(c *netlist.Circuit) ([]float64, error) {
-	sys, err := mna.Build(c, e.in, e.out)
-	if err != nil {
-		return nil, err
-	}
-	tf, err := Extract(sys)
-	if err != nil {
-		return nil, err
+// evalExtract evaluates every metric on the extracted transfer function
+// (and the circuit, for stable and the loop metrics); with check, an
+// unstable c is an error wrapping ErrUnstable.
+func (e *MetricEvaluator) evalExtract(c *netlist.Circuit, check bool) ([]float64, error) {
+	x := &metricContext{c: c, in: e.in, out: e.out}
+	if check {
+		st, err := x.stability()
+		if err != nil {
+			return nil, err
+		}
+		if st.Class != stability.Stable {
+			return nil, fmt.Errorf("%w: %s", ErrUnstable, st.Class)
+		}
 	}
 	out := make([]float64, len(e.metrics))
 	for i, m := range e.metrics {
-		v, err := m.Eval(tf)
+		v, _, err := x.value(m)
 		if err != nil {
 			return nil, err
 		}

@@ -32,6 +32,7 @@ type MonteCarloResult struct {
 	Seed         uint64
 	Finished     int
 	Failed       int
+	Unstable     int // of the Failed runs, those whose build was not stable (ErrUnstable)
 	FirstFailure error
 	Cancelled    bool
 	Items        []netlist.Variation // the toleranced items drawn, in order
@@ -83,6 +84,9 @@ func MonteCarlo(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt Monte
 				res.FirstFailure = fmt.Errorf("run %d: %w", i, errs[i])
 			}
 			res.Failed++
+			if errors.Is(errs[i], ErrUnstable) {
+				res.Unstable++
+			}
 		case runOK:
 			for j := range m {
 				samples[j] = append(samples[j], vals[i*m+j])

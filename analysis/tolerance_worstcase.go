@@ -2,6 +2,7 @@ package analysis
 
 import (
 	"context"
+	"errors"
 	"fmt"
 
 	"nodal/netlist"
@@ -51,6 +52,7 @@ type WorstCaseResult struct {
 	Exhaustive bool
 	Corners    int
 	Failed     int
+	Unstable   int // of the Failed corners, those whose circuit was not stable (ErrUnstable)
 	Metrics    []WorstCaseMetric
 }
 
@@ -118,6 +120,9 @@ func WorstCase(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt WorstC
 				firstErr = errs[n]
 			}
 			res.Failed++
+			if errors.Is(errs[n], ErrUnstable) {
+				res.Unstable++
+			}
 			continue
 		}
 		for j := range m {

@@ -6,28 +6,39 @@ import (
 )
 
 // metricSpec describes a requirement metric: whether it is taken at a
-// frequency (gain@1kHz) and the unit of its limits.
+// frequency (gain@1kHz) or around a gain element (phase_margin@U1),
+// whether it takes no limit (stable), and the unit of its limits.
 type metricSpec struct {
 	name   string
 	atFreq bool
 	unit   string
+	atPart bool
+	bare   bool
 }
 
 // metricSpecs lists the metrics of `require`, shared with the analysis
 // layer through MetricNames and ParseMetric.
 var metricSpecs = []metricSpec{
-	{"gain", true, UnitDecibel},  // gain at F, dB
-	{"phase", true, UnitDegree},  // phase at F, degrees
-	{"f3db", false, UnitHertz},   // -3 dB frequency, Hz
-	{"peak", false, UnitDecibel}, // peak gain, dB
-	{"fpeak", false, UnitHertz},  // frequency of the peak, Hz
-	{"f0", false, UnitHertz},     // natural frequency, Hz
-	{"q", false, ""},             // quality factor
-	{"dc", false, UnitDecibel},   // gain at DC, dB
+	{name: "gain", atFreq: true, unit: UnitDecibel},  // gain at F, dB
+	{name: "phase", atFreq: true, unit: UnitDegree},  // phase at F, degrees
+	{name: "f3db", atFreq: false, unit: UnitHertz},   // -3 dB frequency, Hz
+	{name: "peak", atFreq: false, unit: UnitDecibel}, // peak gain, dB
+	{name: "fpeak", atFreq: false, unit: UnitHertz},  // frequency of the peak, Hz
+	{name: "f0", atFreq: false, unit: UnitHertz},     // natural frequency, Hz
+	{name: "q", atFreq: false, unit: ""},             // quality factor
+	{name: "dc", atFreq: false, unit: UnitDecibel},   // gain at DC, dB
+	// the loop gain around a gain element (see `nodal loop`)
+	{name: "phase_margin", unit: UnitDegree, atPart: true}, // degrees
+	{name: "gain_margin", unit: UnitDecibel, atPart: true}, // dB
+	{name: "crossover", unit: UnitHertz, atPart: true},     // highest gain crossover, Hz
+	// every natural frequency in the open left half-plane; no limit
+	{name: "stable", bare: true},
 }
 
 // MetricNames lists the metrics a requirement may name, as written:
-// "gain@F" and "phase@F" take a frequency F ("gain@1kHz").
+// "gain@F" and "phase@F" take a frequency F ("gain@1kHz"),
+// "phase_margin@PART" and the other loop metrics a gain element
+// ("phase_margin@U1"); "stable" takes no limit.
 func MetricNames() []string {
 	out := make([]string, len(metricSpecs))
 	for i, m := range metricSpecs {
@@ -35,17 +46,34 @@ func MetricNames() []string {
 		if m.atFreq {
 			out[i] += "@F"
 		}
+		if m.atPart {
+			out[i] += "@PART"
+		}
 	}
 	return out
+}
+
+// MetricPart returns the gain element of a loop metric as written
+// ("U1" for "phase_margin@U1"), "" for any other metric.
+func MetricPart(s string) string {
+	name, at, _ := strings.Cut(s, "@")
+	if m, ok := findMetric(name); ok && m.atPart {
+		return at
+	}
+	return ""
+}
+
+// MetricIsBare reports whether a metric takes no limit (`require stable`).
+func MetricIsBare(name string) bool {
+	m, ok := findMetric(name)
+	return ok && m.bare
 }
 
 // MetricUnit returns the unit of a metric's values and limits ("dB",
 // "deg", "Hz" or "" for q); ok is false for an unknown metric name.
 func MetricUnit(name string) (unit string, ok bool) {
-	if i := strings.IndexByte(name, '@'); i >= 0 {
-		name = name[:i] + "@F" // gain@1kHz is a gain@F metric
-	}
-	if m, found := findMetric(name); found {
+	name, _, _ = strings.Cut(name, "@") // gain@1kHz is a gain metric
+	if m, found := findMetric(strings.TrimSuffix(name, "@F")); found {
 		return m.unit, true
 	}
 	return "", false
@@ -69,6 +97,10 @@ func ParseMetric(s string) (name string, freqHz float64, err error) {
 		return "", 0, fmt.Errorf("unknown metric %q (metrics: %s)", name, strings.Join(MetricNames(), ", "))
 	}
 	switch {
+	case m.atPart && (!hasAt || at == ""):
+		return "", 0, fmt.Errorf("metric %s needs the gain element of the loop, as in %s@U1", name, name)
+	case m.atPart:
+		return name, 0, nil
 	case m.atFreq && !hasAt:
 		return "", 0, fmt.Errorf("metric %s needs a frequency, as in %s@1kHz", name, name)
 	case !m.atFreq && hasAt:
@@ -91,6 +123,9 @@ func (e *elab) require(r *RequireStmt) {
 	if r.At != nil {
 		metric += "@" + r.At.Sign + r.At.Value
 	}
+	if r.AtPart != nil {
+		metric += "@" + r.AtPart.Name
+	}
 	if _, ok := findMetric(r.Metric.Name); !ok {
 		hint := suggest(r.Metric.Name, metricNamesPlain())
 		if hint == "" {
@@ -105,6 +140,19 @@ func (e *elab) require(r *RequireStmt) {
 	}
 	m, _ := findMetric(r.Metric.Name)
 	req := Requirement{Metric: metric, Pos: e.f.Position(r.Pos)}
+	switch {
+	case m.bare && r.Op != "":
+		e.errorf(r.Lo.Pos, "write require "+m.name, "%s takes no limit", m.name)
+		return
+	case m.bare:
+		req.Op = Holds
+		req.Text = string(e.f.Source[r.Pos.Offset:tokensEnd(r.Pos.Offset, r.Tokens)])
+		e.c.Requirements = append(e.c.Requirements, req)
+		return
+	case r.Op == "":
+		e.errorf(r.Metric.Pos, "write within LO..HI, below HI or above LO", "require %s needs a limit", metric)
+		return
+	}
 	limit := func(l *Limit) (float64, bool) {
 		v, err := ParseValue(l.Sign+l.Value, m.unit)
 		if err != nil {

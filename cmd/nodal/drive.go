@@ -63,6 +63,20 @@ func (c *driveCmd) Run(e *env) error {
 		}
 		return v
 	}
+	stab, err := circuitStability(l)
+	if err != nil {
+		return err
+	}
+	var omegas []float64
+	for _, t := range sig.Terms {
+		omegas = append(omegas, t.OmegaRad)
+	}
+	if sig.DC != 0 {
+		omegas = append(omegas, 0)
+	}
+	if err := steadyStateRefusal(stab, omegas); err != nil {
+		return err
+	}
 	st, err := analysis.SteadyState(h, sig)
 	if err != nil {
 		return err
@@ -92,9 +106,11 @@ func (c *driveCmd) Run(e *env) error {
 				*analysis.Steady
 				Output  string       `json:"output_expression"`
 				Phasors []nodePhasor `json:"phasors,omitempty"`
-			}{st, analysis.FormatSteady(st), phasors}
+				stabilityJSON
+			}{st, analysis.FormatSteady(st), phasors, newStabilityJSON(stab)}
 			return writeJSON(w, doc)
 		}
+		warnStability(e.stderr, stab)
 		return steadyTable(w, st, phasors, sig)
 	})
 }

@@ -6,10 +6,8 @@ import (
 	"math"
 
 	"nodal/analysis"
-	"nodal/analysis/loop"
 	"nodal/analysis/stability"
 	"nodal/cmd/nodal/plot"
-	"nodal/mna"
 	"nodal/netlist"
 )
 
@@ -63,48 +61,12 @@ gbw=10 MHz):
     nodal loop photodiode_frontend.nodal --at U1 --plot loop.svg`
 }
 
-// loopResult is a loop gain with its figures.
-type loopResult struct {
-	part string
-	t    *analysis.TransferFunction // T(s) = −r/t
-	gain loop.Gain
-	fig  *loop.Figures
-	sys  *mna.System
-}
+// loopResult is a loop gain with its figures (analysis.LoopGain).
+type loopResult = analysis.LoopGain
 
 // loopGain extracts T(s) = −r/t around part and reads its figures.
 func loopGain(c *netlist.Circuit, part string) (*loopResult, error) {
-	if p, ok := c.Part(part); ok && p.Kind == netlist.OpAmp && p.A0 == 0 && p.GBWHz == 0 {
-		return nil, fmt.Errorf("%s is an ideal op-amp: its loop gain is infinite; give it a finite model, e.g. a0=1e6 gbw=10MHz", part)
-	}
-	pr := mna.ReturnRatio(part)
-	sys, err := mna.Build(c, pr.Ex, pr.Ob)
-	if err != nil {
-		return nil, err
-	}
-	rt, err := analysis.Extract(sys)
-	if err != nil {
-		return nil, fmt.Errorf("loop gain around %s: %w", part, err)
-	}
-	t := *rt
-	t.Num = negated(rt.Num)
-	t.Gain = -rt.Gain
-	g := loop.Gain{K: t.Gain, Zeros: t.Zeros, Poles: t.Poles}
-	lo, hi := loop.Span(g)
-	fig, err := loop.Analyze(g, lo, hi)
-	if err != nil {
-		return nil, fmt.Errorf("loop gain around %s: %w", part, err)
-	}
-	return &loopResult{part: part, t: &t, gain: g, fig: fig, sys: sys}, nil
-}
-
-// negated returns −c.
-func negated(c []float64) []float64 {
-	out := make([]float64, len(c))
-	for i, v := range c {
-		out[i] = -v
-	}
-	return out
+	return analysis.NewLoopGain(c, part)
 }
 
 // Run prints the loop gain report.
@@ -122,14 +84,14 @@ func (c *loopCmd) Run(e *env) error {
 		return err
 	}
 	fa := freqArgs{From: c.From, To: c.To, PerDecade: c.PerDecade}
-	freqs, err := fa.frequencies(func() (float64, float64) { return rangeOf(l, lr.t) })
+	freqs, err := fa.frequencies(func() (float64, float64) { return rangeOf(l, lr.T) })
 	if err != nil {
 		return err
 	}
 	mag, ph := make([]float64, len(freqs)), make([]float64, len(freqs))
 	for i, f := range freqs {
-		mag[i] = lr.gain.MagDB(2 * math.Pi * f)
-		ph[i] = lr.fig.PhaseDeg(lr.gain, 2*math.Pi*f)
+		mag[i] = lr.Gain.MagDB(2 * math.Pi * f)
+		ph[i] = lr.Figures.PhaseDeg(lr.Gain, 2*math.Pi*f)
 	}
 	if c.Plot != "" {
 		if err := c.writePlot(e, l, lr, freqs, mag, ph); err != nil {
@@ -143,7 +105,7 @@ func (c *loopCmd) Run(e *env) error {
 	if p, _ := l.circuit.Part(c.At); p.Kind == netlist.CCVS || p.Kind == netlist.CCCS {
 		unit = "A/A"
 	}
-	res := &tfResult{tf: lr.t, sys: lr.sys, unit: unit, yName: "r", uName: "t",
+	res := &tfResult{tf: lr.T, sys: lr.Sys, unit: unit, yName: "r", uName: "t",
 		what: fmt.Sprintf("T(s) = −(control returned to %s)/(test signal driving it): loop gain around %s", c.At, c.At)}
 	rep := newTFReport(res)
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
@@ -182,7 +144,7 @@ func loopFiguresTable(w io.Writer, lr *loopResult, st *stability.Result) error {
 
 // loopFigureRows are the name/value rows of the loop figures.
 func loopFigureRows(lr *loopResult, st *stability.Result) [][2]string {
-	f := lr.fig
+	f := lr.Figures
 	var rows [][2]string
 	if len(f.Gain) == 0 {
 		side := "below"
@@ -220,7 +182,7 @@ type loopPoint struct {
 
 // loopJSON is the JSON document of `nodal loop`.
 func loopJSON(lr *loopResult, st *stability.Result, freqs, mag, ph []float64) map[string]any {
-	f := lr.fig
+	f := lr.Figures
 	pts := make([]loopPoint, len(freqs))
 	for i := range freqs {
 		pts[i] = loopPoint{FreqHz: freqs[i], MagDB: finiteOrNil(mag[i]), PhaseDeg: ph[i]}
@@ -234,13 +196,13 @@ func loopJSON(lr *loopResult, st *stability.Result, freqs, mag, ph []float64) ma
 		pcross, gms = append(pcross, p.FreqHz), append(gms, p.GainMarginDB)
 	}
 	doc := map[string]any{
-		"part":                lr.part,
-		"num":                 lr.t.Num,
-		"den":                 lr.t.Den,
-		"poles":               rootsJSON(lr.t.Poles),
-		"zeros":               rootsJSON(lr.t.Zeros),
-		"gain":                lr.t.Gain,
-		"factored":            factoredText(lr.t),
+		"part":                lr.Part,
+		"num":                 lr.T.Num,
+		"den":                 lr.T.Den,
+		"poles":               rootsJSON(lr.T.Poles),
+		"zeros":               rootsJSON(lr.T.Zeros),
+		"gain":                lr.T.Gain,
+		"factored":            factoredText(lr.T),
 		"points":              pts,
 		"crossovers_hz":       cross,
 		"phase_margins_deg":   pms,
@@ -270,21 +232,21 @@ func (c *loopCmd) writePlot(e *env, l *loaded, lr *loopResult, freqs, mag, ph []
 	}
 	var m plot.LoopMarks
 	lo, hi := freqs[0], freqs[len(freqs)-1]
-	for _, g := range lr.fig.Gain {
+	for _, g := range lr.Figures.Gain {
 		if g.FreqHz >= lo && g.FreqHz <= hi {
 			m.CrossoversHz = append(m.CrossoversHz, g.FreqHz)
 			m.PhaseAtCrossoverDeg = append(m.PhaseAtCrossoverDeg, g.PhaseDeg)
 			m.PhaseMarginDeg = append(m.PhaseMarginDeg, g.PhaseMarginDeg)
 		}
 	}
-	for _, p := range lr.fig.Phase {
+	for _, p := range lr.Figures.Phase {
 		if p.FreqHz >= lo && p.FreqHz <= hi {
 			m.PhaseCrossoversHz = append(m.PhaseCrossoversHz, p.FreqHz)
 			m.MagAtPhaseCrossDB = append(m.MagAtPhaseCrossDB, p.MagDB)
 			m.GainMarginDB = append(m.GainMarginDB, p.GainMarginDB)
 		}
 	}
-	title := "loop gain T around " + lr.part
+	title := "loop gain T around " + lr.Part
 	if l.circuit.Title != "" {
 		title = l.circuit.Title + ": " + title
 	}

@@ -57,23 +57,23 @@ func TestLoopGolden(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if len(lr.t.Num) != len(g.Num) || len(lr.t.Den) != len(g.Den) {
-				t.Fatalf("T = %v / %v, reference %v / %v", lr.t.Num, lr.t.Den, g.Num, g.Den)
+			if len(lr.T.Num) != len(g.Num) || len(lr.T.Den) != len(g.Den) {
+				t.Fatalf("T = %v / %v, reference %v / %v", lr.T.Num, lr.T.Den, g.Num, g.Den)
 			}
 			for i := range g.Num {
-				if !relClose(lr.t.Num[i], g.Num[i], 1e-9) {
-					t.Errorf("num[%d] = %g, reference %g", i, lr.t.Num[i], g.Num[i])
+				if !relClose(lr.T.Num[i], g.Num[i], 1e-9) {
+					t.Errorf("num[%d] = %g, reference %g", i, lr.T.Num[i], g.Num[i])
 				}
 			}
 			for i := range g.Den {
-				if !relClose(lr.t.Den[i], g.Den[i], 1e-9) {
-					t.Errorf("den[%d] = %g, reference %g", i, lr.t.Den[i], g.Den[i])
+				if !relClose(lr.T.Den[i], g.Den[i], 1e-9) {
+					t.Errorf("den[%d] = %g, reference %g", i, lr.T.Den[i], g.Den[i])
 				}
 			}
-			if len(lr.fig.Gain) != len(g.CrossoversHz) || len(lr.fig.Phase) != len(g.PhaseCrossoversHz) {
-				t.Fatalf("crossovers %+v, phase crossovers %+v; reference %v, %v", lr.fig.Gain, lr.fig.Phase, g.CrossoversHz, g.PhaseCrossoversHz)
+			if len(lr.Figures.Gain) != len(g.CrossoversHz) || len(lr.Figures.Phase) != len(g.PhaseCrossoversHz) {
+				t.Fatalf("crossovers %+v, phase crossovers %+v; reference %v, %v", lr.Figures.Gain, lr.Figures.Phase, g.CrossoversHz, g.PhaseCrossoversHz)
 			}
-			for i, c := range lr.fig.Gain {
+			for i, c := range lr.Figures.Gain {
 				if !relClose(c.FreqHz, g.CrossoversHz[i], 1e-9) || math.Abs(c.PhaseMarginDeg-g.PhaseMarginsDeg[i]) > 1e-6 {
 					t.Errorf("crossover %g Hz, PM %.9g°; reference %g Hz, %.9g°", c.FreqHz, c.PhaseMarginDeg, g.CrossoversHz[i], g.PhaseMarginsDeg[i])
 				}
@@ -96,17 +96,17 @@ func TestLoopNonInverting(t *testing.T) {
 		}
 		wc := wt / a0 * math.Sqrt(a0*a0*beta*beta-1)
 		pm := 180 - math.Atan(wc*a0/wt)*180/math.Pi
-		if len(lr.fig.Gain) != 1 {
-			t.Fatalf("A0=%g: crossovers %+v", a0, lr.fig.Gain)
+		if len(lr.Figures.Gain) != 1 {
+			t.Fatalf("A0=%g: crossovers %+v", a0, lr.Figures.Gain)
 		}
-		if got := lr.fig.Gain[0].FreqHz * 2 * math.Pi; !relClose(got, wc, 1e-9) {
+		if got := lr.Figures.Gain[0].FreqHz * 2 * math.Pi; !relClose(got, wc, 1e-9) {
 			t.Errorf("A0=%g: crossover %.10g rad/s, want %.10g (β·ωt = %g)", a0, got, wc, beta*wt)
 		}
-		if got := lr.fig.Gain[0].PhaseMarginDeg; math.Abs(got-pm) > 1e-7 {
+		if got := lr.Figures.Gain[0].PhaseMarginDeg; math.Abs(got-pm) > 1e-7 {
 			t.Errorf("A0=%g: phase margin %.10g°, want %.10g°", a0, got, pm)
 		}
-		if a0 == 1e5 && (math.Abs(lr.fig.Gain[0].PhaseMarginDeg-90) > 0.01 || !relClose(lr.fig.Gain[0].FreqHz*2*math.Pi, beta*wt, 1e-6)) {
-			t.Errorf("A0=1e5: crossover %g Hz, PM %g°; want ≈ β·ft = 100 kHz, ≈ 90°", lr.fig.Gain[0].FreqHz, lr.fig.Gain[0].PhaseMarginDeg)
+		if a0 == 1e5 && (math.Abs(lr.Figures.Gain[0].PhaseMarginDeg-90) > 0.01 || !relClose(lr.Figures.Gain[0].FreqHz*2*math.Pi, beta*wt, 1e-6)) {
+			t.Errorf("A0=1e5: crossover %g Hz, PM %g°; want ≈ β·ft = 100 kHz, ≈ 90°", lr.Figures.Gain[0].FreqHz, lr.Figures.Gain[0].PhaseMarginDeg)
 		}
 	}
 }
@@ -123,13 +123,13 @@ func TestLoopPhaseShift(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if len(lr.fig.Phase) != 1 {
-			t.Fatalf("K=%g: phase crossovers %+v", k, lr.fig.Phase)
+		if len(lr.Figures.Phase) != 1 {
+			t.Fatalf("K=%g: phase crossovers %+v", k, lr.Figures.Phase)
 		}
-		if got, want := lr.fig.Phase[0].FreqHz*2*math.Pi, math.Sqrt(6)/rc; !relClose(got, want, 1e-9) {
+		if got, want := lr.Figures.Phase[0].FreqHz*2*math.Pi, math.Sqrt(6)/rc; !relClose(got, want, 1e-9) {
 			t.Errorf("K=%g: phase crossover %.10g rad/s, want √6/(RC) = %.10g", k, got, want)
 		}
-		if got, want := lr.fig.Phase[0].GainMarginDB, 20*math.Log10(29/k); math.Abs(got-want) > 1e-8 {
+		if got, want := lr.Figures.Phase[0].GainMarginDB, 20*math.Log10(29/k); math.Abs(got-want) > 1e-8 {
 			t.Errorf("K=%g: gain margin %.10g dB, want %.10g", k, got, want)
 		}
 	}
@@ -167,7 +167,7 @@ func TestLoopAsymptoticGain(t *testing.T) {
 		hInf, h0 := closedLoop(t, inf, tc.out), closedLoop(t, zero, tc.out)
 		for _, f := range []float64{1, 300, 1e4, 2e5, 3e6} {
 			s := complex(0, 2*math.Pi*f)
-			tv := lr.t.EvalFactored(s)
+			tv := lr.T.EvalFactored(s)
 			want := (hInf.EvalFactored(s)*tv + h0.EvalFactored(s)) / (1 + tv)
 			got := h.EvalFactored(s)
 			if d := cmplxRel(got, want); d > 1e-8 {

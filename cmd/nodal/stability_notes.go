@@ -45,17 +45,72 @@ func stabilityLines(res *stability.Result) []string {
 	var out []string
 	switch res.Class {
 	case stability.Unstable:
-		out = append(out, "the circuit is unstable: natural frequencies "+naturalList(res.Offending)+
-			" are in the right half-plane or repeated on the jω axis; no steady state exists and responses grow"+involvedText(res.Involved))
+		out = append(out, "the circuit is unstable: "+offendingText(res.Offending)+"; no steady state exists and responses grow"+involvedText(res.Involved))
 	case stability.Marginal:
-		out = append(out, "the circuit is marginally stable: natural frequencies "+naturalList(res.Offending)+
-			" lie on the jω axis; a response at those frequencies does not decay"+involvedText(res.Involved))
+		out = append(out, "the circuit is marginally stable: "+offendingText(res.Offending)+"; a response at those frequencies does not decay"+involvedText(res.Involved))
 	}
 	for _, p := range res.Polarity {
-		out = append(out, fmt.Sprintf("%s: the loop around %s is unstable with a finite-gain op-amp (a0=%g, gbw=%s; %s); are its inputs swapped?",
-			p, p, stability.FiniteOpAmpA0, netlist.FormatEng(stability.FiniteOpAmpGBWHz, "Hz"), naturalList(res.PolarityFrequencies)))
+		out = append(out, fmt.Sprintf("%s: the loop around %s is unstable with a finite-gain op-amp (A0 = %s, gbw = %s; %s); are its inputs swapped?",
+			p, p, num(stability.FiniteOpAmpA0), netlist.FormatEng(stability.FiniteOpAmpGBWHz, "Hz"), naturalList(res.PolarityFrequencies)))
 	}
 	return out
+}
+
+// offendingText says where the offending natural frequencies lie.
+func offendingText(zs []complex128) string {
+	right := 0
+	for _, z := range zs {
+		if real(z) > 0 {
+			right++
+		}
+	}
+	where := "on the jω axis"
+	switch {
+	case right == len(zs):
+		where = "in the right half-plane"
+	case right > 0:
+		where = "in the right half-plane or repeated on the jω axis"
+	case len(zs) > 1 && !(len(zs) == 2 && zs[0] == complex(real(zs[1]), -imag(zs[1]))):
+		where = "repeated on the jω axis"
+	}
+	noun := "natural frequency"
+	if len(zs) > 1 {
+		noun = "natural frequencies"
+	}
+	return noun + " " + naturalList(zs) + " " + where
+}
+
+// stabilityJSON is the stability part of a JSON document: the class and
+// the offending natural frequencies (rad/s; empty when stable).
+type stabilityJSON struct {
+	Stability     string     `json:"stability"`
+	UnstablePoles []rootJSON `json:"unstable_poles"`
+}
+
+// newStabilityJSON fills stabilityJSON from a result.
+func newStabilityJSON(res *stability.Result) stabilityJSON {
+	return stabilityJSON{Stability: res.Class.String(), UnstablePoles: rootsJSON(res.Offending)}
+}
+
+// steadyStateRefusal returns the reason no steady state exists for a drive
+// at the angular frequencies omegas (rad/s, 0 for a DC term), or nil: an
+// unstable circuit has none at any frequency (its growing mode runs
+// whatever the drive), a marginal one none at the frequency of an
+// undamped mode (resonance without loss: the response grows as t·sin).
+func steadyStateRefusal(res *stability.Result, omegas []float64) error {
+	switch res.Class {
+	case stability.Unstable:
+		return fmt.Errorf("no steady state exists: the circuit is unstable (%s)%s; nodal step or impulse shows the growth", offendingText(res.Offending), involvedText(res.Involved))
+	case stability.Marginal:
+		for _, w := range omegas {
+			for _, z := range res.Offending {
+				if math.Abs(math.Abs(imag(z))-w) <= 1e-6*math.Max(w, math.Abs(imag(z))) || (w == 0 && z == 0) {
+					return fmt.Errorf("no steady state exists: the drive at %s excites the undamped natural frequency %s of this marginally stable circuit", netlist.FormatEng(w/(2*math.Pi), "Hz"), naturalText(z))
+				}
+			}
+		}
+	}
+	return nil
 }
 
 // involvedText names the gain elements whose loop carries the offending
@@ -77,12 +132,9 @@ func warnStability(w io.Writer, res *stability.Result) {
 	}
 }
 
-// addStabilityJSON adds "stability" and "unstable_poles" (the offending
-// natural frequencies, rad/s; empty when stable) to a JSON document.
+// addStabilityJSON adds "stability" and "unstable_poles" (see
+// stabilityJSON) to a JSON document.
 func addStabilityJSON(doc map[string]any, res *stability.Result) {
-	doc["stability"] = res.Class.String()
-	doc["unstable_poles"] = rootsJSON(res.Offending)
-	if len(res.Polarity) > 0 {
-		doc["polarity_warnings"] = res.Polarity
-	}
+	sj := newStabilityJSON(res)
+	doc["stability"], doc["unstable_poles"] = sj.Stability, sj.UnstablePoles
 }

@@ -184,11 +184,18 @@ func (c *tfCmd) Run(e *env) error {
 			return err
 		}
 	}
+	stab, err := circuitStability(l)
+	if err != nil {
+		return err
+	}
 	rep := newTFReport(r)
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		if c.Format == "json" {
-			return writeJSON(w, rep.json())
+			doc := rep.json()
+			addStabilityJSON(doc, stab)
+			return writeJSON(w, doc)
 		}
+		warnStability(e.stderr, stab)
 		return rep.table(w)
 	})
 }
@@ -254,7 +261,7 @@ func pairsJSON(ps []analysis.RootPair) []pairJSON {
 }
 
 // json is the JSON document of `nodal tf`.
-func (rep *tfReport) json() any {
+func (rep *tfReport) json() map[string]any {
 	h := rep.r.tf
 	doc := map[string]any{
 		"what":       rep.r.what,

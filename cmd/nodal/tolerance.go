@@ -10,6 +10,7 @@ import (
 	"github.com/schollz/progressbar/v3"
 
 	"nodal/analysis"
+	"nodal/analysis/stability"
 	"nodal/cmd/nodal/plot"
 	"nodal/mna"
 	"nodal/netlist"
@@ -72,6 +73,14 @@ type toleranceJSON struct {
 	WorstCase     []worstCaseJSON   `json:"worst_case"`
 	Sensitivity   []sensitivityJSON `json:"sensitivity"`
 	Envelope      *envelopeJSON     `json:"envelope,omitempty"`
+	// UnstableRuns counts the finished runs whose build was not stable
+	// (counted in Failed, left out of the statistics); UnstableFraction
+	// is UnstableRuns/Runs; UnstableCorners the worst-case corners that
+	// were not stable.
+	UnstableRuns     int     `json:"unstable_runs"`
+	UnstableFraction float64 `json:"unstable_fraction"`
+	UnstableCorners  *int    `json:"unstable_corners,omitempty"`
+	stabilityJSON
 }
 
 type metricStatsJSON struct {
@@ -136,6 +145,7 @@ type toleranceResult struct {
 	wc   *analysis.WorstCaseResult
 	sens *analysis.SensitivityResult
 	env  *analysis.EnvelopeResult
+	stab *stability.Result // of the nominal circuit
 }
 
 // Run performs the analyses and writes the report.
@@ -180,6 +190,9 @@ func (c *toleranceCmd) Run(e *env) error {
 	}
 	opt := analysis.MonteCarloOptions{Runs: c.Runs, Seed: c.Seed, Workers: c.Workers}
 	var res toleranceResult
+	if res.stab, err = circuitStability(l); err != nil {
+		return err
+	}
 	stopBar := c.progress(e, &opt, "monte carlo")
 	res.mc, err = analysis.MonteCarlo(e.ctx, cir, ev, opt)
 	stopBar()
@@ -203,6 +216,7 @@ func (c *toleranceCmd) Run(e *env) error {
 		if c.Format == "json" {
 			return writeJSON(w, toleranceDoc(&res))
 		}
+		warnStability(e.stderr, res.stab)
 		return toleranceTables(w, &res)
 	}); err != nil {
 		return err
@@ -280,6 +294,14 @@ func toleranceDoc(r *toleranceResult) toleranceJSON {
 	if mc.Cancelled {
 		d.RunsRequested = mc.Runs
 	}
+	d.UnstableRuns = mc.Unstable
+	if mc.Finished > 0 {
+		d.UnstableFraction = float64(mc.Unstable) / float64(mc.Finished)
+	}
+	if r.wc != nil {
+		d.UnstableCorners = &r.wc.Unstable
+	}
+	d.stabilityJSON = newStabilityJSON(r.stab)
 	for _, m := range mc.Metrics {
 		d.Metrics = append(d.Metrics, metricStatsJSON{Name: m.Name, Unit: m.Unit, Nominal: m.Nominal, Mean: m.Mean,
 			Std: m.Std, Min: m.Min, Max: m.Max, P00135: m.P00135, P99865: m.P99865})
@@ -333,7 +355,7 @@ func toleranceTables(w io.Writer, r *toleranceResult) error {
 	if mc.Failed > 0 {
 		fmt.Fprintf(w, ", %d failed", mc.Failed)
 	}
-	fmt.Fprintln(w)
+	fmt.Fprintf(w, "; unstable builds: %d of %d (%.2f %%)\n", mc.Unstable, mc.Finished, 100*float64(mc.Unstable)/float64(max(mc.Finished, 1)))
 	t := newTable(w, "metric", "nominal", "mean", "std", "min", "max", "p00135", "p99865")
 	for _, m := range mc.Metrics {
 		if err := t.row(metricLabel(m.Name, m.Unit), num(m.Nominal), num(m.Mean), num(m.Std), num(m.Min), num(m.Max), num(m.P00135), num(m.P99865)); err != nil {
@@ -353,6 +375,9 @@ func toleranceTables(w io.Writer, r *toleranceResult) error {
 			method = "%d corners from the sensitivity signs"
 		}
 		fmt.Fprintf(w, "\nWorst case ("+method+"; a normal item's corner is ±tol = ±3σ)\n", r.wc.Corners)
+		if r.wc.Unstable > 0 {
+			fmt.Fprintf(w, "%d of the corners are unstable and left out: the worst case is an unstable circuit\n", r.wc.Unstable)
+		}
 		t := newTable(w, "metric", "nominal", "min", "max")
 		for _, m := range r.wc.Metrics {
 			if err := t.row(metricLabel(m.Metric, m.Unit), num(m.Nominal), num(m.Min), num(m.Max)); err != nil {
