@@ -88,11 +88,7 @@ func (c *loopCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	mag, ph := make([]float64, len(freqs)), make([]float64, len(freqs))
-	for i, f := range freqs {
-		mag[i] = lr.Gain.MagDB(2 * math.Pi * f)
-		ph[i] = lr.Figures.PhaseDeg(lr.Gain, 2*math.Pi*f)
-	}
+	mag, ph := loopCurves(lr, freqs)
 	if c.Plot != "" {
 		if err := c.writePlot(e, l, lr, freqs, mag, ph); err != nil {
 			return err
@@ -221,14 +217,35 @@ func loopJSON(lr *loopResult, st *stability.Result, freqs, mag, ph []float64) ma
 	return doc
 }
 
+// loopCurves returns 20·log10|T| (dB) and arg T (degrees, unwrapped as
+// the figures are) at the frequencies (Hz).
+func loopCurves(lr *loopResult, freqs []float64) (mag, ph []float64) {
+	mag, ph = make([]float64, len(freqs)), make([]float64, len(freqs))
+	for i, f := range freqs {
+		mag[i] = lr.Gain.MagDB(2 * math.Pi * f)
+		ph[i] = lr.Figures.PhaseDeg(lr.Gain, 2*math.Pi*f)
+	}
+	return mag, ph
+}
+
 // writePlot draws the Bode plot of T with its margins.
 func (c *loopCmd) writePlot(e *env, l *loaded, lr *loopResult, freqs, mag, ph []float64) error {
 	format, err := plot.FormatFromPath(c.Plot)
 	if err != nil {
 		return err
 	}
+	fig, err := loopFigure(l, lr, freqs, mag, ph)
+	if err != nil {
+		return err
+	}
+	return writeTo(e, c.Plot, []string{c.File, c.Output, l.name}, func(w io.Writer) error { return fig.Encode(w, format) })
+}
+
+// loopFigure is the Bode plot of T with the crossovers inside the
+// frequency range and both margins marked.
+func loopFigure(l *loaded, lr *loopResult, freqs, mag, ph []float64) (*plot.Figure, error) {
 	if len(freqs) < 2 {
-		return fmt.Errorf("--plot needs at least two frequencies")
+		return nil, fmt.Errorf("the Bode plot of T needs at least two frequencies")
 	}
 	var m plot.LoopMarks
 	lo, hi := freqs[0], freqs[len(freqs)-1]
@@ -250,9 +267,5 @@ func (c *loopCmd) writePlot(e *env, l *loaded, lr *loopResult, freqs, mag, ph []
 	if l.circuit.Title != "" {
 		title = l.circuit.Title + ": " + title
 	}
-	fig, err := plot.Loop(plot.BodeTrace{Label: "T", FreqHz: freqs, MagDB: mag, PhaseDeg: ph}, m, plot.BodeOptions{Title: title})
-	if err != nil {
-		return err
-	}
-	return writeTo(e, c.Plot, []string{c.File, c.Output, l.name}, func(w io.Writer) error { return fig.Encode(w, format) })
+	return plot.Loop(plot.BodeTrace{Label: "T", FreqHz: freqs, MagDB: mag, PhaseDeg: ph}, m, plot.BodeOptions{Title: title})
 }

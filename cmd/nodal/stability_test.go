@@ -110,3 +110,22 @@ func TestToleranceUnstableFraction(t *testing.T) {
 		t.Errorf("tolerance: %+v", doc)
 	}
 }
+
+// TestReportStability: an unstable circuit's report opens with a banner;
+// a loop requirement gives the report a loop section with the margins.
+func TestReportStability(t *testing.T) {
+	r := runNodal(t, "", "report", filepath.Join(stabilityCircuits, "swapped_inverting.nodal"), "--format", "text")
+	heads := strings.SplitN(r.stdout, "\n\n", 3)
+	if r.code != 0 || len(heads) < 2 || !strings.HasPrefix(heads[1], "Warning: this circuit is not stable as drawn") {
+		t.Errorf("report of an unstable circuit: exit %d, no banner first:\n%s", r.code, r.stdout)
+	}
+	r = runNodal(t, "", "report", "../../testdata/examples/photodiode_frontend.nodal", "--format", "text")
+	for _, want := range []string{"Stability: stable", "Loop gain around U1", "phase margin 58.06°", "phase_margin@U1 above 45deg"} {
+		if r.code != 0 || !strings.Contains(r.stdout, want) {
+			t.Errorf("report: exit %d, no %q in\n%s", r.code, want, r.stdout)
+		}
+	}
+	if strings.Contains(r.stdout, "not stable as drawn") {
+		t.Error("report: banner on a stable circuit")
+	}
+}
