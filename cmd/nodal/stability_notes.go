@@ -51,7 +51,7 @@ func stabilityLines(res *stability.Result) []string {
 	}
 	for _, p := range res.Polarity {
 		out = append(out, fmt.Sprintf("%s: the loop around %s is unstable with a finite-gain op-amp (A0 = %s, gbw = %s; %s); are its inputs swapped?",
-			p, p, num(stability.FiniteOpAmpA0), netlist.FormatEng(stability.FiniteOpAmpGBWHz, "Hz"), naturalList(res.PolarityFrequencies)))
+			p, p, engNumber(stability.FiniteOpAmpA0), netlist.FormatEng(stability.FiniteOpAmpGBWHz, "Hz"), naturalList(res.PolarityFrequencies)))
 	}
 	return out
 }

@@ -1,5 +1,5 @@
 #!/usr/bin/python3
-"""Reference loop gains for `nodal loop` (cmd/nodal/loop_test.go).
+"""Reference loop gains for analysis.NewLoopGain (analysis/loop_gain_test.go).
 
 For two op-amp circuits of our own this script writes the loop gain
 T(s) around U1 from hand-written node equations (no stamping engine: the
@@ -18,7 +18,7 @@ returned by the circuit (Bode's return ratio).
 Output: golden/NAME.json with num, den (ascending, den[0] = 1),
 crossovers_hz, phase_margins_deg, phase_crossovers_hz, gain_margins_db.
 
-Run: /usr/bin/python3 cmd/nodal/testdata/loop/gen_loop.py
+Run: /usr/bin/python3 analysis/testdata/loop/gen_loop.py
 (Debian python3-sympy, python3-numpy.)
 """
 import json
@@ -49,7 +49,7 @@ def photodiode_frontend():
 
 
 def line_driver():
-    # testdata/loop/line_driver.nodal: U1 (+ = in, - = fb, out) a0=200k,
+    # analysis/testdata/loop/line_driver.nodal: U1 (+ = in, - = fb, out) a0=200k,
     # gbw=5MHz, rout=100; R2 out-fb, R1 fb-gnd 10k each; CL 2nF out-gnd.
     # Node out: (a·t - v)/Ro = v·s·CL + v/(R1 + R2); v(fb) = v·R1/(R1 + R2);
     # r = 0 - v(fb).
