@@ -176,6 +176,7 @@ func cornerFactors(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt Ve
 type RequirementMetrics struct {
 	names   []string
 	metrics []Metric
+	pos     []netlist.Pos // of each requirement, for errors
 	in      mna.Input
 	out     mna.Output
 }
@@ -191,6 +192,7 @@ func NewRequirementMetrics(reqs []netlist.Requirement, in mna.Input, out mna.Out
 		}
 		r.metrics = append(r.metrics, m)
 		r.names = append(r.names, q.Metric)
+		r.pos = append(r.pos, q.Pos)
 	}
 	return r, nil
 }
@@ -237,6 +239,9 @@ func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, e
 	}
 	for i, m := range r.metrics {
 		v, fatal, err := x.value(m)
+		if fatal && m.circuitMetric() {
+			return nil, nil, fmt.Errorf("%s: %w", r.pos[i], err)
+		}
 		if fatal {
 			return nil, nil, err
 		}

@@ -21,7 +21,7 @@ import (
 type toleranceCmd struct {
 	circuitArgs
 	probeArgs
-	Metric      []string `required:"" sep:"none" help:"Metric to analyse (repeatable): gain@F, phase@F, f3db, peak, fpeak, f0, q, dc." placeholder:"M"`
+	Metric      []string `required:"" sep:"none" help:"Metric to analyse (repeatable): gain@F, phase@F, f3db, peak, fpeak, f0, q, dc; around a gain element phase_margin@PART, gain_margin@PART, crossover@PART." placeholder:"M"`
 	Runs        int      `help:"Monte Carlo runs." default:"1000"`
 	Seed        uint64   `help:"Random seed; the same seed gives the same numbers for any --workers." default:"1"`
 	Workers     int      `help:"Goroutines (default: all cores)." default:"0"`
@@ -50,9 +50,17 @@ phase metrics, largest first. --envelope sweeps |H| and phase for every
 run (--from, --to, --per-decade; default: the poles and zeros ± two
 decades). Ctrl-C stops and reports the runs finished.
 
+A build that is not stable (a natural frequency in the right half-plane
+or on the jω axis) has no response metrics: it is counted, reported as
+the fraction of unstable runs (and of unstable worst-case corners), and
+left out of the statistics. The loop metrics read the loop gain around
+one gain element as nodal loop does: phase_margin@U1 (°), gain_margin@U1
+(dB), crossover@U1 (Hz).
+
 Examples:
 
     nodal tolerance filter.nodal --out out --metric f3db --metric q
+    nodal tolerance photodiode_frontend.nodal --out out --metric phase_margin@U1
     nodal tolerance filter.nodal --out out --metric gain@1kHz --runs 10000 --seed 7 --format json
     nodal tolerance filter.nodal --out out --metric f0 --worst-case --sensitivity
     nodal tolerance filter.nodal --out out --metric f3db --envelope --plot band.svg`
