@@ -92,3 +92,22 @@ func equalStrings(a, b []string) bool {
 	}
 	return true
 }
+
+// BenchmarkAnalyze is the stability of the tone stage (five natural
+// frequencies, with
+// its explanation), as every command computes it once.
+func BenchmarkAnalyze(b *testing.B) {
+	src, err := os.ReadFile(filepath.Join("..", "..", "testdata", "examples", "tone_stage.nodal"))
+	if err != nil {
+		b.Fatal(err)
+	}
+	c, err := netlist.Load("tone_stage.nodal", src, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	for b.Loop() {
+		if _, err := Analyze(c, Options{Explain: true}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
