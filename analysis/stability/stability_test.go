@@ -94,8 +94,7 @@ func equalStrings(a, b []string) bool {
 }
 
 // BenchmarkAnalyze is the stability of the tone stage (five natural
-// frequencies, with
-// its explanation), as every command computes it once.
+// frequencies) with its explanation, as every command computes it once.
 func BenchmarkAnalyze(b *testing.B) {
 	src, err := os.ReadFile(filepath.Join("..", "..", "testdata", "examples", "tone_stage.nodal"))
 	if err != nil {
