@@ -41,6 +41,7 @@ type cli struct {
 	Equations equationsCmd `cmd:"" help:"Show the MNA equations (G + sC)x = b being solved."`
 	Sweep     sweepCmd     `cmd:"" help:"Frequency response: magnitude, phase and group delay."`
 	TF        tfCmd        `cmd:"" name:"tf" help:"Transfer function H(s), poles, zeros, f0, Q and the circuit's ODE."`
+	Loop      loopCmd      `cmd:"" help:"Loop gain T(s) around one gain element, with crossovers and phase and gain margins."`
 	Check     checkCmd     `cmd:"" help:"Check a hand-derived ODE or transfer function against the circuit."`
 	Drive     driveCmd     `cmd:"" help:"Sinusoidal steady-state output for a given input signal."`
 	Step      stepCmd      `cmd:"" help:"Exact step response with rise, overshoot and settling figures."`
