@@ -9,22 +9,9 @@ import (
 
 	"nodal/analysis/transfer"
 	"nodal/mna"
+	"nodal/mna/testcircuit"
 	"nodal/netlist"
 )
-
-// loadCircuit reads and elaborates a circuit file with overrides.
-func loadCircuit(t *testing.T, path string, ov netlist.Overrides) *netlist.Circuit {
-	t.Helper()
-	src, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	c, err := netlist.Load(path, src, ov)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return c
-}
 
 func relClose(got, want, tol float64) bool {
 	return math.Abs(got-want) <= tol*math.Max(math.Abs(want), 1e-300)
@@ -52,7 +39,7 @@ func TestLoopGolden(t *testing.T) {
 			if err := json.Unmarshal(b, &g); err != nil {
 				t.Fatal(err)
 			}
-			lr, err := NewLoopGain(loadCircuit(t, tc.path, nil), "U1")
+			lr, err := NewLoopGain(testcircuit.Load(t, tc.path, nil), "U1")
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -88,7 +75,7 @@ func TestLoopGolden(t *testing.T) {
 func TestLoopNonInverting(t *testing.T) {
 	beta, wt := 0.1, 2*math.Pi*1e6
 	for _, a0 := range []float64{1e5, 1e3, 30} {
-		c := loadCircuit(t, "testdata/noninverting.nodal", netlist.Overrides{"A0": a0})
+		c := testcircuit.Load(t, "testdata/noninverting.nodal", netlist.Overrides{"A0": a0})
 		lr, err := NewLoopGain(c, "U1")
 		if err != nil {
 			t.Fatal(err)
@@ -117,7 +104,7 @@ func TestLoopNonInverting(t *testing.T) {
 func TestLoopPhaseShift(t *testing.T) {
 	rc := 10e3 * 10e-9
 	for _, k := range []float64{20, 29, 40} {
-		c := loadCircuit(t, "testdata/phase_shift.nodal", netlist.Overrides{"K": k})
+		c := testcircuit.Load(t, "testdata/phase_shift.nodal", netlist.Overrides{"K": k})
 		lr, err := NewLoopGain(c, "E1")
 		if err != nil {
 			t.Fatal(err)
@@ -147,7 +134,7 @@ func TestLoopAsymptoticGain(t *testing.T) {
 		{"../../testdata/examples/photodiode_frontend.nodal", "out"},
 		{"testdata/noninverting.nodal", "fb"},
 	} {
-		c := loadCircuit(t, tc.path, nil)
+		c := testcircuit.Load(t, tc.path, nil)
 		lr, err := NewLoopGain(c, "U1")
 		if err != nil {
 			t.Fatal(err)

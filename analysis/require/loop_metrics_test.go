@@ -3,35 +3,21 @@ package require
 import (
 	"errors"
 	"math"
-	"os"
 	"strings"
 	"testing"
 
 	"nodal/analysis/loop"
 	"nodal/analysis/stability"
 	"nodal/mna"
+	"nodal/mna/testcircuit"
 	"nodal/netlist"
 )
-
-// loadCircuit reads and elaborates a circuit file with overrides.
-func loadCircuit(t *testing.T, path string, ov netlist.Overrides) *netlist.Circuit {
-	t.Helper()
-	src, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	c, err := netlist.Load(path, src, ov)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return c
-}
 
 // TestLoopMetrics: the requirement metrics read the same figures as the
 // loop command, and `stable` is 1 or 0; an unstable build has every other
 // metric NaN with ErrUnstable.
 func TestLoopMetrics(t *testing.T) {
-	ps := loadCircuit(t, "../loop/testdata/phase_shift.nodal", nil)
+	ps := testcircuit.Load(t, "../loop/testdata/phase_shift.nodal", nil)
 	reqs := []netlist.Requirement{{Metric: "stable", Op: netlist.Holds}, {Metric: "gain_margin@E1"}, {Metric: "phase_margin@E1"}, {Metric: "crossover@E1"}}
 	rm, err := NewRequirementMetrics(reqs, mna.Input{}, mna.Output{Node: "c3"})
 	if err != nil {
@@ -51,7 +37,7 @@ func TestLoopMetrics(t *testing.T) {
 	if vals[0] != 1 || math.Abs(vals[1]-20*math.Log10(29.0/20)) > 1e-8 || vals[2] != pm || vals[3] != hz {
 		t.Errorf("metrics %v, want [1 %g %g %g]", vals, 20*math.Log10(29.0/20), pm, hz)
 	}
-	unstable := loadCircuit(t, "../loop/testdata/phase_shift.nodal", netlist.Overrides{"K": 40})
+	unstable := testcircuit.Load(t, "../loop/testdata/phase_shift.nodal", netlist.Overrides{"K": 40})
 	vals, err = rm.Eval(unstable)
 	if err != nil {
 		t.Fatal(err)
@@ -68,7 +54,7 @@ func TestLoopMetrics(t *testing.T) {
 // TestLoopMetricBadPart: a loop metric naming no gain element, or an
 // ideal op-amp, is an error at its requirement, not a NaN.
 func TestLoopMetricBadPart(t *testing.T) {
-	ps := loadCircuit(t, "../loop/testdata/phase_shift.nodal", nil)
+	ps := testcircuit.Load(t, "../loop/testdata/phase_shift.nodal", nil)
 	pos := netlist.Pos{File: "ps.nodal", Line: 7, Col: 1}
 	rm, err := NewRequirementMetrics([]netlist.Requirement{{Metric: "phase_margin@R1", Pos: pos}}, mna.Input{}, mna.Output{Node: "c3"})
 	if err != nil {

@@ -7,22 +7,14 @@ import (
 	"path/filepath"
 	"testing"
 
+	"nodal/mna/testcircuit"
 	"nodal/netlist"
 )
 
 // load reads a circuit of testdata/circuits with optional overrides.
 func load(t *testing.T, name string, ov netlist.Overrides) *netlist.Circuit {
 	t.Helper()
-	path := filepath.Join("testdata", "circuits", name)
-	src, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	c, err := netlist.Load(path, src, ov)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return c
+	return testcircuit.Load(t, filepath.Join("testdata", "circuits", name), ov)
 }
 
 func TestAnalyzeCircuits(t *testing.T) {
