@@ -7,7 +7,8 @@ import (
 )
 
 // FuzzParseMetric: any text gives an error or a known metric name with a
-// frequency that is 0 (no @) or finite and > 0, never a panic.
+// frequency that is finite and > 0 for a metric taken at a frequency and
+// 0 otherwise (a loop metric's @ names a part), never a panic.
 func FuzzParseMetric(f *testing.F) {
 	f.Fuzz(func(t *testing.T, s string) {
 		m, p, err := ParseMetric(s)
@@ -18,7 +19,10 @@ func FuzzParseMetric(f *testing.F) {
 		if _, ok := findMetric(name); !ok || !strings.HasPrefix(s, name) {
 			t.Fatalf("%q: name %q", s, name)
 		}
-		if strings.Contains(s, "@") != (freqHz > 0) || math.IsNaN(freqHz) || math.IsInf(freqHz, 0) {
+		if (m.Param == MetricParamPart) != (p.Part != "") {
+			t.Fatalf("%q: part %q", s, p.Part)
+		}
+		if (m.Param == MetricParamFreq) != (freqHz > 0) || math.IsNaN(freqHz) || math.IsInf(freqHz, 0) {
 			t.Fatalf("%q: frequency %v Hz", s, freqHz)
 		}
 	})

@@ -44,6 +44,23 @@ type Data struct {
 	MonteCarlo *MonteCarlo
 	// Verdicts are the requirement checks, when the file has requirements.
 	Verdicts []Verdict
+	// Banner, when not empty, is shown at the very top of the report: the
+	// circuit is not stable (or an ideal op-amp hides a wrong polarity),
+	// one paragraph per finding.
+	Banner []string
+	// Stability is the one-line stability statement of the summary.
+	Stability string
+	// Loops are the loop gains named by requirements (phase_margin@U1 ...).
+	Loops []Loop
+}
+
+// Loop is the loop gain around one gain element: T(s) factored, its Bode
+// plot with the margins marked, and the figures (name, value) rows.
+type Loop struct {
+	Part     string
+	Factored string
+	Plot     Plot
+	Figures  [][2]string
 }
 
 // Source is the circuit file: its name as the user gave it and the

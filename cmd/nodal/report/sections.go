@@ -64,6 +64,9 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 		foot.Version = "development build"
 	}
 
+	if len(d.Banner) > 0 {
+		secs = append(secs, section{ID: "stability-warning", Heading: "Warning: this circuit is not stable as drawn", Paras: d.Banner})
+	}
 	sum := section{ID: "summary", Heading: "Circuit"}
 	if d.Source.BuiltIn {
 		sum.Paras = append(sum.Paras, "This is nodal's built-in demo circuit ("+d.Source.Name+"); give a FILE to analyse your own.")
@@ -72,6 +75,9 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 	}
 	if d.Summary != "" {
 		sum.Paras = append(sum.Paras, d.Summary)
+	}
+	if d.Stability != "" {
+		sum.Paras = append(sum.Paras, d.Stability)
 	}
 	sum.Paras = append(sum.Paras, d.Notes...)
 	parts := table{Caption: "Parts", Header: []string{"name", "kind", "nodes", "value", "tolerance"}, Right: []bool{false, false, false, true, true}}
@@ -179,6 +185,21 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 		if mc.Histograms.present() {
 			s.Figures = append(s.Figures, mc.Histograms)
 		}
+		secs = append(secs, s)
+	}
+
+	for _, lp := range d.Loops {
+		s := section{ID: "loop-" + lp.Part, Heading: "Loop gain around " + lp.Part,
+			Paras:  []string{"T(s) = −(control returned to " + lp.Part + ")/(test signal driving it), Bode's return ratio; s in rad/s."},
+			Blocks: []block{{"factored", "T(s) = " + lp.Factored}}}
+		if lp.Plot.present() {
+			s.Figures = append(s.Figures, lp.Plot)
+		}
+		t := table{Header: []string{"figure", "value"}, Right: []bool{false, false}}
+		for _, f := range lp.Figures {
+			t.Rows = append(t.Rows, row{Cells: []string{f[0], f[1]}})
+		}
+		s.Tables = append(s.Tables, t)
 		secs = append(secs, s)
 	}
 
