@@ -325,6 +325,8 @@ type itemSet struct {
 	tol    Tolerance
 	fixed  bool
 	hasTol bool
+	// noiseless is the flag `noiseless` (resistors only).
+	noiseless bool
 }
 
 // items classifies trailing items: tolerance (± or tol=) and dist= are
@@ -364,6 +366,8 @@ func (e *elab) items(sc *scope, list []*Item, what string) itemSet {
 			it.opts = append(it.opts, item.Option)
 		case bareName(item.Expr) == "fixed":
 			it.fixed = true
+		case bareName(item.Expr) == "noiseless" && what != "let":
+			it.noiseless = true
 		case i == 0 && what != "let":
 			it.value = item.Expr
 		default:
