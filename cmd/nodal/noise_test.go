@@ -1,0 +1,122 @@
+package main
+
+import (
+	"encoding/json"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"nodal/analysis/noise"
+)
+
+const tiaFile = "../../testdata/examples/photodiode_tia.nodal"
+
+func TestParseTemperature(t *testing.T) {
+	for _, tc := range []struct {
+		in   string
+		want float64
+		ok   bool
+	}{
+		{"300K", 300, true}, {"300", 300, true}, {" 77 K", 77, true}, {"85degC", 358.15, true},
+		{"-40°C", 233.15, true}, {"0K", 0, false}, {"-300degC", 0, false}, {"hot", 0, false}, {"300F", 0, false},
+	} {
+		got, err := parseTemperature(tc.in)
+		if (err == nil) != tc.ok || (tc.ok && math.Abs(got-tc.want) > 1e-9) {
+			t.Errorf("parseTemperature(%q) = %v, %v; want %v ok=%v", tc.in, got, err, tc.want, tc.ok)
+		}
+	}
+}
+
+// TestNoiseRCCommand: the RC low-pass of the command tests, integrated far
+// beyond its corner, gives √(kT/C) (Johnson 1928, Nyquist 1928) in the
+// JSON, with the temperature and the units in the keys.
+func TestNoiseRCCommand(t *testing.T) {
+	const cF = 15.9155e-9
+	r := runNodal(t, "", "noise", rcFile, "--out", "out", "--from", "10mHz", "--to", "10MHz", "--per-decade", "1",
+		"--temp", "400K", "--signal-rms", "1V", "--format", "json")
+	if r.code != 0 {
+		t.Fatalf("code %d: %s", r.code, r.stderr)
+	}
+	var doc struct {
+		TempK  float64          `json:"temperature_k"`
+		Points []map[string]any `json:"points"`
+		Band   struct {
+			OutRMS  float64          `json:"out_rms_v"`
+			InRMS   float64          `json:"in_rms_v"`
+			ENBW    float64          `json:"enbw_hz"`
+			SNR     float64          `json:"snr_db"`
+			Contrib []map[string]any `json:"contributions"`
+		} `json:"band"`
+	}
+	if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	want := math.Sqrt(noise.BoltzmannJPerK * 400 / cF)
+	if doc.TempK != 400 || math.Abs(doc.Band.OutRMS-want)/want > 1e-4 {
+		t.Errorf("temperature %v, out_rms_v %.6g; want 400, √(kT/C) = %.6g", doc.TempK, doc.Band.OutRMS, want)
+	}
+	if math.Abs(doc.Band.ENBW-math.Pi/2*rcCornerHz)/doc.Band.ENBW > 1e-3 {
+		t.Errorf("enbw_hz %v; want (π/2)·fc = %v", doc.Band.ENBW, math.Pi/2*rcCornerHz)
+	}
+	if snr := -20 * math.Log10(want); math.Abs(doc.Band.SNR-snr) > 1e-3 {
+		t.Errorf("snr_db %v; want %v", doc.Band.SNR, snr)
+	}
+	if len(doc.Points) != 10 || doc.Points[0]["out_v_per_rthz"] == nil || doc.Points[0]["in_v_per_rthz"] == nil {
+		t.Errorf("points %v", doc.Points)
+	}
+	if len(doc.Band.Contrib) != 1 || doc.Band.Contrib[0]["source"] != "R1" || doc.Band.Contrib[0]["rms_v"] == nil {
+		t.Errorf("contributions %v", doc.Band.Contrib)
+	}
+}
+
+// TestNoiseCommandTable: the TIA example, the current output labelled in
+// A/√Hz, opamp rows per input, the plot written, help with the example.
+func TestNoiseCommandTable(t *testing.T) {
+	dir := t.TempDir()
+	svg := filepath.Join(dir, "n.svg")
+	r := runNodal(t, "", "noise", tiaFile, "--out", "out", "--per-decade", "2", "--band", "100Hz..100kHz", "--plot", svg)
+	if r.code != 0 {
+		t.Fatalf("code %d: %s", r.code, r.stderr)
+	}
+	for _, s := range []string{"temperature 300 K", "in_a_per_rthz", "out_rms_v", "in_rms_a", "U1.en", "U1.in+", "U1.in-", "enbw_hz", "top_source"} {
+		if !strings.Contains(r.stdout, s) {
+			t.Errorf("table lacks %q:\n%s", s, r.stdout)
+		}
+	}
+	b, err := os.ReadFile(svg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	validSVG(t, b)
+	r = runNodal(t, "", "noise", tiaFile, "--out", "i(Ro)", "--at", "1k,10k", "--format", "json")
+	if r.code != 0 || !strings.Contains(r.stdout, `"out_a_per_rthz"`) || !strings.Contains(r.stdout, `"output_unit": "A"`) ||
+		!strings.Contains(r.stdout, `"rms_a"`) || strings.Contains(r.stdout, "_v_per") {
+		t.Errorf("current output not labelled in A: code %d\n%s%s", r.code, r.stdout, r.stderr)
+	}
+	r = runNodal(t, "", "noise", "--help")
+	if !strings.Contains(r.stdout, "photodiode_tia.nodal") || !strings.Contains(r.stdout, "adaptive Simpson") {
+		t.Errorf("help lacks the worked example or the method:\n%s", r.stdout)
+	}
+}
+
+func TestNoiseCommandErrors(t *testing.T) {
+	for _, tc := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"--temp=-5K"}, "absolute zero"},
+		{[]string{"--band", "20k..20"}, "0 < F1 < F2"},
+		{[]string{"--band", "20Hz"}, "F1..F2"},
+		{[]string{"--at", "1k", "--signal-rms", "1V"}, "needs a band"},
+		{[]string{"--signal-rms", "1A"}, "unit A where V"},
+		{[]string{"--linear", "--from", "0", "--to", "1k"}, "above 0 Hz"},
+		{[]string{"--in", "V9"}, "V9"},
+	} {
+		r := runNodal(t, "", append([]string{"noise", rcFile, "--out", "out"}, tc.args...)...)
+		if r.code != 2 || !strings.Contains(r.stderr, tc.want) {
+			t.Errorf("%v: code %d, stderr %q; want 2 and %q", tc.args, r.code, r.stderr, tc.want)
+		}
+	}
+}
