@@ -1,7 +1,7 @@
 package analysis_test
 
 // Reference check of nodal's numeric pipeline on the eleven circuits of
-// testdata/reference: netlist.Load → mna.Build → analysis.Extract / Sweep /
+// testdata/reference: netlist.Load → mna.Build → transfer.Extract / Sweep /
 // Step / Impulse against the goldens in testdata/reference/golden/*.json.
 //
 // Source of every expected number: testdata/reference/gen_reference.py
@@ -28,7 +28,9 @@ import (
 	"sort"
 	"testing"
 
-	"nodal/analysis"
+	"nodal/analysis/response"
+	"nodal/analysis/timeresp"
+	"nodal/analysis/transfer"
 	"nodal/mna"
 	"nodal/netlist"
 )
@@ -187,11 +189,11 @@ func (fs *refFindings) has(check string) bool {
 
 // refResult is what nodal computes for one reference circuit.
 type refResult struct {
-	tf      *analysis.TransferFunction
-	resp    *analysis.Response // at the golden's frequencies
-	dc      *analysis.Response // at 0 Hz, the direct MNA solve
-	step    *analysis.TimeResponse
-	impulse *analysis.TimeResponse
+	tf      *transfer.TransferFunction
+	resp    *response.Response // at the golden's frequencies
+	dc      *response.Response // at 0 Hz, the direct MNA solve
+	step    *timeresp.TimeResponse
+	impulse *timeresp.TimeResponse
 }
 
 // runNodal runs the pipeline on c for the golden's input, output, grid and
@@ -202,7 +204,7 @@ func runNodal(c *netlist.Circuit, g *refGolden) (*refResult, error) {
 		return nil, fmt.Errorf("build: %w", err)
 	}
 	var r refResult
-	if r.tf, err = analysis.Extract(sys); err != nil {
+	if r.tf, err = transfer.Extract(sys); err != nil {
 		return nil, fmt.Errorf("extract: %w", err)
 	}
 	freqs := make([]float64, len(g.Freq))
@@ -210,17 +212,17 @@ func runNodal(c *netlist.Circuit, g *refGolden) (*refResult, error) {
 		freqs[i] = p.FreqHz
 	}
 	ctx := context.Background()
-	if r.resp, err = analysis.Sweep(ctx, sys, freqs, 1); err != nil {
+	if r.resp, err = response.Sweep(ctx, sys, freqs, 1); err != nil {
 		return nil, fmt.Errorf("sweep: %w", err)
 	}
-	if r.dc, err = analysis.Sweep(ctx, sys, []float64{0}, 1); err != nil {
+	if r.dc, err = response.Sweep(ctx, sys, []float64{0}, 1); err != nil {
 		return nil, fmt.Errorf("sweep at 0 Hz: %w", err)
 	}
-	opt := analysis.TimeOptions{UntilS: g.Step[len(g.Step)-1].TS, Points: len(g.Step)}
-	if r.step, err = analysis.Step(r.tf, opt); err != nil {
+	opt := timeresp.TimeOptions{UntilS: g.Step[len(g.Step)-1].TS, Points: len(g.Step)}
+	if r.step, err = timeresp.Step(r.tf, opt); err != nil {
 		return nil, fmt.Errorf("step: %w", err)
 	}
-	if r.impulse, err = analysis.Impulse(r.tf, opt); err != nil {
+	if r.impulse, err = timeresp.Impulse(r.tf, opt); err != nil {
 		return nil, fmt.Errorf("impulse: %w", err)
 	}
 	return &r, nil
@@ -465,7 +467,7 @@ func bestAssignment(got []complex128, want []refRoot, ref func(complex128) float
 }
 
 // freqDiffs compares |H|, dB and phase (modulo 360°) point by point.
-func freqDiffs(fs *refFindings, resp *analysis.Response, want []refFreq) {
+func freqDiffs(fs *refFindings, resp *response.Response, want []refFreq) {
 	if len(resp.Mag) != len(want) {
 		fs.add("freq", "%d points, golden %d", len(resp.Mag), len(want))
 		return
@@ -473,14 +475,14 @@ func freqDiffs(fs *refFindings, resp *analysis.Response, want []refFreq) {
 	for i, w := range want {
 		fs.within("freq", math.Abs(resp.Mag[i]-w.Mag)/w.Mag, refMagTol, "%.6g Hz: |H| = %.17g, golden %.17g (relative)", w.FreqHz, resp.Mag[i], w.Mag)
 		fs.within("freq", math.Abs(resp.MagDB[i]-w.MagDB), refMagDBTol, "%.6g Hz: %.12g dB, golden %.12g dB", w.FreqHz, resp.MagDB[i], w.MagDB)
-		fs.within("freq", math.Abs(analysis.WrapDeg(resp.PhaseDeg[i]-w.PhaseDeg)), refPhaseTolDeg,
+		fs.within("freq", math.Abs(response.WrapDeg(resp.PhaseDeg[i]-w.PhaseDeg)), refPhaseTolDeg,
 			"%.6g Hz: phase %.12g°, golden %.12g° (modulo 360°)", w.FreqHz, resp.PhaseDeg[i], w.PhaseDeg)
 	}
 }
 
 // timeDiffs compares tr.At(t) with the golden samples: absolute tolerance
 // the golden's achieved accuracy plus refTimeMargin·max|y|.
-func timeDiffs(fs *refFindings, what string, tr *analysis.TimeResponse, want []refPoint, check float64) {
+func timeDiffs(fs *refFindings, what string, tr *timeresp.TimeResponse, want []refPoint, check float64) {
 	tol := timeTol(want, check)
 	worst, at := 0.0, 0.0
 	for _, p := range want {

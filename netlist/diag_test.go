@@ -55,6 +55,7 @@ func TestDiagnostics(t *testing.T) {
 		{"gain unit", base + "Gain1: vcvs (x, gnd) 2V sense=(in, out)\n", 4, 22, "is a plain number, not V", "", false},
 		{"percent as value", base + "R2: resistor (in, out) 5%\n", 4, 24, "% is only allowed in a tolerance", "", false},
 		{"add units", base + "R2: resistor (in, out) 1kΩ + 1nF\n", 4, 28, "cannot add Ω and F", "", false},
+		{"signed sense node", base + "E1: vcvs (x, gnd) 2 sense=(-1, out)\n", 4, 27, "vcvs takes sense=(c, d)", "", false},
 		{"coupling not inductor", base + "L1: inductor (in, gnd) 1m\nLink1: coupling (L1, R1) 0.5\n", 5, 22, "coupling Link1: R1 is a resistor, not an inductor", "", false},
 		{"coupling K too big", base + "L1: inductor (in, gnd) 1m\nL2: inductor (out, gnd) 1m\nLink1: coupling (L1, L2) 1.2\n", 6, 26, "0 < |K| ≤ 1", "", false},
 		{"coupling missing", base + "L1: inductor (in, gnd) 1m\nLink1: coupling (L1, L9) 0.5\n", 5, 22, `coupling Link1: no element "L9"`, "", false},

@@ -8,6 +8,8 @@ import (
 	"strings"
 
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // Overrides maps a top-level parameter name to an SI value that replaces
@@ -414,7 +416,7 @@ func bareName(x *Expr) string {
 		return ""
 	}
 	u := x.Left.Left
-	if u.Neg != nil || u.Power.Exp != nil || u.Power.Base.Ref == nil || u.Power.Base.Ref.Open != "" {
+	if u.Power == nil || u.Power.Exp != nil || u.Power.Base.Ref == nil || u.Power.Base.Ref.Open != "" {
 		return ""
 	}
 	return u.Power.Base.Ref.Name
@@ -426,7 +428,7 @@ func (e *elab) node(sc *scope, r *NodeRef) string {
 	switch {
 	case name == Ground || name == "0":
 		return Ground
-	case isDigit(name[0]) && !isPlainInt(name):
+	case name[0] >= '0' && name[0] <= '9' && !syntax.IsDigits(name):
 		e.errorf(r.Pos, "", "node %q: node names are identifiers or non-negative integers", name)
 	case strings.Contains(name, "."):
 		e.errorf(r.Pos, "", "node %q: node names may not contain \".\"", name)

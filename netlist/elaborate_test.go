@@ -326,9 +326,9 @@ func TestMetrics(t *testing.T) {
 		ok   bool
 	}{{"gain@1kHz", "gain", 1000, true}, {"phase@20k", "phase", 20000, true}, {"q", "q", 0, true},
 		{"gain", "", 0, false}, {"q@1k", "", 0, false}, {"gain@1nF", "", 0, false}, {"gainx", "", 0, false}} {
-		name, f, err := ParseMetric(tc.in)
-		if (err == nil) != tc.ok || name != tc.name || f != tc.f {
-			t.Errorf("ParseMetric(%q) = %q %v %v", tc.in, name, f, err)
+		m, p, err := ParseMetric(tc.in)
+		if name, f := m.Name, p.FreqHz; (err == nil) != tc.ok || name != tc.name || f != tc.f {
+			t.Errorf("ParseMetric(%q) = %q %v %v", tc.in, m.Name, p.FreqHz, err)
 		}
 	}
 }
@@ -343,6 +343,7 @@ func TestEvalExpr(t *testing.T) {
 		{"sqrt(2)/2", math.Sqrt2 / 2, ""}, {"ln(exp(2))", 2, ""}, {"log10(1k)", 3, ""}, {"atan(1)*4", math.Pi, ""},
 		{"min(3, 1, 2)", 1, ""}, {"max(1nF, 2nF)", 2e-9, "F"}, {"cos(0)+sin(0)+tan(0)", 1, ""}, {"4k7/2", 2350, ""},
 		{"10 - 2 - 3", 5, ""}, {"12/2/3", 2, ""}, {"2^-1", 0.5, ""},
+		{"+1k", 1000, ""}, {"-+2", -2, ""}, {"+2^2", 4, ""}, {"2^+1", 2, ""}, {"3 - +1", 2, ""},
 	} {
 		v, u, err := EvalExpr(tc.in)
 		if err != nil || !near(v, tc.want) || u != tc.unit {

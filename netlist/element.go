@@ -3,9 +3,12 @@ package netlist
 import (
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // kindSpec describes how an element kind is written.
@@ -95,7 +98,7 @@ func (s *partStep) check(p *Part) string {
 	switch p.Kind {
 	case Resistor, Capacitor, Inductor:
 		if p.Value <= 0 {
-			return fmt.Sprintf("value must be > 0, got %s", FormatEng(p.Value, kindSpecs[p.Kind].unit))
+			return fmt.Sprintf("value must be > 0, got %s", strings.TrimSpace(strconv.FormatFloat(p.Value, 'g', 4, 64)+" "+kindSpecs[p.Kind].unit))
 		}
 	case Coupling:
 		if p.Value == 0 || math.Abs(p.Value) > 1 {
@@ -350,7 +353,7 @@ func contains(list []string, s string) bool {
 
 // pairNodes returns the two node names of `(c, d)`, or nil.
 func pairNodes(x *Expr) []*NodeRef {
-	if len(x.Rest) > 0 || len(x.Left.Rest) > 0 || x.Left.Left.Neg != nil || x.Left.Left.Power.Exp != nil {
+	if len(x.Rest) > 0 || len(x.Left.Rest) > 0 || x.Left.Left.Power == nil || x.Left.Left.Power.Exp != nil {
 		return nil
 	}
 	g := x.Left.Left.Power.Base.Group
@@ -361,11 +364,10 @@ func pairNodes(x *Expr) []*NodeRef {
 	for _, el := range g {
 		name := bareName(el)
 		if name == "" {
-			b := el.Left.Left.Power.Base
-			if len(el.Rest) > 0 || len(el.Left.Rest) > 0 || el.Left.Left.Power.Exp != nil || !isPlainInt(b.Number) {
+			if len(el.Rest) > 0 || len(el.Left.Rest) > 0 || el.Left.Left.Power == nil || el.Left.Left.Power.Exp != nil || !syntax.IsDigits(el.Left.Left.Power.Base.Number) {
 				return nil
 			}
-			name = b.Number
+			name = el.Left.Left.Power.Base.Number
 		}
 		out = append(out, &NodeRef{Pos: el.Pos, Name: name})
 	}

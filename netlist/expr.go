@@ -6,6 +6,8 @@ import (
 	"strings"
 
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // Expressions are compiled once into closures over a slot vector holding
@@ -133,6 +135,9 @@ func (c *exprCompiler) unary(u *Unary) (compiled, bool) {
 		f := a.fn
 		return compiled{fn: func(s []float64) float64 { return -f(s) }, d: a.d}, true
 	}
+	if u.Plus != nil {
+		return c.unary(u.Plus)
+	}
 	base, ok := c.primary(u.Power.Base)
 	if u.Power.Exp == nil || !ok {
 		return base, ok
@@ -190,7 +195,7 @@ func (c *exprCompiler) primary(p *Primary) (compiled, bool) {
 		c.report(p.Pos, "unexpected list of values", "a list (c, d) is only allowed for sense=")
 		return compiled{}, false
 	}
-	lit, err := decodeLiteral(p.Number)
+	lit, err := syntax.ParseNumber(p.Number)
 	if err != nil {
 		hint := ""
 		if strings.HasSuffix(p.Number, "pi") {
@@ -213,7 +218,7 @@ func (c *exprCompiler) ref(r *Ref) (compiled, bool) {
 	if r.Name == "pi" {
 		return konst(math.Pi, dimPlain), true
 	}
-	if lit, ok := leadingCode(r.Name); ok {
+	if lit, ok := syntax.LeadingCode(r.Name); ok {
 		return konst(lit.Value, dim{unit: lit.Unit, known: true}), true
 	}
 	c.report(r.Pos, fmt.Sprintf("undefined parameter %q", r.Name), suggest(r.Name, c.sc.visibleNames()))

@@ -92,7 +92,8 @@ func FuzzParseValue(f *testing.F) {
 		if v, err := ParseValue(s, ""); err == nil && (math.IsNaN(v) || math.IsInf(v, 0)) {
 			t.Fatalf("ParseValue(%q) = %v", s, v)
 		}
-		name, fHz, err := ParseMetric(s)
+		m, p, err := ParseMetric(s)
+		name, fHz := m.Name, p.FreqHz
 		if err != nil {
 			return
 		}

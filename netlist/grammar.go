@@ -3,6 +3,8 @@ package netlist
 import (
 	"github.com/alecthomas/participle/v2"
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // The syntax tree of a circuit file. Every node carries the lexer position
@@ -20,7 +22,7 @@ var lexDef = lexer.MustSimple([]lexer.SimpleRule{
 	{Name: "String", Pattern: `"(\\.|[^"\\\n])*"`},
 	{Name: "PlusMinus", Pattern: `±|\+-`},
 	{Name: "Range", Pattern: `\.\.`},
-	{Name: "Value", Pattern: `(\d+(\.\d+)?|\.\d+)([eE][+-]?\d+)?([\pL%]+\d*\pL*)?`},
+	{Name: "Value", Pattern: syntax.NumberPattern},
 	{Name: "Ident", Pattern: `[A-Za-z_][A-Za-z0-9_]*(\.[A-Za-z_0-9]+)*`},
 	{Name: "Punct", Pattern: `[-+*/^(),:=@]`},
 	{Name: "Bad", Pattern: `.`},
@@ -46,8 +48,7 @@ type File struct {
 	Source []byte  // the source text
 	Stmts  []*Stmt // top-level statements in order; a block statement holds its body
 
-	lineStarts []int // byte offset of each line start, for positions
-	notText    bool  // Source has a NUL byte or invalid UTF-8: diagnostics omit the source line
+	text *syntax.Text // positions and source lines of diagnostics
 }
 
 // Stmt is one statement: exactly one of its pointer fields is set.
@@ -157,49 +158,28 @@ type TolSpec struct {
 	Value *Expr `parser:"PlusMinus @@"`
 }
 
+// The expression ladder (sum, product, sign, power) is the one every
+// grammar with powers shares (syntax.Sum and its parts), over this
+// language's Primary.
+
 // Expr is a sum: Left followed by `+`/`-` terms.
-type Expr struct {
-	Pos    lexer.Position
-	Tokens []lexer.Token
-	Left   *Term     `parser:"@@"`
-	Rest   []*OpTerm `parser:"@@*"`
-}
+type Expr = syntax.Sum[Primary]
 
 // OpTerm is one `+ TERM` or `- TERM` of a sum.
-type OpTerm struct {
-	Pos  lexer.Position
-	Op   string `parser:"@(\"+\" | \"-\")"`
-	Term *Term  `parser:"@@"`
-}
+type OpTerm = syntax.SumOp[Primary]
 
 // Term is a product: Left followed by `*`/`/` factors.
-type Term struct {
-	Pos  lexer.Position
-	Left *Unary     `parser:"@@"`
-	Rest []*OpUnary `parser:"@@*"`
-}
+type Term = syntax.Product[Primary]
 
 // OpUnary is one `* FACTOR` or `/ FACTOR` of a product.
-type OpUnary struct {
-	Pos   lexer.Position
-	Op    string `parser:"@(\"*\" | \"/\")"`
-	Unary *Unary `parser:"@@"`
-}
+type OpUnary = syntax.ProductOp[Primary]
 
-// Unary is a negation or a power.
-type Unary struct {
-	Pos   lexer.Position
-	Neg   *Unary `parser:"  \"-\" @@"`
-	Power *Power `parser:"| @@"`
-}
+// Unary is a negation, a unary plus or a power.
+type Unary = syntax.Unary[Primary]
 
 // Power is Base [^ Exp]; `^` is right-associative and binds tighter than
 // unary minus (-2^2 = -4).
-type Power struct {
-	Pos  lexer.Position
-	Base *Primary `parser:"@@"`
-	Exp  *Unary   `parser:"(\"^\" @@)?"`
-}
+type Power = syntax.Power[Primary]
 
 // Primary is a literal, a name or call, or a parenthesised expression
 // (a list of several is a tuple, used by sense=(c, d)).

@@ -3,6 +3,8 @@ package netlist
 import (
 	"strings"
 	"testing"
+
+	"nodal/netlist/syntax"
 )
 
 // TestInputLimits: oversized files and deeply nested expressions fail with
@@ -15,10 +17,10 @@ func TestInputLimits(t *testing.T) {
 		line, col       int
 	}{
 		{"16 MiB+", strings.Repeat("# filler line\n", MaxSourceBytes/14+1), "limited to", 1, 1},
-		{"parens", base + "R2: resistor (in, out) " + deep + "\n", "nested too deeply", 4, 24 + MaxNesting},
-		{"unclosed", base + "let x = " + strings.Repeat("(", 20000) + "\n", "nested too deeply", 4, 9 + MaxNesting},
-		{"signs", base + "let x = " + strings.Repeat("-", 20000) + "1\n", "nested too deeply", 4, 9 + MaxNesting},
-		{"powers", base + "let x = 2" + strings.Repeat("^2", 20000) + "\n", "nested too deeply", 4, 10 + 2*MaxNesting},
+		{"parens", base + "R2: resistor (in, out) " + deep + "\n", "nested too deeply", 4, 24 + syntax.MaxNesting},
+		{"unclosed", base + "let x = " + strings.Repeat("(", 20000) + "\n", "nested too deeply", 4, 9 + syntax.MaxNesting},
+		{"signs", base + "let x = " + strings.Repeat("-", 20000) + "1\n", "nested too deeply", 4, 9 + syntax.MaxNesting},
+		{"powers", base + "let x = 2" + strings.Repeat("^2", 20000) + "\n", "nested too deeply", 4, 10 + 2*syntax.MaxNesting},
 		{"many bad lines", strings.Repeat("R1: resistor (a 0) 1k\n", 2000), "syntax error", 1, 17},
 	} {
 		_, err := Load("in.nod", []byte(c.src), nil)
@@ -32,9 +34,9 @@ func TestInputLimits(t *testing.T) {
 		}
 	}
 	// Nesting just inside the limit still parses.
-	ok := base + "let x = " + strings.Repeat("(", MaxNesting) + "1" + strings.Repeat(")", MaxNesting) + "\n"
+	ok := base + "let x = " + strings.Repeat("(", syntax.MaxNesting) + "1" + strings.Repeat(")", syntax.MaxNesting) + "\n"
 	if _, err := Load("in.nod", []byte(ok), nil); err != nil {
-		t.Errorf("%d levels: %v", MaxNesting, err)
+		t.Errorf("%d levels: %v", syntax.MaxNesting, err)
 	}
 	if _, _, err := EvalExpr(strings.Repeat("(", 4000)); err == nil || !strings.Contains(err.Error(), "nested too deeply") {
 		t.Errorf("EvalExpr of 4000 '(': %v", err)

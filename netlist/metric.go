@@ -5,25 +5,124 @@ import (
 	"strings"
 )
 
-// metricSpec describes a requirement metric: whether it is taken at a
-// frequency (gain@1kHz) and the unit of its limits.
-type metricSpec struct {
-	name   string
-	atFreq bool
-	unit   string
+// MetricParamKind says what a metric takes after '@'.
+type MetricParamKind int
+
+// The parameter kinds. A metric of kind MetricParamPart or MetricParamBand
+// is written NAME@PART (phase_margin@U1: the part whose control is broken
+// for the loop gain) or NAME@F1..F2 (noise_rms@20Hz..20kHz: a band, F1 < F2,
+// Hz); the parser reads them so that a metric of that kind needs only its
+// registry entry.
+const (
+	MetricParamNone MetricParamKind = iota // f3db: nothing after the name
+	MetricParamFreq                        // gain@1kHz: a frequency > 0, Hz
+	MetricParamPart                        // NAME@PART: a part name
+	MetricParamBand                        // NAME@F1..F2: a frequency band, Hz
+)
+
+// Placeholder is how the parameter is written in help and messages: "",
+// "F", "PART" or "F1..F2".
+func (k MetricParamKind) Placeholder() string {
+	switch k {
+	case MetricParamFreq:
+		return "F"
+	case MetricParamPart:
+		return "PART"
+	case MetricParamBand:
+		return "F1..F2"
+	}
+	return ""
 }
 
-// metricSpecs lists the metrics of `require`, shared with the analysis
-// layer through MetricNames and ParseMetric.
-var metricSpecs = []metricSpec{
-	{"gain", true, UnitDecibel},  // gain at F, dB
-	{"phase", true, UnitDegree},  // phase at F, degrees
-	{"f3db", false, UnitHertz},   // -3 dB frequency, Hz
-	{"peak", false, UnitDecibel}, // peak gain, dB
-	{"fpeak", false, UnitHertz},  // frequency of the peak, Hz
-	{"f0", false, UnitHertz},     // natural frequency, Hz
-	{"q", false, ""},             // quality factor
-	{"dc", false, UnitDecibel},   // gain at DC, dB
+// MetricParam is the parameter of one metric as written: FreqHz for
+// MetricParamFreq, Part for MetricParamPart, LoHz and HiHz (LoHz < HiHz)
+// for MetricParamBand; the other fields are zero.
+type MetricParam struct {
+	FreqHz     float64
+	Part       string
+	LoHz, HiHz float64
+}
+
+// MetricSubject is what a metric is evaluated on: the response of one
+// output to one input. Frequencies are in Hz. An implementation that
+// cannot give a quantity (a spot solve has no poles) returns an error;
+// a quantity that does not exist (no −3 dB point) is an error saying why.
+// A metric that needs a new quantity (loop gain at a broken part, noise
+// density) adds a method here and its registry entry.
+type MetricSubject interface {
+	GainDBAt(freqHz float64) (float64, error)   // 20·log10|H(j2πf)|, dB
+	PhaseDegAt(freqHz float64) (float64, error) // arg H(j2πf), degrees
+	DCGainDB() (float64, error)                 // gain at DC, dB (±Inf for a zero or pole at DC)
+	F3dBHz() (float64, error)                   // the lowest −3 dB frequency, Hz
+	PeakDB() (float64, error)                   // the largest gain on the jω axis, dB
+	PeakHz() (float64, error)                   // where it occurs, Hz
+	F0Hz() (float64, error)                     // natural frequency of the dominant pair, Hz
+	Q() (float64, error)                        // quality factor of the dominant pair
+}
+
+// MetricSpec is one entry of the metric registry: how the metric is
+// written, the unit of its values and limits, what it takes after '@'
+// and how it is evaluated.
+type MetricSpec struct {
+	Name  string          // as written before '@'
+	Unit  string          // of values and limits: "dB", "deg", "Hz" or "" (a ratio)
+	Param MetricParamKind // what follows '@'
+	// Spot is true when Eval reads only GainDBAt, PhaseDegAt or DCGainDB,
+	// so a direct solve at the metric's frequency serves without
+	// extracting poles and zeros (the fast path of tolerance runs).
+	Spot bool
+	// Turns is true for a phase: values are kept within ±180° of the
+	// nominal value across tolerance draws (a whole turn is the same phase).
+	Turns bool
+	// Help says in a few words what the metric is.
+	Help string
+	// Eval returns the metric of s for the parameter p, in Unit.
+	Eval func(s MetricSubject, p MetricParam) (float64, error)
+}
+
+// Written returns the metric as written in help, with its placeholder:
+// "gain@F", "f3db".
+func (m MetricSpec) Written() string {
+	if ph := m.Param.Placeholder(); ph != "" {
+		return m.Name + "@" + ph
+	}
+	return m.Name
+}
+
+// metricSpecs is the metric registry: the one list of metrics that
+// `require`, `nodal tolerance`, `nodal verify`, `nodal snap` and the
+// report read. Read-only.
+var metricSpecs = []MetricSpec{
+	{Name: "gain", Unit: UnitDecibel, Param: MetricParamFreq, Spot: true, Help: "gain at F, dB",
+		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.GainDBAt(p.FreqHz) }},
+	{Name: "phase", Unit: UnitDegree, Param: MetricParamFreq, Spot: true, Turns: true, Help: "phase at F, degrees",
+		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.PhaseDegAt(p.FreqHz) }},
+	{Name: "f3db", Unit: UnitHertz, Help: "lowest −3 dB frequency, Hz",
+		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.F3dBHz() }},
+	{Name: "peak", Unit: UnitDecibel, Help: "largest gain, dB",
+		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.PeakDB() }},
+	{Name: "fpeak", Unit: UnitHertz, Help: "frequency of the peak, Hz",
+		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.PeakHz() }},
+	{Name: "f0", Unit: UnitHertz, Help: "natural frequency of the dominant pair, Hz",
+		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.F0Hz() }},
+	{Name: "q", Unit: "", Help: "quality factor of the dominant pair",
+		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.Q() }},
+	{Name: "dc", Unit: UnitDecibel, Spot: true, Help: "gain at DC, dB",
+		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.DCGainDB() }},
+}
+
+// Metrics returns the registry, in the order of help texts.
+func Metrics() []MetricSpec { return append([]MetricSpec(nil), metricSpecs...) }
+
+// LookupMetric returns the registry entry of a metric name as written
+// before '@' ("gain"); ok is false for an unknown name.
+func LookupMetric(name string) (MetricSpec, bool) {
+	for _, m := range metricSpecs {
+		if m.Name == name {
+			return m, true
+		}
+	}
+	return MetricSpec{}, false
 }
 
 // MetricNames lists the metrics a requirement may name, as written:
@@ -31,59 +130,115 @@ var metricSpecs = []metricSpec{
 func MetricNames() []string {
 	out := make([]string, len(metricSpecs))
 	for i, m := range metricSpecs {
-		out[i] = m.name
-		if m.atFreq {
-			out[i] += "@F"
-		}
+		out[i] = m.Written()
 	}
 	return out
 }
 
 // MetricUnit returns the unit of a metric's values and limits ("dB",
-// "deg", "Hz" or "" for q); ok is false for an unknown metric name.
+// "deg", "Hz" or "" for q); name may carry its parameter ("gain@1kHz").
+// ok is false for an unknown metric name.
 func MetricUnit(name string) (unit string, ok bool) {
-	if i := strings.IndexByte(name, '@'); i >= 0 {
-		name = name[:i] + "@F" // gain@1kHz is a gain@F metric
-	}
-	if m, found := findMetric(name); found {
-		return m.unit, true
-	}
-	return "", false
+	name, _, _ = strings.Cut(name, "@")
+	m, ok := LookupMetric(name)
+	return m.Unit, ok
 }
 
-func findMetric(name string) (metricSpec, bool) {
-	for _, m := range metricSpecs {
-		if m.name == name {
-			return m, true
-		}
-	}
-	return metricSpec{}, false
-}
+// findMetric is LookupMetric, for the parser.
+func findMetric(name string) (MetricSpec, bool) { return LookupMetric(name) }
 
-// ParseMetric splits a metric as written ("gain@1kHz", "f3db") into its
-// name and its frequency in Hz (0 for metrics not taken at a frequency).
-func ParseMetric(s string) (name string, freqHz float64, err error) {
+// ParseMetric reads a metric as written ("gain@1kHz", "f3db") into its
+// registry entry and its parameter. Errors name the metric and list the
+// valid ones for an unknown name.
+func ParseMetric(s string) (MetricSpec, MetricParam, error) {
 	name, at, hasAt := strings.Cut(s, "@")
 	m, ok := findMetric(name)
 	if !ok {
-		return "", 0, fmt.Errorf("unknown metric %q (metrics: %s)", name, strings.Join(MetricNames(), ", "))
+		return MetricSpec{}, MetricParam{}, fmt.Errorf("unknown metric %q (metrics: %s)", name, strings.Join(MetricNames(), ", "))
 	}
-	switch {
-	case m.atFreq && !hasAt:
-		return "", 0, fmt.Errorf("metric %s needs a frequency, as in %s@1kHz", name, name)
-	case !m.atFreq && hasAt:
-		return "", 0, fmt.Errorf("metric %s takes no frequency", name)
-	case !hasAt:
-		return name, 0, nil
-	}
-	f, err := ParseValue(at, UnitHertz)
+	p, err := parseMetricParam(s, m, at, hasAt)
 	if err != nil {
-		return "", 0, fmt.Errorf("metric %s: %w", s, err)
+		return MetricSpec{}, MetricParam{}, err
+	}
+	return m, p, nil
+}
+
+// parseMetricParam reads what follows '@' in the metric s (hasAt says
+// whether there is an '@') by the parameter kind of its entry m.
+func parseMetricParam(s string, m MetricSpec, at string, hasAt bool) (MetricParam, error) {
+	name := m.Name
+	switch {
+	case m.Param != MetricParamNone && !hasAt:
+		return MetricParam{}, fmt.Errorf("metric %s needs %s, as in %s", name, paramNeed(m.Param), paramExample(m))
+	case m.Param == MetricParamNone && hasAt:
+		return MetricParam{}, fmt.Errorf("metric %s takes no frequency", name)
+	case !hasAt:
+		return MetricParam{}, nil
+	}
+	var p MetricParam
+	switch m.Param {
+	case MetricParamFreq:
+		f, err := metricFreq(s, at)
+		if err != nil {
+			return MetricParam{}, err
+		}
+		p.FreqHz = f
+	case MetricParamPart:
+		if at == "" {
+			return MetricParam{}, fmt.Errorf("metric %s: no part name after @", s)
+		}
+		p.Part = at
+	case MetricParamBand:
+		lo, hi, ok := strings.Cut(at, "..")
+		if !ok {
+			return MetricParam{}, fmt.Errorf("metric %s: write the band as F1..F2", s)
+		}
+		var err error
+		if p.LoHz, err = metricFreq(s, lo); err != nil {
+			return MetricParam{}, err
+		}
+		if p.HiHz, err = metricFreq(s, hi); err != nil {
+			return MetricParam{}, err
+		}
+		if !(p.LoHz < p.HiHz) {
+			return MetricParam{}, fmt.Errorf("metric %s: the band must rise (F1 < F2)", s)
+		}
+	}
+	return p, nil
+}
+
+// metricFreq reads the frequency text of metric s: a value > 0, Hz.
+func metricFreq(s, text string) (float64, error) {
+	f, err := ParseValue(text, UnitHertz)
+	if err != nil {
+		return 0, fmt.Errorf("metric %s: %w", s, err)
 	}
 	if !(f > 0) {
-		return "", 0, fmt.Errorf("metric %s: the frequency must be > 0", s)
+		return 0, fmt.Errorf("metric %s: the frequency must be > 0", s)
 	}
-	return name, f, nil
+	return f, nil
+}
+
+// paramNeed names what a parameter kind needs, for messages.
+func paramNeed(k MetricParamKind) string {
+	switch k {
+	case MetricParamPart:
+		return "a part name"
+	case MetricParamBand:
+		return "a band"
+	}
+	return "a frequency"
+}
+
+// paramExample writes m with an example parameter.
+func paramExample(m MetricSpec) string {
+	switch m.Param {
+	case MetricParamPart:
+		return m.Name + "@U1"
+	case MetricParamBand:
+		return m.Name + "@20Hz..20kHz"
+	}
+	return m.Name + "@1kHz"
 }
 
 func (e *elab) require(r *RequireStmt) {
@@ -99,20 +254,20 @@ func (e *elab) require(r *RequireStmt) {
 		e.errorf(r.Metric.Pos, hint, "unknown metric %q", r.Metric.Name)
 		return
 	}
-	if _, _, err := ParseMetric(metric); err != nil {
+	m, _, err := ParseMetric(metric)
+	if err != nil {
 		e.errorf(r.Metric.Pos, "", "%v", err)
 		return
 	}
-	m, _ := findMetric(r.Metric.Name)
 	req := Requirement{Metric: metric, Pos: e.f.Position(r.Pos)}
 	limit := func(l *Limit) (float64, bool) {
-		v, err := ParseValue(l.Sign+l.Value, m.unit)
+		v, err := ParseValue(l.Sign+l.Value, m.Unit)
 		if err != nil {
-			want := m.unit
+			want := m.Unit
 			if want == "" {
 				want = "a plain number"
 			}
-			e.errorf(l.Pos, "", "limit of %s must be %s: %v", m.name, want, err)
+			e.errorf(l.Pos, "", "limit of %s must be %s: %v", m.Name, want, err)
 			return 0, false
 		}
 		return v, true
@@ -153,7 +308,7 @@ func (e *elab) require(r *RequireStmt) {
 func metricNamesPlain() []string {
 	out := make([]string, len(metricSpecs))
 	for i, m := range metricSpecs {
-		out[i] = m.name
+		out[i] = m.Name
 	}
 	return out
 }

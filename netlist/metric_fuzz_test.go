@@ -10,7 +10,8 @@ import (
 // frequency that is 0 (no @) or finite and > 0, never a panic.
 func FuzzParseMetric(f *testing.F) {
 	f.Fuzz(func(t *testing.T, s string) {
-		name, freqHz, err := ParseMetric(s)
+		m, p, err := ParseMetric(s)
+		name, freqHz := m.Name, p.FreqHz
 		if err != nil {
 			return
 		}

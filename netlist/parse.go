@@ -5,11 +5,12 @@ import (
 	"errors"
 	"fmt"
 	"sort"
-	"strings"
 	"unicode/utf8"
 
 	"github.com/alecthomas/participle/v2"
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // MaxSourceBytes is the largest circuit file Parse accepts (16 MiB).
@@ -128,14 +129,14 @@ func (f *File) parseLine(line []lexer.Token) (*Stmt, *Diagnostic) {
 	return nil, f.syntaxDiag(line, err)
 }
 
-// nestingDiag reports a line that nests deeper than MaxNesting, at the
+// nestingDiag reports a line that nests deeper than syntax.MaxNesting, at the
 // token that goes too deep, or returns nil.
 func (f *File) nestingDiag(line []lexer.Token) *Diagnostic {
-	tok, deep := TooDeep(line, symSpace, symComment)
+	tok, deep := syntax.TooDeep(line, symSpace, symComment)
 	if !deep {
 		return nil
 	}
-	return f.diagAt(tok.Pos.Offset, SevError, fmt.Sprintf("expression nested too deeply (more than %d levels of parentheses, signs and powers)", MaxNesting), "split it with let")
+	return f.text.NestingDiag(tok, "split it with let")
 }
 
 // syntaxDiag turns a participle error into a positioned Diagnostic with a
@@ -257,62 +258,20 @@ func (f *File) Position(p lexer.Position) Pos {
 }
 
 // posAt returns the Pos of a byte offset.
-func (f *File) posAt(off int) Pos {
-	if off > len(f.Source) {
-		off = len(f.Source)
-	}
-	if off < 0 {
-		off = 0
-	}
-	starts := f.lineStarts
-	if starts == nil {
-		starts = lineStarts(f.Source)
-	}
-	line := sort.SearchInts(starts, off+1) // starts[line-1] <= off
-	start := starts[line-1]
-	col := utf8.RuneCount(f.Source[start:off]) + 1
-	return Pos{File: f.Name, Line: line, Col: col, Offset: off}
-}
+func (f *File) posAt(off int) Pos { return f.text.Pos(off) }
 
-// newFile makes a File for src, indexing its lines once so that positions
-// and source lines of many diagnostics cost no rescans of the whole text.
+// newFile makes a File for src, indexing its lines once.
 func newFile(name string, src []byte) *File {
-	return &File{Name: name, Source: src, lineStarts: lineStarts(src), notText: !utf8.Valid(src) || bytes.IndexByte(src, 0) >= 0}
-}
-
-// lineStarts returns the byte offset of the start of every line.
-func lineStarts(src []byte) []int {
-	starts := []int{0}
-	for i, c := range src {
-		if c == '\n' {
-			starts = append(starts, i+1)
-		}
-	}
-	return starts
+	return &File{Name: name, Source: src, text: syntax.NewText(name, src)}
 }
 
 // lineText returns the source line containing the byte offset, without
-// its newline.
-func (f *File) lineText(off int) string {
-	if off > len(f.Source) {
-		off = len(f.Source)
-	}
-	start := bytes.LastIndexByte(f.Source[:off], '\n') + 1
-	end := bytes.IndexByte(f.Source[start:], '\n')
-	if end < 0 {
-		end = len(f.Source) - start
-	}
-	s := string(f.Source[start : start+end])
-	return strings.TrimRight(s, "\r")
-}
+// its newline ("" when the file is not text).
+func (f *File) lineText(off int) string { return f.text.Line(off) }
 
 // diagAt makes a diagnostic at a byte offset, with its source line.
 func (f *File) diagAt(off int, sev Severity, msg, hint string) *Diagnostic {
-	line := ""
-	if !f.notText {
-		line = f.lineText(off)
-	}
-	return &Diagnostic{Pos: f.posAt(off), Severity: sev, Msg: msg, Hint: hint, Line: line}
+	return f.text.Diag(off, sev, msg, hint)
 }
 
 // lexDiag turns a lexer failure into a diagnostic at the lexer's position

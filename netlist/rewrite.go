@@ -1,6 +1,7 @@
 package netlist
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"sort"
@@ -404,6 +405,10 @@ func walkRefs(x *Expr, visit func(string)) {
 			unary(u.Neg)
 			return
 		}
+		if u.Plus != nil {
+			unary(u.Plus)
+			return
+		}
 		if u.Power == nil {
 			return
 		}
@@ -462,14 +467,14 @@ func usedNames(x *Expr, set map[string]bool) []string {
 	return out
 }
 
-// isLiteralExpr reports whether x is one value literal, possibly negated.
+// isLiteralExpr reports whether x is one value literal, possibly signed.
 func isLiteralExpr(x *Expr) bool {
 	if x == nil || len(x.Rest) > 0 || len(x.Left.Rest) > 0 {
 		return false
 	}
 	u := x.Left.Left
-	for u.Neg != nil {
-		u = u.Neg
+	for u.Neg != nil || u.Plus != nil {
+		u = cmp.Or(u.Neg, u.Plus)
 	}
 	return u.Power != nil && u.Power.Exp == nil && u.Power.Base.Number != ""
 }

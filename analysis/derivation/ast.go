@@ -4,13 +4,13 @@ import (
 	"strconv"
 	"strings"
 
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // Pos is a source position: File is the name given to the parser, Line and
 // Col count from 1 (Col in runes), Offset is the byte offset. A zero Pos
 // marks a node synthesised by the reduction (for example an implicit 1).
-type Pos = netlist.Pos
+type Pos = syntax.Pos
 
 // Node is any node of the derivation AST.
 type Node interface {

@@ -21,10 +21,14 @@
 //
 // # Lexical rules
 //
-//   - Numbers: decimal with optional exponent and at most one SI prefix
-//     letter, no units: 4.7k, 10n, 2.2e-7, 1.5M, 100µ (or 100u). Prefixes:
-//     f p n u µ m k M G T (case matters: m is milli, M is mega). Anything
-//     else glued to a number (10nF, 2s) is an error.
+//   - Numbers: the number token every nodal grammar shares
+//     (syntax.ParseNumber), read exactly as in a circuit file: a decimal
+//     with optional exponent, SI prefix (f p n u µ m k M G T; case
+//     matters: m is milli, M is mega), IEC 60062 code (4k7, 1k5, 4n7) and
+//     attached unit (2kHz, 10kΩ, 100nF): 4.7k, 10n, 2.2e-7, 1.5M, 100µ.
+//     The unit documents the value and does not change it. In a transfer
+//     function a number may not carry the unit s (2s, 2ms): next to the
+//     Laplace variable that is a missing "*".
 //   - Names: letters, digits and _, dotted for hierarchy (LP1.R1). The name
 //     pi is the constant π; sqrt(x) is the only function. In a transfer
 //     function the name s is always the Laplace variable (rad/s).
@@ -71,6 +75,6 @@
 // expressions in a Rational use only *Number, *Name, *Unary, *Binary and
 // *Call. Walk visits a tree depth-first.
 //
-// Errors are netlist.ErrorList values positioned as NAME:LINE:COL, for
+// Errors are syntax.ErrorList values positioned as NAME:LINE:COL, for
 // example `ode:1:12: expected a term after "+"`.
 package derivation

@@ -3,18 +3,18 @@ package derivation
 import (
 	"math"
 
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // Lookup returns the SI value of a parameter or part by name, and whether
-// the name is known (for example netlist.Circuit.Lookup).
+// the name is known (for example syntax.Circuit.Lookup).
 type Lookup func(name string) (float64, bool)
 
 // Evaluate substitutes values into every coefficient and returns the
 // numeric coefficient lists, ascending (index k is the coefficient of
 // s^k), with trailing zero coefficients trimmed (at least one entry each).
 // The scale is the one written (Den is not normalised). Errors are a
-// netlist.ErrorList: each unknown name once at its first use, a division
+// syntax.ErrorList: each unknown name once at its first use, a division
 // by zero, sqrt of a negative value, a result that is not finite, a
 // denominator that is zero.
 func (r *Rational) Evaluate(lookup Lookup) (num, den []float64, err error) {
@@ -53,7 +53,7 @@ type evaluator struct {
 	lookup    Lookup
 	file, src string
 	seen      map[string]bool // unknown names already reported
-	errs      netlist.ErrorList
+	errs      syntax.ErrorList
 }
 
 func (ev *evaluator) errorf(at Pos, format string, args ...any) {

@@ -5,7 +5,7 @@ import (
 	"math"
 	"testing"
 
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // fuzzLookup knows every name except y, u and s, so reductions and
@@ -22,7 +22,7 @@ func fuzzLookup(name string) (float64, bool) {
 // diagnostics name the file and sit at line >= 1, column >= 1.
 func checkErr(t *testing.T, file, src string, err error) {
 	t.Helper()
-	var el netlist.ErrorList
+	var el syntax.ErrorList
 	if !errors.As(err, &el) || len(el) == 0 {
 		t.Fatalf("%q: error %T %v is not a non-empty ErrorList", src, err, err)
 	}

@@ -3,6 +3,8 @@ package derivation
 import (
 	"github.com/alecthomas/participle/v2"
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // The participle grammar below is private: it is converted into the public
@@ -19,7 +21,7 @@ var lex = lexer.MustSimple([]lexer.SimpleRule{
 	{Name: "Leibniz", Pattern: `d(?:\^?[0-9]+)?[ \t]*` + identRE + `[ \t]*/[ \t]*dt(?:\^?[0-9]+)?\b`},
 	{Name: "Primed", Pattern: identRE + `'+`},
 	{Name: "ParenOrder", Pattern: identRE + `\^\([0-9]+\)`},
-	{Name: "Number", Pattern: `(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?[A-Za-z_µ]*`},
+	{Name: "Number", Pattern: syntax.NumberPattern},
 	{Name: "Ident", Pattern: identRE},
 	{Name: "Op", Pattern: `[-+*/^()=]`},
 })
@@ -31,47 +33,14 @@ type gEquation struct {
 	Right *gExpr `parser:"  @@ )?"`
 }
 
-type gExpr struct {
-	Pos  lexer.Position
-	Head *gTerm   `parser:"@@"`
-	Rest []*gOpTm `parser:"@@*"`
-}
-
-type gOpTm struct {
-	Pos  lexer.Position
-	Op   string `parser:"@('+' | '-')"`
-	Term *gTerm `parser:"@@"`
-}
-
-type gTerm struct {
-	Pos  lexer.Position
-	Head *gUnary  `parser:"@@"`
-	Rest []*gOpUn `parser:"@@*"`
-}
-
-type gOpUn struct {
-	Pos  lexer.Position
-	Op   string  `parser:"@('*' | '/')"`
-	Fact *gUnary `parser:"@@"`
-}
-
-type gUnary struct {
-	Pos   lexer.Position
-	Op    string  `parser:"(  @('-' | '+')"`
-	Inner *gUnary `parser:"   @@ )"`
-	Power *gPower `parser:"| @@"`
-}
-
-type gPower struct {
-	Pos  lexer.Position
-	Base *gPrimary `parser:"@@"`
-	Tail *gPowTail `parser:"@@?"`
-}
-
-type gPowTail struct {
-	Pos lexer.Position // of the "^"
-	Exp *gUnary        `parser:"'^' @@"`
-}
+// The expression ladder (sum, product, sign, power) is the one the
+// circuit language shares (syntax.Sum and its parts), over gPrimary.
+type (
+	gExpr  = syntax.Sum[gPrimary]
+	gTerm  = syntax.Product[gPrimary]
+	gUnary = syntax.Unary[gPrimary]
+	gPower = syntax.Power[gPrimary]
+)
 
 type gPrimary struct {
 	Pos     lexer.Position

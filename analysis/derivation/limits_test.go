@@ -4,7 +4,7 @@ import (
 	"strings"
 	"testing"
 
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // TestInputLimits: oversized and deeply nested text fails with a
@@ -18,13 +18,13 @@ func TestInputLimits(t *testing.T) {
 		line, col       int
 	}{
 		{"too long", strings.Repeat("1+", n) + "1", "at most", 1, 1},
-		{"parens", strings.Repeat("(", 8000) + "1" + strings.Repeat(")", 8000), "nested too deeply", 1, netlist.MaxNesting + 1},
-		{"sqrt", strings.Repeat("sqrt(", 4000) + "s" + strings.Repeat(")", 4000), "nested too deeply", 1, 5*netlist.MaxNesting + 5},
-		{"signs", "1/(\n" + strings.Repeat("-", 8000) + "s)", "nested too deeply", 2, netlist.MaxNesting},
-		{"powers", "s" + strings.Repeat("^2", 8000), "nested too deeply", 1, 2*netlist.MaxNesting + 2},
+		{"parens", strings.Repeat("(", 8000) + "1" + strings.Repeat(")", 8000), "nested too deeply", 1, syntax.MaxNesting + 1},
+		{"sqrt", strings.Repeat("sqrt(", 4000) + "s" + strings.Repeat(")", 4000), "nested too deeply", 1, 5*syntax.MaxNesting + 5},
+		{"signs", "1/(\n" + strings.Repeat("-", 8000) + "s)", "nested too deeply", 2, syntax.MaxNesting},
+		{"powers", "s" + strings.Repeat("^2", 8000), "nested too deeply", 1, 2*syntax.MaxNesting + 2},
 	} {
 		_, err := ParseTF("tf", c.src)
-		l, ok := err.(netlist.ErrorList)
+		l, ok := err.(syntax.ErrorList)
 		if !ok || len(l) == 0 {
 			t.Errorf("%s: error %v", c.name, err)
 			continue
@@ -33,9 +33,9 @@ func TestInputLimits(t *testing.T) {
 			t.Errorf("%s: got %s: %s, want tf:%d:%d: ...%s", c.name, d.Pos, d.Msg, c.line, c.col, c.want)
 		}
 	}
-	deep := strings.Repeat("(", netlist.MaxNesting) + "1+s" + strings.Repeat(")", netlist.MaxNesting)
+	deep := strings.Repeat("(", syntax.MaxNesting) + "1+s" + strings.Repeat(")", syntax.MaxNesting)
 	if _, err := ParseTF("tf", deep); err != nil {
-		t.Errorf("%d levels: %v", netlist.MaxNesting, err)
+		t.Errorf("%d levels: %v", syntax.MaxNesting, err)
 	}
 	tf, err := ParseTF("tf", "1/(R1-R1)")
 	if err != nil {

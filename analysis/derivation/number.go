@@ -2,45 +2,24 @@ package derivation
 
 import (
 	"fmt"
-	"strconv"
-	"strings"
-	"unicode/utf8"
 
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
-// parseNumber converts a Number token (digits, optional exponent, optional
-// single SI prefix letter, looked up in netlist's prefix table) to its SI
-// value.
-func parseNumber(tok string) (float64, error) {
-	i := strings.IndexFunc(tok, func(r rune) bool {
-		return (r >= 'a' && r <= 'z' || r >= 'A' && r <= 'Z' || r == '_' || r == 'µ') && r != 'e' && r != 'E'
-	})
-	// An exponent letter is part of the mantissa only when digits follow.
-	mant, suffix := tok, ""
-	if i >= 0 {
-		mant, suffix = tok[:i], tok[i:]
-	}
-	if j := strings.IndexAny(mant, "eE"); j >= 0 {
-		exp := strings.TrimLeft(mant[j+1:], "+-")
-		if exp == "" || strings.TrimLeft(exp, "0123456789") != "" {
-			mant, suffix = tok[:j], tok[j:]
-		}
-	}
-	v, err := strconv.ParseFloat(mant, 64)
+// parseNumber decodes a Number token with the number token every nodal
+// grammar shares (syntax.ParseNumber: SI prefixes, IEC 60062 codes such
+// as 4k7, attached units such as 2kHz), so a value reads the same here as
+// in a circuit file. The unit only documents the value; the coefficient is
+// its SI value. In a transfer function a number may not carry the unit s:
+// "2s" or "2ms" beside the Laplace variable s is almost always a missing
+// "*".
+func parseNumber(tok string, inS bool) (float64, error) {
+	n, err := syntax.ParseNumber(tok)
 	if err != nil {
-		return 0, fmt.Errorf("malformed number %q", tok)
+		return 0, fmt.Errorf("number %v (write * between a number and a name)", err)
 	}
-	if suffix == "" {
-		return v, nil
+	if inS && n.Unit == syntax.UnitSecond {
+		return 0, fmt.Errorf("number %q carries the unit s, but s is the Laplace variable here: write %s*s", tok, tok[:len(tok)-1])
 	}
-	if f, ok := netlist.PrefixScale(suffix); ok {
-		return v * f, nil
-	}
-	if r, n := utf8.DecodeRuneInString(suffix); n < len(suffix) {
-		if _, ok := netlist.PrefixScale(string(r)); ok {
-			return 0, fmt.Errorf("number %q carries %q after its prefix: write numbers without units, and * between factors", tok, suffix[n:])
-		}
-	}
-	return 0, fmt.Errorf("number %q has an unknown suffix %q (SI prefixes f p n u µ m k M G T; no units; write * between factors)", tok, suffix)
+	return n.Value, nil
 }

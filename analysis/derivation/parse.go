@@ -1,6 +1,7 @@
 package derivation
 
 import (
+	"bytes"
 	"errors"
 	"fmt"
 	"math"
@@ -10,20 +11,20 @@ import (
 	"github.com/alecthomas/participle/v2"
 	"github.com/alecthomas/participle/v2/lexer"
 
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // ParseODE parses a hand-written ODE such as `R1*C1*y' + y = u`. name
 // labels positions in errors (for example "ode"). Errors are a
-// netlist.ErrorList.
+// syntax.ErrorList.
 func ParseODE(name, src string) (*Equation, error) {
 	g, err := parseGrammar(name, src)
 	if err != nil {
 		return nil, err
 	}
-	c := converter{name: name, src: src}
+	c := converter{text: syntax.NewText(name, []byte(src))}
 	if !g.Eq {
-		c.errorf(endPos(name, src), `expected "=": an equation has a left and a right side`)
+		c.errorf(c.text.End(), `expected "=": an equation has a left and a right side`)
 		return nil, c.errs
 	}
 	eq := &Equation{At: c.pos(g.Pos), Left: c.expr(g.Left), Right: c.expr(g.Right), Src: src}
@@ -40,7 +41,7 @@ func ParseTF(name, src string) (*TF, error) {
 	if err != nil {
 		return nil, err
 	}
-	c := converter{name: name, src: src, inS: true}
+	c := converter{text: syntax.NewText(name, []byte(src)), inS: true}
 	body := g.Left
 	if g.Eq {
 		if !isCallOfS(g.Left) {
@@ -64,28 +65,26 @@ func ParseTF(name, src string) (*TF, error) {
 
 // isCallOfS reports whether e is exactly NAME(s).
 func isCallOfS(e *gExpr) bool {
-	if len(e.Rest) > 0 || len(e.Head.Rest) > 0 || e.Head.Head.Power == nil || e.Head.Head.Power.Tail != nil {
+	if len(e.Rest) > 0 || len(e.Left.Rest) > 0 || e.Left.Left.Power == nil || e.Left.Left.Power.Exp != nil {
 		return false
 	}
-	p := e.Head.Head.Power.Base
-	if p.Ident == "" || p.Args == nil || len(p.Args.Rest) > 0 || len(p.Args.Head.Rest) > 0 {
+	p := e.Left.Left.Power.Base
+	if p.Ident == "" || p.Args == nil || len(p.Args.Rest) > 0 || len(p.Args.Left.Rest) > 0 {
 		return false
 	}
-	a := p.Args.Head.Head.Power
-	return a != nil && a.Tail == nil && a.Base.Ident == "s" && a.Base.Args == nil
+	a := p.Args.Left.Left.Power
+	return a != nil && a.Exp == nil && a.Base.Ident == "s" && a.Base.Args == nil
 }
 
 // parseGrammar runs participle and turns its errors into positioned
 // diagnostics with messages written for engineers.
 func parseGrammar(name, src string) (*gEquation, error) {
+	text := syntax.NewText(name, []byte(src))
 	if strings.TrimSpace(src) == "" {
-		return nil, netlist.ErrorList{diag(name, src, Pos{File: name, Line: 1, Col: 1}, "empty expression")}
+		return nil, syntax.ErrorList{text.Errorf(0, "empty expression")}
 	}
-	if len(src) > MaxSourceBytes {
-		return nil, netlist.ErrorList{diagf(name, src, Pos{File: name, Line: 1, Col: 1}, "expression is %d bytes; at most %d are accepted", len(src), MaxSourceBytes)}
-	}
-	if d := nestingDiag(name, src); d != nil {
-		return nil, netlist.ErrorList{d}
+	if d := text.Admit("expression", MaxSourceBytes, lex, "Whitespace"); d != nil {
+		return nil, syntax.ErrorList{d}
 	}
 	g, err := parser.ParseString(name, src)
 	if err == nil {
@@ -95,49 +94,36 @@ func parseGrammar(name, src string) (*gEquation, error) {
 	if !errors.As(err, &perr) {
 		return nil, fmt.Errorf("%s: %w", name, err)
 	}
-	lp := perr.Position()
-	pos := Pos{File: name, Line: lp.Line, Col: lp.Column, Offset: lp.Offset}
-	if lp.Line == 0 {
-		pos = endPos(name, src)
+	off := perr.Position().Offset
+	if perr.Position().Line == 0 {
+		off = len(src)
 	}
 	var msg string
 	var lerr *lexer.Error
 	var uerr *participle.UnexpectedTokenError
 	switch {
 	case errors.As(err, &lerr):
-		r := []rune(src[min(lp.Offset, len(src)):])
+		r := []rune(src[min(off, len(src)):])
 		if len(r) > 0 {
 			msg = fmt.Sprintf("unexpected character %q", r[0])
 		} else {
 			msg = "unexpected end of input"
 		}
 	case errors.As(err, &uerr):
-		pos = Pos{File: name, Line: uerr.Unexpected.Pos.Line, Col: uerr.Unexpected.Pos.Column, Offset: uerr.Unexpected.Pos.Offset}
+		off = uerr.Unexpected.Pos.Offset
 		if uerr.Unexpected.EOF() {
-			pos = endPos(name, src)
+			off = len(src)
 		}
-		msg = unexpectedMessage(src, pos.Offset, uerr.Unexpected)
+		msg = unexpectedMessage(src, off, uerr.Unexpected)
 	default:
 		msg = perr.Message()
 	}
-	return nil, netlist.ErrorList{diag(name, src, pos, msg)}
+	return nil, syntax.ErrorList{text.Errorf(off, "%s", msg)}
 }
 
 // MaxSourceBytes is the longest text ParseODE and ParseTF accept (64 KiB,
 // far more than any hand derivation).
 const MaxSourceBytes = 64 << 10
-
-// nestingDiag reports text nesting deeper than netlist.MaxNesting at the
-// token that goes too deep, or returns nil. Text that does not lex is left
-// to the parser, which reports it.
-func nestingDiag(name, src string) *netlist.Diagnostic {
-	tok, deep := netlist.TooDeepText(lex, name, src, "Whitespace")
-	if !deep {
-		return nil
-	}
-	p := tok.Pos
-	return diagf(name, src, Pos{File: name, Line: p.Line, Col: p.Column, Offset: p.Offset}, "expression nested too deeply (more than %d levels of parentheses, signs and powers)", netlist.MaxNesting)
-}
 
 // unexpectedMessage explains an unexpected token at byte offset off.
 func unexpectedMessage(src string, off int, tok lexer.Token) string {
@@ -169,49 +155,30 @@ func unexpectedMessage(src string, off int, tok lexer.Token) string {
 	}
 }
 
-// endPos is the position just past the last character of src.
-func endPos(name, src string) Pos {
-	p := lexer.Position{Line: 1, Column: 1}
-	p.Advance(src)
-	return Pos{File: name, Line: p.Line, Col: p.Column, Offset: p.Offset}
-}
-
-// diag builds a diagnostic with the source line for the caret display.
-func diag(name, src string, pos Pos, msg string) *netlist.Diagnostic {
-	line := ""
-	lines := strings.Split(src, "\n")
-	if pos.Line >= 1 && pos.Line <= len(lines) {
-		line = strings.TrimRight(lines[pos.Line-1], "\r")
-	}
-	pos.File = name
-	return &netlist.Diagnostic{Pos: pos, Msg: msg, Line: line}
-}
-
-// diagf is diag with a formatted message.
-func diagf(name, src string, pos Pos, format string, args ...any) *netlist.Diagnostic {
-	return diag(name, src, pos, fmt.Sprintf(format, args...))
+// diagf builds a diagnostic at pos in the text src named name, with the
+// source line for the caret display.
+func diagf(name, src string, pos Pos, format string, args ...any) *syntax.Diagnostic {
+	return syntax.NewText(name, []byte(src)).Errorf(pos.Offset, format, args...)
 }
 
 // converter turns the participle tree into the public AST, collecting
 // errors for tokens whose content is invalid (bad number suffix, unknown
 // function, mismatched derivative orders).
 type converter struct {
-	name, src string
+	text *syntax.Text
 	// inS is set for a transfer function, where NAME^(n) is a power.
 	inS  bool
-	errs netlist.ErrorList
+	errs syntax.ErrorList
 }
 
-func (c *converter) pos(p lexer.Position) Pos {
-	return Pos{File: c.name, Line: p.Line, Col: p.Column, Offset: p.Offset}
-}
+func (c *converter) pos(p lexer.Position) Pos { return c.text.At(p) }
 
 func (c *converter) errorf(p Pos, format string, args ...any) {
-	c.errs = append(c.errs, diagf(c.name, c.src, p, format, args...))
+	c.errs = append(c.errs, c.text.Errorf(p.Offset, format, args...))
 }
 
 func (c *converter) expr(g *gExpr) Expr {
-	x := c.term(g.Head)
+	x := c.term(g.Left)
 	for _, r := range g.Rest {
 		x = &Binary{At: c.pos(r.Pos), Op: r.Op[0], X: x, Y: c.term(r.Term)}
 	}
@@ -219,30 +186,31 @@ func (c *converter) expr(g *gExpr) Expr {
 }
 
 func (c *converter) term(g *gTerm) Expr {
-	x := c.unary(g.Head)
+	x := c.unary(g.Left)
 	for _, r := range g.Rest {
-		x = &Binary{At: c.pos(r.Pos), Op: r.Op[0], X: x, Y: c.unary(r.Fact)}
+		x = &Binary{At: c.pos(r.Pos), Op: r.Op[0], X: x, Y: c.unary(r.Unary)}
 	}
 	return x
 }
 
 func (c *converter) unary(g *gUnary) Expr {
-	if g.Power != nil {
+	switch {
+	case g.Power != nil:
 		return c.power(g.Power)
+	case g.Plus != nil:
+		return c.unary(g.Plus)
 	}
-	x := c.unary(g.Inner)
-	if g.Op == "+" {
-		return x
-	}
-	return &Unary{At: c.pos(g.Pos), Op: '-', X: x}
+	return &Unary{At: c.pos(g.Pos), Op: '-', X: c.unary(g.Neg)}
 }
 
 func (c *converter) power(g *gPower) Expr {
 	x := c.primary(g.Base)
-	if g.Tail == nil {
+	if g.Exp == nil {
 		return x
 	}
-	return &Binary{At: c.pos(g.Tail.Pos), Op: '^', X: x, Y: c.unary(g.Tail.Exp)}
+	// The "^" is the last one before the exponent (only blanks between).
+	caret := bytes.LastIndexByte(c.text.Source[:g.Exp.Pos.Offset], '^')
+	return &Binary{At: c.text.Pos(caret), Op: '^', X: x, Y: c.unary(g.Exp)}
 }
 
 func (c *converter) primary(g *gPrimary) Expr {
@@ -251,7 +219,7 @@ func (c *converter) primary(g *gPrimary) Expr {
 	case g.Group != nil:
 		return c.expr(g.Group)
 	case g.Number != "":
-		v, err := parseNumber(g.Number)
+		v, err := parseNumber(g.Number, c.inS)
 		if err != nil {
 			c.errorf(at, "%v", err)
 		}

@@ -4,7 +4,7 @@ import (
 	"slices"
 	"strings"
 
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // Signals tells Reduce which names of an ODE are signals. Output and Input
@@ -48,7 +48,7 @@ type occurrence struct {
 // denominator, power or sqrt, a constant term.
 func (eq *Equation) Reduce(sig Signals) (*Rational, error) {
 	name := eq.At.File
-	var errs netlist.ErrorList
+	var errs syntax.ErrorList
 	fail := func(at Pos, format string, args ...any) (*Rational, error) {
 		errs = append(errs, diagf(name, eq.Src, at, format, args...))
 		return nil, errs
@@ -175,7 +175,7 @@ func collectPoly(side, other linear, sig string) poly {
 type odeReducer struct {
 	name, src string
 	sig       map[string]bool
-	errs      netlist.ErrorList
+	errs      syntax.ErrorList
 }
 
 func (r *odeReducer) errorf(at Pos, format string, args ...any) {

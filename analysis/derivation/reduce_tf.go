@@ -3,7 +3,7 @@ package derivation
 import (
 	"math"
 
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // Reduce turns the transfer function into a Rational by polynomial
@@ -23,7 +23,7 @@ func (tf *TF) Reduce() (*Rational, error) {
 
 type tfReducer struct {
 	src, name string
-	errs      netlist.ErrorList
+	errs      syntax.ErrorList
 	sizes     map[Expr]int // tree sizes of coefficient nodes, memoised
 	tooBig    bool         // reported once
 }

@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 	"math/cmplx"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -82,7 +83,7 @@ func TestDividerDensity(t *testing.T) {
 		r1, r2, tempK float64
 		quiet         bool
 	}{{1e3, 1e3, 300, false}, {10e3, 2.2e3, 358.15, false}, {47e3, 4.7e3, 300, true}} {
-		src := "V1: vsource (in, gnd)\nR1: resistor (in, out) " + netlist.FormatEng(tc.r1, "") + "\nR2: resistor (out, gnd) " + netlist.FormatEng(tc.r2, "")
+		src := "V1: vsource (in, gnd)\nR1: resistor (in, out) " + strconv.FormatFloat(tc.r1, 'g', -1, 64) + "\nR2: resistor (out, gnd) " + strconv.FormatFloat(tc.r2, 'g', -1, 64)
 		if tc.quiet {
 			src += " noiseless"
 		}

@@ -1,20 +1,22 @@
 package signal
 
 import (
-	"fmt"
 	"math"
 	"strings"
 
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // builder turns the syntax tree into a Signal, checking meaning.
 type builder struct {
-	src string
+	text *syntax.Text
 }
 
-func errAt(p lexer.Position, format string, args ...any) error {
-	return &Error{Pos: toPosition(p), Msg: fmt.Sprintf(format, args...)}
+// errAt is a one-diagnostic syntax.ErrorList at p.
+func (b *builder) errAt(p lexer.Position, format string, args ...any) error {
+	return syntax.ErrorList{b.text.Errorf(p.Offset, format, args...)}
 }
 
 // signedProducts flattens a sum into (sign, product) pairs.
@@ -44,10 +46,10 @@ func (b *builder) signal(s *sumAST) (*Signal, error) {
 			return nil, err
 		}
 		if pr.hasT {
-			return nil, errAt(pr.tPos, "t may appear only inside sin(...) or cos(...)")
+			return nil, b.errAt(pr.tPos, "t may appear only inside sin(...) or cos(...)")
 		}
 		if pr.angle != "" {
-			return nil, errAt(pr.anglePos, "an angle unit belongs inside sin(...) or cos(...)")
+			return nil, b.errAt(pr.anglePos, "an angle unit belongs inside sin(...) or cos(...)")
 		}
 		v := signs[i] * pr.value
 		if pr.call == nil {
@@ -59,11 +61,11 @@ func (b *builder) signal(s *sumAST) (*Signal, error) {
 			return nil, err
 		}
 		t.Amplitude = v
-		t.Pos = toPosition(p.Pos)
+		t.Pos = b.text.At(p.Pos)
 		out.Terms = append(out.Terms, t)
 	}
 	if math.IsInf(out.DC, 0) || math.IsNaN(out.DC) {
-		return nil, errAt(s.First.Pos, "constant out of range")
+		return nil, b.errAt(s.First.Pos, "constant out of range")
 	}
 	return out, nil
 }
@@ -96,19 +98,19 @@ func (b *builder) product(p *prodAST, inArg bool) (product, error) {
 		isTwo := false
 		switch {
 		case f.Number != nil:
-			n, err := parseNumber(*f.Number, f.Pos)
+			n, err := b.number(*f.Number, f.Pos)
 			if err != nil {
 				return pr, err
 			}
 			if n.angle != "" {
 				if pr.angle != "" {
-					return pr, errAt(f.Pos, "only one angle unit per product")
+					return pr, b.errAt(f.Pos, "only one angle unit per product")
 				}
 				pr.angle, pr.anglePos = n.angle, f.Pos
 			}
 			if divide {
 				if n.value == 0 {
-					return pr, errAt(f.Pos, "division by zero")
+					return pr, b.errAt(f.Pos, "division by zero")
 				}
 				pr.value /= n.value
 			} else {
@@ -117,16 +119,16 @@ func (b *builder) product(p *prodAST, inArg bool) (product, error) {
 			isTwo = n.value == 2 && !divide
 		case f.Args != nil:
 			if f.Name != "sin" && f.Name != "cos" {
-				return pr, errAt(f.Pos, "unknown function %q: expected sin or cos", f.Name)
+				return pr, b.errAt(f.Pos, "unknown function %q: expected sin or cos", f.Name)
 			}
 			if inArg {
-				return pr, errAt(f.Pos, "%s(...) inside a sin/cos argument is not a sinusoid", f.Name)
+				return pr, b.errAt(f.Pos, "%s(...) inside a sin/cos argument is not a sinusoid", f.Name)
 			}
 			if pr.call != nil {
-				return pr, errAt(f.Pos, "a product of two sinusoids is not a sum of sinusoids; write one sin or cos per term")
+				return pr, b.errAt(f.Pos, "a product of two sinusoids is not a sum of sinusoids; write one sin or cos per term")
 			}
 			if divide {
-				return pr, errAt(f.Pos, "%s(...) may not divide", f.Name)
+				return pr, b.errAt(f.Pos, "%s(...) may not divide", f.Name)
 			}
 			pr.call = f
 		case f.Name == "pi" || f.Name == "π":
@@ -139,21 +141,21 @@ func (b *builder) product(p *prodAST, inArg bool) (product, error) {
 			pr.piCount++
 		case f.Name == "t":
 			if pr.hasT {
-				return pr, errAt(f.Pos, "t may appear only once in a term (the signal must be sinusoidal)")
+				return pr, b.errAt(f.Pos, "t may appear only once in a term (the signal must be sinusoidal)")
 			}
 			if divide {
-				return pr, errAt(f.Pos, "t may not divide")
+				return pr, b.errAt(f.Pos, "t may not divide")
 			}
 			pr.hasT, pr.tPos = true, f.Pos
 		case f.Name == "sin" || f.Name == "cos":
-			return pr, errAt(f.Pos, "expected \"(\" after %s", f.Name)
+			return pr, b.errAt(f.Pos, "expected \"(\" after %s", f.Name)
 		default:
-			return pr, errAt(f.Pos, "unknown name %q: expected a number, pi, t, sin(...) or cos(...)", f.Name)
+			return pr, b.errAt(f.Pos, "unknown name %q: expected a number, pi, t, sin(...) or cos(...)", f.Name)
 		}
 		prevTwo = isTwo
 	}
 	if math.IsInf(pr.value, 0) || math.IsNaN(pr.value) {
-		return pr, errAt(p.Pos, "value out of range")
+		return pr, b.errAt(p.Pos, "value out of range")
 	}
 	return pr, nil
 }
@@ -178,29 +180,29 @@ func (b *builder) term(call *factorAST) (Term, error) {
 			continue
 		}
 		if omegaProd != nil {
-			return t, errAt(p.Pos, "t appears in two places of the argument; combine them into one ω·t")
+			return t, b.errAt(p.Pos, "t appears in two places of the argument; combine them into one ω·t")
 		}
 		if pr.angle != "" {
-			return t, errAt(pr.anglePos, "an angle unit on the frequency: write ω in rad/s or 2*pi*f with f in Hz")
+			return t, b.errAt(pr.anglePos, "an angle unit on the frequency: write ω in rad/s or 2*pi*f with f in Hz")
 		}
 		omegaProd = p
 		t.OmegaRad = signs[i] * pr.value
 		t.WrittenAsHz = pr.piCount == 1 && pr.twoPi
 	}
 	if omegaProd == nil {
-		return t, errAt(call.Pos, "%s(...) has no t: expected an argument like 2*pi*400*t or 2500*t", call.Name)
+		return t, b.errAt(call.Pos, "%s(...) has no t: expected an argument like 2*pi*400*t or 2500*t", call.Name)
 	}
 	if !(t.OmegaRad > 0) {
-		return t, errAt(omegaProd.Pos, "angular frequency must be positive (write the sign outside %s)", call.Name)
+		return t, b.errAt(omegaProd.Pos, "angular frequency must be positive (write the sign outside %s)", call.Name)
 	}
 	if math.IsInf(t.PhaseRad, 0) || math.IsNaN(t.PhaseRad) {
-		return t, errAt(call.Pos, "phase out of range")
+		return t, b.errAt(call.Pos, "phase out of range")
 	}
 	if math.Abs(t.PhaseRad) > 2*piValue {
 		// More than a full turn: reduce it, so that the phase prints in
 		// degrees without overflow and reads back as the same angle.
 		t.PhaseRad = math.Remainder(t.PhaseRad, 2*piValue)
 	}
-	t.OmegaText = strings.Join(strings.Fields(b.src[omegaProd.Pos.Offset:omegaProd.EndPos.Offset]), "")
+	t.OmegaText = strings.Join(strings.Fields(string(b.text.Source[omegaProd.Pos.Offset:omegaProd.EndPos.Offset])), "")
 	return t, nil
 }

@@ -3,18 +3,14 @@ package signal
 import (
 	"errors"
 	"fmt"
-	"math"
-	"strconv"
 	"strings"
 	"unicode/utf8"
 
 	"github.com/alecthomas/participle/v2"
 	"github.com/alecthomas/participle/v2/lexer"
 
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
-
-const piValue = math.Pi
 
 // The grammar (EBNF):
 //
@@ -23,9 +19,12 @@ const piValue = math.Pi
 //	product = factor { ("*" | "·" | "/") factor } .
 //	factor  = Number | Ident [ "(" sum ")" ] .
 //
-// Number is a decimal with optional exponent and an optional suffix of
-// letters (an SI prefix, deg, ° or rad); Ident is a name (sin, cos, pi, π,
-// t). Meaning is checked after parsing, in build.go.
+// Number is the number token every nodal grammar shares
+// (syntax.NumberPattern: SI prefixes, IEC 60062 codes, attached units;
+// deg, ° and rad mark a phase); Ident is a name (sin, cos, pi, π, t).
+// The grammar has no powers and no parentheses other than a call's, so
+// it keeps its own two levels rather than syntax.Sum. Meaning is checked
+// after parsing, in build.go.
 
 type sumAST struct {
 	Lead  string     `parser:"@('+' | '-' | '−')?"`
@@ -58,7 +57,7 @@ type factorAST struct {
 }
 
 var signalLexer = lexer.MustSimple([]lexer.SimpleRule{
-	{Name: "Number", Pattern: `(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?[a-zA-Zµ°]*`},
+	{Name: "Number", Pattern: syntax.NumberPattern},
 	{Name: "Ident", Pattern: `[a-zA-Zπ_][a-zA-Z0-9_]*`},
 	{Name: "Op", Pattern: `[-+*/()]|−|·`},
 	{Name: "Whitespace", Pattern: `\s+`},
@@ -71,44 +70,29 @@ var parser = participle.MustBuild[sumAST](
 	participle.UseLookahead(2),
 )
 
-// Parse parses a drive-signal expression. Errors are *Error values
-// positioned as "signal:LINE:COL: ..."; Parse never panics.
-func Parse(src string) (*Signal, error) {
-	if !utf8.ValidString(src) {
-		return nil, &Error{Pos: Position{Line: 1, Column: 1}, Msg: "signal is not valid UTF-8"}
+// Parse parses a drive-signal expression. name labels positions in errors
+// (for example "--signal"). Errors are a syntax.ErrorList positioned as
+// NAME:LINE:COL with the line and a caret; Parse never panics.
+func Parse(name, src string) (*Signal, error) {
+	text := syntax.NewText(name, []byte(src))
+	if d := text.Admit("signal", MaxSourceBytes, signalLexer, "Whitespace"); d != nil {
+		return nil, syntax.ErrorList{d}
 	}
-	if len(src) > MaxSourceBytes {
-		return nil, &Error{Pos: Position{Line: 1, Column: 1}, Msg: fmt.Sprintf("signal is %d bytes; at most %d are accepted", len(src), MaxSourceBytes)}
-	}
-	if e := nestingError(src); e != nil {
-		return nil, e
-	}
-	ast, err := parser.ParseString("signal", src)
+	ast, err := parser.ParseString(name, src)
 	if err != nil {
 		var pe participle.Error
 		if errors.As(err, &pe) {
-			return nil, &Error{Pos: toPosition(pe.Position()), Msg: friendly(pe.Message())}
+			return nil, syntax.ErrorList{text.Errorf(pe.Position().Offset, "%s", friendly(pe.Message()))}
 		}
-		return nil, &Error{Pos: Position{Line: 1, Column: 1}, Msg: err.Error()}
+		return nil, syntax.ErrorList{text.Errorf(0, "%v", err)}
 	}
-	b := builder{src: src}
+	b := builder{text: text}
 	return b.signal(ast)
 }
 
 // MaxSourceBytes is the longest signal text Parse accepts (4 KiB, far
 // more than a sum of sinusoids written by hand).
 const MaxSourceBytes = 4 << 10
-
-// nestingError reports text nesting deeper than netlist.MaxNesting at the
-// token that goes too deep, or returns nil. Text that does not lex is left
-// to the parser, which reports it.
-func nestingError(src string) *Error {
-	tok, deep := netlist.TooDeepText(signalLexer, "signal", src, "Whitespace")
-	if !deep {
-		return nil
-	}
-	return &Error{Pos: toPosition(tok.Pos), Msg: fmt.Sprintf("signal nested too deeply (more than %d levels of parentheses and signs)", netlist.MaxNesting)}
-}
 
 // friendly replaces participle's grammar-node names in a message by words.
 func friendly(msg string) string {
@@ -126,59 +110,31 @@ func friendly(msg string) string {
 	return msg
 }
 
-func toPosition(p lexer.Position) Position {
-	return Position{Offset: p.Offset, Line: p.Line, Column: p.Column}
-}
-
 // number is a parsed numeric literal.
 type number struct {
 	value float64
 	angle string // "", "deg" or "rad"
 }
 
-// parseNumber splits a Number token into digits and suffix and applies it.
-func parseNumber(tok string, pos lexer.Position) (number, error) {
-	i := 0
-	for i < len(tok) {
-		c := tok[i]
-		if c >= '0' && c <= '9' || c == '.' {
-			i++
-			continue
-		}
-		if (c == 'e' || c == 'E') && i+1 < len(tok) {
-			j := i + 1
-			if tok[j] == '+' || tok[j] == '-' {
-				j++
-			}
-			if j < len(tok) && tok[j] >= '0' && tok[j] <= '9' {
-				i = j
-				continue
-			}
-		}
-		break
-	}
-	digits, suffix := tok[:i], tok[i:]
-	v, err := strconv.ParseFloat(digits, 64)
-	if err != nil || math.IsInf(v, 0) {
-		return number{}, &Error{Pos: toPosition(pos), Msg: fmt.Sprintf("number %q out of range", tok)}
-	}
-	n := number{value: v}
-	switch {
-	case suffix == "":
-	case suffix == "deg" || suffix == "°":
-		n.angle = "deg"
-	case suffix == "rad":
-		n.angle = "rad"
-	default:
-		if scale, ok := netlist.PrefixScale(suffix); ok {
-			n.value *= scale
-			break
-		}
+// number decodes a Number token with the number token every nodal grammar
+// shares (syntax.ParseNumber: SI prefixes, IEC 60062 codes such as 1k5,
+// attached units such as 1kHz), so a value reads the same here as in a
+// circuit file. The angle units deg (or °) and rad mark a phase; other
+// units document the value and do not change it.
+func (b *builder) number(tok string, pos lexer.Position) (number, error) {
+	n, err := syntax.ParseNumber(tok)
+	if err != nil {
 		hint := ""
-		if strings.HasPrefix(suffix, "pi") || strings.HasPrefix(suffix, "t") || strings.HasPrefix(suffix, "sin") || strings.HasPrefix(suffix, "cos") {
+		if suffix := strings.TrimLeft(tok, "0123456789."); strings.HasPrefix(suffix, "pi") || strings.HasPrefix(suffix, "π") || strings.HasPrefix(suffix, "t") || strings.HasPrefix(suffix, "sin") || strings.HasPrefix(suffix, "cos") {
 			hint = " (write the multiplication with *)"
 		}
-		return number{}, &Error{Pos: toPosition(pos), Msg: fmt.Sprintf("unknown suffix %q on %q: expected an SI prefix (T G M k m u n p f), deg or rad%s", suffix, tok, hint)}
+		return number{}, b.errAt(pos, "number %v%s", err, hint)
 	}
-	return n, nil
+	switch n.Unit {
+	case syntax.UnitDegree:
+		return number{value: n.Value, angle: "deg"}, nil
+	case syntax.UnitRadian:
+		return number{value: n.Value, angle: "rad"}, nil
+	}
+	return number{value: n.Value}, nil
 }

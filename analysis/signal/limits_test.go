@@ -6,7 +6,7 @@ import (
 	"strings"
 	"testing"
 
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // TestInputLimits: oversized or deeply nested text fails with a positioned
@@ -19,13 +19,13 @@ func TestInputLimits(t *testing.T) {
 		col             int
 	}{
 		{"too long", strings.Repeat("1+", MaxSourceBytes) + "1", "at most", 1},
-		{"parens", strings.Repeat("(", 2000) + "sin(t)" + strings.Repeat(")", 2000), "nested too deeply", netlist.MaxNesting + 1},
-		{"sin", strings.Repeat("sin(", 500) + "t" + strings.Repeat(")", 500), "nested too deeply", 4*netlist.MaxNesting + 4},
-		{"signs", strings.Repeat("-", 2000) + "sin(t)", "nested too deeply", netlist.MaxNesting + 1},
+		{"parens", strings.Repeat("(", 2000) + "sin(t)" + strings.Repeat(")", 2000), "nested too deeply", syntax.MaxNesting + 1},
+		{"sin", strings.Repeat("sin(", 500) + "t" + strings.Repeat(")", 500), "nested too deeply", 4*syntax.MaxNesting + 4},
+		{"signs", strings.Repeat("-", 2000) + "sin(t)", "nested too deeply", syntax.MaxNesting + 1},
 	} {
-		_, err := Parse(c.src)
-		var se *Error
-		if !errors.As(err, &se) || se.Pos.Line != 1 || se.Pos.Column != c.col || !strings.Contains(se.Msg, c.want) {
+		_, err := Parse("signal", c.src)
+		var l syntax.ErrorList
+		if !errors.As(err, &l) || len(l) != 1 || l[0].Pos.Line != 1 || l[0].Pos.Col != c.col || !strings.Contains(l[0].Msg, c.want) {
 			t.Errorf("%s: got %v, want signal:1:%d: ...%s", c.name, err, c.col, c.want)
 		}
 	}
@@ -37,7 +37,7 @@ func TestInputLimits(t *testing.T) {
 		{"sin(t + 370deg)", 10 * math.Pi / 180}, // 370° = 360° + 10°
 		{"sin(t - 7*pi)", math.Pi},              // −7π = −8π + π
 	} {
-		s, err := Parse(c.src)
+		s, err := Parse("signal", c.src)
 		if err != nil {
 			t.Fatalf("%s: %v", c.src, err)
 		}

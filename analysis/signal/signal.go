@@ -8,33 +8,21 @@
 //
 // Angular frequency may be written directly in rad/s (2500*t) or as 2*pi*f
 // with f in Hz. Phases are in radians unless a number carries the suffix
-// deg or °. Numbers may carry an SI prefix (T G M k m u µ n p f). The
-// grammar is built with participle; see grammar.go.
+// deg or °. Numbers are read as everywhere in nodal (syntax.ParseNumber):
+// SI prefixes (T G M k m u µ n p f), IEC 60062 codes (1k5) and attached
+// units (1kHz). The grammar is built with participle; see grammar.go.
 package signal
 
 import (
 	"fmt"
 	"math"
 	"strings"
+
+	"nodal/netlist/syntax"
 )
 
-// Position locates a token in the signal text. Line and Column are 1-based;
-// Column counts runes. Offset is the 0-based byte offset.
-type Position struct {
-	Offset, Line, Column int
-}
-
-// String renders the position as "signal:LINE:COL".
-func (p Position) String() string { return fmt.Sprintf("signal:%d:%d", p.Line, p.Column) }
-
-// Error is a positioned parse or meaning error in a signal expression.
-type Error struct {
-	Pos Position
-	Msg string
-}
-
-// Error renders "signal:LINE:COL: message".
-func (e *Error) Error() string { return e.Pos.String() + ": " + e.Msg }
+// piValue is π for the frequency and phase arithmetic.
+const piValue = math.Pi
 
 // Term is one sinusoid Amplitude·Func(OmegaRad·t + PhaseRad).
 //
@@ -51,7 +39,7 @@ type Term struct {
 	PhaseRad    float64
 	WrittenAsHz bool
 	OmegaText   string
-	Pos         Position
+	Pos         syntax.Pos // of the term
 }
 
 // FreqHz returns the term's frequency in Hz, OmegaRad/(2π).

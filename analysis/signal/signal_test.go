@@ -5,6 +5,8 @@ import (
 	"math"
 	"strings"
 	"testing"
+
+	"nodal/netlist/syntax"
 )
 
 func near(a, b float64) bool { return math.Abs(a-b) <= 1e-12*math.Max(1, math.Abs(b)) }
@@ -43,7 +45,7 @@ func TestParseValues(t *testing.T) {
 			{"sin", 1, 100, 0, false, "100*t"}, {"sin", 1, 100, math.Pi / 2, false, "100*t"}}, 0},
 	}
 	for _, c := range cases {
-		s, err := Parse(c.src)
+		s, err := Parse("signal", c.src)
 		if err != nil {
 			t.Errorf("%q: %v", c.src, err)
 			continue
@@ -65,7 +67,7 @@ func TestParseValues(t *testing.T) {
 }
 
 func TestFreqHz(t *testing.T) {
-	s, err := Parse("sin(2*pi*400*t)")
+	s, err := Parse("signal", "sin(2*pi*400*t)")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -80,7 +82,7 @@ func TestParseErrors(t *testing.T) {
 	}{
 		{"", "signal:1:1: unexpected token"},
 		{"sin(2*pi*t", "signal:1:11:"},
-		{"2pi", `signal:1:1: unknown suffix "pi"`},
+		{"2pi", `signal:1:1: number "2pi": unknown unit or prefix "pi" (write the multiplication with *)`},
 		{"0.8*sin(2*pi*400*t) + 3*tan(t)", `signal:1:25: unknown function "tan"`},
 		{"sin(2*pi*400*t) * cos(t)", "signal:1:19: a product of two sinusoids"},
 		{"sin(30deg)", "signal:1:1: sin(...) has no t"},
@@ -103,14 +105,14 @@ func TestParseErrors(t *testing.T) {
 		{"\xff", "signal:1:1: signal is not valid UTF-8"},
 	}
 	for _, c := range cases {
-		_, err := Parse(c.src)
+		_, err := Parse("signal", c.src)
 		if err == nil {
 			t.Errorf("%q: no error, want %q", c.src, c.want)
 			continue
 		}
-		var se *Error
-		if !errors.As(err, &se) {
-			t.Errorf("%q: error %T is not *Error", c.src, err)
+		var l syntax.ErrorList
+		if !errors.As(err, &l) || len(l) != 1 {
+			t.Errorf("%q: error %T is not a one-diagnostic syntax.ErrorList", c.src, err)
 		}
 		if !strings.HasPrefix(err.Error(), c.want) {
 			t.Errorf("%q: error %q, want prefix %q", c.src, err, c.want)
@@ -127,11 +129,11 @@ func TestStringRoundTrip(t *testing.T) {
 		"5*sin(2500*t)",
 		"0",
 	} {
-		a, err := Parse(src)
+		a, err := Parse("signal", src)
 		if err != nil {
 			t.Fatal(err)
 		}
-		b, err := Parse(a.String())
+		b, err := Parse("signal", a.String())
 		if err != nil {
 			t.Fatalf("%q printed as %q: %v", src, a.String(), err)
 		}
@@ -190,10 +192,10 @@ func FuzzParse(f *testing.F) {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, src string) {
-		s, err := Parse(src)
+		s, err := Parse("signal", src)
 		if err != nil {
-			var se *Error
-			if !errors.As(err, &se) || se.Pos.Line < 1 || se.Pos.Column < 1 || se.Msg == "" {
+			var l syntax.ErrorList
+			if !errors.As(err, &l) || len(l) == 0 || l[0].Pos.Line < 1 || l[0].Pos.Col < 1 || l[0].Msg == "" {
 				t.Fatalf("%q: unpositioned error %v", src, err)
 			}
 			return
@@ -207,7 +209,7 @@ func FuzzParse(f *testing.F) {
 		if !finite(s.DC) || !finite(s.At(1e-3)) {
 			t.Fatalf("%q: DC %v, u(1 ms) %v", src, s.DC, s.At(1e-3))
 		}
-		again, err := Parse(s.String())
+		again, err := Parse("signal", s.String())
 		if err != nil {
 			t.Fatalf("%q printed as %q does not parse: %v", src, s.String(), err)
 		}

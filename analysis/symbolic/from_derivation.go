@@ -5,10 +5,9 @@ import (
 	"math"
 	"math/big"
 	"strconv"
-	"unicode/utf8"
 
 	"nodal/analysis/derivation"
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // maxDerivationPower bounds an integer exponent in a hand derivation
@@ -257,19 +256,17 @@ func numberRat(n *derivation.Number) (*big.Rat, error) {
 	if n.Text == "" {
 		return foldedRat(n.Value)
 	}
-	mant, exp := n.Text, 0
-	// A trailing SI prefix (the same table analysis/derivation reads) is an
-	// exact power of ten.
-	if r, size := utf8.DecodeLastRuneInString(mant); size > 0 {
-		if e, ok := netlist.PrefixExponent(string(r)); ok {
-			mant, exp = mant[:len(mant)-size], e
-		}
+	// The shared number token (the one analysis/derivation reads) gives
+	// the literal as a decimal mantissa and an exact power of ten.
+	num, err := syntax.ParseNumber(n.Text)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", posText(n.At), err)
 	}
-	r, ok := new(big.Rat).SetString(mant)
+	r, ok := new(big.Rat).SetString(num.Mantissa)
 	if !ok {
 		return nil, fmt.Errorf("%s: malformed number %q", posText(n.At), n.Text)
 	}
-	return r.Mul(r, pow10(exp)), nil
+	return r.Mul(r, pow10(num.Exp10)), nil
 }
 
 // foldedRat recovers the exact value of a constant that the reduction of

@@ -15,6 +15,7 @@ import (
 // Seeds are under testdata/fuzz/FuzzFromDerivation.
 func FuzzFromDerivation(f *testing.F) {
 	f.Add("1/(1 + s*R1*C1)")
+	f.Add("2kHz*5%/(1 + s*4k7*4n7 + s^2*10kΩ*1nF*2R2)")
 	f.Fuzz(func(t *testing.T, src string) {
 		tf, err := derivation.ParseTF("fuzz", src)
 		if err != nil {

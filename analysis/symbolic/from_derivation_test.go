@@ -55,6 +55,9 @@ func TestFromDerivation(t *testing.T) {
 		{"decimal text is exact", "0.1*y' + y = 3*u", []Poly{Int(3)}, []Poly{Int(1), rat(1, 10)}},
 		{"SI prefixes exact", "4.7k*y' + 2.2e-7*y = 10n*u", []Poly{rat(1, 100000000)}, []Poly{rat(22, 100000000), Int(4700)}},
 		{"micro sign", "100µ*y' + y = u", []Poly{Int(1)}, []Poly{Int(1), rat(1, 10000)}},
+		// The shared number token (IEC 60062:2016 codes, attached units,
+		// percent) is read exactly too: 4k7 = 4700, 1k5 = 1500, 4n7 = 47/10^10.
+		{"value codes and units exact", "4k7*4n7*y' + 1k5*y = 2kHz*5%*u", []Poly{Int(100)}, []Poly{Int(1500), rat(4700*47, 10000000000)}},
 		{"division by a constant", "R1*C1/2*y' + y = u", []Poly{Int(1)}, []Poly{Int(1), prod(1, "R1", "C1").Scale(big.NewRat(1, 2))}},
 		{"negation and subtraction", "(R1 - R2)*y' - -y = u", []Poly{Int(1)}, []Poly{Int(1), Var("R1").Sub(Var("R2"))}},
 		{"dotted names", "U1.a0*y = u", []Poly{Int(1)}, []Poly{Var("U1.a0")}},

@@ -348,24 +348,3 @@ func (r *Result) format(ps []Poly) []string {
 	}
 	return out
 }
-
-// JSONForm is the JSON shape of a symbolic result:
-//
-//	{"symbolic": {"num": ["R2*C1", ...], "den": ["1", ...]}}
-//
-// index k is the coefficient of s^k; each string uses only numbers, names,
-// "*", "+" and "-" (and "/" inside an exact fraction such as "1/3").
-type JSONForm struct {
-	Symbolic JSONPolys `json:"symbolic"`
-}
-
-// JSONPolys holds the coefficient strings of N and D.
-type JSONPolys struct {
-	Num []string `json:"num"`
-	Den []string `json:"den"`
-}
-
-// JSON returns the result in its JSON shape.
-func (r *Result) JSON() JSONForm {
-	return JSONForm{Symbolic: JSONPolys{Num: r.NumStrings(), Den: r.DenStrings()}}
-}

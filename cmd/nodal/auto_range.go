@@ -4,7 +4,8 @@ import (
 	"math"
 	"math/cmplx"
 
-	"nodal/analysis"
+	"nodal/analysis/response"
+	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
 	"nodal/mna"
 )
@@ -13,25 +14,25 @@ import (
 // and zero covered by two decades either side; the parts' own corner
 // frequencies when the transfer function cannot be had or has no roots.
 func autoRange(l *loaded, sys *mna.System) (float64, float64) {
-	tf, _ := analysis.Extract(sys) // no transfer function: the parts' corners
+	tf, _ := transfer.Extract(sys) // no transfer function: the parts' corners
 	return rangeOf(l, tf)
 }
 
 // rangeOf is autoRange for an already extracted transfer function of the
 // system (nil when it could not be had).
-func rangeOf(l *loaded, tf *analysis.TransferFunction) (float64, float64) {
+func rangeOf(l *loaded, tf *transfer.TransferFunction) (float64, float64) {
 	if tf != nil {
 		if lo, hi, ok := rootRange(tf); ok {
 			return lo, hi
 		}
 	}
-	return analysis.DefaultRange(l.circuit)
+	return response.DefaultRange(l.circuit)
 }
 
 // systemTF extracts sys's transfer function, nil when it cannot be had
 // (the callers then fall back to the parts' corners and draw no marks).
-func systemTF(sys *mna.System) *analysis.TransferFunction {
-	tf, err := analysis.Extract(sys)
+func systemTF(sys *mna.System) *transfer.TransferFunction {
+	tf, err := transfer.Extract(sys)
 	if err != nil {
 		return nil
 	}
@@ -40,7 +41,7 @@ func systemTF(sys *mna.System) *analysis.TransferFunction {
 
 // rootRange spans the magnitudes of the non-zero poles and zeros (Hz), two
 // decades either side, rounded out to whole decades.
-func rootRange(tf *analysis.TransferFunction) (float64, float64, bool) {
+func rootRange(tf *transfer.TransferFunction) (float64, float64, bool) {
 	lo, hi := math.Inf(1), 0.0
 	for _, r := range append(append([]complex128(nil), tf.Poles...), tf.Zeros...) {
 		f := cmplx.Abs(r) / (2 * math.Pi)
@@ -58,7 +59,7 @@ func rootRange(tf *analysis.TransferFunction) (float64, float64, bool) {
 // addBodeMarks marks the −3 dB points and a resonance peak (more than
 // 0.1 dB above the −3 dB reference) on a trace, from the transfer function
 // of the traced system (none when tf is nil).
-func addBodeMarks(tr *plot.BodeTrace, tf *analysis.TransferFunction, r *analysis.Response) {
+func addBodeMarks(tr *plot.BodeTrace, tf *transfer.TransferFunction, r *response.Response) {
 	if tf == nil {
 		return
 	}

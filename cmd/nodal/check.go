@@ -5,8 +5,9 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"nodal/cmd/nodal/notation"
 
-	"nodal/analysis"
+	"nodal/analysis/check"
 	"nodal/analysis/derivation"
 	"nodal/netlist"
 )
@@ -70,7 +71,7 @@ func (c *checkCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	res, err := analysis.Compare(r.tf, num, den, analysis.CompareOptions{Values: circuitValues(l.circuit)})
+	res, err := check.Compare(r.tf, num, den, check.CompareOptions{Values: circuitValues(l.circuit)})
 	if err != nil {
 		return err
 	}
@@ -78,7 +79,7 @@ func (c *checkCmd) Run(e *env) error {
 	agrees := checkVerdict(res, sc)
 	if err := writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
 		if c.Format == "json" {
-			return writeJSON(w, checkJSON{CheckResult: res, Agrees: agrees, NumericAgrees: res.Agrees, Symbolic: sc})
+			return writeJSON(w, checkDoc(res, agrees, sc))
 		}
 		return checkTable(w, r, res, sc)
 	}); err != nil {
@@ -110,7 +111,7 @@ func reduceDerivation(c *netlist.Circuit, ode, tf string) (*derivation.Rational,
 }
 
 // checkTable prints the comparison and the verdict line.
-func checkTable(w io.Writer, r *tfResult, res *analysis.CheckResult, sc symbolicCheck) error {
+func checkTable(w io.Writer, r *tfResult, res *check.CheckResult, sc symbolicCheck) error {
 	fmt.Fprintf(w, "%s against your derivation (both normalised: lowest-order denominator coefficient 1)\n\n", r.what)
 	t := newTable(w, "coefficient", "circuit", "yours", "ratio", "status")
 	for _, row := range res.Coefficients {
@@ -128,7 +129,7 @@ func checkTable(w io.Writer, r *tfResult, res *analysis.CheckResult, sc symbolic
 	}
 	for _, set := range []struct {
 		name string
-		ms   []analysis.RootMatch
+		ms   []check.RootMatch
 	}{{"poles", res.Poles}, {"zeros", res.Zeros}} {
 		if len(set.ms) == 0 {
 			continue
@@ -145,10 +146,10 @@ func checkTable(w io.Writer, r *tfResult, res *analysis.CheckResult, sc symbolic
 		}
 	}
 	fmt.Fprintf(w, "\nover %s to %s: largest magnitude difference %s dB (at %s), largest phase difference %s° (at %s)\n",
-		netlist.FormatEng(res.FromHz, "Hz"), netlist.FormatEng(res.ToHz, "Hz"),
-		fixed(res.MaxMagDiffDB, 4), netlist.FormatEng(res.MaxMagDiffHz, "Hz"),
-		fixed(res.MaxPhaseDiffDeg, 3), netlist.FormatEng(res.MaxPhaseDiffHz, "Hz"))
-	for _, d := range res.Diagnosis {
+		notation.Eng(res.FromHz, "Hz"), notation.Eng(res.ToHz, "Hz"),
+		fixed(res.MaxMagDiffDB, 4), notation.Eng(res.MaxMagDiffHz, "Hz"),
+		fixed(res.MaxPhaseDiffDeg, 3), notation.Eng(res.MaxPhaseDiffHz, "Hz"))
+	for _, d := range diagnosis(res) {
 		fmt.Fprintf(w, "  - %s\n", d)
 	}
 	numeric := "differs"
@@ -168,14 +169,14 @@ func checkTable(w io.Writer, r *tfResult, res *analysis.CheckResult, sc symbolic
 }
 
 // matchText formats one side of a root match.
-func matchText(z *analysis.Complex) string {
+func matchText(z *complex128) string {
 	if z == nil {
 		return "(none)"
 	}
-	if math.Abs(z.Im) == 0 {
-		return num(z.Re)
+	if math.Abs(imag(*z)) == 0 {
+		return num(real(*z))
 	}
-	return complexText(complex(z.Re, z.Im))
+	return complexText(*z)
 }
 
 // circuitValues maps every parameter and part name to its SI value, so

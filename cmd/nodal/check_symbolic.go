@@ -7,7 +7,7 @@ import (
 	"sort"
 	"strings"
 
-	"nodal/analysis"
+	"nodal/analysis/check"
 	"nodal/analysis/derivation"
 	"nodal/analysis/symbolic"
 	"nodal/netlist"
@@ -32,8 +32,8 @@ type symbolicCheck struct {
 	Differences []string `json:"differences,omitempty"`
 	// Circuit and Yours are the two sides as polynomials (index k the
 	// coefficient of s^k).
-	Circuit *symbolic.JSONPolys `json:"circuit,omitempty"`
-	Yours   *symbolic.JSONPolys `json:"yours,omitempty"`
+	Circuit *polysJSON `json:"circuit,omitempty"`
+	Yours   *polysJSON `json:"yours,omitempty"`
 }
 
 // compareSymbolic compares yours with the circuit's H(s) kept symbolic in
@@ -67,8 +67,8 @@ func compareSymbolic(e *env, l *loaded, q tfRequest, yours *derivation.Rational)
 		return symbolicCheck{Reason: err.Error()}
 	}
 	out := symbolicCheck{Done: true, Symbols: displayNames(res.Symbols, names),
-		Circuit: &symbolic.JSONPolys{Num: res.NumStrings(), Den: res.DenStrings()},
-		Yours:   &symbolic.JSONPolys{Num: formatPolys(num, res.Symbols), Den: formatPolys(den, res.Symbols)},
+		Circuit: &polysJSON{Num: res.NumStrings(), Den: res.DenStrings()},
+		Yours:   &polysJSON{Num: formatPolys(num, res.Symbols), Den: formatPolys(den, res.Symbols)},
 	}
 	same, diff := symbolic.Equivalent(num, den, res.Num, res.Den)
 	out.Identical = same
@@ -227,7 +227,7 @@ func symbolLookup(c *netlist.Circuit) derivation.Lookup {
 
 // checkVerdict is the final verdict: the symbolic one when it was
 // possible, else the numeric one.
-func checkVerdict(res *analysis.CheckResult, sc symbolicCheck) bool {
+func checkVerdict(res *check.CheckResult, sc symbolicCheck) bool {
 	if sc.Done {
 		return sc.Identical
 	}
@@ -250,13 +250,4 @@ func symbolicLines(sc symbolicCheck, numericAgrees bool) []string {
 	}
 	out = append(out, fmt.Sprintf("  (exact, in %s; every other part at its nominal value)", strings.Join(sc.Symbols, ", ")))
 	return out
-}
-
-// checkJSON is the JSON document of `nodal check`: the numeric comparison
-// with the symbolic one; agrees is the final verdict.
-type checkJSON struct {
-	*analysis.CheckResult
-	Agrees        bool          `json:"agrees"`
-	NumericAgrees bool          `json:"numeric_agrees"`
-	Symbolic      symbolicCheck `json:"symbolic"`
 }

@@ -1,16 +1,13 @@
 package main
 
 import (
-	"errors"
 	"fmt"
 	"io"
 	"math"
 	"math/cmplx"
-	"strings"
-	"unicode/utf8"
 
-	"nodal/analysis"
 	"nodal/analysis/signal"
+	"nodal/analysis/steady"
 )
 
 // driveCmd prints the sinusoidal steady-state output for a drive signal.
@@ -50,9 +47,9 @@ func (c *driveCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	sig, err := signal.Parse(c.Signal)
+	sig, err := signal.Parse("--signal", c.Signal)
 	if err != nil {
-		return fmt.Errorf("--signal: %w%s", err, caretLine(c.Signal, err))
+		return err
 	}
 	sys, err := c.system(l)
 	if err != nil {
@@ -66,7 +63,7 @@ func (c *driveCmd) Run(e *env) error {
 		}
 		return v
 	}
-	st, err := analysis.SteadyState(h, sig)
+	st, err := steady.SteadyState(h, sig)
 	if err != nil {
 		return err
 	}
@@ -91,20 +88,15 @@ func (c *driveCmd) Run(e *env) error {
 	}
 	return writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
 		if c.Format == "json" {
-			doc := struct {
-				*analysis.Steady
-				Output  string       `json:"output_expression"`
-				Phasors []nodePhasor `json:"phasors,omitempty"`
-			}{st, analysis.FormatSteady(st), phasors}
-			return writeJSON(w, doc)
+			return writeJSON(w, steadyDoc(st, phasors))
 		}
 		return steadyTable(w, st, phasors, sig)
 	})
 }
 
 // steadyTable prints the closed form and the per-term table.
-func steadyTable(w io.Writer, st *analysis.Steady, phasors []nodePhasor, sig *signal.Signal) error {
-	fmt.Fprintln(w, analysis.FormatSteady(st))
+func steadyTable(w io.Writer, st *steady.Steady, phasors []nodePhasor, sig *signal.Signal) error {
+	fmt.Fprintln(w, steadyText(st))
 	fmt.Fprintln(w)
 	t := newTable(w, "term", "freq_hz", "omega_rad_s", "in_amplitude", "in_phase_deg", "gain", "shift_deg", "out_amplitude", "out_phase_deg")
 	opt := func(p *float64, dec int) string {
@@ -147,15 +139,4 @@ func steadyTable(w io.Writer, st *analysis.Steady, phasors []nodePhasor, sig *si
 		}
 	}
 	return nil
-}
-
-// caretLine shows a one-line input with a caret under the column of a
-// positioned signal error ("" when the error has no column).
-func caretLine(src string, err error) string {
-	var se *signal.Error
-	if !errors.As(err, &se) || se.Pos.Column < 1 || strings.Contains(src, "\n") {
-		return ""
-	}
-	col := min(se.Pos.Column-1, utf8.RuneCountInString(src))
-	return "\n    " + src + "\n    " + strings.Repeat(" ", col) + "^"
 }

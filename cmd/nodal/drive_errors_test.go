@@ -12,7 +12,7 @@ func TestDriveSignalErrorCaret(t *testing.T) {
 		t.Fatalf("code %d", r.code)
 	}
 	lines := strings.Split(strings.TrimRight(r.stderr, "\n"), "\n")
-	if len(lines) != 3 || !strings.Contains(lines[0], "signal:1:20: unexpected character '^'") {
+	if len(lines) != 3 || !strings.HasPrefix(lines[0], "nodal: --signal:1:20: unexpected character '^'") {
 		t.Fatalf("stderr %q", r.stderr)
 	}
 	if caret := strings.Index(lines[2], "^"); caret != strings.Index(lines[1], ")^")+1 {

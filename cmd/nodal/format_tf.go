@@ -4,35 +4,20 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
-	"strconv"
+	"nodal/cmd/nodal/notation"
 	"strings"
 
-	"nodal/analysis"
+	"nodal/analysis/transfer"
 )
 
-// engNumber formats v in engineering notation: a mantissa of 4 significant
-// digits and an exponent that is a multiple of 3 ("112.5e-6", "2.53e9",
-// "1" for 1).
+// engNumber formats v in engineering notation with an exponent
+// (notation.Exp: "112.5e-6", "2.53e9", "1" for 1); zero and non-finite
+// values as num does.
 func engNumber(v float64) string {
-	if v == 0 || math.IsNaN(v) || math.IsInf(v, 0) {
-		return num(v)
+	if s, ok := notation.Exp(v); ok {
+		return s
 	}
-	exp := int(math.Floor(math.Log10(math.Abs(v))))
-	e3 := int(math.Floor(float64(exp) / 3))
-	if e3 == 0 {
-		return strconv.FormatFloat(v, 'g', 4, 64)
-	}
-	m := v / math.Pow(10, float64(3*e3))
-	// Rounding may carry to 1000.
-	ms := strconv.FormatFloat(m, 'g', 4, 64)
-	if f, _ := strconv.ParseFloat(ms, 64); math.Abs(f) >= 1000 {
-		e3++
-		ms = strconv.FormatFloat(m/1000, 'g', 4, 64)
-		if e3 == 0 {
-			return ms
-		}
-	}
-	return fmt.Sprintf("%se%d", ms, 3*e3)
+	return num(v)
 }
 
 // sPower writes s^k in readable form.
@@ -43,22 +28,7 @@ func sPower(k int, sym string) string {
 	case 1:
 		return sym
 	}
-	return sym + superscript(k)
-}
-
-// superscript writes k with Unicode superscript digits.
-func superscript(k int) string {
-	const sup = "⁰¹²³⁴⁵⁶⁷⁸⁹"
-	digits := []rune(sup)
-	var b strings.Builder
-	for _, c := range strconv.Itoa(k) {
-		if c == '-' {
-			b.WriteRune('⁻')
-			continue
-		}
-		b.WriteRune(digits[c-'0'])
-	}
-	return b.String()
+	return sym + notation.Superscript(k)
 }
 
 // polyText writes an ascending polynomial in s: "1 + 112.5e-6·s + 6.33e-9·s²".
@@ -162,7 +132,7 @@ func factorText(roots []complex128) (factors []string, atZero int) {
 
 // factoredText writes H(s) as K·s^k·Π(zero factors)/Π(pole factors) with
 // every factor normalised to a constant term of 1, frequencies in rad/s.
-func factoredText(h *analysis.TransferFunction) string {
+func factoredText(h *transfer.TransferFunction) string {
 	if len(h.Num) == 0 || allZero(h.Num) {
 		return "0"
 	}
@@ -193,7 +163,7 @@ func factoredText(h *analysis.TransferFunction) string {
 }
 
 // zpkText writes H(s) = Gain·Π(s − z)/Π(s − p).
-func zpkText(h *analysis.TransferFunction) string {
+func zpkText(h *transfer.TransferFunction) string {
 	if len(h.Num) == 0 || allZero(h.Num) {
 		return "0"
 	}
@@ -241,7 +211,7 @@ func zpkText(h *analysis.TransferFunction) string {
 
 // odeText writes the circuit's differential equation
 // a_n·y⁽ⁿ⁾ + … + a_0·y = b_m·u⁽ᵐ⁾ + … + b_0·u.
-func odeText(ode analysis.ODE, y, u string) string {
+func odeText(ode transfer.ODE, y, u string) string {
 	side := func(c []float64, v string) string {
 		var terms []signedTerm
 		for k := len(c) - 1; k >= 0; k-- {
@@ -256,7 +226,7 @@ func odeText(ode analysis.ODE, y, u string) string {
 			case 2:
 				term += "″"
 			default:
-				term += "⁽" + strings.TrimPrefix(superscript(k), "") + "⁾"
+				term += "⁽" + strings.TrimPrefix(notation.Superscript(k), "") + "⁾"
 			}
 			coef := engNumber(math.Abs(c[k]))
 			if coef != "1" {

@@ -2,10 +2,10 @@ package main
 
 import (
 	"fmt"
-	"strings"
 
-	"nodal/analysis"
-	"nodal/netlist"
+	"nodal/analysis/response"
+	"nodal/cmd/nodal/notation"
+	"nodal/netlist/syntax"
 )
 
 // maxPoints bounds every sampled output (sweep and time points): a million
@@ -30,33 +30,31 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 		if f.From != "" || f.To != "" || f.Linear {
 			return nil, fmt.Errorf("--at cannot be combined with --from, --to or --linear")
 		}
-		var out []float64
-		for _, s := range strings.Split(f.At, ",") {
-			v, err := netlist.ParseValue(strings.TrimSpace(s), "Hz")
-			if err != nil {
-				return nil, fmt.Errorf("--at %q: %w", s, err)
-			}
+		out, err := syntax.ParseFlagList("--at", f.At, "Hz")
+		if err != nil {
+			return nil, err
+		}
+		for _, v := range out {
 			if v < 0 {
-				return nil, fmt.Errorf("--at %q: frequency must be ≥ 0", s)
+				return nil, fmt.Errorf("--at %s: frequency must be ≥ 0", notation.Eng(v, "Hz"))
 			}
-			out = append(out, v)
 		}
 		return out, nil
 	}
 	from, to := auto()
 	var err error
 	if f.From != "" {
-		if from, err = netlist.ParseValue(f.From, "Hz"); err != nil {
-			return nil, fmt.Errorf("--from: %w", err)
+		if from, err = syntax.ParseFlag("--from", f.From, "Hz"); err != nil {
+			return nil, err
 		}
 	}
 	if f.To != "" {
-		if to, err = netlist.ParseValue(f.To, "Hz"); err != nil {
-			return nil, fmt.Errorf("--to: %w", err)
+		if to, err = syntax.ParseFlag("--to", f.To, "Hz"); err != nil {
+			return nil, err
 		}
 	}
 	if !(to > from) {
-		return nil, fmt.Errorf("--to (%s) must be above --from (%s)", netlist.FormatEng(to, "Hz"), netlist.FormatEng(from, "Hz"))
+		return nil, fmt.Errorf("--to (%s) must be above --from (%s)", notation.Eng(to, "Hz"), notation.Eng(from, "Hz"))
 	}
 	if f.Linear {
 		n := f.Points
@@ -69,16 +67,16 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 		if from < 0 {
 			return nil, fmt.Errorf("--from must be ≥ 0")
 		}
-		return analysis.LinearGrid(from, to, n), nil
+		return response.LinearGrid(from, to, n), nil
 	}
 	if f.Points != 0 {
 		return nil, fmt.Errorf("--points goes with --linear; use --per-decade for a log sweep")
 	}
 	if from <= 0 {
-		return nil, fmt.Errorf("a log sweep needs --from > 0 (got %s); use --linear to start at 0 Hz", netlist.FormatEng(from, "Hz"))
+		return nil, fmt.Errorf("a log sweep needs --from > 0 (got %s); use --linear to start at 0 Hz", notation.Eng(from, "Hz"))
 	}
 	if f.PerDecade < 1 || f.PerDecade > 10000 {
 		return nil, fmt.Errorf("--per-decade must be between 1 and 10000")
 	}
-	return analysis.LogGrid(from, to, f.PerDecade), nil
+	return response.LogGrid(from, to, f.PerDecade), nil
 }

@@ -10,6 +10,7 @@ import (
 
 	"nodal/mna"
 	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // demoName is the name the built-in demo circuit is reported under.
@@ -106,9 +107,9 @@ func parseOverrides(sets []string) (netlist.Overrides, error) {
 		if !ok || name == "" {
 			return nil, fmt.Errorf("--set %q: want NAME=VALUE", s)
 		}
-		v, err := netlist.ParseValue(strings.TrimSpace(val), "")
+		v, err := syntax.ParseValueAt("--set", s, len(s)-len(val), len(s), "")
 		if err != nil {
-			return nil, fmt.Errorf("--set %s: %w", name, err)
+			return nil, err
 		}
 		ov[name] = v
 	}

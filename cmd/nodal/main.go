@@ -13,8 +13,10 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"nodal/netlist"
 	"os"
 	"os/signal"
+	"strings"
 
 	"github.com/alecthomas/kong"
 )
@@ -96,7 +98,7 @@ func run(e *env, args []string) (code int) {
 	parser, err := kong.New(&c,
 		kong.Name("nodal"),
 		kong.Description("Small-signal analysis of linear analog circuits: exact H(s), poles and zeros, ODE, responses and tolerances."),
-		kong.Vars{"version": "nodal " + version},
+		helpVars(),
 		kong.Writers(e.stdout, e.stderr),
 		kong.Exit(func(code int) { panic(exitRequest(code)) }),
 		kong.ConfigureHelp(kong.HelpOptions{Compact: true}),
@@ -132,4 +134,10 @@ func isTerminal(f *os.File) bool {
 		return false
 	}
 	return st.Mode()&os.ModeCharDevice != 0
+}
+
+// helpVars are the variables of the help texts: the version and the
+// metric list, read from the metric registry.
+func helpVars() kong.Vars {
+	return kong.Vars{"version": "nodal " + version, "metrics": strings.Join(netlist.MetricNames(), ", ")}
 }

@@ -180,7 +180,7 @@ func TestTFJSON(t *testing.T) {
 	var doc struct {
 		Num    []float64 `json:"num"`
 		Den    []float64 `json:"den"`
-		Poles  []rootJSON
+		Poles  []complexJSON
 		GainDC float64   `json:"gain_dc"`
 		F3dB   []float64 `json:"f3db_hz"`
 	}

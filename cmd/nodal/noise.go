@@ -12,8 +12,9 @@ import (
 
 	"gonum.org/v1/plot/vg"
 
-	"nodal/analysis"
 	"nodal/analysis/noise"
+	"nodal/analysis/response"
+	"nodal/cmd/nodal/notation"
 	"nodal/cmd/nodal/plot"
 	"nodal/mna"
 	"nodal/netlist"
@@ -152,11 +153,11 @@ func (c *noiseCmd) Run(e *env) error {
 	}
 	freqs, err := c.frequencies(func() (float64, float64) {
 		if !a.HasInput() {
-			return analysis.DefaultRange(l.circuit)
+			return response.DefaultRange(l.circuit)
 		}
 		sys, err := mna.Build(l.circuit, mna.Input{Source: a.Input}, c.output())
 		if err != nil {
-			return analysis.DefaultRange(l.circuit)
+			return response.DefaultRange(l.circuit)
 		}
 		return rangeOf(l, systemTF(sys))
 	})
@@ -168,7 +169,7 @@ func (c *noiseCmd) Run(e *env) error {
 	}
 	for _, f := range freqs {
 		if !(f > 0) {
-			return fmt.Errorf("noise needs frequencies above 0 Hz (got %s)", netlist.FormatEng(f, "Hz"))
+			return fmt.Errorf("noise needs frequencies above 0 Hz (got %s)", notation.Eng(f, "Hz"))
 		}
 	}
 	run := &noiseRun{a: a}
@@ -274,7 +275,7 @@ func noiseTable(w io.Writer, r *noiseRun) error {
 		return nil
 	}
 	fmt.Fprintf(w, "\nintegrated over %s..%s (adaptive Simpson in ln f, %d frequencies, estimated relative error %.1e)\n",
-		netlist.FormatEng(b.FromHz, "Hz"), netlist.FormatEng(b.ToHz, "Hz"), b.Evaluations, b.RelErrorEstimate)
+		notation.Eng(b.FromHz, "Hz"), notation.Eng(b.ToHz, "Hz"), b.Evaluations, b.RelErrorEstimate)
 	fmt.Fprintf(w, "  %-12s %s\n", "out_"+cols.rms, num(b.OutRMS))
 	if a.HasInput() {
 		fmt.Fprintf(w, "  %-12s %s\n", cols.inRMS, inRMSText(b))

@@ -3,9 +3,11 @@ package main
 import (
 	"fmt"
 	"io"
+	"nodal/cmd/nodal/notation"
 	"strings"
 
 	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // partsCmd prints the elaborated circuit: what nodal understood.
@@ -106,32 +108,32 @@ func partValueText(p netlist.Part) string {
 	case netlist.OpAmp:
 		var opts []string
 		if p.A0 > 0 {
-			opts = append(opts, "a0="+netlist.FormatEng(p.A0, ""))
+			opts = append(opts, "a0="+notation.Eng(p.A0, ""))
 		}
 		if p.GBWHz > 0 {
-			opts = append(opts, "gbw="+netlist.FormatEng(p.GBWHz, "Hz"))
+			opts = append(opts, "gbw="+notation.Eng(p.GBWHz, "Hz"))
 		}
 		if p.Rout > 0 {
-			opts = append(opts, "rout="+netlist.FormatEng(p.Rout, "Ω"))
+			opts = append(opts, "rout="+notation.Eng(p.Rout, "Ω"))
 		}
 		if len(opts) == 0 {
 			return "ideal"
 		}
 		return strings.Join(opts, " ")
 	case netlist.VCVS, netlist.VCCS:
-		return fmt.Sprintf("%s sense=(%s, %s)", netlist.FormatEng(p.Value, p.Kind.Unit()), p.Sense[0], p.Sense[1])
+		return fmt.Sprintf("%s sense=(%s, %s)", notation.Eng(p.Value, p.Kind.Unit()), p.Sense[0], p.Sense[1])
 	case netlist.CCVS, netlist.CCCS:
-		return fmt.Sprintf("%s sense=%s", netlist.FormatEng(p.Value, p.Kind.Unit()), p.Control)
+		return fmt.Sprintf("%s sense=%s", notation.Eng(p.Value, p.Kind.Unit()), p.Control)
 	case netlist.Coupling:
-		return fmt.Sprintf("K=%s", netlist.FormatEng(p.Value, ""))
+		return fmt.Sprintf("K=%s", notation.Eng(p.Value, ""))
 	case netlist.VSource, netlist.ISource:
-		v := netlist.FormatEng(p.Value, p.Kind.Unit())
+		v := notation.Eng(p.Value, p.Kind.Unit())
 		if p.PhaseRad != 0 {
 			v += fmt.Sprintf(" ∠%.4g°", p.PhaseRad*180/pi)
 		}
 		return v
 	}
-	return netlist.FormatEng(p.Value, p.Kind.Unit())
+	return notation.Eng(p.Value, p.Kind.Unit())
 }
 
 // partNodesText is the nodes column of the parts table.
@@ -157,7 +159,7 @@ func tolText(t netlist.Tolerance) string {
 // partsTable prints the parts and nodes tables.
 func partsTable(w io.Writer, c *netlist.Circuit) error {
 	if c.Title != "" {
-		fmt.Fprintf(w, "%s\n\n", c.Title)
+		fmt.Fprintf(w, "%s\n\n", syntax.EscapeText(c.Title)) // file text: no terminal controls
 	}
 	t := newTextTable(w, "name", "kind", "nodes", "value", "tolerance")
 	for _, p := range c.Parts {
@@ -175,7 +177,7 @@ func partsTable(w io.Writer, c *netlist.Circuit) error {
 	var shared []string
 	for _, v := range c.Variations {
 		if v.IsParam {
-			shared = append(shared, fmt.Sprintf("%s = %s %s", v.Name, netlist.FormatEng(v.Nominal, paramUnit(c, v.Name)), tolText(v.Tol)))
+			shared = append(shared, fmt.Sprintf("%s = %s %s", v.Name, notation.Eng(v.Nominal, paramUnit(c, v.Name)), tolText(v.Tol)))
 		}
 	}
 	if len(shared) > 0 {

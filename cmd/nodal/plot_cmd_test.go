@@ -11,7 +11,8 @@ import (
 	"path/filepath"
 	"testing"
 
-	"nodal/analysis"
+	"nodal/analysis/response"
+	"nodal/analysis/transfer"
 	"nodal/mna"
 	"nodal/netlist"
 )
@@ -92,11 +93,11 @@ func TestBodeFigureMatchesResponse(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	resp, err := analysis.Sweep(context.Background(), sys, analysis.LogGrid(10, 1e5, 10), 1)
+	resp, err := response.Sweep(context.Background(), sys, response.LogGrid(10, 1e5, 10), 1)
 	if err != nil {
 		t.Fatal(err)
 	}
-	fig, err := bodeFigure("rc", []*analysis.TransferFunction{systemTF(sys)}, []*analysis.Response{resp})
+	fig, err := bodeFigure("rc", []*transfer.TransferFunction{systemTF(sys)}, []*response.Response{resp})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -6,7 +6,9 @@ import (
 	"math"
 	"slices"
 
-	"nodal/analysis"
+	"nodal/analysis/response"
+	"nodal/analysis/timeresp"
+	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
 	"nodal/cmd/nodal/report"
 	"nodal/netlist"
@@ -101,7 +103,7 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 	d.Summary = fmt.Sprintf("%d parts, %d nodes; analysed %s, order %d.", len(c.Parts), len(c.Nodes), r.what, h.Order())
 	d.Transfer = &report.Transfer{
 		Input:    r.sys.Input.Source,
-		Output:   analysis.OutputLabel(r.sys.Output),
+		Output:   response.OutputLabel(r.sys.Output),
 		Factored: "H(s) = " + factoredText(h),
 		Expanded: "H(s) = " + rationalText(h.Num, h.Den),
 		ODE:      odeText(h.ODE(), r.yName, r.uName),
@@ -117,7 +119,7 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 	}
 	// Bode plot over the default range.
 	lo, hi := rangeOf(l, r.tf)
-	resp, err := analysis.Sweep(e.ctx, r.sys, analysis.LogGrid(lo, hi, 50), 0)
+	resp, err := response.Sweep(e.ctx, r.sys, response.LogGrid(lo, hi, 50), 0)
 	if err != nil {
 		return nil, err
 	}
@@ -146,8 +148,8 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 }
 
 // reportStep computes the step response section.
-func reportStep(h *analysis.TransferFunction) (*report.Step, error) {
-	sr, err := analysis.Step(h, analysis.TimeOptions{Points: 400})
+func reportStep(h *transfer.TransferFunction) (*report.Step, error) {
+	sr, err := timeresp.Step(h, timeresp.TimeOptions{Points: 400})
 	if err != nil {
 		return nil, err
 	}
@@ -172,7 +174,7 @@ func reportStep(h *analysis.TransferFunction) (*report.Step, error) {
 	if err != nil {
 		return nil, err
 	}
-	st := &report.Step{Plot: report.Plot{Figure: fig, Caption: sr.ClosedForm}}
+	st := &report.Step{Plot: report.Plot{Figure: fig, Caption: closedFormText(sr)}}
 	add := func(name string, v *float64, unit string) {
 		if v != nil {
 			st.Metrics = append(st.Metrics, report.Metric{Name: name, Value: *v, Unit: unit})
@@ -196,8 +198,8 @@ func reportStep(h *analysis.TransferFunction) (*report.Step, error) {
 func reportRoot(k report.RootKind, s complex128) report.Root {
 	mag := math.Hypot(real(s), imag(s))
 	r := report.Root{Kind: k, S: s, F0Hz: mag / (2 * math.Pi)}
-	if imag(s) != 0 && real(s) != 0 {
-		q := mag / (-2 * real(s))
+	if imag(s) != 0 {
+		q := transfer.PairOf(s).Q // +Inf on the jω axis
 		r.Q = &q
 	}
 	return r
@@ -228,7 +230,7 @@ func responseRows(e *env, r *tfResult, lo, hi float64, minus3dB []float64) []rep
 	}
 	fs = append(fs, minus3dB...)
 	slices.Sort(fs)
-	resp, err := analysis.Sweep(e.ctx, r.sys, fs, 1)
+	resp, err := response.Sweep(e.ctx, r.sys, fs, 1)
 	if err != nil {
 		return nil
 	}

@@ -3,7 +3,10 @@ package main
 import (
 	"fmt"
 
-	"nodal/analysis"
+	"nodal/analysis/require"
+	"nodal/analysis/response"
+	"nodal/analysis/transfer"
+	"nodal/analysis/variation"
 	"nodal/cmd/nodal/plot"
 	"nodal/cmd/nodal/report"
 	"nodal/mna"
@@ -45,20 +48,20 @@ func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs i
 	// Keep the metrics the nominal circuit can give a value for.
 	var metrics []string
 	for _, m := range reportMetrics(c) {
-		if _, err := analysis.NewMetricEvaluator(c, in, out, []string{m}); err != nil {
+		if _, err := variation.NewMetricEvaluator(c, in, out, []string{m}); err != nil {
 			d.Notes = append(d.Notes, fmt.Sprintf("Metric %s left out of the tolerance analysis: %v", m, err))
 			continue
 		}
 		metrics = append(metrics, m)
 	}
-	opt := analysis.MonteCarloOptions{Runs: runs, Seed: seed}
+	opt := variation.MonteCarloOptions{Runs: runs, Seed: seed}
 	mc := &report.MonteCarlo{Runs: runs, Seed: int64(seed)}
 	if len(metrics) > 0 {
-		ev, err := analysis.NewMetricEvaluator(c, in, out, metrics)
+		ev, err := variation.NewMetricEvaluator(c, in, out, metrics)
 		if err != nil {
 			return err
 		}
-		res, err := analysis.MonteCarlo(e.ctx, c, ev, opt)
+		res, err := variation.MonteCarlo(e.ctx, c, ev, opt)
 		if err != nil {
 			return err
 		}
@@ -84,8 +87,8 @@ func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs i
 		}
 	}
 	lo, hi := rangeOf(l, r.tf)
-	freqs := analysis.LogGrid(lo, hi, 25)
-	env, err := analysis.Envelope(e.ctx, c, in, out, freqs, opt)
+	freqs := response.LogGrid(lo, hi, 25)
+	env, err := variation.Envelope(e.ctx, c, in, out, freqs, opt)
 	if err != nil {
 		return err
 	}
@@ -107,17 +110,17 @@ func addVerdicts(e *env, c *netlist.Circuit, in mna.Input, out mna.Output, d *re
 	if len(c.Requirements) == 0 {
 		return nil
 	}
-	rm, err := analysis.NewRequirementMetrics(c.Requirements, in, out)
+	rm, err := require.NewRequirementMetrics(c.Requirements, in, out)
 	if err != nil {
 		return err
 	}
-	res, err := analysis.Verify(e.ctx, c, rm, analysis.VerifyOptions{Runs: runs, Seed: seed})
+	res, err := require.Verify(e.ctx, c, rm, require.VerifyOptions{Runs: runs, Seed: seed})
 	if err != nil {
 		return err
 	}
 	for _, v := range res.Verdicts {
 		unit := ""
-		if m, err := analysis.ParseMetric(v.Requirement.Metric); err == nil {
+		if m, err := transfer.ParseMetric(v.Requirement.Metric); err == nil {
 			unit = m.Unit()
 		}
 		rv := report.Verdict{Requirement: v.Requirement.Text, Value: v.Nominal, Unit: unit, Pass: v.NominalPass}

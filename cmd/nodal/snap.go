@@ -5,9 +5,10 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"nodal/cmd/nodal/notation"
 	"strings"
 
-	"nodal/analysis"
+	"nodal/analysis/stdvalue"
 	"nodal/netlist"
 )
 
@@ -65,10 +66,10 @@ func seriesKind(k string) (netlist.Kind, bool) {
 
 // parseSeriesFlag reads "E24" (resistors and capacitors) or "R=E96,C=E12"
 // (also "resistor=E96,capacitor=E12").
-func parseSeriesFlag(s string) (map[netlist.Kind]analysis.Series, error) {
-	out := map[netlist.Kind]analysis.Series{}
+func parseSeriesFlag(s string) (map[netlist.Kind]stdvalue.Series, error) {
+	out := map[netlist.Kind]stdvalue.Series{}
 	if !strings.Contains(s, "=") {
-		ser, err := analysis.SeriesByName(s)
+		ser, err := stdvalue.SeriesByName(s)
 		if err != nil {
 			return nil, fmt.Errorf("--series: %w", err)
 		}
@@ -84,7 +85,7 @@ func parseSeriesFlag(s string) (map[netlist.Kind]analysis.Series, error) {
 		if _, dup := out[kind]; dup {
 			return nil, fmt.Errorf("--series %q: %s given twice", s, kind)
 		}
-		ser, err := analysis.SeriesByName(name)
+		ser, err := stdvalue.SeriesByName(name)
 		if err != nil {
 			return nil, fmt.Errorf("--series: %w", err)
 		}
@@ -147,7 +148,7 @@ func (c *snapCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	res, err := analysis.Snap(l.name, l.src, ov, series)
+	res, err := stdvalue.Snap(l.name, l.src, ov, series)
 	if err != nil {
 		return err
 	}
@@ -194,7 +195,7 @@ func (c *snapCmd) Run(e *env) error {
 
 // requirementMoves evaluates each requirement's metric before and after
 // rounding. When the output cannot be chosen it returns a note instead.
-func (c *snapCmd) requirementMoves(l *loaded, res *analysis.SnapResult) ([]snapRequireJSON, string, error) {
+func (c *snapCmd) requirementMoves(l *loaded, res *stdvalue.SnapResult) ([]snapRequireJSON, string, error) {
 	if _, err := c.outNode(l); err != nil {
 		return nil, "metrics not shown: " + err.Error(), nil
 	}
@@ -234,7 +235,7 @@ func snapTable(w io.Writer, rep *snapReport) error {
 		if p.New != p.Old {
 			change = fmt.Sprintf("%+.2f %%", 100*p.RelChange)
 		}
-		if err := t.row(p.Part, p.Series, netlist.FormatEng(p.Old, p.Unit), netlist.FormatEng(p.New, p.Unit), change); err != nil {
+		if err := t.row(p.Part, p.Series, notation.Eng(p.Old, p.Unit), notation.Eng(p.New, p.Unit), change); err != nil {
 			return err
 		}
 	}

@@ -5,11 +5,13 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"nodal/cmd/nodal/notation"
 	"strconv"
 
-	"nodal/analysis"
+	"nodal/analysis/timeresp"
+	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
-	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // timeArgs are the flags shared by step and impulse.
@@ -72,14 +74,14 @@ func (c *timeArgs) run(e *env, kind string) error {
 	if err != nil {
 		return err
 	}
-	tf, err := analysis.Extract(sys)
+	tf, err := transfer.Extract(sys)
 	if err != nil {
 		return err
 	}
-	opt := analysis.TimeOptions{Points: c.Points}
+	opt := timeresp.TimeOptions{Points: c.Points}
 	if c.Until != "" {
-		if opt.UntilS, err = netlist.ParseValue(c.Until, "s"); err != nil {
-			return fmt.Errorf("--until: %w", err)
+		if opt.UntilS, err = syntax.ParseFlag("--until", c.Until, "s"); err != nil {
+			return err
 		}
 		if !(opt.UntilS > 0) {
 			return fmt.Errorf("--until must be > 0")
@@ -88,13 +90,13 @@ func (c *timeArgs) run(e *env, kind string) error {
 	if c.Points < 2 || c.Points > maxPoints {
 		return fmt.Errorf("--points must be between 2 and %d", maxPoints)
 	}
-	var r *analysis.TimeResponse
+	var r *timeresp.TimeResponse
 	if kind == "step" {
-		r, err = analysis.Step(tf, opt)
+		r, err = timeresp.Step(tf, opt)
 	} else {
-		r, err = analysis.Impulse(tf, opt)
+		r, err = timeresp.Impulse(tf, opt)
 	}
-	if errors.Is(err, analysis.ErrNoTimeScale) {
+	if errors.Is(err, timeresp.ErrNoTimeScale) {
 		return fmt.Errorf("%w with --until T", err)
 	}
 	if err != nil {
@@ -108,7 +110,7 @@ func (c *timeArgs) run(e *env, kind string) error {
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		switch c.Format {
 		case "json":
-			return writeJSON(w, r)
+			return writeJSON(w, timeDoc(r))
 		case "csv":
 			cw := csv.NewWriter(w)
 			if err := cw.Write([]string{"t_s", "y"}); err != nil {
@@ -127,13 +129,13 @@ func (c *timeArgs) run(e *env, kind string) error {
 }
 
 // timeTable prints the closed form, the figures and the samples.
-func timeTable(w io.Writer, r *analysis.TimeResponse, in, out string) error {
+func timeTable(w io.Writer, r *timeresp.TimeResponse, in, out string) error {
 	fmt.Fprintf(w, "%s response of %s to a unit %s of %s\n\n", r.Kind, out, r.Kind, in)
-	fmt.Fprintln(w, r.ClosedForm)
+	fmt.Fprintln(w, closedFormText(r))
 	if r.Unstable {
 		fmt.Fprintln(w, "\nthe circuit is UNSTABLE: poles in the right half-plane or repeated on the jω axis:")
 		for _, p := range r.UnstablePoles {
-			fmt.Fprintf(w, "  s = %s rad/s\n", complexText(complex(p.Re, p.Im)))
+			fmt.Fprintf(w, "  s = %s rad/s\n", complexText(p))
 		}
 	}
 	fmt.Fprintln(w)
@@ -175,7 +177,7 @@ func optEng(v *float64, unit string) string {
 	if unit == "" {
 		return num(*v)
 	}
-	return netlist.FormatEng(*v, unit)
+	return notation.Eng(*v, unit)
 }
 
 // optPct formats an optional percentage.
@@ -200,7 +202,7 @@ func complexText(z complex128) string {
 }
 
 // writeTimePlot draws a time response with its marks.
-func writeTimePlot(e *env, path string, protect []string, l *loaded, r *analysis.TimeResponse) error {
+func writeTimePlot(e *env, path string, protect []string, l *loaded, r *timeresp.TimeResponse) error {
 	format, err := plot.FormatFromPath(path)
 	if err != nil {
 		return err

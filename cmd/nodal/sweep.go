@@ -7,7 +7,8 @@ import (
 	"math"
 	"strconv"
 
-	"nodal/analysis"
+	"nodal/analysis/response"
+	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
 	"nodal/mna"
 )
@@ -72,7 +73,7 @@ func (c *sweepCmd) Run(e *env) error {
 	}
 	// Each system's transfer function serves the default range and the
 	// plot's marks; extract it once.
-	tfs := make([]*analysis.TransferFunction, len(systems))
+	tfs := make([]*transfer.TransferFunction, len(systems))
 	for i, sys := range systems {
 		if i == 0 || c.Plot != "" {
 			tfs[i] = systemTF(sys)
@@ -82,9 +83,9 @@ func (c *sweepCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	var resps []*analysis.Response
+	var resps []*response.Response
 	for _, sys := range systems {
-		r, err := analysis.Sweep(e.ctx, sys, freqs, c.Workers)
+		r, err := response.Sweep(e.ctx, sys, freqs, c.Workers)
 		if err != nil {
 			return err
 		}
@@ -130,18 +131,18 @@ func finiteOrNil(v float64) *float64 {
 }
 
 // responseJSON converts a response for JSON, phase wrapped to (−180, 180].
-func responseJSON(r *analysis.Response) sweepJSON {
+func responseJSON(r *response.Response) sweepJSON {
 	d := sweepJSON{Input: r.Input, Output: r.Output, Points: make([]sweepPoint, len(r.FreqHz))}
 	for i := range r.FreqHz {
 		d.Points[i] = sweepPoint{FreqHz: r.FreqHz[i], Mag: r.Mag[i], MagDB: finiteOrNil(r.MagDB[i]),
-			PhaseDeg: analysis.WrapDeg(r.PhaseDeg[i]), GroupDelayS: finiteOrNil(r.GroupDelayS[i])}
+			PhaseDeg: response.WrapDeg(r.PhaseDeg[i]), GroupDelayS: finiteOrNil(r.GroupDelayS[i])}
 	}
 	return d
 }
 
 // responseCSV writes the responses with a header row; an output column is
 // added when there are several.
-func responseCSV(w io.Writer, resps []*analysis.Response) error {
+func responseCSV(w io.Writer, resps []*response.Response) error {
 	cw := csv.NewWriter(w)
 	header := []string{"freq_hz", "mag", "mag_db", "phase_deg", "group_delay_s"}
 	multi := len(resps) > 1
@@ -168,7 +169,7 @@ func responseCSV(w io.Writer, resps []*analysis.Response) error {
 }
 
 // responseTable prints one response as a terminal table.
-func responseTable(w io.Writer, r *analysis.Response) error {
+func responseTable(w io.Writer, r *response.Response) error {
 	fmt.Fprintf(w, "H = %s / %s\n", r.Output, r.Input)
 	t := newTable(w, "freq_hz", "mag", "mag_db", "phase_deg", "group_delay_s")
 	for i := range r.FreqHz {
@@ -180,7 +181,7 @@ func responseTable(w io.Writer, r *analysis.Response) error {
 }
 
 // writeBodePlot draws the responses as a Bode plot.
-func writeBodePlot(e *env, path string, protect []string, l *loaded, tfs []*analysis.TransferFunction, resps []*analysis.Response) error {
+func writeBodePlot(e *env, path string, protect []string, l *loaded, tfs []*transfer.TransferFunction, resps []*response.Response) error {
 	format, err := plot.FormatFromPath(path)
 	if err != nil {
 		return err
@@ -195,7 +196,7 @@ func writeBodePlot(e *env, path string, protect []string, l *loaded, tfs []*anal
 // bodeFigure is the Bode plot of the responses, one labelled trace each,
 // with −3 dB points and peaks marked from tfs[i], the transfer function of
 // response i (nil: no marks).
-func bodeFigure(title string, tfs []*analysis.TransferFunction, resps []*analysis.Response) (*plot.Figure, error) {
+func bodeFigure(title string, tfs []*transfer.TransferFunction, resps []*response.Response) (*plot.Figure, error) {
 	traces := make([]plot.BodeTrace, len(resps))
 	for i, r := range resps {
 		traces[i] = plot.BodeTrace{Label: r.Output, FreqHz: r.FreqHz, MagDB: r.MagDB, PhaseDeg: r.PhaseDeg}

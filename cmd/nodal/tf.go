@@ -5,10 +5,12 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"nodal/cmd/nodal/notation"
 	"strings"
 
-	"nodal/analysis"
+	"nodal/analysis/response"
 	"nodal/analysis/symbolic"
+	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
 	"nodal/mna"
 	"nodal/netlist"
@@ -67,7 +69,7 @@ type tfRequest struct {
 
 // tfResult is an extracted transfer function with what it is of.
 type tfResult struct {
-	tf    *analysis.TransferFunction
+	tf    *transfer.TransferFunction
 	sys   *mna.System
 	what  string // "H(s) = v(out)/v(Vs)", "Zin(s) seen by Vs" ...
 	yName string // output signal name for the ODE
@@ -122,7 +124,7 @@ func (p tfProbe) describe(c *netlist.Circuit, in mna.Input, out mna.Output) (wha
 	} else if out.Kind == mna.PartCurrent {
 		unit = "A/V"
 	}
-	return fmt.Sprintf("H(s) = %s / %s", analysis.OutputLabel(out), in.Source), unit
+	return fmt.Sprintf("H(s) = %s / %s", response.OutputLabel(out), in.Source), unit
 }
 
 // extractTF builds the system and extracts the requested transfer function.
@@ -135,7 +137,7 @@ func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
 	if err != nil {
 		return nil, impedanceError(p, err)
 	}
-	tf, err := analysis.Extract(sys)
+	tf, err := transfer.Extract(sys)
 	if err != nil {
 		return nil, impedanceError(p, err)
 	}
@@ -187,7 +189,7 @@ func (c *tfCmd) Run(e *env) error {
 	rep := newTFReport(r)
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		if c.Format == "json" {
-			return writeJSON(w, rep.json())
+			return writeJSON(w, tfDoc(rep))
 		}
 		return rep.table(w)
 	})
@@ -197,14 +199,14 @@ func (c *tfCmd) Run(e *env) error {
 // for the table, the JSON and the HTML report.
 type tfReport struct {
 	r         *tfResult
-	dc, hf    analysis.Asymptote
-	bw        *analysis.Bandwidth
+	dc, hf    transfer.Asymptote
+	bw        *transfer.Bandwidth
 	bwErr     error
-	peak      *analysis.Peak
+	peak      *transfer.Peak
 	peakErr   error
-	pairs     []analysis.RootPair
-	zeroPairs []analysis.RootPair
-	ode       analysis.ODE
+	pairs     []transfer.RootPair
+	zeroPairs []transfer.RootPair
+	ode       transfer.ODE
 }
 
 // newTFReport computes the report figures.
@@ -221,77 +223,6 @@ func newTFReport(r *tfResult) *tfReport {
 		rep.peakErr = err
 	}
 	return rep
-}
-
-// rootJSON is a pole or zero in JSON, rad/s.
-type rootJSON struct {
-	Re float64 `json:"re"`
-	Im float64 `json:"im"`
-}
-
-// pairJSON is a complex pair in JSON.
-type pairJSON struct {
-	F0Hz     float64  `json:"f0_hz"`
-	OmegaRad float64  `json:"omega0_rad_s"`
-	Q        *float64 `json:"q"`
-	Zeta     float64  `json:"zeta"`
-}
-
-func rootsJSON(rs []complex128) []rootJSON {
-	out := make([]rootJSON, len(rs))
-	for i, r := range rs {
-		out[i] = rootJSON{real(r), imag(r)}
-	}
-	return out
-}
-
-func pairsJSON(ps []analysis.RootPair) []pairJSON {
-	out := make([]pairJSON, len(ps))
-	for i, p := range ps {
-		out[i] = pairJSON{F0Hz: p.F0Hz, OmegaRad: p.OmegaRad, Q: finiteOrNil(p.Q), Zeta: p.Zeta}
-	}
-	return out
-}
-
-// json is the JSON document of `nodal tf`.
-func (rep *tfReport) json() any {
-	h := rep.r.tf
-	doc := map[string]any{
-		"what":       rep.r.what,
-		"unit":       rep.r.unit,
-		"num":        h.Num,
-		"den":        h.Den,
-		"poles":      rootsJSON(h.Poles),
-		"zeros":      rootsJSON(h.Zeros),
-		"pairs":      pairsJSON(rep.pairs),
-		"zero_pairs": pairsJSON(rep.zeroPairs),
-		"gain":       h.Gain,
-		"factored":   factoredText(h),
-		"ode":        odeText(rep.ode, rep.r.yName, rep.r.uName),
-		"hf_asymptote": map[string]any{
-			"gain": finiteOrNil(rep.hf.Gain), "power": rep.hf.Power, "slope_db_per_decade": finiteOrNil(rep.hf.SlopeDBPerDecade),
-		},
-	}
-	if rep.dc.Power == 0 {
-		doc["gain_dc"] = finiteOrNil(rep.dc.Gain)
-		doc["gain_dc_db"] = finiteOrNil(rep.dc.GainDB)
-	} else if rep.dc.Power > 0 {
-		doc["gain_dc"] = 0.0
-	} else {
-		doc["gain_dc"] = nil
-	}
-	if len(h.Cancelled) > 0 {
-		doc["cancelled"] = rootsJSON(h.Cancelled)
-	}
-	if rep.bw != nil {
-		doc["f3db_hz"] = rep.bw.CrossingsHz
-		doc["f3db_ref_db"] = finiteOrNil(rep.bw.RefDB)
-	}
-	if rep.peak != nil {
-		doc["peak_db"] = finiteOrNil(rep.peak.GainDB)
-		doc["peak_hz"] = finiteOrNil(rep.peak.FreqHz)
-	}
-	return doc
 }
 
 // table prints the report for the terminal.
@@ -343,12 +274,12 @@ func (rep *tfReport) figureRows() [][2]string {
 	if rep.hf.Power == 0 {
 		rows = append(rows, [2]string{"high-frequency gain", fmt.Sprintf("%s (%s dB), flat", num(rep.hf.Gain), fixed(rep.hf.GainDB, 3))})
 	} else {
-		rows = append(rows, [2]string{"high-frequency asymptote", fmt.Sprintf("%s·s%s: %+g dB/decade", engNumber(rep.hf.Gain), superscript(rep.hf.Power), rep.hf.SlopeDBPerDecade)})
+		rows = append(rows, [2]string{"high-frequency asymptote", fmt.Sprintf("%s·s%s: %+g dB/decade", engNumber(rep.hf.Gain), notation.Superscript(rep.hf.Power), rep.hf.SlopeDBPerDecade)})
 	}
 	if rep.bw != nil {
 		var fs []string
 		for _, f := range rep.bw.CrossingsHz {
-			fs = append(fs, netlist.FormatEng(f, "Hz"))
+			fs = append(fs, notation.Eng(f, "Hz"))
 		}
 		v := "none"
 		if len(fs) > 0 {
@@ -361,7 +292,7 @@ func (rep *tfReport) figureRows() [][2]string {
 	if rep.peak != nil && rep.bw != nil && rep.peak.GainDB-rep.bw.RefDB < 0.01 {
 		rows = append(rows, [2]string{"peak gain", "no peaking (within 0.01 dB of the reference)"})
 	} else if rep.peak != nil {
-		where := netlist.FormatEng(rep.peak.FreqHz, "Hz")
+		where := notation.Eng(rep.peak.FreqHz, "Hz")
 		if rep.peak.OmegaRad == 0 {
 			where = "DC"
 		} else if math.IsInf(rep.peak.OmegaRad, 1) {
@@ -385,18 +316,13 @@ func rootsTable(w io.Writer, what string, roots []complex128) error {
 		case r == 0:
 			meaning = "at s = 0"
 		case imag(r) == 0:
-			meaning = "real: corner " + netlist.FormatEng(mag/(2*math.Pi), "Hz")
+			meaning = "real: corner " + notation.Eng(mag/(2*math.Pi), "Hz")
 			if real(r) > 0 {
 				meaning += ", right half-plane"
 			}
 		default:
-			q := mag / (-2 * real(r))
-			zeta := -real(r) / mag
-			qs := "∞"
-			if !math.IsInf(q, 0) && real(r) != 0 {
-				qs = trimFloat(q, 4)
-			}
-			meaning = fmt.Sprintf("pair: f0 %s, Q %s, ζ %s", netlist.FormatEng(mag/(2*math.Pi), "Hz"), qs, trimFloat(zeta, 4))
+			p := transfer.PairOf(r)
+			meaning = fmt.Sprintf("pair: f0 %s, Q %s, ζ %s", notation.Eng(p.F0Hz, "Hz"), notation.Q(p.Q), trimFloat(p.Zeta, 4))
 			if real(r) > 0 {
 				meaning += ", right half-plane"
 			}

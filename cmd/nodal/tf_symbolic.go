@@ -242,7 +242,7 @@ func (st *symbolicTF) table(w io.Writer) error {
 type symbolicJSON struct {
 	What         string             `json:"what"`
 	Unit         string             `json:"unit"`
-	Symbolic     symbolic.JSONPolys `json:"symbolic"`
+	Symbolic     polysJSON          `json:"symbolic"`
 	Values       valuesJSON         `json:"values"`
 	Symbols      []string           `json:"symbols"`
 	SymbolValues map[string]float64 `json:"symbol_values"`
@@ -261,7 +261,7 @@ type valuesJSON struct {
 func (st *symbolicTF) json() symbolicJSON {
 	doc := symbolicJSON{
 		What: st.what, Unit: st.unit,
-		Symbolic:     st.res.JSON().Symbolic,
+		Symbolic:     polysJSON{Num: st.res.NumStrings(), Den: st.res.DenStrings()},
 		Values:       valuesJSON{Num: st.numVals, Den: st.denVals},
 		Symbols:      append([]string{}, st.res.Symbols...),
 		SymbolValues: map[string]float64{},

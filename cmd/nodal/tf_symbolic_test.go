@@ -24,9 +24,9 @@ const skFile = "../../testdata/examples/tone_lowpass_ideal.nodal"
 
 // symbolicDoc is the JSON document of `nodal tf --symbolic`.
 type symbolicDoc struct {
-	What     string             `json:"what"`
-	Unit     string             `json:"unit"`
-	Symbolic symbolic.JSONPolys `json:"symbolic"`
+	What     string    `json:"what"`
+	Unit     string    `json:"unit"`
+	Symbolic polysJSON `json:"symbolic"`
 	Values   struct {
 		Num []float64 `json:"num"`
 		Den []float64 `json:"den"`

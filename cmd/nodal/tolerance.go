@@ -9,7 +9,8 @@ import (
 
 	"github.com/schollz/progressbar/v3"
 
-	"nodal/analysis"
+	"nodal/analysis/transfer"
+	"nodal/analysis/variation"
 	"nodal/cmd/nodal/plot"
 	"nodal/mna"
 	"nodal/netlist"
@@ -20,7 +21,7 @@ import (
 type toleranceCmd struct {
 	circuitArgs
 	probeArgs
-	Metric      []string `required:"" sep:"none" help:"Metric to analyse (repeatable): gain@F, phase@F, f3db, peak, fpeak, f0, q, dc." placeholder:"M"`
+	Metric      []string `required:"" sep:"none" help:"Metric to analyse (repeatable): ${metrics}." placeholder:"M"`
 	Runs        int      `help:"Monte Carlo runs." default:"1000"`
 	Seed        uint64   `help:"Random seed; the same seed gives the same numbers for any --workers." default:"1"`
 	Workers     int      `help:"Goroutines (default: all cores)." default:"0"`
@@ -132,10 +133,10 @@ type envelopeJSON struct {
 
 // toleranceResult gathers what the analyses gave.
 type toleranceResult struct {
-	mc   *analysis.MonteCarloResult
-	wc   *analysis.WorstCaseResult
-	sens *analysis.SensitivityResult
-	env  *analysis.EnvelopeResult
+	mc   *variation.MonteCarloResult
+	wc   *variation.WorstCaseResult
+	sens *variation.SensitivityResult
+	env  *variation.EnvelopeResult
 }
 
 // Run performs the analyses and writes the report.
@@ -164,7 +165,7 @@ func (c *toleranceCmd) Run(e *env) error {
 		return fmt.Errorf("%s: no toleranced part or parameter; give one a tolerance, e.g. 10k ±1%%", l.name)
 	}
 	in := mna.Input{Source: c.In}
-	ev, err := analysis.NewMetricEvaluator(cir, in, c.output(), c.Metric)
+	ev, err := variation.NewMetricEvaluator(cir, in, c.output(), c.Metric)
 	if err != nil {
 		return err
 	}
@@ -178,10 +179,10 @@ func (c *toleranceCmd) Run(e *env) error {
 			return err
 		}
 	}
-	opt := analysis.MonteCarloOptions{Runs: c.Runs, Seed: c.Seed, Workers: c.Workers}
+	opt := variation.MonteCarloOptions{Runs: c.Runs, Seed: c.Seed, Workers: c.Workers}
 	var res toleranceResult
 	stopBar := c.progress(e, &opt, "monte carlo")
-	res.mc, err = analysis.MonteCarlo(e.ctx, cir, ev, opt)
+	res.mc, err = variation.MonteCarlo(e.ctx, cir, ev, opt)
 	stopBar()
 	if err != nil {
 		return err
@@ -216,7 +217,7 @@ func (c *toleranceCmd) Run(e *env) error {
 
 // extras runs the analyses asked for besides Monte Carlo. An interrupt
 // skips the rest with a note, keeping what is done.
-func (c *toleranceCmd) extras(e *env, cir *netlist.Circuit, ev analysis.Evaluator, freqs []float64, opt analysis.MonteCarloOptions, res *toleranceResult) error {
+func (c *toleranceCmd) extras(e *env, cir *netlist.Circuit, ev variation.Evaluator, freqs []float64, opt variation.MonteCarloOptions, res *toleranceResult) error {
 	interrupted := func(what string) bool {
 		if e.ctx.Err() != nil {
 			fmt.Fprintf(e.stderr, "nodal: interrupted: %s skipped\n", what)
@@ -226,7 +227,7 @@ func (c *toleranceCmd) extras(e *env, cir *netlist.Circuit, ev analysis.Evaluato
 	}
 	var err error
 	if c.WorstCase && !interrupted("worst case") {
-		if res.wc, err = analysis.WorstCase(e.ctx, cir, ev, analysis.WorstCaseOptions{Workers: c.Workers}); err != nil && e.ctx.Err() == nil {
+		if res.wc, err = variation.WorstCase(e.ctx, cir, ev, variation.WorstCaseOptions{Workers: c.Workers}); err != nil && e.ctx.Err() == nil {
 			return err
 		}
 		if res.wc != nil && res.wc.Failed > 0 {
@@ -234,14 +235,14 @@ func (c *toleranceCmd) extras(e *env, cir *netlist.Circuit, ev analysis.Evaluato
 		}
 	}
 	if c.Sensitivity && !interrupted("sensitivity") {
-		if res.sens, err = analysis.Sensitivity(e.ctx, cir, ev, analysis.SensitivityOptions{Workers: c.Workers}); err != nil && e.ctx.Err() == nil {
+		if res.sens, err = variation.Sensitivity(e.ctx, cir, ev, variation.SensitivityOptions{Workers: c.Workers}); err != nil && e.ctx.Err() == nil {
 			return err
 		}
 	}
 	if c.Envelope && !interrupted("envelope") {
 		opt.Progress = nil
 		stop := c.progress(e, &opt, "envelope")
-		res.env, err = analysis.Envelope(e.ctx, cir, mna.Input{Source: c.In}, c.output(), freqs, opt)
+		res.env, err = variation.Envelope(e.ctx, cir, mna.Input{Source: c.In}, c.output(), freqs, opt)
 		stop()
 		if err != nil && e.ctx.Err() == nil {
 			return err
@@ -255,7 +256,7 @@ func (c *toleranceCmd) extras(e *env, cir *netlist.Circuit, ev analysis.Evaluato
 
 // progress installs a progress bar on stderr into opt when stderr is a
 // terminal and the run is long; the returned function removes it.
-func (c *toleranceCmd) progress(e *env, opt *analysis.MonteCarloOptions, what string) func() {
+func (c *toleranceCmd) progress(e *env, opt *variation.MonteCarloOptions, what string) func() {
 	if !e.stderrIsTerminal || opt.Runs < progressMinRuns {
 		return func() {}
 	}
@@ -311,7 +312,7 @@ func toleranceDoc(r *toleranceResult) toleranceJSON {
 	return d
 }
 
-func cornerDoc(c analysis.ToleranceCorner) cornerJSON {
+func cornerDoc(c variation.ToleranceCorner) cornerJSON {
 	return cornerJSON{High: append([]string{}, c.High...), Low: append([]string{}, c.Low...)}
 }
 
@@ -402,7 +403,7 @@ func toleranceTables(w io.Writer, r *toleranceResult) error {
 }
 
 // cornerText writes a corner as "R1+ C1+ R2− C2−" (+ high, − low).
-func cornerText(c analysis.ToleranceCorner) string {
+func cornerText(c variation.ToleranceCorner) string {
 	var parts []string
 	for _, n := range c.High {
 		parts = append(parts, n+"+")
@@ -494,17 +495,17 @@ func requirementLimits(reqs []netlist.Requirement, freqs []float64) []plot.Limit
 	inside := func(f float64) bool { return f >= lo && f <= hi }
 	var out []plot.Limit
 	for _, r := range reqs {
-		m, err := analysis.ParseMetric(r.Metric)
+		m, err := transfer.ParseMetric(r.Metric)
 		if err != nil {
 			continue
 		}
 		l := plot.Limit{Label: r.Text}
-		switch m.Kind {
-		case analysis.MetricGainAt, analysis.MetricPhaseAt:
+		switch m.Spec.Name {
+		case "gain", "phase":
 			if !inside(m.FreqHz) {
 				continue
 			}
-			if m.Kind == analysis.MetricPhaseAt {
+			if m.Spec.Name == "phase" {
 				l.Quantity = plot.Phase
 			}
 			l.FromHz, l.ToHz = m.FreqHz, m.FreqHz
@@ -515,7 +516,7 @@ func requirementLimits(reqs []netlist.Requirement, freqs []float64) []plot.Limit
 			if r.Op != netlist.Above {
 				l.Hi = &hi
 			}
-		case analysis.MetricF3dB:
+		case "f3db":
 			l.FromHz, l.ToHz = r.Lo, r.Hi
 			switch r.Op {
 			case netlist.Below:

@@ -24,7 +24,7 @@ func runTolerance(t *testing.T, ctx context.Context, args ...string) (stdout, st
 	var tree struct {
 		Tolerance toleranceCmd `cmd:""`
 	}
-	parser, err := kong.New(&tree, kong.Name("nodal"), kong.Writers(&out, &errb), kong.Exit(func(int) { t.Fatal("kong exit") }))
+	parser, err := kong.New(&tree, kong.Name("nodal"), helpVars(), kong.Writers(&out, &errb), kong.Exit(func(int) { t.Fatal("kong exit") }))
 	if err != nil {
 		t.Fatal(err)
 	}

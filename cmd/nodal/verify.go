@@ -4,12 +4,14 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"nodal/cmd/nodal/notation"
 	"strings"
 	"time"
 
 	"github.com/schollz/progressbar/v3"
 
-	"nodal/analysis"
+	"nodal/analysis/require"
+	"nodal/analysis/response"
 	"nodal/mna"
 	"nodal/netlist"
 )
@@ -34,12 +36,12 @@ func (p *requireProbe) outNode(l *loaded) (string, error) {
 }
 
 // metrics returns the evaluator of the circuit's requirement metrics.
-func (p *requireProbe) metrics(l *loaded) (*analysis.RequirementMetrics, error) {
+func (p *requireProbe) metrics(l *loaded) (*require.RequirementMetrics, error) {
 	out, err := p.outNode(l)
 	if err != nil {
 		return nil, err
 	}
-	return analysis.NewRequirementMetrics(l.circuit.Requirements, mna.Input{Source: p.In}, outputFor(out, p.Ref))
+	return require.NewRequirementMetrics(l.circuit.Requirements, mna.Input{Source: p.In}, outputFor(out, p.Ref))
 }
 
 // verifyCmd checks the file's requirements.
@@ -118,7 +120,7 @@ type proportionJSON struct {
 	Hi95     float64 `json:"wilson95_hi"`
 }
 
-func proportionOut(p analysis.Proportion) *proportionJSON {
+func proportionOut(p require.Proportion) *proportionJSON {
 	if p.Runs == 0 {
 		return nil
 	}
@@ -146,7 +148,7 @@ func (c *verifyCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	opt := analysis.VerifyOptions{Runs: c.Runs, Seed: uint64(c.Seed)}
+	opt := require.VerifyOptions{Runs: c.Runs, Seed: uint64(c.Seed)}
 	finish := func() {}
 	if e.stderrIsTerminal && c.Runs > 0 {
 		bar := progressbar.NewOptions(c.Runs, progressbar.OptionSetWriter(e.stderr), progressbar.OptionSetDescription("verify"),
@@ -154,7 +156,7 @@ func (c *verifyCmd) Run(e *env) error {
 		opt.Progress = func(done int) { _ = bar.Set(done) }
 		finish = func() { _ = bar.Finish() }
 	}
-	res, err := analysis.Verify(e.ctx, l.circuit, rm, opt)
+	res, err := require.Verify(e.ctx, l.circuit, rm, opt)
 	finish()
 	if err != nil {
 		return err
@@ -164,7 +166,7 @@ func (c *verifyCmd) Run(e *env) error {
 		return err
 	}
 	rep := &verifyReport{
-		File: l.name, Input: sys.Input.Source, Output: analysis.OutputLabel(sys.Output), Runs: c.Runs, Seed: c.Seed, Corners: res.Corners,
+		File: l.name, Input: sys.Input.Source, Output: response.OutputLabel(sys.Output), Runs: c.Runs, Seed: c.Seed, Corners: res.Corners,
 		Failed: res.Failed, Yield: proportionOut(res.Yield), PassNominal: res.PassNominal(), PassWorst: res.PassWorst(),
 	}
 	for i, d := range res.Verdicts {
@@ -220,7 +222,7 @@ func metricText(v float64, unit string) string {
 	case unit == "":
 		return trimFloat(v, 4)
 	}
-	return netlist.FormatEng(v, unit)
+	return notation.Eng(v, unit)
 }
 
 func passText(ok bool) string {

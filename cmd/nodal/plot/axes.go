@@ -2,53 +2,12 @@ package plot
 
 import (
 	"math"
-	"strconv"
+	"nodal/cmd/nodal/notation"
 
 	gplot "gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-
-	"nodal/netlist"
 )
-
-// siPrefix returns the SI prefix of the power of 1000 e (from netlist's
-// prefix table, the one the circuit language reads); e outside f…T gives "".
-func siPrefix(e int) string {
-	p, _ := netlist.PrefixSymbol(e)
-	return p
-}
-
-// siExponent returns the power of 1000 (clamped to p…T) that brings |v|
-// into [1, 1000). Zero and non-finite values give 0.
-func siExponent(v float64) int {
-	v = math.Abs(v)
-	if v == 0 || math.IsInf(v, 0) || math.IsNaN(v) {
-		return 0
-	}
-	return max(-4, min(4, int(math.Floor(math.Log10(v)/3))))
-}
-
-// EngFormat formats v with the given number of significant digits and an
-// SI prefix in front of unit (digits below 3 count as 3), e.g. EngFormat(1591.5, 4, "Hz") = "1.592 kHz".
-// An empty unit still gets the prefix ("1.5 k"). Non-finite values print
-// as Go does ("+Inf", "NaN").
-func EngFormat(v float64, digits int, unit string) string {
-	if math.IsInf(v, 0) || math.IsNaN(v) {
-		return strconv.FormatFloat(v, 'g', -1, 64)
-	}
-	digits = max(digits, 3) // fewer would print 150 as 1.5e+02
-	e := siExponent(v)
-	s := strconv.FormatFloat(v/math.Pow(1000, float64(e)), 'g', digits, 64)
-	// rounding may carry into the next power of 1000 (999.96 → "1000")
-	if r, _ := strconv.ParseFloat(s, 64); math.Abs(r) >= 1000 && e < 4 {
-		e++
-		s = strconv.FormatFloat(v/math.Pow(1000, float64(e)), 'g', digits, 64)
-	}
-	if unit == "" && e == 0 {
-		return s
-	}
-	return s + " " + siPrefix(e) + unit
-}
 
 // logTicks marks a log-scaled frequency axis: a labelled major tick on
 // every decade (with an SI prefix: 100, 1k, 10k), unlabelled minor ticks at
@@ -95,8 +54,7 @@ func (t logTicks) Ticks(lo, hi float64) []gplot.Tick {
 
 // tickLabel writes a tick value with an SI prefix and no unit.
 func tickLabel(v float64) string {
-	e := siExponent(v)
-	return strconv.FormatFloat(v/math.Pow(1000, float64(e)), 'g', 3, 64) + siPrefix(e)
+	return notation.Compact(v, "")
 }
 
 // stepTicks puts labelled ticks at multiples of the first step in Steps

@@ -3,6 +3,7 @@ package plot
 import (
 	"fmt"
 	"math"
+	"nodal/cmd/nodal/notation"
 	"strconv"
 
 	gplot "gonum.org/v1/plot"
@@ -184,7 +185,7 @@ func markBode(mp, pp *panel, label string, tr BodeTrace, named bool) error {
 				label, f, tr.FreqHz[0], tr.FreqHz[len(tr.FreqHz)-1])
 		}
 		pts = append(pts, [2]float64{f, y})
-		notes = append(notes, prefix+"-3 dB at "+EngFormat(f, 4, "Hz"))
+		notes = append(notes, prefix+"-3 dB at "+notation.Digits(f, 4, "Hz"))
 		for _, pn := range []*panel{mp, pp} {
 			pn.p.Add(refLine{vertical: true, at: f, style: markLineStyle()})
 		}
@@ -196,7 +197,7 @@ func markBode(mp, pp *panel, label string, tr BodeTrace, named bool) error {
 	}
 	if tr.PeakHz != nil && tr.PeakDB != nil {
 		pk := [][2]float64{{*tr.PeakHz, *tr.PeakDB}}
-		note := prefix + "peak " + strconv.FormatFloat(*tr.PeakDB, 'f', 2, 64) + " dB at " + EngFormat(*tr.PeakHz, 4, "Hz")
+		note := prefix + "peak " + strconv.FormatFloat(*tr.PeakDB, 'f', 2, 64) + " dB at " + notation.Digits(*tr.PeakHz, 4, "Hz")
 		if err := addMarks(mp, label+"/peak", pk, []string{note}, draw.PyramidGlyph{}); err != nil {
 			return err
 		}

@@ -143,30 +143,6 @@ func TestLogTicksDecades(t *testing.T) {
 	}
 }
 
-func TestEngFormat(t *testing.T) {
-	tests := []struct {
-		v      float64
-		digits int
-		unit   string
-		want   string
-	}{
-		{1591.549, 4, "Hz", "1.592 kHz"},
-		{0.00123, 3, "s", "1.23 ms"},
-		{999.96, 4, "Hz", "1 kHz"},
-		{-6.3, 3, "dB", "-6.3 dB"},
-		{0, 4, "V", "0 V"},
-		{2.2e-9, 3, "F", "2.2 nF"},
-		{47e3, 2, "", "47 k"},
-		{0.5, 3, "", "500 m"},
-		{math.Inf(1), 3, "Hz", "+Inf"},
-	}
-	for _, tt := range tests {
-		if got := EngFormat(tt.v, tt.digits, tt.unit); got != tt.want {
-			t.Errorf("EngFormat(%g, %d, %q) = %q, want %q", tt.v, tt.digits, tt.unit, got, tt.want)
-		}
-	}
-}
-
 func TestPoleZeroEqualScaling(t *testing.T) {
 	// Butterworth-like pair plus a far real pole: x span ≫ y span before
 	// equalising, so the y range must be widened.

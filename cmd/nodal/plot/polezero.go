@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+	"nodal/cmd/nodal/notation"
 
 	gplot "gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -92,7 +93,7 @@ func PoleZero(poles, zeros []complex128, opt PoleZeroOptions) (*Figure, error) {
 	}
 	if limit, ok := dominantLimit(poles, zeros); ok {
 		domP, domZ := within(poles, limit), within(zeros, limit)
-		title := "zoom: roots with |s| ≤ " + EngFormat(limit, 3, "rad/s")
+		title := "zoom: roots with |s| ≤ " + notation.Digits(limit, 3, "rad/s")
 		if err := addRootMap(fig, PanelPoleZeroZoom, title, domP, domZ, poles, zeros, tol); err != nil {
 			return nil, err
 		}

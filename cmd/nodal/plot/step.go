@@ -3,6 +3,7 @@ package plot
 import (
 	"fmt"
 	"math"
+	"nodal/cmd/nodal/notation"
 	"strconv"
 
 	"gonum.org/v1/plot/plotter"
@@ -77,11 +78,11 @@ func Step(t, y []float64, m StepMarks, opt StepOptions) (*Figure, error) {
 		ylabel = "output (V)"
 	}
 	t0, t1 := t[0], t[len(t)-1]
-	e := siExponent(math.Max(math.Abs(t0), math.Abs(t1)))
+	e := notation.AxisExp3(math.Max(math.Abs(t0), math.Abs(t1)))
 	e = min(e, 0) // no ks
 	scale := math.Pow(1000, float64(e))
 	fig := newFigure(w, h)
-	p := newPanel(opt.Title, "time ("+siPrefix(e)+"s)", ylabel)
+	p := newPanel(opt.Title, "time ("+notation.Prefix(e)+"s)", ylabel)
 	p.X.Tick.Marker = linearTicks{Scale: scale}
 	p.Add(grid{})
 	pn := fig.add(PanelStep, p)
@@ -121,7 +122,7 @@ func Step(t, y []float64, m StepMarks, opt StepOptions) (*Figure, error) {
 	}{{m.RiseStartS, 0.1}, {m.RiseEndS, 0.9}} {
 		if r.at != nil {
 			rise = append(rise, [2]float64{*r.at, m.Initial + r.frac*delta})
-			riseNotes = append(riseNotes, fmt.Sprintf("%.0f %% at %s", 100*r.frac, EngFormat(*r.at, 4, "s")))
+			riseNotes = append(riseNotes, fmt.Sprintf("%.0f %% at %s", 100*r.frac, notation.Digits(*r.at, 4, "s")))
 		}
 	}
 	if len(rise) > 0 {
@@ -136,12 +137,12 @@ func Step(t, y []float64, m StepMarks, opt StepOptions) (*Figure, error) {
 			return nil, fmt.Errorf("plot: %s: settling time %g s lies outside the simulated %g…%g s", what, ts, t0, t1)
 		}
 		p.Add(refLine{vertical: true, at: ts, style: markLineStyle()})
-		if err := addMarks(pn, "settling", [][2]float64{{ts, ys}}, []string{"settled at " + EngFormat(ts, 4, "s")}, draw.SquareGlyph{}); err != nil {
+		if err := addMarks(pn, "settling", [][2]float64{{ts, ys}}, []string{"settled at " + notation.Digits(ts, 4, "s")}, draw.SquareGlyph{}); err != nil {
 			return nil, err
 		}
 	}
 	if m.PeakTimeS != nil && m.PeakValue != nil {
-		note := "peak " + strconv.FormatFloat(*m.PeakValue, 'g', 5, 64) + " at " + EngFormat(*m.PeakTimeS, 4, "s")
+		note := "peak " + strconv.FormatFloat(*m.PeakValue, 'g', 5, 64) + " at " + notation.Digits(*m.PeakTimeS, 4, "s")
 		if err := addMarks(pn, "peak", [][2]float64{{*m.PeakTimeS, *m.PeakValue}}, []string{note}, draw.PyramidGlyph{}); err != nil {
 			return nil, err
 		}

@@ -2,6 +2,7 @@ package plot
 
 import (
 	"math"
+	"nodal/cmd/nodal/notation"
 	"strconv"
 	"strings"
 
@@ -36,13 +37,13 @@ func linearTickLabels(vals []float64, si bool) []string {
 	}
 	e := 0
 	if maxAbs >= 1e5 || (maxAbs > 0 && maxAbs < 1e-2) {
-		e = siExponent(maxAbs)
+		e = notation.AxisExp3(maxAbs)
 	}
 	suffix := ""
 	if e != 0 {
 		suffix = "e" + strconv.Itoa(3*e)
 		if si {
-			suffix = siPrefix(e)
+			suffix = notation.Prefix(e)
 		}
 	}
 	div := math.Pow(1000, float64(e))

@@ -103,8 +103,8 @@ func (k RootKind) String() string {
 }
 
 // Root is one pole or zero: its value s in rad/s, its natural frequency
-// F0Hz = |s|/2π in Hz, and its quality factor Q = |s|/(−2·Re s) when the
-// analysis gives one (nil for real roots).
+// F0Hz = |s|/2π in Hz, and its quality factor Q = |s|/(−2·Re s) for a
+// complex root (transfer.PairOf; +Inf on the jω axis, nil for real roots).
 type Root struct {
 	Kind RootKind
 	S    complex128

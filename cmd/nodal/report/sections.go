@@ -3,11 +3,10 @@ package report
 import (
 	"fmt"
 	"math"
+	"nodal/cmd/nodal/notation"
 	"regexp"
 	"strconv"
 	"strings"
-
-	"nodal/cmd/nodal/plot"
 )
 
 // section is one titled part of a report, in the form both renderers
@@ -111,11 +110,11 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 		for _, r := range d.Roots {
 			q := "—"
 			if r.Q != nil {
-				q = strconv.FormatFloat(*r.Q, 'g', 4, 64)
+				q = notation.Q(*r.Q)
 			}
 			t.Rows = append(t.Rows, row{Cells: []string{r.Kind.String(),
-				plot.EngFormat(real(r.S), 6, "rad/s"), plot.EngFormat(imag(r.S), 6, "rad/s"),
-				plot.EngFormat(r.F0Hz, 5, "Hz"), q}})
+				notation.Digits(real(r.S), 6, "rad/s"), notation.Digits(imag(r.S), 6, "rad/s"),
+				notation.Digits(r.F0Hz, 5, "Hz"), q}})
 		}
 		s := section{ID: "roots", Heading: "Poles and zeros", Tables: []table{t},
 			Paras: []string{"f0 = |s|/2π; Q = |s|/(−2·Re s) for complex pairs."}}
@@ -135,7 +134,7 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 		if len(d.Response) > 0 {
 			t := table{Header: []string{"frequency", "magnitude", "phase"}, Right: []bool{true, true, true}}
 			for _, p := range d.Response {
-				t.Rows = append(t.Rows, row{Cells: []string{plot.EngFormat(p.FreqHz, 4, "Hz"),
+				t.Rows = append(t.Rows, row{Cells: []string{notation.Digits(p.FreqHz, 4, "Hz"),
 					fixedDecimals(p.MagDB, 3) + " dB", fixedDecimals(p.PhaseDeg, 2) + "°"}})
 			}
 			s.Tables = append(s.Tables, t)
@@ -221,7 +220,7 @@ func formatDigits(v float64, digits int, unit string) string {
 		return "—" // no value: the note says why
 	}
 	if siUnits[unit] {
-		return plot.EngFormat(v, digits, unit)
+		return notation.Digits(v, digits, unit)
 	}
 	s := strconv.FormatFloat(v, 'g', digits, 64)
 	if math.IsInf(v, 0) || math.IsNaN(v) || unit == "" {

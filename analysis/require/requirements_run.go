@@ -1,0 +1,237 @@
+package require
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"nodal/analysis/transfer"
+	"nodal/analysis/variation"
+
+	"nodal/mna"
+	"nodal/netlist"
+)
+
+// VerifyOptions controls Verify.
+type VerifyOptions struct {
+	// Runs is the number of Monte Carlo runs; 0 skips Monte Carlo (the
+	// yields are then NaN).
+	Runs int
+	// Seed makes the Monte Carlo draws reproducible: run i uses the same
+	// stream as run i of MonteCarlo with this seed, so verify and the
+	// tolerance analysis see the same builds.
+	Seed uint64
+	// MaxExhaustive is the most toleranced items for which every vertex of
+	// the tolerance box (2^n corners) is evaluated; above it each
+	// requirement gets the two corners its metric's sensitivity signs point
+	// to, as in WorstCase. ≤ 0 means DefaultMaxExhaustiveItems.
+	MaxExhaustive int
+	Workers       int            // goroutines; ≤ 0 means runtime.NumCPU()
+	Progress      func(done int) // called after each Monte Carlo run, as in MonteCarloOptions
+}
+
+// VerifyResult is a Verification with the count of varied circuits that
+// could not be analysed (they count as failing every requirement).
+type VerifyResult struct {
+	*Verification
+	Failed       int   // corners and runs whose circuit could not be analysed
+	FirstFailure error // the error of the first of them (corners first, then runs by index)
+}
+
+// Verify evaluates ev, whose metrics are those of c's requirements in
+// order, at nominal values, at the worst-case corners of the toleranced
+// items (each at 1 ± Tol.Rel; for a normal distribution Tol.Rel is 3σ) and
+// over opt.Runs Monte Carlo draws (drawn as by MonteCarlo: uniform over
+// 1 ± Tol.Rel or normal with σ = Tol.Rel/3, one draw per Variation so a
+// toleranced let is shared by all its uses), and judges each requirement
+// (Judge). ev may return NaN for a metric that does not exist in a
+// circuit; that value fails. A nominal evaluation error is an error; a
+// varied circuit whose evaluation fails counts as failing.
+func Verify(ctx context.Context, c *netlist.Circuit, ev variation.Evaluator, opt VerifyOptions) (*VerifyResult, error) {
+	n := len(c.Requirements)
+	if n == 0 {
+		return nil, fmt.Errorf("verify: the circuit has no require statements")
+	}
+	if opt.Runs < 0 {
+		return nil, fmt.Errorf("verify: runs must be ≥ 0, got %d", opt.Runs)
+	}
+	if m := len(ev.Metrics()); m != n {
+		return nil, fmt.Errorf("verify: the evaluator has %d metrics for %d requirements", m, n)
+	}
+	nominal, err := variation.EvalNominal("verify", c, ev)
+	if err != nil {
+		return nil, err
+	}
+	res := &VerifyResult{}
+	corners, err := cornerFactors(ctx, c, ev, opt)
+	if err != nil {
+		return nil, err
+	}
+	cornerRows, err := evalRows(ctx, c, ev, len(corners), opt.Workers, nil, func(_, i int, dst []float64) { copy(dst, corners[i]) }, res)
+	if err != nil {
+		return nil, err
+	}
+	runRows, err := evalRows(ctx, c, ev, opt.Runs, opt.Workers, opt.Progress, func(_, i int, dst []float64) { variation.DrawFactors(c.Variations, opt.Seed, i, dst) }, res)
+	if err != nil {
+		return nil, err
+	}
+	v, err := Judge(c.Requirements, nominal, cornerRows, runRows)
+	if err != nil {
+		return nil, err
+	}
+	res.Verification = v
+	return res, nil
+}
+
+// evalRows evaluates ev on count varied circuits, the factors of job i
+// filled by factors, on workers goroutines. A failed evaluation gives a
+// NaN row and is counted in res.
+func evalRows(ctx context.Context, c *netlist.Circuit, ev variation.Evaluator, count, workers int, progress func(int), factors func(w, i int, dst []float64), res *VerifyResult) ([][]float64, error) {
+	if count == 0 {
+		return nil, nil
+	}
+	m := len(ev.Metrics())
+	rows := make([][]float64, count)
+	errs := make([]error, count)
+	buf := make([][]float64, variation.ResolveWorkers(workers, count))
+	for w := range buf {
+		buf[w] = make([]float64, len(c.Variations))
+	}
+	_, cancelled := variation.ForEachJob(ctx, count, workers, progress, func(w, i int) {
+		factors(w, i, buf[w])
+		rows[i], errs[i] = variation.EvalVaried(c, ev, buf[w], m)
+	})
+	if cancelled {
+		return nil, fmt.Errorf("verify: %w", context.Cause(ctx))
+	}
+	for i, err := range errs {
+		if err == nil {
+			continue
+		}
+		if res.Failed == 0 {
+			res.FirstFailure = err
+		}
+		res.Failed++
+		rows[i] = make([]float64, m)
+		for j := range rows[i] {
+			rows[i][j] = math.NaN()
+		}
+	}
+	return rows, nil
+}
+
+// cornerFactors returns the factor vectors of the worst-case corners, as
+// WorstCase chooses them: every vertex for up to MaxExhaustive items,
+// otherwise two per metric from the signs of the sensitivities (an item
+// with zero or undefined sensitivity is put low).
+func cornerFactors(ctx context.Context, c *netlist.Circuit, ev variation.Evaluator, opt VerifyOptions) ([][]float64, error) {
+	k := len(c.Variations)
+	if k == 0 {
+		return nil, nil
+	}
+	limit := opt.MaxExhaustive
+	if limit <= 0 {
+		limit = variation.DefaultMaxExhaustiveItems
+	}
+	var high [][]bool
+	if k <= limit {
+		for mask := 0; mask < 1<<k; mask++ {
+			h := make([]bool, k)
+			for i := range h {
+				h[i] = mask&(1<<i) != 0
+			}
+			high = append(high, h)
+		}
+	} else {
+		d, err := variation.Derivatives(ctx, c, ev, variation.SensitivityOptions{Workers: opt.Workers})
+		if err != nil {
+			return nil, fmt.Errorf("verify: worst-case corners: %w", err)
+		}
+		for j := range ev.Metrics() {
+			up, down := make([]bool, k), make([]bool, k)
+			for i := range k {
+				up[i], down[i] = d[i][j] > 0, d[i][j] < 0
+			}
+			high = append(high, up, down)
+		}
+	}
+	out := make([][]float64, len(high))
+	for n, h := range high {
+		out[n] = make([]float64, k)
+		for i, v := range c.Variations {
+			out[n][i] = 1 - v.Tol.Rel
+			if h[i] {
+				out[n][i] = 1 + v.Tol.Rel
+			}
+		}
+	}
+	return out, nil
+}
+
+// RequirementMetrics evaluates the metrics of a list of requirements on the
+// transfer function from one input to one output: the standard
+// MetricsFunc of `verify` and `snap`.
+//
+// It is an Evaluator, and unlike MetricEvaluator it does not fail a
+// circuit in which a metric does not exist: that value is NaN (and fails
+// its requirement), and an infinite value (dc of a high-pass, −Inf dB) is
+// kept, since `dc below -40dB` holds for it.
+type RequirementMetrics struct {
+	names   []string
+	metrics []transfer.Metric
+	in      mna.Input
+	out     mna.Output
+}
+
+// NewRequirementMetrics parses the metric of every requirement. An
+// unknown metric is an error naming the requirement and the valid metrics.
+func NewRequirementMetrics(reqs []netlist.Requirement, in mna.Input, out mna.Output) (*RequirementMetrics, error) {
+	r := &RequirementMetrics{in: in, out: out}
+	for _, q := range reqs {
+		m, err := transfer.ParseMetric(q.Metric)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", q.Pos, err)
+		}
+		r.metrics = append(r.metrics, m)
+		r.names = append(r.names, q.Metric)
+	}
+	return r, nil
+}
+
+// Metrics returns the requirement metrics as written, in order.
+func (r *RequirementMetrics) Metrics() []string { return r.names }
+
+// Eval returns one value per requirement for c, NaN where the metric does
+// not exist for this circuit (Explain says why). It fails when the MNA
+// system cannot be built or its transfer function extracted.
+func (r *RequirementMetrics) Eval(c *netlist.Circuit) ([]float64, error) {
+	vals, _, err := r.evaluate(c)
+	return vals, err
+}
+
+// Explain returns, per requirement, the reason its metric does not exist
+// for c (nil where it does), or the error that stops the analysis.
+func (r *RequirementMetrics) Explain(c *netlist.Circuit) ([]error, error) {
+	_, why, err := r.evaluate(c)
+	return why, err
+}
+
+func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, error) {
+	sys, err := mna.Build(c, r.in, r.out)
+	if err != nil {
+		return nil, nil, err
+	}
+	tf, err := transfer.Extract(sys)
+	if err != nil {
+		return nil, nil, err
+	}
+	vals := make([]float64, len(r.metrics))
+	why := make([]error, len(r.metrics))
+	for i, m := range r.metrics {
+		v, err := m.Eval(tf)
+		if err != nil {
+			v, why[i] = math.NaN(), err
+		}
+		vals[i] = v
+	}
+	return vals, why, nil
+}

@@ -1,0 +1,95 @@
+package response
+
+import (
+	"math"
+
+	"nodal/netlist"
+)
+
+// LogGrid returns logarithmically spaced frequencies from fromHz to toHz,
+// both included, with perDecade intervals per decade (rounded so that the
+// end points are exact). It returns nil unless 0 < fromHz ≤ toHz (finite)
+// and perDecade > 0; fromHz == toHz gives one point.
+func LogGrid(fromHz, toHz float64, perDecade int) []float64 {
+	if !(fromHz > 0) || !(toHz >= fromHz) || math.IsInf(toHz, 0) || perDecade <= 0 {
+		return nil
+	}
+	if fromHz == toHz {
+		return []float64{fromHz}
+	}
+	decades := math.Log10(toHz / fromHz)
+	steps := max(1, int(math.Round(decades*float64(perDecade))))
+	f := make([]float64, steps+1)
+	for i := range f {
+		f[i] = fromHz * math.Pow(10, decades*float64(i)/float64(steps))
+	}
+	f[0], f[steps] = fromHz, toHz
+	return f
+}
+
+// LinearGrid returns n equally spaced values from from to to, both
+// included (n == 1 gives from alone). It returns nil for n < 1 or
+// non-finite ends.
+func LinearGrid(from, to float64, n int) []float64 {
+	if n < 1 || math.IsNaN(from) || math.IsNaN(to) || math.IsInf(from, 0) || math.IsInf(to, 0) {
+		return nil
+	}
+	if n == 1 {
+		return []float64{from}
+	}
+	f := make([]float64, n)
+	for i := range f {
+		f[i] = from + (to-from)*float64(i)/float64(n-1)
+	}
+	f[n-1] = to
+	return f
+}
+
+// DefaultRange returns a sweep range in Hz covering, two decades either
+// side, every corner frequency the circuit's own parts make: 1/(2πRC) for
+// every resistor–capacitor pair, R/(2πL) for every resistor–inductor pair,
+// 1/(2π√(LC)) for every inductor–capacitor pair, and each op-amp's gbw and
+// gbw/a0. A circuit with none of these gets 10 Hz to 100 kHz. This is a
+// first estimate: the circuit's poles and zeros give a better one.
+func DefaultRange(c *netlist.Circuit) (fromHz, toHz float64) {
+	var rs, cs, ls []float64
+	lo, hi := math.Inf(1), math.Inf(-1)
+	note := func(f float64) {
+		if f > 0 && !math.IsInf(f, 0) {
+			lo, hi = math.Min(lo, f), math.Max(hi, f)
+		}
+	}
+	for _, p := range c.Parts {
+		switch p.Kind {
+		case netlist.Resistor:
+			rs = append(rs, p.Value)
+		case netlist.Capacitor:
+			cs = append(cs, p.Value)
+		case netlist.Inductor:
+			ls = append(ls, p.Value)
+		case netlist.OpAmp:
+			note(p.GBWHz)
+			if p.A0 > 0 {
+				note(p.GBWHz / p.A0)
+			}
+		}
+	}
+	const twoPi = 2 * math.Pi
+	for _, r := range rs {
+		for _, cv := range cs {
+			note(1 / (twoPi * r * cv))
+		}
+		for _, l := range ls {
+			note(r / (twoPi * l))
+		}
+	}
+	for _, l := range ls {
+		for _, cv := range cs {
+			note(1 / (twoPi * math.Sqrt(l*cv)))
+		}
+	}
+	if lo > hi {
+		return 10, 100e3
+	}
+	return lo / 100, hi * 100
+}

@@ -1,0 +1,177 @@
+package response
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"math/cmplx"
+	"runtime"
+	"sync"
+
+	"nodal/mna"
+)
+
+// Response is the frequency response H(j2πf) of one System over a list of
+// frequencies, all slices of the same length as FreqHz and in its order.
+//
+// H is per unit of the input (the transfer function, V/V, A/V, Ω … as the
+// input and output kinds make it); multiply by the System's
+// SourceAmplitude for the phasor the file's drive gives. Mag = |H|;
+// MagDB = 20·log10|H| (−Inf where H = 0). PhaseDeg is arg H in degrees,
+// unwrapped along the sweep: the first point lies in (−180, 180], each next
+// one differs from its predecessor by at most 180°. GroupDelayS is
+// τ = −d(arg H)/dω = −Re(H'(s)/H(s)) at s = jω in seconds, computed exactly
+// from dH/ds (NaN where H = 0).
+type Response struct {
+	FreqHz      []float64
+	H           []complex128
+	Mag         []float64
+	MagDB       []float64
+	PhaseDeg    []float64
+	GroupDelayS []float64
+	Input       string // the input source name, or "inject:NODE"
+	Output      string // "NODE", "NODE-REF" (v(NODE) − v(REF)) or "i(PART)"
+}
+
+// Sweep evaluates sys at every frequency of freqsHz (Hz, each ≥ 0) on
+// workers goroutines (workers ≤ 0 means runtime.NumCPU()). Each point is
+// computed the same way whatever the worker count, so the result does not
+// depend on it. It stops early with ctx's error when ctx is cancelled, and
+// with a *mna.SingularError when a point is singular.
+func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int) (*Response, error) {
+	for i, f := range freqsHz {
+		if !(f >= 0) || math.IsInf(f, 0) {
+			return nil, fmt.Errorf("sweep: frequency %d is %g Hz; want a finite value ≥ 0", i, f)
+		}
+	}
+	n := len(freqsHz)
+	if workers <= 0 {
+		workers = runtime.NumCPU()
+	}
+	workers = max(1, min(workers, n))
+	h := make([]complex128, n)
+	dh := make([]complex128, n)
+
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	errs := make([]error, workers)
+	var wg sync.WaitGroup
+	chunk := (n + workers - 1) / workers
+	for w := 0; w < workers; w++ {
+		lo, hi := w*chunk, min(n, (w+1)*chunk)
+		wg.Add(1)
+		go func(w, lo, hi int) {
+			defer wg.Done()
+			ev := mna.NewSweeper(sys)
+			for i := lo; i < hi; i++ {
+				if i%32 == 0 {
+					if err := ctx.Err(); err != nil {
+						errs[w] = err
+						return
+					}
+				}
+				var err error
+				h[i], dh[i], err = ev.Eval(complex(0, 2*math.Pi*freqsHz[i]))
+				if err != nil {
+					errs[w] = err
+					cancel()
+					return
+				}
+			}
+		}(w, lo, hi)
+	}
+	wg.Wait()
+	if err := firstError(ctx, errs); err != nil {
+		return nil, err
+	}
+	return newResponse(sys, freqsHz, h, dh), nil
+}
+
+// firstError prefers a solver error over the cancellation it caused, and
+// the parent's error over none.
+func firstError(ctx context.Context, errs []error) error {
+	var cancelled error
+	for _, err := range errs {
+		if err == nil {
+			continue
+		}
+		if !errors.Is(err, context.Canceled) && !errors.Is(err, context.DeadlineExceeded) {
+			return fmt.Errorf("sweep: %w", err)
+		}
+		cancelled = err
+	}
+	if cancelled != nil {
+		return fmt.Errorf("sweep: %w", context.Cause(ctx))
+	}
+	return nil
+}
+
+func newResponse(sys *mna.System, freqsHz []float64, h, dh []complex128) *Response {
+	n := len(freqsHz)
+	r := &Response{
+		FreqHz:      append([]float64(nil), freqsHz...),
+		H:           h,
+		Mag:         make([]float64, n),
+		MagDB:       make([]float64, n),
+		PhaseDeg:    make([]float64, n),
+		GroupDelayS: make([]float64, n),
+		Input:       InputLabel(sys.Input),
+		Output:      OutputLabel(sys.Output),
+	}
+	for i, v := range h {
+		r.Mag[i] = cmplx.Abs(v)
+		r.MagDB[i] = 20 * math.Log10(r.Mag[i])
+		r.PhaseDeg[i] = cmplx.Phase(v) * 180 / math.Pi
+		if v == 0 {
+			r.GroupDelayS[i] = math.NaN()
+		} else {
+			r.GroupDelayS[i] = -real(dh[i] / v)
+		}
+	}
+	UnwrapDeg(r.PhaseDeg)
+	return r
+}
+
+// UnwrapDeg unwraps phases in degrees in place: each value is shifted by a
+// multiple of 360° to lie within 180° of its predecessor. The first value
+// is left as it is.
+func UnwrapDeg(ph []float64) {
+	for i := 1; i < len(ph); i++ {
+		d := ph[i] - ph[i-1]
+		ph[i] -= 360 * math.Round(d/360)
+	}
+}
+
+// WrapDeg returns a phase in degrees wrapped to (−180, 180].
+func WrapDeg(p float64) float64 {
+	p = math.Mod(p, 360)
+	switch {
+	case p > 180:
+		p -= 360
+	case p <= -180:
+		p += 360
+	}
+	return p
+}
+
+// InputLabel names an input: the source name, or "inject:NODE".
+func InputLabel(in mna.Input) string {
+	if in.Inject != "" {
+		return "inject:" + in.Inject
+	}
+	return in.Source
+}
+
+// OutputLabel names an output: "NODE", "NODE-REF" for a node pair
+// (v(NODE) − v(REF); node names hold no "-"), or "i(PART)" for a part
+// current.
+func OutputLabel(out mna.Output) string {
+	switch {
+	case out.Kind == mna.PartCurrent:
+		return "i(" + out.Part + ")"
+	case out.Ref == "" || out.Ref == "gnd" || out.Ref == "0":
+		return out.Node
+	}
+	return out.Node + "-" + out.Ref
+}

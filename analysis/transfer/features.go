@@ -1,0 +1,451 @@
+package transfer
+
+import (
+	"errors"
+	"math"
+	"math/cmplx"
+	"sort"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// ErrUnbounded means |H(jω)| is unbounded on the frequency axis (a pole on
+// the jω axis, a pole at s = 0, or more zeros than poles), so a peak or a
+// reference gain does not exist.
+var ErrUnbounded = errors.New("the gain is unbounded on the frequency axis")
+
+// ErrNoReference means a −3 dB reference gain cannot be defined: H has an
+// integrator (infinite gain at DC) or is identically zero.
+var ErrNoReference = errors.New("no reference gain for a −3 dB frequency")
+
+// RootPair describes a second-order section (s − Root)(s − Other) =
+// s² + (ω0/Q)·s + ω0²: a complex-conjugate pair of poles or zeros, or, from
+// DominantPair only, two real poles.
+type RootPair struct {
+	Root     complex128 // the member with positive imaginary part (for two real poles, the smaller in magnitude), rad/s
+	Other    complex128 // the other member: the conjugate of Root, or the second real pole, rad/s
+	OmegaRad float64    // natural frequency ω0 = √(Root·Other) (|Root| for a complex pair), rad/s
+	F0Hz     float64    // ω0/(2π), Hz
+	Q        float64    // quality factor ω0/(−(Root + Other)); +Inf on the jω axis, negative in the right half-plane, ≤ 0.5 for real poles
+	Zeta     float64    // damping ratio −(Root + Other)/(2ω0) = 1/(2Q)
+}
+
+// Corner is a real pole or zero.
+type Corner struct {
+	Root     float64 // the root, rad/s (negative in the left half-plane)
+	OmegaRad float64 // corner angular frequency |Root|, rad/s
+	FreqHz   float64 // corner frequency |Root|/(2π), Hz; 0 for a root at s = 0
+}
+
+// PolePairs returns the complex pole pairs in the order of Poles.
+func (h *TransferFunction) PolePairs() []RootPair { return rootPairs(h.Poles) }
+
+// ZeroPairs returns the complex zero pairs in the order of Zeros.
+func (h *TransferFunction) ZeroPairs() []RootPair { return rootPairs(h.Zeros) }
+
+// RealPoles returns the real poles with their corner frequencies.
+func (h *TransferFunction) RealPoles() []Corner { return corners(h.Poles) }
+
+// RealZeros returns the real zeros with their corner frequencies.
+func (h *TransferFunction) RealZeros() []Corner { return corners(h.Zeros) }
+
+func rootPairs(roots []complex128) []RootPair {
+	var out []RootPair
+	for _, r := range roots {
+		if imag(r) <= 0 {
+			continue
+		}
+		out = append(out, PairOf(r))
+	}
+	return out
+}
+
+// PairOf returns the second-order section of the complex root r and its
+// conjugate, (s − r)(s − r̄) = s² + (ω0/Q)·s + ω0²: ω0 = |r|, f0 = ω0/2π,
+// Q = ω0/(−2·Re r) and ζ = −Re r/ω0 = 1/(2Q) (common practice). It is the
+// one place nodal computes f0, Q and ζ of a pair. A pair on the jω axis
+// (Re r = 0) has Q = +Inf and ζ = 0; one in the right half-plane has
+// Q < 0. Root is r as given, Other its conjugate.
+func PairOf(r complex128) RootPair {
+	w0 := cmplx.Abs(r)
+	zeta, q := 0.0, math.Inf(1) // on the jω axis (ζ = +0, not −0)
+	if real(r) != 0 {
+		zeta, q = -real(r)/w0, w0/(-2*real(r))
+	}
+	return RootPair{Root: r, Other: cmplx.Conj(r), OmegaRad: w0, F0Hz: w0 / (2 * math.Pi), Q: q, Zeta: zeta}
+}
+
+func corners(roots []complex128) []Corner {
+	var out []Corner
+	for _, r := range roots {
+		if imag(r) == 0 {
+			w := math.Abs(real(r))
+			out = append(out, Corner{Root: real(r), OmegaRad: w, FreqHz: w / (2 * math.Pi)})
+		}
+	}
+	return out
+}
+
+// Asymptote is the behaviour H(s) ≈ Gain·s^Power at one end of the
+// frequency axis.
+type Asymptote struct {
+	Gain             float64 // signed coefficient (a ratio, e.g. V/V, when Power = 0)
+	GainDB           float64 // 20·log10|Gain|: the gain in dB when Power = 0, else the asymptote's value at ω = 1 rad/s
+	Power            int     // power of s: +k for k zeros at s = 0 (DC) or m−n (high frequency)
+	SlopeDBPerDecade float64 // 20·Power, dB/decade
+}
+
+func newAsymptote(gain float64, power int) Asymptote {
+	return Asymptote{Gain: gain, GainDB: 20 * math.Log10(math.Abs(gain)), Power: power, SlopeDBPerDecade: 20 * float64(power)}
+}
+
+// DCGain returns the low-frequency asymptote: with k zeros and l poles at
+// s = 0, H(s) ≈ (Num[k]/Den[l])·s^(k−l). Power 0 means a finite DC gain
+// Gain = H(0); Power > 0 a zero of that order at DC (slope +20·Power dB/dec).
+func (h *TransferFunction) DCGain() Asymptote {
+	k, l := lowestNonZero(h.Num), lowestNonZero(h.Den)
+	if k < 0 {
+		return newAsymptote(0, 0)
+	}
+	return newAsymptote(h.Num[k]/h.Den[l], k-l)
+}
+
+// HighFreqAsymptote returns H(s) ≈ Gain·s^(m−n) as s → ∞ (slope 20·(m−n)
+// dB/decade; Gain the leading-coefficient ratio).
+func (h *TransferFunction) HighFreqAsymptote() Asymptote {
+	return newAsymptote(h.Gain, len(h.Zeros)-len(h.Poles))
+}
+
+// lowestNonZero returns the index of the first non-zero coefficient, -1
+// if all are zero.
+func lowestNonZero(c []float64) int {
+	for i, v := range c {
+		if v != 0 {
+			return i
+		}
+	}
+	return -1
+}
+
+// GainDB returns 20·log10|H(jω)| for ω in rad/s (−Inf on a zero).
+func (h *TransferFunction) GainDB(omegaRad float64) float64 {
+	return 20 * math.Log10(cmplx.Abs(h.EvalFactored(complex(0, omegaRad))))
+}
+
+// PhaseDeg returns the phase of H(jω) in degrees for ω in rad/s, as the
+// sum of the factors' phases: arg(Gain) (180° when Gain < 0) plus
+// arg(jω − z) for every zero minus arg(jω − p) for every pole, each in
+// (−180°, 180°]. It is continuous in ω except where ω crosses a root on
+// the jω axis, so a 6th-order low-pass reads −270°, not +90°.
+func (h *TransferFunction) PhaseDeg(omegaRad float64) float64 {
+	s := complex(0, omegaRad)
+	ph := 0.0
+	if h.Gain < 0 {
+		ph = math.Pi
+	}
+	for _, z := range h.Zeros {
+		ph += cmplx.Phase(s - z)
+	}
+	for _, p := range h.Poles {
+		ph -= cmplx.Phase(s - p)
+	}
+	return ph * 180 / math.Pi
+}
+
+// ODE is the circuit's differential equation
+//
+//	A[n]·y⁽ⁿ⁾ + … + A[1]·y′ + A[0]·y = B[m]·u⁽ᵐ⁾ + … + B[0]·u
+//
+// with y the output, u the input and time in seconds; A[k] = Den[k],
+// B[k] = Num[k], so the lowest non-zero A is 1 (A[0] = 1 unless there is
+// a pole at s = 0).
+type ODE struct {
+	A, B []float64
+}
+
+// ODE returns the differential equation of H (copies of Den and Num).
+func (h *TransferFunction) ODE() ODE {
+	return ODE{A: append([]float64(nil), h.Den...), B: append([]float64(nil), h.Num...)}
+}
+
+// magSquared is |H(jω)|² = C·P(ξ)/Q(ξ) in ξ = ω²/ωs², with P and Q
+// products of factors with real coefficients (one per real root, one per
+// conjugate pair), so values and derivatives are computed factor by
+// factor, accurately for roots spread over many decades.
+type magSquared struct {
+	c    float64
+	ws   float64     // ωs, rad/s
+	p, q [][]float64 // ascending factor polynomials in ξ
+}
+
+func newMagSquared(h *TransferFunction) magSquared {
+	ws := rootCentre(h.Poles, h.Zeros)
+	if ws == 0 {
+		ws = 1
+	}
+	m := magSquared{ws: ws}
+	m.c = h.Gain * h.Gain * math.Pow(ws, 2*float64(len(h.Zeros)-len(h.Poles)))
+	m.p = xiFactors(h.Zeros, ws)
+	m.q = xiFactors(h.Poles, ws)
+	return m
+}
+
+// xiFactors returns |jω − r|² (real r) and |jω − r|²|jω − r̄|² (pairs) as
+// polynomials in ξ = ω²/ωs², divided by ωs² per root.
+func xiFactors(roots []complex128, ws float64) [][]float64 {
+	var out [][]float64
+	for _, r := range roots {
+		a, b := real(r)/ws, imag(r)/ws
+		switch {
+		case b == 0:
+			out = append(out, []float64{a * a, 1})
+		case b > 0:
+			m2 := a*a + b*b
+			out = append(out, []float64{m2 * m2, 2 * (a*a - b*b), 1})
+		}
+	}
+	return out
+}
+
+// logAndDerivs returns ln(|H|²), and its first and second derivatives
+// with respect to u = ln ξ, at ξ > 0.
+func (m magSquared) logAndDerivs(xi float64) (f, d1, d2 float64) {
+	f = math.Log(m.c)
+	add := func(fs [][]float64, sign float64) {
+		for _, p := range fs {
+			v, dv, ddv := polyEval3(p, xi)
+			f += sign * math.Log(math.Abs(v))
+			// d/du = ξ d/dξ; d²/du² = ξ d/dξ + ξ² d²/dξ².
+			g := xi * dv / v
+			gg := g + xi*xi*(ddv*v-dv*dv)/(v*v)
+			d1 += sign * g
+			d2 += sign * gg
+		}
+	}
+	add(m.p, 1)
+	add(m.q, -1)
+	return f, d1, d2
+}
+
+// polyEval3 returns p(x), p′(x), p″(x).
+func polyEval3(p []float64, x float64) (v, d, dd float64) {
+	for k := len(p) - 1; k >= 0; k-- {
+		dd = dd*x + 2*d
+		d = d*x + v
+		v = v*x + p[k]
+	}
+	return v, d, dd
+}
+
+// product returns Π fs as one polynomial.
+func product(fs [][]float64) []float64 {
+	out := []float64{1}
+	for _, f := range fs {
+		out = polyMul(out, f)
+	}
+	return out
+}
+
+// positiveRealRoots returns the real roots ξ > 0 of the ascending
+// polynomial c (companion-matrix eigenvalues), unpolished.
+func positiveRealRoots(c []float64) []float64 {
+	c = trimHigh(c)
+	for len(c) > 1 && c[0] == 0 {
+		c = c[1:] // roots at ξ = 0 are not positive
+	}
+	n := len(c) - 1
+	if n < 1 {
+		return nil
+	}
+	comp := mat.NewDense(n, n, nil)
+	for i := 0; i < n; i++ {
+		comp.Set(0, i, -c[n-1-i]/c[n])
+		if i > 0 {
+			comp.Set(i, i-1, 1)
+		}
+	}
+	vals, err := eigenvalues(comp)
+	if err != nil {
+		return nil
+	}
+	var out []float64
+	for _, v := range vals {
+		if real(v) > 0 && math.Abs(imag(v)) <= 1e-4*real(v) {
+			out = append(out, real(v))
+		}
+	}
+	return out
+}
+
+// trimHigh drops zero leading (highest-order) coefficients.
+func trimHigh(c []float64) []float64 {
+	for len(c) > 1 && c[len(c)-1] == 0 {
+		c = c[:len(c)-1]
+	}
+	return c
+}
+
+// polishLog refines a root of g(u) = 0, u = ln ξ, by Newton steps, where
+// eval returns g and g′. It reports the root and whether it converged.
+func polishLog(xi float64, eval func(xi float64) (g, dg float64)) (float64, bool) {
+	u := math.Log(xi)
+	for it := 0; it < 30; it++ {
+		g, dg := eval(math.Exp(u))
+		if dg == 0 || math.IsNaN(g) {
+			break
+		}
+		step := g / dg
+		if math.Abs(step) > 2 {
+			step = math.Copysign(2, step)
+		}
+		u -= step
+		if math.Abs(step) < 1e-14 {
+			return math.Exp(u), true
+		}
+	}
+	g, _ := eval(math.Exp(u))
+	return math.Exp(u), math.Abs(g) < 1e-9
+}
+
+// uniqueSorted sorts v and removes values within 1e-9 relative.
+func uniqueSorted(v []float64) []float64 {
+	sort.Float64s(v)
+	var out []float64
+	for _, x := range v {
+		if len(out) == 0 || math.Abs(x-out[len(out)-1]) > 1e-9*x {
+			out = append(out, x)
+		}
+	}
+	return out
+}
+
+// Peak is the largest gain on the frequency axis.
+type Peak struct {
+	Gain     float64 // max |H(jω)| (ratio)
+	GainDB   float64 // 20·log10 Gain, dB
+	OmegaRad float64 // where it occurs, rad/s: 0 at DC, +Inf when the supremum is the high-frequency limit
+	FreqHz   float64 // OmegaRad/(2π), Hz
+}
+
+// Peak returns the maximum of |H(jω)| over 0 ≤ ω ≤ ∞, from the stationary
+// points of |H(jω)|² (a rational function of ω², solved as a polynomial
+// and polished) and the two ends. It returns ErrUnbounded when the gain
+// has no finite maximum, and a zero Peak for H ≡ 0.
+func (h *TransferFunction) Peak() (Peak, error) {
+	if h.Gain == 0 {
+		return Peak{GainDB: math.Inf(-1)}, nil
+	}
+	for _, p := range h.Poles {
+		if real(p) == 0 {
+			return Peak{}, ErrUnbounded
+		}
+	}
+	if len(h.Zeros) > len(h.Poles) {
+		return Peak{}, ErrUnbounded
+	}
+	best := Peak{Gain: math.Abs(h.DCGain().Gain)} // DC end (pole-free at 0)
+	if h.DCGain().Power > 0 {
+		best.Gain = 0
+	}
+	if len(h.Zeros) == len(h.Poles) && math.Abs(h.Gain) > best.Gain {
+		best = Peak{Gain: math.Abs(h.Gain), OmegaRad: math.Inf(1)}
+	}
+	m := newMagSquared(h)
+	// Stationary points: P′Q − PQ′ = 0.
+	P, Q := product(m.p), product(m.q)
+	dP, dQ := polyDeriv(P), polyDeriv(Q)
+	stat := polySub(polyMul(dP, Q), polyMul(P, dQ))
+	for _, xi := range positiveRealRoots(stat) {
+		xi, ok := polishLog(xi, func(x float64) (float64, float64) {
+			_, d1, d2 := m.logAndDerivs(x)
+			return d1, d2
+		})
+		if !ok {
+			continue
+		}
+		f, _, _ := m.logAndDerivs(xi)
+		if g := math.Sqrt(math.Exp(f)); g > best.Gain {
+			best = Peak{Gain: g, OmegaRad: m.ws * math.Sqrt(xi)}
+		}
+	}
+	best.GainDB = 20 * math.Log10(best.Gain)
+	best.FreqHz = best.OmegaRad / (2 * math.Pi)
+	return best, nil
+}
+
+// polyDeriv returns the derivative of an ascending polynomial.
+func polyDeriv(p []float64) []float64 {
+	if len(p) < 2 {
+		return []float64{0}
+	}
+	out := make([]float64, len(p)-1)
+	for k := 1; k < len(p); k++ {
+		out[k-1] = float64(k) * p[k]
+	}
+	return out
+}
+
+// polySub returns a − b.
+func polySub(a, b []float64) []float64 {
+	n := max(len(a), len(b))
+	out := make([]float64, n)
+	copy(out, a)
+	for i, v := range b {
+		out[i] -= v
+	}
+	return out
+}
+
+// Bandwidth is the result of F3dB.
+type Bandwidth struct {
+	RefGain     float64   // reference gain (ratio): the DC gain, the high-frequency gain of a high-pass, or the peak of a band-pass
+	RefDB       float64   // 20·log10 RefGain, dB
+	CrossingsHz []float64 // every frequency where |H| = RefGain/√2, ascending, Hz
+}
+
+// F3dB returns the frequencies where the gain is 3.01 dB (a factor √2)
+// below the reference: the low-frequency gain when H(0) is finite and
+// non-zero; for a zero at DC, the high-frequency gain when it is finite and
+// non-zero (high-pass), else the peak gain (band-pass). The crossings are
+// the positive real roots of C·P(ξ) − (Ref²/2)·Q(ξ) (ξ = ω²/ωs², exact
+// polynomial form of |H(jω)|²), polished on the factored form.
+func (h *TransferFunction) F3dB() (Bandwidth, error) {
+	dc := h.DCGain()
+	var ref float64
+	switch {
+	case h.Gain == 0 || dc.Power < 0:
+		return Bandwidth{}, ErrNoReference
+	case dc.Power == 0:
+		ref = math.Abs(dc.Gain)
+	case len(h.Zeros) == len(h.Poles):
+		ref = math.Abs(h.Gain)
+	default:
+		pk, err := h.Peak()
+		if err != nil {
+			return Bandwidth{}, err
+		}
+		ref = pk.Gain
+	}
+	m := newMagSquared(h)
+	target := math.Log(ref * ref / 2)
+	P, Q := product(m.p), product(m.q)
+	var qs []float64
+	for i := range Q {
+		qs = append(qs, Q[i]*ref*ref/2)
+	}
+	var ps []float64
+	for i := range P {
+		ps = append(ps, P[i]*m.c)
+	}
+	var out []float64
+	for _, xi := range positiveRealRoots(polySub(ps, qs)) {
+		xi, ok := polishLog(xi, func(x float64) (float64, float64) {
+			f, d1, _ := m.logAndDerivs(x)
+			return f - target, d1
+		})
+		if ok {
+			out = append(out, m.ws*math.Sqrt(xi)/(2*math.Pi))
+		}
+	}
+	return Bandwidth{RefGain: ref, RefDB: 20 * math.Log10(ref), CrossingsHz: uniqueSorted(out)}, nil
+}

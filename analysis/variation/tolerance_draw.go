@@ -1,0 +1,91 @@
+package variation
+
+import (
+	"context"
+	"math/rand/v2"
+	"runtime"
+	"sync"
+	"sync/atomic"
+
+	"nodal/netlist"
+)
+
+// runStream returns the random stream of Monte Carlo run number run: a PCG
+// generator (math/rand/v2) seeded with (seed, splitmix64(run)), so every
+// run's draws depend on the seed and the run index alone, never on which
+// worker made them or in what order.
+func runStream(seed uint64, run int) *rand.Rand {
+	return rand.New(rand.NewPCG(seed, splitmix64(uint64(run))))
+}
+
+// splitmix64 is the SplitMix64 finaliser (Steele, Lea and Flood, "Fast
+// splittable pseudorandom number generators", OOPSLA 2014): it spreads
+// consecutive run indices over the whole 64-bit seed space.
+func splitmix64(x uint64) uint64 {
+	x += 0x9e3779b97f4a7c15
+	x = (x ^ (x >> 30)) * 0xbf58476d1ce4e5b9
+	x = (x ^ (x >> 27)) * 0x94d049bb133111eb
+	return x ^ (x >> 31)
+}
+
+// drawFactors fills dst (len(vars)) with the multiplicative factors of run
+// run, one draw per Variation in order (a toleranced `let` is one item, so
+// all its uses move together):
+//
+//   - Uniform: 1 + Rel·(2u − 1) with u uniform on [0, 1): nominal·(1 ± tol).
+//   - Normal: 1 + (Rel/3)·z with z standard normal, σ = tol/3. The draws
+//     are NOT truncated: about 0.27 % of them fall outside ±tol. A factor
+//     ≤ 0 (possible only for tolerances near 100 %) makes the run fail.
+func drawFactors(vars []netlist.Variation, seed uint64, run int, dst []float64) {
+	rng := runStream(seed, run)
+	for i, v := range vars {
+		if v.Tol.Dist == netlist.Normal {
+			dst[i] = 1 + v.Tol.Rel/3*rng.NormFloat64()
+		} else {
+			dst[i] = 1 + v.Tol.Rel*(2*rng.Float64()-1)
+		}
+	}
+}
+
+// resolveWorkers returns the worker count for n jobs: workers ≤ 0 means
+// runtime.NumCPU(); never more than n, never less than 1.
+func resolveWorkers(workers, n int) int {
+	if workers <= 0 {
+		workers = runtime.NumCPU()
+	}
+	return max(1, min(workers, n))
+}
+
+// forEachJob calls job(worker, i) for every i in [0, n) on workers
+// goroutines, worker in [0, resolveWorkers(workers, n)) (job must store
+// its result by i), and progress(done) after each finished job, serialised
+// and with done increasing. When ctx is cancelled no new job starts; it
+// returns the number of jobs finished and whether it stopped early.
+func forEachJob(ctx context.Context, n, workers int, progress func(done int), job func(worker, i int)) (finished int, cancelled bool) {
+	workers = resolveWorkers(workers, n)
+	var next atomic.Int64
+	var mu sync.Mutex
+	done := 0
+	var wg sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func(w int) {
+			defer wg.Done()
+			for ctx.Err() == nil {
+				i := int(next.Add(1) - 1)
+				if i >= n {
+					return
+				}
+				job(w, i)
+				mu.Lock()
+				done++
+				if progress != nil {
+					progress(done)
+				}
+				mu.Unlock()
+			}
+		}(w)
+	}
+	wg.Wait()
+	return done, done < n
+}

@@ -1,0 +1,214 @@
+package variation
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/cmplx"
+	"nodal/analysis/transfer"
+	"strings"
+
+	"nodal/mna"
+	"nodal/netlist"
+)
+
+// Evaluator computes the response metrics of one circuit. It is what the
+// tolerance engines (MonteCarlo, WorstCase, Sensitivity) vary a circuit
+// against, so they do not depend on how a metric is computed.
+//
+// Metrics names the values Eval returns, in order, spelt as the user wrote
+// them ("gain@1kHz", "f3db"); for a name ParseMetric knows, the unit
+// follows from it (dB, deg, Hz or none), otherwise the value is treated as
+// a plain ratio. Eval must be safe for concurrent use by many goroutines
+// and must not modify c. A run whose Eval fails (a singular draw, no −3 dB
+// point) is counted as failed, not fatal.
+type Evaluator interface {
+	Metrics() []string
+	Eval(c *netlist.Circuit) ([]float64, error)
+}
+
+// MetricEvaluator is the standard Evaluator: for each circuit it builds the
+// MNA system for one input and output, extracts the exact transfer
+// function (Extract) and evaluates each Metric on it (Metric.Eval), so
+// tolerance figures use the same definitions as every other report. A
+// non-finite value (dc of a high-pass, −Inf dB) fails the run.
+//
+// When every metric is a spot value (gain@F, phase@F, dc) the poles are
+// not needed: H is solved directly at each F (and at s = 0), about a
+// hundred times faster. On both paths a phase is moved by whole turns to
+// the branch nearest the nominal circuit's Metric value: the factor
+// phases of Metric.Eval can land a varied circuit 360° away (a far zero
+// changing sides), which would wreck the statistics.
+//
+// Invariant: len(names) == len(metrics) == len(phaseRefDeg).
+type MetricEvaluator struct {
+	in      mna.Input
+	out     mna.Output
+	names   []string
+	metrics []transfer.Metric
+	// spot is true when every metric is gain@F, phase@F or dc.
+	spot bool
+	// phaseRefDeg holds the nominal value of each phase@F metric.
+	phaseRefDeg []float64
+}
+
+// NewMetricEvaluator parses the metric names (an unknown one is an error
+// listing the valid ones) and checks that the nominal circuit gives every
+// metric a finite value for this input and output.
+func NewMetricEvaluator(nominal *netlist.Circuit, in mna.Input, out mna.Output, metrics []string) (*MetricEvaluator, error) {
+	if len(metrics) == 0 {
+		return nil, fmt.Errorf("no metric given (metrics: %s)", strings.Join(netlist.MetricNames(), ", "))
+	}
+	e := &MetricEvaluator{in: in, out: out, names: append([]string(nil), metrics...)}
+	for _, name := range metrics {
+		m, err := transfer.ParseMetric(name)
+		if err != nil {
+			return nil, err
+		}
+		e.metrics = append(e.metrics, m)
+	}
+	nom, err := e.evalExtract(nominal)
+	if err != nil {
+		return nil, fmt.Errorf("nominal circuit: %w", err)
+	}
+	e.phaseRefDeg = nom
+	e.spot = true
+	for _, m := range e.metrics {
+		e.spot = e.spot && m.Spec.Spot
+	}
+	return e, nil
+}
+
+// Metrics returns the metric names as given, in order.
+func (e *MetricEvaluator) Metrics() []string { return e.names }
+
+// Eval builds the MNA system of c and returns one value per metric.
+func (e *MetricEvaluator) Eval(c *netlist.Circuit) ([]float64, error) {
+	if e.spot {
+		return e.evalSpot(c)
+	}
+	return e.evalExtract(c)
+}
+
+// evalSpot evaluates gain@F, phase@F and dc from H solved at each point.
+func (e *MetricEvaluator) evalSpot(c *netlist.Circuit) ([]float64, error) {
+	sys, err := mna.Build(c, e.in, e.out)
+	if err != nil {
+		return nil, err
+	}
+	sub := spotSubject{mna.NewSweeper(sys)}
+	out := make([]float64, len(e.metrics))
+	for i, m := range e.metrics {
+		v, err := m.Spec.Eval(sub, m.Param)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", m.Name, err)
+		}
+		if m.Spec.Turns {
+			v = e.nearBranch(i, v)
+		}
+		out[i] = v
+		if math.IsNaN(out[i]) || math.IsInf(out[i], 0) {
+			return nil, nonFiniteMetric(m.Name, out[i])
+		}
+	}
+	return out, nil
+}
+
+// evalExtract evaluates every metric on the extracted transfer function.
+func (e *MetricEvaluator) evalExtract(c *netlist.Circuit) ([]float64, error) {
+	sys, err := mna.Build(c, e.in, e.out)
+	if err != nil {
+		return nil, err
+	}
+	tf, err := transfer.Extract(sys)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]float64, len(e.metrics))
+	for i, m := range e.metrics {
+		v, err := m.Eval(tf)
+		if err != nil {
+			return nil, err
+		}
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, nonFiniteMetric(m.Name, v)
+		}
+		if m.Spec.Turns && e.phaseRefDeg != nil {
+			v = e.nearBranch(i, v)
+		}
+		out[i] = v
+	}
+	return out, nil
+}
+
+// nearBranch moves phase metric i by whole turns to within 180° of its
+// nominal value, so that draws whose roots land on another branch of the
+// factor phases (or of arg H) do not jump by 360°.
+func (e *MetricEvaluator) nearBranch(i int, phaseDeg float64) float64 {
+	return phaseDeg - 360*math.Round((phaseDeg-e.phaseRefDeg[i])/360)
+}
+
+// spotSubject evaluates the spot quantities of the metric registry (gain
+// and phase at a frequency, the DC gain) from H solved directly at that
+// frequency; it has no poles, so every other quantity is an error (a
+// metric whose registry entry is Spot never asks for one).
+type spotSubject struct{ sw *mna.Sweeper }
+
+// at returns H(j2πf).
+func (s spotSubject) at(freqHz float64) (complex128, error) {
+	h, _, err := s.sw.Eval(complex(0, omegaOf(freqHz)))
+	return h, err
+}
+
+func (s spotSubject) GainDBAt(freqHz float64) (float64, error) {
+	h, err := s.at(freqHz)
+	return 20 * math.Log10(cmplx.Abs(h)), err
+}
+
+func (s spotSubject) PhaseDegAt(freqHz float64) (float64, error) {
+	h, err := s.at(freqHz)
+	return cmplx.Phase(h) * 180 / math.Pi, err
+}
+
+func (s spotSubject) DCGainDB() (float64, error) { return s.GainDBAt(0) }
+
+var errNeedsPoles = errors.New("needs the poles and zeros, not a spot solve")
+
+func (spotSubject) F3dBHz() (float64, error) { return 0, errNeedsPoles }
+func (spotSubject) PeakDB() (float64, error) { return 0, errNeedsPoles }
+func (spotSubject) PeakHz() (float64, error) { return 0, errNeedsPoles }
+func (spotSubject) F0Hz() (float64, error)   { return 0, errNeedsPoles }
+func (spotSubject) Q() (float64, error)      { return 0, errNeedsPoles }
+
+// metricUnit returns the unit of a metric's values ("dB", "deg", "Hz",
+// or "" for q and for names ParseMetric does not know).
+func metricUnit(name string) string {
+	m, err := transfer.ParseMetric(name)
+	if err != nil {
+		return ""
+	}
+	return m.Unit()
+}
+
+// metricPerPercent reports whether a metric's sensitivity is given as an
+// absolute change per % (dB and degree metrics) rather than normalised.
+func metricPerPercent(name string) bool {
+	u := metricUnit(name)
+	return u == "dB" || u == "deg"
+}
+
+// omegaOf converts Hz to rad/s.
+func omegaOf(fHz float64) float64 { return 2 * math.Pi * fHz }
+
+// nonFiniteMetric explains a metric value that has no statistics: −∞ dB
+// (a zero of H at that frequency, e.g. the dc gain of a high-pass), +∞
+// (a pole there) or undefined.
+func nonFiniteMetric(name string, v float64) error {
+	switch {
+	case math.IsInf(v, -1):
+		return fmt.Errorf("%s is −∞ dB (H has a zero there, e.g. the DC gain of a high-pass): no statistics; choose another metric", name)
+	case math.IsInf(v, 1):
+		return fmt.Errorf("%s is +∞ (H has a pole there): no statistics; choose another metric", name)
+	}
+	return fmt.Errorf("%s is undefined for this circuit", name)
+}

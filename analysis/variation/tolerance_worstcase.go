@@ -1,0 +1,157 @@
+package variation
+
+import (
+	"context"
+	"fmt"
+
+	"nodal/netlist"
+)
+
+// DefaultMaxExhaustiveItems is the largest number of toleranced items for
+// which WorstCase tries every one of the 2^k corners.
+const DefaultMaxExhaustiveItems = 12
+
+// WorstCaseOptions configure WorstCase.
+type WorstCaseOptions struct {
+	// MaxExhaustive is the largest item count for a full corner search;
+	// ≤ 0 means DefaultMaxExhaustiveItems.
+	MaxExhaustive int
+	Workers       int     // goroutines; ≤ 0 means runtime.NumCPU()
+	RelStep       float64 // finite-difference step of the sensitivity signs; ≤ 0 means DefaultSensitivityStep
+}
+
+// ToleranceCorner is one tolerance corner: every item at nominal·(1 + tol) (High)
+// or nominal·(1 − tol) (Low). For a normally distributed item ±tol is ±3σ.
+// Both lists keep source order.
+type ToleranceCorner struct {
+	High []string
+	Low  []string
+}
+
+// WorstCaseMetric is the extreme range of one metric over the corners
+// tried, with the corner that gives each end.
+type WorstCaseMetric struct {
+	Metric               string
+	Unit                 string
+	Nominal, Min, Max    float64
+	MinCorner, MaxCorner ToleranceCorner
+}
+
+// WorstCaseResult is the outcome of WorstCase. Exhaustive says whether all
+// 2^k corners were tried; otherwise Corners were chosen from the signs of
+// the sensitivities, two per metric (every item pushed in the direction
+// that raises the metric, and the one that lowers it; an item with zero
+// sensitivity is put low). Failed counts corners whose evaluation failed.
+//
+// Min and Max are over the corners only: for a metric that is not
+// monotonic in some item (a peak, a phase) the true extreme may lie inside
+// the tolerance box.
+type WorstCaseResult struct {
+	Items      []netlist.Variation
+	Exhaustive bool
+	Corners    int
+	Failed     int
+	Metrics    []WorstCaseMetric
+}
+
+// WorstCase evaluates ev at the tolerance corners of c and reports each
+// metric's extremes. A corner that fails is counted; all failing is an
+// error, as is cancellation.
+func WorstCase(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt WorstCaseOptions) (*WorstCaseResult, error) {
+	names := ev.Metrics()
+	nominal, err := evalNominal("worst case", c, ev)
+	if err != nil {
+		return nil, err
+	}
+	k, m := len(c.Variations), len(names)
+	limit := opt.MaxExhaustive
+	if limit <= 0 {
+		limit = DefaultMaxExhaustiveItems
+	}
+	res := &WorstCaseResult{Items: c.Variations, Exhaustive: k <= limit}
+	var corners [][]bool // corners[n][i]: item i high
+	if res.Exhaustive {
+		corners = make([][]bool, 1<<k)
+		for n := range corners {
+			corners[n] = make([]bool, k)
+			for i := range k {
+				corners[n][i] = n&(1<<i) != 0
+			}
+		}
+	} else {
+		d, err := derivatives(ctx, c, ev, SensitivityOptions{RelStep: opt.RelStep, Workers: opt.Workers})
+		if err != nil {
+			return nil, fmt.Errorf("worst case: %w", err)
+		}
+		for j := range m {
+			up, down := make([]bool, k), make([]bool, k)
+			for i := range k {
+				up[i], down[i] = d[i][j] > 0, d[i][j] < 0
+			}
+			corners = append(corners, up, down)
+		}
+	}
+	res.Corners = len(corners)
+	vals := make([][]float64, len(corners))
+	errs := make([]error, len(corners))
+	_, cancelled := forEachJob(ctx, len(corners), opt.Workers, nil, func(_, n int) {
+		f := make([]float64, k)
+		for i, v := range c.Variations {
+			f[i] = 1 - v.Tol.Rel
+			if corners[n][i] {
+				f[i] = 1 + v.Tol.Rel
+			}
+		}
+		vals[n], errs[n] = evalVaried(c, ev, f, m)
+	})
+	if cancelled {
+		return nil, fmt.Errorf("worst case: %w", context.Cause(ctx))
+	}
+	lo, hi := make([]int, m), make([]int, m)
+	for j := range m {
+		lo[j], hi[j] = -1, -1
+	}
+	var firstErr error
+	for n, v := range vals {
+		if errs[n] != nil {
+			if firstErr == nil {
+				firstErr = errs[n]
+			}
+			res.Failed++
+			continue
+		}
+		for j := range m {
+			if lo[j] < 0 || v[j] < vals[lo[j]][j] {
+				lo[j] = n
+			}
+			if hi[j] < 0 || v[j] > vals[hi[j]][j] {
+				hi[j] = n
+			}
+		}
+	}
+	if res.Failed == len(corners) {
+		return nil, fmt.Errorf("worst case: every corner failed; first: %w", firstErr)
+	}
+	for j, name := range names {
+		res.Metrics = append(res.Metrics, WorstCaseMetric{
+			Metric: name, Unit: metricUnit(name), Nominal: nominal[j],
+			Min: vals[lo[j]][j], Max: vals[hi[j]][j],
+			MinCorner: cornerOf(c.Variations, corners[lo[j]]),
+			MaxCorner: cornerOf(c.Variations, corners[hi[j]]),
+		})
+	}
+	return res, nil
+}
+
+// cornerOf names the high and low items of a corner.
+func cornerOf(vars []netlist.Variation, high []bool) ToleranceCorner {
+	var c ToleranceCorner
+	for i, v := range vars {
+		if high[i] {
+			c.High = append(c.High, v.Name)
+		} else {
+			c.Low = append(c.Low, v.Name)
+		}
+	}
+	return c
+}

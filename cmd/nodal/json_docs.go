@@ -1,0 +1,311 @@
+package main
+
+import (
+	"math"
+	"nodal/analysis/check"
+	"nodal/analysis/steady"
+	"nodal/analysis/timeresp"
+	"nodal/analysis/transfer"
+)
+
+// The JSON documents of the commands. Every command writes one of the
+// structs declared in cmd/nodal (this file and beside each command);
+// analysis results carry no JSON tags. Keys are lower snake case with the
+// unit in the name (freq_hz, phase_deg); optional numbers are pointers
+// (null), never NaN or Inf. The key set of every document is pinned by
+// TestJSONSchemas (testdata/json_keys).
+
+// complexJSON is a complex number: s = re + j·im (rad/s for roots).
+type complexJSON struct {
+	Re float64 `json:"re"`
+	Im float64 `json:"im"`
+}
+
+// complexDoc returns z as a complexJSON.
+func complexDoc(z complex128) complexJSON { return complexJSON{Re: real(z), Im: imag(z)} }
+
+// complexDocs returns zs as complexJSON, nil for none.
+func complexDocs(zs []complex128) []complexJSON {
+	var out []complexJSON
+	for _, z := range zs {
+		out = append(out, complexDoc(z))
+	}
+	return out
+}
+
+// complexPtrDoc returns *z as a complexJSON, nil for nil.
+func complexPtrDoc(z *complex128) *complexJSON {
+	if z == nil {
+		return nil
+	}
+	d := complexDoc(*z)
+	return &d
+}
+
+// timeJSON is the document of `nodal step` and `nodal impulse`.
+type timeJSON struct {
+	Kind          string        `json:"kind"`
+	ClosedForm    string        `json:"closed_form"`
+	Dirac         float64       `json:"dirac"`
+	Modes         []modeJSON    `json:"modes"`
+	Metrics       timeMetrics   `json:"metrics"`
+	Points        []pointJSON   `json:"points"`
+	SpanS         float64       `json:"span_s"`
+	Unstable      bool          `json:"unstable"`
+	UnstablePoles []complexJSON `json:"unstable_poles,omitempty"`
+	AxisPoles     []complexJSON `json:"axis_poles,omitempty"`
+	Overflow      bool          `json:"overflow,omitempty"`
+}
+
+// modeJSON is one term t^power·e^(σt)·(cos·cos ωt + sin·sin ωt).
+type modeJSON struct {
+	Power     int     `json:"power"`
+	SigmaPerS float64 `json:"sigma_per_s"`
+	OmegaRad  float64 `json:"omega"`
+	Cos       float64 `json:"cos"`
+	Sin       float64 `json:"sin"`
+}
+
+// timeMetrics are the figures of a time response (see timeresp.Metrics).
+type timeMetrics struct {
+	Final         *float64 `json:"final"`
+	RiseTimeS     *float64 `json:"rise_time_s"`
+	Rise10S       *float64 `json:"rise_10pct_s,omitempty"`
+	Rise90S       *float64 `json:"rise_90pct_s,omitempty"`
+	OvershootPct  *float64 `json:"overshoot_pct"`
+	PeakTimeS     *float64 `json:"peak_time_s"`
+	Peak          *float64 `json:"peak"`
+	SettlingTimeS *float64 `json:"settling_time_s"`
+	Note          string   `json:"note,omitempty"`
+}
+
+// pointJSON is one sample y(t_s).
+type pointJSON struct {
+	TS float64 `json:"t_s"`
+	Y  float64 `json:"y"`
+}
+
+// timeDoc returns the document of r.
+func timeDoc(r *timeresp.TimeResponse) timeJSON {
+	m := r.Metrics
+	d := timeJSON{Kind: r.Kind, ClosedForm: closedFormText(r), Dirac: r.Dirac, SpanS: r.SpanS,
+		Unstable: r.Unstable, UnstablePoles: complexDocs(r.UnstablePoles), AxisPoles: complexDocs(r.AxisPoles), Overflow: r.Overflow,
+		Metrics: timeMetrics{Final: m.Final, RiseTimeS: m.RiseTimeS, Rise10S: m.Rise10S, Rise90S: m.Rise90S, OvershootPct: m.OvershootPct,
+			PeakTimeS: m.PeakTimeS, Peak: m.Peak, SettlingTimeS: m.SettlingTimeS, Note: m.Note}}
+	if r.Modes != nil {
+		d.Modes = make([]modeJSON, len(r.Modes))
+	}
+	for i, md := range r.Modes {
+		d.Modes[i] = modeJSON{Power: md.Power, SigmaPerS: md.SigmaPerS, OmegaRad: md.OmegaRad, Cos: md.Cos, Sin: md.Sin}
+	}
+	if r.Points != nil {
+		d.Points = make([]pointJSON, len(r.Points))
+	}
+	for i, p := range r.Points {
+		d.Points[i] = pointJSON{TS: p.TS, Y: p.Y}
+	}
+	return d
+}
+
+// steadyJSON is the document of `nodal drive`.
+type steadyJSON struct {
+	Terms       []steadyTermJSON `json:"terms"`
+	DCIn        float64          `json:"dc_in"`
+	DCOut       *float64         `json:"dc_out"`
+	DCUnbounded bool             `json:"dc_unbounded,omitempty"`
+	Output      string           `json:"output_expression"`
+	Phasors     []nodePhasor     `json:"phasors,omitempty"`
+}
+
+// steadyTermJSON is one sinusoid of the drive and its output.
+type steadyTermJSON struct {
+	FreqHz       float64  `json:"freq_hz"`
+	OmegaRad     float64  `json:"omega"`
+	Function     string   `json:"function"`
+	InAmplitude  float64  `json:"in_amplitude"`
+	InPhaseDeg   float64  `json:"in_phase_deg"`
+	Gain         *float64 `json:"gain"`
+	ShiftDeg     *float64 `json:"shift_deg"`
+	OutAmplitude *float64 `json:"out_amplitude"`
+	OutPhaseDeg  *float64 `json:"out_phase_deg"`
+	Unbounded    bool     `json:"unbounded,omitempty"`
+}
+
+// steadyDoc returns the document of st with the node phasors of --all.
+func steadyDoc(st *steady.Steady, phasors []nodePhasor) steadyJSON {
+	d := steadyJSON{DCIn: st.DCIn, DCOut: st.DCOut, DCUnbounded: st.DCUnbounded, Output: steadyText(st), Phasors: phasors}
+	if st.Terms != nil {
+		d.Terms = make([]steadyTermJSON, len(st.Terms))
+	}
+	for i, t := range st.Terms {
+		d.Terms[i] = steadyTermJSON{FreqHz: t.FreqHz, OmegaRad: t.OmegaRad, Function: t.Function, InAmplitude: t.InAmplitude,
+			InPhaseDeg: t.InPhaseDeg, Gain: t.Gain, ShiftDeg: t.ShiftDeg, OutAmplitude: t.OutAmplitude, OutPhaseDeg: t.OutPhaseDeg, Unbounded: t.Unbounded}
+	}
+	return d
+}
+
+// checkJSON is the document of `nodal check`: the numeric comparison with
+// the symbolic one; agrees is the final verdict, numeric_agrees the
+// numeric one alone.
+type checkJSON struct {
+	CircuitNum       []float64     `json:"circuit_num"`
+	CircuitDen       []float64     `json:"circuit_den"`
+	YoursNum         []float64     `json:"yours_num"`
+	YoursDen         []float64     `json:"yours_den"`
+	Coefficients     []coefJSON    `json:"coefficients"`
+	Poles            []matchJSON   `json:"poles"`
+	Zeros            []matchJSON   `json:"zeros"`
+	FromHz           float64       `json:"from_hz"`
+	ToHz             float64       `json:"to_hz"`
+	MaxMagDiffDB     float64       `json:"max_mag_diff_db"`
+	MaxMagDiffHz     float64       `json:"max_mag_diff_hz"`
+	MaxPhaseDiffDeg  float64       `json:"max_phase_diff_deg"`
+	MaxPhaseDiffHz   float64       `json:"max_phase_diff_hz"`
+	YoursCancelled   []complexJSON `json:"yours_cancelled"`
+	CircuitCancelled []complexJSON `json:"circuit_cancelled"`
+	Diagnosis        []string      `json:"diagnosis"`
+	Agrees           bool          `json:"agrees"`
+	NumericAgrees    bool          `json:"numeric_agrees"`
+	Symbolic         symbolicCheck `json:"symbolic"`
+}
+
+// coefJSON compares the coefficient of s^power on one side.
+type coefJSON struct {
+	Side    string  `json:"side"`
+	Power   int     `json:"power"`
+	Circuit float64 `json:"circuit"`
+	Yours   float64 `json:"yours"`
+	Ratio   float64 `json:"ratio"`
+	Status  string  `json:"status"`
+}
+
+// matchJSON sets a circuit root beside the nearest of yours (null for none).
+type matchJSON struct {
+	Circuit *complexJSON `json:"circuit"`
+	Yours   *complexJSON `json:"yours"`
+	RelDiff float64      `json:"rel_diff"`
+}
+
+// rootDocs returns the root matches ms as matchJSON, nil for none.
+func matchDocs(ms []check.RootMatch) []matchJSON {
+	var out []matchJSON
+	for _, m := range ms {
+		out = append(out, matchJSON{Circuit: complexPtrDoc(m.Circuit), Yours: complexPtrDoc(m.Yours), RelDiff: m.RelDiff})
+	}
+	return out
+}
+
+// checkDoc returns the document of a comparison res with its symbolic
+// part sc; agrees is the final verdict.
+func checkDoc(res *check.CheckResult, agrees bool, sc symbolicCheck) checkJSON {
+	d := checkJSON{Agrees: agrees, NumericAgrees: res.Agrees, CircuitNum: res.CircuitNum, CircuitDen: res.CircuitDen,
+		YoursNum: res.YoursNum, YoursDen: res.YoursDen, Poles: matchDocs(res.Poles), Zeros: matchDocs(res.Zeros),
+		FromHz: res.FromHz, ToHz: res.ToHz, MaxMagDiffDB: res.MaxMagDiffDB, MaxMagDiffHz: res.MaxMagDiffHz,
+		MaxPhaseDiffDeg: res.MaxPhaseDiffDeg, MaxPhaseDiffHz: res.MaxPhaseDiffHz,
+		YoursCancelled: complexDocs(res.YoursCancelled), CircuitCancelled: complexDocs(res.CircuitCancelled),
+		Diagnosis: diagnosis(res), Symbolic: sc}
+	for _, c := range res.Coefficients {
+		d.Coefficients = append(d.Coefficients, coefJSON{Side: c.Side, Power: c.Power, Circuit: c.Circuit, Yours: c.Yours, Ratio: c.Ratio, Status: string(c.Status)})
+	}
+	return d
+}
+
+// tfJSON is the document of `nodal tf` (numeric), keys in alphabetical
+// order. gain_dc is null for a
+// pole at DC and 0 for a zero there; gain_dc_db only for a finite,
+// non-zero DC gain; f3db and the peak only when they exist.
+type tfJSON struct {
+	Cancelled   []complexJSON `json:"cancelled,omitempty"`
+	Den         []float64     `json:"den"`
+	F3dBHz      []float64     `json:"f3db_hz,omitempty"`
+	F3dBRefDB   *float64      `json:"f3db_ref_db,omitempty"`
+	Factored    string        `json:"factored"`
+	Gain        float64       `json:"gain"`
+	GainDC      *float64      `json:"gain_dc"`
+	GainDCDB    *float64      `json:"gain_dc_db,omitempty"`
+	HFAsymptote asymptoteJSON `json:"hf_asymptote"`
+	Num         []float64     `json:"num"`
+	ODE         string        `json:"ode"`
+	Pairs       []pairJSON    `json:"pairs"`
+	PeakDB      *float64      `json:"peak_db,omitempty"`
+	PeakHz      *float64      `json:"peak_hz,omitempty"`
+	Poles       []complexJSON `json:"poles"`
+	Unit        string        `json:"unit"`
+	What        string        `json:"what"`
+	ZeroPairs   []pairJSON    `json:"zero_pairs"`
+	Zeros       []complexJSON `json:"zeros"`
+}
+
+// asymptoteJSON is gain·s^power, the slope in dB per decade.
+type asymptoteJSON struct {
+	Gain             *float64 `json:"gain"`
+	Power            int      `json:"power"`
+	SlopeDBPerDecade *float64 `json:"slope_db_per_decade"`
+}
+
+// pairJSON is a complex pair. q is null for a pair on the jω axis (Q is
+// infinite, which JSON cannot carry) and q_reason says so.
+type pairJSON struct {
+	F0Hz     float64  `json:"f0_hz"`
+	OmegaRad float64  `json:"omega0_rad_s"`
+	Q        *float64 `json:"q"`
+	QReason  string   `json:"q_reason,omitempty"`
+	Zeta     float64  `json:"zeta"`
+}
+
+// qOnAxis is the reason a pair on the jω axis has no number for Q.
+const qOnAxis = "pair on the jω axis"
+
+// rootsJSON returns rs as complexJSON, [] for none.
+func rootsJSON(rs []complex128) []complexJSON {
+	out := make([]complexJSON, len(rs))
+	for i, r := range rs {
+		out[i] = complexDoc(r)
+	}
+	return out
+}
+
+func pairsJSON(ps []transfer.RootPair) []pairJSON {
+	out := make([]pairJSON, len(ps))
+	for i, p := range ps {
+		out[i] = pairJSON{F0Hz: p.F0Hz, OmegaRad: p.OmegaRad, Q: finiteOrNil(p.Q), Zeta: p.Zeta}
+		if math.IsInf(p.Q, 1) {
+			out[i].QReason = qOnAxis
+		}
+	}
+	return out
+}
+
+// tfDoc returns the document of `nodal tf` for rep.
+func tfDoc(rep *tfReport) tfJSON {
+	h := rep.r.tf
+	doc := tfJSON{What: rep.r.what, Unit: rep.r.unit, Num: h.Num, Den: h.Den,
+		Poles: rootsJSON(h.Poles), Zeros: rootsJSON(h.Zeros), Pairs: pairsJSON(rep.pairs), ZeroPairs: pairsJSON(rep.zeroPairs),
+		Gain: h.Gain, Factored: factoredText(h), ODE: odeText(rep.ode, rep.r.yName, rep.r.uName),
+		HFAsymptote: asymptoteJSON{Gain: finiteOrNil(rep.hf.Gain), Power: rep.hf.Power, SlopeDBPerDecade: finiteOrNil(rep.hf.SlopeDBPerDecade)}}
+	switch {
+	case rep.dc.Power == 0:
+		doc.GainDC, doc.GainDCDB = finiteOrNil(rep.dc.Gain), finiteOrNil(rep.dc.GainDB)
+	case rep.dc.Power > 0:
+		zero := 0.0
+		doc.GainDC = &zero
+	}
+	if len(h.Cancelled) > 0 {
+		doc.Cancelled = rootsJSON(h.Cancelled)
+	}
+	if rep.bw != nil {
+		doc.F3dBHz, doc.F3dBRefDB = rep.bw.CrossingsHz, finiteOrNil(rep.bw.RefDB)
+	}
+	if rep.peak != nil {
+		doc.PeakDB, doc.PeakHz = finiteOrNil(rep.peak.GainDB), finiteOrNil(rep.peak.FreqHz)
+	}
+	return doc
+}
+
+// polysJSON holds the coefficient strings of N and D of a symbolic
+// result: index k is the coefficient of s^k; each string uses only
+// numbers, names, "*", "+" and "-" (and "/" inside an exact fraction).
+type polysJSON struct {
+	Num []string `json:"num"`
+	Den []string `json:"den"`
+}

@@ -1,0 +1,93 @@
+package main
+
+import (
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+	"testing"
+)
+
+// schemaCases run every command that writes JSON on a circuit of the
+// command tests; the key set of each document is pinned in
+// testdata/json_keys/NAME.keys (one key path per line, "[]" for the
+// elements of an array, their key sets merged). Regenerate with
+// NODAL_UPDATE_JSON_KEYS=1 go test ./cmd/nodal -run TestJSONSchemas, and
+// review the diff: a changed key breaks every script that reads it.
+var schemaCases = []struct {
+	name string
+	args []string
+}{
+	{"parts", []string{"parts", rcFile, "--format", "json"}},
+	{"equations", []string{"equations", rcFile, "--format", "json"}},
+	{"sweep", []string{"sweep", rcFile, "--out", "out", "--at", "1k,2k", "--format", "json"}},
+	{"tf", []string{"tf", "../../testdata/examples/logger_antialias.nodal", "--out", "out", "--format", "json"}},
+	{"tf_rc", []string{"tf", rcFile, "--out", "out", "--format", "json"}},
+	{"tf_axis", []string{"tf", "testdata/lc_tank.nodal", "--out", "out", "--format", "json"}},
+	{"tf_symbolic", []string{"tf", rcFile, "--out", "out", "--symbolic", "--format", "json"}},
+	{"check", []string{"check", rcFile, "--out", "out", "--ode", "R1*C1*y' + y = u", "--format", "json"}},
+	{"drive", []string{"drive", rcFile, "--out", "out", "--signal", "sin(2*pi*1k*t) + 1", "--format", "json"}},
+	{"step", []string{"step", "../../testdata/examples/logger_antialias.nodal", "--out", "out", "--points", "5", "--format", "json"}},
+	{"impulse", []string{"impulse", rcFile, "--out", "out", "--points", "5", "--format", "json"}},
+	{"tolerance", []string{"tolerance", rcFile, "--out", "out", "--metric", "f3db", "--metric", "gain@1kHz", "--worst-case", "--sensitivity", "--runs", "20", "--format", "json"}},
+	{"verify", []string{"verify", "testdata/bridge_pass.nodal", "--runs", "20", "--format", "json"}},
+	{"snap", []string{"snap", "testdata/bridge_snap.nodal", "--series", "E24", "--format", "json"}},
+}
+
+// keyPaths adds the key paths of v under prefix to set.
+func keyPaths(prefix string, v any, set map[string]bool) {
+	switch x := v.(type) {
+	case map[string]any:
+		for k, e := range x {
+			p := k
+			if prefix != "" {
+				p = prefix + "." + k
+			}
+			set[p] = true
+			keyPaths(p, e, set)
+		}
+	case []any:
+		for _, e := range x {
+			keyPaths(prefix+"[]", e, set)
+		}
+	}
+}
+
+func TestJSONSchemas(t *testing.T) {
+	update := os.Getenv("NODAL_UPDATE_JSON_KEYS") != ""
+	for _, c := range schemaCases {
+		t.Run(c.name, func(t *testing.T) {
+			r := runNodal(t, "", c.args...)
+			if r.code != 0 && r.code != 1 {
+				t.Fatalf("exit %d: %s", r.code, r.stderr)
+			}
+			var doc any
+			if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
+				t.Fatalf("not JSON: %v\n%s", err, r.stdout)
+			}
+			set := map[string]bool{}
+			keyPaths("", doc, set)
+			keys := make([]string, 0, len(set))
+			for k := range set {
+				keys = append(keys, k)
+			}
+			sort.Strings(keys)
+			got := strings.Join(keys, "\n") + "\n"
+			file := filepath.Join("testdata", "json_keys", c.name+".keys")
+			if update {
+				if err := os.WriteFile(file, []byte(got), 0o644); err != nil {
+					t.Fatal(err)
+				}
+				return
+			}
+			want, err := os.ReadFile(file)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got != string(want) {
+				t.Errorf("JSON keys of %s changed:\n got: %s\nwant: %s", c.name, strings.ReplaceAll(got, "\n", " "), strings.ReplaceAll(string(want), "\n", " "))
+			}
+		})
+	}
+}
