@@ -100,7 +100,8 @@ type RequireStmt struct {
 	Pos    lexer.Position
 	Tokens []lexer.Token
 	Metric *NameRef `parser:"\"require\" @@"`
-	At     *Limit   `parser:"(\"@\" @@)?"`
+	At     *Limit   `parser:"(\"@\" @@"`
+	AtHi   *Limit   `parser:" (Range @@)?)?"` // the upper end of a band: noise_rms@20Hz..20kHz
 	Op     string   `parser:"@(\"within\" | \"below\" | \"above\")"`
 	Lo     *Limit   `parser:"@@"`
 	Hi     *Limit   `parser:"(Range @@)?"`

@@ -1,6 +1,7 @@
 package netlist
 
 import (
+	"errors"
 	"fmt"
 	"strings"
 )
@@ -58,6 +59,30 @@ type MetricSubject interface {
 	PeakHz() (float64, error)                   // where it occurs, Hz
 	F0Hz() (float64, error)                     // natural frequency of the dominant pair, Hz
 	Q() (float64, error)                        // quality factor of the dominant pair
+	// NoiseDensityAt is the output noise density at f (V/√Hz for a voltage
+	// output) and NoiseRMS the output RMS noise over loHz..hiHz (V): they
+	// need the circuit's noise sources, which a transfer function alone
+	// does not have (see MetricSpec.Noise).
+	NoiseDensityAt(freqHz float64) (float64, error)
+	NoiseRMS(loHz, hiHz float64) (float64, error)
+}
+
+// ErrNeedsNoise is what a subject without noise sources (a transfer
+// function, a spot solve) answers to NoiseDensityAt and NoiseRMS.
+var ErrNeedsNoise = errors.New("a noise metric needs the circuit's noise sources, not a transfer function")
+
+// UnitVoltPerRootHz is the unit of a noise density metric. Its limits are
+// written in volts per root hertz without the "/√Hz" (noise@1kHz below
+// 20nV), since a limit is one value token.
+const UnitVoltPerRootHz = "V/√Hz"
+
+// LimitUnit returns the unit a limit of the metric is written in: Unit,
+// except V for a density in V/√Hz.
+func (m MetricSpec) LimitUnit() string {
+	if m.Unit == UnitVoltPerRootHz {
+		return UnitVolt
+	}
+	return m.Unit
 }
 
 // MetricSpec is one entry of the metric registry: how the metric is
@@ -74,6 +99,9 @@ type MetricSpec struct {
 	// Turns is true for a phase: values are kept within ±180° of the
 	// nominal value across tolerance draws (a whole turn is the same phase).
 	Turns bool
+	// Noise is true when Eval reads NoiseDensityAt or NoiseRMS: the
+	// evaluator must give the subject the circuit's noise analysis.
+	Noise bool
 	// Help says in a few words what the metric is.
 	Help string
 	// Eval returns the metric of s for the parameter p, in Unit.
@@ -109,6 +137,10 @@ var metricSpecs = []MetricSpec{
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.Q() }},
 	{Name: "dc", Unit: UnitDecibel, Spot: true, Help: "gain at DC, dB",
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.DCGainDB() }},
+	{Name: "noise", Unit: UnitVoltPerRootHz, Param: MetricParamFreq, Noise: true, Help: "output noise density at F, V/√Hz (300 K)",
+		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.NoiseDensityAt(p.FreqHz) }},
+	{Name: "noise_rms", Unit: UnitVolt, Param: MetricParamBand, Noise: true, Help: "output RMS noise over F1..F2, V (300 K)",
+		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.NoiseRMS(p.LoHz, p.HiHz) }},
 }
 
 // Metrics returns the registry, in the order of help texts.
@@ -246,6 +278,9 @@ func (e *elab) require(r *RequireStmt) {
 	if r.At != nil {
 		metric += "@" + r.At.Sign + r.At.Value
 	}
+	if r.AtHi != nil {
+		metric += ".." + r.AtHi.Sign + r.AtHi.Value
+	}
 	if _, ok := findMetric(r.Metric.Name); !ok {
 		hint := suggest(r.Metric.Name, metricNamesPlain())
 		if hint == "" {
@@ -261,7 +296,7 @@ func (e *elab) require(r *RequireStmt) {
 	}
 	req := Requirement{Metric: metric, Pos: e.f.Position(r.Pos)}
 	limit := func(l *Limit) (float64, bool) {
-		v, err := ParseValue(l.Sign+l.Value, m.Unit)
+		v, err := ParseValue(l.Sign+l.Value, m.LimitUnit())
 		if err != nil {
 			want := m.Unit
 			if want == "" {

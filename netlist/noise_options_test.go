@@ -58,3 +58,32 @@ U3: opamp (a, c, c) gbw=1MHz
 		t.Errorf("U1 en %g with e=8nV; want 8e-9", got.EnVPerRtHz)
 	}
 }
+
+// TestNoiseRequirements reads the noise metrics of `require`: a density
+// at a frequency with its limit in volts (per root hertz) and an RMS over a
+// band written F1..F2.
+func TestNoiseRequirements(t *testing.T) {
+	src := "V1: vsource (in, gnd)\nR1: resistor (in, out) 1k\nC1: capacitor (out, gnd) 1n\n" +
+		"require noise_rms@20Hz..20kHz below 10uV\nrequire noise@1kHz within 1nV..5nV\n"
+	c, err := Load("r.nodal", []byte(src), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(c.Requirements) != 2 {
+		t.Fatalf("requirements %+v", c.Requirements)
+	}
+	r0, r1 := c.Requirements[0], c.Requirements[1]
+	if r0.Metric != "noise_rms@20Hz..20kHz" || r0.Op != Below || math.Abs(r0.Hi-10e-6) > 1e-20 || r0.Text != "require noise_rms@20Hz..20kHz below 10uV" {
+		t.Errorf("band requirement %+v", r0)
+	}
+	if r1.Metric != "noise@1kHz" || r1.Op != Within || math.Abs(r1.Lo-1e-9) > 1e-24 || math.Abs(r1.Hi-5e-9) > 1e-24 {
+		t.Errorf("density requirement %+v", r1)
+	}
+	m, p, err := ParseMetric(r0.Metric)
+	if err != nil || m.Unit != UnitVolt || !m.Noise || p.LoHz != 20 || p.HiHz != 20e3 {
+		t.Errorf("ParseMetric(%s) = %+v %+v %v", r0.Metric, m, p, err)
+	}
+	if u, _ := MetricUnit("noise@1kHz"); u != "V/√Hz" {
+		t.Errorf("unit of noise@F %q", u)
+	}
+}

@@ -91,7 +91,7 @@ func (s *Source) gain(z []complex128) complex128 {
 // Sources lists the noise sources of c at the absolute temperature tempK
 // (K, > 0), in part order, for the output ob (resolved by mna): every
 // resistor not marked noiseless, and for each opamp its en (when > 0) and
-// in at each input (when > 0). Capacitors, inductors, controlled and
+// in at each input not on Ground (when > 0). Capacitors, inductors, controlled and
 // independent sources are noiseless.
 func Sources(c *netlist.Circuit, m *mna.Matrices, ob mna.Observation, tempK float64) ([]Source, error) {
 	if !(tempK > 0) || math.IsInf(tempK, 0) {
@@ -132,6 +132,9 @@ func Sources(c *netlist.Circuit, m *mna.Matrices, ob mna.Observation, tempK floa
 			}
 			if p.InAPerRtHz > 0 {
 				for j, suffix := range []string{".in+", ".in-"} {
+					if m.NodeIndex(p.Nodes[j]) < 0 {
+						continue // an input on Ground: its current noise goes nowhere
+					}
 					out = append(out, Source{Name: p.Name + suffix, Part: p.Name, Kind: InputCurrent,
 						WhitePSD: p.InAPerRtHz * p.InAPerRtHz, CornerHz: p.FinHz,
 						into: m.NodeIndex(p.Nodes[j]), from: -1, branch: -1})

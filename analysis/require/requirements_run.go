@@ -224,10 +224,14 @@ func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, e
 	if err != nil {
 		return nil, nil, err
 	}
+	sub, err := variation.MetricSubject(c, r.out, tf, r.metrics)
+	if err != nil {
+		return nil, nil, err
+	}
 	vals := make([]float64, len(r.metrics))
 	why := make([]error, len(r.metrics))
 	for i, m := range r.metrics {
-		v, err := m.Eval(tf)
+		v, err := m.EvalOn(sub)
 		if err != nil {
 			v, why[i] = math.NaN(), err
 		}

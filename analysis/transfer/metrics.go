@@ -91,11 +91,15 @@ func (h *TransferFunction) DominantPair() (RootPair, error) {
 
 // Eval returns the metric's value for tf in the metric's unit (Unit),
 // through the registry entry's Eval on tf's MetricSubject.
-func (m Metric) Eval(tf *TransferFunction) (float64, error) {
+func (m Metric) Eval(tf *TransferFunction) (float64, error) { return m.EvalOn(tf.Subject()) }
+
+// EvalOn returns the metric's value on any subject (a transfer function's,
+// or one that also answers the noise quantities), in Unit.
+func (m Metric) EvalOn(s netlist.MetricSubject) (float64, error) {
 	if m.Spec.Eval == nil {
 		return 0, fmt.Errorf("metric %q not parsed", m.Name)
 	}
-	v, err := m.Spec.Eval(tf.Subject(), m.Param)
+	v, err := m.Spec.Eval(s, m.Param)
 	if err != nil {
 		return 0, fmt.Errorf("%s: %w", m.Name, err)
 	}
@@ -127,6 +131,9 @@ func (s tfSubject) F3dBHz() (float64, error) {
 	}
 	return bw.CrossingsHz[0], nil
 }
+
+func (tfSubject) NoiseDensityAt(float64) (float64, error) { return 0, netlist.ErrNeedsNoise }
+func (tfSubject) NoiseRMS(_, _ float64) (float64, error)  { return 0, netlist.ErrNeedsNoise }
 
 func (s tfSubject) PeakDB() (float64, error) {
 	pk, err := s.tf.Peak()

@@ -5,9 +5,10 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
-	"nodal/analysis/transfer"
 	"strings"
 
+	"nodal/analysis/noise"
+	"nodal/analysis/transfer"
 	"nodal/mna"
 	"nodal/netlist"
 )
@@ -124,9 +125,13 @@ func (e *MetricEvaluator) evalExtract(c *netlist.Circuit) ([]float64, error) {
 	if err != nil {
 		return nil, err
 	}
+	sub, err := MetricSubject(c, e.out, tf, e.metrics)
+	if err != nil {
+		return nil, err
+	}
 	out := make([]float64, len(e.metrics))
 	for i, m := range e.metrics {
-		v, err := m.Eval(tf)
+		v, err := m.EvalOn(sub)
 		if err != nil {
 			return nil, err
 		}
@@ -139,6 +144,18 @@ func (e *MetricEvaluator) evalExtract(c *netlist.Circuit) ([]float64, error) {
 		out[i] = v
 	}
 	return out, nil
+}
+
+// MetricSubject is what the metrics are evaluated on: tf's subject, with
+// the noise of c at out when a metric needs it (noise@F, noise_rms@F1..F2).
+// The requirement runs of package require use it too.
+func MetricSubject(c *netlist.Circuit, out mna.Output, tf *transfer.TransferFunction, metrics []transfer.Metric) (netlist.MetricSubject, error) {
+	for _, m := range metrics {
+		if m.Spec.Noise {
+			return noise.MetricSubject(c, out, tf.Subject())
+		}
+	}
+	return tf.Subject(), nil
 }
 
 // nearBranch moves phase metric i by whole turns to within 180° of its
@@ -179,6 +196,9 @@ func (spotSubject) PeakDB() (float64, error) { return 0, errNeedsPoles }
 func (spotSubject) PeakHz() (float64, error) { return 0, errNeedsPoles }
 func (spotSubject) F0Hz() (float64, error)   { return 0, errNeedsPoles }
 func (spotSubject) Q() (float64, error)      { return 0, errNeedsPoles }
+
+func (spotSubject) NoiseDensityAt(float64) (float64, error) { return 0, netlist.ErrNeedsNoise }
+func (spotSubject) NoiseRMS(_, _ float64) (float64, error)  { return 0, netlist.ErrNeedsNoise }
 
 // metricUnit returns the unit of a metric's values ("dB", "deg", "Hz",
 // or "" for q and for names ParseMetric does not know).

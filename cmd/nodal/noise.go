@@ -405,17 +405,26 @@ func noiseJSON(r *noiseRun) object {
 	return doc
 }
 
-// writeNoisePlot draws the output density with the largest contributors
-// (by their power over the band, or over the sweep without a band), and
-// below it the input-referred density when there is an input.
+// writeNoisePlot writes noiseFigure to path.
 func writeNoisePlot(e *env, path string, protect []string, l *loaded, r *noiseRun, traces int) error {
 	format, err := plot.FormatFromPath(path)
 	if err != nil {
 		return err
 	}
+	fig, err := noiseFigure(l, r, traces)
+	if err != nil {
+		return err
+	}
+	return writeTo(e, path, append(protect, l.name), func(w io.Writer) error { return fig.Encode(w, format) })
+}
+
+// noiseFigure draws the output density with the largest contributors (by
+// their power over the band, or over the sweep without a band), and below
+// it the input-referred density when there is an input.
+func noiseFigure(l *loaded, r *noiseRun, traces int) (*plot.Figure, error) {
 	a, sp := r.a, r.sp
 	if len(sp.FreqHz) < 2 {
-		return fmt.Errorf("--plot needs at least 2 frequencies")
+		return nil, fmt.Errorf("--plot needs at least 2 frequencies")
 	}
 	order := contributorOrder(r)
 	out := []plot.DensityTrace{{Label: "total " + a.Output, FreqHz: sp.FreqHz, Density: sp.OutDensity}}
@@ -433,19 +442,19 @@ func writeNoisePlot(e *env, path string, protect []string, l *loaded, r *noiseRu
 	fig, err := plot.Density(out, plot.DensityOptions{Title: title + ", " + temperatureText(a.TempK),
 		YLabel: "output noise density (" + a.OutUnit + "/√Hz)"})
 	if err != nil {
-		return err
+		return nil, err
 	}
 	if a.HasInput() {
 		in, err := plot.Density([]plot.DensityTrace{{Label: "input-referred, " + a.Input, FreqHz: sp.FreqHz, Density: sp.InDensity}},
 			plot.DensityOptions{YLabel: "input-referred density (" + a.InUnit + "/√Hz)", Panel: "input", Height: 8 * vg.Centimeter})
 		if err != nil {
-			return err
+			return nil, err
 		}
 		if fig, err = plot.Stack(fig, in); err != nil {
-			return err
+			return nil, err
 		}
 	}
-	return writeTo(e, path, append(protect, l.name), func(w io.Writer) error { return fig.Encode(w, format) })
+	return fig, nil
 }
 
 // contributorOrder lists source indices largest first: by band power when

@@ -72,7 +72,8 @@ func TestNoiseRCCommand(t *testing.T) {
 }
 
 // TestNoiseCommandTable: the TIA example, the current output labelled in
-// A/√Hz, opamp rows per input, the plot written, help with the example.
+// A/√Hz, the opamp rows (no U1.in+: that input is on gnd), the plot
+// written, help with the example.
 func TestNoiseCommandTable(t *testing.T) {
 	dir := t.TempDir()
 	svg := filepath.Join(dir, "n.svg")
@@ -80,7 +81,7 @@ func TestNoiseCommandTable(t *testing.T) {
 	if r.code != 0 {
 		t.Fatalf("code %d: %s", r.code, r.stderr)
 	}
-	for _, s := range []string{"temperature 300 K", "in_a_per_rthz", "out_rms_v", "in_rms_a", "U1.en", "U1.in+", "U1.in-", "enbw_hz", "top_source"} {
+	for _, s := range []string{"temperature 300 K", "in_a_per_rthz", "out_rms_v", "in_rms_a", "U1.en", "U1.in-", "enbw_hz", "top_source"} {
 		if !strings.Contains(r.stdout, s) {
 			t.Errorf("table lacks %q:\n%s", s, r.stdout)
 		}
@@ -118,5 +119,33 @@ func TestNoiseCommandErrors(t *testing.T) {
 		if r.code != 2 || !strings.Contains(r.stderr, tc.want) {
 			t.Errorf("%v: code %d, stderr %q; want 2 and %q", tc.args, r.code, r.stderr, tc.want)
 		}
+	}
+}
+
+// TestNoiseRequirementCommands: a noise requirement is judged by verify
+// (passing and failing limits) and gives the report its noise section.
+func TestNoiseRequirementCommands(t *testing.T) {
+	src, err := os.ReadFile(tiaFile)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := runNodal(t, "", "verify", tiaFile, "--out", "out", "--runs", "50")
+	if r.code != 0 || !strings.Contains(r.stdout, "noise_rms@100Hz..100kHz below 8uV") || !strings.Contains(r.stdout, "6.2") {
+		t.Errorf("verify: code %d\n%s%s", r.code, r.stdout, r.stderr)
+	}
+	failing := filepath.Join(t.TempDir(), "tia.nodal")
+	if err := os.WriteFile(failing, []byte(strings.Replace(string(src), "below 8uV", "below 5uV", 1)), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if r := runNodal(t, "", "verify", failing, "--out", "out", "--runs", "50"); r.code != 1 {
+		t.Errorf("verify with a 5 µV limit: code %d; want 1\n%s%s", r.code, r.stdout, r.stderr)
+	}
+	r = runNodal(t, "", "report", tiaFile, "--format", "text", "--runs", "50")
+	if r.code != 0 || !strings.Contains(r.stdout, "Noise\n-----") || !strings.Contains(r.stdout, "equivalent noise bandwidth") {
+		t.Errorf("report: code %d, no noise section\n%s", r.code, r.stderr)
+	}
+	r = runNodal(t, "", "report", rcFile, "--format", "text", "--runs", "50")
+	if r.code != 0 || strings.Contains(r.stdout, "Noise\n-----") {
+		t.Errorf("report without a noise requirement: code %d, noise section present", r.code)
 	}
 }
