@@ -149,3 +149,16 @@ func TestNoiseRequirementCommands(t *testing.T) {
 		t.Errorf("report without a noise requirement: code %d, noise section present", r.code)
 	}
 }
+
+// FuzzNoiseFlags: --temp gives a finite temperature above 0 K or an
+// error, --band a finite band 0 < F1 < F2 or an error; never a panic.
+func FuzzNoiseFlags(f *testing.F) {
+	f.Fuzz(func(t *testing.T, s string) {
+		if k, err := parseTemperature(s); err == nil && !(k > 0 && !math.IsInf(k, 0)) {
+			t.Fatalf("--temp %q: %v K", s, k)
+		}
+		if lo, hi, err := parseBand(s); err == nil && !(lo > 0 && hi > lo && !math.IsInf(hi, 0)) {
+			t.Fatalf("--band %q: %v..%v", s, lo, hi)
+		}
+	})
+}
