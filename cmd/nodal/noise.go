@@ -53,10 +53,11 @@ equivalent noise bandwidth ∫|H|² df / max|H|², each source's RMS and
 share (an opamp's en, in+ and in- are separate rows: U1.en, U1.in+,
 U1.in-), and the SNR in dB with --signal-rms.
 
-Integration: adaptive Simpson quadrature in ln f, starting from 50
-intervals per decade and halving every interval until its Richardson
-error estimate is below 1e-5 of the total (0.1 % is promised); the
-estimate and the number of frequencies evaluated are printed.
+Integration: globally adaptive Simpson quadrature in ln f. It starts from
+50 intervals per decade and keeps halving the interval with the largest
+Richardson error estimate until the summed estimate is below 1e-5 of the
+total (0.1 % is promised); the estimate and the number of frequencies
+evaluated are printed. A band it cannot resolve is an error.
 
 Example (testdata/examples/photodiode_tia.nodal, a photodiode
 transimpedance front end; the input is the photocurrent Iph, so the
