@@ -12,14 +12,14 @@ import (
 // Sign conventions (those of the circuit language):
 //
 //   - The current through a two-terminal part, i(PART), flows into its first
-//     terminal and out of its second, through the part. For a vsource this
+//     terminal and out of its second, through the part. For a voltage source this
 //     is the current entering its + terminal from the circuit: a source that
 //     delivers power has a negative i(PART).
-//   - An isource of value J pushes J into the node on its first terminal,
+//   - A current source of value J pushes J into the node on its first terminal,
 //     through the external circuit, and takes it back out of the node on
-//     its second. With isource (a, gnd) into a resistor R from a to gnd,
+//     its second. With a current source (a, gnd) into a resistor R from a to gnd,
 //     v(a) = +R·J; the current through the part, i(PART), is −J.
-//   - A vccs or cccs pushes its controlled current the same way, into the
+//   - A controlled current source pushes its controlled current the same way, into the
 //     node on its first terminal.
 //   - The branch current of an opamp, i(PART), is the current its output
 //     pushes into the output node.
@@ -153,7 +153,7 @@ func (b *builder) checkControl(p *netlist.Part) error {
 	ctl, ok := b.c.Part(p.Control)
 	if !ok || ctl.Kind == netlist.Coupling {
 		return partLookupError(p.Name, &LookupError{What: "part", Name: p.Control, Known: newNames(b.c).currentParts(),
-			Why: fmt.Sprintf("sense=%q names no part with a current", p.Control)})
+			Why: fmt.Sprintf("i(%s) names no part with a current", p.Control)})
 	}
 	return nil
 }

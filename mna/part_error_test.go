@@ -19,11 +19,11 @@ func TestPartErrorWrapsLookup(t *testing.T) {
 		name, part, what, missing, msg string
 		sense                          func() netlist.Part
 	}{
-		{"cccs names no part", "Mirror1", "part", "Rx", `sense="Rx" names no part with a current`,
+		{"current gain names no part", "Mirror1", "part", "Rx", `i(Rx) names no part with a current`,
 			func() netlist.Part { return testcircuit.CCCS("Mirror1", "out", gnd, 2, "Rx") }},
-		// Build registers every named sense node, so only an empty name
+		// Build registers every named control node, so only an empty name
 		// (a Circuit not made by Elaborate) misses.
-		{"vcvs names no node", "Gain1", "node", "", `sense node "" does not exist`,
+		{"voltage gain names no node", "Gain1", "node", "", `the node "" of its control v( ) does not exist`,
 			func() netlist.Part { return testcircuit.VCVS("Gain1", "o2", gnd, 2, "", gnd) }},
 	}
 	for _, tc := range cases {

@@ -34,8 +34,8 @@ const (
 	// With the ExcitationVoltage observation this is the impedance seen
 	// at the source's terminals.
 	SourceTest
-	// BrokenControl breaks the control of the gain element Part (vcvs,
-	// vccs, ccvs, cccs, or an opamp with a finite gain: a0 or gbw set) and
+	// BrokenControl breaks the control of the gain element Part (a
+	// controlled source, or an opamp with a finite gain: a0 or gbw set) and
 	// drives the element as if its control quantity were a unit test
 	// signal t: its output becomes k·t, k its gain (for an opamp the
 	// output voltage behind rout is A(s)·t). Every independent source is
@@ -77,8 +77,8 @@ const (
 	ExcitationVoltage
 	// ControlReturn observes the control quantity of the gain element
 	// broken by a BrokenControl excitation (Part "" means that element):
-	// v(sense+) − v(sense−) of a vcvs/vccs, v(+) − v(−) of an opamp, the
-	// sensed current of a ccvs/cccs. Resolve turns it into a NodeVoltage or
+	// v(c) − v(d) of a v(c, d) control, v(+) − v(−) of an opamp, the
+	// current of an i(PART) control. Resolve turns it into a NodeVoltage or
 	// a PartCurrent.
 	ControlReturn
 )
@@ -327,7 +327,7 @@ func (nm names) observation(ex Excitation, ob Observation) (Observation, error) 
 		switch p.Kind {
 		case netlist.VCVS, netlist.VCCS:
 			if len(p.Sense) != 2 {
-				return ob, &PartError{Part: p.Name, Msg: "needs two sense nodes"}
+				return ob, &PartError{Part: p.Name, Msg: "needs the two nodes of its control v(c, d)"}
 			}
 			return nm.observation(ex, Observation{Kind: NodeVoltage, Node: p.Sense[0], Ref: p.Sense[1]})
 		case netlist.OpAmp:

@@ -40,7 +40,7 @@ func TestProbesClosedForms(t *testing.T) {
 // The return ratio of a non-inverting amplifier, feedback β = R2/(R1+R2):
 // T(s) = a(s)·β with a(s) = a0 for a finite gain, a0/(1 + s·a0/ωt) for a
 // single-pole op-amp (Bode's return ratio, common practice), for an op-amp
-// and for a vcvs gain element. The shared matrices are not changed.
+// and for a controlled voltage source (a voltage gain). The shared matrices are not changed.
 func TestBrokenControlLoopGain(t *testing.T) {
 	const r1, r2, a0, gbw = 9e3, 1e3, 2e4, 1e6
 	beta := r2 / (r1 + r2)
@@ -57,7 +57,7 @@ func TestBrokenControlLoopGain(t *testing.T) {
 		{"opamp a0", amp(testcircuit.OpAmp("U1", "in", "n", "out", a0, 0, 0)), func(complex128) complex128 { return a0 }},
 		{"opamp a0, gbw", amp(testcircuit.OpAmp("U1", "in", "n", "out", a0, gbw, 0)),
 			func(s complex128) complex128 { return a0 / (1 + s*a0/complex(wt, 0)) }},
-		{"vcvs", amp(testcircuit.VCVS("U1", "out", gnd, a0, "in", "n")), func(complex128) complex128 { return a0 }},
+		{"voltage gain", amp(testcircuit.VCVS("U1", "out", gnd, a0, "in", "n")), func(complex128) complex128 { return a0 }},
 	}
 	for _, tc := range cases {
 		m, err := mna.BuildMatrices(tc.c)

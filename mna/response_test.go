@@ -120,14 +120,7 @@ func TestButterworthLadder(t *testing.T) {
 // f0 = 1/(2πRC) (common practice).
 func TestWien(t *testing.T) {
 	const r, cv = 10e3, 10e-9
-	c := testcircuit.New(
-		testcircuit.V("Vs", "in", gnd, 1),
-		testcircuit.R("R1", "in", "a", r),
-		testcircuit.C("C1", "a", "out", cv),
-		testcircuit.R("R2", "out", gnd, r),
-		testcircuit.C("C2", "out", gnd, cv),
-	)
-	sys := build(t, c, mna.Input{}, "out", "")
+	sys := build(t, testcircuit.Wien(r, cv), mna.Input{}, "out", "")
 	if h := hAt(t, sys, 1/(2*math.Pi*r*cv)); !nearC(h, 1.0/3, 1e-12) {
 		t.Errorf("H(f0) = %v, want 1/3 at 0°", h)
 	}
@@ -263,14 +256,14 @@ func TestControlledSources(t *testing.T) {
 		part netlist.Part
 		want float64 // v(out)
 	}{
-		{"vcvs", testcircuit.VCVS("Gain1", "out", gnd, 5, "in", gnd), 5},
-		{"vcvs reversed sense", testcircuit.VCVS("Gain1", "out", gnd, 5, gnd, "in"), -5},
+		{"voltage gain", testcircuit.VCVS("Gain1", "out", gnd, 5, "in", gnd), 5},
+		{"voltage gain with v(gnd, in)", testcircuit.VCVS("Gain1", "out", gnd, 5, gnd, "in"), -5},
 		// gm·v(in) is pushed into out (language: "pushes GM·(v_c − v_d) into a").
-		{"vccs", testcircuit.VCCS("Gm1", "out", gnd, 1e-3, "in", gnd), 1e-3 * r2},
-		{"ccvs of a resistor", testcircuit.CCVS("Tz1", "out", gnd, 4e3, "R1"), 4e3 / r1},
+		{"transconductance", testcircuit.VCCS("Gm1", "out", gnd, 1e-3, "in", gnd), 1e-3 * r2},
+		{"transresistance of a resistor", testcircuit.CCVS("Tz1", "out", gnd, 4e3, "R1"), 4e3 / r1},
 		// i(Vs) enters the + terminal from the circuit: −1/R1.
-		{"ccvs of a vsource", testcircuit.CCVS("Tz1", "out", gnd, 4e3, "Vs"), -4e3 / r1},
-		{"cccs", testcircuit.CCCS("Mirror1", "out", gnd, 10, "R1"), 10 * r2 / r1},
+		{"transresistance of a voltage source", testcircuit.CCVS("Tz1", "out", gnd, 4e3, "Vs"), -4e3 / r1},
+		{"current gain", testcircuit.CCCS("Mirror1", "out", gnd, 10, "R1"), 10 * r2 / r1},
 	}
 	for _, tc := range cases {
 		parts := append(append([]netlist.Part{}, base...), tc.part, testcircuit.R("R2", "out", gnd, r2))
@@ -302,8 +295,8 @@ func TestPartCurrents(t *testing.T) {
 	}{
 		{"resistor", rc(), "R1", iLoop},
 		{"capacitor", rc(), "C1", iLoop},
-		{"vsource delivers", rc(), "Vs", -iLoop},
-		{"isource", isrc, "I1", -1},
+		{"voltage source delivers", rc(), "Vs", -iLoop},
+		{"current source", isrc, "I1", -1},
 		{"resistor fed by isource", isrc, "R1", 1},
 	}
 	for _, tc := range cases {

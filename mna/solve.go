@@ -33,7 +33,9 @@ type luFactor struct {
 	a      []complex128
 	piv    []int
 	dinv   []complex128 // 1/U_kk
-	colmax []float64    // per column: the largest |Y_ij| before elimination
+	colmax []float64    // per column: the largest |Y_ij| before elimination (after equilibration)
+	rs, cs []float64    // row and column equilibration (powers of two), by position
+	rinv   []float64    // 1/rs of the rows in their current (exchanged) order, for factor
 	w      []complex128 // scratch: a right-hand side in elimination positions
 	rows   []int        // scratch: rows below the pivot with a non-zero in its column
 
@@ -69,6 +71,9 @@ func newLUFactor(sys pencil) *luFactor {
 		piv:    make([]int, n),
 		dinv:   make([]complex128, n),
 		colmax: make([]float64, n),
+		rs:     make([]float64, n),
+		rinv:   make([]float64, n),
+		cs:     make([]float64, n),
 		w:      make([]complex128, n),
 		rows:   make([]int, 0, n),
 		lStart: make([]int, n+1),
@@ -156,20 +161,61 @@ const pivotTol = 4 * 2.220446049250313e-16
 // mag1 is |re|+|im|, a cheap norm within √2 of |z|.
 func mag1(z complex128) float64 { return math.Abs(real(z)) + math.Abs(imag(z)) }
 
-// assemble sets a = G + sC from the system's matrices, visiting only the
-// pattern fixed when the factor was made.
+// assemble sets a = R·(G + sC)·K from the system's matrices, visiting
+// only the pattern fixed when the factor was made. R and K are diagonal
+// powers of two that bring every row, then every column, to a largest
+// entry in [1, 2): the singularity judgement of factor is then relative
+// to the matrix's own scale at this s, so extreme but valid values
+// (10⁻¹⁵ Ω with 10¹² F) are not mistaken for a singular matrix. Powers
+// of two change no digit of the solution.
 func (f *luFactor) assemble(sys pencil, s complex128) {
 	g, c := sys.g.RawMatrix().Data, sys.c.RawMatrix().Data
 	sr, si := real(s), imag(s)
+	n := f.n
 	clear(f.a)
 	clear(f.colmax)
+	rmax := f.rs
+	clear(rmax)
 	for _, e := range f.pat {
 		z := complex(g[e.g]+sr*c[e.c], si*c[e.c])
+		f.a[e.pos] = z
+		if m := mag1(z); m > rmax[e.pos/n] {
+			rmax[e.pos/n] = m
+		}
+	}
+	for i, m := range rmax {
+		f.rs[i] = pow2Inv(m)
+		f.rinv[i] = 1 / f.rs[i]
+	}
+	cmax := f.cs
+	clear(cmax)
+	for _, e := range f.pat {
+		z := f.a[e.pos] * complex(f.rs[e.pos/n], 0)
+		f.a[e.pos] = z
+		if m := mag1(z); m > cmax[e.col] {
+			cmax[e.col] = m
+		}
+	}
+	for j, m := range cmax {
+		f.cs[j] = pow2Inv(m)
+	}
+	for _, e := range f.pat {
+		z := f.a[e.pos] * complex(f.cs[e.col], 0)
 		f.a[e.pos] = z
 		if m := mag1(z); m > f.colmax[e.col] {
 			f.colmax[e.col] = m
 		}
 	}
+}
+
+// pow2Inv returns the power of two 2^−e with m·2^−e in [0.5, 1), or 1
+// for m = 0 (an empty row or column: factor reports it).
+func pow2Inv(m float64) float64 {
+	if m == 0 || math.IsInf(m, 0) || math.IsNaN(m) {
+		return 1
+	}
+	_, e := math.Frexp(m)
+	return math.Ldexp(1, -e)
 }
 
 // factor runs Gaussian elimination with partial pivoting in place. It
@@ -184,20 +230,28 @@ func (f *luFactor) factor() int {
 		f.lStart[k], f.uStart[k] = len(f.lRow), len(f.uCol)
 		// One pass down column k: the pivot candidate and the rows
 		// below the diagonal that need eliminating.
+		// The pivot is chosen on the magnitudes before equilibration
+		// (each row's entry divided by its scale), so the elimination
+		// is exactly that of the unscaled matrix, scaled by powers of
+		// two; the vanished-pivot judgement uses the equilibrated
+		// magnitudes.
 		diag := mag1(a[k*n+k])
-		p, best := k, diag
+		p, best, bestScaled := k, diag*f.rinv[k], diag
 		rows := f.rows[:0]
 		for i := k + 1; i < n; i++ {
 			if z := a[i*n+k]; z != 0 {
 				rows = append(rows, i)
-				if m := mag1(z); m > best {
-					p, best = i, m
+				m := mag1(z)
+				bestScaled = math.Max(bestScaled, m)
+				if m*f.rinv[i] > best {
+					p, best = i, m*f.rinv[i]
 				}
 			}
 		}
-		if best == 0 || best <= tol*f.colmax[k] {
+		if bestScaled == 0 || bestScaled <= tol*f.colmax[k] {
 			return k
 		}
+		diag *= f.rinv[k]
 		if diag >= pivotKeep*best {
 			p = k
 		}
@@ -211,6 +265,7 @@ func (f *luFactor) factor() int {
 			for j := range rk {
 				rk[j], rp[j] = rp[j], rk[j]
 			}
+			f.rinv[k], f.rinv[p] = f.rinv[p], f.rinv[k]
 			for r, i := range rows {
 				if i == p {
 					if diag != 0 {
@@ -252,11 +307,11 @@ func (f *luFactor) factor() int {
 func (f *luFactor) solve(x []complex128) {
 	w := f.w
 	for k, pk := range f.perm {
-		w[k] = x[pk]
+		w[k] = x[pk] * complex(f.rs[k], 0)
 	}
 	f.solvePermuted(w)
 	for k, pk := range f.perm {
-		x[pk] = w[k]
+		x[pk] = w[k] * complex(f.cs[k], 0)
 	}
 }
 
@@ -292,10 +347,13 @@ func (f *luFactor) solvePermuted(x []complex128) {
 // factorisation Q·Y·Qᵀ = (M_{n−1}P_{n−1}⋯M_0P_0)⁻¹·U (Q the fill-reducing
 // order, P_k the row exchanges, M_k the eliminations), Y⁻ᵀ is Uᵀ solved
 // first, then M_kᵀ and P_k replayed from k = n−1 down to 0.
+//
+// The factored matrix is the equilibrated A = R·Y·K (see assemble), so
+// Y⁻ᵀ = R·A⁻ᵀ·K: x is scaled by K on the way in and by R on the way out.
 func (f *luFactor) solveTransposed(x []complex128) {
 	w := f.w
 	for k, pk := range f.perm {
-		w[k] = x[pk]
+		w[k] = x[pk] * complex(f.cs[k], 0)
 	}
 	n, a := f.n, f.a
 	for k := 0; k < n; k++ {
@@ -320,7 +378,7 @@ func (f *luFactor) solveTransposed(x []complex128) {
 		}
 	}
 	for k, pk := range f.perm {
-		x[pk] = w[k]
+		x[pk] = w[k] * complex(f.rs[k], 0)
 	}
 }
 

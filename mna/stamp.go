@@ -14,8 +14,8 @@ const (
 	edgeResistive  edgeKind = iota // resistor
 	edgeCapacitive                 // capacitor: open at s = 0
 	edgeInductive                  // inductor: a voltage constraint at s = 0
-	edgeVoltage                    // vsource, vcvs, ccvs, opamp output (to Ground)
-	edgeCurrent                    // isource, vccs, cccs
+	edgeVoltage                    // voltage sources (controlled too), opamp output (to Ground)
+	edgeCurrent                    // current sources (controlled too)
 )
 
 // edge is one branch between node rows a and b (-1 is Ground); branch is
@@ -40,12 +40,12 @@ func (b *builder) terminals(p *netlist.Part, want int) ([]int, error) {
 	return rows, nil
 }
 
-// sense returns the node rows of a vcvs/vccs controlling pair.
+// sense returns the node rows of the pair (c, d) of a v(c, d) control.
 func (b *builder) sense(p *netlist.Part) (int, int, error) {
 	for _, n := range p.Sense {
 		if !b.hasNode(n) {
 			return 0, 0, partLookupError(p.Name, &LookupError{What: "node", Name: n, Known: b.nodeList(),
-				Why: fmt.Sprintf("sense node %q does not exist", n)})
+				Why: fmt.Sprintf("the node %q of its control v( ) does not exist", n)})
 		}
 	}
 	return b.node(p.Sense[0]), b.node(p.Sense[1]), nil
@@ -344,7 +344,10 @@ func (b *builder) stampControl(part string, rows []int, w []float64, cols []int,
 
 // stampCouplings adds the mutual inductance M = K·√(L1·L2) of every
 // coupling as −sM terms between the two inductor branch rows (dots on the
-// first terminals: both currents entering the dots add flux).
+// first terminals: both currents entering the dots add flux). Two
+// couplings of one pair are an error, and so is a set of couplings whose
+// inductance matrix is not positive semidefinite (netlist.CouplingProblem:
+// Elaborate reports it with a position, this catches drawn values).
 func (b *builder) stampCouplings() error {
 	for i := range b.c.Parts {
 		p := &b.c.Parts[i]
@@ -372,6 +375,9 @@ func (b *builder) stampCouplings() error {
 		k1, k2 := b.branches[ind[0].Name], b.branches[ind[1].Name]
 		b.addC(k1, k2, -m)
 		b.addC(k2, k1, -m)
+	}
+	if p, msg := netlist.CouplingProblem(b.c.Parts); p != nil {
+		return &PartError{Part: p.Name, Msg: msg}
 	}
 	return nil
 }

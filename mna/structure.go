@@ -11,7 +11,7 @@ import (
 // what makes G + sC singular for every s as a *StructureError:
 //
 //   - a node, or a group of nodes, with no path to Ground through any part;
-//   - a loop of branches that fix a voltage (vsources, vcvs, ccvs, opamp
+//   - a loop of branches that fix a voltage (voltage sources, controlled or not, opamp
 //     outputs) whose circulating current nothing determines;
 //   - a group of nodes reached only through current sources (a cut-set of
 //     current sources) whose net current nothing determines;

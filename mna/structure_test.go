@@ -26,7 +26,7 @@ func TestStructureErrors(t *testing.T) {
 			"in", []string{`nodes "x", "y" are not connected to gnd by any part`}},
 		{"single floating node", tc(v("Vs", "in", gnd, 1), r("R1", "in", gnd, 1e3), testcircuit.VCVS("Gain1", "o", gnd, 2, "in", "x")),
 			"o", []string{`node "x" is not connected to gnd by any part`}},
-		{"vsource loop", tc(v("Vs", "in", gnd, 1), v("V2", "in", "a", 1), v("V3", "a", gnd, 1), r("R1", "in", gnd, 1e3)),
+		{"voltage source loop", tc(v("Vs", "in", gnd, 1), v("V2", "in", "a", 1), v("V3", "a", gnd, 1), r("R1", "in", gnd, 1e3)),
 			"in", []string{"V3, Vs, V2", "form a loop", `"a"`, "every frequency"}},
 		{"current-source cut-set", tc(i("I1", "a", gnd, 1), r("R1", "a", "b", 1e3), c("C1", "b", "a", 1e-9)),
 			"a", []string{`nodes "a", "b" are reached only through current sources (I1)`, "every frequency"}},

@@ -6,7 +6,7 @@ import "testing"
 // some editors) reads like the same file without it, and value spans still
 // index the original bytes.
 func TestByteOrderMark(t *testing.T) {
-	src := "\xef\xbb\xbfVs: vsource (in, gnd) 1\nR1: resistor (in, out) 4k7\n"
+	src := "\xef\xbb\xbfVs: voltage source (in, gnd) 1\nR1: resistor (in, out) 4k7\n"
 	c, err := Load("bom.nodal", []byte(src), nil)
 	if err != nil {
 		t.Fatal(err)
@@ -23,7 +23,7 @@ func TestByteOrderMark(t *testing.T) {
 // A misspelt requirement comparison gets the three forms and the closest
 // one as a hint.
 func TestRequireComparisonHint(t *testing.T) {
-	_, err := Load("rq.nodal", []byte("Vs: vsource (in, gnd) 1\nR1: resistor (in, out) 1k\nrequire dc belw 3dB\n"), nil)
+	_, err := Load("rq.nodal", []byte("Vs: voltage source (in, gnd) 1\nR1: resistor (in, out) 1k\nrequire dc belw 3dB\n"), nil)
 	list, ok := err.(ErrorList)
 	if !ok || len(list) != 1 || list[0].Pos.Line != 3 || list[0].Pos.Col != 12 ||
 		list[0].Hint != `expected within LO..HI, below HI or above LO; did you mean "below"?` {

@@ -21,13 +21,19 @@ const (
 	Coupling                  // mutual inductance between two inductors, value is K
 )
 
+// kindKeywords are the words that name a kind in a circuit file. A
+// controlled source is written with the word of its output (voltage source,
+// current source) and a value that is a gain times one control: v(c, d) or
+// i(PART).
 var kindKeywords = map[Kind]string{
 	Resistor: "resistor", Capacitor: "capacitor", Inductor: "inductor",
-	VSource: "vsource", ISource: "isource", VCVS: "vcvs", VCCS: "vccs",
-	CCVS: "ccvs", CCCS: "cccs", OpAmp: "opamp", Coupling: "coupling",
+	VSource: "voltage source", ISource: "current source", VCVS: "voltage source", VCCS: "current source",
+	CCVS: "voltage source", CCCS: "current source", OpAmp: "opamp", Coupling: "coupling",
 }
 
-// String returns the keyword that names the kind in a circuit file.
+// String returns the keyword that names the kind in a circuit file; the
+// controlled sources share the keyword of their output ("voltage source",
+// "current source").
 func (k Kind) String() string {
 	if s, ok := kindKeywords[k]; ok {
 		return s
@@ -35,23 +41,33 @@ func (k Kind) String() string {
 	return fmt.Sprintf("Kind(%d)", int(k))
 }
 
-// KindByKeyword returns the kind named by a circuit-file keyword.
+// KindByKeyword returns the kind named by a circuit-file keyword; for
+// "voltage source" and "current source" it is the independent source (the
+// value decides whether it is controlled).
 func KindByKeyword(word string) (Kind, bool) {
-	for k, s := range kindKeywords {
-		if s == word {
+	for k := Resistor; k <= Coupling; k++ {
+		if kindKeywords[k] == word {
 			return k, true
 		}
 	}
 	return 0, false
 }
 
-// Keywords returns every element keyword, in the order of the Kind constants.
+// Keywords returns every element keyword once, in the order of the Kind
+// constants.
 func Keywords() []string {
 	out := make([]string, 0, len(kindKeywords))
 	for k := Resistor; k <= Coupling; k++ {
-		out = append(out, kindKeywords[k])
+		if !contains(out, kindKeywords[k]) {
+			out = append(out, kindKeywords[k])
+		}
 	}
 	return out
+}
+
+// Controlled reports whether k is a controlled source.
+func (k Kind) Controlled() bool {
+	return k == VCVS || k == VCCS || k == CCVS || k == CCCS
 }
 
 // Dist is the statistical distribution of a toleranced value.

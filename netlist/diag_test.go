@@ -3,12 +3,13 @@ package netlist
 import (
 	"errors"
 	"fmt"
+	"math"
 	"strings"
 	"testing"
 )
 
 // base is a valid circuit that diagnostic cases extend.
-const base = "V1: vsource (in, gnd) 1\nR1: resistor (in, out) 1k\nC1: capacitor (out, gnd) 1n\n"
+const base = "V1: voltage source (in, gnd) 1\nR1: resistor (in, out) 1k\nC1: capacitor (out, gnd) 1n\n"
 
 // loadDiags loads src and returns every diagnostic (errors and warnings).
 func loadDiags(t *testing.T, src string) ErrorList {
@@ -47,22 +48,43 @@ func TestDiagnostics(t *testing.T) {
 		{"opamp terminals", base + "U1: opamp (in, out)\n", 4, 1, "opamp U1 takes 3 terminals", "", false},
 		{"missing value", base + "R2: resistor (in, out)\n", 4, 1, "resistor R2 needs a value in Ω", "", false},
 		{"zero value", base + "R2: resistor (in, out) 0\n", 4, 24, "resistor R2: value must be > 0, got 0 Ω", "", false},
+		{"value too small", base + "R2: resistor (in, out) 1e-300\n", 4, 24, "too small to represent", "", false},
+		{"value too large", base + "C2: capacitor (in, out) 1e200\n", 4, 25, "too large to represent", "", false},
 		{"negative value", base + "C2: capacitor (in, out) -1n\n", 4, 25, "value must be > 0", "", false},
 		{"infinite value", base + "R2: resistor (in, out) 1/0\n", 4, 24, "value is not finite", "", false},
 		{"undefined parameter", "let Rbase = 1k\n" + base + "R2: resistor (in, out) Rbse\n", 5, 24, `undefined parameter "Rbse"`, `did you mean "Rbase"?`, false},
 		{"unit mismatch", base + "R2: resistor (in, out) 10nF\n", 4, 24, "unit mismatch: the value of resistor R2 is in Ω, not F", "", false},
 		{"unit via let", "let C = 10nF\n" + base + "R2: resistor (in, out) 2*C\n", 5, 24, "is in Ω, not F", "", false},
-		{"gain unit", base + "Gain1: vcvs (x, gnd) 2V sense=(in, out)\n", 4, 22, "is a plain number, not V", "", false},
+		{"gain unit", base + "Gain1: voltage source (x, gnd) 2V*v(in, out)\n", 4, 32, "unit mismatch: the gain of voltage source Gain1 is a plain number, not V", "", false},
+		{"transconductance unit", base + "Gm1: current source (x, gnd) 2kΩ*v(in)\n", 4, 30, "the gain of current source Gm1 is in S, not Ω", "", false},
+		{"transresistance unit", base + "Tz1: voltage source (x, gnd) 2mS*i(R1)\n", 4, 30, "the gain of voltage source Tz1 is in Ω, not S", "", false},
 		{"percent as value", base + "R2: resistor (in, out) 5%\n", 4, 24, "% is only allowed in a tolerance", "", false},
 		{"add units", base + "R2: resistor (in, out) 1kΩ + 1nF\n", 4, 28, "cannot add Ω and F", "", false},
-		{"signed sense node", base + "E1: vcvs (x, gnd) 2 sense=(-1, out)\n", 4, 27, "vcvs takes sense=(c, d)", "", false},
+		{"signed control node", base + "E1: voltage source (x, gnd) 2*v(-1, out)\n", 4, 33, "voltage source E1: v( ) takes node names", ControlForms, false},
 		{"coupling not inductor", base + "L1: inductor (in, gnd) 1m\nLink1: coupling (L1, R1) 0.5\n", 5, 22, "coupling Link1: R1 is a resistor, not an inductor", "", false},
 		{"coupling K too big", base + "L1: inductor (in, gnd) 1m\nL2: inductor (out, gnd) 1m\nLink1: coupling (L1, L2) 1.2\n", 6, 26, "0 < |K| ≤ 1", "", false},
 		{"coupling missing", base + "L1: inductor (in, gnd) 1m\nLink1: coupling (L1, L9) 0.5\n", 5, 22, `coupling Link1: no element "L9"`, "", false},
 		{"coupling self", base + "L1: inductor (in, gnd) 1m\nLink1: coupling (L1, L1) 0.5\n", 5, 22, "couples L1 with itself", "", false},
-		{"sense missing element", base + "Tz1: ccvs (x, gnd) 1k sense=Vx\n", 4, 29, `ccvs Tz1: no element "Vx"`, "", false},
-		{"sense needed", base + "Gm1: vccs (x, gnd) 1m\n", 4, 1, "vccs Gm1 needs sense=(c, d)", "", false},
-		{"sense form", base + "Gain1: vcvs (x, gnd) 2 sense=V1\n", 4, 30, "vcvs takes sense=(c, d)", "", false},
+		{"control missing element", base + "Tz1: voltage source (x, gnd) 1k*i(Vx)\n", 4, 35, `voltage source Tz1: no element "Vx"`, "", false},
+		{"two controls", base + "Gm1: current source (x, gnd) 1m*v(in) + 2m*v(out)\n", 4, 44, "current source Gm1: a second control term", ControlForms, false},
+		{"product of controls", base + "Gm1: current source (x, gnd) 1m*v(in)*v(out)\n", 4, 39, "current source Gm1: a second control term", ControlForms, false},
+		{"control in a function", base + "Gain1: voltage source (x, gnd) 2*sqrt(v(in))\n", 4, 39, "voltage source Gain1: a control must be a factor", ControlForms, false},
+		{"control plus constant", base + "Gain1: voltage source (x, gnd) 2*v(in) + 1\n", 4, 40, "voltage source Gain1: a control term cannot be added", ControlForms, false},
+		{"control divides", base + "Gain1: voltage source (x, gnd) 2/v(in)\n", 4, 34, "voltage source Gain1: a control cannot divide", ControlForms, false},
+		{"control power", base + "Gain1: voltage source (x, gnd) 2*v(in)^2\n", 4, 34, "voltage source Gain1: a control must be a factor", ControlForms, false},
+		{"control of two parts", base + "Gain1: voltage source (x, gnd) 2*i(R1, R2)\n", 4, 34, "voltage source Gain1: i( ) takes the name of one part", ControlForms, false},
+		{"control self", base + "Gain1: voltage source (x, gnd) 2*i(Gain1)\n", 4, 36, "voltage source Gain1: i(Gain1) names the source itself", "", false},
+		{"control in a resistor", base + "R2: resistor (in, out) 10*v(in)\n", 4, 27, "a control v( ) is not a value here", "nothing else takes a control", false},
+		{"control in a let", "let k = i(R1)\n" + base, 1, 9, "a control i( ) is not a value here", "", false},
+		{"old vsource", base + "V2: vsource (in, gnd) 1\n", 4, 5, `unknown element kind or block "vsource"`, `the nearest is "voltage source"`, false},
+		{"old isource", base + "I2: isource (in, gnd) 1\n", 4, 5, `unknown element kind or block "isource"`, `the nearest is "current source"`, false},
+		{"old vcvs", base + "E2: vcvs (in, gnd) 1 sense=(out, gnd)\n", 4, 5, `unknown element kind or block "vcvs"`, `the nearest is "voltage source"`, false},
+		{"old vccs", base + "G2: vccs (in, gnd) 1 sense=(out, gnd)\n", 4, 5, `unknown element kind or block "vccs"`, "the kinds are resistor, capacitor, inductor, voltage source, current source, opamp, coupling", false},
+		{"old ccvs", base + "H2: ccvs (in, gnd) 1 sense=R1\n", 4, 5, `unknown element kind or block "ccvs"`, "the nearest is", false},
+		{"old cccs", base + "F2: cccs (in, gnd) 1 sense=R1\n", 4, 5, `unknown element kind or block "cccs"`, `the nearest is "current source"`, false},
+		{"old sense", base + "G2: current source (in, gnd) 1m sense=(out, gnd)\n", 4, 33, `unknown option "sense" for current source`, "phase=", false},
+		{"old tol", base + "R2: resistor (in, out) 1k tol=5%\n", 4, 27, `unknown option "tol" for resistor`, "±5% normal", false},
+		{"old tol on let", "let C = 1n tol=5%\n" + base, 1, 12, `unknown option "tol"`, "±5% normal", false},
 		{"unknown option", base + "U1: opamp (in, x, x) gwb=1MHz\n", 4, 22, `unknown option "gwb" for opamp`, `did you mean "gbw"?`, false},
 		{"opamp value", base + "U1: opamp (in, x, x) 5\n", 4, 22, "an opamp takes no value", "", false},
 		{"opamp a0", base + "U1: opamp (in, x, x) a0=0\n", 4, 1, "a0 must be finite and > 0", "", false},
@@ -73,11 +95,12 @@ func TestDiagnostics(t *testing.T) {
 		{"noiseless capacitor", base + "C2: capacitor (in, out) 1n noiseless\n", 4, 1, "capacitor C2 cannot be noiseless", "only a resistor", false},
 		{"noiseless instance", "block a (x)\nR1: resistor (x, gnd) 1k\nend\n" + base + "Stage1: a (in) noiseless\n", 7, 1, "a block instance cannot be noiseless", "", false},
 		{"resistor option list", base + "R2: resistor (in, out) 1k zz=1\n", 4, 27, `unknown option "zz" for resistor`, "and the flag fixed or noiseless", false},
-		{"bad tolerance", base + "R2: resistor (in, out) 1k ±150%\n", 4, 28, "tolerance must be between 0 and 100%", "", false},
-		{"tolerance unit", base + "R2: resistor (in, out) 1k tol=5Hz\n", 4, 31, "unit Hz is not allowed", "", false},
-		{"dist without tol", base + "R2: resistor (in, out) 1k dist=normal\n", 4, 27, "dist= without a tolerance", "", false},
-		{"bad dist", base + "R2: resistor (in, out) 1k ±1% dist=gauss\n", 4, 36, "unknown distribution", "", false},
-		{"two tolerances", base + "R2: resistor (in, out) 1k ±1% tol=2%\n", 4, 31, "second tolerance", "", false},
+		{"bad tolerance", base + "R2: resistor (in, out) 1k ±150%\n", 4, 28, "tolerance must be above 0 and below 100%", "", false},
+		{"tolerance unit", base + "R2: resistor (in, out) 1k ±5Hz\n", 4, 28, "unit Hz is not allowed", "", false},
+		{"normal without tol", base + "R2: resistor (in, out) 1k normal\n", 4, 27, "normal without a tolerance", "±5% normal", false},
+		{"normal twice", base + "R2: resistor (in, out) 1k ±1% normal normal\n", 4, 38, "normal given twice", "", false},
+		{"old dist", base + "R2: resistor (in, out) 1k ±1% dist=normal\n", 4, 31, `unknown option "dist" for resistor`, "±5% normal", false},
+		{"two tolerances", base + "R2: resistor (in, out) 1k ±1% ±2%\n", 4, 31, "second tolerance", "", false},
 		{"block cycle", "block a (x)\nY: b (x)\nend\nblock b (x)\nZ: a (x)\nend\n" + base + "Stage1: a (in)\n", 5, 1, "block cycle: a → b → a", "", false},
 		{"self cycle", "block a (x)\nY: a (x)\nend\n" + base + "Stage1: a (in)\n", 2, 1, "block cycle: a → a", "", false},
 		{"block ports", "block a (x, y)\nR1: resistor (x, y) 1k\nend\n" + base + "Stage1: a (in)\n", 7, 1, "block a has 2 ports, got 1 terminals", "", false},
@@ -86,7 +109,7 @@ func TestDiagnostics(t *testing.T) {
 		{"nested block", "block a (x)\nblock b (y)\nend\nend\n" + base, 2, 1, `block "b" starts inside block "a"`, "", false},
 		{"block without end", base + "block a (x)\nR9: resistor (x, gnd) 1\n", 4, 1, `block "a" has no end`, "", false},
 		{"end without block", base + "end\n", 4, 1, "end without a block", "", false},
-		{"no ground", "V1: vsource (a, b) 1\nR1: resistor (a, b) 1k\n", 1, 1, "no element touches the reference node gnd", "", false},
+		{"no ground", "V1: voltage source (a, b) 1\nR1: resistor (a, b) 1k\n", 1, 1, "no element touches the reference node gnd", "", false},
 		{"empty", "# nothing\n", 1, 1, "the circuit has no elements", "", false},
 		{"single terminal", base + "R2: resistor (out, dangling) 1k\n", 4, 20, `node "dangling" is connected to only one terminal (of R2)`, "", true},
 		{"unknown function", base + "R2: resistor (in, out) sqr(4)\n", 4, 24, `unknown function "sqr"`, `did you mean "sqrt"?`, false},
@@ -184,5 +207,25 @@ func TestTooLarge(t *testing.T) {
 	_, err := Load("big.nodal", []byte(b.String()), nil)
 	if err == nil || !strings.Contains(err.Error(), "circuit too large") {
 		t.Errorf("error %v", err)
+	}
+}
+
+// TestToleranceLimitNamed: ±100 % is refused with the limit said and the
+// value as written (not "between 0 and 100 %, got 1").
+func TestToleranceLimitNamed(t *testing.T) {
+	_, err := Load("t.nodal", []byte("Vs: voltage source (in, gnd) 1\nR1: resistor (in, gnd) 1k ±100%\n"), Overrides{})
+	if err == nil || !strings.Contains(err.Error(), "below 100%") || !strings.Contains(err.Error(), "got 100 %") {
+		t.Errorf("error %v; want the limit and the value written", err)
+	}
+}
+
+// TestLeadingPlusIsAccepted: +1k is 1k, as a value and inside expressions.
+func TestLeadingPlusIsAccepted(t *testing.T) {
+	c, err := Load("t.nodal", []byte("Vs: voltage source (in, gnd) 1\nR1: resistor (in, out) +1k\nC1: capacitor (out, gnd) 1n + +2n\n"), Overrides{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Parts[1].Value != 1e3 || math.Abs(c.Parts[2].Value-3e-9) > 1e-24 {
+		t.Errorf("values %v, %v; want 1k and 3n", c.Parts[1].Value, c.Parts[2].Value)
 	}
 }

@@ -91,7 +91,8 @@ type nodeTouch struct {
 }
 
 // pendingRef is a reference to another element, resolved once all parts
-// exist: sense=ELEM of a current-controlled source, or a coupled inductor.
+// exist: the PART of i(PART) in a current-controlled source, or a coupled
+// inductor.
 type pendingRef struct {
 	part   int // index of the referring part
 	target string
@@ -130,6 +131,9 @@ func (e *elab) run() {
 		}
 	}
 	e.resolvePending()
+	if p, msg := CouplingProblem(e.c.Parts); p != nil {
+		e.diags = append(e.diags, &Diagnostic{Pos: p.Pos, Msg: fmt.Sprintf("coupling %s: %s", p.Name, msg), Line: e.f.lineText(p.Pos.Offset)})
+	}
 	e.checkOverrides()
 	e.checkTopology()
 }
@@ -281,7 +285,7 @@ func (e *elab) let(sc *scope, l *LetStmt) {
 		return
 	}
 	if val.d.known && val.d.unit == UnitPercent {
-		e.errorf(l.Value.Pos, "give a tolerance with ± or tol=", "%% is only allowed in a tolerance")
+		e.errorf(l.Value.Pos, tolHint, "%% is only allowed in a tolerance")
 		return
 	}
 	top := sc.parent == nil
@@ -294,7 +298,7 @@ func (e *elab) let(sc *scope, l *LetStmt) {
 		e.errorf(x.Pos, "", "unexpected expression after the value of %q", l.Name)
 	}
 	for _, o := range it.opts {
-		e.errorf(o.Pos, "a let takes only tol= and dist=", "unknown option %q", o.Key)
+		e.errorf(o.Pos, "a let takes no options; "+tolHint, "unknown option %q", o.Key)
 	}
 	v := val.fn(e.nom)
 	if math.IsNaN(v) || math.IsInf(v, 0) {
@@ -331,34 +335,22 @@ type itemSet struct {
 	noiseless bool
 }
 
-// items classifies trailing items: tolerance (± or tol=) and dist= are
+// items classifies trailing items: the tolerance (±) and normal are
 // handled here; other options and bare expressions are returned. what
 // names the statement for messages; values are allowed unless "let".
 func (e *elab) items(sc *scope, list []*Item, what string) itemSet {
 	var it itemSet
-	var dist *Option
 	var tolPos lexer.Position
+	normal := false
 	for i, item := range list {
 		switch {
-		case item.Tol != nil || (item.Option != nil && item.Option.Key == "tol"):
-			x := item.Tol
-			var val *Expr
-			if x != nil {
-				val = x.Value
-			} else {
-				val = item.Option.Value
-			}
+		case item.Tol != nil:
 			if it.hasTol {
 				e.errorf(item.Pos, "", "second tolerance (first at %s)", e.f.Position(tolPos))
 				continue
 			}
 			it.hasTol, tolPos = true, item.Pos
-			it.tol.Rel = e.tolerance(sc, val)
-		case item.Option != nil && item.Option.Key == "dist":
-			if dist != nil {
-				e.errorf(item.Pos, "", "second dist= option")
-			}
-			dist = item.Option
+			it.tol.Rel = e.tolerance(sc, item.Tol.Value)
 		case item.Option != nil:
 			for _, o := range it.opts {
 				if o.Key == item.Option.Key {
@@ -370,27 +362,26 @@ func (e *elab) items(sc *scope, list []*Item, what string) itemSet {
 			it.fixed = true
 		case bareName(item.Expr) == "noiseless" && what != "let":
 			it.noiseless = true
+		case bareName(item.Expr) == "normal":
+			switch {
+			case normal:
+				e.errorf(item.Pos, "", "normal given twice")
+			case !it.hasTol:
+				e.errorf(item.Pos, "write the tolerance first, as in ±5% normal", "normal without a tolerance")
+			}
+			normal = true
+			it.tol.Dist = Normal
 		case i == 0 && what != "let":
 			it.value = item.Expr
 		default:
 			it.exprs = append(it.exprs, item.Expr)
 		}
 	}
-	if dist != nil {
-		switch bareName(dist.Value) {
-		case "uniform":
-			it.tol.Dist = Uniform
-		case "normal":
-			it.tol.Dist = Normal
-		default:
-			e.errorf(dist.Value.Pos, `write dist=uniform or dist=normal`, "unknown distribution")
-		}
-		if !it.hasTol {
-			e.errorf(dist.Pos, "add ±5% or tol=5%", "dist= without a tolerance")
-		}
-	}
 	return it
 }
+
+// tolHint says how a tolerance is written.
+const tolHint = "a tolerance is ±5% (uniform) or ±5% normal (the tolerance is 3σ)"
 
 // tolerance evaluates a tolerance expression to a fraction in (0, 1).
 func (e *elab) tolerance(sc *scope, x *Expr) float64 {
@@ -404,7 +395,8 @@ func (e *elab) tolerance(sc *scope, x *Expr) float64 {
 	}
 	t := v.fn(e.nom)
 	if !(t > 0 && t < 1) {
-		e.errorf(x.Pos, "write a percentage such as 1% (a plain number is a fraction)", "tolerance must be between 0 and 100%%, got %v", t)
+		e.errorf(x.Pos, "write a percentage such as 1% (a plain number is a fraction)",
+			"tolerance must be above 0 and below 100%% (at −100%% a part would vanish), got %s", valueText(t*100, "%"))
 		return 0
 	}
 	return t
@@ -471,9 +463,9 @@ func (e *elab) resolvePending() {
 		if r.slot < 0 {
 			switch {
 			case t.Kind == Coupling:
-				e.errorf(r.pos, "", "%s %s: sense=%s names a coupling, which carries no current", p.Kind, p.Name, t.Name)
+				e.errorf(r.pos, "", "%s %s: i(%s) names a coupling, which carries no current", p.Kind, p.Name, t.Name)
 			case j == r.part:
-				e.errorf(r.pos, "", "%s %s: sense= names the element itself", p.Kind, p.Name)
+				e.errorf(r.pos, "", "%s %s: i(%s) names the source itself", p.Kind, p.Name, t.Name)
 			default:
 				p.Control = t.Name
 			}

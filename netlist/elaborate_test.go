@@ -12,19 +12,19 @@ title "Logger input filter"
 let fc = 2kHz
 let C  = 10nF ±5%
 let R  = 1/(2*pi*fc*C)
-let k  = 3 tol=2% dist=normal
-Vin: vsource (in, gnd) 1 phase=30deg
-I1:  isource (0, n1) 2mA
+let k  = 3 ±2% normal
+Vin: voltage source (in, gnd) 1 phase=30deg
+I1:  current source (0, n1) 2mA
 R1:  resistor (in, a) R ±1% fixed
-R2:  resistor (a, b) R tol=1% dist=normal
+R2:  resistor (a, b) R ±1% normal
 C1:  capacitor (a, out) 2*C
 C2:  capacitor (b, gnd) C
 U1:  opamp (b, out, out) a0=200k gbw=1MHz rout=50
 U2:  opamp (b, n1, n1)
-Gain1: vcvs (e, gnd) -2^2 sense=(a, b)
-Gm1: vccs (n1, 0) 1mS sense=(in, 0)
-Tz1: ccvs (e, n1) 1kΩ sense=R1
-Mirror1: cccs (e, gnd) k sense=Vin
+Gain1: voltage source (e, gnd) (-2^2)*v(a, b)
+Gm1: current source (n1, 0) 1mS*v(in, 0)
+Tz1: voltage source (e, n1) 1kΩ*i(R1)
+Mirror1: current source (e, gnd) k*i(Vin)
 L1:  inductor (e, gnd) 1mH
 L2:  inductor (n1, gnd) 4m7 +-10%
 Link1: coupling (L1, L2) -0.98
@@ -146,7 +146,7 @@ block twice (i, o) Rt=1k
   A: lowpass2 (i, m) R=Rt
   B: lowpass2 (m, o) R=2*Rt C=1n
 end
-V1: vsource (in, 0) 1
+V1: voltage source (in, 0) 1
 LP1: lowpass2 (in, out) R=4.7k
 Pair1: twice (out, out2) Rt=2k fixed
 `

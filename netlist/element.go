@@ -7,8 +7,6 @@ import (
 	"strings"
 
 	"github.com/alecthomas/participle/v2/lexer"
-
-	"nodal/netlist/syntax"
 )
 
 // kindSpec describes how an element kind is written.
@@ -16,7 +14,7 @@ type kindSpec struct {
 	terminals string   // the terminal names, for messages
 	unit      string   // unit of the main value ("" for a ratio)
 	value     int      // valueRequired, valueDefaultOne or valueNone
-	options   []string // options besides tol= and dist=
+	options   []string // options (NAME=VALUE)
 }
 
 const (
@@ -31,17 +29,17 @@ var kindSpecs = map[Kind]kindSpec{
 	Inductor:  {"(a, b)", UnitHenry, valueRequired, nil},
 	VSource:   {"(p, n)", UnitVolt, valueDefaultOne, []string{"phase"}},
 	ISource:   {"(a, b)", UnitAmpere, valueDefaultOne, []string{"phase"}},
-	VCVS:      {"(p, n)", "", valueRequired, []string{"sense"}},
-	VCCS:      {"(a, b)", UnitSiemens, valueRequired, []string{"sense"}},
-	CCVS:      {"(p, n)", UnitOhm, valueRequired, []string{"sense"}},
-	CCCS:      {"(a, b)", "", valueRequired, []string{"sense"}},
+	VCVS:      {"(p, n)", "", valueRequired, nil},
+	VCCS:      {"(a, b)", UnitSiemens, valueRequired, nil},
+	CCVS:      {"(p, n)", UnitOhm, valueRequired, nil},
+	CCCS:      {"(a, b)", "", valueRequired, nil},
 	OpAmp:     {"(noninverting, inverting, output)", "", valueNone, []string{"a0", "gbw", "rout", "en", "in", "fen", "fin"}},
 	Coupling:  {"(L1, L2)", "", valueRequired, nil},
 }
 
 // Unit returns the unit symbol of the kind's main value (Part.Value): "Ω"
 // for resistors and transresistances, "F", "H", "V", "A", "S", or "" for a
-// ratio (vcvs, cccs, coupling) and for an opamp, which has no main value.
+// ratio (a voltage or current gain, coupling) and for an opamp, which has no main value.
 func (k Kind) Unit() string {
 	return kindSpecs[k].unit
 }
@@ -89,6 +87,21 @@ func (s *partStep) apply(p *Part, slots []float64, factor float64) string {
 	return s.check(p)
 }
 
+// MinPartValue and MaxPartValue bound resistor, inductor and capacitor
+// values in SI units (Ω, H, F): within them, products of three values and
+// their reciprocals (the coefficients of a third-order response) stay
+// inside the float64 range of about 1e±308, so no coefficient silently
+// underflows to zero or overflows. Real parts lie many decades inside.
+const (
+	MinPartValue = 1e-100
+	MaxPartValue = 1e100
+)
+
+// valueText writes v with 4 significant digits and its unit, for messages.
+func valueText(v float64, unit string) string {
+	return strings.TrimSpace(strconv.FormatFloat(v, 'g', 4, 64) + " " + unit)
+}
+
 // check validates the values of a part.
 func (s *partStep) check(p *Part) string {
 	finite := func(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
@@ -98,7 +111,13 @@ func (s *partStep) check(p *Part) string {
 	switch p.Kind {
 	case Resistor, Capacitor, Inductor:
 		if p.Value <= 0 {
-			return fmt.Sprintf("value must be > 0, got %s", strings.TrimSpace(strconv.FormatFloat(p.Value, 'g', 4, 64)+" "+kindSpecs[p.Kind].unit))
+			return fmt.Sprintf("value must be > 0, got %s", valueText(p.Value, kindSpecs[p.Kind].unit))
+		}
+		if p.Value < MinPartValue {
+			return fmt.Sprintf("value %s is too small to represent: R, L and C values must be at least %g (in Ω, H, F)", valueText(p.Value, kindSpecs[p.Kind].unit), MinPartValue)
+		}
+		if p.Value > MaxPartValue {
+			return fmt.Sprintf("value %s is too large to represent: R, L and C values must be at most %g (in Ω, H, F)", valueText(p.Value, kindSpecs[p.Kind].unit), MaxPartValue)
 		}
 	case Coupling:
 		if p.Value == 0 || math.Abs(p.Value) > 1 {
@@ -175,9 +194,10 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 	}
 	sc.elems[st.Name] = st.Pos
 	before := len(e.diags)
-	kind, ok := KindByKeyword(st.Kind.Name)
+	word := st.Kind.Word()
+	kind, ok := KindByKeyword(word)
 	if !ok {
-		if b, isBlock := e.blocks[st.Kind.Name]; isBlock {
+		if b, isBlock := e.blocks[word]; isBlock {
 			e.instance(sc, st, b)
 			return
 		}
@@ -185,8 +205,20 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 		for n := range e.blocks {
 			cands = append(cands, n)
 		}
-		e.errorf(st.Kind.Pos, suggest(st.Kind.Name, cands), "unknown element kind or block %q", st.Kind.Name)
+		e.errorf(st.Kind.Pos, kindHint(word, cands), "unknown element kind or block %q", word)
 		return
+	}
+	var ctl *control
+	if it := st.Items; (kind == VSource || kind == ISource) && len(it) > 0 && it[0].Expr != nil {
+		c, at, msg := splitControl(it[0].Expr)
+		if msg != "" {
+			e.errorf(at, ControlForms, "%s %s: %s", kind, sc.prefix+st.Name, msg)
+			return
+		}
+		if c != nil {
+			ctl = c
+			kind = controlledKind(kind, c)
+		}
 	}
 	spec := kindSpecs[kind]
 	if n := kind.terminalCount(); len(st.Terms) != n {
@@ -227,7 +259,7 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 		if v.d.known && v.d.unit != "" && v.d.unit != unit {
 			switch {
 			case v.d.unit == UnitPercent:
-				e.errorf(x.Pos, "give a tolerance with ± or tol=", "%% is only allowed in a tolerance")
+				e.errorf(x.Pos, tolHint, "%% is only allowed in a tolerance")
 			case unit == "":
 				e.errorf(x.Pos, "", "unit mismatch: %s of %s %s is a plain number, not %s", what, kind, full, v.d.unit)
 			default:
@@ -241,6 +273,9 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 	switch {
 	case it.value != nil && spec.value == valueNone:
 		e.errorf(it.value.Pos, "use a0=, gbw= and rout=", "an opamp takes no value")
+	case it.value != nil && ctl != nil:
+		step.value = compile(ctl.gain, spec.unit, "the gain")
+		p.ValueSpan = e.span(it.value)
 	case it.value != nil:
 		step.value = compile(it.value, spec.unit, "the value")
 		p.ValueSpan = e.span(it.value)
@@ -249,29 +284,22 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 	case spec.value == valueDefaultOne:
 		step.value = func([]float64) float64 { return 1 }
 	}
-	hasSense := false
+	switch {
+	case ctl != nil && ctl.part != "":
+		e.pending = append(e.pending, pendingRef{part: idx, target: sc.prefix + ctl.part, pos: ctl.ref.Args[0].Pos, slot: -1})
+	case ctl != nil:
+		refs := ctl.nodes
+		if len(refs) == 1 {
+			refs = append(refs, &NodeRef{Pos: ctl.ref.Pos, Name: "gnd"})
+		}
+		for i, r := range refs {
+			n := e.node(sc, r)
+			p.Sense[i] = n
+			e.touch(n, full, r.Pos)
+		}
+	}
 	for _, o := range it.opts {
 		switch {
-		case o.Key == "sense" && (kind == VCVS || kind == VCCS):
-			hasSense = true
-			refs := pairNodes(o.Value)
-			if refs == nil {
-				e.errorf(o.Value.Pos, "", "%s takes sense=(c, d): the controlling node pair", kind)
-				continue
-			}
-			for i, r := range refs {
-				n := e.node(sc, r)
-				p.Sense[i] = n
-				e.touch(n, full, r.Pos)
-			}
-		case o.Key == "sense" && (kind == CCVS || kind == CCCS):
-			hasSense = true
-			target := bareName(o.Value)
-			if target == "" {
-				e.errorf(o.Value.Pos, "", "%s takes sense=ELEM: the element whose current controls", kind)
-				continue
-			}
-			e.pending = append(e.pending, pendingRef{part: idx, target: sc.prefix + target, pos: o.Value.Pos, slot: -1})
 		case o.Key == "phase" && (kind == VSource || kind == ISource):
 			step.phase = compile(o.Value, UnitDegree, "phase")
 		case kind == OpAmp && o.Key == "a0":
@@ -284,23 +312,16 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 			i := noiseOption(o.Key)
 			step.noise[i] = compile(perRootHz(o.Value), noiseOptions[i].unit, o.Key)
 		default:
-			allowed := append([]string{"tol", "dist"}, spec.options...)
-			hint := suggest(o.Key, allowed)
+			hint := suggest(o.Key, spec.options)
 			if hint == "" {
-				hint = kind.String() + " takes " + strings.Join(allowed, "=, ") + "= and the flag fixed"
-				if kind == Resistor {
-					hint += " or noiseless"
+				takes := "no options"
+				if len(spec.options) > 0 {
+					takes = strings.Join(spec.options, "=, ") + "="
 				}
+				hint = kind.String() + " " + full + " takes " + takes + " and the flag fixed" + noiselessFlag(kind) + "; " + tolHint
 			}
 			e.errorf(o.Pos, hint, "unknown option %q for %s", o.Key, kind)
 		}
-	}
-	if !hasSense && contains(spec.options, "sense") {
-		form := "sense=(c, d)"
-		if kind == CCVS || kind == CCCS {
-			form = "sense=ELEM"
-		}
-		e.errorf(st.Pos, "", "%s %s needs %s", kind, full, form)
 	}
 	if it.hasTol && spec.value == valueNone {
 		e.errorf(st.Pos, "put the tolerance on a let used by a0= or gbw=", "an opamp takes no tolerance")
@@ -323,6 +344,14 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 	if dynamic || step.vi >= 0 {
 		e.m.parts = append(e.m.parts, step)
 	}
+}
+
+// noiselessFlag names the flag noiseless in the option hint of a resistor.
+func noiselessFlag(k Kind) string {
+	if k == Resistor {
+		return " or noiseless"
+	}
+	return ""
 }
 
 // noiseOption returns the index of an opamp noise option, or -1.
@@ -351,27 +380,26 @@ func contains(list []string, s string) bool {
 	return false
 }
 
-// pairNodes returns the two node names of `(c, d)`, or nil.
-func pairNodes(x *Expr) []*NodeRef {
-	if len(x.Rest) > 0 || len(x.Left.Rest) > 0 || x.Left.Left.Power == nil || x.Left.Left.Power.Exp != nil {
-		return nil
+// controlledKind is the kind of a source whose value has the control c.
+func controlledKind(out Kind, c *control) Kind {
+	switch {
+	case out == VSource && c.part == "":
+		return VCVS
+	case out == VSource:
+		return CCVS
+	case c.part == "":
+		return VCCS
 	}
-	g := x.Left.Left.Power.Base.Group
-	if len(g) != 2 {
-		return nil
+	return CCCS
+}
+
+// kindHint names the nearest kind or block to an unknown word, and the
+// kinds there are.
+func kindHint(word string, cands []string) string {
+	if h := suggest(word, cands); h != "" {
+		return h
 	}
-	var out []*NodeRef
-	for _, el := range g {
-		name := bareName(el)
-		if name == "" {
-			if len(el.Rest) > 0 || len(el.Left.Rest) > 0 || el.Left.Left.Power == nil || el.Left.Left.Power.Exp != nil || !syntax.IsDigits(el.Left.Left.Power.Base.Number) {
-				return nil
-			}
-			name = el.Left.Left.Power.Base.Number
-		}
-		out = append(out, &NodeRef{Pos: el.Pos, Name: name})
-	}
-	return out
+	return fmt.Sprintf("the nearest is %q; the kinds are %s", Nearest(word, cands), strings.Join(Keywords(), ", "))
 }
 
 // instance expands a block instance into sc.

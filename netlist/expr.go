@@ -192,7 +192,7 @@ func (c *exprCompiler) primary(p *Primary) (compiled, bool) {
 	case len(p.Group) == 1:
 		return c.expr(p.Group[0])
 	case len(p.Group) > 1:
-		c.report(p.Pos, "unexpected list of values", "a list (c, d) is only allowed for sense=")
+		c.report(p.Pos, "unexpected list of values", "a list (c, d) is no value; the voltage of c with respect to d is v(c, d)")
 		return compiled{}, false
 	}
 	lit, err := syntax.ParseNumber(p.Number)
@@ -226,6 +226,10 @@ func (c *exprCompiler) ref(r *Ref) (compiled, bool) {
 }
 
 func (c *exprCompiler) call(r *Ref) (compiled, bool) {
+	if isControl(r) {
+		c.report(r.Pos, fmt.Sprintf("a control %s( ) is not a value here", r.Name), ControlForms+"; nothing else takes a control")
+		return compiled{}, false
+	}
 	args := make([]compiled, 0, len(r.Args))
 	ok := true
 	for _, a := range r.Args {

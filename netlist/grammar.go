@@ -69,7 +69,7 @@ type TitleStmt struct {
 }
 
 // LetStmt is `let NAME = EXPR [tolerance]`; Items may hold a tolerance
-// (`±5%`, `tol=5%`, `dist=normal`).
+// (`±5%`, with a trailing `normal` for a normal spread).
 type LetStmt struct {
 	Pos   lexer.Position
 	Name  string  `parser:"\"let\" @Ident \"=\""`
@@ -120,9 +120,26 @@ type Limit struct {
 type ElementStmt struct {
 	Pos   lexer.Position
 	Name  string     `parser:"@Ident \":\""`
-	Kind  *NameRef   `parser:"@@"`
+	Kind  *KindRef   `parser:"@@"`
 	Terms []*NodeRef `parser:"\"(\" (@@ (\",\" @@)*)? \")\""`
 	Items []*Item    `parser:"@@*"`
+}
+
+// KindRef is the kind of an element: one word, or the two words of a
+// source (`voltage source`, `current source`).
+type KindRef struct {
+	Pos    lexer.Position
+	First  string `parser:"@Ident"`
+	Source string `parser:"@\"source\"?"`
+}
+
+// Word is the kind as one string: First, or First and "source" with one
+// space.
+func (k *KindRef) Word() string {
+	if k.Source != "" {
+		return k.First + " " + k.Source
+	}
+	return k.First
 }
 
 // NameRef is a name with its position.
@@ -146,7 +163,7 @@ type Item struct {
 	Expr   *Expr    `parser:"| @@"`
 }
 
-// Option is `KEY=EXPR`; for sense= the expression may be a pair `(c, d)`.
+// Option is `KEY=EXPR`.
 type Option struct {
 	Pos   lexer.Position
 	Key   string `parser:"@Ident \"=\""`
@@ -183,7 +200,7 @@ type Unary = syntax.Unary[Primary]
 type Power = syntax.Power[Primary]
 
 // Primary is a literal, a name or call, or a parenthesised expression
-// (a list of several is a tuple, used by sense=(c, d)).
+// (a list of several is a tuple, which no value accepts).
 type Primary struct {
 	Pos    lexer.Position
 	Number string  `parser:"  @Value"`

@@ -3,6 +3,7 @@ package netlist
 import (
 	"errors"
 	"fmt"
+	"math"
 	"strings"
 )
 
@@ -248,6 +249,9 @@ func metricFreq(s, text string) (float64, error) {
 	if !(f > 0) {
 		return 0, fmt.Errorf("metric %s: the frequency must be > 0", s)
 	}
+	if f > MaxFrequencyHz {
+		return 0, fmt.Errorf("metric %s: the frequency is out of range: frequencies go up to %s", s, valueText(MaxFrequencyHz, UnitHertz))
+	}
 	return f, nil
 }
 
@@ -272,6 +276,10 @@ func paramExample(m MetricSpec) string {
 	}
 	return m.Name + "@1kHz"
 }
+
+// MaxFrequencyHz is the highest frequency nodal evaluates, in Hz: above
+// it ω = 2π·f overflows a float64 (about 2.9e307 Hz).
+const MaxFrequencyHz = math.MaxFloat64 / (2 * math.Pi)
 
 func (e *elab) require(r *RequireStmt) {
 	metric := r.Metric.Name

@@ -10,7 +10,7 @@ import (
 // 1/f corners, and zero when absent.
 func TestNoiseOptions(t *testing.T) {
 	src := `let e = 4nV
-V1: vsource (in, gnd)
+V1: voltage source (in, gnd)
 R1: resistor (in, a) 1k
 R2: resistor (a, gnd) 1k noiseless
 R3: resistor (a, out) 10k fixed noiseless
@@ -63,7 +63,7 @@ U3: opamp (a, c, c) gbw=1MHz
 // at a frequency with its limit in volts (per root hertz) and an RMS over a
 // band written F1..F2.
 func TestNoiseRequirements(t *testing.T) {
-	src := "V1: vsource (in, gnd)\nR1: resistor (in, out) 1k\nC1: capacitor (out, gnd) 1n\n" +
+	src := "V1: voltage source (in, gnd)\nR1: resistor (in, out) 1k\nC1: capacitor (out, gnd) 1n\n" +
 		"require noise_rms@20Hz..20kHz below 10uV\nrequire noise@1kHz within 1nV..5nV\n"
 	c, err := Load("r.nodal", []byte(src), nil)
 	if err != nil {

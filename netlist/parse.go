@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"sort"
+	"strings"
 	"unicode/utf8"
 
 	"github.com/alecthomas/participle/v2"
@@ -317,6 +318,61 @@ func Closest(word string, candidates []string) string {
 		}
 	}
 	return best
+}
+
+// Nearest returns the candidate nearest to word, however far. A candidate
+// that word abbreviates (same first letter, the rest of word's letters in
+// order: "tf" for "transfer") comes first, the shortest such. Otherwise the
+// edit distance to the candidate, to it without spaces, or to the initials of
+// its words before the last joined to the last ("vsource" for "voltage
+// source"), or to all its initials ("vs"), whichever is least; on a tie a candidate with the same first
+// letter wins, then the first in sorted order. It returns "" only for no
+// candidates.
+func Nearest(word string, candidates []string) string {
+	sorted := append([]string(nil), candidates...)
+	sort.Strings(sorted)
+	abbrev := ""
+	for _, c := range sorted {
+		if abbreviates(word, c) && (abbrev == "" || len(c) < len(abbrev)) {
+			abbrev = c
+		}
+	}
+	if abbrev != "" {
+		return abbrev
+	}
+	best, bestD, bestFirst := "", 1<<30, false
+	for _, c := range sorted {
+		d := editDistance(word, c)
+		if f := strings.Fields(c); len(f) > 1 {
+			d = min(d, editDistance(word, strings.Join(f, "")))
+			var ini strings.Builder
+			for _, w := range f[:len(f)-1] {
+				ini.WriteString(w[:1])
+			}
+			d = min(d, editDistance(word, ini.String()+f[len(f)-1]))
+			d = min(d, editDistance(word, ini.String()+f[len(f)-1][:1]))
+		}
+		first := word != "" && c != "" && word[0] == c[0]
+		if d < bestD || d == bestD && first && !bestFirst {
+			best, bestD, bestFirst = c, d, first
+		}
+	}
+	return best
+}
+
+// abbreviates reports whether word is an abbreviation of c: the same first
+// letter and every letter of word in c in order.
+func abbreviates(word, c string) bool {
+	if word == "" || c == "" || word[0] != c[0] || len(word) >= len(c) {
+		return false
+	}
+	i := 0
+	for j := 0; j < len(c) && i < len(word); j++ {
+		if c[j] == word[i] {
+			i++
+		}
+	}
+	return i == len(word)
 }
 
 // editDistance is the Levenshtein distance between a and b (in runes).

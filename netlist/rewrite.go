@@ -197,7 +197,7 @@ func PlanValues(f *File, c *Circuit, values map[string]float64, digits int, ov O
 		inst := idx.elems[prefix]
 		var b *BlockStmt
 		if inst != nil {
-			b = idx.blocks[inst.Kind.Name]
+			b = idx.blocks[inst.Kind.Word()]
 		}
 		switch {
 		case inst == nil || b == nil:

@@ -76,7 +76,7 @@ const planSource = `title "bridge filter"
 let Rb = 10k          # bridge arm value
 let Rc = 22k          # shared, but also used in an expression
 let Cs = 10nF ±5%     # one batch
-Vb: vsource (in, gnd) 1
+Vb: voltage source (in, gnd) 1
 R1: resistor (in, a) 4.75k ±1%   # literal
 R2: resistor (a, b) Rb
 R3: resistor (b, c) Rb
@@ -160,7 +160,7 @@ func TestPlanValues(t *testing.T) {
 }
 
 func TestPlanValuesSharedDiffer(t *testing.T) {
-	src := "let R = 10k\nV: vsource (in, gnd)\nR1: resistor (in, a) R\nR2: resistor (a, gnd) R\nX: resistor (a, gnd) 1k\n"
+	src := "let R = 10k\nV: voltage source (in, gnd)\nR1: resistor (in, a) R\nR2: resistor (a, gnd) R\nX: resistor (a, gnd) 1k\n"
 	f, _ := Parse("x.nodal", []byte(src))
 	c, err := Elaborate(f, nil)
 	if err != nil {
@@ -171,7 +171,7 @@ func TestPlanValuesSharedDiffer(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := "let R = 10k\nV: vsource (in, gnd)\nR1: resistor (in, a) 10k\nR2: resistor (a, gnd) 12k\nX: resistor (a, gnd) 1k\n"
+	want := "let R = 10k\nV: voltage source (in, gnd)\nR1: resistor (in, a) 10k\nR2: resistor (a, gnd) 12k\nX: resistor (a, gnd) 1k\n"
 	if string(out) != want {
 		t.Errorf("got\n%s\nwant\n%s", out, want)
 	}
@@ -193,7 +193,7 @@ block gain (i, fb, o) Rfb=10k
   U: opamp (i, fb, o)
   Rfb: resistor (o, fb) Rfb
 end
-V: vsource (p, gnd)
+V: voltage source (p, gnd)
 Rn: resistor (n, gnd) 1k
 A1: gain (p, g1, o1) Rfb=Rf
 A2: gain (n, g2, o2) Rfb=Rf

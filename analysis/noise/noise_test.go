@@ -83,7 +83,7 @@ func TestDividerDensity(t *testing.T) {
 		r1, r2, tempK float64
 		quiet         bool
 	}{{1e3, 1e3, 300, false}, {10e3, 2.2e3, 358.15, false}, {47e3, 4.7e3, 300, true}} {
-		src := "V1: vsource (in, gnd)\nR1: resistor (in, out) " + strconv.FormatFloat(tc.r1, 'g', -1, 64) + "\nR2: resistor (out, gnd) " + strconv.FormatFloat(tc.r2, 'g', -1, 64)
+		src := "V1: voltage source (in, gnd)\nR1: resistor (in, out) " + strconv.FormatFloat(tc.r1, 'g', -1, 64) + "\nR2: resistor (out, gnd) " + strconv.FormatFloat(tc.r2, 'g', -1, 64)
 		if tc.quiet {
 			src += " noiseless"
 		}
@@ -111,7 +111,7 @@ func TestDividerDensity(t *testing.T) {
 // low-pass is (π/2)·f3dB (common practice); over a finite band it is
 // fc·(atan(F2/fc) − atan(F1/fc)).
 func TestENBWFirstOrder(t *testing.T) {
-	c := load(t, "V1: vsource (in, gnd)\nR1: resistor (in, out) 1.5k\nC1: capacitor (out, gnd) 22n\n")
+	c := load(t, "V1: voltage source (in, gnd)\nR1: resistor (in, out) 1.5k\nC1: capacitor (out, gnd) 22n\n")
 	a := analyzer(t, c, Config{Out: node("out"), HasInput: true})
 	fc := 1 / (2 * math.Pi * 1.5e3 * 22e-9)
 	got, err := a.Integrate(context.Background(), fc*1e-6, fc*1e6)
@@ -139,7 +139,7 @@ func TestENBWFirstOrder(t *testing.T) {
 // with en² and in² scaled by (1 + fc/f) below their corners.
 func TestNonInvertingAmplifier(t *testing.T) {
 	const rs, rg, rf, en, in, fen, fin = 2.2e3, 1e3, 9.1e3, 4e-9, 1.5e-12, 100.0, 1e3
-	c := load(t, `V1: vsource (src, gnd)
+	c := load(t, `V1: voltage source (src, gnd)
 Rs: resistor (src, p) 2.2k
 Rg: resistor (m, gnd) 1k
 Rf: resistor (out, m) 9.1k
@@ -279,7 +279,7 @@ func forwardCircuit(parts []netlist.Part, src Source) (*netlist.Circuit, string)
 // TestSourcesAndErrors: capacitors, inductors, sources and controlled
 // sources are noiseless; a bad temperature or frequency is an error.
 func TestSourcesAndErrors(t *testing.T) {
-	c := load(t, "I1: isource (a, gnd)\nC1: capacitor (a, gnd) 1n\nL1: inductor (a, b) 1m\nG1: vccs (b, gnd) 1m sense=(a, gnd)\nR1: resistor (b, gnd) 1k noiseless\nR2: resistor (a, gnd) 1M\n")
+	c := load(t, "I1: current source (a, gnd)\nC1: capacitor (a, gnd) 1n\nL1: inductor (a, b) 1m\nG1: current source (b, gnd) 1mS*v(a)\nR1: resistor (b, gnd) 1k noiseless\nR2: resistor (a, gnd) 1M\n")
 	a := analyzer(t, c, Config{Out: node("b"), HasInput: true})
 	if len(a.Sources) != 1 || a.Sources[0].Name != "R2" {
 		t.Errorf("sources %+v; want R2 alone", a.Sources)

@@ -18,7 +18,7 @@ import (
 // those corners were NaN and the reported minimum was 0.5049.
 func TestWorstCaseQThroughRealPoles(t *testing.T) {
 	const src = `title "vibration logger critically damped stage"
-Vin: vsource (in, gnd) 1
+Vin: voltage source (in, gnd) 1
 R1: resistor (in, a) 10k ±1%
 R2: resistor (a, b) 10k ±1%
 C1: capacitor (a, out) 10.2nF ±5%

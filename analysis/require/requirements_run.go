@@ -54,6 +54,11 @@ func Verify(ctx context.Context, c *netlist.Circuit, ev variation.Evaluator, opt
 	if opt.Runs < 0 {
 		return nil, fmt.Errorf("verify: runs must be ≥ 0, got %d", opt.Runs)
 	}
+	if opt.Runs > 0 {
+		if err := variation.CheckRuns("verify", opt.Runs); err != nil {
+			return nil, err
+		}
+	}
 	if m := len(ev.Metrics()); m != n {
 		return nil, fmt.Errorf("verify: the evaluator has %d metrics for %d requirements", m, n)
 	}
@@ -70,16 +75,71 @@ func Verify(ctx context.Context, c *netlist.Circuit, ev variation.Evaluator, opt
 	if err != nil {
 		return nil, err
 	}
-	runRows, err := evalRows(ctx, c, ev, opt.Runs, opt.Workers, opt.Progress, func(_, i int, dst []float64) { variation.DrawFactors(c.Variations, opt.Seed, i, dst) }, res)
+	v, err := Judge(c.Requirements, nominal, cornerRows, nil)
 	if err != nil {
 		return nil, err
 	}
-	v, err := Judge(c.Requirements, nominal, cornerRows, runRows)
-	if err != nil {
-		return nil, err
+	if opt.Runs > 0 {
+		if err := judgeRuns(ctx, c, ev, opt, v, res); err != nil {
+			return nil, err
+		}
 	}
 	res.Verification = v
 	return res, nil
+}
+
+// judgeRuns evaluates the opt.Runs Monte Carlo builds as they finish, in
+// run order, counting for each requirement the builds that pass it and the
+// builds that pass all (memory independent of the run count), and sets
+// the yields of v as Judge would from the rows. A build that cannot be
+// analysed fails every requirement and is counted in res.
+func judgeRuns(ctx context.Context, c *netlist.Circuit, ev variation.Evaluator, opt VerifyOptions, v *Verification, res *VerifyResult) error {
+	reqs := c.Requirements
+	m := len(ev.Metrics())
+	workers := variation.ResolveWorkers(opt.Workers, opt.Runs)
+	buf := make([][]float64, workers)
+	for w := range buf {
+		buf[w] = make([]float64, len(c.Variations))
+	}
+	type outcome struct {
+		vals []float64
+		err  error
+	}
+	passed := make([]int, len(reqs))
+	all := 0
+	done := variation.StreamJobs(ctx, opt.Runs, workers, opt.Progress, func(w, i int) outcome {
+		variation.DrawFactors(c.Variations, opt.Seed, i, buf[w])
+		vals, err := variation.EvalVaried(c, ev, buf[w], m)
+		return outcome{vals, err}
+	}, func(_ int, o outcome) {
+		if o.err != nil {
+			if res.Failed == 0 {
+				res.FirstFailure = o.err
+			}
+			res.Failed++
+			return
+		}
+		ok := true
+		for j, req := range reqs {
+			p := req.Pass(o.vals[j])
+			if p {
+				passed[j]++
+			}
+			ok = ok && p
+		}
+		if ok {
+			all++
+		}
+	})
+	if done < opt.Runs {
+		return fmt.Errorf("verify: %w", context.Cause(ctx))
+	}
+	v.Runs = opt.Runs
+	for j := range v.Verdicts {
+		v.Verdicts[j].Yield = NewProportion(passed[j], opt.Runs)
+	}
+	v.Yield = NewProportion(all, opt.Runs)
+	return nil
 }
 
 // evalRows evaluates ev on count varied circuits, the factors of job i

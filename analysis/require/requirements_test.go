@@ -156,7 +156,7 @@ func TestJudge(t *testing.T) {
 // rcSource is an RC low-pass of our own sensor-bridge scenario; R and C are
 // uniform ±5 % and independent.
 const rcSource = `title "bridge sense RC"
-Vb: vsource (in, gnd) 1
+Vb: voltage source (in, gnd) 1
 R1: resistor (in, out) 10k ±5%
 C1: capacitor (out, gnd) 10nF ±5%
 `

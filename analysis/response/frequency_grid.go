@@ -8,23 +8,44 @@ import (
 
 // LogGrid returns logarithmically spaced frequencies from fromHz to toHz,
 // both included, with perDecade intervals per decade (rounded so that the
-// end points are exact). It returns nil unless 0 < fromHz ≤ toHz (finite)
-// and perDecade > 0; fromHz == toHz gives one point.
+// end points are exact); LogGridSize is its length. It returns nil unless
+// 0 < fromHz ≤ toHz (finite) and perDecade > 0; fromHz == toHz gives one
+// point. The span is taken as log10(toHz) − log10(fromHz), so ranges whose
+// ratio overflows a float64 (1e-300 to 1e300) are spaced correctly; callers
+// bound the size with LogGridSize before asking for the grid.
 func LogGrid(fromHz, toHz float64, perDecade int) []float64 {
-	if !(fromHz > 0) || !(toHz >= fromHz) || math.IsInf(toHz, 0) || perDecade <= 0 {
+	n := LogGridSize(fromHz, toHz, perDecade)
+	if n == 0 {
 		return nil
 	}
-	if fromHz == toHz {
+	if n == 1 {
 		return []float64{fromHz}
 	}
-	decades := math.Log10(toHz / fromHz)
-	steps := max(1, int(math.Round(decades*float64(perDecade))))
-	f := make([]float64, steps+1)
+	lo, hi := math.Log10(fromHz), math.Log10(toHz)
+	steps := n - 1
+	f := make([]float64, n)
 	for i := range f {
-		f[i] = fromHz * math.Pow(10, decades*float64(i)/float64(steps))
+		f[i] = math.Pow(10, lo+(hi-lo)*float64(i)/float64(steps))
 	}
 	f[0], f[steps] = fromHz, toHz
 	return f
+}
+
+// LogGridSize is the number of points LogGrid gives for these arguments
+// (0 when it gives none), computed without building the grid; it saturates
+// at math.MaxInt for spans no grid could hold.
+func LogGridSize(fromHz, toHz float64, perDecade int) int {
+	if !(fromHz > 0) || !(toHz >= fromHz) || math.IsInf(toHz, 0) || perDecade <= 0 {
+		return 0
+	}
+	if fromHz == toHz {
+		return 1
+	}
+	steps := math.Round((math.Log10(toHz) - math.Log10(fromHz)) * float64(perDecade))
+	if steps >= math.MaxInt/2 {
+		return math.MaxInt
+	}
+	return max(1, int(steps)) + 1
 }
 
 // LinearGrid returns n equally spaced values from from to to, both

@@ -7,6 +7,7 @@ import (
 	"math"
 	"math/cmplx"
 	"runtime"
+	"slices"
 	"sync"
 
 	"nodal/mna"
@@ -32,13 +33,22 @@ type Response struct {
 	GroupDelayS []float64
 	Input       string // the input source name, or "inject:NODE"
 	Output      string // "NODE", "NODE-REF" (v(NODE) − v(REF)) or "i(PART)"
+	// AtPole marks the points where G + jωC is singular (relative to its
+	// own scale): a pole on the jω axis. There H and Mag are +Inf, MagDB
+	// +Inf, PhaseDeg and GroupDelayS NaN, and the sweep goes on.
+	AtPole []bool
 }
+
+// PoleNote is the reason given for a point of a sweep that sits on a pole.
+const PoleNote = "on a pole on the jω axis: the gain is unbounded"
 
 // Sweep evaluates sys at every frequency of freqsHz (Hz, each ≥ 0) on
 // workers goroutines (workers ≤ 0 means runtime.NumCPU()). Each point is
 // computed the same way whatever the worker count, so the result does not
-// depend on it. It stops early with ctx's error when ctx is cancelled, and
-// with a *mna.SingularError when a point is singular.
+// depend on it. It stops early with ctx's error when ctx is cancelled. A
+// point where the system is singular is a pole on the jω axis (see
+// Response.AtPole); only when every point is singular does Sweep fail,
+// with the *mna.SingularError of the first.
 func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int) (*Response, error) {
 	for i, f := range freqsHz {
 		if !(f >= 0) || math.IsInf(f, 0) {
@@ -52,6 +62,8 @@ func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int)
 	workers = max(1, min(workers, n))
 	h := make([]complex128, n)
 	dh := make([]complex128, n)
+	atPole := make([]bool, n)
+	singular := make([]error, n)
 
 	ctx, cancel := context.WithCancel(ctx)
 	defer cancel()
@@ -73,6 +85,11 @@ func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int)
 				}
 				var err error
 				h[i], dh[i], err = ev.Eval(complex(0, 2*math.Pi*freqsHz[i]))
+				var se *mna.SingularError
+				if errors.As(err, &se) {
+					h[i], dh[i], atPole[i], singular[i] = cmplx.Inf(), complex(math.NaN(), 0), true, err
+					continue
+				}
 				if err != nil {
 					errs[w] = err
 					cancel()
@@ -85,7 +102,17 @@ func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int)
 	if err := firstError(ctx, errs); err != nil {
 		return nil, err
 	}
-	return newResponse(sys, freqsHz, h, dh), nil
+	if n > 0 && !slices.Contains(atPole, false) {
+		return nil, fmt.Errorf("sweep: %w", singular[0])
+	}
+	r := newResponse(sys, freqsHz, h, dh)
+	r.AtPole = atPole
+	for i, p := range atPole {
+		if p {
+			r.Mag[i], r.MagDB[i], r.PhaseDeg[i], r.GroupDelayS[i] = math.Inf(1), math.Inf(1), math.NaN(), math.NaN()
+		}
+	}
+	return r, nil
 }
 
 // firstError prefers a solver error over the cancellation it caused, and
@@ -134,12 +161,18 @@ func newResponse(sys *mna.System, freqsHz []float64, h, dh []complex128) *Respon
 }
 
 // UnwrapDeg unwraps phases in degrees in place: each value is shifted by a
-// multiple of 360° to lie within 180° of its predecessor. The first value
-// is left as it is.
+// multiple of 360° to lie within 180° of its predecessor (NaN values are
+// skipped). The first value is left as it is.
 func UnwrapDeg(ph []float64) {
-	for i := 1; i < len(ph); i++ {
-		d := ph[i] - ph[i-1]
-		ph[i] -= 360 * math.Round(d/360)
+	prev := math.NaN()
+	for i := range ph {
+		if math.IsNaN(ph[i]) {
+			continue // a point on a pole: unwrap across it
+		}
+		if !math.IsNaN(prev) {
+			ph[i] -= 360 * math.Round((ph[i]-prev)/360)
+		}
+		prev = ph[i]
 	}
 }
 

@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"math"
+	"math/cmplx"
 	"reflect"
 	"testing"
 
@@ -118,13 +119,19 @@ func TestSweepErrors(t *testing.T) {
 		t.Error("negative frequency accepted")
 	}
 	// A lossless tank fed by a current source is singular at resonance,
-	// 1/(2π) Hz for L = C = 1 (common practice).
+	// 1/(2π) Hz for L = C = 1 (common practice): that point is a pole on
+	// the jω axis (+Inf, marked) and the sweep goes on; a sweep of that
+	// point alone has nothing to show and fails.
 	tank := testcircuit.New(testcircuit.I("I1", gnd, "x", 1),
 		testcircuit.C("C1", "x", gnd, 1), testcircuit.L("L1", "x", gnd, 1))
-	_, err := response.Sweep(context.Background(), buildV(t, tank, "x"), []float64{0.1, 1 / (2 * math.Pi), 1}, 2)
+	r, err := response.Sweep(context.Background(), buildV(t, tank, "x"), []float64{0.1, 1 / (2 * math.Pi), 1}, 2)
+	if err != nil || !r.AtPole[1] || !math.IsInf(r.Mag[1], 1) || r.AtPole[0] || r.AtPole[2] {
+		t.Errorf("tank at resonance: %v, want the middle point on a pole", err)
+	}
+	_, err = response.Sweep(context.Background(), buildV(t, tank, "x"), []float64{1 / (2 * math.Pi)}, 1)
 	var se *mna.SingularError
 	if !errors.As(err, &se) {
-		t.Errorf("tank at resonance: %v, want a *mna.SingularError", err)
+		t.Errorf("tank at resonance alone: %v, want a *mna.SingularError", err)
 	}
 }
 
@@ -200,4 +207,69 @@ func BenchmarkSweepTowThomas4One(b *testing.B) {
 }
 func BenchmarkSweepTowThomas4All(b *testing.B) {
 	benchmarkSweep(b, buildV(b, testcircuit.TowThomas(4, 1e3, 2, 1e5, 1e6), "lp4"), 0)
+}
+
+// The impedance of a series R-L-C (R = 10 Ω, L = 1 mH, C = 1 µF) has its
+// minimum R at f0 = 1/(2π√(LC)) ≈ 5.0329 kHz, where the phase rises
+// through 0°; a parallel R-L-C of the same parts has its maximum R there,
+// with the phase falling through 0° (common practice: the series and
+// parallel resonant circuits).
+func TestResonancesSeriesParallel(t *testing.T) {
+	const r, l, c = 10.0, 1e-3, 1e-6
+	f0 := 1 / (2 * math.Pi * math.Sqrt(l*c))
+	series := func(w float64) complex128 {
+		s := complex(0, w)
+		return complex(r, 0) + s*complex(l, 0) + 1/(s*complex(c, 0))
+	}
+	parallel := func(w float64) complex128 {
+		s := complex(0, w)
+		return 1 / (complex(1/r, 0) + 1/(s*complex(l, 0)) + s*complex(c, 0))
+	}
+	for _, tc := range []struct {
+		name   string
+		z      func(float64) complex128
+		series bool
+	}{{"series", series, true}, {"parallel", parallel, false}} {
+		t.Run(tc.name, func(t *testing.T) {
+			freqs := response.LogGrid(100, 1e5, 20)
+			resp := &response.Response{FreqHz: freqs}
+			for _, f := range freqs {
+				z := tc.z(2 * math.Pi * f)
+				resp.Mag = append(resp.Mag, cmplx.Abs(z))
+				resp.PhaseDeg = append(resp.PhaseDeg, cmplx.Phase(z)*180/math.Pi)
+			}
+			res := response.Resonances(resp, tc.z)
+			if len(res) != 1 {
+				t.Fatalf("got %d resonances, want 1: %+v", len(res), res)
+			}
+			if math.Abs(res[0].FreqHz-f0) > 1e-9*f0 || res[0].Series != tc.series || math.Abs(res[0].Mag-r) > 1e-6 {
+				t.Errorf("resonance %+v; want f0 %.9g Hz, |Z| %g Ω, series %v", res[0], f0, r, tc.series)
+			}
+			lo, hi, ok := response.Extremes(resp)
+			if !ok {
+				t.Fatal("no extremes")
+			}
+			ext := lo
+			if !tc.series {
+				ext = hi
+			}
+			if math.Abs(ext.Mag-r) > 0.05*r {
+				t.Errorf("extreme %+v; want |Z| near %g Ω at the resonance", ext, r)
+			}
+		})
+	}
+}
+
+// A lossless parallel LC (L = 10 mH, C = 100 nF) has Z = sL/(1 + s²LC): a
+// pole pair at ±j/√(LC), f0 ≈ 5.0329 kHz (parallel resonance), and a zero
+// at s = 0, outside any log range (common practice).
+func TestAxisResonances(t *testing.T) {
+	w0 := 1 / math.Sqrt(10e-3*100e-9)
+	res := response.AxisResonances([]complex128{complex(0, w0), complex(0, -w0)}, []complex128{0}, 10, 1e6)
+	if len(res) != 1 || math.Abs(res[0].FreqHz-w0/(2*math.Pi)) > 1e-9*w0 || res[0].Series || !math.IsInf(res[0].Mag, 1) {
+		t.Fatalf("got %+v; want one parallel resonance at %.6g Hz", res, w0/(2*math.Pi))
+	}
+	if res := response.AxisResonances([]complex128{complex(-w0/10, w0)}, nil, 10, 1e6); len(res) != 0 {
+		t.Errorf("a damped pair is no axis resonance: %+v", res)
+	}
 }

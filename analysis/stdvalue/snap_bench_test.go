@@ -14,7 +14,7 @@ import (
 // long filter-bank file.
 func ladderSource(n int) []byte {
 	var b strings.Builder
-	b.WriteString("let k = 1.37\nV: vsource (n0, gnd) 1\n")
+	b.WriteString("let k = 1.37\nV: voltage source (n0, gnd) 1\n")
 	for i := range n {
 		fmt.Fprintf(&b, "R%d: resistor (n%d, n%d) %dk*k  # section %d\n", i, i, i+1, 1+i%9, i)
 		fmt.Fprintf(&b, "C%d: capacitor (n%d, gnd) %dnF\n", i, i+1, 1+i%7)

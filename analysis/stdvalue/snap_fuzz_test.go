@@ -31,7 +31,7 @@ func FuzzSnap(f *testing.F) {
 // fuzzRCSource seeds FuzzSnap with a toleranced RC low-pass and a
 // requirement, so rounding meets a `require` line.
 const fuzzRCSource = `title "bridge sense RC"
-Vb: vsource (in, gnd) 1
+Vb: voltage source (in, gnd) 1
 R1: resistor (in, out) 10k ±5%
 C1: capacitor (out, gnd) 10nF ±5%
 require f3db below 2kHz

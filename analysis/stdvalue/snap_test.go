@@ -14,7 +14,7 @@ const snapSource = `title "logger anti-alias"
 let fc = 2kHz
 let C0 = 10nF ±5%              # one capacitor batch
 let R  = 1/(2*pi*fc*C0)        # 7.958 kΩ
-Vin: vsource (in, gnd) 1
+Vin: voltage source (in, gnd) 1
 R1:  resistor (in, a) R ±1%
 R2:  resistor (a, b) R ±1%
 C1:  capacitor (a, out) 2*C0/sqrt(2)

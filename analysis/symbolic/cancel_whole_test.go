@@ -11,13 +11,13 @@ import (
 // practice). The stage's factor R2 + s·L1·(1 + Mirror1) appears in both N and D
 // of the determinant quotient and must be cancelled as a whole.
 func TestCancelWholeNumerator(t *testing.T) {
-	src := `Vin: vsource (in, gnd) 1
+	src := `Vin: voltage source (in, gnd) 1
 R1: resistor (in, a) 1k
 C1: capacitor (a, gnd) 1n
-Buf1: vcvs (b, gnd) 2 sense=(a, gnd)
+Buf1: voltage source (b, gnd) 2*v(a)
 R2: resistor (b, out) 1k
 L1: inductor (out, gnd) 1m
-Mirror1: cccs (out, gnd) 0.5 sense=R2
+Mirror1: current source (out, gnd) 0.5*i(R2)
 `
 	c, err := netlist.Load("stage.nodal", []byte(src), nil)
 	if err != nil {

@@ -45,10 +45,17 @@ type SizeError struct {
 	Limit    int // the limit in force
 	Unknowns int // MNA unknowns of the system
 	Symbols  int // symbols kept, s not counted
+	// WorkLimit is set instead of Terms and Limit when the expansion
+	// needed more than WorkLimit units of work (see Options.MaxWork).
+	WorkLimit int64
 }
 
 // Error says what was measured and what to do.
 func (e *SizeError) Error() string {
+	if e.WorkLimit > 0 {
+		return fmt.Sprintf("symbolic expansion too large: it needs more than %d term operations (%d unknowns, %d symbols); keep fewer parts symbolic with --keep",
+			e.WorkLimit, e.Unknowns, e.Symbols)
+	}
 	return fmt.Sprintf("symbolic expression too large: %d terms exceed the limit of %d (%d unknowns, %d symbols); keep fewer parts symbolic with --keep",
 		e.Terms, e.Limit, e.Unknowns, e.Symbols)
 }
@@ -58,12 +65,41 @@ func (e *SizeError) Error() string {
 // sources or a cut-set of current sources).
 var ErrSingular = errors.New("the circuit equations are singular for every s (floating node, voltage-source loop or current-source cut-set)")
 
-// detLimits carries the size limit and the cancellation context.
+// detLimits carries the size limit, the work budget and the cancellation
+// context.
 type detLimits struct {
 	ctx      context.Context
 	maxTerms int
 	symbols  int
+	work     *workBudget
 }
+
+// workBudget counts the term operations of one determinant: a product
+// p·q or an exact division p/q costs p.Len()·q.Len(), a sum p ± q costs
+// p.Len() + q.Len(), a memoised minor costs its terms once more (the
+// memory it holds), and each minor looked up or scanned costs one unit per
+// column visited. It is
+// charged before the operation, so an expansion stops before the step
+// that would cross the limit.
+type workBudget struct {
+	spent, limit int64
+}
+
+// charge adds cost units and fails with a *SizeError past the limit.
+func (l detLimits) charge(cost int64, n int) error {
+	if l.work == nil {
+		return nil
+	}
+	l.work.spent += cost
+	if l.work.spent > l.work.limit {
+		return &SizeError{Unknowns: n, Symbols: l.symbols, WorkLimit: l.work.limit}
+	}
+	return nil
+}
+
+// mulCost and addCost are the budget units of p·q and p ± q.
+func mulCost(p, q Poly) int64 { return int64(p.Len()) * int64(q.Len()) }
+func addCost(p, q Poly) int64 { return int64(p.Len()) + int64(q.Len()) }
 
 func (l detLimits) check(p Poly, n int) error {
 	if p.Len() > l.maxTerms {
@@ -78,7 +114,17 @@ func (l detLimits) check(p Poly, n int) error {
 func borderedDets(m [][]Poly, method Method, lim detLimits) (detY, detM Poly, pivots []Poly, err error) {
 	n := len(m) - 1
 	if method == Auto && n <= 62 {
-		method = Minors
+		// Minors is fastest on sparse, symbolic matrices but its memo can
+		// grow with the number of column subsets (a long chain); when it
+		// runs out of budget, Bareiss (polynomial in n) gets a fresh one.
+		spent := *lim.work
+		detY, detM, pivots, err = borderedDets(m, Minors, lim)
+		var se *SizeError
+		if !errors.As(err, &se) || se.WorkLimit == 0 {
+			return detY, detM, pivots, err
+		}
+		*lim.work = spent
+		method = Bareiss
 	}
 	if method == Minors {
 		if n > 62 {
@@ -130,9 +176,16 @@ func bareiss(m0 [][]Poly, lim detLimits) (detY, detM Poly, pivots []Poly, err er
 		piv := m[k][k]
 		for i := k + 1; i < size; i++ {
 			for j := k + 1; j < size; j++ {
+				cost := mulCost(piv, m[i][j]) + mulCost(m[i][k], m[k][j]) + 2*addCost(m[i][j], prev)
+				if err := lim.charge(cost, n); err != nil {
+					return Poly{}, Poly{}, nil, err
+				}
 				v := piv.Mul(m[i][j])
 				if !m[i][k].IsZero() && !m[k][j].IsZero() {
 					v = v.Sub(m[i][k].Mul(m[k][j]))
+				}
+				if err := lim.charge(mulCost(v, prev), n); err != nil { // the division
+					return Poly{}, Poly{}, nil, err
 				}
 				q, ok := v.Div(prev)
 				if !ok {
@@ -171,10 +224,16 @@ func minorsDet(m [][]Poly, lim detLimits) (Poly, error) {
 		if r == n {
 			return Int(1), nil
 		}
+		if err := lim.charge(1, n); err != nil {
+			return Poly{}, err
+		}
 		if v, ok := memo[used]; ok {
 			return v, nil
 		}
 		if err := lim.ctx.Err(); err != nil {
+			return Poly{}, err
+		}
+		if err := lim.charge(int64(n-r), n); err != nil { // the column scan
 			return Poly{}, err
 		}
 		var sum Poly
@@ -188,6 +247,9 @@ func minorsDet(m [][]Poly, lim detLimits) (Poly, error) {
 				if err != nil {
 					return Poly{}, err
 				}
+				if err := lim.charge(mulCost(m[r][c], sub)+addCost(sum, sub)+int64(sub.Len()), n); err != nil {
+					return Poly{}, err
+				}
 				t := m[r][c].Mul(sub)
 				if sign < 0 {
 					sum = sum.Sub(t)
@@ -199,6 +261,9 @@ func minorsDet(m [][]Poly, lim detLimits) (Poly, error) {
 				}
 			}
 			sign = -sign
+		}
+		if err := lim.charge(int64(sum.Len())+1, n); err != nil {
+			return Poly{}, err
 		}
 		memo[used] = sum
 		return sum, nil

@@ -24,7 +24,7 @@
 //
 // # Symbols
 //
-//   - resistor, capacitor, inductor, vcvs, vccs, ccvs, cccs: the part name
+//   - resistor, capacitor, inductor, controlled source (its gain): the part name
 //     ("R1", "C2", "Gain1"); capacitors enter as s·C, inductors as a branch
 //     v = s·L·i, so L is polynomial too.
 //   - coupling: the mutual inductance M = K·√(L1·L2) is not polynomial in

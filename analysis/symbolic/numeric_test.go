@@ -289,7 +289,7 @@ func numericCases() []numericCase {
 		numericCase{name: "follower with gbw only",
 			c:   circuit(vsrc("V1", "in", "gnd"), opamp("U1", "in", "out", "out", 0, 1e6, 0), res("RL", "out", "gnd", 1e3)),
 			out: nodeOut("out")},
-		numericCase{name: "controlled sources: vccs into RC, ccvs and cccs",
+		numericCase{name: "controlled sources: current source into RC, ccvs and cccs",
 			c: circuit(isrc("I1", "a", "gnd"), res("R1", "a", "gnd", 1e3), capa("C1", "a", "gnd", 1e-9),
 				vccs("Gm1", "b", "gnd", "a", "gnd", 2e-3), res("R2", "b", "gnd", 5e3),
 				vsrc("Vs", "b", "m"), res("R3", "m", "gnd", 1e3),

@@ -218,7 +218,7 @@ func buildSystem(c *netlist.Circuit, in mna.Input, out mna.Output, keep []string
 		if p.Kind == netlist.VCVS || p.Kind == netlist.VCCS {
 			for _, n := range p.Sense {
 				if !bd.hasNode(n) {
-					return nil, fmt.Errorf("part %q: sense node %q is not a node of the circuit", p.Name, n)
+					return nil, fmt.Errorf("part %q: the node %q of its control v( ) is not a node of the circuit", p.Name, n)
 				}
 			}
 		}
@@ -395,7 +395,7 @@ func (bd *builder) stampPart(p *netlist.Part) error {
 		}
 		f, err := bd.currentForm(p.Control, map[string]bool{p.Name: true})
 		if err != nil {
-			return fmt.Errorf("part %q: sense: %w", p.Name, err)
+			return fmt.Errorf("part %q: its control i( ): %w", p.Name, err)
 		}
 		if !f.feed.IsZero() {
 			return fmt.Errorf("part %q: sensing the current of the input source is not supported", p.Name)

@@ -50,7 +50,7 @@ func BenchmarkRCLadder(b *testing.B) {
 				var r *Result
 				for b.Loop() {
 					var err error
-					r, err = Transfer(context.Background(), c, inputAuto, out, Options{Method: method, MaxTerms: 1 << 30})
+					r, err = Transfer(context.Background(), c, inputAuto, out, Options{Method: method, MaxTerms: 1 << 30, MaxWork: -1})
 					if err != nil {
 						b.Fatal(err)
 					}

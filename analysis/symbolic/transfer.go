@@ -2,7 +2,9 @@ package symbolic
 
 import (
 	"context"
+	"errors"
 	"fmt"
+	"math"
 	"math/big"
 	"sort"
 
@@ -18,6 +20,15 @@ import (
 // longer readable.
 const DefaultMaxTerms = 5000
 
+// DefaultMaxWork is the work budget of one determinant when
+// Options.MaxWork is zero: term operations (products of two terms, terms
+// summed, terms memoised; see workBudget), each a big-rational operation of
+// roughly 0.1–0.5 µs, so the budget stops an expansion after about a
+// second and a few hundred MB at most. The largest of the package's
+// benchmark circuits (the 9-section RC ladder by minors) uses well under
+// it.
+const DefaultMaxWork = 1_000_000
+
 // Options tune Transfer.
 type Options struct {
 	// Keep lists the symbols to keep; every other value is substituted
@@ -29,6 +40,10 @@ type Options struct {
 	// MaxTerms limits the terms of every intermediate polynomial; 0 means
 	// DefaultMaxTerms. Past it Transfer returns a *SizeError.
 	MaxTerms int
+	// MaxWork bounds the term operations of each determinant (see
+	// DefaultMaxWork); 0 means DefaultMaxWork, negative means no bound.
+	// Past it Transfer returns a *SizeError with WorkLimit set.
+	MaxWork int64
 	// Method selects the determinant algorithm; the zero value is Auto.
 	Method Method
 }
@@ -76,16 +91,22 @@ func Transfer(ctx context.Context, c *netlist.Circuit, in mna.Input, out mna.Out
 	if err != nil {
 		return nil, fmt.Errorf("symbolic: %w", err)
 	}
-	lim := detLimits{ctx: ctx, maxTerms: opt.MaxTerms, symbols: len(sys.values)}
+	lim := detLimits{ctx: ctx, maxTerms: opt.MaxTerms, symbols: len(sys.values), work: &workBudget{limit: opt.MaxWork}}
 	if lim.maxTerms <= 0 {
 		lim.maxTerms = DefaultMaxTerms
 	}
+	switch {
+	case opt.MaxWork == 0:
+		lim.work.limit = DefaultMaxWork
+	case opt.MaxWork < 0:
+		lim.work.limit = math.MaxInt64
+	}
 	detY, detM, pivots, err := borderedDets(sys.m, opt.Method, lim)
+	if errors.Is(err, ErrSingular) || err == nil && detY.IsZero() {
+		return nil, fmt.Errorf("symbolic: %w", singularWhy(c, in, out))
+	}
 	if err != nil {
 		return nil, fmt.Errorf("symbolic: %w", err)
-	}
-	if detY.IsZero() {
-		return nil, fmt.Errorf("symbolic: %w", ErrSingular)
 	}
 	num, den := detM.Neg(), detY
 	rs, err := toResistances([]Poly{num, den}, sys.resistor)
@@ -348,3 +369,23 @@ func (r *Result) format(ps []Poly) []string {
 	}
 	return out
 }
+
+// singularWhy explains ErrSingular with the numeric system's structural
+// diagnosis when it has one (the loop of voltage-fixing parts or the cut
+// set of current sources, by name); the error still matches ErrSingular.
+func singularWhy(c *netlist.Circuit, in mna.Input, out mna.Output) error {
+	sys, err := mna.Build(c, in, out)
+	if err == nil {
+		err = sys.Structure()
+	}
+	if err == nil {
+		return ErrSingular
+	}
+	return singularError{why: err}
+}
+
+// singularError is ErrSingular with the reason named.
+type singularError struct{ why error }
+
+func (e singularError) Error() string   { return e.why.Error() }
+func (e singularError) Unwrap() []error { return []error{e.why, ErrSingular} }

@@ -60,7 +60,9 @@ type Metrics struct {
 //
 //	y(t) = Dirac·δ(t) + Σ Modes[i](t)   for t ≥ 0 (y = 0 for t < 0),
 //
-// from the partial-fraction expansion of H(s)/s (step) or H(s) (impulse).
+// from the partial-fraction expansion of H(s)/s (step) or H(s) (impulse),
+// checked against the matrix exponential of a cascade state-space
+// realization (see crossCheck and IllConditioned).
 // Kind is "step" or "impulse". Dirac is the weight of δ(t) (impulse of a
 // proper but not strictly proper H; always 0 for a step). Points are samples over [0, SpanS]; if the
 // response overflows float64, sampling stops there and Overflow is set.
@@ -81,6 +83,12 @@ type TimeResponse struct {
 	UnstablePoles []complex128
 	AxisPoles     []complex128
 	Overflow      bool
+	// IllConditioned: the partial fractions disagreed with the matrix
+	// exponential; Points come from the latter, Modes is empty (At
+	// returns 0), Metrics say so and ClosedFormWithheld says why the
+	// closed form is not shown.
+	IllConditioned     bool
+	ClosedFormWithheld string
 }
 
 // At returns y(t) from the closed form: 0 for t < 0, the right limit y(0+)
@@ -117,9 +125,13 @@ func timeResponse(tf *transfer.TransferFunction, kind string, opt TimeOptions) (
 	if len(tf.Zeros) > len(tf.Poles) {
 		return nil, fmt.Errorf("%s response: H(s) has more zeros (%d) than poles (%d), so the response contains derivatives of δ(t)", kind, len(tf.Zeros), len(tf.Poles))
 	}
-	if math.IsNaN(tf.Gain) || math.IsInf(tf.Gain, 0) {
-		return nil, fmt.Errorf("%s response: gain %g is not finite", kind, tf.Gain)
+	if k, _ := tf.Scaled(); math.IsNaN(k) || math.IsInf(k, 0) {
+		return nil, fmt.Errorf("%s response: gain %g is not finite", kind, k)
 	}
+	// A gain that does not fit a float64 in rad/s units (orders of a
+	// hundred and more) leaves no partial fractions: the matrix
+	// exponential gives the samples (crossCheck with no closed form).
+	noPF := math.IsNaN(tf.Gain) || math.IsInf(tf.Gain, 0) || tf.Gain == 0 && tf.ScaledGain != 0
 	if opt.Points == 0 {
 		opt.Points = DefaultTimePoints
 	}
@@ -154,7 +166,9 @@ func timeResponse(tf *transfer.TransferFunction, kind string, opt TimeOptions) (
 	if err != nil {
 		return nil, fmt.Errorf("%s response: %w", kind, err)
 	}
-	r.Modes = modes(groups, laurent(tf.Gain, tf.Zeros, groups))
+	if !noPF {
+		r.Modes = modes(groups, laurent(tf.Gain, tf.Zeros, groups))
+	}
 
 	r.SpanS = opt.UntilS
 	if r.SpanS == 0 {
@@ -166,7 +180,109 @@ func timeResponse(tf *transfer.TransferFunction, kind string, opt TimeOptions) (
 	r.Points = samplePoints(r, opt.Points)
 	r.Overflow = len(r.Points) < opt.Points
 	r.Metrics = metrics(r.Modes, r.SpanS)
+	if noPF {
+		r.Metrics = Metrics{}
+		if dc := tf.DCGain(); kind == "step" && !r.Unstable && len(r.AxisPoles) == 0 && dc.Power == 0 {
+			v := dc.Gain
+			r.Metrics.Final = &v
+		}
+		r.Overflow = false
+		if !crossCheck(r, tf, kind == "step", opt.Points, true) {
+			return nil, fmt.Errorf("%s response: the gain does not fit a float64 and no state-space realization was found", kind)
+		}
+		return r, nil
+	}
+	if dc := tf.DCGain(); kind == "step" && r.Metrics.Final != nil && dc.Power == 0 {
+		v := dc.Gain // H(0), exact from a direct solve when Extract made tf
+		r.Metrics.Final = &v
+	}
+	if !r.Unstable && !r.Overflow {
+		crossCheck(r, tf, kind == "step", opt.Points, false)
+	}
 	return r, nil
+}
+
+// pfCheckTol: the partial-fraction samples must agree with the matrix
+// exponential within pfCheckTol of the largest |y|.
+const pfCheckTol = 1e-7
+
+// crossCheck compares the partial-fraction samples with the matrix
+// exponential of the cascade realization (time_expm.go), which stays well
+// conditioned for clustered poles. When they disagree, the samples are
+// replaced by the matrix exponential's, and the closed form and the
+// figures computed on it are withheld with a note (the final value of a
+// step, H(0), is kept).
+//
+// With only set (no partial fractions at all: the gain does not fit a
+// float64), the samples are the matrix exponential's and the note says
+// why there is no closed form. It reports whether samples were made.
+func crossCheck(r *TimeResponse, tf *transfer.TransferFunction, step bool, n int, only bool) bool {
+	c, err := newCascade(tf)
+	if err != nil {
+		return false
+	}
+	ys, err := c.samples(step, r.SpanS/float64(n-1), n)
+	if err != nil {
+		return false
+	}
+	if only {
+		r.Points = r.Points[:0]
+		for i, y := range ys {
+			if math.IsNaN(y) || math.IsInf(y, 0) {
+				r.Overflow = true
+				break
+			}
+			r.Points = append(r.Points, Point{TS: r.SpanS * float64(i) / float64(n-1), Y: y})
+		}
+		why := "at this order the gain does not fit a float64, so there is no partial-fraction form"
+		r.Metrics.Note = "figures withheld: " + why + "; the samples are from the matrix exponential"
+		r.ClosedFormWithheld = why
+		expmFigures(r, c, step, why)
+		r.Modes = nil
+		r.IllConditioned = true
+		return true
+	}
+	diff, scale := 0.0, 0.0
+	for i, p := range r.Points {
+		diff = math.Max(diff, math.Abs(p.Y-ys[i]))
+		scale = math.Max(scale, math.Abs(ys[i]))
+	}
+	if !(diff > pfCheckTol*scale) {
+		return true
+	}
+	for i := range r.Points {
+		r.Points[i].Y = ys[i]
+	}
+	final := r.Metrics.Final
+	why := fmt.Sprintf("the partial-fraction form is ill-conditioned for these poles (off the matrix exponential by %.2g of the largest value)", diff/math.Max(scale, math.SmallestNonzeroFloat64))
+	r.Metrics = Metrics{Note: "figures withheld: " + why + "; the samples are from the matrix exponential"}
+	if dc := tf.DCGain(); step && final != nil && dc.Power == 0 {
+		v := dc.Gain
+		r.Metrics.Final = &v
+	}
+	r.ClosedFormWithheld = why
+	expmFigures(r, c, step, why)
+	r.Modes = nil
+	r.IllConditioned = true
+	return true
+}
+
+// expmFigures replaces withheld step figures by those of the matrix
+// exponential (expmStepMetrics) when the step has a non-zero final value.
+func expmFigures(r *TimeResponse, c *cascade, step bool, why string) {
+	if !step || r.Metrics.Final == nil {
+		return
+	}
+	m, ok := expmStepMetrics(c, *r.Metrics.Final, r.SpanS)
+	if !ok {
+		return
+	}
+	note := "no closed form: " + why + "; samples and figures are from the matrix exponential"
+	if m.Note != "" {
+		note += "; " + m.Note
+	}
+	m.Note = note
+	r.Metrics = m
 }
 
 // defaultSpan implements the span rule documented on Step; 0 if no pole

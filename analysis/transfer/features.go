@@ -5,8 +5,6 @@ import (
 	"math"
 	"math/cmplx"
 	"sort"
-
-	"gonum.org/v1/gonum/mat"
 )
 
 // ErrUnbounded means |H(jω)| is unbounded on the frequency axis (a pole on
@@ -35,6 +33,35 @@ type Corner struct {
 	Root     float64 // the root, rad/s (negative in the left half-plane)
 	OmegaRad float64 // corner angular frequency |Root|, rad/s
 	FreqHz   float64 // corner frequency |Root|/(2π), Hz; 0 for a root at s = 0
+}
+
+// MultipleRoot is a distinct root with its multiplicity.
+type MultipleRoot struct {
+	Root         complex128 // rad/s
+	Multiplicity int        // ≥ 1
+}
+
+// DistinctPoles returns each distinct pole once with its multiplicity,
+// in the order of Poles (Extract merges an m-fold pole split by rounding
+// into m equal values, so equality is exact).
+func (h *TransferFunction) DistinctPoles() []MultipleRoot { return distinctRoots(h.Poles) }
+
+// DistinctZeros is DistinctPoles for the zeros.
+func (h *TransferFunction) DistinctZeros() []MultipleRoot { return distinctRoots(h.Zeros) }
+
+func distinctRoots(roots []complex128) []MultipleRoot {
+	var out []MultipleRoot
+next:
+	for _, r := range roots {
+		for i := range out {
+			if out[i].Root == r {
+				out[i].Multiplicity++
+				continue next
+			}
+		}
+		out = append(out, MultipleRoot{Root: r, Multiplicity: 1})
+	}
+	return out
 }
 
 // PolePairs returns the complex pole pairs in the order of Poles.
@@ -100,31 +127,58 @@ func newAsymptote(gain float64, power int) Asymptote {
 }
 
 // DCGain returns the low-frequency asymptote: with k zeros and l poles at
-// s = 0, H(s) ≈ (Num[k]/Den[l])·s^(k−l). Power 0 means a finite DC gain
-// Gain = H(0); Power > 0 a zero of that order at DC (slope +20·Power dB/dec).
+// s = 0, H(s) ≈ G0·s^(k−l). Power 0 means a finite DC gain Gain = H(0);
+// Power > 0 a zero of that order at DC (slope +20·Power dB/dec). It comes
+// from DirectDC when set, else from the factored form (never from the
+// expanded coefficients, which need not fit a float64 at high order).
 func (h *TransferFunction) DCGain() Asymptote {
-	k, l := lowestNonZero(h.Num), lowestNonZero(h.Den)
-	if k < 0 {
+	k, w := h.Scaled()
+	if k == 0 {
 		return newAsymptote(0, 0)
 	}
-	return newAsymptote(h.Num[k]/h.Den[l], k-l)
+	power := 0
+	var nz, np []complex128
+	for _, z := range h.Zeros {
+		if z == 0 {
+			power++
+		} else {
+			nz = append(nz, z)
+		}
+	}
+	for _, p := range h.Poles {
+		if p == 0 {
+			power--
+		} else {
+			np = append(np, p)
+		}
+	}
+	if power == 0 && h.DirectDC != nil {
+		return newAsymptote(*h.DirectDC, 0)
+	}
+	// G0 = k·w^(−power)·Π(−ẑ)/Π(−p̂), interleaved in scaled units.
+	v := NewWideProduct(complex(k, 0))
+	cw := complex(w, 0)
+	for i := 0; i < max(len(nz), len(np)); i++ {
+		if i < len(nz) {
+			v.Mul(-nz[i] / cw)
+		}
+		if i < len(np) {
+			v.Div(-np[i] / cw)
+		}
+	}
+	for i := 0; i < power; i++ {
+		v.Div(cw)
+	}
+	for i := 0; i > power; i-- {
+		v.Mul(cw)
+	}
+	return newAsymptote(real(v.Value()), power)
 }
 
 // HighFreqAsymptote returns H(s) ≈ Gain·s^(m−n) as s → ∞ (slope 20·(m−n)
 // dB/decade; Gain the leading-coefficient ratio).
 func (h *TransferFunction) HighFreqAsymptote() Asymptote {
 	return newAsymptote(h.Gain, len(h.Zeros)-len(h.Poles))
-}
-
-// lowestNonZero returns the index of the first non-zero coefficient, -1
-// if all are zero.
-func lowestNonZero(c []float64) int {
-	for i, v := range c {
-		if v != 0 {
-			return i
-		}
-	}
-	return -1
 }
 
 // GainDB returns 20·log10|H(jω)| for ω in rad/s (−Inf on a zero).
@@ -179,12 +233,15 @@ type magSquared struct {
 }
 
 func newMagSquared(h *TransferFunction) magSquared {
-	ws := rootCentre(h.Poles, h.Zeros)
-	if ws == 0 {
-		ws = 1
+	k, ws := h.Scaled()
+	if h.ScaleRad == 0 {
+		if ws = rootCentre(h.Poles, h.Zeros); ws == 0 {
+			ws = 1
+		}
+		k *= math.Pow(ws, float64(len(h.Zeros)-len(h.Poles)))
 	}
 	m := magSquared{ws: ws}
-	m.c = h.Gain * h.Gain * math.Pow(ws, 2*float64(len(h.Zeros)-len(h.Poles)))
+	m.c = k * k
 	m.p = xiFactors(h.Zeros, ws)
 	m.q = xiFactors(h.Poles, ws)
 	return m
@@ -237,84 +294,90 @@ func polyEval3(p []float64, x float64) (v, d, dd float64) {
 	return v, d, dd
 }
 
-// product returns Π fs as one polynomial.
-func product(fs [][]float64) []float64 {
-	out := []float64{1}
-	for _, f := range fs {
-		out = polyMul(out, f)
+// scanGrid returns ascending values of u = ln ξ that bracket every
+// feature of |H(jω)|²: 40 points per decade of ξ from four decades below
+// the smallest non-zero root to four above the largest, plus, around each
+// root, points ξ₀·(1 + k·2ζ) that resolve a resonance of width ζ however
+// sharp (Q up to 10¹⁵). Outside the span every factor is on its
+// asymptote, so |H| is monotone there.
+func (m magSquared) scanGrid(roots ...[]complex128) []float64 {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	var extra []float64
+	for _, l := range roots {
+		for _, r := range l {
+			a := cmplx.Abs(r) / m.ws
+			if a == 0 || imag(r) < 0 {
+				continue
+			}
+			x0 := math.Log(a * a)
+			lo, hi = math.Min(lo, x0), math.Max(hi, x0)
+			zeta := math.Abs(real(r)) / cmplx.Abs(r)
+			if imag(r) == 0 {
+				continue
+			}
+			for k := -6; k <= 6; k++ {
+				for _, w := range [...]float64{zeta, zeta * 0.25} {
+					if v := 1 + float64(k)*2*w; v > 0 {
+						extra = append(extra, x0+math.Log(v))
+					}
+				}
+			}
+		}
 	}
-	return out
-}
-
-// positiveRealRoots returns the real roots ξ > 0 of the ascending
-// polynomial c (companion-matrix eigenvalues), unpolished.
-func positiveRealRoots(c []float64) []float64 {
-	c = trimHigh(c)
-	for len(c) > 1 && c[0] == 0 {
-		c = c[1:] // roots at ξ = 0 are not positive
+	if math.IsInf(lo, 1) {
+		lo, hi = 0, 0
 	}
-	n := len(c) - 1
-	if n < 1 {
-		return nil
-	}
-	comp := mat.NewDense(n, n, nil)
+	lo, hi = lo-4*math.Ln10, hi+4*math.Ln10
+	step := math.Ln10 / 40
+	n := int(math.Ceil((hi-lo)/step)) + 1
+	u := make([]float64, 0, n+len(extra))
 	for i := 0; i < n; i++ {
-		comp.Set(0, i, -c[n-1-i]/c[n])
-		if i > 0 {
-			comp.Set(i, i-1, 1)
-		}
+		u = append(u, lo+float64(i)*step)
 	}
-	vals, err := eigenvalues(comp)
-	if err != nil {
-		return nil
-	}
+	u = append(u, extra...)
+	sort.Float64s(u)
+	return u
+}
+
+// stationary returns the stationary points of ln|H|² on the grid.
+func (m magSquared) stationary(grid []float64) []float64 {
+	return signChanges(grid, func(u float64) float64 {
+		_, d1, _ := m.logAndDerivs(math.Exp(u))
+		return d1
+	})
+}
+
+// signChanges returns the roots of g(u) on the grid u: each sign change
+// between neighbours is bisected to full precision (g continuous there).
+func signChanges(u []float64, g func(u float64) float64) []float64 {
 	var out []float64
-	for _, v := range vals {
-		if real(v) > 0 && math.Abs(imag(v)) <= 1e-4*real(v) {
-			out = append(out, real(v))
+	prevU, prevG := u[0], g(u[0])
+	for _, x := range u[1:] {
+		if x == prevU {
+			continue
 		}
-	}
-	return out
-}
-
-// trimHigh drops zero leading (highest-order) coefficients.
-func trimHigh(c []float64) []float64 {
-	for len(c) > 1 && c[len(c)-1] == 0 {
-		c = c[:len(c)-1]
-	}
-	return c
-}
-
-// polishLog refines a root of g(u) = 0, u = ln ξ, by Newton steps, where
-// eval returns g and g′. It reports the root and whether it converged.
-func polishLog(xi float64, eval func(xi float64) (g, dg float64)) (float64, bool) {
-	u := math.Log(xi)
-	for it := 0; it < 30; it++ {
-		g, dg := eval(math.Exp(u))
-		if dg == 0 || math.IsNaN(g) {
-			break
-		}
-		step := g / dg
-		if math.Abs(step) > 2 {
-			step = math.Copysign(2, step)
-		}
-		u -= step
-		if math.Abs(step) < 1e-14 {
-			return math.Exp(u), true
-		}
-	}
-	g, _ := eval(math.Exp(u))
-	return math.Exp(u), math.Abs(g) < 1e-9
-}
-
-// uniqueSorted sorts v and removes values within 1e-9 relative.
-func uniqueSorted(v []float64) []float64 {
-	sort.Float64s(v)
-	var out []float64
-	for _, x := range v {
-		if len(out) == 0 || math.Abs(x-out[len(out)-1]) > 1e-9*x {
+		gx := g(x)
+		switch {
+		case gx == 0:
 			out = append(out, x)
+		case prevG != 0 && (gx > 0) != (prevG > 0) && !math.IsNaN(gx) && !math.IsNaN(prevG):
+			a, b, ga := prevU, x, prevG
+			for it := 0; it < 200 && b-a > 1e-15*math.Max(1, math.Abs(a)); it++ {
+				mid := 0.5 * (a + b)
+				gm := g(mid)
+				if gm == 0 {
+					a, b = mid, mid
+					break
+				}
+				if (gm > 0) == (ga > 0) {
+					a, ga = mid, gm
+				} else {
+					b = mid
+				}
+			}
+			out = append(out, 0.5*(a+b))
 		}
+		prevU, prevG = x, gx
 	}
 	return out
 }
@@ -328,11 +391,11 @@ type Peak struct {
 }
 
 // Peak returns the maximum of |H(jω)| over 0 ≤ ω ≤ ∞, from the stationary
-// points of |H(jω)|² (a rational function of ω², solved as a polynomial
-// and polished) and the two ends. It returns ErrUnbounded when the gain
+// points of |H(jω)|², found on the factored form (never from expanded
+// coefficients: see scanGrid), and the two ends. It returns ErrUnbounded when the gain
 // has no finite maximum, and a zero Peak for H ≡ 0.
 func (h *TransferFunction) Peak() (Peak, error) {
-	if h.Gain == 0 {
+	if k, _ := h.Scaled(); k == 0 {
 		return Peak{GainDB: math.Inf(-1)}, nil
 	}
 	for _, p := range h.Poles {
@@ -347,22 +410,14 @@ func (h *TransferFunction) Peak() (Peak, error) {
 	if h.DCGain().Power > 0 {
 		best.Gain = 0
 	}
-	if len(h.Zeros) == len(h.Poles) && math.Abs(h.Gain) > best.Gain {
-		best = Peak{Gain: math.Abs(h.Gain), OmegaRad: math.Inf(1)}
+	if k, _ := h.Scaled(); len(h.Zeros) == len(h.Poles) && math.Abs(k) > best.Gain {
+		best = Peak{Gain: math.Abs(k), OmegaRad: math.Inf(1)}
 	}
 	m := newMagSquared(h)
-	// Stationary points: P′Q − PQ′ = 0.
-	P, Q := product(m.p), product(m.q)
-	dP, dQ := polyDeriv(P), polyDeriv(Q)
-	stat := polySub(polyMul(dP, Q), polyMul(P, dQ))
-	for _, xi := range positiveRealRoots(stat) {
-		xi, ok := polishLog(xi, func(x float64) (float64, float64) {
-			_, d1, d2 := m.logAndDerivs(x)
-			return d1, d2
-		})
-		if !ok {
-			continue
-		}
+	// Stationary points of ln|H|² in u = ln ξ, on the factored form.
+	grid := m.scanGrid(h.Poles, h.Zeros)
+	for _, u := range m.stationary(grid) {
+		xi := math.Exp(u)
 		f, _, _ := m.logAndDerivs(xi)
 		if g := math.Sqrt(math.Exp(f)); g > best.Gain {
 			best = Peak{Gain: g, OmegaRad: m.ws * math.Sqrt(xi)}
@@ -373,25 +428,14 @@ func (h *TransferFunction) Peak() (Peak, error) {
 	return best, nil
 }
 
-// polyDeriv returns the derivative of an ascending polynomial.
-func polyDeriv(p []float64) []float64 {
-	if len(p) < 2 {
-		return []float64{0}
-	}
-	out := make([]float64, len(p)-1)
-	for k := 1; k < len(p); k++ {
-		out[k-1] = float64(k) * p[k]
-	}
-	return out
-}
-
-// polySub returns a − b.
-func polySub(a, b []float64) []float64 {
-	n := max(len(a), len(b))
-	out := make([]float64, n)
-	copy(out, a)
-	for i, v := range b {
-		out[i] -= v
+// uniqueSorted sorts v and removes values within 1e-9 relative.
+func uniqueSorted(v []float64) []float64 {
+	sort.Float64s(v)
+	var out []float64
+	for _, x := range v {
+		if len(out) == 0 || math.Abs(x-out[len(out)-1]) > 1e-9*x {
+			out = append(out, x)
+		}
 	}
 	return out
 }
@@ -407,18 +451,20 @@ type Bandwidth struct {
 // below the reference: the low-frequency gain when H(0) is finite and
 // non-zero; for a zero at DC, the high-frequency gain when it is finite and
 // non-zero (high-pass), else the peak gain (band-pass). The crossings are
-// the positive real roots of C·P(ξ) − (Ref²/2)·Q(ξ) (ξ = ω²/ωs², exact
-// polynomial form of |H(jω)|²), polished on the factored form.
+// found on the factored form of |H(jω)|² (sign changes on scanGrid,
+// bisected to full precision), never from expanded coefficients, so any
+// order is accurate and no eigenvalue routine is involved.
 func (h *TransferFunction) F3dB() (Bandwidth, error) {
 	dc := h.DCGain()
+	k, _ := h.Scaled()
 	var ref float64
 	switch {
-	case h.Gain == 0 || dc.Power < 0:
+	case k == 0 || dc.Power < 0:
 		return Bandwidth{}, ErrNoReference
 	case dc.Power == 0:
 		ref = math.Abs(dc.Gain)
 	case len(h.Zeros) == len(h.Poles):
-		ref = math.Abs(h.Gain)
+		ref = math.Abs(k)
 	default:
 		pk, err := h.Peak()
 		if err != nil {
@@ -428,23 +474,28 @@ func (h *TransferFunction) F3dB() (Bandwidth, error) {
 	}
 	m := newMagSquared(h)
 	target := math.Log(ref * ref / 2)
-	P, Q := product(m.p), product(m.q)
-	var qs []float64
-	for i := range Q {
-		qs = append(qs, Q[i]*ref*ref/2)
-	}
-	var ps []float64
-	for i := range P {
-		ps = append(ps, P[i]*m.c)
-	}
 	var out []float64
-	for _, xi := range positiveRealRoots(polySub(ps, qs)) {
-		xi, ok := polishLog(xi, func(x float64) (float64, float64) {
-			f, d1, _ := m.logAndDerivs(x)
-			return f - target, d1
-		})
-		if ok {
-			out = append(out, m.ws*math.Sqrt(xi)/(2*math.Pi))
+	grid := m.scanGrid(h.Poles, h.Zeros)
+	for _, u := range signChanges(grid, func(u float64) float64 {
+		f, _, _ := m.logAndDerivs(math.Exp(u))
+		return f - target
+	}) {
+		out = append(out, m.ws*math.Exp(u/2)/(2*math.Pi))
+	}
+	// A tangency (a double crossing) has no sign change: it is a
+	// stationary point on the level.
+	// Rounding may split it into two crossings √ε apart: they are the
+	// tangency.
+	for _, u := range m.stationary(grid) {
+		if f, _, _ := m.logAndDerivs(math.Exp(u)); math.Abs(f-target) <= 1e-8 {
+			t := m.ws * math.Exp(u/2) / (2 * math.Pi)
+			kept := out[:0]
+			for _, x := range out {
+				if math.Abs(x-t) > 1e-6*t {
+					kept = append(kept, x)
+				}
+			}
+			out = append(kept, t)
 		}
 	}
 	return Bandwidth{RefGain: ref, RefDB: 20 * math.Log10(ref), CrossingsHz: uniqueSorted(out)}, nil

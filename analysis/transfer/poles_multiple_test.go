@@ -27,7 +27,7 @@ func TestRepeatedRealPoles(t *testing.T) {
 		checkRepeatedPole(t, fmt.Sprintf("%d RC sections", tc.m), tf, tc.m, -1/(tc.r*tc.c))
 	}
 	const c4 = `title "tone stage second-order allpass"
-Vin: vsource (in, gnd) 1
+Vin: voltage source (in, gnd) 1
 R1: resistor (in, n) 10k
 R2: resistor (n, out) 10k
 R3: resistor (in, p) 10k

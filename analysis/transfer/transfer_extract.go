@@ -8,7 +8,6 @@ import (
 	"sort"
 	"strings"
 
-	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"nodal/mna"
@@ -25,8 +24,19 @@ const (
 	// zeroRootTol: a root smaller than zeroRootTol times the characteristic
 	// frequency is taken to be exactly s = 0.
 	zeroRootTol = 1e-10
-	// nullGainTol: H(σ) below nullGainTol·‖L‖₂‖x‖₂ at two shifts means H ≡ 0.
+	// nullGainTol: H(σ) below nullGainTol·Σ|Lᵢxᵢ| (the response's own
+	// scale: the terms the output sums) at two shifts means H ≡ 0. A
+	// single-node output is then zero only when it is exactly 0.
 	nullGainTol = 1e-12
+	// verifyTol: the extracted H(jω) must equal a direct solve within
+	// verifyTol relative at every check frequency, or Extract fails.
+	verifyTol = 1e-7
+	// roundingGainTol: |H(σ)| below roundingGainTol·‖L‖∞‖x‖∞ after
+	// refinement is rounding of the whole solution.
+	roundingGainTol = 1e-14
+	// tinyRankTol: the rank tolerance of the zero pencil when H is tiny
+	// but not rounding (see extract), a few ulps of ‖A‖.
+	tinyRankTol = 1e-15
 )
 
 // shiftFactors are the multiples of the characteristic frequency tried as
@@ -56,7 +66,7 @@ var shiftFactors = [...]float64{1, 1.7182818, 0.5772157, 3.1415927, 0.3183099, 7
 // with the positive imaginary part first; roots within 1e-10 of the
 // characteristic frequency of zero are exactly 0, and so is a cluster of m
 // roots around 0 that rounding split from an m-fold root at s = 0 (see
-// snapZero). If H ≡ 0, Num is [0],
+// snapOrigin). If H ≡ 0, Num is [0],
 // Den is [1] and there are no poles or zeros. Zeros at infinity are not
 // listed (len(Zeros) may be below or, for improper H, above len(Poles)).
 func Extract(sys *mna.System) (*TransferFunction, error) {
@@ -88,20 +98,124 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 	}
 
 	wc := characteristicFreq(sys)
-	sc := newScaledSystem(sys, wc)
-	tf, err := sc.extract()
-	if err != nil {
-		return nil, err
-	}
-	// Second pass when the poles sit far from the first guess of the
-	// characteristic frequency: centre the shift on them for accuracy.
-	if c := rootCentre(tf.Poles, tf.Cancelled); c > 0 && (c > 100*wc || c < wc/100) {
-		if tf2, err2 := newScaledSystem(sys, c).extract(); err2 == nil {
-			tf = tf2
+	// Orders above polishMaxOrder are not polished first (the shift-and-
+	// invert eigenvalues are then accurate enough as a rule, and Newton on
+	// the determinant costs O(n⁴)); the check against direct solves
+	// decides whether polishing is needed after all.
+	var verr error
+	for _, polish := range []bool{n <= polishMaxOrder, true} {
+		first := newScaledSystem(sys, wc)
+		t, err := first.extract(polish)
+		if err != nil {
+			return nil, err
+		}
+		// Second pass when the roots sit far from the first guess of the
+		// characteristic frequency: centre the shift on them for
+		// accuracy. The centre leaves out the poles the rank test puts at
+		// s = 0 (only those: a genuine tiny pole counts): an origin pole
+		// carries no scale, and its unrounded value (10⁻¹² of the guess)
+		// would centre the pass 10⁻⁶ below every other root, where the
+		// gain point's G + sC rounds away the capacitors' admittances.
+		if c := first.rawCentre; c > 0 && (c > 100*wc || c < wc/100) {
+			if t2, err2 := newScaledSystem(sys, c).extract(polish); err2 == nil {
+				t = t2
+			}
+		}
+		if verr = verifyExtraction(sys, t); verr == nil {
+			return t, nil
+		}
+		if polish {
+			break
 		}
 	}
-	return tf, nil
+	return nil, verr
 }
+
+// polishMaxOrder is the largest system size whose roots are always
+// polished by Newton steps.
+const polishMaxOrder = 40
+
+// ErrIllConditioned means the extracted H(s) disagrees with direct solves
+// of the circuit: the extraction cannot be trusted and no H is returned.
+var ErrIllConditioned = errors.New("the transfer-function extraction is ill-conditioned")
+
+// verifyPoints is the number of frequencies at which verifyExtraction
+// compares H with direct solves.
+const verifyPoints = 12
+
+// verifyExtraction compares the factored H(jω) with direct sparse solves
+// of the circuit at verifyPoints frequencies spaced geometrically from a
+// tenth of the smallest non-zero root magnitude to ten times the largest
+// (the sweep range and more). They must agree within verifyTol relative,
+// or within 1e-10 of Σ|Lᵢxᵢ| (the response's own scale: a cancellation
+// in the output is rounding in both), or within verifyFloor of the peak. A frequency where the circuit is
+// singular (a pole on the jω axis) is skipped. An H ≡ 0 (decided by
+// the rank of the bordered pencil) is checked against rounding of the
+// whole solution instead.
+func verifyExtraction(sys *mna.System, tf *TransferFunction) error {
+	lo, hi := math.Inf(1), 0.0
+	for _, l := range [][]complex128{tf.Poles, tf.Zeros, tf.Cancelled} {
+		for _, r := range l {
+			if a := cmplx.Abs(r); a > 0 {
+				lo, hi = math.Min(lo, a), math.Max(hi, a)
+			}
+		}
+	}
+	if hi == 0 {
+		lo, hi = 1, 1
+		if _, w := tf.Scaled(); w > 0 {
+			lo, hi = w, w
+		}
+	}
+	lo, hi = lo/10, hi*10
+	type point struct {
+		w         float64
+		hd, hf    complex128
+		scale     float64
+		evaluated bool
+	}
+	pts := make([]point, verifyPoints)
+	peak := 0.0
+	zero := tf.ScaledGain == 0 && tf.Gain == 0
+	for k := range pts {
+		w := lo * math.Pow(hi/lo, (float64(k)+0.5)/verifyPoints)
+		s := complex(0, w)
+		x, err := sys.SolveAll(s)
+		if err != nil {
+			continue
+		}
+		p := point{w: w, hf: tf.EvalFactored(s), evaluated: true}
+		xmax := 0.0
+		for i, l := range sys.L {
+			t := complex(l, 0) * x[i]
+			p.hd += t
+			p.scale += cmplx.Abs(t)
+			xmax = math.Max(xmax, cmplx.Abs(x[i]))
+		}
+		if zero {
+			// H ≡ 0 was decided by a rank test: the direct solve must be
+			// rounding of the whole solution.
+			p.scale = math.Max(p.scale, normInf(sys.L)*xmax*1e3)
+		}
+		pts[k] = p
+		peak = math.Max(peak, cmplx.Abs(p.hd))
+	}
+	for _, p := range pts {
+		if !p.evaluated {
+			continue
+		}
+		if d := cmplx.Abs(p.hf - p.hd); !(d <= verifyTol*cmplx.Abs(p.hd)+1e-10*p.scale+verifyFloor*peak) {
+			return fmt.Errorf("%w: at %g rad/s the factored form gives %.6g, a direct solve %.6g", ErrIllConditioned, p.w, p.hf, p.hd)
+		}
+	}
+	return nil
+}
+
+// verifyFloor: below verifyFloor times the largest |H| over the check
+// points, a direct solve deep in a stop band carries the solver's own
+// rounding (ε times the magnitudes it eliminates), so the comparison is
+// absolute there.
+const verifyFloor = 1e-12
 
 // finite reports whether v is neither NaN nor infinite.
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
@@ -191,6 +305,10 @@ type scaledSystem struct {
 	b, l   []float64
 	n      int
 	gb, cb *mat.Dense // the bordered zero pencil
+	// rawCentre (rad/s) is rootCentre of the poles other than those
+	// the rank test sets to s = 0: where the roots are, for a second
+	// pass.
+	rawCentre float64
 }
 
 // newScaledSystem balances sys for the characteristic frequency wc (rad/s).
@@ -278,27 +396,49 @@ func pow2Inv(m float64) float64 {
 	return math.Ldexp(1, -e+1)
 }
 
-// evalAtShift returns H(σ̂·ωc) and the magnitude scale ‖L̂‖₂·‖x‖₂ that
-// bounds it (Cauchy–Schwarz), or ok=false when G + σC is ill conditioned.
-// An |H| that is a rounding-level fraction of the scale is no evidence of
-// a non-zero H: for a single-node output Σ|L̂ᵢxᵢ| would equal |H| itself.
-func (s *scaledSystem) evalAtShift(sigma float64) (h, scale float64, ok bool) {
+// evalAtShift returns H(σ̂·ωc) and the magnitude scale Σ|L̂ᵢxᵢ| of the
+// terms the output sums, or ok=false when G + σC is ill conditioned. An
+// |H| that is a rounding-level fraction of that scale is a cancellation
+// (a balanced bridge): no evidence of a non-zero H. The norm of the whole
+// solution is never the scale: the far end of a long ladder is 10⁻⁸⁰ of
+// its first node and still exact.
+//
+// stable reports whether the refinement step left H unchanged to 1e-3
+// relative (and non-zero): a genuine tiny H is computed stably, while a
+// value that is rounding of a cancellation moves by its own size.
+func (s *scaledSystem) evalAtShift(sigma float64) (h, scale, norm float64, stable, ok bool) {
 	x := mat.NewDense(s.n, s.n, nil)
 	x.Scale(sigma, s.c)
 	x.Add(x, s.g)
 	var lu mat.LU
 	lu.Factorize(x)
 	if c := lu.Cond(); math.IsInf(c, 0) || math.IsNaN(c) || c > maxShiftCond {
-		return 0, 0, false
+		return 0, 0, 0, false, false
 	}
 	var v mat.VecDense
-	if err := lu.SolveVecTo(&v, false, mat.NewVecDense(s.n, append([]float64(nil), s.b...))); err != nil {
-		return 0, 0, false
+	bv := mat.NewVecDense(s.n, append([]float64(nil), s.b...))
+	if err := lu.SolveVecTo(&v, false, bv); err != nil {
+		return 0, 0, 0, false, false
+	}
+	h0 := 0.0
+	for i := 0; i < s.n; i++ {
+		h0 += s.l[i] * v.AtVec(i)
+	}
+	// One step of iterative refinement: a value that is rounding of a
+	// cancellation shrinks by another factor ε, a genuine tiny one stays.
+	var r, d mat.VecDense
+	r.MulVec(x, &v)
+	r.SubVec(bv, &r)
+	if err := lu.SolveVecTo(&d, false, &r); err == nil {
+		v.AddVec(&v, &d)
 	}
 	for i := 0; i < s.n; i++ {
-		h += s.l[i] * v.AtVec(i)
+		t := s.l[i] * v.AtVec(i)
+		h += t
+		scale += math.Abs(t)
 	}
-	return h, floats.Norm(s.l, 2) * mat.Norm(&v, 2), true
+	stable = h != 0 && h0 != 0 && math.Abs(h-h0) <= 1e-3*math.Abs(h)
+	return h, scale, normInf(s.l) * mat.Norm(&v, math.Inf(1)), stable, true
 }
 
 // gainPointRadii and gainPointAngles span the candidate points ŝ = r·e^{jθ}
@@ -350,14 +490,51 @@ func (s *scaledSystem) evalComplex(sv complex128) (complex128, bool) {
 	return h, true
 }
 
-// extract runs the whole computation in scaled units.
-func (s *scaledSystem) extract() (*TransferFunction, error) {
+// evalDC returns H(0) = L̂Ĝ⁻¹B̂ by LU with two steps of iterative
+// refinement (the residual in float64), so that a DC gain that is exactly
+// representable (a resistive divider of equal parts, an unloaded ladder:
+// 1) comes out exactly. ok=false when Ĝ is exactly singular.
+func (s *scaledSystem) evalDC() (float64, bool) {
+	var f complexLU
+	if f.factor(s.g, s.c, 0) {
+		return 0, false
+	}
+	x := make([]complex128, s.n)
+	r := make([]complex128, s.n)
+	buf := make([]complex128, s.n)
+	for i, v := range s.b {
+		x[i] = complex(v, 0)
+	}
+	f.solve(x, buf)
+	for it := 0; it < 2; it++ {
+		for i := 0; i < s.n; i++ {
+			v := s.b[i]
+			for j := 0; j < s.n; j++ {
+				v -= s.g.At(i, j) * real(x[j])
+			}
+			r[i] = complex(v, 0)
+		}
+		f.solve(r, buf)
+		for i := range x {
+			x[i] += r[i]
+		}
+	}
+	h := 0.0
+	for i, l := range s.l {
+		h += l * real(x[i])
+	}
+	return h, true
+}
+
+// extract runs the whole computation in scaled units; polish says whether
+// the roots get Newton steps on the determinant (O(n⁴), see polishRoots).
+func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 	// H at a well-conditioned shift (used for the gain).
-	sigma, hSig, hScale := 0.0, 0.0, 0.0
+	sigma, hSig, hScale, hNorm, hStable := 0.0, 0.0, 0.0, 0.0, false
 	found := false
 	for _, f := range shiftFactors {
-		if h, sc, ok := s.evalAtShift(f); ok {
-			sigma, hSig, hScale, found = f, h, sc, true
+		if h, sc, nm, st, ok := s.evalAtShift(f); ok {
+			sigma, hSig, hScale, hNorm, hStable, found = f, h, sc, nm, st, true
 			break
 		}
 	}
@@ -371,7 +548,7 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 			if f == sigma {
 				continue
 			}
-			if h, sc, ok := s.evalAtShift(f); ok {
+			if h, sc, _, _, ok := s.evalAtShift(f); ok {
 				zero = sc == 0 || math.Abs(h) <= nullGainTol*sc
 				if !zero {
 					sigma, hSig = f, h
@@ -390,15 +567,43 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 		}
 		return nil, fmt.Errorf("transfer function poles: %w", err)
 	}
-	polishRoots(s.g, s.c, poles)
+	if polish {
+		polishRoots(s.g, s.c, poles)
+	} else {
+		mergeClusters(poles)
+	}
 	zeros, err := finiteEigenvalues(s.gb, s.cb, shiftFactors[:])
+	if errors.Is(err, errSingularPencil) {
+		// The bordered pencil looks singular while G + sC is not: its
+		// determinant −det(G + sC)·H(s) vanishes identically, so H ≡ 0
+		// (an output at a virtual ground, a balanced bridge) — when H at
+		// the shift is rounding of the whole solution too and moves under
+		// refinement. Otherwise H is tiny but real (a 1 TΩ / 0.1 Ω
+		// divider: the determinant is 10⁻¹³ of the entries): decide the
+		// rank at rounding level instead.
+		if math.Abs(hSig) <= roundingGainTol*hNorm && !hStable {
+			return &TransferFunction{Num: []float64{0}, Den: []float64{1}}, nil
+		}
+		zeros, err = finiteEigenvaluesTol(s.gb, s.cb, shiftFactors[:], tinyRankTol)
+		if errors.Is(err, errSingularPencil) {
+			return nil, fmt.Errorf("%w: the response (|H| = %.3g at s = %.4g rad/s) is too small beside the circuit's other quantities (%.3g) to factor its zeros in float64",
+				ErrIllConditioned, math.Abs(hSig), sigma*s.wc, hNorm)
+		}
+	}
 	if err != nil {
 		return nil, fmt.Errorf("transfer function zeros: %w", err)
 	}
-	polishRoots(s.gb, s.cb, zeros)
+	if polish {
+		polishRoots(s.gb, s.cb, zeros)
+	} else {
+		mergeClusters(zeros)
+	}
 
-	snapZero(poles)
-	snapZero(zeros)
+	snapOrigin(poles, originMultiplicity(s.g, s.c))
+	s.rawCentre = rootCentre(poles) * s.wc
+	snapOrigin(zeros, originMultiplicity(s.gb, s.cb))
+	snapAxis(poles)
+	snapAxis(zeros)
 	poles, zeros, cancelled := cancelPairs(poles, zeros)
 
 	// Gain K̂ = H(ŝ)·Π(ŝ−p̂)/Π(ŝ−ẑ) at the point farthest from every root
@@ -408,14 +613,35 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 	if !ok {
 		hs, sg = complex(hSig, 0), complex(sigma, 0)
 	}
-	k := hs
-	for _, p := range poles {
-		k *= sg - p
+	k := NewWideProduct(hs)
+	for i := 0; i < max(len(poles), len(zeros)); i++ {
+		if i < len(poles) {
+			k.Mul(sg - poles[i])
+		}
+		if i < len(zeros) {
+			k.Div(sg - zeros[i])
+		}
 	}
-	for _, z := range zeros {
-		k /= sg - z
+	// Present the factored form in the scale w at which the gain is ±1
+	// (w = ωc·|K̂|^(1/(n−m))), so that no gain overflows however many
+	// decades the roots span; Gain in rad/s units may not fit.
+	rel := len(poles) - len(zeros)
+	w, kw := s.wc, real(k.m)
+	if rel != 0 && kw != 0 {
+		lg := math.Log(math.Abs(kw)) + float64(k.e)*math.Ln2
+		w = s.wc * math.Exp(lg/float64(rel))
+		kw = math.Copysign(1, kw)
+	} else {
+		kw = math.Ldexp(kw, k.e)
 	}
-	gain := real(k) * math.Pow(s.wc, float64(len(poles)-len(zeros)))
+	gp := NewWideProduct(complex(kw, 0))
+	for i := 0; i < rel; i++ {
+		gp.Mul(complex(w, 0))
+	}
+	for i := 0; i > rel; i-- {
+		gp.Div(complex(w, 0))
+	}
+	gain := gp.Value()
 
 	scaleRoots(poles, s.wc)
 	scaleRoots(zeros, s.wc)
@@ -423,57 +649,112 @@ func (s *scaledSystem) extract() (*TransferFunction, error) {
 	sortRoots(poles)
 	sortRoots(zeros)
 	sortRoots(cancelled)
-	return newTransferFunction(gain, zeros, poles, cancelled), nil
+	tf := newTransferFunction(real(gain), zeros, poles, cancelled)
+	tf.ScaledGain, tf.ScaleRad = kw, w
+	if h0, ok := s.evalDC(); ok && !hasRootAtZero(poles, zeros) {
+		tf.DirectDC = &h0
+	}
+	return tf, nil
 }
 
-// snapZero sets to exactly 0 the roots that are s = 0 up to rounding
-// (scaled units), and the real part of complex roots within
-// zeroRootTol·|r| of the jω axis to 0 (a Q above 10⁹ is rounding of an
-// undamped pair, e.g. a notch).
-//
-// A root of multiplicity m at s = 0 (two series capacitors, a coupled
-// pair: H ∝ s²) does not come out as m tiny roots: a relative error δ in
-// the pencil splits it into m roots of size about δ^(1/m) around 0 (√ε ≈
-// 1.5e-8 for a double root), while their mean stays O(δ). So the m
-// smallest roots are set to 0 when the largest of them is below
-// originClusterTol(m) and the modulus of their mean is below zeroRootTol,
-// for the largest such m. For m = 1 this is the plain bound zeroRootTol.
-func snapZero(roots []complex128) {
+// WideProduct is a complex product m·2^e kept with |m| near 1, so that
+// products of hundreds of factors neither overflow nor underflow.
+type WideProduct struct {
+	m complex128
+	e int
+}
+
+func NewWideProduct(v complex128) WideProduct {
+	p := WideProduct{m: v}
+	p.norm()
+	return p
+}
+
+func (p *WideProduct) norm() {
+	a := math.Max(math.Abs(real(p.m)), math.Abs(imag(p.m)))
+	if a == 0 || math.IsInf(a, 0) || math.IsNaN(a) {
+		return
+	}
+	_, e := math.Frexp(a)
+	p.m = complex(math.Ldexp(real(p.m), -e), math.Ldexp(imag(p.m), -e))
+	p.e += e
+}
+
+func (p *WideProduct) Mul(v complex128) { p.m *= v; p.norm() }
+func (p *WideProduct) Div(v complex128) { p.m /= v; p.norm() }
+
+// value returns m·2^e (±Inf or 0 when it does not fit a float64).
+func (p WideProduct) Value() complex128 {
+	return complex(math.Ldexp(real(p.m), p.e), math.Ldexp(imag(p.m), p.e))
+}
+
+// hasRootAtZero reports whether a root of any list is exactly 0.
+func hasRootAtZero(lists ...[]complex128) bool {
+	for _, l := range lists {
+		for _, r := range l {
+			if r == 0 {
+				return true
+			}
+		}
+	}
+	return false
+}
+
+// originGuard (scaled units): the rank test's m roots at s = 0 are set
+// to 0 only when the eigen-solver also put them below this, so a rank
+// decision alone never moves a genuine root.
+const originGuard = 1e-3
+
+// originMultiplicity returns the multiplicity of s = 0 as a root of
+// det(a + s·e), by a rank test on the pencil at s = 0: the roots at s = 0
+// of a + s·e are the infinite eigenvalues of e + t·a (t = 1/s), which
+// deflateInfinite removes exactly by the staircase on null spaces of a.
+// It returns 0 when the test fails (a singular pencil).
+func originMultiplicity(a, e *mat.Dense) int {
+	n, _ := a.Dims()
+	p, err := deflateInfinite(e, a)
+	if err != nil {
+		return 0
+	}
+	if p.a == nil {
+		return n
+	}
+	r, _ := p.a.Dims()
+	return n - r
+}
+
+// snapOrigin sets the m smallest roots exactly to 0 when all of them lie
+// below originGuard (an m-fold root at s = 0 split by rounding, as the
+// rank test says: two series capacitors, the current of a coupling
+// capacitor, H ∝ s²).
+func snapOrigin(roots []complex128, m int) {
+	if m <= 0 || m > len(roots) {
+		return
+	}
 	idx := make([]int, len(roots))
 	for i := range idx {
 		idx[i] = i
 	}
 	sort.SliceStable(idx, func(a, b int) bool { return cmplx.Abs(roots[idx[a]]) < cmplx.Abs(roots[idx[b]]) })
-	for m := len(roots); m >= 1; m-- {
-		if cmplx.Abs(roots[idx[m-1]]) > originClusterTol(m) {
-			continue
-		}
-		var sum complex128
-		for _, i := range idx[:m] {
-			sum += roots[i]
-		}
-		if cmplx.Abs(sum)/float64(m) <= zeroRootTol {
-			for _, i := range idx[:m] {
-				roots[i] = 0
-			}
-			break
-		}
+	if cmplx.Abs(roots[idx[m-1]]) > originGuard {
+		return
 	}
+	for _, i := range idx[:m] {
+		roots[i] = 0
+	}
+}
+
+// snapAxis sets to 0 the real part of complex roots within
+// zeroRootTol·|r| of the jω axis (a Q above 10⁹ is rounding of an
+// undamped pair, e.g. a notch). Roots at s = 0 are decided by the rank
+// test alone (snapOrigin): a tiny genuine root (a 2 TΩ resistor with
+// 1 pF far from the characteristic frequency) is never set to 0.
+func snapAxis(roots []complex128) {
 	for i, r := range roots {
 		if imag(r) != 0 && math.Abs(real(r)) <= zeroRootTol*cmplx.Abs(r) {
 			roots[i] = complex(0, imag(r))
 		}
 	}
-}
-
-// originClusterTol is the largest modulus (scaled units) of a member of
-// an m-fold root at s = 0 split by rounding: (1e4·ε)^(1/m), allowing a
-// pencil condition of 1e4 after balancing, and never below zeroRootTol.
-// A genuine cluster of m distinct roots this close to 0 with a mean below
-// zeroRootTol (for m = 2 a pair ±a or ±ja below 1.5e-6 of the
-// characteristic frequency) cannot be told from it in float64.
-func originClusterTol(m int) float64 {
-	return math.Max(zeroRootTol, math.Pow(1e4*0x1p-52, 1/float64(m))) // ε = 2⁻⁵²
 }
 
 // scaleRoots multiplies every root by w.
@@ -638,19 +919,19 @@ func rootsPoly(roots []complex128) []float64 {
 	for i := 0; i < len(roots); i++ {
 		r := roots[i]
 		if imag(r) > 0 && i+1 < len(roots) && roots[i+1] == cmplx.Conj(r) {
-			p = polyMul(p, []float64{real(r)*real(r) + imag(r)*imag(r), -2 * real(r), 1})
+			p = PolyMul(p, []float64{real(r)*real(r) + imag(r)*imag(r), -2 * real(r), 1})
 			i++
 			continue
 		}
 		// Real roots; an unpaired complex root (not produced by Extract)
 		// contributes its real part only.
-		p = polyMul(p, []float64{-real(r), 1})
+		p = PolyMul(p, []float64{-real(r), 1})
 	}
 	return p
 }
 
-// polyMul multiplies two ascending polynomials.
-func polyMul(a, b []float64) []float64 {
+// PolyMul multiplies two ascending polynomials.
+func PolyMul(a, b []float64) []float64 {
 	out := make([]float64, len(a)+len(b)-1)
 	for i, x := range a {
 		for j, y := range b {

@@ -16,7 +16,7 @@ import (
 // allPassSource is an op-amp first-order all-pass (phase shifter) with
 // R1 = R2 = R; the C value is filled in.
 const allPassSource = `title "tone stage phase shifter"
-Vin: vsource (in, gnd) 1
+Vin: voltage source (in, gnd) 1
 R1: resistor (in, n) 10k
 R2: resistor (n, out) 10k
 R3: resistor (in, p) 10k

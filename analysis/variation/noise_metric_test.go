@@ -17,7 +17,7 @@ import (
 // refused for these metrics.
 func TestNoiseMetrics(t *testing.T) {
 	const kT = noise.BoltzmannJPerK * noise.DefaultTempK
-	c := tolLoad(t, "V1: vsource (in, gnd)\nR1: resistor (in, out) 10k ±1%\nR2: resistor (out, gnd) 2.2k\nC1: capacitor (out, gnd) 10n\n")
+	c := tolLoad(t, "V1: voltage source (in, gnd)\nR1: resistor (in, out) 10k ±1%\nR2: resistor (out, gnd) 2.2k\nC1: capacitor (out, gnd) 10n\n")
 	rp := 10e3 * 2.2e3 / 12.2e3
 	fc := 1 / (2 * math.Pi * rp * 10e-9)
 	ev, err := NewMetricEvaluator(c, mna.Input{}, mna.Output{Node: "out"}, []string{"noise@10Hz", "noise_rms@100Hz..1MHz", "gain@10Hz"})

@@ -46,3 +46,15 @@ func EvalVaried(c *netlist.Circuit, ev Evaluator, factors []float64, m int) ([]f
 func Derivatives(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt SensitivityOptions) ([][]float64, error) {
 	return derivatives(ctx, c, ev, opt)
 }
+
+// StreamJobs runs job on workers goroutines and hands the results to
+// consume in index order, memory bounded whatever n is; after a
+// cancellation consume has seen exactly jobs 0 … consumed−1 (see
+// streamJobs).
+func StreamJobs[T any](ctx context.Context, n, workers int, progress func(done int), job func(worker, i int) T, consume func(i int, v T)) (consumed int) {
+	return streamJobs(ctx, n, workers, progress, job, consume)
+}
+
+// CheckRuns refuses a run count outside [1, MaxRuns] for the analysis
+// what (named in the error).
+func CheckRuns(what string, runs int) error { return checkRuns(what, runs) }

@@ -89,3 +89,79 @@ func forEachJob(ctx context.Context, n, workers int, progress func(done int), jo
 	wg.Wait()
 	return done, done < n
 }
+
+// isDone reports whether ctx's Done channel is closed, without counting as
+// a call of ctx.Err.
+func isDone(ctx context.Context) bool {
+	select {
+	case <-ctx.Done():
+		return true
+	default:
+		return false
+	}
+}
+
+// streamWindowPerWorker bounds how far the workers of streamJobs may run
+// ahead of the oldest unfinished job: at most this many results per worker
+// wait for their turn, so memory does not grow with n.
+const streamWindowPerWorker = 64
+
+// streamJobs runs job(worker, i) for every i in [0, n) on workers
+// goroutines and hands each result to consume in index order (consume
+// calls are serialised), then calls progress with the number consumed so
+// far. At most streamWindowPerWorker·workers results wait for their turn.
+// ctx is checked once before each job; once it is cancelled no new job
+// starts and results after the first gap are dropped, so consume has seen
+// exactly jobs 0 … consumed−1: an
+// interrupted Monte Carlo covers the first N draws, which the same seed
+// with N runs reproduces.
+func streamJobs[T any](ctx context.Context, n, workers int, progress func(done int), job func(worker, i int) T, consume func(i int, v T)) (consumed int) {
+	workers = resolveWorkers(workers, n)
+	window := streamWindowPerWorker * workers
+	var mu sync.Mutex
+	turn := sync.NewCond(&mu)
+	pending := make(map[int]T, window)
+	next, prefix := 0, 0
+	stopped := false
+	var wg sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func(w int) {
+			defer wg.Done()
+			for {
+				mu.Lock()
+				for !stopped && next < n && next >= prefix+window {
+					turn.Wait()
+				}
+				if stopped || next >= n || ctx.Err() != nil {
+					stopped = stopped || next < n
+					turn.Broadcast()
+					mu.Unlock()
+					return
+				}
+				i := next
+				next++
+				mu.Unlock()
+				v := job(w, i)
+				mu.Lock()
+				pending[i] = v
+				for !stopped && !isDone(ctx) {
+					v, ok := pending[prefix]
+					if !ok {
+						break
+					}
+					delete(pending, prefix)
+					consume(prefix, v)
+					prefix++
+					if progress != nil {
+						progress(prefix)
+					}
+				}
+				turn.Broadcast()
+				mu.Unlock()
+			}
+		}(w)
+	}
+	wg.Wait()
+	return prefix
+}

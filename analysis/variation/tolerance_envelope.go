@@ -39,13 +39,14 @@ type EnvelopeResult struct {
 
 // Envelope sweeps H(j2πf) of in → out over freqsHz (Hz, each > 0 or 0 for
 // DC when Y(0) is regular) for the nominal circuit and for opt.Runs Monte
-// Carlo variants of it, keeping the per-frequency extremes. The extremes
-// are merged per worker with min and max, so the result does not depend on
-// the worker count. A nominal failure is an error; failed runs are
-// counted; cancelling ctx keeps the finished runs (Cancelled).
+// Carlo variants of it, keeping the per-frequency extremes, updated run by
+// run in run order (memory independent of the run count; the result does
+// not depend on the worker count). A nominal failure is an error; failed
+// runs are counted; cancelling ctx keeps the first Finished runs exactly
+// (Cancelled), as MonteCarlo does.
 func Envelope(ctx context.Context, c *netlist.Circuit, in mna.Input, out mna.Output, freqsHz []float64, opt MonteCarloOptions) (*EnvelopeResult, error) {
-	if opt.Runs <= 0 {
-		return nil, fmt.Errorf("envelope: %d runs; want at least 1", opt.Runs)
+	if err := checkRuns("envelope", opt.Runs); err != nil {
+		return nil, err
 	}
 	if len(freqsHz) == 0 {
 		return nil, fmt.Errorf("envelope: no frequencies")
@@ -62,61 +63,49 @@ func Envelope(ctx context.Context, c *netlist.Circuit, in mna.Input, out mna.Out
 		return nil, fmt.Errorf("envelope: nominal circuit: %w", err)
 	}
 	workers := resolveWorkers(opt.Workers, opt.Runs)
-	type band struct {
-		lo, hi, plo, phi, db, ph, factors []float64
-		failed                            []int
-		errs                              []error
+	factors := make([][]float64, workers)
+	for w := range factors {
+		factors[w] = make([]float64, len(c.Variations))
 	}
-	bands := make([]*band, workers)
-	for w := range bands {
-		b := &band{db: make([]float64, n), ph: make([]float64, n), factors: make([]float64, len(c.Variations))}
-		b.lo, b.hi = slices.Clone(res.NominalDB), slices.Clone(res.NominalDB)
-		b.plo, b.phi = slices.Clone(res.NominalPhaseDeg), slices.Clone(res.NominalPhaseDeg)
-		bands[w] = b
+	res.MinDB, res.MaxDB = slices.Clone(res.NominalDB), slices.Clone(res.NominalDB)
+	res.MinPhaseDeg, res.MaxPhaseDeg = slices.Clone(res.NominalPhaseDeg), slices.Clone(res.NominalPhaseDeg)
+	type curve struct {
+		db, ph []float64
+		err    error
 	}
-	finished, cancelled := forEachJob(ctx, opt.Runs, workers, opt.Progress, func(w, i int) {
-		b := bands[w]
-		drawFactors(c.Variations, opt.Seed, i, b.factors)
-		err := func() error {
-			for _, f := range b.factors {
-				if !(f > 0) {
-					return fmt.Errorf("a drawn factor is ≤ 0")
-				}
+	finished := streamJobs(ctx, opt.Runs, workers, opt.Progress, func(w, i int) curve {
+		f := factors[w]
+		drawFactors(c.Variations, opt.Seed, i, f)
+		for _, v := range f {
+			if !(v > 0) {
+				return curve{err: fmt.Errorf("a drawn factor is ≤ 0")}
 			}
-			vc, err := c.Vary(b.factors)
-			if err != nil {
-				return err
-			}
-			return bodeCurve(vc, in, out, freqsHz, b.db, b.ph)
-		}()
+		}
+		vc, err := c.Vary(f)
 		if err != nil {
-			b.failed, b.errs = append(b.failed, i), append(b.errs, err)
+			return curve{err: err}
+		}
+		cv := curve{db: make([]float64, n), ph: make([]float64, n)}
+		if err := bodeCurve(vc, in, out, freqsHz, cv.db, cv.ph); err != nil {
+			return curve{err: err}
+		}
+		return cv
+	}, func(i int, cv curve) {
+		if cv.err != nil {
+			if res.Failed == 0 {
+				res.FirstFailure = fmt.Errorf("run %d: %w", i, cv.err)
+			}
+			res.Failed++
 			return
 		}
-		shift := 360 * math.Round((b.ph[0]-res.NominalPhaseDeg[0])/360)
+		shift := 360 * math.Round((cv.ph[0]-res.NominalPhaseDeg[0])/360)
 		for k := range n {
-			p := b.ph[k] - shift
-			b.lo[k], b.hi[k] = math.Min(b.lo[k], b.db[k]), math.Max(b.hi[k], b.db[k])
-			b.plo[k], b.phi[k] = math.Min(b.plo[k], p), math.Max(b.phi[k], p)
+			p := cv.ph[k] - shift
+			res.MinDB[k], res.MaxDB[k] = math.Min(res.MinDB[k], cv.db[k]), math.Max(res.MaxDB[k], cv.db[k])
+			res.MinPhaseDeg[k], res.MaxPhaseDeg[k] = math.Min(res.MinPhaseDeg[k], p), math.Max(res.MaxPhaseDeg[k], p)
 		}
 	})
-	res.Finished, res.Cancelled = finished, cancelled
-	res.MinDB, res.MaxDB = bands[0].lo, bands[0].hi
-	res.MinPhaseDeg, res.MaxPhaseDeg = bands[0].plo, bands[0].phi
-	first := -1
-	for _, b := range bands {
-		for k := range n {
-			res.MinDB[k], res.MaxDB[k] = math.Min(res.MinDB[k], b.lo[k]), math.Max(res.MaxDB[k], b.hi[k])
-			res.MinPhaseDeg[k] = math.Min(res.MinPhaseDeg[k], b.plo[k])
-			res.MaxPhaseDeg[k] = math.Max(res.MaxPhaseDeg[k], b.phi[k])
-		}
-		res.Failed += len(b.failed)
-		for j, i := range b.failed {
-			if first < 0 || i < first {
-				first, res.FirstFailure = i, fmt.Errorf("run %d: %w", i, b.errs[j])
-			}
-		}
-	}
+	res.Finished, res.Cancelled = finished, finished < opt.Runs
 	if finished == 0 {
 		return nil, fmt.Errorf("envelope: stopped before any run finished: %w", context.Cause(ctx))
 	}

@@ -37,12 +37,12 @@ func TestMetricEvaluatorClosedForms(t *testing.T) {
 		{"sallen-key", tolSallenKey, []string{"f0", "q", "peak", "fpeak"}, []float64{
 			f0, q, 20 * math.Log10(q/math.Sqrt(1-1/(4*q*q))), f0 * math.Sqrt(1-1/(2*q*q))}},
 		{"high-pass", `
-Vin: vsource (in, gnd) 1
+Vin: voltage source (in, gnd) 1
 C1: capacitor (in, out) 15.9155nF
 R1: resistor (out, gnd) 10k
 `, []string{"f3db", "gain@10kHz"}, []float64{fc, -10 * math.Log10(1+math.Pow(fc/10e3, 2))}},
 		{"band-pass", `
-Vin: vsource (in, gnd) 1
+Vin: voltage source (in, gnd) 1
 L1: inductor (in, a) 10mH
 C1: capacitor (a, out) 100nF
 R1: resistor (out, gnd) 100
@@ -79,7 +79,7 @@ func TestMetricEvaluatorErrors(t *testing.T) {
 			t.Errorf("%v: error %v; want %q", tc.metrics, err, tc.want)
 		}
 	}
-	hp := tolLoad(t, "Vin: vsource (in, gnd) 1\nC1: capacitor (in, out) 1uF\nR1: resistor (out, gnd) 1k\n")
+	hp := tolLoad(t, "Vin: voltage source (in, gnd) 1\nC1: capacitor (in, out) 1uF\nR1: resistor (out, gnd) 1k\n")
 	if _, err := NewMetricEvaluator(hp, mna.Input{}, mna.Output{Node: "out"}, []string{"dc"}); err == nil {
 		t.Error("dc of a high-pass accepted")
 	}
@@ -93,7 +93,7 @@ func TestMetricEvaluatorPhaseBranch(t *testing.T) {
 	// half-turn): every run must stay on the nominal's branch rather than
 	// jump by 360° between draws.
 	c := tolLoad(t, `
-Vin: vsource (in, gnd) 1
+Vin: voltage source (in, gnd) 1
 R1: resistor (in, m) 10k ±5%
 R2: resistor (m, out) 10k ±5%
 C1: capacitor (m, out) 1pF ±5%

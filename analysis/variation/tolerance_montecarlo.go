@@ -10,7 +10,7 @@ import (
 
 // MonteCarloOptions configure MonteCarlo and Envelope.
 type MonteCarloOptions struct {
-	Runs    int    // number of runs, > 0
+	Runs    int    // number of runs, 1 … MaxRuns
 	Seed    uint64 // the same seed gives the same draws, whatever Workers is
 	Workers int    // goroutines; ≤ 0 means runtime.NumCPU()
 	// Progress, if set, is called after each finished run with the number
@@ -23,10 +23,12 @@ type MonteCarloOptions struct {
 // Run i draws its factors from a stream fixed by (Seed, i) alone (see
 // drawFactors), and results are stored by run index, so the numbers are
 // bit-identical for any worker count. Finished counts the runs that ran
-// (successful or failed); Failed those whose evaluation failed, with
+// (successful or failed), at most MaxRuns; Failed those whose evaluation failed, with
 // FirstFailure the error of the lowest-numbered one. Cancelled is true when
-// the context stopped the analysis before all Runs finished: the
-// statistics then cover the finished runs only.
+// the context stopped the analysis before all Runs finished: Finished is
+// then the number of leading runs 0 … Finished−1 the statistics cover
+// (later runs that happened to finish are left out), so the same seed with
+// Runs = Finished gives the same figures.
 type MonteCarloResult struct {
 	Runs         int
 	Seed         uint64
@@ -46,8 +48,8 @@ type MonteCarloResult struct {
 // failed. Cancelling ctx returns the finished runs with Cancelled set (an
 // error only when no run finished).
 func MonteCarlo(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt MonteCarloOptions) (*MonteCarloResult, error) {
-	if opt.Runs <= 0 {
-		return nil, fmt.Errorf("monte carlo: %d runs; want at least 1", opt.Runs)
+	if err := checkRuns("monte carlo", opt.Runs); err != nil {
+		return nil, err
 	}
 	names := ev.Metrics()
 	nominal, err := evalNominal("monte carlo", c, ev)
@@ -55,60 +57,60 @@ func MonteCarlo(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt Monte
 		return nil, err
 	}
 	m := len(names)
-	vals := make([]float64, opt.Runs*m)
-	status := make([]runStatus, opt.Runs)
-	errs := make([]error, opt.Runs)
 	nv := len(c.Variations)
 	workers := resolveWorkers(opt.Workers, opt.Runs)
 	buf := make([][]float64, workers)
 	for w := range buf {
 		buf[w] = make([]float64, nv)
 	}
-	finished, cancelled := forEachJob(ctx, opt.Runs, workers, opt.Progress, func(w, i int) {
+	acc := make([]*metricAccumulator, m)
+	for j := range acc {
+		acc[j] = newMetricAccumulator(opt.Runs)
+	}
+	res := &MonteCarloResult{Runs: opt.Runs, Seed: opt.Seed, Items: c.Variations}
+	type outcome struct {
+		vals []float64
+		err  error
+	}
+	res.Finished = streamJobs(ctx, opt.Runs, workers, opt.Progress, func(w, i int) outcome {
 		drawFactors(c.Variations, opt.Seed, i, buf[w])
 		v, err := evalVaried(c, ev, buf[w], m)
-		if err != nil {
-			status[i], errs[i] = runFailed, err
-			return
-		}
-		copy(vals[i*m:], v)
-		status[i] = runOK
-	})
-	res := &MonteCarloResult{Runs: opt.Runs, Seed: opt.Seed, Finished: finished, Cancelled: cancelled, Items: c.Variations}
-	samples := make([][]float64, m)
-	for i, st := range status {
-		switch st {
-		case runFailed:
+		return outcome{v, err}
+	}, func(i int, o outcome) {
+		if o.err != nil {
 			if res.Failed == 0 {
-				res.FirstFailure = fmt.Errorf("run %d: %w", i, errs[i])
+				res.FirstFailure = fmt.Errorf("run %d: %w", i, o.err)
 			}
 			res.Failed++
-		case runOK:
-			for j := range m {
-				samples[j] = append(samples[j], vals[i*m+j])
-			}
+			return
 		}
-	}
-	if finished == 0 {
+		for j, v := range o.vals {
+			acc[j].add(v)
+		}
+	})
+	res.Cancelled = res.Finished < opt.Runs
+	if res.Finished == 0 {
 		return nil, fmt.Errorf("monte carlo: stopped before any run finished: %w", context.Cause(ctx))
 	}
-	if res.Failed == finished {
-		return nil, fmt.Errorf("monte carlo: all %d runs failed; first: %w", finished, res.FirstFailure)
+	if res.Failed == res.Finished {
+		return nil, fmt.Errorf("monte carlo: all %d runs failed; first: %w", res.Finished, res.FirstFailure)
 	}
 	for j, name := range names {
-		res.Metrics = append(res.Metrics, summarise(name, nominal[j], samples[j]))
+		res.Metrics = append(res.Metrics, acc[j].stats(name, nominal[j]))
 	}
 	return res, nil
 }
 
-// runStatus records what became of one run.
-type runStatus uint8
-
-const (
-	runPending runStatus = iota
-	runOK
-	runFailed
-)
+// checkRuns refuses a run count outside [1, MaxRuns] for the analysis what.
+func checkRuns(what string, runs int) error {
+	if runs <= 0 {
+		return fmt.Errorf("%s: %d runs; want at least 1", what, runs)
+	}
+	if runs > MaxRuns {
+		return fmt.Errorf("%s: %d runs is more than the maximum of %d; ask for fewer (100,000 runs already give the ±3σ points to a few %% of σ)", what, runs, MaxRuns)
+	}
+	return nil
+}
 
 // evalNominal evaluates ev on the nominal circuit for the analysis what.
 func evalNominal(what string, c *netlist.Circuit, ev Evaluator) ([]float64, error) {

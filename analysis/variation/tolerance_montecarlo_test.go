@@ -35,7 +35,7 @@ func tolEvaluator(t testing.TB, c *netlist.Circuit, out string, metrics ...strin
 // tolRC is an RC low-pass, f3db = 1/(2π·10 kΩ·15.9155 nF) ≈ 1 kHz, with R
 // and C uniform ±1 %.
 const tolRC = `
-Vin: vsource (in, gnd) 1
+Vin: voltage source (in, gnd) 1
 R1: resistor (in, out) 10k ±1%
 C1: capacitor (out, gnd) 15.9155nF ±1%
 `
@@ -98,8 +98,8 @@ func TestMonteCarloRCUniform(t *testing.T) {
 
 // tolNormalR has R normal with tol = 3 %, so σ(R)/R = 1 %, and C exact.
 const tolNormalR = `
-Vin: vsource (in, gnd) 1
-R1: resistor (in, out) 10k ±3% dist=normal
+Vin: voltage source (in, gnd) 1
+R1: resistor (in, out) 10k ±3% normal
 C1: capacitor (out, gnd) 15.9155nF
 `
 
@@ -175,7 +175,7 @@ func (p partValues) Eval(c *netlist.Circuit) ([]float64, error) {
 func TestMonteCarloSharedLet(t *testing.T) {
 	c := tolLoad(t, `
 let R = 10k ±5%
-Vin: vsource (in, gnd) 1
+Vin: voltage source (in, gnd) 1
 R1: resistor (in, a) R
 R2: resistor (a, out) 2*R
 R3: resistor (out, gnd) 10k ±5%
@@ -224,6 +224,16 @@ func TestMonteCarloCancel(t *testing.T) {
 	}
 	if last != res.Finished {
 		t.Errorf("last progress %d, finished %d", last, res.Finished)
+	}
+	// The interrupted run covers exactly the first Finished draws: the same
+	// seed with that many runs gives bit-identical figures.
+	again, err := MonteCarlo(context.Background(), c, ev, MonteCarloOptions{Runs: res.Finished, Seed: 1, Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, b := res.Metrics[0], again.Metrics[0]
+	if a.Mean != b.Mean || a.Std != b.Std || a.Min != b.Min || a.Max != b.Max || a.P00135 != b.P00135 || a.P99865 != b.P99865 {
+		t.Errorf("interrupted at %d runs: %+v; --runs %d: %+v", res.Finished, a, res.Finished, b)
 	}
 	ctx2, cancel2 := context.WithCancel(context.Background())
 	cancel2()
@@ -288,7 +298,7 @@ func TestPercentileType7(t *testing.T) {
 const tol6thOrder = `
 let C0 = 10nF
 let R = 15.9155k
-Vin: vsource (in, gnd) 1
+Vin: voltage source (in, gnd) 1
 R11: resistor (in, a1) R ±1%
 R12: resistor (a1, b1) R ±1%
 C11: capacitor (a1, o1) 2*0.5176*C0 ±5%

@@ -12,7 +12,7 @@ import (
 // ω0 = 1/√(R1R2C1C2) and Q = √(R1R2C1C2)/(C2(R1 + R2)).
 // Here f0 ≈ 1073 Hz and Q ≈ 0.927.
 const tolSallenKey = `
-Vin: vsource (in, gnd) 1
+Vin: voltage source (in, gnd) 1
 R1: resistor (in, a) 10k ±1%
 R2: resistor (a, b) 22k ±1%
 C1: capacitor (a, out) 20nF ±5%
@@ -66,7 +66,7 @@ func TestSensitivityDecibel(t *testing.T) {
 	// (differentiating the divider's closed form; common practice); per %
 	// that is divided by 100.
 	res := tolSensitivity(t, `
-Vin: vsource (in, gnd) 1
+Vin: voltage source (in, gnd) 1
 R1: resistor (in, out) 30k ±1%
 R2: resistor (out, gnd) 10k ±1%
 `, "out", "dc", "gain@1kHz")

@@ -52,6 +52,9 @@ Examples:
 
 // Run compares and prints the verdict.
 func (c *checkCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+		return err
+	}
 	if c.ODE == "" && c.TF == "" {
 		return errors.New("give your derivation with --ode \"EQUATION\" or --tf \"EXPRESSION\"")
 	}

@@ -13,7 +13,7 @@ import (
 // derivations name them (R1 = 10 kΩ, R2 = 22 kΩ, C1 = 10 nF, C2 = 4.7 nF,
 // L1 = 10 mH).
 const diagnosisParts = `title "tone-stage parts"
-Vs: vsource (in, gnd) 1
+Vs: voltage source (in, gnd) 1
 R1: resistor (in, a) 10k
 R2: resistor (a, b) 22k
 C1: capacitor (b, gnd) 10n

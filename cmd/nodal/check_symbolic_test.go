@@ -10,7 +10,7 @@ import (
 // C2 out→gnd) with equal parts, so R1·C1 = R1·C2 = R2·C1 = R2·C2 in value.
 // H(s) = 1/(1 + s·(R1·C1 + R1·C2 + R2·C2) + s²·R1·R2·C1·C2) (common
 // practice: nodal analysis of the two-section ladder).
-const ladderRC2 = `Vs: vsource (in, gnd) 1
+const ladderRC2 = `Vs: voltage source (in, gnd) 1
 R1: resistor (in, a) 10k
 C1: capacitor (a, gnd) 10n
 R2: resistor (a, out) 10k

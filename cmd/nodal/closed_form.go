@@ -10,7 +10,12 @@ import (
 )
 
 // closedFormText renders a step or impulse response as y(t) = ….
-func closedFormText(r *timeresp.TimeResponse) string { return closedForm(r.Dirac, r.Modes) }
+func closedFormText(r *timeresp.TimeResponse) string {
+	if r.ClosedFormWithheld != "" {
+		return "(not shown: " + r.ClosedFormWithheld + ")"
+	}
+	return closedForm(r.Dirac, r.Modes)
+}
 
 // piece is one signed term of a closed form: coef·body.
 type piece struct {

@@ -43,6 +43,9 @@ type nodePhasor struct {
 
 // Run computes the steady state.
 func (c *driveCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+		return err
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err

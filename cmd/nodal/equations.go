@@ -29,6 +29,9 @@ Example:
 
 // Run prints the equations.
 func (c *equationsCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+		return err
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err

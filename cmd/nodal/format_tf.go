@@ -138,8 +138,9 @@ func factoredText(h *transfer.TransferFunction) string {
 	}
 	zf, z0 := factorText(h.Zeros)
 	pf, p0 := factorText(h.Poles)
-	// K is the ratio of the lowest-order non-zero coefficients.
-	k := lowest(h.Num) / lowest(h.Den)
+	// K is the ratio of the lowest-order non-zero coefficients, taken
+	// from the factored form (the coefficients need not fit a float64).
+	k := h.DCGain().Gain
 	var top []string
 	top = append(top, engNumber(k))
 	if z0 > p0 {
@@ -196,6 +197,11 @@ func zpkText(h *transfer.TransferFunction) string {
 		return out
 	}
 	s := engNumber(h.Gain)
+	if math.IsInf(h.Gain, 0) || h.Gain == 0 {
+		// The gain does not fit a float64 at this order.
+		m, e := h.GainDecimal()
+		s = fmt.Sprintf("%s·10^%d", engNumber(m), e)
+	}
 	if z := lin(h.Zeros); len(z) > 0 {
 		s += "·" + strings.Join(z, "·")
 	}

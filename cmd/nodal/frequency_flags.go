@@ -2,15 +2,44 @@ package main
 
 import (
 	"fmt"
+	"math"
 
 	"nodal/analysis/response"
 	"nodal/cmd/nodal/notation"
+	"nodal/netlist"
 	"nodal/netlist/syntax"
 )
 
 // maxPoints bounds every sampled output (sweep and time points): a million
 // points is far beyond any plot or table and still fits in memory.
 const maxPoints = 1_000_000
+
+// maxPartPoints bounds the work of a frequency analysis: parts × points ×
+// repeats (outputs of a sweep, runs of an envelope). Each part-point is a
+// few sparse-matrix operations, so 10⁹ is minutes of work.
+const maxPartPoints = 1_000_000_000
+
+// checkWork refuses an analysis of parts × points × repeats above
+// maxPartPoints, saying what to reduce.
+func checkWork(what string, parts, points, repeats int, repeatName string) error {
+	w := float64(parts) * float64(points) * float64(repeats)
+	if w <= maxPartPoints {
+		return nil
+	}
+	return fmt.Errorf("%s: %d parts × %d points × %d %s is %.3g part-points, more than the maximum of %.0e: use fewer points (--per-decade, --points, a narrower range) or fewer %s",
+		what, parts, points, repeats, repeatName, w, float64(maxPartPoints), repeatName)
+}
+
+// maxFrequencyHz is the highest frequency a flag may give.
+const maxFrequencyHz = netlist.MaxFrequencyHz
+
+// pointCount writes a point count, "more than 10^18" when it saturated.
+func pointCount(n int) string {
+	if n == math.MaxInt {
+		return "more than 10^18"
+	}
+	return fmt.Sprint(n)
+}
 
 // freqArgs choose the frequencies of a sweep. With none given the range
 // covers the circuit's poles and zeros by two decades either side.
@@ -38,6 +67,9 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 			if v < 0 {
 				return nil, fmt.Errorf("--at %s: frequency must be ≥ 0", notation.Eng(v, "Hz"))
 			}
+			if v > maxFrequencyHz || math.IsInf(v, 0) {
+				return nil, fmt.Errorf("--at %s: the frequency is out of range: frequencies go up to %s", notation.Eng(v, "Hz"), notation.Eng(maxFrequencyHz, "Hz"))
+			}
 		}
 		return out, nil
 	}
@@ -51,6 +83,14 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 	if f.To != "" {
 		if to, err = syntax.ParseFlag("--to", f.To, "Hz"); err != nil {
 			return nil, err
+		}
+	}
+	for _, v := range []struct {
+		flag string
+		hz   float64
+	}{{"--from", from}, {"--to", to}} {
+		if math.IsInf(v.hz, 0) || math.IsNaN(v.hz) || v.hz > maxFrequencyHz {
+			return nil, fmt.Errorf("%s: %s is out of range: frequencies go up to %s", v.flag, notation.Eng(v.hz, "Hz"), notation.Eng(maxFrequencyHz, "Hz"))
 		}
 	}
 	if !(to > from) {
@@ -77,6 +117,10 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 	}
 	if f.PerDecade < 1 || f.PerDecade > 10000 {
 		return nil, fmt.Errorf("--per-decade must be between 1 and 10000")
+	}
+	if n := response.LogGridSize(from, to, f.PerDecade); n > maxPoints {
+		return nil, fmt.Errorf("%s to %s at %d points per decade is %s points, more than the maximum of %d: narrow the range or lower --per-decade",
+			notation.Eng(from, "Hz"), notation.Eng(to, "Hz"), f.PerDecade, pointCount(n), maxPoints)
 	}
 	return response.LogGrid(from, to, f.PerDecade), nil
 }

@@ -9,7 +9,7 @@ import (
 )
 
 // FuzzCircuitCommands feeds arbitrary circuit text on standard input to
-// `nodal parts -` and `nodal tf - --out out`. Whatever the text, the exit
+// `nodal parts -` and `nodal transfer - --out out`. Whatever the text, the exit
 // status is 0, 1 or 2; exit 2 comes with a message on stderr; no panic
 // reaches run's recovery ("internal error"), no stack trace is printed
 // and no run takes more than 10 s.
@@ -29,7 +29,7 @@ func FuzzCircuitCommands(f *testing.F) {
 		}
 	}
 	f.Fuzz(func(t *testing.T, src string) {
-		for _, args := range [][]string{{"parts", "-"}, {"tf", "-", "--out", "out"}} {
+		for _, args := range [][]string{{"parts", "-"}, {"transfer", "-", "--out", "out"}} {
 			done := make(chan result, 1)
 			go func() { done <- runNodal(t, src, args...) }()
 			var r result

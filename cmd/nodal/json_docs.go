@@ -42,7 +42,7 @@ func complexPtrDoc(z *complex128) *complexJSON {
 	return &d
 }
 
-// timeJSON is the document of `nodal step` and `nodal impulse`.
+// timeJSON is the document of `nodal time`.
 type timeJSON struct {
 	Kind          string        `json:"kind"`
 	ClosedForm    string        `json:"closed_form"`
@@ -210,7 +210,7 @@ func checkDoc(res *check.CheckResult, agrees bool, sc symbolicCheck) checkJSON {
 	return d
 }
 
-// tfJSON is the document of `nodal tf` (numeric), keys in alphabetical
+// tfJSON is the document of `nodal transfer` (numeric), keys in alphabetical
 // order. gain_dc is null for a
 // pole at DC and 0 for a zero there; gain_dc_db only for a finite,
 // non-zero DC gain; f3db and the peak only when they exist.
@@ -220,20 +220,25 @@ type tfJSON struct {
 	F3dBHz      []float64     `json:"f3db_hz,omitempty"`
 	F3dBRefDB   *float64      `json:"f3db_ref_db,omitempty"`
 	Factored    string        `json:"factored"`
-	Gain        float64       `json:"gain"`
+	Gain        *float64      `json:"gain"`
 	GainDC      *float64      `json:"gain_dc"`
 	GainDCDB    *float64      `json:"gain_dc_db,omitempty"`
 	HFAsymptote asymptoteJSON `json:"hf_asymptote"`
 	Num         []float64     `json:"num"`
-	ODE         string        `json:"ode"`
-	Pairs       []pairJSON    `json:"pairs"`
-	PeakDB      *float64      `json:"peak_db,omitempty"`
-	PeakHz      *float64      `json:"peak_hz,omitempty"`
-	Poles       []complexJSON `json:"poles"`
-	Unit        string        `json:"unit"`
-	What        string        `json:"what"`
-	ZeroPairs   []pairJSON    `json:"zero_pairs"`
-	Zeros       []complexJSON `json:"zeros"`
+	// NumScaled, DenScaled: the coefficients in ŝ = s/ScaleRadS, given
+	// only when those in s do not fit a float64 (Num, Den, Gain null).
+	NumScaled []float64     `json:"num_scaled,omitempty"`
+	DenScaled []float64     `json:"den_scaled,omitempty"`
+	ScaleRadS *float64      `json:"scale_rad_s,omitempty"`
+	ODE       string        `json:"ode"`
+	Pairs     []pairJSON    `json:"pairs"`
+	PeakDB    *float64      `json:"peak_db,omitempty"`
+	PeakHz    *float64      `json:"peak_hz,omitempty"`
+	Poles     []complexJSON `json:"poles"`
+	Unit      string        `json:"unit"`
+	What      string        `json:"what"`
+	ZeroPairs []pairJSON    `json:"zero_pairs"`
+	Zeros     []complexJSON `json:"zeros"`
 }
 
 // asymptoteJSON is gain·s^power, the slope in dB per decade.
@@ -276,13 +281,19 @@ func pairsJSON(ps []transfer.RootPair) []pairJSON {
 	return out
 }
 
-// tfDoc returns the document of `nodal tf` for rep.
+// tfDoc returns the document of `nodal transfer` for rep.
 func tfDoc(rep *tfReport) tfJSON {
 	h := rep.r.tf
-	doc := tfJSON{What: rep.r.what, Unit: rep.r.unit, Num: h.Num, Den: h.Den,
+	doc := tfJSON{What: rep.r.what, Unit: rep.r.unit,
 		Poles: rootsJSON(h.Poles), Zeros: rootsJSON(h.Zeros), Pairs: pairsJSON(rep.pairs), ZeroPairs: pairsJSON(rep.zeroPairs),
-		Gain: h.Gain, Factored: factoredText(h), ODE: odeText(rep.ode, rep.r.yName, rep.r.uName),
+		Factored: factoredText(h), ODE: odeText(rep.ode, rep.r.yName, rep.r.uName),
 		HFAsymptote: asymptoteJSON{Gain: finiteOrNil(rep.hf.Gain), Power: rep.hf.Power, SlopeDBPerDecade: finiteOrNil(rep.hf.SlopeDBPerDecade)}}
+	if h.Fits() {
+		doc.Num, doc.Den, doc.Gain = h.Num, h.Den, finiteOrNil(h.Gain)
+	} else {
+		num, den, w := h.ScaledPoly()
+		doc.NumScaled, doc.DenScaled, doc.ScaleRadS = num, den, &w
+	}
 	switch {
 	case rep.dc.Power == 0:
 		doc.GainDC, doc.GainDCDB = finiteOrNil(rep.dc.Gain), finiteOrNil(rep.dc.GainDB)

@@ -17,6 +17,8 @@ import (
 	"os"
 	"os/signal"
 	"strings"
+	"syscall"
+	"time"
 
 	"github.com/alecthomas/kong"
 )
@@ -38,11 +40,11 @@ type cli struct {
 	Parts     partsCmd     `cmd:"" help:"Show the elaborated parts and nodes of a circuit."`
 	Equations equationsCmd `cmd:"" help:"Show the MNA equations (G + sC)x = b being solved."`
 	Sweep     sweepCmd     `cmd:"" help:"Frequency response: magnitude, phase and group delay."`
-	TF        tfCmd        `cmd:"" name:"tf" help:"Transfer function H(s), poles, zeros, f0, Q and the circuit's ODE."`
+	Transfer  transferCmd  `cmd:"" help:"Transfer function H(s), poles, zeros, f0, Q and the circuit's ODE."`
+	Impedance impedanceCmd `cmd:"" help:"Impedance Z(s) at a source's port or a node, over frequency, with its resonances."`
 	Check     checkCmd     `cmd:"" help:"Check a hand-derived ODE or transfer function against the circuit."`
 	Drive     driveCmd     `cmd:"" help:"Sinusoidal steady-state output for a given input signal."`
-	Step      stepCmd      `cmd:"" help:"Exact step response with rise, overshoot and settling figures."`
-	Impulse   impulseCmd   `cmd:"" help:"Exact impulse response."`
+	Time      timeCmd      `cmd:"" help:"Exact step or impulse response with rise, overshoot and settling figures."`
 	Noise     noiseCmd     `cmd:"" help:"Output and input-referred noise, contributions, integrated noise and SNR."`
 	Tolerance toleranceCmd `cmd:"" help:"Monte Carlo, worst case and sensitivities of response metrics."`
 	Verify    verifyCmd    `cmd:"" help:"Check the file's require statements at nominal, worst case and as yield."`
@@ -54,7 +56,10 @@ type cli struct {
 // process's working directory. Commands never use os.Stdout directly, so
 // they can be tested.
 type env struct {
-	ctx    context.Context
+	ctx context.Context
+	// temps lists temporary output files for removal on a forced exit
+	// (nil: none kept).
+	temps  *tempFiles
 	stdin  io.Reader
 	stdout io.Writer
 	stderr io.Writer
@@ -75,10 +80,45 @@ var errInterrupted = errors.New("interrupted")
 type exitRequest int
 
 func main() {
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	temps := &tempFiles{}
+	ctx, stop := interruptContext(temps)
 	defer stop()
-	e := &env{ctx: ctx, stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, stderrIsTerminal: isTerminal(os.Stderr)}
+	e := &env{ctx: ctx, temps: temps, stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, stderrIsTerminal: isTerminal(os.Stderr)}
 	os.Exit(run(e, os.Args[1:]))
+}
+
+// interruptGrace is how long a command may take to stop after the first
+// signal: long work that watches its context stops at once, and a command
+// that reports partial results (tolerance) writes them within it; work that
+// cannot be stopped (a numeric transfer-function extraction of a huge
+// circuit) is ended when it runs out.
+const interruptGrace = 900 * time.Millisecond
+
+// interruptContext returns a context cancelled by the first SIGINT (Ctrl-C),
+// SIGTERM or SIGHUP: long work stops, a half-written output file is
+// removed, and the command exits with status 2 after printing what it had
+// finished where that is meaningful. A second signal, or interruptGrace
+// passing, exits with status 2 after removing the temporary output files
+// listed in temps, so every command stops within a second.
+func interruptContext(temps *tempFiles) (context.Context, func()) {
+	ctx, cancel := context.WithCancel(context.Background())
+	sig := make(chan os.Signal, 2)
+	signal.Notify(sig, os.Interrupt, syscall.SIGTERM, syscall.SIGHUP)
+	go func() {
+		<-sig
+		cancel()
+		select {
+		case <-sig:
+		case <-time.After(interruptGrace):
+			fmt.Fprintln(os.Stderr, "nodal: interrupted")
+		}
+		temps.removeAll()
+		os.Exit(exitInput)
+	}()
+	return ctx, func() {
+		signal.Stop(sig)
+		cancel()
+	}
 }
 
 // run parses args, runs the command and returns the exit status. It never
@@ -108,6 +148,10 @@ func run(e *env, args []string) (code int) {
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
 		return exitInput
 	}
+	if err := unknownCommand(parser, args); err != nil {
+		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
+		return exitInput
+	}
 	kctx, err := parser.Parse(args)
 	if err != nil {
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
@@ -118,7 +162,11 @@ func run(e *env, args []string) (code int) {
 		if errors.As(err, &v) {
 			return exitVerdict
 		}
-		if errors.Is(err, errInterrupted) {
+		if errors.Is(err, errInterrupted) && !errors.Is(err, errOutputInterrupted) {
+			return exitInput // the command said what it finished
+		}
+		if errors.Is(err, errOutputInterrupted) || e.ctx.Err() != nil && (errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded)) {
+			fmt.Fprintln(e.stderr, "nodal: interrupted: no output file was written; output to the terminal may be cut short")
 			return exitInput
 		}
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
@@ -140,4 +188,34 @@ func isTerminal(f *os.File) bool {
 // metric list, read from the metric registry.
 func helpVars() kong.Vars {
 	return kong.Vars{"version": "nodal " + version, "metrics": strings.Join(netlist.MetricNames(), ", ")}
+}
+
+// unknownCommand names a first argument that is no command, with the
+// nearest command as a hint (or the one command and flag it is a value
+// of), or returns nil.
+func unknownCommand(parser *kong.Kong, args []string) error {
+	if len(args) == 0 || strings.HasPrefix(args[0], "-") {
+		return nil
+	}
+	var names []string
+	for _, n := range parser.Model.Children {
+		if n.Name == args[0] {
+			return nil
+		}
+		names = append(names, n.Name)
+	}
+	list := strings.Join(names, ", ")
+	var uses [][2]string // command and flag of which the word is a value
+	for _, n := range parser.Model.Children {
+		for _, f := range n.Flags {
+			if f.Enum != "" && f.EnumMap()[args[0]] {
+				uses = append(uses, [2]string{n.Name, f.Name})
+			}
+		}
+	}
+	if len(uses) == 1 {
+		u := uses[0]
+		return fmt.Errorf("unknown command %q; it is a value of %q: nodal %s FILE --%s %s (commands: %s)", args[0], u[0]+" --"+u[1], u[0], u[1], args[0], list)
+	}
+	return fmt.Errorf("unknown command %q; the nearest is %q (commands: %s)", args[0], netlist.Nearest(args[0], names), list)
 }

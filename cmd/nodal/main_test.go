@@ -39,7 +39,7 @@ func TestVersionAndHelp(t *testing.T) {
 	if r.code != 0 || !strings.Contains(r.stdout, "nodal "+version) {
 		t.Errorf("--version: code %d, stdout %q", r.code, r.stdout)
 	}
-	for _, cmd := range []string{"parts", "equations", "sweep", "tf", "check", "drive", "step", "impulse", "noise", "report"} {
+	for _, cmd := range []string{"parts", "equations", "sweep", "transfer", "impedance", "check", "drive", "time", "tolerance", "verify", "snap", "noise", "report"} {
 		r := runNodal(t, "", cmd, "--help")
 		if r.code != 0 || !strings.Contains(r.stdout, "Example") {
 			t.Errorf("%s --help: code %d, no worked example in %q", cmd, r.code, r.stdout)
@@ -53,7 +53,15 @@ func TestUsageErrorsExitTwo(t *testing.T) {
 		args []string
 		want string
 	}{
-		{"unknown command", []string{"frobnicate"}, "unexpected argument"},
+		{"unknown command", []string{"frobnicate"}, `unknown command "frobnicate"`},
+		{"old tf", []string{"tf", rcFile, "--out", "out"}, `unknown command "tf"; the nearest is "transfer"`},
+		{"old step", []string{"step", rcFile, "--out", "out"}, `unknown command "step"; it is a value of "time --input": nodal time FILE --input step (commands: parts, equations, sweep, transfer, impedance, check, drive, time,`},
+		{"old impulse", []string{"impulse", rcFile, "--out", "out"}, `unknown command "impulse"; it is a value of "time --input": nodal time FILE --input impulse`},
+		{"unknown command near one", []string{"sweeep", rcFile}, `unknown command "sweeep"; the nearest is "sweep"`},
+		{"a value of many commands", []string{"json", rcFile}, `unknown command "json"; the nearest is`},
+		{"old zin", []string{"transfer", rcFile, "--zin", "Vs"}, "unknown flag --zin"},
+		{"old zout", []string{"transfer", rcFile, "--zout", "out"}, "unknown flag --zout"},
+		{"old vsource", []string{"parts", "-"}, `unknown element kind or block "vsource" (the nearest is "voltage source"`},
 		{"missing file", []string{"parts", "testdata/no-such.nodal"}, "no-such.nodal"},
 		{"unknown node lists nodes", []string{"sweep", rcFile, "--out", "nowhere"}, "out"},
 		{"unknown source lists sources", []string{"sweep", rcFile, "--out", "out", "--in", "V9"}, "Vs"},
@@ -61,7 +69,7 @@ func TestUsageErrorsExitTwo(t *testing.T) {
 		{"bad signal", []string{"drive", rcFile, "--out", "out", "--signal", "sin(2*pi*t +)"}, "--signal"},
 	}
 	for _, tc := range cases {
-		r := runNodal(t, "", tc.args...)
+		r := runNodal(t, "Vs: vsource (in, gnd) 1\nR1: resistor (in, gnd) 1k\n", tc.args...)
 		if r.code != exitInput || !strings.Contains(r.stderr, tc.want) {
 			t.Errorf("%s: code %d, stderr %q; want exit 2 mentioning %q", tc.name, r.code, r.stderr, tc.want)
 		}
@@ -72,7 +80,7 @@ func TestUsageErrorsExitTwo(t *testing.T) {
 }
 
 func TestParseErrorNamesFileLineColumn(t *testing.T) {
-	src := "Vs: vsource (in, gnd) 1\nR1: resistr (in, out) 1k\n"
+	src := "Vs: voltage source (in, gnd) 1\nR1: resistr (in, out) 1k\n"
 	r := runNodal(t, src, "parts", "-")
 	if r.code != exitInput || !strings.Contains(r.stderr, "<stdin>:2:5") || !strings.Contains(r.stderr, "resistor") {
 		t.Errorf("code %d, stderr %q; want <stdin>:2:5 and a did-you-mean", r.code, r.stderr)
@@ -172,8 +180,8 @@ func TestSweepCSVAndAtomicFile(t *testing.T) {
 
 // H(s) = 1/(1 + sRC): one pole at −1/RC, D normalised to 1 + RC·s
 // (common practice).
-func TestTFJSON(t *testing.T) {
-	r := runNodal(t, "", "tf", rcFile, "--out", "out", "--format", "json")
+func TestTransferJSON(t *testing.T) {
+	r := runNodal(t, "", "transfer", rcFile, "--out", "out", "--format", "json")
 	if r.code != 0 {
 		t.Fatalf("code %d: %s", r.code, r.stderr)
 	}
@@ -253,8 +261,8 @@ func TestDriveJSON(t *testing.T) {
 
 // Step of a first-order low-pass: final value 1, 10–90 % rise 2.197·RC
 // (common practice).
-func TestStepJSON(t *testing.T) {
-	r := runNodal(t, "", "step", rcFile, "--out", "out", "--format", "json", "--points", "50")
+func TestTimeStepJSON(t *testing.T) {
+	r := runNodal(t, "", "time", rcFile, "--out", "out", "--format", "json", "--points", "50")
 	if r.code != 0 {
 		t.Fatalf("code %d: %s", r.code, r.stderr)
 	}

@@ -46,7 +46,7 @@ func TestNumbersReadAlike(t *testing.T) {
 		{"4k7", 4700, true}, {"2R2", 2.2, false}, {"100nF", 100e-9, false}, {"2.5MHz", 2.5e6, true},
 		{"10kohm", 1e4, false}, {"4µ7", 4.7e-6, true}, {"1G2", 1.2e9, true},
 	} {
-		src := "let x = " + tc.text + "\nV1: vsource (in, gnd) 1\nR1: resistor (in, gnd) 1k\n"
+		src := "let x = " + tc.text + "\nV1: voltage source (in, gnd) 1\nR1: resistor (in, gnd) 1k\n"
 		c, err := netlist.Load("t.nodal", []byte(src), nil)
 		if err != nil {
 			t.Fatalf("%s in a file: %v", tc.text, err)
@@ -100,7 +100,7 @@ func TestNumbersReadAlike(t *testing.T) {
 func TestMessageForm(t *testing.T) {
 	dir := t.TempDir()
 	bad := filepath.Join(dir, "tone.nodal")
-	fileSrc := "V1: vsource (in, gnd) 1\nR1: resistor (in, out) 4k7x\nC1: capacitor (out, gnd) 1n\n"
+	fileSrc := "V1: voltage source (in, gnd) 1\nR1: resistor (in, out) 4k7x\nC1: capacitor (out, gnd) 1n\n"
 	if err := os.WriteFile(bad, []byte(fileSrc), 0o644); err != nil {
 		t.Fatal(err)
 	}
@@ -113,7 +113,7 @@ func TestMessageForm(t *testing.T) {
 		shown  string // the echoed source line
 		msg    string
 	}{
-		{"circuit file", []string{"tf", bad, "--out", "out"}, bad, 2, 24, "R1: resistor (in, out) 4k7x", `unknown unit "x" after a value code`},
+		{"circuit file", []string{"transfer", bad, "--out", "out"}, bad, 2, 24, "R1: resistor (in, out) 4k7x", `unknown unit "x" after a value code`},
 		{"--ode", []string{"check", rcFile, "--out", "out", "--ode", "R1*C1*y' + = u"}, "--ode", 1, 12, "R1*C1*y' + = u", `expected a term after "+"`},
 		{"--tf", []string{"check", rcFile, "--out", "out", "--tf", "1/(1 + 2s)"}, "--tf", 1, 8, "1/(1 + 2s)", `write 2*s`},
 		{"--tf number", []string{"check", rcFile, "--out", "out", "--tf", "1/(1 + s*1k5x)"}, "--tf", 1, 10, "1/(1 + s*1k5x)", `unknown unit "x" after a value code`},
@@ -121,7 +121,7 @@ func TestMessageForm(t *testing.T) {
 		{"--signal syntax", []string{"drive", rcFile, "--out", "out", "--signal", "0.8*sin(2*pi*400*t)^2"}, "--signal", 1, 20, "0.8*sin(2*pi*400*t)^2", `unexpected character '^'`},
 		{"--at", []string{"sweep", rcFile, "--out", "out", "--at", "1k5, 2x"}, "--at", 1, 6, "1k5, 2x", `unknown unit or prefix "x"`},
 		{"--from", []string{"sweep", rcFile, "--out", "out", "--from", "10QHz"}, "--from", 1, 1, "10QHz", `unknown unit or prefix "QHz"`},
-		{"--set", []string{"tf", rcFile, "--out", "out", "--set", "R=4k7q"}, "--set", 1, 3, "R=4k7q", `unknown unit "q" after a value code`},
+		{"--set", []string{"transfer", rcFile, "--out", "out", "--set", "R=4k7q"}, "--set", 1, 3, "R=4k7q", `unknown unit "q" after a value code`},
 	} {
 		r := runNodal(t, "", tc.args...)
 		if r.code != exitInput {
@@ -150,10 +150,10 @@ func TestMessageEcho(t *testing.T) {
 	dir := t.TempDir()
 	long := filepath.Join(dir, "long.nodal")
 	pad := strings.Repeat("x", 100000)
-	if err := os.WriteFile(long, []byte("V1: vsource (in, gnd) 1\nR1: resistor (in, out) 1k "+pad+" $\n"), 0o644); err != nil {
+	if err := os.WriteFile(long, []byte("V1: voltage source (in, gnd) 1\nR1: resistor (in, out) 1k "+pad+" $\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	r := runNodal(t, "", "tf", long, "--out", "out")
+	r := runNodal(t, "", "transfer", long, "--out", "out")
 	lines := strings.Split(strings.TrimRight(r.stderr, "\n"), "\n")
 	if r.code != exitInput || len(lines) != 3 || !strings.Contains(lines[0], `unexpected character "$"`) {
 		t.Fatalf("long line: exit %d, stderr of %d bytes: %.300q", r.code, len(r.stderr), r.stderr)
@@ -165,23 +165,23 @@ func TestMessageEcho(t *testing.T) {
 		t.Errorf("caret not under the $")
 	}
 	name := filepath.Join(dir, "name.nodal")
-	if err := os.WriteFile(name, []byte("V1: vsource (in, gnd) 1\nR1: resistor (in, out) 1k\nC1: capacitor (out, gnd) C"+pad+"\n"), 0o644); err != nil {
+	if err := os.WriteFile(name, []byte("V1: voltage source (in, gnd) 1\nR1: resistor (in, out) 1k\nC1: capacitor (out, gnd) C"+pad+"\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	r = runNodal(t, "", "tf", name, "--out", "out")
+	r = runNodal(t, "", "transfer", name, "--out", "out")
 	if r.code != exitInput || !strings.Contains(r.stderr, `undefined parameter "Cxxx`) || len(r.stderr) > 1000 {
 		t.Errorf("100000-character name: exit %d, %d bytes of message: %.200q", r.code, len(r.stderr), r.stderr)
 	}
 	ctl := filepath.Join(dir, "ctl.nodal")
-	if err := os.WriteFile(ctl, []byte("V1: vsource (in, gnd) 1\nR1: resistor (in, out) 1k $ # \x1b[2J\u202egnp.exe\n"), 0o644); err != nil {
+	if err := os.WriteFile(ctl, []byte("V1: voltage source (in, gnd) 1\nR1: resistor (in, out) 1k $ # \x1b[2J\u202egnp.exe\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	r = runNodal(t, "", "tf", ctl, "--out", "out")
+	r = runNodal(t, "", "transfer", ctl, "--out", "out")
 	if r.code != exitInput || strings.ContainsAny(r.stderr, "\x1b\u202e") || !strings.Contains(r.stderr, `# \x1b[2J\u202egnp.exe`) {
 		t.Errorf("control characters: exit %d, stderr %q", r.code, r.stderr)
 	}
 	titled := filepath.Join(dir, "title.nodal")
-	if err := os.WriteFile(titled, []byte(`title "logger \x1b[2J\u202efront end"`+"\nV1: vsource (in, gnd) 1\nR1: resistor (in, gnd) 1k\n"), 0o644); err != nil {
+	if err := os.WriteFile(titled, []byte(`title "logger \x1b[2J\u202efront end"`+"\nV1: voltage source (in, gnd) 1\nR1: resistor (in, gnd) 1k\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	r = runNodal(t, "", "parts", titled)

@@ -38,12 +38,16 @@ type partJSON struct {
 	Tol   float64  `json:"tol"`
 	Dist  string   `json:"dist"`
 	Fixed bool     `json:"fixed,omitempty"`
-	// Extra carries kind-specific settings (sense, control, opamp model).
+	// Extra carries kind-specific settings (the sensed nodes or part of a
+	// controlled source, the coupled inductors, the opamp model).
 	Extra map[string]any `json:"extra,omitempty"`
 }
 
 // Run prints the parts.
 func (c *partsCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+		return err
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err
@@ -121,9 +125,13 @@ func partValueText(p netlist.Part) string {
 		}
 		return strings.Join(opts, " ")
 	case netlist.VCVS, netlist.VCCS:
-		return fmt.Sprintf("%s sense=(%s, %s)", notation.Eng(p.Value, p.Kind.Unit()), p.Sense[0], p.Sense[1])
+		ctl := "v(" + p.Sense[0] + ")"
+		if p.Sense[1] != netlist.Ground {
+			ctl = "v(" + p.Sense[0] + ", " + p.Sense[1] + ")"
+		}
+		return notation.Eng(p.Value, p.Kind.Unit()) + "·" + ctl
 	case netlist.CCVS, netlist.CCCS:
-		return fmt.Sprintf("%s sense=%s", notation.Eng(p.Value, p.Kind.Unit()), p.Control)
+		return notation.Eng(p.Value, p.Kind.Unit()) + "·i(" + p.Control + ")"
 	case netlist.Coupling:
 		return fmt.Sprintf("K=%s", notation.Eng(p.Value, ""))
 	case netlist.VSource, netlist.ISource:

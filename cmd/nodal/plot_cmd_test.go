@@ -49,9 +49,9 @@ func TestPlotFiles(t *testing.T) {
 	}{
 		{"bode svg", []string{"sweep", rcFile, "--out", "out", "--out", "in"}, "bode.svg"},
 		{"bode png", []string{"sweep", rcFile, "--out", "out"}, "bode.png"},
-		{"pole-zero", []string{"tf", rcFile, "--out", "out"}, "pz.svg"},
-		{"step", []string{"step", rcFile, "--out", "out"}, "step.png"},
-		{"impulse", []string{"impulse", rcFile, "--out", "out"}, "impulse.svg"},
+		{"pole-zero", []string{"transfer", rcFile, "--out", "out"}, "pz.svg"},
+		{"step", []string{"time", rcFile, "--out", "out"}, "step.png"},
+		{"impulse", []string{"time", rcFile, "--input", "impulse", "--out", "out"}, "impulse.svg"},
 	}
 	for _, tc := range cases {
 		path := filepath.Join(dir, tc.file)

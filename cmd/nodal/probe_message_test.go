@@ -17,12 +17,15 @@ func TestWrongProbeSameMessageNumericAndSymbolic(t *testing.T) {
 		{[]string{"--out", "out", "--ref", "inn"}, `no node "inn"; did you mean "in"?`},
 		{[]string{"--out", "i(R9)"}, `no part "R9"; did you mean "R1"?`},
 		{[]string{"--in", "Vz", "--out", "out"}, `no source "Vz"; did you mean "Vs"?`},
-		{[]string{"--zin", "Vz"}, `no source "Vz"; did you mean "Vs"?`},
-		{[]string{"--zout", "oot"}, `cannot inject a test current into node "oot"; did you mean "out"?`},
+		{[]string{"impedance", "--port", "Vz"}, `no source "Vz"; did you mean "Vs"?`},
+		{[]string{"impedance", "--node", "oot"}, `cannot inject a test current into node "oot"; did you mean "out"?`},
 		{[]string{"--out", "zzzz"}, `no node "zzzz" (nodes: "gnd", "in", "out")`},
 	}
 	for _, tc := range cases {
-		args := append([]string{"tf", rcFile}, tc.args...)
+		args := append([]string{"transfer", rcFile}, tc.args...)
+		if tc.args[0] == "impedance" {
+			args = append([]string{"impedance", rcFile}, tc.args[1:]...)
+		}
 		num := runNodal(t, "", args...)
 		sym := runNodal(t, "", append(args, "--symbolic")...)
 		name := strings.Join(tc.args, " ")

@@ -14,15 +14,15 @@ import (
 // reason in JSON.
 func TestPairOnAxisQ(t *testing.T) {
 	file := filepath.Join(t.TempDir(), "tank.nodal")
-	src := "title \"LC tank\"\nVs: vsource (in, gnd) 1\nL1: inductor (in, out) 10mH\nC1: capacitor (out, gnd) 100nF\n"
+	src := "title \"LC tank\"\nVs: voltage source (in, gnd) 1\nL1: inductor (in, out) 10mH\nC1: capacitor (out, gnd) 100nF\n"
 	if err := os.WriteFile(file, []byte(src), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	r := runNodal(t, "", "tf", file, "--out", "out")
+	r := runNodal(t, "", "transfer", file, "--out", "out")
 	if r.code != 0 || !strings.Contains(r.stdout, "pair: f0 5.033 kHz, Q ∞, ζ 0") {
 		t.Errorf("tf table (exit %d):\n%s%s", r.code, r.stdout, r.stderr)
 	}
-	r = runNodal(t, "", "tf", file, "--out", "out", "--format", "json")
+	r = runNodal(t, "", "transfer", file, "--out", "out", "--format", "json")
 	var doc struct {
 		Pairs []struct {
 			F0Hz    float64  `json:"f0_hz"`

@@ -1,9 +1,13 @@
 package main
 
 import (
+	"bytes"
+	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"math"
+	"os"
 	"slices"
 
 	"nodal/analysis/response"
@@ -25,6 +29,7 @@ type reportCmd struct {
 	Format string   `help:"html: one self-contained HTML file; text: the same sections as terminal tables." enum:"html,text" default:"html"`
 	Runs   int      `help:"Monte Carlo runs when the file has tolerances." default:"2000"`
 	Seed   uint64   `help:"Seed of the Monte Carlo draws." default:"1"`
+	Force  bool     `help:"With no -o, overwrite nodal-report.html even when nodal did not write it."`
 }
 
 // Help is the extended help with a worked example.
@@ -45,8 +50,23 @@ Examples:
 
 // Run builds and writes the report.
 func (c *reportCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+		return err
+	}
 	var l *loaded
 	var err error
+	path := c.Output
+	if path == "" && c.Format == "html" {
+		if path, err = defaultReportPath(c.Force); err != nil {
+			return err
+		}
+		if err := checkOutputs([]string{c.File}, path); err != nil {
+			return err
+		}
+		if path != defaultReportName {
+			fmt.Fprintf(e.stderr, "nodal: %s exists and was not written by nodal; writing %s instead (--force overwrites it)\n", defaultReportName, path)
+		}
+	}
 	builtIn := c.File == ""
 	if builtIn {
 		fmt.Fprintf(e.stderr, "nodal: no circuit file given: analysing the built-in demo (%s)\n", demoName)
@@ -70,18 +90,58 @@ func (c *reportCmd) Run(e *env) error {
 		return err
 	}
 	d.Source.BuiltIn = builtIn
-	path := c.Output
 	if c.Format == "text" {
 		return writeTo(e, path, []string{c.File}, func(w io.Writer) error { return report.RenderText(w, d) })
-	}
-	if path == "" {
-		path = "nodal-report.html"
 	}
 	if err := writeTo(e, path, []string{c.File}, func(w io.Writer) error { return report.Render(w, d) }); err != nil {
 		return err
 	}
 	fmt.Fprintf(e.stderr, "nodal: wrote %s\n", path)
 	return nil
+}
+
+// defaultReportName is the report file written when no -o is given.
+const defaultReportName = "nodal-report.html"
+
+// reportMarker is how nodal recognises a report it wrote: every HTML report
+// carries <meta name="generator" content="nodal VERSION"/> in its head,
+// within the first reportMarkerBytes bytes.
+const (
+	reportMarker      = `<meta name="generator" content="nodal `
+	reportMarkerBytes = 4096
+)
+
+// maxReportAlternatives bounds the numbered names tried beside
+// nodal-report.html.
+const maxReportAlternatives = 99
+
+// defaultReportPath returns where a report with no -o goes: nodal-report.html
+// when it does not exist, was written by nodal (it carries reportMarker) or
+// force is set; otherwise the first of nodal-report-2.html,
+// nodal-report-3.html, … that is free or ours.
+func defaultReportPath(force bool) (string, error) {
+	if force || !foreignFile(defaultReportName) {
+		return defaultReportName, nil
+	}
+	for i := 2; i <= maxReportAlternatives; i++ {
+		p := fmt.Sprintf("nodal-report-%d.html", i)
+		if !foreignFile(p) {
+			return p, nil
+		}
+	}
+	return "", fmt.Errorf("%s and nodal-report-2.html … nodal-report-%d.html exist and were not written by nodal: give a file with -o, or --force to overwrite %s", defaultReportName, maxReportAlternatives, defaultReportName)
+}
+
+// foreignFile reports whether path exists and is not a report nodal wrote.
+func foreignFile(path string) bool {
+	f, err := os.Open(path)
+	if err != nil {
+		return !errors.Is(err, fs.ErrNotExist)
+	}
+	defer f.Close()
+	head := make([]byte, reportMarkerBytes)
+	n, _ := io.ReadFull(f, head)
+	return !bytes.Contains(head[:n], []byte(reportMarker))
 }
 
 // buildReport runs every analysis the report shows.

@@ -133,6 +133,9 @@ type snapRequireJSON struct {
 
 // Run rounds, reports and writes the new file.
 func (c *snapCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+		return err
+	}
 	series, err := parseSeriesFlag(c.Series)
 	if err != nil {
 		return err

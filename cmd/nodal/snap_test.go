@@ -120,7 +120,7 @@ func TestSnapFailsAfter(t *testing.T) {
 	// the log midpoint 9.055k of 8.2k and 10k; 9.6n → 10n):
 	// 1/(2π·10k·10n) = 1591.5 Hz (IEC 60063 E12 values; the RC corner is
 	// common practice).
-	src := "Vb: vsource (in, gnd) 1\nRf: resistor (in, out) 9.1k\nCf: capacitor (out, gnd) 9.6nF\nrequire f3db within 1.8kHz..1.9kHz\n"
+	src := "Vb: voltage source (in, gnd) 1\nRf: resistor (in, out) 9.1k\nCf: capacitor (out, gnd) 9.6nF\nrequire f3db within 1.8kHz..1.9kHz\n"
 	if err := os.WriteFile(in, []byte(src), 0o644); err != nil {
 		t.Fatal(err)
 	}
@@ -143,7 +143,7 @@ func TestSnapFailsAfter(t *testing.T) {
 // no signal (−inf dB) and the requirement fails after rounding (exit 1).
 func TestSnapBalancesBridge(t *testing.T) {
 	in := filepath.Join(t.TempDir(), "bridge.nodal")
-	src := "Vex: vsource (exc, gnd) 5\nRa: resistor (exc, p) 350\nRc: resistor (p, gnd) 350.7\nRd: resistor (exc, n) 350\nRe: resistor (n, gnd) 350\nAmp1: vcvs (out, gnd) 100 sense=(p, n)\nRl: resistor (out, gnd) 10k\nrequire dc above -30dB\n"
+	src := "Vex: voltage source (exc, gnd) 5\nRa: resistor (exc, p) 350\nRc: resistor (p, gnd) 350.7\nRd: resistor (exc, n) 350\nRe: resistor (n, gnd) 350\nAmp1: voltage source (out, gnd) 100*v(p, n)\nRl: resistor (out, gnd) 10k\nrequire dc above -30dB\n"
 	if err := os.WriteFile(in, []byte(src), 0o644); err != nil {
 		t.Fatal(err)
 	}

@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/csv"
+	"encoding/json"
 	"fmt"
 	"io"
 	"math"
@@ -44,10 +45,23 @@ Examples:
 // sweepPoint is one JSON point.
 type sweepPoint struct {
 	FreqHz      float64  `json:"freq_hz"`
-	Mag         float64  `json:"mag"`
+	Mag         float64  `json:"mag"` // +Inf on a jω-axis pole: null in JSON (MarshalJSON)
 	MagDB       *float64 `json:"mag_db"`
-	PhaseDeg    float64  `json:"phase_deg"`
+	PhaseDeg    float64  `json:"phase_deg"` // NaN on a jω-axis pole: null in JSON
 	GroupDelayS *float64 `json:"group_delay_s"`
+	Note        string   `json:"note,omitempty"` // why the numbers are null (a point on a jω-axis pole)
+}
+
+// MarshalJSON writes Mag and PhaseDeg as null when they are not finite.
+func (p sweepPoint) MarshalJSON() ([]byte, error) {
+	return json.Marshal(struct {
+		FreqHz      float64  `json:"freq_hz"`
+		Mag         *float64 `json:"mag"`
+		MagDB       *float64 `json:"mag_db"`
+		PhaseDeg    *float64 `json:"phase_deg"`
+		GroupDelayS *float64 `json:"group_delay_s"`
+		Note        string   `json:"note,omitempty"`
+	}{p.FreqHz, finiteOrNil(p.Mag), p.MagDB, finiteOrNil(p.PhaseDeg), p.GroupDelayS, p.Note})
 }
 
 // sweepJSON is the JSON document of one output.
@@ -59,6 +73,9 @@ type sweepJSON struct {
 
 // Run sweeps every output.
 func (c *sweepCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+		return err
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err
@@ -81,6 +98,9 @@ func (c *sweepCmd) Run(e *env) error {
 	}
 	freqs, err := c.frequencies(func() (float64, float64) { return rangeOf(l, tfs[0]) })
 	if err != nil {
+		return err
+	}
+	if err := checkWork("sweep", len(l.circuit.Parts), len(freqs), len(systems), "outputs"); err != nil {
 		return err
 	}
 	var resps []*response.Response
@@ -136,6 +156,9 @@ func responseJSON(r *response.Response) sweepJSON {
 	for i := range r.FreqHz {
 		d.Points[i] = sweepPoint{FreqHz: r.FreqHz[i], Mag: r.Mag[i], MagDB: finiteOrNil(r.MagDB[i]),
 			PhaseDeg: response.WrapDeg(r.PhaseDeg[i]), GroupDelayS: finiteOrNil(r.GroupDelayS[i])}
+		if i < len(r.AtPole) && r.AtPole[i] {
+			d.Points[i].Note = response.PoleNote
+		}
 	}
 	return d
 }

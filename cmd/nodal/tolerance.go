@@ -37,8 +37,8 @@ type toleranceCmd struct {
 // Help is the extended help with a worked example.
 func (c *toleranceCmd) Help() string {
 	return `Draws every toleranced part and parameter at random (uniform over
-nominal·(1 ± tol), or normal with σ = tol/3 when the file says
-dist=normal; a toleranced let is one draw shared by all its uses) and
+nominal·(1 ± tol), or normal with σ = tol/3 when the file says, as in
+"±5% normal"; a toleranced let is one draw shared by all its uses) and
 reports, per metric, the nominal value, mean, standard deviation, min,
 max and the 0.135 % and 99.865 % points (the ±3σ equivalents).
 
@@ -141,6 +141,9 @@ type toleranceResult struct {
 
 // Run performs the analyses and writes the report.
 func (c *toleranceCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+		return err
+	}
 	if c.Runs < 1 {
 		return fmt.Errorf("--runs must be at least 1")
 	}
@@ -178,6 +181,9 @@ func (c *toleranceCmd) Run(e *env) error {
 		if freqs, err = c.frequencies(func() (float64, float64) { return autoRange(l, sys) }); err != nil {
 			return err
 		}
+		if err := checkWork("envelope", len(cir.Parts), len(freqs), c.Runs, "runs"); err != nil {
+			return err
+		}
 	}
 	opt := variation.MonteCarloOptions{Runs: c.Runs, Seed: c.Seed, Workers: c.Workers}
 	var res toleranceResult
@@ -195,12 +201,14 @@ func (c *toleranceCmd) Run(e *env) error {
 	} else if err := c.extras(e, cir, ev, freqs, opt, &res); err != nil {
 		return err
 	}
+	// An interrupted run still writes the runs it finished, on purpose.
+	we := e.keepWriting()
 	if c.Plot != "" {
-		if err := c.writePlot(e, l, &res); err != nil {
+		if err := c.writePlot(we, l, &res); err != nil {
 			return err
 		}
 	}
-	if err := writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
+	if err := writeTo(we, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		if c.Format == "json" {
 			return writeJSON(w, toleranceDoc(&res))
 		}

@@ -84,7 +84,7 @@ func TestVerifyBadInput(t *testing.T) {
 		}
 		return p
 	}
-	rc := "Vb: vsource (in, gnd) 1\nRf: resistor (in, out) 10k\nCf: capacitor (out, gnd) 10nF\n"
+	rc := "Vb: voltage source (in, gnd) 1\nRf: resistor (in, out) 10k\nCf: capacitor (out, gnd) 10nF\n"
 	tests := []struct {
 		name string
 		args []string

@@ -156,3 +156,28 @@ func TowThomas(stages int, f0Hz, q, a0, gbwHz float64) *netlist.Circuit {
 	}
 	return New(parts...)
 }
+
+// RCLadder is k uniform sections of series r (Ω) and shunt c (F), driven
+// by a unit voltage source Vin at node n0 and left open at node nK.
+func RCLadder(k int, r, c float64) *netlist.Circuit {
+	parts := []netlist.Part{V("Vin", "n0", "gnd", 1)}
+	for j := 1; j <= k; j++ {
+		parts = append(parts,
+			R(fmt.Sprintf("R%d", j), fmt.Sprintf("n%d", j-1), fmt.Sprintf("n%d", j), r),
+			C(fmt.Sprintf("C%d", j), fmt.Sprintf("n%d", j), "gnd", c))
+	}
+	return New(parts...)
+}
+
+// Wien is the Wien network driven by a unit voltage source Vs at node in:
+// series R1 (r Ω) and C1 (c F) from in through node a to node out, then
+// R2 ∥ C2 (the same values) from out to ground.
+func Wien(r, c float64) *netlist.Circuit {
+	return New(
+		V("Vs", "in", "gnd", 1),
+		R("R1", "in", "a", r),
+		C("C1", "a", "out", c),
+		R("R2", "out", "gnd", r),
+		C("C2", "out", "gnd", c),
+	)
+}

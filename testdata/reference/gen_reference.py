@@ -138,7 +138,9 @@ def evaluate(expr, env):
     return ev(ast.parse(py, mode="eval"))
 
 
-ELEM_RE = re.compile(r"^(\w+)\s*:\s*(\w+)\s*\(([^)]*)\)\s*(.*)$")
+ELEM_RE = re.compile(r"^(\w+)\s*:\s*(\w+(?: source)?)\s*\(([^)]*)\)\s*(.*)$")
+# The value of a controlled source: GAIN*v(c), GAIN*v(c, d) or GAIN*i(PART).
+CONTROL_RE = re.compile(r"^(.*?)\s*\*\s*([vi])\(([^)]*)\)\s*(.*)$")
 
 
 def read_parts(path):
@@ -161,14 +163,15 @@ def read_parts(path):
             raise ValueError("%s: cannot read line %r" % (path, line))
         name, kind, terms, rest = m.groups()
         opts = {}
-        sm = re.search(r"sense=\(([^)]*)\)", rest)
-        if sm:
-            opts["sense"] = [t.strip() for t in sm.group(1).split(",")]
-            rest = rest[:sm.start()] + rest[sm.end():]
-        sm = re.search(r"sense=([A-Za-z_]\w*)", rest)
-        if sm:
-            opts["sense"] = sm.group(1)  # the element whose current controls
-            rest = rest[:sm.start()] + rest[sm.end():]
+        cm = CONTROL_RE.match(rest) if kind.endswith(" source") else None
+        if cm:
+            gain, what, ctl, tail = cm.groups()
+            if what == "v":
+                sensed = [t.strip() for t in ctl.split(",")]
+                opts["sense"] = sensed + ["gnd"] * (2 - len(sensed))  # v(c) is v(c, gnd)
+            else:
+                opts["sense"] = ctl.strip()  # the element whose current controls
+            rest = (gain + " " + tail).strip()
         for om in re.finditer(r"(\w+)=(\S+)", rest):
             opts[om.group(1)] = evaluate(om.group(2), env)
         rest = re.sub(r"(\w+)=(\S+)", "", rest).strip()
@@ -255,7 +258,7 @@ def sallen_key_lp():
         ]
 
     return dict(file="sallen_key_lp.nodal", input="Vin", output="out",
-                parts={"Vin": ("vsource", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
+                parts={"Vin": ("voltage source", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
                        "R2": ("resistor", ["a", "b"]), "C1": ("capacitor", ["a", "out"]),
                        "C2": ("capacitor", ["b", "gnd"]), "U1": ("opamp", ["b", "out", "out"])},
                 symbols=[R1, R2, C1, C2], H=H, order=2, checks=checks)
@@ -270,7 +273,7 @@ def sensor_bridge_rc():
         (Va - Vexc) / R1 + Va / R2 + s * Cd * (Va - Vb),
         # KCL at b: (Vb - Vexc)/Rg + Vb/R3 + s*Cd*(Vb - Va) = 0
         (Vb - Vexc) / Rg + Vb / R3 + s * Cd * (Vb - Va),
-        # vcvs Amp1 (out, gnd) sense (a, b): V(out) = Amp1*(V(a) - V(b));
+        # voltage source Amp1 (out, gnd) Amp1*v(a, b): V(out) = Amp1*(V(a) - V(b));
         # its sense terminals draw no current, its output current is free.
         Vout - Amp1 * (Va - Vb),
     ]
@@ -293,10 +296,10 @@ def sensor_bridge_rc():
         ]
 
     return dict(file="sensor_bridge_rc.nodal", input="Vexc", output="out",
-                parts={"Vexc": ("vsource", ["top", "gnd"]), "R1": ("resistor", ["top", "a"]),
+                parts={"Vexc": ("voltage source", ["top", "gnd"]), "R1": ("resistor", ["top", "a"]),
                        "R2": ("resistor", ["a", "gnd"]), "Rg": ("resistor", ["top", "b"]),
                        "R3": ("resistor", ["b", "gnd"]), "Cd": ("capacitor", ["a", "b"]),
-                       "Amp1": ("vcvs", ["out", "gnd"])},
+                       "Amp1": ("voltage source", ["out", "gnd"])},
                 symbols=[R1, R2, Rg, R3, Cd, Amp1], H=H, order=1, checks=checks,
                 sense={"Amp1": ["a", "b"]})
 
@@ -345,7 +348,7 @@ def mfb_bandpass():
         ]
 
     return dict(file="mfb_bandpass.nodal", input="Vin", output="out",
-                parts={"Vin": ("vsource", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
+                parts={"Vin": ("voltage source", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
                        "R2": ("resistor", ["a", "gnd"]), "C1": ("capacitor", ["a", "n"]),
                        "C2": ("capacitor", ["a", "out"]), "R3": ("resistor", ["n", "out"]),
                        "U1": ("opamp", ["gnd", "n", "out"])},
@@ -380,7 +383,7 @@ def rlc_pickup():
         ]
 
     return dict(file="rlc_pickup.nodal", input="Vemf", output="out",
-                parts={"Vemf": ("vsource", ["emf", "gnd"]), "Rw": ("resistor", ["emf", "m"]),
+                parts={"Vemf": ("voltage source", ["emf", "gnd"]), "Rw": ("resistor", ["emf", "m"]),
                        "Lp": ("inductor", ["m", "out"]), "Cc": ("capacitor", ["out", "gnd"]),
                        "Rin": ("resistor", ["out", "gnd"])},
                 symbols=[Rw, Lp, Cc, Rin], H=H, order=2, checks=checks)
@@ -419,7 +422,7 @@ def lc_ladder3():
         ]
 
     return dict(file="lc_ladder3.nodal", input="Vin", output="out",
-                parts={"Vin": ("vsource", ["in", "gnd"]), "Rs": ("resistor", ["in", "n1"]),
+                parts={"Vin": ("voltage source", ["in", "gnd"]), "Rs": ("resistor", ["in", "n1"]),
                        "C1": ("capacitor", ["n1", "gnd"]), "L2": ("inductor", ["n1", "out"]),
                        "C3": ("capacitor", ["out", "gnd"]), "RL": ("resistor", ["out", "gnd"])},
                 symbols=[Rs, C1, L2, C3, RL], H=H, order=3, checks=checks)
@@ -453,7 +456,7 @@ def wien_network():
         ]
 
     return dict(file="wien_network.nodal", input="Vin", output="out",
-                parts={"Vin": ("vsource", ["in", "gnd"]), "R1": ("resistor", ["in", "m"]),
+                parts={"Vin": ("voltage source", ["in", "gnd"]), "R1": ("resistor", ["in", "m"]),
                        "C1": ("capacitor", ["m", "out"]), "R2": ("resistor", ["out", "gnd"]),
                        "C2": ("capacitor", ["out", "gnd"])},
                 symbols=[R1, R2, C1, C2], H=H, order=2, checks=checks)
@@ -492,7 +495,7 @@ def twin_t_notch():
         ]
 
     return dict(file="twin_t_notch.nodal", input="Vin", output="out",
-                parts={"Vin": ("vsource", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
+                parts={"Vin": ("voltage source", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
                        "R2": ("resistor", ["a", "out"]), "C3": ("capacitor", ["a", "gnd"]),
                        "C1": ("capacitor", ["in", "b"]), "C2": ("capacitor", ["b", "out"]),
                        "R3": ("resistor", ["b", "gnd"])},
@@ -504,9 +507,9 @@ def buffered_rc2():
     Buf1 = sp.Symbol("Buf1")
     Vin, Va, Vb, Vout = sp.symbols("Vin Va Vb Vout")
     eqs = [
-        # KCL at a (the vcvs sense draws no current): (Va - Vin)/R1 + s*C1*Va = 0
+        # KCL at a (the sensed voltage v(a) draws no current): (Va - Vin)/R1 + s*C1*Va = 0
         (Va - Vin) / R1 + s * C1 * Va,
-        # vcvs Buf1 (b, gnd) sense (a, gnd): V(b) = Buf1*V(a); its output current is free.
+        # voltage source Buf1 (b, gnd) Buf1*v(a): V(b) = Buf1*V(a); its output current is free.
         Vb - Buf1 * Va,
         # KCL at out: (Vout - Vb)/R2 + s*C2*Vout = 0
         (Vout - Vb) / R2 + s * C2 * Vout,
@@ -534,8 +537,8 @@ def buffered_rc2():
         return 1 - (1 + t / tau) * math.exp(-t / tau)
 
     return dict(file="buffered_rc2.nodal", input="Vin", output="out",
-                parts={"Vin": ("vsource", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
-                       "C1": ("capacitor", ["a", "gnd"]), "Buf1": ("vcvs", ["b", "gnd"]),
+                parts={"Vin": ("voltage source", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
+                       "C1": ("capacitor", ["a", "gnd"]), "Buf1": ("voltage source", ["b", "gnd"]),
                        "R2": ("resistor", ["b", "out"]), "C2": ("capacitor", ["out", "gnd"])},
                 symbols=[R1, R2, C1, C2, Buf1], H=H, order=2, checks=checks, sense={"Buf1": ["a", "gnd"]},
                 step_closed=step_closed)
@@ -583,7 +586,7 @@ def coupled_pair():
         return v
 
     return dict(file="coupled_pair.nodal", input="Vin", output="sec",
-                parts={"Vin": ("vsource", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
+                parts={"Vin": ("voltage source", ["in", "gnd"]), "R1": ("resistor", ["in", "a"]),
                        "C1": ("capacitor", ["a", "p"]), "L1": ("inductor", ["p", "gnd"]),
                        "L2": ("inductor", ["sec", "gnd"]), "C2": ("capacitor", ["sec", "gnd"]),
                        "RL": ("resistor", ["sec", "gnd"]), "Link1": ("coupling", ["L1", "L2"])},
@@ -623,7 +626,7 @@ def finite_gain_inverting():
         return v
 
     return dict(file="finite_gain_inverting.nodal", input="Vin", output="out",
-                parts={"Vin": ("vsource", ["in", "gnd"]), "R1": ("resistor", ["in", "n"]),
+                parts={"Vin": ("voltage source", ["in", "gnd"]), "R1": ("resistor", ["in", "n"]),
                        "R2": ("resistor", ["n", "out"]), "C2": ("capacitor", ["n", "out"]),
                        "U1": ("opamp", ["gnd", "n", "out"])},
                 symbols=[R1, R2, C2, U1], H=H, order=1, values=values, checks=checks,
@@ -639,12 +642,12 @@ def photodiode_hybrid_pi():
     eqs = [
         # KCL at b (Iph pushes its current into b): s*Cd*Vb + Vb/Rpi + s*Cmu*(Vb - Vc) - Iph = 0
         s * Cd * Vb + Vb / Rpi + s * Cmu * (Vb - Vc) - Iph,
-        # KCL at c (vccs Gm (gnd, c) pushes Gm*Vb into gnd, so it draws Gm*Vb out of c):
+        # KCL at c (current source Gm (gnd, c) Gm*v(b) pushes Gm*Vb into gnd, so it draws Gm*Vb out of c):
         # s*Cmu*(Vc - Vb) + Gm*Vb + Vc/Rc = 0
         s * Cmu * (Vc - Vb) + Gm * Vb + I_Rc,
-        # KCL at d (cccs Mirror1 (d, gnd) pushes Mirror1*I(Rc) into d): Vd/Rd - Mirror1*I(Rc) = 0
+        # KCL at d (current source Mirror1 (d, gnd) Mirror1*i(Rc) pushes Mirror1*I(Rc) into d): Vd/Rd - Mirror1*I(Rc) = 0
         I_Rd - Mirror1 * I_Rc,
-        # ccvs Tz1 (out, gnd) sense Rd: V(out) = Tz1*I(Rd); output current free.
+        # voltage source Tz1 (out, gnd) Tz1*i(Rd): V(out) = Tz1*I(Rd); output current free.
         Vout - Tz1 * I_Rd,
     ]
     sol = sp.solve(eqs, [Vb, Vc, Vd, Vout], dict=True)[0]
@@ -668,11 +671,11 @@ def photodiode_hybrid_pi():
         ]
 
     return dict(file="photodiode_hybrid_pi.nodal", input="Iph", output="out",
-                parts={"Iph": ("isource", ["b", "gnd"]), "Cd": ("capacitor", ["b", "gnd"]),
+                parts={"Iph": ("current source", ["b", "gnd"]), "Cd": ("capacitor", ["b", "gnd"]),
                        "Rpi": ("resistor", ["b", "gnd"]), "Cmu": ("capacitor", ["b", "c"]),
-                       "Gm": ("vccs", ["gnd", "c"]), "Rc": ("resistor", ["c", "gnd"]),
-                       "Mirror1": ("cccs", ["d", "gnd"]), "Rd": ("resistor", ["d", "gnd"]),
-                       "Tz1": ("ccvs", ["out", "gnd"])},
+                       "Gm": ("current source", ["gnd", "c"]), "Rc": ("resistor", ["c", "gnd"]),
+                       "Mirror1": ("current source", ["d", "gnd"]), "Rd": ("resistor", ["d", "gnd"]),
+                       "Tz1": ("voltage source", ["out", "gnd"])},
                 symbols=[Rpi, Rc, Rd, Cd, Cmu, Gm, Mirror1, Tz1], H=H, order=2, checks=checks,
                 sense={"Gm": ["b", "gnd"], "Mirror1": "Rc", "Tz1": "Rd"})
 
@@ -860,12 +863,12 @@ def build(c):
     for name, sense in c.get("sense", {}).items():
         assert parts[name]["opts"].get("sense") == sense, "%s: %s sense differs from the hand formulation" % (c["file"], name)
     for name, p in parts.items():
-        if p["kind"] in ("vcvs", "vccs", "ccvs", "cccs"):
+        if "sense" in p["opts"]:
             assert name in c.get("sense", {}), "%s: hand formulation does not state the sense of %s" % (c["file"], name)
         if p["kind"] == "opamp":
             assert set(p["opts"]) <= {"a0"}, "%s: %s: only ideal or a0 op-amps are modelled" % (c["file"], name)
             assert ("a0" in p["opts"]) == (name in c.get("symbol_meaning", {})), "%s: %s a0 differs" % (c["file"], name)
-        if p["kind"] in ("vsource", "isource"):
+        if p["kind"] in ("voltage source", "current source") and "sense" not in p["opts"]:
             assert p["value"] in (None, 1), "%s: source amplitude must be 1" % name
     vals = c["values"](parts) if "values" in c else part_values(parts, c["symbols"])
     H = c["H"]

@@ -2,6 +2,7 @@ package report
 
 import (
 	"context"
+	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -34,14 +35,55 @@ const probeScript = `<script>
 </script>
 `
 
+// launchAttempts and launchBackoff bound the retries of a browser that
+// fails to start (on a loaded machine Chromium sometimes cannot fork its
+// zygote): the waits are 1 s, 2 s, 4 s, so at most 7 s are lost.
+const (
+	launchAttempts = 4
+	launchBackoff  = time.Second
+)
+
 // dumpDOM loads path in headless Chromium and returns the serialised DOM
 // and Chromium's log (stderr), where console messages appear as
-// "...:CONSOLE(line)] ..." lines.
+// "...:CONSOLE(line)] ..." lines. A launch that fails (the process exits
+// with an error or prints no DOM) is retried with a doubling back-off; if
+// every attempt fails the test is skipped with the reason logged, since a
+// browser that cannot start says nothing about the report. The assertions
+// on a DOM that did load are never retried.
 func dumpDOM(t *testing.T, path string) (dom, log string) {
 	t.Helper()
+	return dumpDOMWith(t, chromiumPath, path)
+}
+
+// dumpDOMWith is dumpDOM with the browser binary given.
+func dumpDOMWith(t *testing.T, browser, path string) (dom, log string) {
+	t.Helper()
+	wait := launchBackoff
+	var reason string
+	for attempt := 1; attempt <= launchAttempts; attempt++ {
+		var err error
+		dom, log, err = runChromium(t, browser, path)
+		if err == nil {
+			return dom, log
+		}
+		reason = fmt.Sprintf("attempt %d of %d: %v\n%.2000s", attempt, launchAttempts, err, log)
+		t.Logf("chromium did not start, %s", reason)
+		if attempt < launchAttempts {
+			time.Sleep(wait)
+			wait *= 2
+		}
+	}
+	msg := fmt.Sprintf("headless browser check skipped: chromium failed to start %d times; last: %s", launchAttempts, reason)
+	fmt.Fprintln(os.Stderr, t.Name()+": "+msg) // visible without -v
+	t.Skip(msg)
+	return "", ""
+}
+
+// runChromium is one launch of the headless browser on path.
+func runChromium(t *testing.T, browser, path string) (dom, log string, err error) {
 	ctx, cancel := context.WithTimeout(context.Background(), 40*time.Second)
 	defer cancel()
-	cmd := exec.CommandContext(ctx, chromiumPath,
+	cmd := exec.CommandContext(ctx, browser,
 		"--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
 		"--disable-background-networking", "--disable-component-update", "--disable-sync",
 		"--user-data-dir="+t.TempDir(), "--enable-logging=stderr", "--v=0",
@@ -49,9 +91,12 @@ func dumpDOM(t *testing.T, path string) (dom, log string) {
 	var stdout, stderr strings.Builder
 	cmd.Stdout, cmd.Stderr = &stdout, &stderr
 	if err := cmd.Run(); err != nil {
-		t.Fatalf("chromium: %v\n%s", err, stderr.String())
+		return "", stderr.String(), err
 	}
-	return stdout.String(), stderr.String()
+	if !strings.Contains(stdout.String(), "<html") {
+		return "", stderr.String(), fmt.Errorf("no DOM printed")
+	}
+	return stdout.String(), stderr.String(), nil
 }
 
 // consoleLines returns Chromium's log lines that carry page console
@@ -74,7 +119,9 @@ var probeResult = regexp.MustCompile(`plots:([0-9x,]*);`)
 // log an error proves the console check can fail.
 func TestChromiumRendersReport(t *testing.T) {
 	if _, err := os.Stat(chromiumPath); err != nil {
-		t.Skipf("headless browser check skipped: %s not found (install Debian's chromium package)", chromiumPath)
+		msg := fmt.Sprintf("headless browser check skipped: %s not found (install Debian's chromium package)", chromiumPath)
+		fmt.Fprintln(os.Stderr, t.Name()+": "+msg) // visible without -v
+		t.Skip(msg)
 	}
 	if testing.Short() {
 		t.Skip("headless browser check skipped in -short mode")
@@ -121,5 +168,25 @@ func TestChromiumRendersReport(t *testing.T) {
 	}
 	if _, log := dumpDOM(t, bad); len(consoleLines(log)) == 0 {
 		t.Errorf("console check did not see the control page's error; log:\n%s", log)
+	}
+}
+
+// TestDumpDOMRetriesFailedLaunch runs dumpDOMWith on a stand-in browser
+// that fails to start once (as Chromium does when it cannot fork) and then
+// prints a page: the launch is retried and the page returned.
+func TestDumpDOMRetriesFailedLaunch(t *testing.T) {
+	dir := t.TempDir()
+	count := filepath.Join(dir, "launches")
+	fake := filepath.Join(dir, "browser")
+	script := "#!/bin/sh\necho x >> " + count + "\n" +
+		"if [ $(wc -l < " + count + ") -lt 2 ]; then echo 'Zygote could not fork' >&2; exit 1; fi\n" +
+		"echo '<html><body>ok</body></html>'\n"
+	if err := os.WriteFile(fake, []byte(script), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	dom, _ := dumpDOMWith(t, fake, "/nowhere.html")
+	b, _ := os.ReadFile(count)
+	if !strings.Contains(dom, "ok") || strings.Count(string(b), "x") != 2 {
+		t.Errorf("dom %q after %d launches; want the page on the second", dom, strings.Count(string(b), "x"))
 	}
 }

@@ -16,24 +16,20 @@ import (
 	"nodal/netlist"
 )
 
-// tfCmd prints the transfer function and what can be read off it.
-type tfCmd struct {
+// transferCmd prints the transfer function and what can be read off it.
+type transferCmd struct {
 	circuitArgs
 	In     string `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
 	Out    string `help:"Output node, or i(PART) for the current through a part." placeholder:"NODE"`
 	Ref    string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
-	Zin    string `help:"Instead of a voltage ratio: the impedance this source sees at its terminals (source replaced by a test current, other sources zeroed)." placeholder:"SOURCE"`
-	Zout   string `help:"Instead of a voltage ratio: the impedance at this node to gnd, every independent source zeroed." placeholder:"NODE"`
 	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot   string `help:"Also draw the pole-zero map to this file (.svg or .png)." placeholder:"FILE" type:"path"`
-
-	Symbolic bool     `help:"Give N(s) and D(s) in the parts' own names (R1, C2, U1.a0) with each coefficient's value."`
-	Keep     []string `help:"With --symbolic: keep only these parts (or symbols such as U1.a0) symbolic, substitute the rest." placeholder:"R1,C1,..." sep:","`
+	symbolicArgs
 }
 
 // Help is the extended help with a worked example.
-func (c *tfCmd) Help() string {
+func (c *transferCmd) Help() string {
 	return `Computes the exact rational transfer function H(s) = N(s)/D(s) of the
 circuit from its MNA pencil: poles as generalised eigenvalues, zeros from
 the bordered pencil, the gain from one evaluation. It prints H(s) expanded
@@ -44,13 +40,11 @@ that its lowest-order non-zero coefficient is 1.
 
 Examples:
 
-    nodal tf filter.nodal --out out
-    nodal tf filter.nodal --out out --format json
-    nodal tf filter.nodal --zin Vs          # input impedance seen by Vs
-    nodal tf filter.nodal --zout out        # output impedance at node out
-    nodal tf filter.nodal --out out --plot pz.svg
-    nodal tf filter.nodal --out out --symbolic
-    nodal tf filter.nodal --out out --symbolic --keep R1,C1
+    nodal transfer filter.nodal --out out
+    nodal transfer filter.nodal --out out --format json
+    nodal transfer filter.nodal --out out --plot pz.svg
+    nodal transfer filter.nodal --out out --symbolic
+    nodal transfer filter.nodal --out out --symbolic --keep R1,C1
 
 With --symbolic, N(s) and D(s) are exact polynomials in s whose
 coefficients are sums of products of part names (resistors as R, so
@@ -59,19 +53,23 @@ coefficient beside it, followed by H(s) and the ODE written in the
 syntax of nodal check (paste them into --tf or --ode). Ideal op-amps
 contribute no symbol; a finite gain is NAME.a0. --keep keeps only the
 named parts symbolic and substitutes the others exactly; use it when a
-large circuit's expressions grow past the size limit.`
+large circuit's expressions grow past the size limit. Impedances are
+nodal impedance.`
 }
 
-// tfRequest says which transfer function to extract.
+// tfRequest says which transfer function to extract: a ratio (In, Out,
+// Ref), or an impedance at a source's port (Port) or between a node and gnd
+// or ZRef (Node, ZRef).
 type tfRequest struct {
-	In, Out, Ref, Zin, Zout string
+	In, Out, Ref     string
+	Port, Node, ZRef string
 }
 
 // tfResult is an extracted transfer function with what it is of.
 type tfResult struct {
 	tf    *transfer.TransferFunction
 	sys   *mna.System
-	what  string // "H(s) = v(out)/v(Vs)", "Zin(s) seen by Vs" ...
+	what  string // "H(s) = v(out)/v(Vs)", "Z(s) at the port of Vs" ...
 	yName string // output signal name for the ODE
 	uName string // input signal name for the ODE
 	unit  string // unit of H: "V/V", "Ω", ...
@@ -86,24 +84,24 @@ type tfProbe struct {
 	unit         string // "" for a voltage ratio: set from the resolved source
 }
 
-// resolveProbe checks the request and says which probe to build: --zin and
-// --zout are impedance probes (test current in, voltage across it out).
+// resolveProbe checks the request and says which probe to build: a port
+// or node impedance is a test current in and the voltage across it out.
 func resolveProbe(q tfRequest) (tfProbe, error) {
-	n := 0
-	for _, s := range []string{q.Out, q.Zin, q.Zout} {
-		if s != "" {
-			n++
-		}
-	}
-	if n != 1 {
-		return tfProbe{}, errors.New("give exactly one of --out, --zin or --zout")
-	}
 	switch {
-	case q.Zout != "":
-		return tfProbe{Probe: mna.NodeImpedance(q.Zout, ""),
-			what: fmt.Sprintf("Zout(s) at node %s (independent sources zeroed)", q.Zout), yName: "v", uName: "i", unit: "Ω"}, nil
-	case q.Zin != "":
-		return tfProbe{Probe: mna.SourceImpedance(q.Zin), what: fmt.Sprintf("Zin(s) seen by %s", q.Zin), yName: "v", uName: "i", unit: "Ω"}, nil
+	case q.Port != "" && q.Node != "":
+		return tfProbe{}, errors.New("give one of --port or --node")
+	case q.Port != "" && q.ZRef != "":
+		return tfProbe{}, errors.New("--ref goes with --node: the impedance at a port is across the source's terminals")
+	case q.Node != "":
+		what := fmt.Sprintf("Z(s) at node %s to gnd (independent sources zeroed)", q.Node)
+		if q.ZRef != "" {
+			what = fmt.Sprintf("Z(s) between nodes %s and %s (independent sources zeroed)", q.Node, q.ZRef)
+		}
+		return tfProbe{Probe: mna.NodeImpedance(q.Node, q.ZRef), what: what, yName: "v", uName: "i", unit: "Ω"}, nil
+	case q.Port != "":
+		return tfProbe{Probe: mna.SourceImpedance(q.Port), what: fmt.Sprintf("Z(s) at the port of %s (the source removed)", q.Port), yName: "v", uName: "i", unit: "Ω"}, nil
+	case q.Out == "":
+		return tfProbe{}, errors.New("give the output with --out NODE or --out i(PART)")
 	}
 	return tfProbe{Probe: mna.Probe{Ex: mna.Excitation{Source: q.In}, Ob: outputFor(q.Out, q.Ref)}, yName: "y", uName: "u"}, nil
 }
@@ -158,9 +156,12 @@ func impedanceError(p tfProbe, err error) error {
 }
 
 // Run prints the transfer function report.
-func (c *tfCmd) Run(e *env) error {
-	if c.Keep != nil && !c.Symbolic {
-		return errors.New("--keep chooses the symbols of --symbolic: add --symbolic")
+func (c *transferCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+		return err
+	}
+	if err := c.symbolicArgs.check(); err != nil {
+		return err
 	}
 	l, err := c.load(e)
 	if err != nil {
@@ -169,7 +170,7 @@ func (c *tfCmd) Run(e *env) error {
 	if c.Symbolic {
 		return c.runSymbolic(e, l)
 	}
-	r, err := extractTF(l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref, Zin: c.Zin, Zout: c.Zout})
+	r, err := extractTF(l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref})
 	if err != nil {
 		return err
 	}
@@ -227,9 +228,32 @@ func newTFReport(r *tfResult) *tfReport {
 
 // table prints the report for the terminal.
 func (rep *tfReport) table(w io.Writer) error {
+	if err := rep.closedForm(w); err != nil {
+		return err
+	}
+	fmt.Fprintln(w)
+	t := newTable(w, "figure", "value")
+	rows := rep.figureRows()
+	for _, row := range rows {
+		if err := t.row(row[0], row[1]); err != nil {
+			return err
+		}
+	}
+	return t.render()
+}
+
+// closedForm prints what the function is, its expanded, factored and
+// zero-pole forms, its ODE, poles and zeros.
+func (rep *tfReport) closedForm(w io.Writer) error {
 	h := rep.r.tf
 	fmt.Fprintf(w, "%s  [%s]\n\n", rep.r.what, rep.r.unit)
-	fmt.Fprintf(w, "expanded:   %s\n", rationalText(h.Num, h.Den))
+	if h.Fits() {
+		fmt.Fprintf(w, "expanded:   %s\n", rationalText(h.Num, h.Den))
+	} else {
+		num, den, sc := h.ScaledPoly()
+		fmt.Fprintf(w, "expanded:   %s  (ŝ = s/%s: the coefficients in s do not fit a float64)\n",
+			strings.ReplaceAll(rationalText(num, den), "s", "ŝ"), engNumber(sc))
+	}
 	fmt.Fprintf(w, "factored:   %s\n", factoredText(h))
 	fmt.Fprintf(w, "zero-pole:  %s\n", zpkText(h))
 	fmt.Fprintln(w, "            (s and every frequency in rad/s)")
@@ -249,15 +273,7 @@ func (rep *tfReport) table(w io.Writer) error {
 	} else {
 		fmt.Fprintln(w, "\nno finite zeros")
 	}
-	fmt.Fprintln(w)
-	t := newTable(w, "figure", "value")
-	rows := rep.figureRows()
-	for _, row := range rows {
-		if err := t.row(row[0], row[1]); err != nil {
-			return err
-		}
-	}
-	return t.render()
+	return nil
 }
 
 // figureRows are the name/value rows of the gain figures.

@@ -22,7 +22,7 @@ import (
 // R1 in→a, R2 a→b, C1 a→out (feedback), C2 b→gnd, follower.
 const skFile = "../../testdata/examples/tone_lowpass_ideal.nodal"
 
-// symbolicDoc is the JSON document of `nodal tf --symbolic`.
+// symbolicDoc is the JSON document of `nodal transfer --symbolic`.
 type symbolicDoc struct {
 	What     string    `json:"what"`
 	Unit     string    `json:"unit"`
@@ -39,7 +39,13 @@ type symbolicDoc struct {
 
 func symbolicJSONOf(t *testing.T, args ...string) symbolicDoc {
 	t.Helper()
-	r := runNodal(t, "", append([]string{"tf"}, append(args, "--symbolic", "--format", "json")...)...)
+	return symbolicDocOf(t, "transfer", args...)
+}
+
+// symbolicDocOf runs a command with --symbolic --format json.
+func symbolicDocOf(t *testing.T, cmd string, args ...string) symbolicDoc {
+	t.Helper()
+	r := runNodal(t, "", append([]string{cmd}, append(args, "--symbolic", "--format", "json")...)...)
 	if r.code != 0 {
 		t.Fatalf("%v: code %d: %s", args, r.code, r.stderr)
 	}
@@ -118,7 +124,7 @@ func TestSymbolicRCJSON(t *testing.T) {
 		t.Errorf("h %q ode %q unit %q", doc.H, doc.ODE, doc.Unit)
 	}
 	// The raw document has the issue's top-level "symbolic" object.
-	r := runNodal(t, "", "tf", rcFile, "--out", "out", "--symbolic", "--format", "json")
+	r := runNodal(t, "", "transfer", rcFile, "--out", "out", "--symbolic", "--format", "json")
 	var raw map[string]json.RawMessage
 	if err := json.Unmarshal([]byte(r.stdout), &raw); err != nil {
 		t.Fatal(err)
@@ -177,10 +183,13 @@ func TestSymbolicUsageErrors(t *testing.T) {
 		args []string
 		want string
 	}{
-		{"keep without symbolic", []string{"tf", rcFile, "--out", "out", "--keep", "R1"}, "--symbolic"},
-		{"keep unknown name", []string{"tf", rcFile, "--out", "out", "--symbolic", "--keep", "R9"}, "R9"},
-		{"plot with symbolic", []string{"tf", rcFile, "--out", "out", "--symbolic", "--plot", "pz.svg"}, "--plot"},
-		{"two probes", []string{"tf", rcFile, "--out", "out", "--zout", "out", "--symbolic"}, "exactly one"},
+		{"keep without symbolic", []string{"transfer", rcFile, "--out", "out", "--keep", "R1"}, "--symbolic"},
+		{"keep unknown name", []string{"transfer", rcFile, "--out", "out", "--symbolic", "--keep", "R9"}, "R9"},
+		{"plot with symbolic", []string{"transfer", rcFile, "--out", "out", "--symbolic", "--plot", "pz.svg"}, "--plot"},
+		{"two probes", []string{"impedance", rcFile, "--port", "Vs", "--node", "out", "--symbolic"}, "one of --port or --node"},
+		{"no probe", []string{"impedance", rcFile, "--symbolic"}, "--port SOURCE or --node NODE"},
+		{"port with ref", []string{"impedance", rcFile, "--port", "Vs", "--ref", "in", "--symbolic"}, "--ref goes with --node"},
+		{"impedance flag on transfer", []string{"transfer", rcFile, "--zout", "out", "--symbolic"}, "unknown flag --zout"},
 	} {
 		r := runNodal(t, "", tc.args...)
 		if r.code != exitInput || !strings.Contains(r.stderr, tc.want) {
@@ -193,33 +202,38 @@ func TestSymbolicUsageErrors(t *testing.T) {
 // the default limit: the command stops with exit 2 and suggests --keep.
 func TestSymbolicSizeLimitSuggestsKeep(t *testing.T) {
 	var b strings.Builder
-	b.WriteString("Vs: vsource (n0, gnd) 1\n")
+	b.WriteString("Vs: voltage source (n0, gnd) 1\n")
 	for i := 1; i <= 12; i++ {
 		prev, node := "n"+strconv.Itoa(i-1), "n"+strconv.Itoa(i)
 		b.WriteString("R" + strconv.Itoa(i) + ": resistor (" + prev + ", " + node + ") 1k\n")
 		b.WriteString("C" + strconv.Itoa(i) + ": capacitor (" + node + ", gnd) 1n\n")
 	}
-	r := runNodal(t, b.String(), "tf", "-", "--out", "n12", "--symbolic")
+	r := runNodal(t, b.String(), "transfer", "-", "--out", "n12", "--symbolic")
 	if r.code != exitInput || !strings.Contains(r.stderr, "--keep R1,C1,R2") || !strings.Contains(r.stderr, "too large") {
 		t.Errorf("code %d stderr %q; want exit 2 with a --keep suggestion", r.code, r.stderr)
 	}
 	// With two parts kept the same circuit is immediate.
-	r = runNodal(t, b.String(), "tf", "-", "--out", "n12", "--symbolic", "--keep", "R1,C12")
+	r = runNodal(t, b.String(), "transfer", "-", "--out", "n12", "--symbolic", "--keep", "R1,C12")
 	if r.code != 0 || !strings.Contains(r.stdout, "symbols: R1 = 1e3, C12 = 1e-9") {
 		t.Errorf("with --keep: code %d\n%s%s", r.code, r.stdout, r.stderr)
 	}
 }
 
-// Impedances of the RC low-pass: Zout = R1/(1 + s·R1·C1) with the source
-// shorted, Zin = (1 + s·R1·C1)/(s·C1) (common practice).
+// Impedances of the RC low-pass: at node out R1/(1 + s·R1·C1) with the
+// source shorted, at the port of Vs (1 + s·R1·C1)/(s·C1) (common practice).
 func TestSymbolicImpedances(t *testing.T) {
-	doc := symbolicJSONOf(t, rcFile, "--zout", "out")
+	doc := symbolicDocOf(t, "impedance", rcFile, "--node", "out")
 	if doc.H != "R1/(1 + s*R1*C1)" || doc.Unit != "Ω" {
-		t.Errorf("zout: h %q unit %q", doc.H, doc.Unit)
+		t.Errorf("node out: h %q unit %q", doc.H, doc.Unit)
 	}
-	doc = symbolicJSONOf(t, rcFile, "--zin", "Vs")
+	doc = symbolicDocOf(t, "impedance", rcFile, "--port", "Vs")
 	if doc.H != "(1 + s*R1*C1)/(s*C1)" || doc.ODE != "C1*v' = R1*C1*i' + i" {
-		t.Errorf("zin: h %q ode %q", doc.H, doc.ODE)
+		t.Errorf("port Vs: h %q ode %q", doc.H, doc.ODE)
+	}
+	// Between out and in with the source shorted: the same R1 ∥ C1.
+	doc = symbolicDocOf(t, "impedance", rcFile, "--node", "out", "--ref", "in")
+	if doc.H != "R1/(1 + s*R1*C1)" {
+		t.Errorf("node out ref in: h %q", doc.H)
 	}
 }
 
@@ -228,7 +242,7 @@ func TestSymbolicImpedances(t *testing.T) {
 // identical (the printed forms are in the check syntax).
 func TestSymbolicTableRoundTrip(t *testing.T) {
 	for _, f := range []string{skFile, "../../testdata/reference/circuits/mfb_bandpass.nodal", "../../testdata/reference/circuits/finite_gain_inverting.nodal"} {
-		r := runNodal(t, "", "tf", f, "--out", "out", "--symbolic")
+		r := runNodal(t, "", "transfer", f, "--out", "out", "--symbolic")
 		if r.code != 0 {
 			t.Fatalf("%s: code %d %s", f, r.code, r.stderr)
 		}
@@ -243,7 +257,7 @@ func TestSymbolicTableRoundTrip(t *testing.T) {
 			}
 		}
 	}
-	r := runNodal(t, "", "tf", skFile, "--out", "out", "--symbolic")
+	r := runNodal(t, "", "transfer", skFile, "--out", "out", "--symbolic")
 	for _, want := range []string{"  s^1       150.4e-6   R1*C2 + R2*C2\n", "  s^2       10.34e-9   R1*R2*C1*C2\n",
 		"H(s) = 1/(1 + s*(R1*C2 + R2*C2) + s^2*R1*R2*C1*C2)", "R1*R2*C1*C2*y'' + (R1*C2 + R2*C2)*y' + y = u"} {
 		if !strings.Contains(r.stdout, want) {
@@ -304,7 +318,7 @@ func TestSymbolicMatchesNumericEverywhere(t *testing.T) {
 		if in == "" {
 			in = sourceNames(l.circuit)[0]
 		}
-		for _, q := range []tfRequest{{In: pf[1], Out: pf[2]}, {Zout: pf[2]}, {Zin: in}} {
+		for _, q := range []tfRequest{{In: pf[1], Out: pf[2]}, {Node: pf[2]}, {Port: in}} {
 			name := filepath.Base(pf[0]) + " " + describeRequest(q)
 			num, nerr := extractTF(l, q)
 			st, serr := deriveSymbolic(e, l, q, nil)
@@ -364,10 +378,10 @@ func TestSymbolicMatchesNumericEverywhere(t *testing.T) {
 
 func describeRequest(q tfRequest) string {
 	switch {
-	case q.Zout != "":
-		return "--zout " + q.Zout
-	case q.Zin != "":
-		return "--zin " + q.Zin
+	case q.Node != "":
+		return "impedance --node " + q.Node
+	case q.Port != "":
+		return "impedance --port " + q.Port
 	}
 	return "--out " + q.Out
 }
@@ -385,4 +399,36 @@ func sourceNames(c *netlist.Circuit) []string {
 		}
 	}
 	return out
+}
+
+// What nodal transfer --symbolic prints as H(s) and as the ODE pastes into
+// nodal check --tf and --ode, which agree with the circuit (exit 0), for
+// circuits with an op-amp, with every controlled-source form and with a
+// current-source input; a perturbed copy is refused (exit 1).
+func TestSymbolicPastesIntoCheck(t *testing.T) {
+	for _, tc := range []struct{ file, out string }{
+		{"../../testdata/examples/tone_lowpass_ideal.nodal", "out"},
+		{"../../testdata/reference/circuits/photodiode_hybrid_pi.nodal", "out"},
+		{"../../testdata/reference/circuits/sensor_bridge_rc.nodal", "out"},
+		{"../../testdata/reference/circuits/buffered_rc2.nodal", "out"},
+	} {
+		doc := symbolicJSONOf(t, tc.file, "--out", tc.out)
+		for _, flag := range []string{"--tf", "--ode"} {
+			text := doc.H
+			if flag == "--ode" {
+				text = doc.ODE
+			}
+			r := runNodal(t, "", "check", tc.file, "--out", tc.out, flag, text)
+			if r.code != 0 {
+				t.Errorf("%s: check %s %q: code %d\n%s%s", filepath.Base(tc.file), flag, text, r.code, r.stdout, r.stderr)
+			}
+			bad := "2*(" + text + ")" // twice the gain
+			if lhs, rhs, ok := strings.Cut(text, " = "); ok {
+				bad = lhs + " = 2*(" + rhs + ")"
+			}
+			if r := runNodal(t, "", "check", tc.file, "--out", tc.out, flag, bad); r.code != exitVerdict {
+				t.Errorf("%s: check %s %q (perturbed): code %d, want %d", filepath.Base(tc.file), flag, bad, r.code, exitVerdict)
+			}
+		}
+	}
 }

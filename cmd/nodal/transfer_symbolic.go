@@ -238,7 +238,7 @@ func (st *symbolicTF) table(w io.Writer) error {
 	return nil
 }
 
-// symbolicJSON is the JSON document of `nodal tf --symbolic`.
+// symbolicJSON is the JSON document of `nodal transfer --symbolic`.
 type symbolicJSON struct {
 	What         string             `json:"what"`
 	Unit         string             `json:"unit"`
@@ -277,17 +277,38 @@ func (st *symbolicTF) json() symbolicJSON {
 	return doc
 }
 
-// runSymbolic is `nodal tf --symbolic`.
-func (c *tfCmd) runSymbolic(e *env, l *loaded) error {
+// runSymbolic is `nodal transfer --symbolic`.
+func (c *transferCmd) runSymbolic(e *env, l *loaded) error {
 	if c.Plot != "" {
 		return errors.New("--plot draws numeric poles and zeros: run it without --symbolic")
 	}
-	st, err := deriveSymbolic(e, l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref, Zin: c.Zin, Zout: c.Zout}, parseKeep(c.Keep, c.Keep != nil))
+	return c.symbolicArgs.write(e, l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref}, c.File, c.Output, c.Format)
+}
+
+// symbolicArgs are the flags of a symbolic result (nodal transfer, nodal
+// impedance).
+type symbolicArgs struct {
+	Symbolic bool     `help:"Give N(s) and D(s) in the parts' own names (R1, C2, U1.a0) with each coefficient's value."`
+	Keep     []string `help:"With --symbolic: keep only these parts (or symbols such as U1.a0) symbolic, substitute the rest." placeholder:"R1,C1,..." sep:","`
+}
+
+// check refuses --keep without --symbolic.
+func (a *symbolicArgs) check() error {
+	if a.Keep != nil && !a.Symbolic {
+		return errors.New("--keep chooses the symbols of --symbolic: add --symbolic")
+	}
+	return nil
+}
+
+// write derives the symbolic result of q and writes it as a table or JSON
+// to output (standard output when empty), never over file.
+func (a *symbolicArgs) write(e *env, l *loaded, q tfRequest, file, output, format string) error {
+	st, err := deriveSymbolic(e, l, q, parseKeep(a.Keep, a.Keep != nil))
 	if err != nil {
 		return err
 	}
-	return writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
-		if c.Format == "json" {
+	return writeTo(e, output, []string{file}, func(w io.Writer) error {
+		if format == "json" {
 			return writeJSON(w, st.json())
 		}
 		return st.table(w)

@@ -14,10 +14,11 @@ import (
 	"nodal/netlist/syntax"
 )
 
-// timeArgs are the flags shared by step and impulse.
-type timeArgs struct {
+// timeCmd prints the exact step or impulse response.
+type timeCmd struct {
 	circuitArgs
 	probeArgs
+	Input  string `help:"The input signal: a unit step or a unit impulse." enum:"step,impulse" default:"step"`
 	Until  string `help:"End of the time span, e.g. 5ms (default: from the slowest pole, about 7 time constants or 10 periods)." placeholder:"T"`
 	Points int    `help:"Number of samples from t = 0 to the end." default:"200"`
 	Format string `help:"Output format: table, csv or json." enum:"table,csv,json" default:"table"`
@@ -25,47 +26,37 @@ type timeArgs struct {
 	Plot   string `help:"Also plot the response to this file (.svg or .png)." placeholder:"FILE" type:"path"`
 }
 
-// stepCmd prints the exact step response.
-type stepCmd struct{ timeArgs }
-
-// impulseCmd prints the exact impulse response.
-type impulseCmd struct{ timeArgs }
-
 // Help is the extended help with a worked example.
-func (c *stepCmd) Help() string {
-	return `Gives the exact response to a unit step of the input from the partial-
-fraction expansion of H(s)/s: the closed form, sampled points, and the final
-value, 10–90 % rise time, overshoot, peak time and 2 % settling time, found
-on the closed form (not read off the samples). Unstable circuits are named as
-such with their poles, and get no settling figures.
+func (c *timeCmd) Help() string {
+	return `Gives the exact response to a unit step (--input step, the default) or a
+unit impulse (--input impulse) from the partial-fraction expansion of
+H(s)/s or H(s).
 
-Examples:
+For a step: the closed form, sampled points, and the final value, 10–90 %
+rise time, overshoot, peak time and 2 % settling time, found on the closed
+form (not read off the samples). Unstable circuits are named as such with
+their poles, and get no settling figures.
 
-    nodal step filter.nodal --out out
-    nodal step filter.nodal --out out --until 2ms --points 400 --format csv -o step.csv
-    nodal step filter.nodal --out out --plot step.svg`
-}
-
-// Help is the extended help with a worked example.
-func (c *impulseCmd) Help() string {
-	return `Gives the exact response to a unit impulse from the partial-fraction
-expansion of H(s). Where H(s) is proper but not strictly proper the response
+For an impulse: where H(s) is proper but not strictly proper the response
 holds a Dirac term δ(t), which is named with its weight, not sampled.
 
 Examples:
 
-    nodal impulse filter.nodal --out out
-    nodal impulse filter.nodal --out out --format json`
+    nodal time filter.nodal --out out
+    nodal time filter.nodal --out out --until 2ms --points 400 --format csv -o step.csv
+    nodal time filter.nodal --out out --plot step.svg
+    nodal time filter.nodal --out out --input impulse
+    nodal time filter.nodal --out out --input impulse --format json`
 }
 
-// Run computes the step response.
-func (c *stepCmd) Run(e *env) error { return c.run(e, "step") }
-
-// Run computes the impulse response.
-func (c *impulseCmd) Run(e *env) error { return c.run(e, "impulse") }
+// Run computes the time response.
+func (c *timeCmd) Run(e *env) error { return c.run(e, c.Input) }
 
 // run computes and prints a time response of the given kind.
-func (c *timeArgs) run(e *env, kind string) error {
+func (c *timeCmd) run(e *env, kind string) error {
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+		return err
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err
