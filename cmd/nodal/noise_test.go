@@ -162,3 +162,17 @@ func FuzzNoiseFlags(f *testing.F) {
 		}
 	})
 }
+
+// TestPartsShowNoise: nodal parts shows the noise model it read.
+func TestPartsShowNoise(t *testing.T) {
+	r := runNodal(t, "", "parts", "../../testdata/reference/noise/photodiode_tia_noise.nodal")
+	for _, s := range []string{"en=9 nV/√Hz", "in=20 fA/√Hz", "fen=300 Hz", "fin=2 kHz", "1 MΩ noiseless"} {
+		if r.code != 0 || !strings.Contains(r.stdout, s) {
+			t.Errorf("parts lacks %q (code %d):\n%s", s, r.code, r.stdout)
+		}
+	}
+	r = runNodal(t, "", "parts", "../../testdata/reference/noise/photodiode_tia_noise.nodal", "--format", "json")
+	if !strings.Contains(r.stdout, `"en_v_per_rthz"`) || !strings.Contains(r.stdout, `"noiseless": true`) {
+		t.Errorf("parts JSON lacks the noise model:\n%s", r.stdout)
+	}
+}
