@@ -102,7 +102,8 @@ type RequireStmt struct {
 	Tokens []lexer.Token
 	Metric *NameRef `parser:"\"require\" @@"`
 	AtPart *NameRef `parser:"(\"@\" (@@"`
-	At     *Limit   `parser:"| @@))?"`
+	At     *Limit   `parser:"| @@"`
+	AtHi   *Limit   `parser:"  (Range @@)?))?"` // the upper end of a band: noise_rms@20Hz..20kHz
 	Op     string   `parser:"(@(\"within\" | \"below\" | \"above\")"`
 	Lo     *Limit   `parser:"@@"`
 	Hi     *Limit   `parser:"(Range @@)?)?"`

@@ -1,6 +1,7 @@
 package netlist
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"strings"
@@ -67,6 +68,31 @@ type MetricSubject interface {
 	PhaseMarginDeg(part string) (float64, error) // smallest phase margin of the loop gain around part, degrees
 	GainMarginDB(part string) (float64, error)   // smallest gain margin of that loop gain, dB
 	CrossoverHz(part string) (float64, error)    // highest gain crossover of that loop gain, Hz
+
+	// NoiseDensityAt is the output noise density at f (V/√Hz for a voltage
+	// output) and NoiseRMS the output RMS noise over loHz..hiHz (V): they
+	// need the circuit's noise sources, which a transfer function alone
+	// does not have (see MetricSpec.Noise).
+	NoiseDensityAt(freqHz float64) (float64, error)
+	NoiseRMS(loHz, hiHz float64) (float64, error)
+}
+
+// ErrNeedsNoise is what a subject without noise sources (a transfer
+// function, a spot solve) answers to NoiseDensityAt and NoiseRMS.
+var ErrNeedsNoise = errors.New("a noise metric needs the circuit's noise sources, not a transfer function")
+
+// UnitVoltPerRootHz is the unit of a noise density metric. Its limits are
+// written in volts per root hertz without the "/√Hz" (noise@1kHz below
+// 20nV), since a limit is one value token.
+const UnitVoltPerRootHz = "V/√Hz"
+
+// LimitUnit returns the unit a limit of the metric is written in: Unit,
+// except V for a density in V/√Hz.
+func (m MetricSpec) LimitUnit() string {
+	if m.Unit == UnitVoltPerRootHz {
+		return UnitVolt
+	}
+	return m.Unit
 }
 
 // MetricSpec is one entry of the metric registry: how the metric is
@@ -90,6 +116,9 @@ type MetricSpec struct {
 	// (`require stable`): Eval returns 1 for yes and 0 for no, and the
 	// requirement's comparison is Holds.
 	Bare bool
+	// Noise is true when Eval reads NoiseDensityAt or NoiseRMS: the
+	// evaluator must give the subject the circuit's noise analysis.
+	Noise bool
 	// Help says in a few words what the metric is.
 	Help string
 	// Eval returns the metric of s for the parameter p, in Unit.
@@ -140,6 +169,10 @@ var metricSpecs = []MetricSpec{
 			}
 			return 0, err
 		}},
+	{Name: "noise", Unit: UnitVoltPerRootHz, Param: MetricParamFreq, Noise: true, Help: "output noise density at F, V/√Hz (300 K)",
+		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.NoiseDensityAt(p.FreqHz) }},
+	{Name: "noise_rms", Unit: UnitVolt, Param: MetricParamBand, Noise: true, Help: "output RMS noise over F1..F2, V (300 K)",
+		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.NoiseRMS(p.LoHz, p.HiHz) }},
 }
 
 // Metrics returns the registry, in the order of help texts.
@@ -289,6 +322,9 @@ func (e *elab) require(r *RequireStmt) {
 	if r.AtPart != nil {
 		metric += "@" + r.AtPart.Name
 	}
+	if r.AtHi != nil {
+		metric += ".." + r.AtHi.Sign + r.AtHi.Value
+	}
 	if _, ok := findMetric(r.Metric.Name); !ok {
 		hint := suggest(r.Metric.Name, metricNamesPlain())
 		if hint == "" {
@@ -317,7 +353,7 @@ func (e *elab) require(r *RequireStmt) {
 		return
 	}
 	limit := func(l *Limit) (float64, bool) {
-		v, err := ParseValue(l.Sign+l.Value, m.Unit)
+		v, err := ParseValue(l.Sign+l.Value, m.LimitUnit())
 		if err != nil {
 			want := m.Unit
 			if want == "" {

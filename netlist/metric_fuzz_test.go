@@ -6,9 +6,9 @@ import (
 	"testing"
 )
 
-// FuzzParseMetric: any text gives an error or a known metric name with a
-// frequency that is finite and > 0 for a metric taken at a frequency and
-// 0 otherwise (a loop metric's @ names a part), never a panic.
+// FuzzParseMetric: any text gives an error or a known metric name with its
+// parameter: a frequency that is 0 (no @) or finite and > 0, or a band
+// 0 < F1 < F2, finite; never a panic.
 func FuzzParseMetric(f *testing.F) {
 	f.Fuzz(func(t *testing.T, s string) {
 		m, p, err := ParseMetric(s)

@@ -306,8 +306,12 @@ func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, e
 	if err != nil {
 		return nil, nil, err
 	}
+	sub, err := variation.MetricSubject(c, r.out, tf, circ, r.metrics)
+	if err != nil {
+		return nil, nil, err
+	}
 	for i, m := range r.metrics {
-		v, err := m.EvalIn(tf, circ)
+		v, err := m.EvalOn(sub)
 		if errors.Is(err, loop.ErrLoopGain) {
 			// no such gain element, an ideal op-amp: the requirement is wrong
 			return nil, nil, fmt.Errorf("%s: %w", r.pos[i], err)

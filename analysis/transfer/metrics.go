@@ -92,11 +92,19 @@ func (h *TransferFunction) DominantPair() (RootPair, error) {
 
 // Eval returns the metric's value for tf in the metric's unit (Unit),
 // through the registry entry's Eval on tf's MetricSubject.
-func (m Metric) Eval(tf *TransferFunction) (float64, error) {
+func (m Metric) Eval(tf *TransferFunction) (float64, error) { return m.EvalOn(tf.Subject()) }
+
+// EvalOn returns the metric's value on any subject (a transfer function's,
+// or one that also answers the noise quantities), in Unit.
+func (m Metric) EvalOn(s netlist.MetricSubject) (float64, error) {
 	if m.Spec.Eval == nil {
 		return 0, fmt.Errorf("metric %q not parsed", m.Name)
 	}
-	return m.EvalIn(tf, nil)
+	v, err := m.Spec.Eval(s, m.Param)
+	if err != nil {
+		return 0, fmt.Errorf("%s: %w", m.Name, err)
+	}
+	return v, nil
 }
 
 // EvalIn is Eval with the circuit's quantities (stability, loop gains)
@@ -104,14 +112,7 @@ func (m Metric) Eval(tf *TransferFunction) (float64, error) {
 // may be nil when no such metric is asked for, and tf may be nil when
 // only such metrics are.
 func (m Metric) EvalIn(tf *TransferFunction, c CircuitMetrics) (float64, error) {
-	if m.Spec.Eval == nil {
-		return 0, fmt.Errorf("metric %q not parsed", m.Name)
-	}
-	v, err := m.Spec.Eval(tfSubject{tf, c}, m.Param)
-	if err != nil {
-		return 0, fmt.Errorf("%s: %w", m.Name, err)
-	}
-	return v, nil
+	return m.EvalOn(tf.SubjectIn(c))
 }
 
 // ExtractFor builds the system of c for one input and output and
@@ -133,6 +134,11 @@ func ExtractFor(ms []Metric, c *netlist.Circuit, in mna.Input, out mna.Output) (
 // Subject returns tf as what metrics are evaluated on; it has no circuit,
 // so the metrics judged on the circuit are errors.
 func (h *TransferFunction) Subject() netlist.MetricSubject { return tfSubject{h, nil} }
+
+// SubjectIn is Subject with the quantities judged on the whole circuit
+// (stability, loop gains) answered by c; h may be nil when only those are
+// asked for.
+func (h *TransferFunction) SubjectIn(c CircuitMetrics) netlist.MetricSubject { return tfSubject{h, c} }
 
 // CircuitMetrics gives the quantities of the metric registry that are
 // judged on the whole circuit rather than on one transfer function (see
@@ -201,6 +207,9 @@ func (s tfSubject) F3dBHz() (float64, error) {
 	}
 	return bw.CrossingsHz[0], nil
 }
+
+func (tfSubject) NoiseDensityAt(float64) (float64, error) { return 0, netlist.ErrNeedsNoise }
+func (tfSubject) NoiseRMS(_, _ float64) (float64, error)  { return 0, netlist.ErrNeedsNoise }
 
 func (s tfSubject) PeakDB() (float64, error) {
 	pk, err := s.tf.Peak()

@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"nodal/analysis/loop"
+	"nodal/analysis/noise"
 	"nodal/analysis/transfer"
 	"nodal/mna"
 	"nodal/netlist"
@@ -134,9 +135,13 @@ func (e *MetricEvaluator) evalExtract(c *netlist.Circuit, check bool) ([]float64
 	if err != nil {
 		return nil, err
 	}
+	sub, err := MetricSubject(c, e.out, tf, circ, e.metrics)
+	if err != nil {
+		return nil, err
+	}
 	out := make([]float64, len(e.metrics))
 	for i, m := range e.metrics {
-		v, err := m.EvalIn(tf, circ)
+		v, err := m.EvalOn(sub)
 		if err != nil {
 			return nil, err
 		}
@@ -149,6 +154,19 @@ func (e *MetricEvaluator) evalExtract(c *netlist.Circuit, check bool) ([]float64
 		out[i] = v
 	}
 	return out, nil
+}
+
+// MetricSubject is what the metrics are evaluated on: tf's subject, with
+// the noise of c at out when a metric needs it (noise@F, noise_rms@F1..F2).
+// The requirement runs of package require use it too.
+func MetricSubject(c *netlist.Circuit, out mna.Output, tf *transfer.TransferFunction, circ transfer.CircuitMetrics, metrics []transfer.Metric) (netlist.MetricSubject, error) {
+	base := tf.SubjectIn(circ)
+	for _, m := range metrics {
+		if m.Spec.Noise {
+			return noise.MetricSubject(c, out, base)
+		}
+	}
+	return base, nil
 }
 
 // nearBranch moves phase metric i by whole turns to within 180° of its
@@ -192,10 +210,12 @@ func (spotSubject) Q() (float64, error)      { return 0, errNeedsPoles }
 
 var errNeedsCircuit = errors.New("is judged on the whole circuit, not on a spot solve of one response")
 
-func (spotSubject) Stable() (bool, error)                  { return false, errNeedsCircuit }
-func (spotSubject) PhaseMarginDeg(string) (float64, error) { return 0, errNeedsCircuit }
-func (spotSubject) GainMarginDB(string) (float64, error)   { return 0, errNeedsCircuit }
-func (spotSubject) CrossoverHz(string) (float64, error)    { return 0, errNeedsCircuit }
+func (spotSubject) Stable() (bool, error)                   { return false, errNeedsCircuit }
+func (spotSubject) PhaseMarginDeg(string) (float64, error)  { return 0, errNeedsCircuit }
+func (spotSubject) GainMarginDB(string) (float64, error)    { return 0, errNeedsCircuit }
+func (spotSubject) CrossoverHz(string) (float64, error)     { return 0, errNeedsCircuit }
+func (spotSubject) NoiseDensityAt(float64) (float64, error) { return 0, netlist.ErrNeedsNoise }
+func (spotSubject) NoiseRMS(_, _ float64) (float64, error)  { return 0, netlist.ErrNeedsNoise }
 
 // metricUnit returns the unit of a metric's values ("dB", "deg", "Hz",
 // or "" for q and for names ParseMetric does not know).

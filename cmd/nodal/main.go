@@ -46,6 +46,7 @@ type cli struct {
 	Check     checkCmd     `cmd:"" help:"Check a hand-derived ODE or transfer function against the circuit."`
 	Drive     driveCmd     `cmd:"" help:"Sinusoidal steady-state output for a given input signal."`
 	Time      timeCmd      `cmd:"" help:"Exact step or impulse response with rise, overshoot and settling figures."`
+	Noise     noiseCmd     `cmd:"" help:"Output and input-referred noise, contributions, integrated noise and SNR."`
 	Tolerance toleranceCmd `cmd:"" help:"Monte Carlo, worst case and sensitivities of response metrics."`
 	Verify    verifyCmd    `cmd:"" help:"Check the file's require statements at nominal, worst case and as yield."`
 	Snap      snapCmd      `cmd:"" help:"Round R and C values to an IEC 60063 E-series and show what moves."`

@@ -39,7 +39,7 @@ func TestVersionAndHelp(t *testing.T) {
 	if r.code != 0 || !strings.Contains(r.stdout, "nodal "+version) {
 		t.Errorf("--version: code %d, stdout %q", r.code, r.stdout)
 	}
-	for _, cmd := range []string{"parts", "equations", "sweep", "transfer", "impedance", "loop", "check", "drive", "time", "tolerance", "verify", "snap", "report"} {
+	for _, cmd := range []string{"parts", "equations", "sweep", "transfer", "impedance", "loop", "check", "drive", "time", "tolerance", "verify", "snap", "noise", "report"} {
 		r := runNodal(t, "", cmd, "--help")
 		if r.code != 0 || !strings.Contains(r.stdout, "Example") {
 			t.Errorf("%s --help: code %d, no worked example in %q", cmd, r.code, r.stdout)

@@ -208,6 +208,9 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 	if err := addToleranceSections(e, l, r, d, runs, seed); err != nil {
 		return nil, err
 	}
+	if err := addNoiseSection(e, l, r, d, lo, hi); err != nil {
+		return nil, err
+	}
 	return d, nil
 }
 

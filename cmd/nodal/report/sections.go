@@ -224,12 +224,39 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 		}
 		secs = append(secs, section{ID: "verdicts", Heading: "Requirements", Paras: []string{para}, Tables: []table{t}})
 	}
+	if n := d.Noise; n != nil {
+		secs = append(secs, noiseSection(n))
+	}
 	return title, secs, foot, nil
+}
+
+// noiseSection is the noise at the output: plot, band figures, sources.
+func noiseSection(n *Noise) section {
+	s := section{ID: "noise", Heading: "Noise"}
+	para := fmt.Sprintf("Noise at %s at %s K: thermal noise 4kTR of every resistor not marked noiseless and the opamps' en and in, uncorrelated; integrated over %s … %s by %s.",
+		n.Output, strconv.FormatFloat(n.TempK, 'g', 6, 64), notation.Digits(n.FromHz, 4, "Hz"), notation.Digits(n.ToHz, 4, "Hz"), n.Method)
+	s.Paras = append(s.Paras, para)
+	if n.Plot.present() {
+		s.Figures = append(s.Figures, n.Plot)
+	}
+	t := table{Header: []string{"figure", "value"}, Right: []bool{false, true}}
+	t.Rows = append(t.Rows, row{Cells: []string{"output RMS noise", formatValue(n.OutRMS, n.OutUnit)}})
+	if n.InRMS != nil {
+		t.Rows = append(t.Rows, row{Cells: []string{"input-referred RMS noise (" + n.Input + ")", formatValue(*n.InRMS, n.InUnit)}})
+	}
+	t.Rows = append(t.Rows, row{Cells: []string{"equivalent noise bandwidth", formatValue(n.ENBWHz, "Hz")}})
+	s.Tables = append(s.Tables, t)
+	c := table{Caption: "Contributions over the band, largest first", Header: []string{"source", "output RMS", "share of power"}, Right: []bool{false, true, true}}
+	for _, x := range n.Contributions {
+		c.Rows = append(c.Rows, row{Cells: []string{x.Source, formatValue(x.RMS, n.OutUnit), strconv.FormatFloat(100*x.Fraction, 'f', 2, 64) + " %"}})
+	}
+	s.Tables = append(s.Tables, c)
+	return s
 }
 
 // siUnits take SI prefixes when printed; other units (dB, °, %, plain
 // ratios) are printed as plain numbers.
-var siUnits = map[string]bool{"Hz": true, "s": true, "V": true, "A": true, "Ω": true, "F": true, "H": true, "rad/s": true, "S": true, "W": true}
+var siUnits = map[string]bool{"Hz": true, "s": true, "V": true, "A": true, "Ω": true, "F": true, "H": true, "rad/s": true, "S": true, "W": true, "V/√Hz": true}
 
 // formatValue writes v with unit: four significant digits, with an SI
 // prefix for the units in siUnits.
