@@ -2,12 +2,15 @@ package require
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
-	"nodal/analysis/transfer"
-	"nodal/analysis/variation"
 	"slices"
 
+	"nodal/analysis/loop"
+	"nodal/analysis/stability"
+	"nodal/analysis/transfer"
+	"nodal/analysis/variation"
 	"nodal/mna"
 	"nodal/netlist"
 )
@@ -240,8 +243,9 @@ func cornerFactors(ctx context.Context, c *netlist.Circuit, ev variation.Evaluat
 type RequirementMetrics struct {
 	names   []string
 	metrics []transfer.Metric
-	probes  []mna.Probe // distinct probes, in order of first use
-	of      []int       // per requirement: its index in probes
+	pos     []netlist.Pos // of each requirement, for errors
+	probes  []mna.Probe   // distinct probes, in order of first use
+	of      []int         // per requirement: its index in probes
 }
 
 // NewRequirementMetrics parses the metric of every requirement, all taken
@@ -269,6 +273,7 @@ func NewProbeMetrics(reqs []netlist.Requirement, probes []mna.Probe) (*Requireme
 		}
 		r.metrics = append(r.metrics, m)
 		r.names = append(r.names, q.Metric)
+		r.pos = append(r.pos, q.Pos)
 		k := slices.Index(r.probes, probes[i])
 		if k < 0 {
 			k = len(r.probes)
@@ -298,24 +303,65 @@ func (r *RequirementMetrics) Explain(c *netlist.Circuit) ([]error, error) {
 }
 
 func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, error) {
-	tfs := make([]*transfer.TransferFunction, len(r.probes))
-	for k, p := range r.probes {
-		sys, err := mna.Build(c, p.Ex, p.Ob)
-		if err != nil {
-			return nil, nil, err
-		}
-		if tfs[k], err = transfer.Extract(sys); err != nil {
-			return nil, nil, err
-		}
-	}
+	circ := loop.NewCircuit(c)
 	vals := make([]float64, len(r.metrics))
 	why := make([]error, len(r.metrics))
+	// An unstable build fails every requirement: its response does not
+	// settle, so no metric of it exists.
 	for i, m := range r.metrics {
-		v, err := m.Eval(tfs[r.of[i]])
-		if err != nil {
-			v, why[i] = math.NaN(), err
+		if !m.Spec.Bare {
+			continue
 		}
-		vals[i] = v
+		stable, err := circ.Stable()
+		if err != nil {
+			return nil, nil, err
+		}
+		if !stable {
+			for j := range vals {
+				vals[j], why[j] = math.NaN(), stability.ErrUnstable
+			}
+			vals[i], why[i] = 0, nil
+			return vals, why, nil
+		}
+	}
+	for k, p := range r.probes {
+		var idx []int
+		var ms []transfer.Metric
+		for i, of := range r.of {
+			if of == k {
+				idx, ms = append(idx, i), append(ms, r.metrics[i])
+			}
+		}
+		tf, err := transfer.ExtractFor(ms, c, p.Ex, p.Ob)
+		if err != nil {
+			return nil, nil, err
+		}
+		sub, err := variation.MetricSubject(c, p.Ob, tf, circ, ms)
+		if err != nil {
+			return nil, nil, err
+		}
+		for _, i := range idx {
+			v, err := r.metrics[i].EvalOn(sub)
+			if errors.Is(err, loop.ErrLoopGain) {
+				// no such gain element, an ideal op-amp: the requirement is wrong
+				return nil, nil, fmt.Errorf("%s: %w", r.pos[i], err)
+			}
+			if err != nil {
+				v, why[i] = math.NaN(), err
+			}
+			vals[i] = v
+		}
 	}
 	return vals, why, nil
+}
+
+// WithStable returns reqs with the implicit first requirement `stable`
+// (verify judges every circuit on it), unless reqs names it already.
+func WithStable(reqs []netlist.Requirement) []netlist.Requirement {
+	for _, q := range reqs {
+		if q.Metric == "stable" {
+			return reqs
+		}
+	}
+	return append([]netlist.Requirement{{Metric: "stable", Op: netlist.Holds, Text: "stable (implicit)"}}, reqs...)
 }

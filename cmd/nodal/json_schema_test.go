@@ -40,6 +40,7 @@ var schemaCases = []struct {
 	{"transfer_vary", []string{"transfer", rcFile, "--vary", "C1=10n,20n", "--format", "json"}},
 	{"verify_responses", []string{"verify", "../../testdata/examples/speaker_crossover.nodal", "--runs", "20", "--format", "json"}},
 	{"sweep_responses", []string{"sweep", "../../testdata/examples/speaker_crossover.nodal", "--out", "woofer", "--out", "woofer+tweeter", "--at", "1k", "--format", "json"}},
+	{"loop", []string{"loop", "../../testdata/examples/photodiode_frontend.nodal", "--at", "U1", "--format", "json"}},
 }
 
 // keyPaths adds the key paths of v under prefix to set.

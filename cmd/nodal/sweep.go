@@ -10,6 +10,7 @@ import (
 	"strings"
 
 	"nodal/analysis/response"
+	"nodal/analysis/stability"
 	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
 	"nodal/mna"
@@ -72,6 +73,7 @@ type sweepJSON struct {
 	Output  string        `json:"output"`
 	Variant []variantJSON `json:"variant,omitempty"` // the --vary values of this trace
 	Points  []sweepPoint  `json:"points"`
+	stabilityJSON
 }
 
 // sweepTrace is one output of a sweep: the systems whose responses it
@@ -198,6 +200,17 @@ func (c *sweepCmd) Run(e *env) error {
 			return err
 		}
 	}
+	stabs := make([]*stability.Result, len(ls))
+	for i, l := range ls {
+		if stabs[i], err = circuitStability(l); err != nil {
+			return err
+		}
+	}
+	warn := func() {
+		for _, st := range stabs {
+			warnStability(e.stderr, st)
+		}
+	}
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		switch c.Format {
 		case "json":
@@ -205,14 +218,17 @@ func (c *sweepCmd) Run(e *env) error {
 			for i, r := range resps {
 				docs[i] = responseJSON(r)
 				docs[i].Variant = vs[of[i]].json()
+				docs[i].stabilityJSON = newStabilityJSON(stabs[of[i]])
 			}
 			if len(docs) == 1 && len(c.Vary) == 0 {
 				return writeJSON(w, docs[0])
 			}
 			return writeJSON(w, docs)
 		case "csv":
+			warn()
 			return responseCSV(w, resps)
 		}
+		warn()
 		if len(resps) > 1 {
 			return responsesTable(w, resps)
 		}
