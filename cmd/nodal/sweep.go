@@ -42,7 +42,16 @@ Examples:
     nodal sweep filter.nodal --out out --from 10Hz --to 100kHz --per-decade 20
     nodal sweep filter.nodal --out out --at 1k,2k,5k --format json
     nodal sweep bridge.nodal --out p --ref n --plot bode.svg
-    nodal sweep filter.nodal --out 'i(R1)' --format csv -o r1.csv`
+    nodal sweep filter.nodal --out 'i(R1)' --format csv -o r1.csv
+
+With named responses (response NAME = v(NODE) in the file), no --out
+sweeps them all side by side, and --out A+B sums responses from the same
+input; --vary repeats the sweep per value of a let or a part:
+
+    nodal sweep testdata/examples/speaker_crossover.nodal --at 250,2.5k,10k
+    nodal sweep testdata/examples/speaker_crossover.nodal --out woofer+tweeter --plot sum.svg
+    nodal sweep testdata/examples/speaker_crossover.nodal --out woofer --vary R=8k,10k,12k
+    nodal sweep testdata/examples/tone_stage.nodal --vary Ct=1n..10n/4 --plot variants.svg`
 }
 
 // sweepPoint is one JSON point.

@@ -59,7 +59,12 @@ syntax of nodal check (paste them into --tf or --ode). Ideal op-amps
 contribute no symbol; a finite gain is NAME.a0. --keep keeps only the
 named parts symbolic and substitutes the others exactly; use it when a
 large circuit's expressions grow past the size limit. Impedances are
-nodal impedance.`
+nodal impedance.
+
+Variants (a section per value, JSON an array of {variant, transfer}):
+
+    nodal transfer testdata/examples/tone_stage.nodal --vary Ct=2n2,4n7,10n
+    nodal transfer testdata/examples/speaker_crossover.nodal --out tweeter`
 }
 
 // tfRequest says which transfer function to extract: a ratio (In, Out,
