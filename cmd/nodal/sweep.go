@@ -103,6 +103,13 @@ func (c *sweepCmd) traces(l *loaded) ([]sweepTrace, error) {
 			outs = []string{""}
 		}
 	}
+	return resolveTraces(l, c.In, outs, c.Ref)
+}
+
+// resolveTraces resolves --out values against the circuit: each a
+// response, a node, i(PART) or a sum of responses ("" is the default
+// output, see probeFor).
+func resolveTraces(l *loaded, in string, outs []string, ref string) ([]sweepTrace, error) {
 	var traces []sweepTrace
 	for _, o := range outs {
 		names, err := sumParts(l.circuit, o)
@@ -114,7 +121,7 @@ func (c *sweepCmd) traces(l *loaded) ([]sweepTrace, error) {
 		}
 		t := sweepTrace{label: strings.Join(names, "+")}
 		for _, n := range names {
-			p, name, err := probeFor(l.circuit, c.In, n, c.Ref)
+			p, name, err := probeFor(l.circuit, in, n, ref)
 			if err != nil {
 				return nil, err
 			}
