@@ -148,3 +148,25 @@ func writeTemp(t *testing.T, dir, name, body string) string {
 	}
 	return path
 }
+
+// report covers every named response: a section group each, and one
+// requirements table.
+func TestReportNamedResponses(t *testing.T) {
+	r := runNodal(t, "", "report", crossoverFile, "--format", "text", "--runs", "20")
+	if r.code != 0 {
+		t.Fatalf("exit %d: %s", r.code, r.stderr)
+	}
+	for _, s := range []string{"3 named responses: woofer, tweeter, tweeter_direct", "woofer: Transfer function", "tweeter: Frequency response",
+		"tweeter: Step response", "tweeter_direct: Transfer function", "H(s) = tweeter = hpi / Vin", "woofer: Tolerances (Monte Carlo)"} {
+		if !strings.Contains(r.stdout, s) {
+			t.Errorf("report lacks %q", s)
+		}
+	}
+	if n := strings.Count(r.stdout, "\nRequirements\n"); n != 1 {
+		t.Errorf("%d requirements sections, want 1", n)
+	}
+	r = runNodal(t, "", "report", crossoverFile, "--format", "text", "--runs", "0", "--out", "tweeter")
+	if r.code != 0 || strings.Contains(r.stdout, "woofer: Transfer function") || !strings.Contains(r.stdout, "H(s) = hpi / Vin") {
+		t.Errorf("report --out tweeter: exit %d\n%s", r.code, r.stdout)
+	}
+}
