@@ -39,6 +39,7 @@ var schemaCases = []struct {
 	{"sweep_vary", []string{"sweep", rcFile, "--vary", "R=1k,2k", "--at", "1k", "--format", "json"}},
 	{"transfer_vary", []string{"transfer", rcFile, "--vary", "C1=10n,20n", "--format", "json"}},
 	{"compare_measured", []string{"compare", "../../testdata/examples/speaker_crossover.nodal", "--measured", "../../testdata/compare/woofer_measured.csv", "--out", "woofer", "--format", "json"}},
+	{"time_vary", []string{"time", rcFile, "--vary", "R=1k,2k", "--points", "3", "--format", "json"}},
 	{"verify_responses", []string{"verify", "../../testdata/examples/speaker_crossover.nodal", "--runs", "20", "--format", "json"}},
 	{"sweep_responses", []string{"sweep", "../../testdata/examples/speaker_crossover.nodal", "--out", "woofer", "--out", "woofer+tweeter", "--at", "1k", "--format", "json"}},
 	{"loop", []string{"loop", "../../testdata/examples/photodiode_frontend.nodal", "--at", "U1", "--format", "json"}},

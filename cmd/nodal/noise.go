@@ -23,6 +23,7 @@ import (
 // noiseCmd prints the output and input-referred noise of a circuit.
 type noiseCmd struct {
 	circuitArgs
+	varyArgs
 	probeArgs
 	freqArgs
 	Band      string `help:"Integrate over F1..F2 (default: the sweep range), e.g. 20Hz..20kHz." placeholder:"F1..F2"`
@@ -140,6 +141,12 @@ func noiseConfig(c *netlist.Circuit, in string, out mna.Observation, tempK float
 
 // Run computes and prints the noise.
 func (c *noiseCmd) Run(e *env) error {
+	if len(c.Vary) > 0 {
+		out, vary := c.Output, c.Vary
+		c.Output, c.Vary = "", nil
+		defer func() { c.Output, c.Vary = out, vary }()
+		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, c.Run)
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err

@@ -1,6 +1,10 @@
 package main
 
 import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -135,6 +139,11 @@ func (a *circuitArgs) loadVariants(e *env, vs []variant) ([]*loaded, error) {
 	if err != nil {
 		return nil, err
 	}
+	return a.loadVariantsFrom(e, name, src, vs)
+}
+
+// loadVariantsFrom is loadVariants on a source already read.
+func (a *circuitArgs) loadVariantsFrom(e *env, name string, src []byte, vs []variant) ([]*loaded, error) {
 	var out []*loaded
 	for i, v := range vs {
 		extra := netlist.Overrides{}
@@ -157,4 +166,99 @@ func (a *circuitArgs) loadVariants(e *env, vs []variant) ([]*loaded, error) {
 		out = append(out, l)
 	}
 	return out, nil
+}
+
+// runVaried runs a command once per --vary value (the value added to its
+// --set overrides) and writes the outputs together to output: text as a
+// section per value under a "── NAME=VALUE ──" line, JSON as an array of
+// {"variant", "result"} with each run's document, CSV with a first column
+// variant. run is the command's own Run; it writes to the standard output
+// of the env it is given, with the command's -o and --plot cleared by the
+// caller. A plot per value is not drawn: --plot with --vary is refused.
+func runVaried(e *env, a *circuitArgs, v *varyArgs, output, plotPath, format string, run func(e *env) error) error {
+	if plotPath != "" {
+		return errors.New("--plot goes without --vary for this command (nodal sweep --vary draws one trace per value)")
+	}
+	if err := checkOutputs([]string{a.File}, output); err != nil {
+		return err
+	}
+	vs, err := v.variants()
+	if err != nil {
+		return err
+	}
+	src, name, err := readSource(e, a.File)
+	if err != nil {
+		return err
+	}
+	sets := a.Set
+	defer func() { a.Set = sets }()
+	outs := make([][]byte, len(vs))
+	for i, vr := range vs {
+		// Check the names once, with --vary's own message for a clash.
+		quiet := *e
+		quiet.stderr = io.Discard
+		if _, err := (&circuitArgs{File: a.File, Set: sets}).loadVariantsFrom(&quiet, name, src, vs[i:i+1]); err != nil {
+			return err
+		}
+		a.Set = append([]string(nil), sets...)
+		for j, n := range vr.names {
+			a.Set = append(a.Set, n+"="+strconv.FormatFloat(vr.values[j], 'g', -1, 64))
+		}
+		var buf bytes.Buffer
+		sub := *e
+		sub.stdout = &buf
+		sub.stdin = bytes.NewReader(src) // "-" is read again from here
+		if i > 0 {
+			sub.stderr = io.Discard
+		}
+		if err := run(&sub); err != nil {
+			return fmt.Errorf("%s: %w", vr.label(), err)
+		}
+		outs[i] = buf.Bytes()
+	}
+	return writeTo(e, output, []string{a.File}, func(w io.Writer) error {
+		switch format {
+		case "json":
+			docs := make([]struct {
+				Variant []variantJSON   `json:"variant"`
+				Result  json.RawMessage `json:"result"`
+			}, len(vs))
+			for i := range vs {
+				docs[i].Variant, docs[i].Result = vs[i].json(), json.RawMessage(outs[i])
+			}
+			return writeJSON(w, docs)
+		case "csv":
+			cw := csv.NewWriter(w)
+			for i := range vs {
+				recs, err := csv.NewReader(bytes.NewReader(outs[i])).ReadAll()
+				if err != nil {
+					return err
+				}
+				for k, rec := range recs {
+					if k == 0 && i > 0 {
+						continue
+					}
+					lab := vs[i].label()
+					if k == 0 {
+						lab = "variant"
+					}
+					if err := cw.Write(append([]string{lab}, rec...)); err != nil {
+						return err
+					}
+				}
+			}
+			cw.Flush()
+			return cw.Error()
+		}
+		for i := range vs {
+			if i > 0 {
+				fmt.Fprintln(w)
+			}
+			fmt.Fprintf(w, "── %s ──\n", vs[i].label())
+			if _, err := w.Write(outs[i]); err != nil {
+				return err
+			}
+		}
+		return nil
+	})
 }

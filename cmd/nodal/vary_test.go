@@ -3,6 +3,7 @@ package main
 import (
 	"encoding/json"
 	"math"
+	"path/filepath"
 	"strings"
 	"testing"
 )
@@ -79,5 +80,45 @@ func TestVaryErrors(t *testing.T) {
 		if r.code != 2 || !strings.Contains(r.stderr, tc.want) {
 			t.Errorf("%v: exit %d, stderr %q; want 2 and %q", args, r.code, r.stderr, tc.want)
 		}
+	}
+}
+
+// --vary on time: the step response of the RC low-pass has the one mode
+// e^(−t/RC) (first-order RC; common practice) for each value; impedance,
+// noise and loop run once per value through the same runner.
+func TestVaryTimeAndOthers(t *testing.T) {
+	const c0 = 15.9155e-9
+	r := runNodal(t, "", "time", rcFile, "--vary", "R=1k,3k", "--points", "3", "--format", "json")
+	if r.code != 0 {
+		t.Fatalf("exit %d: %s", r.code, r.stderr)
+	}
+	var docs []struct {
+		Variant []variantJSON `json:"variant"`
+		Result  struct {
+			Modes []struct {
+				Sigma float64 `json:"sigma_per_s"`
+			} `json:"modes"`
+		} `json:"result"`
+	}
+	if err := json.Unmarshal([]byte(r.stdout), &docs); err != nil || len(docs) != 2 {
+		t.Fatalf("%v\n%s", err, r.stdout)
+	}
+	for i, rv := range []float64{1e3, 3e3} {
+		want := -1 / (rv * c0)
+		found := false
+		for _, m := range docs[i].Result.Modes {
+			found = found || math.Abs(m.Sigma-want) < 1e-9*math.Abs(want)
+		}
+		if !found || docs[i].Variant[0].Value != rv {
+			t.Errorf("R=%g: modes %+v, want σ = %g", rv, docs[i].Result.Modes, want)
+		}
+	}
+	r = runNodal(t, "", "impedance", rcFile, "--node", "out", "--at", "1k", "--vary", "R=1k,2k")
+	if r.code != 0 || !strings.Contains(r.stdout, "── R=1k ──") || !strings.Contains(r.stdout, "── R=2k ──") {
+		t.Errorf("impedance --vary: exit %d\n%s%s", r.code, r.stdout, r.stderr)
+	}
+	r = runNodal(t, "", "time", rcFile, "--vary", "R=1k,2k", "--plot", filepath.Join(t.TempDir(), "x.svg"))
+	if r.code != 2 || !strings.Contains(r.stderr, "--plot goes without --vary") {
+		t.Errorf("time --vary --plot: exit %d %s", r.code, r.stderr)
 	}
 }
