@@ -91,6 +91,15 @@ Exit status: 0 when every requirement passes at nominal (with --strict:
 also in the worst case), 1 otherwise, 2 for bad input. A file without
 require statements is bad input.
 
+A requirement may name a response declared in the file (response NAME =
+v(NODE)): it is taken on that response, the others on --out (default the
+first response, then the node named out); the table has a response column.
+
+    response woofer = v(lp)
+    require woofer.gain@2.5kHz within -6.2dB..-5.8dB
+
+    nodal verify testdata/examples/speaker_crossover.nodal
+
 Requirements in the file:
 
     require gain@1kHz within -0.5dB..0.5dB
