@@ -11,7 +11,6 @@ import (
 	"nodal/mna/testcircuit"
 )
 
-
 func relErr(got, want complex128) float64 { return cmplx.Abs(got-want) / cmplx.Abs(want) }
 
 // TestSweepSurvivesAxisPole: a lossless series L driving a shunt C has

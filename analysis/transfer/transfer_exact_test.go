@@ -9,7 +9,6 @@ import (
 	"nodal/mna/testcircuit"
 )
 
-
 // TestTinyGainsAndHighQ: responses far below the scale of the rest of the
 // solution are exact, not zero (closed forms, common practice: divider
 // ratio, series RC current, parallel RLC tank).
