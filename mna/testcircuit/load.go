@@ -4,6 +4,7 @@ import (
 	"os"
 	"testing"
 
+	"nodal/mna"
 	"nodal/netlist"
 )
 
@@ -20,4 +21,15 @@ func Load(t testing.TB, path string, ov netlist.Overrides) *netlist.Circuit {
 		t.Fatal(err)
 	}
 	return c
+}
+
+// Build builds the MNA system of circ from its only source to the output
+// out, failing the test on any error.
+func Build(t testing.TB, circ *netlist.Circuit, out mna.Output) *mna.System {
+	t.Helper()
+	sys, err := mna.Build(circ, mna.Input{}, out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return sys
 }
