@@ -103,6 +103,9 @@ func (c *compareCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
+	if err := warnUnstable(e, la); err != nil {
+		return err
+	}
 	var b *response.Response
 	var freqs []float64
 	var meas *measured
@@ -124,6 +127,9 @@ func (c *compareCmd) Run(e *env) error {
 		bName = lb.name
 		tb, err := resolveTraces(lb, c.In, []string{c.Out}, c.Ref)
 		if err != nil {
+			return err
+		}
+		if err := warnUnstable(e, lb); err != nil {
 			return err
 		}
 		freqs, err = c.frequencies(func() (float64, float64) {
@@ -157,6 +163,17 @@ func (c *compareCmd) Run(e *env) error {
 		}
 		return compareTable(w, doc)
 	})
+}
+
+// warnUnstable says on standard error when the circuit is not stable (its
+// frequency response is then not what a measurement would show).
+func warnUnstable(e *env, l *loaded) error {
+	st, err := circuitStability(l)
+	if err != nil {
+		return err
+	}
+	warnStability(e.stderr, st)
+	return nil
 }
 
 // traceTF is the transfer function of a single-term trace (nil for a sum).

@@ -96,6 +96,28 @@ func TestCompareTwoCircuits(t *testing.T) {
 	}
 }
 
+// --plot draws both responses with the difference below; a usage mistake
+// is exit 2.
+func TestComparePlotAndUsage(t *testing.T) {
+	svg := filepath.Join(t.TempDir(), "cmp.svg")
+	r := runNodal(t, "", "compare", crossoverFile, "--measured", measuredFile, "--out", "woofer", "--plot", svg)
+	if r.code != 0 {
+		t.Fatalf("exit %d: %s", r.code, r.stderr)
+	}
+	b, err := os.ReadFile(svg)
+	if err != nil || !strings.Contains(string(b), "difference (dB)") || !strings.Contains(string(b), "B − A") {
+		t.Errorf("plot lacks the difference panel: %v", err)
+	}
+	for _, args := range [][]string{
+		{"compare", crossoverFile},
+		{"compare", crossoverFile, crossoverFile, "--measured", measuredFile},
+	} {
+		if r := runNodal(t, "", args...); r.code != 2 {
+			t.Errorf("%v: exit %d", args, r.code)
+		}
+	}
+}
+
 func TestReadMeasuredErrors(t *testing.T) {
 	tests := []struct{ name, src, want string }{
 		{"header", "f,mag\n1,2\n", `x.csv:1:1: the header lacks freq_hz and mag_db (columns found: "f", "mag")`},

@@ -158,6 +158,9 @@ func probeFor(c *netlist.Circuit, in, out, ref string) (p mna.Probe, name string
 		}
 	}
 	r, ok := c.Response(out)
+	if parts, err := sumParts(c, out); !ok && err == nil && parts != nil {
+		return mna.Probe{}, "", fmt.Errorf("--out %s: a sum of responses is shown by sweep and compare; here give one response, node or i(PART)", out)
+	}
 	if !ok {
 		if h := netlist.Closest(out, c.ResponseNames()); h != "" && !c.HasNode(out) {
 			return mna.Probe{}, "", fmt.Errorf("--out: no response or node %q; did you mean %q?", out, h)

@@ -123,6 +123,8 @@ func TestResponseStatementErrors(t *testing.T) {
 		{"require unknown", rc + "response vo = v(o)\nrequire vv.f3db above 1Hz\n", []string{"verify"}, 2, []string{"no response \"vv\"", "did you mean \"vo\"?"}},
 		{"in block", rc + "block b (x)\nresponse q = v(x)\nend\n", []string{"sweep"}, 2, []string{"belong at the top level"}},
 		{"out typo", rc + "response vo = v(o)\n", []string{"sweep", "--out", "voo"}, 2, []string{"no response or node \"voo\"; did you mean \"vo\"?"}},
+		{"sum in transfer", rc + "response a = v(o)\nresponse b = v(in)\n", []string{"transfer", "--out", "a+b"}, 2, []string{"a sum of responses is shown by sweep and compare"}},
+		{"sum from two sources", rc + "W: current source (gnd, o) 1m\nresponse a = v(o) from V\nresponse b = v(o) from W\n", []string{"sweep", "--out", "a+b", "--at", "1k"}, 2, []string{"a sum adds responses from the same input"}},
 		{"sum of nodes", rc + "response vo = v(o)\n", []string{"sweep", "--out", "vo+in"}, 2, []string{"\"in\" is not one"}},
 	}
 	for _, tc := range tests {
