@@ -97,9 +97,12 @@ func parseVary(s string) (varySpec, error) {
 		vals[n-1] = hiV
 		return varySpec{name, vals}, nil
 	}
-	vals, err := syntax.ParseFlagList("--vary", s[start:], "")
+	vals, err := syntax.ParseFlagListAt("--vary", s, start, "")
 	if err != nil {
 		return varySpec{}, err
+	}
+	if len(vals) > maxVariants {
+		return varySpec{}, fmt.Errorf("--vary %s: %d values; at most %d", name, len(vals), maxVariants)
 	}
 	return varySpec{name, vals}, nil
 }

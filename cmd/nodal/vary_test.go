@@ -69,7 +69,7 @@ func TestVaryErrors(t *testing.T) {
 		{[]string{"--vary", "R"}, "want NAME=V1,V2"},
 		{[]string{"--vary", "R=1k..10k"}, "needs the number of values"},
 		{[]string{"--vary", "R=10k..1k/3"}, "0 < LO < HI"},
-		{[]string{"--vary", "R=1k,x"}, "--vary:1:"},
+		{[]string{"--vary", "R=1k,x"}, "--vary:1:6:"},
 		{[]string{"--vary", "Rx=1k"}, "no top-level parameter or part value \"Rx\""},
 		{[]string{"--vary", "R=1k", "--set", "R=2k"}, "also given by --set"},
 		{[]string{"--vary", "R=1k", "--vary", "R=2k"}, "given twice"},
