@@ -7,7 +7,6 @@ import (
 	"io"
 	"math"
 	"net/url"
-	"path/filepath"
 	"sort"
 	"strings"
 	"sync"
@@ -142,7 +141,7 @@ type tuneBackend struct {
 	responses []string
 	notes     []string
 
-	mu      sync.Mutex
+	mu            sync.Mutex
 	nominalTraces map[string]*tuneTrace // by response, computed once
 }
 
@@ -157,7 +156,7 @@ type tuneTrace struct {
 
 // backend loads src and lists its controls.
 func (c *tuneCmd) backend(e *env, name string, src []byte) (*tuneBackend, error) {
-	f, err := netlist.Parse(filepath.Base(name), src)
+	f, err := netlist.Parse(name, src)
 	if err != nil {
 		return nil, err
 	}
