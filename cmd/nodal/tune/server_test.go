@@ -257,7 +257,9 @@ func TestWatchKeepsLastGood(t *testing.T) {
 		t.Errorf("after a bad edit: %s", body)
 	}
 	write("third\n")
-	wait("fixed", func(b string) bool { return strings.Contains(b, `"first":"third"`) && strings.Contains(b, `"load_error":""`) })
+	wait("fixed", func(b string) bool {
+		return strings.Contains(b, `"first":"third"`) && strings.Contains(b, `"load_error":""`)
+	})
 }
 
 // TestLineDiff lists the changed lines with their numbers.

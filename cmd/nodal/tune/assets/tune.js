@@ -34,7 +34,7 @@
     var t = Number(m.toPrecision(digits || 4));
     if (Math.abs(t) >= 1000 && e3 < 12) { e3 += 3; t = Number((t / 1000).toPrecision(digits || 4)); }
     if (PREFIX[e3] === undefined) return v.toPrecision(digits || 4) + (unit ? ' ' + unit : '');
-    return String(t) + ' ' + PREFIX[e3] + (unit || '');
+    return String(t) + (unit ? ' ' : '') + PREFIX[e3] + (unit || '');
   }
   // A value as the file writes it (3 significant digits, prefix, no space,
   // "u" for micro): the text the slider puts in the query string.
@@ -207,7 +207,9 @@
     figure(dl, 'DC gain', dc, 'fig-dc');
     var f3 = t.f3db_hz || [];
     figure(dl, '−3 dB', f3.length ? f3.map(function (f) { return fmt(f, 'Hz', 4); }).join(', ') : 'none', 'fig-f3db', f3.length ? f3[0] : '');
-    if (t.peak_db !== undefined && t.peak_db !== null) {
+    if (t.peak_db !== undefined && t.peak_db !== null && t.f3db_ref_db !== undefined && t.f3db_ref_db !== null && t.peak_db - t.f3db_ref_db < 0.01) {
+      figure(dl, 'peak', 'no peaking (within 0.01 dB of the reference)', 'fig-peak');
+    } else if (t.peak_db !== undefined && t.peak_db !== null) {
       var where = t.peak_hz === 0 ? 'DC' : fmt(t.peak_hz, 'Hz', 4);
       figure(dl, 'peak', fixed(t.peak_db, 3) + ' dB at ' + where, 'fig-peak');
     }
@@ -216,7 +218,7 @@
       figure(dl, 'pair ' + (i + 1), 'f0 ' + fmt(p.f0_hz, 'Hz', 4) + ', Q ' + (p.q === null ? '∞ (' + p.q_reason + ')' : p.q.toPrecision(4)), i === 0 ? 'fig-f0' : '', p.f0_hz);
     });
     figure(dl, 'H(s)', t.factored + '  [' + t.unit + ']');
-    figure(dl, 'stability', d.stability.stable ? 'stable (' + d.stability.basis + ': none)' : d.stability.reason, 'fig-stability');
+    figure(dl, 'stability', d.stability.stable ? 'stable: no pole of H in the right half-plane' : d.stability.reason, 'fig-stability');
   }
 
   function metricText(v, unit) {
@@ -350,24 +352,36 @@
     box.appendChild(f);
   }
 
+  // drawPoleZero draws the s-plane map with equal scales; when the roots
+  // spread over more than two decades a second map zooms on the dominant
+  // ones (within ten times the smallest non-zero magnitude).
   function drawPoleZero(d) {
     var box = $('polezero');
     box.textContent = '';
-    var P = d.transfer.poles, Z = d.transfer.zeros;
-    var r = 0;
-    P.concat(Z).forEach(function (z) { r = Math.max(r, Math.abs(z.re), Math.abs(z.im)); });
+    var P = d.transfer.poles, Z = d.transfer.zeros, all = P.concat(Z);
+    var mags = all.map(function (z) { return Math.hypot(z.re, z.im); }).filter(function (m) { return m > 0; });
+    var rmax = Math.max.apply(null, mags.concat([0])), rmin = Math.min.apply(null, mags.concat([Infinity]));
+    map(box, P, Z, rmax, 'all roots');
+    if (mags.length && rmax / rmin > 100) {
+      var off = mags.filter(function (m) { return m > 10 * rmin; }).length;
+      map(box, P, Z, 10 * rmin, 'zoom, ' + off + ' off the map');
+    }
+  }
+
+  function map(box, P, Z, r, label) {
     if (!(r > 0)) r = 1;
     r *= 1.15;
-    var W = 300, mk = panel(box, { label: 'pole-zero map', width: W, height: W - 30, xrange: [-r, r], yrange: [-r * 0.93, r * 0.93], xlabel: 'Re (rad/s)', ylabel: 'Im',
+    var W = 300, mk = panel(box, { label: label, width: W, height: W - 30, xrange: [-r, r], yrange: [-r * 0.93, r * 0.93], xlabel: label + ' · Re (rad/s)', ylabel: 'Im',
       series: [], xfmt: function (t) { return fmt(t, '', 2); } });
     var s = mk.svg, X = mk.X, Y = mk.Y;
-    svg('line', { x1: X(0), x2: X(0), y1: Y(r), y2: Y(-r), class: 'axis' }, s);
-    P.forEach(function (p) {
+    svg('line', { x1: X(0), x2: X(0), y1: Y(r * 0.93), y2: Y(-r * 0.93), class: 'axis' }, s);
+    var inside = function (z) { return Math.abs(z.re) <= r && Math.abs(z.im) <= r * 0.93; };
+    P.filter(inside).forEach(function (p) {
       var x = X(p.re), y = Y(p.im), c = 'pole' + (p.re > 0 ? ' rhp' : '');
       svg('line', { x1: x - 5, y1: y - 5, x2: x + 5, y2: y + 5, class: c }, s);
       svg('line', { x1: x - 5, y1: y + 5, x2: x + 5, y2: y - 5, class: c }, s);
     });
-    Z.forEach(function (z) { svg('circle', { cx: X(z.re), cy: Y(z.im), r: 5, class: 'zero' }, s); });
+    Z.filter(inside).forEach(function (z) { svg('circle', { cx: X(z.re), cy: Y(z.im), r: 5, class: 'zero' }, s); });
   }
 
   // ---- saving ----
