@@ -1,10 +1,13 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"fmt"
 	"math"
 	"net/url"
+	"os"
+	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
@@ -56,11 +59,21 @@ func browser(t *testing.T) context.Context {
 // checks that the −3 dB frequency shown is 1/(2πRC) for the value the
 // slider gives (common practice), that the requirement `f3db above
 // 1.2kHz` flips from pass to FAIL, that the query string holds the value,
-// that a typed value with a prefix is taken, and that a value that does not
-// parse is shown as an error while the page keeps the last good view.
+// that a typed value with a prefix is taken, that a value that does not
+// parse is shown as an error while the page keeps the last good view, that
+// saving shows the diff and writes the file only once confirmed, and that
+// a syntax error put into the file is shown with its caret.
 func TestTunePageInBrowser(t *testing.T) {
 	ctx := browser(t)
-	s := startTune(t, tuneFile)
+	src, err := os.ReadFile(tuneFile)
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "logger.nodal")
+	if err := os.WriteFile(path, src, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	s := startTune(t, path)
 	const c = 10e-9
 
 	// readF3dB waits until the page shows R = r in its box (the analysis of
@@ -159,5 +172,51 @@ func TestTunePageInBrowser(t *testing.T) {
 	}
 	if got, _ := strconv.ParseFloat(f3, 64); math.Abs(got-rcF3dBHz(4.7e3, c)) > 1e-9*got {
 		t.Errorf("after a bad value the view changed: −3 dB %s", f3)
+	}
+
+	// saving: the diff first, the file untouched until confirmed
+	typeValue("4k7")
+	readView(4.7e3)
+	act(`document.getElementById('save').click()`)
+	if _, err := chromedp.Run(ctx, chromedp.Poll[bool](`document.getElementById('save-dialog').open && document.getElementById('diff').textContent.length > 0`, chromedp.WithPollingTimeout(10*time.Second))); err != nil {
+		t.Fatalf("no diff shown: %v", err)
+	}
+	diff, err := chromedp.Run(ctx, chromedp.Evaluate[string](`document.getElementById('diff').textContent`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(diff, "- 5: let R = 10k      # metal film") || !strings.Contains(diff, "+ 5: let R = 4.7k      # metal film") {
+		t.Errorf("diff shown: %q", diff)
+	}
+	if now, _ := os.ReadFile(path); !bytes.Equal(now, src) {
+		t.Error("the file changed before the save was confirmed")
+	}
+	act(`document.getElementById('save-confirm').click()`)
+	want := bytes.Replace(src, []byte("let R = 10k "), []byte("let R = 4.7k "), 1)
+	deadline := time.Now().Add(5 * time.Second)
+	for now, _ := os.ReadFile(path); !bytes.Equal(now, want); now, _ = os.ReadFile(path) {
+		if time.Now().After(deadline) {
+			t.Fatalf("file after confirming:\n%s", now)
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+
+	// an edit with a syntax error: shown with its caret, the view stays
+	if err := os.WriteFile(path, append(want, []byte("R2: resistor (out, gnd\n")...), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := chromedp.Run(ctx, chromedp.Poll[bool](`!document.getElementById('load-error').hidden`, chromedp.WithPollingTimeout(10*time.Second))); err != nil {
+		t.Fatalf("syntax error not shown: %v", err)
+	}
+	le, err := chromedp.Run(ctx, chromedp.Evaluate[string](`document.getElementById('load-error').textContent`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(le, "logger.nodal:13:") || !strings.Contains(le, "R2: resistor (out, gnd\n") || !strings.Contains(le, "^") {
+		t.Errorf("load error shown: %q", le)
+	}
+	f3, err = chromedp.Run(ctx, chromedp.Evaluate[string](`document.getElementById('fig-f3db').dataset.value`))
+	if err != nil || f3 == "" {
+		t.Errorf("the view went away after a bad edit: %q %v", f3, err)
 	}
 }
