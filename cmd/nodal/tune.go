@@ -25,7 +25,7 @@ import (
 // tuneCmd serves a page of sliders for the parameters and part values of
 // one circuit file, with its responses and verdicts following them.
 type tuneCmd struct {
-	File string `arg:"" help:"Circuit file (.nodal) to tune; it is watched and, on request, rewritten." type:"path"`
+	File string `arg:"" help:"Circuit file (.nodal) to tune; it is watched and, on request, rewritten (- reads standard input, for --print only)." type:"string"`
 	requireProbe
 	Addr  string `help:"Serve on this address, HOST:PORT (port 0 picks a free one); default 127.0.0.1:0. An address that is not loopback is served only when named here." placeholder:"HOST:PORT"`
 	Print string `help:"Print the figures and verdicts for this query string (?R=6.8k&C1=2.2n) as JSON and exit, serving nothing." placeholder:"QUERY"`
@@ -74,14 +74,13 @@ var tuneSeries = []string{"E12", "E24", "E96"}
 
 // Run serves the page, or prints one analysis with --print.
 func (c *tuneCmd) Run(e *env) error {
-	name := c.File
-	loadFile := func(src []byte) (tune.Backend, error) { return c.backend(e, name, src) }
+	loadFile := func(src []byte) (tune.Backend, error) { return c.backend(e, c.File, src) }
 	if c.Print != "" {
-		src, _, err := readSource(e, c.File)
+		src, name, err := readSource(e, c.File)
 		if err != nil {
 			return err
 		}
-		b, err := loadFile(src)
+		b, err := c.backend(e, name, src)
 		if err != nil {
 			return err
 		}
@@ -173,6 +172,9 @@ func (c *tuneCmd) backend(e *env, name string, src []byte) (*tuneBackend, error)
 	}
 	b := &tuneBackend{name: name, file: f, nominal: nom, probe: c.requireProbe, defOut: out, byName: map[string]*tuneControl{},
 		responses: tuneResponses(nom), nominalTraces: map[string]*tuneTrace{}}
+	if !contains(b.responses, out) {
+		b.responses = append([]string{out}, b.responses...) // --out i(PART)
+	}
 	for _, q := range nom.Requirements {
 		m, err := transfer.ParseMetric(q.Metric)
 		if err != nil {
