@@ -397,3 +397,44 @@ func TestTuneSaveMatchesSnap(t *testing.T) {
 		t.Errorf("plan of a let and the part using it: %d %s", code, body)
 	}
 }
+
+// TestTuneConcurrentRequests: requests for different values at once each
+// get the −3 dB frequency of their own value, 1/(2πRC) (common practice):
+// the analyses share no mutable state.
+func TestTuneConcurrentRequests(t *testing.T) {
+	s := startTune(t, tuneFile)
+	rs := []float64{1e3, 2.2e3, 4.7e3, 6.8e3, 10e3, 15e3, 33e3, 68e3}
+	var wg sync.WaitGroup
+	errs := make(chan error, len(rs)*3)
+	for round := 0; round < 3; round++ {
+		for _, r := range rs {
+			wg.Add(1)
+			go func(r float64) {
+				defer wg.Done()
+				resp, err := http.Get(fmt.Sprintf("%sapi/analyse?R1=%g&C=%g", s.url, r, 10e-9))
+				if err != nil {
+					errs <- err
+					return
+				}
+				defer resp.Body.Close()
+				var doc struct {
+					Transfer struct {
+						F3dBHz []float64 `json:"f3db_hz"`
+					} `json:"transfer"`
+				}
+				if err := json.NewDecoder(resp.Body).Decode(&doc); err != nil {
+					errs <- err
+					return
+				}
+				if want := rcF3dBHz(r, 10e-9); len(doc.Transfer.F3dBHz) != 1 || math.Abs(doc.Transfer.F3dBHz[0]-want) > 1e-9*want {
+					errs <- fmt.Errorf("R1 = %g: f3db %v, want %g", r, doc.Transfer.F3dBHz, want)
+				}
+			}(r)
+		}
+	}
+	wg.Wait()
+	close(errs)
+	for err := range errs {
+		t.Error(err)
+	}
+}

@@ -382,7 +382,14 @@ func (s *Server) planFor(q string) (old, new []byte, digest string, err error) {
 	if err != nil {
 		return nil, nil, "", &RequestError{fmt.Errorf("query string: %w", err)}
 	}
-	b, src := s.current()
+	s.mu.Lock()
+	b, src, loadErr := s.backend, s.src, s.loadErr
+	s.mu.Unlock()
+	if loadErr != "" {
+		// the file on disk is not the text of the last good circuit:
+		// writing that text would undo the edit
+		return nil, nil, "", &RequestError{fmt.Errorf("the file does not load now, so nothing is written over it; fix it first:\n%s", loadErr)}
+	}
 	out, err := b.Rewrite(vals)
 	if err != nil {
 		return nil, nil, "", err
@@ -414,7 +421,7 @@ func (s *Server) save(w http.ResponseWriter, r *http.Request) {
 		errorJSON(w, &RequestError{fmt.Errorf("save: %w", err)})
 		return
 	}
-	s.reload(false) // an edit since the plan changes the digest
+	s.reload(true) // an edit since the plan, even within one mtime tick, changes the digest
 	_, new, digest, err := s.planFor(strings.TrimPrefix(req.Query, "?"))
 	if err != nil {
 		errorJSON(w, err)

@@ -223,6 +223,19 @@ func TestWritesNeedTokenAndDigest(t *testing.T) {
 	if code, _ := post(t, addr, "/api/save", s.token, "", fmt.Sprintf(`{"query":"x=1","digest":"%s"}`, digest)); code != 400 {
 		t.Errorf("stale digest accepted: %d", code)
 	}
+	// a file that does not load is never written over with the last good text
+	code, body = post(t, addr, "/api/plan", s.token, "", "x=2")
+	if code != 200 {
+		t.Fatalf("plan: %d %s", code, body)
+	}
+	digest = regexp.MustCompile(`"digest":"([0-9a-f]+)"`).FindStringSubmatch(body)[1]
+	if err := os.WriteFile(path, []byte("error: half-typed edit\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, body = post(t, addr, "/api/save", s.token, "", fmt.Sprintf(`{"query":"x=2","digest":"%s"}`, digest))
+	if b, _ := os.ReadFile(path); code != 400 || !strings.Contains(body, "does not load now") || string(b) != "error: half-typed edit\n" {
+		t.Errorf("save over a file that does not load: %d %s; file %q", code, body, b)
+	}
 }
 
 // TestWatchKeepsLastGood: an edit reloads; a text that does not load is
