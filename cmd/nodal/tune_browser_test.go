@@ -219,4 +219,29 @@ func TestTunePageInBrowser(t *testing.T) {
 	if err != nil || f3 == "" {
 		t.Errorf("the view went away after a bad edit: %q %v", f3, err)
 	}
+
+	// an unstable setting: said so, no curve, no steady-state figure
+	sk := startTune(t, "testdata/tune_sallen_key.nodal")
+	if err := chromedp.Do(ctx, chromedp.Navigate(sk.url+"?K=3.5")); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := chromedp.Run(ctx, chromedp.Poll[bool](`!document.getElementById('unstable').hidden`, chromedp.WithPollingTimeout(10*time.Second))); err != nil {
+		t.Fatalf("K = 3.5 not shown as unstable: %v", err)
+	}
+	type unstableView struct {
+		Banner  string `json:"banner"`
+		F3      string `json:"f3"`
+		Curves  int    `json:"curves"`
+		StepSVG int    `json:"step_svg"`
+	}
+	u, err := chromedp.Run(ctx, chromedp.Evaluate[unstableView](`({banner: document.getElementById('unstable').textContent,
+		f3: document.getElementById('fig-f3db').textContent,
+		curves: document.querySelectorAll('#bode path.current').length,
+		step_svg: document.querySelectorAll('#step svg').length})`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(u.Banner, "right half-plane") || !strings.Contains(u.F3, "unstable") || u.Curves != 0 || u.StepSVG != 0 {
+		t.Errorf("unstable view: %+v", u)
+	}
 }

@@ -175,9 +175,9 @@
       r.box.dataset.value = v.value;
       r.nearest.textContent = v.nearest ? ['E12', 'E24', 'E96'].map(function (s) { return fmt(v.nearest[s], '', 3).trim(); }).join(' · ') : '';
     });
-    renderFigures(d);
-    renderRequirements(d.requirements || []);
     var unstable = !d.stability.stable;
+    renderFigures(d, unstable);
+    renderRequirements(d.requirements || [], unstable);
     var u = $('unstable');
     u.hidden = !unstable;
     if (unstable) {
@@ -197,19 +197,31 @@
     dl.appendChild(dt); dl.appendChild(dd);
   }
 
-  function renderFigures(d) {
+  // renderFigures lists the figures; for an unstable setting the ones
+  // read off the steady-state response (DC gain, −3 dB, peak) have no
+  // meaning and are not shown as numbers.
+  function renderFigures(d, unstable) {
     var t = d.transfer, dl = $('figures');
     dl.textContent = '';
+    if (unstable) {
+      var none = '— (unstable: no steady state)';
+      figure(dl, 'DC gain', none, 'fig-dc');
+      figure(dl, '−3 dB', none, 'fig-f3db', '');
+      figure(dl, 'peak', none, 'fig-peak');
+    }
     var dc;
     if (t.gain_dc_db !== undefined && t.gain_dc_db !== null) dc = fixed(t.gain_dc_db, 3) + ' dB (' + fmt(t.gain_dc, '', 5) + ')';
     else if (t.gain_dc === 0) dc = '0 (zero at DC)';
     else dc = 'unbounded (pole at DC)';
-    figure(dl, 'DC gain', dc, 'fig-dc');
     var f3 = t.f3db_hz || [];
-    figure(dl, '−3 dB', f3.length ? f3.map(function (f) { return fmt(f, 'Hz', 4); }).join(', ') : 'none', 'fig-f3db', f3.length ? f3[0] : '');
-    if (t.peak_db !== undefined && t.peak_db !== null && t.f3db_ref_db !== undefined && t.f3db_ref_db !== null && t.peak_db - t.f3db_ref_db < 0.01) {
+    if (!unstable) {
+      figure(dl, 'DC gain', dc, 'fig-dc');
+      figure(dl, '−3 dB', f3.length ? f3.map(function (f) { return fmt(f, 'Hz', 4); }).join(', ') : 'none', 'fig-f3db', f3.length ? f3[0] : '');
+    }
+    var peakKnown = t.peak_db !== undefined && t.peak_db !== null;
+    if (!unstable && peakKnown && t.f3db_ref_db !== undefined && t.f3db_ref_db !== null && t.peak_db - t.f3db_ref_db < 0.01) {
       figure(dl, 'peak', 'no peaking (within 0.01 dB of the reference)', 'fig-peak');
-    } else if (t.peak_db !== undefined && t.peak_db !== null) {
+    } else if (!unstable && peakKnown) {
       var where = t.peak_hz === 0 ? 'DC' : fmt(t.peak_hz, 'Hz', 4);
       figure(dl, 'peak', fixed(t.peak_db, 3) + ' dB at ' + where, 'fig-peak');
     }
@@ -229,7 +241,10 @@
     return fmt(v, unit, 4);
   }
 
-  function renderRequirements(reqs) {
+  // renderRequirements lists every require with its value and verdict; for
+  // an unstable setting the value (read as for a stable one) is struck
+  // through and the verdict says unstable.
+  function renderRequirements(reqs, unstable) {
     var tb = $('requirements').querySelector('tbody');
     tb.textContent = '';
     $('no-requirements').hidden = reqs.length > 0;
@@ -238,8 +253,9 @@
       tr.id = 'req-' + i;
       tr.dataset.pass = r.pass;
       tr.appendChild(el('td', '', r.requirement.replace(/^require /, '')));
-      tr.appendChild(el('td', '', metricText(r.value, r.unit)));
-      tr.appendChild(el('td', r.pass ? 'pass verdict' : 'fail verdict', r.pass ? 'pass' : 'FAIL'));
+      tr.appendChild(el('td', unstable ? 'moot' : '', metricText(r.value, r.unit)));
+      if (unstable) tr.appendChild(el('td', 'fail verdict', 'unstable'));
+      else tr.appendChild(el('td', r.pass ? 'pass verdict' : 'fail verdict', r.pass ? 'pass' : 'FAIL'));
       if (r.reason) tr.appendChild(el('td', 'what', r.reason));
       tb.appendChild(tr);
     });
