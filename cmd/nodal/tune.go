@@ -183,6 +183,9 @@ func (c *tuneCmd) backend(e *env, name string, src []byte) (*tuneBackend, error)
 		b.metrics = append(b.metrics, m)
 	}
 	for _, p := range nom.Params {
+		if !(p.Value > 0) {
+			b.notes = append(b.notes, fmt.Sprintf("let %s has no slider: its value %g is not positive (a slider spans a tenth to ten times it)", p.Name, p.Value))
+		}
 		if p.Value > 0 && !math.IsInf(p.Value, 0) {
 			unit := p.Unit
 			b.controls = append(b.controls, tuneControl{name: p.Name, let: true, unit: unit, nominal: p.Value, line: p.Pos.Line,
