@@ -372,6 +372,9 @@ type tuneValueJSON struct {
 	Text    string             `json:"text"` // as it would be written into the file
 	Set     bool               `json:"set"`  // given in the query string
 	Nearest map[string]float64 `json:"nearest,omitempty"`
+	// NearestText is the nearest values as written in the file
+	// ("E24 6.8k · E96 6.81k").
+	NearestText string `json:"nearest_text,omitempty"`
 }
 
 // tuneVerdictJSON is one requirement at the current values, with the keys
@@ -381,6 +384,7 @@ type tuneVerdictJSON struct {
 	Line        int      `json:"line"`
 	Unit        string   `json:"unit"`
 	Value       *float64 `json:"value"`
+	Text        string   `json:"text"` // the value for people, in its unit
 	Pass        bool     `json:"pass"`
 	Reason      string   `json:"reason,omitempty"`
 }
@@ -409,9 +413,19 @@ type tuneDoc struct {
 	Transfer     tfJSON            `json:"transfer"`
 	Step         *timeJSON         `json:"step"`
 	StepReason   string            `json:"step_reason,omitempty"`
+	StepText     string            `json:"step_text,omitempty"` // the step figures for people
 	Bode         sweepJSON         `json:"bode"`
 	NominalBode  *sweepJSON        `json:"nominal_bode"`
 	Requirements []tuneVerdictJSON `json:"requirements"`
+	// Figures are the rows of the transfer command's figure table and the
+	// pole pairs, written for people (cmd/nodal/notation), in order.
+	Figures []tuneFigureJSON `json:"figures"`
+}
+
+// tuneFigureJSON is one figure as the page shows it.
+type tuneFigureJSON struct {
+	Name string `json:"name"`
+	Text string `json:"text"`
 }
 
 // Analyse computes the document for the values of q.
@@ -469,8 +483,16 @@ func (b *tuneBackend) analyse(ctx context.Context, c *netlist.Circuit, v *tuneVa
 	if err != nil {
 		return nil, &tune.RequestError{Err: err}
 	}
-	doc := &tuneDoc{File: b.name, Query: b.query(v), Response: response.OutputLabel(r.sys.Output), Transfer: tfDoc(newTFReport(r)),
+	rep := newTFReport(r)
+	doc := &tuneDoc{File: b.name, Query: b.query(v), Response: response.OutputLabel(r.sys.Output), Transfer: tfDoc(rep),
 		Values: b.values(c, v), Stability: tuneStability(r.tf.Poles), NominalBode: &nom.sweep}
+	for _, row := range rep.figureRows() {
+		doc.Figures = append(doc.Figures, tuneFigureJSON{Name: row[0], Text: row[1]})
+	}
+	for i, p := range rep.pairs {
+		doc.Figures = append(doc.Figures, tuneFigureJSON{Name: fmt.Sprintf("pole pair %d", i+1),
+			Text: fmt.Sprintf("f0 %s, Q %s, ζ %s", notation.Eng(p.F0Hz, "Hz"), notation.Q(p.Q), trimFloat(p.Zeta, 4))})
+	}
 	sw, err := response.Sweep(ctx, r.sys, nom.freqsHz, 1)
 	if err != nil {
 		return nil, err
@@ -485,6 +507,9 @@ func (b *tuneBackend) analyse(ctx context.Context, c *netlist.Circuit, v *tuneVa
 	default:
 		d := timeDoc(st)
 		doc.Step = &d
+		m := st.Metrics
+		doc.StepText = fmt.Sprintf("final %s, rise (10–90 %%) %s, overshoot %s, settling (2 %%) %s",
+			optEng(m.Final, ""), optEng(m.RiseTimeS, "s"), optPct(m.OvershootPct), optEng(m.SettlingTimeS, "s"))
 	}
 	// The requirements are judged on the transfer function just extracted
 	// (the one require.RequirementMetrics would extract for this probe):
@@ -496,7 +521,7 @@ func (b *tuneBackend) analyse(ctx context.Context, c *netlist.Circuit, v *tuneVa
 		if err != nil {
 			val, d.Reason = math.NaN(), err.Error()
 		}
-		d.Value, d.Pass = finiteOrNil(val), req.Pass(val)
+		d.Value, d.Text, d.Pass = finiteOrNil(val), metricText(val, unit), req.Pass(val)
 		doc.Requirements = append(doc.Requirements, d)
 	}
 	return doc, ctx.Err()
@@ -536,11 +561,14 @@ func (b *tuneBackend) values(c *netlist.Circuit, v *tuneValues) []tuneValueJSON 
 		d := tuneValueJSON{Name: ct.name, Value: x, Text: netlist.FormatLiteral(x, ct.literalUnit(), tuneDigits), Set: v.set[ct.name]}
 		if ct.series && x > 0 {
 			d.Nearest = map[string]float64{}
+			var texts []string
 			for _, name := range tuneSeries {
 				if s, err := stdvalue.SeriesByName(name); err == nil {
 					d.Nearest[name] = stdvalue.Nearest(x, s)
+					texts = append(texts, netlist.FormatLiteral(d.Nearest[name], ct.literalUnit(), s.Digits()))
 				}
 			}
+			d.NearestText = strings.Join(texts, " · ")
 		}
 		out = append(out, d)
 	}

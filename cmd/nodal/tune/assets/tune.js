@@ -46,7 +46,6 @@
     if (p === undefined) return v.toPrecision(3);
     return String(t) + (p === 'µ' ? 'u' : p);
   }
-  function fixed(v, n) { return v === null || v === undefined ? '—' : v.toFixed(n); }
 
   function toPos(ct, v) { return Math.round(Math.max(0, Math.min(STEPS, (Math.log10(v / ct.nominal) + 1) / 2 * STEPS))); }
   function fromPos(ct, p) { return ct.nominal * Math.pow(10, p / STEPS * 2 - 1); }
@@ -173,7 +172,7 @@
       if (document.activeElement !== r.range) r.range.value = toPos(r.ct, v.value);
       if (document.activeElement !== r.box) r.box.value = v.set ? values[v.name] : v.text;
       r.box.dataset.value = v.value;
-      r.nearest.textContent = v.nearest ? ['E12', 'E24', 'E96'].map(function (s) { return fmt(v.nearest[s], '', 3).trim(); }).join(' · ') : '';
+      r.nearest.textContent = v.nearest_text || '';
     });
     var unstable = !d.stability.stable;
     renderFigures(d, unstable);
@@ -197,48 +196,23 @@
     dl.appendChild(dt); dl.appendChild(dd);
   }
 
-  // renderFigures lists the figures; for an unstable setting the ones
-  // read off the steady-state response (DC gain, −3 dB, peak) have no
-  // meaning and are not shown as numbers.
+  // renderFigures lists the figures as the server wrote them (the rows of
+  // the transfer command's table and the pole pairs); for an unstable
+  // setting the ones read off the steady-state response (DC gain,
+  // high-frequency gain, −3 dB, peak) have no meaning and are not shown as
+  // numbers.
   function renderFigures(d, unstable) {
     var t = d.transfer, dl = $('figures');
     dl.textContent = '';
-    if (unstable) {
-      var none = '— (unstable: no steady state)';
-      figure(dl, 'DC gain', none, 'fig-dc');
-      figure(dl, '−3 dB', none, 'fig-f3db', '');
-      figure(dl, 'peak', none, 'fig-peak');
-    }
-    var dc;
-    if (t.gain_dc_db !== undefined && t.gain_dc_db !== null) dc = fixed(t.gain_dc_db, 3) + ' dB (' + fmt(t.gain_dc, '', 5) + ')';
-    else if (t.gain_dc === 0) dc = '0 (zero at DC)';
-    else dc = 'unbounded (pole at DC)';
-    var f3 = t.f3db_hz || [];
-    if (!unstable) {
-      figure(dl, 'DC gain', dc, 'fig-dc');
-      figure(dl, '−3 dB', f3.length ? f3.map(function (f) { return fmt(f, 'Hz', 4); }).join(', ') : 'none', 'fig-f3db', f3.length ? f3[0] : '');
-    }
-    var peakKnown = t.peak_db !== undefined && t.peak_db !== null;
-    if (!unstable && peakKnown && t.f3db_ref_db !== undefined && t.f3db_ref_db !== null && t.peak_db - t.f3db_ref_db < 0.01) {
-      figure(dl, 'peak', 'no peaking (within 0.01 dB of the reference)', 'fig-peak');
-    } else if (!unstable && peakKnown) {
-      var where = t.peak_hz === 0 ? 'DC' : fmt(t.peak_hz, 'Hz', 4);
-      figure(dl, 'peak', fixed(t.peak_db, 3) + ' dB at ' + where, 'fig-peak');
-    }
-    if (!t.pairs.length) figure(dl, 'f0, Q', 'no complex pole pair', 'fig-f0');
-    t.pairs.forEach(function (p, i) {
-      figure(dl, 'pair ' + (i + 1), 'f0 ' + fmt(p.f0_hz, 'Hz', 4) + ', Q ' + (p.q === null ? '∞ (' + p.q_reason + ')' : p.q.toPrecision(4)), i === 0 ? 'fig-f0' : '', p.f0_hz);
+    (d.figures || []).forEach(function (f) {
+      var pair = f.name.indexOf('pole pair') === 0;
+      var f3 = f.name.indexOf('−3 dB') === 0;
+      var text = unstable && !pair ? '— (unstable: no steady state)' : f.text;
+      var data = f3 ? (!unstable && t.f3db_hz && t.f3db_hz.length ? t.f3db_hz[0] : '') : undefined;
+      figure(dl, f.name, text, f3 ? 'fig-f3db' : '', data);
     });
     figure(dl, 'H(s)', t.factored + '  [' + t.unit + ']');
     figure(dl, 'stability', d.stability.stable ? 'stable: no pole of H in the right half-plane' : d.stability.reason, 'fig-stability');
-  }
-
-  function metricText(v, unit) {
-    if (v === null || v === undefined) return '—';
-    if (unit === 'dB') return fixed(v, 2) + ' dB';
-    if (unit === '°') return fixed(v, 1) + '°';
-    if (!unit) return v.toPrecision(4);
-    return fmt(v, unit, 4);
   }
 
   // renderRequirements lists every require with its value and verdict; for
@@ -253,7 +227,7 @@
       tr.id = 'req-' + i;
       tr.dataset.pass = r.pass;
       tr.appendChild(el('td', '', r.requirement.replace(/^require /, '')));
-      tr.appendChild(el('td', unstable ? 'moot' : '', metricText(r.value, r.unit)));
+      tr.appendChild(el('td', unstable ? 'moot' : '', r.text));
       if (unstable) tr.appendChild(el('td', 'fail verdict', 'unstable'));
       else tr.appendChild(el('td', r.pass ? 'pass verdict' : 'fail verdict', r.pass ? 'pass' : 'FAIL'));
       if (r.reason) tr.appendChild(el('td', 'what', r.reason));
@@ -363,8 +337,7 @@
     var m = d.step.metrics;
     panel(box, { label: 'step response', width: 420, height: 220, xlabel: 's', ylabel: 'y', series: [{ pts: p, cls: 'current' }],
       hmarks: m.final === null ? [] : [m.final], xfmt: function (t) { return fmt(t, '', 3); } });
-    var f = el('p', 'what', 'final ' + metricText(m.final, '') + ', rise ' + fmt(m.rise_time_s, 's', 3) +
-      ', overshoot ' + (m.overshoot_pct === null ? '—' : fixed(m.overshoot_pct, 1) + ' %') + ', settling (2 %) ' + fmt(m.settling_time_s, 's', 3));
+    var f = el('p', 'what', d.step_text || '');
     box.appendChild(f);
   }
 
