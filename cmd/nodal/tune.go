@@ -101,7 +101,7 @@ func (c *tuneCmd) Run(e *env) error {
 	if !named {
 		addr = tune.DefaultAddr
 	}
-	srv, err := tune.New(tune.Config{Path: c.File, Load: loadFile, Save: func(src []byte) error {
+	srv, err := tune.New(tune.Config{Path: c.File, Load: loadFile, MaxBytes: maxInputBytes, Save: func(src []byte) error {
 		return writeTo(e, c.File, nil, func(w io.Writer) error { _, err := w.Write(src); return err })
 	}})
 	if err != nil {
