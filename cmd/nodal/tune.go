@@ -5,8 +5,10 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"maps"
 	"math"
 	"net/url"
+	"slices"
 	"sort"
 	"strings"
 	"sync"
@@ -172,7 +174,7 @@ func (c *tuneCmd) backend(e *env, name string, src []byte) (*tuneBackend, error)
 	}
 	b := &tuneBackend{name: name, file: f, nominal: nom, probe: c.requireProbe, defOut: out, byName: map[string]*tuneControl{},
 		responses: tuneResponses(nom), nominalTraces: map[string]*tuneTrace{}}
-	if !contains(b.responses, out) {
+	if !slices.Contains(b.responses, out) {
 		b.responses = append([]string{out}, b.responses...) // --out i(PART)
 	}
 	for _, q := range nom.Requirements {
@@ -294,7 +296,7 @@ func (b *tuneBackend) parse(q url.Values) (*tuneValues, error) {
 		}
 		text := vals[0]
 		if k == tuneOutKey {
-			if !contains(b.responses, text) {
+			if !slices.Contains(b.responses, text) {
 				return nil, &tune.RequestError{Err: fmt.Errorf("%s=%s: no such response (nodes: %s)", tuneOutKey, text, strings.Join(b.responses, ", "))}
 			}
 			v.out = text
@@ -323,15 +325,6 @@ func (b *tuneBackend) parse(q url.Values) (*tuneValues, error) {
 		v.set[k] = true
 	}
 	return v, nil
-}
-
-func contains(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
 }
 
 // names lists the control names.
@@ -640,7 +633,7 @@ func (b *tuneBackend) Rewrite(q url.Values) ([]byte, error) {
 		plan := netlist.PlanValues(b.file, c, parts, tuneDigits, v.lets)
 		if len(plan.Skipped) > 0 {
 			var why []string
-			for _, name := range sortedNames(plan.Skipped) {
+			for _, name := range slices.Sorted(maps.Keys(plan.Skipped)) {
 				why = append(why, name+": "+plan.Skipped[name])
 			}
 			return nil, &tune.RequestError{Err: fmt.Errorf("cannot write every value into %s: %s", b.name, strings.Join(why, "; "))}
@@ -652,14 +645,4 @@ func (b *tuneBackend) Rewrite(q url.Values) ([]byte, error) {
 		return nil, &tune.RequestError{Err: err}
 	}
 	return out, nil
-}
-
-// sortedNames returns the keys of m in order.
-func sortedNames(m map[string]string) []string {
-	keys := make([]string, 0, len(m))
-	for k := range m {
-		keys = append(keys, k)
-	}
-	sort.Strings(keys)
-	return keys
 }

@@ -46,6 +46,7 @@ type Backend interface {
 // and the server goes on serving.
 type RequestError struct{ Err error }
 
+// Error returns the wrapped error's message.
 func (e *RequestError) Error() string { return e.Err.Error() }
 
 // Unwrap returns the wrapped error.
