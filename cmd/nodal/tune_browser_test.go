@@ -19,11 +19,11 @@ import (
 	"nodal/cmd/nodal/internal/headless"
 )
 
-// browser starts headless Chromium through the DevTools protocol with the
+// tuneBrowser starts headless Chromium through the DevTools protocol with the
 // flags of every headless check (headless.Flags), retrying a failed launch
 // (headless.Launch, which skips the test when the browser never starts).
 // The context it returns ends with the test or after 20 s.
-func browser(t *testing.T) context.Context {
+func tuneBrowser(t *testing.T) context.Context {
 	t.Helper()
 	headless.Require(t, headless.ChromiumPath)
 	type session struct {
@@ -65,7 +65,7 @@ func browser(t *testing.T) context.Context {
 // saving shows the diff and writes the file only once confirmed, and that
 // a syntax error put into the file is shown with its caret.
 func TestTunePageInBrowser(t *testing.T) {
-	ctx := browser(t)
+	ctx := tuneBrowser(t)
 	src, err := os.ReadFile(tuneFile)
 	if err != nil {
 		t.Fatal(err)

@@ -31,10 +31,10 @@ const tuneFile = "testdata/tune_logger_rc.nodal"
 // (common practice).
 func rcF3dBHz(r, c float64) float64 { return 1 / (2 * math.Pi * r * c) }
 
-// commandWord returns the word that names the command whose struct has
+// commandWordOf returns the word that names the command whose struct has
 // the type of cmd in the command tree (cli), so a test runs it by its type
 // whatever it is called.
-func commandWord(t *testing.T, cmd any) string {
+func commandWordOf(t *testing.T, cmd any) string {
 	t.Helper()
 	ct := reflect.TypeOf(cmd)
 	tree := reflect.TypeOf(cli{})
@@ -52,19 +52,19 @@ func commandWord(t *testing.T, cmd any) string {
 	return ""
 }
 
-// syncBuffer is a bytes.Buffer safe for a writer and a reader at once.
-type syncBuffer struct {
+// tuneLog is a bytes.Buffer safe for a writer and a reader at once.
+type tuneLog struct {
 	mu sync.Mutex
 	b  bytes.Buffer
 }
 
-func (s *syncBuffer) Write(p []byte) (int, error) {
+func (s *tuneLog) Write(p []byte) (int, error) {
 	s.mu.Lock()
 	defer s.mu.Unlock()
 	return s.b.Write(p)
 }
 
-func (s *syncBuffer) String() string {
+func (s *tuneLog) String() string {
 	s.mu.Lock()
 	defer s.mu.Unlock()
 	return s.b.String()
@@ -73,7 +73,7 @@ func (s *syncBuffer) String() string {
 // tuneServer is `nodal tune` running in-process.
 type tuneServer struct {
 	url    string // http://127.0.0.1:PORT/
-	stderr *syncBuffer
+	stderr *tuneLog
 	stop   func() int // cancels the run (as Ctrl-C does) and returns its exit status
 }
 
@@ -82,10 +82,10 @@ type tuneServer struct {
 func startTune(t *testing.T, args ...string) *tuneServer {
 	t.Helper()
 	ctx, cancel := context.WithCancel(context.Background())
-	errb := &syncBuffer{}
+	errb := &tuneLog{}
 	e := &env{ctx: ctx, temps: &tempFiles{}, stdin: strings.NewReader(""), stdout: io.Discard, stderr: errb}
 	code := make(chan int, 1)
-	go func() { code <- run(e, append([]string{commandWord(t, tuneCmd{})}, args...)) }()
+	go func() { code <- run(e, append([]string{commandWordOf(t, tuneCmd{})}, args...)) }()
 	s := &tuneServer{stderr: errb}
 	var once sync.Once
 	status := -1
@@ -153,8 +153,8 @@ func (s *tuneServer) post(t *testing.T, path, body string) (int, []byte) {
 	return resp.StatusCode, b
 }
 
-// jsonAt unmarshals b and returns the value under the dotted key path.
-func jsonAt(t *testing.T, b []byte, path string) any {
+// tuneJSONAt unmarshals b and returns the value under the dotted key path.
+func tuneJSONAt(t *testing.T, b []byte, path string) any {
 	t.Helper()
 	var v any
 	if err := json.Unmarshal(b, &v); err != nil {
@@ -179,7 +179,7 @@ func jsonAt(t *testing.T, b []byte, path string) any {
 // transfer command's document of the file with that value written in;
 // and the −3 dB frequency is 1/(2πRC) (common practice).
 func TestTuneJSONMatchesTransfer(t *testing.T) {
-	tfWord := commandWord(t, tfCmd{})
+	tfWord := commandWordOf(t, tfCmd{})
 	r := runNodal(t, "", "tune", tuneFile, "--print", "?R=6.8k")
 	if r.code != 0 {
 		t.Fatalf("tune --print: exit %d: %s", r.code, r.stderr)
@@ -188,11 +188,11 @@ func TestTuneJSONMatchesTransfer(t *testing.T) {
 	if ref.code != 0 {
 		t.Fatalf("%s: exit %d: %s", tfWord, ref.code, ref.stderr)
 	}
-	got, want := jsonAt(t, []byte(r.stdout), "transfer"), jsonAt(t, []byte(ref.stdout), "")
+	got, want := tuneJSONAt(t, []byte(r.stdout), "transfer"), tuneJSONAt(t, []byte(ref.stdout), "")
 	if !reflect.DeepEqual(got, want) {
 		t.Errorf("tune's transfer document differs from %s --set R=6.8k:\n%v\n%v", tfWord, got, want)
 	}
-	f3 := jsonAt(t, []byte(r.stdout), "transfer.f3db_hz").([]any)
+	f3 := tuneJSONAt(t, []byte(r.stdout), "transfer.f3db_hz").([]any)
 	if want := rcF3dBHz(6.8e3, 10e-9); len(f3) != 1 || math.Abs(f3[0].(float64)-want) > 1e-9*want {
 		t.Errorf("f3db_hz = %v, want [%g] = 1/(2πRC)", f3, want)
 	}
@@ -212,15 +212,15 @@ func TestTuneJSONMatchesTransfer(t *testing.T) {
 	if code != 200 {
 		t.Fatalf("analyse: %d %s", code, body)
 	}
-	if got, want := jsonAt(t, body, "transfer"), jsonAt(t, []byte(ref2.stdout), ""); !reflect.DeepEqual(got, want) {
+	if got, want := tuneJSONAt(t, body, "transfer"), tuneJSONAt(t, []byte(ref2.stdout), ""); !reflect.DeepEqual(got, want) {
 		t.Errorf("tune's transfer document for R1=4k7 differs from %s of the file with 4.7k:\n%v\n%v", tfWord, got, want)
 	}
 	// the endpoint and --print give the same document
 	_, body = s.get(t, "/api/analyse?R=6.8k")
-	if got, want := jsonAt(t, body, ""), jsonAt(t, []byte(r.stdout), ""); !reflect.DeepEqual(got, want) {
+	if got, want := tuneJSONAt(t, body, ""), tuneJSONAt(t, []byte(r.stdout), ""); !reflect.DeepEqual(got, want) {
 		t.Error("GET /api/analyse?R=6.8k differs from --print ?R=6.8k")
 	}
-	if q := jsonAt(t, body, "query"); q != "R=6.8k" {
+	if q := tuneJSONAt(t, body, "query"); q != "R=6.8k" {
 		t.Errorf("query = %v, want R=6.8k", q)
 	}
 }
@@ -239,7 +239,7 @@ func TestTuneVerdictsAndStability(t *testing.T) {
 		if r.code != 0 {
 			t.Fatalf("%s: exit %d: %s", c.query, r.code, r.stderr)
 		}
-		reqs := jsonAt(t, []byte(r.stdout), "requirements").([]any)
+		reqs := tuneJSONAt(t, []byte(r.stdout), "requirements").([]any)
 		v := reqs[0].(map[string]any)
 		if v["pass"] != c.pass || v["line"] != 12.0 {
 			t.Errorf("%s: verdict %v", c.query, v)
@@ -251,7 +251,7 @@ func TestTuneVerdictsAndStability(t *testing.T) {
 		if r.code != 0 {
 			t.Fatalf("K=%g: exit %d: %s", k, r.code, r.stderr)
 		}
-		st := jsonAt(t, []byte(r.stdout), "stability").(map[string]any)
+		st := tuneJSONAt(t, []byte(r.stdout), "stability").(map[string]any)
 		if st["stable"] != (k < 3) {
 			t.Errorf("K=%g: stability %v", k, st)
 		}
@@ -289,7 +289,7 @@ func TestTuneBadValues(t *testing.T) {
 		{"%40out=nowhere", "no such response"},
 	} {
 		code, body := s.get(t, "/api/analyse?"+c.query)
-		msg, _ := jsonAt(t, body, "error").(string)
+		msg, _ := tuneJSONAt(t, body, "error").(string)
 		if code != 400 || !strings.Contains(msg, c.want) {
 			t.Errorf("%s: %d %s, want 400 with %q", c.query, code, body, c.want)
 		}
@@ -298,11 +298,11 @@ func TestTuneBadValues(t *testing.T) {
 	if code != 200 {
 		t.Fatalf("after bad requests: %d %s", code, body)
 	}
-	if m, _ := jsonAt(t, body, "error").(string); m != "" {
+	if m, _ := tuneJSONAt(t, body, "error").(string); m != "" {
 		t.Errorf("error %q", m)
 	}
 	code, body = s.get(t, "/api/analyse?%40out=in")
-	if code != 200 || jsonAt(t, body, "response") != "in" {
+	if code != 200 || tuneJSONAt(t, body, "response") != "in" {
 		t.Errorf("@out=in: %d %s", code, body)
 	}
 	r := runNodal(t, "", "tune", tuneFile, "--print", "?R=4.7q")
@@ -354,11 +354,11 @@ func TestTuneSaveMatchesSnap(t *testing.T) {
 	if code != 200 {
 		t.Fatalf("plan: %d %s", code, body)
 	}
-	diff := jsonAt(t, body, "diff").([]any)
+	diff := tuneJSONAt(t, body, "diff").([]any)
 	if len(diff) != 2 {
 		t.Errorf("diff %v, want the two let lines", diff)
 	}
-	digest := jsonAt(t, body, "digest").(string)
+	digest := tuneJSONAt(t, body, "digest").(string)
 	req, _ := json.Marshal(map[string]string{"query": strings.Join(q, "&"), "digest": digest})
 	if code, body := s.post(t, "/api/save", string(req)); code != 200 {
 		t.Fatalf("save: %d %s", code, body)
