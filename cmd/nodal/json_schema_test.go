@@ -43,6 +43,7 @@ var schemaCases = []struct {
 	{"verify_responses", []string{"verify", "../../testdata/examples/speaker_crossover.nodal", "--runs", "20", "--format", "json"}},
 	{"sweep_responses", []string{"sweep", "../../testdata/examples/speaker_crossover.nodal", "--out", "woofer", "--out", "woofer+tweeter", "--at", "1k", "--format", "json"}},
 	{"loop", []string{"loop", "../../testdata/examples/photodiode_frontend.nodal", "--at", "U1", "--format", "json"}},
+	{"tune", []string{"tune", "testdata/tune_logger_rc.nodal", "--print", "?R=6.8k"}},
 }
 
 // keyPaths adds the key paths of v under prefix to set.

@@ -172,3 +172,26 @@ func TestReportNamedResponses(t *testing.T) {
 		t.Errorf("report --out tweeter: exit %d\n%s", r.code, r.stdout)
 	}
 }
+
+// tune offers the named responses and judges a requirement on its own
+// response whichever one is shown: woofer.f3db is fc·√(√2 − 1) with the
+// tweeter on screen.
+func TestTuneNamedResponses(t *testing.T) {
+	r := runNodal(t, "", "tune", crossoverFile, "--print", "@out=tweeter")
+	if r.code != 0 {
+		t.Fatalf("exit %d: %s", r.code, r.stderr)
+	}
+	var doc struct {
+		Requirements []struct {
+			Requirement string   `json:"requirement"`
+			Value       *float64 `json:"value"`
+		} `json:"requirements"`
+	}
+	if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil || len(doc.Requirements) == 0 {
+		t.Fatalf("%v\n%s", err, r.stdout)
+	}
+	want := 2500 * math.Sqrt(math.Sqrt2-1)
+	if v := doc.Requirements[0].Value; v == nil || math.Abs(*v-want) > 1e-6*want {
+		t.Errorf("%s with the tweeter shown: %v, want %g", doc.Requirements[0].Requirement, v, want)
+	}
+}

@@ -29,6 +29,20 @@ type requireProbe struct {
 	Ref string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 }
 
+// outNode returns --out, or the default output: the file's first
+// response, then the node named out.
+func (p *requireProbe) outNode(l *loaded) (string, error) {
+	switch {
+	case p.Out != "":
+		return p.Out, nil
+	case len(l.circuit.Responses) > 0:
+		return l.circuit.Responses[0].Name, nil
+	case l.circuit.HasNode("out"):
+		return "out", nil
+	}
+	return "", fmt.Errorf("%s has no node named out: say where the requirements are measured with --out NODE or a response statement (nodes: %s)", l.name, strings.Join(l.circuit.Nodes[1:], ", "))
+}
+
 // probes returns the probe of every requirement of the circuit and the
 // name of the response each is taken on (the output label for a node).
 func (p *requireProbe) probes(l *loaded) ([]mna.Probe, []string, error) {
