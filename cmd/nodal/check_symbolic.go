@@ -225,9 +225,12 @@ func symbolLookup(c *netlist.Circuit) derivation.Lookup {
 	}
 }
 
-// checkVerdict is the final verdict: the symbolic one when it was
-// possible, else the numeric one.
+// checkVerdict is the final verdict: the band's response comparison with
+// --band, else the symbolic one when it was possible, else the numeric one.
 func checkVerdict(res *check.CheckResult, sc symbolicCheck) bool {
+	if res.Options.BandOnly {
+		return res.Agrees
+	}
 	if sc.Done {
 		return sc.Identical
 	}

@@ -3,6 +3,7 @@ package syntax
 import (
 	"fmt"
 	"math"
+	"math/big"
 	"strconv"
 	"strings"
 	"unicode/utf8"
@@ -28,6 +29,28 @@ type Number struct {
 	Unit     string
 	Mantissa string
 	Exp10    int
+}
+
+// Rat is the exact value Mantissa × 10^Exp10 (a new value the caller may
+// change), nil when Mantissa is not a decimal.
+func (n Number) Rat() *big.Rat {
+	if n.Value == 0 {
+		// Also 0e999999999, whose exponent big.Rat would expand.
+		return new(big.Rat)
+	}
+	r, ok := new(big.Rat).SetString(n.Mantissa)
+	if !ok {
+		return nil
+	}
+	e := n.Exp10
+	if e < 0 {
+		e = -e
+	}
+	p := new(big.Rat).SetInt(new(big.Int).Exp(big.NewInt(10), big.NewInt(int64(e)), nil))
+	if n.Exp10 < 0 {
+		return r.Quo(r, p)
+	}
+	return r.Mul(r, p)
 }
 
 // codeLetters are the multiplier letters of IEC 60062 value codes, written
