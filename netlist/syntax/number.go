@@ -133,6 +133,10 @@ func ParseNumber(text string) (Number, error) {
 	if r == 'K' && (len(rest) == 1 || unitSymbols[rest[1:]] != "") {
 		return Number{}, fmt.Errorf("%q: unknown prefix \"K\" (kilo is a lower-case k)", text)
 	}
+	if len(rest) >= 3 && strings.EqualFold(rest[:3], "meg") {
+		// Some tools spell mega "Meg"; here m is milli and mega is M.
+		return Number{}, fmt.Errorf("%q: %q is not a prefix: mega is M (%sM%s), and m is milli", text, rest[:3], num, rest[3:])
+	}
 	return Number{}, fmt.Errorf("%q: unknown unit or prefix %q", text, rest)
 }
 
