@@ -54,6 +54,9 @@ func (c *driveCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
+	for _, w := range sig.Warnings {
+		fmt.Fprintln(e.stderr, w.Error())
+	}
 	sys, err := c.system(l)
 	if err != nil {
 		return err
