@@ -1,0 +1,42 @@
+package main
+
+import (
+	"strings"
+	"testing"
+)
+
+// TestTransimpedanceFigures: the figures of a transimpedance (the
+// photodiode stage, V/A) are values in V/A with dB levels re 1 V/A, never
+// a "gain" in plain dB; a voltage ratio keeps "DC gain" in dB.
+func TestTransimpedanceFigures(t *testing.T) {
+	r := runNodal(t, "", "transfer", "../../testdata/reference/circuits/photodiode_hybrid_pi.nodal", "--in", "Iph", "--out", "out")
+	if r.code != 0 {
+		t.Fatalf("exit %d %s", r.code, r.stderr)
+	}
+	for _, want := range []string{"DC value", "-100000 V/A (100.000 dB re 1 V/A)", "(reference 100.000 dB re 1 V/A)", "-20 dB/decade"} {
+		if !strings.Contains(r.stdout, want) {
+			t.Errorf("no %q in\n%s", want, r.stdout)
+		}
+	}
+	if strings.Contains(r.stdout, "DC gain") || strings.Contains(r.stdout, "100.000 dB)") {
+		t.Errorf("a plain-dB gain for a V/A response:\n%s", r.stdout)
+	}
+	v := runNodal(t, "", "transfer", rcFile, "--out", "out")
+	if !strings.Contains(v.stdout, "DC gain") || strings.Contains(v.stdout, "dB re") {
+		t.Errorf("V/V response relabelled:\n%s", v.stdout)
+	}
+}
+
+// TestDBReference: the reference a dB level of each kind of response
+// states (IEC 60027-3 style, common practice).
+func TestDBReference(t *testing.T) {
+	for unit, want := range map[string]string{"V/V": "dB", "A/A": "dB", "Ω": "dBΩ", "V/A": "dB re 1 V/A", "A/V": "dB re 1 A/V"} {
+		if got := dbReference(unit); got != want {
+			t.Errorf("%s: %q, want %q", unit, got, want)
+		}
+	}
+	rows := relabelForUnit([][2]string{{"peak gain", "no peaking (within 0.01 dB of the reference)"}, {"DC gain", "10000 (80.000 dB)"}}, "Ω")
+	if rows[0] != [2]string{"peak value", "no peaking (within 0.01 dB of the reference)"} || rows[1] != [2]string{"DC value", "10000 Ω (80.000 dBΩ)"} {
+		t.Errorf("%q", rows)
+	}
+}
