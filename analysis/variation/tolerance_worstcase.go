@@ -2,8 +2,10 @@ package variation
 
 import (
 	"context"
+	"errors"
 	"fmt"
 
+	"nodal/analysis/stability"
 	"nodal/netlist"
 )
 
@@ -51,6 +53,7 @@ type WorstCaseResult struct {
 	Exhaustive bool
 	Corners    int
 	Failed     int
+	Unstable   int // of the Failed corners, those whose circuit was not stable (stability.ErrUnstable)
 	Metrics    []WorstCaseMetric
 }
 
@@ -118,6 +121,9 @@ func WorstCase(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt WorstC
 				firstErr = errs[n]
 			}
 			res.Failed++
+			if errors.Is(errs[n], stability.ErrUnstable) {
+				res.Unstable++
+			}
 			continue
 		}
 		for j := range m {

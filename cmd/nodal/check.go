@@ -5,10 +5,8 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"strings"
 
 	"nodal/cmd/nodal/notation"
-	"nodal/netlist/syntax"
 
 	"nodal/analysis/check"
 	"nodal/analysis/derivation"
@@ -77,7 +75,7 @@ func (c *checkCmd) Run(e *env) error {
 	var band [2]float64
 	if c.Band != "" {
 		var err error
-		if band, err = parseBand("--band", c.Band); err != nil {
+		if band[0], band[1], err = parseBand(c.Band); err != nil {
 			return err
 		}
 	}
@@ -272,26 +270,6 @@ func allowanceText(allow, tol float64, digits int, unit string) string {
 		return ""
 	}
 	return fmt.Sprintf("; allowed %s%s: %s%s for the digits written + %s%s", fixed(allow+tol, digits), unit, fixed(allow, digits), unit, fixed(tol, digits), unit)
-}
-
-// parseBand reads F1..F2 (Hz) for a flag.
-func parseBand(flag, text string) ([2]float64, error) {
-	lo, hi, ok := strings.Cut(text, "..")
-	if !ok {
-		return [2]float64{}, fmt.Errorf("%s %q: write the band as F1..F2, e.g. 20Hz..20kHz", flag, text)
-	}
-	f1, err := syntax.ParseFlag(flag, strings.TrimSpace(lo), "Hz")
-	if err != nil {
-		return [2]float64{}, err
-	}
-	f2, err := syntax.ParseFlag(flag, strings.TrimSpace(hi), "Hz")
-	if err != nil {
-		return [2]float64{}, err
-	}
-	if !(f1 > 0) || !(f2 > f1) || f2 > maxFrequencyHz {
-		return [2]float64{}, fmt.Errorf("%s %q: the band needs 0 < F1 < F2 ≤ %s", flag, text, notation.Eng(maxFrequencyHz, "Hz"))
-	}
-	return [2]float64{f1, f2}, nil
 }
 
 // withIdealOpAmps returns l with every op-amp of its circuit ideal (a0,

@@ -62,7 +62,10 @@ func TestVerifyJSON(t *testing.T) {
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatal(err)
 	}
-	r := rep.Requirements[0]
+	if s := rep.Requirements[0]; s.Requirement != "stable (implicit)" || !s.NominalPass || !s.WorstPass || rep.Stability != "stable" {
+		t.Errorf("implicit stable requirement %+v, stability %q", s, rep.Stability)
+	}
+	r := rep.Requirements[1]
 	if !r.NominalPass || r.WorstPass || rep.PassWorst || !rep.PassNominal || rep.Corners != 4 {
 		t.Errorf("verdicts %+v", rep)
 	}
