@@ -21,6 +21,10 @@ func TestTransimpedanceFigures(t *testing.T) {
 	if strings.Contains(r.stdout, "DC gain") || strings.Contains(r.stdout, "100.000 dB)") {
 		t.Errorf("a plain-dB gain for a V/A response:\n%s", r.stdout)
 	}
+	sw := runNodal(t, "", "sweep", "../../testdata/reference/circuits/photodiode_hybrid_pi.nodal", "--in", "Iph", "--out", "out", "--at", "1k")
+	if sw.code != 0 || !strings.Contains(sw.stdout, "H = out / Iph  [V/A: mag in V/A, mag_db in dB re 1 V/A]") {
+		t.Errorf("sweep of a V/A response: exit %d\n%s", sw.code, sw.stdout)
+	}
 	v := runNodal(t, "", "transfer", rcFile, "--out", "out")
 	if !strings.Contains(v.stdout, "DC gain") || strings.Contains(v.stdout, "dB re") {
 		t.Errorf("V/V response relabelled:\n%s", v.stdout)
