@@ -44,3 +44,18 @@ func TestDBReference(t *testing.T) {
 		t.Errorf("%q", rows)
 	}
 }
+
+// TestVerifyTransimpedanceLevels: a dB requirement on a V/A response is
+// shown in dB re 1 V/A (the photodiode TIA example, 100 kΩ feedback:
+// 100 dB re 1 V/A), in text and in the JSON unit.
+func TestVerifyTransimpedanceLevels(t *testing.T) {
+	const file = "../../testdata/examples/photodiode_tia.nodal"
+	r := runNodal(t, "", "verify", file, "--out", "out", "--runs", "20")
+	if r.code != 0 || !strings.Contains(r.stdout, "100.00 dB re 1 V/A") {
+		t.Errorf("exit %d\n%s%s", r.code, r.stdout, r.stderr)
+	}
+	j := runNodal(t, "", "verify", file, "--out", "out", "--runs", "20", "--format", "json")
+	if !strings.Contains(j.stdout, `"unit": "dB re 1 V/A"`) {
+		t.Errorf("json:\n%s", j.stdout)
+	}
+}
