@@ -45,8 +45,8 @@ func TestDBReference(t *testing.T) {
 	}
 }
 
-// TestVerifyTransimpedanceLevels: a dB requirement on a V/A response is
-// shown in dB re 1 V/A (the photodiode TIA example, 100 kΩ feedback:
+// TestVerifyTransimpedanceLevels: a dB requirement or tolerance metric on
+// a V/A response is shown in dB re 1 V/A (the photodiode TIA example, 100 kΩ feedback:
 // 100 dB re 1 V/A), in text and in the JSON unit.
 func TestVerifyTransimpedanceLevels(t *testing.T) {
 	const file = "../../testdata/examples/photodiode_tia.nodal"
@@ -57,5 +57,9 @@ func TestVerifyTransimpedanceLevels(t *testing.T) {
 	j := runNodal(t, "", "verify", file, "--out", "out", "--runs", "20", "--format", "json")
 	if !strings.Contains(j.stdout, `"unit": "dB re 1 V/A"`) {
 		t.Errorf("json:\n%s", j.stdout)
+	}
+	tol := runNodal(t, "", "tolerance", file, "--out", "out", "--metric", "dc", "--runs", "20", "--worst-case")
+	if tol.code != 0 || !strings.Contains(tol.stdout, "dc (dB re 1 V/A)") || strings.Contains(tol.stdout, "dc (dB)") {
+		t.Errorf("tolerance: exit %d\n%s%s", tol.code, tol.stdout, tol.stderr)
 	}
 }
