@@ -6,23 +6,25 @@ import (
 	"io"
 	"math"
 
-	"nodal/cmd/nodal/notation"
-
 	"nodal/analysis/check"
 	"nodal/analysis/derivation"
+	"nodal/cmd/nodal/notation"
 	"nodal/netlist"
+	"nodal/netlist/syntax"
 )
 
 // checkCmd compares a hand derivation with the circuit.
 type checkCmd struct {
 	circuitArgs
 	probeArgs
-	ODE    string `name:"ode" help:"Your differential equation, e.g. \"R1*C1*y' + y = u\"." placeholder:"EQUATION" xor:"derivation" expression:""`
-	TF     string `name:"tf" help:"Your transfer function in s, e.g. \"1/(1 + s*R1*C1)\"." placeholder:"EXPRESSION" xor:"derivation" expression:""`
-	Band   string `help:"Judge the responses only over this band, e.g. 20Hz..20kHz; the verdict is then the response comparison there." placeholder:"F1..F2"`
-	Ideal  bool   `help:"Evaluate the circuit with every op-amp ideal (no a0, gbw or rout) for the comparison."`
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
-	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
+	ODE      string `name:"ode" help:"Your differential equation, e.g. \"R1*C1*y' + y = u\"." placeholder:"EQUATION" xor:"derivation" expression:""`
+	TF       string `name:"tf" help:"Your transfer function in s, e.g. \"1/(1 + s*R1*C1)\"." placeholder:"EXPRESSION" xor:"derivation" expression:""`
+	Band     string `help:"Judge the responses only over this band, e.g. 20Hz..20kHz; the verdict is then the response comparison there." placeholder:"F1..F2"`
+	Ideal    bool   `help:"Evaluate the circuit with every op-amp ideal (no a0, gbw or rout) for the comparison."`
+	MagTol   string `name:"mag-tol" help:"Largest magnitude difference that agrees, in dB (default 0.01dB)." placeholder:"DB"`
+	PhaseTol string `name:"phase-tol" help:"Largest phase difference that agrees, in degrees (default 0.1deg)." placeholder:"DEG"`
+	Format   string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Output   string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
 // Help is the extended help with a worked example.
@@ -55,6 +57,7 @@ or prefix (1, 2, 1500000000) is exact, and so are part names.
 --band F1..F2 compares the responses only in that band (a derivation with
 an ideal op-amp against a circuit with a 10 MHz one, in the audio band);
 --ideal makes every op-amp of the circuit ideal for the comparison.
+--mag-tol and --phase-tol set what agrees (defaults 0.01 dB and 0.1°).
 
 Examples:
 
@@ -73,11 +76,25 @@ func (c *checkCmd) Run(e *env) error {
 		return errors.New("give your derivation with --ode \"EQUATION\" or --tf \"EXPRESSION\"")
 	}
 	var band [2]float64
+	var err error
 	if c.Band != "" {
-		var err error
 		if band[0], band[1], err = parseBand(c.Band); err != nil {
 			return err
 		}
+	}
+	var magTol, phaseTol float64
+	if c.MagTol != "" {
+		if magTol, err = syntax.ParseFlag("--mag-tol", c.MagTol, "dB"); err != nil {
+			return err
+		}
+	}
+	if c.PhaseTol != "" {
+		if phaseTol, err = syntax.ParseFlag("--phase-tol", c.PhaseTol, "deg"); err != nil {
+			return err
+		}
+	}
+	if magTol < 0 || phaseTol < 0 || math.IsInf(magTol, 0) || math.IsInf(phaseTol, 0) {
+		return errors.New("--mag-tol and --phase-tol must be positive and finite")
 	}
 	l, err := c.load(e)
 	if err != nil {
@@ -101,7 +118,8 @@ func (c *checkCmd) Run(e *env) error {
 	}
 	tn, td := yours.Precision(lookup)
 	res, err := check.Compare(r.tf, num, den, check.CompareOptions{Values: circuitValues(l.circuit),
-		YoursNumTol: tn, YoursDenTol: td, FromHz: band[0], ToHz: band[1], BandOnly: c.Band != ""})
+		YoursNumTol: tn, YoursDenTol: td, FromHz: band[0], ToHz: band[1], BandOnly: c.Band != "",
+		MagTolDB: magTol, PhaseTolDeg: phaseTol})
 	if err != nil {
 		return err
 	}

@@ -26,6 +26,8 @@ func TestCheckBandAndIdeal(t *testing.T) {
 		{[]string{"--ideal"}, 0, []string{"symbolic comparison: identical", "verdict: agrees"}},
 		{[]string{"--band", "10Hz..300Hz"}, 0, []string{"judged on the responses over 10 Hz to 300 Hz", "verdict: agrees"}},
 		{[]string{"--band", "10Hz..20kHz"}, 1, []string{"verdict: differs"}},
+		// 3.4° at 20 kHz is within a phase tolerance of 5°.
+		{[]string{"--band", "10Hz..20kHz", "--phase-tol", "5deg"}, 0, []string{"verdict: agrees"}},
 	}
 	for _, tt := range tests {
 		r := runNodal(t, "", append([]string{"check", file, "--out", "out", "--tf", toneIdealTF}, tt.flags...)...)
@@ -40,6 +42,10 @@ func TestCheckBandAndIdeal(t *testing.T) {
 		if strings.Contains(r.stdout, "equal part values hide") {
 			t.Errorf("%v: the band verdict is called a hidden slip\n%s", tt.flags, r.stdout)
 		}
+	}
+	r := runNodal(t, "", "check", file, "--out", "out", "--tf", toneIdealTF, "--mag-tol", "5Hz")
+	if r.code != 2 || !strings.Contains(r.stderr, "--mag-tol:1:1:") {
+		t.Errorf("--mag-tol 5Hz: exit %d %s", r.code, r.stderr)
 	}
 	for _, bad := range []string{"20Hz", "2k..1k", "0..1k"} {
 		r := runNodal(t, "", "check", file, "--out", "out", "--tf", toneIdealTF, "--band", bad)
