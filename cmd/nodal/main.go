@@ -51,6 +51,7 @@ type cli struct {
 	Verify    verifyCmd    `cmd:"" help:"Check the file's require statements at nominal, worst case and as yield."`
 	Snap      snapCmd      `cmd:"" help:"Round R and C values to an IEC 60063 E-series and show what moves."`
 	Report    reportCmd    `cmd:"" help:"Write a self-contained HTML report (the built-in demo when no FILE)."`
+	Tune      tuneCmd      `cmd:"" help:"Serve a local page of sliders for the file's values, with its responses and verdicts following them."`
 }
 
 // env is what every command may touch: the streams, the context and the
