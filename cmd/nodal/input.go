@@ -33,7 +33,7 @@ type circuitArgs struct {
 // probeArgs choose the input source and the observed output.
 type probeArgs struct {
 	In  string `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
-	Out string `help:"Output: a response named in the file, a node, or i(PART) for the current through a part (default: the file's first response, then the node named out)." placeholder:"NAME"`
+	Out string `help:"Output: a response named in the file, a node (NODE or v(NODE)), or i(PART) for the current through a part (default: the file's first response, then the node named out)." placeholder:"NAME"`
 	Ref string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 }
 
@@ -131,12 +131,20 @@ func parseOverrides(sets []string) (netlist.Overrides, error) {
 	return ov, nil
 }
 
-// outputFor parses one --out value that is not a response name: "i(PART)"
-// observes a part's current, anything else a node voltage against ref.
+// outputFor parses one --out value that is not a response name: NODE,
+// v(NODE) or v(NODE, REF) (the form nodal prints; its REF replaces --ref),
+// or i(PART).
 func outputFor(out, ref string) mna.Output {
 	s := strings.TrimSpace(out)
 	if strings.HasPrefix(s, "i(") && strings.HasSuffix(s, ")") {
 		return mna.Output{Kind: mna.PartCurrent, Part: strings.TrimSpace(s[2 : len(s)-1])}
+	}
+	if strings.HasPrefix(s, "v(") && strings.HasSuffix(s, ")") {
+		node, r, two := strings.Cut(s[2:len(s)-1], ",")
+		if two {
+			ref = strings.TrimSpace(r)
+		}
+		return mna.Output{Kind: mna.NodeVoltage, Node: strings.TrimSpace(node), Ref: ref}
 	}
 	return mna.Output{Kind: mna.NodeVoltage, Node: s, Ref: ref}
 }

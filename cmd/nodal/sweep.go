@@ -258,7 +258,8 @@ func (c *sweepCmd) Run(e *env) error {
 		if len(resps) > 1 {
 			return responsesTable(w, resps)
 		}
-		return responseTable(w, resps[0])
+		_, unit := tfProbe{}.describe(ls[0].circuit, traces[0].systems[0].Input, traces[0].systems[0].Output)
+		return responseTable(w, resps[0], unit)
 	})
 }
 
@@ -311,9 +312,14 @@ func responseCSV(w io.Writer, resps []*response.Response) error {
 	return cw.Error()
 }
 
-// responseTable prints one response as a terminal table.
-func responseTable(w io.Writer, r *response.Response) error {
-	fmt.Fprintf(w, "H = %s / %s\n", r.Output, r.Input)
+// responseTable prints one response as a terminal table; unit is H's
+// unit, named with the dB reference when H is not dimensionless.
+func responseTable(w io.Writer, r *response.Response, unit string) error {
+	fmt.Fprintf(w, "H = %s / %s", r.Output, r.Input)
+	if !dimensionless(unit) {
+		fmt.Fprintf(w, "  [%s: mag in %s, mag_db in %s]", unit, unit, dbReference(unit))
+	}
+	fmt.Fprintln(w)
 	t := newTable(w, "freq_hz", "mag", "mag_db", "phase_deg", "group_delay_s")
 	for i := range r.FreqHz {
 		if err := t.row(num(r.FreqHz[i]), num(r.Mag[i]), fixed(r.MagDB[i], 4), fixed(r.PhaseDeg[i], 3), num(r.GroupDelayS[i])); err != nil {

@@ -233,7 +233,11 @@ func (c *verifyCmd) Run(e *env) error {
 	}
 	unstableNoted := false
 	for i, d := range res.Verdicts {
+		_, respUnit := tfProbe{}.describe(l.circuit, probes[i].Ex, probes[i].Ob)
 		unit, _ := netlist.MetricUnit(metricBase(d.Requirement.Metric))
+		if unit == netlist.UnitDecibel && responseLevel(metricBase(d.Requirement.Metric)) {
+			unit = dbReference(respUnit) // dB re 1 V/A for a transimpedance
+		}
 		rep.Requirements = append(rep.Requirements, verdictJSON{
 			Requirement: d.Requirement.Text, Response: names[i], Line: d.Requirement.Pos.Line, Unit: unit,
 			Nominal: finiteOrNil(d.Nominal), NominalPass: d.NominalPass,
@@ -298,6 +302,17 @@ func metricBase(metric string) string {
 	return name
 }
 
+// responseLevel reports whether a metric in dB is a level of the
+// response itself (its dB is re 1 of the response's unit), unlike a loop
+// gain's margin.
+func responseLevel(metric string) bool {
+	switch metric {
+	case "gain", "peak", "dc":
+		return true
+	}
+	return false
+}
+
 // metricText formats a metric value in its unit.
 func metricText(v float64, unit string) string {
 	switch {
@@ -305,8 +320,8 @@ func metricText(v float64, unit string) string {
 		return "-"
 	case math.IsInf(v, 0):
 		return num(v) + " " + unit
-	case unit == netlist.UnitDecibel:
-		return fixed(v, 2) + " dB"
+	case unit == netlist.UnitDecibel || strings.HasPrefix(unit, "dB"):
+		return fixed(v, 2) + " " + unit
 	case unit == netlist.UnitDegree:
 		return fixed(v, 1) + "°"
 	case unit == "":

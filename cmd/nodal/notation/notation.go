@@ -137,6 +137,30 @@ func Exp(v float64) (string, bool) {
 	return m + "e" + strconv.Itoa(3*e), true
 }
 
+// Written is v as Exp writes it (4 significant digits, exponent a
+// multiple of 3) but keeping trailing zeros ("382.0", "1.000e-3") unless
+// the shorter text is exactly v, so that the digits shown are the
+// precision: a coefficient pasted back into nodal check is read to half a
+// unit in its last digit, and "1" or "382" stands only for the exact
+// value. ok is false for zero and non-finite values, as for Exp.
+func Written(v float64) (string, bool) {
+	t, ok := Exp(v)
+	if !ok {
+		return t, false
+	}
+	if back, err := strconv.ParseFloat(t, 64); err == nil && back == v {
+		return t, true
+	}
+	m, e := scaled(v, 4)
+	x, _ := strconv.ParseFloat(m, 64)
+	intDigits := len(strconv.Itoa(int(math.Abs(x))))
+	m = strconv.FormatFloat(v/math.Pow(1000, float64(e)), 'f', max(4-intDigits, 0), 64)
+	if e == 0 {
+		return m, true
+	}
+	return m + "e" + strconv.Itoa(3*e), true
+}
+
 // Superscript writes k with Unicode superscript digits ("²", "¹⁰", "⁻¹").
 func Superscript(k int) string {
 	const sup = "⁰¹²³⁴⁵⁶⁷⁸⁹"
