@@ -48,6 +48,9 @@ func (c *equationsCmd) Run(e *env) error {
 		// Print the equations anyway: they show why the system is singular.
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
 	}
+	if n := sys.Size(); n > maxDenseEquations {
+		return fmt.Errorf("equations: %d unknowns is more than the %d that are written as dense n×n matrices (G and C are held sparse; a sweep handles this size)", n, maxDenseEquations)
+	}
 	werr := writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
 		if c.Format == "json" {
 			return writeJSON(w, equationsJSON(sys))
@@ -59,6 +62,10 @@ func (c *equationsCmd) Run(e *env) error {
 	}
 	return err
 }
+
+// maxDenseEquations is the most unknowns `equations` writes: its table
+// and JSON are dense n×n (2,000 unknowns is about 100 MB of JSON).
+const maxDenseEquations = 2000
 
 // equationsJSON is the JSON document of `nodal equations`.
 func equationsJSON(sys *mna.System) any {

@@ -88,15 +88,20 @@ func (c *sweepCmd) Run(e *env) error {
 		}
 		systems = append(systems, sys)
 	}
-	// Each system's transfer function serves the default range and the
-	// plot's marks; extract it once.
+	// Each system's transfer function serves the plot's marks and, when
+	// no range is given, the default range: extract it only then, once.
 	tfs := make([]*transfer.TransferFunction, len(systems))
 	for i, sys := range systems {
-		if i == 0 || c.Plot != "" {
+		if c.Plot != "" {
 			tfs[i] = systemTF(sys)
 		}
 	}
-	freqs, err := c.frequencies(func() (float64, float64) { return rangeOf(l, tfs[0]) })
+	freqs, err := c.frequencies(func() (float64, float64) {
+		if tfs[0] == nil {
+			tfs[0] = systemTF(systems[0])
+		}
+		return rangeOf(l, tfs[0])
+	})
 	if err != nil {
 		return err
 	}
