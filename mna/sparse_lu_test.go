@@ -391,10 +391,10 @@ func BenchmarkEvalPathLadder(b *testing.B) {
 }
 
 // BenchmarkSweepLadder: a sweep of 1,000 log-spaced points (1 Hz–1 MHz)
-// on RC ladders of 1,000 and 10,000 unknowns, building included (stamps,
+// on RC ladders of 1,000 to 100,000 unknowns, building included (stamps,
 // ordering, first factorisation): one op is the whole sweep.
 func BenchmarkSweepLadder(b *testing.B) {
-	for _, k := range []int{1000, 10000} { // 100,000 needs more parts than netlist.MaxParts
+	for _, k := range []int{1000, 10000, 100000} {
 		ckt := rcLadder(b, k-2, 1e3, 1e-8) // k−2 sections: k unknowns with n0 and the source branch
 		b.Run(fmt.Sprintf("unknowns=%d", k), func(b *testing.B) {
 			b.ReportAllocs()
