@@ -21,6 +21,7 @@ var schemaCases = []struct {
 }{
 	{"parts", []string{"parts", rcFile, "--format", "json"}},
 	{"equations", []string{"equations", rcFile, "--format", "json"}},
+	{"equations_sparse", []string{"equations", rcFile, "--format", "sparse-json"}},
 	{"sweep", []string{"sweep", rcFile, "--out", "out", "--at", "1k,2k", "--format", "json"}},
 	{"tf", []string{"tf", "../../testdata/examples/logger_antialias.nodal", "--out", "out", "--format", "json"}},
 	{"tf_rc", []string{"tf", rcFile, "--out", "out", "--format", "json"}},
