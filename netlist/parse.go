@@ -40,6 +40,74 @@ func Parse(name string, src []byte) (*File, error) {
 		}
 		return f, ErrorList{f.diagAt(i, SevError, "file is not UTF-8 text (invalid byte sequence)", "")}
 	}
+	// Line by line: no token spans a newline, so each line is lexed and
+	// parsed on its own (positions shifted to the file's), keeping time
+	// and memory linear in the file. A lexer error (none is expected:
+	// every character has a rule) falls back to lexing the whole file,
+	// for its position.
+	var diags ErrorList
+	var flat []*Stmt
+	var line []lexer.Token
+	for start, lineNo := 0, 1; start <= len(src); lineNo++ {
+		end := bytes.IndexByte(src[start:], '\n')
+		if end < 0 {
+			end = len(src)
+		} else {
+			end += start
+		}
+		var err error
+		if line, err = lexLine(name, src[start:end], start, lineNo, line[:0]); err != nil {
+			return f.parseWhole(name, src)
+		}
+		if len(line) > 0 {
+			line = append(line, lexer.EOFToken(lexer.Position{Filename: name, Offset: end, Line: lineNo, Column: end - start + 1}))
+			st, d := f.parseLine(line)
+			if d != nil {
+				diags = append(diags, d)
+			} else {
+				flat = append(flat, st)
+			}
+		}
+		start = end + 1
+	}
+	f.Stmts, diags = f.nest(flat, diags)
+	diags.Sort()
+	return f, diags.Err()
+}
+
+// lexLine appends to buf the tokens of one line (without its newline)
+// that starts at byte offset start and is line lineNo of the file, or
+// returns buf empty when the line has no significant token.
+func lexLine(name string, text []byte, start, lineNo int, buf []lexer.Token) ([]lexer.Token, error) {
+	lx, err := lexDef.LexString(name, string(text))
+	if err != nil {
+		return nil, err
+	}
+	significant := false
+	for {
+		t, err := lx.Next()
+		if err != nil {
+			return nil, err
+		}
+		if t.EOF() {
+			break
+		}
+		t.Pos.Offset += start
+		t.Pos.Line = lineNo
+		buf = append(buf, t)
+		if t.Type != symSpace && t.Type != symComment {
+			significant = true
+		}
+	}
+	if !significant {
+		return buf[:0], nil
+	}
+	return buf, nil
+}
+
+// parseWhole is the former whole-file path: lex everything, then parse
+// line by line. Only reached on a lexer error, which it reports.
+func (f *File) parseWhole(name string, src []byte) (*File, error) {
 	toks, err := lexDef.LexString(name, string(src))
 	if err != nil {
 		return f, ErrorList{f.lexDiag(err)}
