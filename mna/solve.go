@@ -41,6 +41,7 @@ type luFactor struct {
 
 	pat []patEntry // the non-zeros of G and C, fixed when the factor is made
 	p   *pencil
+	o   *luOrder
 
 	lStart, uStart []int
 	lRow, uCol     []int
@@ -60,6 +61,7 @@ func newLUFactor(o *luOrder) *luFactor {
 	f := &luFactor{
 		n:      n,
 		p:      p,
+		o:      o,
 		perm:   o.perm,
 		a:      make([]complex128, n*n),
 		piv:    make([]int, n),
@@ -321,6 +323,10 @@ func (f *luFactor) solveTransposed(x []complex128) {
 	}
 }
 
+func (f *luFactor) clone() factorizer {
+	return newLUFactor(f.o)
+}
+
 // factorAt assembles and factors Y(s); a vanished pivot gives the index
 // of its unknown, else -1.
 func (f *luFactor) factorAt(s complex128) int {
@@ -339,6 +345,9 @@ type factorizer interface {
 	factorAt(s complex128) int
 	solve(x []complex128)
 	solveTransposed(x []complex128)
+	// clone returns a factorizer of the same order for another
+	// goroutine, with a copy of the held pivots and patterns if any.
+	clone() factorizer
 }
 
 // denseMaxUnknowns is the largest system factored on a dense working
@@ -478,6 +487,16 @@ func (w *Sweeper) Eval(s complex128) (h, dh complex128, err error) {
 	w.f.solve(w.z)
 	dh = -dotReal(sys.L, w.z)
 	return h, dh, nil
+}
+
+// Clone returns a Sweeper of the same System for another goroutine: it
+// shares the fill-reducing order and starts from a copy of w's pivots and
+// L/U patterns (the symbolic step of w's last full factorisation), so its
+// first Eval is already a refactorisation. w must not be in use during
+// Clone.
+func (w *Sweeper) Clone() *Sweeper {
+	n := w.sys.Size()
+	return &Sweeper{sys: w.sys, o: w.o, f: w.f.clone(), x: make([]complex128, n), z: make([]complex128, n)}
 }
 
 // X returns the solution vector of the last successful Eval (valid until

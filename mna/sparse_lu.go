@@ -78,6 +78,26 @@ func newSparseLU(o *luOrder) *sparseLU {
 	}
 }
 
+// clone copies the pivots and patterns (never shared: a re-pivot
+// rewrites them) and allocates fresh values.
+func (f *sparseLU) clone() factorizer {
+	g := newSparseLU(f.o)
+	if !f.havePattern {
+		return g
+	}
+	copy(g.prow, f.prow)
+	copy(g.pinv, f.pinv)
+	copy(g.diagRow, f.diagRow)
+	copy(g.lp, f.lp)
+	copy(g.up, f.up)
+	g.lIdx = append([]int(nil), f.lIdx...)
+	g.uIdx = append([]int(nil), f.uIdx...)
+	g.lVal = make([]complex128, len(f.lVal))
+	g.uVal = make([]complex128, len(f.uVal))
+	g.havePattern = true
+	return g
+}
+
 // assemble fills ax with R·(G + sC)·K, the row then column power-of-two
 // equilibration of the dense path (luFactor.assemble), in O(nnz).
 func (f *sparseLU) assemble(s complex128) {

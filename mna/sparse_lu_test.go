@@ -414,3 +414,28 @@ func BenchmarkSweepLadder(b *testing.B) {
 		})
 	}
 }
+
+// TestCloneSharesSymbolic: a clone starts from the original's pivots and
+// patterns (its first point is a refactorisation, not a full factor) and
+// gives bit-for-bit the original's answers.
+func TestCloneSharesSymbolic(t *testing.T) {
+	sys, err := Build(rcLadder(t, 50, 1e3, 1e-8), Input{}, Output{Kind: NodeVoltage, Node: "n50"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := NewSweeper(sys)
+	if _, _, err := w.Eval(complex(0, 10)); err != nil {
+		t.Fatal(err)
+	}
+	c := w.Clone()
+	for _, s := range []complex128{complex(0, 1e3), complex(0, 1e5), complex(-1e4, 3e4)} {
+		h1, d1, err1 := w.Eval(s)
+		h2, d2, err2 := c.Eval(s)
+		if err1 != nil || err2 != nil || h1 != h2 || d1 != d2 {
+			t.Errorf("s=%v: %v %v / %v %v (%v, %v)", s, h1, d1, h2, d2, err1, err2)
+		}
+	}
+	if f := c.f.(*sparseLU); f.refactors != 3 || f.repivots != 0 {
+		t.Errorf("clone: %d refactors, %d re-pivots; want its first points refactored", f.refactors, f.repivots)
+	}
+}
