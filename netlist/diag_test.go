@@ -156,7 +156,7 @@ func TestRefuseNonText(t *testing.T) {
 	}{
 		{"nul", []byte("R1: resistor (a, gnd) 1k\x00\n"), "not text (it contains a NUL byte)"},
 		{"utf8", []byte("R1: resistor (a, gnd) 1k \xff\xfe\n"), "not UTF-8 text"},
-		{"oversize", make([]byte, MaxSourceBytes+1), "limited to 16777216 bytes (16 MiB)"},
+		{"oversize", make([]byte, MaxSourceBytes+1), "limited to 67108864 bytes (64 MiB)"},
 	} {
 		_, err := Parse("bin", tc.src)
 		if err == nil || !strings.Contains(err.Error(), tc.want) {

@@ -13,8 +13,9 @@ import (
 	"nodal/netlist/syntax"
 )
 
-// MaxSourceBytes is the largest circuit file Parse accepts (16 MiB).
-const MaxSourceBytes = 16 << 20
+// MaxSourceBytes is the largest circuit file Parse accepts (64 MiB: room
+// for a circuit of MaxParts parts).
+const MaxSourceBytes = 64 << 20
 
 // Parse parses a circuit file. name is used in positions. On failure the
 // error is an ErrorList of positioned diagnostics (every syntax error, one
@@ -24,7 +25,7 @@ const MaxSourceBytes = 16 << 20
 func Parse(name string, src []byte) (*File, error) {
 	f := newFile(name, src)
 	if len(src) > MaxSourceBytes {
-		return f, ErrorList{{Pos: f.posAt(0), Msg: fmt.Sprintf("file is %d bytes; circuit files are limited to %d bytes (16 MiB)", len(src), MaxSourceBytes)}}
+		return f, ErrorList{{Pos: f.posAt(0), Msg: fmt.Sprintf("file is %d bytes; circuit files are limited to %d bytes (64 MiB)", len(src), MaxSourceBytes)}}
 	}
 	if i := bytes.IndexByte(src, 0); i >= 0 {
 		return f, ErrorList{f.diagAt(i, SevError, "file is not text (it contains a NUL byte)", "")}
