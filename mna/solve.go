@@ -436,10 +436,9 @@ func dotReal(l []float64, x []complex128) complex128 {
 // call, which fixes the factorisation's pattern). A Sweeper is not safe
 // for concurrent use; give each goroutine its own (they may share the
 // System, which Eval only reads); the fill-reducing order is computed
-// once per System and shared by all of them. Eval reads the values of G,
-// C, B and L at every call.
-//
-// The pattern of non-zeros of G and C is fixed when the Sweeper is made.
+// once per System and shared by all of them. Eval reads B and L at every
+// call; G and C (a Sparse is never changed in place) are taken when the
+// Sweeper is made: a System given new matrices needs a new Sweeper.
 type Sweeper struct {
 	sys  *System
 	o    *luOrder
