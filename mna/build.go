@@ -4,8 +4,6 @@ import (
 	"fmt"
 	"math"
 
-	"gonum.org/v1/gonum/mat"
-
 	"nodal/netlist"
 )
 
@@ -83,7 +81,7 @@ type builder struct {
 	branches map[string]int
 	unknowns []string
 	n        int
-	g, cap   []float64 // row-major n×n
+	g, cap   []triplet // the stamps, summed into Sparse matrices at the end
 	edges    []edge
 	controls map[string]control
 }
@@ -113,8 +111,6 @@ func newBuilder(c *netlist.Circuit) (*builder, error) {
 		}
 	}
 	b.n = len(b.unknowns)
-	b.g = make([]float64, b.n*b.n)
-	b.cap = make([]float64, b.n*b.n)
 	return b, nil
 }
 
@@ -161,8 +157,9 @@ func (b *builder) checkControl(p *netlist.Part) error {
 func (b *builder) matrices() *Matrices {
 	return &Matrices{
 		Unknowns: b.unknowns,
-		G:        mat.NewDense(max(b.n, 1), max(b.n, 1), padded(b.g, b.n)),
-		C:        mat.NewDense(max(b.n, 1), max(b.n, 1), padded(b.cap, b.n)),
+		G:        newSparse(b.n, b.g),
+		C:        newSparse(b.n, b.cap),
+		orders:   &orderCache{},
 		c:        b.c,
 		controls: b.controls,
 		idx: index{
@@ -174,24 +171,15 @@ func (b *builder) matrices() *Matrices {
 	}
 }
 
-// padded returns data, or a 1×1 zero matrix for an empty system (gonum
-// has no 0×0 Dense).
-func padded(data []float64, n int) []float64 {
-	if n == 0 {
-		return []float64{0}
-	}
-	return data
-}
-
 func (b *builder) addG(r, c int, v float64) {
 	if r >= 0 && c >= 0 {
-		b.g[r*b.n+c] += v
+		b.g = append(b.g, triplet{r, c, v})
 	}
 }
 
 func (b *builder) addC(r, c int, v float64) {
 	if r >= 0 && c >= 0 {
-		b.cap[r*b.n+c] += v
+		b.cap = append(b.cap, triplet{r, c, v})
 	}
 }
 

@@ -4,8 +4,6 @@ import (
 	"fmt"
 	"math/cmplx"
 
-	"gonum.org/v1/gonum/mat"
-
 	"nodal/netlist"
 )
 
@@ -16,15 +14,17 @@ import (
 // sources opened). Build them once per circuit with BuildMatrices; Excite
 // derives right-hand sides from them and never changes them.
 //
-// Invariants: G and C are n×n (1×1 zero when n = 0), n = len(Unknowns);
-// Unknowns[i] names row/column i as "v(NODE)" or "i(PART)".
+// Invariants: G and C are n×n compressed-column matrices (1×1 zero when
+// n = 0), n = len(Unknowns); Unknowns[i] names row/column i as "v(NODE)"
+// or "i(PART)".
 type Matrices struct {
 	Unknowns []string
-	G, C     *mat.Dense
+	G, C     *Sparse
 
 	c        *netlist.Circuit
 	controls map[string]control // gain element → its control terms
 	idx      index
+	orders   *orderCache // the shared fill-reducing order, made on first solve
 }
 
 // Size returns n, the number of unknowns.
@@ -91,10 +91,9 @@ func (m *Matrices) Excite(ex Excitation) (*Excited, error) {
 		case p.Kind == netlist.VSource:
 			// The row v(a) − v(b) = 0 becomes i = −u: the test current u
 			// leaves the + terminal into the circuit.
-			e.M = m.copyWith(func(g, c []float64) {
-				clear(g[k*n : k*n+n])
-				clear(c[k*n : k*n+n])
-				g[k*n+k] = 1
+			e.M = m.copyWith(func(g, c []triplet) ([]triplet, []triplet) {
+				g, c = dropRow(g, k), dropRow(c, k)
+				return append(g, triplet{k, k, 1}), c
 			})
 			e.M.idx.edges = append([]edge(nil), m.idx.edges...)
 			for i := range e.M.idx.edges {
@@ -117,14 +116,15 @@ func (m *Matrices) Excite(ex Excitation) (*Excited, error) {
 		add(m.NodeIndex(ex.Ref), -1)
 	case BrokenControl:
 		ctl := m.controls[ex.Part]
-		e.M = m.copyWith(func(g, _ []float64) {
+		e.M = m.copyWith(func(g, c []triplet) ([]triplet, []triplet) {
 			for i, r := range ctl.rows {
-				for j, c := range ctl.cols {
-					if r >= 0 && c >= 0 {
-						g[r*n+c] -= ctl.w[i] * ctl.sig[j]
+				for j, col := range ctl.cols {
+					if r >= 0 && col >= 0 {
+						g = append(g, triplet{r, col, -ctl.w[i] * ctl.sig[j]})
 					}
 				}
 			}
+			return g, c
 		})
 		for i, r := range ctl.rows {
 			add(r, -ctl.w[i])
@@ -133,13 +133,25 @@ func (m *Matrices) Excite(ex Excitation) (*Excited, error) {
 	return e, nil
 }
 
-// copyWith returns a copy of m whose raw G and C data edit has changed.
-func (m *Matrices) copyWith(edit func(g, c []float64)) *Matrices {
+// copyWith returns a copy of m whose G and C entries edit has changed
+// (it returns the edited triplets; added triplets sum with existing ones).
+func (m *Matrices) copyWith(edit func(g, c []triplet) ([]triplet, []triplet)) *Matrices {
 	out := *m
-	out.G = mat.DenseCopyOf(m.G)
-	out.C = mat.DenseCopyOf(m.C)
-	edit(out.G.RawMatrix().Data, out.C.RawMatrix().Data)
+	g, c := edit(m.G.triplets(), m.C.triplets())
+	out.G, out.C = newSparse(m.Size(), g), newSparse(m.Size(), c)
+	out.orders = &orderCache{}
 	return &out
+}
+
+// dropRow returns ts without the entries of row k.
+func dropRow(ts []triplet, k int) []triplet {
+	out := ts[:0]
+	for _, t := range ts {
+		if t.i != k {
+			out = append(out, t)
+		}
+	}
+	return out
 }
 
 // Row is an output row: y = (G + s·C)·x + Feed·u, s in rad/s. G and C are
@@ -258,18 +270,21 @@ func (e *Excited) System(ob Observation) (*System, error) {
 	}
 	m := e.M
 	sys := &System{Unknowns: m.Unknowns, G: m.G, C: m.C, B: e.B, L: row.G,
-		Input: e.Ex, Output: ob, SourceAmplitude: e.Amplitude, idx: m.idx}
+		Input: e.Ex, Output: ob, SourceAmplitude: e.Amplitude, idx: m.idx, orders: m.orders}
 	if n := m.Size(); n > 0 && (!allZero(row.C) || row.Feed != 0) {
-		g, c := mat.NewDense(n+1, n+1, nil), mat.NewDense(n+1, n+1, nil)
-		g.Slice(0, n, 0, n).(*mat.Dense).Copy(m.G)
-		c.Slice(0, n, 0, n).(*mat.Dense).Copy(m.C)
+		g, c := m.G.triplets(), m.C.triplets()
 		for j := 0; j < n; j++ {
-			g.Set(n, j, -row.G[j])
-			c.Set(n, j, -row.C[j])
+			if row.G[j] != 0 {
+				g = append(g, triplet{n, j, -row.G[j]})
+			}
+			if row.C[j] != 0 {
+				c = append(c, triplet{n, j, -row.C[j]})
+			}
 		}
-		g.Set(n, n, 1)
+		g = append(g, triplet{n, n, 1})
 		sys.Unknowns = append(append([]string(nil), m.Unknowns...), "y")
-		sys.G, sys.C = g, c
+		sys.G, sys.C = newSparse(n+1, g), newSparse(n+1, c)
+		sys.orders = &orderCache{}
 		sys.B = append(append([]float64(nil), e.B...), row.Feed)
 		sys.L = make([]float64, n+1)
 		sys.L[n] = 1

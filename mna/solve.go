@@ -3,17 +3,17 @@ package mna
 import (
 	"fmt"
 	"math"
-
-	"gonum.org/v1/gonum/mat"
 )
 
 // luFactor is an LU factorisation with threshold partial (row) pivoting
 // of the complex matrix Y = G + sC, held in preallocated memory so that one
 // value can factor and solve at many frequencies without allocating.
 //
-// The unknowns are eliminated in a fill-reducing order fixed once per
-// system (minimum degree on the pattern of G and C): position k of the
-// working matrix is unknown perm[k]. Rows are then exchanged for
+// It is the dense path, for systems of at most denseMaxUnknowns unknowns
+// (sparse_lu.go has the other). The unknowns are eliminated in a
+// fill-reducing order fixed once per system (minimum degree on the
+// pattern of G and C, shared through luOrder): position k of the working
+// matrix is unknown perm[k]. Rows are then exchanged for
 // stability: the diagonal pivot is kept while it is at least pivotKeep
 // times the largest candidate in its column, else the largest is taken.
 //
@@ -40,33 +40,29 @@ type luFactor struct {
 	rows   []int        // scratch: rows below the pivot with a non-zero in its column
 
 	pat []patEntry // the non-zeros of G and C, fixed when the factor is made
+	p   *pencil
+	o   *luOrder
 
 	lStart, uStart []int
 	lRow, uCol     []int
 	lVal           []complex128
 }
 
-// patEntry is one non-zero of G or C: its place in the working matrix
-// (position row·n + column) and in the raw data of G and C.
+// patEntry is one non-zero of G ∪ C: its place in the working matrix
+// (position row·n + column), its column position and its index in the
+// pencil's union pattern.
 type patEntry struct {
-	pos, col, g, c int
+	pos, col, e int
 }
 
-// pencil is the pair (G, C) of Y(s) = G + sC with the names of its
-// unknowns, as held by a System or a Matrices.
-type pencil struct {
-	g, c     *mat.Dense
-	unknowns []string
-}
-
-func (s *System) pencil() pencil   { return pencil{s.G, s.C, s.Unknowns} }
-func (m *Matrices) pencil() pencil { return pencil{m.G, m.C, m.Unknowns} }
-
-func newLUFactor(sys pencil) *luFactor {
-	n := len(sys.unknowns)
+func newLUFactor(o *luOrder) *luFactor {
+	p := o.p
+	n := p.n
 	f := &luFactor{
 		n:      n,
-		perm:   minimumDegree(sys),
+		p:      p,
+		o:      o,
+		perm:   o.perm,
 		a:      make([]complex128, n*n),
 		piv:    make([]int, n),
 		dinv:   make([]complex128, n),
@@ -82,75 +78,13 @@ func newLUFactor(sys pencil) *luFactor {
 		uCol:   make([]int, 0, n*n/2+n),
 		lVal:   make([]complex128, 0, n*n/2+n),
 	}
-	g, c := sys.g.RawMatrix(), sys.c.RawMatrix()
-	for i, pi := range f.perm {
-		for j, pj := range f.perm {
-			e := patEntry{pos: i*n + j, col: j, g: pi*g.Stride + pj, c: pi*c.Stride + pj}
-			if g.Data[e.g] != 0 || c.Data[e.c] != 0 {
-				f.pat = append(f.pat, e)
-			}
+	for j := 0; j < n; j++ {
+		for e := p.colPtr[j]; e < p.colPtr[j+1]; e++ {
+			i := p.rowIdx[e]
+			f.pat = append(f.pat, patEntry{pos: o.inv[i]*n + o.inv[j], col: o.inv[j], e: e})
 		}
 	}
 	return f
-}
-
-// pivotKeep is the threshold of threshold partial pivoting: the diagonal
-// pivot is kept while it is at least this fraction of the column's largest
-// candidate (0.1 is the usual choice of sparse LU codes; growth stays
-// bounded by (1 + 1/pivotKeep) per step).
-const pivotKeep = 0.1
-
-// minimumDegree returns an elimination order of the unknowns that keeps
-// fill-in low: repeatedly the unknown with the fewest neighbours in the
-// symmetrised pattern of G and C, its neighbours then joined into a clique
-// (ties by lowest index, so the order is deterministic).
-func minimumDegree(sys pencil) []int {
-	n := len(sys.unknowns)
-	g, c := sys.g.RawMatrix(), sys.c.RawMatrix()
-	adj := make([]bool, n*n)
-	for i := 0; i < n; i++ {
-		for j := 0; j < n; j++ {
-			if i != j && (g.Data[i*g.Stride+j] != 0 || c.Data[i*c.Stride+j] != 0) {
-				adj[i*n+j], adj[j*n+i] = true, true
-			}
-		}
-	}
-	done := make([]bool, n)
-	perm := make([]int, 0, n)
-	nb := make([]int, 0, n)
-	for len(perm) < n {
-		best, bestDeg := -1, n+1
-		for v := 0; v < n; v++ {
-			if done[v] {
-				continue
-			}
-			d := 0
-			for u := 0; u < n; u++ {
-				if !done[u] && adj[v*n+u] {
-					d++
-				}
-			}
-			if d < bestDeg {
-				best, bestDeg = v, d
-			}
-		}
-		done[best] = true
-		perm = append(perm, best)
-		nb = nb[:0]
-		for u := 0; u < n; u++ {
-			if !done[u] && adj[best*n+u] {
-				nb = append(nb, u)
-			}
-		}
-		for _, u := range nb {
-			for _, v := range nb {
-				if u != v {
-					adj[u*n+v] = true
-				}
-			}
-		}
-	}
-	return perm
 }
 
 // pivotTol is the relative size below which a pivot counts as vanished: a
@@ -161,23 +95,21 @@ const pivotTol = 4 * 2.220446049250313e-16
 // mag1 is |re|+|im|, a cheap norm within √2 of |z|.
 func mag1(z complex128) float64 { return math.Abs(real(z)) + math.Abs(imag(z)) }
 
-// assemble sets a = R·(G + sC)·K from the system's matrices, visiting
-// only the pattern fixed when the factor was made. R and K are diagonal
-// powers of two that bring every row, then every column, to a largest
-// entry in [1, 2): the singularity judgement of factor is then relative
-// to the matrix's own scale at this s, so extreme but valid values
-// (10⁻¹⁵ Ω with 10¹² F) are not mistaken for a singular matrix. Powers
-// of two change no digit of the solution.
-func (f *luFactor) assemble(sys pencil, s complex128) {
-	g, c := sys.g.RawMatrix().Data, sys.c.RawMatrix().Data
-	sr, si := real(s), imag(s)
+// assemble sets a = R·(G + sC)·K from the pencil, visiting only the
+// pattern fixed when the factor was made. R and K are diagonal powers of
+// two that bring every row, then every column, to a largest entry in
+// [1, 2): the singularity judgement of factor is then relative to the
+// matrix's own scale at this s, so extreme but valid values (10⁻¹⁵ Ω with
+// 10¹² F) are not mistaken for a singular matrix. Powers of two change no
+// digit of the solution.
+func (f *luFactor) assemble(s complex128) {
 	n := f.n
 	clear(f.a)
 	clear(f.colmax)
 	rmax := f.rs
 	clear(rmax)
 	for _, e := range f.pat {
-		z := complex(g[e.g]+sr*c[e.c], si*c[e.c])
+		z := f.p.at(e.e, s)
 		f.a[e.pos] = z
 		if m := mag1(z); m > rmax[e.pos/n] {
 			rmax[e.pos/n] = m
@@ -211,11 +143,20 @@ func (f *luFactor) assemble(sys pencil, s complex128) {
 // pow2Inv returns the power of two 2^−e with m·2^−e in [0.5, 1), or 1
 // for m = 0 (an empty row or column: factor reports it).
 func pow2Inv(m float64) float64 {
-	if m == 0 || math.IsInf(m, 0) || math.IsNaN(m) {
-		return 1
+	b := math.Float64bits(m)
+	e := int(b>>52) & 0x7ff
+	if m <= 0 || e == 0x7ff {
+		return 1 // zero, negative, Inf or NaN
 	}
-	_, e := math.Frexp(m)
-	return math.Ldexp(1, -e)
+	if e == 0 {
+		_, fe := math.Frexp(m) // subnormal
+		return math.Ldexp(1, -fe)
+	}
+	// m = 1.f·2^(e−1023) = 0.1f·2^(e−1022): the factor is 2^(1022−e).
+	if ex := 1022 - e; ex >= -1022 && ex <= 1023 {
+		return math.Float64frombits(uint64(ex+1023) << 52)
+	}
+	return math.Ldexp(1, 1022-e)
 }
 
 // factor runs Gaussian elimination with partial pivoting in place. It
@@ -382,16 +323,60 @@ func (f *luFactor) solveTransposed(x []complex128) {
 	}
 }
 
-// factorAt assembles and factors Y(s), returning a *SingularError naming the
-// unknown whose pivot vanished.
-func (f *luFactor) factorAt(sys pencil, s complex128) error {
-	f.assemble(sys, s)
+func (f *luFactor) clone() factorizer {
+	return newLUFactor(f.o)
+}
+
+// factorAt assembles and factors Y(s); a vanished pivot gives the index
+// of its unknown, else -1.
+func (f *luFactor) factorAt(s complex128) int {
+	f.assemble(s)
 	if k := f.factor(); k >= 0 {
-		u := f.perm[k]
-		return &SingularError{S: s, Unknown: sys.unknowns[u], Index: u}
+		return f.perm[k]
+	}
+	return -1
+}
+
+// factorizer is one of the two LU paths: luFactor (dense working matrix,
+// small systems) or sparseLU (compressed columns, large systems).
+type factorizer interface {
+	// factorAt assembles and factors Y(s); it returns the unknown whose
+	// pivot vanished, or −1.
+	factorAt(s complex128) int
+	solve(x []complex128)
+	solveTransposed(x []complex128)
+	// clone returns a factorizer of the same order for another
+	// goroutine, with a copy of the held pivots and patterns if any.
+	clone() factorizer
+}
+
+// denseMaxUnknowns is the largest system factored on a dense working
+// matrix: at this size and below the dense elimination (no index
+// indirection, pattern of the working matrix found by scanning) is faster
+// per point than the compressed-column path; above it the sparse path
+// wins and its cost grows with the non-zeros, not n². Chosen by
+// BenchmarkEvalPathLadder (mna/sparse_lu_test.go): the two cross between
+// 14 and 18 unknowns on RC ladders (1.5 µs a point).
+const denseMaxUnknowns = 16
+
+// newFactorizer picks the path by size.
+func newFactorizer(o *luOrder, forceSparse bool) factorizer {
+	if o.p.n <= denseMaxUnknowns && !forceSparse {
+		return newLUFactor(o)
+	}
+	return newSparseLU(o)
+}
+
+// factor runs f at s, turning a vanished pivot into a *SingularError.
+func factorWith(f factorizer, p *pencil, s complex128) error {
+	if u := f.factorAt(s); u >= 0 {
+		return &SingularError{S: s, Unknown: p.unknowns[u], Index: u}
 	}
 	return nil
 }
+
+func (s *System) order() *luOrder   { return s.orders.get(s.G, s.C, s.Unknowns) }
+func (m *Matrices) order() *luOrder { return m.orders.get(m.G, m.C, m.Unknowns) }
 
 // Solve solves (G + sC)·x = B at the complex frequency s (rad/s) into x,
 // which must have length Size(). It allocates its working memory; for many
@@ -402,8 +387,9 @@ func (s *System) Solve(sv complex128, x []complex128) error {
 	if len(x) != n {
 		return fmt.Errorf("solve: x has length %d, the system has %d unknowns", len(x), n)
 	}
-	f := newLUFactor(s.pencil())
-	if err := f.factorAt(s.pencil(), sv); err != nil {
+	o := s.order()
+	f := newFactorizer(o, false)
+	if err := factorWith(f, o.p, sv); err != nil {
 		return err
 	}
 	for i, b := range s.B {
@@ -446,36 +432,32 @@ func dotReal(l []float64, x []complex128) complex128 {
 }
 
 // Sweeper evaluates H(s) and dH/ds of one System at many frequencies with
-// one set of working memory: Eval does not allocate. A Sweeper is not safe
+// one set of working memory: Eval does not allocate (after its first
+// call, which fixes the factorisation's pattern). A Sweeper is not safe
 // for concurrent use; give each goroutine its own (they may share the
-// System, which Eval only reads). Eval reads G, C, B and L at every call.
-//
-// The pattern of non-zeros of G and C is fixed when the Sweeper is made;
-// their values, and B and L, are read at every Eval.
+// System, which Eval only reads); the fill-reducing order is computed
+// once per System and shared by all of them. Eval reads B and L at every
+// call; G and C (a Sparse is never changed in place) are taken when the
+// Sweeper is made: a System given new matrices needs a new Sweeper.
 type Sweeper struct {
 	sys  *System
-	p    pencil
-	f    *luFactor
+	o    *luOrder
+	f    factorizer
 	x, z []complex128
-	cnz  []cEntry // the non-zeros of C
 }
 
-// cEntry is one non-zero C_ij and its index in C's raw data.
-type cEntry struct{ i, j, raw int }
+// NewSweeper allocates the working memory for sys, choosing the dense
+// path for small systems and the sparse one above denseMaxUnknowns.
+func NewSweeper(sys *System) *Sweeper { return newSweeper(sys, false) }
 
-// NewSweeper allocates the working memory for sys.
-func NewSweeper(sys *System) *Sweeper {
+// NewSparseSweeper is NewSweeper on the compressed-column path whatever
+// the size (for comparisons and tests of the two paths).
+func NewSparseSweeper(sys *System) *Sweeper { return newSweeper(sys, true) }
+
+func newSweeper(sys *System, forceSparse bool) *Sweeper {
 	n := sys.Size()
-	w := &Sweeper{sys: sys, p: sys.pencil(), f: newLUFactor(sys.pencil()), x: make([]complex128, n), z: make([]complex128, n)}
-	c := sys.C.RawMatrix()
-	for i := 0; i < n; i++ {
-		for j := 0; j < n; j++ {
-			if r := i*c.Stride + j; c.Data[r] != 0 {
-				w.cnz = append(w.cnz, cEntry{i, j, r})
-			}
-		}
-	}
-	return w
+	o := sys.order()
+	return &Sweeper{sys: sys, o: o, f: newFactorizer(o, forceSparse), x: make([]complex128, n), z: make([]complex128, n)}
 }
 
 // Eval returns H(s) = L·Y⁻¹·B and its derivative dH/ds = −L·Y⁻¹·C·Y⁻¹·B at
@@ -484,7 +466,7 @@ func NewSweeper(sys *System) *Sweeper {
 // seconds, exactly. A numerically singular Y(s) gives a *SingularError.
 func (w *Sweeper) Eval(s complex128) (h, dh complex128, err error) {
 	sys := w.sys
-	if err := w.f.factorAt(w.p, s); err != nil {
+	if err := factorWith(w.f, w.o.p, s); err != nil {
 		return 0, 0, err
 	}
 	for i, b := range sys.B {
@@ -492,14 +474,28 @@ func (w *Sweeper) Eval(s complex128) (h, dh complex128, err error) {
 	}
 	w.f.solve(w.x)
 	h = dotReal(sys.L, w.x)
-	c := sys.C.RawMatrix().Data
 	clear(w.z)
-	for _, e := range w.cnz {
-		w.z[e.i] += complex(c[e.raw], 0) * w.x[e.j]
+	c := w.o.p.c
+	for j := 0; j < w.o.p.n; j++ {
+		if xj := w.x[j]; xj != 0 {
+			for e := c.colPtr[j]; e < c.colPtr[j+1]; e++ {
+				w.z[c.rowIdx[e]] += complex(c.val[e], 0) * xj
+			}
+		}
 	}
 	w.f.solve(w.z)
 	dh = -dotReal(sys.L, w.z)
 	return h, dh, nil
+}
+
+// Clone returns a Sweeper of the same System for another goroutine: it
+// shares the fill-reducing order and starts from a copy of w's pivots and
+// L/U patterns (the symbolic step of w's last full factorisation), so its
+// first Eval is already a refactorisation. w must not be in use during
+// Clone.
+func (w *Sweeper) Clone() *Sweeper {
+	n := w.sys.Size()
+	return &Sweeper{sys: w.sys, o: w.o, f: w.f.clone(), x: make([]complex128, n), z: make([]complex128, n)}
 }
 
 // X returns the solution vector of the last successful Eval (valid until

@@ -14,15 +14,16 @@ import "fmt"
 // for those.
 type Solver struct {
 	m  *Matrices
-	p  pencil
-	f  *luFactor
+	o  *luOrder
+	f  factorizer
 	s  complex128
 	ok bool // a factorisation at s is held
 }
 
 // NewSolver allocates the working memory for m.
 func NewSolver(m *Matrices) *Solver {
-	return &Solver{m: m, p: m.pencil(), f: newLUFactor(m.pencil())}
+	o := m.order()
+	return &Solver{m: m, o: o, f: newFactorizer(o, false)}
 }
 
 // Factor assembles and factors Y(s) at the complex frequency s (rad/s). A
@@ -30,7 +31,7 @@ func NewSolver(m *Matrices) *Solver {
 // without a factorisation.
 func (w *Solver) Factor(s complex128) error {
 	w.ok = false
-	if err := w.f.factorAt(w.p, s); err != nil {
+	if err := factorWith(w.f, w.o.p, s); err != nil {
 		return err
 	}
 	w.s, w.ok = s, true

@@ -146,7 +146,12 @@ func (s *System) groupsWithoutGround(keep func(edge) bool) [][]int {
 func (s *System) cutSets(floating []bool, keep func(edge) bool, forAllS bool) []Problem {
 	var probs []Problem
 	n := s.Size()
-	g, c := s.G.RawMatrix(), s.C.RawMatrix()
+	gr, cr := s.G.transpose(), s.C.transpose() // by rows
+	addRow := func(m *Sparse, r int, f float64, sum []float64) {
+		for e := m.colPtr[r]; e < m.colPtr[r+1]; e++ {
+			sum[m.rowIdx[e]] += f * m.val[e]
+		}
+	}
 	for _, grp := range s.groupsWithoutGround(keep) {
 		if floating[grp[0]] {
 			continue
@@ -158,10 +163,8 @@ func (s *System) cutSets(floating []bool, keep func(edge) bool, forAllS bool) []
 		sumG := make([]float64, n)
 		sumC := make([]float64, n)
 		for _, r := range grp {
-			for j := 0; j < n; j++ {
-				sumG[j] += g.Data[r*g.Stride+j]
-				sumC[j] += c.Data[r*c.Stride+j]
-			}
+			addRow(gr, r, 1, sumG)
+			addRow(cr, r, 1, sumC)
 		}
 		var cut []string
 		for _, e := range s.idx.edges {
@@ -173,10 +176,7 @@ func (s *System) cutSets(floating []bool, keep func(edge) bool, forAllS bool) []
 			// i − (…) = 0 in G; substitute it so the sum is in terms of
 			// the other unknowns.
 			if k := e.branch; k >= 0 && e.kind == edgeCurrent && sumG[k] != 0 {
-				f := sumG[k] / g.Data[k*g.Stride+k]
-				for j := 0; j < n; j++ {
-					sumG[j] -= f * g.Data[k*g.Stride+j]
-				}
+				addRow(gr, k, -sumG[k]/s.G.At(k, k), sumG)
 			}
 		}
 		if !allZero(sumG) || (forAllS && !allZero(sumC)) {
@@ -336,20 +336,10 @@ func (s *System) endName(r int) string {
 // annihilates reports whether G·v = 0 (and C·v = 0 when both).
 func (s *System) annihilates(v []float64, both bool) bool {
 	n := s.Size()
-	g, c := s.G.RawMatrix(), s.C.RawMatrix()
-	for i := 0; i < n; i++ {
-		var sg, sc float64
-		for j, vj := range v {
-			if vj != 0 {
-				sg += g.Data[i*g.Stride+j] * vj
-				sc += c.Data[i*c.Stride+j] * vj
-			}
-		}
-		if sg != 0 || (both && sc != 0) {
-			return false
-		}
-	}
-	return true
+	sg, sc := make([]float64, n), make([]float64, n)
+	s.G.mulVecAdd(v, sg)
+	s.C.mulVecAdd(v, sc)
+	return allZero(sg) && (!both || allZero(sc))
 }
 
 func (s *System) nodeNamesOf(rows []int) []string {
@@ -373,36 +363,55 @@ func (s *System) nodePhrase(rows []int) string {
 // unknowns. A deficient pattern is singular for every choice of values.
 func (s *System) rankProblem(forAllS bool) (Problem, bool) {
 	n := s.Size()
-	g, c := s.G.RawMatrix(), s.C.RawMatrix()
 	adj := make([][]int, n)
-	for i := 0; i < n; i++ {
-		for j := 0; j < n; j++ {
-			if g.Data[i*g.Stride+j] != 0 || (forAllS && c.Data[i*c.Stride+j] != 0) {
-				adj[i] = append(adj[i], j)
-			}
+	add := func(i, j int, _ float64) {
+		if i < n && j < n {
+			adj[i] = append(adj[i], j)
 		}
+	}
+	s.G.Each(add)
+	if forAllS {
+		s.C.Each(add)
 	}
 	matchCol := make([]int, n) // column j → row, -1 free
 	for j := range matchCol {
 		matchCol[j] = -1
 	}
-	var try func(i int, seen []bool) bool
-	try = func(i int, seen []bool) bool {
+	// seen[j] == round marks column j visited in this augmenting search
+	// (no n-sized clearing per row). A cheap greedy pass first matches
+	// most rows directly.
+	seen := make([]int, n)
+	round := 0
+	var try func(i int) bool
+	try = func(i int) bool {
 		for _, j := range adj[i] {
-			if seen[j] {
+			if seen[j] == round {
 				continue
 			}
-			seen[j] = true
-			if matchCol[j] < 0 || try(matchCol[j], seen) {
+			seen[j] = round
+			if matchCol[j] < 0 || try(matchCol[j]) {
 				matchCol[j] = i
 				return true
 			}
 		}
 		return false
 	}
+	matched := make([]bool, n)
+	for i := 0; i < n; i++ {
+		for _, j := range adj[i] {
+			if matchCol[j] < 0 {
+				matchCol[j], matched[i] = i, true
+				break
+			}
+		}
+	}
 	var rows []string
 	for i := 0; i < n; i++ {
-		if !try(i, make([]bool, n)) {
+		if matched[i] {
+			continue
+		}
+		round++
+		if !try(i) {
 			rows = append(rows, s.equationName(i))
 		}
 	}

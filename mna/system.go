@@ -2,15 +2,14 @@
 // Y(s) = G + sC of a netlist.Circuit.
 package mna
 
-import "gonum.org/v1/gonum/mat"
-
 // System is the MNA system of one circuit for one probe (one input and one
 // output), made by Build or Excited.System:
 //
 //	(G + sC)·x = B·u,  y = L·x
 //
-// so that H(s) = y/u = L·(G + sC)⁻¹·B. G and C are real n×n, B and L real
-// length-n vectors. x holds the node voltages (reference removed, in the
+// so that H(s) = y/u = L·(G + sC)⁻¹·B. G and C are real n×n in compressed
+// columns (Sparse; Dense() for a dense copy of a small system), B and L
+// real length-n vectors. x holds the node voltages (reference removed, in the
 // circuit's node order) then the branch currents.
 //
 // Invariants: len(Unknowns) == n; Unknowns[i] names row/column i as
@@ -20,7 +19,7 @@ import "gonum.org/v1/gonum/mat"
 // from Build, which makes its own.
 type System struct {
 	Unknowns []string
-	G, C     *mat.Dense
+	G, C     *Sparse
 	B, L     []float64
 
 	Input  Input  // the resolved excitation
@@ -35,7 +34,8 @@ type System struct {
 	// response is defined at every s ≠ 0. Empty when Y(0) is regular.
 	DCSingular []string
 
-	idx index
+	idx    index
+	orders *orderCache // the shared fill-reducing order, made on first solve
 }
 
 // Size returns n, the number of unknowns.

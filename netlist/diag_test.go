@@ -186,7 +186,7 @@ func TestRefuseNonText(t *testing.T) {
 	}{
 		{"nul", []byte("R1: resistor (a, gnd) 1k\x00\n"), "not text (it contains a NUL byte)"},
 		{"utf8", []byte("R1: resistor (a, gnd) 1k \xff\xfe\n"), "not UTF-8 text"},
-		{"oversize", make([]byte, MaxSourceBytes+1), "limited to 16777216 bytes (16 MiB)"},
+		{"oversize", make([]byte, MaxSourceBytes+1), "limited to 67108864 bytes (64 MiB)"},
 	} {
 		_, err := Parse("bin", tc.src)
 		if err == nil || !strings.Contains(err.Error(), tc.want) {
@@ -227,5 +227,28 @@ func TestLeadingPlusIsAccepted(t *testing.T) {
 	}
 	if c.Parts[1].Value != 1e3 || math.Abs(c.Parts[2].Value-3e-9) > 1e-24 {
 		t.Errorf("values %v, %v; want 1k and 3n", c.Parts[1].Value, c.Parts[2].Value)
+	}
+}
+
+// TestTooLargeFlatBlock: a block of 1,001 instances of a 1,000-part
+// block is past the budget (more than MaxParts parts) by its pre-count,
+// and refused at its instance before any part is built.
+func TestTooLargeFlatBlock(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("block big (x)\n")
+	for i := 0; i < 1000; i++ {
+		fmt.Fprintf(&b, "R%d: resistor (x, gnd) 1k\n", i)
+	}
+	b.WriteString("end\nblock huge (x)\n")
+	for i := 0; i <= MaxParts/1000; i++ {
+		fmt.Fprintf(&b, "X%d: big (x)\n", i)
+	}
+	b.WriteString("end\nR: resistor (top, gnd) 1k\nH: huge (top)\n")
+	c, err := Load("many.nodal", []byte(b.String()), nil)
+	if err == nil || !strings.Contains(err.Error(), "many.nodal:2007:1: circuit too large") || !strings.Contains(err.Error(), "memory budget") {
+		t.Errorf("error %v", err)
+	}
+	if c != nil && len(c.Parts) > 1 {
+		t.Errorf("%d parts built before the refusal", len(c.Parts))
 	}
 }

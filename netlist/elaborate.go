@@ -21,9 +21,10 @@ type Overrides map[string]float64
 // Limits of block expansion, so that a small file cannot ask for an
 // unbounded circuit.
 const (
-	// MaxParts is the most parts a circuit may have after expanding blocks
-	// (dense MNA of a larger circuit would be impractical anyway).
-	MaxParts = 20000
+	// MaxParts is the most parts a circuit may have after expanding
+	// blocks: the memory budget of a circuit. Parts are held sparse from
+	// the stamps on, so 10⁶ parts fit in about 1 GB through a sweep.
+	MaxParts = 1_000_000
 	// MaxBlockDepth is the deepest nesting of block instances.
 	MaxBlockDepth = 64
 )
@@ -49,6 +50,7 @@ func Elaborate(f *File, ov Overrides) (*Circuit, error) {
 		c:         &Circuit{File: f.Name, Nodes: []string{Ground}},
 		m:         &model{},
 		blocks:    map[string]*BlockStmt{},
+		sizes:     map[string]blockSize{},
 		partIndex: map[string]int{},
 		nodeIndex: map[string]int{Ground: 0},
 		touches:   []nodeTouch{{}},
@@ -75,6 +77,7 @@ type elab struct {
 	m      *model
 	nom    []float64 // nominal slot values, grown as parameters are defined
 	blocks map[string]*BlockStmt
+	sizes  map[string]blockSize // expandedSize of each block, once computed
 
 	partIndex map[string]int // hierarchical part name → index in c.Parts
 	nodeIndex map[string]int // node name → index in c.Nodes

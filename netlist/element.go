@@ -170,19 +170,62 @@ func perRootHz(x *Expr) *Expr {
 }
 
 // maxWork bounds the statements elaborated while expanding blocks.
-const maxWork = 100_000
+const maxWork = 4 * MaxParts
 
 func (e *elab) overBudget(p lexer.Position) bool {
 	e.work++
 	if len(e.c.Parts) < MaxParts && e.work < maxWork {
 		return false
 	}
-	if !e.tooBig {
-		e.tooBig = true
-		e.errorf(p, "", "circuit too large: more than %d parts or %d statements after expanding blocks", MaxParts, maxWork)
-	}
+	e.refuseTooBig(p)
 	return true
 }
+
+// refuseTooBig reports, once, that the circuit is past its budget.
+func (e *elab) refuseTooBig(p lexer.Position) {
+	if !e.tooBig {
+		e.tooBig = true
+		e.errorf(p, "", "circuit too large: more than %d parts or %d statements after expanding blocks (the memory budget of a circuit, about 1 GB); split the network or use fewer block instances", MaxParts, maxWork)
+	}
+}
+
+// expandedSize returns the statements and the parts an instance of b
+// expands to (its body, instances counted with their own expansion),
+// saturating past maxWork, so that an instance too big for the budget is
+// refused before any of it is built. Cycles count as nothing here
+// (instance reports them).
+func (e *elab) expandedSize(b *BlockStmt, visiting map[string]bool) blockSize {
+	if n, ok := e.sizes[b.Name]; ok {
+		return n
+	}
+	if visiting[b.Name] {
+		return blockSize{}
+	}
+	visiting[b.Name] = true
+	var n blockSize
+	for _, bs := range b.Body {
+		n.stmts++
+		if bs.Element != nil {
+			if inner, ok := e.blocks[bs.Element.Kind.Word()]; ok {
+				in := e.expandedSize(inner, visiting)
+				n.stmts += in.stmts
+				n.parts += in.parts
+			} else {
+				n.parts++
+			}
+		}
+		if n.stmts > maxWork {
+			n = blockSize{maxWork + 1, maxWork + 1}
+			break
+		}
+	}
+	delete(visiting, b.Name)
+	e.sizes[b.Name] = n
+	return n
+}
+
+// blockSize is what one instance of a block expands to.
+type blockSize struct{ stmts, parts int }
 
 func (e *elab) element(sc *scope, st *ElementStmt) {
 	if e.overBudget(st.Pos) || !e.checkName(st.Pos, st.Name, "element") {
@@ -198,6 +241,10 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 	kind, ok := KindByKeyword(word)
 	if !ok {
 		if b, isBlock := e.blocks[word]; isBlock {
+			if n := e.expandedSize(b, map[string]bool{}); e.work+n.stmts >= maxWork || len(e.c.Parts)+n.parts > MaxParts {
+				e.refuseTooBig(st.Pos)
+				return
+			}
 			e.instance(sc, st, b)
 			return
 		}

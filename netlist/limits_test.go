@@ -16,7 +16,7 @@ func TestInputLimits(t *testing.T) {
 		name, src, want string
 		line, col       int
 	}{
-		{"16 MiB+", strings.Repeat("# filler line\n", MaxSourceBytes/14+1), "limited to", 1, 1},
+		{"64 MiB+", strings.Repeat("# filler line\n", MaxSourceBytes/14+1), "limited to", 1, 1},
 		{"parens", base + "R2: resistor (in, out) " + deep + "\n", "nested too deeply", 4, 24 + syntax.MaxNesting},
 		{"unclosed", base + "let x = " + strings.Repeat("(", 20000) + "\n", "nested too deeply", 4, 9 + syntax.MaxNesting},
 		{"signs", base + "let x = " + strings.Repeat("-", 20000) + "1\n", "nested too deeply", 4, 9 + syntax.MaxNesting},

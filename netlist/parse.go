@@ -14,8 +14,9 @@ import (
 	"nodal/netlist/syntax"
 )
 
-// MaxSourceBytes is the largest circuit file Parse accepts (16 MiB).
-const MaxSourceBytes = 16 << 20
+// MaxSourceBytes is the largest circuit file Parse accepts (64 MiB: room
+// for a circuit of MaxParts parts).
+const MaxSourceBytes = 64 << 20
 
 // Parse parses a circuit file. name is used in positions. On failure the
 // error is an ErrorList of positioned diagnostics (every syntax error, one
@@ -25,7 +26,7 @@ const MaxSourceBytes = 16 << 20
 func Parse(name string, src []byte) (*File, error) {
 	f := newFile(name, src)
 	if len(src) > MaxSourceBytes {
-		return f, ErrorList{{Pos: f.posAt(0), Msg: fmt.Sprintf("file is %d bytes; circuit files are limited to %d bytes (16 MiB)", len(src), MaxSourceBytes)}}
+		return f, ErrorList{{Pos: f.posAt(0), Msg: fmt.Sprintf("file is %d bytes; circuit files are limited to %d bytes (64 MiB)", len(src), MaxSourceBytes)}}
 	}
 	if i := bytes.IndexByte(src, 0); i >= 0 {
 		return f, ErrorList{f.diagAt(i, SevError, "file is not text (it contains a NUL byte)", "")}
@@ -41,6 +42,74 @@ func Parse(name string, src []byte) (*File, error) {
 		}
 		return f, ErrorList{f.diagAt(i, SevError, "file is not UTF-8 text (invalid byte sequence)", "")}
 	}
+	// Line by line: no token spans a newline, so each line is lexed and
+	// parsed on its own (positions shifted to the file's), keeping time
+	// and memory linear in the file. A lexer error (none is expected:
+	// every character has a rule) falls back to lexing the whole file,
+	// for its position.
+	var diags ErrorList
+	var flat []*Stmt
+	var line []lexer.Token
+	for start, lineNo := 0, 1; start <= len(src); lineNo++ {
+		end := bytes.IndexByte(src[start:], '\n')
+		if end < 0 {
+			end = len(src)
+		} else {
+			end += start
+		}
+		var err error
+		if line, err = lexLine(name, src[start:end], start, lineNo, line[:0]); err != nil {
+			return f.parseWhole(name, src)
+		}
+		if len(line) > 0 {
+			line = append(line, lexer.EOFToken(lexer.Position{Filename: name, Offset: end, Line: lineNo, Column: end - start + 1}))
+			st, d := f.parseLine(line)
+			if d != nil {
+				diags = append(diags, d)
+			} else {
+				flat = append(flat, st)
+			}
+		}
+		start = end + 1
+	}
+	f.Stmts, diags = f.nest(flat, diags)
+	diags.Sort()
+	return f, diags.Err()
+}
+
+// lexLine appends to buf the tokens of one line (without its newline)
+// that starts at byte offset start and is line lineNo of the file, or
+// returns buf empty when the line has no significant token.
+func lexLine(name string, text []byte, start, lineNo int, buf []lexer.Token) ([]lexer.Token, error) {
+	lx, err := lexDef.LexString(name, string(text))
+	if err != nil {
+		return nil, err
+	}
+	significant := false
+	for {
+		t, err := lx.Next()
+		if err != nil {
+			return nil, err
+		}
+		if t.EOF() {
+			break
+		}
+		t.Pos.Offset += start
+		t.Pos.Line = lineNo
+		buf = append(buf, t)
+		if t.Type != symSpace && t.Type != symComment {
+			significant = true
+		}
+	}
+	if !significant {
+		return buf[:0], nil
+	}
+	return buf, nil
+}
+
+// parseWhole is the former whole-file path: lex everything, then parse
+// line by line. Only reached on a lexer error, which it reports.
+func (f *File) parseWhole(name string, src []byte) (*File, error) {
 	toks, err := lexDef.LexString(name, string(src))
 	if err != nil {
 		return f, ErrorList{f.lexDiag(err)}
@@ -49,7 +118,6 @@ func Parse(name string, src []byte) (*File, error) {
 	if err != nil {
 		return f, ErrorList{f.lexDiag(err)}
 	}
-	all = mergeSpacedUnits(all)
 	var diags ErrorList
 	var flat []*Stmt
 	for _, line := range splitLines(all) {
@@ -117,6 +185,7 @@ func (s *sliceLexer) Next() (lexer.Token, error) {
 
 // parseLine parses the statement on one line.
 func (f *File) parseLine(line []lexer.Token) (*Stmt, *Diagnostic) {
+	line = mergeSpacedUnits(line)
 	if d := f.nestingDiag(line); d != nil {
 		return nil, d
 	}

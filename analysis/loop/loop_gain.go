@@ -75,6 +75,9 @@ func (x *Circuit) Stable() (bool, error) {
 	if err != nil {
 		return false, err
 	}
+	if st.Class == stability.Unchecked {
+		return false, stability.ErrUnchecked
+	}
 	return st.Class == stability.Stable, nil
 }
 
@@ -84,6 +87,9 @@ func (x *Circuit) CheckStable() error {
 	st, err := x.Stability()
 	if err != nil {
 		return err
+	}
+	if st.Class == stability.Unchecked {
+		return stability.ErrUnchecked
 	}
 	if st.Class != stability.Stable {
 		return fmt.Errorf("%w: %s", stability.ErrUnstable, st.Class)

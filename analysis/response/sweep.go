@@ -72,12 +72,18 @@ func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int)
 	errs := make([]error, workers)
 	var wg sync.WaitGroup
 	chunk := (n + workers - 1) / workers
+	// One Sweeper makes the symbolic step (order, pivots, L/U patterns)
+	// at the first point; every worker starts from a copy of it.
+	base := mna.NewSweeper(sys)
+	if n > 0 {
+		base.Eval(complex(0, 2*math.Pi*freqsHz[0])) // a singular point is Eval'd again below
+	}
 	for w := 0; w < workers; w++ {
 		lo, hi := w*chunk, min(n, (w+1)*chunk)
 		wg.Add(1)
 		go func(w, lo, hi int) {
 			defer wg.Done()
-			ev := mna.NewSweeper(sys)
+			ev := base.Clone()
 			for i := lo; i < hi; i++ {
 				if i%32 == 0 {
 					if err := ctx.Err(); err != nil {

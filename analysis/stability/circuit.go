@@ -47,8 +47,13 @@ type Options struct {
 
 // OfMatrices returns the class, every natural frequency and the offending
 // ones of the circuit whose MNA matrices are m (rad/s).
+//
+// Past MaxUnknowns it returns Unchecked with no frequencies.
 func OfMatrices(m *mna.Matrices) (Class, []complex128, []complex128, error) {
-	roots, w0, err := FiniteEigenvalues(m.G, m.C)
+	if m.Size() > MaxUnknowns {
+		return Unchecked, nil, nil, nil
+	}
+	roots, w0, err := FiniteEigenvalues(m.G.Dense(), m.C.Dense())
 	if err != nil {
 		return Unstable, nil, nil, err
 	}
@@ -69,7 +74,7 @@ func Analyze(c *netlist.Circuit, opt Options) (*Result, error) {
 		return nil, fmt.Errorf("stability: %w", err)
 	}
 	res := &Result{Class: cl, Natural: nat, Offending: off}
-	if !opt.Explain {
+	if !opt.Explain || cl == Unchecked {
 		return res, nil
 	}
 	if cl != Stable {

@@ -3,6 +3,7 @@ package stability
 import (
 	"cmp"
 	"errors"
+	"fmt"
 	"math"
 	"math/cmplx"
 	"slices"
@@ -25,7 +26,20 @@ const (
 	// Unstable: a natural frequency in the right half-plane, or a repeated
 	// one on the jω axis.
 	Unstable
+	// Unchecked: the circuit has more than MaxUnknowns unknowns, past which
+	// nodal does not solve the dense eigenvalue problem of its natural
+	// frequencies; nothing is claimed, and no requirement on stability
+	// passes.
+	Unchecked
 )
+
+// MaxUnknowns is the size of the largest MNA system whose natural
+// frequencies are computed (a dense eigenvalue problem, O(n³)).
+const MaxUnknowns = 2000
+
+// ErrUnchecked is the error of a stability question about a circuit past
+// MaxUnknowns.
+var ErrUnchecked = fmt.Errorf("stability not checked: the circuit has more than %d unknowns", MaxUnknowns)
 
 // String is the word used in output and JSON: "stable", "marginal" or
 // "unstable".
@@ -35,6 +49,8 @@ func (c Class) String() string {
 		return "marginal"
 	case Unstable:
 		return "unstable"
+	case Unchecked:
+		return "not checked"
 	}
 	return "stable"
 }

@@ -140,5 +140,5 @@ func (s *stamper) System() *mna.System {
 	if i := s.node(s.out[1]); i >= 0 {
 		l[i] -= 1
 	}
-	return &mna.System{Unknowns: append([]string(nil), s.names...), G: g, C: c, B: b, L: l}
+	return &mna.System{Unknowns: append([]string(nil), s.names...), G: mna.SparseOf(g), C: mna.SparseOf(c), B: b, L: l}
 }

@@ -44,6 +44,12 @@ const (
 // is well conditioned.
 var shiftFactors = [...]float64{1, 1.7182818, 0.5772157, 3.1415927, 0.3183099, 7.389056, 0.1353353, 23.14069, 0.0432139}
 
+// MaxExtractUnknowns is the largest system Extract takes: the extraction
+// (eigenvalues of the pencil, minors) works on dense n×n copies of G and
+// C, so its memory grows as n² and its time much faster; above this size
+// only direct sparse solves (sweeps) are offered.
+const MaxExtractUnknowns = 2000
+
 // Extract returns the exact rational transfer function of the MNA system,
 // H(s) = L·(G + sC)⁻¹·B, in factored and polynomial form (s in rad/s).
 //
@@ -85,6 +91,9 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 	}
 	if n == 0 {
 		return nil, errors.New("transfer function: empty system")
+	}
+	if n > MaxExtractUnknowns {
+		return nil, fmt.Errorf("transfer function: %d unknowns is more than the %d the full extraction takes (it works on dense n×n copies of G and C); a sweep over a given range (--from, --to) handles this size", n, MaxExtractUnknowns)
 	}
 	for i := 0; i < n; i++ {
 		for j := 0; j < n; j++ {

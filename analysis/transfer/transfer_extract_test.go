@@ -411,7 +411,9 @@ func TestExtractErrors(t *testing.T) {
 		return newStamper().V("in", "0").R("in", "o", 1e3).C("o", "0", 1e-9).Out("o", "0").System()
 	}
 	nan := good()
-	nan.G.Set(0, 0, math.NaN())
+	gd := nan.G.Dense()
+	gd.Set(0, 0, math.NaN())
+	nan.G = mna.SparseOf(gd)
 	short := good()
 	short.L = short.L[:1]
 	floating := newStamper().V("in", "0").R("in", "a", 1e3).C("b", "c", 1e-9).R("b", "c", 1e3).Out("a", "0").System()

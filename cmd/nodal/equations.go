@@ -12,7 +12,7 @@ import (
 type equationsCmd struct {
 	circuitArgs
 	In     string `help:"Input source whose unit amplitude makes b; may be left out when the circuit has one source." placeholder:"SOURCE"`
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table, json (dense G and C) or sparse-json (G and C as rows, cols, vals of their non-zeros; any size)." enum:"table,json,sparse-json" default:"table"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
@@ -48,9 +48,15 @@ func (c *equationsCmd) Run(e *env) error {
 		// Print the equations anyway: they show why the system is singular.
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
 	}
+	if n := sys.Size(); n > maxDenseEquations && c.Format != "sparse-json" {
+		return fmt.Errorf("equations: %d unknowns is more than the %d written as dense n×n matrices: use --format sparse-json (G and C as their non-zeros)", n, maxDenseEquations)
+	}
 	werr := writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
-		if c.Format == "json" {
+		switch c.Format {
+		case "json":
 			return writeJSON(w, equationsJSON(sys))
+		case "sparse-json":
+			return writeJSON(w, equationsSparseJSON(sys))
 		}
 		return equationsTable(w, sys)
 	})
@@ -59,6 +65,10 @@ func (c *equationsCmd) Run(e *env) error {
 	}
 	return err
 }
+
+// maxDenseEquations is the most unknowns `equations` writes: its table
+// and JSON are dense n×n (2,000 unknowns is about 100 MB of JSON).
+const maxDenseEquations = 2000
 
 // equationsJSON is the JSON document of `nodal equations`.
 func equationsJSON(sys *mna.System) any {
@@ -80,6 +90,35 @@ func equationsJSON(sys *mna.System) any {
 		C        [][]float64 `json:"C"`
 		B        []float64   `json:"b"`
 	}{sys.Input.Source, sys.Unknowns, g, cm, sys.B}
+}
+
+// sparseMatrixJSON is a matrix by its non-zeros: entry k is
+// (rows[k], cols[k]) = vals[k], 0-based, column by column.
+type sparseMatrixJSON struct {
+	Rows []int     `json:"rows"`
+	Cols []int     `json:"cols"`
+	Vals []float64 `json:"vals"`
+}
+
+func sparseJSON(m *mna.Sparse) sparseMatrixJSON {
+	out := sparseMatrixJSON{Rows: []int{}, Cols: []int{}, Vals: []float64{}}
+	m.Each(func(i, j int, v float64) {
+		out.Rows = append(out.Rows, i)
+		out.Cols = append(out.Cols, j)
+		out.Vals = append(out.Vals, v)
+	})
+	return out
+}
+
+// equationsSparseJSON is the sparse JSON document of `nodal equations`.
+func equationsSparseJSON(sys *mna.System) any {
+	return struct {
+		Input    string           `json:"input"`
+		Unknowns []string         `json:"unknowns"`
+		G        sparseMatrixJSON `json:"G"`
+		C        sparseMatrixJSON `json:"C"`
+		B        []float64        `json:"b"`
+	}{sys.Input.Source, sys.Unknowns, sparseJSON(sys.G), sparseJSON(sys.C), sys.B}
 }
 
 // equationsTable prints G, C and b as tables with named rows and columns.

@@ -73,7 +73,12 @@ func (f *freqArgs) frequencies(auto func() (float64, float64)) ([]float64, error
 		}
 		return out, nil
 	}
-	from, to := auto()
+	// The automatic range (a transfer-function extraction) only when an
+	// end is missing.
+	var from, to float64
+	if f.From == "" || f.To == "" {
+		from, to = auto()
+	}
 	var err error
 	if f.From != "" {
 		if from, err = syntax.ParseFlag("--from", f.From, "Hz"); err != nil {

@@ -21,8 +21,8 @@ const demoName = "demo:vibration-logger.nodal"
 //go:embed demo/vibration-logger.nodal
 var demoCircuit []byte
 
-// maxInputBytes is the largest circuit file nodal reads (16 MiB).
-const maxInputBytes = 16 << 20
+// maxInputBytes is the largest circuit file nodal reads (64 MiB, netlist.MaxSourceBytes).
+const maxInputBytes = netlist.MaxSourceBytes
 
 // circuitArgs are the arguments shared by every command that reads a circuit.
 type circuitArgs struct {
@@ -64,7 +64,7 @@ func readSource(e *env, path string) ([]byte, string, error) {
 		return nil, name, fmt.Errorf("%s: cannot read: %w", name, err)
 	}
 	if len(src) > maxInputBytes {
-		return nil, name, fmt.Errorf("%s: file is larger than 16 MiB; nodal reads circuit files only", name)
+		return nil, name, fmt.Errorf("%s: file is larger than 64 MiB; nodal reads circuit files only", name)
 	}
 	return src, name, nil
 }

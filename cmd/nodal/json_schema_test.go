@@ -21,6 +21,7 @@ var schemaCases = []struct {
 }{
 	{"parts", []string{"parts", rcFile, "--format", "json"}},
 	{"equations", []string{"equations", rcFile, "--format", "json"}},
+	{"equations_sparse", []string{"equations", rcFile, "--format", "sparse-json"}},
 	{"sweep", []string{"sweep", rcFile, "--out", "out", "--at", "1k,2k", "--format", "json"}},
 	{"transfer", []string{"transfer", "../../testdata/examples/logger_antialias.nodal", "--out", "out", "--format", "json"}},
 	{"transfer_rc", []string{"transfer", rcFile, "--out", "out", "--format", "json"}},

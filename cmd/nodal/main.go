@@ -16,6 +16,7 @@ import (
 	"nodal/netlist"
 	"os"
 	"os/signal"
+	"runtime/debug"
 	"strings"
 	"syscall"
 	"time"
@@ -83,12 +84,21 @@ var errInterrupted = errors.New("interrupted")
 type exitRequest int
 
 func main() {
+	if os.Getenv("GOMEMLIMIT") == "" {
+		// The memory budget of a run (netlist.MaxParts is sized for it):
+		// the collector works harder near it instead of letting the heap
+		// double past it.
+		debug.SetMemoryLimit(memoryBudgetBytes)
+	}
 	temps := &tempFiles{}
 	ctx, stop := interruptContext(temps)
 	defer stop()
 	e := &env{ctx: ctx, temps: temps, stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, stderrIsTerminal: isTerminal(os.Stderr)}
 	os.Exit(run(e, os.Args[1:]))
 }
+
+// memoryBudgetBytes is the soft memory limit of a run (1 GiB).
+const memoryBudgetBytes = 1 << 30
 
 // interruptGrace is how long a command may take to stop after the first
 // signal: long work that watches its context stops at once, and a command

@@ -358,9 +358,81 @@ func refuseInput(path, real string, inputs []string) error {
 	return nil
 }
 
-// writeJSON writes v as indented JSON with a trailing newline.
+// writeJSON writes v as indented JSON with a trailing newline, in one
+// encoding pass: the compact encoding is indented on its way to w (the
+// same bytes as json.Encoder.SetIndent("", "  "), without its second
+// buffer and pass over the document).
 func writeJSON(w io.Writer, v any) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(v)
+	bw := bufio.NewWriterSize(w, 64<<10)
+	iw := &indentWriter{w: bw}
+	if err := json.NewEncoder(iw).Encode(v); err != nil {
+		return err
+	}
+	return bw.Flush()
+}
+
+// indentWriter indents compact JSON as it streams through: a newline and
+// two spaces per level after an opening bracket and after each comma, a
+// space after each colon, strings copied verbatim; an empty {} or [] stays
+// as it is.
+type indentWriter struct {
+	w       *bufio.Writer
+	depth   int
+	inStr   bool
+	escape  bool
+	pending bool // an opening bracket waits for its first member
+}
+
+func (iw *indentWriter) newline() {
+	iw.w.WriteByte('\n')
+	for i := 0; i < iw.depth; i++ {
+		iw.w.WriteString("  ")
+	}
+}
+
+func (iw *indentWriter) Write(p []byte) (int, error) {
+	for _, c := range p {
+		if iw.inStr {
+			iw.w.WriteByte(c)
+			switch {
+			case iw.escape:
+				iw.escape = false
+			case c == '\\':
+				iw.escape = true
+			case c == '"':
+				iw.inStr = false
+			}
+			continue
+		}
+		if iw.pending {
+			iw.pending = false
+			if c == '}' || c == ']' {
+				iw.depth--
+				iw.w.WriteByte(c)
+				continue
+			}
+			iw.newline()
+		}
+		switch c {
+		case '{', '[':
+			iw.w.WriteByte(c)
+			iw.depth++
+			iw.pending = true
+		case '}', ']':
+			iw.depth--
+			iw.newline()
+			iw.w.WriteByte(c)
+		case ',':
+			iw.w.WriteByte(c)
+			iw.newline()
+		case ':':
+			iw.w.WriteString(": ")
+		case '"':
+			iw.inStr = true
+			iw.w.WriteByte(c)
+		default:
+			iw.w.WriteByte(c)
+		}
+	}
+	return len(p), nil
 }

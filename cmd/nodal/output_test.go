@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"context"
+	"encoding/json"
 	"io"
 	"os"
 	"path/filepath"
@@ -251,6 +252,32 @@ func TestOutputDevStdoutIsStandardOutput(t *testing.T) {
 		r := runNodal(t, "", partsArgs(p)...)
 		if r.code != 0 || !strings.Contains(r.stdout, "R1") {
 			t.Errorf("-o %s: code %d, stdout %q, stderr %q", p, r.code, r.stdout, r.stderr)
+		}
+	}
+}
+
+// TestWriteJSONMatchesIndent: the streaming indentation gives the bytes
+// of encoding/json's own indenting encoder (the reference), on nesting,
+// empty containers, escapes and HTML-escaped characters.
+func TestWriteJSONMatchesIndent(t *testing.T) {
+	cases := []any{
+		map[string]any{"a": []any{}, "b": map[string]any{}, "c": []any{1.5, nil, "x,y:{z}"}, "d": `q"\"[`},
+		[]any{map[string]any{"k": []any{[]any{}, []any{1}}}, "<&>", 1e-300, true},
+		"plain",
+		[]int{},
+	}
+	for _, v := range cases {
+		var want, got bytes.Buffer
+		enc := json.NewEncoder(&want)
+		enc.SetIndent("", "  ")
+		if err := enc.Encode(v); err != nil {
+			t.Fatal(err)
+		}
+		if err := writeJSON(&got, v); err != nil {
+			t.Fatal(err)
+		}
+		if got.String() != want.String() {
+			t.Errorf("got\n%s\nwant\n%s", got.String(), want.String())
 		}
 	}
 }

@@ -46,6 +46,8 @@ func stabilityLines(res *stability.Result) []string {
 	switch res.Class {
 	case stability.Unstable:
 		out = append(out, "the circuit is unstable: "+offendingText(res.Offending)+"; no steady state exists and responses grow"+involvedText(res.Involved))
+	case stability.Unchecked:
+		out = append(out, fmt.Sprintf("stability not checked: the circuit has more than %d unknowns, past which nodal does not compute its natural frequencies; nothing here says it is stable", stability.MaxUnknowns))
 	case stability.Marginal:
 		out = append(out, "the circuit is marginally stable: "+offendingText(res.Offending)+"; a response at those frequencies does not decay"+involvedText(res.Involved))
 	}

@@ -193,17 +193,24 @@ func (c *sweepCmd) Run(e *env) error {
 	}
 	l := ls[0]
 	// Each trace's transfer function serves the default range and the
-	// plot's marks; extract it once (a sum has none: no marks).
-	// With --vary the default range covers every variant's.
+	// plot's marks: extract it only then, once (a sum has none: no
+	// marks). With --vary the default range covers every variant's.
 	tfs := make([]*transfer.TransferFunction, len(traces))
-	for i, t := range traces {
-		if (i == 0 || c.Plot != "" || len(vs) > 1) && len(t.systems) == 1 {
-			tfs[i] = systemTF(t.systems[0])
+	extract := func(i int) {
+		if tfs[i] == nil && len(traces[i].systems) == 1 {
+			tfs[i] = systemTF(traces[i].systems[0])
+		}
+	}
+	if c.Plot != "" {
+		for i := range traces {
+			extract(i)
 		}
 	}
 	freqs, err := c.frequencies(func() (float64, float64) {
+		extract(0)
 		lo, hi := rangeOf(l, tfs[0])
 		for i := 1; i < len(tfs) && len(vs) > 1; i++ {
+			extract(i)
 			if tfs[i] != nil {
 				a, b := rangeOf(ls[of[i]], tfs[i])
 				lo, hi = math.Min(lo, a), math.Max(hi, b)
