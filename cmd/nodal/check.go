@@ -45,9 +45,9 @@ derivatives on the left, the input the one on the right.
 
 Examples:
 
-    nodal check rc.nodal --out out --ode "R1*C1*y' + y = u"
-    nodal check sk.nodal --out out --ode "R1*R2*C1*C2*y'' + C2*(R1+R2)*y' + y = u"
-    nodal check sk.nodal --out out --tf "1/(1 + s*C2*(R1+R2) + s^2*R1*R2*C1*C2)"`
+    nodal check testdata/examples/bridge_rc.nodal --out out --ode "R1*C1*y' + y = u"
+    nodal check testdata/examples/tone_lowpass_ideal.nodal --out out --ode "R1*R2*C1*C2*y'' + C2*(R1+R2)*y' + y = u"
+    nodal check testdata/examples/tone_lowpass_ideal.nodal --out out --tf "1/(1 + s*C2*(R1+R2) + s^2*R1*R2*C1*C2)"`
 }
 
 // Run compares and prints the verdict.

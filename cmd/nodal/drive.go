@@ -29,9 +29,9 @@ directly in rad/s (5*sin(2500*t)) or as 2*pi*f; phases in rad or with deg.
 
 Examples:
 
-    nodal drive filter.nodal --out out --signal "0.8*sin(2*pi*400*t)"
-    nodal drive filter.nodal --out out --signal "1.5*cos(2*pi*50*t + 30deg) + 0.2*sin(2*pi*150*t) + 2"
-    nodal drive filter.nodal --out out --signal "sin(2*pi*1k*t)" --all`
+    nodal drive testdata/examples/logger_antialias.nodal --out out --signal "0.8*sin(2*pi*400*t)"
+    nodal drive testdata/examples/logger_antialias.nodal --out out --signal "1.5*cos(2*pi*50*t + 30deg) + 0.2*sin(2*pi*150*t) + 2"
+    nodal drive testdata/examples/logger_antialias.nodal --out out --signal "sin(2*pi*1k*t)" --all`
 }
 
 // nodePhasor is one node's phasor in --all.

@@ -39,12 +39,12 @@ through 0° (a minimum of |Z| nearby), parallel where it falls (a maximum).
 
 Examples:
 
-    nodal impedance filter.nodal --port Vs             # what the source drives
-    nodal impedance filter.nodal --node out            # output impedance
-    nodal impedance filter.nodal --node a --ref b --from 10Hz --to 1MHz
-    nodal impedance filter.nodal --node out --at 50Hz,1k --format json
-    nodal impedance filter.nodal --node out --plot z.svg
-    nodal impedance filter.nodal --port Vs --symbolic`
+    nodal impedance testdata/examples/logger_antialias.nodal --port Vin   # what the source drives
+    nodal impedance testdata/examples/logger_antialias.nodal --node out   # output impedance
+    nodal impedance testdata/examples/logger_antialias.nodal --node a --ref b --from 10Hz --to 1MHz
+    nodal impedance testdata/examples/logger_antialias.nodal --node out --at 50Hz,1k --format json
+    nodal impedance testdata/examples/logger_antialias.nodal --node out --plot z.svg
+    nodal impedance testdata/examples/logger_antialias.nodal --port Vin --symbolic`
 }
 
 // request is the impedance asked for.

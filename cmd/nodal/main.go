@@ -147,6 +147,19 @@ func run(e *env, args []string) (code int) {
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
 		return exitInput
 	}
+	if len(args) == 0 {
+		// Bare nodal: the usage, on standard error as for any usage
+		// error, and exit status 2.
+		parser.Stdout = e.stderr
+		kctx, err := kong.Trace(parser, nil)
+		if err == nil {
+			err = kctx.PrintUsage(false)
+		}
+		if err != nil {
+			fmt.Fprintf(e.stderr, "nodal: %v\n", err)
+		}
+		return exitInput
+	}
 	if err := unknownCommand(parser, args); err != nil {
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
 		return exitInput

@@ -25,7 +25,7 @@ node names, values in SI with units, tolerances, and the node list.
 Example:
 
     nodal parts testdata/examples/logger_antialias.nodal
-    nodal parts filter.nodal --format json`
+    nodal parts testdata/examples/bridge_inamp.nodal --format json`
 }
 
 // partJSON is one part in the JSON output.

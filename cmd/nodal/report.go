@@ -44,8 +44,8 @@ built-in demo, a vibration-logger input stage.
 Examples:
 
     nodal report                                   # demo → nodal-report.html
-    nodal report filter.nodal --out out -o filter.html
-    nodal report filter.nodal --format text`
+    nodal report testdata/examples/logger_antialias.nodal --out out -o logger.html
+    nodal report testdata/examples/logger_antialias.nodal --format text`
 }
 
 // Run builds and writes the report.

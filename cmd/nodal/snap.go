@@ -42,8 +42,8 @@ rounding (the file is still written), 2 for bad input.
 
 Examples:
 
-    nodal snap filter.nodal --series E24
-    nodal snap filter.nodal --series R=E96,C=E12 -o filter-e96.nodal`
+    nodal snap testdata/examples/logger_antialias.nodal --series E24
+    nodal snap testdata/examples/logger_antialias.nodal --series R=E96,C=E12 -o logger-e96.nodal`
 }
 
 // seriesKinds are the part kinds --series can name, each by its letter

@@ -36,10 +36,10 @@ gnd (or --ref), or the current through a part written i(PART).
 
 Examples:
 
-    nodal sweep filter.nodal --out out --from 10Hz --to 100kHz --per-decade 20
-    nodal sweep filter.nodal --out out --at 1k,2k,5k --format json
-    nodal sweep bridge.nodal --out p --ref n --plot bode.svg
-    nodal sweep filter.nodal --out 'i(R1)' --format csv -o r1.csv`
+    nodal sweep testdata/examples/logger_antialias.nodal --out out --from 10Hz --to 100kHz --per-decade 20
+    nodal sweep testdata/examples/logger_antialias.nodal --out out --at 1k,2k,5k --format json
+    nodal sweep testdata/examples/bridge_inamp.nodal --out p --ref n --plot bode.svg
+    nodal sweep testdata/examples/logger_antialias.nodal --out 'i(R1)' --format csv -o r1.csv`
 }
 
 // sweepPoint is one JSON point.

@@ -42,11 +42,11 @@ holds a Dirac term δ(t), which is named with its weight, not sampled.
 
 Examples:
 
-    nodal time filter.nodal --out out
-    nodal time filter.nodal --out out --until 2ms --points 400 --format csv -o step.csv
-    nodal time filter.nodal --out out --plot step.svg
-    nodal time filter.nodal --out out --input impulse
-    nodal time filter.nodal --out out --input impulse --format json`
+    nodal time testdata/examples/logger_antialias.nodal --out out
+    nodal time testdata/examples/logger_antialias.nodal --out out --until 2ms --points 400 --format csv -o step.csv
+    nodal time testdata/examples/logger_antialias.nodal --out out --plot step.svg
+    nodal time testdata/examples/logger_antialias.nodal --out out --input impulse
+    nodal time testdata/examples/logger_antialias.nodal --out out --input impulse --format json`
 }
 
 // Run computes the time response.

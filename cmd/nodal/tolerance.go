@@ -52,10 +52,10 @@ decades). Ctrl-C stops and reports the runs finished.
 
 Examples:
 
-    nodal tolerance filter.nodal --out out --metric f3db --metric q
-    nodal tolerance filter.nodal --out out --metric gain@1kHz --runs 10000 --seed 7 --format json
-    nodal tolerance filter.nodal --out out --metric f0 --worst-case --sensitivity
-    nodal tolerance filter.nodal --out out --metric f3db --envelope --plot band.svg`
+    nodal tolerance testdata/examples/logger_antialias.nodal --out out --metric f3db --metric q
+    nodal tolerance testdata/examples/logger_antialias.nodal --out out --metric gain@1kHz --runs 10000 --seed 7 --format json
+    nodal tolerance testdata/examples/logger_antialias.nodal --out out --metric f0 --worst-case --sensitivity
+    nodal tolerance testdata/examples/logger_antialias.nodal --out out --metric f3db --envelope --plot band.svg`
 }
 
 // progressMinRuns is the run count from which a progress bar is shown on

@@ -91,6 +91,9 @@ func TestToleranceJSON(t *testing.T) {
 	}
 	// f3db ∝ 1/(RC): −1 %/% for each (logarithmic derivative of the closed
 	// form; common practice).
+	if len(doc.Sensitivity) != 2 || len(doc.Sensitivity[0].Items) != 2 {
+		t.Fatalf("sensitivity %+v; want two metrics with R1 and C1 each", doc.Sensitivity)
+	}
 	for _, it := range doc.Sensitivity[0].Items {
 		if doc.Sensitivity[0].Unit != "%/%" || math.Abs(it.Value+1) > 1e-6 {
 			t.Errorf("sensitivity of f3db to %s: %v %s; want −1 %%/%%", it.Item, it.Value, doc.Sensitivity[0].Unit)

@@ -40,11 +40,11 @@ that its lowest-order non-zero coefficient is 1.
 
 Examples:
 
-    nodal transfer filter.nodal --out out
-    nodal transfer filter.nodal --out out --format json
-    nodal transfer filter.nodal --out out --plot pz.svg
-    nodal transfer filter.nodal --out out --symbolic
-    nodal transfer filter.nodal --out out --symbolic --keep R1,C1
+    nodal transfer testdata/examples/logger_antialias.nodal --out out
+    nodal transfer testdata/examples/logger_antialias.nodal --out out --format json
+    nodal transfer testdata/examples/logger_antialias.nodal --out out --plot pz.svg
+    nodal transfer testdata/examples/logger_antialias.nodal --out out --symbolic
+    nodal transfer testdata/examples/tone_lowpass_ideal.nodal --out out --symbolic --keep R1,C1
 
 With --symbolic, N(s) and D(s) are exact polynomials in s whose
 coefficients are sums of products of part names (resistors as R, so

@@ -77,9 +77,9 @@ Requirements in the file:
 
 Examples:
 
-    nodal verify filter.nodal
-    nodal verify filter.nodal --out vout --runs 5000 --strict
-    nodal verify filter.nodal --format json`
+    nodal verify testdata/examples/logger_antialias.nodal
+    nodal verify testdata/examples/bridge_inamp.nodal --runs 5000 --strict
+    nodal verify testdata/examples/logger_antialias.nodal --format json`
 }
 
 // verifyReport is the JSON form of a verification.

@@ -92,7 +92,7 @@ func TestVerifyBadInput(t *testing.T) {
 	}{
 		{"no requirements", []string{"verify", write("none.nodal", rc)}, []string{"has no require statements"}},
 		{"syntax", []string{"verify", write("syntax.nodal", rc+"require f3db within 1.9kHz\n")}, []string{"syntax.nodal:4:", "within needs a range"}},
-		{"syntax col", []string{"verify", write("op.nodal", rc+"\nrequire f3db beyond 2kHz\n")}, []string{"op.nodal:5:"}},
+		{"syntax col", []string{"verify", write("op.nodal", rc+"\nrequire f3db beyond 2kHz\n")}, []string{"op.nodal:5:14:", "unexpected \"beyond\""}},
 		{"unknown metric", []string{"verify", write("metric.nodal", rc+"require bandwidth below 2kHz\n")}, []string{"metric.nodal:4:9", "unknown metric \"bandwidth\"", "f3db", "gain@F", "q"}},
 		{"no out node", []string{"verify", write("noout.nodal", strings.ReplaceAll(rc, "out", "v2")+"require f3db below 2kHz\n")}, []string{"no node named out", "--out"}},
 		{"bad runs", []string{"verify", "testdata/bridge_pass.nodal", "--runs", "-1"}, []string{"--runs"}},
