@@ -18,7 +18,7 @@ type checkCmd struct {
 	probeArgs
 	ODE    string `name:"ode" help:"Your differential equation, e.g. \"R1*C1*y' + y = u\"." placeholder:"EQUATION" xor:"derivation"`
 	TF     string `name:"tf" help:"Your transfer function in s, e.g. \"1/(1 + s*R1*C1)\"." placeholder:"EXPRESSION" xor:"derivation"`
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
@@ -52,6 +52,11 @@ Examples:
 
 // Run compares and prints the verdict.
 func (c *checkCmd) Run(e *env) error {
+	format, err := chooseFormat(c.Format, c.Output, "table", "json")
+	if err != nil {
+		return err
+	}
+	c.Format = format
 	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
 		return err
 	}

@@ -16,7 +16,7 @@ type driveCmd struct {
 	probeArgs
 	Signal string `required:"" help:"Input signal, e.g. \"0.8*sin(2*pi*400*t)\" or \"1.5*cos(2*pi*50*t + 30deg) + 2\"." placeholder:"EXPRESSION"`
 	All    bool   `help:"Also print the phasor of every node (single-frequency drive only)."`
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
@@ -43,6 +43,11 @@ type nodePhasor struct {
 
 // Run computes the steady state.
 func (c *driveCmd) Run(e *env) error {
+	format, err := chooseFormat(c.Format, c.Output, "table", "json")
+	if err != nil {
+		return err
+	}
+	c.Format = format
 	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
 		return err
 	}

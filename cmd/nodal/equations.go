@@ -12,7 +12,7 @@ import (
 type equationsCmd struct {
 	circuitArgs
 	In     string `help:"Input source whose unit amplitude makes b; may be left out when the circuit has one source." placeholder:"SOURCE"`
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
@@ -29,6 +29,11 @@ Example:
 
 // Run prints the equations.
 func (c *equationsCmd) Run(e *env) error {
+	format, err := chooseFormat(c.Format, c.Output, "table", "json")
+	if err != nil {
+		return err
+	}
+	c.Format = format
 	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
 		return err
 	}

@@ -19,7 +19,7 @@ type impedanceCmd struct {
 	Node string `help:"The impedance between this node and gnd (or --ref), every independent source zeroed." placeholder:"NODE"`
 	Ref  string `help:"With --node: the other node of the impedance (default gnd)." placeholder:"NODE"`
 	freqArgs
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot   string `help:"Also draw |Z| (Ω, log axis) and its phase to this file (.svg or .png)." placeholder:"FILE" type:"path"`
 	symbolicArgs
@@ -81,6 +81,14 @@ type impedanceJSON struct {
 
 // Run prints the impedance report.
 func (c *impedanceCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+		return err
+	}
+	format, err := chooseFormat(c.Format, c.Output, "table", "json")
+	if err != nil {
+		return err
+	}
+	c.Format = format
 	if err := c.symbolicArgs.check(); err != nil {
 		return err
 	}

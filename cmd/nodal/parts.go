@@ -13,7 +13,7 @@ import (
 // partsCmd prints the elaborated circuit: what nodal understood.
 type partsCmd struct {
 	circuitArgs
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
@@ -45,6 +45,11 @@ type partJSON struct {
 
 // Run prints the parts.
 func (c *partsCmd) Run(e *env) error {
+	format, err := chooseFormat(c.Format, c.Output, "table", "json")
+	if err != nil {
+		return err
+	}
+	c.Format = format
 	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
 		return err
 	}

@@ -26,7 +26,7 @@ type reportCmd struct {
 	Out    string   `help:"Output node (default: the node named out)." placeholder:"NODE"`
 	Ref    string   `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 	Output string   `short:"o" help:"Report file (default nodal-report.html; with --format text, standard output)." placeholder:"FILE" type:"path"`
-	Format string   `help:"html: one self-contained HTML file; text: the same sections as terminal tables." enum:"html,text" default:"html"`
+	Format string   `help:"html: one self-contained HTML file; text: the same sections as terminal tables. (default: from the -o extension, .txt for text, else html)" placeholder:"html|text"`
 	Runs   int      `help:"Monte Carlo runs when the file has tolerances." default:"2000"`
 	Seed   uint64   `help:"Seed of the Monte Carlo draws." default:"1"`
 	Force  bool     `help:"With no -o, overwrite nodal-report.html even when nodal did not write it."`
@@ -50,11 +50,15 @@ Examples:
 
 // Run builds and writes the report.
 func (c *reportCmd) Run(e *env) error {
+	format, err := chooseFormat(c.Format, c.Output, "html", "text")
+	if err != nil {
+		return err
+	}
+	c.Format = format
 	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
 		return err
 	}
 	var l *loaded
-	var err error
 	path := c.Output
 	if path == "" && c.Format == "html" {
 		if path, err = defaultReportPath(c.Force); err != nil {

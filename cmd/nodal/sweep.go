@@ -21,7 +21,7 @@ type sweepCmd struct {
 	Out []string `required:"" help:"Output node, or i(PART) for a part's current; repeat for several traces." placeholder:"NODE"`
 	Ref string   `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 	freqArgs
-	Format  string `help:"Output format: table, csv or json." enum:"table,csv,json" default:"table"`
+	Format  string `help:"Output format: table, csv or json (default: from the -o extension, else table)." placeholder:"table|csv|json"`
 	Output  string `short:"o" help:"Write the table/CSV/JSON to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot    string `help:"Also draw a Bode plot to this file (.svg or .png)." placeholder:"FILE" type:"path"`
 	Workers int    `help:"Goroutines for the sweep (default: all cores)." default:"0"`
@@ -73,6 +73,11 @@ type sweepJSON struct {
 
 // Run sweeps every output.
 func (c *sweepCmd) Run(e *env) error {
+	format, err := chooseFormat(c.Format, c.Output, "table", "csv", "json")
+	if err != nil {
+		return err
+	}
+	c.Format = format
 	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
 		return err
 	}

@@ -21,7 +21,7 @@ type timeCmd struct {
 	Input  string `help:"The input signal: a unit step or a unit impulse." enum:"step,impulse" default:"step"`
 	Until  string `help:"End of the time span, e.g. 5ms (default: from the slowest pole, about 7 time constants or 10 periods)." placeholder:"T"`
 	Points int    `help:"Number of samples from t = 0 to the end." default:"200"`
-	Format string `help:"Output format: table, csv or json." enum:"table,csv,json" default:"table"`
+	Format string `help:"Output format: table, csv or json (default: from the -o extension, else table)." placeholder:"table|csv|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot   string `help:"Also plot the response to this file (.svg or .png)." placeholder:"FILE" type:"path"`
 }
@@ -54,6 +54,11 @@ func (c *timeCmd) Run(e *env) error { return c.run(e, c.Input) }
 
 // run computes and prints a time response of the given kind.
 func (c *timeCmd) run(e *env, kind string) error {
+	format, err := chooseFormat(c.Format, c.Output, "table", "csv", "json")
+	if err != nil {
+		return err
+	}
+	c.Format = format
 	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
 		return err
 	}

@@ -29,7 +29,7 @@ type toleranceCmd struct {
 	Sensitivity bool     `help:"Also report each metric's sensitivity to every toleranced item."`
 	Envelope    bool     `help:"Also report the min–max band of |H| and phase over a sweep across the runs."`
 	freqArgs
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write the table/JSON to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot   string `help:"Draw the histograms (and with --envelope the Bode band) to this file (.svg or .png)." placeholder:"FILE" type:"path"`
 }
@@ -141,6 +141,11 @@ type toleranceResult struct {
 
 // Run performs the analyses and writes the report.
 func (c *toleranceCmd) Run(e *env) error {
+	format, err := chooseFormat(c.Format, c.Output, "table", "json")
+	if err != nil {
+		return err
+	}
+	c.Format = format
 	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
 		return err
 	}

@@ -22,7 +22,7 @@ type transferCmd struct {
 	In     string `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
 	Out    string `help:"Output node, or i(PART) for the current through a part." placeholder:"NODE"`
 	Ref    string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot   string `help:"Also draw the pole-zero map to this file (.svg or .png)." placeholder:"FILE" type:"path"`
 	symbolicArgs
@@ -157,6 +157,11 @@ func impedanceError(p tfProbe, err error) error {
 
 // Run prints the transfer function report.
 func (c *transferCmd) Run(e *env) error {
+	format, err := chooseFormat(c.Format, c.Output, "table", "json")
+	if err != nil {
+		return err
+	}
+	c.Format = format
 	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
 		return err
 	}

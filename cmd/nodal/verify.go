@@ -51,7 +51,8 @@ type verifyCmd struct {
 	Runs   int    `help:"Monte Carlo runs for the yield (0: none)." default:"1000"`
 	Seed   int64  `help:"Seed of the Monte Carlo draws." default:"1"`
 	Strict bool   `help:"Also fail (exit 1) when a requirement fails in the worst case."`
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
+	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
 // Help is the extended help with a worked example.
@@ -129,6 +130,14 @@ func proportionOut(p require.Proportion) *proportionJSON {
 
 // Run verifies and prints the verdicts.
 func (c *verifyCmd) Run(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+		return err
+	}
+	format, err := chooseFormat(c.Format, c.Output, "table", "json")
+	if err != nil {
+		return err
+	}
+	c.Format = format
 	if c.Runs < 0 {
 		return fmt.Errorf("--runs must be ≥ 0, got %d", c.Runs)
 	}
@@ -185,7 +194,7 @@ func (c *verifyCmd) Run(e *env) error {
 	if res.Failed > 0 {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("%d varied builds could not be analysed and count as failing (first: %v)", res.Failed, res.FirstFailure))
 	}
-	if err := writeTo(e, "", nil, func(w io.Writer) error {
+	if err := writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
 		if c.Format == "json" {
 			return writeJSON(w, rep)
 		}
