@@ -316,7 +316,7 @@ func TestOverrides(t *testing.T) {
 }
 
 func TestMetrics(t *testing.T) {
-	if got := MetricNames(); !reflect.DeepEqual(got, []string{"gain@F", "phase@F", "f3db", "peak", "fpeak", "f0", "q", "dc"}) {
+	if got := MetricNames(); !reflect.DeepEqual(got, []string{"gain@F", "phase@F", "f3db", "peak", "peaking", "fpeak", "f0", "q", "dc"}) {
 		t.Errorf("MetricNames = %v", got)
 	}
 	for _, tc := range []struct {

@@ -57,6 +57,7 @@ type MetricSubject interface {
 	F3dBHz() (float64, error)                   // the lowest −3 dB frequency, Hz
 	PeakDB() (float64, error)                   // the largest gain on the jω axis, dB
 	PeakHz() (float64, error)                   // where it occurs, Hz
+	PeakingDB() (float64, error)                // the peak above the passband reference of a low- or high-pass, dB
 	F0Hz() (float64, error)                     // natural frequency of the dominant pair, Hz
 	Q() (float64, error)                        // quality factor of the dominant pair
 }
@@ -102,6 +103,8 @@ var metricSpecs = []MetricSpec{
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.F3dBHz() }},
 	{Name: "peak", Unit: UnitDecibel, Help: "largest gain, dB",
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.PeakDB() }},
+	{Name: "peaking", Unit: UnitDecibel, Help: "peak above the passband gain of a low- or high-pass, dB",
+		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.PeakingDB() }},
 	{Name: "fpeak", Unit: UnitHertz, Help: "frequency of the peak, Hz",
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.PeakHz() }},
 	{Name: "f0", Unit: UnitHertz, Help: "natural frequency of the dominant pair, Hz",

@@ -174,11 +174,12 @@ func (s spotSubject) DCGainDB() (float64, error) { return s.GainDBAt(0) }
 
 var errNeedsPoles = errors.New("needs the poles and zeros, not a spot solve")
 
-func (spotSubject) F3dBHz() (float64, error) { return 0, errNeedsPoles }
-func (spotSubject) PeakDB() (float64, error) { return 0, errNeedsPoles }
-func (spotSubject) PeakHz() (float64, error) { return 0, errNeedsPoles }
-func (spotSubject) F0Hz() (float64, error)   { return 0, errNeedsPoles }
-func (spotSubject) Q() (float64, error)      { return 0, errNeedsPoles }
+func (spotSubject) F3dBHz() (float64, error)    { return 0, errNeedsPoles }
+func (spotSubject) PeakDB() (float64, error)    { return 0, errNeedsPoles }
+func (spotSubject) PeakHz() (float64, error)    { return 0, errNeedsPoles }
+func (spotSubject) PeakingDB() (float64, error) { return 0, errNeedsPoles }
+func (spotSubject) F0Hz() (float64, error)      { return 0, errNeedsPoles }
+func (spotSubject) Q() (float64, error)         { return 0, errNeedsPoles }
 
 // metricUnit returns the unit of a metric's values ("dB", "deg", "Hz",
 // or "" for q and for names ParseMetric does not know).

@@ -213,7 +213,19 @@ type tfReport struct {
 	pairs     []transfer.RootPair
 	zeroPairs []transfer.RootPair
 	ode       transfer.ODE
+	// peaking is the peak above the passband gain of a low- or high-pass
+	// (dB); peakingErr is set for any other response.
+	peaking    float64
+	peakingErr error
+	// pair is the dominant second-order section (f0, Q); pairErr says why
+	// there is none ("first-order: no pole pair").
+	pair    transfer.RootPair
+	pairErr error
 }
+
+// noPeakingDB is how close to the passband gain (dB) the peak of a low- or
+// high-pass must be to print "no peaking".
+const noPeakingDB = 0.01
 
 // newTFReport computes the report figures.
 func newTFReport(r *tfResult) *tfReport {
@@ -228,6 +240,8 @@ func newTFReport(r *tfResult) *tfReport {
 	} else {
 		rep.peakErr = err
 	}
+	rep.peaking, rep.peakingErr = r.tf.PeakingDB()
+	rep.pair, rep.pairErr = r.tf.DominantPair()
 	return rep
 }
 
@@ -310,9 +324,7 @@ func (rep *tfReport) figureRows() [][2]string {
 	} else {
 		rows = append(rows, [2]string{"−3 dB frequencies", "none: " + rep.bwErr.Error()})
 	}
-	if rep.peak != nil && rep.bw != nil && rep.peak.GainDB-rep.bw.RefDB < 0.01 {
-		rows = append(rows, [2]string{"peak gain", "no peaking (within 0.01 dB of the reference)"})
-	} else if rep.peak != nil {
+	if rep.peak != nil {
 		where := notation.Eng(rep.peak.FreqHz, "Hz")
 		if rep.peak.OmegaRad == 0 {
 			where = "DC"
@@ -322,6 +334,20 @@ func (rep *tfReport) figureRows() [][2]string {
 		rows = append(rows, [2]string{"peak gain", fmt.Sprintf("%s dB at %s", fixed(rep.peak.GainDB, 3), where)})
 	} else {
 		rows = append(rows, [2]string{"peak gain", "none: " + rep.peakErr.Error()})
+	}
+	// Peaking is only of a low- or high-pass: a band-pass resonance has no
+	// passband to rise above, so it is never "no peaking".
+	if rep.peakingErr == nil {
+		if rep.peaking < noPeakingDB {
+			rows = append(rows, [2]string{"peaking", "no peaking (within 0.01 dB of the passband gain)"})
+		} else {
+			rows = append(rows, [2]string{"peaking", fmt.Sprintf("%s dB above the passband gain", fixed(rep.peaking, 3))})
+		}
+	}
+	if rep.pairErr == nil {
+		rows = append(rows, [2]string{"dominant pole pair", fmt.Sprintf("f0 %s, Q %s", notation.Eng(rep.pair.F0Hz, "Hz"), notation.Q(rep.pair.Q))})
+	} else {
+		rows = append(rows, [2]string{"dominant pole pair", "none: " + rep.pairErr.Error()})
 	}
 	return rows
 }
