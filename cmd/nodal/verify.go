@@ -85,12 +85,16 @@ Examples:
 
 // verifyReport is the JSON form of a verification.
 type verifyReport struct {
-	File         string          `json:"file"`
-	Input        string          `json:"input"`
-	Output       string          `json:"output"`
-	Runs         int             `json:"runs"`
-	Seed         int64           `json:"seed"`
-	Corners      int             `json:"corners"`
+	File    string `json:"file"`
+	Input   string `json:"input"`
+	Output  string `json:"output"`
+	Runs    int    `json:"runs"`
+	Seed    int64  `json:"seed"`
+	Corners int    `json:"corners"`
+	// Toleranced counts the toleranced parts and lets; with none, the
+	// worst case is the nominal circuit and no Monte Carlo runs (runs 0,
+	// no yield): see noTolerancesNote.
+	Toleranced   int             `json:"toleranced_items"`
 	Failed       int             `json:"failed_evaluations"`
 	Requirements []verdictJSON   `json:"requirements"`
 	Yield        *proportionJSON `json:"yield_all,omitempty"`
@@ -100,15 +104,18 @@ type verifyReport struct {
 }
 
 type verdictJSON struct {
-	Requirement string          `json:"requirement"`
-	Line        int             `json:"line"`
-	Unit        string          `json:"unit"`
-	Nominal     *float64        `json:"nominal"`
-	NominalPass bool            `json:"nominal_pass"`
-	WorstMin    *float64        `json:"worst_min"`
-	WorstMax    *float64        `json:"worst_max"`
-	WorstPass   bool            `json:"worst_pass"`
-	Yield       *proportionJSON `json:"yield,omitempty"`
+	Requirement string   `json:"requirement"`
+	Line        int      `json:"line"`
+	Unit        string   `json:"unit"`
+	Nominal     *float64 `json:"nominal"`
+	// NominalReason says why nominal is null ("q: first-order: no pole
+	// pair").
+	NominalReason string          `json:"nominal_reason,omitempty"`
+	NominalPass   bool            `json:"nominal_pass"`
+	WorstMin      *float64        `json:"worst_min"`
+	WorstMax      *float64        `json:"worst_max"`
+	WorstPass     bool            `json:"worst_pass"`
+	Yield         *proportionJSON `json:"yield,omitempty"`
 
 	nominal, worstMin, worstMax float64 // as evaluated, ±Inf and NaN included, for the table
 }
@@ -157,10 +164,14 @@ func (c *verifyCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	opt := require.VerifyOptions{Runs: c.Runs, Seed: uint64(c.Seed)}
+	runs := c.Runs
+	if len(l.circuit.Variations) == 0 {
+		runs = 0 // every draw is the nominal circuit
+	}
+	opt := require.VerifyOptions{Runs: runs, Seed: uint64(c.Seed)}
 	finish := func() {}
-	if e.stderrIsTerminal && c.Runs > 0 {
-		bar := progressbar.NewOptions(c.Runs, progressbar.OptionSetWriter(e.stderr), progressbar.OptionSetDescription("verify"),
+	if e.stderrIsTerminal && runs > 0 {
+		bar := progressbar.NewOptions(runs, progressbar.OptionSetWriter(e.stderr), progressbar.OptionSetDescription("verify"),
 			progressbar.OptionShowCount(), progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
 		opt.Progress = func(done int) { _ = bar.Set(done) }
 		finish = func() { _ = bar.Finish() }
@@ -175,8 +186,9 @@ func (c *verifyCmd) Run(e *env) error {
 		return err
 	}
 	rep := &verifyReport{
-		File: l.name, Input: sys.Input.Source, Output: response.OutputLabel(sys.Output), Runs: c.Runs, Seed: c.Seed, Corners: res.Corners,
-		Failed: res.Failed, Yield: proportionOut(res.Yield), PassNominal: res.PassNominal(), PassWorst: res.PassWorst(),
+		File: l.name, Input: sys.Input.Source, Output: response.OutputLabel(sys.Output), Runs: runs, Seed: c.Seed, Corners: res.Corners,
+		Toleranced: len(l.circuit.Variations),
+		Failed:     res.Failed, Yield: proportionOut(res.Yield), PassNominal: res.PassNominal(), PassWorst: res.PassWorst(),
 	}
 	for i, d := range res.Verdicts {
 		unit, _ := netlist.MetricUnit(metricBase(d.Requirement.Metric))
@@ -188,8 +200,12 @@ func (c *verifyCmd) Run(e *env) error {
 			nominal: d.Nominal, worstMin: d.WorstMin, worstMax: d.WorstMax,
 		})
 		if why[i] != nil {
+			rep.Requirements[len(rep.Requirements)-1].NominalReason = why[i].Error()
 			rep.Notes = append(rep.Notes, fmt.Sprintf("%s: at nominal values: %v", d.Requirement.Text, why[i]))
 		}
+	}
+	if rep.Toleranced == 0 {
+		rep.Notes = append(rep.Notes, noTolerancesNote)
 	}
 	if res.Failed > 0 {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("%d varied builds could not be analysed and count as failing (first: %v)", res.Failed, res.FirstFailure))
@@ -242,6 +258,10 @@ func passText(ok bool) string {
 }
 
 // yieldText is "97.3 % [96.1, 98.2]".
+// noTolerancesNote replaces the corner and run counts when no part or let
+// carries a tolerance.
+const noTolerancesNote = "no toleranced parts: worst case and yield equal nominal"
+
 func yieldText(p *proportionJSON) string {
 	if p == nil {
 		return "-"
@@ -253,22 +273,35 @@ func verifyTable(w io.Writer, rep *verifyReport) error {
 	fmt.Fprintf(w, "%s: requirements on the output %s driven by %s\n", rep.File, rep.Output, rep.Input)
 	t := newTable(w, "requirement", "nominal", "verdict", "worst case", "verdict", "yield [95 % CI]")
 	for _, v := range rep.Requirements {
-		worst := "-"
-		if !math.IsNaN(v.worstMin) {
+		worst, yield := "-", yieldText(v.Yield)
+		switch {
+		case rep.Toleranced == 0:
+			worst, yield = "as nominal", "as nominal"
+		case !math.IsNaN(v.worstMin):
 			worst = metricText(v.worstMin, v.Unit) + " .. " + metricText(v.worstMax, v.Unit)
 		}
 		nominal := metricText(v.nominal, v.Unit)
-		if err := t.row(strings.TrimPrefix(v.Requirement, "require "), nominal, passText(v.NominalPass), worst, passText(v.WorstPass), yieldText(v.Yield)); err != nil {
+		if err := t.row(strings.TrimPrefix(v.Requirement, "require "), nominal, passText(v.NominalPass), worst, passText(v.WorstPass), yield); err != nil {
 			return err
 		}
 	}
-	if err := t.row("all", "", passText(rep.PassNominal), "", passText(rep.PassWorst), yieldText(rep.Yield)); err != nil {
+	allYield := yieldText(rep.Yield)
+	if rep.Toleranced == 0 {
+		allYield = "as nominal"
+	}
+	if err := t.row("all", "", passText(rep.PassNominal), "", passText(rep.PassWorst), allYield); err != nil {
 		return err
 	}
 	if err := t.render(); err != nil {
 		return err
 	}
-	fmt.Fprintf(w, "worst case over %d corners; yield from %d Monte Carlo runs (seed %d)\n", rep.Corners, rep.Runs, rep.Seed)
+	switch {
+	case rep.Toleranced == 0: // said in the notes
+	case rep.Runs == 0:
+		fmt.Fprintf(w, "worst case over %d corners; no Monte Carlo runs (--runs 0)\n", rep.Corners)
+	default:
+		fmt.Fprintf(w, "worst case over %d corners; yield from %d Monte Carlo runs (seed %d)\n", rep.Corners, rep.Runs, rep.Seed)
+	}
 	for _, n := range rep.Notes {
 		fmt.Fprintf(w, "note: %s\n", n)
 	}

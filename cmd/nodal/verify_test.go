@@ -109,3 +109,29 @@ func TestVerifyBadInput(t *testing.T) {
 		}
 	}
 }
+
+func TestVerifyWithoutTolerances(t *testing.T) {
+	// No part carries a tolerance: the worst case and the yield are the
+	// nominal circuit, said in words, with no corner count and no runs.
+	src := "Vb: voltage source (in, gnd) 1\nRf: resistor (in, out) 10k\nCf: capacitor (out, gnd) 10nF\nrequire f3db within 1.5kHz..1.7kHz\nrequire q below 1\n"
+	r := runNodal(t, src, "verify", "-")
+	if r.code != exitVerdict {
+		t.Fatalf("exit %d (q of a first-order circuit fails)\n%s%s", r.code, r.stdout, r.stderr)
+	}
+	for _, w := range []string{"no toleranced parts: worst case and yield equal nominal", "as nominal", "first-order: no pole pair"} {
+		if !strings.Contains(r.stdout, w) {
+			t.Errorf("output lacks %q:\n%s", w, r.stdout)
+		}
+	}
+	if strings.Contains(r.stdout, "0 corners") || strings.Contains(r.stdout, "Monte Carlo") {
+		t.Errorf("corner or run count printed:\n%s", r.stdout)
+	}
+	r = runNodal(t, src, "verify", "-", "--format", "json")
+	var doc verifyReport
+	if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if doc.Toleranced != 0 || doc.Runs != 0 || doc.Yield != nil || len(doc.Requirements) != 2 || doc.Requirements[1].NominalReason != "q: first-order: no pole pair" {
+		t.Errorf("JSON %+v", doc)
+	}
+}
