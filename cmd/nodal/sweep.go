@@ -93,13 +93,12 @@ func (c *sweepCmd) Run(e *env) error {
 		}
 		systems = append(systems, sys)
 	}
-	// Each system's transfer function serves the default range and the
-	// plot's marks; extract it once.
+	// Each system's transfer function serves the default range, the
+	// plot's marks and the exact zero group delay of a response that does
+	// not depend on frequency; extract it once.
 	tfs := make([]*transfer.TransferFunction, len(systems))
 	for i, sys := range systems {
-		if i == 0 || c.Plot != "" {
-			tfs[i] = systemTF(sys)
-		}
+		tfs[i] = systemTF(sys)
 	}
 	freqs, err := c.frequencies(func() (float64, float64) { return rangeOf(l, tfs[0]) })
 	if err != nil {
@@ -115,6 +114,15 @@ func (c *sweepCmd) Run(e *env) error {
 			return err
 		}
 		resps = append(resps, r)
+	}
+	for i, r := range resps {
+		if tfs[i] != nil && frequencyIndependent(tfs[i]) {
+			for k := range r.GroupDelayS {
+				if !r.AtPole[k] {
+					r.GroupDelayS[k] = 0 // no pole or zero: exactly no delay
+				}
+			}
+		}
 	}
 	if c.Plot != "" {
 		if err := writeBodePlot(e, c.Plot, []string{c.File, c.Output}, l, tfs, resps); err != nil {

@@ -47,8 +47,8 @@ items (otherwise the two corners the sensitivity signs point to) and
 names the corner giving each extreme. --sensitivity gives
 (∂M/M)/(∂x/x) in %/% for Hz and q metrics, dB/% or deg/% for dB and
 phase metrics, largest first. --envelope sweeps |H| and phase for every
-run (--from, --to, --per-decade; default: the poles and zeros ± two
-decades). Ctrl-C stops and reports the runs finished.
+run (--from, --to, --per-decade; default: the poles and zeros that shape
+the response within 100 dB of its largest gain, ± a decade). Ctrl-C stops and reports the runs finished.
 
 Examples:
 
