@@ -20,6 +20,7 @@ var schemaCases = []struct {
 	args []string
 }{
 	{"parts", []string{"parts", rcFile, "--format", "json"}},
+	{"parts_params", []string{"parts", "../../testdata/examples/logger_antialias.nodal", "--format", "json"}},
 	{"equations", []string{"equations", rcFile, "--format", "json"}},
 	{"sweep", []string{"sweep", rcFile, "--out", "out", "--at", "1k,2k", "--format", "json"}},
 	{"transfer", []string{"transfer", "../../testdata/examples/logger_antialias.nodal", "--out", "out", "--format", "json"}},

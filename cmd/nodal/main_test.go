@@ -307,3 +307,37 @@ func TestReportDemoWritesDefaultFile(t *testing.T) {
 }
 
 const reportSafety = "does not check voltage, power or isolation ratings"
+
+func TestPartsInheritedTolerances(t *testing.T) {
+	// logger_antialias: C1 = 2*Q*C0 and C2 = C0/(2*Q) follow the
+	// toleranced let C0 = 10nF ±5%; R = 1/(2*pi*fc*C0) is a design let
+	// (nominal in every draw), so R1 and R2 keep their own ±1 % only.
+	const file = "../../testdata/examples/logger_antialias.nodal"
+	r := runNodal(t, "", "parts", file)
+	if r.code != 0 {
+		t.Fatalf("exit %d: %s", r.code, r.stderr)
+	}
+	if strings.Count(r.stdout, "│ ±5 % via C0 │") != 2 || strings.Count(r.stdout, "via") != 2 {
+		t.Errorf("want C1 and C2 alone ±5 %% via C0:\n%s", r.stdout)
+	}
+	r = runNodal(t, "", "parts", file, "--format", "json")
+	var doc partsDoc
+	if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	via := map[string]string{}
+	for _, p := range doc.Parts {
+		for _, h := range p.Inherited {
+			via[p.Name] += h.Param
+		}
+	}
+	if len(via) != 2 || via["C1"] != "C0" || via["C2"] != "C0" {
+		t.Errorf("inherited %v; want C1 and C2 via C0", via)
+	}
+	if len(doc.Params) != 1 || doc.Params[0].Name != "C0" || doc.Params[0].Tol != 0.05 || doc.Params[0].Nominal != 10e-9 {
+		t.Errorf("toleranced params %+v", doc.Params)
+	}
+	if len(doc.Requirements) != 4 || doc.Requirements[2].Metric != "gain@20kHz" || doc.Requirements[2].Unit != "dB" {
+		t.Errorf("requirements %+v", doc.Requirements)
+	}
+}

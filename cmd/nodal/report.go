@@ -156,8 +156,9 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 		Source:  report.Source{Name: l.name, SHA256: report.Checksum(l.src)},
 		Version: version,
 	}
-	for _, p := range c.Parts {
-		d.Parts = append(d.Parts, report.Part{Name: p.Name, Kind: p.Kind.String(), Nodes: reportNodes(p), Value: partValueText(p), Tolerance: reportTol(p.Tol)})
+	via := inheritedTols(c)
+	for i, p := range c.Parts {
+		d.Parts = append(d.Parts, report.Part{Name: p.Name, Kind: p.Kind.String(), Nodes: reportNodes(p), Value: partValueText(p), Tolerance: reportTol(p, via[i])})
 	}
 	r, err := extractTF(l, q)
 	if err != nil {
@@ -277,12 +278,13 @@ func reportNodes(p netlist.Part) []string {
 	return append([]string(nil), p.Nodes...)
 }
 
-// reportTol formats a tolerance for the report ("" for none).
-func reportTol(t netlist.Tolerance) string {
-	if t.Rel == 0 {
+// reportTol is the tolerance column of a part in the report: its own and
+// those it follows ("±5 % via C"), "" for none.
+func reportTol(p netlist.Part, via []netlist.Variation) string {
+	if p.Tol.Rel == 0 && len(via) == 0 {
 		return ""
 	}
-	return tolText(t)
+	return partTolText(p, via)
 }
 
 // responseRows is the report's frequency-response table: one point per
