@@ -64,6 +64,9 @@ type env struct {
 	stderr io.Writer
 	// stderrIsTerminal enables progress bars.
 	stderrIsTerminal bool
+	// args are the command-line arguments after the program name, as
+	// given (the report's header shows them).
+	args []string
 }
 
 // verdictError marks a failed verdict: exit status 1, not 2.
@@ -133,6 +136,7 @@ func run(e *env, args []string) (code int) {
 			code = exitInput
 		}
 	}()
+	e.args = args
 	var c cli
 	parser, err := kong.New(&c,
 		kong.Name("nodal"),

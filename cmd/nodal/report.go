@@ -9,6 +9,9 @@ import (
 	"math"
 	"os"
 	"slices"
+	"strconv"
+	"strings"
+	"time"
 
 	"nodal/analysis/response"
 	"nodal/analysis/timeresp"
@@ -94,6 +97,8 @@ func (c *reportCmd) Run(e *env) error {
 		return err
 	}
 	d.Source.BuiltIn = builtIn
+	d.Generated = reportDate()
+	d.CommandLine = commandLine(e.args)
 	if c.Format == "text" {
 		return writeTo(e, path, []string{c.File}, func(w io.Writer) error { return report.RenderText(w, d) })
 	}
@@ -102,6 +107,31 @@ func (c *reportCmd) Run(e *env) error {
 	}
 	fmt.Fprintf(e.stderr, "nodal: wrote %s\n", path)
 	return nil
+}
+
+// reportDate is when the report is made, in UTC to the minute; the
+// SOURCE_DATE_EPOCH convention (seconds since 1970) fixes it for
+// reproducible output.
+func reportDate() string {
+	t := time.Now()
+	if sec, err := strconv.ParseInt(os.Getenv("SOURCE_DATE_EPOCH"), 10, 64); err == nil {
+		t = time.Unix(sec, 0)
+	}
+	return t.UTC().Format("2006-01-02 15:04 UTC")
+}
+
+// commandLine writes the command as a shell would read it back: "nodal"
+// and the arguments, each quoted when it holds a space or a character the
+// shell treats specially.
+func commandLine(args []string) string {
+	words := []string{"nodal"}
+	for _, a := range args {
+		if a == "" || strings.ContainsAny(a, " \t\n'\"\\$`*?[]()<>|&;#~!{}") {
+			a = "'" + strings.ReplaceAll(a, "'", `'\''`) + "'"
+		}
+		words = append(words, a)
+	}
+	return strings.Join(words, " ")
 }
 
 // defaultReportName is the report file written when no -o is given.
@@ -152,9 +182,11 @@ func foreignFile(path string) bool {
 func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report.Data, error) {
 	c := l.circuit
 	d := &report.Data{
-		Title:   c.Title,
-		Source:  report.Source{Name: l.name, SHA256: report.Checksum(l.src)},
-		Version: version,
+		Title:      c.Title,
+		Source:     report.Source{Name: l.name, SHA256: report.Checksum(l.src)},
+		Version:    version,
+		SourceText: string(l.src),
+		// Banners: a stability check adds "unstable" here.
 	}
 	via := inheritedTols(c)
 	for i, p := range c.Parts {

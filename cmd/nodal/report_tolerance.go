@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"math"
 
 	"nodal/analysis/require"
 	"nodal/analysis/response"
@@ -123,7 +124,8 @@ func addVerdicts(e *env, c *netlist.Circuit, in mna.Input, out mna.Output, d *re
 		if m, err := transfer.ParseMetric(v.Requirement.Metric); err == nil {
 			unit = m.Unit()
 		}
-		rv := report.Verdict{Requirement: v.Requirement.Text, Value: v.Nominal, Unit: unit, Pass: v.NominalPass}
+		rv := report.Verdict{Requirement: v.Requirement.Text, Value: v.Nominal, Unit: unit, Pass: v.NominalPass,
+			Worst: res.Corners > 0 && !math.IsNaN(v.WorstMin), WorstMin: v.WorstMin, WorstMax: v.WorstMax, WorstPass: v.WorstPass}
 		if runs > 0 {
 			y := v.Yield.Fraction
 			rv.Yield = &y
@@ -131,7 +133,7 @@ func addVerdicts(e *env, c *netlist.Circuit, in mna.Input, out mna.Output, d *re
 		d.Verdicts = append(d.Verdicts, rv)
 		if v.NominalPass && !v.WorstPass {
 			d.Notes = append(d.Notes, fmt.Sprintf("%s passes at nominal but not in the worst case (%s .. %s).",
-				v.Requirement.Text, num(v.WorstMin), num(v.WorstMax)))
+				v.Requirement.Text, metricText(v.WorstMin, unit), metricText(v.WorstMax, unit)))
 		}
 	}
 	return nil

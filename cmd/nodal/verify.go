@@ -235,19 +235,10 @@ func metricBase(metric string) string {
 
 // metricText formats a metric value in its unit.
 func metricText(v float64, unit string) string {
-	switch {
-	case math.IsNaN(v):
+	if math.IsNaN(v) {
 		return "-"
-	case math.IsInf(v, 0):
-		return num(v) + " " + unit
-	case unit == netlist.UnitDecibel:
-		return fixed(v, 2) + " dB"
-	case unit == netlist.UnitDegree:
-		return fixed(v, 1) + "°"
-	case unit == "":
-		return trimFloat(v, 4)
 	}
-	return notation.Eng(v, unit)
+	return notation.Metric(v, unit)
 }
 
 func passText(ok bool) string {
@@ -257,11 +248,11 @@ func passText(ok bool) string {
 	return "FAIL"
 }
 
-// yieldText is "97.3 % [96.1, 98.2]".
 // noTolerancesNote replaces the corner and run counts when no part or let
 // carries a tolerance.
 const noTolerancesNote = "no toleranced parts: worst case and yield equal nominal"
 
+// yieldText is "97.3 % [96.1, 98.2]".
 func yieldText(p *proportionJSON) string {
 	if p == nil {
 		return "-"
