@@ -73,7 +73,7 @@ func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs i
 		var hists []*plot.Figure
 		for _, m := range res.Metrics {
 			mc.Stats = append(mc.Stats, report.Stat{Name: m.Name, Unit: m.Unit, Nominal: m.Nominal, Mean: m.Mean, StdDev: m.Std, Min: m.Min, Max: m.Max})
-			h, err := plot.Histogram(metricLabel(m.Name, m.Unit), m.Samples, 0, m.Nominal)
+			h, err := metricHistogram(c, m.Name, m.Unit, m.Samples, m.Nominal)
 			if err != nil {
 				return err
 			}
@@ -84,7 +84,7 @@ func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs i
 			if err != nil {
 				return err
 			}
-			mc.Histograms = report.Plot{Figure: fig, Caption: fmt.Sprintf("metric histograms over %d runs (nominal marked)", res.Finished)}
+			mc.Histograms = report.Plot{Figure: fig, Caption: fmt.Sprintf("metric histograms over %d runs (nominal and requirement limits marked)", res.Finished)}
 		}
 	}
 	lo, hi := rangeOf(l, r.tf)

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"nodal/cmd/nodal/notation"
 	"strings"
 	"time"
 
@@ -329,12 +330,52 @@ func cornerDoc(c variation.ToleranceCorner) cornerJSON {
 	return cornerJSON{High: append([]string{}, c.High...), Low: append([]string{}, c.Low...)}
 }
 
-// metricLabel is a metric with its unit, "f3db (Hz)".
+// metricLabel is a metric with its unit, "f3db (Hz)", for tables.
 func metricLabel(name, unit string) string {
 	if unit == "" {
 		return name
 	}
 	return name + " (" + unit + ")"
+}
+
+// metricHistogram draws the Monte Carlo histogram of one metric with its
+// label in words, its nominal value and the limits of c's requirements on
+// it, in its unit.
+func metricHistogram(c *netlist.Circuit, name, unit string, samples []float64, nominal float64) (*plot.Figure, error) {
+	var limits []float64
+	for _, r := range c.Requirements {
+		if r.Metric != name {
+			continue
+		}
+		switch r.Op {
+		case netlist.Within:
+			limits = append(limits, r.Lo, r.Hi)
+		case netlist.Below:
+			limits = append(limits, r.Hi)
+		case netlist.Above:
+			limits = append(limits, r.Lo)
+		}
+	}
+	return plot.MetricHistogram(plot.HistogramSpec{Label: metricAxisLabel(name, unit), Values: samples, Nominal: nominal, Unit: unit, Limits: limits})
+}
+
+// metricAxisLabel is a metric in words with its unit, for axis labels:
+// "−3 dB frequency (Hz)", "gain at 20 kHz (dB)", "quality factor Q".
+func metricAxisLabel(name, unit string) string {
+	words := name
+	if spec, p, err := netlist.ParseMetric(name); err == nil && spec.Label != "" {
+		words = spec.Label
+		if spec.Param == netlist.MetricParamFreq {
+			words = strings.Replace(words, "F", notation.Eng(p.FreqHz, "Hz"), 1)
+		}
+	}
+	switch unit {
+	case "":
+		return words
+	case netlist.UnitDegree:
+		unit = "°"
+	}
+	return words + " (" + unit + ")"
 }
 
 // toleranceTables prints the results as terminal tables.
@@ -487,7 +528,7 @@ func (c *toleranceCmd) writePlot(e *env, l *loaded, r *toleranceResult) error {
 		figs = append(figs, fig)
 	}
 	for _, m := range r.mc.Metrics {
-		fig, err := plot.Histogram(metricLabel(m.Name, m.Unit), m.Samples, 0, m.Nominal)
+		fig, err := metricHistogram(l.circuit, m.Name, m.Unit, m.Samples, m.Nominal)
 		if err != nil {
 			return err
 		}
