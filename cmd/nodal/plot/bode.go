@@ -216,19 +216,93 @@ func addMarks(pn *panel, name string, pts [][2]float64, notes []string, shape dr
 	return addNotes(pn, xys, notes)
 }
 
-// addNotes writes notes[i] just above and right of xys[i]; annotations,
-// not data, so no series is recorded.
+// addNotes writes notes[i] beside xys[i]; annotations, not data, so no
+// series is recorded. Every note of a panel is placed by one notePlotter,
+// which keeps them from overlapping each other (see notePlotter.Plot).
 func addNotes(pn *panel, xys plotter.XYs, notes []string) error {
-	lb, err := plotter.NewLabels(plotter.XYLabels{XYs: xys, Labels: notes})
-	if err != nil {
-		return fmt.Errorf("plot: %s notes: %w", pn.name, err)
+	if len(xys) != len(notes) {
+		return fmt.Errorf("plot: %s notes: %d points for %d notes", pn.name, len(xys), len(notes))
 	}
-	for i := range lb.TextStyle {
-		lb.TextStyle[i] = noteStyle()
+	for i, xy := range xys {
+		pn.addNote(note{x: xy.X, y: xy.Y, text: notes[i], style: noteStyle()})
 	}
-	lb.Offset = vg.Point{X: vg.Points(5), Y: vg.Points(3)}
-	pn.p.Add(lb)
 	return nil
+}
+
+// addNote adds one note to the panel's notePlotter.
+func (pn *panel) addNote(n note) {
+	if pn.notes == nil {
+		pn.notes = &notePlotter{pn: pn}
+		pn.p.Add(pn.notes)
+	}
+	pn.notes.notes = append(pn.notes.notes, n)
+}
+
+// note is one annotation at a data point, in its text style.
+type note struct {
+	x, y  float64
+	text  string
+	style draw.TextStyle
+}
+
+// notePlotter draws a panel's notes. Each goes just above and right of its
+// point unless that box meets a note already placed or leaves the data
+// area: then below right, above left, below left, then stepped up or down
+// by a line at a time, the first free place winning (the first candidate
+// when none is free). A legend inside the data area counts as placed.
+type notePlotter struct {
+	pn    *panel
+	notes []note
+}
+
+// Plot implements gonum's Plotter.
+func (np *notePlotter) Plot(c draw.Canvas, p *gplot.Plot) {
+	trX, trY := p.Transforms(&c)
+	gap := vg.Points(5)
+	lift := vg.Points(3)
+	var placed []vg.Rectangle
+	if np.pn != nil && !np.pn.legendOut && np.pn.legendAt.Max.X > np.pn.legendAt.Min.X {
+		placed = append(placed, np.pn.legendAt)
+	}
+	for _, n := range np.notes {
+		sty := n.style
+		x, y := trX(n.x), trY(n.y)
+		if !finite(float64(x)) || !finite(float64(y)) {
+			continue
+		}
+		r := sty.Rectangle(n.text) // relative to the point drawn at
+		w, h := r.Max.X-r.Min.X, r.Max.Y-r.Min.Y
+		box := func(dx, dy vg.Length) vg.Rectangle {
+			return vg.Rectangle{Min: vg.Point{X: x + dx + r.Min.X, Y: y + dy + r.Min.Y}, Max: vg.Point{X: x + dx + r.Max.X, Y: y + dy + r.Max.Y}}
+		}
+		var cands [][2]vg.Length
+		for k := 0; k <= 8; k++ {
+			step := vg.Length(k) * (h + vg.Points(1))
+			for _, dx := range []vg.Length{gap, -gap - w} {
+				cands = append(cands, [2]vg.Length{dx, lift + step}, [2]vg.Length{dx, -lift - h - step})
+			}
+		}
+		best := cands[0]
+		for _, cd := range cands {
+			b := box(cd[0], cd[1])
+			if b.Min.X < c.Min.X || b.Max.X > c.Max.X || b.Min.Y < c.Min.Y || b.Max.Y > c.Max.Y {
+				continue
+			}
+			free := true
+			for _, q := range placed {
+				if b.Min.X < q.Max.X && q.Min.X < b.Max.X && b.Min.Y < q.Max.Y && q.Min.Y < b.Max.Y {
+					free = false
+					break
+				}
+			}
+			if free {
+				best = cd
+				break
+			}
+		}
+		placed = append(placed, box(best[0], best[1]))
+		c.FillText(sty, vg.Point{X: x + best[0], Y: y + best[1]}, n.text)
+	}
 }
 
 // markLineStyle is the thin dotted style of vertical/horizontal marks.

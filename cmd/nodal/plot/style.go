@@ -110,6 +110,7 @@ func newPanel(title, xLabel, yLabel string) *gplot.Plot {
 	p.Legend.TextStyle.Font = sansFont(tickFontPt)
 	p.Legend.TextStyle.Color = inkColor
 	p.Legend.ThumbnailWidth = vg.Points(26)
+	p.Legend.Padding = vg.Points(3) // entries one font descent apart: their text boxes never touch
 	p.Legend.XOffs = -vg.Points(4)
 	p.Legend.YOffs = -vg.Points(4)
 	return p
