@@ -107,11 +107,11 @@ func Bode(traces []BodeTrace, opt BodeOptions) (*Figure, error) {
 		if len(magPts) < 2 {
 			return nil, fmt.Errorf("plot: trace %q has fewer than 2 finite magnitude values", labels[i])
 		}
-		if err := addTrace(mp, labels[i], magPts, st, i, len(traces), len(traces) > 1 || traces[i].Label != ""); err != nil {
+		if err := addTrace(mp, labels[i], magPts, st, len(traces) > 1 || traces[i].Label != ""); err != nil {
 			return nil, err
 		}
 		if len(phPts) >= 2 {
-			if err := addTrace(pp, labels[i], phPts, st, i, len(traces), false); err != nil {
+			if err := addTrace(pp, labels[i], phPts, st, false); err != nil {
 				return nil, err
 			}
 		}
@@ -140,30 +140,21 @@ func freqPanels(opt BodeOptions, loHz, hiHz float64) (*Figure, *panel, *panel) {
 	return fig, fig.add(PanelMagnitude, mag), fig.add(PanelPhase, ph)
 }
 
-// addTrace draws pts as the i-th of n traces: a styled line with a few
-// marker glyphs on it (offset per trace so they do not coincide), listed
-// in the legend when legend is set.
-func addTrace(pn *panel, name string, pts [][2]float64, st traceStyle, i, n int, legend bool) error {
+// addTrace draws pts as one trace: a line in the trace's colour
+// and dash pattern (styleFor), listed in the legend when legend is set.
+// No marker glyphs sit on the curve: a symbol on a curve reads as a
+// marked point (a −3 dB point, a peak), and the dash pattern already tells
+// the traces apart in grey scale.
+func addTrace(pn *panel, name string, pts [][2]float64, st traceStyle, legend bool) error {
 	xys := pn.addLineSeries(name, pts)
 	line, err := plotter.NewLine(xys)
 	if err != nil {
 		return fmt.Errorf("plot: %s %q: %w", pn.name, name, err)
 	}
 	line.LineStyle = st.line
-	const marksPerTrace = 6
-	var marks plotter.XYs
-	for k := 0; k < marksPerTrace; k++ {
-		j := int((float64(k) + float64(i+1)/float64(n+1)) * float64(len(xys)-1) / marksPerTrace)
-		marks = append(marks, xys[j])
-	}
-	sc, err := plotter.NewScatter(marks)
-	if err != nil {
-		return fmt.Errorf("plot: %s %q markers: %w", pn.name, name, err)
-	}
-	sc.GlyphStyle = st.glyph
-	pn.p.Add(line, sc)
+	pn.p.Add(line)
 	if legend {
-		pn.addLegend(name, line, sc)
+		pn.addLegend(name, line)
 	}
 	return nil
 }
