@@ -375,3 +375,19 @@ func TestRenderHeaderSourceAndVerdictColumns(t *testing.T) {
 		}
 	}
 }
+
+func TestPoleZeroMapsShareOneWidth(t *testing.T) {
+	// A map with a zoom panel (roots spread over three decades) is two
+	// squares tall; it gets the same width class as a single map, so
+	// every map panel is drawn the same size.
+	for _, poles := range [][]complex128{{-1e3, complex(-500, 800), complex(-500, -800)}, {-1e6, complex(-500, 800), complex(-500, -800)}} {
+		pz, err := plot.PoleZero(poles, nil, plot.PoleZeroOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		out := render(t, &Data{Source: Source{Name: "pz.nodal", SHA256: Checksum(nil)}, Parts: []Part{{Name: "R1"}}, PoleZero: Plot{Figure: pz}})
+		if !strings.Contains(out, `<svg class="plot-square"`) {
+			t.Errorf("poles %v: the map is not drawn at the map width", poles)
+		}
+	}
+}
