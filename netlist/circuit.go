@@ -132,6 +132,18 @@ type Part struct {
 	GBWHz float64
 	Rout  float64
 
+	// Noise model (nodal noise); zero means absent. A resistor is noisy
+	// (thermal, 4kTR) unless Noiseless. An opamp has an input voltage noise
+	// density EnVPerRtHz (V/√Hz, in series with its noninverting input)
+	// and an input current noise density InAPerRtHz (A/√Hz, from each
+	// input to Ground, the two uncorrelated), with 1/f corners FenHz and
+	// FinHz (Hz): density(f) = white·√(1 + fc/f).
+	Noiseless  bool
+	EnVPerRtHz float64
+	InAPerRtHz float64
+	FenHz      float64
+	FinHz      float64
+
 	Pos       Pos  // position of the element's name
 	ValueSpan Span // where the value expression stands in the source (empty when the value was defaulted)
 }

@@ -331,6 +331,8 @@ type itemSet struct {
 	tol    Tolerance
 	fixed  bool
 	hasTol bool
+	// noiseless is the flag `noiseless` (resistors only).
+	noiseless bool
 }
 
 // items classifies trailing items: the tolerance (±) and normal are
@@ -358,6 +360,8 @@ func (e *elab) items(sc *scope, list []*Item, what string) itemSet {
 			it.opts = append(it.opts, item.Option)
 		case bareName(item.Expr) == "fixed":
 			it.fixed = true
+		case bareName(item.Expr) == "noiseless" && what != "let":
+			it.noiseless = true
 		case bareName(item.Expr) == "normal":
 			switch {
 			case normal:

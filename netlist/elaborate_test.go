@@ -3,6 +3,7 @@ package netlist
 import (
 	"math"
 	"reflect"
+	"strings"
 	"sync"
 	"testing"
 )
@@ -316,7 +317,8 @@ func TestOverrides(t *testing.T) {
 }
 
 func TestMetrics(t *testing.T) {
-	if got := MetricNames(); !reflect.DeepEqual(got, []string{"gain@F", "phase@F", "f3db", "peak", "peaking", "fpeak", "f0", "q", "dc"}) {
+	if got := MetricNames(); !reflect.DeepEqual(got, []string{"gain@F", "phase@F", "f3db", "peak", "peaking", "fpeak", "f0", "q", "dc",
+		"phase_margin@PART", "gain_margin@PART", "crossover@PART", "stable", "noise@F", "noise_rms@F1..F2"}) {
 		t.Errorf("MetricNames = %v", got)
 	}
 	for _, tc := range []struct {
@@ -325,10 +327,57 @@ func TestMetrics(t *testing.T) {
 		f    float64
 		ok   bool
 	}{{"gain@1kHz", "gain", 1000, true}, {"phase@20k", "phase", 20000, true}, {"q", "q", 0, true},
-		{"gain", "", 0, false}, {"q@1k", "", 0, false}, {"gain@1nF", "", 0, false}, {"gainx", "", 0, false}} {
+		{"gain", "", 0, false}, {"q@1k", "", 0, false}, {"gain@1nF", "", 0, false}, {"gainx", "", 0, false},
+		{"phase_margin@U1", "phase_margin", 0, true}, {"phase_margin", "", 0, false}, {"stable", "stable", 0, true}, {"stable@U1", "", 0, false}} {
 		m, p, err := ParseMetric(tc.in)
 		if name, f := m.Name, p.FreqHz; (err == nil) != tc.ok || name != tc.name || f != tc.f {
 			t.Errorf("ParseMetric(%q) = %q %v %v", tc.in, m.Name, p.FreqHz, err)
+		}
+	}
+}
+
+// TestRequireLoopAndStable: `require stable` takes no limit (Holds), a
+// loop metric names its gain element after @, and a missing limit or a
+// limit on stable is an error at the statement.
+func TestRequireLoopAndStable(t *testing.T) {
+	src := "Vs: voltage source (in, gnd) 1\nR1: resistor (in, out) 1k\nU1: opamp (gnd, in, out) a0=1M\n" +
+		"require stable\nrequire phase_margin@U1 above 45deg\nrequire crossover@U1 within 1kHz..2MHz\n"
+	c, err := Load("loop.nodal", []byte(src), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []Requirement{
+		{Metric: "stable", Op: Holds, Text: "require stable"},
+		{Metric: "phase_margin@U1", Op: Above, Lo: 45, Text: "require phase_margin@U1 above 45deg"},
+		{Metric: "crossover@U1", Op: Within, Lo: 1e3, Hi: 2e6, Text: "require crossover@U1 within 1kHz..2MHz"},
+	}
+	for i := range want {
+		got := c.Requirements[i]
+		got.Pos = Pos{}
+		if got != want[i] {
+			t.Errorf("requirement %d = %+v, want %+v", i, got, want[i])
+		}
+	}
+	if m, p, err := ParseMetric("phase_margin@U1"); err != nil || p.Part != "U1" || !m.Circuit {
+		t.Errorf("phase_margin@U1: %+v %v", p, err)
+	}
+	if _, p, _ := ParseMetric("gain@1k"); p.Part != "" {
+		t.Errorf("gain@1k: part %q", p.Part)
+	}
+	if m, ok := LookupMetric("stable"); !ok || !m.Bare {
+		t.Error("stable is not a bare metric")
+	}
+	if !(Requirement{Op: Holds}).Pass(1) || (Requirement{Op: Holds}).Pass(0) {
+		t.Error("Holds")
+	}
+	for _, bad := range []struct{ src, want string }{
+		{"require stable above 1\n", "stable takes no limit"},
+		{"require phase_margin@U1\n", "needs a limit"},
+		{"require phase_margin above 45\n", "needs a part name"},
+	} {
+		_, err := Load("bad.nodal", []byte("Vs: voltage source (in, gnd) 1\nR1: resistor (in, gnd) 1k\n"+bad.src), nil)
+		if err == nil || !strings.Contains(err.Error(), bad.want) {
+			t.Errorf("%q: error %v, want %q", bad.src, err, bad.want)
 		}
 	}
 }

@@ -33,7 +33,7 @@ var kindSpecs = map[Kind]kindSpec{
 	VCCS:      {"(a, b)", UnitSiemens, valueRequired, nil},
 	CCVS:      {"(p, n)", UnitOhm, valueRequired, nil},
 	CCCS:      {"(a, b)", "", valueRequired, nil},
-	OpAmp:     {"(noninverting, inverting, output)", "", valueNone, []string{"a0", "gbw", "rout"}},
+	OpAmp:     {"(noninverting, inverting, output)", "", valueNone, []string{"a0", "gbw", "rout", "en", "in", "fen", "fin"}},
 	Coupling:  {"(L1, L2)", "", valueRequired, nil},
 }
 
@@ -58,6 +58,7 @@ type partStep struct {
 	a0    evalFn
 	gbw   evalFn
 	rout  evalFn
+	noise [4]evalFn // opamp en, in, fen, fin
 }
 
 // apply evaluates the part's values from slots and its own factor, and
@@ -77,6 +78,11 @@ func (s *partStep) apply(p *Part, slots []float64, factor float64) string {
 	}
 	if s.rout != nil {
 		p.Rout = s.rout(slots)
+	}
+	for i, v := range p.noiseValues() {
+		if s.noise[i] != nil {
+			*v = s.noise[i](slots)
+		}
 	}
 	return s.check(p)
 }
@@ -127,10 +133,40 @@ func (s *partStep) check(p *Part) string {
 			return fmt.Sprintf("%s must be finite and > 0, got %v", o.name, o.v)
 		}
 	}
+	for i, v := range p.noiseValues() {
+		if s.noise[i] != nil && !(*v >= 0 && finite(*v)) {
+			return fmt.Sprintf("%s must be finite and ≥ 0, got %v", noiseOptions[i].name, *v)
+		}
+	}
 	if !finite(p.PhaseRad) {
 		return "phase is not finite"
 	}
 	return ""
+}
+
+// noiseOptions are the opamp noise options in the order of
+// Part.noiseValues, with their units: en= and in= accept a trailing
+// "/rtHz" (per root hertz), which may also be left out.
+var noiseOptions = [4]struct{ name, unit string }{
+	{"en", UnitVolt}, {"in", UnitAmpere}, {"fen", UnitHertz}, {"fin", UnitHertz},
+}
+
+// noiseValues points at the opamp noise fields, in noiseOptions order.
+func (p *Part) noiseValues() [4]*float64 {
+	return [4]*float64{&p.EnVPerRtHz, &p.InAPerRtHz, &p.FenHz, &p.FinHz}
+}
+
+// perRootHz returns x without a trailing "/rtHz" (x itself when there is
+// none): en=4nV/rtHz is en=4nV.
+func perRootHz(x *Expr) *Expr {
+	if x == nil || len(x.Rest) > 0 || len(x.Left.Rest) != 1 {
+		return x
+	}
+	last := x.Left.Rest[0]
+	if last.Op != "/" || bareName(&Expr{Left: &Term{Left: last.Unary}}) != "rtHz" {
+		return x
+	}
+	return &Expr{Pos: x.Pos, Tokens: x.Tokens, Left: &Term{Pos: x.Left.Pos, Left: x.Left.Left}}
 }
 
 // maxWork bounds the statements elaborated while expanding blocks.
@@ -205,6 +241,10 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 	}
 	it := e.items(sc, st.Items, "element")
 	p.Fixed = sc.fixed || it.fixed
+	p.Noiseless = it.noiseless
+	if it.noiseless && kind != Resistor {
+		e.errorf(st.Pos, "only a resistor has thermal noise to remove", "%s %s cannot be noiseless", kind, full)
+	}
 	for _, x := range it.exprs {
 		e.errorf(x.Pos, "the value comes right after the terminals; options are NAME=VALUE", "unexpected expression")
 	}
@@ -268,6 +308,9 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 			step.gbw = compile(o.Value, UnitHertz, "gbw")
 		case kind == OpAmp && o.Key == "rout":
 			step.rout = compile(o.Value, UnitOhm, "rout")
+		case kind == OpAmp && noiseOption(o.Key) >= 0:
+			i := noiseOption(o.Key)
+			step.noise[i] = compile(perRootHz(o.Value), noiseOptions[i].unit, o.Key)
 		default:
 			hint := suggest(o.Key, spec.options)
 			if hint == "" {
@@ -275,7 +318,7 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 				if len(spec.options) > 0 {
 					takes = strings.Join(spec.options, "=, ") + "="
 				}
-				hint = kind.String() + " " + full + " takes " + takes + " and the flag fixed; " + tolHint
+				hint = kind.String() + " " + full + " takes " + takes + " and the flag fixed" + noiselessFlag(kind) + "; " + tolHint
 			}
 			e.errorf(o.Pos, hint, "unknown option %q for %s", o.Key, kind)
 		}
@@ -301,6 +344,24 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 	if dynamic || step.vi >= 0 {
 		e.m.parts = append(e.m.parts, step)
 	}
+}
+
+// noiselessFlag names the flag noiseless in the option hint of a resistor.
+func noiselessFlag(k Kind) string {
+	if k == Resistor {
+		return " or noiseless"
+	}
+	return ""
+}
+
+// noiseOption returns the index of an opamp noise option, or -1.
+func noiseOption(key string) int {
+	for i, o := range noiseOptions {
+		if o.name == key {
+			return i
+		}
+	}
+	return -1
 }
 
 func unitWord(u string) string {
@@ -364,6 +425,9 @@ func (e *elab) instance(sc *scope, st *ElementStmt, b *BlockStmt) {
 	it := e.items(sc, st.Items, "instance")
 	if it.value != nil {
 		e.errorf(it.value.Pos, "give parameters as NAME=VALUE", "a block instance takes no value")
+	}
+	if it.noiseless {
+		e.errorf(st.Pos, "mark the resistors inside the block", "a block instance cannot be noiseless")
 	}
 	for _, x := range it.exprs {
 		e.errorf(x.Pos, "give parameters as NAME=VALUE", "unexpected expression")

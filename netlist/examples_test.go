@@ -25,6 +25,11 @@ func TestExamples(t *testing.T) {
 			p, _ := c.Part("A1.Rfb")
 			return "A1.Rfb", p.Value, 24.9e3
 		},
+		// The opamp carries its noise model: en = 6 nV/√Hz.
+		"photodiode_tia.nodal": func(c *Circuit) (string, float64, float64) {
+			p, _ := c.Part("U1")
+			return "U1.en", p.EnVPerRtHz, 6e-9
+		},
 		// The bass shelf (block shelf: Rser from i to o, Rsh and Csh from
 		// o to gnd) is flat at DC and, once Csh shorts, the divider
 		// Rsh/(Rser + Rsh) (common practice for a first-order shelf). The

@@ -95,15 +95,18 @@ type EndStmt struct {
 	Kw  string `parser:"@\"end\""`
 }
 
-// RequireStmt is `require METRIC[@FREQ] within LO..HI | below HI | above LO`.
+// RequireStmt is `require METRIC[@FREQ|@PART] within LO..HI | below HI |
+// above LO`, or a metric that takes no limit (`require stable`).
 type RequireStmt struct {
 	Pos    lexer.Position
 	Tokens []lexer.Token
 	Metric *NameRef `parser:"\"require\" @@"`
-	At     *Limit   `parser:"(\"@\" @@)?"`
-	Op     string   `parser:"@(\"within\" | \"below\" | \"above\")"`
+	AtPart *NameRef `parser:"(\"@\" (@@"`
+	At     *Limit   `parser:"| @@"`
+	AtHi   *Limit   `parser:"  (Range @@)?))?"` // the upper end of a band: noise_rms@20Hz..20kHz
+	Op     string   `parser:"(@(\"within\" | \"below\" | \"above\")"`
 	Lo     *Limit   `parser:"@@"`
-	Hi     *Limit   `parser:"(Range @@)?"`
+	Hi     *Limit   `parser:"(Range @@)?)?"`
 }
 
 // Limit is a signed literal value in a requirement ("-0.5dB", "2.1kHz").

@@ -1,6 +1,7 @@
 package netlist
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"strings"
@@ -60,6 +61,39 @@ type MetricSubject interface {
 	PeakingDB() (float64, error)                // the peak above the passband reference of a low- or high-pass, dB
 	F0Hz() (float64, error)                     // natural frequency of the dominant pair, Hz
 	Q() (float64, error)                        // quality factor of the dominant pair
+
+	// The quantities judged on the whole circuit rather than on the
+	// response of the probe (a subject that has no circuit returns an
+	// error saying so):
+	Stable() (bool, error)                       // every natural frequency in the open left half-plane
+	PhaseMarginDeg(part string) (float64, error) // smallest phase margin of the loop gain around part, degrees
+	GainMarginDB(part string) (float64, error)   // smallest gain margin of that loop gain, dB
+	CrossoverHz(part string) (float64, error)    // highest gain crossover of that loop gain, Hz
+
+	// NoiseDensityAt is the output noise density at f (V/√Hz for a voltage
+	// output) and NoiseRMS the output RMS noise over loHz..hiHz (V): they
+	// need the circuit's noise sources, which a transfer function alone
+	// does not have (see MetricSpec.Noise).
+	NoiseDensityAt(freqHz float64) (float64, error)
+	NoiseRMS(loHz, hiHz float64) (float64, error)
+}
+
+// ErrNeedsNoise is what a subject without noise sources (a transfer
+// function, a spot solve) answers to NoiseDensityAt and NoiseRMS.
+var ErrNeedsNoise = errors.New("a noise metric needs the circuit's noise sources, not a transfer function")
+
+// UnitVoltPerRootHz is the unit of a noise density metric. Its limits are
+// written in volts per root hertz without the "/√Hz" (noise@1kHz below
+// 20nV), since a limit is one value token.
+const UnitVoltPerRootHz = "V/√Hz"
+
+// LimitUnit returns the unit a limit of the metric is written in: Unit,
+// except V for a density in V/√Hz.
+func (m MetricSpec) LimitUnit() string {
+	if m.Unit == UnitVoltPerRootHz {
+		return UnitVolt
+	}
+	return m.Unit
 }
 
 // MetricSpec is one entry of the metric registry: how the metric is
@@ -76,6 +110,16 @@ type MetricSpec struct {
 	// Turns is true for a phase: values are kept within ±180° of the
 	// nominal value across tolerance draws (a whole turn is the same phase).
 	Turns bool
+	// Circuit is true when Eval reads the circuit (Stable or a loop gain
+	// around a part), not the response of the requirement's probe.
+	Circuit bool
+	// Bare is true for a yes/no property written without a limit
+	// (`require stable`): Eval returns 1 for yes and 0 for no, and the
+	// requirement's comparison is Holds.
+	Bare bool
+	// Noise is true when Eval reads NoiseDensityAt or NoiseRMS: the
+	// evaluator must give the subject the circuit's noise analysis.
+	Noise bool
 	// Help says in a few words what the metric is.
 	Help string
 	// Label names the metric in words for axis labels and headings, with
@@ -117,6 +161,25 @@ var metricSpecs = []MetricSpec{
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.Q() }},
 	{Name: "dc", Label: "DC gain", Unit: UnitDecibel, Spot: true, Help: "gain at DC, dB",
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.DCGainDB() }},
+	// the loop gain around a gain element (see `nodal loop`)
+	{Name: "phase_margin", Unit: UnitDegree, Param: MetricParamPart, Circuit: true, Help: "smallest phase margin of the loop gain around PART, degrees",
+		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.PhaseMarginDeg(p.Part) }},
+	{Name: "gain_margin", Unit: UnitDecibel, Param: MetricParamPart, Circuit: true, Help: "smallest gain margin of the loop gain around PART, dB",
+		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.GainMarginDB(p.Part) }},
+	{Name: "crossover", Unit: UnitHertz, Param: MetricParamPart, Circuit: true, Help: "highest gain crossover of the loop gain around PART, Hz",
+		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.CrossoverHz(p.Part) }},
+	{Name: "stable", Circuit: true, Bare: true, Help: "every natural frequency in the open left half-plane; takes no limit",
+		Eval: func(s MetricSubject, _ MetricParam) (float64, error) {
+			ok, err := s.Stable()
+			if ok {
+				return 1, err
+			}
+			return 0, err
+		}},
+	{Name: "noise", Unit: UnitVoltPerRootHz, Param: MetricParamFreq, Noise: true, Help: "output noise density at F, V/√Hz (300 K)",
+		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.NoiseDensityAt(p.FreqHz) }},
+	{Name: "noise_rms", Unit: UnitVolt, Param: MetricParamBand, Noise: true, Help: "output RMS noise over F1..F2, V (300 K)",
+		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.NoiseRMS(p.LoHz, p.HiHz) }},
 }
 
 // Metrics returns the registry, in the order of help texts.
@@ -134,7 +197,9 @@ func LookupMetric(name string) (MetricSpec, bool) {
 }
 
 // MetricNames lists the metrics a requirement may name, as written:
-// "gain@F" and "phase@F" take a frequency F ("gain@1kHz").
+// "gain@F" and "phase@F" take a frequency F ("gain@1kHz"),
+// "phase_margin@PART" and the other loop metrics a gain element
+// ("phase_margin@U1"); "stable" takes no limit.
 func MetricNames() []string {
 	out := make([]string, len(metricSpecs))
 	for i, m := range metricSpecs {
@@ -261,6 +326,12 @@ func (e *elab) require(r *RequireStmt) {
 	if r.At != nil {
 		metric += "@" + r.At.Sign + r.At.Value
 	}
+	if r.AtPart != nil {
+		metric += "@" + r.AtPart.Name
+	}
+	if r.AtHi != nil {
+		metric += ".." + r.AtHi.Sign + r.AtHi.Value
+	}
 	if _, ok := findMetric(r.Metric.Name); !ok {
 		hint := suggest(r.Metric.Name, metricNamesPlain())
 		if hint == "" {
@@ -275,8 +346,21 @@ func (e *elab) require(r *RequireStmt) {
 		return
 	}
 	req := Requirement{Metric: metric, Pos: e.f.Position(r.Pos)}
+	switch {
+	case m.Bare && r.Op != "":
+		e.errorf(r.Lo.Pos, "write require "+m.Name, "%s takes no limit", m.Name)
+		return
+	case m.Bare:
+		req.Op = Holds
+		req.Text = string(e.f.Source[r.Pos.Offset:tokensEnd(r.Pos.Offset, r.Tokens)])
+		e.c.Requirements = append(e.c.Requirements, req)
+		return
+	case r.Op == "":
+		e.errorf(r.Metric.Pos, "write within LO..HI, below HI or above LO", "require %s needs a limit", metric)
+		return
+	}
 	limit := func(l *Limit) (float64, bool) {
-		v, err := ParseValue(l.Sign+l.Value, m.Unit)
+		v, err := ParseValue(l.Sign+l.Value, m.LimitUnit())
 		if err != nil {
 			want := m.Unit
 			if want == "" {

@@ -6,8 +6,9 @@ import (
 	"testing"
 )
 
-// FuzzParseMetric: any text gives an error or a known metric name with a
-// frequency that is 0 (no @) or finite and > 0, never a panic.
+// FuzzParseMetric: any text gives an error or a known metric name with its
+// parameter: a frequency that is 0 (no @) or finite and > 0, or a band
+// 0 < F1 < F2, finite; never a panic.
 func FuzzParseMetric(f *testing.F) {
 	f.Fuzz(func(t *testing.T, s string) {
 		m, p, err := ParseMetric(s)
@@ -18,7 +19,10 @@ func FuzzParseMetric(f *testing.F) {
 		if _, ok := findMetric(name); !ok || !strings.HasPrefix(s, name) {
 			t.Fatalf("%q: name %q", s, name)
 		}
-		if strings.Contains(s, "@") != (freqHz > 0) || math.IsNaN(freqHz) || math.IsInf(freqHz, 0) {
+		if (m.Param == MetricParamPart) != (p.Part != "") {
+			t.Fatalf("%q: part %q", s, p.Part)
+		}
+		if (m.Param == MetricParamFreq) != (freqHz > 0) || math.IsNaN(freqHz) || math.IsInf(freqHz, 0) {
 			t.Fatalf("%q: frequency %v Hz", s, freqHz)
 		}
 	})

@@ -58,8 +58,8 @@ func TestMetricParamKinds(t *testing.T) {
 	}
 }
 
-// Every registry entry is complete: a name, a known unit, an evaluator,
-// and Spot only for metrics a direct solve can serve.
+// Every registry entry is complete: a name, limits in a known unit, an
+// evaluator, and Spot only for metrics a direct solve can serve.
 func TestMetricRegistry(t *testing.T) {
 	seen := map[string]bool{}
 	for _, m := range Metrics() {
@@ -67,8 +67,8 @@ func TestMetricRegistry(t *testing.T) {
 			t.Errorf("entry %+v", m)
 		}
 		seen[m.Name] = true
-		if _, ok := syntax.UnitSymbol(m.Unit); !ok && m.Unit != "" {
-			t.Errorf("%s: unit %q", m.Name, m.Unit)
+		if _, ok := syntax.UnitSymbol(m.LimitUnit()); !ok && m.Unit != "" {
+			t.Errorf("%s: limits in unit %q", m.Name, m.LimitUnit())
 		}
 		if u, ok := MetricUnit(m.Written()); !ok || u != m.Unit {
 			t.Errorf("MetricUnit(%s) = %q %v", m.Written(), u, ok)

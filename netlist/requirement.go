@@ -10,6 +10,9 @@ const (
 	Below
 	// Above passes when value ≥ Lo.
 	Above
+	// Holds passes when value is 1: a metric that is a yes/no property
+	// (stable), with 1 for yes and 0 for no.
+	Holds
 )
 
 // String returns the keyword of the comparison.
@@ -21,6 +24,8 @@ func (op RequireOp) String() string {
 		return "below"
 	case Above:
 		return "above"
+	case Holds:
+		return "holds"
 	}
 	return "?"
 }
@@ -48,6 +53,8 @@ func (r Requirement) Pass(value float64) bool {
 		return value <= r.Hi
 	case Above:
 		return value >= r.Lo
+	case Holds:
+		return value == 1
 	}
 	return false
 }

@@ -2,11 +2,14 @@ package require
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
+
+	"nodal/analysis/loop"
+	"nodal/analysis/stability"
 	"nodal/analysis/transfer"
 	"nodal/analysis/variation"
-
 	"nodal/mna"
 	"nodal/netlist"
 )
@@ -238,6 +241,7 @@ func cornerFactors(ctx context.Context, c *netlist.Circuit, ev variation.Evaluat
 type RequirementMetrics struct {
 	names   []string
 	metrics []transfer.Metric
+	pos     []netlist.Pos // of each requirement, for errors
 	in      mna.Input
 	out     mna.Output
 }
@@ -253,6 +257,7 @@ func NewRequirementMetrics(reqs []netlist.Requirement, in mna.Input, out mna.Out
 		}
 		r.metrics = append(r.metrics, m)
 		r.names = append(r.names, q.Metric)
+		r.pos = append(r.pos, q.Pos)
 	}
 	return r, nil
 }
@@ -276,22 +281,56 @@ func (r *RequirementMetrics) Explain(c *netlist.Circuit) ([]error, error) {
 }
 
 func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, error) {
-	sys, err := mna.Build(c, r.in, r.out)
-	if err != nil {
-		return nil, nil, err
-	}
-	tf, err := transfer.Extract(sys)
-	if err != nil {
-		return nil, nil, err
-	}
+	circ := loop.NewCircuit(c)
 	vals := make([]float64, len(r.metrics))
 	why := make([]error, len(r.metrics))
+	// An unstable build fails every requirement: its response does not
+	// settle, so no metric of it exists.
 	for i, m := range r.metrics {
-		v, err := m.Eval(tf)
+		if !m.Spec.Bare {
+			continue
+		}
+		stable, err := circ.Stable()
+		if err != nil {
+			return nil, nil, err
+		}
+		if !stable {
+			for j := range vals {
+				vals[j], why[j] = math.NaN(), stability.ErrUnstable
+			}
+			vals[i], why[i] = 0, nil
+			return vals, why, nil
+		}
+	}
+	tf, err := transfer.ExtractFor(r.metrics, c, r.in, r.out)
+	if err != nil {
+		return nil, nil, err
+	}
+	sub, err := variation.MetricSubject(c, r.out, tf, circ, r.metrics)
+	if err != nil {
+		return nil, nil, err
+	}
+	for i, m := range r.metrics {
+		v, err := m.EvalOn(sub)
+		if errors.Is(err, loop.ErrLoopGain) {
+			// no such gain element, an ideal op-amp: the requirement is wrong
+			return nil, nil, fmt.Errorf("%s: %w", r.pos[i], err)
+		}
 		if err != nil {
 			v, why[i] = math.NaN(), err
 		}
 		vals[i] = v
 	}
 	return vals, why, nil
+}
+
+// WithStable returns reqs with the implicit first requirement `stable`
+// (verify judges every circuit on it), unless reqs names it already.
+func WithStable(reqs []netlist.Requirement) []netlist.Requirement {
+	for _, q := range reqs {
+		if q.Metric == "stable" {
+			return reqs
+		}
+	}
+	return append([]netlist.Requirement{{Metric: "stable", Op: netlist.Holds, Text: "stable (implicit)"}}, reqs...)
 }

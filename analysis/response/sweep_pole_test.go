@@ -9,17 +9,7 @@ import (
 	"nodal/analysis/transfer"
 	"nodal/mna"
 	"nodal/mna/testcircuit"
-	"nodal/netlist"
 )
-
-func buildOut(t *testing.T, circ *netlist.Circuit, out mna.Output) *mna.System {
-	t.Helper()
-	sys, err := mna.Build(circ, mna.Input{}, out)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return sys
-}
 
 func relErr(got, want complex128) float64 { return cmplx.Abs(got-want) / cmplx.Abs(want) }
 
@@ -29,7 +19,7 @@ func relErr(got, want complex128) float64 { return cmplx.Abs(got-want) / cmplx.A
 // sweep goes on to the neighbour, which is exact.
 func TestSweepSurvivesAxisPole(t *testing.T) {
 	l, c := 1.0, 1.0 // ω0 = 1 rad/s exactly
-	sys := buildOut(t, testcircuit.New(testcircuit.V("Vin", "in", "gnd", 1), testcircuit.L("L1", "in", "out", l),
+	sys := testcircuit.Build(t, testcircuit.New(testcircuit.V("Vin", "in", "gnd", 1), testcircuit.L("L1", "in", "out", l),
 		testcircuit.C("C1", "out", "gnd", c)), mna.Output{Kind: mna.NodeVoltage, Node: "out"})
 	f0 := 1 / (2 * math.Pi)
 	fs := []float64{f0 / 2, f0, f0 * 1.001}
@@ -57,7 +47,7 @@ func TestSweepSurvivesAxisPole(t *testing.T) {
 func TestExtremeValuesSolve(t *testing.T) {
 	r, c := 1e-15, 1e12
 	tau := r * c
-	sys := buildOut(t, testcircuit.New(testcircuit.V("Vin", "in", "gnd", 1), testcircuit.R("R1", "in", "out", r),
+	sys := testcircuit.Build(t, testcircuit.New(testcircuit.V("Vin", "in", "gnd", 1), testcircuit.R("R1", "in", "out", r),
 		testcircuit.C("C1", "out", "gnd", c)), mna.Output{Kind: mna.NodeVoltage, Node: "out"})
 	fs := []float64{1, 100, 331.131, 1e4}
 	resp, err := Sweep(context.Background(), sys, fs, 1)

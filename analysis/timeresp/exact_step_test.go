@@ -145,14 +145,7 @@ func TestBufferedStagesErlang(t *testing.T) {
 // Sallen-Key example has a double zero at s = 0 (see the transfer test),
 // so its step response starts at the value C1 passes and returns to 0.
 func TestSallenKeyCapacitorCurrentStep(t *testing.T) {
-	src, err := os.ReadFile("../../testdata/examples/tone_lowpass_ideal.nodal")
-	if err != nil {
-		t.Fatal(err)
-	}
-	c, err := netlist.Load("tone_lowpass_ideal.nodal", src, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
+	c := testcircuit.Load(t, "../../testdata/examples/tone_lowpass_ideal.nodal", nil)
 	tf := extractOut(t, c, mna.Output{Kind: mna.PartCurrent, Part: "C1"})
 	st, err := Step(tf, TimeOptions{})
 	if err != nil {

@@ -7,6 +7,7 @@ import (
 	"sort"
 	"strings"
 
+	"nodal/mna"
 	"nodal/netlist"
 )
 
@@ -99,23 +100,102 @@ func (h *TransferFunction) DominantPair() (RootPair, error) {
 
 // Eval returns the metric's value for tf in the metric's unit (Unit),
 // through the registry entry's Eval on tf's MetricSubject.
-func (m Metric) Eval(tf *TransferFunction) (float64, error) {
+func (m Metric) Eval(tf *TransferFunction) (float64, error) { return m.EvalOn(tf.Subject()) }
+
+// EvalOn returns the metric's value on any subject (a transfer function's,
+// or one that also answers the noise quantities), in Unit.
+func (m Metric) EvalOn(s netlist.MetricSubject) (float64, error) {
 	if m.Spec.Eval == nil {
 		return 0, fmt.Errorf("metric %q not parsed", m.Name)
 	}
-	v, err := m.Spec.Eval(tf.Subject(), m.Param)
+	v, err := m.Spec.Eval(s, m.Param)
 	if err != nil {
 		return 0, fmt.Errorf("%s: %w", m.Name, err)
 	}
 	return v, nil
 }
 
-// Subject returns tf as what metrics are evaluated on.
-func (h *TransferFunction) Subject() netlist.MetricSubject { return tfSubject{h} }
+// EvalIn is Eval with the circuit's quantities (stability, loop gains)
+// taken from c, for the metrics judged on the circuit (Spec.Circuit); c
+// may be nil when no such metric is asked for, and tf may be nil when
+// only such metrics are.
+func (m Metric) EvalIn(tf *TransferFunction, c CircuitMetrics) (float64, error) {
+	return m.EvalOn(tf.SubjectIn(c))
+}
+
+// ExtractFor builds the system of c for one input and output and
+// extracts its transfer function when some metric of ms reads it (is not
+// judged on the circuit, Spec.Circuit); otherwise it returns nil.
+func ExtractFor(ms []Metric, c *netlist.Circuit, in mna.Input, out mna.Output) (*TransferFunction, error) {
+	for _, m := range ms {
+		if !m.Spec.Circuit {
+			sys, err := mna.Build(c, in, out)
+			if err != nil {
+				return nil, err
+			}
+			return Extract(sys)
+		}
+	}
+	return nil, nil
+}
+
+// Subject returns tf as what metrics are evaluated on; it has no circuit,
+// so the metrics judged on the circuit are errors.
+func (h *TransferFunction) Subject() netlist.MetricSubject { return tfSubject{h, nil} }
+
+// SubjectIn is Subject with the quantities judged on the whole circuit
+// (stability, loop gains) answered by c; h may be nil when only those are
+// asked for.
+func (h *TransferFunction) SubjectIn(c CircuitMetrics) netlist.MetricSubject { return tfSubject{h, c} }
+
+// CircuitMetrics gives the quantities of the metric registry that are
+// judged on the whole circuit rather than on one transfer function (see
+// netlist.MetricSubject; analysis/loop.Circuit implements it).
+type CircuitMetrics interface {
+	Stable() (bool, error)
+	PhaseMarginDeg(part string) (float64, error)
+	GainMarginDB(part string) (float64, error)
+	CrossoverHz(part string) (float64, error)
+}
 
 // tfSubject evaluates the quantities of the metric registry on a transfer
-// function.
-type tfSubject struct{ tf *TransferFunction }
+// function, and those judged on the circuit on circ (nil: none).
+type tfSubject struct {
+	tf   *TransferFunction
+	circ CircuitMetrics
+}
+
+// errNoCircuit is the error of a circuit quantity asked of a transfer
+// function alone.
+var errNoCircuit = errors.New("judged on the circuit, not on one transfer function")
+
+func (s tfSubject) Stable() (bool, error) {
+	if s.circ == nil {
+		return false, errNoCircuit
+	}
+	return s.circ.Stable()
+}
+
+func (s tfSubject) PhaseMarginDeg(part string) (float64, error) {
+	if s.circ == nil {
+		return 0, errNoCircuit
+	}
+	return s.circ.PhaseMarginDeg(part)
+}
+
+func (s tfSubject) GainMarginDB(part string) (float64, error) {
+	if s.circ == nil {
+		return 0, errNoCircuit
+	}
+	return s.circ.GainMarginDB(part)
+}
+
+func (s tfSubject) CrossoverHz(part string) (float64, error) {
+	if s.circ == nil {
+		return 0, errNoCircuit
+	}
+	return s.circ.CrossoverHz(part)
+}
 
 func (s tfSubject) GainDBAt(freqHz float64) (float64, error) {
 	return s.tf.GainDB(2 * math.Pi * freqHz), nil
@@ -135,6 +215,9 @@ func (s tfSubject) F3dBHz() (float64, error) {
 	}
 	return bw.CrossingsHz[0], nil
 }
+
+func (tfSubject) NoiseDensityAt(float64) (float64, error) { return 0, netlist.ErrNeedsNoise }
+func (tfSubject) NoiseRMS(_, _ float64) (float64, error)  { return 0, netlist.ErrNeedsNoise }
 
 func (s tfSubject) PeakDB() (float64, error) {
 	pk, err := s.tf.Peak()

@@ -240,3 +240,36 @@ func TestDominantPairRule(t *testing.T) {
 		t.Errorf("got %+v, %v; want the complex pair", p, err)
 	}
 }
+
+// stubCircuit answers the circuit quantities with fixed values.
+type stubCircuit struct{}
+
+func (stubCircuit) Stable() (bool, error)                  { return true, nil }
+func (stubCircuit) PhaseMarginDeg(string) (float64, error) { return 60, nil }
+func (stubCircuit) GainMarginDB(string) (float64, error)   { return 12, nil }
+func (stubCircuit) CrossoverHz(string) (float64, error)    { return 1e5, nil }
+
+// TestCircuitMetrics: stable and the loop metrics are read from the
+// circuit given to EvalIn; on a transfer function alone they are an error
+// saying they are judged on the circuit, never a number.
+func TestCircuitMetrics(t *testing.T) {
+	h := FromRoots(1e3, nil, []complex128{-1e3})
+	for _, tc := range []struct {
+		metric string
+		want   float64
+	}{{"stable", 1}, {"phase_margin@U1", 60}, {"gain_margin@U1", 12}, {"crossover@U1", 1e5}} {
+		m, err := ParseMetric(tc.metric)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !m.Spec.Circuit {
+			t.Errorf("%s is not a circuit metric", tc.metric)
+		}
+		if v, err := m.EvalIn(h, stubCircuit{}); err != nil || v != tc.want {
+			t.Errorf("%s = %v, %v; want %v", tc.metric, v, err, tc.want)
+		}
+		if v, err := m.Eval(h); !errors.Is(err, errNoCircuit) {
+			t.Errorf("%s on H alone = %v, %v; want errNoCircuit", tc.metric, v, err)
+		}
+	}
+}

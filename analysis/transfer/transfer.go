@@ -45,6 +45,22 @@ func (h *TransferFunction) Scaled() (k, w float64) {
 	return h.Gain, 1
 }
 
+// Negated returns −H (a copy): Num, Gain, ScaledGain and DirectDC
+// negated, the roots shared.
+func (h *TransferFunction) Negated() *TransferFunction {
+	t := *h
+	t.Num = make([]float64, len(h.Num))
+	for i, v := range h.Num {
+		t.Num[i] = -v
+	}
+	t.Gain, t.ScaledGain = -h.Gain, -h.ScaledGain
+	if h.DirectDC != nil {
+		dc := -*h.DirectDC
+		t.DirectDC = &dc
+	}
+	return &t
+}
+
 // Fits reports whether Num, Den and Gain are all finite with no
 // coefficient lost to underflow, i.e. the expanded form can be printed
 // as it is; otherwise print ScaledPoly.

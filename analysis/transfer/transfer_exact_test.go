@@ -3,23 +3,11 @@ package transfer
 import (
 	"errors"
 	"math"
-	"os"
 	"testing"
 
 	"nodal/mna"
 	"nodal/mna/testcircuit"
-	"nodal/netlist"
 )
-
-// buildOut builds circ from its source to the output out.
-func buildOut(t *testing.T, circ *netlist.Circuit, out mna.Output) *mna.System {
-	t.Helper()
-	sys, err := mna.Build(circ, mna.Input{}, out)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return sys
-}
 
 // TestTinyGainsAndHighQ: responses far below the scale of the rest of the
 // solution are exact, not zero (closed forms, common practice: divider
@@ -27,7 +15,7 @@ func buildOut(t *testing.T, circ *netlist.Circuit, out mna.Output) *mna.System {
 func TestTinyGainsAndHighQ(t *testing.T) {
 	t.Run("1TΩ/0.1Ω divider with 1 nF", func(t *testing.T) {
 		rt, rb, c := 1e12, 0.1, 1e-9
-		sys := buildOut(t, testcircuit.New(testcircuit.V("Vin", "in", "gnd", 1), testcircuit.R("Rt", "in", "out", rt),
+		sys := testcircuit.Build(t, testcircuit.New(testcircuit.V("Vin", "in", "gnd", 1), testcircuit.R("Rt", "in", "out", rt),
 			testcircuit.R("Rb", "out", "gnd", rb), testcircuit.C("C1", "out", "gnd", c)), mna.Output{Kind: mna.NodeVoltage, Node: "out"})
 		tf := mustExtract(t, sys)
 		// H = (1/Rt)/(1/Rt + 1/Rb + sC): DC rb/(rt+rb), pole −(1/rt+1/rb)/c.
@@ -41,7 +29,7 @@ func TestTinyGainsAndHighQ(t *testing.T) {
 	})
 	t.Run("1 PΩ/0.1 Ω divider: exact or refused, never zero", func(t *testing.T) {
 		rt, rb, c := 1e15, 0.1, 1e-9
-		sys := buildOut(t, testcircuit.New(testcircuit.V("Vin", "in", "gnd", 1), testcircuit.R("Rt", "in", "out", rt),
+		sys := testcircuit.Build(t, testcircuit.New(testcircuit.V("Vin", "in", "gnd", 1), testcircuit.R("Rt", "in", "out", rt),
 			testcircuit.R("Rb", "out", "gnd", rb), testcircuit.C("C1", "out", "gnd", c)), mna.Output{Kind: mna.NodeVoltage, Node: "out"})
 		tf, err := Extract(sys)
 		if err != nil {
@@ -56,7 +44,7 @@ func TestTinyGainsAndHighQ(t *testing.T) {
 	})
 	t.Run("current through 2 TΩ into 1 pF", func(t *testing.T) {
 		r, c := 2e12, 1e-12
-		sys := buildOut(t, testcircuit.New(testcircuit.V("Vin", "in", "gnd", 1), testcircuit.R("Rt", "in", "out", r),
+		sys := testcircuit.Build(t, testcircuit.New(testcircuit.V("Vin", "in", "gnd", 1), testcircuit.R("Rt", "in", "out", r),
 			testcircuit.C("C1", "out", "gnd", c)), mna.Output{Kind: mna.PartCurrent, Part: "Rt"})
 		tf := mustExtract(t, sys)
 		// i = V·sC/(1 + sRC): a zero at exactly 0, pole −1/(RC), i ≈ C·s·V at DC.
@@ -76,7 +64,7 @@ func TestTinyGainsAndHighQ(t *testing.T) {
 	})
 	t.Run("Q = 3e7 tank", func(t *testing.T) {
 		r, l, c := 3e7, 1.0, 1.0
-		sys := buildOut(t, testcircuit.New(testcircuit.I("Iin", "t", "gnd", 1), testcircuit.R("Rp", "t", "gnd", r),
+		sys := testcircuit.Build(t, testcircuit.New(testcircuit.I("Iin", "t", "gnd", 1), testcircuit.R("Rp", "t", "gnd", r),
 			testcircuit.L("L1", "t", "gnd", l), testcircuit.C("C1", "t", "gnd", c)), mna.Output{Kind: mna.NodeVoltage, Node: "t"})
 		tf := mustExtract(t, sys)
 		// Z = (s/C)/(s² + s/(RC) + 1/(LC)); Q = R·√(C/L).
@@ -105,15 +93,8 @@ func TestTinyGainsAndHighQ(t *testing.T) {
 // at s = 0; closed form, common practice), the DC
 // gain is exactly 0 and the step response returns to 0.
 func TestSallenKeyCapacitorCurrent(t *testing.T) {
-	src, err := os.ReadFile("../../testdata/examples/tone_lowpass_ideal.nodal")
-	if err != nil {
-		t.Fatal(err)
-	}
-	c, err := netlist.Load("tone_lowpass_ideal.nodal", src, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	sys := buildOut(t, c, mna.Output{Kind: mna.PartCurrent, Part: "C1"})
+	c := testcircuit.Load(t, "../../testdata/examples/tone_lowpass_ideal.nodal", nil)
+	sys := testcircuit.Build(t, c, mna.Output{Kind: mna.PartCurrent, Part: "C1"})
 	tf := mustExtract(t, sys)
 	if len(tf.Zeros) != 2 || tf.Zeros[0] != 0 || tf.Zeros[1] != 0 {
 		t.Fatalf("zeros %v, want a double zero at 0", tf.Zeros)

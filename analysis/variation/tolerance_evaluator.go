@@ -5,9 +5,11 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
-	"nodal/analysis/transfer"
 	"strings"
 
+	"nodal/analysis/loop"
+	"nodal/analysis/noise"
+	"nodal/analysis/transfer"
 	"nodal/mna"
 	"nodal/netlist"
 )
@@ -67,7 +69,7 @@ func NewMetricEvaluator(nominal *netlist.Circuit, in mna.Input, out mna.Output, 
 		}
 		e.metrics = append(e.metrics, m)
 	}
-	nom, err := e.evalExtract(nominal)
+	nom, err := e.evalExtract(nominal, false)
 	if err != nil {
 		return nil, fmt.Errorf("nominal circuit: %w", err)
 	}
@@ -82,12 +84,17 @@ func NewMetricEvaluator(nominal *netlist.Circuit, in mna.Input, out mna.Output, 
 // Metrics returns the metric names as given, in order.
 func (e *MetricEvaluator) Metrics() []string { return e.names }
 
-// Eval builds the MNA system of c and returns one value per metric.
+// Eval builds the MNA system of c and returns one value per metric. A
+// circuit that is not stable is an error wrapping stability.ErrUnstable (its
+// metrics do not exist), so tolerance runs count it.
 func (e *MetricEvaluator) Eval(c *netlist.Circuit) ([]float64, error) {
 	if e.spot {
+		if err := loop.NewCircuit(c).CheckStable(); err != nil {
+			return nil, err
+		}
 		return e.evalSpot(c)
 	}
-	return e.evalExtract(c)
+	return e.evalExtract(c, true)
 }
 
 // evalSpot evaluates gain@F, phase@F and dc from H solved at each point.
@@ -114,19 +121,27 @@ func (e *MetricEvaluator) evalSpot(c *netlist.Circuit) ([]float64, error) {
 	return out, nil
 }
 
-// evalExtract evaluates every metric on the extracted transfer function.
-func (e *MetricEvaluator) evalExtract(c *netlist.Circuit) ([]float64, error) {
-	sys, err := mna.Build(c, e.in, e.out)
+// evalExtract evaluates every metric on the extracted transfer function
+// (and the circuit, for stable and the loop metrics); with check, an
+// unstable c is an error wrapping stability.ErrUnstable.
+func (e *MetricEvaluator) evalExtract(c *netlist.Circuit, check bool) ([]float64, error) {
+	circ := loop.NewCircuit(c)
+	if check {
+		if err := circ.CheckStable(); err != nil {
+			return nil, err
+		}
+	}
+	tf, err := transfer.ExtractFor(e.metrics, c, e.in, e.out)
 	if err != nil {
 		return nil, err
 	}
-	tf, err := transfer.Extract(sys)
+	sub, err := MetricSubject(c, e.out, tf, circ, e.metrics)
 	if err != nil {
 		return nil, err
 	}
 	out := make([]float64, len(e.metrics))
 	for i, m := range e.metrics {
-		v, err := m.Eval(tf)
+		v, err := m.EvalOn(sub)
 		if err != nil {
 			return nil, err
 		}
@@ -139,6 +154,19 @@ func (e *MetricEvaluator) evalExtract(c *netlist.Circuit) ([]float64, error) {
 		out[i] = v
 	}
 	return out, nil
+}
+
+// MetricSubject is what the metrics are evaluated on: tf's subject, with
+// the noise of c at out when a metric needs it (noise@F, noise_rms@F1..F2).
+// The requirement runs of package require use it too.
+func MetricSubject(c *netlist.Circuit, out mna.Output, tf *transfer.TransferFunction, circ transfer.CircuitMetrics, metrics []transfer.Metric) (netlist.MetricSubject, error) {
+	base := tf.SubjectIn(circ)
+	for _, m := range metrics {
+		if m.Spec.Noise {
+			return noise.MetricSubject(c, out, base)
+		}
+	}
+	return base, nil
 }
 
 // nearBranch moves phase metric i by whole turns to within 180° of its
@@ -180,6 +208,15 @@ func (spotSubject) PeakHz() (float64, error)    { return 0, errNeedsPoles }
 func (spotSubject) PeakingDB() (float64, error) { return 0, errNeedsPoles }
 func (spotSubject) F0Hz() (float64, error)      { return 0, errNeedsPoles }
 func (spotSubject) Q() (float64, error)         { return 0, errNeedsPoles }
+
+var errNeedsCircuit = errors.New("is judged on the whole circuit, not on a spot solve of one response")
+
+func (spotSubject) Stable() (bool, error)                   { return false, errNeedsCircuit }
+func (spotSubject) PhaseMarginDeg(string) (float64, error)  { return 0, errNeedsCircuit }
+func (spotSubject) GainMarginDB(string) (float64, error)    { return 0, errNeedsCircuit }
+func (spotSubject) CrossoverHz(string) (float64, error)     { return 0, errNeedsCircuit }
+func (spotSubject) NoiseDensityAt(float64) (float64, error) { return 0, netlist.ErrNeedsNoise }
+func (spotSubject) NoiseRMS(_, _ float64) (float64, error)  { return 0, netlist.ErrNeedsNoise }
 
 // metricUnit returns the unit of a metric's values ("dB", "deg", "Hz",
 // or "" for q and for names ParseMetric does not know).

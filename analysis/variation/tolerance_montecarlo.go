@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 
+	"nodal/analysis/stability"
 	"nodal/netlist"
 )
 
@@ -34,6 +35,7 @@ type MonteCarloResult struct {
 	Seed         uint64
 	Finished     int
 	Failed       int
+	Unstable     int // of the Failed runs, those whose build was not stable (stability.ErrUnstable)
 	FirstFailure error
 	Cancelled    bool
 	Items        []netlist.Variation // the toleranced items drawn, in order
@@ -82,6 +84,9 @@ func MonteCarlo(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt Monte
 				res.FirstFailure = fmt.Errorf("run %d: %w", i, o.err)
 			}
 			res.Failed++
+			if errors.Is(o.err, stability.ErrUnstable) {
+				res.Unstable++
+			}
 			return
 		}
 		for j, v := range o.vals {

@@ -2,9 +2,11 @@ package variation
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 
+	"nodal/analysis/stability"
 	"nodal/netlist"
 )
 
@@ -55,6 +57,7 @@ type WorstCaseResult struct {
 	Exhaustive bool
 	Corners    int
 	Failed     int
+	Unstable   int // of the Failed corners, those whose circuit was not stable (stability.ErrUnstable)
 	Metrics    []WorstCaseMetric
 }
 
@@ -123,6 +126,9 @@ func WorstCase(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt WorstC
 				firstErr = errs[n]
 			}
 			res.Failed++
+			if errors.Is(errs[n], stability.ErrUnstable) {
+				res.Unstable++
+			}
 			continue
 		}
 		for j := range m {

@@ -27,6 +27,12 @@ exact steady-state output by superposition: each term's amplitude scales by
 |H(jω)| and its phase shifts by arg H(jω); the constant uses H(0). Write ω
 directly in rad/s (5*sin(2500*t)) or as 2*pi*f; phases in rad or with deg.
 
+A steady state exists only for a stable circuit: an unstable one (a
+natural frequency in the right half-plane) is refused with exit status 2,
+and so is a marginally stable one driven at the frequency of its undamped
+mode; driven elsewhere, a marginal circuit's output is printed with a
+warning (the undamped mode never decays).
+
 Examples:
 
     nodal drive testdata/examples/logger_antialias.nodal --out out --signal "0.8*sin(2*pi*400*t)"
@@ -71,6 +77,20 @@ func (c *driveCmd) Run(e *env) error {
 		}
 		return v
 	}
+	stab, err := circuitStability(l)
+	if err != nil {
+		return err
+	}
+	var omegas []float64
+	for _, t := range sig.Terms {
+		omegas = append(omegas, t.OmegaRad)
+	}
+	if sig.DC != 0 {
+		omegas = append(omegas, 0)
+	}
+	if err := steadyStateRefusal(stab, omegas); err != nil {
+		return err
+	}
 	st, err := steady.SteadyState(h, sig)
 	if err != nil {
 		return err
@@ -96,8 +116,11 @@ func (c *driveCmd) Run(e *env) error {
 	}
 	return writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
 		if c.Format == "json" {
-			return writeJSON(w, steadyDoc(st, phasors))
+			doc := steadyDoc(st, phasors)
+			doc.stabilityJSON = newStabilityJSON(stab)
+			return writeJSON(w, doc)
 		}
+		warnStability(e.stderr, stab)
 		return steadyTable(w, st, phasors, sig)
 	})
 }

@@ -26,13 +26,23 @@ func commandNames(t *testing.T) []string {
 }
 
 // helpExamples returns the example command lines of a help text: the
-// lines indented four spaces that begin with "nodal ".
+// lines indented four spaces that begin with "nodal ", with the lines a
+// trailing " \" continues joined on.
 func helpExamples(help string) []string {
 	var out []string
-	for _, line := range strings.Split(help, "\n") {
-		if rest, ok := strings.CutPrefix(line, "    nodal"); ok && (rest == "" || rest[0] == ' ') {
-			out = append(out, strings.TrimSpace(line))
+	lines := strings.Split(help, "\n")
+	for i := 0; i < len(lines); i++ {
+		line := lines[i]
+		rest, ok := strings.CutPrefix(line, "    nodal")
+		if !ok || (rest != "" && rest[0] != ' ') {
+			continue
 		}
+		cmd := strings.TrimSpace(line)
+		for strings.HasSuffix(cmd, "\\") && i+1 < len(lines) {
+			i++
+			cmd = strings.TrimSpace(strings.TrimSuffix(cmd, "\\")) + " " + strings.TrimSpace(lines[i])
+		}
+		out = append(out, cmd)
 	}
 	return out
 }
@@ -100,7 +110,7 @@ func TestHelpExamplesRun(t *testing.T) {
 	}
 	t.Chdir(dir)
 	names := commandNames(t)
-	if len(names) < 12 {
+	if len(names) < 14 {
 		t.Fatalf("command tree lists %d commands: %v", len(names), names)
 	}
 	for _, cmd := range names {

@@ -3,6 +3,7 @@ package main
 import (
 	"math"
 	"nodal/analysis/check"
+	"nodal/analysis/stability"
 	"nodal/analysis/steady"
 	"nodal/analysis/timeresp"
 	"nodal/analysis/transfer"
@@ -19,6 +20,19 @@ import (
 type complexJSON struct {
 	Re float64 `json:"re"`
 	Im float64 `json:"im"`
+}
+
+// stabilityJSON is the stability part of a JSON document: the class
+// ("stable", "marginal" or "unstable") and the offending natural
+// frequencies (rad/s; empty when stable).
+type stabilityJSON struct {
+	Stability     string        `json:"stability"`
+	UnstablePoles []complexJSON `json:"unstable_poles"`
+}
+
+// newStabilityJSON fills stabilityJSON from a result.
+func newStabilityJSON(res *stability.Result) stabilityJSON {
+	return stabilityJSON{Stability: res.Class.String(), UnstablePoles: rootsJSON(res.Offending)}
 }
 
 // complexDoc returns z as a complexJSON.
@@ -55,6 +69,9 @@ type timeJSON struct {
 	UnstablePoles []complexJSON `json:"unstable_poles,omitempty"`
 	AxisPoles     []complexJSON `json:"axis_poles,omitempty"`
 	Overflow      bool          `json:"overflow,omitempty"`
+	// Stability is the circuit's (every natural frequency, see
+	// stabilityJSON); UnstablePoles above are those of H only.
+	Stability string `json:"stability"`
 }
 
 // modeJSON is one term t^power·e^(σt)·(cos·cos ωt + sin·sin ωt).
@@ -115,6 +132,7 @@ type steadyJSON struct {
 	DCUnbounded bool             `json:"dc_unbounded,omitempty"`
 	Output      string           `json:"output_expression"`
 	Phasors     []nodePhasor     `json:"phasors,omitempty"`
+	stabilityJSON
 }
 
 // steadyTermJSON is one sinusoid of the drive and its output.
@@ -248,6 +266,7 @@ type tfJSON struct {
 	What       string        `json:"what"`
 	ZeroPairs  []pairJSON    `json:"zero_pairs"`
 	Zeros      []complexJSON `json:"zeros"`
+	stabilityJSON
 }
 
 // asymptoteJSON is gain·s^power, the slope in dB per decade.

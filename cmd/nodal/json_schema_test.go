@@ -37,6 +37,7 @@ var schemaCases = []struct {
 	{"tolerance", []string{"tolerance", rcFile, "--out", "out", "--metric", "f3db", "--metric", "gain@1kHz", "--worst-case", "--sensitivity", "--runs", "20", "--format", "json"}},
 	{"verify", []string{"verify", "testdata/bridge_pass.nodal", "--runs", "20", "--format", "json"}},
 	{"snap", []string{"snap", "testdata/bridge_snap.nodal", "--series", "E24", "--format", "json"}},
+	{"loop", []string{"loop", "../../testdata/examples/photodiode_frontend.nodal", "--at", "U1", "--format", "json"}},
 }
 
 // keyPaths adds the key paths of v under prefix to set.

@@ -42,9 +42,11 @@ type cli struct {
 	Sweep     sweepCmd     `cmd:"" help:"Frequency response: magnitude, phase and group delay."`
 	Transfer  transferCmd  `cmd:"" help:"Transfer function H(s), poles, zeros, f0, Q and the circuit's ODE."`
 	Impedance impedanceCmd `cmd:"" help:"Impedance Z(s) at a source's port or a node, over frequency, with its resonances."`
+	Loop      loopCmd      `cmd:"" help:"Loop gain T(s) around one gain element, with crossovers and phase and gain margins."`
 	Check     checkCmd     `cmd:"" help:"Check a hand-derived ODE or transfer function against the circuit."`
 	Drive     driveCmd     `cmd:"" help:"Sinusoidal steady-state output for a given input signal."`
 	Time      timeCmd      `cmd:"" help:"Exact step or impulse response with rise, overshoot and settling figures."`
+	Noise     noiseCmd     `cmd:"" help:"Output and input-referred noise, contributions, integrated noise and SNR."`
 	Tolerance toleranceCmd `cmd:"" help:"Monte Carlo, worst case and sensitivities of response metrics."`
 	Verify    verifyCmd    `cmd:"" help:"Check the file's require statements at nominal, worst case and as yield."`
 	Snap      snapCmd      `cmd:"" help:"Round R and C values to an IEC 60063 E-series and show what moves."`

@@ -156,6 +156,13 @@ func partExtra(p netlist.Part) map[string]any {
 		if p.Rout > 0 {
 			x["rout"] = p.Rout
 		}
+		for _, o := range opampNoise(p) {
+			x[o.key] = o.v
+		}
+	case netlist.Resistor:
+		if p.Noiseless {
+			x["noiseless"] = true
+		}
 	}
 	return x
 }
@@ -173,6 +180,9 @@ func partValueText(p netlist.Part) string {
 		}
 		if p.Rout > 0 {
 			opts = append(opts, "rout="+notation.Eng(p.Rout, "Ω"))
+		}
+		for _, o := range opampNoise(p) {
+			opts = append(opts, o.name+"="+notation.Eng(o.v, o.unit))
 		}
 		if len(opts) == 0 {
 			return "ideal"
@@ -195,7 +205,31 @@ func partValueText(p netlist.Part) string {
 		}
 		return v
 	}
+	if p.Kind == netlist.Resistor && p.Noiseless {
+		return notation.Eng(p.Value, p.Kind.Unit()) + " noiseless"
+	}
 	return notation.Eng(p.Value, p.Kind.Unit())
+}
+
+// noiseSetting is one opamp noise option as shown: its option name, JSON
+// key, value and unit.
+type noiseSetting struct {
+	name, key, unit string
+	v               float64
+}
+
+// opampNoise lists the noise options an opamp has (those > 0).
+func opampNoise(p netlist.Part) []noiseSetting {
+	var out []noiseSetting
+	for _, o := range []noiseSetting{
+		{"en", "en_v_per_rthz", "V/√Hz", p.EnVPerRtHz}, {"in", "in_a_per_rthz", "A/√Hz", p.InAPerRtHz},
+		{"fen", "fen_hz", "Hz", p.FenHz}, {"fin", "fin_hz", "Hz", p.FinHz},
+	} {
+		if o.v > 0 {
+			out = append(out, o)
+		}
+	}
+	return out
 }
 
 // partNodesText is the nodes column of the parts table.

@@ -14,6 +14,7 @@ import (
 	"time"
 
 	"nodal/analysis/response"
+	"nodal/analysis/stability"
 	"nodal/analysis/timeresp"
 	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
@@ -238,10 +239,55 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 	} else {
 		d.Notes = append(d.Notes, "No step response: "+err.Error())
 	}
+	if err := addStabilitySections(l, d); err != nil {
+		return nil, err
+	}
 	if err := addToleranceSections(e, l, r, d, runs, seed); err != nil {
 		return nil, err
 	}
+	if err := addNoiseSection(e, l, r, d, lo, hi); err != nil {
+		return nil, err
+	}
 	return d, nil
+}
+
+// addStabilitySections states the circuit's stability (a banner at the
+// top when it is not stable) and adds a loop section for every gain
+// element a requirement names (phase_margin@U1, ...).
+func addStabilitySections(l *loaded, d *report.Data) error {
+	st, err := circuitStability(l)
+	if err != nil {
+		return err
+	}
+	d.Banner = stabilityLines(st)
+	d.Stability = "Stability: " + st.Class.String() + "."
+	if st.Class == stability.Stable {
+		d.Stability = "Stability: stable (every natural frequency of the circuit lies in the open left half-plane)."
+	}
+	seen := map[string]bool{}
+	for _, q := range l.circuit.Requirements {
+		m, param, err := netlist.ParseMetric(q.Metric)
+		part := param.Part
+		if err != nil || m.Param != netlist.MetricParamPart || seen[part] {
+			continue
+		}
+		seen[part] = true
+		lr, err := loopGain(l.circuit, part)
+		if err != nil {
+			return fmt.Errorf("%s: %w", q.Pos, err)
+		}
+		lo, hi := rangeOf(l, lr.T)
+		freqs := response.LogGrid(lo, hi, 50)
+		mag, ph := loopCurves(lr, freqs)
+		fig, err := loopFigure(l, lr, freqs, mag, ph)
+		if err != nil {
+			return err
+		}
+		d.Loops = append(d.Loops, report.Loop{Part: part, Factored: factoredText(lr.T),
+			Plot:    report.Plot{Figure: fig, Caption: "Bode plot of the loop gain around " + part + " with its crossovers and margins"},
+			Figures: loopFigureRows(lr, st)})
+	}
+	return nil
 }
 
 // reportStep computes the step response section.

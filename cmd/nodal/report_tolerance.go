@@ -15,11 +15,16 @@ import (
 )
 
 // reportMetrics are the metrics the report's Monte Carlo section follows:
-// those the file's requirements name, or f3db when there are none.
+// those the file's requirements name, or f3db when there are none. A
+// yes/no metric (stable) has no spread to show: it is left out (the runs
+// that are not stable fail and are counted as such).
 func reportMetrics(c *netlist.Circuit) []string {
 	var names []string
 	seen := map[string]bool{}
 	for _, r := range c.Requirements {
+		if m, _, err := netlist.ParseMetric(r.Metric); err == nil && m.Bare {
+			continue
+		}
 		if !seen[r.Metric] {
 			seen[r.Metric] = true
 			names = append(names, r.Metric)

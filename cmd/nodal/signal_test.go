@@ -96,7 +96,7 @@ func interruptSweep(t *testing.T, bin string, sig os.Signal) {
 	}
 }
 
-// TestSIGINTStopsWorkThatIgnoresContext interrupts `tf` on a long RC
+// TestSIGINTStopsWorkThatIgnoresContext interrupts `transfer` on a long RC
 // ladder (4000 sections), whose numeric extraction does not watch the
 // context: it must still exit with status 2, not print a result (the grace
 // period ends it; without one its write to stdout would fail after the

@@ -69,6 +69,7 @@ type sweepJSON struct {
 	Input  string       `json:"input"`
 	Output string       `json:"output"`
 	Points []sweepPoint `json:"points"`
+	stabilityJSON
 }
 
 // Run sweeps every output.
@@ -129,20 +130,27 @@ func (c *sweepCmd) Run(e *env) error {
 			return err
 		}
 	}
+	stab, err := circuitStability(l)
+	if err != nil {
+		return err
+	}
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		switch c.Format {
 		case "json":
 			docs := make([]sweepJSON, len(resps))
 			for i, r := range resps {
 				docs[i] = responseJSON(r)
+				docs[i].stabilityJSON = newStabilityJSON(stab)
 			}
 			if len(docs) == 1 {
 				return writeJSON(w, docs[0])
 			}
 			return writeJSON(w, docs)
 		case "csv":
+			warnStability(e.stderr, stab)
 			return responseCSV(w, resps)
 		}
+		warnStability(e.stderr, stab)
 		for i, r := range resps {
 			if i > 0 {
 				fmt.Fprintln(w)

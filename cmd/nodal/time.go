@@ -98,6 +98,10 @@ func (c *timeCmd) run(e *env, kind string) error {
 	if err != nil {
 		return err
 	}
+	stab, err := circuitStability(l)
+	if err != nil {
+		return err
+	}
 	if c.Plot != "" {
 		if err := writeTimePlot(e, c.Plot, []string{c.File, c.Output}, l, r); err != nil {
 			return err
@@ -106,7 +110,9 @@ func (c *timeCmd) run(e *env, kind string) error {
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		switch c.Format {
 		case "json":
-			return writeJSON(w, timeDoc(r))
+			doc := timeDoc(r)
+			doc.Stability = stab.Class.String()
+			return writeJSON(w, doc)
 		case "csv":
 			cw := csv.NewWriter(w)
 			if err := cw.Write([]string{"t_s", "y"}); err != nil {
@@ -120,6 +126,7 @@ func (c *timeCmd) run(e *env, kind string) error {
 			cw.Flush()
 			return cw.Error()
 		}
+		warnStability(e.stderr, stab)
 		return timeTable(w, r, sys.Input.Source, c.Out)
 	})
 }

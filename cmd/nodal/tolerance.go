@@ -10,6 +10,7 @@ import (
 
 	"github.com/schollz/progressbar/v3"
 
+	"nodal/analysis/stability"
 	"nodal/analysis/transfer"
 	"nodal/analysis/variation"
 	"nodal/cmd/nodal/plot"
@@ -51,9 +52,17 @@ phase metrics, largest first. --envelope sweeps |H| and phase for every
 run (--from, --to, --per-decade; default: the poles and zeros that shape
 the response within 100 dB of its largest gain, ± a decade). Ctrl-C stops and reports the runs finished.
 
+A build that is not stable (a natural frequency in the right half-plane
+or on the jω axis) has no response metrics: it is counted, reported as
+the fraction of unstable runs (and of unstable worst-case corners), and
+left out of the statistics. The loop metrics read the loop gain around
+one gain element as nodal loop does: phase_margin@U1 (°), gain_margin@U1
+(dB), crossover@U1 (Hz).
+
 Examples:
 
     nodal tolerance testdata/examples/logger_antialias.nodal --out out --metric f3db --metric q
+    nodal tolerance testdata/examples/photodiode_frontend.nodal --out out --metric phase_margin@U1
     nodal tolerance testdata/examples/logger_antialias.nodal --out out --metric gain@1kHz --runs 10000 --seed 7 --format json
     nodal tolerance testdata/examples/logger_antialias.nodal --out out --metric f0 --worst-case --sensitivity
     nodal tolerance testdata/examples/logger_antialias.nodal --out out --metric f3db --envelope --plot band.svg`
@@ -74,6 +83,14 @@ type toleranceJSON struct {
 	WorstCase     []worstCaseJSON   `json:"worst_case"`
 	Sensitivity   []sensitivityJSON `json:"sensitivity"`
 	Envelope      *envelopeJSON     `json:"envelope,omitempty"`
+	// UnstableRuns counts the finished runs whose build was not stable
+	// (counted in Failed, left out of the statistics); UnstableFraction
+	// is UnstableRuns/Runs; UnstableCorners the worst-case corners that
+	// were not stable.
+	UnstableRuns     int     `json:"unstable_runs"`
+	UnstableFraction float64 `json:"unstable_fraction"`
+	UnstableCorners  *int    `json:"unstable_corners,omitempty"`
+	stabilityJSON
 }
 
 type metricStatsJSON struct {
@@ -138,6 +155,7 @@ type toleranceResult struct {
 	wc   *variation.WorstCaseResult
 	sens *variation.SensitivityResult
 	env  *variation.EnvelopeResult
+	stab *stability.Result // of the nominal circuit
 }
 
 // Run performs the analyses and writes the report.
@@ -193,6 +211,9 @@ func (c *toleranceCmd) Run(e *env) error {
 	}
 	opt := variation.MonteCarloOptions{Runs: c.Runs, Seed: c.Seed, Workers: c.Workers}
 	var res toleranceResult
+	if res.stab, err = circuitStability(l); err != nil {
+		return err
+	}
 	stopBar := c.progress(e, &opt, "monte carlo")
 	res.mc, err = variation.MonteCarlo(e.ctx, cir, ev, opt)
 	stopBar()
@@ -218,6 +239,7 @@ func (c *toleranceCmd) Run(e *env) error {
 		if c.Format == "json" {
 			return writeJSON(w, toleranceDoc(&res))
 		}
+		warnStability(e.stderr, res.stab)
 		return toleranceTables(w, &res)
 	}); err != nil {
 		return err
@@ -295,6 +317,14 @@ func toleranceDoc(r *toleranceResult) toleranceJSON {
 	if mc.Cancelled {
 		d.RunsRequested = mc.Runs
 	}
+	d.UnstableRuns = mc.Unstable
+	if mc.Finished > 0 {
+		d.UnstableFraction = float64(mc.Unstable) / float64(mc.Finished)
+	}
+	if r.wc != nil {
+		d.UnstableCorners = &r.wc.Unstable
+	}
+	d.stabilityJSON = newStabilityJSON(r.stab)
 	for _, m := range mc.Metrics {
 		d.Metrics = append(d.Metrics, metricStatsJSON{Name: m.Name, Unit: m.Unit, Nominal: m.Nominal, Mean: m.Mean,
 			Std: m.Std, Min: m.Min, Max: m.Max, P00135: m.P00135, P99865: m.P99865})
@@ -388,7 +418,7 @@ func toleranceTables(w io.Writer, r *toleranceResult) error {
 	if mc.Failed > 0 {
 		fmt.Fprintf(w, ", %d failed", mc.Failed)
 	}
-	fmt.Fprintln(w)
+	fmt.Fprintf(w, "; unstable builds: %d of %d (%.2f %%)\n", mc.Unstable, mc.Finished, 100*float64(mc.Unstable)/float64(max(mc.Finished, 1)))
 	t := newTable(w, "metric", "nominal", "mean", "std", "min", "max", "p00135", "p99865")
 	for _, m := range mc.Metrics {
 		if err := t.row(metricLabel(m.Name, m.Unit), num(m.Nominal), num(m.Mean), num(m.Std), num(m.Min), num(m.Max), num(m.P00135), num(m.P99865)); err != nil {
@@ -408,6 +438,9 @@ func toleranceTables(w io.Writer, r *toleranceResult) error {
 			method = "%d corners from the sensitivity signs"
 		}
 		fmt.Fprintf(w, "\nWorst case ("+method+"; a normal item's corner is ±tol = ±3σ)\n", r.wc.Corners)
+		if r.wc.Unstable > 0 {
+			fmt.Fprintf(w, "%d of the corners are unstable and left out: the worst case is an unstable circuit\n", r.wc.Unstable)
+		}
 		t := newTable(w, "metric", "nominal", "min", "max")
 		for _, m := range r.wc.Metrics {
 			if err := t.row(metricLabel(m.Metric, m.Unit), num(m.Nominal), num(m.Min), num(m.Max)); err != nil {

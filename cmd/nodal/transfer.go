@@ -36,7 +36,11 @@ the bordered pencil, the gain from one evaluation. It prints H(s) expanded
 and factored, poles and zeros (rad/s and Hz) with corner frequencies, f0, Q
 and ζ, the DC gain and high-frequency asymptote, the −3 dB frequencies, the
 peak gain, and the circuit's differential equation. D(s) is normalised so
-that its lowest-order non-zero coefficient is 1.
+that its lowest-order non-zero coefficient is 1. The circuit's stability
+(all its natural frequencies, modes cancelled out of H included) is
+stated too: a warning on standard error when it is marginal or unstable,
+"stability" and "unstable_poles" in JSON; ideal op-amps are also tried
+with a finite model (A0 = 10⁶, 10 MHz) to catch swapped inputs.
 
 Examples:
 
@@ -192,11 +196,18 @@ func (c *transferCmd) Run(e *env) error {
 			return err
 		}
 	}
+	stab, err := circuitStability(l)
+	if err != nil {
+		return err
+	}
 	rep := newTFReport(r)
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		if c.Format == "json" {
-			return writeJSON(w, tfDoc(rep))
+			doc := tfDoc(rep)
+			doc.stabilityJSON = newStabilityJSON(stab)
+			return writeJSON(w, doc)
 		}
+		warnStability(e.stderr, stab)
 		return rep.table(w)
 	})
 }

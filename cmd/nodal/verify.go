@@ -1,6 +1,7 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -12,6 +13,7 @@ import (
 
 	"nodal/analysis/require"
 	"nodal/analysis/response"
+	"nodal/analysis/stability"
 	"nodal/mna"
 	"nodal/netlist"
 )
@@ -66,6 +68,13 @@ point to, as in the tolerance command), and as the Monte Carlo yield: the fracti
 builds meeting each requirement and all of them, with its 95 % Wilson
 score interval.
 
+Every circuit is first judged on the implicit requirement stable (every
+natural frequency in the open left half-plane; write require stable to
+place it yourself): a build that is not stable fails every requirement
+and counts against the yield. Loop metrics judge the loop gain around a
+gain element, as nodal loop prints it: phase_margin@U1 (°),
+gain_margin@U1 (dB), crossover@U1 (Hz, the highest gain crossover).
+
 Exit status: 0 when every requirement passes at nominal (with --strict:
 also in the worst case), 1 otherwise, 2 for bad input. A file without
 require statements is bad input.
@@ -75,6 +84,7 @@ Requirements in the file:
     require gain@1kHz within -0.5dB..0.5dB
     require f3db within 1.9kHz..2.1kHz
     require q above 0.6
+    require phase_margin@U1 above 45deg
 
 Examples:
 
@@ -101,6 +111,8 @@ type verifyReport struct {
 	PassNominal  bool            `json:"pass_nominal"`
 	PassWorst    bool            `json:"pass_worst_case"`
 	Notes        []string        `json:"notes,omitempty"`
+	// the nominal circuit's stability and offending natural frequencies
+	stabilityJSON
 }
 
 type verdictJSON struct {
@@ -118,6 +130,15 @@ type verdictJSON struct {
 	Yield         *proportionJSON `json:"yield,omitempty"`
 
 	nominal, worstMin, worstMax float64 // as evaluated, ±Inf and NaN included, for the table
+	stable                      bool    // the requirement is `stable` (values 1 or 0)
+}
+
+// stableText reads the value of the stable metric.
+func stableText(v float64) string {
+	if v == 1 {
+		return "stable"
+	}
+	return "not stable"
 }
 
 type proportionJSON struct {
@@ -155,7 +176,12 @@ func (c *verifyCmd) Run(e *env) error {
 	if len(l.circuit.Requirements) == 0 {
 		return fmt.Errorf("%s has no require statements to verify; add one such as `require f3db within 1.9kHz..2.1kHz` (metrics: %s)", l.name, strings.Join(netlist.MetricNames(), ", "))
 	}
+	l.circuit.Requirements = require.WithStable(l.circuit.Requirements)
 	rm, err := c.metrics(l)
+	if err != nil {
+		return err
+	}
+	st, err := circuitStability(l)
 	if err != nil {
 		return err
 	}
@@ -190,6 +216,7 @@ func (c *verifyCmd) Run(e *env) error {
 		Toleranced: len(l.circuit.Variations),
 		Failed:     res.Failed, Yield: proportionOut(res.Yield), PassNominal: res.PassNominal(), PassWorst: res.PassWorst(),
 	}
+	unstableNoted := false
 	for i, d := range res.Verdicts {
 		unit, _ := netlist.MetricUnit(metricBase(d.Requirement.Metric))
 		rep.Requirements = append(rep.Requirements, verdictJSON{
@@ -197,9 +224,15 @@ func (c *verifyCmd) Run(e *env) error {
 			Nominal: finiteOrNil(d.Nominal), NominalPass: d.NominalPass,
 			WorstMin: finiteOrNil(d.WorstMin), WorstMax: finiteOrNil(d.WorstMax), WorstPass: d.WorstPass,
 			Yield:   proportionOut(d.Yield),
-			nominal: d.Nominal, worstMin: d.WorstMin, worstMax: d.WorstMax,
+			nominal: d.Nominal, worstMin: d.WorstMin, worstMax: d.WorstMax, stable: d.Requirement.Metric == "stable",
 		})
-		if why[i] != nil {
+		if errors.Is(why[i], stability.ErrUnstable) {
+			if !unstableNoted {
+				rep.Notes = append(rep.Notes, "at nominal values the circuit is not stable: every requirement fails ("+st.Class.String()+": "+naturalList(st.Offending)+")")
+			}
+			unstableNoted = true
+			rep.Requirements[len(rep.Requirements)-1].NominalReason = "not stable"
+		} else if why[i] != nil {
 			rep.Requirements[len(rep.Requirements)-1].NominalReason = why[i].Error()
 			rep.Notes = append(rep.Notes, fmt.Sprintf("%s: at nominal values: %v", d.Requirement.Text, why[i]))
 		}
@@ -210,10 +243,12 @@ func (c *verifyCmd) Run(e *env) error {
 	if res.Failed > 0 {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("%d varied builds could not be analysed and count as failing (first: %v)", res.Failed, res.FirstFailure))
 	}
+	rep.stabilityJSON = newStabilityJSON(st)
 	if err := writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
 		if c.Format == "json" {
 			return writeJSON(w, rep)
 		}
+		warnStability(e.stderr, st)
 		return verifyTable(w, rep)
 	}); err != nil {
 		return err
@@ -272,6 +307,14 @@ func verifyTable(w io.Writer, rep *verifyReport) error {
 			worst = metricText(v.worstMin, v.Unit) + " .. " + metricText(v.worstMax, v.Unit)
 		}
 		nominal := metricText(v.nominal, v.Unit)
+		if v.stable && rep.Toleranced > 0 {
+			nominal, worst = stableText(v.nominal), "stable at every corner"
+			if v.worstMin == 0 {
+				worst = "not stable at a corner"
+			}
+		} else if v.stable {
+			nominal = stableText(v.nominal)
+		}
 		if err := t.row(strings.TrimPrefix(v.Requirement, "require "), nominal, passText(v.NominalPass), worst, passText(v.WorstPass), yield); err != nil {
 			return err
 		}

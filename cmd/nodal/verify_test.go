@@ -62,7 +62,10 @@ func TestVerifyJSON(t *testing.T) {
 	if err := json.Unmarshal([]byte(out), &rep); err != nil {
 		t.Fatal(err)
 	}
-	r := rep.Requirements[0]
+	if s := rep.Requirements[0]; s.Requirement != "stable (implicit)" || !s.NominalPass || !s.WorstPass || rep.Stability != "stable" {
+		t.Errorf("implicit stable requirement %+v, stability %q", s, rep.Stability)
+	}
+	r := rep.Requirements[1]
 	if !r.NominalPass || r.WorstPass || rep.PassWorst || !rep.PassNominal || rep.Corners != 4 {
 		t.Errorf("verdicts %+v", rep)
 	}
@@ -131,7 +134,8 @@ func TestVerifyWithoutTolerances(t *testing.T) {
 	if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
 		t.Fatal(err)
 	}
-	if doc.Toleranced != 0 || doc.Runs != 0 || doc.Yield != nil || len(doc.Requirements) != 2 || doc.Requirements[1].NominalReason != "q: first-order: no pole pair" {
+	// The requirements: the implicit stable, f3db, q.
+	if doc.Toleranced != 0 || doc.Runs != 0 || doc.Yield != nil || len(doc.Requirements) != 3 || doc.Requirements[2].NominalReason != "q: first-order: no pole pair" {
 		t.Errorf("JSON %+v", doc)
 	}
 }

@@ -1,6 +1,6 @@
 // Package notation is the one place nodal writes numbers for people:
-// engineering notation with an SI prefix (read from netlist's prefix table,
-// the one the circuit language reads), engineering notation with a
+// engineering notation with an SI prefix (read from the one prefix table,
+// netlist/syntax, the one every grammar reads), engineering notation with a
 // power-of-1000 exponent, and superscript powers. Every command, the report
 // and the plots format through it.
 package notation

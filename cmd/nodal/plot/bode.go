@@ -39,14 +39,15 @@ type BodeOptions struct {
 
 // size returns the figure size with defaults filled in.
 func (o BodeOptions) size() (vg.Length, vg.Length) {
-	w, h := o.Width, o.Height
-	if w <= 0 {
-		w = 17 * vg.Centimeter
+	return orDefault(o.Width, 17*vg.Centimeter), orDefault(o.Height, 14*vg.Centimeter)
+}
+
+// orDefault returns l, or def when l is not positive (a size left unset).
+func orDefault(l, def vg.Length) vg.Length {
+	if l <= 0 {
+		return def
 	}
-	if h <= 0 {
-		h = 14 * vg.Centimeter
-	}
-	return w, h
+	return l
 }
 
 // Axis labels of the frequency-response panels.

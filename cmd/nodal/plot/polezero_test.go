@@ -21,7 +21,7 @@ func inside(l PanelLayout, r complex128) bool {
 	return real(r) >= l.XMin && real(r) <= l.XMax && imag(r) >= l.YMin && imag(r) <= l.YMax
 }
 
-// The vibration logger's poles (nodal tf on the demo): a pair at
+// The vibration logger's poles (nodal transfer on the demo): a pair at
 // −8903 ± j8928 rad/s (ζ 0.706) and real poles at −3.142 and −6.301 Mrad/s,
 // three decades apart; here with a zero at the origin as well.
 func TestPoleZeroZoomOnDominantRoots(t *testing.T) {

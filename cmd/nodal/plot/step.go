@@ -72,13 +72,7 @@ func Step(t, y []float64, m StepMarks, opt StepOptions) (*Figure, error) {
 	if !finite(m.Initial) || !finite(m.Final) || !finite(m.SettlingBand) || m.SettlingBand < 0 {
 		return nil, fmt.Errorf("plot: %s: initial %g, final %g and settling band %g must be finite (band ≥ 0)", what, m.Initial, m.Final, m.SettlingBand)
 	}
-	w, h := opt.Width, opt.Height
-	if w <= 0 {
-		w = 17 * vg.Centimeter
-	}
-	if h <= 0 {
-		h = 9 * vg.Centimeter
-	}
+	w, h := orDefault(opt.Width, 17*vg.Centimeter), orDefault(opt.Height, 9*vg.Centimeter)
 	ylabel := opt.YLabel
 	if ylabel == "" {
 		ylabel = "output (V)"

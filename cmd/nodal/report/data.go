@@ -35,10 +35,6 @@ type Data struct {
 	// CommandLine is the command that made the report ("nodal report
 	// tone.nodal -o tone.html"); "" leaves it out.
 	CommandLine string
-	// Banners are warnings shown above everything else, each on its own
-	// line (an unstable circuit, once stability is analysed); none by
-	// default.
-	Banners []string
 	// SourceText is the circuit file as read, listed at the end of the
 	// report; "" leaves the listing out.
 	SourceText string
@@ -57,6 +53,52 @@ type Data struct {
 	MonteCarlo *MonteCarlo
 	// Verdicts are the requirement checks, when the file has requirements.
 	Verdicts []Verdict
+	// Banner, when not empty, is shown at the very top of the report: the
+	// circuit is not stable (or an ideal op-amp hides a wrong polarity),
+	// one paragraph per finding.
+	Banner []string
+	// Stability is the one-line stability statement of the summary.
+	Stability string
+	// Loops are the loop gains named by requirements (phase_margin@U1 ...).
+	Loops []Loop
+	// Noise is the noise at the output, when the file has a noise
+	// requirement (noise@F, noise_rms@F1..F2).
+	Noise *Noise
+}
+
+// Loop is the loop gain around one gain element: T(s) factored, its Bode
+// plot with the margins marked, and the figures (name, value) rows.
+type Loop struct {
+	Part     string
+	Factored string
+	Plot     Plot
+	Figures  [][2]string
+}
+
+// Noise is the noise section: the density plot, the figures integrated
+// over FromHz..ToHz (Hz) at TempK (K) and each source's share. OutRMS is
+// in OutUnit ("V"); InRMS in InUnit, nil without an input source or when
+// |H| vanishes in the band; ENBWHz of |H|² (of the output density without
+// input). Method says how the band was integrated.
+type Noise struct {
+	Output, Input   string
+	TempK           float64
+	FromHz, ToHz    float64
+	OutRMS          float64
+	OutUnit, InUnit string
+	InRMS           *float64
+	ENBWHz          float64
+	Method          string
+	Plot            Plot
+	Contributions   []NoiseContribution
+}
+
+// NoiseContribution is one source's output RMS over the band (in the
+// output's unit) and its share of the output mean-square (0…1).
+type NoiseContribution struct {
+	Source   string
+	RMS      float64
+	Fraction float64
 }
 
 // Source is the circuit file: its name as the user gave it and the

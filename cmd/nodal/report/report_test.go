@@ -330,7 +330,7 @@ func TestRenderHeaderSourceAndVerdictColumns(t *testing.T) {
 		Version:     "9.9.9",
 		Generated:   "2026-12-02 15:40 UTC",
 		CommandLine: "nodal report bench/tone.nodal -o 'my report.html'",
-		Banners:     []string{"UNSTABLE: a pole in the right half-plane"},
+		Banner:      []string{"a pole in the right half-plane"},
 		SourceText:  "Vs: voltage source (in, gnd) 1\nR1: resistor (in, out) 1k <&>\n",
 		Parts:       []Part{{Name: "R1", Kind: "resistor", Nodes: []string{"in", "out"}, Value: "1 kΩ"}},
 		Verdicts: []Verdict{
@@ -343,7 +343,7 @@ func TestRenderHeaderSourceAndVerdictColumns(t *testing.T) {
 	for _, want := range []string{
 		"<title>tone.nodal</title>", "<h1>tone.nodal</h1>", // untitled: its file name
 		"2026-12-02 15:40 UTC", "nodal 9.9.9", "nodal report bench/tone.nodal -o &#39;my report.html&#39;",
-		`<p class="banner">UNSTABLE: a pole in the right half-plane</p>`,
+		"a pole in the right half-plane",
 		`id="source"`, "R1: resistor (in, out) 1k &lt;&amp;&gt;",
 		`<th class="num">worst case</th>`, "1.886 kHz .. 2.126 kHz", "97.2 %", "1 fail in the worst case", "1 fail in some Monte Carlo runs",
 	} {
@@ -351,9 +351,9 @@ func TestRenderHeaderSourceAndVerdictColumns(t *testing.T) {
 			t.Errorf("report lacks %q", want)
 		}
 	}
-	// The banner comes first, before the title; the listing last.
-	if b, h := strings.Index(out, `class="banner"`), strings.Index(out, "<h1>"); b < 0 || b > h {
-		t.Errorf("banner at %d, title at %d", b, h)
+	// The stability warning is the first section; the listing the last.
+	if b, h := strings.Index(out, `<section id="stability-warning"`), strings.Index(out, "<section"); b < 0 || b != h {
+		t.Errorf("warning section at %d, first section at %d", b, h)
 	}
 	if s, v := strings.Index(out, `id="source"`), strings.Index(out, `id="verdicts"`); s < v {
 		t.Errorf("source listing at %d before the requirements at %d", s, v)
@@ -369,7 +369,7 @@ func TestRenderHeaderSourceAndVerdictColumns(t *testing.T) {
 	if err := RenderText(&txt, d); err != nil {
 		t.Fatal(err)
 	}
-	for _, want := range []string{"!! UNSTABLE", "2026-12-02 15:40 UTC · nodal 9.9.9 · nodal report", "Circuit source", "    R1: resistor (in, out) 1k <&>"} {
+	for _, want := range []string{"a pole in the right half-plane", "2026-12-02 15:40 UTC · nodal 9.9.9 · nodal report", "Circuit source", "    R1: resistor (in, out) 1k <&>"} {
 		if !strings.Contains(txt.String(), want) {
 			t.Errorf("text report lacks %q", want)
 		}

@@ -43,11 +43,10 @@ type row struct {
 }
 
 // footer is what closes every report; the masthead shows its Generated,
-// CommandLine and Version too, and the Banners above everything.
+// CommandLine and Version too.
 type footer struct {
 	Version, SourceName, SHA256, Safety string
 	Generated, CommandLine              string
-	Banners                             []string
 }
 
 var hex64 = regexp.MustCompile(`^[0-9a-f]{64}$`)
@@ -69,11 +68,14 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 		}
 	}
 	foot = footer{Version: d.Version, SourceName: d.Source.Name, SHA256: d.Source.SHA256, Safety: SafetyNote,
-		Generated: d.Generated, CommandLine: d.CommandLine, Banners: d.Banners}
+		Generated: d.Generated, CommandLine: d.CommandLine}
 	if foot.Version == "" {
 		foot.Version = "development build"
 	}
 
+	if len(d.Banner) > 0 {
+		secs = append(secs, section{ID: "stability-warning", Heading: "Warning: this circuit is not stable as drawn", Paras: d.Banner})
+	}
 	sum := section{ID: "summary", Heading: "Circuit"}
 	if d.Source.BuiltIn {
 		sum.Paras = append(sum.Paras, "This is nodal's built-in demo circuit ("+d.Source.Name+"); give a FILE to analyse your own.")
@@ -82,6 +84,9 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 	}
 	if d.Summary != "" {
 		sum.Paras = append(sum.Paras, d.Summary)
+	}
+	if d.Stability != "" {
+		sum.Paras = append(sum.Paras, d.Stability)
 	}
 	sum.Paras = append(sum.Paras, d.Notes...)
 	parts := table{Caption: "Parts", Header: []string{"name", "kind", "nodes", "value", "tolerance"}, Right: []bool{false, false, false, true, true}}
@@ -192,10 +197,28 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 		secs = append(secs, s)
 	}
 
+	for _, lp := range d.Loops {
+		s := section{ID: "loop-" + lp.Part, Heading: "Loop gain around " + lp.Part,
+			Paras:  []string{"T(s) = −(control returned to " + lp.Part + ")/(test signal driving it), Bode's return ratio; s in rad/s."},
+			Blocks: []block{{"factored", "T(s) = " + lp.Factored}}}
+		if lp.Plot.present() {
+			s.Figures = append(s.Figures, lp.Plot)
+		}
+		t := table{Header: []string{"figure", "value"}, Right: []bool{false, false}}
+		for _, f := range lp.Figures {
+			t.Rows = append(t.Rows, row{Cells: []string{f[0], f[1]}})
+		}
+		s.Tables = append(s.Tables, t)
+		secs = append(secs, s)
+	}
+
 	if len(d.Verdicts) > 0 {
 		secs = append(secs, verdictSection(d.Verdicts))
 	}
-	if d.SourceText != "" {
+	if n := d.Noise; n != nil {
+		secs = append(secs, noiseSection(n))
+	}
+	if d.SourceText != "" { // last: the listing closes the report
 		secs = append(secs, section{ID: "source", Heading: "Circuit source",
 			Paras:  []string{"The circuit file as read (" + d.Source.Name + ")."},
 			Blocks: []block{{"", strings.TrimRight(d.SourceText, "\n")}}})
@@ -257,9 +280,33 @@ func verdictSection(vs []Verdict) section {
 	return section{ID: "verdicts", Heading: "Requirements", Paras: paras, Tables: []table{t}}
 }
 
+// noiseSection is the noise at the output: plot, band figures, sources.
+func noiseSection(n *Noise) section {
+	s := section{ID: "noise", Heading: "Noise"}
+	para := fmt.Sprintf("Noise at %s at %s K: thermal noise 4kTR of every resistor not marked noiseless and the opamps' en and in, uncorrelated; integrated over %s … %s by %s.",
+		n.Output, strconv.FormatFloat(n.TempK, 'g', 6, 64), notation.Digits(n.FromHz, 4, "Hz"), notation.Digits(n.ToHz, 4, "Hz"), n.Method)
+	s.Paras = append(s.Paras, para)
+	if n.Plot.present() {
+		s.Figures = append(s.Figures, n.Plot)
+	}
+	t := table{Header: []string{"figure", "value"}, Right: []bool{false, true}}
+	t.Rows = append(t.Rows, row{Cells: []string{"output RMS noise", formatValue(n.OutRMS, n.OutUnit)}})
+	if n.InRMS != nil {
+		t.Rows = append(t.Rows, row{Cells: []string{"input-referred RMS noise (" + n.Input + ")", formatValue(*n.InRMS, n.InUnit)}})
+	}
+	t.Rows = append(t.Rows, row{Cells: []string{"equivalent noise bandwidth", formatValue(n.ENBWHz, "Hz")}})
+	s.Tables = append(s.Tables, t)
+	c := table{Caption: "Contributions over the band, largest first", Header: []string{"source", "output RMS", "share of power"}, Right: []bool{false, true, true}}
+	for _, x := range n.Contributions {
+		c.Rows = append(c.Rows, row{Cells: []string{x.Source, formatValue(x.RMS, n.OutUnit), strconv.FormatFloat(100*x.Fraction, 'f', 2, 64) + " %"}})
+	}
+	s.Tables = append(s.Tables, c)
+	return s
+}
+
 // siUnits take SI prefixes when printed; other units (dB, °, %, plain
 // ratios) are printed as plain numbers.
-var siUnits = map[string]bool{"Hz": true, "s": true, "V": true, "A": true, "Ω": true, "F": true, "H": true, "rad/s": true, "S": true, "W": true}
+var siUnits = map[string]bool{"Hz": true, "s": true, "V": true, "A": true, "Ω": true, "F": true, "H": true, "rad/s": true, "S": true, "W": true, "V/√Hz": true}
 
 // formatValue writes a metric value or limit with unit in the one style of
 // verdict tables (notation.Metric); "—" for NaN (no value: a note says why).

@@ -21,9 +21,6 @@ func RenderText(w io.Writer, d *Data) error {
 	}
 	var buf bytes.Buffer // render fully before writing
 	bw := bufio.NewWriter(&buf)
-	for _, b := range foot.Banners {
-		fmt.Fprintf(bw, "!! %s\n", b)
-	}
 	fmt.Fprintf(bw, "%s\n%s\n", title, strings.Repeat("=", max(len([]rune(title)), 8)))
 	made := "nodal " + foot.Version
 	if foot.Generated != "" {

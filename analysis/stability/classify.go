@@ -1,0 +1,132 @@
+package stability
+
+import (
+	"cmp"
+	"errors"
+	"math"
+	"math/cmplx"
+	"slices"
+)
+
+// ErrUnstable marks a circuit whose natural frequencies are not all in
+// the open left half-plane: its response metrics do not exist (no steady
+// state). The tolerance engines count such runs; verify fails them.
+var ErrUnstable = errors.New("the circuit is not stable")
+
+// Class is the stability of a circuit (see the package comment).
+type Class int
+
+const (
+	// Stable: every natural frequency in the open left half-plane.
+	Stable Class = iota
+	// Marginal: the rightmost natural frequencies lie on the jω axis and
+	// are simple; none is in the right half-plane.
+	Marginal
+	// Unstable: a natural frequency in the right half-plane, or a repeated
+	// one on the jω axis.
+	Unstable
+)
+
+// String is the word used in output and JSON: "stable", "marginal" or
+// "unstable".
+func (c Class) String() string {
+	switch c {
+	case Marginal:
+		return "marginal"
+	case Unstable:
+		return "unstable"
+	}
+	return "stable"
+}
+
+// Tolerances of Classify (dimensionless).
+const (
+	// AxisTol: |Re λ| at or below AxisTol·|λ| is on the jω axis (a tank
+	// with Q above about 5·10⁸ counts as lossless).
+	AxisTol = 1e-9
+	// zeroTol: |λ| at or below zeroTol·ω0 is s = 0 exactly (about 10⁶
+	// times the rounding of the scaled pencil).
+	zeroTol = 1e-10
+	// zeroClusterTol: k ≥ 2 roots within zeroClusterTol·ω0 of 0 whose
+	// mean is no larger than their spread are one k-fold root at s = 0
+	// split by rounding (by about ε^(1/k)·ω0).
+	zeroClusterTol = 1e-7
+	// repeatTol: two axis frequencies closer than repeatTol·|λ| (or
+	// zeroClusterTol·ω0) are one repeated frequency.
+	repeatTol = 1e-6
+)
+
+// Classify snaps roots that are zero or on the jω axis within the
+// tolerances above (w0, rad/s, is the characteristic frequency returned
+// by FiniteEigenvalues), sorts them by decreasing real part, and returns
+// the class with the offending roots: for Unstable every root in the
+// closed right half-plane, for Marginal those on the axis, for Stable
+// none. roots is changed in place.
+func Classify(roots []complex128, w0 float64) (Class, []complex128) {
+	snapZeroCluster(roots, w0)
+	for i, r := range roots {
+		switch {
+		case cmplx.Abs(r) <= zeroTol*w0:
+			roots[i] = 0
+		case math.Abs(real(r)) <= AxisTol*cmplx.Abs(r):
+			roots[i] = complex(0, imag(r))
+		}
+	}
+	slices.SortStableFunc(roots, func(a, b complex128) int {
+		if c := cmp.Compare(real(b), real(a)); c != 0 {
+			return c
+		}
+		return cmp.Compare(imag(b), imag(a))
+	})
+	var axis, right []complex128
+	for _, r := range roots {
+		switch {
+		case real(r) > 0:
+			right = append(right, r)
+		case real(r) == 0:
+			axis = append(axis, r)
+		}
+	}
+	repeated := false
+	for i := range axis {
+		for j := i + 1; j < len(axis); j++ {
+			sc := math.Max(repeatTol*cmplx.Abs(axis[i]), zeroClusterTol*w0)
+			if cmplx.Abs(axis[i]-axis[j]) <= sc {
+				repeated = true
+			}
+		}
+	}
+	switch {
+	case len(right) > 0 || repeated:
+		return Unstable, append(right, axis...)
+	case len(axis) > 0:
+		return Marginal, axis
+	}
+	return Stable, nil
+}
+
+// snapZeroCluster sets to 0 the roots near s = 0 that are one multiple
+// root split by rounding (see zeroClusterTol).
+func snapZeroCluster(roots []complex128, w0 float64) {
+	var idx []int
+	var mean complex128
+	for i, r := range roots {
+		if cmplx.Abs(r) <= zeroClusterTol*w0 {
+			idx = append(idx, i)
+			mean += r
+		}
+	}
+	if len(idx) < 2 {
+		return
+	}
+	mean /= complex(float64(len(idx)), 0)
+	spread := 0.0
+	for _, i := range idx {
+		spread = math.Max(spread, cmplx.Abs(roots[i]-mean))
+	}
+	if cmplx.Abs(mean) <= spread {
+		for _, i := range idx {
+			roots[i] = 0
+		}
+	}
+}

@@ -1,0 +1,253 @@
+package stability
+
+import (
+	"errors"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// This file finds the finite generalised eigenvalues of a real square
+// pencil A + s·E (the roots of det(A + s·E)) by index reduction followed
+// by the QR algorithm; no determinant polynomial is formed.
+//
+// Method (index reduction by orthogonal compression):
+//
+//  0. Scale: s = ω0·ŝ with ω0 = ‖A‖_F/‖E‖_F, then balance rows and columns
+//     of |A| + |ω0·E| by powers of two (exact in floating point).
+//  1. Compress E by its SVD, E = U·Σ·Vᵀ, rank r (singular values above
+//     eRankTol·‖E‖): Uᵀ(A + sE)V has a zero E in its last m = n − r rows
+//     and columns. If r = n, the eigenvalues are those of −Σ⁻¹·UᵀAV
+//     (gonum's Eigen, which balances again) and we are done.
+//  2. Compress the algebraic block A22 (m × m) by its SVD, rank q; the q
+//     regular algebraic unknowns are eliminated by a Schur complement.
+//     It does not involve s (their rows and columns of E are zero), so
+//     det changes by the constant det(S_q) only.
+//  3. What remains has A22 = 0: the m' = m − q algebraic rows constrain
+//     the dynamic unknowns (A21·x1 = 0) and the m' algebraic unknowns
+//     enter only through A12. With N an orthonormal basis of null(A21)
+//     and Z one of range(A12)⊥ (both from SVDs),
+//     det(A + sE) = const·det(Zᵀ(A11 + sE11)N): these are infinite
+//     eigenvalues of index two or more, removed exactly. If A21 or A12
+//     lacks full rank m', det(A + sE) ≡ 0 (a singular pencil).
+//  4. Repeat from 1 on the smaller pencil.
+//
+// Every rank decision is on a block that is either a scaled capacitance
+// or inductance (E) or a scaled conductance or incidence (A), so the
+// singular values that count are far above the rounding-level ones.
+// Because infinite eigenvalues are removed before any eigenvalue is
+// computed, they cannot show up as large finite ones.
+
+// ErrSingularPencil means det(G + sC) ≡ 0: the circuit equations have no
+// unique solution at any frequency, so it has no natural frequencies.
+var ErrSingularPencil = errors.New("the circuit equations are singular for every frequency (det(G + sC) ≡ 0)")
+
+// Rank thresholds, relative and dimensionless.
+const (
+	eRankTol = 1e-11 // a singular value of E below eRankTol·‖E‖ is zero
+	aRankTol = 1e-12 // a singular value of an A block below aRankTol·‖A‖ is zero
+)
+
+// FiniteEigenvalues returns every finite root of det(a + s·e) (rad/s when
+// a is G and e is C of an MNA system) and the characteristic frequency ω0
+// (rad/s) of the scaling, by which callers judge "small" and "on the
+// axis". a and e are not changed. Errors: ErrSingularPencil for
+// det ≡ 0, or a non-converging eigenvalue iteration.
+func FiniteEigenvalues(a, e *mat.Dense) (roots []complex128, w0 float64, err error) {
+	n, _ := a.Dims()
+	if r, c := e.Dims(); r != n || c != n {
+		return nil, 0, errors.New("natural frequencies: G and C differ in size")
+	}
+	an, en := mat.Norm(a, 2), mat.Norm(e, 2)
+	if en == 0 {
+		if an == 0 || !fullRank(a, aRankTol*an) {
+			return nil, 0, ErrSingularPencil
+		}
+		return nil, 0, nil
+	}
+	w0 = 1
+	if an > 0 {
+		w0 = an / en
+	}
+	as, es := balanced(a, e, w0)
+	roots, err = reduce(as, es)
+	for i := range roots {
+		roots[i] *= complex(w0, 0)
+	}
+	return roots, w0, err
+}
+
+// balanced returns D1·A·D2 and D1·(w0·E)·D2 with power-of-two diagonal
+// D1, D2 that bring the row and column maxima of |A| + |w0·E| near 1.
+func balanced(a, e *mat.Dense, w0 float64) (*mat.Dense, *mat.Dense) {
+	n, _ := a.Dims()
+	as, es := mat.DenseCopyOf(a), mat.NewDense(n, n, nil)
+	es.Scale(w0, e)
+	// line returns pointers to the entries of row (or column) i of both.
+	line := func(i int, row bool) (a, e []*float64) {
+		ra, re := as.RawMatrix(), es.RawMatrix()
+		for j := 0; j < n; j++ {
+			k := i*ra.Stride + j
+			if !row {
+				k = j*ra.Stride + i
+			}
+			a, e = append(a, &ra.Data[k]), append(e, &re.Data[k])
+		}
+		return a, e
+	}
+	for sweep := 0; sweep < 8; sweep++ {
+		for i := 0; i < 2*n; i++ {
+			a, e := line(i%n, i < n)
+			m := 0.0
+			for j := range a {
+				m = math.Max(m, math.Abs(*a[j])+math.Abs(*e[j]))
+			}
+			if m == 0 {
+				continue
+			}
+			f := math.Ldexp(1, -math.Ilogb(m))
+			for j := range a {
+				*a[j] *= f
+				*e[j] *= f
+			}
+		}
+	}
+	return as, es
+}
+
+// fullRank reports whether every singular value of m exceeds tol.
+func fullRank(m mat.Matrix, tol float64) bool {
+	r, c := m.Dims()
+	if r != c {
+		return false
+	}
+	var sv mat.SVD
+	if !sv.Factorize(m, mat.SVDNone) {
+		return false
+	}
+	vals := sv.Values(nil)
+	return len(vals) == r && vals[len(vals)-1] > tol
+}
+
+// svdFull factors m with full U and V and returns the rank at tol.
+func svdFull(m mat.Matrix, tol float64) (u, v *mat.Dense, vals []float64, rank int, err error) {
+	var sv mat.SVD
+	if !sv.Factorize(m, mat.SVDFull) {
+		return nil, nil, nil, 0, errors.New("natural frequencies: singular value iteration did not converge")
+	}
+	u, v = new(mat.Dense), new(mat.Dense)
+	sv.UTo(u)
+	sv.VTo(v)
+	vals = sv.Values(nil)
+	for _, x := range vals {
+		if x > tol {
+			rank++
+		}
+	}
+	return u, v, vals, rank, nil
+}
+
+// reduce runs steps 1–4 on the scaled pencil and returns its finite
+// eigenvalues in scaled units.
+func reduce(a, e *mat.Dense) ([]complex128, error) {
+	eTol := eRankTol * mat.Norm(e, 2)
+	aTol := aRankTol * mat.Norm(a, 2)
+	for {
+		n, _ := a.Dims()
+		if n == 0 {
+			return nil, nil
+		}
+		// Step 1.
+		u, v, sig, r, err := svdFull(e, eTol)
+		if err != nil {
+			return nil, err
+		}
+		if r == 0 {
+			if !fullRank(a, aTol) {
+				return nil, ErrSingularPencil
+			}
+			return nil, nil
+		}
+		var at mat.Dense
+		at.Product(u.T(), a, v)
+		if r == n {
+			for i := 0; i < n; i++ {
+				for j := 0; j < n; j++ {
+					at.Set(i, j, -at.At(i, j)/sig[i])
+				}
+			}
+			var eig mat.Eigen
+			if !eig.Factorize(&at, mat.EigenNone) {
+				return nil, errors.New("natural frequencies: eigenvalue iteration did not converge")
+			}
+			return eig.Values(nil), nil
+		}
+		m := n - r
+		// Step 2: rotate the algebraic block to diag(S_q, 0).
+		p, q, s, rq, err := svdFull(at.Slice(r, n, r, n), aTol)
+		if err != nil {
+			return nil, err
+		}
+		rot := mat.NewDense(n, n, nil) // rows: diag(I, Pᵀ)
+		col := mat.NewDense(n, n, nil) // cols: diag(I, Q)
+		for i := 0; i < r; i++ {
+			rot.Set(i, i, 1)
+			col.Set(i, i, 1)
+		}
+		rot.Slice(r, n, r, n).(*mat.Dense).Copy(p.T())
+		col.Slice(r, n, r, n).(*mat.Dense).Copy(q)
+		var a2 mat.Dense
+		a2.Product(rot, &at, col)
+		// E in the same coordinates: diag(Σ_r, 0).
+		keep := make([]int, 0, n-rq)
+		for i := 0; i < n; i++ {
+			if i < r || i >= r+rq {
+				keep = append(keep, i)
+			}
+		}
+		k := len(keep)
+		a3 := mat.NewDense(k, k, nil)
+		e3 := mat.NewDense(k, k, nil)
+		for ii, i := range keep {
+			if ii < r {
+				e3.Set(ii, ii, sig[ii])
+			}
+			for jj, j := range keep {
+				v := a2.At(i, j)
+				for t := r; t < r+rq; t++ {
+					v -= a2.At(i, t) * a2.At(t, j) / s[t-r]
+				}
+				a3.Set(ii, jj, v)
+			}
+		}
+		mm := m - rq
+		if mm == 0 {
+			a, e = a3, e3
+			continue
+		}
+		// Step 3: A22 is zero now (exactly, up to rounding).
+		if mm > r {
+			return nil, ErrSingularPencil
+		}
+		_, v21, _, rk21, err := svdFull(a3.Slice(r, k, 0, r), aTol)
+		if err != nil {
+			return nil, err
+		}
+		u12, _, _, rk12, err := svdFull(a3.Slice(0, r, r, k), aTol)
+		if err != nil {
+			return nil, err
+		}
+		if rk21 < mm || rk12 < mm {
+			return nil, ErrSingularPencil
+		}
+		if r == mm {
+			return nil, nil // only infinite eigenvalues remain
+		}
+		nb := v21.Slice(0, r, mm, r) // null(A21)
+		zb := u12.Slice(0, r, mm, r) // range(A12)⊥
+		var a4, e4 mat.Dense
+		a4.Product(zb.T(), a3.Slice(0, r, 0, r), nb)
+		e4.Product(zb.T(), e3.Slice(0, r, 0, r), nb)
+		a, e = &a4, &e4
+	}
+}
