@@ -52,12 +52,7 @@ Examples:
 
 // Run compares and prints the verdict.
 func (c *checkCmd) Run(e *env) error {
-	format, err := chooseFormat(c.Format, c.Output, "table", "json")
-	if err != nil {
-		return err
-	}
-	c.Format = format
-	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output}, "table", "json"); err != nil {
 		return err
 	}
 	if c.ODE == "" && c.TF == "" {

@@ -49,12 +49,7 @@ type nodePhasor struct {
 
 // Run computes the steady state.
 func (c *driveCmd) Run(e *env) error {
-	format, err := chooseFormat(c.Format, c.Output, "table", "json")
-	if err != nil {
-		return err
-	}
-	c.Format = format
-	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output}, "table", "json"); err != nil {
 		return err
 	}
 	l, err := c.load(e)

@@ -81,14 +81,9 @@ type impedanceJSON struct {
 
 // Run prints the impedance report.
 func (c *impedanceCmd) Run(e *env) error {
-	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
 		return err
 	}
-	format, err := chooseFormat(c.Format, c.Output, "table", "json")
-	if err != nil {
-		return err
-	}
-	c.Format = format
 	if err := c.symbolicArgs.check(); err != nil {
 		return err
 	}

@@ -72,12 +72,7 @@ func loopGain(c *netlist.Circuit, part string) (*loopResult, error) {
 
 // Run prints the loop gain report.
 func (c *loopCmd) Run(e *env) error {
-	format, err := chooseFormat(c.Format, c.Output, "table", "json")
-	if err != nil {
-		return err
-	}
-	c.Format = format
-	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
 		return err
 	}
 	l, err := c.load(e)

@@ -140,12 +140,7 @@ func noiseConfig(c *netlist.Circuit, in string, out mna.Observation, tempK float
 
 // Run computes and prints the noise.
 func (c *noiseCmd) Run(e *env) error {
-	format, err := chooseFormat(c.Format, c.Output, "table", "json")
-	if err != nil {
-		return err
-	}
-	c.Format = format
-	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
 		return err
 	}
 	l, err := c.load(e)

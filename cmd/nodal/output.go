@@ -418,3 +418,16 @@ func orList(items []string) string {
 	}
 	return strings.Join(items[:len(items)-1], ", ") + " or " + items[len(items)-1]
 }
+
+// startOutput is the first step of every command that prints: it settles
+// *format (chooseFormat, from the flag or the extension of outputs[0],
+// the -o file) and checks every output path against the inputs
+// (checkOutputs), before any analysis runs.
+func startOutput(format *string, inputs, outputs []string, formats ...string) error {
+	f, err := chooseFormat(*format, outputs[0], formats...)
+	if err != nil {
+		return err
+	}
+	*format = f
+	return checkOutputs(inputs, outputs...)
+}

@@ -54,15 +54,11 @@ Examples:
 
 // Run builds and writes the report.
 func (c *reportCmd) Run(e *env) error {
-	format, err := chooseFormat(c.Format, c.Output, "html", "text")
-	if err != nil {
-		return err
-	}
-	c.Format = format
-	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output}, "html", "text"); err != nil {
 		return err
 	}
 	var l *loaded
+	var err error
 	path := c.Output
 	if path == "" && c.Format == "html" {
 		if path, err = defaultReportPath(c.Force); err != nil {

@@ -74,12 +74,7 @@ type sweepJSON struct {
 
 // Run sweeps every output.
 func (c *sweepCmd) Run(e *env) error {
-	format, err := chooseFormat(c.Format, c.Output, "table", "csv", "json")
-	if err != nil {
-		return err
-	}
-	c.Format = format
-	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "csv", "json"); err != nil {
 		return err
 	}
 	l, err := c.load(e)

@@ -54,12 +54,7 @@ func (c *timeCmd) Run(e *env) error { return c.run(e, c.Input) }
 
 // run computes and prints a time response of the given kind.
 func (c *timeCmd) run(e *env, kind string) error {
-	format, err := chooseFormat(c.Format, c.Output, "table", "csv", "json")
-	if err != nil {
-		return err
-	}
-	c.Format = format
-	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "csv", "json"); err != nil {
 		return err
 	}
 	l, err := c.load(e)

@@ -160,12 +160,7 @@ type toleranceResult struct {
 
 // Run performs the analyses and writes the report.
 func (c *toleranceCmd) Run(e *env) error {
-	format, err := chooseFormat(c.Format, c.Output, "table", "json")
-	if err != nil {
-		return err
-	}
-	c.Format = format
-	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
 		return err
 	}
 	if c.Runs < 1 {

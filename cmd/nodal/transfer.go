@@ -161,12 +161,7 @@ func impedanceError(p tfProbe, err error) error {
 
 // Run prints the transfer function report.
 func (c *transferCmd) Run(e *env) error {
-	format, err := chooseFormat(c.Format, c.Output, "table", "json")
-	if err != nil {
-		return err
-	}
-	c.Format = format
-	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
 		return err
 	}
 	if err := c.symbolicArgs.check(); err != nil {

@@ -158,14 +158,9 @@ func proportionOut(p require.Proportion) *proportionJSON {
 
 // Run verifies and prints the verdicts.
 func (c *verifyCmd) Run(e *env) error {
-	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output}, "table", "json"); err != nil {
 		return err
 	}
-	format, err := chooseFormat(c.Format, c.Output, "table", "json")
-	if err != nil {
-		return err
-	}
-	c.Format = format
 	if c.Runs < 0 {
 		return fmt.Errorf("--runs must be ≥ 0, got %d", c.Runs)
 	}
