@@ -83,3 +83,39 @@ func TestOutputExtensionChoosesFormat(t *testing.T) {
 		}
 	}
 }
+
+// TestPartsJSONKeysDocumented: every key `nodal parts --format json`
+// prints (pinned in testdata/json_keys/parts*.keys) is named in the
+// README's nodal parts section.
+func TestPartsJSONKeysDocumented(t *testing.T) {
+	readme, err := os.ReadFile("../../README.md")
+	if err != nil {
+		t.Fatal(err)
+	}
+	sec := string(readme)
+	i := strings.Index(sec, "### nodal parts")
+	if i < 0 {
+		t.Fatal("README has no nodal parts section")
+	}
+	sec = sec[i:]
+	if j := strings.Index(sec[4:], "\n### "); j > 0 {
+		sec = sec[:j+4]
+	}
+	files, _ := filepath.Glob("testdata/json_keys/parts*.keys")
+	if len(files) < 2 {
+		t.Fatalf("key files %v", files)
+	}
+	for _, f := range files {
+		b, err := os.ReadFile(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, k := range strings.Fields(string(b)) {
+			leaf := k[strings.LastIndex(k, ".")+1:]
+			leaf = strings.TrimSuffix(leaf, "[]")
+			if !strings.Contains(sec, "`"+leaf+"`") && !strings.Contains(sec, "`"+leaf+"[]") && !strings.Contains(sec, "\""+leaf+"\"") && !strings.Contains(sec, "."+leaf+"`") && !strings.Contains(sec, "."+leaf+"[]") {
+				t.Errorf("%s: key %s is not documented in the README's nodal parts section", f, k)
+			}
+		}
+	}
+}
