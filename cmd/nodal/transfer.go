@@ -35,7 +35,9 @@ circuit from its MNA pencil: poles as generalised eigenvalues, zeros from
 the bordered pencil, the gain from one evaluation. It prints H(s) expanded
 and factored, poles and zeros (rad/s and Hz) with corner frequencies, f0, Q
 and ζ, the DC gain and high-frequency asymptote, the −3 dB frequencies, the
-peak gain, and the circuit's differential equation. D(s) is normalised so
+peak gain and its frequency, the peaking above the passband gain of a low-
+or high-pass, the dominant pole pair (or why there is none: "first-order:
+no pole pair"), and the circuit's differential equation. D(s) is normalised so
 that its lowest-order non-zero coefficient is 1. The circuit's stability
 (all its natural frequencies, modes cancelled out of H included) is
 stated too: a warning on standard error when it is marginal or unstable,

@@ -345,7 +345,7 @@ func TestRenderHeaderSourceAndVerdictColumns(t *testing.T) {
 		"2026-12-02 15:40 UTC", "nodal 9.9.9", "nodal report bench/tone.nodal -o &#39;my report.html&#39;",
 		"a pole in the right half-plane",
 		`id="source"`, "R1: resistor (in, out) 1k &lt;&amp;&gt;",
-		`<th class="num">worst case</th>`, "1.886 kHz .. 2.126 kHz", "97.2 %", "1 fail in the worst case", "1 fail in some Monte Carlo runs",
+		`<th class="num">worst case</th>`, "1.886 kHz .. 2.126 kHz", "97.2 %", `<td class="verdict-fail">FAIL ✗</td>`, `<td class="verdict-pass">PASS ✓</td>`, "1 fail in the worst case", "1 fail in some Monte Carlo runs",
 	} {
 		if !strings.Contains(out, want) {
 			t.Errorf("report lacks %q", want)

@@ -36,10 +36,12 @@ type table struct {
 	Rows    []row
 }
 
-// row is one table row; Class is "pass", "fail" or "".
+// row is one table row; Class is "pass", "fail" or ""; Verdicts, when
+// set, gives each cell its own "pass", "fail" or "" (a verdict column).
 type row struct {
-	Cells []string
-	Class string
+	Cells    []string
+	Class    string
+	Verdicts []string
 }
 
 // footer is what closes every report; the masthead shows its Generated,
@@ -263,7 +265,17 @@ func verdictSection(vs []Verdict) section {
 			failNom++
 			class = "fail"
 		}
-		t.Rows = append(t.Rows, row{Cells: []string{v.Requirement, formatValue(v.Value, v.Unit), verdictText(v.Pass), worst, worstVerdict, yield, yieldVerdict}, Class: class})
+		cls := func(shown bool, pass bool) string {
+			switch {
+			case !shown:
+				return ""
+			case pass:
+				return "verdict-pass"
+			}
+			return "verdict-fail"
+		}
+		t.Rows = append(t.Rows, row{Cells: []string{v.Requirement, formatValue(v.Value, v.Unit), verdictText(v.Pass), worst, worstVerdict, yield, yieldVerdict}, Class: class,
+			Verdicts: []string{"", "", cls(true, v.Pass), "", cls(v.Worst, v.WorstPass), "", cls(v.Yield != nil, v.Yield != nil && *v.Yield == 1)}})
 	}
 	n := len(vs)
 	para := fmt.Sprintf("All %d requirements pass at nominal values.", n)
