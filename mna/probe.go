@@ -353,6 +353,10 @@ func (nm names) observation(ex Excitation, ob Observation) (Observation, error) 
 		return ob, nil
 	case PartCurrent:
 		p, ok := nm.c.Part(ob.Part)
+		if !ok && ob.Part != "" && nm.node(ob.Part) == nil {
+			return ob, &LookupError{What: "part", Name: ob.Part, Known: nm.currentParts(),
+				Why: fmt.Sprintf("%q is a node, not a part: i(PART) is the current through a part, and the voltage of the node is v(%s)", ob.Part, ob.Part)}
+		}
 		if !ok || p.Kind == netlist.Coupling {
 			return ob, &LookupError{What: "part", Name: ob.Part, Known: nm.currentParts()}
 		}

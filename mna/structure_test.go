@@ -105,6 +105,7 @@ func TestLookupErrors(t *testing.T) {
 		{"not a source", c, mna.Input{Source: "R1"}, mna.Output{Node: "out"}, []string{`no source "R1"`}},
 		{"several sources", two, mna.Input{}, mna.Output{Node: "in"}, []string{"several", `"Va", "Ib"`}},
 		{"unknown part", c, mna.Input{}, mna.Output{Kind: mna.PartCurrent, Part: "X"}, []string{`no part "X"`, `"Vs", "R1", "C1"`}},
+		{"current of a node", c, mna.Input{}, mna.Output{Kind: mna.PartCurrent, Part: "out"}, []string{`"out" is a node, not a part`, "v(out)", `"Vs", "R1", "C1"`}},
 		{"bad inject", c, mna.Input{Inject: "nope"}, mna.Output{Node: "out"}, []string{`node "nope"`}},
 	}
 	for _, tc := range cases {

@@ -195,7 +195,9 @@ func (c *exprCompiler) primary(p *Primary) (compiled, bool) {
 		c.report(p.Pos, "unexpected list of values", "a list (c, d) is no value; the voltage of c with respect to d is v(c, d)")
 		return compiled{}, false
 	}
-	lit, err := syntax.ParseNumber(p.Number)
+	// A value written SI style with a space ("10 kΩ") arrives as one
+	// token (mergeSpacedUnits); the number is read without the blanks.
+	lit, err := syntax.ParseNumber(strings.Join(strings.Fields(p.Number), ""))
 	if err != nil {
 		hint := ""
 		if strings.HasSuffix(p.Number, "pi") {

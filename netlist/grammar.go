@@ -109,11 +109,14 @@ type RequireStmt struct {
 	Hi     *Limit   `parser:"(Range @@)?)?"`
 }
 
-// Limit is a signed literal value in a requirement ("-0.5dB", "2.1kHz").
+// Limit is a signed literal value in a requirement ("-0.5dB", "2.1kHz"),
+// or a ratio of a dB metric written with its units ("0.5V/V": Value
+// "0.5V", Per "V").
 type Limit struct {
 	Pos   lexer.Position
 	Sign  string `parser:"@(\"-\" | \"+\")?"`
 	Value string `parser:"@Value"`
+	Per   string `parser:"(\"/\" @Ident)?"`
 }
 
 // ElementStmt is `NAME: KIND (TERMINALS) [VALUE] [OPTIONS] [TOLERANCE]`;

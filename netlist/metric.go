@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 	"strings"
+
+	"nodal/netlist/syntax"
 )
 
 // MetricParamKind says what a metric takes after '@'.
@@ -359,7 +361,10 @@ func (e *elab) require(r *RequireStmt) {
 		e.errorf(r.Metric.Pos, "write within LO..HI, below HI or above LO", "require %s needs a limit", metric)
 		return
 	}
-	limit := func(l *Limit) (float64, bool) {
+	limit := func(l, other *Limit) (float64, bool) {
+		if l.Per != "" || m.Unit == UnitDecibel {
+			return e.decibelLimit(m, l, other)
+		}
 		v, err := ParseValue(l.Sign+l.Value, m.LimitUnit())
 		if err != nil {
 			want := m.Unit
@@ -371,7 +376,7 @@ func (e *elab) require(r *RequireStmt) {
 		}
 		return v, true
 	}
-	lo, ok := limit(r.Lo)
+	lo, ok := limit(r.Lo, r.Hi)
 	if !ok {
 		return
 	}
@@ -381,7 +386,7 @@ func (e *elab) require(r *RequireStmt) {
 			e.errorf(r.Lo.Pos, "write LO..HI", "within needs a range")
 			return
 		}
-		hi, ok := limit(r.Hi)
+		hi, ok := limit(r.Hi, r.Lo)
 		if !ok {
 			return
 		}
@@ -402,6 +407,58 @@ func (e *elab) require(r *RequireStmt) {
 	}
 	req.Text = string(e.f.Source[r.Pos.Offset:tokensEnd(r.Pos.Offset, r.Tokens)])
 	e.c.Requirements = append(e.c.Requirements, req)
+}
+
+// decibelLimit reads a limit of a metric in dB: "0.5dB", or a ratio with
+// its units "0.5V/V" (or A/A), converted to 20·log10 of it. A bare number
+// is refused, since 0.5 could mean either, unless the other end of a range
+// carries dB ("-1..1dB"). other is the other limit of a range, or nil.
+func (e *elab) decibelLimit(m MetricSpec, l, other *Limit) (float64, bool) {
+	text := l.Sign + l.Value
+	if l.Per != "" {
+		n, err := syntax.ParseNumber(l.Value)
+		ratio := err == nil && (n.Unit == UnitVolt || n.Unit == UnitAmpere) && l.Per == n.Unit
+		if m.Unit != UnitDecibel || !ratio {
+			e.errorf(l.Pos, "", "limit %s/%s of %s: the limit must be in %s", text, l.Per, m.Name, unitOrPlain(m.Unit))
+			return 0, false
+		}
+		v := n.Value
+		if l.Sign == "-" || v <= 0 {
+			e.errorf(l.Pos, "a ratio is positive; a gain below 1 is a negative number of dB", "limit %s/%s of %s is not a positive ratio", text, l.Per, m.Name)
+			return 0, false
+		}
+		return 20 * math.Log10(v), true
+	}
+	if unitless(l) && (other == nil || unitless(other)) {
+		hint := fmt.Sprintf("write %sdB for decibels", text)
+		if v, err := ParseValue(text, ""); err == nil && v > 0 {
+			hint += fmt.Sprintf(" or %sV/V for a ratio (%.3g dB)", text, 20*math.Log10(v))
+		}
+		e.errorf(l.Pos, hint, "limit %s of %s has no unit: is it dB or a ratio?", text, m.Name)
+		return 0, false
+	}
+	v, err := ParseValue(text, UnitDecibel)
+	if err != nil {
+		e.errorf(l.Pos, "", "limit of %s must be dB: %v", m.Name, err)
+		return 0, false
+	}
+	return v, true
+}
+
+// unitless reports whether a limit is a number written without a unit.
+func unitless(l *Limit) bool {
+	if l == nil || l.Per != "" {
+		return false
+	}
+	n, err := syntax.ParseNumber(l.Value)
+	return err == nil && n.Unit == ""
+}
+
+func unitOrPlain(u string) string {
+	if u == "" {
+		return "a plain number"
+	}
+	return u
 }
 
 func metricNamesPlain() []string {

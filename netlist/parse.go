@@ -49,6 +49,7 @@ func Parse(name string, src []byte) (*File, error) {
 	if err != nil {
 		return f, ErrorList{f.lexDiag(err)}
 	}
+	all = mergeSpacedUnits(all)
 	var diags ErrorList
 	var flat []*Stmt
 	for _, line := range splitLines(all) {

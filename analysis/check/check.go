@@ -28,6 +28,18 @@ type CompareOptions struct {
 	// Compare then explains a coefficient ratio that equals one value or the
 	// ratio of two (C1/C2: swapped C1 and C2?).
 	Values map[string]float64
+	// YoursNumTol and YoursDenTol optionally give, per coefficient of
+	// numYours and denYours (same scale), the absolute precision they were
+	// written to (derivation.Rational.Precision: half a unit in the last
+	// digit of each literal). A coefficient then agrees when it differs by
+	// no more than RelTol plus that precision, and the response by no more
+	// than MagTolDB and PhaseTolDeg plus what the precision allows at each
+	// frequency. Missing entries are exact.
+	YoursNumTol, YoursDenTol []float64
+	// BandOnly judges the responses only over FromHz..ToHz (both must be
+	// set): the verdict is the response comparison within that band, and
+	// the coefficient rows are shown but do not decide it.
+	BandOnly bool
 }
 
 // zeroTol: a coefficient is negligible when |c_k|·ω0^k is at most zeroTol
@@ -49,19 +61,23 @@ const (
 
 // CoefRow compares the coefficient of s^Power on one Side ("num" or "den")
 // after normalisation. Ratio is Yours/Circuit, 0 when Circuit is zero.
+// Precision is the absolute precision of Yours from the digits written
+// (normalised like Yours; 0 when exact).
 type CoefRow struct {
-	Side    string
-	Power   int
-	Circuit float64
-	Yours   float64
-	Ratio   float64
-	Status  CoefStatus
+	Side      string
+	Power     int
+	Circuit   float64
+	Yours     float64
+	Ratio     float64
+	Precision float64
+	Status    CoefStatus
 }
 
 // RootMatch sets a circuit pole or zero beside the nearest one of yours.
-// Circuit or Yours is nil when that side has no counterpart. RelDiff is
-// |yours − circuit| / |circuit| (absolute in rad/s for a root at 0), and 0
-// when a side is missing.
+// Circuit or Yours is nil when that side has no counterpart (a root
+// missing from yours, or an extra one). RelDiff is |yours − circuit| /
+// |circuit| (absolute in rad/s for a root at 0), and +Inf when a side is
+// missing.
 type RootMatch struct {
 	Circuit *complex128
 	Yours   *complex128
@@ -97,18 +113,25 @@ type CheckResult struct {
 	MaxPhaseDiffHz   float64
 	YoursCancelled   []complex128
 	CircuitCancelled []complex128
+	// MagAllowanceDB and PhaseAllowanceDeg are what the precision of
+	// your coefficients allows at MaxMagDiffHz and MaxPhaseDiffHz (0 when
+	// every coefficient is exact); the tolerances come on top.
+	MagAllowanceDB    float64
+	PhaseAllowanceDeg float64
 	// CoefficientsAgree: every coefficient row agrees (Agrees also needs
 	// the responses to agree).
 	CoefficientsAgree bool
+	// responsesDiffer: some frequency's difference exceeds its tolerance
+	// plus allowance.
+	responsesDiffer bool
 	// Options are the options the comparison ran with, defaults filled in.
 	Options CompareOptions
 }
 
-// ResponsesDiffer reports whether the largest response differences exceed
-// MagTolDB or PhaseTolDeg.
-func (res *CheckResult) ResponsesDiffer() bool {
-	return math.Abs(res.MaxMagDiffDB) > res.Options.MagTolDB || math.Abs(res.MaxPhaseDiffDeg) > res.Options.PhaseTolDeg
-}
+// ResponsesDiffer reports whether the response difference at some
+// frequency exceeds MagTolDB or PhaseTolDeg plus what the written
+// precision of your coefficients allows there.
+func (res *CheckResult) ResponsesDiffer() bool { return res.responsesDiffer }
 
 // Compare checks a hand derivation H_yours = numYours/denYours (ascending
 // coefficients, any overall scale) against the circuit's transfer
@@ -119,6 +142,9 @@ func Compare(circuit *transfer.TransferFunction, numYours, denYours []float64, o
 		return nil, errors.New("compare: no circuit transfer function")
 	}
 	opt = opt.withDefaults()
+	if opt.BandOnly && (opt.FromHz <= 0 || opt.ToHz <= opt.FromHz) {
+		return nil, fmt.Errorf("compare: a band needs 0 < FromHz < ToHz (got %g..%g)", opt.FromHz, opt.ToHz)
+	}
 	cn, cd, err := normalise("circuit", circuit.Num, circuit.Den)
 	if err != nil {
 		return nil, err
@@ -127,11 +153,13 @@ func Compare(circuit *transfer.TransferFunction, numYours, denYours []float64, o
 	if err != nil {
 		return nil, err
 	}
+	tn, td := normaliseTol(numYours, denYours, opt.YoursNumTol, opt.YoursDenTol)
 	res := &CheckResult{CircuitCancelled: plainRoots(circuit.Cancelled), Options: opt}
 	w0 := scaleOmega(cd)
 
 	// Cancel common factors in yours, so an unreduced but equal H agrees.
 	yz, yp := polyRoots(yn), polyRoots(yd)
+	worst := max(worstRel(yn, tn), worstRel(yd, td))
 	if common, zs, ps := cancelCommon(yz, yp, w0, opt.RelTol); len(common) > 0 {
 		res.YoursCancelled = plainRoots(common)
 		yn = polyFromRoots(zs, yn[len(yn)-1])
@@ -140,16 +168,18 @@ func Compare(circuit *transfer.TransferFunction, numYours, denYours []float64, o
 			return nil, err
 		}
 		yz, yp = zs, ps
+		// The coefficients are rebuilt from the roots: give each the
+		// largest relative precision of the written ones.
+		tn, td = scaledTol(yn, worst), scaledTol(yd, worst)
 	}
 	res.CircuitNum, res.CircuitDen, res.YoursNum, res.YoursDen = cn, cd, yn, yd
 
 	agrees := true
 	for _, side := range []struct {
-		name   string
-		c, y   []float64
-		letter string
-	}{{"num", cn, yn, "N"}, {"den", cd, yd, "D"}} {
-		rows := compareCoefs(side.name, side.c, side.y, w0, opt.RelTol)
+		name    string
+		c, y, t []float64
+	}{{"num", cn, yn, tn}, {"den", cd, yd, td}} {
+		rows := compareCoefs(side.name, side.c, side.y, side.t, w0, opt.RelTol)
 		res.Coefficients = append(res.Coefficients, rows...)
 		for _, r := range rows {
 			agrees = agrees && r.Status == CoefAgrees
@@ -163,8 +193,11 @@ func Compare(circuit *transfer.TransferFunction, numYours, denYours []float64, o
 	res.Zeros = pairRoots(cz, yz)
 	res.Poles = pairRoots(cp, yp)
 
-	res.sweep(cn, cd, yn, yd, append(append(append(cz, cp...), yz...), yp...), opt)
+	res.sweep(cn, cd, yn, yd, tn, td, append(append(append(cz, cp...), yz...), yp...), opt)
 	res.CoefficientsAgree = agrees
+	if opt.BandOnly {
+		agrees = true
+	}
 	if res.ResponsesDiffer() {
 		agrees = false
 	}
@@ -196,13 +229,7 @@ func normalise(who string, num, den []float64) ([]float64, []float64, error) {
 			return nil, nil, fmt.Errorf("compare: %s coefficients are not finite", who)
 		}
 	}
-	lo := -1
-	for k, c := range den {
-		if c != 0 {
-			lo = k
-			break
-		}
-	}
+	lo := lowestNonZero(den)
 	if lo < 0 {
 		return nil, nil, fmt.Errorf("compare: %s denominator is zero", who)
 	}
@@ -231,13 +258,7 @@ func degree(c []float64) int { return len(trimTrailingZeros(c)) - 1 }
 // scaleOmega is the geometric mean root magnitude of den (rad/s), 1 when
 // it has no non-zero root.
 func scaleOmega(den []float64) float64 {
-	lo, hi := -1, degree(den)
-	for k, c := range den {
-		if c != 0 {
-			lo = k
-			break
-		}
-	}
+	lo, hi := lowestNonZero(den), degree(den)
 	if lo < 0 || hi <= lo {
 		return 1
 	}
@@ -248,15 +269,71 @@ func scaleOmega(den []float64) float64 {
 	return w
 }
 
-// compareCoefs builds the rows of one side.
-func compareCoefs(side string, c, y []float64, w0, relTol float64) []CoefRow {
-	n := max(len(c), len(y))
-	at := func(p []float64, k int) float64 {
-		if k < len(p) {
-			return p[k]
-		}
-		return 0
+// normaliseTol scales the written precisions of yours like normalise
+// scales the coefficients (first order: the lowest-order denominator
+// coefficient's own precision adds its relative part to every entry).
+func normaliseTol(num, den, tn, td []float64) ([]float64, []float64) {
+	lo := lowestNonZero(den)
+	if lo < 0 {
+		return nil, nil
 	}
+	rel := at(td, lo) / math.Abs(den[lo])
+	scale := func(c, t []float64) []float64 {
+		out := make([]float64, len(c))
+		for k, v := range c {
+			out[k] = at(t, k)/math.Abs(den[lo]) + math.Abs(v/den[lo])*rel
+		}
+		return out
+	}
+	n, d := scale(num, tn), scale(den, td)
+	d[lo] = 0 // normalised to exactly 1; its precision is in the others
+	return n, d
+}
+
+// lowestNonZero is the index of the first non-zero entry of c, -1 when
+// there is none.
+func lowestNonZero(c []float64) int {
+	for k, v := range c {
+		if v != 0 {
+			return k
+		}
+	}
+	return -1
+}
+
+// worstRel is the largest relative precision t_k/|c_k| of a list.
+func worstRel(c, t []float64) float64 {
+	w := 0.0
+	for k, v := range c {
+		if v != 0 {
+			w = math.Max(w, at(t, k)/math.Abs(v))
+		}
+	}
+	return w
+}
+
+// scaledTol gives every coefficient of c the relative precision rel (for
+// coefficients rebuilt from roots after a cancellation).
+func scaledTol(c []float64, rel float64) []float64 {
+	out := make([]float64, len(c))
+	for k, v := range c {
+		out[k] = math.Abs(v) * rel
+	}
+	return out
+}
+
+// at is p[k], 0 past its end.
+func at(p []float64, k int) float64 {
+	if k < len(p) {
+		return p[k]
+	}
+	return 0
+}
+
+// compareCoefs builds the rows of one side. tol is the written precision
+// of y (absolute, normalised).
+func compareCoefs(side string, c, y, tol []float64, w0, relTol float64) []CoefRow {
+	n := max(len(c), len(y))
 	largest := 0.0
 	for k := range n {
 		largest = math.Max(largest, math.Max(math.Abs(at(c, k)), math.Abs(at(y, k)))*math.Pow(w0, float64(k)))
@@ -266,20 +343,24 @@ func compareCoefs(side string, c, y []float64, w0, relTol float64) []CoefRow {
 	}
 	rows := make([]CoefRow, 0, n)
 	for k := range n {
-		r := CoefRow{Side: side, Power: k, Circuit: at(c, k), Yours: at(y, k)}
+		r := CoefRow{Side: side, Power: k, Circuit: at(c, k), Yours: at(y, k), Precision: at(tol, k)}
 		if r.Circuit != 0 {
 			r.Ratio = r.Yours / r.Circuit
 		}
+		// Equal within the tolerance and the written precision agrees
+		// whatever the size of the term; only a term that is not equal
+		// is called missing or extra, and only when it is negligible on
+		// one side with s scaled by w0.
 		cz, yz := negligible(r.Circuit, k), negligible(r.Yours, k)
 		switch {
 		case cz && yz:
+			r.Status = CoefAgrees
+		case math.Abs(r.Yours-r.Circuit) <= relTol*math.Max(math.Abs(r.Yours), math.Abs(r.Circuit))+r.Precision:
 			r.Status = CoefAgrees
 		case cz:
 			r.Status = CoefExtra
 		case yz:
 			r.Status = CoefMissing
-		case math.Abs(r.Yours-r.Circuit) <= relTol*math.Max(math.Abs(r.Yours), math.Abs(r.Circuit)):
-			r.Status = CoefAgrees
 		default:
 			r.Status = CoefDiffers
 		}
@@ -338,12 +419,12 @@ func pairRoots(c, y []complex128) []RootMatch {
 	}
 	for i := range c {
 		if !ci[i] {
-			out = append(out, RootMatch{Circuit: plain(c[i])})
+			out = append(out, RootMatch{Circuit: plain(c[i]), RelDiff: math.Inf(1)})
 		}
 	}
 	for j := range y {
 		if !yi[j] {
-			out = append(out, RootMatch{Yours: plain(y[j])})
+			out = append(out, RootMatch{Yours: plain(y[j]), RelDiff: math.Inf(1)})
 		}
 	}
 	sort.SliceStable(out, func(a, b int) bool { return rootKey(out[a]) < rootKey(out[b]) })
@@ -368,8 +449,11 @@ func plainRoots(zs []complex128) []complex128 {
 	return out
 }
 
-// sweep fills the range and the largest response differences.
-func (res *CheckResult) sweep(cn, cd, yn, yd []float64, roots []complex128, opt CompareOptions) {
+// sweep fills the range and the largest response differences, and
+// whether any point exceeds its tolerance plus the allowance of the
+// written precision tn, td of yours (first order: the relative error of
+// H_yours is at most Σ tn_k·ω^k/|N(jω)| + Σ td_k·ω^k/|D(jω)|).
+func (res *CheckResult) sweep(cn, cd, yn, yd, tn, td []float64, roots []complex128, opt CompareOptions) {
 	from, to := opt.FromHz, opt.ToHz
 	if from <= 0 || to <= from {
 		lo, hi := math.Inf(1), 0.0
@@ -394,11 +478,38 @@ func (res *CheckResult) sweep(cn, cd, yn, yd []float64, roots []complex128, opt 
 		if hc == 0 || hy == 0 || cmplx.IsInf(q) || cmplx.IsNaN(q) || q == 0 {
 			continue
 		}
-		if db := 20 * math.Log10(cmplx.Abs(q)); math.Abs(db) > math.Abs(res.MaxMagDiffDB) {
-			res.MaxMagDiffDB, res.MaxMagDiffHz = db, f
+		w := 2 * math.Pi * f
+		bound := spread(tn, w)/cmplx.Abs(transfer.Horner(yn, s)) + spread(td, w)/cmplx.Abs(transfer.Horner(yd, s))
+		if bound >= 1 {
+			// Beside a zero of yours the digits written do not fix H
+			// at all: the point cannot be judged.
+			continue
 		}
-		if deg := cmplx.Phase(q) * 180 / math.Pi; math.Abs(deg) > math.Abs(res.MaxPhaseDiffDeg) {
-			res.MaxPhaseDiffDeg, res.MaxPhaseDiffHz = deg, f
+		// |q| lies within 1 ± bound and arg q within asin(bound).
+		allowDB := -20 * math.Log10(1-bound)
+		allowDeg := math.Asin(bound) * 180 / math.Pi
+		db := 20 * math.Log10(cmplx.Abs(q))
+		if math.Abs(db) > math.Abs(res.MaxMagDiffDB) {
+			res.MaxMagDiffDB, res.MaxMagDiffHz, res.MagAllowanceDB = db, f, allowDB
+		}
+		deg := cmplx.Phase(q) * 180 / math.Pi
+		if math.Abs(deg) > math.Abs(res.MaxPhaseDiffDeg) {
+			res.MaxPhaseDiffDeg, res.MaxPhaseDiffHz, res.PhaseAllowanceDeg = deg, f, allowDeg
+		}
+		if math.Abs(db) > opt.MagTolDB+allowDB || math.Abs(deg) > opt.PhaseTolDeg+allowDeg {
+			res.responsesDiffer = true
 		}
 	}
+}
+
+// spread is Σ t_k·ω^k, the largest change of a polynomial on |s| = ω
+// when each coefficient moves by at most t_k.
+func spread(t []float64, w float64) float64 {
+	sum := 0.0
+	for k, v := range t {
+		if v != 0 {
+			sum += v * math.Pow(w, float64(k))
+		}
+	}
+	return sum
 }

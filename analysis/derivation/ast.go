@@ -1,6 +1,7 @@
 package derivation
 
 import (
+	"math/big"
 	"strconv"
 	"strings"
 
@@ -27,11 +28,22 @@ type Expr interface {
 
 // Number is a numeric literal in SI units (prefix applied: 4.7k has Value
 // 4700) or the constant pi. Text is the source spelling ("" when
-// synthesised).
+// synthesised). Exact, when not nil, is the exact rational value (a
+// literal's decimal, or literal arithmetic folded exactly); Value is then
+// its nearest float64. It is nil for pi and for a constant folded from
+// one, and for a fold whose exact form grew too long.
+//
+// Tol is the precision the literal was written to, an absolute SI value:
+// half a unit in its last written digit (4.478e-21 is ±0.0005e-21, 4k7
+// ±50, 2.2µ ±0.05µ), 0 for a whole number written without exponent,
+// prefix or unit (1, 2, 1500000000: exact) and for pi. Folding literal
+// arithmetic propagates it to first order.
 type Number struct {
 	At    Pos
 	Value float64
 	Text  string
+	Exact *big.Rat
+	Tol   float64
 }
 
 // Name is a parameter, part (dotted hierarchical names such as LP1.R1),

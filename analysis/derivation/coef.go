@@ -1,6 +1,9 @@
 package derivation
 
-import "math"
+import (
+	"math"
+	"math/big"
+)
 
 // Builders for coefficient expressions. They fold literal arithmetic
 // (2*3, x*1, x+0) so that reduced coefficients stay readable, and keep
@@ -8,7 +11,61 @@ import "math"
 // tree of the user's names. Synthesised nodes carry the position of the
 // source operation they come from, or a zero Pos.
 
-func lit(v float64) *Number { return &Number{Value: v} }
+func lit(v float64) *Number {
+	n := &Number{Value: v}
+	if r := new(big.Rat); !math.IsInf(v, 0) && !math.IsNaN(v) {
+		n.Exact = r.SetFloat64(v)
+	}
+	return n
+}
+
+// maxExactBits bounds the numerator and denominator of an exactly folded
+// constant; past it the fold keeps only the float64 value (Exact nil).
+const maxExactBits = 4096
+
+// fold combines two literals: exactly when both are exact (and the result
+// stays below maxExactBits), else in float64 by f.
+// The result's Tol is tol(a, b), the first-order propagation of the
+// operands' written precision.
+func fold(a, b *Number, exact func(x, y *big.Rat) *big.Rat, f func(x, y float64) float64, tol func(a, b *Number) float64) *Number {
+	t := tol(a, b)
+	if a.Exact != nil && b.Exact != nil {
+		if r := exact(a.Exact, b.Exact); r != nil && r.Num().BitLen() <= maxExactBits && r.Denom().BitLen() <= maxExactBits {
+			v, _ := r.Float64()
+			if !math.IsInf(v, 0) {
+				return &Number{Value: v, Exact: r, Tol: t}
+			}
+		}
+	}
+	return &Number{Value: f(a.Value, b.Value), Tol: t}
+}
+
+// First-order propagation of absolute precisions (common practice):
+// sums add them, products and quotients add relative precisions, a power
+// x^y scales x's by |y·x^(y−1)|.
+func sumTol(a, b *Number) float64 { return a.Tol + b.Tol }
+
+func productTol(a, b *Number) float64 {
+	return math.Abs(a.Value)*b.Tol + math.Abs(b.Value)*a.Tol
+}
+
+func quotientTol(a, b *Number) float64 {
+	return (a.Tol + math.Abs(a.Value/b.Value)*b.Tol) / math.Abs(b.Value)
+}
+
+func powerTol(a, b *Number) float64 {
+	if a.Tol == 0 {
+		return 0
+	}
+	return math.Abs(b.Value*math.Pow(a.Value, b.Value-1)) * a.Tol
+}
+
+// folded returns the two literals when a and b are both *Number.
+func folded(a, b Expr) (*Number, *Number, bool) {
+	x, ok1 := a.(*Number)
+	y, ok2 := b.(*Number)
+	return x, y, ok1 && ok2
+}
 
 // literal reports the value of e when it is a *Number.
 func literal(e Expr) (float64, bool) {
@@ -18,9 +75,11 @@ func literal(e Expr) (float64, bool) {
 	return 0, false
 }
 
+// isLit reports whether e is the exact literal v (a rounded one such as
+// 1.000 is kept, so its written precision is not lost).
 func isLit(e Expr, v float64) bool {
-	x, ok := literal(e)
-	return ok && x == v
+	n, ok := e.(*Number)
+	return ok && n.Value == v && n.Tol == 0
 }
 
 func add(a, b Expr) Expr {
@@ -30,10 +89,8 @@ func add(a, b Expr) Expr {
 	case isLit(b, 0):
 		return a
 	}
-	if x, ok := literal(a); ok {
-		if y, ok := literal(b); ok {
-			return lit(x + y)
-		}
+	if x, y, ok := folded(a, b); ok {
+		return fold(x, y, func(p, q *big.Rat) *big.Rat { return new(big.Rat).Add(p, q) }, func(p, q float64) float64 { return p + q }, sumTol)
 	}
 	if u, ok := b.(*Unary); ok {
 		return &Binary{Op: '-', X: a, Y: u.X}
@@ -48,10 +105,8 @@ func sub(a, b Expr) Expr {
 	case isLit(a, 0):
 		return neg(b)
 	}
-	if x, ok := literal(a); ok {
-		if y, ok := literal(b); ok {
-			return lit(x - y)
-		}
+	if x, y, ok := folded(a, b); ok {
+		return fold(x, y, func(p, q *big.Rat) *big.Rat { return new(big.Rat).Sub(p, q) }, func(p, q float64) float64 { return p - q }, sumTol)
 	}
 	if u, ok := b.(*Unary); ok {
 		return &Binary{Op: '+', X: a, Y: u.X}
@@ -62,7 +117,11 @@ func sub(a, b Expr) Expr {
 func neg(a Expr) Expr {
 	switch a := a.(type) {
 	case *Number:
-		return lit(-a.Value)
+		n := &Number{Value: -a.Value, Tol: a.Tol}
+		if a.Exact != nil {
+			n.Exact = new(big.Rat).Neg(a.Exact)
+		}
+		return n
 	case *Unary:
 		return a.X
 	}
@@ -82,10 +141,8 @@ func mul(a, b Expr) Expr {
 	case isLit(b, -1):
 		return neg(a)
 	}
-	if x, ok := literal(a); ok {
-		if y, ok := literal(b); ok {
-			return lit(x * y)
-		}
+	if x, y, ok := folded(a, b); ok {
+		return fold(x, y, func(p, q *big.Rat) *big.Rat { return new(big.Rat).Mul(p, q) }, func(p, q float64) float64 { return p * q }, productTol)
 	}
 	// Pull negations out so that sums print as a - b rather than a + -b.
 	if u, ok := a.(*Unary); ok {
@@ -106,10 +163,13 @@ func div(at Pos, a, b Expr) Expr {
 	case isLit(a, 0) && !isLit(b, 0):
 		return lit(0)
 	}
-	if x, ok := literal(a); ok {
-		if y, ok := literal(b); ok && y != 0 {
-			return lit(x / y)
-		}
+	if x, y, ok := folded(a, b); ok && y.Value != 0 {
+		return fold(x, y, func(p, q *big.Rat) *big.Rat {
+			if q.Sign() == 0 {
+				return nil
+			}
+			return new(big.Rat).Quo(p, q)
+		}, func(p, q float64) float64 { return p / q }, quotientTol)
 	}
 	if u, ok := a.(*Unary); ok {
 		return neg(div(at, u.X, b))
@@ -121,11 +181,9 @@ func pow(at Pos, a, b Expr) Expr {
 	if isLit(b, 1) {
 		return a
 	}
-	if x, ok := literal(a); ok {
-		if y, ok := literal(b); ok {
-			if v := math.Pow(x, y); !math.IsNaN(v) && !math.IsInf(v, 0) {
-				return lit(v)
-			}
+	if x, y, ok := folded(a, b); ok {
+		if v := math.Pow(x.Value, y.Value); !math.IsNaN(v) && !math.IsInf(v, 0) {
+			return fold(x, y, exactPow, func(float64, float64) float64 { return v }, powerTol)
 		}
 	}
 	return &Binary{At: at, Op: '^', X: a, Y: b}
@@ -155,4 +213,29 @@ func Equal(a, b Expr) bool {
 		return ok && a.Fun == b.Fun && Equal(a.Arg, b.Arg)
 	}
 	return false
+}
+
+// exactPow is x^y for an integer y of at most maxOrder in magnitude, nil
+// otherwise (a fractional power is not rational in general).
+func exactPow(x, y *big.Rat) *big.Rat {
+	if !y.IsInt() || !y.Num().IsInt64() {
+		return nil
+	}
+	k := y.Num().Int64()
+	if k > maxOrder || k < -maxOrder || (k < 0 && x.Sign() == 0) {
+		return nil
+	}
+	base := new(big.Rat).Set(x)
+	if k < 0 {
+		base.Inv(base)
+		k = -k
+	}
+	out := big.NewRat(1, 1)
+	for ; k > 0; k-- {
+		out.Mul(out, base)
+		if out.Num().BitLen() > maxExactBits || out.Denom().BitLen() > maxExactBits {
+			return nil
+		}
+	}
+	return out
 }

@@ -103,7 +103,7 @@ func TestTFForms(t *testing.T) {
 	}{
 		{"1/(1 + s*R1*C1)", []float64{1}, []float64{1, R1 * C1}},
 		{"(s*R2*C1)/(1 + s*(R1*C1+R2*C2) + s^2*R1*R2*C1*C2)", []float64{0, R2 * C1}, []float64{1, R1*C1 + R2*C2, R1 * R2 * C1 * C2}},
-		{"H(s) = 1/(1 + s/w0)", []float64{1000}, []float64{1000, 1}}, // w0/(w0 + s)
+		{"H(s) = 1/(1 + s/w0)", []float64{1}, []float64{1, 1e-3}}, // a division by w0, free of s, scales the coefficient
 		{"w0^2/(s^2 + 2*zeta*w0*s + w0^2)", []float64{1e6}, []float64{1e6, 1000, 1}},
 		{"1/(s^(2) + 1)", []float64{1}, []float64{1, 0, 1}},
 		{"1/(1+s*R1*C1) * 1/(1+s*R2*C2)", []float64{1}, []float64{1, R1*C1 + R2*C2, R1*R1*0 + R1*C1*R2*C2}},

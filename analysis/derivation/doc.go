@@ -38,6 +38,15 @@
 //     function s^(2) is a power). "dNAME/dt" is always a derivative, never
 //     a division, and its orders above and below must match. The forms:
 //     y' (and more primes), y^(3), dy/dt, d^2y/dt^2, d2y/dt2.
+//   - Printed notation, so what nodal prints pastes back: the product dot
+//     · (and ×), the minus sign − (U+2212), primes ′ ″ ‴ ⁗ (1 to 4
+//     derivatives), the order y⁽⁴⁾, superscript powers s² s⁻³, and square
+//     brackets as parentheses.
+//   - Precision: a literal is read to half a unit in its last written digit
+//     (Number.Tol; 59.97e-9 is ±0.005e-9), whole numbers without exponent,
+//     prefix or unit are exact; literal arithmetic folds exactly in
+//     big.Rat (Number.Exact) and propagates the precision to first order;
+//     Rational.Precision gives it per coefficient.
 //   - Operators + - * / ^ and parentheses; ^ binds tighter than unary minus
 //     (-x^2 is -(x^2)) and is right-associative. There is no implicit
 //     multiplication: write 2*s, not 2s.

@@ -145,3 +145,61 @@ func trimZeros(c []float64) []float64 {
 	}
 	return c
 }
+
+// Precision returns, for every coefficient of Evaluate's lists (same
+// length before trimming: one per entry of Num and Den), the absolute
+// precision it carries from the literals as written (Number.Tol),
+// propagated to first order through the arithmetic; names are exact.
+// A coefficient with no rounded literal has precision 0. Call it after
+// Evaluate succeeded; values it cannot evaluate give precision 0.
+func (r *Rational) Precision(lookup Lookup) (num, den []float64) {
+	ev := evaluator{lookup: lookup, file: r.File, src: r.Src, seen: map[string]bool{}}
+	list := func(es []Expr) []float64 {
+		out := make([]float64, len(es))
+		for k, e := range es {
+			if _, t := ev.withTol(e); !math.IsNaN(t) && !math.IsInf(t, 0) {
+				out[k] = t
+			}
+		}
+		return out
+	}
+	return list(r.Num), list(r.Den)
+}
+
+// withTol evaluates e and its first-order absolute precision.
+func (ev *evaluator) withTol(e Expr) (v, tol float64) {
+	switch e := e.(type) {
+	case *Number:
+		return e.Value, e.Tol
+	case *Unary:
+		v, t := ev.withTol(e.X)
+		return -v, t
+	case *Call:
+		x, t := ev.withTol(e.Arg)
+		if x <= 0 {
+			return math.Sqrt(x), 0
+		}
+		return math.Sqrt(x), t / (2 * math.Sqrt(x))
+	case *Binary:
+		x, tx := ev.withTol(e.X)
+		y, ty := ev.withTol(e.Y)
+		a, b := &Number{Value: x, Tol: tx}, &Number{Value: y, Tol: ty}
+		switch e.Op {
+		case '+':
+			return x + y, sumTol(a, b)
+		case '-':
+			return x - y, sumTol(a, b)
+		case '*':
+			return x * y, productTol(a, b)
+		case '/':
+			if y == 0 {
+				return math.NaN(), 0
+			}
+			return x / y, quotientTol(a, b)
+		case '^':
+			return math.Pow(x, y), powerTol(a, b)
+		}
+	}
+	ev.errs = nil
+	return ev.eval(e), 0
+}

@@ -84,6 +84,7 @@ func FuzzParseODE(f *testing.F) {
 			return
 		}
 		checkFinite(t, src, num, den)
+		checkPrecision(t, src, r)
 	})
 }
 
@@ -117,5 +118,18 @@ func FuzzParseTF(f *testing.F) {
 			return
 		}
 		checkFinite(t, src, num, den)
+		checkPrecision(t, src, r)
 	})
+}
+
+// checkPrecision asserts that the written precision of every coefficient
+// is a non-negative number (Precision never panics).
+func checkPrecision(t *testing.T, src string, r *Rational) {
+	t.Helper()
+	tn, td := r.Precision(fuzzLookup)
+	for _, v := range append(tn, td...) {
+		if v < 0 || math.IsNaN(v) {
+			t.Fatalf("%q: precision %v / %v", src, tn, td)
+		}
+	}
 }

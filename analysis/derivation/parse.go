@@ -5,8 +5,11 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/big"
+	"slices"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"github.com/alecthomas/participle/v2"
 	"github.com/alecthomas/participle/v2/lexer"
@@ -73,7 +76,7 @@ func isCallOfS(e *gExpr) bool {
 		return false
 	}
 	a := p.Args.Left.Left.Power
-	return a != nil && a.Exp == nil && a.Base.Ident == "s" && a.Base.Args == nil
+	return a != nil && a.Exp == nil && a.Base.Ident == "s" && a.Base.Args == nil && a.Base.Sup == nil && p.Sup == nil
 }
 
 // parseGrammar runs participle and turns its errors into positioned
@@ -214,36 +217,84 @@ func (c *converter) power(g *gPower) Expr {
 }
 
 func (c *converter) primary(g *gPrimary) Expr {
+	x := c.atom(g)
+	if g.Sup == nil {
+		return x
+	}
+	at := c.pos(g.Sup.Pos)
+	k, ok := superscriptInt(g.Sup.Text)
+	if !ok {
+		c.errorf(at, "the power %q is too large (at most %d)", g.Sup.Text, maxOrder)
+		k = 1
+	}
+	return &Binary{At: at, Op: '^', X: x, Y: intLit(k, strconv.Itoa(k))}
+}
+
+// intLit is the exact integer k as a literal spelt text.
+func intLit(k int, text string) *Number {
+	return &Number{Value: float64(k), Text: text, Exact: new(big.Rat).SetInt64(int64(k))}
+}
+
+// superscriptInt decodes a superscript integer such as ⁻³ or ⁴⁵; false
+// when its magnitude exceeds maxOrder.
+func superscriptInt(s string) (int, bool) {
+	k, sign := 0, 1
+	for _, r := range s {
+		switch r {
+		case '⁻':
+			sign = -1
+		case '⁺':
+		default:
+			d := slices.Index([]rune("⁰¹²³⁴⁵⁶⁷⁸⁹"), r)
+			if d < 0 {
+				return 0, false
+			}
+			k = 10*k + d
+			if k > maxOrder {
+				return 0, false
+			}
+		}
+	}
+	return sign * k, true
+}
+
+// primeOrder is the derivative order of a run of primes: ' and ′ count
+// 1, ″ 2, ‴ 3 and ⁗ 4.
+func primeOrder(s string) int {
+	n := 0
+	for _, r := range s {
+		switch r {
+		case '″':
+			n += 2
+		case '‴':
+			n += 3
+		case '⁗':
+			n += 4
+		default:
+			n++
+		}
+	}
+	return n
+}
+
+func (c *converter) atom(g *gPrimary) Expr {
 	at := c.pos(g.Pos)
 	switch {
 	case g.Group != nil:
 		return c.expr(g.Group)
+	case g.Bracket != nil:
+		return c.expr(g.Bracket)
 	case g.Number != "":
-		v, err := parseNumber(g.Number, c.inS)
+		v, exact, tol, err := parseNumber(g.Number, c.inS)
 		if err != nil {
 			c.errorf(at, "%v", err)
 		}
-		return &Number{At: at, Value: v, Text: g.Number}
+		return &Number{At: at, Value: v, Text: g.Number, Exact: exact, Tol: tol}
 	case g.Primed != "":
-		n := strings.IndexByte(g.Primed, '\'')
-		return &Deriv{At: at, Name: g.Primed[:n], Order: len(g.Primed) - n}
+		n := strings.IndexAny(g.Primed, "'′″‴⁗")
+		return &Deriv{At: at, Name: g.Primed[:n], Order: primeOrder(g.Primed[n:])}
 	case g.Paren != "":
-		n := strings.IndexByte(g.Paren, '^')
-		k, err := strconv.Atoi(g.Paren[n+2 : len(g.Paren)-1])
-		if err != nil || k > maxOrder {
-			c.errorf(at, "derivative order in %q is too large (at most %d)", g.Paren, maxOrder)
-			k = 1
-		}
-		if c.inS {
-			caret := at
-			caret.Col += n
-			caret.Offset += n
-			return &Binary{At: caret, Op: '^', X: &Name{At: at, Name: g.Paren[:n]}, Y: &Number{Value: float64(k), Text: strconv.Itoa(k)}}
-		}
-		if k == 0 {
-			return &Name{At: at, Name: g.Paren[:n]}
-		}
-		return &Deriv{At: at, Name: g.Paren[:n], Order: k}
+		return c.parenOrder(at, g.Paren)
 	case g.Leibniz != "":
 		return c.leibniz(at, g.Leibniz)
 	}
@@ -258,6 +309,37 @@ func (c *converter) primary(g *gPrimary) Expr {
 		return &Number{At: at, Value: math.Pi, Text: "pi"}
 	}
 	return &Name{At: at, Name: g.Ident}
+}
+
+// parenOrder decodes NAME^(k) or NAME⁽ᵏ⁾: a derivative order in an ODE, a
+// power in a transfer function.
+func (c *converter) parenOrder(at Pos, tok string) Expr {
+	n := strings.IndexAny(tok, "^⁽")
+	name := tok[:n]
+	var k int
+	var err error
+	if tok[n] == '^' {
+		k, err = strconv.Atoi(tok[n+2 : len(tok)-1])
+	} else {
+		var ok bool
+		if k, ok = superscriptInt(strings.TrimSuffix(tok[n+len("⁽"):], "⁾")); !ok {
+			err = strconv.ErrRange
+		}
+	}
+	if err != nil || k > maxOrder {
+		c.errorf(at, "derivative order in %q is too large (at most %d)", tok, maxOrder)
+		k = 1
+	}
+	if c.inS {
+		caret := at
+		caret.Col += utf8.RuneCountInString(name)
+		caret.Offset += n
+		return &Binary{At: caret, Op: '^', X: &Name{At: at, Name: name}, Y: intLit(k, strconv.Itoa(k))}
+	}
+	if k == 0 {
+		return &Name{At: at, Name: name}
+	}
+	return &Deriv{At: at, Name: name, Order: k}
 }
 
 // maxOrder bounds derivative orders and integer powers of s; a circuit of

@@ -100,3 +100,13 @@ func ratMul(a, b ratio) ratio {
 }
 
 func ratInv(a ratio) ratio { return ratio{a.den, a.num} }
+
+// ratScale multiplies every numerator coefficient of a by m/d (both free
+// of s), keeping the denominator polynomial.
+func ratScale(a ratio, at Pos, m, d Expr) ratio {
+	n := make(poly, len(a.num))
+	for k, c := range a.num {
+		n[k] = div(at, mul(c, m), d)
+	}
+	return ratio{n.trim(), a.den}
+}

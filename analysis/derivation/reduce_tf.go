@@ -119,6 +119,13 @@ func (r *tfReducer) binary(e *Binary) ratio {
 			r.errorf(e.At, "division by zero")
 			return one
 		}
+		if b.num.isConst() && b.den.isConst() {
+			// A factor free of s divides the coefficients, so the
+			// polynomial denominators hold only what depends on s (and
+			// constants such as 1/3141592653589793 are not multiplied
+			// together across terms until they overflow).
+			return ratScale(a, e.At, b.den[0], b.num[0])
+		}
 		return ratMul(a, ratInv(b))
 	case '^':
 		return r.power(e, a, b)

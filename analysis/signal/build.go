@@ -12,6 +12,7 @@ import (
 // builder turns the syntax tree into a Signal, checking meaning.
 type builder struct {
 	text *syntax.Text
+	warn []*syntax.Diagnostic
 }
 
 // errAt is a one-diagnostic syntax.ErrorList at p.
@@ -67,6 +68,7 @@ func (b *builder) signal(s *sumAST) (*Signal, error) {
 	if math.IsInf(out.DC, 0) || math.IsNaN(out.DC) {
 		return nil, b.errAt(s.First.Pos, "constant out of range")
 	}
+	out.Warnings = b.warn
 	return out, nil
 }
 
@@ -175,6 +177,13 @@ func (b *builder) term(call *factorAST) (Term, error) {
 			ph := signs[i] * pr.value
 			if pr.angle == "deg" {
 				ph *= piValue / 180
+			}
+			if pr.angle == "" && pr.piCount == 0 && math.Abs(pr.value) > 2*piValue {
+				// A bare number is radians; one above a full turn
+				// was almost surely meant in degrees.
+				written := strings.Join(strings.Fields(string(b.text.Source[p.Pos.Offset:p.EndPos.Offset])), "")
+				b.warn = append(b.warn, b.text.Diag(p.Pos.Offset, syntax.SevWarning,
+					"read "+written+" as radians; did you mean "+written+"deg?", "a phase without deg or rad is in radians"))
 			}
 			t.PhaseRad += ph
 			continue

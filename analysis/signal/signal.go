@@ -47,9 +47,14 @@ func (t Term) FreqHz() float64 { return t.OmegaRad / (2 * piValue) }
 
 // Signal is a drive u(t) = DC + Σ Terms[i]. Terms keep the order written;
 // several terms may share a frequency. DC is the sum of all constants.
+//
+// Warnings are readings the parser made but the user may not have meant,
+// as positioned warnings (syntax.SevWarning): a phase without deg or rad
+// is radians, and one above 2π in magnitude ("90") is probably degrees.
 type Signal struct {
-	Terms []Term
-	DC    float64
+	Terms    []Term
+	DC       float64
+	Warnings []*syntax.Diagnostic
 }
 
 // String renders the signal in the parser's own syntax, so that

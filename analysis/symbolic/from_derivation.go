@@ -253,6 +253,9 @@ func numberRat(n *derivation.Number) (*big.Rat, error) {
 	if n.Text == "pi" {
 		return nil, fmt.Errorf("%s: pi is not a rational number", posText(n.At))
 	}
+	if n.Exact != nil {
+		return new(big.Rat).Set(n.Exact), nil
+	}
 	if n.Text == "" {
 		return foldedRat(n.Value)
 	}
@@ -262,11 +265,11 @@ func numberRat(n *derivation.Number) (*big.Rat, error) {
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", posText(n.At), err)
 	}
-	r, ok := new(big.Rat).SetString(num.Mantissa)
-	if !ok {
+	r := num.Rat()
+	if r == nil {
 		return nil, fmt.Errorf("%s: malformed number %q", posText(n.At), n.Text)
 	}
-	return r.Mul(r, pow10(num.Exp10)), nil
+	return r, nil
 }
 
 // foldedRat recovers the exact value of a constant that the reduction of
@@ -330,20 +333,6 @@ func smallFraction(v float64, maxQ int64, tol float64) *big.Rat {
 }
 
 // pow10 returns 10^e exactly.
-func pow10(e int) *big.Rat {
-	p := new(big.Int).Exp(big.NewInt(10), big.NewInt(int64(absInt(e))), nil)
-	if e < 0 {
-		return new(big.Rat).SetFrac(big.NewInt(1), p)
-	}
-	return new(big.Rat).SetInt(p)
-}
-
-func absInt(e int) int {
-	if e < 0 {
-		return -e
-	}
-	return e
-}
 
 // posText writes a position as FILE:LINE:COL, or "" parts left out when
 // the node was synthesised.

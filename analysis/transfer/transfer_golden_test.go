@@ -82,18 +82,56 @@ func matchRoots(t *testing.T, what string, got []complex128, want [][2]float64, 
 	}
 }
 
-// matchCoeffs compares coefficient lists relative to the largest term
-// magnitude |c_k|·ω^k at the characteristic frequency w.
-func matchCoeffs(t *testing.T, what string, got, want []float64, tol float64) {
+// matchCoeffs compares coefficient lists with s scaled by the
+// characteristic frequency w (rad/s): every term |c_k|·w^k that is not
+// zero in the golden must agree to tol relative to itself, and a term the
+// golden has as zero must be at most tol times the largest scaled term
+// |want_k|·w^k (so a rounding-level residue passes and a genuine extra
+// term fails, whatever the units of s).
+func matchCoeffs(t *testing.T, what string, got, want []float64, w, tol float64) {
 	t.Helper()
 	if len(got) != len(want) {
 		t.Fatalf("%s: got %v, want %v", what, got, want)
 	}
+	if !(w > 0) || math.IsInf(w, 0) {
+		t.Fatalf("%s: characteristic frequency %v", what, w)
+	}
+	largest := 0.0
+	for k, c := range want {
+		largest = math.Max(largest, math.Abs(c)*math.Pow(w, float64(k)))
+	}
 	for k := range want {
-		if d := math.Abs(got[k] - want[k]); d > tol*math.Abs(want[k]) && !(want[k] == 0 && d == 0) {
-			t.Errorf("%s[%d] = %.17g, want %.17g (rel %.2g)", what, k, got[k], want[k], d/math.Abs(want[k]))
+		scale := math.Pow(w, float64(k))
+		d := math.Abs(got[k]-want[k]) * scale
+		if want[k] == 0 {
+			if d > tol*largest {
+				t.Errorf("%s[%d] = %.17g, want 0 (scaled term %.2g of the largest)", what, k, got[k], d/largest)
+			}
+			continue
+		}
+		if rel := d / (math.Abs(want[k]) * scale); rel > tol {
+			t.Errorf("%s[%d] = %.17g, want %.17g (rel %.2g)", what, k, got[k], want[k], rel)
 		}
 	}
+}
+
+// characteristicOmega is the geometric mean magnitude of the roots of an
+// ascending polynomial, |c_lo/c_hi|^(1/(hi−lo)) over its lowest and
+// highest non-zero coefficients (rad/s); 1 when it has no non-zero root.
+func characteristicOmega(c []float64) float64 {
+	lo, hi := -1, -1
+	for k, v := range c {
+		if v != 0 {
+			if lo < 0 {
+				lo = k
+			}
+			hi = k
+		}
+	}
+	if lo < 0 || hi == lo {
+		return 1
+	}
+	return math.Pow(math.Abs(c[lo]/c[hi]), 1/float64(hi-lo))
 }
 
 func TestGoldensFromSympy(t *testing.T) {
@@ -121,8 +159,9 @@ func TestGoldensFromSympy(t *testing.T) {
 			scale := rootCentre(tf.Poles)
 			matchRoots(t, "poles", tf.Poles, g.Poles, 1e-8, scale)
 			matchRoots(t, "zeros", tf.Zeros, g.Zeros, 1e-8, scale)
-			matchCoeffs(t, "den", tf.Den, g.Den, 1e-8)
-			matchCoeffs(t, "num", tf.Num, g.Num, 1e-8)
+			w := characteristicOmega(g.Den)
+			matchCoeffs(t, "den", tf.Den, g.Den, w, 1e-8)
+			matchCoeffs(t, "num", tf.Num, g.Num, w, 1e-8)
 		})
 	}
 }

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
 
 	"nodal/analysis/check"
 )
@@ -34,9 +35,19 @@ func diagnosis(res *check.CheckResult) []string {
 		out = append(out, fmt.Sprintf(
 			"the coefficients agree within %g but the responses differ by %.3g dB / %.3g° (an ill-conditioned, sharply resonant H?)", opt.RelTol, res.MaxMagDiffDB, res.MaxPhaseDiffDeg))
 	}
-	if res.Agrees {
+	if res.Agrees && opt.BandOnly {
 		out = append(out, fmt.Sprintf(
-			"every coefficient agrees within %g after normalisation; the responses differ by at most %.2g dB and %.2g°", opt.RelTol, math.Abs(res.MaxMagDiffDB), math.Abs(res.MaxPhaseDiffDeg)))
+			"the responses agree over the band: they differ by at most %.2g dB and %.2g°", math.Abs(res.MaxMagDiffDB), math.Abs(res.MaxPhaseDiffDeg)))
+	} else if res.Agrees {
+		within := fmt.Sprintf("within %g", opt.RelTol)
+		for _, r := range res.Coefficients {
+			if r.Precision != 0 {
+				within = fmt.Sprintf("to the precision of the digits you wrote (and within %g)", opt.RelTol)
+				break
+			}
+		}
+		out = append(out, fmt.Sprintf(
+			"every coefficient agrees %s after normalisation; the responses differ by at most %.2g dB and %.2g°", within, math.Abs(res.MaxMagDiffDB), math.Abs(res.MaxPhaseDiffDeg)))
 	}
 	return out
 }
@@ -137,10 +148,18 @@ func primes(k int) string {
 	return fmt.Sprintf("y^(%d)", k)
 }
 
-// times formats a ratio as "2.000×".
+// times formats a ratio as "2.000×", with more decimals when a ratio
+// other than 1 would print as 1.000× (it only ever stands beside a
+// coefficient that differs).
 func times(r float64) string {
 	if a := math.Abs(r); a >= 1e-3 && a < 1e4 {
-		return fmt.Sprintf("%.3f×", r)
+		for decimals := 3; decimals < 16; decimals++ {
+			t := strconv.FormatFloat(r, 'f', decimals, 64)
+			if v, _ := strconv.ParseFloat(t, 64); math.Abs(v) != 1 || math.Abs(r) == 1 {
+				return t + "×"
+			}
+		}
+		return strconv.FormatFloat(r, 'g', -1, 64) + "×"
 	}
 	return fmt.Sprintf("%.3e×", r)
 }

@@ -160,15 +160,21 @@ func nonSymbols(c *netlist.Circuit, names []string) []string {
 	return out
 }
 
-// paramNames returns the names that are parameters (let) of c.
+// paramNames returns the names that are parameters (let) of c. A name
+// that is both a parameter and a part whose value is that parameter's
+// (let Rf = 1M, Rf: resistor ... Rf) means the same number either way and
+// is the part's symbol.
 func paramNames(c *netlist.Circuit, names []string) []string {
 	var out []string
 	for _, n := range names {
 		for _, p := range c.Params {
-			if p.Name == n {
-				out = append(out, n)
-				break
+			if p.Name != n {
+				continue
 			}
+			if part, ok := c.Part(n); !ok || part.Kind == netlist.OpAmp || part.Value != p.Value {
+				out = append(out, n)
+			}
+			break
 		}
 	}
 	return out
@@ -225,9 +231,12 @@ func symbolLookup(c *netlist.Circuit) derivation.Lookup {
 	}
 }
 
-// checkVerdict is the final verdict: the symbolic one when it was
-// possible, else the numeric one.
+// checkVerdict is the final verdict: the band's response comparison with
+// --band, else the symbolic one when it was possible, else the numeric one.
 func checkVerdict(res *check.CheckResult, sc symbolicCheck) bool {
+	if res.Options.BandOnly {
+		return res.Agrees
+	}
 	if sc.Done {
 		return sc.Identical
 	}

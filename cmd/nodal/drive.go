@@ -14,7 +14,7 @@ import (
 type driveCmd struct {
 	circuitArgs
 	probeArgs
-	Signal string `required:"" help:"Input signal, e.g. \"0.8*sin(2*pi*400*t)\" or \"1.5*cos(2*pi*50*t + 30deg) + 2\"." placeholder:"EXPRESSION"`
+	Signal string `required:"" help:"Input signal, e.g. \"0.8*sin(2*pi*400*t)\" or \"1.5*cos(2*pi*50*t + 30deg) + 2\"." placeholder:"EXPRESSION" expression:""`
 	All    bool   `help:"Also print the phasor of every node (single-frequency drive only)."`
 	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
@@ -59,6 +59,9 @@ func (c *driveCmd) Run(e *env) error {
 	sig, err := signal.Parse("--signal", c.Signal)
 	if err != nil {
 		return err
+	}
+	for _, w := range sig.Warnings {
+		fmt.Fprintln(e.stderr, w.Error())
 	}
 	sys, err := c.system(l)
 	if err != nil {

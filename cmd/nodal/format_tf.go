@@ -20,6 +20,17 @@ func engNumber(v float64) string {
 	return num(v)
 }
 
+// pasteNumber writes a coefficient of a form meant to be pasted back
+// (expanded, factored, zero-pole, ODE): as engNumber, but with its
+// trailing zeros kept unless it is exact (notation.Written), so nodal
+// check reads it to the precision shown.
+func pasteNumber(v float64) string {
+	if s, ok := notation.Written(v); ok {
+		return s
+	}
+	return num(v)
+}
+
 // sPower writes s^k in readable form.
 func sPower(k int, sym string) string {
 	switch k {
@@ -38,7 +49,7 @@ func polyText(c []float64) string {
 		if v == 0 {
 			continue
 		}
-		term := engNumber(math.Abs(v))
+		term := pasteNumber(math.Abs(v))
 		if k > 0 {
 			if term == "1" {
 				term = sPower(k, "s")
@@ -108,22 +119,22 @@ func factorText(roots []complex128) (factors []string, atZero int) {
 		case imag(r) == 0:
 			w := -real(r) // the factor is (1 + s/w)
 			if w > 0 {
-				factors = append(factors, fmt.Sprintf("(1 + s/%s)", engNumber(w)))
+				factors = append(factors, fmt.Sprintf("(1 + s/%s)", pasteNumber(w)))
 			} else {
-				factors = append(factors, fmt.Sprintf("(1 − s/%s)", engNumber(-w)))
+				factors = append(factors, fmt.Sprintf("(1 − s/%s)", pasteNumber(-w)))
 			}
 		case imag(r) > 0:
 			w0 := cmplx.Abs(r)
 			// (s − r)(s − r*)/|r|² = 1 − 2Re(r)/|r|²·s + s²/|r|²
 			lin := -2 * real(r) / (w0 * w0)
-			sq := fmt.Sprintf("(s/%s)²", engNumber(w0))
+			sq := fmt.Sprintf("(s/%s)²", pasteNumber(w0))
 			switch {
 			case lin == 0:
 				factors = append(factors, fmt.Sprintf("(1 + %s)", sq))
 			case lin > 0:
-				factors = append(factors, fmt.Sprintf("(1 + s/%s + %s)", engNumber(1/lin), sq))
+				factors = append(factors, fmt.Sprintf("(1 + s/%s + %s)", pasteNumber(1/lin), sq))
 			default:
-				factors = append(factors, fmt.Sprintf("(1 − s/%s + %s)", engNumber(-1/lin), sq))
+				factors = append(factors, fmt.Sprintf("(1 − s/%s + %s)", pasteNumber(-1/lin), sq))
 			}
 		}
 	}
@@ -142,7 +153,7 @@ func factoredText(h *transfer.TransferFunction) string {
 	// from the factored form (the coefficients need not fit a float64).
 	k := h.DCGain().Gain
 	var top []string
-	top = append(top, engNumber(k))
+	top = append(top, pasteNumber(k))
 	if z0 > p0 {
 		top = append(top, sPower(z0-p0, "s"))
 	}
@@ -176,9 +187,9 @@ func zpkText(h *transfer.TransferFunction) string {
 				out = append(out, "s")
 			case imag(r) == 0:
 				if real(r) < 0 {
-					out = append(out, fmt.Sprintf("(s + %s)", engNumber(-real(r))))
+					out = append(out, fmt.Sprintf("(s + %s)", pasteNumber(-real(r))))
 				} else {
-					out = append(out, fmt.Sprintf("(s − %s)", engNumber(real(r))))
+					out = append(out, fmt.Sprintf("(s − %s)", pasteNumber(real(r))))
 				}
 			case imag(r) > 0:
 				w0 := cmplx.Abs(r)
@@ -188,19 +199,19 @@ func zpkText(h *transfer.TransferFunction) string {
 					sign, b = "−", -b
 				}
 				if b == 0 {
-					out = append(out, fmt.Sprintf("(s² + %s)", engNumber(w0*w0)))
+					out = append(out, fmt.Sprintf("(s² + %s)", pasteNumber(w0*w0)))
 				} else {
-					out = append(out, fmt.Sprintf("(s² %s %s·s + %s)", sign, engNumber(b), engNumber(w0*w0)))
+					out = append(out, fmt.Sprintf("(s² %s %s·s + %s)", sign, pasteNumber(b), pasteNumber(w0*w0)))
 				}
 			}
 		}
 		return out
 	}
-	s := engNumber(h.Gain)
+	s := pasteNumber(h.Gain)
 	if math.IsInf(h.Gain, 0) || h.Gain == 0 {
 		// The gain does not fit a float64 at this order.
 		m, e := h.GainDecimal()
-		s = fmt.Sprintf("%s·10^%d", engNumber(m), e)
+		s = fmt.Sprintf("%s·10^%d", pasteNumber(m), e)
 	}
 	if z := lin(h.Zeros); len(z) > 0 {
 		s += "·" + strings.Join(z, "·")
@@ -234,7 +245,7 @@ func odeText(ode transfer.ODE, y, u string) string {
 			default:
 				term += "⁽" + strings.TrimPrefix(notation.Superscript(k), "") + "⁾"
 			}
-			coef := engNumber(math.Abs(c[k]))
+			coef := pasteNumber(math.Abs(c[k]))
 			if coef != "1" {
 				term = coef + "·" + term
 			}

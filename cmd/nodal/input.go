@@ -33,7 +33,7 @@ type circuitArgs struct {
 // probeArgs choose the input source and the observed output.
 type probeArgs struct {
 	In  string `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
-	Out string `required:"" help:"Output node, or i(PART) for the current through a part." placeholder:"NODE"`
+	Out string `required:"" help:"Output node (NODE or v(NODE)), or i(PART) for the current through a part." placeholder:"NODE"`
 	Ref string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 }
 
@@ -122,11 +122,19 @@ func (p *probeArgs) output() mna.Output {
 	return outputFor(p.Out, p.Ref)
 }
 
-// outputFor parses one --out value.
+// outputFor parses one --out value: NODE, v(NODE) or v(NODE, REF) (the
+// form nodal prints; its REF replaces --ref), or i(PART).
 func outputFor(out, ref string) mna.Output {
 	s := strings.TrimSpace(out)
 	if strings.HasPrefix(s, "i(") && strings.HasSuffix(s, ")") {
 		return mna.Output{Kind: mna.PartCurrent, Part: strings.TrimSpace(s[2 : len(s)-1])}
+	}
+	if strings.HasPrefix(s, "v(") && strings.HasSuffix(s, ")") {
+		node, r, two := strings.Cut(s[2:len(s)-1], ",")
+		if two {
+			ref = strings.TrimSpace(r)
+		}
+		return mna.Output{Kind: mna.NodeVoltage, Node: strings.TrimSpace(node), Ref: ref}
 	}
 	return mna.Output{Kind: mna.NodeVoltage, Node: s, Ref: ref}
 }

@@ -166,25 +166,29 @@ func steadyDoc(st *steady.Steady, phasors []nodePhasor) steadyJSON {
 // the symbolic one; agrees is the final verdict, numeric_agrees the
 // numeric one alone.
 type checkJSON struct {
-	CircuitNum       []float64     `json:"circuit_num"`
-	CircuitDen       []float64     `json:"circuit_den"`
-	YoursNum         []float64     `json:"yours_num"`
-	YoursDen         []float64     `json:"yours_den"`
-	Coefficients     []coefJSON    `json:"coefficients"`
-	Poles            []matchJSON   `json:"poles"`
-	Zeros            []matchJSON   `json:"zeros"`
-	FromHz           float64       `json:"from_hz"`
-	ToHz             float64       `json:"to_hz"`
-	MaxMagDiffDB     float64       `json:"max_mag_diff_db"`
-	MaxMagDiffHz     float64       `json:"max_mag_diff_hz"`
-	MaxPhaseDiffDeg  float64       `json:"max_phase_diff_deg"`
-	MaxPhaseDiffHz   float64       `json:"max_phase_diff_hz"`
-	YoursCancelled   []complexJSON `json:"yours_cancelled"`
-	CircuitCancelled []complexJSON `json:"circuit_cancelled"`
-	Diagnosis        []string      `json:"diagnosis"`
-	Agrees           bool          `json:"agrees"`
-	NumericAgrees    bool          `json:"numeric_agrees"`
-	Symbolic         symbolicCheck `json:"symbolic"`
+	CircuitNum      []float64   `json:"circuit_num"`
+	CircuitDen      []float64   `json:"circuit_den"`
+	YoursNum        []float64   `json:"yours_num"`
+	YoursDen        []float64   `json:"yours_den"`
+	Coefficients    []coefJSON  `json:"coefficients"`
+	Poles           []matchJSON `json:"poles"`
+	Zeros           []matchJSON `json:"zeros"`
+	FromHz          float64     `json:"from_hz"`
+	ToHz            float64     `json:"to_hz"`
+	MaxMagDiffDB    float64     `json:"max_mag_diff_db"`
+	MaxMagDiffHz    float64     `json:"max_mag_diff_hz"`
+	MaxPhaseDiffDeg float64     `json:"max_phase_diff_deg"`
+	MaxPhaseDiffHz  float64     `json:"max_phase_diff_hz"`
+	// The allowance of the written precision at those two frequencies.
+	MagAllowanceDB    float64       `json:"mag_allowance_db"`
+	PhaseAllowanceDeg float64       `json:"phase_allowance_deg"`
+	BandOnly          bool          `json:"band_only"`
+	YoursCancelled    []complexJSON `json:"yours_cancelled"`
+	CircuitCancelled  []complexJSON `json:"circuit_cancelled"`
+	Diagnosis         []string      `json:"diagnosis"`
+	Agrees            bool          `json:"agrees"`
+	NumericAgrees     bool          `json:"numeric_agrees"`
+	Symbolic          symbolicCheck `json:"symbolic"`
 }
 
 // coefJSON compares the coefficient of s^power on one side.
@@ -194,21 +198,36 @@ type coefJSON struct {
 	Circuit float64 `json:"circuit"`
 	Yours   float64 `json:"yours"`
 	Ratio   float64 `json:"ratio"`
-	Status  string  `json:"status"`
+	// Precision: the absolute precision yours was written to
+	// (normalised like yours; 0 when exact).
+	Precision float64 `json:"precision"`
+	Status    string  `json:"status"`
 }
 
-// matchJSON sets a circuit root beside the nearest of yours (null for none).
+// matchJSON sets a circuit root beside the nearest of yours (null for
+// none). rel_diff is null when a side is missing, and status says which:
+// "matched", "missing" (the circuit's root has none of yours) or "extra".
 type matchJSON struct {
 	Circuit *complexJSON `json:"circuit"`
 	Yours   *complexJSON `json:"yours"`
-	RelDiff float64      `json:"rel_diff"`
+	RelDiff *float64     `json:"rel_diff"`
+	Status  string       `json:"status"`
 }
 
 // rootDocs returns the root matches ms as matchJSON, nil for none.
 func matchDocs(ms []check.RootMatch) []matchJSON {
 	var out []matchJSON
 	for _, m := range ms {
-		out = append(out, matchJSON{Circuit: complexPtrDoc(m.Circuit), Yours: complexPtrDoc(m.Yours), RelDiff: m.RelDiff})
+		d := matchJSON{Circuit: complexPtrDoc(m.Circuit), Yours: complexPtrDoc(m.Yours), Status: "matched"}
+		switch {
+		case m.Yours == nil:
+			d.Status = "missing"
+		case m.Circuit == nil:
+			d.Status = "extra"
+		default:
+			d.RelDiff = &m.RelDiff
+		}
+		out = append(out, d)
 	}
 	return out
 }
@@ -220,10 +239,11 @@ func checkDoc(res *check.CheckResult, agrees bool, sc symbolicCheck) checkJSON {
 		YoursNum: res.YoursNum, YoursDen: res.YoursDen, Poles: matchDocs(res.Poles), Zeros: matchDocs(res.Zeros),
 		FromHz: res.FromHz, ToHz: res.ToHz, MaxMagDiffDB: res.MaxMagDiffDB, MaxMagDiffHz: res.MaxMagDiffHz,
 		MaxPhaseDiffDeg: res.MaxPhaseDiffDeg, MaxPhaseDiffHz: res.MaxPhaseDiffHz,
+		MagAllowanceDB: res.MagAllowanceDB, PhaseAllowanceDeg: res.PhaseAllowanceDeg, BandOnly: res.Options.BandOnly,
 		YoursCancelled: complexDocs(res.YoursCancelled), CircuitCancelled: complexDocs(res.CircuitCancelled),
 		Diagnosis: diagnosis(res), Symbolic: sc}
 	for _, c := range res.Coefficients {
-		d.Coefficients = append(d.Coefficients, coefJSON{Side: c.Side, Power: c.Power, Circuit: c.Circuit, Yours: c.Yours, Ratio: c.Ratio, Status: string(c.Status)})
+		d.Coefficients = append(d.Coefficients, coefJSON{Side: c.Side, Power: c.Power, Circuit: c.Circuit, Yours: c.Yours, Ratio: c.Ratio, Precision: c.Precision, Status: string(c.Status)})
 	}
 	return d
 }

@@ -38,6 +38,7 @@ var schemaCases = []struct {
 	{"verify", []string{"verify", "testdata/bridge_pass.nodal", "--runs", "20", "--format", "json"}},
 	{"snap", []string{"snap", "testdata/bridge_snap.nodal", "--series", "E24", "--format", "json"}},
 	{"loop", []string{"loop", "../../testdata/examples/photodiode_frontend.nodal", "--at", "U1", "--format", "json"}},
+	{"tune", []string{"tune", "testdata/tune_logger_rc.nodal", "--print", "?R=6.8k"}},
 }
 
 // keyPaths adds the key paths of v under prefix to set.

@@ -51,6 +51,7 @@ type cli struct {
 	Verify    verifyCmd    `cmd:"" help:"Check the file's require statements at nominal, worst case and as yield."`
 	Snap      snapCmd      `cmd:"" help:"Round R and C values to an IEC 60063 E-series and show what moves."`
 	Report    reportCmd    `cmd:"" help:"Write a self-contained HTML report (the built-in demo when no FILE)."`
+	Tune      tuneCmd      `cmd:"" help:"Serve a local page of sliders for the file's values, with its responses and verdicts following them."`
 }
 
 // env is what every command may touch: the streams, the context and the
@@ -170,7 +171,7 @@ func run(e *env, args []string) (code int) {
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
 		return exitInput
 	}
-	kctx, err := parser.Parse(args)
+	kctx, err := parser.Parse(joinExpressionValues(parser, args))
 	if err != nil {
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
 		return exitInput
@@ -236,4 +237,35 @@ func unknownCommand(parser *kong.Kong, args []string) error {
 		return fmt.Errorf("unknown command %q; it is a value of %q: nodal %s FILE --%s %s (commands: %s)", args[0], u[0]+" --"+u[1], u[0], u[1], args[0], list)
 	}
 	return fmt.Errorf("unknown command %q; the nearest is %q (commands: %s)", args[0], netlist.Nearest(args[0], names), list)
+}
+
+// joinExpressionValues writes "--tf" "-1/(1 + s)" as "--tf=-1/(1 + s)" for
+// every flag tagged expression:"" (a hand derivation, a drive signal),
+// whose value may begin with "-": kong would read such a value as a
+// flag. The argument after such a flag is its value when it begins with
+// one "-" (a value cannot begin with "--"); "--" ends the flags as usual.
+func joinExpressionValues(parser *kong.Kong, args []string) []string {
+	names := map[string]bool{}
+	for _, n := range parser.Model.Children {
+		for _, group := range n.AllFlags(false) {
+			for _, f := range group {
+				if f.Tag.Has("expression") {
+					names["--"+f.Name] = true
+				}
+			}
+		}
+	}
+	out := make([]string, 0, len(args))
+	for i := 0; i < len(args); i++ {
+		if args[i] == "--" {
+			return append(out, args[i:]...)
+		}
+		if names[args[i]] && i+1 < len(args) && strings.HasPrefix(args[i+1], "-") && !strings.HasPrefix(args[i+1], "--") {
+			out = append(out, args[i]+"="+args[i+1])
+			i++
+			continue
+		}
+		out = append(out, args[i])
+	}
+	return out
 }

@@ -150,7 +150,8 @@ func (c *sweepCmd) Run(e *env) error {
 			if i > 0 {
 				fmt.Fprintln(w)
 			}
-			if err := responseTable(w, r); err != nil {
+			_, unit := tfProbe{}.describe(l.circuit, mna.Input{Source: r.Input}, outputFor(c.Out[i], c.Ref))
+			if err := responseTable(w, r, unit); err != nil {
 				return err
 			}
 		}
@@ -207,9 +208,14 @@ func responseCSV(w io.Writer, resps []*response.Response) error {
 	return cw.Error()
 }
 
-// responseTable prints one response as a terminal table.
-func responseTable(w io.Writer, r *response.Response) error {
-	fmt.Fprintf(w, "H = %s / %s\n", r.Output, r.Input)
+// responseTable prints one response as a terminal table; unit is H's
+// unit, named with the dB reference when H is not dimensionless.
+func responseTable(w io.Writer, r *response.Response, unit string) error {
+	fmt.Fprintf(w, "H = %s / %s", r.Output, r.Input)
+	if !dimensionless(unit) {
+		fmt.Fprintf(w, "  [%s: mag in %s, mag_db in %s]", unit, unit, dbReference(unit))
+	}
+	fmt.Fprintln(w)
 	t := newTable(w, "freq_hz", "mag", "mag_db", "phase_deg", "group_delay_s")
 	for i := range r.FreqHz {
 		if err := t.row(num(r.FreqHz[i]), num(r.Mag[i]), fixed(r.MagDB[i], 4), fixed(r.PhaseDeg[i], 3), num(r.GroupDelayS[i])); err != nil {

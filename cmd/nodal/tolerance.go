@@ -158,6 +158,31 @@ type toleranceResult struct {
 	stab *stability.Result // of the nominal circuit
 }
 
+// levelUnits writes the dB of every gain, peak or dc metric of a
+// response in unit with its reference (dB re 1 V/A for a transimpedance).
+func (res *toleranceResult) levelUnits(unit string) {
+	relabel := func(name string, u *string) {
+		if *u == netlist.UnitDecibel && responseLevel(metricBase(name)) {
+			*u = dbReference(unit)
+		}
+	}
+	if res.mc != nil {
+		for i := range res.mc.Metrics {
+			relabel(res.mc.Metrics[i].Name, &res.mc.Metrics[i].Unit)
+		}
+	}
+	if res.wc != nil {
+		for i := range res.wc.Metrics {
+			relabel(res.wc.Metrics[i].Metric, &res.wc.Metrics[i].Unit)
+		}
+	}
+	if res.sens != nil {
+		for i := range res.sens.Metrics {
+			relabel(res.sens.Metrics[i].Metric, &res.sens.Metrics[i].Unit)
+		}
+	}
+}
+
 // Run performs the analyses and writes the report.
 func (c *toleranceCmd) Run(e *env) error {
 	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
@@ -222,6 +247,10 @@ func (c *toleranceCmd) Run(e *env) error {
 		fmt.Fprintf(e.stderr, "nodal: interrupted: %d of %d runs finished; the figures cover those only\n", res.mc.Finished, res.mc.Runs)
 	} else if err := c.extras(e, cir, ev, freqs, opt, &res); err != nil {
 		return err
+	}
+	if sys, err := c.system(l); err == nil {
+		_, unit := tfProbe{}.describe(cir, sys.Input, sys.Output)
+		res.levelUnits(unit)
 	}
 	// An interrupted run still writes the runs it finished, on purpose.
 	we := e.keepWriting()

@@ -260,7 +260,7 @@ func (rep *tfReport) table(w io.Writer) error {
 	}
 	fmt.Fprintln(w)
 	t := newTable(w, "figure", "value")
-	rows := rep.figureRows()
+	rows := relabelForUnit(rep.figureRows(), rep.r.unit)
 	for _, row := range rows {
 		if err := t.row(row[0], row[1]); err != nil {
 			return err

@@ -12,7 +12,7 @@ import (
 // says why it has no f0 or Q.
 func TestTransferPeakAndPeaking(t *testing.T) {
 	// Parallel RLC driven by a current: Z peaks at R = 1 kΩ (60 dB re
-	// 1 V/A) at f0 = 1/(2π√(LC)) = 5.033 kHz, Q = R·√(C/L) = 31.62 (common
+	// 1 V/A, printed with that reference) at f0 = 1/(2π√(LC)) = 5.033 kHz, Q = R·√(C/L) = 31.62 (common
 	// practice).
 	rlc := "I1: current source (gnd, a) 1\nR: resistor (a, gnd) 1k\nL: inductor (a, gnd) 1m\nC: capacitor (a, gnd) 1u\n"
 	// Unity-gain Sallen-Key with Q = 2: peaking 20·log10(Q/√(1 − 1/(4Q²)))
@@ -23,7 +23,7 @@ func TestTransferPeakAndPeaking(t *testing.T) {
 		name, circuit, out string
 		want, not          []string
 	}{
-		{"band-pass", rlc, "a", []string{"60.000 dB at 5.033 kHz", "f0 5.033 kHz, Q 31.62"}, []string{"no peaking", "peaking "}},
+		{"band-pass", rlc, "a", []string{"60.000 dB re 1 V/A at 5.033 kHz", "f0 5.033 kHz, Q 31.62"}, []string{"no peaking", "peaking "}},
 		{"first-order", "Vs: voltage source (in, gnd) 1\nR1: resistor (in, out) 1k\nC1: capacitor (out, gnd) 1u\n", "out",
 			[]string{"0.000 dB at DC", "no peaking (within 0.01 dB of the passband gain)", "none: first-order: no pole pair"}, nil},
 		{"peaking low-pass", sk, "out", []string{"6.301 dB above the passband gain", "f0 397.9 Hz, Q 2"}, []string{"no peaking"}},

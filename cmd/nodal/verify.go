@@ -212,8 +212,12 @@ func (c *verifyCmd) Run(e *env) error {
 		Failed:     res.Failed, Yield: proportionOut(res.Yield), PassNominal: res.PassNominal(), PassWorst: res.PassWorst(),
 	}
 	unstableNoted := false
+	_, respUnit := tfProbe{}.describe(l.circuit, sys.Input, sys.Output)
 	for i, d := range res.Verdicts {
 		unit, _ := netlist.MetricUnit(metricBase(d.Requirement.Metric))
+		if unit == netlist.UnitDecibel && responseLevel(metricBase(d.Requirement.Metric)) {
+			unit = dbReference(respUnit) // dB re 1 V/A for a transimpedance
+		}
 		rep.Requirements = append(rep.Requirements, verdictJSON{
 			Requirement: d.Requirement.Text, Line: d.Requirement.Pos.Line, Unit: unit,
 			Nominal: finiteOrNil(d.Nominal), NominalPass: d.NominalPass,
@@ -261,6 +265,17 @@ func (c *verifyCmd) Run(e *env) error {
 func metricBase(metric string) string {
 	name, _, _ := strings.Cut(metric, "@")
 	return name
+}
+
+// responseLevel reports whether a metric in dB is a level of the
+// response itself (its dB is re 1 of the response's unit), unlike a loop
+// gain's margin.
+func responseLevel(metric string) bool {
+	switch metric {
+	case "gain", "peak", "dc":
+		return true
+	}
+	return false
 }
 
 // metricText formats a metric value in its unit.

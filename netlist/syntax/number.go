@@ -3,6 +3,7 @@ package syntax
 import (
 	"fmt"
 	"math"
+	"math/big"
 	"strconv"
 	"strings"
 	"unicode/utf8"
@@ -28,6 +29,28 @@ type Number struct {
 	Unit     string
 	Mantissa string
 	Exp10    int
+}
+
+// Rat is the exact value Mantissa × 10^Exp10 (a new value the caller may
+// change), nil when Mantissa is not a decimal.
+func (n Number) Rat() *big.Rat {
+	if n.Value == 0 {
+		// Also 0e999999999, whose exponent big.Rat would expand.
+		return new(big.Rat)
+	}
+	r, ok := new(big.Rat).SetString(n.Mantissa)
+	if !ok {
+		return nil
+	}
+	e := n.Exp10
+	if e < 0 {
+		e = -e
+	}
+	p := new(big.Rat).SetInt(new(big.Int).Exp(big.NewInt(10), big.NewInt(int64(e)), nil))
+	if n.Exp10 < 0 {
+		return r.Quo(r, p)
+	}
+	return r.Mul(r, p)
 }
 
 // codeLetters are the multiplier letters of IEC 60062 value codes, written
@@ -109,6 +132,10 @@ func ParseNumber(text string) (Number, error) {
 	}
 	if r == 'K' && (len(rest) == 1 || unitSymbols[rest[1:]] != "") {
 		return Number{}, fmt.Errorf("%q: unknown prefix \"K\" (kilo is a lower-case k)", text)
+	}
+	if len(rest) >= 3 && strings.EqualFold(rest[:3], "meg") {
+		// Some tools spell mega "Meg"; here m is milli and mega is M.
+		return Number{}, fmt.Errorf("%q: %q is not a prefix: mega is M (%sM%s), and m is milli", text, rest[:3], num, rest[3:])
 	}
 	return Number{}, fmt.Errorf("%q: unknown unit or prefix %q", text, rest)
 }

@@ -17,7 +17,7 @@ var numberToken = regexp.MustCompile(`^(?:` + NumberPattern + `)$`)
 // the grammars read numbers alike). Text the lexer pattern would not take
 // as one token is only checked for not panicking.
 func FuzzParseNumber(f *testing.F) {
-	for _, s := range []string{"1k5", "4n7", "2kHz", "10kΩ", "4.7u", "1e3", "1.5e-3", "4K7", "2R2", "100R", "5%", "30°", "3kdB", "1e999", "2R2F", "1.5e-3k", "0.0", ".5", "9e-400"} {
+	for _, s := range []string{"1k5", "4n7", "2kHz", "10kΩ", "4.7u", "1e3", "1.5e-3", "4K7", "2R2", "100R", "5%", "30°", "3kdB", "1e999", "2R2F", "1.5e-3k", "0.0", ".5", "9e-400", "1Meg", "2.2MEGΩ"} {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, s string) {
@@ -46,6 +46,9 @@ func FuzzParseNumber(f *testing.F) {
 			scale.Inv(scale)
 		}
 		exact, _ := m.Mul(m, scale).Float64()
+		if r := n.Rat(); r == nil || (n.Value != 0 && r.Cmp(m) != 0) {
+			t.Fatalf("%q: Rat %v, want Mantissa × 10^Exp10 = %v", s, r, m)
+		}
 		if d := math.Abs(exact - n.Value); d > 4e-16*math.Abs(exact) && d > 1e-300 {
 			t.Fatalf("%q: Value %v but Mantissa %s × 10^%d = %v", s, n.Value, n.Mantissa, n.Exp10, exact)
 		}

@@ -82,6 +82,10 @@ func TestLiteralErrors(t *testing.T) {
 		{"3kdB", "takes no prefix"},
 		{"2R2F", "means Ω but the unit is F"},
 		{"1e999", "not a finite number"},
+		{"1Meg", `"Meg" is not a prefix: mega is M (1M)`},
+		{"1MEG", `"MEG" is not a prefix: mega is M (1M)`},
+		{"1meg", `"meg" is not a prefix: mega is M (1M)`},
+		{"2.2MegΩ", `mega is M (2.2MΩ)`},
 	} {
 		_, err := ParseNumber(tc.text)
 		if err == nil || !strings.Contains(err.Error(), tc.want) {

@@ -137,6 +137,30 @@ func Exp(v float64) (string, bool) {
 	return m + "e" + strconv.Itoa(3*e), true
 }
 
+// Written is v as Exp writes it (4 significant digits, exponent a
+// multiple of 3) but keeping trailing zeros ("382.0", "1.000e-3") unless
+// the shorter text is exactly v, so that the digits shown are the
+// precision: a coefficient pasted back into nodal check is read to half a
+// unit in its last digit, and "1" or "382" stands only for the exact
+// value. ok is false for zero and non-finite values, as for Exp.
+func Written(v float64) (string, bool) {
+	t, ok := Exp(v)
+	if !ok {
+		return t, false
+	}
+	if back, err := strconv.ParseFloat(t, 64); err == nil && back == v {
+		return t, true
+	}
+	m, e := scaled(v, 4)
+	x, _ := strconv.ParseFloat(m, 64)
+	intDigits := len(strconv.Itoa(int(math.Abs(x))))
+	m = strconv.FormatFloat(v/math.Pow(1000, float64(e)), 'f', max(4-intDigits, 0), 64)
+	if e == 0 {
+		return m, true
+	}
+	return m + "e" + strconv.Itoa(3*e), true
+}
+
 // Superscript writes k with Unicode superscript digits ("²", "¹⁰", "⁻¹").
 func Superscript(k int) string {
 	const sup = "⁰¹²³⁴⁵⁶⁷⁸⁹"
@@ -182,7 +206,7 @@ func Q(q float64) string {
 
 // Metric writes a metric value or a requirement limit in its unit, the
 // one style of verdict tables and reports: dB with two decimals
-// ("-40.03 dB"), degrees with one ("-92.4°"), a plain ratio with four
+// ("-40.03 dB", also a dB with its reference: "12.00 dB re 1 V/A"), degrees with one ("-92.4°"), a plain ratio with four
 // significant digits ("0.7081"), any other unit in engineering notation
 // (Eng: "1.886 kHz"). Infinite values print as "inf dB", "-inf dB"; NaN
 // as "NaN" (callers write a missing value their own way).
@@ -202,12 +226,12 @@ func Metric(v float64, unit string) string {
 		}
 		return s
 	}
-	switch unit {
-	case syntax.UnitDecibel:
-		return fixed(2) + " dB"
-	case syntax.UnitDegree, "°":
+	switch {
+	case unit == syntax.UnitDecibel || strings.HasPrefix(unit, "dB"): // "dB re 1 V/A", "dBΩ"
+		return fixed(2) + " " + unit
+	case unit == syntax.UnitDegree || unit == "°":
 		return fixed(1) + "°"
-	case "":
+	case unit == "":
 		if v == 0 {
 			return "0"
 		}

@@ -11,11 +11,9 @@ import (
 	"strings"
 	"testing"
 	"time"
-)
 
-// chromiumPath is Debian's chromium package binary, which the CI script
-// installs.
-const chromiumPath = "/usr/bin/chromium"
+	"nodal/cmd/nodal/internal/headless"
+)
 
 // probeScript is added to a test copy of the report only (the report
 // itself has no script): it writes the rendered size of every inline plot
@@ -35,59 +33,34 @@ const probeScript = `<script>
 </script>
 `
 
-// launchAttempts and launchBackoff bound the retries of a browser that
-// fails to start (on a loaded machine Chromium sometimes cannot fork its
-// zygote): the waits are 1 s, 2 s, 4 s, so at most 7 s are lost.
-const (
-	launchAttempts = 4
-	launchBackoff  = time.Second
-)
-
 // dumpDOM loads path in headless Chromium and returns the serialised DOM
 // and Chromium's log (stderr), where console messages appear as
 // "...:CONSOLE(line)] ..." lines. A launch that fails (the process exits
-// with an error or prints no DOM) is retried with a doubling back-off; if
-// every attempt fails the test is skipped with the reason logged, since a
-// browser that cannot start says nothing about the report. The assertions
-// on a DOM that did load are never retried.
+// with an error or prints no DOM) is retried by headless.Launch, which
+// skips the test with the reason when every attempt fails.
 func dumpDOM(t *testing.T, path string) (dom, log string) {
 	t.Helper()
-	return dumpDOMWith(t, chromiumPath, path)
+	return dumpDOMWith(t, headless.ChromiumPath, path)
 }
 
 // dumpDOMWith is dumpDOM with the browser binary given.
 func dumpDOMWith(t *testing.T, browser, path string) (dom, log string) {
 	t.Helper()
-	wait := launchBackoff
-	var reason string
-	for attempt := 1; attempt <= launchAttempts; attempt++ {
-		var err error
-		dom, log, err = runChromium(t, browser, path)
-		if err == nil {
-			return dom, log
-		}
-		reason = fmt.Sprintf("attempt %d of %d: %v\n%.2000s", attempt, launchAttempts, err, log)
-		t.Logf("chromium did not start, %s", reason)
-		if attempt < launchAttempts {
-			time.Sleep(wait)
-			wait *= 2
-		}
-	}
-	msg := fmt.Sprintf("headless browser check skipped: chromium failed to start %d times; last: %s", launchAttempts, reason)
-	fmt.Fprintln(os.Stderr, t.Name()+": "+msg) // visible without -v
-	t.Skip(msg)
-	return "", ""
+	type page struct{ dom, log string }
+	p := headless.Launch(t, func() (page, string, error) {
+		dom, log, err := runChromium(t, browser, path)
+		return page{dom, log}, log, err
+	})
+	return p.dom, p.log
 }
 
 // runChromium is one launch of the headless browser on path.
 func runChromium(t *testing.T, browser, path string) (dom, log string, err error) {
 	ctx, cancel := context.WithTimeout(context.Background(), 40*time.Second)
 	defer cancel()
-	cmd := exec.CommandContext(ctx, browser,
-		"--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-		"--disable-background-networking", "--disable-component-update", "--disable-sync",
-		"--user-data-dir="+t.TempDir(), "--enable-logging=stderr", "--v=0",
+	args := append(headless.Flags(t.TempDir()), "--enable-logging=stderr", "--v=0",
 		"--window-size=1200,900", "--dump-dom", "file://"+path)
+	cmd := exec.CommandContext(ctx, browser, args...)
 	var stdout, stderr strings.Builder
 	cmd.Stdout, cmd.Stderr = &stdout, &stderr
 	if err := cmd.Run(); err != nil {
@@ -118,14 +91,7 @@ var probeResult = regexp.MustCompile(`plots:([0-9x,]*);`)
 // inline plot is laid out with a non-zero size. A control page that does
 // log an error proves the console check can fail.
 func TestChromiumRendersReport(t *testing.T) {
-	if _, err := os.Stat(chromiumPath); err != nil {
-		msg := fmt.Sprintf("headless browser check skipped: %s not found (install Debian's chromium package)", chromiumPath)
-		fmt.Fprintln(os.Stderr, t.Name()+": "+msg) // visible without -v
-		t.Skip(msg)
-	}
-	if testing.Short() {
-		t.Skip("headless browser check skipped in -short mode")
-	}
+	headless.Require(t, headless.ChromiumPath)
 	dir := t.TempDir()
 	page := render(t, demoData(t))
 	probe := strings.Replace(page, "</body>", probeScript+"</body>", 1)
