@@ -522,6 +522,9 @@ func cornerText(c variation.ToleranceCorner) string {
 	for _, n := range c.Low {
 		parts = append(parts, n+"−")
 	}
+	if len(parts) == 0 {
+		return "any corner (no toleranced item moves it)"
+	}
 	return strings.Join(parts, " ")
 }
 

@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"errors"
 	"math"
+	"nodal/analysis/variation"
 	"os"
 	"path/filepath"
 	"strings"
@@ -206,5 +207,14 @@ func TestToleranceErrors(t *testing.T) {
 		if err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("%v: error %v; want %q", tc.args, err, tc.want)
 		}
+	}
+}
+
+func TestCornerTextNamesOnlyWhatMoves(t *testing.T) {
+	if got := cornerText(variation.ToleranceCorner{High: []string{"R1"}, Low: []string{"C1"}}); got != "R1+ C1−" {
+		t.Errorf("corner %q", got)
+	}
+	if got := cornerText(variation.ToleranceCorner{}); got != "any corner (no toleranced item moves it)" {
+		t.Errorf("empty corner %q", got)
 	}
 }
