@@ -187,6 +187,9 @@ type Circuit struct {
 	Nodes        []string
 	Params       []Param
 	Requirements []Requirement
+	// Responses are the named responses in declaration order; the first
+	// is the default output of every command.
+	Responses []Response
 	// Variations lists every toleranced item in source order; Vary takes one
 	// factor per entry.
 	Variations []Variation
@@ -239,6 +242,7 @@ func (c *Circuit) Clone() *Circuit {
 	d.Nodes = append([]string(nil), c.Nodes...)
 	d.Params = append([]Param(nil), c.Params...)
 	d.Requirements = append([]Requirement(nil), c.Requirements...)
+	d.Responses = append([]Response(nil), c.Responses...)
 	d.Variations = append([]Variation(nil), c.Variations...)
 	d.Warnings = append(ErrorList(nil), c.Warnings...)
 	return &d

@@ -13,7 +13,9 @@ import (
 )
 
 // Overrides maps a top-level parameter name to an SI value that replaces
-// the expression of its `let` (the tolerance, if any, still applies).
+// the expression of its `let`, or a part's hierarchical name to an SI value
+// that replaces the part's value (a controlled source's gain); the
+// tolerance, if any, still applies.
 type Overrides map[string]float64
 
 // Limits of block expansion, so that a small file cannot ask for an
@@ -110,6 +112,9 @@ func (e *elab) run() {
 		if st.Block != nil {
 			e.defineBlock(st.Block)
 		}
+		if st.Response != nil {
+			e.response(st.Response)
+		}
 	}
 	for _, st := range e.f.Stmts {
 		switch {
@@ -150,12 +155,18 @@ func (e *elab) checkOverrides() {
 		}
 	}
 	sort.Strings(unknown)
+	var parts []string
+	for _, p := range e.c.Parts {
+		if p.Kind != OpAmp {
+			parts = append(parts, p.Name)
+		}
+	}
 	for _, name := range unknown {
-		hint := suggest(name, names)
+		hint := suggest(name, append(append([]string(nil), names...), parts...))
 		if hint == "" && len(names) > 0 {
 			hint = "parameters: " + strings.Join(names, ", ")
 		}
-		e.diags = append(e.diags, &Diagnostic{Pos: Pos{File: e.f.Name}, Msg: fmt.Sprintf("no top-level parameter %q to override", name), Hint: hint})
+		e.diags = append(e.diags, &Diagnostic{Pos: Pos{File: e.f.Name}, Msg: fmt.Sprintf("no top-level parameter or part value %q to override", name), Hint: hint})
 	}
 }
 

@@ -310,8 +310,24 @@ func TestOverrides(t *testing.T) {
 	if p, _ := c.Part("R2"); !near(p.Value, 1/(2*math.Pi*1000*10e-9)) {
 		t.Errorf("R2 = %v with fc overridden", p.Value)
 	}
+	// A part value (--set R2=4.7k) replaces the part's expression; its
+	// tolerance still applies, and nothing else moves.
+	c2, err := Load("forms.nodal", []byte(allForms), Overrides{"R2": 4700})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p, _ := c2.Part("R2"); p.Value != 4700 {
+		t.Errorf("R2 = %v with R2 overridden to 4.7k", p.Value)
+	}
+	if orig, _ := Load("forms.nodal", []byte(allForms), nil); orig != nil {
+		for i, p := range c2.Parts {
+			if p.Name != "R2" && p.Value != orig.Parts[i].Value {
+				t.Errorf("%s moved from %v to %v with R2 overridden", p.Name, orig.Parts[i].Value, p.Value)
+			}
+		}
+	}
 	_, err = Load("forms.nodal", []byte(allForms), Overrides{"fx": 1000})
-	if err == nil || err.Error() != `forms.nodal: no top-level parameter "fx" to override (did you mean "fc"?)` {
+	if err == nil || err.Error() != `forms.nodal: no top-level parameter or part value "fx" to override (did you mean "fc"?)` {
 		t.Errorf("error %v", err)
 	}
 }

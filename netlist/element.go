@@ -284,6 +284,10 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 	case spec.value == valueDefaultOne:
 		step.value = func([]float64) float64 { return 1 }
 	}
+	if ov, has := e.ov[full]; has && step.value != nil {
+		e.usedOv[full] = true
+		step.value = func([]float64) float64 { return ov }
+	}
 	switch {
 	case ctl != nil && ctl.part != "":
 		e.pending = append(e.pending, pendingRef{part: idx, target: sc.prefix + ctl.part, pos: ctl.ref.Args[0].Pos, slot: -1})

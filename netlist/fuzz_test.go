@@ -51,6 +51,16 @@ func FuzzParse(f *testing.F) {
 		if len(c.Nodes) == 0 || c.Nodes[0] != Ground {
 			t.Fatalf("Nodes[0] = %v", c.Nodes)
 		}
+		for _, r := range c.Responses {
+			if r.Name == "" || strings.Contains(r.Name, ".") || (r.Kind == ResponseVoltage) == (r.Node == "") || (r.Kind == ResponseCurrent) == (r.Part == "") {
+				t.Fatalf("response %+v", r)
+			}
+		}
+		for _, q := range c.Requirements {
+			if _, ok := c.Response(q.Response); q.Response != "" && !ok {
+				t.Fatalf("requirement %q names the undeclared response %q", q.Text, q.Response)
+			}
+		}
 		for _, p := range c.Parts {
 			if math.IsNaN(p.Value) || math.IsInf(p.Value, 0) {
 				t.Fatalf("part %s has value %v", p.Name, p.Value)

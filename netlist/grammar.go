@@ -53,13 +53,14 @@ type File struct {
 
 // Stmt is one statement: exactly one of its pointer fields is set.
 type Stmt struct {
-	Pos     lexer.Position
-	Title   *TitleStmt   `parser:"  @@"`
-	Let     *LetStmt     `parser:"| @@"`
-	Block   *BlockStmt   `parser:"| @@"`
-	End     *EndStmt     `parser:"| @@"`
-	Require *RequireStmt `parser:"| @@"`
-	Element *ElementStmt `parser:"| @@"`
+	Pos      lexer.Position
+	Title    *TitleStmt    `parser:"  @@"`
+	Let      *LetStmt      `parser:"| @@"`
+	Block    *BlockStmt    `parser:"| @@"`
+	End      *EndStmt      `parser:"| @@"`
+	Require  *RequireStmt  `parser:"| @@"`
+	Response *ResponseStmt `parser:"| @@"`
+	Element  *ElementStmt  `parser:"| @@"`
 }
 
 // TitleStmt is `title "text"`; Text is the quoted string as written.
@@ -107,6 +108,24 @@ type RequireStmt struct {
 	Op     string   `parser:"(@(\"within\" | \"below\" | \"above\")"`
 	Lo     *Limit   `parser:"@@"`
 	Hi     *Limit   `parser:"(Range @@)?)?"`
+}
+
+// ResponseStmt is `response NAME = v(NODE) | v(NODE, REF) | i(PART)
+// [from SOURCE]`: a named transfer from SOURCE (default: the circuit's
+// only source) to a node voltage, a node pair or a part current.
+type ResponseStmt struct {
+	Pos   lexer.Position
+	Name  *NameRef   `parser:"\"response\" @@ \"=\""`
+	Probe *ProbeCall `parser:"@@"`
+	From  *NameRef   `parser:"(\"from\" @@)?"`
+}
+
+// ProbeCall is `v(NODE)`, `v(NODE, REF)` or `i(PART)` in a response
+// statement; Fn is "v" or "i" as written.
+type ProbeCall struct {
+	Pos  lexer.Position
+	Fn   string     `parser:"@Ident \"(\""`
+	Args []*NodeRef `parser:"(@@ (\",\" @@)*)? \")\""`
 }
 
 // Limit is a signed literal value in a requirement ("-0.5dB", "2.1kHz"),

@@ -324,7 +324,8 @@ func paramExample(m MetricSpec) string {
 const MaxFrequencyHz = math.MaxFloat64 / (2 * math.Pi)
 
 func (e *elab) require(r *RequireStmt) {
-	metric := r.Metric.Name
+	resp, metric := splitResponse(r.Metric.Name)
+	base := metric
 	if r.At != nil {
 		metric += "@" + r.At.Sign + r.At.Value
 	}
@@ -334,12 +335,15 @@ func (e *elab) require(r *RequireStmt) {
 	if r.AtHi != nil {
 		metric += ".." + r.AtHi.Sign + r.AtHi.Value
 	}
-	if _, ok := findMetric(r.Metric.Name); !ok {
-		hint := suggest(r.Metric.Name, metricNamesPlain())
+	if !e.requireResponse(r, resp) {
+		return
+	}
+	if _, ok := findMetric(base); !ok {
+		hint := suggest(base, metricNamesPlain())
 		if hint == "" {
 			hint = "metrics: " + strings.Join(MetricNames(), ", ")
 		}
-		e.errorf(r.Metric.Pos, hint, "unknown metric %q", r.Metric.Name)
+		e.errorf(r.Metric.Pos, hint, "unknown metric %q", base)
 		return
 	}
 	m, _, err := ParseMetric(metric)
@@ -347,7 +351,7 @@ func (e *elab) require(r *RequireStmt) {
 		e.errorf(r.Metric.Pos, "", "%v", err)
 		return
 	}
-	req := Requirement{Metric: metric, Pos: e.f.Position(r.Pos)}
+	req := Requirement{Metric: metric, Response: resp, Pos: e.f.Position(r.Pos)}
 	switch {
 	case m.Bare && r.Op != "":
 		e.errorf(r.Lo.Pos, "write require "+m.Name, "%s takes no limit", m.Name)

@@ -183,11 +183,11 @@ func lineHint(line []lexer.Token, bad lexer.Token, hint string) string {
 		}
 	}
 	if len(prev) == 0 {
-		return `a statement starts with "NAME:" or with title, let, block, end or require`
+		return `a statement starts with "NAME:" or with title, let, block, end, require or response`
 	}
 	if len(prev) == 1 && prev[0].Type == symIdent && bad.Value != ":" {
 		switch prev[0].Value {
-		case "title", "let", "block", "end", "require":
+		case "title", "let", "block", "end", "require", "response":
 		default:
 			return `expected ":" after the element name`
 		}
@@ -239,8 +239,8 @@ func (f *File) nest(flat []*Stmt, diags ErrorList) ([]*Stmt, ErrorList) {
 			open.Block.EndPos = st.Pos
 			open = nil
 		case open != nil:
-			if st.Title != nil || st.Require != nil {
-				diags = append(diags, f.diag(st.Pos, SevError, "title and require belong at the top level, not inside a block", ""))
+			if st.Title != nil || st.Require != nil || st.Response != nil {
+				diags = append(diags, f.diag(st.Pos, SevError, "title, require and response belong at the top level, not inside a block", ""))
 				continue
 			}
 			open.Block.Body = append(open.Block.Body, st)

@@ -31,17 +31,19 @@ func (op RequireOp) String() string {
 }
 
 // Requirement is a `require` statement: a metric (spelled as on the
-// command line, e.g. "gain@1kHz", "f3db", "q") and its limits.
+// command line, e.g. "gain@1kHz", "f3db", "q"), the response it is taken
+// on, and its limits.
 //
 // Limits are in the metric's own unit: dB for gain, peak and dc metrics
 // (written with a "dB" suffix or bare), degrees for phase, Hz for
 // frequencies, plain numbers for q.
 type Requirement struct {
-	Metric string
-	Op     RequireOp
-	Lo, Hi float64 // Lo unused for Below, Hi unused for Above
-	Text   string  // the statement as written, for reports
-	Pos    Pos
+	Metric   string
+	Response string // the named response it is taken on ("tweeter" in tweeter.f3db); "" means the first
+	Op       RequireOp
+	Lo, Hi   float64 // Lo unused for Below, Hi unused for Above
+	Text     string  // the statement as written, for reports
+	Pos      Pos
 }
 
 // Pass reports whether value meets the requirement.

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 
 	"nodal/analysis/loop"
 	"nodal/analysis/stability"
@@ -230,9 +231,10 @@ func cornerFactors(ctx context.Context, c *netlist.Circuit, ev variation.Evaluat
 	return out, nil
 }
 
-// RequirementMetrics evaluates the metrics of a list of requirements on the
-// transfer function from one input to one output: the standard
-// MetricsFunc of `verify` and `snap`.
+// RequirementMetrics evaluates the metrics of a list of requirements, each
+// on the transfer function of its own probe (one input, one output; the
+// named responses of a file): the standard MetricsFunc of `verify` and
+// `snap`. Requirements sharing a probe share one extraction.
 //
 // It is an Evaluator, and unlike MetricEvaluator it does not fail a
 // circuit in which a metric does not exist: that value is NaN (and fails
@@ -242,15 +244,29 @@ type RequirementMetrics struct {
 	names   []string
 	metrics []transfer.Metric
 	pos     []netlist.Pos // of each requirement, for errors
-	in      mna.Input
-	out     mna.Output
+	probes  []mna.Probe   // distinct probes, in order of first use
+	of      []int         // per requirement: its index in probes
 }
 
-// NewRequirementMetrics parses the metric of every requirement. An
-// unknown metric is an error naming the requirement and the valid metrics.
+// NewRequirementMetrics parses the metric of every requirement, all taken
+// on the transfer from in to out. An unknown metric is an error naming the
+// requirement and the valid metrics.
 func NewRequirementMetrics(reqs []netlist.Requirement, in mna.Input, out mna.Output) (*RequirementMetrics, error) {
-	r := &RequirementMetrics{in: in, out: out}
-	for _, q := range reqs {
+	probes := make([]mna.Probe, len(reqs))
+	for i := range probes {
+		probes[i] = mna.Probe{Ex: in, Ob: out}
+	}
+	return NewProbeMetrics(reqs, probes)
+}
+
+// NewProbeMetrics is NewRequirementMetrics with one probe per requirement
+// (probes[i] for reqs[i]).
+func NewProbeMetrics(reqs []netlist.Requirement, probes []mna.Probe) (*RequirementMetrics, error) {
+	if len(probes) != len(reqs) {
+		return nil, fmt.Errorf("requirement metrics: %d probes for %d requirements", len(probes), len(reqs))
+	}
+	r := &RequirementMetrics{}
+	for i, q := range reqs {
 		m, err := transfer.ParseMetric(q.Metric)
 		if err != nil {
 			return nil, fmt.Errorf("%s: %w", q.Pos, err)
@@ -258,6 +274,12 @@ func NewRequirementMetrics(reqs []netlist.Requirement, in mna.Input, out mna.Out
 		r.metrics = append(r.metrics, m)
 		r.names = append(r.names, q.Metric)
 		r.pos = append(r.pos, q.Pos)
+		k := slices.Index(r.probes, probes[i])
+		if k < 0 {
+			k = len(r.probes)
+			r.probes = append(r.probes, probes[i])
+		}
+		r.of = append(r.of, k)
 	}
 	return r, nil
 }
@@ -266,7 +288,7 @@ func NewRequirementMetrics(reqs []netlist.Requirement, in mna.Input, out mna.Out
 func (r *RequirementMetrics) Metrics() []string { return r.names }
 
 // Eval returns one value per requirement for c, NaN where the metric does
-// not exist for this circuit (Explain says why). It fails when the MNA
+// not exist for this circuit (Explain says why). It fails when an MNA
 // system cannot be built or its transfer function extracted.
 func (r *RequirementMetrics) Eval(c *netlist.Circuit) ([]float64, error) {
 	vals, _, err := r.evaluate(c)
@@ -302,24 +324,33 @@ func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, e
 			return vals, why, nil
 		}
 	}
-	tf, err := transfer.ExtractFor(r.metrics, c, r.in, r.out)
-	if err != nil {
-		return nil, nil, err
-	}
-	sub, err := variation.MetricSubject(c, r.out, tf, circ, r.metrics)
-	if err != nil {
-		return nil, nil, err
-	}
-	for i, m := range r.metrics {
-		v, err := m.EvalOn(sub)
-		if errors.Is(err, loop.ErrLoopGain) {
-			// no such gain element, an ideal op-amp: the requirement is wrong
-			return nil, nil, fmt.Errorf("%s: %w", r.pos[i], err)
+	for k, p := range r.probes {
+		var idx []int
+		var ms []transfer.Metric
+		for i, of := range r.of {
+			if of == k {
+				idx, ms = append(idx, i), append(ms, r.metrics[i])
+			}
 		}
+		tf, err := transfer.ExtractFor(ms, c, p.Ex, p.Ob)
 		if err != nil {
-			v, why[i] = math.NaN(), err
+			return nil, nil, err
 		}
-		vals[i] = v
+		sub, err := variation.MetricSubject(c, p.Ob, tf, circ, ms)
+		if err != nil {
+			return nil, nil, err
+		}
+		for _, i := range idx {
+			v, err := r.metrics[i].EvalOn(sub)
+			if errors.Is(err, loop.ErrLoopGain) {
+				// no such gain element, an ideal op-amp: the requirement is wrong
+				return nil, nil, fmt.Errorf("%s: %w", r.pos[i], err)
+			}
+			if err != nil {
+				v, why[i] = math.NaN(), err
+			}
+			vals[i] = v
+		}
 	}
 	return vals, why, nil
 }

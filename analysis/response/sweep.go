@@ -37,6 +37,8 @@ type Response struct {
 	// own scale): a pole on the jω axis. There H and Mag are +Inf, MagDB
 	// +Inf, PhaseDeg and GroupDelayS NaN, and the sweep goes on.
 	AtPole []bool
+
+	dh []complex128 // dH/ds at s = j2πf, for Sum's group delay
 }
 
 // PoleNote is the reason given for a point of a sweep that sits on a pole.
@@ -105,14 +107,34 @@ func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int)
 	if n > 0 && !slices.Contains(atPole, false) {
 		return nil, fmt.Errorf("sweep: %w", singular[0])
 	}
-	r := newResponse(sys, freqsHz, h, dh)
-	r.AtPole = atPole
-	for i, p := range atPole {
-		if p {
-			r.Mag[i], r.MagDB[i], r.PhaseDeg[i], r.GroupDelayS[i] = math.Inf(1), math.Inf(1), math.NaN(), math.NaN()
+	r := newResponse(InputLabel(sys.Input), OutputLabel(sys.Output), freqsHz, h, dh, atPole)
+	return r, nil
+}
+
+// Sum is the response H₁ + H₂ + … of responses over the same frequencies
+// from the same input (a crossover's acoustic sum), labelled output; its
+// group delay is exact, from the sum of the derivatives. A point on a
+// jω-axis pole of any term is on a pole of the sum.
+func Sum(output string, rs ...*Response) (*Response, error) {
+	if len(rs) == 0 {
+		return nil, errors.New("sum of responses: no responses")
+	}
+	n := len(rs[0].FreqHz)
+	h, dh, atPole := make([]complex128, n), make([]complex128, n), make([]bool, n)
+	for _, r := range rs {
+		if r.Input != rs[0].Input {
+			return nil, fmt.Errorf("sum of responses: %s is driven by %s, %s by %s; a sum needs one input", rs[0].Output, rs[0].Input, r.Output, r.Input)
+		}
+		if !slices.Equal(r.FreqHz, rs[0].FreqHz) || len(r.dh) != n {
+			return nil, fmt.Errorf("sum of responses: %s and %s are not on the same frequencies", rs[0].Output, r.Output)
+		}
+		for i := range n {
+			h[i] += r.H[i]
+			dh[i] += r.dh[i]
+			atPole[i] = atPole[i] || (i < len(r.AtPole) && r.AtPole[i])
 		}
 	}
-	return r, nil
+	return newResponse(rs[0].Input, output, rs[0].FreqHz, h, dh, atPole), nil
 }
 
 // firstError prefers a solver error over the cancellation it caused, and
@@ -134,7 +156,7 @@ func firstError(ctx context.Context, errs []error) error {
 	return nil
 }
 
-func newResponse(sys *mna.System, freqsHz []float64, h, dh []complex128) *Response {
+func newResponse(input, output string, freqsHz []float64, h, dh []complex128, atPole []bool) *Response {
 	n := len(freqsHz)
 	r := &Response{
 		FreqHz:      append([]float64(nil), freqsHz...),
@@ -143,8 +165,10 @@ func newResponse(sys *mna.System, freqsHz []float64, h, dh []complex128) *Respon
 		MagDB:       make([]float64, n),
 		PhaseDeg:    make([]float64, n),
 		GroupDelayS: make([]float64, n),
-		Input:       InputLabel(sys.Input),
-		Output:      OutputLabel(sys.Output),
+		Input:       input,
+		Output:      output,
+		AtPole:      atPole,
+		dh:          dh,
 	}
 	for i, v := range h {
 		r.Mag[i] = cmplx.Abs(v)
@@ -154,6 +178,12 @@ func newResponse(sys *mna.System, freqsHz []float64, h, dh []complex128) *Respon
 			r.GroupDelayS[i] = math.NaN()
 		} else {
 			r.GroupDelayS[i] = -real(dh[i] / v)
+		}
+	}
+	for i, p := range atPole {
+		if p {
+			r.H[i] = cmplx.Inf()
+			r.Mag[i], r.MagDB[i], r.PhaseDeg[i], r.GroupDelayS[i] = math.Inf(1), math.Inf(1), math.NaN(), math.NaN()
 		}
 	}
 	UnwrapDeg(r.PhaseDeg)

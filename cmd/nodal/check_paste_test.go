@@ -29,6 +29,8 @@ func pasteCircuits(t *testing.T) map[string][]string {
 			}
 			if m := probeHeader.FindStringSubmatch(string(src)); m != nil {
 				out[f] = []string{"--in", m[1], "--out", m[2]}
+			} else if strings.Contains(string(src), "\nresponse ") {
+				out[f] = []string{} // the file's first named response
 			} else {
 				out[f] = []string{"--out", "out"}
 			}

@@ -54,7 +54,7 @@ func compareSymbolic(e *env, l *loaded, q tfRequest, yours *derivation.Rational)
 	if ns := nonSymbols(l.circuit, names); len(ns) > 0 {
 		return symbolicCheck{Reason: fmt.Sprintf("your expression uses %s, not a part symbol (symbols are the names of resistors, capacitors, inductors and controlled sources, NAME.a0, NAME.rout, NAME.wt, NAME.M)", strings.Join(ns, ", "))}
 	}
-	p, err := resolveProbe(q)
+	p, err := resolveProbe(l.circuit, q)
 	if err != nil {
 		return symbolicCheck{Reason: err.Error()}
 	}

@@ -93,19 +93,16 @@ func TestShellWords(t *testing.T) {
 }
 
 // TestHelpExamplesRun runs every example of every command's --help, from
-// a scratch folder with testdata/examples beside it, so that an example
+// a scratch folder with the repository's testdata beside it, so that an example
 // names files that exist and options that work. A verdict (exit 1) is an
 // answer; bad input or usage (exit 2) is a broken example.
 func TestHelpExamplesRun(t *testing.T) {
-	examples, err := filepath.Abs(filepath.Join("..", "..", "testdata", "examples"))
+	testdata, err := filepath.Abs(filepath.Join("..", "..", "testdata"))
 	if err != nil {
 		t.Fatal(err)
 	}
 	dir := t.TempDir()
-	if err := os.MkdirAll(filepath.Join(dir, "testdata"), 0o755); err != nil {
-		t.Fatal(err)
-	}
-	if err := os.Symlink(examples, filepath.Join(dir, "testdata", "examples")); err != nil {
+	if err := os.Symlink(testdata, filepath.Join(dir, "testdata")); err != nil {
 		t.Fatal(err)
 	}
 	t.Chdir(dir)

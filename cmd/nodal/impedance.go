@@ -15,6 +15,7 @@ import (
 // impedanceCmd prints the impedance at a source's port or at a node.
 type impedanceCmd struct {
 	circuitArgs
+	varyArgs
 	Port string `help:"The impedance the circuit presents at this source's terminals, the source removed (every other source zeroed)." placeholder:"SOURCE"`
 	Node string `help:"The impedance between this node and gnd (or --ref), every independent source zeroed." placeholder:"NODE"`
 	Ref  string `help:"With --node: the other node of the impedance (default gnd)." placeholder:"NODE"`
@@ -83,6 +84,12 @@ type impedanceJSON struct {
 func (c *impedanceCmd) Run(e *env) error {
 	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
 		return err
+	}
+	if len(c.Vary) > 0 {
+		out, vary := c.Output, c.Vary
+		c.Output, c.Vary = "", nil
+		defer func() { c.Output, c.Vary = out, vary }()
+		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, c.Run)
 	}
 	if err := c.symbolicArgs.check(); err != nil {
 		return err

@@ -27,13 +27,13 @@ const maxInputBytes = 16 << 20
 // circuitArgs are the arguments shared by every command that reads a circuit.
 type circuitArgs struct {
 	File string   `arg:"" help:"Circuit file (.nodal), or - for standard input." type:"string"`
-	Set  []string `help:"Override a top-level parameter, NAME=VALUE (repeatable), e.g. --set fc=2.2kHz." placeholder:"NAME=VALUE"`
+	Set  []string `help:"Override a top-level parameter or a part value, NAME=VALUE (repeatable), e.g. --set fc=2.2kHz or --set Rf=6.8k." placeholder:"NAME=VALUE"`
 }
 
 // probeArgs choose the input source and the observed output.
 type probeArgs struct {
 	In  string `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
-	Out string `required:"" help:"Output node (NODE or v(NODE)), or i(PART) for the current through a part." placeholder:"NODE"`
+	Out string `help:"Output: a response named in the file, a node (NODE or v(NODE)), or i(PART) for the current through a part (default: the file's first response, then the node named out)." placeholder:"NAME"`
 	Ref string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 }
 
@@ -81,12 +81,27 @@ func (a *circuitArgs) load(e *env) (*loaded, error) {
 
 // elaborate parses src under name with the --set overrides.
 func elaborate(e *env, name string, src []byte, sets []string) (*loaded, error) {
+	return elaborateWith(e, name, src, sets, nil)
+}
+
+// elaborateWith is elaborate with extra overrides (a --vary value) on top
+// of the --set ones.
+func elaborateWith(e *env, name string, src []byte, sets []string, extra netlist.Overrides) (*loaded, error) {
 	ov, err := parseOverrides(sets)
 	if err != nil {
 		return nil, err
 	}
+	if len(extra) > 0 && ov == nil {
+		ov = netlist.Overrides{}
+	}
+	for k, v := range extra {
+		ov[k] = v
+	}
 	c, err := netlist.Load(name, src, ov)
 	if err != nil {
+		return nil, err
+	}
+	if err := mna.CheckResponses(c); err != nil {
 		return nil, err
 	}
 	for _, w := range c.Warnings {
@@ -116,14 +131,9 @@ func parseOverrides(sets []string) (netlist.Overrides, error) {
 	return ov, nil
 }
 
-// output turns the probe flags into an mna.Output: "i(PART)" observes a
-// part's current, anything else a node voltage against --ref.
-func (p *probeArgs) output() mna.Output {
-	return outputFor(p.Out, p.Ref)
-}
-
-// outputFor parses one --out value: NODE, v(NODE) or v(NODE, REF) (the
-// form nodal prints; its REF replaces --ref), or i(PART).
+// outputFor parses one --out value that is not a response name: NODE,
+// v(NODE) or v(NODE, REF) (the form nodal prints; its REF replaces --ref),
+// or i(PART).
 func outputFor(out, ref string) mna.Output {
 	s := strings.TrimSpace(out)
 	if strings.HasPrefix(s, "i(") && strings.HasSuffix(s, ")") {
@@ -139,9 +149,82 @@ func outputFor(out, ref string) mna.Output {
 	return mna.Output{Kind: mna.NodeVoltage, Node: s, Ref: ref}
 }
 
+// probeFor is the probe of --in, --out and --ref: --out names a response
+// of the file (its source, unless --in names another), a node (against
+// ref) or i(PART); with no --out, the first response of the file, then the
+// node named out. name is the response name, or "" for a node or part.
+func probeFor(c *netlist.Circuit, in, out, ref string) (p mna.Probe, name string, err error) {
+	out = strings.TrimSpace(out)
+	if out == "" {
+		switch {
+		case len(c.Responses) > 0:
+			out = c.Responses[0].Name
+		case c.HasNode("out"):
+			out = "out"
+		default:
+			return mna.Probe{}, "", fmt.Errorf("say which output to analyse with --out NODE, --out i(PART) or a response statement in the file (the circuit has no node named out; nodes: %s)", strings.Join(c.Nodes[1:], ", "))
+		}
+	}
+	r, ok := c.Response(out)
+	if parts, err := sumParts(c, out); !ok && err == nil && parts != nil {
+		return mna.Probe{}, "", fmt.Errorf("--out %s: a sum of responses is shown by sweep and compare; here give one response, node or i(PART)", out)
+	}
+	if !ok {
+		if h := netlist.Closest(out, c.ResponseNames()); h != "" && !c.HasNode(out) {
+			return mna.Probe{}, "", fmt.Errorf("--out: no response or node %q; did you mean %q?", out, h)
+		}
+		return mna.Probe{Ex: mna.Excitation{Source: in}, Ob: outputFor(out, ref)}, "", nil
+	}
+	if ref != "" {
+		return mna.Probe{}, "", fmt.Errorf("--ref goes with a node: response %s is %s", r.Name, r.Probe())
+	}
+	if in != "" && r.From != "" && in != r.From {
+		return mna.Probe{}, "", fmt.Errorf("--in %s: response %s is driven from %s", in, r.Name, r.From)
+	}
+	if r.From == "" {
+		r.From = in
+	}
+	p, err = mna.ResponseProbe(c, r)
+	return p, r.Name, err
+}
+
+// sumParts splits --out A+B into the names of the responses it sums (nil
+// for a single output). Every part must be a response of c; they must be
+// driven by the same source.
+func sumParts(c *netlist.Circuit, out string) ([]string, error) {
+	if !strings.Contains(out, "+") {
+		return nil, nil
+	}
+	parts := strings.Split(out, "+")
+	for i, name := range parts {
+		name = strings.TrimSpace(name)
+		parts[i] = name
+		if _, ok := c.Response(name); !ok {
+			hint := ""
+			if h := netlist.Closest(name, c.ResponseNames()); h != "" {
+				hint = fmt.Sprintf("; did you mean %q?", h)
+			} else if len(c.Responses) > 0 {
+				hint = " (responses: " + strings.Join(c.ResponseNames(), ", ") + ")"
+			}
+			return nil, fmt.Errorf("--out %s: a sum adds named responses, and %q is not one%s", out, name, hint)
+		}
+	}
+	return parts, nil
+}
+
+// probe resolves the probe flags against the loaded circuit (probeFor).
+func (p *probeArgs) probe(l *loaded) (mna.Probe, error) {
+	q, _, err := probeFor(l.circuit, p.In, p.Out, p.Ref)
+	return q, err
+}
+
 // system builds the MNA system for the probe.
 func (p *probeArgs) system(l *loaded) (*mna.System, error) {
-	return mna.Build(l.circuit, mna.Input{Source: p.In}, p.output())
+	q, err := p.probe(l)
+	if err != nil {
+		return nil, err
+	}
+	return mna.Build(l.circuit, q.Ex, q.Ob)
 }
 
 // errUsage marks a usage error discovered after flag parsing.

@@ -37,6 +37,12 @@ var schemaCases = []struct {
 	{"tolerance", []string{"tolerance", rcFile, "--out", "out", "--metric", "f3db", "--metric", "gain@1kHz", "--worst-case", "--sensitivity", "--runs", "20", "--format", "json"}},
 	{"verify", []string{"verify", "testdata/bridge_pass.nodal", "--runs", "20", "--format", "json"}},
 	{"snap", []string{"snap", "testdata/bridge_snap.nodal", "--series", "E24", "--format", "json"}},
+	{"sweep_vary", []string{"sweep", rcFile, "--vary", "R=1k,2k", "--at", "1k", "--format", "json"}},
+	{"transfer_vary", []string{"transfer", rcFile, "--vary", "C1=10n,20n", "--format", "json"}},
+	{"compare_measured", []string{"compare", "../../testdata/examples/speaker_crossover.nodal", "--measured", "../../testdata/compare/woofer_measured.csv", "--out", "woofer", "--format", "json"}},
+	{"time_vary", []string{"time", rcFile, "--vary", "R=1k,2k", "--points", "3", "--format", "json"}},
+	{"verify_responses", []string{"verify", "../../testdata/examples/speaker_crossover.nodal", "--runs", "20", "--format", "json"}},
+	{"sweep_responses", []string{"sweep", "../../testdata/examples/speaker_crossover.nodal", "--out", "woofer", "--out", "woofer+tweeter", "--at", "1k", "--format", "json"}},
 	{"loop", []string{"loop", "../../testdata/examples/photodiode_frontend.nodal", "--at", "U1", "--format", "json"}},
 	{"tune", []string{"tune", "testdata/tune_logger_rc.nodal", "--print", "?R=6.8k"}},
 }

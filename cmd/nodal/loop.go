@@ -15,6 +15,7 @@ import (
 // loopCmd prints the loop gain around one gain element with its margins.
 type loopCmd struct {
 	circuitArgs
+	varyArgs
 	At        string `required:"" help:"The gain element whose loop is measured: an op-amp with a0= or gbw=, or a controlled source." placeholder:"PART"`
 	From      string `help:"Start frequency of the table, e.g. 10Hz (default: the poles and zeros of T, two decades either side)." placeholder:"F"`
 	To        string `help:"Stop frequency of the table, e.g. 100MHz." placeholder:"F"`
@@ -74,6 +75,12 @@ func loopGain(c *netlist.Circuit, part string) (*loopResult, error) {
 func (c *loopCmd) Run(e *env) error {
 	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
 		return err
+	}
+	if len(c.Vary) > 0 {
+		out, vary := c.Output, c.Vary
+		c.Output, c.Vary = "", nil
+		defer func() { c.Output, c.Vary = out, vary }()
+		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, c.Run)
 	}
 	l, err := c.load(e)
 	if err != nil {

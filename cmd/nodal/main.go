@@ -49,6 +49,7 @@ type cli struct {
 	Noise     noiseCmd     `cmd:"" help:"Output and input-referred noise, contributions, integrated noise and SNR."`
 	Tolerance toleranceCmd `cmd:"" help:"Monte Carlo, worst case and sensitivities of response metrics."`
 	Verify    verifyCmd    `cmd:"" help:"Check the file's require statements at nominal, worst case and as yield."`
+	Compare   compareCmd   `cmd:"" help:"Compare a response with another circuit's or a measurement (CSV): differences in dB and degrees."`
 	Snap      snapCmd      `cmd:"" help:"Round R and C values to an IEC 60063 E-series and show what moves."`
 	Report    reportCmd    `cmd:"" help:"Write a self-contained HTML report (the built-in demo when no FILE)."`
 	Tune      tuneCmd      `cmd:"" help:"Serve a local page of sliders for the file's values, with its responses and verdicts following them."`

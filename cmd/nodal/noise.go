@@ -23,6 +23,7 @@ import (
 // noiseCmd prints the output and input-referred noise of a circuit.
 type noiseCmd struct {
 	circuitArgs
+	varyArgs
 	probeArgs
 	freqArgs
 	Band      string `help:"Integrate over F1..F2 (default: the sweep range), e.g. 20Hz..20kHz." placeholder:"F1..F2"`
@@ -143,6 +144,12 @@ func (c *noiseCmd) Run(e *env) error {
 	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
 		return err
 	}
+	if len(c.Vary) > 0 {
+		out, vary := c.Output, c.Vary
+		c.Output, c.Vary = "", nil
+		defer func() { c.Output, c.Vary = out, vary }()
+		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, c.Run)
+	}
 	l, err := c.load(e)
 	if err != nil {
 		return err
@@ -151,7 +158,11 @@ func (c *noiseCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	a, err := noise.New(l.circuit, noiseConfig(l.circuit, c.In, c.output(), tempK))
+	pr, err := c.probe(l)
+	if err != nil {
+		return err
+	}
+	a, err := noise.New(l.circuit, noiseConfig(l.circuit, pr.Ex.Source, pr.Ob, tempK))
 	if err != nil {
 		return err
 	}
@@ -159,7 +170,7 @@ func (c *noiseCmd) Run(e *env) error {
 		if !a.HasInput() {
 			return response.DefaultRange(l.circuit)
 		}
-		sys, err := mna.Build(l.circuit, mna.Input{Source: a.Input}, c.output())
+		sys, err := mna.Build(l.circuit, mna.Input{Source: a.Input}, pr.Ob)
 		if err != nil {
 			return response.DefaultRange(l.circuit)
 		}

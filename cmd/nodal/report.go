@@ -25,9 +25,9 @@ import (
 // reportCmd writes the single-file report.
 type reportCmd struct {
 	File   string   `arg:"" optional:"" help:"Circuit file (.nodal), or - for standard input; the built-in demo when left out." type:"string"`
-	Set    []string `help:"Override a top-level parameter, NAME=VALUE (repeatable)." placeholder:"NAME=VALUE"`
+	Set    []string `help:"Override a top-level parameter or a part value, NAME=VALUE (repeatable)." placeholder:"NAME=VALUE"`
 	In     string   `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
-	Out    string   `help:"Output node (default: the node named out)." placeholder:"NODE"`
+	Out    string   `help:"Output: a response of the file, a node or i(PART) (default: every response of the file, a section each; then the node named out)." placeholder:"NAME"`
 	Ref    string   `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 	Output string   `short:"o" help:"Report file (default nodal-report.html; with --format text, standard output)." placeholder:"FILE" type:"path"`
 	Format string   `help:"html: one self-contained HTML file; text: the same sections as terminal tables. (default: from the -o extension, .txt for text, else html)" placeholder:"html|text"`
@@ -82,14 +82,7 @@ func (c *reportCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	out := c.Out
-	if out == "" {
-		if !l.circuit.HasNode("out") {
-			return fmt.Errorf("%s has no node named out: say which node to analyse with --out (nodes: %v)", l.name, l.circuit.Nodes[1:])
-		}
-		out = "out"
-	}
-	d, err := buildReport(e, l, tfRequest{In: c.In, Out: out, Ref: c.Ref}, c.Runs, c.Seed)
+	d, err := buildReport(e, l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref}, c.Runs, c.Seed)
 	if err != nil {
 		return err
 	}
@@ -175,7 +168,9 @@ func foreignFile(path string) bool {
 	return !bytes.Contains(head[:n], []byte(reportMarker))
 }
 
-// buildReport runs every analysis the report shows.
+// buildReport runs every analysis the report shows: the response q, and
+// when q names no output and the file declares several responses, a
+// section of each further response (report.Data.Responses).
 func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report.Data, error) {
 	c := l.circuit
 	d := &report.Data{
@@ -183,18 +178,58 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 		Source:     report.Source{Name: l.name, SHA256: report.Checksum(l.src)},
 		Version:    version,
 		SourceText: string(l.src),
-		// Banners: a stability check adds "unstable" here.
 	}
 	via := inheritedTols(c)
 	for i, p := range c.Parts {
 		d.Parts = append(d.Parts, report.Part{Name: p.Name, Kind: p.Kind.String(), Nodes: reportNodes(p), Value: partValueText(p), Tolerance: reportTol(p, via[i])})
 	}
-	r, err := extractTF(l, q)
+	names := c.ResponseNames()
+	var others []string
+	first := q.Out
+	if q.Out == "" && len(names) > 1 {
+		first, others = names[0], names[1:]
+		d.ResponseName = first
+	}
+	if first == "" && len(names) > 0 {
+		first = names[0]
+	}
+	q.Out = first
+	r, lo, hi, err := fillResponse(e, l, q, d, runs, seed, true)
 	if err != nil {
 		return nil, err
 	}
+	d.Summary = fmt.Sprintf("%d parts, %d nodes; analysed %s, order %d.", len(c.Parts), len(c.Nodes), r.what, r.tf.Order())
+	if len(others) > 0 {
+		d.Summary = fmt.Sprintf("%d parts, %d nodes; %d named responses: %s.", len(c.Parts), len(c.Nodes), len(names), strings.Join(names, ", "))
+	}
+	for _, name := range others {
+		dr := &report.Data{ResponseName: name}
+		if _, _, _, err := fillResponse(e, l, tfRequest{In: q.In, Out: name}, dr, runs, seed, false); err != nil {
+			return nil, fmt.Errorf("response %s: %w", name, err)
+		}
+		d.Notes = append(d.Notes, dr.Notes...)
+		d.Responses = append(d.Responses, dr)
+	}
+	if err := addStabilitySections(l, d); err != nil {
+		return nil, err
+	}
+	if err := addNoiseSection(e, l, r, d, lo, hi); err != nil {
+		return nil, err
+	}
+	return d, nil
+}
+
+// fillResponse puts the sections of one response into d: the transfer
+// function, roots, Bode plot, step response and tolerances (over the
+// requirements taken on it; with verdicts, every requirement's verdict
+// too). It returns the transfer function and the plotted range (Hz).
+func fillResponse(e *env, l *loaded, q tfRequest, d *report.Data, runs int, seed uint64, verdicts bool) (*tfResult, float64, float64, error) {
+	c := l.circuit
+	r, err := extractTF(l, q)
+	if err != nil {
+		return nil, 0, 0, err
+	}
 	h := r.tf
-	d.Summary = fmt.Sprintf("%d parts, %d nodes; analysed %s, order %d.", len(c.Parts), len(c.Nodes), r.what, h.Order())
 	d.Transfer = &report.Transfer{
 		Input:    r.sys.Input.Source,
 		Output:   response.OutputLabel(r.sys.Output),
@@ -202,8 +237,11 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 		Expanded: "H(s) = " + rationalText(h.Num, h.Den),
 		ODE:      odeText(h.ODE(), r.yName, r.uName),
 	}
+	if d.ResponseName != "" {
+		d.Transfer.Output = d.ResponseName + " = " + d.Transfer.Output
+	}
 	for _, cz := range h.Cancelled {
-		d.Notes = append(d.Notes, fmt.Sprintf("A pole-zero pair at s = %s rad/s cancels: that mode does not reach the output.", complexText(cz)))
+		d.Notes = append(d.Notes, fmt.Sprintf("%sA pole-zero pair at s = %s rad/s cancels: that mode does not reach the output.", responsePrefix(d), complexText(cz)))
 	}
 	for _, p := range h.Poles {
 		d.Roots = append(d.Roots, reportRoot(report.Pole, p))
@@ -215,36 +253,44 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 	lo, hi := rangeOf(l, r.tf)
 	resp, err := response.Sweep(e.ctx, r.sys, response.LogGrid(lo, hi, 50), 0)
 	if err != nil {
-		return nil, err
+		return nil, 0, 0, err
 	}
-	tr := plot.BodeTrace{Label: d.Transfer.Output, FreqHz: resp.FreqHz, MagDB: resp.MagDB, PhaseDeg: resp.PhaseDeg}
+	tr := plot.BodeTrace{Label: response.OutputLabel(r.sys.Output), FreqHz: resp.FreqHz, MagDB: resp.MagDB, PhaseDeg: resp.PhaseDeg}
 	addBodeMarks(&tr, r.tf, resp)
 	bode, err := plot.Bode([]plot.BodeTrace{tr}, plot.BodeOptions{})
 	if err != nil {
-		return nil, err
+		return nil, 0, 0, err
 	}
 	d.Bode = report.Plot{Figure: bode, Caption: fmt.Sprintf("Bode plot of %s", r.what)}
 	d.Response = responseRows(e, r, lo, hi, tr.Minus3dBHz)
 	pz, err := plot.PoleZero(h.Poles, h.Zeros, plot.PoleZeroOptions{})
 	if err != nil {
-		return nil, err
+		return nil, 0, 0, err
 	}
 	d.PoleZero = report.Plot{Figure: pz, Caption: "pole-zero map (× poles, ○ zeros), rad/s"}
 	if st, err := reportStep(h); err == nil {
 		d.Step = st
 	} else {
-		d.Notes = append(d.Notes, "No step response: "+err.Error())
+		d.Notes = append(d.Notes, responsePrefix(d)+"No step response: "+err.Error())
 	}
-	if err := addStabilitySections(l, d); err != nil {
-		return nil, err
+	var reqs []netlist.Requirement
+	for _, rq := range c.Requirements {
+		if rq.Response == q.Out || rq.Response == "" && verdicts {
+			reqs = append(reqs, rq)
+		}
 	}
-	if err := addToleranceSections(e, l, r, d, runs, seed); err != nil {
-		return nil, err
+	if err := addToleranceSections(e, l, r, d, runs, seed, reqs, verdicts); err != nil {
+		return nil, 0, 0, err
 	}
-	if err := addNoiseSection(e, l, r, d, lo, hi); err != nil {
-		return nil, err
+	return r, lo, hi, nil
+}
+
+// responsePrefix is "woofer: " for a named response's notes ("" for none).
+func responsePrefix(d *report.Data) string {
+	if d.ResponseName == "" {
+		return ""
 	}
-	return d, nil
+	return d.ResponseName + ": "
 }
 
 // addStabilitySections states the circuit's stability (a banner at the

@@ -18,10 +18,10 @@ import (
 // those the file's requirements name, or f3db when there are none. A
 // yes/no metric (stable) has no spread to show: it is left out (the runs
 // that are not stable fail and are counted as such).
-func reportMetrics(c *netlist.Circuit) []string {
+func reportMetrics(reqs []netlist.Requirement) []string {
 	var names []string
 	seen := map[string]bool{}
-	for _, r := range c.Requirements {
+	for _, r := range reqs {
 		if m, _, err := netlist.ParseMetric(r.Metric); err == nil && m.Bare {
 			continue
 		}
@@ -37,23 +37,27 @@ func reportMetrics(c *netlist.Circuit) []string {
 }
 
 // addToleranceSections adds the requirement verdicts when the file has
-// requirements, and the Monte Carlo band, statistics and histograms when
-// it has toleranced items.
-func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs int, seed uint64) error {
+// requirements (with verdicts set: once per report, every response's), and
+// the Monte Carlo band, statistics and histograms of the response r when
+// it has toleranced items, over the metrics of reqs (the requirements
+// taken on r).
+func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs int, seed uint64, reqs []netlist.Requirement, verdicts bool) error {
 	c := l.circuit
 	in, out := mna.Input{Source: r.sys.Input.Source}, r.sys.Output
 	if len(c.Variations) == 0 {
 		runs = 0
 	}
-	if err := addVerdicts(e, c, in, out, d, runs, seed); err != nil {
-		return err
+	if verdicts {
+		if err := addVerdicts(e, c, in, out, d, runs, seed); err != nil {
+			return err
+		}
 	}
 	if runs <= 0 {
 		return nil
 	}
 	// Keep the metrics the nominal circuit can give a value for.
 	var metrics []string
-	for _, m := range reportMetrics(c) {
+	for _, m := range reportMetrics(reqs) {
 		if _, err := variation.NewMetricEvaluator(c, in, out, []string{m}); err != nil {
 			d.Notes = append(d.Notes, fmt.Sprintf("Metric %s left out of the tolerance analysis: %v", m, err))
 			continue
@@ -100,7 +104,7 @@ func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs i
 	}
 	band := plot.BandTrace{Label: "nominal", FreqHz: env.FreqHz, NominalDB: env.NominalDB, MinDB: env.MinDB, MaxDB: env.MaxDB,
 		NominalDeg: env.NominalPhaseDeg, MinDeg: env.MinPhaseDeg, MaxDeg: env.MaxPhaseDeg, Runs: env.Finished}
-	fig, err := plot.Band(band, requirementLimits(c.Requirements, env.FreqHz), plot.BodeOptions{})
+	fig, err := plot.Band(band, requirementLimits(reqs, env.FreqHz), plot.BodeOptions{})
 	if err != nil {
 		return err
 	}
@@ -116,7 +120,18 @@ func addVerdicts(e *env, c *netlist.Circuit, in mna.Input, out mna.Output, d *re
 	if len(c.Requirements) == 0 {
 		return nil
 	}
-	rm, err := require.NewRequirementMetrics(c.Requirements, in, out)
+	probes := make([]mna.Probe, len(c.Requirements))
+	for i, q := range c.Requirements {
+		probes[i] = mna.Probe{Ex: in, Ob: out}
+		if q.Response != "" {
+			p, _, err := probeFor(c, "", q.Response, "")
+			if err != nil {
+				return err
+			}
+			probes[i] = p
+		}
+	}
+	rm, err := require.NewProbeMetrics(c.Requirements, probes)
 	if err != nil {
 		return err
 	}

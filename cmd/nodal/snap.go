@@ -8,6 +8,7 @@ import (
 	"nodal/cmd/nodal/notation"
 	"strings"
 
+	"nodal/analysis/require"
 	"nodal/analysis/stdvalue"
 	"nodal/netlist"
 )
@@ -204,10 +205,11 @@ func (c *snapCmd) Run(e *env) error {
 // requirementMoves evaluates each requirement's metric before and after
 // rounding. When the output cannot be chosen it returns a note instead.
 func (c *snapCmd) requirementMoves(l *loaded, res *stdvalue.SnapResult) ([]snapRequireJSON, string, error) {
-	if _, err := c.outNode(l); err != nil {
+	probes, _, err := c.probes(l)
+	if err != nil {
 		return nil, "metrics not shown: " + err.Error(), nil
 	}
-	rm, err := c.metrics(l)
+	rm, err := require.NewProbeMetrics(l.circuit.Requirements, probes)
 	if err != nil {
 		return nil, "", err
 	}

@@ -7,8 +7,10 @@ import (
 	"io"
 	"math"
 	"strconv"
+	"strings"
 
 	"nodal/analysis/response"
+	"nodal/analysis/stability"
 	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
 	"nodal/mna"
@@ -17,8 +19,9 @@ import (
 // sweepCmd prints the frequency response.
 type sweepCmd struct {
 	circuitArgs
+	varyArgs
 	In  string   `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
-	Out []string `required:"" help:"Output node, or i(PART) for a part's current; repeat for several traces." placeholder:"NODE"`
+	Out []string `help:"Output: a response of the file, a sum of them (woofer+tweeter), a node, or i(PART); repeat for several traces (default: every response of the file, then the node named out)." placeholder:"NAME"`
 	Ref string   `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 	freqArgs
 	Format  string `help:"Output format: table, csv or json (default: from the -o extension, else table)." placeholder:"table|csv|json"`
@@ -39,7 +42,16 @@ Examples:
     nodal sweep testdata/examples/logger_antialias.nodal --out out --from 10Hz --to 100kHz --per-decade 20
     nodal sweep testdata/examples/logger_antialias.nodal --out out --at 1k,2k,5k --format json
     nodal sweep testdata/examples/bridge_inamp.nodal --out p --ref n --plot bode.svg
-    nodal sweep testdata/examples/logger_antialias.nodal --out 'i(R1)' --format csv -o r1.csv`
+    nodal sweep testdata/examples/logger_antialias.nodal --out 'i(R1)' --format csv -o r1.csv
+
+With named responses (response NAME = v(NODE) in the file), no --out
+sweeps them all side by side, and --out A+B sums responses from the same
+input; --vary repeats the sweep per value of a let or a part:
+
+    nodal sweep testdata/examples/speaker_crossover.nodal --at 250,2.5k,10k
+    nodal sweep testdata/examples/speaker_crossover.nodal --out woofer+tweeter --plot sum.svg
+    nodal sweep testdata/examples/speaker_crossover.nodal --out woofer --vary R=8k,10k,12k
+    nodal sweep testdata/examples/tone_stage.nodal --vary Ct=1n..10n/4 --plot variants.svg`
 }
 
 // sweepPoint is one JSON point.
@@ -66,50 +78,149 @@ func (p sweepPoint) MarshalJSON() ([]byte, error) {
 
 // sweepJSON is the JSON document of one output.
 type sweepJSON struct {
-	Input  string       `json:"input"`
-	Output string       `json:"output"`
-	Points []sweepPoint `json:"points"`
+	Input   string        `json:"input"`
+	Output  string        `json:"output"`
+	Variant []variantJSON `json:"variant,omitempty"` // the --vary values of this trace
+	Points  []sweepPoint  `json:"points"`
 	stabilityJSON
 }
 
-// Run sweeps every output.
+// sweepTrace is one output of a sweep: the systems whose responses it
+// sums (one, or the named responses of --out A+B) and its label.
+type sweepTrace struct {
+	label   string
+	systems []*mna.System
+}
+
+// traces resolves the --out values: each a response, a node, i(PART) or
+// a sum of responses; none means every response of the file (then the
+// node named out).
+func (c *sweepCmd) traces(l *loaded) ([]sweepTrace, error) {
+	outs := c.Out
+	if len(outs) == 0 {
+		outs = l.circuit.ResponseNames()
+		if len(outs) == 0 {
+			outs = []string{""}
+		}
+	}
+	return resolveTraces(l, c.In, outs, c.Ref)
+}
+
+// resolveTraces resolves --out values against the circuit: each a
+// response, a node, i(PART) or a sum of responses ("" is the default
+// output, see probeFor).
+func resolveTraces(l *loaded, in string, outs []string, ref string) ([]sweepTrace, error) {
+	var traces []sweepTrace
+	for _, o := range outs {
+		names, err := sumParts(l.circuit, o)
+		if err != nil {
+			return nil, err
+		}
+		if names == nil {
+			names = []string{o}
+		}
+		t := sweepTrace{label: strings.Join(names, "+")}
+		for _, n := range names {
+			p, name, err := probeFor(l.circuit, in, n, ref)
+			if err != nil {
+				return nil, err
+			}
+			sys, err := mna.Build(l.circuit, p.Ex, p.Ob)
+			if err != nil {
+				return nil, err
+			}
+			if len(t.systems) > 0 && sys.Input.Source != t.systems[0].Input.Source {
+				return nil, fmt.Errorf("--out %s: %s is driven by %s and %s by %s; a sum adds responses from the same input", o, names[0], t.systems[0].Input.Source, n, sys.Input.Source)
+			}
+			if name == "" && len(names) == 1 {
+				t.label = response.OutputLabel(sys.Output)
+			}
+			t.systems = append(t.systems, sys)
+		}
+		traces = append(traces, t)
+	}
+	return traces, nil
+}
+
+// sweepTraces sweeps every trace over freqs, summing the terms of a sum.
+func sweepTraces(e *env, traces []sweepTrace, freqs []float64, workers int) ([]*response.Response, error) {
+	var resps []*response.Response
+	for _, t := range traces {
+		var terms []*response.Response
+		for _, sys := range t.systems {
+			r, err := response.Sweep(e.ctx, sys, freqs, workers)
+			if err != nil {
+				return nil, err
+			}
+			terms = append(terms, r)
+		}
+		r, err := response.Sum(t.label, terms...)
+		if err != nil {
+			return nil, err
+		}
+		resps = append(resps, r)
+	}
+	return resps, nil
+}
+
+// Run sweeps every output (for every --vary value).
 func (c *sweepCmd) Run(e *env) error {
 	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "csv", "json"); err != nil {
 		return err
 	}
-	l, err := c.load(e)
+	vs, err := c.variants()
 	if err != nil {
 		return err
 	}
-	var systems []*mna.System
-	for _, o := range c.Out {
-		sys, err := mna.Build(l.circuit, mna.Input{Source: c.In}, outputFor(o, c.Ref))
-		if err != nil {
-			return err
-		}
-		systems = append(systems, sys)
-	}
-	// Each system's transfer function serves the default range, the
-	// plot's marks and the exact zero group delay of a response that does
-	// not depend on frequency; extract it once.
-	tfs := make([]*transfer.TransferFunction, len(systems))
-	for i, sys := range systems {
-		tfs[i] = systemTF(sys)
-	}
-	freqs, err := c.frequencies(func() (float64, float64) { return rangeOf(l, tfs[0]) })
+	ls, err := c.loadVariants(e, vs)
 	if err != nil {
 		return err
 	}
-	if err := checkWork("sweep", len(l.circuit.Parts), len(freqs), len(systems), "outputs"); err != nil {
-		return err
-	}
-	var resps []*response.Response
-	for _, sys := range systems {
-		r, err := response.Sweep(e.ctx, sys, freqs, c.Workers)
+	var traces []sweepTrace
+	var of []int // per trace: its variant
+	for i, l := range ls {
+		ts, err := c.traces(l)
 		if err != nil {
 			return err
 		}
-		resps = append(resps, r)
+		for _, t := range ts {
+			if lab := vs[i].label(); lab != "" {
+				t.label += " " + lab
+			}
+			traces = append(traces, t)
+			of = append(of, i)
+		}
+	}
+	l := ls[0]
+	// Each trace's transfer function serves the default range, the plot's
+	// marks and the exact zero group delay of a response that does not
+	// depend on frequency; extract it once (a sum has none: no marks).
+	// With --vary the default range covers every variant's.
+	tfs := make([]*transfer.TransferFunction, len(traces))
+	for i, t := range traces {
+		if len(t.systems) == 1 {
+			tfs[i] = systemTF(t.systems[0])
+		}
+	}
+	freqs, err := c.frequencies(func() (float64, float64) {
+		lo, hi := rangeOf(l, tfs[0])
+		for i := 1; i < len(tfs) && len(vs) > 1; i++ {
+			if tfs[i] != nil {
+				a, b := rangeOf(ls[of[i]], tfs[i])
+				lo, hi = math.Min(lo, a), math.Max(hi, b)
+			}
+		}
+		return lo, hi
+	})
+	if err != nil {
+		return err
+	}
+	if err := checkWork("sweep", len(l.circuit.Parts), len(freqs), len(traces), "outputs"); err != nil {
+		return err
+	}
+	resps, err := sweepTraces(e, traces, freqs, c.Workers)
+	if err != nil {
+		return err
 	}
 	for i, r := range resps {
 		if tfs[i] != nil && frequencyIndependent(tfs[i]) {
@@ -125,9 +236,16 @@ func (c *sweepCmd) Run(e *env) error {
 			return err
 		}
 	}
-	stab, err := circuitStability(l)
-	if err != nil {
-		return err
+	stabs := make([]*stability.Result, len(ls))
+	for i, l := range ls {
+		if stabs[i], err = circuitStability(l); err != nil {
+			return err
+		}
+	}
+	warn := func() {
+		for _, st := range stabs {
+			warnStability(e.stderr, st)
+		}
 	}
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		switch c.Format {
@@ -135,27 +253,23 @@ func (c *sweepCmd) Run(e *env) error {
 			docs := make([]sweepJSON, len(resps))
 			for i, r := range resps {
 				docs[i] = responseJSON(r)
-				docs[i].stabilityJSON = newStabilityJSON(stab)
+				docs[i].Variant = vs[of[i]].json()
+				docs[i].stabilityJSON = newStabilityJSON(stabs[of[i]])
 			}
-			if len(docs) == 1 {
+			if len(docs) == 1 && len(c.Vary) == 0 {
 				return writeJSON(w, docs[0])
 			}
 			return writeJSON(w, docs)
 		case "csv":
-			warnStability(e.stderr, stab)
+			warn()
 			return responseCSV(w, resps)
 		}
-		warnStability(e.stderr, stab)
-		for i, r := range resps {
-			if i > 0 {
-				fmt.Fprintln(w)
-			}
-			_, unit := tfProbe{}.describe(l.circuit, mna.Input{Source: r.Input}, outputFor(c.Out[i], c.Ref))
-			if err := responseTable(w, r, unit); err != nil {
-				return err
-			}
+		warn()
+		if len(resps) > 1 {
+			return responsesTable(w, resps)
 		}
-		return nil
+		_, unit := tfProbe{}.describe(ls[0].circuit, traces[0].systems[0].Input, traces[0].systems[0].Output)
+		return responseTable(w, resps[0], unit)
 	})
 }
 
@@ -219,6 +333,29 @@ func responseTable(w io.Writer, r *response.Response, unit string) error {
 	t := newTable(w, "freq_hz", "mag", "mag_db", "phase_deg", "group_delay_s")
 	for i := range r.FreqHz {
 		if err := t.row(num(r.FreqHz[i]), num(r.Mag[i]), fixed(r.MagDB[i], 4), fixed(r.PhaseDeg[i], 3), num(r.GroupDelayS[i])); err != nil {
+			return err
+		}
+	}
+	return t.render()
+}
+
+// responsesTable prints several responses over the same frequencies side
+// by side: one group of mag_db and phase_deg columns each.
+func responsesTable(w io.Writer, resps []*response.Response) error {
+	var labels []string
+	header := []string{"freq_hz"}
+	for _, r := range resps {
+		labels = append(labels, r.Output)
+		header = append(header, r.Output+" mag_db", r.Output+" phase_deg")
+	}
+	fmt.Fprintf(w, "H = (%s) / %s\n", strings.Join(labels, ", "), resps[0].Input)
+	t := newTable(w, header...)
+	for i := range resps[0].FreqHz {
+		row := []string{num(resps[0].FreqHz[i])}
+		for _, r := range resps {
+			row = append(row, fixed(r.MagDB[i], 4), fixed(r.PhaseDeg[i], 3))
+		}
+		if err := t.row(row...); err != nil {
 			return err
 		}
 	}

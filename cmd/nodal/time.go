@@ -8,6 +8,7 @@ import (
 	"nodal/cmd/nodal/notation"
 	"strconv"
 
+	"nodal/analysis/response"
 	"nodal/analysis/timeresp"
 	"nodal/analysis/transfer"
 	"nodal/cmd/nodal/plot"
@@ -17,6 +18,7 @@ import (
 // timeCmd prints the exact step or impulse response.
 type timeCmd struct {
 	circuitArgs
+	varyArgs
 	probeArgs
 	Input  string `help:"The input signal: a unit step or a unit impulse." enum:"step,impulse" default:"step"`
 	Until  string `help:"End of the time span, e.g. 5ms (default: from the slowest pole, about 7 time constants or 10 periods)." placeholder:"T"`
@@ -55,6 +57,15 @@ func (c *timeCmd) Run(e *env) error { return c.run(e, c.Input) }
 // run computes and prints a time response of the given kind.
 func (c *timeCmd) run(e *env, kind string) error {
 	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "csv", "json"); err != nil {
+		return err
+	}
+	if len(c.Vary) > 0 {
+		out, vary := c.Output, c.Vary
+		c.Output, c.Vary = "", nil
+		defer func() { c.Output, c.Vary = out, vary }()
+		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, func(e *env) error { return c.run(e, kind) })
+	}
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
 		return err
 	}
 	l, err := c.load(e)
@@ -122,7 +133,7 @@ func (c *timeCmd) run(e *env, kind string) error {
 			return cw.Error()
 		}
 		warnStability(e.stderr, stab)
-		return timeTable(w, r, sys.Input.Source, c.Out)
+		return timeTable(w, r, sys.Input.Source, response.OutputLabel(sys.Output))
 	})
 }
 

@@ -211,8 +211,11 @@ func (c *toleranceCmd) Run(e *env) error {
 	if len(cir.Variations) == 0 {
 		return fmt.Errorf("%s: no toleranced part or parameter; give one a tolerance, e.g. 10k ±1%%", l.name)
 	}
-	in := mna.Input{Source: c.In}
-	ev, err := variation.NewMetricEvaluator(cir, in, c.output(), c.Metric)
+	pr, err := c.probe(l)
+	if err != nil {
+		return err
+	}
+	ev, err := variation.NewMetricEvaluator(cir, pr.Ex, pr.Ob, c.Metric)
 	if err != nil {
 		return err
 	}
@@ -302,7 +305,11 @@ func (c *toleranceCmd) extras(e *env, cir *netlist.Circuit, ev variation.Evaluat
 	if c.Envelope && !interrupted("envelope") {
 		opt.Progress = nil
 		stop := c.progress(e, &opt, "envelope")
-		res.env, err = variation.Envelope(e.ctx, cir, mna.Input{Source: c.In}, c.output(), freqs, opt)
+		var pr mna.Probe
+		if pr, _, err = probeFor(cir, c.In, c.Out, c.Ref); err != nil {
+			return err
+		}
+		res.env, err = variation.Envelope(e.ctx, cir, pr.Ex, pr.Ob, freqs, opt)
 		stop()
 		if err != nil && e.ctx.Err() == nil {
 			return err

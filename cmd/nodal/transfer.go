@@ -19,8 +19,9 @@ import (
 // transferCmd prints the transfer function and what can be read off it.
 type transferCmd struct {
 	circuitArgs
+	varyArgs
 	In     string `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
-	Out    string `help:"Output node, or i(PART) for the current through a part." placeholder:"NODE"`
+	Out    string `help:"Output: a response of the file, a node, or i(PART) (default: the first response, then the node named out)." placeholder:"NAME"`
 	Ref    string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
@@ -60,7 +61,12 @@ syntax of nodal check (paste them into --tf or --ode). Ideal op-amps
 contribute no symbol; a finite gain is NAME.a0. --keep keeps only the
 named parts symbolic and substitutes the others exactly; use it when a
 large circuit's expressions grow past the size limit. Impedances are
-nodal impedance.`
+nodal impedance.
+
+Variants (a section per value, JSON an array of {variant, transfer}):
+
+    nodal transfer testdata/examples/tone_stage.nodal --vary Ct=2n2,4n7,10n
+    nodal transfer testdata/examples/speaker_crossover.nodal --out tweeter`
 }
 
 // tfRequest says which transfer function to extract: a ratio (In, Out,
@@ -92,7 +98,7 @@ type tfProbe struct {
 
 // resolveProbe checks the request and says which probe to build: a port
 // or node impedance is a test current in and the voltage across it out.
-func resolveProbe(q tfRequest) (tfProbe, error) {
+func resolveProbe(c *netlist.Circuit, q tfRequest) (tfProbe, error) {
 	switch {
 	case q.Port != "" && q.Node != "":
 		return tfProbe{}, errors.New("give one of --port or --node")
@@ -106,10 +112,9 @@ func resolveProbe(q tfRequest) (tfProbe, error) {
 		return tfProbe{Probe: mna.NodeImpedance(q.Node, q.ZRef), what: what, yName: "v", uName: "i", unit: "Ω"}, nil
 	case q.Port != "":
 		return tfProbe{Probe: mna.SourceImpedance(q.Port), what: fmt.Sprintf("Z(s) at the port of %s (the source removed)", q.Port), yName: "v", uName: "i", unit: "Ω"}, nil
-	case q.Out == "":
-		return tfProbe{}, errors.New("give the output with --out NODE or --out i(PART)")
 	}
-	return tfProbe{Probe: mna.Probe{Ex: mna.Excitation{Source: q.In}, Ob: outputFor(q.Out, q.Ref)}, yName: "y", uName: "u"}, nil
+	p, _, err := probeFor(c, q.In, q.Out, q.Ref)
+	return tfProbe{Probe: p, yName: "y", uName: "u"}, err
 }
 
 // describe fills in the meaning and unit of a voltage or current ratio
@@ -133,7 +138,7 @@ func (p tfProbe) describe(c *netlist.Circuit, in mna.Input, out mna.Output) (wha
 
 // extractTF builds the system and extracts the requested transfer function.
 func extractTF(l *loaded, q tfRequest) (*tfResult, error) {
-	p, err := resolveProbe(q)
+	p, err := resolveProbe(l.circuit, q)
 	if err != nil {
 		return nil, err
 	}
@@ -168,6 +173,12 @@ func (c *transferCmd) Run(e *env) error {
 	}
 	if err := c.symbolicArgs.check(); err != nil {
 		return err
+	}
+	if len(c.Vary) > 0 {
+		if c.Symbolic || c.Plot != "" {
+			return errors.New("--vary goes with the numeric transfer function and no --plot")
+		}
+		return c.runVariants(e)
 	}
 	l, err := c.load(e)
 	if err != nil {
@@ -206,6 +217,52 @@ func (c *transferCmd) Run(e *env) error {
 		}
 		warnStability(e.stderr, stab)
 		return rep.table(w)
+	})
+}
+
+// variantTFJSON is the transfer function of one --vary value.
+type variantTFJSON struct {
+	Variant  []variantJSON `json:"variant"`
+	Transfer any           `json:"transfer"`
+}
+
+// runVariants prints the transfer function for every --vary value: a
+// section each, or a JSON array of {variant, transfer}.
+func (c *transferCmd) runVariants(e *env) error {
+	vs, err := c.variants()
+	if err != nil {
+		return err
+	}
+	ls, err := c.loadVariants(e, vs)
+	if err != nil {
+		return err
+	}
+	reps := make([]*tfReport, len(ls))
+	for i, l := range ls {
+		r, err := extractTF(l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref})
+		if err != nil {
+			return fmt.Errorf("%s: %w", vs[i].label(), err)
+		}
+		reps[i] = newTFReport(r)
+	}
+	return writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
+		if c.Format == "json" {
+			docs := make([]variantTFJSON, len(reps))
+			for i, rep := range reps {
+				docs[i] = variantTFJSON{Variant: vs[i].json(), Transfer: tfDoc(rep)}
+			}
+			return writeJSON(w, docs)
+		}
+		for i, rep := range reps {
+			if i > 0 {
+				fmt.Fprintln(w)
+			}
+			fmt.Fprintf(w, "── %s ──\n", vs[i].label())
+			if err := rep.table(w); err != nil {
+				return err
+			}
+		}
+		return nil
 	})
 }
 

@@ -41,7 +41,7 @@ func parseKeep(keep []string, given bool) []string {
 // A too-large expression is a *symbolic.SizeError wrapped with an example
 // of --keep.
 func deriveSymbolic(e *env, l *loaded, q tfRequest, keep []string) (*symbolicTF, error) {
-	p, err := resolveProbe(q)
+	p, err := resolveProbe(l.circuit, q)
 	if err != nil {
 		return nil, err
 	}

@@ -241,11 +241,11 @@ func (c *tuneCmd) backend(e *env, name string, src []byte) (*tuneBackend, error)
 	return b, nil
 }
 
-// tuneResponses lists the responses the page offers: every node but
-// ground, each observed against ground (or --ref). This is the one place
-// to list named responses when the file format gains them.
+// tuneResponses lists the responses the page offers: the file's named
+// responses, then every node but ground, each observed against ground (or
+// --ref).
 func tuneResponses(c *netlist.Circuit) []string {
-	return append([]string(nil), c.Nodes[1:]...)
+	return append(c.ResponseNames(), c.Nodes[1:]...)
 }
 
 // tuneControlJSON describes one slider.
@@ -532,9 +532,23 @@ func (b *tuneBackend) analyse(ctx context.Context, c *netlist.Circuit, v *tuneVa
 	// The requirements are judged on the transfer function just extracted
 	// (the one require.RequirementMetrics would extract for this probe):
 	// a metric that does not exist here is NaN, fails, and says why.
+	// A requirement on another named response (tweeter.f3db) is judged on
+	// that response's transfer function.
+	tfs := map[string]*transfer.TransferFunction{}
 	for i, req := range c.Requirements {
 		unit, _ := netlist.MetricUnit(metricBase(req.Metric))
-		val, err := b.metrics[i].Eval(r.tf)
+		tf := r.tf
+		if req.Response != "" && req.Response != v.out {
+			if tfs[req.Response] == nil {
+				rr, err := extractTF(l, tfRequest{In: b.probe.In, Out: req.Response})
+				if err != nil {
+					return nil, &tune.RequestError{Err: err}
+				}
+				tfs[req.Response] = rr.tf
+			}
+			tf = tfs[req.Response]
+		}
+		val, err := b.metrics[i].Eval(tf)
 		d := tuneVerdictJSON{Requirement: req.Text, Line: req.Pos.Line, Unit: unit}
 		if err != nil {
 			val, d.Reason = math.NaN(), err.Error()

@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"nodal/cmd/nodal/notation"
+	"slices"
 	"strings"
 	"time"
 
@@ -19,31 +20,57 @@ import (
 )
 
 // requireProbe chooses the input and output that the file's requirements
-// are taken on.
+// are taken on: a requirement that names a response (tweeter.f3db) is
+// taken on it, the others on --out (default: the file's first response,
+// then the node named out).
 type requireProbe struct {
 	In  string `help:"Input source of the requirements (default: the circuit's only source)." placeholder:"SOURCE"`
-	Out string `help:"Output node of the requirements, or i(PART) (default: the node named out)." placeholder:"NODE"`
+	Out string `help:"Output of the unqualified requirements: a response, a node or i(PART) (default: the file's first response, then the node named out)." placeholder:"NAME"`
 	Ref string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 }
 
-// outNode returns --out, or "out" when the circuit has a node of that name.
+// outNode returns --out, or the default output: the file's first
+// response, then the node named out.
 func (p *requireProbe) outNode(l *loaded) (string, error) {
-	if p.Out != "" {
+	switch {
+	case p.Out != "":
 		return p.Out, nil
+	case len(l.circuit.Responses) > 0:
+		return l.circuit.Responses[0].Name, nil
+	case l.circuit.HasNode("out"):
+		return "out", nil
 	}
-	if !l.circuit.HasNode("out") {
-		return "", fmt.Errorf("%s has no node named out: say where the requirements are measured with --out NODE (nodes: %s)", l.name, strings.Join(l.circuit.Nodes[1:], ", "))
-	}
-	return "out", nil
+	return "", fmt.Errorf("%s has no node named out: say where the requirements are measured with --out NODE or a response statement (nodes: %s)", l.name, strings.Join(l.circuit.Nodes[1:], ", "))
 }
 
-// metrics returns the evaluator of the circuit's requirement metrics.
-func (p *requireProbe) metrics(l *loaded) (*require.RequirementMetrics, error) {
-	out, err := p.outNode(l)
-	if err != nil {
-		return nil, err
+// probes returns the probe of every requirement of the circuit and the
+// name of the response each is taken on (the output label for a node).
+func (p *requireProbe) probes(l *loaded) ([]mna.Probe, []string, error) {
+	c := l.circuit
+	probes := make([]mna.Probe, len(c.Requirements))
+	names := make([]string, len(c.Requirements))
+	for i, r := range c.Requirements {
+		in, out, ref := p.In, p.Out, p.Ref
+		if r.Response != "" {
+			out, ref = r.Response, ""
+		}
+		q, name, err := probeFor(c, in, out, ref)
+		if err != nil {
+			return nil, nil, fmt.Errorf("%s: requirements: %w", l.name, err)
+		}
+		if _, err := mna.Build(c, q.Ex, q.Ob); err != nil {
+			return nil, nil, err
+		}
+		if name == "" {
+			ex, ob, _ := mna.Resolve(c, q.Ex, q.Ob)
+			q, name = mna.Probe{Ex: ex, Ob: ob}, response.OutputLabel(ob)
+		}
+		if m, ok := netlist.LookupMetric(metricBase(r.Metric)); ok && m.Circuit {
+			name = "circuit" // a property of the whole circuit, not of a response
+		}
+		probes[i], names[i] = q, name
 	}
-	return require.NewRequirementMetrics(l.circuit.Requirements, mna.Input{Source: p.In}, outputFor(out, p.Ref))
+	return probes, names, nil
 }
 
 // verifyCmd checks the file's requirements.
@@ -78,6 +105,15 @@ gain_margin@U1 (dB), crossover@U1 (Hz, the highest gain crossover).
 Exit status: 0 when every requirement passes at nominal (with --strict:
 also in the worst case), 1 otherwise, 2 for bad input. A file without
 require statements is bad input.
+
+A requirement may name a response declared in the file (response NAME =
+v(NODE)): it is taken on that response, the others on --out (default the
+first response, then the node named out); the table has a response column.
+
+    response woofer = v(lp)
+    require woofer.gain@2.5kHz within -6.2dB..-5.8dB
+
+    nodal verify testdata/examples/speaker_crossover.nodal
 
 Requirements in the file:
 
@@ -117,6 +153,7 @@ type verifyReport struct {
 
 type verdictJSON struct {
 	Requirement string   `json:"requirement"`
+	Response    string   `json:"response"`
 	Line        int      `json:"line"`
 	Unit        string   `json:"unit"`
 	Nominal     *float64 `json:"nominal"`
@@ -172,16 +209,15 @@ func (c *verifyCmd) Run(e *env) error {
 		return fmt.Errorf("%s has no require statements to verify; add one such as `require f3db within 1.9kHz..2.1kHz` (metrics: %s)", l.name, strings.Join(netlist.MetricNames(), ", "))
 	}
 	l.circuit.Requirements = require.WithStable(l.circuit.Requirements)
-	rm, err := c.metrics(l)
+	probes, names, err := c.probes(l)
+	if err != nil {
+		return err
+	}
+	rm, err := require.NewProbeMetrics(l.circuit.Requirements, probes)
 	if err != nil {
 		return err
 	}
 	st, err := circuitStability(l)
-	if err != nil {
-		return err
-	}
-	out, _ := c.outNode(l)
-	sys, err := mna.Build(l.circuit, mna.Input{Source: c.In}, outputFor(out, c.Ref))
 	if err != nil {
 		return err
 	}
@@ -207,19 +243,19 @@ func (c *verifyCmd) Run(e *env) error {
 		return err
 	}
 	rep := &verifyReport{
-		File: l.name, Input: sys.Input.Source, Output: response.OutputLabel(sys.Output), Runs: runs, Seed: c.Seed, Corners: res.Corners,
+		File: l.name, Input: inputsOf(probes), Output: strings.Join(slices.DeleteFunc(uniq(names), func(n string) bool { return n == "circuit" }), ", "), Runs: runs, Seed: c.Seed, Corners: res.Corners,
 		Toleranced: len(l.circuit.Variations),
 		Failed:     res.Failed, Yield: proportionOut(res.Yield), PassNominal: res.PassNominal(), PassWorst: res.PassWorst(),
 	}
 	unstableNoted := false
-	_, respUnit := tfProbe{}.describe(l.circuit, sys.Input, sys.Output)
 	for i, d := range res.Verdicts {
+		_, respUnit := tfProbe{}.describe(l.circuit, probes[i].Ex, probes[i].Ob)
 		unit, _ := netlist.MetricUnit(metricBase(d.Requirement.Metric))
 		if unit == netlist.UnitDecibel && responseLevel(metricBase(d.Requirement.Metric)) {
 			unit = dbReference(respUnit) // dB re 1 V/A for a transimpedance
 		}
 		rep.Requirements = append(rep.Requirements, verdictJSON{
-			Requirement: d.Requirement.Text, Line: d.Requirement.Pos.Line, Unit: unit,
+			Requirement: d.Requirement.Text, Response: names[i], Line: d.Requirement.Pos.Line, Unit: unit,
 			Nominal: finiteOrNil(d.Nominal), NominalPass: d.NominalPass,
 			WorstMin: finiteOrNil(d.WorstMin), WorstMax: finiteOrNil(d.WorstMax), WorstPass: d.WorstPass,
 			Yield:   proportionOut(d.Yield),
@@ -259,6 +295,26 @@ func (c *verifyCmd) Run(e *env) error {
 		return &verdictError{msg: "requirements fail in the worst case"}
 	}
 	return nil
+}
+
+// inputsOf names the sources of the probes, each once.
+func inputsOf(probes []mna.Probe) string {
+	var in []string
+	for _, p := range probes {
+		in = append(in, p.Ex.Source)
+	}
+	return strings.Join(uniq(in), ", ")
+}
+
+// uniq returns the strings in order with repeats left out.
+func uniq(names []string) []string {
+	var out []string
+	for _, n := range names {
+		if !slices.Contains(out, n) {
+			out = append(out, n)
+		}
+	}
+	return out
 }
 
 // metricBase is the metric name without its frequency ("gain@1kHz" → "gain").
@@ -306,8 +362,8 @@ func yieldText(p *proportionJSON) string {
 }
 
 func verifyTable(w io.Writer, rep *verifyReport) error {
-	fmt.Fprintf(w, "%s: requirements on the output %s driven by %s\n", rep.File, rep.Output, rep.Input)
-	t := newTable(w, "requirement", "nominal", "verdict", "worst case", "verdict", "yield [95 % CI]")
+	fmt.Fprintf(w, "%s: requirements on %s driven by %s\n", rep.File, rep.Output, rep.Input)
+	t := newTable(w, "response", "requirement", "nominal", "verdict", "worst case", "verdict", "yield [95 % CI]")
 	for _, v := range rep.Requirements {
 		worst, yield := "-", yieldText(v.Yield)
 		switch {
@@ -325,7 +381,7 @@ func verifyTable(w io.Writer, rep *verifyReport) error {
 		} else if v.stable {
 			nominal = stableText(v.nominal)
 		}
-		if err := t.row(strings.TrimPrefix(v.Requirement, "require "), nominal, passText(v.NominalPass), worst, passText(v.WorstPass), yield); err != nil {
+		if err := t.row(v.Response, strings.TrimPrefix(v.Requirement, "require "), nominal, passText(v.NominalPass), worst, passText(v.WorstPass), yield); err != nil {
 			return err
 		}
 	}
@@ -333,7 +389,7 @@ func verifyTable(w io.Writer, rep *verifyReport) error {
 	if rep.Toleranced == 0 {
 		allYield = "as nominal"
 	}
-	if err := t.row("all", "", passText(rep.PassNominal), "", passText(rep.PassWorst), allYield); err != nil {
+	if err := t.row("all", "", "", passText(rep.PassNominal), "", passText(rep.PassWorst), allYield); err != nil {
 		return err
 	}
 	if err := t.render(); err != nil {

@@ -243,8 +243,13 @@ func ParseFlag(name, text, unit string) (float64, error) {
 // 1k,2k2,10kHz") with ParseValue; an error is positioned at the item that
 // is wrong, within the whole text.
 func ParseFlagList(name, text, unit string) ([]float64, error) {
+	return ParseFlagListAt(name, text, 0, unit)
+}
+
+// ParseFlagListAt is ParseFlagList on text[start:], an error shown in the
+// whole text (--vary R=1k,2k2 points into the flag as written).
+func ParseFlagListAt(name, text string, start int, unit string) ([]float64, error) {
 	var out []float64
-	start := 0
 	for {
 		end := strings.IndexByte(text[start:], ',')
 		if end < 0 {

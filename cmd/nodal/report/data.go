@@ -64,6 +64,15 @@ type Data struct {
 	// Noise is the noise at the output, when the file has a noise
 	// requirement (noise@F, noise_rms@F1..F2).
 	Noise *Noise
+	// ResponseName is the named response the response sections
+	// (Transfer, Roots, Bode, Response, PoleZero, Step, MonteCarlo) are
+	// of; "" when the report has one output. Their headings then start
+	// with it.
+	ResponseName string
+	// Responses are the further named responses of the file, each with
+	// ResponseName and only its response sections set; each gets the
+	// same sections after the first response's.
+	Responses []*Data
 }
 
 // Loop is the loop gain around one gain element: T(s) factored, its Bode

@@ -102,101 +102,9 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 	sum.Tables = append(sum.Tables, parts)
 	secs = append(secs, sum)
 
-	if tf := d.Transfer; tf != nil {
-		s := section{ID: "transfer", Heading: "Transfer function"}
-		if tf.Input != "" || tf.Output != "" {
-			s.Paras = append(s.Paras, "H(s) = "+tf.Output+" / "+tf.Input+", s in rad/s.")
-		}
-		for _, b := range []block{{"factored", tf.Factored}, {"expanded", tf.Expanded}} {
-			if b.Text != "" {
-				s.Blocks = append(s.Blocks, b)
-			}
-		}
-		if len(s.Blocks) > 0 || len(s.Paras) > 0 {
-			secs = append(secs, s)
-		}
-		if tf.ODE != "" {
-			secs = append(secs, section{ID: "ode", Heading: "Differential equation",
-				Paras:  []string{"The same relation in time, with d/dt for s."},
-				Blocks: []block{{"", tf.ODE}}})
-		}
-	}
-
-	if len(d.Roots) > 0 {
-		t := table{Header: []string{"", "real part", "imaginary part", "f0", "Q"}, Right: []bool{false, true, true, true, true}}
-		for _, r := range d.Roots {
-			q := "—"
-			if r.Q != nil {
-				q = notation.Q(*r.Q)
-			}
-			t.Rows = append(t.Rows, row{Cells: []string{r.Kind.String(),
-				notation.Digits(real(r.S), 6, "rad/s"), notation.Digits(imag(r.S), 6, "rad/s"),
-				notation.Digits(r.F0Hz, 5, "Hz"), q}})
-		}
-		s := section{ID: "roots", Heading: "Poles and zeros", Tables: []table{t},
-			Paras: []string{"f0 = |s|/2π; Q = |s|/(−2·Re s) for complex pairs."}}
-		if d.PoleZero.present() {
-			s.Figures = append(s.Figures, d.PoleZero)
-		}
-		secs = append(secs, s)
-	} else if d.PoleZero.present() {
-		secs = append(secs, section{ID: "roots", Heading: "Poles and zeros", Figures: []Plot{d.PoleZero}})
-	}
-
-	if d.Bode.present() || len(d.Response) > 0 {
-		s := section{ID: "bode", Heading: "Frequency response"}
-		if d.Bode.present() {
-			s.Figures = append(s.Figures, d.Bode)
-		}
-		if len(d.Response) > 0 {
-			t := table{Header: []string{"frequency", "magnitude", "phase"}, Right: []bool{true, true, true}}
-			for _, p := range d.Response {
-				t.Rows = append(t.Rows, row{Cells: []string{notation.Digits(p.FreqHz, 4, "Hz"),
-					fixedDecimals(p.MagDB, 3) + " dB", fixedDecimals(p.PhaseDeg, 2) + "°"}})
-			}
-			s.Tables = append(s.Tables, t)
-		}
-		secs = append(secs, s)
-	}
-
-	if st := d.Step; st != nil {
-		s := section{ID: "step", Heading: "Step response"}
-		if st.Plot.present() {
-			s.Figures = append(s.Figures, st.Plot)
-		}
-		if len(st.Metrics) > 0 {
-			t := table{Header: []string{"metric", "value", "note"}, Right: []bool{false, true, false}}
-			for _, m := range st.Metrics {
-				t.Rows = append(t.Rows, row{Cells: []string{m.Name, formatValue(m.Value, m.Unit), m.Note}})
-			}
-			s.Tables = append(s.Tables, t)
-		}
-		secs = append(secs, s)
-	}
-
-	if mc := d.MonteCarlo; mc != nil {
-		s := section{ID: "montecarlo", Heading: "Tolerances (Monte Carlo)",
-			Paras: []string{fmt.Sprintf("%d runs drawn from seed %d; every toleranced part varies at once.", mc.Runs, mc.Seed)}}
-		if mc.Band.present() {
-			s.Figures = append(s.Figures, mc.Band)
-		}
-		if len(mc.Stats) > 0 {
-			t := table{Caption: "Metric statistics", Header: []string{"metric", "nominal", "mean", "std dev", "min", "max"},
-				Right: []bool{false, true, true, true, true, true}}
-			for _, st := range mc.Stats {
-				// five digits: nominal and mean often agree to four
-				cells := []string{st.Name}
-				for _, v := range []float64{st.Nominal, st.Mean, st.StdDev, st.Min, st.Max} {
-					cells = append(cells, formatDigits(v, 5, st.Unit))
-				}
-				t.Rows = append(t.Rows, row{Cells: cells})
-			}
-			s.Tables = append(s.Tables, t)
-		}
-		if mc.Histograms.present() {
-			s.Figures = append(s.Figures, mc.Histograms)
-		}
-		secs = append(secs, s)
+	secs = append(secs, responseSections(d)...)
+	for _, r := range d.Responses {
+		secs = append(secs, responseSections(r)...)
 	}
 
 	for _, lp := range d.Loops {
@@ -358,4 +266,116 @@ func fixedDecimals(v float64, decimals int) string {
 		return strings.TrimPrefix(t, "-")
 	}
 	return t
+}
+
+// responseSections are the sections of one response: transfer function,
+// ODE, roots, Bode plot, step response and tolerances; for a named
+// response (d.ResponseName) the headings start with its name and the ids
+// with "NAME-".
+func responseSections(d *Data) []section {
+	var secs []section
+	if tf := d.Transfer; tf != nil {
+		s := section{ID: "transfer", Heading: "Transfer function"}
+		if tf.Input != "" || tf.Output != "" {
+			s.Paras = append(s.Paras, "H(s) = "+tf.Output+" / "+tf.Input+", s in rad/s.")
+		}
+		for _, b := range []block{{"factored", tf.Factored}, {"expanded", tf.Expanded}} {
+			if b.Text != "" {
+				s.Blocks = append(s.Blocks, b)
+			}
+		}
+		if len(s.Blocks) > 0 || len(s.Paras) > 0 {
+			secs = append(secs, s)
+		}
+		if tf.ODE != "" {
+			secs = append(secs, section{ID: "ode", Heading: "Differential equation",
+				Paras:  []string{"The same relation in time, with d/dt for s."},
+				Blocks: []block{{"", tf.ODE}}})
+		}
+	}
+
+	if len(d.Roots) > 0 {
+		t := table{Header: []string{"", "real part", "imaginary part", "f0", "Q"}, Right: []bool{false, true, true, true, true}}
+		for _, r := range d.Roots {
+			q := "—"
+			if r.Q != nil {
+				q = notation.Q(*r.Q)
+			}
+			t.Rows = append(t.Rows, row{Cells: []string{r.Kind.String(),
+				notation.Digits(real(r.S), 6, "rad/s"), notation.Digits(imag(r.S), 6, "rad/s"),
+				notation.Digits(r.F0Hz, 5, "Hz"), q}})
+		}
+		s := section{ID: "roots", Heading: "Poles and zeros", Tables: []table{t},
+			Paras: []string{"f0 = |s|/2π; Q = |s|/(−2·Re s) for complex pairs."}}
+		if d.PoleZero.present() {
+			s.Figures = append(s.Figures, d.PoleZero)
+		}
+		secs = append(secs, s)
+	} else if d.PoleZero.present() {
+		secs = append(secs, section{ID: "roots", Heading: "Poles and zeros", Figures: []Plot{d.PoleZero}})
+	}
+
+	if d.Bode.present() || len(d.Response) > 0 {
+		s := section{ID: "bode", Heading: "Frequency response"}
+		if d.Bode.present() {
+			s.Figures = append(s.Figures, d.Bode)
+		}
+		if len(d.Response) > 0 {
+			t := table{Header: []string{"frequency", "magnitude", "phase"}, Right: []bool{true, true, true}}
+			for _, p := range d.Response {
+				t.Rows = append(t.Rows, row{Cells: []string{notation.Digits(p.FreqHz, 4, "Hz"),
+					fixedDecimals(p.MagDB, 3) + " dB", fixedDecimals(p.PhaseDeg, 2) + "°"}})
+			}
+			s.Tables = append(s.Tables, t)
+		}
+		secs = append(secs, s)
+	}
+
+	if st := d.Step; st != nil {
+		s := section{ID: "step", Heading: "Step response"}
+		if st.Plot.present() {
+			s.Figures = append(s.Figures, st.Plot)
+		}
+		if len(st.Metrics) > 0 {
+			t := table{Header: []string{"metric", "value", "note"}, Right: []bool{false, true, false}}
+			for _, m := range st.Metrics {
+				t.Rows = append(t.Rows, row{Cells: []string{m.Name, formatValue(m.Value, m.Unit), m.Note}})
+			}
+			s.Tables = append(s.Tables, t)
+		}
+		secs = append(secs, s)
+	}
+
+	if mc := d.MonteCarlo; mc != nil {
+		s := section{ID: "montecarlo", Heading: "Tolerances (Monte Carlo)",
+			Paras: []string{fmt.Sprintf("%d runs drawn from seed %d; every toleranced part varies at once.", mc.Runs, mc.Seed)}}
+		if mc.Band.present() {
+			s.Figures = append(s.Figures, mc.Band)
+		}
+		if len(mc.Stats) > 0 {
+			t := table{Caption: "Metric statistics", Header: []string{"metric", "nominal", "mean", "std dev", "min", "max"},
+				Right: []bool{false, true, true, true, true, true}}
+			for _, st := range mc.Stats {
+				// five digits: nominal and mean often agree to four
+				cells := []string{st.Name}
+				for _, v := range []float64{st.Nominal, st.Mean, st.StdDev, st.Min, st.Max} {
+					cells = append(cells, formatDigits(v, 5, st.Unit))
+				}
+				t.Rows = append(t.Rows, row{Cells: cells})
+			}
+			s.Tables = append(s.Tables, t)
+		}
+		if mc.Histograms.present() {
+			s.Figures = append(s.Figures, mc.Histograms)
+		}
+		secs = append(secs, s)
+	}
+
+	if d.ResponseName != "" {
+		for i := range secs {
+			secs[i].ID = d.ResponseName + "-" + secs[i].ID
+			secs[i].Heading = d.ResponseName + ": " + secs[i].Heading
+		}
+	}
+	return secs
 }

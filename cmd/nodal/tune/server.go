@@ -81,6 +81,7 @@ type Server struct {
 	loadErr string // why the file's current text does not load ("" when it does)
 	gen     int    // counts loads, good or bad
 	stamp   fileStamp
+	seen    fileStamp // the stamp the last poll saw: a change is loaded once it holds for one poll
 }
 
 // fileStamp is what the watcher compares.
@@ -149,8 +150,15 @@ func (s *Server) reload(force bool) {
 	st, err := os.Stat(s.cfg.Path)
 	s.mu.Lock()
 	same := err == nil && st.ModTime().Equal(s.stamp.mod) && st.Size() == s.stamp.size
+	// An editor that writes in place truncates first: a stamp seen for
+	// the first time is read only once it has held for one poll, so a
+	// half-written file is never loaded (nor shown as an error).
+	settled := err == nil && st.ModTime().Equal(s.seen.mod) && st.Size() == s.seen.size
+	if err == nil {
+		s.seen = fileStamp{st.ModTime(), st.Size()}
+	}
 	s.mu.Unlock()
-	if same && !force {
+	if !force && (same || !settled) {
 		return
 	}
 	src, stamp, err := s.read()

@@ -275,6 +275,44 @@ func TestWatchKeepsLastGood(t *testing.T) {
 	})
 }
 
+// TestWatchWaitsForAWriteToSettle: an editor that saves in place
+// truncates the file before writing it. A stamp seen for the first time is
+// loaded only once it holds for one poll, so the empty file between the
+// two is neither loaded nor reported as an error.
+func TestWatchWaitsForAWriteToSettle(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "f.nodal")
+	if err := os.WriteFile(path, []byte("one\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	loads := 0
+	s, err := New(Config{Path: path, Poll: time.Hour, Load: func(src []byte) (Backend, error) {
+		loads++
+		if len(src) == 0 {
+			return nil, errors.New("f.nodal:1:1: the circuit has no elements")
+		}
+		return fakeLoad(src)
+	}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	before := loads
+	if err := os.WriteFile(path, nil, 0o644); err != nil { // the truncation
+		t.Fatal(err)
+	}
+	s.reload(false)
+	if loads != before || s.loadErr != "" {
+		t.Fatalf("a stamp seen once was loaded: %d loads, error %q", loads-before, s.loadErr)
+	}
+	if err := os.WriteFile(path, []byte("second version\n"), 0o644); err != nil { // the write
+		t.Fatal(err)
+	}
+	s.reload(false) // first sight of the written file: wait
+	s.reload(false) // it held for one poll: load
+	if b, _ := s.current(); b == nil || b.Model().(map[string]string)["first"] != "second version" || s.loadErr != "" {
+		t.Fatalf("after the write settled: model %v, error %q", b, s.loadErr)
+	}
+}
+
 // TestLineDiff lists the changed lines with their numbers.
 func TestLineDiff(t *testing.T) {
 	got := LineDiff([]byte("a\nb 1\nc\n"), []byte("a\nb 2\nc\n"))
