@@ -118,7 +118,7 @@ func TestDiagnostics(t *testing.T) {
 		{"reserved", "let pi = 3\n" + base, 1, 1, `"pi" is reserved`, "", false},
 		{"second title", "title \"a\"\ntitle \"b\"\n" + base, 2, 1, "second title", "", false},
 		{"require metric", base + "require gian@1kHz below 0dB\n", 4, 9, `unknown metric "gian"`, `did you mean "gain"?`, false},
-		{"require list", base + "require zzz above 1\n", 4, 9, `unknown metric "zzz"`, "metrics: gain@F, phase@F, f3db, peak, fpeak, f0, q, dc", false},
+		{"require list", base + "require zzz above 1\n", 4, 9, `unknown metric "zzz"`, "metrics: gain@F, phase@F, f3db, peak, peaking, fpeak, f0, q, dc", false},
 		{"require freq", base + "require gain below 0dB\n", 4, 9, "gain needs a frequency", "", false},
 		{"require unit", base + "require f3db within 1kHz..2dB\n", 4, 27, "limit of f3db must be Hz", "", false},
 		{"require noise band", base + "require noise_rms@20Hz below 1uV\n", 4, 9, "write the band as F1..F2", "", false},

@@ -333,7 +333,7 @@ func TestOverrides(t *testing.T) {
 }
 
 func TestMetrics(t *testing.T) {
-	if got := MetricNames(); !reflect.DeepEqual(got, []string{"gain@F", "phase@F", "f3db", "peak", "fpeak", "f0", "q", "dc",
+	if got := MetricNames(); !reflect.DeepEqual(got, []string{"gain@F", "phase@F", "f3db", "peak", "peaking", "fpeak", "f0", "q", "dc",
 		"phase_margin@PART", "gain_margin@PART", "crossover@PART", "stable", "noise@F", "noise_rms@F1..F2"}) {
 		t.Errorf("MetricNames = %v", got)
 	}

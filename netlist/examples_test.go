@@ -30,9 +30,24 @@ func TestExamples(t *testing.T) {
 			p, _ := c.Part("U1")
 			return "U1.en", p.EnVPerRtHz, 6e-9
 		},
+		// The bass shelf (block shelf: Rser from i to o, Rsh and Csh from
+		// o to gnd) is flat at DC and, once Csh shorts, the divider
+		// Rsh/(Rser + Rsh) (common practice for a first-order shelf). The
+		// instance passes R=22k Rs=2k2 (2k2 = 2.2 kΩ, IEC 60062 RKM code)
+		// over the block defaults 10k and 1k, so the floor is
+		// 2.2k/(22k + 2.2k) = 1/11 (−20.8 dB): this checks the parameters
+		// reached the instance's parts.
 		"tone_stage.nodal": func(c *Circuit) (string, float64, float64) {
-			p, _ := c.Part("BASS.Rsh")
-			return "BASS.Rsh", p.Value, 2.2e3
+			rser, _ := c.Part("BASS.Rser")
+			rsh, _ := c.Part("BASS.Rsh")
+			return "BASS Rsh/(Rser+Rsh)", rsh.Value / (rser.Value + rsh.Value), 1.0 / 11
+		},
+		// First-order RC: f3db = 1/(2π·R1·C1) = 1591.5 Hz for 10 kΩ and
+		// 10 nF (common practice), inside the file's 1.4..1.8 kHz limits.
+		"bridge_rc.nodal": func(c *Circuit) (string, float64, float64) {
+			r, _ := c.Part("R1")
+			cp, _ := c.Part("C1")
+			return "1/(2π·R1·C1)", 1 / (2 * math.Pi * r.Value * cp.Value), 1591.5494309189535
 		},
 	}
 	for _, path := range files {

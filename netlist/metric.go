@@ -60,6 +60,7 @@ type MetricSubject interface {
 	F3dBHz() (float64, error)                   // the lowest −3 dB frequency, Hz
 	PeakDB() (float64, error)                   // the largest gain on the jω axis, dB
 	PeakHz() (float64, error)                   // where it occurs, Hz
+	PeakingDB() (float64, error)                // the peak above the passband reference of a low- or high-pass, dB
 	F0Hz() (float64, error)                     // natural frequency of the dominant pair, Hz
 	Q() (float64, error)                        // quality factor of the dominant pair
 
@@ -123,6 +124,10 @@ type MetricSpec struct {
 	Noise bool
 	// Help says in a few words what the metric is.
 	Help string
+	// Label names the metric in words for axis labels and headings, with
+	// "F" standing for the frequency parameter ("gain at F"): "−3 dB
+	// frequency", never "f3db".
+	Label string
 	// Eval returns the metric of s for the parameter p, in Unit.
 	Eval func(s MetricSubject, p MetricParam) (float64, error)
 }
@@ -140,21 +145,23 @@ func (m MetricSpec) Written() string {
 // `require`, `nodal tolerance`, `nodal verify`, `nodal snap` and the
 // report read. Read-only.
 var metricSpecs = []MetricSpec{
-	{Name: "gain", Unit: UnitDecibel, Param: MetricParamFreq, Spot: true, Help: "gain at F, dB",
+	{Name: "gain", Label: "gain at F", Unit: UnitDecibel, Param: MetricParamFreq, Spot: true, Help: "gain at F, dB",
 		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.GainDBAt(p.FreqHz) }},
-	{Name: "phase", Unit: UnitDegree, Param: MetricParamFreq, Spot: true, Turns: true, Help: "phase at F, degrees",
+	{Name: "phase", Label: "phase at F", Unit: UnitDegree, Param: MetricParamFreq, Spot: true, Turns: true, Help: "phase at F, degrees",
 		Eval: func(s MetricSubject, p MetricParam) (float64, error) { return s.PhaseDegAt(p.FreqHz) }},
-	{Name: "f3db", Unit: UnitHertz, Help: "lowest −3 dB frequency, Hz",
+	{Name: "f3db", Label: "−3 dB frequency", Unit: UnitHertz, Help: "lowest −3 dB frequency, Hz",
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.F3dBHz() }},
-	{Name: "peak", Unit: UnitDecibel, Help: "largest gain, dB",
+	{Name: "peak", Label: "peak gain", Unit: UnitDecibel, Help: "largest gain, dB",
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.PeakDB() }},
-	{Name: "fpeak", Unit: UnitHertz, Help: "frequency of the peak, Hz",
+	{Name: "peaking", Label: "peaking above the passband", Unit: UnitDecibel, Help: "peak above the passband gain of a low- or high-pass, dB",
+		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.PeakingDB() }},
+	{Name: "fpeak", Label: "frequency of the peak", Unit: UnitHertz, Help: "frequency of the peak, Hz",
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.PeakHz() }},
-	{Name: "f0", Unit: UnitHertz, Help: "natural frequency of the dominant pair, Hz",
+	{Name: "f0", Label: "natural frequency f0", Unit: UnitHertz, Help: "natural frequency of the dominant pair, Hz",
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.F0Hz() }},
-	{Name: "q", Unit: "", Help: "quality factor of the dominant pair",
+	{Name: "q", Label: "quality factor Q", Unit: "", Help: "quality factor of the dominant pair",
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.Q() }},
-	{Name: "dc", Unit: UnitDecibel, Spot: true, Help: "gain at DC, dB",
+	{Name: "dc", Label: "DC gain", Unit: UnitDecibel, Spot: true, Help: "gain at DC, dB",
 		Eval: func(s MetricSubject, _ MetricParam) (float64, error) { return s.DCGainDB() }},
 	// the loop gain around a gain element (see `nodal loop`)
 	{Name: "phase_margin", Unit: UnitDegree, Param: MetricParamPart, Circuit: true, Help: "smallest phase margin of the loop gain around PART, degrees",

@@ -16,6 +16,12 @@ var ErrUnbounded = errors.New("the gain is unbounded on the frequency axis")
 // integrator (infinite gain at DC) or is identically zero.
 var ErrNoReference = errors.New("no reference gain for a −3 dB frequency")
 
+// ErrNoPassband means a response has no passband reference for peaking:
+// it is neither a low-pass kind (finite, non-zero DC gain) nor a high-pass
+// kind (a zero at DC and a finite, non-zero high-frequency gain), as a
+// band-pass is.
+var ErrNoPassband = errors.New("no passband reference: peaking is defined for low- and high-pass responses (use peak for the largest gain)")
+
 // RootPair describes a second-order section (s − Root)(s − Other) =
 // s² + (ω0/Q)·s + ω0²: a complex-conjugate pair of poles or zeros, or, from
 // DominantPair only, two real poles.
@@ -426,6 +432,42 @@ func (h *TransferFunction) Peak() (Peak, error) {
 	best.GainDB = 20 * math.Log10(best.Gain)
 	best.FreqHz = best.OmegaRad / (2 * math.Pi)
 	return best, nil
+}
+
+// PassbandRef returns the passband reference gain of a low- or high-pass
+// response, as a ratio: the DC gain when it is finite and non-zero (a
+// low-pass, also a notch or an all-pass), else, for a zero at DC, the
+// high-frequency gain when it is finite and non-zero (a high-pass). Any
+// other response (a band-pass, an integrator, H ≡ 0) returns
+// ErrNoPassband.
+func (h *TransferFunction) PassbandRef() (float64, error) {
+	dc := h.DCGain()
+	k, _ := h.Scaled()
+	switch {
+	case k == 0 || dc.Power < 0:
+	case dc.Power == 0:
+		return math.Abs(dc.Gain), nil
+	case len(h.Zeros) == len(h.Poles):
+		return math.Abs(k), nil
+	}
+	return 0, ErrNoPassband
+}
+
+// PeakingDB returns how far the peak gain rises above the passband
+// reference of a low- or high-pass (PassbandRef), in dB: 0 for a
+// monotone response, 20·log10(Q/√(1 − 1/(4Q²))) for a second-order
+// low-pass with Q > 1/√2. It returns ErrNoPassband for a band-pass and
+// ErrUnbounded when the gain has no finite maximum.
+func (h *TransferFunction) PeakingDB() (float64, error) {
+	ref, err := h.PassbandRef()
+	if err != nil {
+		return 0, err
+	}
+	pk, err := h.Peak()
+	if err != nil {
+		return 0, err
+	}
+	return math.Max(0, pk.GainDB-20*math.Log10(ref)), nil
 }
 
 // uniqueSorted sorts v and removes values within 1e-9 relative.

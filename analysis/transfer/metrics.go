@@ -33,7 +33,7 @@ func (m Metric) Unit() string { return m.Spec.Unit }
 // ErrNoPolePair means the q or f0 metric was asked of a transfer function
 // without a second-order section: no complex pole pair and fewer than two
 // real poles of one sign (see DominantPair).
-var ErrNoPolePair = errors.New("no complex pole pair nor two real poles of one sign")
+var ErrNoPolePair = errors.New("no pole pair")
 
 // ParseMetric parses a metric as spelled in a `require` statement
 // (netlist.ParseMetric: gain@F, phase@F, f3db, peak, fpeak, f0, q or dc,
@@ -76,14 +76,22 @@ func (h *TransferFunction) DominantPair() (RootPair, error) {
 		return best, nil
 	}
 	rp := h.RealPoles()
-	if len(rp) < 2 {
+	switch {
+	case len(h.Poles) == 0:
+		return RootPair{}, fmt.Errorf("no poles: %w", ErrNoPolePair)
+	case len(h.Poles) == 1:
+		return RootPair{}, fmt.Errorf("first-order: %w", ErrNoPolePair)
+	case len(rp) < 2:
 		return RootPair{}, ErrNoPolePair
 	}
 	sort.SliceStable(rp, func(a, b int) bool { return rp[a].OmegaRad < rp[b].OmegaRad })
 	p1, p2 := rp[0].Root, rp[1].Root
 	prod, sum := p1*p2, p1+p2
-	if prod < 0 || (prod == 0 && sum == 0) {
-		return RootPair{}, fmt.Errorf("real poles %.4g and %.4g rad/s: %w", p1, p2, ErrNoPolePair)
+	switch {
+	case prod == 0 && sum == 0:
+		return RootPair{}, fmt.Errorf("a double pole at s = 0: %w", ErrNoPolePair)
+	case prod < 0:
+		return RootPair{}, fmt.Errorf("real poles %.4g and %.4g rad/s of opposite sign: %w", p1, p2, ErrNoPolePair)
 	}
 	w0 := math.Sqrt(prod)
 	q := w0 / -sum
@@ -220,6 +228,8 @@ func (s tfSubject) PeakHz() (float64, error) {
 	pk, err := s.tf.Peak()
 	return pk.FreqHz, err
 }
+
+func (s tfSubject) PeakingDB() (float64, error) { return s.tf.PeakingDB() }
 
 func (s tfSubject) F0Hz() (float64, error) {
 	p, err := s.tf.DominantPair()

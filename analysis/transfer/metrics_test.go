@@ -129,8 +129,41 @@ func TestMetricEval(t *testing.T) {
 	// A first-order low-pass has no pole pair.
 	rc := mustExtract(t, newStamper().V("in", "0").R("in", "o", 1e3).C("o", "0", 1e-6).Out("o", "0").System())
 	qm, _ := ParseMetric("q")
-	if _, err := qm.Eval(rc); err == nil {
-		t.Error("q of a first-order circuit: no error")
+	if _, err := qm.Eval(rc); err == nil || !strings.Contains(err.Error(), "first-order: no pole pair") {
+		t.Errorf("q of a first-order circuit: error %v, want first-order: no pole pair", err)
+	}
+}
+
+func TestPeaking(t *testing.T) {
+	// Second-order low-pass ω0²/(s² + (ω0/Q)s + ω0²): the peak above the
+	// DC gain is 20·log10(Q/√(1 − 1/(4Q²))) for Q > 1/√2, none below
+	// (common practice). The high-pass s²/(s² + (ω0/Q)s + ω0²) has the same
+	// peaking above its high-frequency gain (the mirror ω → ω0²/ω).
+	const w0 = 2 * math.Pi * 1e3
+	for _, q := range []float64{0.5, 1 / math.Sqrt2, 1, 2, 10} {
+		p := complex(-w0/(2*q), w0*math.Sqrt(math.Max(0, 1-1/(4*q*q))))
+		poles := []complex128{p, cmplx.Conj(p)}
+		if q == 0.5 {
+			poles = []complex128{complex(-w0, 0), complex(-w0, 0)}
+		}
+		want := 0.0
+		if q > 1/math.Sqrt2 {
+			want = 20 * math.Log10(q/math.Sqrt(1-1/(4*q*q)))
+		}
+		lp := newTransferFunction(w0*w0, nil, poles, nil)
+		hp := newTransferFunction(1, []complex128{0, 0}, poles, nil)
+		for name, h := range map[string]*TransferFunction{"low-pass": lp, "high-pass": hp} {
+			m, _ := ParseMetric("peaking")
+			got, err := m.Eval(h)
+			if err != nil || math.Abs(got-want) > 1e-9 {
+				t.Errorf("%s Q=%g: peaking %v dB, %v; want %v dB", name, q, got, err, want)
+			}
+		}
+		// A band-pass (ω0/Q)s/(...) has a peak but no passband reference.
+		bp := newTransferFunction(w0/q, []complex128{0}, poles, nil)
+		if _, err := bp.PeakingDB(); !errors.Is(err, ErrNoPassband) {
+			t.Errorf("band-pass Q=%g: peaking error %v, want ErrNoPassband", q, err)
+		}
 	}
 }
 

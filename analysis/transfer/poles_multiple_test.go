@@ -10,7 +10,22 @@ import (
 // buffers give H(s) = 1/(1 + sτ)^m (common practice): an m-fold real pole
 // at −1/τ. Rounding splits an m-fold root by about ε^(1/m) (6e-6 relative
 // for m = 3), so the poles must come back merged, exactly real and equal.
-// The all-pass with an inductor (c4) has den (1 + s/10⁴)³ as well.
+// The phase stage with an inductor (c4) has den (1 + s/10⁴)³ as well.
+// Derivation (nodal analysis by hand, checked with sympy): the ideal op-amp
+// with R1 = R2 gives v(out) = 2·v(p) − v(in); at p, R3 = R from in, L1 to
+// gnd and C1 in series with R4 ∥ C2 (R4 = R, C1 = C2 = C) to gnd, so
+//
+//	v(p)/v(in) = Zp/(R + Zp),  Zp = sL ∥ (1/(sC) + R/(1 + sRC)),
+//
+// whose denominator, common to H = 2·v(p)/v(in) − 1, is
+//
+//	R + (L + 2CR²)·s + 3CLR·s² + C²LR²·s³.
+//
+// With R = 10 kΩ, C = 10 nF, L = 1 H: L + 2CR² = 3 H, so divided by R it
+// is 1 + 3·10⁻⁴s + 3·10⁻⁸s² + 10⁻¹²s³ = (1 + s/10⁴)³. (The numerator is
+// R + (2CR² − L)·s − CLR·s² + C²LR²·s³, not the mirror of the
+// denominator: despite its title the stage is not an all-pass, |H| dips
+// to 1/√2 at 10⁴ rad/s; only the triple pole is under test.)
 func TestRepeatedRealPoles(t *testing.T) {
 	for _, tc := range []struct {
 		m    int

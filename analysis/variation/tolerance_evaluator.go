@@ -202,11 +202,12 @@ func (s spotSubject) DCGainDB() (float64, error) { return s.GainDBAt(0) }
 
 var errNeedsPoles = errors.New("needs the poles and zeros, not a spot solve")
 
-func (spotSubject) F3dBHz() (float64, error) { return 0, errNeedsPoles }
-func (spotSubject) PeakDB() (float64, error) { return 0, errNeedsPoles }
-func (spotSubject) PeakHz() (float64, error) { return 0, errNeedsPoles }
-func (spotSubject) F0Hz() (float64, error)   { return 0, errNeedsPoles }
-func (spotSubject) Q() (float64, error)      { return 0, errNeedsPoles }
+func (spotSubject) F3dBHz() (float64, error)    { return 0, errNeedsPoles }
+func (spotSubject) PeakDB() (float64, error)    { return 0, errNeedsPoles }
+func (spotSubject) PeakHz() (float64, error)    { return 0, errNeedsPoles }
+func (spotSubject) PeakingDB() (float64, error) { return 0, errNeedsPoles }
+func (spotSubject) F0Hz() (float64, error)      { return 0, errNeedsPoles }
+func (spotSubject) Q() (float64, error)         { return 0, errNeedsPoles }
 
 var errNeedsCircuit = errors.New("is judged on the whole circuit, not on a spot solve of one response")
 

@@ -72,7 +72,7 @@ func TestMetricEvaluatorErrors(t *testing.T) {
 		{[]string{"bandwidth"}, "f3db"}, // lists the valid ones
 		{[]string{"gain"}, "gain@F"},
 		{nil, "no metric"},
-		{[]string{"f0"}, "no complex pole pair"},
+		{[]string{"f0"}, "first-order: no pole pair"},
 	} {
 		_, err := NewMetricEvaluator(c, mna.Input{}, mna.Output{Node: "out"}, tc.metrics)
 		if err == nil || !strings.Contains(err.Error(), tc.want) {

@@ -3,6 +3,7 @@ package variation
 import (
 	"context"
 	"math"
+	"strings"
 	"testing"
 )
 
@@ -134,5 +135,28 @@ func TestWorstCaseSallenKeyQ(t *testing.T) {
 	}
 	if got := m.MaxCorner; len(got.High) != 2 || got.High[0] != "R1" || got.High[1] != "C1" {
 		t.Errorf("max corner %+v; want R1, C1 high", got)
+	}
+}
+
+func TestWorstCaseCornersNameOnlyItemsThatMatter(t *testing.T) {
+	// An ideal op-amp buffer after the RC: the load RL on its output does
+	// not change v(out)/v(Vs) = 1/(1 + sRC) (an ideal voltage source output;
+	// common practice), so the f3db corners name R1 and C1 only, both for
+	// the full search and for the sensitivity-sign search.
+	c := tolLoad(t, "Vs: voltage source (in, gnd) 1\nR1: resistor (in, a) 10k ±1%\nC1: capacitor (a, gnd) 15.9155nF ±1%\n"+
+		"U1: opamp (a, out, out)\nRL: resistor (out, gnd) 1k ±5%\n")
+	ev := tolEvaluator(t, c, "out", "f3db")
+	for _, limit := range []int{0, 1} {
+		res, err := WorstCase(context.Background(), c, ev, WorstCaseOptions{MaxExhaustive: limit})
+		if err != nil {
+			t.Fatal(err)
+		}
+		m := res.Metrics[0]
+		for _, corner := range []ToleranceCorner{m.MinCorner, m.MaxCorner} {
+			names := append(append([]string{}, corner.High...), corner.Low...)
+			if len(names) != 2 || strings.Contains(strings.Join(names, " "), "RL") {
+				t.Errorf("limit %d: corner %+v; want R1 and C1 only", limit, corner)
+			}
+		}
 	}
 }

@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math"
 
 	"nodal/analysis/stability"
 	"nodal/netlist"
@@ -24,7 +25,10 @@ type WorstCaseOptions struct {
 
 // ToleranceCorner is one tolerance corner: every item at nominal·(1 + tol) (High)
 // or nominal·(1 − tol) (Low). For a normally distributed item ±tol is ±3σ.
-// Both lists keep source order.
+// Both lists keep source order. In a WorstCaseMetric the lists name only
+// the items the metric depends on: an item whose flip to its other end
+// leaves the metric unchanged (to 1e-9 of its value or spread), or whose
+// sensitivity is zero, is left out, as its end does not matter.
 type ToleranceCorner struct {
 	High []string
 	Low  []string
@@ -73,6 +77,7 @@ func WorstCase(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt WorstC
 	}
 	res := &WorstCaseResult{Items: c.Variations, Exhaustive: k <= limit}
 	var corners [][]bool // corners[n][i]: item i high
+	var d [][]float64    // d[i][j]: derivative of metric j in item i (sign search only)
 	if res.Exhaustive {
 		corners = make([][]bool, 1<<k)
 		for n := range corners {
@@ -82,7 +87,7 @@ func WorstCase(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt WorstC
 			}
 		}
 	} else {
-		d, err := derivatives(ctx, c, ev, SensitivityOptions{RelStep: opt.RelStep, Workers: opt.Workers})
+		d, err = derivatives(ctx, c, ev, SensitivityOptions{RelStep: opt.RelStep, Workers: opt.Workers})
 		if err != nil {
 			return nil, fmt.Errorf("worst case: %w", err)
 		}
@@ -138,21 +143,39 @@ func WorstCase(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt WorstC
 	if res.Failed == len(corners) {
 		return nil, fmt.Errorf("worst case: every corner failed; first: %w", firstErr)
 	}
+	// matters says whether metric j at corner n depends on item i: with
+	// every corner tried, flipping item i moves the value; with the sign
+	// search, its sensitivity is non-zero.
+	matters := func(n, i, j int) bool {
+		if !res.Exhaustive {
+			return d[i][j] != 0
+		}
+		f := n ^ (1 << i)
+		if errs[f] != nil {
+			return true
+		}
+		tol := 1e-9 * math.Max(math.Abs(vals[n][j]), vals[hi[j]][j]-vals[lo[j]][j])
+		return math.Abs(vals[f][j]-vals[n][j]) > tol
+	}
 	for j, name := range names {
 		res.Metrics = append(res.Metrics, WorstCaseMetric{
 			Metric: name, Unit: metricUnit(name), Nominal: nominal[j],
 			Min: vals[lo[j]][j], Max: vals[hi[j]][j],
-			MinCorner: cornerOf(c.Variations, corners[lo[j]]),
-			MaxCorner: cornerOf(c.Variations, corners[hi[j]]),
+			MinCorner: cornerOf(c.Variations, corners[lo[j]], func(i int) bool { return matters(lo[j], i, j) }),
+			MaxCorner: cornerOf(c.Variations, corners[hi[j]], func(i int) bool { return matters(hi[j], i, j) }),
 		})
 	}
 	return res, nil
 }
 
-// cornerOf names the high and low items of a corner.
-func cornerOf(vars []netlist.Variation, high []bool) ToleranceCorner {
+// cornerOf names the high and low items of a corner that the metric
+// depends on (matters(i)).
+func cornerOf(vars []netlist.Variation, high []bool, matters func(i int) bool) ToleranceCorner {
 	var c ToleranceCorner
 	for i, v := range vars {
+		if !matters(i) {
+			continue
+		}
 		if high[i] {
 			c.High = append(c.High, v.Name)
 		} else {

@@ -10,9 +10,11 @@ import (
 	"nodal/mna"
 )
 
-// autoRange is the default sweep range for sys: every finite non-zero pole
-// and zero covered by two decades either side; the parts' own corner
-// frequencies when the transfer function cannot be had or has no roots.
+// autoRange is the default sweep range for sys: the poles and zeros that
+// shape the response within shapeWindowDB of its largest gain, a decade
+// either side (see shapingRange); a fixed range for a response that does
+// not depend on frequency; the parts' own corner frequencies when the
+// transfer function cannot be had.
 func autoRange(l *loaded, sys *mna.System) (float64, float64) {
 	tf, _ := transfer.Extract(sys) // no transfer function: the parts' corners
 	return rangeOf(l, tf)
@@ -21,12 +23,91 @@ func autoRange(l *loaded, sys *mna.System) (float64, float64) {
 // rangeOf is autoRange for an already extracted transfer function of the
 // system (nil when it could not be had).
 func rangeOf(l *loaded, tf *transfer.TransferFunction) (float64, float64) {
-	if tf != nil {
-		if lo, hi, ok := rootRange(tf); ok {
-			return lo, hi
+	if tf == nil {
+		return response.DefaultRange(l.circuit)
+	}
+	if lo, hi, ok := shapingRange(tf); ok {
+		return lo, hi
+	}
+	return flatRangeHz[0], flatRangeHz[1]
+}
+
+// flatRangeHz is the default range of a response without finite non-zero
+// poles or zeros (a divider, a gain stage with ideal op-amps): any range
+// shows the same flat line, so a fixed audio-and-above span.
+var flatRangeHz = [2]float64{10, 100e3}
+
+// shapeWindowDB is how far below the largest gain a pole or zero still
+// shapes the response worth showing by default, dB.
+const shapeWindowDB = 100
+
+// frequencyIndependent reports whether tf has no finite non-zero pole or
+// zero, so |H| and the phase are the same at every frequency and the group
+// delay is exactly 0.
+func frequencyIndependent(tf *transfer.TransferFunction) bool {
+	_, _, ok := rootSpan(tf, func(float64, bool) bool { return true })
+	return !ok
+}
+
+// shapingRange is the default sweep range of tf (Hz): a decade below the
+// lowest and above the highest finite non-zero pole or zero that shapes
+// the response within shapeWindowDB of its largest gain, rounded out to
+// whole decades (a root a hair above a decade does not add one). A root
+// shapes it when the gain at its frequency is within the window (for a
+// zero, the larger of |H| at f/2 and 2f, so that a notch's own null does
+// not hide it); a parasitic pole far down the roll-off (an
+// op-amp's second pole 300 dB below the passband) is left out. ok is false
+// when tf has no such root (a frequency-independent response).
+func shapingRange(tf *transfer.TransferFunction) (float64, float64, bool) {
+	gain := func(fHz float64) float64 { return cmplx.Abs(tf.EvalFactored(complex(0, 2*math.Pi*fHz))) }
+	zeroNear := func(f float64) float64 { return math.Max(gain(f/2), gain(2*f)) }
+	top := math.Inf(-1)
+	if pk, err := tf.Peak(); err == nil && pk.Gain > 0 && !math.IsInf(pk.Gain, 0) {
+		top = pk.Gain
+	} else {
+		// No finite peak (a pole on the jω axis, an integrator): the
+		// largest finite gain near a root stands for it.
+		rootSpan(tf, func(f float64, _ bool) bool {
+			if g := gain(f); !math.IsInf(g, 0) && !math.IsNaN(g) {
+				top = math.Max(top, g)
+			}
+			return false
+		})
+	}
+	floor := top * math.Pow(10, -shapeWindowDB/20.0)
+	lo, hi, ok := rootSpan(tf, func(f float64, zero bool) bool {
+		g := gain(f)
+		if zero {
+			g = zeroNear(f)
+		}
+		return math.IsInf(top, -1) || !(g < floor) // NaN and +Inf count
+	})
+	if !ok {
+		// Every root is far down the response: show them all rather than
+		// nothing.
+		if lo, hi, ok = rootSpan(tf, func(float64, bool) bool { return true }); !ok {
+			return 0, 0, false
 		}
 	}
-	return response.DefaultRange(l.circuit)
+	const slack = 0.01 // decades
+	return math.Pow(10, math.Floor(math.Log10(lo)+slack)-1), math.Pow(10, math.Ceil(math.Log10(hi)-slack)+1), true
+}
+
+// rootSpan is the lowest and highest frequency (Hz) of the finite non-zero
+// poles and zeros of tf for which keep(f, zero) holds (zero: the root is
+// a zero); ok is false for none.
+func rootSpan(tf *transfer.TransferFunction, keep func(fHz float64, zero bool) bool) (lo, hi float64, ok bool) {
+	lo, hi = math.Inf(1), 0
+	for k, roots := range [][]complex128{tf.Poles, tf.Zeros} {
+		for _, r := range roots {
+			f := cmplx.Abs(r) / (2 * math.Pi)
+			if f == 0 || math.IsInf(f, 0) || math.IsNaN(f) || !keep(f, k == 1) {
+				continue
+			}
+			lo, hi = math.Min(lo, f), math.Max(hi, f)
+		}
+	}
+	return lo, hi, hi > 0
 }
 
 // systemTF extracts sys's transfer function, nil when it cannot be had
@@ -37,23 +118,6 @@ func systemTF(sys *mna.System) *transfer.TransferFunction {
 		return nil
 	}
 	return tf
-}
-
-// rootRange spans the magnitudes of the non-zero poles and zeros (Hz), two
-// decades either side, rounded out to whole decades.
-func rootRange(tf *transfer.TransferFunction) (float64, float64, bool) {
-	lo, hi := math.Inf(1), 0.0
-	for _, r := range append(append([]complex128(nil), tf.Poles...), tf.Zeros...) {
-		f := cmplx.Abs(r) / (2 * math.Pi)
-		if f == 0 || math.IsInf(f, 0) || math.IsNaN(f) {
-			continue
-		}
-		lo, hi = math.Min(lo, f), math.Max(hi, f)
-	}
-	if hi == 0 {
-		return 0, 0, false
-	}
-	return math.Pow(10, math.Floor(math.Log10(lo))-2), math.Pow(10, math.Ceil(math.Log10(hi))+2), true
 }
 
 // addBodeMarks marks the −3 dB points and a resonance peak (more than

@@ -23,7 +23,7 @@ type checkCmd struct {
 	Ideal    bool   `help:"Evaluate the circuit with every op-amp ideal (no a0, gbw or rout) for the comparison."`
 	MagTol   string `name:"mag-tol" help:"Largest magnitude difference that agrees, in dB (default 0.01dB)." placeholder:"DB"`
 	PhaseTol string `name:"phase-tol" help:"Largest phase difference that agrees, in degrees (default 0.1deg)." placeholder:"DEG"`
-	Format   string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format   string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output   string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
@@ -61,15 +61,15 @@ an ideal op-amp against a circuit with a 10 MHz one, in the audio band);
 
 Examples:
 
-    nodal check rc.nodal --out out --ode "R1*C1*y' + y = u"
-    nodal check sk.nodal --out out --ode "R1*R2*C1*C2*y'' + C2*(R1+R2)*y' + y = u"
-    nodal check sk.nodal --out out --tf "1/(1 + s*C2*(R1+R2) + s^2*R1*R2*C1*C2)"
-    nodal check tone.nodal --out out --tf "1/(1 + s*R1*C1)" --band 20Hz..20kHz`
+    nodal check testdata/examples/bridge_rc.nodal --out out --ode "R1*C1*y' + y = u"
+    nodal check testdata/examples/tone_lowpass_ideal.nodal --out out --ode "R1*R2*C1*C2*y'' + C2*(R1+R2)*y' + y = u"
+    nodal check testdata/examples/tone_lowpass_ideal.nodal --out out --tf "1/(1 + s*C2*(R1+R2) + s^2*R1*R2*C1*C2)"
+    nodal check testdata/examples/logger_antialias.nodal --out out --tf "1/(1 + s*C2*(R1+R2) + s^2*R1*R2*C1*C2)" --band 20Hz..500Hz`
 }
 
 // Run compares and prints the verdict.
 func (c *checkCmd) Run(e *env) error {
-	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output}, "table", "json"); err != nil {
 		return err
 	}
 	if c.ODE == "" && c.TF == "" {

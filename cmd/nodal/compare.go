@@ -23,7 +23,7 @@ type compareCmd struct {
 	Out      string   `help:"Output: a response of the file(s), a sum of them (woofer+tweeter), a node or i(PART) (default: the first response, then the node named out)." placeholder:"NAME"`
 	Ref      string   `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 	freqArgs
-	Format  string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format  string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output  string `short:"o" help:"Write the table/JSON to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot    string `help:"Also draw both responses overlaid, with their difference below (.svg or .png)." placeholder:"FILE" type:"path"`
 	Workers int    `help:"Goroutines for the sweeps (default: all cores)." default:"0"`
@@ -84,6 +84,9 @@ type compareJSON struct {
 
 // Run compares and prints.
 func (c *compareCmd) Run(e *env) error {
+	if err := startOutput(&c.Format, append([]string{c.Measured}, c.Files...), []string{c.Output, c.Plot}, "table", "json"); err != nil {
+		return err
+	}
 	switch {
 	case len(c.Files) == 1 && c.Measured == "":
 		return errors.New("compare needs a second circuit file or --measured data.csv")

@@ -16,7 +16,7 @@ type driveCmd struct {
 	probeArgs
 	Signal string `required:"" help:"Input signal, e.g. \"0.8*sin(2*pi*400*t)\" or \"1.5*cos(2*pi*50*t + 30deg) + 2\"." placeholder:"EXPRESSION" expression:""`
 	All    bool   `help:"Also print the phasor of every node (single-frequency drive only)."`
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
@@ -35,9 +35,9 @@ warning (the undamped mode never decays).
 
 Examples:
 
-    nodal drive filter.nodal --out out --signal "0.8*sin(2*pi*400*t)"
-    nodal drive filter.nodal --out out --signal "1.5*cos(2*pi*50*t + 30deg) + 0.2*sin(2*pi*150*t) + 2"
-    nodal drive filter.nodal --out out --signal "sin(2*pi*1k*t)" --all`
+    nodal drive testdata/examples/logger_antialias.nodal --out out --signal "0.8*sin(2*pi*400*t)"
+    nodal drive testdata/examples/logger_antialias.nodal --out out --signal "1.5*cos(2*pi*50*t + 30deg) + 0.2*sin(2*pi*150*t) + 2"
+    nodal drive testdata/examples/logger_antialias.nodal --out out --signal "sin(2*pi*1k*t)" --all`
 }
 
 // nodePhasor is one node's phasor in --all.
@@ -49,7 +49,7 @@ type nodePhasor struct {
 
 // Run computes the steady state.
 func (c *driveCmd) Run(e *env) error {
-	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output}, "table", "json"); err != nil {
 		return err
 	}
 	l, err := c.load(e)

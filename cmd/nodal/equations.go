@@ -12,7 +12,7 @@ import (
 type equationsCmd struct {
 	circuitArgs
 	In     string `help:"Input source whose unit amplitude makes b; may be left out when the circuit has one source." placeholder:"SOURCE"`
-	Format string `help:"Output format: table, json (dense G and C) or sparse-json (G and C as rows, cols, vals of their non-zeros; any size)." enum:"table,json,sparse-json" default:"table"`
+	Format string `help:"Output format: table, json (dense G and C) or sparse-json (G and C as rows, cols, vals of their non-zeros; any size) (default: from the -o extension, else table)." placeholder:"table|json|sparse-json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
@@ -29,7 +29,7 @@ Example:
 
 // Run prints the equations.
 func (c *equationsCmd) Run(e *env) error {
-	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output}, "table", "json", "sparse-json"); err != nil {
 		return err
 	}
 	l, err := c.load(e)

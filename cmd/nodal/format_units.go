@@ -52,14 +52,15 @@ func relabelForUnit(rows [][2]string, unit string) [][2]string {
 }
 
 // withReference gives every dB level of a figure its reference; a
-// difference ("within 0.01 dB of") keeps plain dB.
+// difference ("within 0.01 dB of", "6.3 dB above the passband gain")
+// keeps plain dB.
 func withReference(value, ref string) string {
 	var b strings.Builder
 	last := 0
 	for _, m := range dbFigure.FindAllStringSubmatchIndex(value, -1) {
 		digit := m[2]
 		start := strings.LastIndexByte(value[:digit], ' ') + 1
-		if strings.HasSuffix(value[:start], "within ") {
+		if strings.HasSuffix(value[:start], "within ") || strings.HasPrefix(value[m[3]+len(" dB"):], " above") {
 			continue
 		}
 		b.WriteString(value[last:m[3]])

@@ -39,8 +39,10 @@ func TestDBReference(t *testing.T) {
 			t.Errorf("%s: %q, want %q", unit, got, want)
 		}
 	}
-	rows := relabelForUnit([][2]string{{"peak gain", "no peaking (within 0.01 dB of the reference)"}, {"DC gain", "10000 (80.000 dB)"}}, "Ω")
-	if rows[0] != [2]string{"peak value", "no peaking (within 0.01 dB of the reference)"} || rows[1] != [2]string{"DC value", "10000 Ω (80.000 dBΩ)"} {
+	rows := relabelForUnit([][2]string{{"peak gain", "no peaking (within 0.01 dB of the reference)"}, {"DC gain", "10000 (80.000 dB)"},
+		{"peaking", "6.301 dB above the passband gain"}}, "Ω")
+	if rows[0] != [2]string{"peak value", "no peaking (within 0.01 dB of the reference)"} || rows[1] != [2]string{"DC value", "10000 Ω (80.000 dBΩ)"} ||
+		rows[2] != [2]string{"peaking", "6.301 dB above the passband gain"} {
 		t.Errorf("%q", rows)
 	}
 }

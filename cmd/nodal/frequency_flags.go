@@ -42,7 +42,8 @@ func pointCount(n int) string {
 }
 
 // freqArgs choose the frequencies of a sweep. With none given the range
-// covers the circuit's poles and zeros by two decades either side.
+// covers, by a decade either side, the poles and zeros that shape the
+// response within 100 dB of its largest gain (autoRange).
 type freqArgs struct {
 	From      string `help:"Start frequency, e.g. 10Hz or 1k." placeholder:"F"`
 	To        string `help:"Stop frequency, e.g. 1MHz." placeholder:"F"`

@@ -20,7 +20,7 @@ type impedanceCmd struct {
 	Node string `help:"The impedance between this node and gnd (or --ref), every independent source zeroed." placeholder:"NODE"`
 	Ref  string `help:"With --node: the other node of the impedance (default gnd)." placeholder:"NODE"`
 	freqArgs
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot   string `help:"Also draw |Z| (Ω, log axis) and its phase to this file (.svg or .png)." placeholder:"FILE" type:"path"`
 	symbolicArgs
@@ -40,12 +40,12 @@ through 0° (a minimum of |Z| nearby), parallel where it falls (a maximum).
 
 Examples:
 
-    nodal impedance filter.nodal --port Vs             # what the source drives
-    nodal impedance filter.nodal --node out            # output impedance
-    nodal impedance filter.nodal --node a --ref b --from 10Hz --to 1MHz
-    nodal impedance filter.nodal --node out --at 50Hz,1k --format json
-    nodal impedance filter.nodal --node out --plot z.svg
-    nodal impedance filter.nodal --port Vs --symbolic`
+    nodal impedance testdata/examples/logger_antialias.nodal --port Vin   # what the source drives
+    nodal impedance testdata/examples/logger_antialias.nodal --node out   # output impedance
+    nodal impedance testdata/examples/logger_antialias.nodal --node a --ref b --from 10Hz --to 1MHz
+    nodal impedance testdata/examples/logger_antialias.nodal --node out --at 50Hz,1k --format json
+    nodal impedance testdata/examples/logger_antialias.nodal --node out --plot z.svg
+    nodal impedance testdata/examples/logger_antialias.nodal --port Vin --symbolic`
 }
 
 // request is the impedance asked for.
@@ -82,6 +82,9 @@ type impedanceJSON struct {
 
 // Run prints the impedance report.
 func (c *impedanceCmd) Run(e *env) error {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
+		return err
+	}
 	if len(c.Vary) > 0 {
 		out, vary := c.Output, c.Vary
 		c.Output, c.Vary = "", nil

@@ -265,18 +265,27 @@ type tfJSON struct {
 	Num         []float64     `json:"num"`
 	// NumScaled, DenScaled: the coefficients in ŝ = s/ScaleRadS, given
 	// only when those in s do not fit a float64 (Num, Den, Gain null).
-	NumScaled []float64     `json:"num_scaled,omitempty"`
-	DenScaled []float64     `json:"den_scaled,omitempty"`
-	ScaleRadS *float64      `json:"scale_rad_s,omitempty"`
-	ODE       string        `json:"ode"`
-	Pairs     []pairJSON    `json:"pairs"`
-	PeakDB    *float64      `json:"peak_db,omitempty"`
-	PeakHz    *float64      `json:"peak_hz,omitempty"`
-	Poles     []complexJSON `json:"poles"`
-	Unit      string        `json:"unit"`
-	What      string        `json:"what"`
-	ZeroPairs []pairJSON    `json:"zero_pairs"`
-	Zeros     []complexJSON `json:"zeros"`
+	NumScaled []float64  `json:"num_scaled,omitempty"`
+	DenScaled []float64  `json:"den_scaled,omitempty"`
+	ScaleRadS *float64   `json:"scale_rad_s,omitempty"`
+	ODE       string     `json:"ode"`
+	Pairs     []pairJSON `json:"pairs"`
+	PeakDB    *float64   `json:"peak_db,omitempty"`
+	PeakHz    *float64   `json:"peak_hz,omitempty"`
+	// PeakingDB is the peak above the passband gain of a low- or
+	// high-pass, dB; null with peaking_reason for any other response.
+	PeakingDB     *float64 `json:"peaking_db"`
+	PeakingReason string   `json:"peaking_reason,omitempty"`
+	// F0Hz and Q are of the dominant pole pair (DominantPair); null with
+	// pair_reason when there is none ("first-order: no pole pair").
+	F0Hz       *float64      `json:"f0_hz"`
+	Q          *float64      `json:"q"`
+	PairReason string        `json:"pair_reason,omitempty"`
+	Poles      []complexJSON `json:"poles"`
+	Unit       string        `json:"unit"`
+	What       string        `json:"what"`
+	ZeroPairs  []pairJSON    `json:"zero_pairs"`
+	Zeros      []complexJSON `json:"zeros"`
 	stabilityJSON
 }
 
@@ -348,6 +357,19 @@ func tfDoc(rep *tfReport) tfJSON {
 	}
 	if rep.peak != nil {
 		doc.PeakDB, doc.PeakHz = finiteOrNil(rep.peak.GainDB), finiteOrNil(rep.peak.FreqHz)
+	}
+	if rep.peakingErr == nil {
+		doc.PeakingDB = finiteOrNil(rep.peaking)
+	} else {
+		doc.PeakingReason = rep.peakingErr.Error()
+	}
+	if rep.pairErr == nil {
+		doc.F0Hz, doc.Q = finiteOrNil(rep.pair.F0Hz), finiteOrNil(rep.pair.Q)
+		if math.IsInf(rep.pair.Q, 1) {
+			doc.PairReason = qOnAxis
+		}
+	} else {
+		doc.PairReason = rep.pairErr.Error()
 	}
 	return doc
 }

@@ -20,6 +20,7 @@ var schemaCases = []struct {
 	args []string
 }{
 	{"parts", []string{"parts", rcFile, "--format", "json"}},
+	{"parts_params", []string{"parts", "../../testdata/examples/logger_antialias.nodal", "--format", "json"}},
 	{"equations", []string{"equations", rcFile, "--format", "json"}},
 	{"equations_sparse", []string{"equations", rcFile, "--format", "sparse-json"}},
 	{"sweep", []string{"sweep", rcFile, "--out", "out", "--at", "1k,2k", "--format", "json"}},

@@ -20,7 +20,7 @@ type loopCmd struct {
 	From      string `help:"Start frequency of the table, e.g. 10Hz (default: the poles and zeros of T, two decades either side)." placeholder:"F"`
 	To        string `help:"Stop frequency of the table, e.g. 100MHz." placeholder:"F"`
 	PerDecade int    `help:"Table points per decade." default:"10"`
-	Format    string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format    string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output    string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot      string `help:"Also draw the Bode plot of T with the crossovers and both margins marked (.svg or .png)." placeholder:"FILE" type:"path"`
 }
@@ -59,8 +59,8 @@ gbw=10 MHz):
     (two poles and a zero: the phase stays above −180°); closed loop
     stable. With --set Cf=0.1p the margin falls to 7.7°.
 
-    nodal loop photodiode_frontend.nodal --at U1 --format json
-    nodal loop photodiode_frontend.nodal --at U1 --plot loop.svg`
+    nodal loop testdata/examples/photodiode_frontend.nodal --at U1 --format json
+    nodal loop testdata/examples/photodiode_frontend.nodal --at U1 --plot loop.svg`
 }
 
 // loopResult is a loop gain with its figures (loop.LoopGain).
@@ -73,6 +73,9 @@ func loopGain(c *netlist.Circuit, part string) (*loopResult, error) {
 
 // Run prints the loop gain report.
 func (c *loopCmd) Run(e *env) error {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
+		return err
+	}
 	if len(c.Vary) > 0 {
 		out, vary := c.Output, c.Vary
 		c.Output, c.Vary = "", nil

@@ -69,6 +69,9 @@ type env struct {
 	stderr io.Writer
 	// stderrIsTerminal enables progress bars.
 	stderrIsTerminal bool
+	// args are the command-line arguments after the program name, as
+	// given (the report's header shows them).
+	args []string
 }
 
 // verdictError marks a failed verdict: exit status 1, not 2.
@@ -147,6 +150,7 @@ func run(e *env, args []string) (code int) {
 			code = exitInput
 		}
 	}()
+	e.args = args
 	var c cli
 	parser, err := kong.New(&c,
 		kong.Name("nodal"),
@@ -159,6 +163,19 @@ func run(e *env, args []string) (code int) {
 	)
 	if err != nil {
 		fmt.Fprintf(e.stderr, "nodal: %v\n", err)
+		return exitInput
+	}
+	if len(args) == 0 {
+		// Bare nodal: the usage, on standard error as for any usage
+		// error, and exit status 2.
+		parser.Stdout = e.stderr
+		kctx, err := kong.Trace(parser, nil)
+		if err == nil {
+			err = kctx.PrintUsage(false)
+		}
+		if err != nil {
+			fmt.Fprintf(e.stderr, "nodal: %v\n", err)
+		}
 		return exitInput
 	}
 	if err := unknownCommand(parser, args); err != nil {

@@ -39,11 +39,11 @@ func TestVersionAndHelp(t *testing.T) {
 	if r.code != 0 || !strings.Contains(r.stdout, "nodal "+version) {
 		t.Errorf("--version: code %d, stdout %q", r.code, r.stdout)
 	}
-	for _, cmd := range []string{"parts", "equations", "sweep", "transfer", "impedance", "loop", "check", "drive", "time", "tolerance", "verify", "snap", "noise", "report"} {
-		r := runNodal(t, "", cmd, "--help")
-		if r.code != 0 || !strings.Contains(r.stdout, "Example") {
-			t.Errorf("%s --help: code %d, no worked example in %q", cmd, r.code, r.stdout)
-		}
+	// Every command's --help is run, with its examples, by
+	// TestHelpExamplesRun. Bare nodal prints the usage and exits 2.
+	r = runNodal(t, "")
+	if r.code != exitInput || !strings.Contains(r.stdout+r.stderr, "Usage: nodal <command>") || !strings.Contains(r.stdout+r.stderr, "transfer") {
+		t.Errorf("bare nodal: code %d, stdout %q, stderr %q; want the usage and exit 2", r.code, r.stdout, r.stderr)
 	}
 }
 
@@ -63,7 +63,7 @@ func TestUsageErrorsExitTwo(t *testing.T) {
 		{"old zout", []string{"transfer", rcFile, "--zout", "out"}, "unknown flag --zout"},
 		{"old vsource", []string{"parts", "-"}, `unknown element kind or block "vsource" (the nearest is "voltage source"`},
 		{"missing file", []string{"parts", "testdata/no-such.nodal"}, "no-such.nodal"},
-		{"unknown node lists nodes", []string{"sweep", rcFile, "--out", "nowhere"}, "out"},
+		{"unknown node lists nodes", []string{"sweep", rcFile, "--out", "nowhere"}, `(nodes: "gnd", "in", "out")`},
 		{"unknown source lists sources", []string{"sweep", rcFile, "--out", "out", "--in", "V9"}, "Vs"},
 		{"bad frequency", []string{"sweep", rcFile, "--out", "out", "--from", "ten"}, "--from"},
 		{"bad signal", []string{"drive", rcFile, "--out", "out", "--signal", "sin(2*pi*t +)"}, "--signal"},
@@ -307,3 +307,37 @@ func TestReportDemoWritesDefaultFile(t *testing.T) {
 }
 
 const reportSafety = "does not check voltage, power or isolation ratings"
+
+func TestPartsInheritedTolerances(t *testing.T) {
+	// logger_antialias: C1 = 2*Q*C0 and C2 = C0/(2*Q) follow the
+	// toleranced let C0 = 10nF ±5%; R = 1/(2*pi*fc*C0) is a design let
+	// (nominal in every draw), so R1 and R2 keep their own ±1 % only.
+	const file = "../../testdata/examples/logger_antialias.nodal"
+	r := runNodal(t, "", "parts", file)
+	if r.code != 0 {
+		t.Fatalf("exit %d: %s", r.code, r.stderr)
+	}
+	if strings.Count(r.stdout, "│ ±5 % via C0 │") != 2 || strings.Count(r.stdout, "via") != 2 {
+		t.Errorf("want C1 and C2 alone ±5 %% via C0:\n%s", r.stdout)
+	}
+	r = runNodal(t, "", "parts", file, "--format", "json")
+	var doc partsDoc
+	if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	via := map[string]string{}
+	for _, p := range doc.Parts {
+		for _, h := range p.Inherited {
+			via[p.Name] += h.Param
+		}
+	}
+	if len(via) != 2 || via["C1"] != "C0" || via["C2"] != "C0" {
+		t.Errorf("inherited %v; want C1 and C2 via C0", via)
+	}
+	if len(doc.Params) != 1 || doc.Params[0].Name != "C0" || doc.Params[0].Tol != 0.05 || doc.Params[0].Nominal != 10e-9 {
+		t.Errorf("toleranced params %+v", doc.Params)
+	}
+	if len(doc.Requirements) != 4 || doc.Requirements[2].Metric != "gain@20kHz" || doc.Requirements[2].Unit != "dB" {
+		t.Errorf("requirements %+v", doc.Requirements)
+	}
+}

@@ -30,7 +30,7 @@ type noiseCmd struct {
 	Temp      string `help:"Temperature of every resistor: kelvin (300K, 300) or degrees Celsius (85degC)." default:"300K" placeholder:"T"`
 	SignalRms string `help:"RMS of the wanted signal at the output (V, or A for a current output): adds the SNR over the band." placeholder:"V"`
 	Traces    int    `help:"Largest contributors drawn as their own traces with --plot." default:"4"`
-	Format    string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format    string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output    string `short:"o" help:"Write the table or JSON to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot      string `help:"Also draw the noise densities on log-log axes to this file (.svg or .png)." placeholder:"FILE" type:"path"`
 }
@@ -141,6 +141,9 @@ func noiseConfig(c *netlist.Circuit, in string, out mna.Observation, tempK float
 
 // Run computes and prints the noise.
 func (c *noiseCmd) Run(e *env) error {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
+		return err
+	}
 	if len(c.Vary) > 0 {
 		out, vary := c.Output, c.Vary
 		c.Output, c.Vary = "", nil

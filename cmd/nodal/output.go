@@ -10,6 +10,7 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"strings"
 	"sync"
 	"syscall"
 )
@@ -435,4 +436,70 @@ func (iw *indentWriter) Write(p []byte) (int, error) {
 		}
 	}
 	return len(p), nil
+}
+
+// formatExtensions maps an output file's extension to the format it
+// implies.
+var formatExtensions = map[string]string{
+	".json": "json", ".csv": "csv", ".html": "html", ".htm": "html", ".txt": "text",
+}
+
+// chooseFormat returns the output format of a command that writes one of
+// formats (the first is the default): the --format value given, checked
+// against formats; else the one implied by the extension of the -o file
+// (x.json, x.csv, x.html); else the default. An extension that implies a
+// format the command does not write is refused rather than ignored, so a
+// file named x.csv never holds a table. A text report is "text"; for the
+// commands whose text is a table, ".txt" means "table".
+func chooseFormat(given, path string, formats ...string) (string, error) {
+	has := func(f string) bool {
+		for _, g := range formats {
+			if g == f {
+				return true
+			}
+		}
+		return false
+	}
+	if given != "" {
+		if !has(given) {
+			return "", fmt.Errorf("--format %s: give %s", given, orList(formats))
+		}
+		return given, nil
+	}
+	if isStdout(path) {
+		return formats[0], nil
+	}
+	ext := strings.ToLower(filepath.Ext(path))
+	f, ok := formatExtensions[ext]
+	if f == "text" && !has("text") {
+		f = "table"
+	}
+	switch {
+	case !ok:
+		return formats[0], nil
+	case has(f):
+		return f, nil
+	}
+	return "", fmt.Errorf("-o %s: this command writes %s, not %s; give --format or another file name", path, orList(formats), f)
+}
+
+// orList writes "a", "a or b", "a, b or c".
+func orList(items []string) string {
+	if len(items) <= 1 {
+		return strings.Join(items, "")
+	}
+	return strings.Join(items[:len(items)-1], ", ") + " or " + items[len(items)-1]
+}
+
+// startOutput is the first step of every command that prints: it settles
+// *format (chooseFormat, from the flag or the extension of outputs[0],
+// the -o file) and checks every output path against the inputs
+// (checkOutputs), before any analysis runs.
+func startOutput(format *string, inputs, outputs []string, formats ...string) error {
+	f, err := chooseFormat(*format, outputs[0], formats...)
+	if err != nil {
+		return err
+	}
+	*format = f
+	return checkOutputs(inputs, outputs...)
 }

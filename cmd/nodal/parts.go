@@ -13,7 +13,7 @@ import (
 // partsCmd prints the elaborated circuit: what nodal understood.
 type partsCmd struct {
 	circuitArgs
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
@@ -25,7 +25,7 @@ node names, values in SI with units, tolerances, and the node list.
 Example:
 
     nodal parts testdata/examples/logger_antialias.nodal
-    nodal parts filter.nodal --format json`
+    nodal parts testdata/examples/bridge_inamp.nodal --format json`
 }
 
 // partJSON is one part in the JSON output.
@@ -38,14 +38,53 @@ type partJSON struct {
 	Tol   float64  `json:"tol"`
 	Dist  string   `json:"dist"`
 	Fixed bool     `json:"fixed,omitempty"`
+	// Inherited lists the toleranced parameters the part's value follows
+	// (one shared draw each), with their tolerances.
+	Inherited []inheritedJSON `json:"inherited_tol,omitempty"`
 	// Extra carries kind-specific settings (the sensed nodes or part of a
 	// controlled source, the coupled inductors, the opamp model).
 	Extra map[string]any `json:"extra,omitempty"`
 }
 
+// inheritedJSON is a toleranced parameter a part follows.
+type inheritedJSON struct {
+	Param string  `json:"param"`
+	Tol   float64 `json:"tol"`
+	Dist  string  `json:"dist"`
+}
+
+// paramJSON is a toleranced parameter of the file.
+type paramJSON struct {
+	Name    string  `json:"name"`
+	Nominal float64 `json:"nominal"`
+	Unit    string  `json:"unit,omitempty"`
+	Tol     float64 `json:"tol"`
+	Dist    string  `json:"dist"`
+	Line    int     `json:"line"`
+}
+
+// requirementJSON is a require statement of the file.
+type requirementJSON struct {
+	Text   string `json:"text"`
+	Metric string `json:"metric"`
+	Unit   string `json:"unit"`
+	Line   int    `json:"line"`
+}
+
+// partsDoc is the JSON document of `nodal parts`: the title, every part,
+// the nodes, the toleranced parameters and the requirements (empty lists,
+// never null).
+type partsDoc struct {
+	Title        string            `json:"title"`
+	Parts        []partJSON        `json:"parts"`
+	Nodes        []string          `json:"nodes"`
+	Params       []paramJSON       `json:"toleranced_params"`
+	Requirements []requirementJSON `json:"requirements"`
+}
+
 // Run prints the parts.
 func (c *partsCmd) Run(e *env) error {
-	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output}, "table", "json"); err != nil {
 		return err
 	}
 	l, err := c.load(e)
@@ -61,21 +100,31 @@ func (c *partsCmd) Run(e *env) error {
 }
 
 // partsJSON is the JSON document of `nodal parts`.
-func partsJSON(c *netlist.Circuit) any {
-	parts := make([]partJSON, 0, len(c.Parts))
-	for _, p := range c.Parts {
+func partsJSON(c *netlist.Circuit) partsDoc {
+	doc := partsDoc{Title: c.Title, Parts: make([]partJSON, 0, len(c.Parts)), Nodes: c.Nodes,
+		Params: []paramJSON{}, Requirements: []requirementJSON{}}
+	via := inheritedTols(c)
+	for i, p := range c.Parts {
 		pj := partJSON{Name: p.Name, Kind: p.Kind.String(), Nodes: append([]string{}, p.Nodes...),
 			Value: p.Value, Unit: p.Kind.Unit(), Tol: p.Tol.Rel, Dist: p.Tol.Dist.String(), Fixed: p.Fixed}
 		if x := partExtra(p); len(x) > 0 {
 			pj.Extra = x
 		}
-		parts = append(parts, pj)
+		for _, v := range via[i] {
+			pj.Inherited = append(pj.Inherited, inheritedJSON{Param: v.Name, Tol: v.Tol.Rel, Dist: v.Tol.Dist.String()})
+		}
+		doc.Parts = append(doc.Parts, pj)
 	}
-	return struct {
-		Title string     `json:"title"`
-		Parts []partJSON `json:"parts"`
-		Nodes []string   `json:"nodes"`
-	}{c.Title, parts, c.Nodes}
+	for _, v := range c.Variations {
+		if v.IsParam {
+			doc.Params = append(doc.Params, paramJSON{Name: v.Name, Nominal: v.Nominal, Unit: paramUnit(c, v.Name), Tol: v.Tol.Rel, Dist: v.Tol.Dist.String(), Line: v.Pos.Line})
+		}
+	}
+	for _, r := range c.Requirements {
+		unit, _ := netlist.MetricUnit(r.Metric)
+		doc.Requirements = append(doc.Requirements, requirementJSON{Text: r.Text, Metric: r.Metric, Unit: unit, Line: r.Pos.Line})
+	}
+	return doc
 }
 
 // partExtra returns the kind-specific settings of p.
@@ -186,6 +235,53 @@ func partNodesText(p netlist.Part) string {
 	return strings.Join(p.Nodes, ", ")
 }
 
+// inheritedTols returns, for each part of c (by index), the toleranced
+// parameters (`let NAME = VALUE ±TOL`) whose draw changes its value:
+// C1 = 2*Q*C0 follows C0. It is found by varying each parameter alone to
+// its upper limit (Circuit.Vary), so a design let computed from a
+// toleranced one (which keeps its nominal value) is rightly not followed.
+func inheritedTols(c *netlist.Circuit) [][]netlist.Variation {
+	out := make([][]netlist.Variation, len(c.Parts))
+	for i, v := range c.Variations {
+		if !v.IsParam {
+			continue
+		}
+		f := make([]float64, len(c.Variations))
+		for k := range f {
+			f[k] = 1
+		}
+		f[i] = 1 + v.Tol.Rel
+		d, err := c.Vary(f)
+		if err != nil {
+			continue
+		}
+		for k, p := range c.Parts {
+			q := d.Parts[k]
+			if q.Value != p.Value || q.A0 != p.A0 || q.GBWHz != p.GBWHz || q.Rout != p.Rout {
+				out[k] = append(out[k], v)
+			}
+		}
+	}
+	return out
+}
+
+// partTolText is the tolerance column of a part: its own tolerance and
+// those it follows from toleranced parameters ("±1 %, ±5 % via C0"), "-"
+// for none.
+func partTolText(p netlist.Part, via []netlist.Variation) string {
+	var s []string
+	if p.Tol.Rel != 0 {
+		s = append(s, tolText(p.Tol))
+	}
+	for _, v := range via {
+		s = append(s, tolText(v.Tol)+" via "+v.Name)
+	}
+	if len(s) == 0 {
+		return "-"
+	}
+	return strings.Join(s, ", ")
+}
+
 // tolText formats a tolerance for tables.
 func tolText(t netlist.Tolerance) string {
 	if t.Rel == 0 {
@@ -204,12 +300,13 @@ func partsTable(w io.Writer, c *netlist.Circuit) error {
 		fmt.Fprintf(w, "%s\n\n", syntax.EscapeText(c.Title)) // file text: no terminal controls
 	}
 	t := newTextTable(w, "name", "kind", "nodes", "value", "tolerance")
-	for _, p := range c.Parts {
+	via := inheritedTols(c)
+	for i, p := range c.Parts {
 		name := p.Name
 		if p.Fixed {
 			name += " (fixed)"
 		}
-		if err := t.row(name, p.Kind.String(), partNodesText(p), partValueText(p), tolText(p.Tol)); err != nil {
+		if err := t.row(name, p.Kind.String(), partNodesText(p), partValueText(p), partTolText(p, via[i])); err != nil {
 			return err
 		}
 	}

@@ -9,7 +9,9 @@ import (
 	"math"
 	"os"
 	"slices"
+	"strconv"
 	"strings"
+	"time"
 
 	"nodal/analysis/response"
 	"nodal/analysis/stability"
@@ -28,7 +30,7 @@ type reportCmd struct {
 	Out    string   `help:"Output: a response of the file, a node or i(PART) (default: every response of the file, a section each; then the node named out)." placeholder:"NAME"`
 	Ref    string   `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 	Output string   `short:"o" help:"Report file (default nodal-report.html; with --format text, standard output)." placeholder:"FILE" type:"path"`
-	Format string   `help:"html: one self-contained HTML file; text: the same sections as terminal tables." enum:"html,text" default:"html"`
+	Format string   `help:"html: one self-contained HTML file; text: the same sections as terminal tables. (default: from the -o extension, .txt for text, else html)" placeholder:"html|text"`
 	Runs   int      `help:"Monte Carlo runs when the file has tolerances." default:"2000"`
 	Seed   uint64   `help:"Seed of the Monte Carlo draws." default:"1"`
 	Force  bool     `help:"With no -o, overwrite nodal-report.html even when nodal did not write it."`
@@ -46,13 +48,13 @@ built-in demo, a vibration-logger input stage.
 Examples:
 
     nodal report                                   # demo → nodal-report.html
-    nodal report filter.nodal --out out -o filter.html
-    nodal report filter.nodal --format text`
+    nodal report testdata/examples/logger_antialias.nodal --out out -o logger.html
+    nodal report testdata/examples/logger_antialias.nodal --format text`
 }
 
 // Run builds and writes the report.
 func (c *reportCmd) Run(e *env) error {
-	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output}, "html", "text"); err != nil {
 		return err
 	}
 	var l *loaded
@@ -85,6 +87,8 @@ func (c *reportCmd) Run(e *env) error {
 		return err
 	}
 	d.Source.BuiltIn = builtIn
+	d.Generated = reportDate()
+	d.CommandLine = commandLine(e.args)
 	if c.Format == "text" {
 		return writeTo(e, path, []string{c.File}, func(w io.Writer) error { return report.RenderText(w, d) })
 	}
@@ -93,6 +97,31 @@ func (c *reportCmd) Run(e *env) error {
 	}
 	fmt.Fprintf(e.stderr, "nodal: wrote %s\n", path)
 	return nil
+}
+
+// reportDate is when the report is made, in UTC to the minute; the
+// SOURCE_DATE_EPOCH convention (seconds since 1970) fixes it for
+// reproducible output.
+func reportDate() string {
+	t := time.Now()
+	if sec, err := strconv.ParseInt(os.Getenv("SOURCE_DATE_EPOCH"), 10, 64); err == nil {
+		t = time.Unix(sec, 0)
+	}
+	return t.UTC().Format("2006-01-02 15:04 UTC")
+}
+
+// commandLine writes the command as a shell would read it back: "nodal"
+// and the arguments, each quoted when it holds a space or a character the
+// shell treats specially.
+func commandLine(args []string) string {
+	words := []string{"nodal"}
+	for _, a := range args {
+		if a == "" || strings.ContainsAny(a, " \t\n'\"\\$`*?[]()<>|&;#~!{}") {
+			a = "'" + strings.ReplaceAll(a, "'", `'\''`) + "'"
+		}
+		words = append(words, a)
+	}
+	return strings.Join(words, " ")
 }
 
 // defaultReportName is the report file written when no -o is given.
@@ -145,12 +174,14 @@ func foreignFile(path string) bool {
 func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report.Data, error) {
 	c := l.circuit
 	d := &report.Data{
-		Title:   c.Title,
-		Source:  report.Source{Name: l.name, SHA256: report.Checksum(l.src)},
-		Version: version,
+		Title:      c.Title,
+		Source:     report.Source{Name: l.name, SHA256: report.Checksum(l.src)},
+		Version:    version,
+		SourceText: string(l.src),
 	}
-	for _, p := range c.Parts {
-		d.Parts = append(d.Parts, report.Part{Name: p.Name, Kind: p.Kind.String(), Nodes: reportNodes(p), Value: partValueText(p), Tolerance: reportTol(p.Tol)})
+	via := inheritedTols(c)
+	for i, p := range c.Parts {
+		d.Parts = append(d.Parts, report.Part{Name: p.Name, Kind: p.Kind.String(), Nodes: reportNodes(p), Value: partValueText(p), Tolerance: reportTol(p, via[i])})
 	}
 	names := c.ResponseNames()
 	var others []string
@@ -367,12 +398,13 @@ func reportNodes(p netlist.Part) []string {
 	return append([]string(nil), p.Nodes...)
 }
 
-// reportTol formats a tolerance for the report ("" for none).
-func reportTol(t netlist.Tolerance) string {
-	if t.Rel == 0 {
+// reportTol is the tolerance column of a part in the report: its own and
+// those it follows ("±5 % via C"), "" for none.
+func reportTol(p netlist.Part, via []netlist.Variation) string {
+	if p.Tol.Rel == 0 && len(via) == 0 {
 		return ""
 	}
-	return tolText(t)
+	return partTolText(p, via)
 }
 
 // responseRows is the report's frequency-response table: one point per

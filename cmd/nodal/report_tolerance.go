@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"math"
 
 	"nodal/analysis/require"
 	"nodal/analysis/response"
@@ -81,7 +82,7 @@ func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs i
 		var hists []*plot.Figure
 		for _, m := range res.Metrics {
 			mc.Stats = append(mc.Stats, report.Stat{Name: m.Name, Unit: m.Unit, Nominal: m.Nominal, Mean: m.Mean, StdDev: m.Std, Min: m.Min, Max: m.Max})
-			h, err := plot.Histogram(metricLabel(m.Name, m.Unit), m.Samples, 0, m.Nominal)
+			h, err := metricHistogram(c, m.Name, m.Unit, m.Samples, m.Nominal)
 			if err != nil {
 				return err
 			}
@@ -92,7 +93,7 @@ func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs i
 			if err != nil {
 				return err
 			}
-			mc.Histograms = report.Plot{Figure: fig, Caption: fmt.Sprintf("metric histograms over %d runs (nominal marked)", res.Finished)}
+			mc.Histograms = report.Plot{Figure: fig, Caption: fmt.Sprintf("metric histograms over %d runs (nominal and requirement limits marked)", res.Finished)}
 		}
 	}
 	lo, hi := rangeOf(l, r.tf)
@@ -143,7 +144,8 @@ func addVerdicts(e *env, c *netlist.Circuit, in mna.Input, out mna.Output, d *re
 		if m, err := transfer.ParseMetric(v.Requirement.Metric); err == nil {
 			unit = m.Unit()
 		}
-		rv := report.Verdict{Requirement: v.Requirement.Text, Value: v.Nominal, Unit: unit, Pass: v.NominalPass}
+		rv := report.Verdict{Requirement: v.Requirement.Text, Value: v.Nominal, Unit: unit, Pass: v.NominalPass,
+			Worst: res.Corners > 0 && !math.IsNaN(v.WorstMin), WorstMin: v.WorstMin, WorstMax: v.WorstMax, WorstPass: v.WorstPass}
 		if runs > 0 {
 			y := v.Yield.Fraction
 			rv.Yield = &y
@@ -151,7 +153,7 @@ func addVerdicts(e *env, c *netlist.Circuit, in mna.Input, out mna.Output, d *re
 		d.Verdicts = append(d.Verdicts, rv)
 		if v.NominalPass && !v.WorstPass {
 			d.Notes = append(d.Notes, fmt.Sprintf("%s passes at nominal but not in the worst case (%s .. %s).",
-				v.Requirement.Text, num(v.WorstMin), num(v.WorstMax)))
+				v.Requirement.Text, metricText(v.WorstMin, unit), metricText(v.WorstMax, unit)))
 		}
 	}
 	return nil

@@ -19,7 +19,7 @@ type snapCmd struct {
 	requireProbe
 	Series string `required:"" help:"E-series for every resistor and capacitor (E6, E12, E24, E48, E96, E192), or per kind: R=E96,C=E12 (kinds R, C, L, or resistor, capacitor, inductor)." placeholder:"SERIES"`
 	Output string `short:"o" help:"Write the snapped circuit file here (never over the input); without it only the report is printed." placeholder:"NEW_FILE" type:"path"`
-	Format string `help:"Output format of the report: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format of the report: table or json. (default table)" placeholder:"table|json"`
 }
 
 // Help is the extended help with a worked example.
@@ -43,8 +43,8 @@ rounding (the file is still written), 2 for bad input.
 
 Examples:
 
-    nodal snap filter.nodal --series E24
-    nodal snap filter.nodal --series R=E96,C=E12 -o filter-e96.nodal`
+    nodal snap testdata/examples/logger_antialias.nodal --series E24
+    nodal snap testdata/examples/logger_antialias.nodal --series R=E96,C=E12 -o logger-e96.nodal`
 }
 
 // seriesKinds are the part kinds --series can name, each by its letter
@@ -134,6 +134,11 @@ type snapRequireJSON struct {
 
 // Run rounds, reports and writes the new file.
 func (c *snapCmd) Run(e *env) error {
+	format, err := chooseFormat(c.Format, "", "table", "json")
+	if err != nil {
+		return err
+	}
+	c.Format = format
 	if err := checkOutputs([]string{c.File}, c.Output); err != nil {
 		return err
 	}

@@ -70,7 +70,13 @@ func TestSnapReportOnly(t *testing.T) {
 	// 560 Ω → 562 (midpoint of 549 and 562 is 555.5); E6: 9.6 nF → 10 nF
 	// (IEC 60063 series values).
 	want := map[string]float64{"Rf": 10e3, "Rs": 562, "Cf": 10e-9}
+	if len(rep.Parts) != len(want) {
+		t.Fatalf("snapped parts %+v; want %d (Rf, Rs, Cf)", rep.Parts, len(want))
+	}
 	for _, p := range rep.Parts {
+		if _, ok := want[p.Part]; !ok {
+			t.Errorf("unexpected part %s snapped", p.Part)
+		}
 		if math.Abs(p.New-want[p.Part]) > 1e-12*want[p.Part] {
 			t.Errorf("%s → %v, want %v", p.Part, p.New, want[p.Part])
 		}

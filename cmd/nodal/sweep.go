@@ -24,7 +24,7 @@ type sweepCmd struct {
 	Out []string `help:"Output: a response of the file, a sum of them (woofer+tweeter), a node, or i(PART); repeat for several traces (default: every response of the file, then the node named out)." placeholder:"NAME"`
 	Ref string   `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
 	freqArgs
-	Format  string `help:"Output format: table, csv or json." enum:"table,csv,json" default:"table"`
+	Format  string `help:"Output format: table, csv or json (default: from the -o extension, else table)." placeholder:"table|csv|json"`
 	Output  string `short:"o" help:"Write the table/CSV/JSON to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot    string `help:"Also draw a Bode plot to this file (.svg or .png)." placeholder:"FILE" type:"path"`
 	Workers int    `help:"Goroutines for the sweep (default: all cores)." default:"0"`
@@ -39,10 +39,10 @@ gnd (or --ref), or the current through a part written i(PART).
 
 Examples:
 
-    nodal sweep filter.nodal --out out --from 10Hz --to 100kHz --per-decade 20
-    nodal sweep filter.nodal --out out --at 1k,2k,5k --format json
-    nodal sweep bridge.nodal --out p --ref n --plot bode.svg
-    nodal sweep filter.nodal --out 'i(R1)' --format csv -o r1.csv
+    nodal sweep testdata/examples/logger_antialias.nodal --out out --from 10Hz --to 100kHz --per-decade 20
+    nodal sweep testdata/examples/logger_antialias.nodal --out out --at 1k,2k,5k --format json
+    nodal sweep testdata/examples/bridge_inamp.nodal --out p --ref n --plot bode.svg
+    nodal sweep testdata/examples/logger_antialias.nodal --out 'i(R1)' --format csv -o r1.csv
 
 With named responses (response NAME = v(NODE) in the file), no --out
 sweeps them all side by side, and --out A+B sums responses from the same
@@ -163,9 +163,14 @@ func sweepTraces(e *env, traces []sweepTrace, freqs []float64, workers int) ([]*
 	return resps, nil
 }
 
+// sweepExtractUnknowns is the largest system whose transfer function a
+// sweep given its range extracts anyway (for the exact group delay of a
+// frequency-independent response): below it extraction is cheap.
+const sweepExtractUnknowns = 200
+
 // Run sweeps every output (for every --vary value).
 func (c *sweepCmd) Run(e *env) error {
-	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "csv", "json"); err != nil {
 		return err
 	}
 	vs, err := c.variants()
@@ -192,17 +197,21 @@ func (c *sweepCmd) Run(e *env) error {
 		}
 	}
 	l := ls[0]
-	// Each trace's transfer function serves the default range and the
-	// plot's marks: extract it only then, once (a sum has none: no
-	// marks). With --vary the default range covers every variant's.
+	// Each trace's transfer function serves the default range, the plot's
+	// marks and the exact zero group delay of a response that does not
+	// depend on frequency; extract it once (a sum has none: no marks).
+	// A large system given a range and no plot is swept without it (the
+	// extraction is a dense eigenvalue problem); its group delay is then
+	// the sweep's own. With --vary the default range covers every
+	// variant's.
 	tfs := make([]*transfer.TransferFunction, len(traces))
 	extract := func(i int) {
 		if tfs[i] == nil && len(traces[i].systems) == 1 {
 			tfs[i] = systemTF(traces[i].systems[0])
 		}
 	}
-	if c.Plot != "" {
-		for i := range traces {
+	for i, t := range traces {
+		if c.Plot != "" || len(t.systems) == 1 && t.systems[0].Size() <= sweepExtractUnknowns {
 			extract(i)
 		}
 	}
@@ -227,6 +236,15 @@ func (c *sweepCmd) Run(e *env) error {
 	resps, err := sweepTraces(e, traces, freqs, c.Workers)
 	if err != nil {
 		return err
+	}
+	for i, r := range resps {
+		if tfs[i] != nil && frequencyIndependent(tfs[i]) {
+			for k := range r.GroupDelayS {
+				if !r.AtPole[k] {
+					r.GroupDelayS[k] = 0 // no pole or zero: exactly no delay
+				}
+			}
+		}
 	}
 	if c.Plot != "" {
 		if err := writeBodePlot(e, c.Plot, []string{c.File, c.Output}, l, tfs, resps); err != nil {

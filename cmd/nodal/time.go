@@ -23,7 +23,7 @@ type timeCmd struct {
 	Input  string `help:"The input signal: a unit step or a unit impulse." enum:"step,impulse" default:"step"`
 	Until  string `help:"End of the time span, e.g. 5ms (default: from the slowest pole, about 7 time constants or 10 periods)." placeholder:"T"`
 	Points int    `help:"Number of samples from t = 0 to the end." default:"200"`
-	Format string `help:"Output format: table, csv or json." enum:"table,csv,json" default:"table"`
+	Format string `help:"Output format: table, csv or json (default: from the -o extension, else table)." placeholder:"table|csv|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot   string `help:"Also plot the response to this file (.svg or .png)." placeholder:"FILE" type:"path"`
 }
@@ -44,11 +44,11 @@ holds a Dirac term δ(t), which is named with its weight, not sampled.
 
 Examples:
 
-    nodal time filter.nodal --out out
-    nodal time filter.nodal --out out --until 2ms --points 400 --format csv -o step.csv
-    nodal time filter.nodal --out out --plot step.svg
-    nodal time filter.nodal --out out --input impulse
-    nodal time filter.nodal --out out --input impulse --format json`
+    nodal time testdata/examples/logger_antialias.nodal --out out
+    nodal time testdata/examples/logger_antialias.nodal --out out --until 2ms --points 400 --format csv -o step.csv
+    nodal time testdata/examples/logger_antialias.nodal --out out --plot step.svg
+    nodal time testdata/examples/logger_antialias.nodal --out out --input impulse
+    nodal time testdata/examples/logger_antialias.nodal --out out --input impulse --format json`
 }
 
 // Run computes the time response.
@@ -56,6 +56,9 @@ func (c *timeCmd) Run(e *env) error { return c.run(e, c.Input) }
 
 // run computes and prints a time response of the given kind.
 func (c *timeCmd) run(e *env, kind string) error {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "csv", "json"); err != nil {
+		return err
+	}
 	if len(c.Vary) > 0 {
 		out, vary := c.Output, c.Vary
 		c.Output, c.Vary = "", nil

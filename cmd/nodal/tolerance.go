@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"nodal/cmd/nodal/notation"
 	"strings"
 	"time"
 
@@ -30,7 +31,7 @@ type toleranceCmd struct {
 	Sensitivity bool     `help:"Also report each metric's sensitivity to every toleranced item."`
 	Envelope    bool     `help:"Also report the min–max band of |H| and phase over a sweep across the runs."`
 	freqArgs
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write the table/JSON to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot   string `help:"Draw the histograms (and with --envelope the Bode band) to this file (.svg or .png)." placeholder:"FILE" type:"path"`
 }
@@ -48,8 +49,8 @@ items (otherwise the two corners the sensitivity signs point to) and
 names the corner giving each extreme. --sensitivity gives
 (∂M/M)/(∂x/x) in %/% for Hz and q metrics, dB/% or deg/% for dB and
 phase metrics, largest first. --envelope sweeps |H| and phase for every
-run (--from, --to, --per-decade; default: the poles and zeros ± two
-decades). Ctrl-C stops and reports the runs finished.
+run (--from, --to, --per-decade; default: the poles and zeros that shape
+the response within 100 dB of its largest gain, ± a decade). Ctrl-C stops and reports the runs finished.
 
 A build that is not stable (a natural frequency in the right half-plane
 or on the jω axis) has no response metrics: it is counted, reported as
@@ -60,11 +61,11 @@ one gain element as nodal loop does: phase_margin@U1 (°), gain_margin@U1
 
 Examples:
 
-    nodal tolerance filter.nodal --out out --metric f3db --metric q
-    nodal tolerance photodiode_frontend.nodal --out out --metric phase_margin@U1
-    nodal tolerance filter.nodal --out out --metric gain@1kHz --runs 10000 --seed 7 --format json
-    nodal tolerance filter.nodal --out out --metric f0 --worst-case --sensitivity
-    nodal tolerance filter.nodal --out out --metric f3db --envelope --plot band.svg`
+    nodal tolerance testdata/examples/logger_antialias.nodal --out out --metric f3db --metric q
+    nodal tolerance testdata/examples/photodiode_frontend.nodal --out out --metric phase_margin@U1
+    nodal tolerance testdata/examples/logger_antialias.nodal --out out --metric gain@1kHz --runs 10000 --seed 7 --format json
+    nodal tolerance testdata/examples/logger_antialias.nodal --out out --metric f0 --worst-case --sensitivity
+    nodal tolerance testdata/examples/logger_antialias.nodal --out out --metric f3db --envelope --plot band.svg`
 }
 
 // progressMinRuns is the run count from which a progress bar is shown on
@@ -184,7 +185,7 @@ func (res *toleranceResult) levelUnits(unit string) {
 
 // Run performs the analyses and writes the report.
 func (c *toleranceCmd) Run(e *env) error {
-	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
 		return err
 	}
 	if c.Runs < 1 {
@@ -390,12 +391,52 @@ func cornerDoc(c variation.ToleranceCorner) cornerJSON {
 	return cornerJSON{High: append([]string{}, c.High...), Low: append([]string{}, c.Low...)}
 }
 
-// metricLabel is a metric with its unit, "f3db (Hz)".
+// metricLabel is a metric with its unit, "f3db (Hz)", for tables.
 func metricLabel(name, unit string) string {
 	if unit == "" {
 		return name
 	}
 	return name + " (" + unit + ")"
+}
+
+// metricHistogram draws the Monte Carlo histogram of one metric with its
+// label in words, its nominal value and the limits of c's requirements on
+// it, in its unit.
+func metricHistogram(c *netlist.Circuit, name, unit string, samples []float64, nominal float64) (*plot.Figure, error) {
+	var limits []float64
+	for _, r := range c.Requirements {
+		if r.Metric != name {
+			continue
+		}
+		switch r.Op {
+		case netlist.Within:
+			limits = append(limits, r.Lo, r.Hi)
+		case netlist.Below:
+			limits = append(limits, r.Hi)
+		case netlist.Above:
+			limits = append(limits, r.Lo)
+		}
+	}
+	return plot.MetricHistogram(plot.HistogramSpec{Label: metricAxisLabel(name, unit), Values: samples, Nominal: nominal, Unit: unit, Limits: limits})
+}
+
+// metricAxisLabel is a metric in words with its unit, for axis labels:
+// "−3 dB frequency (Hz)", "gain at 20 kHz (dB)", "quality factor Q".
+func metricAxisLabel(name, unit string) string {
+	words := name
+	if spec, p, err := netlist.ParseMetric(name); err == nil && spec.Label != "" {
+		words = spec.Label
+		if spec.Param == netlist.MetricParamFreq {
+			words = strings.Replace(words, "F", notation.Eng(p.FreqHz, "Hz"), 1)
+		}
+	}
+	switch unit {
+	case "":
+		return words
+	case netlist.UnitDegree:
+		unit = "°"
+	}
+	return words + " (" + unit + ")"
 }
 
 // toleranceTables prints the results as terminal tables.
@@ -488,6 +529,9 @@ func cornerText(c variation.ToleranceCorner) string {
 	for _, n := range c.Low {
 		parts = append(parts, n+"−")
 	}
+	if len(parts) == 0 {
+		return "any corner (no toleranced item moves it)"
+	}
 	return strings.Join(parts, " ")
 }
 
@@ -551,7 +595,7 @@ func (c *toleranceCmd) writePlot(e *env, l *loaded, r *toleranceResult) error {
 		figs = append(figs, fig)
 	}
 	for _, m := range r.mc.Metrics {
-		fig, err := plot.Histogram(metricLabel(m.Name, m.Unit), m.Samples, 0, m.Nominal)
+		fig, err := metricHistogram(l.circuit, m.Name, m.Unit, m.Samples, m.Nominal)
 		if err != nil {
 			return err
 		}

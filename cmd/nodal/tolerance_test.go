@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"errors"
 	"math"
+	"nodal/analysis/variation"
 	"os"
 	"path/filepath"
 	"strings"
@@ -91,6 +92,9 @@ func TestToleranceJSON(t *testing.T) {
 	}
 	// f3db ∝ 1/(RC): −1 %/% for each (logarithmic derivative of the closed
 	// form; common practice).
+	if len(doc.Sensitivity) != 2 || len(doc.Sensitivity[0].Items) != 2 {
+		t.Fatalf("sensitivity %+v; want two metrics with R1 and C1 each", doc.Sensitivity)
+	}
 	for _, it := range doc.Sensitivity[0].Items {
 		if doc.Sensitivity[0].Unit != "%/%" || math.Abs(it.Value+1) > 1e-6 {
 			t.Errorf("sensitivity of f3db to %s: %v %s; want −1 %%/%%", it.Item, it.Value, doc.Sensitivity[0].Unit)
@@ -203,5 +207,14 @@ func TestToleranceErrors(t *testing.T) {
 		if err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("%v: error %v; want %q", tc.args, err, tc.want)
 		}
+	}
+}
+
+func TestCornerTextNamesOnlyWhatMoves(t *testing.T) {
+	if got := cornerText(variation.ToleranceCorner{High: []string{"R1"}, Low: []string{"C1"}}); got != "R1+ C1−" {
+		t.Errorf("corner %q", got)
+	}
+	if got := cornerText(variation.ToleranceCorner{}); got != "any corner (no toleranced item moves it)" {
+		t.Errorf("empty corner %q", got)
 	}
 }

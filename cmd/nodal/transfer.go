@@ -23,7 +23,7 @@ type transferCmd struct {
 	In     string `help:"Input source; may be left out when the circuit has one source." placeholder:"SOURCE"`
 	Out    string `help:"Output: a response of the file, a node, or i(PART) (default: the first response, then the node named out)." placeholder:"NAME"`
 	Ref    string `help:"Reference node of a differential output (default gnd)." placeholder:"NODE"`
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot   string `help:"Also draw the pole-zero map to this file (.svg or .png)." placeholder:"FILE" type:"path"`
 	symbolicArgs
@@ -36,7 +36,9 @@ circuit from its MNA pencil: poles as generalised eigenvalues, zeros from
 the bordered pencil, the gain from one evaluation. It prints H(s) expanded
 and factored, poles and zeros (rad/s and Hz) with corner frequencies, f0, Q
 and ζ, the DC gain and high-frequency asymptote, the −3 dB frequencies, the
-peak gain, and the circuit's differential equation. D(s) is normalised so
+peak gain and its frequency, the peaking above the passband gain of a low-
+or high-pass, the dominant pole pair (or why there is none: "first-order:
+no pole pair"), and the circuit's differential equation. D(s) is normalised so
 that its lowest-order non-zero coefficient is 1. The circuit's stability
 (all its natural frequencies, modes cancelled out of H included) is
 stated too: a warning on standard error when it is marginal or unstable,
@@ -45,11 +47,11 @@ with a finite model (A0 = 10⁶, 10 MHz) to catch swapped inputs.
 
 Examples:
 
-    nodal transfer filter.nodal --out out
-    nodal transfer filter.nodal --out out --format json
-    nodal transfer filter.nodal --out out --plot pz.svg
-    nodal transfer filter.nodal --out out --symbolic
-    nodal transfer filter.nodal --out out --symbolic --keep R1,C1
+    nodal transfer testdata/examples/logger_antialias.nodal --out out
+    nodal transfer testdata/examples/logger_antialias.nodal --out out --format json
+    nodal transfer testdata/examples/logger_antialias.nodal --out out --plot pz.svg
+    nodal transfer testdata/examples/logger_antialias.nodal --out out --symbolic
+    nodal transfer testdata/examples/tone_lowpass_ideal.nodal --out out --symbolic --keep R1,C1
 
 With --symbolic, N(s) and D(s) are exact polynomials in s whose
 coefficients are sums of products of part names (resistors as R, so
@@ -166,7 +168,7 @@ func impedanceError(p tfProbe, err error) error {
 
 // Run prints the transfer function report.
 func (c *transferCmd) Run(e *env) error {
-	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output, c.Plot}, "table", "json"); err != nil {
 		return err
 	}
 	if err := c.symbolicArgs.check(); err != nil {
@@ -276,7 +278,19 @@ type tfReport struct {
 	pairs     []transfer.RootPair
 	zeroPairs []transfer.RootPair
 	ode       transfer.ODE
+	// peaking is the peak above the passband gain of a low- or high-pass
+	// (dB); peakingErr is set for any other response.
+	peaking    float64
+	peakingErr error
+	// pair is the dominant second-order section (f0, Q); pairErr says why
+	// there is none ("first-order: no pole pair").
+	pair    transfer.RootPair
+	pairErr error
 }
+
+// noPeakingDB is how close to the passband gain (dB) the peak of a low- or
+// high-pass must be to print "no peaking".
+const noPeakingDB = 0.01
 
 // newTFReport computes the report figures.
 func newTFReport(r *tfResult) *tfReport {
@@ -291,6 +305,8 @@ func newTFReport(r *tfResult) *tfReport {
 	} else {
 		rep.peakErr = err
 	}
+	rep.peaking, rep.peakingErr = r.tf.PeakingDB()
+	rep.pair, rep.pairErr = r.tf.DominantPair()
 	return rep
 }
 
@@ -373,9 +389,7 @@ func (rep *tfReport) figureRows() [][2]string {
 	} else {
 		rows = append(rows, [2]string{"−3 dB frequencies", "none: " + rep.bwErr.Error()})
 	}
-	if rep.peak != nil && rep.bw != nil && rep.peak.GainDB-rep.bw.RefDB < 0.01 {
-		rows = append(rows, [2]string{"peak gain", "no peaking (within 0.01 dB of the reference)"})
-	} else if rep.peak != nil {
+	if rep.peak != nil {
 		where := notation.Eng(rep.peak.FreqHz, "Hz")
 		if rep.peak.OmegaRad == 0 {
 			where = "DC"
@@ -385,6 +399,20 @@ func (rep *tfReport) figureRows() [][2]string {
 		rows = append(rows, [2]string{"peak gain", fmt.Sprintf("%s dB at %s", fixed(rep.peak.GainDB, 3), where)})
 	} else {
 		rows = append(rows, [2]string{"peak gain", "none: " + rep.peakErr.Error()})
+	}
+	// Peaking is only of a low- or high-pass: a band-pass resonance has no
+	// passband to rise above, so it is never "no peaking".
+	if rep.peakingErr == nil {
+		if rep.peaking < noPeakingDB {
+			rows = append(rows, [2]string{"peaking", "no peaking (within 0.01 dB of the passband gain)"})
+		} else {
+			rows = append(rows, [2]string{"peaking", fmt.Sprintf("%s dB above the passband gain", fixed(rep.peaking, 3))})
+		}
+	}
+	if rep.pairErr == nil {
+		rows = append(rows, [2]string{"dominant pole pair", fmt.Sprintf("f0 %s, Q %s", notation.Eng(rep.pair.F0Hz, "Hz"), notation.Q(rep.pair.Q))})
+	} else {
+		rows = append(rows, [2]string{"dominant pole pair", "none: " + rep.pairErr.Error()})
 	}
 	return rows
 }

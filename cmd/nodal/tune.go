@@ -32,6 +32,10 @@ type tuneCmd struct {
 	requireProbe
 	Addr  string `help:"Serve on this address, HOST:PORT (port 0 picks a free one); default 127.0.0.1:0. An address that is not loopback is served only when named here." placeholder:"HOST:PORT"`
 	Print string `help:"Print the figures and verdicts for this query string (?R=6.8k&C1=2.2n) as JSON and exit, serving nothing." placeholder:"QUERY"`
+	// Format is json only (what --print writes); it is here so that -o
+	// x.json and --format behave as in every other command.
+	Format string `help:"Output format of --print: json (default: from the -o extension, else json)." placeholder:"json"`
+	Output string `short:"o" help:"With --print, write the JSON to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
 // Help is the extended help with a worked example.
@@ -58,9 +62,9 @@ the server.
 
 Examples:
 
-    nodal tune logger.nodal
-    nodal tune logger.nodal --out out --addr 127.0.0.1:8040
-    nodal tune logger.nodal --print '?R=6.8k&C0=12n'`
+    nodal tune testdata/examples/logger_antialias.nodal
+    nodal tune testdata/examples/logger_antialias.nodal --out out --addr 127.0.0.1:8040
+    nodal tune testdata/examples/logger_antialias.nodal --print '?R=6.8k&C0=12n'`
 }
 
 // tuneOutKey is the query key of the response choice; "@" cannot start a
@@ -77,6 +81,12 @@ var tuneSeries = []string{"E12", "E24", "E96"}
 
 // Run serves the page, or prints one analysis with --print.
 func (c *tuneCmd) Run(e *env) error {
+	if c.Output != "" && c.Print == "" {
+		return errors.New("-o writes the JSON of --print: give --print QUERY, or leave -o out to serve the page")
+	}
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output}, "json"); err != nil {
+		return err
+	}
 	loadFile := func(src []byte) (tune.Backend, error) { return c.backend(e, c.File, src) }
 	if c.Print != "" {
 		src, name, err := readSource(e, c.File)
@@ -95,7 +105,7 @@ func (c *tuneCmd) Run(e *env) error {
 		if err != nil {
 			return fmt.Errorf("--print: %w", err)
 		}
-		return writeTo(e, "", nil, func(w io.Writer) error { return writeJSON(w, doc) })
+		return writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error { return writeJSON(w, doc) })
 	}
 	if c.File == "-" {
 		return errors.New("nodal tune watches and rewrites a file: give its path, not -")

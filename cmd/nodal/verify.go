@@ -80,7 +80,8 @@ type verifyCmd struct {
 	Runs   int    `help:"Monte Carlo runs for the yield (0: none)." default:"1000"`
 	Seed   int64  `help:"Seed of the Monte Carlo draws." default:"1"`
 	Strict bool   `help:"Also fail (exit 1) when a requirement fails in the worst case."`
-	Format string `help:"Output format: table or json." enum:"table,json" default:"table"`
+	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
+	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
 }
 
 // Help is the extended help with a worked example.
@@ -123,19 +124,23 @@ Requirements in the file:
 
 Examples:
 
-    nodal verify filter.nodal
-    nodal verify filter.nodal --out vout --runs 5000 --strict
-    nodal verify filter.nodal --format json`
+    nodal verify testdata/examples/logger_antialias.nodal
+    nodal verify testdata/examples/bridge_inamp.nodal --runs 5000 --strict
+    nodal verify testdata/examples/logger_antialias.nodal --format json`
 }
 
 // verifyReport is the JSON form of a verification.
 type verifyReport struct {
-	File         string          `json:"file"`
-	Input        string          `json:"input"`
-	Output       string          `json:"output"`
-	Runs         int             `json:"runs"`
-	Seed         int64           `json:"seed"`
-	Corners      int             `json:"corners"`
+	File    string `json:"file"`
+	Input   string `json:"input"`
+	Output  string `json:"output"`
+	Runs    int    `json:"runs"`
+	Seed    int64  `json:"seed"`
+	Corners int    `json:"corners"`
+	// Toleranced counts the toleranced parts and lets; with none, the
+	// worst case is the nominal circuit and no Monte Carlo runs (runs 0,
+	// no yield): see noTolerancesNote.
+	Toleranced   int             `json:"toleranced_items"`
 	Failed       int             `json:"failed_evaluations"`
 	Requirements []verdictJSON   `json:"requirements"`
 	Yield        *proportionJSON `json:"yield_all,omitempty"`
@@ -147,16 +152,19 @@ type verifyReport struct {
 }
 
 type verdictJSON struct {
-	Requirement string          `json:"requirement"`
-	Response    string          `json:"response"`
-	Line        int             `json:"line"`
-	Unit        string          `json:"unit"`
-	Nominal     *float64        `json:"nominal"`
-	NominalPass bool            `json:"nominal_pass"`
-	WorstMin    *float64        `json:"worst_min"`
-	WorstMax    *float64        `json:"worst_max"`
-	WorstPass   bool            `json:"worst_pass"`
-	Yield       *proportionJSON `json:"yield,omitempty"`
+	Requirement string   `json:"requirement"`
+	Response    string   `json:"response"`
+	Line        int      `json:"line"`
+	Unit        string   `json:"unit"`
+	Nominal     *float64 `json:"nominal"`
+	// NominalReason says why nominal is null ("q: first-order: no pole
+	// pair").
+	NominalReason string          `json:"nominal_reason,omitempty"`
+	NominalPass   bool            `json:"nominal_pass"`
+	WorstMin      *float64        `json:"worst_min"`
+	WorstMax      *float64        `json:"worst_max"`
+	WorstPass     bool            `json:"worst_pass"`
+	Yield         *proportionJSON `json:"yield,omitempty"`
 
 	nominal, worstMin, worstMax float64 // as evaluated, ±Inf and NaN included, for the table
 	stable                      bool    // the requirement is `stable` (values 1 or 0)
@@ -187,6 +195,9 @@ func proportionOut(p require.Proportion) *proportionJSON {
 
 // Run verifies and prints the verdicts.
 func (c *verifyCmd) Run(e *env) error {
+	if err := startOutput(&c.Format, []string{c.File}, []string{c.Output}, "table", "json"); err != nil {
+		return err
+	}
 	if c.Runs < 0 {
 		return fmt.Errorf("--runs must be ≥ 0, got %d", c.Runs)
 	}
@@ -210,10 +221,14 @@ func (c *verifyCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	opt := require.VerifyOptions{Runs: c.Runs, Seed: uint64(c.Seed)}
+	runs := c.Runs
+	if len(l.circuit.Variations) == 0 {
+		runs = 0 // every draw is the nominal circuit
+	}
+	opt := require.VerifyOptions{Runs: runs, Seed: uint64(c.Seed)}
 	finish := func() {}
-	if e.stderrIsTerminal && c.Runs > 0 {
-		bar := progressbar.NewOptions(c.Runs, progressbar.OptionSetWriter(e.stderr), progressbar.OptionSetDescription("verify"),
+	if e.stderrIsTerminal && runs > 0 {
+		bar := progressbar.NewOptions(runs, progressbar.OptionSetWriter(e.stderr), progressbar.OptionSetDescription("verify"),
 			progressbar.OptionShowCount(), progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
 		opt.Progress = func(done int) { _ = bar.Set(done) }
 		finish = func() { _ = bar.Finish() }
@@ -228,8 +243,9 @@ func (c *verifyCmd) Run(e *env) error {
 		return err
 	}
 	rep := &verifyReport{
-		File: l.name, Input: inputsOf(probes), Output: strings.Join(slices.DeleteFunc(uniq(names), func(n string) bool { return n == "circuit" }), ", "), Runs: c.Runs, Seed: c.Seed, Corners: res.Corners,
-		Failed: res.Failed, Yield: proportionOut(res.Yield), PassNominal: res.PassNominal(), PassWorst: res.PassWorst(),
+		File: l.name, Input: inputsOf(probes), Output: strings.Join(slices.DeleteFunc(uniq(names), func(n string) bool { return n == "circuit" }), ", "), Runs: runs, Seed: c.Seed, Corners: res.Corners,
+		Toleranced: len(l.circuit.Variations),
+		Failed:     res.Failed, Yield: proportionOut(res.Yield), PassNominal: res.PassNominal(), PassWorst: res.PassWorst(),
 	}
 	unstableNoted := false
 	for i, d := range res.Verdicts {
@@ -250,15 +266,20 @@ func (c *verifyCmd) Run(e *env) error {
 				rep.Notes = append(rep.Notes, "at nominal values the circuit is not stable: every requirement fails ("+st.Class.String()+": "+naturalList(st.Offending)+")")
 			}
 			unstableNoted = true
+			rep.Requirements[len(rep.Requirements)-1].NominalReason = "not stable"
 		} else if why[i] != nil {
+			rep.Requirements[len(rep.Requirements)-1].NominalReason = why[i].Error()
 			rep.Notes = append(rep.Notes, fmt.Sprintf("%s: at nominal values: %v", d.Requirement.Text, why[i]))
 		}
+	}
+	if rep.Toleranced == 0 {
+		rep.Notes = append(rep.Notes, noTolerancesNote)
 	}
 	if res.Failed > 0 {
 		rep.Notes = append(rep.Notes, fmt.Sprintf("%d varied builds could not be analysed and count as failing (first: %v)", res.Failed, res.FirstFailure))
 	}
 	rep.stabilityJSON = newStabilityJSON(st)
-	if err := writeTo(e, "", nil, func(w io.Writer) error {
+	if err := writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
 		if c.Format == "json" {
 			return writeJSON(w, rep)
 		}
@@ -315,19 +336,10 @@ func responseLevel(metric string) bool {
 
 // metricText formats a metric value in its unit.
 func metricText(v float64, unit string) string {
-	switch {
-	case math.IsNaN(v):
+	if math.IsNaN(v) {
 		return "-"
-	case math.IsInf(v, 0):
-		return num(v) + " " + unit
-	case unit == netlist.UnitDecibel || strings.HasPrefix(unit, "dB"):
-		return fixed(v, 2) + " " + unit
-	case unit == netlist.UnitDegree:
-		return fixed(v, 1) + "°"
-	case unit == "":
-		return trimFloat(v, 4)
 	}
-	return notation.Eng(v, unit)
+	return notation.Metric(v, unit)
 }
 
 func passText(ok bool) string {
@@ -336,6 +348,10 @@ func passText(ok bool) string {
 	}
 	return "FAIL"
 }
+
+// noTolerancesNote replaces the corner and run counts when no part or let
+// carries a tolerance.
+const noTolerancesNote = "no toleranced parts: worst case and yield equal nominal"
 
 // yieldText is "97.3 % [96.1, 98.2]".
 func yieldText(p *proportionJSON) string {
@@ -349,28 +365,43 @@ func verifyTable(w io.Writer, rep *verifyReport) error {
 	fmt.Fprintf(w, "%s: requirements on %s driven by %s\n", rep.File, rep.Output, rep.Input)
 	t := newTable(w, "response", "requirement", "nominal", "verdict", "worst case", "verdict", "yield [95 % CI]")
 	for _, v := range rep.Requirements {
-		worst := "-"
-		if !math.IsNaN(v.worstMin) {
+		worst, yield := "-", yieldText(v.Yield)
+		switch {
+		case rep.Toleranced == 0:
+			worst, yield = "as nominal", "as nominal"
+		case !math.IsNaN(v.worstMin):
 			worst = metricText(v.worstMin, v.Unit) + " .. " + metricText(v.worstMax, v.Unit)
 		}
 		nominal := metricText(v.nominal, v.Unit)
-		if v.stable {
+		if v.stable && rep.Toleranced > 0 {
 			nominal, worst = stableText(v.nominal), "stable at every corner"
 			if v.worstMin == 0 {
 				worst = "not stable at a corner"
 			}
+		} else if v.stable {
+			nominal = stableText(v.nominal)
 		}
-		if err := t.row(v.Response, strings.TrimPrefix(v.Requirement, "require "), nominal, passText(v.NominalPass), worst, passText(v.WorstPass), yieldText(v.Yield)); err != nil {
+		if err := t.row(v.Response, strings.TrimPrefix(v.Requirement, "require "), nominal, passText(v.NominalPass), worst, passText(v.WorstPass), yield); err != nil {
 			return err
 		}
 	}
-	if err := t.row("all", "", "", passText(rep.PassNominal), "", passText(rep.PassWorst), yieldText(rep.Yield)); err != nil {
+	allYield := yieldText(rep.Yield)
+	if rep.Toleranced == 0 {
+		allYield = "as nominal"
+	}
+	if err := t.row("all", "", "", passText(rep.PassNominal), "", passText(rep.PassWorst), allYield); err != nil {
 		return err
 	}
 	if err := t.render(); err != nil {
 		return err
 	}
-	fmt.Fprintf(w, "worst case over %d corners; yield from %d Monte Carlo runs (seed %d)\n", rep.Corners, rep.Runs, rep.Seed)
+	switch {
+	case rep.Toleranced == 0: // said in the notes
+	case rep.Runs == 0:
+		fmt.Fprintf(w, "worst case over %d corners; no Monte Carlo runs (--runs 0)\n", rep.Corners)
+	default:
+		fmt.Fprintf(w, "worst case over %d corners; yield from %d Monte Carlo runs (seed %d)\n", rep.Corners, rep.Runs, rep.Seed)
+	}
 	for _, n := range rep.Notes {
 		fmt.Fprintf(w, "note: %s\n", n)
 	}

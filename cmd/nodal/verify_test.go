@@ -95,7 +95,7 @@ func TestVerifyBadInput(t *testing.T) {
 	}{
 		{"no requirements", []string{"verify", write("none.nodal", rc)}, []string{"has no require statements"}},
 		{"syntax", []string{"verify", write("syntax.nodal", rc+"require f3db within 1.9kHz\n")}, []string{"syntax.nodal:4:", "within needs a range"}},
-		{"syntax col", []string{"verify", write("op.nodal", rc+"\nrequire f3db beyond 2kHz\n")}, []string{"op.nodal:5:"}},
+		{"syntax col", []string{"verify", write("op.nodal", rc+"\nrequire f3db beyond 2kHz\n")}, []string{"op.nodal:5:14:", "unexpected \"beyond\""}},
 		{"unknown metric", []string{"verify", write("metric.nodal", rc+"require bandwidth below 2kHz\n")}, []string{"metric.nodal:4:9", "unknown metric \"bandwidth\"", "f3db", "gain@F", "q"}},
 		{"no out node", []string{"verify", write("noout.nodal", strings.ReplaceAll(rc, "out", "v2")+"require f3db below 2kHz\n")}, []string{"no node named out", "--out"}},
 		{"bad runs", []string{"verify", "testdata/bridge_pass.nodal", "--runs", "-1"}, []string{"--runs"}},
@@ -110,5 +110,32 @@ func TestVerifyBadInput(t *testing.T) {
 				t.Errorf("%s: stderr lacks %q:\n%s", tc.name, w, errOut)
 			}
 		}
+	}
+}
+
+func TestVerifyWithoutTolerances(t *testing.T) {
+	// No part carries a tolerance: the worst case and the yield are the
+	// nominal circuit, said in words, with no corner count and no runs.
+	src := "Vb: voltage source (in, gnd) 1\nRf: resistor (in, out) 10k\nCf: capacitor (out, gnd) 10nF\nrequire f3db within 1.5kHz..1.7kHz\nrequire q below 1\n"
+	r := runNodal(t, src, "verify", "-")
+	if r.code != exitVerdict {
+		t.Fatalf("exit %d (q of a first-order circuit fails)\n%s%s", r.code, r.stdout, r.stderr)
+	}
+	for _, w := range []string{"no toleranced parts: worst case and yield equal nominal", "as nominal", "first-order: no pole pair"} {
+		if !strings.Contains(r.stdout, w) {
+			t.Errorf("output lacks %q:\n%s", w, r.stdout)
+		}
+	}
+	if strings.Contains(r.stdout, "0 corners") || strings.Contains(r.stdout, "Monte Carlo") {
+		t.Errorf("corner or run count printed:\n%s", r.stdout)
+	}
+	r = runNodal(t, src, "verify", "-", "--format", "json")
+	var doc verifyReport
+	if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	// The requirements: the implicit stable, f3db, q.
+	if doc.Toleranced != 0 || doc.Runs != 0 || doc.Yield != nil || len(doc.Requirements) != 3 || doc.Requirements[2].NominalReason != "q: first-order: no pole pair" {
+		t.Errorf("JSON %+v", doc)
 	}
 }

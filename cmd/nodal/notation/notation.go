@@ -203,3 +203,39 @@ func Q(q float64) string {
 	}
 	return strconv.FormatFloat(q, 'g', 4, 64)
 }
+
+// Metric writes a metric value or a requirement limit in its unit, the
+// one style of verdict tables and reports: dB with two decimals
+// ("-40.03 dB", also a dB with its reference: "12.00 dB re 1 V/A"), degrees with one ("-92.4°"), a plain ratio with four
+// significant digits ("0.7081"), any other unit in engineering notation
+// (Eng: "1.886 kHz"). Infinite values print as "inf dB", "-inf dB"; NaN
+// as "NaN" (callers write a missing value their own way).
+func Metric(v float64, unit string) string {
+	switch {
+	case math.IsNaN(v):
+		return "NaN"
+	case math.IsInf(v, 1):
+		return strings.TrimSpace("inf " + unit)
+	case math.IsInf(v, -1):
+		return strings.TrimSpace("-inf " + unit)
+	}
+	fixed := func(decimals int) string {
+		s := strconv.FormatFloat(v, 'f', decimals, 64)
+		if strings.Trim(s, "-0.") == "" {
+			s = strings.TrimPrefix(s, "-") // −0.00 reads as a sign where there is none
+		}
+		return s
+	}
+	switch {
+	case unit == syntax.UnitDecibel || strings.HasPrefix(unit, "dB"): // "dB re 1 V/A", "dBΩ"
+		return fixed(2) + " " + unit
+	case unit == syntax.UnitDegree || unit == "°":
+		return fixed(1) + "°"
+	case unit == "":
+		if v == 0 {
+			return "0"
+		}
+		return strconv.FormatFloat(v, 'g', 4, 64)
+	}
+	return Eng(v, unit)
+}

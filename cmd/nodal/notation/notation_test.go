@@ -108,3 +108,23 @@ func TestQ(t *testing.T) {
 		}
 	}
 }
+
+func TestMetric(t *testing.T) {
+	for _, tc := range []struct {
+		v    float64
+		unit string
+		want string
+	}{
+		{-40.0312, "dB", "-40.03 dB"},
+		{-0.0001, "dB", "0.00 dB"},
+		{-92.26, "deg", "-92.3°"},
+		{0.70814, "", "0.7081"},
+		{1885.9, "Hz", "1.886 kHz"},
+		{math.Inf(-1), "dB", "-inf dB"},
+		{math.Inf(1), "", "inf"},
+	} {
+		if got := Metric(tc.v, tc.unit); got != tc.want {
+			t.Errorf("Metric(%g, %q) = %q, want %q", tc.v, tc.unit, got, tc.want)
+		}
+	}
+}

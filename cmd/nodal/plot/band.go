@@ -255,17 +255,9 @@ func addLimit(pn *panel, k int, l Limit, loHz, hiHz float64) error {
 		if last[0][0] == last[1][0] { // vertical: label near the top
 			at = last[1]
 		}
-		lb, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: at[0], Y: at[1]}}, Labels: []string{l.Label}})
-		if err != nil {
-			return fmt.Errorf("plot: %s label: %w", name, err)
-		}
-		lb.TextStyle[0] = noteStyle()
-		lb.TextStyle[0].Color = limitColor
-		if last[0][0] == last[1][0] {
-			lb.TextStyle[0].YAlign = draw.YTop
-		}
-		lb.Offset = vg.Point{X: vg.Points(3), Y: vg.Points(2)}
-		pn.p.Add(lb)
+		sty := noteStyle()
+		sty.Color = limitColor
+		pn.addNote(note{x: at[0], y: at[1], text: l.Label, style: sty})
 	}
 	return nil
 }

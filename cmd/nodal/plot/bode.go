@@ -108,11 +108,11 @@ func Bode(traces []BodeTrace, opt BodeOptions) (*Figure, error) {
 		if len(magPts) < 2 {
 			return nil, fmt.Errorf("plot: trace %q has fewer than 2 finite magnitude values", labels[i])
 		}
-		if err := addTrace(mp, labels[i], magPts, st, i, len(traces), len(traces) > 1 || traces[i].Label != ""); err != nil {
+		if err := addTrace(mp, labels[i], magPts, st, len(traces) > 1 || traces[i].Label != ""); err != nil {
 			return nil, err
 		}
 		if len(phPts) >= 2 {
-			if err := addTrace(pp, labels[i], phPts, st, i, len(traces), false); err != nil {
+			if err := addTrace(pp, labels[i], phPts, st, false); err != nil {
 				return nil, err
 			}
 		}
@@ -141,30 +141,21 @@ func freqPanels(opt BodeOptions, loHz, hiHz float64) (*Figure, *panel, *panel) {
 	return fig, fig.add(PanelMagnitude, mag), fig.add(PanelPhase, ph)
 }
 
-// addTrace draws pts as the i-th of n traces: a styled line with a few
-// marker glyphs on it (offset per trace so they do not coincide), listed
-// in the legend when legend is set.
-func addTrace(pn *panel, name string, pts [][2]float64, st traceStyle, i, n int, legend bool) error {
+// addTrace draws pts as one trace: a line in the trace's colour
+// and dash pattern (styleFor), listed in the legend when legend is set.
+// No marker glyphs sit on the curve: a symbol on a curve reads as a
+// marked point (a −3 dB point, a peak), and the dash pattern already tells
+// the traces apart in grey scale.
+func addTrace(pn *panel, name string, pts [][2]float64, st traceStyle, legend bool) error {
 	xys := pn.addLineSeries(name, pts)
 	line, err := plotter.NewLine(xys)
 	if err != nil {
 		return fmt.Errorf("plot: %s %q: %w", pn.name, name, err)
 	}
 	line.LineStyle = st.line
-	const marksPerTrace = 6
-	var marks plotter.XYs
-	for k := 0; k < marksPerTrace; k++ {
-		j := int((float64(k) + float64(i+1)/float64(n+1)) * float64(len(xys)-1) / marksPerTrace)
-		marks = append(marks, xys[j])
-	}
-	sc, err := plotter.NewScatter(marks)
-	if err != nil {
-		return fmt.Errorf("plot: %s %q markers: %w", pn.name, name, err)
-	}
-	sc.GlyphStyle = st.glyph
-	pn.p.Add(line, sc)
+	pn.p.Add(line)
 	if legend {
-		pn.addLegend(name, line, sc)
+		pn.addLegend(name, line)
 	}
 	return nil
 }
@@ -217,19 +208,93 @@ func addMarks(pn *panel, name string, pts [][2]float64, notes []string, shape dr
 	return addNotes(pn, xys, notes)
 }
 
-// addNotes writes notes[i] just above and right of xys[i]; annotations,
-// not data, so no series is recorded.
+// addNotes writes notes[i] beside xys[i]; annotations, not data, so no
+// series is recorded. Every note of a panel is placed by one notePlotter,
+// which keeps them from overlapping each other (see notePlotter.Plot).
 func addNotes(pn *panel, xys plotter.XYs, notes []string) error {
-	lb, err := plotter.NewLabels(plotter.XYLabels{XYs: xys, Labels: notes})
-	if err != nil {
-		return fmt.Errorf("plot: %s notes: %w", pn.name, err)
+	if len(xys) != len(notes) {
+		return fmt.Errorf("plot: %s notes: %d points for %d notes", pn.name, len(xys), len(notes))
 	}
-	for i := range lb.TextStyle {
-		lb.TextStyle[i] = noteStyle()
+	for i, xy := range xys {
+		pn.addNote(note{x: xy.X, y: xy.Y, text: notes[i], style: noteStyle()})
 	}
-	lb.Offset = vg.Point{X: vg.Points(5), Y: vg.Points(3)}
-	pn.p.Add(lb)
 	return nil
+}
+
+// addNote adds one note to the panel's notePlotter.
+func (pn *panel) addNote(n note) {
+	if pn.notes == nil {
+		pn.notes = &notePlotter{pn: pn}
+		pn.p.Add(pn.notes)
+	}
+	pn.notes.notes = append(pn.notes.notes, n)
+}
+
+// note is one annotation at a data point, in its text style.
+type note struct {
+	x, y  float64
+	text  string
+	style draw.TextStyle
+}
+
+// notePlotter draws a panel's notes. Each goes just above and right of its
+// point unless that box meets a note already placed or leaves the data
+// area: then below right, above left, below left, then stepped up or down
+// by a line at a time, the first free place winning (the first candidate
+// when none is free). A legend inside the data area counts as placed.
+type notePlotter struct {
+	pn    *panel
+	notes []note
+}
+
+// Plot implements gonum's Plotter.
+func (np *notePlotter) Plot(c draw.Canvas, p *gplot.Plot) {
+	trX, trY := p.Transforms(&c)
+	gap := vg.Points(5)
+	lift := vg.Points(3)
+	var placed []vg.Rectangle
+	if np.pn != nil && !np.pn.legendOut && np.pn.legendAt.Max.X > np.pn.legendAt.Min.X {
+		placed = append(placed, np.pn.legendAt)
+	}
+	for _, n := range np.notes {
+		sty := n.style
+		x, y := trX(n.x), trY(n.y)
+		if !finite(float64(x)) || !finite(float64(y)) {
+			continue
+		}
+		r := sty.Rectangle(n.text) // relative to the point drawn at
+		w, h := r.Max.X-r.Min.X, r.Max.Y-r.Min.Y
+		box := func(dx, dy vg.Length) vg.Rectangle {
+			return vg.Rectangle{Min: vg.Point{X: x + dx + r.Min.X, Y: y + dy + r.Min.Y}, Max: vg.Point{X: x + dx + r.Max.X, Y: y + dy + r.Max.Y}}
+		}
+		var cands [][2]vg.Length
+		for k := 0; k <= 8; k++ {
+			step := vg.Length(k) * (h + vg.Points(1))
+			for _, dx := range []vg.Length{gap, -gap - w} {
+				cands = append(cands, [2]vg.Length{dx, lift + step}, [2]vg.Length{dx, -lift - h - step})
+			}
+		}
+		best := cands[0]
+		for _, cd := range cands {
+			b := box(cd[0], cd[1])
+			if b.Min.X < c.Min.X || b.Max.X > c.Max.X || b.Min.Y < c.Min.Y || b.Max.Y > c.Max.Y {
+				continue
+			}
+			free := true
+			for _, q := range placed {
+				if b.Min.X < q.Max.X && q.Min.X < b.Max.X && b.Min.Y < q.Max.Y && q.Min.Y < b.Max.Y {
+					free = false
+					break
+				}
+			}
+			if free {
+				best = cd
+				break
+			}
+		}
+		placed = append(placed, box(best[0], best[1]))
+		c.FillText(sty, vg.Point{X: x + best[0], Y: y + best[1]}, n.text)
+	}
 }
 
 // markLineStyle is the thin dotted style of vertical/horizontal marks.

@@ -42,12 +42,12 @@ func Compare(a, b BodeTrace, diffDB []float64, opt BodeOptions) (*Figure, error)
 		if len(pts) < 2 {
 			return nil, fmt.Errorf("plot: trace %q has fewer than 2 finite magnitude values", tr.Label)
 		}
-		if err := addTrace(mp, tr.Label, pts, st, i, 2, true); err != nil {
+		if err := addTrace(mp, tr.Label, pts, st, true); err != nil {
 			return nil, err
 		}
 		if tr.PhaseDeg != nil {
 			if ph := pairs(tr.FreqHz, tr.PhaseDeg); len(ph) >= 2 {
-				if err := addTrace(pp, tr.Label, ph, st, i, 2, false); err != nil {
+				if err := addTrace(pp, tr.Label, ph, st, false); err != nil {
 					return nil, err
 				}
 			}
@@ -61,7 +61,7 @@ func Compare(a, b BodeTrace, diffDB []float64, opt BodeOptions) (*Figure, error)
 	if len(pts) < 2 {
 		return nil, fmt.Errorf("plot: the difference has fewer than 2 finite values")
 	}
-	if err := addTrace(dpn, "B − A", pts, styleFor(2), 0, 1, true); err != nil {
+	if err := addTrace(dpn, "B − A", pts, styleFor(2), true); err != nil {
 		return nil, err
 	}
 	fitY(mp, 0.06)

@@ -82,6 +82,8 @@ type panel struct {
 	// before a legend above the data area makes room for itself.
 	baseTitle string
 	basePad   vg.Length
+	// notes places the panel's annotations (addNotes); nil for none.
+	notes *notePlotter
 }
 
 // series is a named list of plotted (x, y) points in data units;

@@ -5,6 +5,8 @@ import (
 	"math"
 	"strconv"
 
+	"nodal/cmd/nodal/notation"
+
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -24,6 +26,30 @@ const HistogramPanelPrefix = "histogram "
 // point per bin; "nominal" with the nominal line's two ends (count 0 and
 // the tallest bin).
 func Histogram(name string, values []float64, bins int, nominal float64) (*Figure, error) {
+	return MetricHistogram(HistogramSpec{Label: name, Values: values, Bins: bins, Nominal: nominal})
+}
+
+// HistogramSpec describes a metric histogram: Label for the x axis (in
+// words with the unit: "−3 dB frequency (Hz)"), the Values, Bins (≤ 0:
+// automatic), the Nominal value (NaN: none), the Unit the nominal label and
+// the limits are written in (notation.Metric: "nominal 2 kHz"), and the
+// requirement Limits drawn as vertical lines labelled "limit 2.1 kHz".
+// A limit within one data span of the values widens the axis to show it;
+// one farther off is named at the nearer edge ("limit 0.10 dB →").
+type HistogramSpec struct {
+	Label   string
+	Values  []float64
+	Bins    int
+	Nominal float64
+	Unit    string
+	Limits  []float64
+}
+
+// MetricHistogram draws a histogram as Histogram does, with the units and
+// the requirement limits of spec. Series keys add "limit K" (K from 1)
+// with the two ends of each limit line drawn.
+func MetricHistogram(spec HistogramSpec) (*Figure, error) {
+	name, values, bins, nominal := spec.Label, spec.Values, spec.Bins, spec.Nominal
 	if len(values) == 0 {
 		return nil, fmt.Errorf("plot: histogram %q: no values", name)
 	}
@@ -61,10 +87,51 @@ func Histogram(name string, values []float64, bins int, nominal float64) (*Figur
 		if err := addPlain(pn, "nominal", [][2]float64{{nominal, 0}, {nominal, tallest}}, sty); err != nil {
 			return nil, err
 		}
-		if err := addNotes(pn, plotter.XYs{{X: nominal, Y: tallest}}, []string{"nominal " + strconv.FormatFloat(nominal, 'g', 5, 64)}); err != nil {
+		if err := addNotes(pn, plotter.XYs{{X: nominal, Y: tallest}}, []string{"nominal " + valueText(nominal, spec.Unit)}); err != nil {
 			return nil, err
 		}
 	}
+	lo, hi := h.Bins[0].Min, h.Bins[len(h.Bins)-1].Max
+	span := math.Max(hi-lo, 1e-12*math.Max(math.Abs(lo), math.Abs(hi)))
+	xmin, xmax := lo, hi
+	for k, lim := range spec.Limits {
+		if !finite(lim) {
+			continue
+		}
+		sty := draw.LineStyle{Color: limitColor, Width: vg.Points(1.2), Dashes: []vg.Length{vg.Points(3), vg.Points(2)}}
+		text := "limit " + valueText(lim, spec.Unit)
+		switch {
+		case lim < lo-span:
+			if err := addNotes(pn, plotter.XYs{{X: lo, Y: tallest * 0.55}}, []string{"← " + text}); err != nil {
+				return nil, err
+			}
+			continue
+		case lim > hi+span:
+			if err := addNotes(pn, plotter.XYs{{X: hi - 0.35*span, Y: tallest * 0.55}}, []string{text + " →"}); err != nil {
+				return nil, err
+			}
+			continue
+		}
+		xmin, xmax = math.Min(xmin, lim), math.Max(xmax, lim)
+		if err := addPlain(pn, fmt.Sprintf("limit %d", k+1), [][2]float64{{lim, 0}, {lim, tallest}}, sty); err != nil {
+			return nil, err
+		}
+		if err := addNotes(pn, plotter.XYs{{X: lim, Y: tallest * 0.55}}, []string{text}); err != nil {
+			return nil, err
+		}
+	}
+	if xmin < lo || xmax > hi {
+		pad := 0.05 * (xmax - xmin)
+		p.X.Min, p.X.Max = xmin-pad, xmax+pad
+	}
 	p.Y.Min = 0
 	return fig, nil
+}
+
+// valueText writes a metric value in its unit, in the one number style.
+func valueText(v float64, unit string) string {
+	if unit == "" {
+		return strconv.FormatFloat(v, 'g', 4, 64)
+	}
+	return notation.Metric(v, unit)
 }

@@ -41,11 +41,11 @@ func Impedance(fHz, magOhm, phaseDeg []float64, opt BodeOptions) (*Figure, error
 	mp.p.Y.Tick.Marker = logTicks{}
 	const name = "|Z|"
 	st := styleFor(0)
-	if err := addTrace(mp, name, magPts, st, 0, 1, false); err != nil {
+	if err := addTrace(mp, name, magPts, st, false); err != nil {
 		return nil, err
 	}
 	if phPts := pairs(fHz, phaseDeg); len(phPts) >= 2 {
-		if err := addTrace(pp, name, phPts, st, 0, 1, false); err != nil {
+		if err := addTrace(pp, name, phPts, st, false); err != nil {
 			return nil, err
 		}
 	}

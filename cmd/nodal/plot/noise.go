@@ -88,7 +88,7 @@ func Density(traces []DensityTrace, opt DensityOptions) (*Figure, error) {
 			}
 			continue // a contributor that vanishes in the range
 		}
-		if err := addTrace(pn, tr.Label, pts, styleFor(i), i, len(traces), true); err != nil {
+		if err := addTrace(pn, tr.Label, pts, styleFor(i), true); err != nil {
 			return nil, err
 		}
 	}

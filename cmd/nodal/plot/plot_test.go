@@ -197,7 +197,7 @@ func TestOmegaScale(t *testing.T) {
 		m      float64
 		factor float64
 		unit   string
-	}{{0, 1, "rad/s"}, {9999, 1, "rad/s"}, {1e4, 1e3, "krad/s"}, {6.3e6, 1e3, "krad/s"}, {2e8, 1e6, "Mrad/s"}, {1e11, 1e9, "Grad/s"}, {math.NaN(), 1, "rad/s"}}
+	}{{0, 1, "rad/s"}, {999, 1, "rad/s"}, {1e3, 1e3, "krad/s"}, {8928, 1e3, "krad/s"}, {6.3e6, 1e6, "Mrad/s"}, {2e8, 1e6, "Mrad/s"}, {1e11, 1e9, "Grad/s"}, {math.NaN(), 1, "rad/s"}}
 	for _, tt := range tests {
 		if f, u := OmegaScale(tt.m); f != tt.factor || u != tt.unit {
 			t.Errorf("OmegaScale(%g) = %g %q, want %g %q", tt.m, f, u, tt.factor, tt.unit)
@@ -613,6 +613,35 @@ func TestLegendAvoidsHighPassCurve(t *testing.T) {
 		}
 		if got := fig.panels[0].p.Legend.Top; got != tt.top {
 			t.Errorf("%s: legend at top = %v, want %v", tt.name, got, tt.top)
+		}
+	}
+}
+
+func TestMetricHistogramLimitsAndUnits(t *testing.T) {
+	vals := []float64{1950, 1990, 2000, 2010, 2040, 2060}
+	fig, err := MetricHistogram(HistogramSpec{Label: "−3 dB frequency (Hz)", Values: vals, Nominal: 2000, Unit: "Hz",
+		Limits: []float64{1900, 2100, 1e6}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := fig.Series()
+	// The two near limits are drawn; the one far off (1 MHz) is only named.
+	for k, want := range map[string]float64{"limit 1": 1900, "limit 2": 2100} {
+		l := s["histogram −3 dB frequency (Hz)/"+k]
+		if len(l) != 2 || l[0][0] != want || l[1][0] != want {
+			t.Errorf("%s: %v, want a line at %g", k, l, want)
+		}
+	}
+	if _, ok := s["histogram −3 dB frequency (Hz)/limit 3"]; ok {
+		t.Error("off-scale limit drawn as a line")
+	}
+	var svg bytes.Buffer
+	if err := fig.Encode(&svg, "svg"); err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"nominal 2 kHz", "limit 1.9 kHz", "limit 2.1 kHz", "limit 1 MHz →", "−3 dB frequency (Hz)"} {
+		if !strings.Contains(svg.String(), want) {
+			t.Errorf("SVG lacks %q", want)
 		}
 	}
 }

@@ -24,16 +24,18 @@ type PoleZeroOptions struct {
 const PanelPoleZero = "polezero"
 
 // OmegaScale returns the factor and unit used to label an s-plane axis
-// whose largest magnitude is maxAbsRad (rad/s): 1 "rad/s" below 10⁴,
-// 10³ "krad/s" below 10⁷, 10⁶ "Mrad/s" below 10¹⁰, else 10⁹ "Grad/s".
-// Tick values are the plotted rad/s values divided by the factor.
+// whose largest magnitude is maxAbsRad (rad/s), the prefix that keeps the
+// tick values between 1 and 999: 1 "rad/s" below 10³, 10³ "krad/s" below
+// 10⁶, 10⁶ "Mrad/s" below 10⁹, else 10⁹ "Grad/s" (a map reaching
+// 6.3·10⁶ rad/s reads "−6 Mrad/s", not "−6000 krad/s"). Tick values are
+// the plotted rad/s values divided by the factor.
 func OmegaScale(maxAbsRad float64) (factor float64, unit string) {
 	switch m := math.Abs(maxAbsRad); {
-	case !(m >= 1e4): // also NaN
+	case !(m >= 1e3): // also NaN
 		return 1, "rad/s"
-	case m < 1e7:
+	case m < 1e6:
 		return 1e3, "krad/s"
-	case m < 1e10:
+	case m < 1e9:
 		return 1e6, "Mrad/s"
 	}
 	return 1e9, "Grad/s"

@@ -90,7 +90,7 @@ func TestPoleZeroZoomOnDominantRoots(t *testing.T) {
 		if !strings.HasPrefix(zoom.Title, "zoom") || !strings.Contains(zoom.Title, "12.6 krad/s") {
 			t.Errorf("zoom title %q should say it is a zoom and to which |s| (|p| = 12.6 krad/s)", zoom.Title)
 		}
-		if !strings.Contains(main.XLabel, "krad/s") || !strings.Contains(zoom.XLabel, "(rad/s)") {
+		if !strings.Contains(main.XLabel, "(Mrad/s)") || !strings.Contains(zoom.XLabel, "(krad/s)") {
 			t.Errorf("axis units %q / %q", main.XLabel, zoom.XLabel)
 		}
 		if main.Title != "vibration logger" {

@@ -91,7 +91,7 @@ func Step(t, y []float64, m StepMarks, opt StepOptions) (*Figure, error) {
 	for i := range t {
 		pts[i] = [2]float64{t[i], y[i]}
 	}
-	if err := addTrace(pn, "response", pts, styleFor(0), 0, 1, false); err != nil {
+	if err := addTrace(pn, "response", pts, styleFor(0), false); err != nil {
 		return nil, err
 	}
 	ref := draw.LineStyle{Color: markColor, Width: vg.Points(0.8), Dashes: []vg.Length{vg.Points(5), vg.Points(3)}}

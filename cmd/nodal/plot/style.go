@@ -10,8 +10,9 @@ import (
 )
 
 // The nodal plot scheme: dark ink on white, one restrained hue per trace,
-// and every trace also told apart by its dash pattern and its marker glyph
-// so that a grey-scale print stays readable.
+// and every trace also told apart by its dash pattern so that a grey-scale
+// print stays readable (no marker glyphs on curves: a symbol on a curve
+// reads as a marked point).
 var (
 	inkColor   = color.RGBA{R: 0x22, G: 0x26, B: 0x2e, A: 0xff} // axes and text
 	gridMajor  = color.RGBA{R: 0xb8, G: 0xbc, B: 0xc4, A: 0xff}
@@ -43,20 +44,9 @@ var traceDashes = [][]vg.Length{
 	{vg.Points(10), vg.Points(4)},
 }
 
-// traceGlyphs mark every trace at a few points along its length.
-var traceGlyphs = []draw.GlyphDrawer{
-	draw.CircleGlyph{},
-	draw.SquareGlyph{},
-	draw.TriangleGlyph{},
-	draw.PlusGlyph{},
-	draw.PyramidGlyph{},
-	draw.BoxGlyph{},
-}
-
-// traceStyle is the line and glyph style of trace i (cycling).
+// traceStyle is the line style of trace i (cycling).
 type traceStyle struct {
-	line  draw.LineStyle
-	glyph draw.GlyphStyle
+	line draw.LineStyle
 }
 
 func styleFor(i int) traceStyle {
@@ -66,11 +56,6 @@ func styleFor(i int) traceStyle {
 			Color:  c,
 			Width:  vg.Points(1.4),
 			Dashes: traceDashes[i%len(traceDashes)],
-		},
-		glyph: draw.GlyphStyle{
-			Color:  c,
-			Radius: vg.Points(2.6),
-			Shape:  traceGlyphs[i%len(traceGlyphs)],
 		},
 	}
 }
@@ -110,6 +95,7 @@ func newPanel(title, xLabel, yLabel string) *gplot.Plot {
 	p.Legend.TextStyle.Font = sansFont(tickFontPt)
 	p.Legend.TextStyle.Color = inkColor
 	p.Legend.ThumbnailWidth = vg.Points(26)
+	p.Legend.Padding = vg.Points(3) // entries one font descent apart: their text boxes never touch
 	p.Legend.XOffs = -vg.Points(4)
 	p.Legend.YOffs = -vg.Points(4)
 	return p

@@ -29,6 +29,15 @@ type Data struct {
 	// Notes are remarks of the analysis worth a reader's attention
 	// (for instance cancelled pole-zero pairs), shown with the summary.
 	Notes []string
+	// Generated is when the report was made, as text ("2026-12-02 15:40
+	// UTC"); "" leaves it out.
+	Generated string
+	// CommandLine is the command that made the report ("nodal report
+	// tone.nodal -o tone.html"); "" leaves it out.
+	CommandLine string
+	// SourceText is the circuit file as read, listed at the end of the
+	// report; "" leaves the listing out.
+	SourceText string
 
 	Parts    []Part
 	Transfer *Transfer
@@ -215,14 +224,22 @@ type Stat struct {
 
 // Verdict is one requirement check: the requirement as written, the
 // nominal value of its metric (in Unit), whether the nominal design
-// passes, and, after a Monte Carlo run, the fraction of runs that pass
-// (Yield in 0…1, nil without one).
+// passes; the range over the worst-case corners (WorstMin..WorstMax, with
+// Worst false when no corner was evaluated, as for a circuit without
+// tolerances) and whether it passes; after a Monte Carlo run, the
+// fraction of runs that pass (Yield in 0…1, nil without one). The yield
+// verdict passes when every run passes.
 type Verdict struct {
 	Requirement string
 	Value       float64
 	Unit        string
 	Pass        bool
-	Yield       *float64
+
+	Worst              bool
+	WorstMin, WorstMax float64
+	WorstPass          bool
+
+	Yield *float64
 }
 
 // ResponsePoint is one row of the frequency-response table: frequency in

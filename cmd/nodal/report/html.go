@@ -8,6 +8,7 @@ import (
 	"html/template"
 	"io"
 	"regexp"
+	"strconv"
 	"strings"
 
 	"nodal/cmd/nodal/plot"
@@ -93,10 +94,17 @@ func inlineSVG(p Plot) (template.HTML, error) {
 		label = "plot"
 	}
 	src = strings.ReplaceAll(src, "font-family:Liberation Sans;", "font-family:'Liberation Sans',Arial,Helvetica,sans-serif;")
-	// square plots (the s-plane map) are kept smaller than the column
+	// s-plane maps (square, or two squares one above the other with the
+	// zoom) are drawn at one width, about their natural size: every map
+	// panel is then the same size on the page and its fonts keep their
+	// point size, rather than being blown up to the column width
 	class := "plot-wide"
-	if m := svgSize.FindStringSubmatch(src); m != nil && m[1] == m[2] {
-		class = "plot-square"
+	if m := svgSize.FindStringSubmatch(src); m != nil {
+		if w, errW := strconv.ParseFloat(m[1], 64); errW == nil {
+			if h, errH := strconv.ParseFloat(m[2], 64); errH == nil && w <= h {
+				class = "plot-square"
+			}
+		}
 	}
 	return template.HTML(`<svg class="` + class + `" role="img" aria-label="` + html.EscapeString(label) + `"` + src), nil // SVG from our own plot package
 }

@@ -136,7 +136,7 @@ func TestRenderContainsSectionsAndNumbers(t *testing.T) {
 		"-10 krad/s", "1.5915 kHz", "0.5385", // roots: ω0 = 1e4 rad/s, f0 = 1591.55 Hz
 		"335.8 µs", // rise time 3.3579/ω0
 		"200 runs", "seed 42", "1.0194 kHz", "1.0187 kHz", "21.3 Hz", "961.2 Hz", "1.019 kHz",
-		`<tr class="pass">`, `<tr class="fail">`, "PASS ✓", "FAIL ✗", "98.5 %", "-20.4 dB",
+		`<tr class="pass">`, `<tr class="fail">`, "PASS ✓", "FAIL ✗", "98.5 %", "-20.40 dB",
 		"1 of 2 requirements fail",
 		SafetyNote, d.Source.SHA256, "0.3.1", "tone-stage.ckt",
 		"Bode plot of v(out)/v(in)", `aria-label="Pole-zero map"`,
@@ -234,7 +234,7 @@ func TestRenderLeavesOutAbsentSections(t *testing.T) {
 			t.Errorf("empty data rendered %q", absent)
 		}
 	}
-	for _, present := range []string{"<title>nodal report</title>", "built-in demo", "development build", "Rload", SafetyNote} {
+	for _, present := range []string{"<title>demo.ckt</title>", "built-in demo", "development build", "Rload", SafetyNote} {
 		if !strings.Contains(out, present) {
 			t.Errorf("report lacks %q", present)
 		}
@@ -308,9 +308,10 @@ func TestFormatValue(t *testing.T) {
 		want string
 	}{
 		{1019.4, "Hz", "1.019 kHz"},
-		{0.5, "dB", "0.5 dB"}, // no "500 mdB"
-		{-20.4, "dB", "-20.4 dB"},
-		{-92.25, "°", "-92.25°"},
+		{0.5, "dB", "0.50 dB"}, // no "500 mdB"
+		{-20.4, "dB", "-20.40 dB"},
+		{-92.26, "°", "-92.3°"},
+		{-92.26, "deg", "-92.3°"},
 		{12.5, "%", "12.5 %"},
 		{0.7071, "", "0.7071"},
 		{3.358e-4, "s", "335.8 µs"},
@@ -319,6 +320,74 @@ func TestFormatValue(t *testing.T) {
 	for _, tt := range tests {
 		if got := formatValue(tt.v, tt.unit); got != tt.want {
 			t.Errorf("formatValue(%g, %q) = %q, want %q", tt.v, tt.unit, got, tt.want)
+		}
+	}
+}
+
+func TestRenderHeaderSourceAndVerdictColumns(t *testing.T) {
+	d := &Data{
+		Source:      Source{Name: "bench/tone.nodal", SHA256: Checksum([]byte("x"))},
+		Version:     "9.9.9",
+		Generated:   "2026-12-02 15:40 UTC",
+		CommandLine: "nodal report bench/tone.nodal -o 'my report.html'",
+		Banner:      []string{"a pole in the right half-plane"},
+		SourceText:  "Vs: voltage source (in, gnd) 1\nR1: resistor (in, out) 1k <&>\n",
+		Parts:       []Part{{Name: "R1", Kind: "resistor", Nodes: []string{"in", "out"}, Value: "1 kΩ"}},
+		Verdicts: []Verdict{
+			{Requirement: "require f3db within 1.9kHz..2.1kHz", Value: 2000, Unit: "Hz", Pass: true,
+				Worst: true, WorstMin: 1886, WorstMax: 2126, WorstPass: false, Yield: ptr(0.972)},
+			{Requirement: "require dc within -0.1dB..0.1dB", Value: 0, Unit: "dB", Pass: true},
+		},
+	}
+	out := render(t, d)
+	for _, want := range []string{
+		"<title>tone.nodal</title>", "<h1>tone.nodal</h1>", // untitled: its file name
+		"2026-12-02 15:40 UTC", "nodal 9.9.9", "nodal report bench/tone.nodal -o &#39;my report.html&#39;",
+		"a pole in the right half-plane",
+		`id="source"`, "R1: resistor (in, out) 1k &lt;&amp;&gt;",
+		`<th class="num">worst case</th>`, "1.886 kHz .. 2.126 kHz", "97.2 %", `<td class="verdict-fail">FAIL ✗</td>`, `<td class="verdict-pass">PASS ✓</td>`, "1 fail in the worst case", "1 fail in some Monte Carlo runs",
+	} {
+		if !strings.Contains(out, want) {
+			t.Errorf("report lacks %q", want)
+		}
+	}
+	// The stability warning is the first section; the listing the last.
+	if b, h := strings.Index(out, `<section id="stability-warning"`), strings.Index(out, "<section"); b < 0 || b != h {
+		t.Errorf("warning section at %d, first section at %d", b, h)
+	}
+	if s, v := strings.Index(out, `id="source"`), strings.Index(out, `id="verdicts"`); s < v {
+		t.Errorf("source listing at %d before the requirements at %d", s, v)
+	}
+	// Each verdict column has its own verdict: nominal pass, worst FAIL,
+	// yield FAIL on the first row; no worst case or yield on the second.
+	row := out[strings.Index(out, "require f3db"):]
+	row = row[:strings.Index(row, "</tr>")]
+	if strings.Count(row, "PASS ✓") != 1 || strings.Count(row, "FAIL ✗") != 2 {
+		t.Errorf("first row %q: want one PASS and two FAIL", row)
+	}
+	var txt strings.Builder
+	if err := RenderText(&txt, d); err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"a pole in the right half-plane", "2026-12-02 15:40 UTC · nodal 9.9.9 · nodal report", "Circuit source", "    R1: resistor (in, out) 1k <&>"} {
+		if !strings.Contains(txt.String(), want) {
+			t.Errorf("text report lacks %q", want)
+		}
+	}
+}
+
+func TestPoleZeroMapsShareOneWidth(t *testing.T) {
+	// A map with a zoom panel (roots spread over three decades) is two
+	// squares tall; it gets the same width class as a single map, so
+	// every map panel is drawn the same size.
+	for _, poles := range [][]complex128{{-1e3, complex(-500, 800), complex(-500, -800)}, {-1e6, complex(-500, 800), complex(-500, -800)}} {
+		pz, err := plot.PoleZero(poles, nil, plot.PoleZeroOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		out := render(t, &Data{Source: Source{Name: "pz.nodal", SHA256: Checksum(nil)}, Parts: []Part{{Name: "R1"}}, PoleZero: Plot{Figure: pz}})
+		if !strings.Contains(out, `<svg class="plot-square"`) {
+			t.Errorf("poles %v: the map is not drawn at the map width", poles)
 		}
 	}
 }

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"nodal/cmd/nodal/notation"
+	"path"
+	"path/filepath"
 	"regexp"
 	"strconv"
 	"strings"
@@ -34,15 +36,19 @@ type table struct {
 	Rows    []row
 }
 
-// row is one table row; Class is "pass", "fail" or "".
+// row is one table row; Class is "pass", "fail" or ""; Verdicts, when
+// set, gives each cell its own "pass", "fail" or "" (a verdict column).
 type row struct {
-	Cells []string
-	Class string
+	Cells    []string
+	Class    string
+	Verdicts []string
 }
 
-// footer is what closes every report.
+// footer is what closes every report; the masthead shows its Generated,
+// CommandLine and Version too.
 type footer struct {
 	Version, SourceName, SHA256, Safety string
+	Generated, CommandLine              string
 }
 
 var hex64 = regexp.MustCompile(`^[0-9a-f]{64}$`)
@@ -57,9 +63,14 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 	}
 	title = d.Title
 	if title == "" {
-		title = "nodal report"
+		// An untitled file is headed by its file name.
+		title = path.Base(filepath.ToSlash(d.Source.Name))
+		if d.Source.Name == "" || title == "." || title == "/" {
+			title = "nodal report"
+		}
 	}
-	foot = footer{Version: d.Version, SourceName: d.Source.Name, SHA256: d.Source.SHA256, Safety: SafetyNote}
+	foot = footer{Version: d.Version, SourceName: d.Source.Name, SHA256: d.Source.SHA256, Safety: SafetyNote,
+		Generated: d.Generated, CommandLine: d.CommandLine}
 	if foot.Version == "" {
 		foot.Version = "development build"
 	}
@@ -112,30 +123,81 @@ func build(d *Data) (title string, secs []section, foot footer, err error) {
 	}
 
 	if len(d.Verdicts) > 0 {
-		t := table{Header: []string{"requirement", "nominal value", "verdict", "yield"}, Right: []bool{false, true, false, true}}
-		failed := 0
-		for _, v := range d.Verdicts {
-			verdict, class := "PASS ✓", "pass"
-			if !v.Pass {
-				verdict, class = "FAIL ✗", "fail"
-				failed++
-			}
-			yield := "—"
-			if v.Yield != nil {
-				yield = strconv.FormatFloat(100**v.Yield, 'f', 1, 64) + " %"
-			}
-			t.Rows = append(t.Rows, row{Cells: []string{v.Requirement, formatValue(v.Value, v.Unit), verdict, yield}, Class: class})
-		}
-		para := fmt.Sprintf("All %d requirements pass at nominal values.", len(d.Verdicts))
-		if failed > 0 {
-			para = fmt.Sprintf("%d of %d requirements fail at nominal values.", failed, len(d.Verdicts))
-		}
-		secs = append(secs, section{ID: "verdicts", Heading: "Requirements", Paras: []string{para}, Tables: []table{t}})
+		secs = append(secs, verdictSection(d.Verdicts))
 	}
 	if n := d.Noise; n != nil {
 		secs = append(secs, noiseSection(n))
 	}
+	if d.SourceText != "" { // last: the listing closes the report
+		secs = append(secs, section{ID: "source", Heading: "Circuit source",
+			Paras:  []string{"The circuit file as read (" + d.Source.Name + ")."},
+			Blocks: []block{{"", strings.TrimRight(d.SourceText, "\n")}}})
+	}
 	return title, secs, foot, nil
+}
+
+// verdictText is the verdict cell of a check.
+func verdictText(pass bool) string {
+	if pass {
+		return "PASS ✓"
+	}
+	return "FAIL ✗"
+}
+
+// verdictSection is the requirements table: the nominal value, the
+// worst-case range and the Monte Carlo yield, each with its own verdict.
+// A row is marked by its nominal verdict.
+func verdictSection(vs []Verdict) section {
+	t := table{Header: []string{"requirement", "nominal", "verdict", "worst case", "verdict", "yield", "verdict"},
+		Right: []bool{false, true, false, true, false, true, false}}
+	var failNom, failWorst, failYield int
+	for _, v := range vs {
+		class := "pass"
+		worst, worstVerdict := "—", "—"
+		if v.Worst {
+			worst = formatValue(v.WorstMin, v.Unit) + " .. " + formatValue(v.WorstMax, v.Unit)
+			worstVerdict = verdictText(v.WorstPass)
+			if !v.WorstPass {
+				failWorst++
+			}
+		}
+		yield, yieldVerdict := "—", "—"
+		if v.Yield != nil {
+			yield = strconv.FormatFloat(100**v.Yield, 'f', 1, 64) + " %"
+			yieldVerdict = verdictText(*v.Yield == 1)
+			if *v.Yield != 1 {
+				failYield++
+			}
+		}
+		if !v.Pass {
+			failNom++
+			class = "fail"
+		}
+		cls := func(shown bool, pass bool) string {
+			switch {
+			case !shown:
+				return ""
+			case pass:
+				return "verdict-pass"
+			}
+			return "verdict-fail"
+		}
+		t.Rows = append(t.Rows, row{Cells: []string{v.Requirement, formatValue(v.Value, v.Unit), verdictText(v.Pass), worst, worstVerdict, yield, yieldVerdict}, Class: class,
+			Verdicts: []string{"", "", cls(true, v.Pass), "", cls(v.Worst, v.WorstPass), "", cls(v.Yield != nil, v.Yield != nil && *v.Yield == 1)}})
+	}
+	n := len(vs)
+	para := fmt.Sprintf("All %d requirements pass at nominal values.", n)
+	if failNom > 0 {
+		para = fmt.Sprintf("%d of %d requirements fail at nominal values.", failNom, n)
+	}
+	if failWorst > 0 {
+		para += fmt.Sprintf(" %d fail in the worst case.", failWorst)
+	}
+	if failYield > 0 {
+		para += fmt.Sprintf(" %d fail in some Monte Carlo runs (the yield verdict passes only when every run passes).", failYield)
+	}
+	paras := []string{para}
+	return section{ID: "verdicts", Heading: "Requirements", Paras: paras, Tables: []table{t}}
 }
 
 // noiseSection is the noise at the output: plot, band figures, sources.
@@ -166,9 +228,17 @@ func noiseSection(n *Noise) section {
 // ratios) are printed as plain numbers.
 var siUnits = map[string]bool{"Hz": true, "s": true, "V": true, "A": true, "Ω": true, "F": true, "H": true, "rad/s": true, "S": true, "W": true, "V/√Hz": true}
 
-// formatValue writes v with unit: four significant digits, with an SI
-// prefix for the units in siUnits.
-func formatValue(v float64, unit string) string { return formatDigits(v, 4, unit) }
+// formatValue writes a metric value or limit with unit in the one style of
+// verdict tables (notation.Metric); "—" for NaN (no value: a note says why).
+func formatValue(v float64, unit string) string {
+	if math.IsNaN(v) {
+		return "—"
+	}
+	if unit == "%" || unit == "s" || unit == "V" || unit == "A" {
+		return formatDigits(v, 4, unit)
+	}
+	return notation.Metric(v, unit)
+}
 
 // formatDigits is formatValue with the given significant digits.
 func formatDigits(v float64, digits int, unit string) string {

@@ -22,6 +22,14 @@ func RenderText(w io.Writer, d *Data) error {
 	var buf bytes.Buffer // render fully before writing
 	bw := bufio.NewWriter(&buf)
 	fmt.Fprintf(bw, "%s\n%s\n", title, strings.Repeat("=", max(len([]rune(title)), 8)))
+	made := "nodal " + foot.Version
+	if foot.Generated != "" {
+		made = foot.Generated + " · " + made
+	}
+	if foot.CommandLine != "" {
+		made += " · " + foot.CommandLine
+	}
+	fmt.Fprintln(bw, made)
 	for _, s := range secs {
 		fmt.Fprintf(bw, "\n%s\n%s\n", s.Heading, strings.Repeat("-", len([]rune(s.Heading))))
 		for _, p := range s.Paras {
