@@ -35,7 +35,7 @@ const (
 
 // MaxUnknowns is the size of the largest MNA system whose natural
 // frequencies are computed (a dense eigenvalue problem, O(n³)).
-const MaxUnknowns = 2000
+const MaxUnknowns = 1000
 
 // ErrUnchecked is the error of a stability question about a circuit past
 // MaxUnknowns.
