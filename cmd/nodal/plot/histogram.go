@@ -36,6 +36,9 @@ func Histogram(name string, values []float64, bins int, nominal float64) (*Figur
 // requirement Limits drawn as vertical lines labelled "limit 2.1 kHz".
 // A limit within one data span of the values widens the axis to show it;
 // one farther off is named at the nearer edge ("limit 0.10 dB →").
+// A metric that barely moves is labelled by offsets from a reference the
+// axis label names (offsetAxis); one that never moves gets one bar and
+// one tick at its value.
 type HistogramSpec struct {
 	Label   string
 	Values  []float64
@@ -67,6 +70,14 @@ func MetricHistogram(spec HistogramSpec) (*Figure, error) {
 	h, err := plotter.NewHist(plotter.Values(values), bins)
 	if err != nil {
 		return nil, fmt.Errorf("plot: histogram %q: %w", name, err)
+	}
+	vmin, vmax := values[0], values[0]
+	for _, v := range values {
+		vmin, vmax = math.Min(vmin, v), math.Max(vmax, v)
+	}
+	if vmin == vmax { // every run alike: one bar centred on the value
+		w := math.Max(1e-3*math.Abs(vmin), 1e-12)
+		h.Bins = []plotter.HistogramBin{{Min: vmin - w/2, Max: vmin + w/2, Weight: float64(len(values))}}
 	}
 	h.FillColor = histFill
 	h.LineStyle = draw.LineStyle{Color: bandEdge, Width: vg.Points(0.6)}
@@ -120,9 +131,15 @@ func MetricHistogram(spec HistogramSpec) (*Figure, error) {
 			return nil, err
 		}
 	}
-	if xmin < lo || xmax > hi {
+	widened := xmin < lo || xmax > hi
+	if widened {
 		pad := 0.05 * (xmax - xmin)
 		p.X.Min, p.X.Max = xmin-pad, xmax+pad
+	}
+	if vmin == vmax && !widened {
+		p.X.Tick.Marker = singleTick{Value: vmin}
+	} else {
+		p.X.Tick.Marker, p.X.Label.Text = offsetAxis(p.X.Min, p.X.Max, name, spec.Unit)
 	}
 	p.Y.Min = 0
 	return fig, nil

@@ -1,8 +1,11 @@
 package plot
 
 import (
+	"math"
 	"strings"
 	"testing"
+
+	"nodal/netlist/syntax"
 
 	gplot "gonum.org/v1/plot"
 )
@@ -108,5 +111,104 @@ func TestStepTimeLabelsNoSpareDecimals(t *testing.T) {
 	}
 	if len(labels) < 3 {
 		t.Errorf("time labels %q", labels)
+	}
+}
+
+// The rule under test (common practice for axis labelling): on any range,
+// narrow or wide, the labelled ticks are pairwise distinct, at most
+// maxTickLabelRunes long, and read back (with the reference and the unit
+// scale the axis label names) within half a tick step of where they sit.
+// The narrow ranges are a metric that barely moves across Monte Carlo
+// runs; before offsetAxis every tick of the first read "-43.4293396" or
+// longer, and those of the second all read "1".
+func TestOffsetAxisTicksReadable(t *testing.T) {
+	tests := []struct {
+		name   string
+		lo, hi float64
+		unit   string
+		offset bool // labelled by offsets from a reference
+	}{
+		{"dc gain barely moving", -43.4293396, -43.4293390, "dB", true},
+		{"1e-12 wide at 1", 1, 1 + 1e-12, "", true},
+		{"demo rounding spread", -43.42933962e-6, -43.42933962e-6 + 1e-16, "", true},
+		{"unit interval", 0, 1, "", false},
+		{"three decades", 1e3, 1e6, "Hz", false},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			ticker, label := offsetAxis(tt.lo, tt.hi, "x", tt.unit)
+			lt, ok := ticker.(linearTicks)
+			if !ok {
+				t.Fatalf("ticker %T, want linearTicks", ticker)
+			}
+			if got := lt.Offset != 0 || lt.Scale != 0; got != tt.offset {
+				t.Errorf("offset labelling %v (label %q), want %v", got, label, tt.offset)
+			}
+			if tt.offset && !strings.Contains(label, "Δ from ") {
+				t.Errorf("label %q does not name the reference", label)
+			}
+			scale := lt.Scale
+			if scale == 0 {
+				scale = 1
+			}
+			var vals, pos []float64
+			seen := map[string]bool{}
+			for _, tk := range ticker.Ticks(tt.lo, tt.hi) {
+				if tk.Label == "" {
+					continue
+				}
+				if seen[tk.Label] {
+					t.Errorf("label %q repeats", tk.Label)
+				}
+				seen[tk.Label] = true
+				if n := len([]rune(tk.Label)); n > maxTickLabelRunes {
+					t.Errorf("label %q has %d characters", tk.Label, n)
+				}
+				v, err := syntax.ParseValue(tk.Label, "")
+				if err != nil {
+					t.Fatalf("label %q: %v", tk.Label, err)
+				}
+				vals = append(vals, lt.Offset+v*scale)
+				pos = append(pos, tk.Value)
+			}
+			if len(vals) < 2 {
+				t.Fatalf("%d labelled ticks", len(vals))
+			}
+			step := pos[1] - pos[0]
+			for i := range vals {
+				if math.Abs(vals[i]-pos[i]) > step/2 {
+					t.Errorf("tick at %.17g reads back as %.17g (step %g)", pos[i], vals[i], step)
+				}
+			}
+		})
+	}
+}
+
+// A range of zero width gets one tick, at the value.
+func TestOffsetAxisZeroWidth(t *testing.T) {
+	ticker, _ := offsetAxis(-43.4293396, -43.4293396, "x", "dB")
+	ticks := ticker.Ticks(-43.5, -43.3)
+	if len(ticks) != 1 || ticks[0].Value != -43.4293396 || ticks[0].Label == "" {
+		t.Fatalf("ticks %+v, want one labelled tick at the value", ticks)
+	}
+	v, err := syntax.ParseValue(ticks[0].Label, "")
+	if err != nil || math.Abs(v+43.4293396) > 0.05 {
+		t.Errorf("label %q reads %g (%v)", ticks[0].Label, v, err)
+	}
+}
+
+// A histogram of a metric that never moves draws one bar and one tick.
+func TestHistogramConstantMetric(t *testing.T) {
+	vals := make([]float64, 200)
+	for i := range vals {
+		vals[i] = -43.4293396
+	}
+	fig, err := MetricHistogram(HistogramSpec{Label: "dc gain (dB)", Values: vals, Nominal: -43.4293396, Unit: "dB"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	fig.Layout()
+	if labels := labelsOf(fig.panels[0].p.X); len(labels) != 1 {
+		t.Errorf("labels %q, want one", labels)
 	}
 }
