@@ -10,7 +10,8 @@ import (
 )
 
 // DefaultTempK is the temperature (K) of the noise metrics of `require`,
-// `nodal tolerance` and the report: noise@F and noise_rms@F1..F2.
+// `nodal tolerance` and the report (noise@F and noise_rms@F1..F2) when
+// no other is given.
 const DefaultTempK = 300
 
 // metricSubject answers the noise quantities of the metric registry from an
@@ -22,11 +23,15 @@ type metricSubject struct {
 }
 
 // MetricSubject returns base with NoiseDensityAt and NoiseRMS answered by
-// the noise of c at the output out, at DefaultTempK. The noise metrics are
+// the noise of c at the output out, every resistor at tempK kelvin (0:
+// DefaultTempK). The noise metrics are
 // in V/√Hz and V: an output that is not a node voltage is refused when a
 // noise quantity is asked for. Not safe for concurrent use.
-func MetricSubject(c *netlist.Circuit, out mna.Observation, base netlist.MetricSubject) (netlist.MetricSubject, error) {
-	a, err := New(c, Config{Out: out, TempK: DefaultTempK})
+func MetricSubject(c *netlist.Circuit, out mna.Observation, base netlist.MetricSubject, tempK float64) (netlist.MetricSubject, error) {
+	if tempK == 0 {
+		tempK = DefaultTempK
+	}
+	a, err := New(c, Config{Out: out, TempK: tempK})
 	if err != nil {
 		return nil, err
 	}

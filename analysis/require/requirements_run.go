@@ -246,6 +246,9 @@ type RequirementMetrics struct {
 	pos     []netlist.Pos // of each requirement, for errors
 	probes  []mna.Probe   // distinct probes, in order of first use
 	of      []int         // per requirement: its index in probes
+	// TempK is the temperature of every resistor (K) for the noise
+	// metrics noise@F and noise_rms@F1..F2; 0 is noise.DefaultTempK.
+	TempK float64
 }
 
 // NewRequirementMetrics parses the metric of every requirement, all taken
@@ -336,7 +339,7 @@ func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, e
 		if err != nil {
 			return nil, nil, err
 		}
-		sub, err := variation.MetricSubject(c, p.Ob, tf, circ, ms)
+		sub, err := variation.MetricSubject(c, p.Ob, tf, circ, ms, r.TempK)
 		if err != nil {
 			return nil, nil, err
 		}

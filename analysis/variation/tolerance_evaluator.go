@@ -52,16 +52,24 @@ type MetricEvaluator struct {
 	spot bool
 	// phaseRefDeg holds the nominal value of each phase@F metric.
 	phaseRefDeg []float64
+	// tempK is the resistors' temperature of the noise metrics (K).
+	tempK float64
 }
 
 // NewMetricEvaluator parses the metric names (an unknown one is an error
 // listing the valid ones) and checks that the nominal circuit gives every
 // metric a finite value for this input and output.
 func NewMetricEvaluator(nominal *netlist.Circuit, in mna.Input, out mna.Output, metrics []string) (*MetricEvaluator, error) {
+	return NewMetricEvaluatorAt(nominal, in, out, metrics, noise.DefaultTempK)
+}
+
+// NewMetricEvaluatorAt is NewMetricEvaluator with the noise metrics
+// (noise@F, noise_rms@F1..F2) taken with every resistor at tempK kelvin.
+func NewMetricEvaluatorAt(nominal *netlist.Circuit, in mna.Input, out mna.Output, metrics []string, tempK float64) (*MetricEvaluator, error) {
 	if len(metrics) == 0 {
 		return nil, fmt.Errorf("no metric given (metrics: %s)", strings.Join(netlist.MetricNames(), ", "))
 	}
-	e := &MetricEvaluator{in: in, out: out, names: append([]string(nil), metrics...)}
+	e := &MetricEvaluator{in: in, out: out, names: append([]string(nil), metrics...), tempK: tempK}
 	for _, name := range metrics {
 		m, err := transfer.ParseMetric(name)
 		if err != nil {
@@ -135,7 +143,7 @@ func (e *MetricEvaluator) evalExtract(c *netlist.Circuit, check bool) ([]float64
 	if err != nil {
 		return nil, err
 	}
-	sub, err := MetricSubject(c, e.out, tf, circ, e.metrics)
+	sub, err := MetricSubject(c, e.out, tf, circ, e.metrics, e.tempK)
 	if err != nil {
 		return nil, err
 	}
@@ -157,13 +165,14 @@ func (e *MetricEvaluator) evalExtract(c *netlist.Circuit, check bool) ([]float64
 }
 
 // MetricSubject is what the metrics are evaluated on: tf's subject, with
-// the noise of c at out when a metric needs it (noise@F, noise_rms@F1..F2).
-// The requirement runs of package require use it too.
-func MetricSubject(c *netlist.Circuit, out mna.Output, tf *transfer.TransferFunction, circ transfer.CircuitMetrics, metrics []transfer.Metric) (netlist.MetricSubject, error) {
+// the noise of c at out when a metric needs it (noise@F, noise_rms@F1..F2),
+// every resistor at tempK kelvin (0: noise.DefaultTempK). The requirement
+// runs of package require use it too.
+func MetricSubject(c *netlist.Circuit, out mna.Output, tf *transfer.TransferFunction, circ transfer.CircuitMetrics, metrics []transfer.Metric, tempK float64) (netlist.MetricSubject, error) {
 	base := tf.SubjectIn(circ)
 	for _, m := range metrics {
 		if m.Spec.Noise {
-			return noise.MetricSubject(c, out, base)
+			return noise.MetricSubject(c, out, base, tempK)
 		}
 	}
 	return base, nil

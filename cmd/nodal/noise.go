@@ -27,12 +27,12 @@ type noiseCmd struct {
 	probeArgs
 	freqArgs
 	Band      string `help:"Integrate over F1..F2 (default: the sweep range), e.g. 20Hz..20kHz." placeholder:"F1..F2"`
-	Temp      string `help:"Temperature of every resistor: kelvin (300K, 300) or degrees Celsius (85degC)." default:"300K" placeholder:"T"`
 	SignalRms string `help:"RMS of the wanted signal at the output (V, or A for a current output): adds the SNR over the band." placeholder:"V"`
 	Traces    int    `help:"Largest contributors drawn as their own traces with --plot." default:"4"`
 	Format    string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output    string `short:"o" help:"Write the table or JSON to this file instead of standard output." placeholder:"FILE" type:"path"`
 	Plot      string `help:"Also draw the noise densities on log-log axes to this file (.svg or .png)." placeholder:"FILE" type:"path"`
+	tempArgs
 }
 
 // Help is the extended help with a worked example.
@@ -78,6 +78,15 @@ type noiseRun struct {
 	band *noise.Integrated // nil without a band
 	snr  *float64
 }
+
+// tempArgs is the --temp flag of every command that computes noise
+// (noise, and the noise metrics of verify, tolerance and report).
+type tempArgs struct {
+	Temp string `help:"Temperature of every resistor for noise: kelvin (300K, 300) or degrees Celsius (85degC)." default:"300K" placeholder:"T"`
+}
+
+// kelvin is the temperature of --temp, K.
+func (t tempArgs) kelvin() (float64, error) { return parseTemperature(t.Temp) }
 
 // parseTemperature reads a temperature in kelvin ("300K", "300") or
 // degrees Celsius ("85degC", "85°C") and returns kelvin (> 0).
@@ -154,7 +163,7 @@ func (c *noiseCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	tempK, err := parseTemperature(c.Temp)
+	tempK, err := c.kelvin()
 	if err != nil {
 		return err
 	}
@@ -252,6 +261,18 @@ func columnsFor(a *noise.Analyzer) noiseColumns {
 // temperatureText writes a temperature in kelvin and degrees Celsius.
 func temperatureText(k float64) string {
 	return fmt.Sprintf("%s K (%s °C)", trimFloat(k, 6), trimFloat(k-273.15, 6))
+}
+
+// noiseMetricsNote is the line that says at which temperature the noise
+// metrics among metrics (noise@F, noise_rms@F1..F2) were taken, "" when
+// there are none.
+func noiseMetricsNote(metrics []string, tempK float64) string {
+	for _, m := range metrics {
+		if spec, _, err := netlist.ParseMetric(m); err == nil && spec.Noise {
+			return "noise metrics at " + temperatureText(tempK)
+		}
+	}
+	return ""
 }
 
 // noiseTable prints the spectrum and the band figures.

@@ -5,6 +5,8 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -174,5 +176,62 @@ func TestPartsShowNoise(t *testing.T) {
 	r = runNodal(t, "", "parts", "../../testdata/reference/noise/photodiode_tia_noise.nodal", "--format", "json")
 	if !strings.Contains(r.stdout, `"en_v_per_rthz"`) || !strings.Contains(r.stdout, `"noiseless": true`) {
 		t.Errorf("parts JSON lacks the noise model:\n%s", r.stdout)
+	}
+}
+
+// dividerNoiseFile is a 10k/10k divider with `require noise@1kHz below
+// 9.5nV`; its tap density is √(4kT·R1R2/(R1+R2)) (Thévenin; common
+// practice), which scales as √T (Johnson 1928, Nyquist 1928, Physical
+// Review 32): 9.10 nV/√Hz at 300 K passes, 9.94 nV/√Hz at 85 °C fails.
+const dividerNoiseFile = "testdata/noise_divider.nodal"
+
+// TestNoiseMetricsTemperature: verify, tolerance and report take the
+// noise metrics at --temp and say so.
+func TestNoiseMetricsTemperature(t *testing.T) {
+	const boltzmann = 1.380649e-23 // J/K, exact since the 2019 SI
+	for _, tc := range []struct {
+		temp  string
+		k     float64
+		code  int
+		shown string
+	}{
+		{"300K", 300, 0, "noise metrics at 300 K (26.85 °C)"},
+		{"85degC", 358.15, 1, "noise metrics at 358.15 K (85 °C)"},
+	} {
+		r := runNodal(t, "", "verify", dividerNoiseFile, "--runs", "20", "--temp", tc.temp, "--format", "json")
+		if r.code != tc.code {
+			t.Errorf("verify --temp %s: code %d, want %d\n%s%s", tc.temp, r.code, tc.code, r.stdout, r.stderr)
+		}
+		var doc struct {
+			Requirements []struct {
+				Requirement string
+				Nominal     *float64
+			}
+			Notes []string
+		}
+		if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
+			t.Fatalf("verify --temp %s: %v\n%s", tc.temp, err, r.stdout)
+		}
+		if len(doc.Requirements) != 2 || doc.Requirements[1].Nominal == nil {
+			t.Fatalf("verify --temp %s: requirements %+v", tc.temp, doc.Requirements)
+		}
+		want := math.Sqrt(4 * boltzmann * tc.k * 10e3 * 10e3 / 20e3)
+		if got := *doc.Requirements[1].Nominal; math.Abs(got-want) > 1e-6*want {
+			t.Errorf("verify --temp %s: noise@1kHz %.6g V/√Hz, want %.6g", tc.temp, got, want)
+		}
+		if !slices.Contains(doc.Notes, tc.shown) {
+			t.Errorf("verify --temp %s: notes %q lack %q", tc.temp, doc.Notes, tc.shown)
+		}
+		r = runNodal(t, "", "tolerance", dividerNoiseFile, "--metric", "noise@1kHz", "--runs", "20", "--temp", tc.temp)
+		if r.code != 0 || !strings.Contains(r.stdout, tc.shown) {
+			t.Errorf("tolerance --temp %s: code %d, no %q\n%s%s", tc.temp, r.code, tc.shown, r.stdout, r.stderr)
+		}
+		r = runNodal(t, "", "report", dividerNoiseFile, "--format", "text", "--runs", "20", "--temp", tc.temp)
+		if r.code != 0 || !strings.Contains(r.stdout, "Noise\n-----") || !strings.Contains(r.stdout, strconv.FormatFloat(tc.k, 'g', -1, 64)+" K") {
+			t.Errorf("report --temp %s: code %d, no noise section at %g K\n%s%s", tc.temp, r.code, tc.k, r.stdout, r.stderr)
+		}
+	}
+	if r := runNodal(t, "", "verify", dividerNoiseFile, "--temp=-5K"); r.code != exitInput || !strings.Contains(r.stderr, "--temp") {
+		t.Errorf("verify --temp=-5K: code %d, stderr %q; want exit 2 naming --temp", r.code, r.stderr)
 	}
 }

@@ -34,6 +34,7 @@ type reportCmd struct {
 	Runs   int      `help:"Monte Carlo runs when the file has tolerances." default:"2000"`
 	Seed   uint64   `help:"Seed of the Monte Carlo draws." default:"1"`
 	Force  bool     `help:"With no -o, overwrite nodal-report.html even when nodal did not write it."`
+	tempArgs
 }
 
 // Help is the extended help with a worked example.
@@ -71,6 +72,10 @@ func (c *reportCmd) Run(e *env) error {
 			fmt.Fprintf(e.stderr, "nodal: %s exists and was not written by nodal; writing %s instead (--force overwrites it)\n", defaultReportName, path)
 		}
 	}
+	tempK, err := c.kelvin()
+	if err != nil {
+		return err
+	}
 	builtIn := c.File == ""
 	if builtIn {
 		fmt.Fprintf(e.stderr, "nodal: no circuit file given: analysing the built-in demo (%s)\n", demoName)
@@ -82,7 +87,7 @@ func (c *reportCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	d, err := buildReport(e, l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref}, c.Runs, c.Seed)
+	d, err := buildReport(e, l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref}, reportRun{Runs: c.Runs, Seed: c.Seed, TempK: tempK})
 	if err != nil {
 		return err
 	}
@@ -171,7 +176,7 @@ func foreignFile(path string) bool {
 // buildReport runs every analysis the report shows: the response q, and
 // when q names no output and the file declares several responses, a
 // section of each further response (report.Data.Responses).
-func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report.Data, error) {
+func buildReport(e *env, l *loaded, q tfRequest, rr reportRun) (*report.Data, error) {
 	c := l.circuit
 	d := &report.Data{
 		Title:      c.Title,
@@ -194,7 +199,7 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 		first = names[0]
 	}
 	q.Out = first
-	r, lo, hi, err := fillResponse(e, l, q, d, runs, seed, true)
+	r, lo, hi, err := fillResponse(e, l, q, d, rr, true)
 	if err != nil {
 		return nil, err
 	}
@@ -204,7 +209,7 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 	}
 	for _, name := range others {
 		dr := &report.Data{ResponseName: name}
-		if _, _, _, err := fillResponse(e, l, tfRequest{In: q.In, Out: name}, dr, runs, seed, false); err != nil {
+		if _, _, _, err := fillResponse(e, l, tfRequest{In: q.In, Out: name}, dr, rr, false); err != nil {
 			return nil, fmt.Errorf("response %s: %w", name, err)
 		}
 		d.Notes = append(d.Notes, dr.Notes...)
@@ -213,17 +218,26 @@ func buildReport(e *env, l *loaded, q tfRequest, runs int, seed uint64) (*report
 	if err := addStabilitySections(l, d); err != nil {
 		return nil, err
 	}
-	if err := addNoiseSection(e, l, r, d, lo, hi); err != nil {
+	if err := addNoiseSection(e, l, r, d, lo, hi, rr.TempK); err != nil {
 		return nil, err
 	}
 	return d, nil
+}
+
+// reportRun is how a report draws its figures: the Monte Carlo Runs and
+// Seed, and TempK, the resistors' temperature (K) of the noise section and
+// the noise metrics.
+type reportRun struct {
+	Runs  int
+	Seed  uint64
+	TempK float64
 }
 
 // fillResponse puts the sections of one response into d: the transfer
 // function, roots, Bode plot, step response and tolerances (over the
 // requirements taken on it; with verdicts, every requirement's verdict
 // too). It returns the transfer function and the plotted range (Hz).
-func fillResponse(e *env, l *loaded, q tfRequest, d *report.Data, runs int, seed uint64, verdicts bool) (*tfResult, float64, float64, error) {
+func fillResponse(e *env, l *loaded, q tfRequest, d *report.Data, rr reportRun, verdicts bool) (*tfResult, float64, float64, error) {
 	c := l.circuit
 	r, err := extractTF(l, q)
 	if err != nil {
@@ -279,7 +293,7 @@ func fillResponse(e *env, l *loaded, q tfRequest, d *report.Data, runs int, seed
 			reqs = append(reqs, rq)
 		}
 	}
-	if err := addToleranceSections(e, l, r, d, runs, seed, reqs, verdicts); err != nil {
+	if err := addToleranceSections(e, l, r, d, rr, reqs, verdicts); err != nil {
 		return nil, 0, 0, err
 	}
 	return r, lo, hi, nil

@@ -12,9 +12,9 @@ import (
 
 // addNoiseSection adds the noise at the report's output when the file has
 // a noise requirement: over the band of its first noise_rms requirement
-// (else over the Bode range lo..hi), at noise.DefaultTempK, the
+// (else over the Bode range lo..hi), every resistor at tempK kelvin, the
 // temperature the requirement verdicts use.
-func addNoiseSection(e *env, l *loaded, r *tfResult, d *report.Data, lo, hi float64) error {
+func addNoiseSection(e *env, l *loaded, r *tfResult, d *report.Data, lo, hi, tempK float64) error {
 	c := l.circuit
 	has, bandLo, bandHi := false, lo, hi
 	for _, q := range c.Requirements {
@@ -30,7 +30,7 @@ func addNoiseSection(e *env, l *loaded, r *tfResult, d *report.Data, lo, hi floa
 	if !has {
 		return nil
 	}
-	cfg := noise.Config{Out: r.sys.Output, TempK: noise.DefaultTempK}
+	cfg := noise.Config{Out: r.sys.Output, TempK: tempK}
 	if r.sys.Input.Kind == mna.Drive {
 		cfg.Input, cfg.HasInput = r.sys.Input.Source, true
 	}

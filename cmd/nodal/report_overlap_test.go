@@ -36,7 +36,7 @@ func TestReportFiguresHaveNoOverlappingLabels(t *testing.T) {
 		if len(l.circuit.ResponseNames()) > 0 {
 			out = ""
 		}
-		d, err := buildReport(e, l, tfRequest{Out: out}, 200, 1)
+		d, err := buildReport(e, l, tfRequest{Out: out}, reportRun{Runs: 200, Seed: 1, TempK: 300})
 		if err != nil {
 			t.Fatalf("%s: %v", name, err)
 		}

@@ -41,14 +41,15 @@ func reportMetrics(reqs []netlist.Requirement) []string {
 // the Monte Carlo band, statistics and histograms of the response r when
 // it has toleranced items, over the metrics of reqs (the requirements
 // taken on r).
-func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs int, seed uint64, reqs []netlist.Requirement, verdicts bool) error {
+func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, rr reportRun, reqs []netlist.Requirement, verdicts bool) error {
+	runs, seed := rr.Runs, rr.Seed
 	c := l.circuit
 	in, out := mna.Input{Source: r.sys.Input.Source}, r.sys.Output
 	if len(c.Variations) == 0 {
 		runs = 0
 	}
 	if verdicts {
-		if err := addVerdicts(e, c, in, out, d, runs, seed); err != nil {
+		if err := addVerdicts(e, c, in, out, d, rr); err != nil {
 			return err
 		}
 	}
@@ -58,7 +59,7 @@ func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs i
 	// Keep the metrics the nominal circuit can give a value for.
 	var metrics []string
 	for _, m := range reportMetrics(reqs) {
-		if _, err := variation.NewMetricEvaluator(c, in, out, []string{m}); err != nil {
+		if _, err := variation.NewMetricEvaluatorAt(c, in, out, []string{m}, rr.TempK); err != nil {
 			d.Notes = append(d.Notes, fmt.Sprintf("Metric %s left out of the tolerance analysis: %v", m, err))
 			continue
 		}
@@ -67,7 +68,7 @@ func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs i
 	opt := variation.MonteCarloOptions{Runs: runs, Seed: seed}
 	mc := &report.MonteCarlo{Runs: runs, Seed: int64(seed)}
 	if len(metrics) > 0 {
-		ev, err := variation.NewMetricEvaluator(c, in, out, metrics)
+		ev, err := variation.NewMetricEvaluatorAt(c, in, out, metrics, rr.TempK)
 		if err != nil {
 			return err
 		}
@@ -116,7 +117,8 @@ func addToleranceSections(e *env, l *loaded, r *tfResult, d *report.Data, runs i
 // addVerdicts judges the file's requirements at nominal, over the worst-case
 // corners and as Monte Carlo yield (the same draws as the tolerance
 // section for the same seed).
-func addVerdicts(e *env, c *netlist.Circuit, in mna.Input, out mna.Output, d *report.Data, runs int, seed uint64) error {
+func addVerdicts(e *env, c *netlist.Circuit, in mna.Input, out mna.Output, d *report.Data, rr reportRun) error {
+	runs, seed := rr.Runs, rr.Seed
 	if len(c.Requirements) == 0 {
 		return nil
 	}
@@ -135,6 +137,7 @@ func addVerdicts(e *env, c *netlist.Circuit, in mna.Input, out mna.Output, d *re
 	if err != nil {
 		return err
 	}
+	rm.TempK = rr.TempK
 	res, err := require.Verify(e.ctx, c, rm, require.VerifyOptions{Runs: runs, Seed: seed})
 	if err != nil {
 		return err

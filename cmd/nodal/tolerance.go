@@ -30,6 +30,7 @@ type toleranceCmd struct {
 	WorstCase   bool     `help:"Also evaluate the tolerance corners and report each metric's extremes."`
 	Sensitivity bool     `help:"Also report each metric's sensitivity to every toleranced item."`
 	Envelope    bool     `help:"Also report the min–max band of |H| and phase over a sweep across the runs."`
+	tempArgs
 	freqArgs
 	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write the table/JSON to this file instead of standard output." placeholder:"FILE" type:"path"`
@@ -156,6 +157,9 @@ type toleranceResult struct {
 	sens *variation.SensitivityResult
 	env  *variation.EnvelopeResult
 	stab *stability.Result // of the nominal circuit
+	// noiseNote says at which temperature the noise metrics were taken
+	// ("" without noise metrics).
+	noiseNote string
 }
 
 // levelUnits writes the dB of every gain, peak or dc metric of a
@@ -215,7 +219,11 @@ func (c *toleranceCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	ev, err := variation.NewMetricEvaluator(cir, pr.Ex, pr.Ob, c.Metric)
+	tempK, err := c.kelvin()
+	if err != nil {
+		return err
+	}
+	ev, err := variation.NewMetricEvaluatorAt(cir, pr.Ex, pr.Ob, c.Metric, tempK)
 	if err != nil {
 		return err
 	}
@@ -233,7 +241,7 @@ func (c *toleranceCmd) Run(e *env) error {
 		}
 	}
 	opt := variation.MonteCarloOptions{Runs: c.Runs, Seed: c.Seed, Workers: c.Workers}
-	var res toleranceResult
+	res := toleranceResult{noiseNote: noiseMetricsNote(c.Metric, tempK)}
 	if res.stab, err = circuitStability(l); err != nil {
 		return err
 	}
@@ -450,6 +458,9 @@ func toleranceTables(w io.Writer, r *toleranceResult) error {
 		fmt.Fprintf(w, ", %d failed", mc.Failed)
 	}
 	fmt.Fprintf(w, "; unstable builds: %d of %d (%.2f %%)\n", mc.Unstable, mc.Finished, 100*float64(mc.Unstable)/float64(max(mc.Finished, 1)))
+	if r.noiseNote != "" {
+		fmt.Fprintln(w, r.noiseNote)
+	}
 	t := newTable(w, "metric", "nominal", "mean", "std", "min", "max", "p00135", "p99865")
 	for _, m := range mc.Metrics {
 		if err := t.row(metricLabel(m.Name, m.Unit), num(m.Nominal), num(m.Mean), num(m.Std), num(m.Min), num(m.Max), num(m.P00135), num(m.P99865)); err != nil {

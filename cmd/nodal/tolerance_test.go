@@ -181,6 +181,7 @@ func TestToleranceProgressBarOnTerminal(t *testing.T) {
 		e := &env{ctx: context.Background(), stdin: strings.NewReader(""), stdout: &out, stderr: &errb, stderrIsTerminal: terminal}
 		c := &toleranceCmd{Metric: []string{"f3db"}, Runs: progressMinRuns, Seed: 1, Format: "json"}
 		c.File, c.Out = rcFile, "out"
+		c.Temp = "300K"
 		c.PerDecade = 50
 		if err := c.Run(e); err != nil {
 			t.Fatal(err)

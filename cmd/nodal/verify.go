@@ -82,6 +82,7 @@ type verifyCmd struct {
 	Strict bool   `help:"Also fail (exit 1) when a requirement fails in the worst case."`
 	Format string `help:"Output format: table or json (default: from the -o extension, else table)." placeholder:"table|json"`
 	Output string `short:"o" help:"Write to this file instead of standard output." placeholder:"FILE" type:"path"`
+	tempArgs
 }
 
 // Help is the extended help with a worked example.
@@ -217,6 +218,9 @@ func (c *verifyCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
+	if rm.TempK, err = c.kelvin(); err != nil {
+		return err
+	}
 	st, err := circuitStability(l)
 	if err != nil {
 		return err
@@ -271,6 +275,9 @@ func (c *verifyCmd) Run(e *env) error {
 			rep.Requirements[len(rep.Requirements)-1].NominalReason = why[i].Error()
 			rep.Notes = append(rep.Notes, fmt.Sprintf("%s: at nominal values: %v", d.Requirement.Text, why[i]))
 		}
+	}
+	if note := noiseMetricsNote(rm.Metrics(), rm.TempK); note != "" {
+		rep.Notes = append(rep.Notes, note)
 	}
 	if rep.Toleranced == 0 {
 		rep.Notes = append(rep.Notes, noTolerancesNote)
