@@ -227,7 +227,8 @@ type variantTFJSON struct {
 }
 
 // runVariants prints the transfer function for every --vary value: a
-// section each, or a JSON array of {variant, transfer}.
+// section each, or a JSON array of {variant, transfer}; with --plot, one
+// pole-zero map with every value's roots in its own colour.
 func (c *transferCmd) runVariants(e *env) error {
 	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
 		return err
