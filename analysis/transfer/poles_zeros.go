@@ -184,7 +184,7 @@ func pickCols(m *mat.Dense, idx []int) *mat.Dense {
 
 // eigenvaluesShifted returns the eigenvalues of the reduced pencil by
 // shift-and-invert with the real shift sigma, or errBadShift.
-func (p reducedPencil) eigenvaluesShifted(sigma float64) ([]complex128, error) {
+func (p reducedPencil) eigenvaluesShifted(sigma float64, relaxed bool) ([]complex128, error) {
 	if p.a == nil {
 		return nil, nil
 	}
@@ -194,11 +194,11 @@ func (p reducedPencil) eigenvaluesShifted(sigma float64) ([]complex128, error) {
 	x.Add(x, p.a)
 	var lu mat.LU
 	lu.Factorize(x)
-	if c := lu.Cond(); math.IsInf(c, 0) || math.IsNaN(c) || c > maxShiftCond {
+	if !shiftAccepted(&lu, relaxed) {
 		return nil, errBadShift
 	}
 	var m mat.Dense
-	if err := lu.SolveTo(&m, false, p.e); err != nil {
+	if err := lu.SolveTo(&m, false, p.e); solveFailed(err) {
 		return nil, errBadShift
 	}
 	mu, err := eigenvalues(&m)
@@ -228,14 +228,48 @@ func finiteEigenvaluesTol(a, e *mat.Dense, shifts []float64, aTol float64) ([]co
 	if err != nil {
 		return nil, err
 	}
-	for _, sigma := range shifts {
-		roots, err := p.eigenvaluesShifted(sigma)
-		if errors.Is(err, errBadShift) {
-			continue
+	for _, relaxed := range []bool{false, true} {
+		for _, sigma := range shifts {
+			roots, err := p.eigenvaluesShifted(sigma, relaxed)
+			if errors.Is(err, errBadShift) {
+				continue
+			}
+			return roots, err
 		}
-		return roots, err
 	}
 	return nil, errSingularPencil
+}
+
+// shiftAccepted reports whether the factored shifted matrix x may be
+// used: strictly, when its condition estimate is at most maxShiftCond;
+// relaxed (when no shift passes strictly), when it is at most
+// relaxedShiftCond. A circuit with a wide gain spread (fifteen gain
+// stages, 10¹⁵ from input to output) has matrices that ill conditioned
+// at every shift and still factors stably, as the sweep's pivot rule
+// says; the check of the extracted H against direct solves
+// (verifyExtraction) judges the result, and a circuit singular at every
+// check frequency is ErrSingularSystem there.
+func shiftAccepted(lu *mat.LU, relaxed bool) bool {
+	c := lu.Cond()
+	if math.IsInf(c, 0) || math.IsNaN(c) {
+		return false
+	}
+	if !relaxed {
+		return c <= maxShiftCond
+	}
+	return c <= relaxedShiftCond
+}
+
+// relaxedShiftCond: the largest condition estimate of a shifted matrix
+// accepted when no shift is below maxShiftCond.
+const relaxedShiftCond = 1e20
+
+// solveFailed reports whether an LU solve failed; a mat.Condition is
+// gonum's warning of a large condition number, which shiftAccepted has
+// already judged, and the solution is computed.
+func solveFailed(err error) bool {
+	var c mat.Condition
+	return err != nil && !errors.As(err, &c)
 }
 
 // errNonFinite says a matrix handed to the eigenvalue routine holds NaN
@@ -382,9 +416,11 @@ func (f *complexLU) logDerivative(e *mat.Dense, cols []int) complex128 {
 // mean and not polished; a real root stays real; for a conjugate pair only
 // the member with positive imaginary part is iterated and mirrored.
 func polishRoots(a, e *mat.Dense, roots []complex128) {
+	raw := append([]complex128(nil), roots...)
 	mergeClusters(roots)
 	cols := nonzeroCols(e)
 	var f complexLU
+	splitFalseClusters(a, e, cols, &f, roots, raw)
 	for i := range roots {
 		if imag(roots[i]) < 0 || inCluster(roots, i) {
 			continue
@@ -604,4 +640,155 @@ func withinDiameter(roots []complex128, idx []int, tol float64) bool {
 		}
 	}
 	return true
+}
+
+// clusterShapeTol: a merged group of k roots is kept as one k-fold root
+// when the deflated logarithmic derivative of the determinant near it is
+// k/(s − μ) within this relative tolerance (see splitFalseClusters).
+const clusterShapeTol = 1e-5
+
+// splitFalseClusters checks every group mergeClusters made against the
+// pencil itself: near a genuine k-fold root μ, det(a + s·e) behaves as
+// (s − μ)^k, so its logarithmic derivative, less the terms 1/(s − r) of
+// the other roots, is k/(s − μ); the eigen-solver's spread of the group
+// does not enter, since the derivative comes from a factorisation away
+// from the root. A group that fails (one stage's pole 9e-4 from the
+// four-fold pole of four identical stages, merged into one five-fold
+// root) is split into a (k−1)-fold and a simple root when that structure
+// fits (splitOff), or else re-split from its eigen-solver values one
+// size down (mergeGroups), its conjugate group with it; the smaller
+// groups are checked in turn. Pairs (merged only within 1.5e-5) are
+// kept as merged.
+func splitFalseClusters(a, e *mat.Dense, cols []int, f *complexLU, roots, raw []complex128) {
+	for pass := 0; pass < len(roots); pass++ {
+		split := false
+		seen := make([]bool, len(roots))
+		for i, mu := range roots {
+			if seen[i] || imag(mu) < 0 {
+				continue
+			}
+			var members, conj []int
+			for j, r := range roots {
+				if r == mu {
+					members = append(members, j)
+					seen[j] = true
+				} else if imag(mu) != 0 && r == cmplx.Conj(mu) {
+					conj = append(conj, j)
+				}
+			}
+			k := len(members)
+			if k < 3 || clusterShaped(a, e, cols, f, roots, raw, members) {
+				continue
+			}
+			if vals, ok := splitOff(a, e, cols, f, roots, raw, members); ok {
+				for i, j := range members {
+					roots[j] = vals[i]
+				}
+				split = true
+				continue
+			}
+			for _, g := range [][]int{members, conj} {
+				if len(g) == 0 {
+					continue
+				}
+				for _, j := range g {
+					roots[j] = raw[j]
+				}
+				mergeGroups(roots, g, len(g)-1)
+			}
+			split = true
+		}
+		if !split {
+			return
+		}
+	}
+}
+
+// clusterShaped reports whether the equal roots members behave as one
+// multiple root of det(a + s·e) (see splitFalseClusters).
+func clusterShaped(a, e *mat.Dense, cols []int, f *complexLU, roots, raw []complex128, members []int) bool {
+	mu := roots[members[0]]
+	vals := make([]complex128, len(members))
+	for i := range vals {
+		vals[i] = mu
+	}
+	return groupFits(a, e, cols, f, roots, raw, members, vals)
+}
+
+// groupFits reports whether the roots members, given the values vals,
+// match det(a + s·e): the logarithmic derivative at two points 4ρ from
+// their mean (ρ the eigen-solver's spread), less 1/(s − r) of every root
+// (vals for the members), is below clusterShapeTol·k/|s − mean|. A point
+// that cannot be evaluated is no evidence against the values.
+func groupFits(a, e *mat.Dense, cols []int, f *complexLU, roots, raw []complex128, members []int, vals []complex128) bool {
+	var mu complex128
+	for _, v := range vals {
+		mu += v
+	}
+	k := float64(len(members))
+	mu /= complex(k, 0)
+	rho := 0.0
+	in := make(map[int]bool, len(members))
+	for _, j := range members {
+		rho = math.Max(rho, cmplx.Abs(raw[j]-mu))
+		in[j] = true
+	}
+	if rho == 0 {
+		return true
+	}
+	for _, th := range []float64{0.7, 2.1} {
+		s := mu + cmplx.Rect(4*rho, th)
+		if f.factor(a, e, s) {
+			continue
+		}
+		g := f.logDerivative(e, cols)
+		for j, r := range roots {
+			if !in[j] {
+				g -= 1 / (s - r)
+			}
+		}
+		for _, v := range vals {
+			g -= 1 / (s - v)
+		}
+		if cmplx.Abs(g)*cmplx.Abs(s-mu)/k > clusterShapeTol {
+			return false
+		}
+	}
+	return true
+}
+
+// splitOff tries, for a real group of k ≥ 3 equal roots that is not one
+// k-fold root, the structure of a (k−1)-fold root a and a simple root b
+// with the group's mean μ and second central power sum Σ(rᵢ − μ)² of the
+// eigen-solver's values (symmetric functions of a split group are
+// accurate when its members are not): b − μ = −(k−1)(a − μ) and
+// Σ(rᵢ − μ)² = k(k−1)(a − μ)². It returns the members' values when one
+// sign fits the pencil (groupFits).
+func splitOff(a, e *mat.Dense, cols []int, f *complexLU, roots, raw []complex128, members []int) ([]complex128, bool) {
+	k := len(members)
+	mu := roots[members[0]]
+	if k < 3 || imag(mu) != 0 {
+		return nil, false
+	}
+	var m2 complex128
+	for _, j := range members {
+		m2 += (raw[j] - mu) * (raw[j] - mu)
+	}
+	if real(m2) <= 0 {
+		return nil, false
+	}
+	d := math.Sqrt(real(m2) / float64(k*(k-1)))
+	for _, sg := range []float64{1, -1} {
+		av := complex(real(mu)+sg*d, 0)
+		bv := complex(real(mu)-sg*float64(k-1)*d, 0)
+		vals := make([]complex128, k)
+		for i := range vals {
+			vals[i] = av
+		}
+		vals[k-1] = bv
+		if groupFits(a, e, cols, f, roots, raw, members, vals) {
+			return vals, true
+		}
+	}
+	return nil, false
 }
