@@ -89,7 +89,7 @@ func (c *impedanceCmd) Run(e *env) error {
 		out, vary := c.Output, c.Vary
 		c.Output, c.Vary = "", nil
 		defer func() { c.Output, c.Vary = out, vary }()
-		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, c.Run)
+		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, c.Run, impedanceOverlay)
 	}
 	if err := c.symbolicArgs.check(); err != nil {
 		return err
@@ -137,14 +137,16 @@ func (c *impedanceCmd) Run(e *env) error {
 			hi = response.Extreme{FreqHz: x.FreqHz, Mag: x.Mag}
 		}
 	}
-	if c.Plot != "" {
+	title := r.what
+	if l.circuit.Title != "" {
+		title = l.circuit.Title + ": " + title
+	}
+	if c.Plot != "" && e.plotData != nil {
+		e.plotData(variantPlot[plot.ImpedanceTrace]{title, plot.ImpedanceTrace{FreqHz: resp.FreqHz, MagOhm: resp.Mag, PhaseDeg: resp.PhaseDeg}})
+	} else if c.Plot != "" {
 		format, err := plot.FormatFromPath(c.Plot)
 		if err != nil {
 			return err
-		}
-		title := r.what
-		if l.circuit.Title != "" {
-			title = l.circuit.Title + ": " + title
 		}
 		fig, err := plot.Impedance(resp.FreqHz, resp.Mag, resp.PhaseDeg, plot.BodeOptions{Title: title})
 		if err != nil {
@@ -226,4 +228,15 @@ func dcImpedanceText(rep *tfReport) string {
 		return "0 Ω (a short at DC)"
 	}
 	return "unbounded (open at DC)"
+}
+
+// impedanceOverlay draws the impedances of the --vary values in one
+// figure, a trace per value.
+func impedanceOverlay(labels []string, runs []variantPlot[plot.ImpedanceTrace]) (*plot.Figure, error) {
+	traces := make([]plot.ImpedanceTrace, len(runs))
+	for i, r := range runs {
+		traces[i] = r.data
+		traces[i].Label = labels[i]
+	}
+	return plot.Impedances(traces, plot.BodeOptions{Title: overlayTitle(runs, "one trace per value")})
 }

@@ -80,7 +80,7 @@ func (c *loopCmd) Run(e *env) error {
 		out, vary := c.Output, c.Vary
 		c.Output, c.Vary = "", nil
 		defer func() { c.Output, c.Vary = out, vary }()
-		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, c.Run)
+		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, c.Run, loopOverlay)
 	}
 	l, err := c.load(e)
 	if err != nil {
@@ -100,7 +100,9 @@ func (c *loopCmd) Run(e *env) error {
 		return err
 	}
 	mag, ph := loopCurves(lr, freqs)
-	if c.Plot != "" {
+	if c.Plot != "" && e.plotData != nil {
+		e.plotData(variantPlot[plot.BodeTrace]{loopTitle(l, lr), plot.BodeTrace{FreqHz: freqs, MagDB: mag, PhaseDeg: ph}})
+	} else if c.Plot != "" {
 		if err := c.writePlot(e, l, lr, freqs, mag, ph); err != nil {
 			return err
 		}
@@ -282,9 +284,26 @@ func loopFigure(l *loaded, lr *loopResult, freqs, mag, ph []float64) (*plot.Figu
 			m.GainMarginDB = append(m.GainMarginDB, p.GainMarginDB)
 		}
 	}
+	return plot.Loop(plot.BodeTrace{Label: "T", FreqHz: freqs, MagDB: mag, PhaseDeg: ph}, m, plot.BodeOptions{Title: loopTitle(l, lr)})
+}
+
+// loopTitle is the title of the Bode plot of a loop gain.
+func loopTitle(l *loaded, lr *loopResult) string {
 	title := "loop gain T around " + lr.Part
 	if l.circuit.Title != "" {
 		title = l.circuit.Title + ": " + title
 	}
-	return plot.Loop(plot.BodeTrace{Label: "T", FreqHz: freqs, MagDB: mag, PhaseDeg: ph}, m, plot.BodeOptions{Title: title})
+	return title
+}
+
+// loopOverlay draws the loop gains of the --vary values in one Bode
+// figure, a trace per value; the margins are marked only on the plot of
+// a single value, as the title says.
+func loopOverlay(labels []string, runs []variantPlot[plot.BodeTrace]) (*plot.Figure, error) {
+	traces := make([]plot.BodeTrace, len(runs))
+	for i, r := range runs {
+		traces[i] = r.data
+		traces[i].Label = "T, " + labels[i]
+	}
+	return plot.Loops(traces, plot.BodeOptions{Title: overlayTitle(runs, "margins on single-value plots")})
 }

@@ -72,6 +72,10 @@ type env struct {
 	// args are the command-line arguments after the program name, as
 	// given (the report's header shows them).
 	args []string
+	// plotData, when set, receives the data a command would plot instead
+	// of the command drawing it: runVaried draws every value's data in
+	// one figure.
+	plotData func(any)
 }
 
 // verdictError marks a failed verdict: exit status 1, not 2.

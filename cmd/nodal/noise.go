@@ -148,7 +148,7 @@ func (c *noiseCmd) Run(e *env) error {
 		out, vary := c.Output, c.Vary
 		c.Output, c.Vary = "", nil
 		defer func() { c.Output, c.Vary = out, vary }()
-		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, c.Run)
+		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, c.Run, noiseOverlay)
 	}
 	l, err := c.load(e)
 	if err != nil {
@@ -219,7 +219,11 @@ func (c *noiseCmd) Run(e *env) error {
 		snr := 20 * math.Log10(sig/run.band.OutRMS)
 		run.snr = &snr
 	}
-	if c.Plot != "" {
+	if c.Plot != "" && e.plotData != nil {
+		e.plotData(variantPlot[noiseTotal]{noiseTitle(l, run), noiseTotal{
+			trace:  plot.DensityTrace{FreqHz: run.sp.FreqHz, Density: run.sp.OutDensity},
+			yLabel: noiseYLabel(run)}})
+	} else if c.Plot != "" {
 		if err := writeNoisePlot(e, c.Plot, []string{c.File, c.Output}, l, run, c.Traces); err != nil {
 			return err
 		}
@@ -450,12 +454,7 @@ func noiseFigure(l *loaded, r *noiseRun, traces int) (*plot.Figure, error) {
 		}
 		out = append(out, plot.DensityTrace{Label: a.Sources[j].Name, FreqHz: sp.FreqHz, Density: d})
 	}
-	title := l.circuit.Title
-	if title == "" {
-		title = "noise at " + a.Output
-	}
-	fig, err := plot.Density(out, plot.DensityOptions{Title: title + ", " + temperatureText(a.TempK),
-		YLabel: "output noise density (" + a.OutUnit + "/√Hz)"})
+	fig, err := plot.Density(out, plot.DensityOptions{Title: noiseTitle(l, r), YLabel: noiseYLabel(r)})
 	if err != nil {
 		return nil, err
 	}
@@ -497,4 +496,41 @@ func contributorOrder(r *noiseRun) []int {
 	}
 	sort.SliceStable(order, func(x, y int) bool { return sum[order[x]] > sum[order[y]] })
 	return order
+}
+
+// noiseTitle is the title of a noise plot.
+func noiseTitle(l *loaded, r *noiseRun) string {
+	title := l.circuit.Title
+	if title == "" {
+		title = "noise at " + r.a.Output
+	}
+	return title + ", " + temperatureText(r.a.TempK)
+}
+
+// noiseYLabel names the output noise density with its unit.
+func noiseYLabel(r *noiseRun) string {
+	return "output noise density (" + r.a.OutUnit + "/√Hz)"
+}
+
+// noiseTotal is the total output density of one --vary value and the
+// axis label of its unit.
+type noiseTotal struct {
+	trace  plot.DensityTrace
+	yLabel string
+}
+
+// noiseOverlay draws the total output noise densities of the --vary
+// values in one figure, a trace per value (the contributors of each are
+// on its own plot).
+func noiseOverlay(labels []string, runs []variantPlot[noiseTotal]) (*plot.Figure, error) {
+	traces := make([]plot.DensityTrace, len(runs))
+	for i, r := range runs {
+		traces[i] = r.data.trace
+		traces[i].Label = "total, " + labels[i]
+	}
+	yLabel := ""
+	if len(runs) > 0 {
+		yLabel = runs[0].data.yLabel
+	}
+	return plot.Density(traces, plot.DensityOptions{Title: overlayTitle(runs, "one trace per value"), YLabel: yLabel})
 }

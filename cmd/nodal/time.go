@@ -63,7 +63,7 @@ func (c *timeCmd) run(e *env, kind string) error {
 		out, vary := c.Output, c.Vary
 		c.Output, c.Vary = "", nil
 		defer func() { c.Output, c.Vary = out, vary }()
-		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, func(e *env) error { return c.run(e, kind) })
+		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, func(e *env) error { return c.run(e, kind) }, timeOverlay)
 	}
 	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
 		return err
@@ -108,7 +108,9 @@ func (c *timeCmd) run(e *env, kind string) error {
 	if err != nil {
 		return err
 	}
-	if c.Plot != "" {
+	if c.Plot != "" && e.plotData != nil {
+		e.plotData(variantPlot[plot.TimeTrace]{timeTitle(l, r), timeTrace(r)})
+	} else if c.Plot != "" {
 		if err := writeTimePlot(e, c.Plot, []string{c.File, c.Output}, l, r); err != nil {
 			return err
 		}
@@ -216,11 +218,8 @@ func writeTimePlot(e *env, path string, protect []string, l *loaded, r *timeresp
 	if err != nil {
 		return err
 	}
-	ts := make([]float64, len(r.Points))
-	ys := make([]float64, len(r.Points))
-	for i, p := range r.Points {
-		ts[i], ys[i] = p.TS, p.Y
-	}
+	tr := timeTrace(r)
+	ts, ys := tr.TS, tr.Y
 	marks := plot.StepMarks{}
 	if r.Kind == "step" {
 		if r.Metrics.Final != nil {
@@ -237,13 +236,38 @@ func writeTimePlot(e *env, path string, protect []string, l *loaded, r *timeresp
 	} else if len(ys) > 0 {
 		marks.Final = ys[len(ys)-1]
 	}
-	title := fmt.Sprintf("%s response", r.Kind)
-	if l.circuit.Title != "" {
-		title = l.circuit.Title + ": " + title
-	}
-	fig, err := plot.Step(ts, ys, marks, plot.StepOptions{Title: title})
+	fig, err := plot.Step(ts, ys, marks, plot.StepOptions{Title: timeTitle(l, r)})
 	if err != nil {
 		return err
 	}
 	return writeTo(e, path, append(protect, l.name), func(w io.Writer) error { return fig.Encode(w, format) })
+}
+
+// timeTitle is the title of a time response's plot.
+func timeTitle(l *loaded, r *timeresp.TimeResponse) string {
+	title := fmt.Sprintf("%s response", r.Kind)
+	if l.circuit.Title != "" {
+		title = l.circuit.Title + ": " + title
+	}
+	return title
+}
+
+// timeTrace is the curve of a time response: t (s) and y.
+func timeTrace(r *timeresp.TimeResponse) plot.TimeTrace {
+	tr := plot.TimeTrace{TS: make([]float64, len(r.Points)), Y: make([]float64, len(r.Points))}
+	for i, p := range r.Points {
+		tr.TS[i], tr.Y[i] = p.TS, p.Y
+	}
+	return tr
+}
+
+// timeOverlay draws the time responses of the --vary values in one
+// figure, a trace per value (the marks of each are on its own plot).
+func timeOverlay(labels []string, runs []variantPlot[plot.TimeTrace]) (*plot.Figure, error) {
+	traces := make([]plot.TimeTrace, len(runs))
+	for i, r := range runs {
+		traces[i] = r.data
+		traces[i].Label = labels[i]
+	}
+	return plot.Steps(traces, plot.StepOptions{Title: overlayTitle(runs, "one trace per value")})
 }

@@ -175,8 +175,8 @@ func (c *transferCmd) Run(e *env) error {
 		return err
 	}
 	if len(c.Vary) > 0 {
-		if c.Symbolic || c.Plot != "" {
-			return errors.New("--vary goes with the numeric transfer function and no --plot")
+		if c.Symbolic {
+			return errors.New("--vary goes with the numeric transfer function: run it without --symbolic")
 		}
 		return c.runVariants(e)
 	}
@@ -227,8 +227,19 @@ type variantTFJSON struct {
 }
 
 // runVariants prints the transfer function for every --vary value: a
-// section each, or a JSON array of {variant, transfer}.
+// section each, or a JSON array of {variant, transfer}; with --plot, one
+// pole-zero map with every value's roots in its own colour.
 func (c *transferCmd) runVariants(e *env) error {
+	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
+		return err
+	}
+	format := ""
+	if c.Plot != "" {
+		var err error
+		if format, err = plot.FormatFromPath(c.Plot); err != nil {
+			return err
+		}
+	}
 	vs, err := c.variants()
 	if err != nil {
 		return err
@@ -238,14 +249,25 @@ func (c *transferCmd) runVariants(e *env) error {
 		return err
 	}
 	reps := make([]*tfReport, len(ls))
+	sets := make([]plot.RootSet, len(ls))
 	for i, l := range ls {
 		r, err := extractTF(l, tfRequest{In: c.In, Out: c.Out, Ref: c.Ref})
 		if err != nil {
 			return fmt.Errorf("%s: %w", vs[i].label(), err)
 		}
 		reps[i] = newTFReport(r)
+		sets[i] = plot.RootSet{Label: vs[i].label(), Poles: r.tf.Poles, Zeros: r.tf.Zeros}
 	}
-	return writeTo(e, c.Output, []string{c.File}, func(w io.Writer) error {
+	if c.Plot != "" {
+		fig, err := plot.PoleZeroSets(sets, plot.PoleZeroOptions{Title: "poles (×) and zeros (○) of " + reps[0].r.what + ", per value"})
+		if err != nil {
+			return err
+		}
+		if err := writeTo(e, c.Plot, []string{c.File, c.Output}, func(w io.Writer) error { return fig.Encode(w, format) }); err != nil {
+			return err
+		}
+	}
+	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		if c.Format == "json" {
 			docs := make([]variantTFJSON, len(reps))
 			for i, rep := range reps {

@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"encoding/csv"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -12,6 +11,7 @@ import (
 	"strings"
 
 	"nodal/cmd/nodal/notation"
+	"nodal/cmd/nodal/plot"
 	"nodal/netlist"
 	"nodal/netlist/syntax"
 )
@@ -177,13 +177,19 @@ func (a *circuitArgs) loadVariantsFrom(e *env, name string, src []byte, vs []var
 // {"variant", "result"} with each run's document, CSV with a first column
 // variant. run is the command's own Run; it writes to the standard output
 // of the env it is given, with the command's -o and --plot cleared by the
-// caller. A plot per value is not drawn: --plot with --vary is refused.
-func runVaried(e *env, a *circuitArgs, v *varyArgs, output, plotPath, format string, run func(e *env) error) error {
-	if plotPath != "" {
-		return errors.New("--plot goes without --vary for this command (nodal sweep --vary draws one trace per value)")
-	}
-	if err := checkOutputs([]string{a.File}, output); err != nil {
+// caller. With plotPath, run hands the data it would plot to e.plotData
+// (a T) instead of drawing it, and figure draws every value's data, under
+// its label, in one figure written to plotPath.
+func runVaried[T any](e *env, a *circuitArgs, v *varyArgs, output, plotPath, format string, run func(e *env) error, figure func(labels []string, data []T) (*plot.Figure, error)) error {
+	if err := checkOutputs([]string{a.File}, output, plotPath); err != nil {
 		return err
+	}
+	plotFormat := ""
+	if plotPath != "" {
+		var err error
+		if plotFormat, err = plot.FormatFromPath(plotPath); err != nil {
+			return err
+		}
 	}
 	vs, err := v.variants()
 	if err != nil {
@@ -196,6 +202,8 @@ func runVaried(e *env, a *circuitArgs, v *varyArgs, output, plotPath, format str
 	sets := a.Set
 	defer func() { a.Set = sets }()
 	outs := make([][]byte, len(vs))
+	labels := make([]string, len(vs))
+	var data []T
 	for i, vr := range vs {
 		// Check the names once, with --vary's own message for a clash.
 		quiet := *e
@@ -214,12 +222,29 @@ func runVaried(e *env, a *circuitArgs, v *varyArgs, output, plotPath, format str
 		if i > 0 {
 			sub.stderr = io.Discard
 		}
+		labels[i] = vr.label()
+		sub.plotData = nil
+		if plotPath != "" {
+			sub.plotData = func(d any) { data = append(data, d.(T)) }
+		}
 		if err := run(&sub); err != nil {
 			return fmt.Errorf("%s: %w", vr.label(), err)
 		}
+		if plotPath != "" && len(data) != i+1 {
+			return fmt.Errorf("%s: no plot data", vr.label())
+		}
 		outs[i] = buf.Bytes()
 	}
-	return writeTo(e, output, []string{a.File}, func(w io.Writer) error {
+	if plotPath != "" {
+		fig, err := figure(labels, data)
+		if err != nil {
+			return err
+		}
+		if err := writeTo(e, plotPath, []string{a.File, output}, func(w io.Writer) error { return fig.Encode(w, plotFormat) }); err != nil {
+			return err
+		}
+	}
+	return writeTo(e, output, []string{a.File, plotPath}, func(w io.Writer) error {
 		switch format {
 		case "json":
 			docs := make([]struct {
@@ -264,4 +289,20 @@ func runVaried(e *env, a *circuitArgs, v *varyArgs, output, plotPath, format str
 		}
 		return nil
 	})
+}
+
+// variantPlot is what one --vary run hands to env.plotData: the figure's
+// title as the single-value plot would have it and the data to overlay.
+type variantPlot[D any] struct {
+	title string
+	data  D
+}
+
+// overlayTitle is the title of a figure overlaying the values: the
+// single-value title of the first and a note.
+func overlayTitle[D any](runs []variantPlot[D], note string) string {
+	if len(runs) == 0 {
+		return note
+	}
+	return runs[0].title + ", " + note
 }

@@ -3,7 +3,6 @@ package main
 import (
 	"encoding/json"
 	"math"
-	"path/filepath"
 	"strings"
 	"testing"
 )
@@ -116,9 +115,5 @@ func TestVaryTimeAndOthers(t *testing.T) {
 	r = runNodal(t, "", "impedance", rcFile, "--node", "out", "--at", "1k", "--vary", "R=1k,2k")
 	if r.code != 0 || !strings.Contains(r.stdout, "── R=1k ──") || !strings.Contains(r.stdout, "── R=2k ──") {
 		t.Errorf("impedance --vary: exit %d\n%s%s", r.code, r.stdout, r.stderr)
-	}
-	r = runNodal(t, "", "time", rcFile, "--vary", "R=1k,2k", "--plot", filepath.Join(t.TempDir(), "x.svg"))
-	if r.code != 2 || !strings.Contains(r.stderr, "--plot goes without --vary") {
-		t.Errorf("time --vary --plot: exit %d %s", r.code, r.stderr)
 	}
 }

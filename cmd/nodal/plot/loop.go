@@ -41,9 +41,7 @@ func Loop(tr BodeTrace, m LoopMarks, opt BodeOptions) (*Figure, error) {
 	if err != nil {
 		return nil, err
 	}
-	mp, pp := fig.panels[0], fig.panels[1]
-	mp.p.Add(refLine{at: 0, style: markLineStyle()})
-	pp.p.Add(refLine{at: -180, style: markLineStyle()})
+	mp, pp := loopRefs(fig)
 	label := tr.Label
 	if label == "" {
 		label = "trace 1"
@@ -73,5 +71,29 @@ func Loop(tr BodeTrace, m LoopMarks, opt BodeOptions) (*Figure, error) {
 			return nil, err
 		}
 	}
+	return fig, nil
+}
+
+// loopRefs adds the 0 dB and −180° reference lines to a Bode figure of a
+// loop gain and returns its magnitude and phase panels.
+func loopRefs(fig *Figure) (mag, phase *panel) {
+	mag, phase = fig.panels[0], fig.panels[1]
+	mag.p.Add(refLine{at: 0, style: markLineStyle()})
+	phase.p.Add(refLine{at: -180, style: markLineStyle()})
+	return mag, phase
+}
+
+// Loops overlays the Bode plots of several loop gains (one per value of a
+// varied part), each with its legend entry, over the 0 dB and −180°
+// reference lines. Crossovers and margins are not marked (they would
+// clutter the overlay); Loop marks them for one loop gain.
+//
+// Series keys: those of Bode.
+func Loops(traces []BodeTrace, opt BodeOptions) (*Figure, error) {
+	fig, err := Bode(traces, opt)
+	if err != nil {
+		return nil, err
+	}
+	loopRefs(fig)
 	return fig, nil
 }

@@ -72,17 +72,49 @@ const (
 // per root as given, in rad/s; with the zoom, "polezero zoom/poles" and
 // "polezero zoom/zeros" list the dominant roots, in the order given.
 func PoleZero(poles, zeros []complex128, opt PoleZeroOptions) (*Figure, error) {
+	return PoleZeroSets([]RootSet{{Poles: poles, Zeros: zeros}}, opt)
+}
+
+// RootSet is the poles and zeros (rad/s) of one transfer function on a
+// pole-zero map, under a legend label ("" for a map of one set).
+type RootSet struct {
+	Label        string
+	Poles, Zeros []complex128
+}
+
+// PoleZeroSets draws the roots of several transfer functions (one per
+// value of a varied part) on one map as PoleZero draws one: each set in
+// its own colour, poles as ×, zeros as ○, with one legend entry per set
+// showing its marks. A single set without a label is drawn as PoleZero
+// draws it (poles and zeros in two colours, legend "pole" and "zero").
+//
+// Series keys: those of PoleZero for a single unlabelled set; else
+// "polezero/LABEL/poles" and "polezero/LABEL/zeros" (and the same under
+// "polezero zoom/"). Labels of several sets must be unique and non-empty.
+func PoleZeroSets(sets []RootSet, opt PoleZeroOptions) (*Figure, error) {
+	if len(sets) == 0 {
+		return nil, fmt.Errorf("plot: a pole-zero map needs at least one set of roots")
+	}
 	maxAbs := 0.0
-	for _, set := range []struct {
-		what  string
-		roots []complex128
-	}{{"pole", poles}, {"zero", zeros}} {
-		for i, r := range set.roots {
-			if cmplx.IsInf(r) || cmplx.IsNaN(r) {
-				return nil, fmt.Errorf("plot: %s %d is %v; roots must be finite", set.what, i+1, r)
-			}
-			maxAbs = math.Max(maxAbs, math.Max(math.Abs(real(r)), math.Abs(imag(r))))
+	seen := map[string]bool{}
+	var poles, zeros []complex128
+	for _, rs := range sets {
+		if len(sets) > 1 && (rs.Label == "" || seen[rs.Label]) {
+			return nil, fmt.Errorf("plot: root set labels must be unique and non-empty (%q)", rs.Label)
 		}
+		seen[rs.Label] = true
+		for _, set := range []struct {
+			what  string
+			roots []complex128
+		}{{"pole", rs.Poles}, {"zero", rs.Zeros}} {
+			for i, r := range set.roots {
+				if cmplx.IsInf(r) || cmplx.IsNaN(r) {
+					return nil, fmt.Errorf("plot: %s%s %d is %v; roots must be finite", labelPrefix(rs.Label), set.what, i+1, r)
+				}
+				maxAbs = math.Max(maxAbs, math.Max(math.Abs(real(r)), math.Abs(imag(r))))
+			}
+		}
+		poles, zeros = append(poles, rs.Poles...), append(zeros, rs.Zeros...)
 	}
 	size := opt.Size
 	if size <= 0 {
@@ -90,13 +122,16 @@ func PoleZero(poles, zeros []complex128, opt PoleZeroOptions) (*Figure, error) {
 	}
 	tol := 1e-9 * math.Max(maxAbs, 1e-300)
 	fig := newFigure(size, size)
-	if err := addRootMap(fig, PanelPoleZero, opt.Title, poles, zeros, poles, zeros, tol); err != nil {
+	if err := addRootMap(fig, PanelPoleZero, opt.Title, sets, sets, tol); err != nil {
 		return nil, err
 	}
 	if limit, ok := dominantLimit(poles, zeros); ok {
-		domP, domZ := within(poles, limit), within(zeros, limit)
+		dom := make([]RootSet, len(sets))
+		for i, rs := range sets {
+			dom[i] = RootSet{Label: rs.Label, Poles: within(rs.Poles, limit), Zeros: within(rs.Zeros, limit)}
+		}
 		title := "zoom: roots with |s| ≤ " + notation.Digits(limit, 3, "rad/s")
-		if err := addRootMap(fig, PanelPoleZeroZoom, title, domP, domZ, poles, zeros, tol); err != nil {
+		if err := addRootMap(fig, PanelPoleZeroZoom, title, dom, sets, tol); err != nil {
 			return nil, err
 		}
 		fig.height = 2 * size
@@ -140,14 +175,20 @@ func within(roots []complex128, limit float64) []complex128 {
 }
 
 // addRootMap adds an equal-scaled s-plane panel to fig whose requested
-// range holds the roots poles and zeros (recorded as its series) and the
-// origin. It draws allPoles and allZeros, which include them: on a zoom
+// range holds the roots of shown (recorded as its series) and the origin.
+// It draws the roots of all, set by set, which include them: on a zoom
 // these are every root, drawn only where they fall inside the ranges.
-func addRootMap(fig *Figure, name, title string, poles, zeros, allPoles, allZeros []complex128, tol float64) error {
+func addRootMap(fig *Figure, name, title string, shown, all []RootSet, tol float64) error {
 	x0, x1, y0, y1 := 0.0, 0.0, 0.0, 0.0
-	for _, r := range append(append([]complex128(nil), poles...), zeros...) {
-		x0, x1 = math.Min(x0, real(r)), math.Max(x1, real(r))
-		y0, y1 = math.Min(y0, imag(r)), math.Max(y1, imag(r))
+	zoomed := false
+	for i, rs := range shown {
+		for _, r := range append(append([]complex128(nil), rs.Poles...), rs.Zeros...) {
+			x0, x1 = math.Min(x0, real(r)), math.Max(x1, real(r))
+			y0, y1 = math.Min(y0, imag(r)), math.Max(y1, imag(r))
+		}
+		// a zoom draws roots that lie outside its ranges; gonum would shrink
+		// the data area to fit their glyphs, so they are drawn clipped instead
+		zoomed = zoomed || len(rs.Poles) != len(all[i].Poles) || len(rs.Zeros) != len(all[i].Zeros)
 	}
 	scale, unit := OmegaScale(math.Max(math.Max(-x0, x1), math.Max(-y0, y1)))
 	p := newPanel(title, "σ, real part ("+unit+")", "jω, imaginary part ("+unit+")")
@@ -166,63 +207,89 @@ func addRootMap(fig *Figure, name, title string, poles, zeros, allPoles, allZero
 	}
 	pn.xMin, pn.xMax = x0-0.15*span, x1+0.15*span
 	pn.yMin, pn.yMax = y0-0.15*span, y1+0.15*span
-	// a zoom draws roots that lie outside its ranges; gonum would shrink
-	// the data area to fit their glyphs, so they are drawn clipped instead
-	zoomed := len(poles) != len(allPoles) || len(zeros) != len(allZeros)
 
-	rootStyles := []struct {
-		name        string
-		roots, draw []complex128
-		legend      string
-		glyph       draw.GlyphStyle
-	}{
-		{"poles", poles, allPoles, "pole", draw.GlyphStyle{Color: traceColors[0], Radius: vg.Points(4.5), Shape: boldCross{}}},
-		{"zeros", zeros, allZeros, "zero", draw.GlyphStyle{Color: traceColors[1], Radius: vg.Points(4.5), Shape: boldRing{}}},
-	}
-	for _, rs := range rootStyles {
-		pts := make([][2]float64, len(rs.roots))
-		for i, r := range rs.roots {
-			pts[i] = [2]float64{real(r), imag(r)}
+	single := len(shown) == 1 && shown[0].Label == ""
+	for i, set := range shown {
+		poleColor, zeroColor := traceColors[i%len(traceColors)], traceColors[i%len(traceColors)]
+		prefix := set.Label + "/"
+		if single {
+			poleColor, zeroColor, prefix = traceColors[0], traceColors[1], ""
 		}
-		pn.addSeries(rs.name, pts)
-		distinct, counts := groupRoots(rs.draw, tol)
-		if len(distinct) == 0 {
-			continue
+		rootStyles := []struct {
+			name        string
+			roots, draw []complex128
+			legend      string
+			glyph       draw.GlyphStyle
+		}{
+			{"poles", set.Poles, all[i].Poles, "pole", draw.GlyphStyle{Color: poleColor, Radius: vg.Points(4.5), Shape: boldCross{}}},
+			{"zeros", set.Zeros, all[i].Zeros, "zero", draw.GlyphStyle{Color: zeroColor, Radius: vg.Points(4.5), Shape: boldRing{}}},
 		}
-		xys := make(plotter.XYs, len(distinct))
-		var notes plotter.XYLabels
-		for i, r := range distinct {
-			xys[i] = plotter.XY{X: real(r), Y: imag(r)}
-			if counts[i] > 1 {
-				notes.XYs = append(notes.XYs, xys[i])
-				notes.Labels = append(notes.Labels, fmt.Sprintf("×%d", counts[i]))
+		var thumbs []gplot.Thumbnailer
+		for _, rs := range rootStyles {
+			pts := make([][2]float64, len(rs.roots))
+			for k, r := range rs.roots {
+				pts[k] = [2]float64{real(r), imag(r)}
 			}
-		}
-		sc, err := plotter.NewScatter(xys)
-		if err != nil {
-			return fmt.Errorf("plot: %s: %w", rs.name, err)
-		}
-		sc.GlyphStyle = rs.glyph
-		addUnpadded(p, zoomed, sc)
-		if len(rs.roots) > 0 {
-			pn.addLegend(rs.legend, sc)
-		}
-		if len(notes.Labels) > 0 {
-			lb, err := plotter.NewLabels(notes)
+			pn.addSeries(prefix+rs.name, pts)
+			distinct, counts := groupRoots(rs.draw, tol)
+			if len(distinct) == 0 {
+				continue
+			}
+			xys := make(plotter.XYs, len(distinct))
+			var notes plotter.XYLabels
+			for k, r := range distinct {
+				xys[k] = plotter.XY{X: real(r), Y: imag(r)}
+				if counts[k] > 1 {
+					notes.XYs = append(notes.XYs, xys[k])
+					notes.Labels = append(notes.Labels, fmt.Sprintf("×%d", counts[k]))
+				}
+			}
+			sc, err := plotter.NewScatter(xys)
 			if err != nil {
-				return fmt.Errorf("plot: %s multiplicity: %w", rs.name, err)
+				return fmt.Errorf("plot: %s%s: %w", prefix, rs.name, err)
 			}
-			for i := range lb.TextStyle {
-				lb.TextStyle[i] = noteStyle()
+			sc.GlyphStyle = rs.glyph
+			addUnpadded(p, zoomed, sc)
+			if len(rs.roots) > 0 {
+				if single {
+					pn.addLegend(rs.legend, sc)
+				} else {
+					thumbs = append(thumbs, sc)
+				}
 			}
-			lb.Offset = vg.Point{X: vg.Points(6), Y: vg.Points(3)}
-			addUnpadded(p, zoomed, lb)
+			if len(notes.Labels) > 0 {
+				lb, err := plotter.NewLabels(notes)
+				if err != nil {
+					return fmt.Errorf("plot: %s%s multiplicity: %w", prefix, rs.name, err)
+				}
+				for k := range lb.TextStyle {
+					lb.TextStyle[k] = noteStyle()
+				}
+				lb.Offset = vg.Point{X: vg.Points(6), Y: vg.Points(3)}
+				addUnpadded(p, zoomed, lb)
+			}
+		}
+		if !single {
+			if len(thumbs) == 0 {
+				// no root of this set on the panel: still name it, with its colour
+				thumbs = append(thumbs, legendSwatch{draw.GlyphStyle{Color: poleColor, Radius: vg.Points(4.5), Shape: boldCross{}}})
+			}
+			pn.addLegend(set.Label, thumbs...)
 		}
 	}
 	// Add widened the ranges to the data; restore the requested ones
 	// (layout equalises them)
 	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = pn.xMin, pn.xMax, pn.yMin, pn.yMax
 	return nil
+}
+
+// legendSwatch is a legend thumbnail of one glyph, for a root set with
+// no root drawn on a panel.
+type legendSwatch struct{ sty draw.GlyphStyle }
+
+// Thumbnail implements gonum's Thumbnailer.
+func (l legendSwatch) Thumbnail(c *draw.Canvas) {
+	c.DrawGlyph(l.sty, c.Center())
 }
 
 // unpadded hides a plotter's glyph boxes and data range, so that gonum

@@ -55,37 +55,15 @@ const PanelStep = "step"
 // band edges).
 func Step(t, y []float64, m StepMarks, opt StepOptions) (*Figure, error) {
 	const what = "step response"
-	if len(t) < 2 {
-		return nil, fmt.Errorf("plot: %s: need at least 2 time points, have %d", what, len(t))
-	}
-	if err := checkLen(what, "output", len(t), len(y)); err != nil {
+	if err := checkTimes(what, t, y); err != nil {
 		return nil, err
-	}
-	for i := range t {
-		if !finite(t[i]) || !finite(y[i]) {
-			return nil, fmt.Errorf("plot: %s: point %d (t=%g s, y=%g) is not finite", what, i, t[i], y[i])
-		}
-		if i > 0 && t[i] <= t[i-1] {
-			return nil, fmt.Errorf("plot: %s: times must increase, but point %d (%g s) follows %g s", what, i, t[i], t[i-1])
-		}
 	}
 	if !finite(m.Initial) || !finite(m.Final) || !finite(m.SettlingBand) || m.SettlingBand < 0 {
 		return nil, fmt.Errorf("plot: %s: initial %g, final %g and settling band %g must be finite (band ≥ 0)", what, m.Initial, m.Final, m.SettlingBand)
 	}
-	w, h := orDefault(opt.Width, 17*vg.Centimeter), orDefault(opt.Height, 9*vg.Centimeter)
-	ylabel := opt.YLabel
-	if ylabel == "" {
-		ylabel = "output (V)"
-	}
 	t0, t1 := t[0], t[len(t)-1]
-	e := notation.AxisExp3(math.Max(math.Abs(t0), math.Abs(t1)))
-	e = min(e, 0) // no ks
-	scale := math.Pow(1000, float64(e))
-	fig := newFigure(w, h)
-	p := newPanel(opt.Title, "time ("+notation.Prefix(e)+"s)", ylabel)
-	p.X.Tick.Marker = linearTicks{Scale: scale}
-	p.Add(grid{})
-	pn := fig.add(PanelStep, p)
+	fig, pn := timePanel(opt, t0, t1)
+	p := pn.p
 
 	pts := make([][2]float64, len(t))
 	for i := range t {
@@ -149,6 +127,89 @@ func Step(t, y []float64, m StepMarks, opt StepOptions) (*Figure, error) {
 	}
 	p.X.Min, p.X.Max = t0, t1
 	fitY(pn, 0.08)
+	return fig, nil
+}
+
+// checkTimes validates a time response: at least two points, finite,
+// times strictly increasing.
+func checkTimes(what string, t, y []float64) error {
+	if len(t) < 2 {
+		return fmt.Errorf("plot: %s: need at least 2 time points, have %d", what, len(t))
+	}
+	if err := checkLen(what, "output", len(t), len(y)); err != nil {
+		return err
+	}
+	for i := range t {
+		if !finite(t[i]) || !finite(y[i]) {
+			return fmt.Errorf("plot: %s: point %d (t=%g s, y=%g) is not finite", what, i, t[i], y[i])
+		}
+		if i > 0 && t[i] <= t[i-1] {
+			return fmt.Errorf("plot: %s: times must increase, but point %d (%g s) follows %g s", what, i, t[i], t[i-1])
+		}
+	}
+	return nil
+}
+
+// timePanel is the figure of a time response over [t0, t1] s: the time
+// axis in s, ms, µs or ns as the span suits (data stay in seconds).
+func timePanel(opt StepOptions, t0, t1 float64) (*Figure, *panel) {
+	w, h := orDefault(opt.Width, 17*vg.Centimeter), orDefault(opt.Height, 9*vg.Centimeter)
+	ylabel := opt.YLabel
+	if ylabel == "" {
+		ylabel = "output (V)"
+	}
+	e := notation.AxisExp3(math.Max(math.Abs(t0), math.Abs(t1)))
+	e = min(e, 0) // no ks
+	scale := math.Pow(1000, float64(e))
+	fig := newFigure(w, h)
+	p := newPanel(opt.Title, "time ("+notation.Prefix(e)+"s)", ylabel)
+	p.X.Tick.Marker = linearTicks{Scale: scale}
+	p.Add(grid{})
+	return fig, fig.add(PanelStep, p)
+}
+
+// TimeTrace is one time response to overlay: output values Y (output
+// units) at increasing times TS (s), under a legend label.
+type TimeTrace struct {
+	Label string
+	TS, Y []float64
+}
+
+// Steps overlays several time responses (one per value of a varied
+// part), each in its own colour and dash with a legend entry, over the
+// union of their time spans. No figures of merit are marked: the marks of
+// one response are drawn by Step.
+//
+// Series keys: "step/LABEL" (t, y). Labels must be unique and non-empty.
+func Steps(traces []TimeTrace, opt StepOptions) (*Figure, error) {
+	if len(traces) == 0 {
+		return nil, fmt.Errorf("plot: a time plot needs at least one trace")
+	}
+	t0, t1 := math.Inf(1), math.Inf(-1)
+	seen := map[string]bool{}
+	for _, tr := range traces {
+		if tr.Label == "" || seen[tr.Label] {
+			return nil, fmt.Errorf("plot: time trace labels must be unique and non-empty (%q)", tr.Label)
+		}
+		seen[tr.Label] = true
+		if err := checkTimes(fmt.Sprintf("trace %q", tr.Label), tr.TS, tr.Y); err != nil {
+			return nil, err
+		}
+		t0, t1 = math.Min(t0, tr.TS[0]), math.Max(t1, tr.TS[len(tr.TS)-1])
+	}
+	fig, pn := timePanel(opt, t0, t1)
+	for i, tr := range traces {
+		pts := make([][2]float64, len(tr.TS))
+		for k := range tr.TS {
+			pts[k] = [2]float64{tr.TS[k], tr.Y[k]}
+		}
+		if err := addTrace(pn, tr.Label, pts, styleFor(i), true); err != nil {
+			return nil, err
+		}
+	}
+	pn.p.X.Min, pn.p.X.Max = t0, t1
+	fitY(pn, 0.08)
+	fig.Layout()
 	return fig, nil
 }
 
