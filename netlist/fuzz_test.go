@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"runtime"
 	"strings"
 	"testing"
 )
@@ -129,10 +130,14 @@ func BenchmarkLoadPerByte(b *testing.B) {
 		fmt.Fprintf(&sb, "R%d: resistor (in, n%d) 1k ±1%%\nC%d: capacitor (n%d, gnd) (1n + 2n*%d)/3\n", i, i, i, i, i%7)
 	}
 	src := []byte(sb.String())
+	var before, after runtime.MemStats
+	runtime.ReadMemStats(&before)
 	for b.Loop() {
 		if _, err := Load("bench", src, nil); err != nil {
 			b.Fatal(err)
 		}
 	}
+	runtime.ReadMemStats(&after)
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(src)), "ns/byte")
+	b.ReportMetric(float64(after.TotalAlloc-before.TotalAlloc)/float64(b.N)/float64(len(src)), "B/byte")
 }

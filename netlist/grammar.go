@@ -8,9 +8,10 @@ import (
 )
 
 // The syntax tree of a circuit file. Every node carries the lexer position
-// of its first token (Pos) and the tokens it was parsed from (Tokens), so
-// diagnostics and spans can point back into the source; File.Position turns
-// a lexer position into a Pos with a rune column.
+// of its first token (Pos); an expression and a require statement also
+// keep Tokens, cut after parsing to their last significant token
+// (compactTokens), so diagnostics and spans can point back into the source;
+// File.Position turns a lexer position into a Pos with a rune column.
 
 // lexDef tokenises circuit files. Newlines separate statements; Space and
 // Comment are elided; Bad catches any other character so that lexing never

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	"reflect"
 	"sort"
 	"strings"
 	"unicode/utf8"
@@ -47,9 +48,13 @@ func Parse(name string, src []byte) (*File, error) {
 	// and memory linear in the file. A lexer error (none is expected:
 	// every character has a rule) falls back to lexing the whole file,
 	// for its position.
+	// The token buffer is reused from line to line, a line is refused past
+	// MaxLineTokens tokens, and parsing stops after syntax.MaxReported
+	// errors with a note, so memory stays a small multiple of the file.
 	var diags ErrorList
 	var flat []*Stmt
 	var line []lexer.Token
+	stopped := false
 	for start, lineNo := 0, 1; start <= len(src); lineNo++ {
 		end := bytes.IndexByte(src[start:], '\n')
 		if end < 0 {
@@ -57,11 +62,35 @@ func Parse(name string, src []byte) (*File, error) {
 		} else {
 			end += start
 		}
+		if len(diags) >= syntax.MaxReported {
+			if len(bytes.TrimSpace(src[start:])) == 0 {
+				break // nothing left to check
+			}
+			last := f.text.Pos(len(src)).Line
+			if bytes.HasSuffix(src, []byte{'\n'}) {
+				last-- // the empty line after the final newline
+			}
+			diags = append(diags, f.diagAt(start, SevError, fmt.Sprintf("stopped after %d errors; lines %d to %d were not checked", len(diags), lineNo, last), "fix these and run again"))
+			stopped = true
+			break
+		}
+		if blankLine(src[start:end]) {
+			start = end + 1
+			continue
+		}
 		var err error
-		if line, err = lexLine(name, src[start:end], start, lineNo, line[:0]); err != nil {
+		var over int
+		if line, over, err = lexLine(name, src[start:end], start, lineNo, line[:0]); err != nil {
 			return f.parseWhole(name, src)
 		}
-		if len(line) > 0 {
+		switch {
+		case over >= 0:
+			if d := f.nestingDiag(line); d != nil {
+				diags = append(diags, d)
+				break
+			}
+			diags = append(diags, f.diagAt(over, SevError, fmt.Sprintf("line %d has more than %d tokens", lineNo, MaxLineTokens), "split it with let"))
+		case len(line) > 0:
 			line = append(line, lexer.EOFToken(lexer.Position{Filename: name, Offset: end, Line: lineNo, Column: end - start + 1}))
 			st, d := f.parseLine(line)
 			if d != nil {
@@ -72,39 +101,60 @@ func Parse(name string, src []byte) (*File, error) {
 		}
 		start = end + 1
 	}
-	f.Stmts, diags = f.nest(flat, diags)
+	f.Stmts, diags = f.nest(flat, diags, stopped)
 	diags.Sort()
 	return f, diags.Err()
 }
 
+// MaxLineTokens is how many significant tokens (words, numbers,
+// operators, brackets; not spaces or comments) one line of a circuit file
+// may hold: ample for any statement, and a bound on the work and memory of
+// parsing one (a value of 5 million terms is refused, not parsed).
+const MaxLineTokens = 10000
+
+// blankLine reports whether a line holds only spaces, tabs and a carriage
+// return (lexing it would find no significant token).
+func blankLine(text []byte) bool {
+	for _, c := range text {
+		if c != ' ' && c != '\t' && c != '\r' {
+			return false
+		}
+	}
+	return true
+}
+
 // lexLine appends to buf the tokens of one line (without its newline)
 // that starts at byte offset start and is line lineNo of the file, or
-// returns buf empty when the line has no significant token.
-func lexLine(name string, text []byte, start, lineNo int, buf []lexer.Token) ([]lexer.Token, error) {
+// returns buf empty when the line has no significant token. over is the
+// byte offset of the token past MaxLineTokens significant ones (lexing
+// stops there, buf holding the tokens before it), or -1.
+func lexLine(name string, text []byte, start, lineNo int, buf []lexer.Token) (toks []lexer.Token, over int, err error) {
 	lx, err := lexDef.LexString(name, string(text))
 	if err != nil {
-		return nil, err
+		return nil, -1, err
 	}
-	significant := false
+	significant := 0
 	for {
 		t, err := lx.Next()
 		if err != nil {
-			return nil, err
+			return nil, -1, err
 		}
 		if t.EOF() {
 			break
 		}
 		t.Pos.Offset += start
 		t.Pos.Line = lineNo
-		buf = append(buf, t)
 		if t.Type != symSpace && t.Type != symComment {
-			significant = true
+			if significant++; significant > MaxLineTokens {
+				return buf, t.Pos.Offset, nil
+			}
 		}
+		buf = append(buf, t)
 	}
-	if !significant {
-		return buf[:0], nil
+	if significant == 0 {
+		return buf[:0], -1, nil
 	}
-	return buf, nil
+	return buf, -1, nil
 }
 
 // parseWhole is the former whole-file path: lex everything, then parse
@@ -128,7 +178,7 @@ func (f *File) parseWhole(name string, src []byte) (*File, error) {
 		}
 		flat = append(flat, st)
 	}
-	f.Stmts, diags = f.nest(flat, diags)
+	f.Stmts, diags = f.nest(flat, diags, false)
 	diags.Sort()
 	return f, diags.Err()
 }
@@ -194,6 +244,7 @@ func (f *File) parseLine(line []lexer.Token) (*Stmt, *Diagnostic) {
 		var st *Stmt
 		st, err = stmtParser.ParseFromLexer(pl)
 		if err == nil {
+			compactTokens(reflect.ValueOf(st))
 			return st, nil
 		}
 	}
@@ -287,29 +338,38 @@ func lineHint(line []lexer.Token, bad lexer.Token, hint string) string {
 }
 
 // nest groups block bodies under their headers and reports misplaced
-// statements.
-func (f *File) nest(flat []*Stmt, diags ErrorList) ([]*Stmt, ErrorList) {
+// statements. stopped says parsing ended early, so an open block is not
+// reported as lacking its end.
+func (f *File) nest(flat []*Stmt, diags ErrorList, stopped bool) ([]*Stmt, ErrorList) {
 	var top []*Stmt
 	var open *Stmt
+	dropped := 0
+	report := func(d *Diagnostic) {
+		if len(diags) < syntax.MaxReported {
+			diags = append(diags, d)
+		} else {
+			dropped++
+		}
+	}
 	for _, st := range flat {
 		switch {
 		case st.Block != nil:
 			if open != nil {
-				diags = append(diags, f.diag(st.Pos, SevError, fmt.Sprintf("block %q starts inside block %q", st.Block.Name, open.Block.Name), "blocks cannot be nested; close the outer block with end first"))
+				report(f.diag(st.Pos, SevError, fmt.Sprintf("block %q starts inside block %q", st.Block.Name, open.Block.Name), "blocks cannot be nested; close the outer block with end first"))
 				continue
 			}
 			open = st
 			top = append(top, st)
 		case st.End != nil:
 			if open == nil {
-				diags = append(diags, f.diag(st.Pos, SevError, "end without a block", ""))
+				report(f.diag(st.Pos, SevError, "end without a block", ""))
 				continue
 			}
 			open.Block.EndPos = st.Pos
 			open = nil
 		case open != nil:
 			if st.Title != nil || st.Require != nil || st.Response != nil {
-				diags = append(diags, f.diag(st.Pos, SevError, "title, require and response belong at the top level, not inside a block", ""))
+				report(f.diag(st.Pos, SevError, "title, require and response belong at the top level, not inside a block", ""))
 				continue
 			}
 			open.Block.Body = append(open.Block.Body, st)
@@ -317,8 +377,11 @@ func (f *File) nest(flat []*Stmt, diags ErrorList) ([]*Stmt, ErrorList) {
 			top = append(top, st)
 		}
 	}
-	if open != nil {
-		diags = append(diags, f.diag(open.Pos, SevError, fmt.Sprintf("block %q has no end", open.Block.Name), `close it with a line "end"`))
+	if open != nil && !stopped {
+		report(f.diag(open.Pos, SevError, fmt.Sprintf("block %q has no end", open.Block.Name), `close it with a line "end"`))
+	}
+	if dropped > 0 {
+		diags = append(diags, &Diagnostic{Pos: Pos{File: f.Name}, Severity: SevError, Msg: fmt.Sprintf("and %d more errors in the block structure, not shown", dropped)})
 	}
 	return top, diags
 }

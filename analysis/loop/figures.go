@@ -121,7 +121,11 @@ func Analyze(t *transfer.TransferFunction, fromRad, toRad float64) (*Figures, er
 	}
 	f := &Figures{FromHz: fromRad / (2 * math.Pi), ToHz: toRad / (2 * math.Pi)}
 	p0 := t.PhaseDeg(fromRad)
-	f.shiftDeg = -360 * math.Ceil((p0-180)/360)
+	// The unwrapped phase starts in (−270°, 90°]: a positive DC loop gain
+	// near 0° (a few degrees above it when a zero lies below every pole),
+	// a negative one (positive feedback) at −180°, so the phase margin
+	// 180° + arg T of a positive loop is about −90°, not 270°.
+	f.shiftDeg = -360 * math.Ceil((p0-90)/360)
 	n := int(math.Ceil(math.Log10(toRad/fromRad)*pointsPerDecade)) + 1
 	omega := func(i int) float64 { return fromRad * math.Pow(toRad/fromRad, float64(i)/float64(n-1)) }
 	mag := func(w float64) float64 { return magLog(t, w) }

@@ -180,3 +180,34 @@ func cmplxRel(a, b complex128) float64 {
 	d := a - b
 	return math.Hypot(real(d), imag(d)) / math.Max(math.Hypot(real(b), imag(b)), 1e-30)
 }
+
+// TestLoopSwappedInputs: the inverting amplifier with its op-amp inputs
+// swapped has T(s) = −A0·β/(1 + s·A0/ωt), β = R1/(R1 + R2) = 1/11 (closed
+// form of the single-pole op-amp): a negative DC loop gain, so the
+// unwrapped phase starts at −180° and is −180° − atan(ω·A0/ωt); at the
+// crossover ωc = (ωt/A0)·√((A0β)² − 1) the phase margin is
+// −atan(√((A0β)² − 1)) ≈ −90°, never 270°.
+func TestLoopSwappedInputs(t *testing.T) {
+	a0, wt, beta := 1e5, 2*math.Pi*1e6, 1.0/11
+	c := testcircuit.Load(t, "../stability/testdata/circuits/swapped_inverting.nodal", nil)
+	lr, err := NewLoopGain(c, "U1")
+	if err != nil {
+		t.Fatal(err)
+	}
+	lo, _ := Span(lr.T)
+	want0 := -180 - math.Atan(lo*a0/wt)*180/math.Pi
+	if got := lr.Figures.PhaseDeg(lr.T, lo); math.Abs(got-want0) > 1e-7 {
+		t.Errorf("phase at %g rad/s %.10g°, want %.10g°", lo, got, want0)
+	}
+	if len(lr.Figures.Gain) != 1 {
+		t.Fatalf("crossovers %+v, want one", lr.Figures.Gain)
+	}
+	wc := wt / a0 * math.Sqrt(a0*a0*beta*beta-1)
+	if got := lr.Figures.Gain[0].FreqHz * 2 * math.Pi; !relClose(got, wc, 1e-9) {
+		t.Errorf("crossover %.10g rad/s, want %.10g", got, wc)
+	}
+	pm := -math.Atan(math.Sqrt(a0*a0*beta*beta-1)) * 180 / math.Pi
+	if got := lr.Figures.Gain[0].PhaseMarginDeg; math.Abs(got-pm) > 1e-7 {
+		t.Errorf("phase margin %.10g°, want %.10g°", got, pm)
+	}
+}

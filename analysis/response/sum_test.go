@@ -18,7 +18,7 @@ func TestSum(t *testing.T) {
 			s := complex(0, 2*math.Pi*f)
 			hs[i], ds[i] = h(s), dh(s)
 		}
-		return newResponse(input, output, freqs, hs, ds, make([]bool, len(freqs)))
+		return newResponse(input, output, freqs, hs, ds, make([]bool, len(freqs)), make([]bool, len(freqs)))
 	}
 	lp := mk("V", "lp", func(s complex128) complex128 { return 1 / (1 + s) }, func(s complex128) complex128 { return -1 / ((1 + s) * (1 + s)) })
 	hp := mk("V", "hp", func(s complex128) complex128 { return s / (1 + s) }, func(s complex128) complex128 { return 1 / ((1 + s) * (1 + s)) })
@@ -35,7 +35,7 @@ func TestSum(t *testing.T) {
 	if _, err := Sum("bad", lp, other); err == nil {
 		t.Error("a sum over two inputs was accepted")
 	}
-	short := newResponse("V", "y", freqs[:2], lp.H[:2], lp.dh[:2], make([]bool, 2))
+	short := newResponse("V", "y", freqs[:2], lp.H[:2], lp.dh[:2], make([]bool, 2), make([]bool, 2))
 	if _, err := Sum("bad", lp, short); err == nil {
 		t.Error("a sum over different frequencies was accepted")
 	}

@@ -37,12 +37,66 @@ type Response struct {
 	// own scale): a pole on the jω axis. There H and Mag are +Inf, MagDB
 	// +Inf, PhaseDeg and GroupDelayS NaN, and the sweep goes on.
 	AtPole []bool
+	// Underflow marks the points where |H| came out below the smallest
+	// normal float64 (MinNormalMag, 0 included) at a frequency above 0
+	// while the response is not identically zero: the true |H| lies below
+	// float64's range (a long ladder far above its corner), so the value
+	// computed is not |H|. There Mag is 0 and MagDB, PhaseDeg and
+	// GroupDelayS are NaN; the sweep goes on.
+	Underflow []bool
 
 	dh []complex128 // dH/ds at s = j2πf, for Sum's group delay
 }
 
 // PoleNote is the reason given for a point of a sweep that sits on a pole.
 const PoleNote = "on a pole on the jω axis: the gain is unbounded"
+
+// MinNormalMag is the smallest normal float64 (2.2250738585072014e-308):
+// a |H| computed below it (subnormal or 0) has lost its digits.
+const MinNormalMag = 0x1p-1022
+
+// UnderflowNote is the reason given for a point of a sweep where |H| is
+// below float64's range (see Response.Underflow).
+const UnderflowNote = "|H| is below 2.2e-308, the smallest normal float64 (underflow): its magnitude, phase and group delay cannot be computed"
+
+// probeDecadesHz are the frequencies (Hz) Sweep tries, when no point of a
+// sweep has a normal |H|, to tell a response that is identically zero
+// (printed as 0) from one that underflows everywhere it was asked.
+var probeDecadesHz = []float64{1e-6, 1e-4, 1e-2, 1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9}
+
+// underflowPoints marks the points of h at frequencies above 0 whose |H|
+// is below MinNormalMag, unless the response is identically zero: no point
+// of h, and no probe frequency evaluated by eval, has a normal non-zero
+// |H|. eval is called only when every point is below the range.
+func underflowPoints(freqsHz []float64, h []complex128, atPole []bool, eval func(fHz float64) (complex128, bool)) []bool {
+	under := make([]bool, len(h))
+	low, normal := false, false
+	for i, v := range h {
+		if atPole[i] {
+			continue
+		}
+		if cmplx.Abs(v) >= MinNormalMag {
+			normal = true
+		} else if freqsHz[i] > 0 {
+			under[i], low = true, true
+		}
+	}
+	if !low {
+		return under
+	}
+	if !normal {
+		for _, f := range probeDecadesHz {
+			if v, ok := eval(f); ok && cmplx.Abs(v) >= MinNormalMag {
+				normal = true
+				break
+			}
+		}
+	}
+	if !normal {
+		return make([]bool, len(h)) // identically zero: its zeros are exact
+	}
+	return under
+}
 
 // Sweep evaluates sys at every frequency of freqsHz (Hz, each ≥ 0) on
 // workers goroutines (workers ≤ 0 means runtime.NumCPU()). Each point is
@@ -113,7 +167,11 @@ func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int)
 	if n > 0 && !slices.Contains(atPole, false) {
 		return nil, fmt.Errorf("sweep: %w", singular[0])
 	}
-	r := newResponse(InputLabel(sys.Input), OutputLabel(sys.Output), freqsHz, h, dh, atPole)
+	under := underflowPoints(freqsHz, h, atPole, func(fHz float64) (complex128, bool) {
+		v, _, err := base.Eval(complex(0, 2*math.Pi*fHz))
+		return v, err == nil
+	})
+	r := newResponse(InputLabel(sys.Input), OutputLabel(sys.Output), freqsHz, h, dh, atPole, under)
 	return r, nil
 }
 
@@ -126,7 +184,7 @@ func Sum(output string, rs ...*Response) (*Response, error) {
 		return nil, errors.New("sum of responses: no responses")
 	}
 	n := len(rs[0].FreqHz)
-	h, dh, atPole := make([]complex128, n), make([]complex128, n), make([]bool, n)
+	h, dh, atPole, termUnder := make([]complex128, n), make([]complex128, n), make([]bool, n), make([]bool, n)
 	for _, r := range rs {
 		if r.Input != rs[0].Input {
 			return nil, fmt.Errorf("sum of responses: %s is driven by %s, %s by %s; a sum needs one input", rs[0].Output, rs[0].Input, r.Output, r.Input)
@@ -138,9 +196,16 @@ func Sum(output string, rs ...*Response) (*Response, error) {
 			h[i] += r.H[i]
 			dh[i] += r.dh[i]
 			atPole[i] = atPole[i] || (i < len(r.AtPole) && r.AtPole[i])
+			termUnder[i] = termUnder[i] || (i < len(r.Underflow) && r.Underflow[i])
 		}
 	}
-	return newResponse(rs[0].Input, output, rs[0].FreqHz, h, dh, atPole), nil
+	// The sum underflows where it is below the range and a term did (a
+	// sum of exact zeros is exact).
+	under := make([]bool, n)
+	for i := range n {
+		under[i] = termUnder[i] && !atPole[i] && cmplx.Abs(h[i]) < MinNormalMag
+	}
+	return newResponse(rs[0].Input, output, rs[0].FreqHz, h, dh, atPole, under), nil
 }
 
 // firstError prefers a solver error over the cancellation it caused, and
@@ -162,7 +227,7 @@ func firstError(ctx context.Context, errs []error) error {
 	return nil
 }
 
-func newResponse(input, output string, freqsHz []float64, h, dh []complex128, atPole []bool) *Response {
+func newResponse(input, output string, freqsHz []float64, h, dh []complex128, atPole, under []bool) *Response {
 	n := len(freqsHz)
 	r := &Response{
 		FreqHz:      append([]float64(nil), freqsHz...),
@@ -174,6 +239,7 @@ func newResponse(input, output string, freqsHz []float64, h, dh []complex128, at
 		Input:       input,
 		Output:      output,
 		AtPole:      atPole,
+		Underflow:   under,
 		dh:          dh,
 	}
 	for i, v := range h {
@@ -190,6 +256,11 @@ func newResponse(input, output string, freqsHz []float64, h, dh []complex128, at
 		if p {
 			r.H[i] = cmplx.Inf()
 			r.Mag[i], r.MagDB[i], r.PhaseDeg[i], r.GroupDelayS[i] = math.Inf(1), math.Inf(1), math.NaN(), math.NaN()
+		}
+	}
+	for i, u := range under {
+		if u {
+			r.Mag[i], r.MagDB[i], r.PhaseDeg[i], r.GroupDelayS[i] = 0, math.NaN(), math.NaN(), math.NaN()
 		}
 	}
 	UnwrapDeg(r.PhaseDeg)

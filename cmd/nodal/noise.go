@@ -14,6 +14,7 @@ import (
 
 	"nodal/analysis/noise"
 	"nodal/analysis/response"
+	"nodal/analysis/stability"
 	"nodal/cmd/nodal/notation"
 	"nodal/cmd/nodal/plot"
 	"nodal/mna"
@@ -77,6 +78,7 @@ type noiseRun struct {
 	sp   *noise.Spectrum
 	band *noise.Integrated // nil without a band
 	snr  *float64
+	stab *stability.Result // the circuit's stability (warned, and in JSON)
 }
 
 // tempArgs is the --temp flag of every command that computes noise
@@ -203,7 +205,11 @@ func (c *noiseCmd) Run(e *env) error {
 			return fmt.Errorf("noise needs frequencies above 0 Hz (got %s)", notation.Eng(f, "Hz"))
 		}
 	}
-	run := &noiseRun{a: a}
+	stab, err := circuitStability(l)
+	if err != nil {
+		return err
+	}
+	run := &noiseRun{a: a, stab: stab}
 	if run.sp, err = a.Spectrum(e.ctx, freqs); err != nil {
 		return err
 	}
@@ -248,6 +254,7 @@ func (c *noiseCmd) Run(e *env) error {
 		if c.Format == "json" {
 			return writeJSON(w, noiseJSON(run))
 		}
+		warnStability(e.stderr, run.stab)
 		return noiseTable(w, run)
 	})
 }
@@ -448,6 +455,11 @@ func noiseJSON(r *noiseRun) object {
 		}
 		o.set("contributions", cs)
 		doc.set("band", o)
+	}
+	if r.stab != nil {
+		st := newStabilityJSON(r.stab)
+		doc.set("stability", st.Stability)
+		doc.set("unstable_poles", st.UnstablePoles)
 	}
 	return doc
 }

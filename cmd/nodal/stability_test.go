@@ -61,6 +61,20 @@ func TestSwappedInputs(t *testing.T) {
 	if doc.Stability != "unstable" || len(doc.UnstablePoles) != 1 || doc.UnstablePoles[0].Re < 5.71e5 || doc.UnstablePoles[0].Re > 5.712e5 {
 		t.Errorf("tf json: %+v", doc)
 	}
+	// noise states the stability too: the warning beside the table, the
+	// keys in JSON (the root a(s)·β = 1, s = ωt/11 − ωt/A0, closed form).
+	r = runNodal(t, "", "noise", sw, "--out", "out")
+	if r.code != 0 || !strings.Contains(r.stderr, "the circuit is unstable") || !strings.Contains(r.stderr, "571136 rad/s") {
+		t.Errorf("noise: exit %d, stderr %q", r.code, r.stderr)
+	}
+	r = runNodal(t, "", "noise", sw, "--out", "out", "--format", "json")
+	doc.Stability, doc.UnstablePoles = "", nil
+	if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if doc.Stability != "unstable" || len(doc.UnstablePoles) != 1 || doc.UnstablePoles[0].Re < 5.71e5 || doc.UnstablePoles[0].Re > 5.712e5 {
+		t.Errorf("noise json: %+v", doc)
+	}
 	r = runNodal(t, "", "transfer", filepath.Join(stabilityCircuits, "swapped_ideal.nodal"), "--out", "out")
 	if r.code != 0 || !strings.Contains(r.stderr, "U1: the loop around U1 is unstable with a finite-gain op-amp") || !strings.Contains(r.stderr, "are its inputs swapped?") {
 		t.Errorf("ideal swapped: exit %d, stderr %q", r.code, r.stderr)

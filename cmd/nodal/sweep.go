@@ -262,6 +262,7 @@ func (c *sweepCmd) Run(e *env) error {
 			return err
 		}
 	}
+	warnUnderflow(e.stderr, resps)
 	warn := func() {
 		for _, st := range stabs {
 			warnStability(e.stderr, st)
@@ -310,8 +311,40 @@ func responseJSON(r *response.Response) sweepJSON {
 		if i < len(r.AtPole) && r.AtPole[i] {
 			d.Points[i].Note = response.PoleNote
 		}
+		if underflowAt(r, i) {
+			d.Points[i].Mag, d.Points[i].Note = math.NaN(), response.UnderflowNote
+		}
 	}
 	return d
+}
+
+// underflowAt reports whether point i of r is below float64's range.
+func underflowAt(r *response.Response, i int) bool { return i < len(r.Underflow) && r.Underflow[i] }
+
+// underflowCell is the mag cell of a point below float64's range.
+const underflowCell = "below 2.2e-308 (underflow)"
+
+// warnUnderflow writes one warning per response with points below
+// float64's range, naming the frequency range they cover.
+func warnUnderflow(w io.Writer, resps []*response.Response) {
+	for _, r := range resps {
+		n, lo, hi := 0, math.Inf(1), math.Inf(-1)
+		for i, f := range r.FreqHz {
+			if underflowAt(r, i) {
+				n, lo, hi = n+1, math.Min(lo, f), math.Max(hi, f)
+			}
+		}
+		if n == 0 {
+			continue
+		}
+		span := num(lo) + " Hz"
+		if hi > lo {
+			span = "from " + num(lo) + " to " + num(hi) + " Hz"
+		} else {
+			span = "at " + span
+		}
+		fmt.Fprintf(w, "nodal: warning: %s: |H| is below 2.2e-308, float64's range, %s (%d of %d points): those points are shown as underflow, not as numbers\n", r.Output, span, n, len(r.FreqHz))
+	}
 }
 
 // responseCSV writes the responses with a header row; an output column is
@@ -330,6 +363,9 @@ func responseCSV(w io.Writer, resps []*response.Response) error {
 	for _, r := range resps {
 		for i := range r.FreqHz {
 			rec := []string{g(r.FreqHz[i]), g(r.Mag[i]), g(r.MagDB[i]), g(r.PhaseDeg[i]), g(r.GroupDelayS[i])}
+			if underflowAt(r, i) {
+				rec = []string{g(r.FreqHz[i]), "", "", "", ""} // below float64's range: no number
+			}
 			if multi {
 				rec = append([]string{r.Output}, rec...)
 			}
@@ -352,7 +388,11 @@ func responseTable(w io.Writer, r *response.Response, unit string) error {
 	fmt.Fprintln(w)
 	t := newTable(w, "freq_hz", "mag", "mag_db", "phase_deg", "group_delay_s")
 	for i := range r.FreqHz {
-		if err := t.row(num(r.FreqHz[i]), num(r.Mag[i]), fixed(r.MagDB[i], 4), fixed(r.PhaseDeg[i], 3), num(r.GroupDelayS[i])); err != nil {
+		row := []string{num(r.FreqHz[i]), num(r.Mag[i]), fixed(r.MagDB[i], 4), fixed(r.PhaseDeg[i], 3), num(r.GroupDelayS[i])}
+		if underflowAt(r, i) {
+			row = []string{row[0], underflowCell, "-", "-", "-"}
+		}
+		if err := t.row(row...); err != nil {
 			return err
 		}
 	}
@@ -373,6 +413,10 @@ func responsesTable(w io.Writer, resps []*response.Response) error {
 	for i := range resps[0].FreqHz {
 		row := []string{num(resps[0].FreqHz[i])}
 		for _, r := range resps {
+			if underflowAt(r, i) {
+				row = append(row, underflowCell, "-")
+				continue
+			}
 			row = append(row, fixed(r.MagDB[i], 4), fixed(r.PhaseDeg[i], 3))
 		}
 		if err := t.row(row...); err != nil {

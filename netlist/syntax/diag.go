@@ -162,7 +162,9 @@ func shortenQuoted(msg string) string {
 }
 
 // ErrorList is a list of diagnostics, like go/scanner.ErrorList. Its Error
-// method reports up to MaxReported of them.
+// method reports up to MaxReported of them (all of them when one more
+// would be left out: a parser's closing note after MaxReported errors is
+// shown, not counted).
 type ErrorList []*Diagnostic
 
 // MaxReported is how many diagnostics ErrorList.Error prints at most.
@@ -173,7 +175,7 @@ const MaxReported = 20
 func (l ErrorList) Error() string {
 	var b strings.Builder
 	for i, d := range l {
-		if i == MaxReported {
+		if i == MaxReported && len(l) > MaxReported+1 {
 			fmt.Fprintf(&b, "\n(and %d more errors)", len(l)-MaxReported)
 			break
 		}

@@ -21,6 +21,7 @@ package syntax
 import (
 	"bytes"
 	"fmt"
+	"math"
 	"sort"
 	"strings"
 	"unicode/utf8"
@@ -54,16 +55,19 @@ type Text struct {
 	Name   string // the source name used in positions
 	Source []byte // the text
 
-	lineStarts []int // byte offset of each line start
+	lineStarts []int32 // byte offset of each line start (4 bytes a line: a file of blank lines costs 4× its size)
 	notText    bool
 }
 
-// NewText indexes src, named name in positions.
+// NewText indexes src, named name in positions. Lines are indexed in the
+// first 2 GiB only (every grammar caps its input far below that); an offset
+// past them is placed on the last line indexed.
 func NewText(name string, src []byte) *Text {
-	starts := []int{0}
-	for i, c := range src {
+	indexed := src[:min(len(src), math.MaxInt32-1)]
+	starts := make([]int32, 1, bytes.Count(indexed, []byte{'\n'})+1)
+	for i, c := range indexed {
 		if c == '\n' {
-			starts = append(starts, i+1)
+			starts = append(starts, int32(i+1))
 		}
 	}
 	return &Text{Name: name, Source: src, lineStarts: starts, notText: !utf8.Valid(src) || bytes.IndexByte(src, 0) >= 0}
@@ -72,8 +76,8 @@ func NewText(name string, src []byte) *Text {
 // Pos returns the position of a byte offset (clamped to the text).
 func (t *Text) Pos(off int) Pos {
 	off = min(max(off, 0), len(t.Source))
-	line := sort.SearchInts(t.lineStarts, off+1) // lineStarts[line-1] <= off
-	start := t.lineStarts[line-1]
+	line := sort.Search(len(t.lineStarts), func(i int) bool { return int(t.lineStarts[i]) > off }) // lineStarts[line-1] <= off
+	start := int(t.lineStarts[line-1])
 	return Pos{File: t.Name, Line: line, Col: utf8.RuneCount(t.Source[start:off]) + 1, Offset: off}
 }
 
