@@ -47,7 +47,14 @@ func (e *LookupError) Hint() string {
 	if e.Name == "" {
 		return ""
 	}
-	return netlist.Closest(e.Name, e.Known)
+	if h := netlist.Closest(e.Name, e.Known); h != "" {
+		return h
+	}
+	if e.What == "source" && len(e.Known) == 1 && e.Why == "" {
+		// A circuit with one source: that one is the only sensible guess.
+		return e.Known[0]
+	}
+	return ""
 }
 
 // PartError reports a part that cannot be stamped (bad terminal count, a

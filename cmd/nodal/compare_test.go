@@ -167,3 +167,19 @@ func FuzzReadMeasured(f *testing.F) {
 		}
 	})
 }
+
+// TestCompareDefaultResponseNamed: with no --out the file's first response
+// is compared, and the header names it (it was blank).
+func TestCompareDefaultResponseNamed(t *testing.T) {
+	dir := t.TempDir()
+	f := writeTemp(t, dir, "rc.nodal", "Vin: voltage source (in, gnd) 1\nR1: resistor (in, out) 1k\nC1: capacitor (out, gnd) 1u\nresponse vout = v(out)\n")
+	m := writeTemp(t, dir, "m.csv", "freq_hz,mag_db\n10,0\n100,-0.1\n1000,-3\n")
+	res := runNodal(t, "", "compare", f, "--measured", m)
+	if res.code != 0 {
+		t.Fatalf("exit %d: %s", res.code, res.stderr)
+	}
+	first, _, _ := strings.Cut(res.stdout, "\n")
+	if !strings.HasSuffix(first, ": vout / Vin, differences B − A") {
+		t.Errorf("header %q does not name the response vout", first)
+	}
+}

@@ -157,12 +157,12 @@ func factoredText(h *transfer.TransferFunction) string {
 	if z0 > p0 {
 		top = append(top, sPower(z0-p0, "s"))
 	}
-	top = append(top, zf...)
+	top = append(top, withMultiplicity(zf)...)
 	var bottom []string
 	if p0 > z0 {
 		bottom = append(bottom, sPower(p0-z0, "s"))
 	}
-	bottom = append(bottom, pf...)
+	bottom = append(bottom, withMultiplicity(pf)...)
 	s := strings.Join(top, "·")
 	switch len(bottom) {
 	case 0:
@@ -172,6 +172,27 @@ func factoredText(h *transfer.TransferFunction) string {
 		s += " / [" + strings.Join(bottom, "·") + "]"
 	}
 	return s
+}
+
+// withMultiplicity writes a factor that occurs m > 1 times once, as
+// "(…)^m" ("s^m" for s), in the order of first occurrence: an m-fold root
+// gives m equal factor texts (transfer.Extract merges such roots into
+// equal values). The derivation grammar reads the result back.
+func withMultiplicity(factors []string) []string {
+	var out []string
+	count := map[string]int{}
+	for _, f := range factors {
+		if count[f] == 0 {
+			out = append(out, f)
+		}
+		count[f]++
+	}
+	for i, f := range out {
+		if m := count[f]; m > 1 {
+			out[i] = fmt.Sprintf("%s^%d", f, m)
+		}
+	}
+	return out
 }
 
 // zpkText writes H(s) = Gain·Π(s − z)/Π(s − p).
@@ -213,10 +234,10 @@ func zpkText(h *transfer.TransferFunction) string {
 		m, e := h.GainDecimal()
 		s = fmt.Sprintf("%s·10^%d", pasteNumber(m), e)
 	}
-	if z := lin(h.Zeros); len(z) > 0 {
+	if z := withMultiplicity(lin(h.Zeros)); len(z) > 0 {
 		s += "·" + strings.Join(z, "·")
 	}
-	switch p := lin(h.Poles); len(p) {
+	switch p := withMultiplicity(lin(h.Poles)); len(p) {
 	case 0:
 	case 1:
 		s += " / " + p[0]

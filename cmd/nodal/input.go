@@ -181,7 +181,14 @@ func probeFor(c *netlist.Circuit, in, out, ref string) (p mna.Probe, name string
 	if in != "" && r.From != "" && in != r.From {
 		return mna.Probe{}, "", fmt.Errorf("--in %s: response %s is driven from %s", in, r.Name, r.From)
 	}
-	if r.From == "" {
+	if r.From == "" && in != "" {
+		// The source comes from --in, not from the file: a wrong name is
+		// reported against the flag, with the same hint as any other probe.
+		_, _, err := mna.Resolve(c, mna.Excitation{Source: in}, mna.Observation{Kind: mna.NodeVoltage, Node: netlist.Ground})
+		var le *mna.LookupError
+		if errors.As(err, &le) && le.What == "source" {
+			return mna.Probe{}, "", fmt.Errorf("--in: %w", err)
+		}
 		r.From = in
 	}
 	p, err = mna.ResponseProbe(c, r)

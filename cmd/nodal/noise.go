@@ -84,14 +84,15 @@ type noiseRun struct {
 // tempArgs is the --temp flag of every command that computes noise
 // (noise, and the noise metrics of verify, tolerance and report).
 type tempArgs struct {
-	Temp string `help:"Temperature of every resistor for noise: kelvin (300K, 300) or degrees Celsius (85degC)." default:"300K" placeholder:"T"`
+	Temp string `help:"Temperature of every resistor for noise: kelvin (300K) or degrees Celsius (85degC); a bare number is refused." default:"300K" placeholder:"T"`
 }
 
 // kelvin is the temperature of --temp, K.
 func (t tempArgs) kelvin() (float64, error) { return parseTemperature(t.Temp) }
 
-// parseTemperature reads a temperature in kelvin ("300K", "300") or
-// degrees Celsius ("85degC", "85°C") and returns kelvin (> 0).
+// parseTemperature reads a temperature in kelvin ("300K") or degrees
+// Celsius ("85degC", "85°C") and returns kelvin (> 0). A number without a
+// unit is an error naming both readings: the unit is never guessed.
 func parseTemperature(s string) (float64, error) {
 	t := strings.TrimSpace(s)
 	offset := 0.0
@@ -101,10 +102,16 @@ func parseTemperature(s string) (float64, error) {
 			break
 		}
 	}
+	bare := false
 	if offset == 0 {
+		bare = !strings.HasSuffix(t, "K")
 		t = strings.TrimSpace(strings.TrimSuffix(t, "K"))
 	}
 	v, err := strconv.ParseFloat(t, 64)
+	if err == nil && bare {
+		// A bare number could be either unit: never guess.
+		return 0, fmt.Errorf("--temp %q: give the unit, %sK (kelvin) or %sdegC (degrees Celsius)", s, t, t)
+	}
 	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
 		return 0, fmt.Errorf("--temp %q: want kelvin (300K) or degrees Celsius (85degC)", s)
 	}

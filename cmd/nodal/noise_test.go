@@ -21,10 +21,13 @@ func TestParseTemperature(t *testing.T) {
 		want float64
 		ok   bool
 	}{
-		{"300K", 300, true}, {"300", 300, true}, {" 77 K", 77, true}, {"85degC", 358.15, true},
+		{"300K", 300, true}, {"300", 0, false}, {"85", 0, false}, {" 77 K", 77, true}, {"85degC", 358.15, true},
 		{"-40°C", 233.15, true}, {"0K", 0, false}, {"-300degC", 0, false}, {"hot", 0, false}, {"300F", 0, false},
 	} {
 		got, err := parseTemperature(tc.in)
+		if tc.in == "85" && (err == nil || !strings.Contains(err.Error(), "85K") || !strings.Contains(err.Error(), "85degC")) {
+			t.Errorf("parseTemperature(85): %v; want an error offering 85K and 85degC", err)
+		}
 		if (err == nil) != tc.ok || (tc.ok && math.Abs(got-tc.want) > 1e-9) {
 			t.Errorf("parseTemperature(%q) = %v, %v; want %v ok=%v", tc.in, got, err, tc.want, tc.ok)
 		}

@@ -375,13 +375,15 @@ func writeJSON(w io.Writer, v any) error {
 // indentWriter indents compact JSON as it streams through: a newline and
 // two spaces per level after an opening bracket and after each comma, a
 // space after each colon, strings copied verbatim; an empty {} or [] stays
-// as it is.
+// as it is. A negative zero is written as 0.
 type indentWriter struct {
 	w       *bufio.Writer
 	depth   int
 	inStr   bool
 	escape  bool
 	pending bool // an opening bracket waits for its first member
+	minus   bool // a '-' outside a string is held until the next byte
+	negZero bool // "-0" is held: a negative zero if a delimiter follows
 }
 
 func (iw *indentWriter) newline() {
@@ -413,6 +415,28 @@ func (iw *indentWriter) Write(p []byte) (int, error) {
 				continue
 			}
 			iw.newline()
+		}
+		// JSON never carries a negative zero: the encoder writes -0.0 as
+		// "-0", which is rewritten to "0" (any other number starting with
+		// "-0" goes on with '.' or a digit).
+		switch {
+		case iw.negZero:
+			iw.negZero = false
+			if c == ',' || c == '}' || c == ']' || c == '\n' {
+				iw.w.WriteByte('0')
+			} else {
+				iw.w.WriteString("-0")
+			}
+		case iw.minus:
+			iw.minus = false
+			if c == '0' {
+				iw.negZero = true
+				continue
+			}
+			iw.w.WriteByte('-')
+		case c == '-':
+			iw.minus = true
+			continue
 		}
 		switch c {
 		case '{', '[':

@@ -5,6 +5,7 @@ import (
 	"context"
 	"encoding/json"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -278,6 +279,31 @@ func TestWriteJSONMatchesIndent(t *testing.T) {
 		}
 		if got.String() != want.String() {
 			t.Errorf("got\n%s\nwant\n%s", got.String(), want.String())
+		}
+	}
+}
+
+// TestWriteJSONNoNegativeZero: a float that is -0 is written as 0, in an
+// array, an object and at the top level; other negative numbers, and
+// "-0" inside a string, are kept.
+func TestWriteJSONNoNegativeZero(t *testing.T) {
+	negZero := math.Copysign(0, -1)
+	cases := []struct {
+		v    any
+		want string
+	}{
+		{[]float64{negZero, -0.5, -1e-300, 0}, "[\n  0,\n  -0.5,\n  -1e-300,\n  0\n]\n"},
+		{map[string]any{"group_delay_s": negZero, "s": "-0"}, "{\n  \"group_delay_s\": 0,\n  \"s\": \"-0\"\n}\n"},
+		{negZero, "0\n"},
+		{[]float64{-10, -0.0625}, "[\n  -10,\n  -0.0625\n]\n"},
+	}
+	for _, tc := range cases {
+		var got bytes.Buffer
+		if err := writeJSON(&got, tc.v); err != nil {
+			t.Fatal(err)
+		}
+		if got.String() != tc.want {
+			t.Errorf("writeJSON(%v) = %q, want %q", tc.v, got.String(), tc.want)
 		}
 	}
 }

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"os"
 	"strings"
 	"testing"
 )
@@ -38,5 +39,22 @@ func TestWrongProbeSameMessageNumericAndSymbolic(t *testing.T) {
 		if got := strings.TrimSpace(num.stderr); got != "nodal: "+tc.want {
 			t.Errorf("%s: stderr %q, want %q", name, got, "nodal: "+tc.want)
 		}
+	}
+}
+
+// A response without "from" takes its source from --in; a wrong --in is
+// reported against the flag (no empty file prefix), with the only source
+// of the circuit offered as the hint.
+func TestWrongInForResponseWithoutFrom(t *testing.T) {
+	dir := t.TempDir()
+	path := dir + "/rc.nodal"
+	src := "Vin: voltage source (in, gnd) 1\nR1: resistor (in, out) 1k\nC1: capacitor (out, gnd) 1u\nresponse out = v(out)\n"
+	if err := os.WriteFile(path, []byte(src), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	res := runNodal(t, "", "transfer", path, "--in", "Vx")
+	want := `nodal: --in: no source "Vx"; did you mean "Vin"?`
+	if res.code != 2 || strings.TrimSpace(res.stderr) != want {
+		t.Errorf("exit %d, stderr %q; want exit 2, %q", res.code, res.stderr, want)
 	}
 }

@@ -132,8 +132,13 @@ func resolveTraces(l *loaded, in string, outs []string, ref string) ([]sweepTrac
 			if len(t.systems) > 0 && sys.Input.Source != t.systems[0].Input.Source {
 				return nil, fmt.Errorf("--out %s: %s is driven by %s and %s by %s; a sum adds responses from the same input", o, names[0], t.systems[0].Input.Source, n, sys.Input.Source)
 			}
-			if name == "" && len(names) == 1 {
-				t.label = response.OutputLabel(sys.Output)
+			if len(names) == 1 {
+				// The response chosen (also by default, for --out ""), else
+				// the node or current observed.
+				t.label = name
+				if name == "" {
+					t.label = response.OutputLabel(sys.Output)
+				}
 			}
 			t.systems = append(t.systems, sys)
 		}

@@ -369,7 +369,12 @@ func yieldText(p *proportionJSON) string {
 }
 
 func verifyTable(w io.Writer, rep *verifyReport) error {
-	fmt.Fprintf(w, "%s: requirements on %s driven by %s\n", rep.File, rep.Output, rep.Input)
+	if rep.Output == "" {
+		// Only loop metrics (phase_margin@U1, ...): no response to name.
+		fmt.Fprintf(w, "%s: requirements on the circuit's loops\n", rep.File)
+	} else {
+		fmt.Fprintf(w, "%s: requirements on %s driven by %s\n", rep.File, rep.Output, rep.Input)
+	}
 	t := newTable(w, "response", "requirement", "nominal", "verdict", "worst case", "verdict", "yield [95 % CI]")
 	for _, v := range rep.Requirements {
 		worst, yield := "-", yieldText(v.Yield)

@@ -139,3 +139,25 @@ func TestVerifyWithoutTolerances(t *testing.T) {
 		t.Errorf("JSON %+v", doc)
 	}
 }
+
+// TestVerifyLoopOnlyHeader: a file whose requirements are all loop metrics
+// has no response to name; the header says so instead of leaving a blank.
+func TestVerifyLoopOnlyHeader(t *testing.T) {
+	src, err := os.ReadFile("../../testdata/examples/photodiode_frontend.nodal")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var keep []string
+	for _, line := range strings.Split(string(src), "\n") {
+		if !strings.HasPrefix(strings.TrimSpace(line), "require ") {
+			keep = append(keep, line)
+		}
+	}
+	keep = append(keep, "require phase_margin@U1 above 45deg")
+	f := writeTemp(t, t.TempDir(), "pd.nodal", strings.Join(keep, "\n")+"\n")
+	res := runNodal(t, "", "verify", f)
+	first, _, _ := strings.Cut(res.stdout, "\n")
+	if res.code != 0 || !strings.HasSuffix(first, ": requirements on the circuit's loops") || strings.Contains(first, "  ") {
+		t.Errorf("exit %d, header %q (stderr %s)", res.code, first, res.stderr)
+	}
+}
