@@ -119,7 +119,7 @@ func isGround(name string) bool { return name == netlist.Ground || name == "0" }
 // needsBranch reports whether a part kind always has a branch current.
 func needsBranch(k netlist.Kind) bool {
 	switch k {
-	case netlist.VSource, netlist.Inductor, netlist.VCVS, netlist.CCVS, netlist.OpAmp:
+	case netlist.VoltageSource, netlist.Inductor, netlist.VCVS, netlist.CCVS, netlist.OpAmp:
 		return true
 	}
 	return false

@@ -85,10 +85,10 @@ func (m *Matrices) Excite(ex Excitation) (*Excited, error) {
 		p, _ := m.c.Part(ex.Source)
 		k := m.BranchIndex(p.Name)
 		switch {
-		case p.Kind == netlist.VSource && ex.Kind == Drive:
+		case p.Kind == netlist.VoltageSource && ex.Kind == Drive:
 			add(k, 1)
 			e.Amplitude = complex(p.Value, 0) * cmplx.Exp(complex(0, p.PhaseRad))
-		case p.Kind == netlist.VSource:
+		case p.Kind == netlist.VoltageSource:
 			// The row v(a) − v(b) = 0 becomes i = −u: the test current u
 			// leaves the + terminal into the circuit.
 			e.M = m.copyWith(func(g, c []triplet) ([]triplet, []triplet) {
@@ -108,7 +108,7 @@ func (m *Matrices) Excite(ex Excitation) (*Excited, error) {
 			add(m.NodeIndex(p.Nodes[0]), 1)
 			add(m.NodeIndex(p.Nodes[1]), -1)
 		}
-		if p.Kind == netlist.ISource && ex.Kind == Drive {
+		if p.Kind == netlist.CurrentSource && ex.Kind == Drive {
 			e.Amplitude = complex(p.Value, 0) * cmplx.Exp(complex(0, p.PhaseRad))
 		}
 	case Injection:
@@ -234,7 +234,7 @@ func (e *Excited) currentRow(r *Row, part string) error {
 		across(r.G, 1/p.Value)
 	case netlist.Capacitor:
 		across(r.C, p.Value)
-	case netlist.ISource:
+	case netlist.CurrentSource:
 		if (e.Ex.Kind == Drive || e.Ex.Kind == SourceTest) && e.Ex.Source == part {
 			r.Feed = -1 // it pushes u out of its first terminal
 		}

@@ -164,7 +164,7 @@ type names struct {
 func newNames(c *netlist.Circuit) names {
 	nm := names{c: c, nodes: circuitNodes(c)}
 	for i := range c.Parts {
-		if k := c.Parts[i].Kind; k == netlist.VSource || k == netlist.ISource {
+		if k := c.Parts[i].Kind; k == netlist.VoltageSource || k == netlist.CurrentSource {
 			nm.sources = append(nm.sources, c.Parts[i].Name)
 		}
 	}
@@ -205,7 +205,7 @@ func (nm names) source(name string) (*netlist.Part, error) {
 		name = nm.sources[0]
 	}
 	p, ok := nm.c.Part(name)
-	if !ok || (p.Kind != netlist.VSource && p.Kind != netlist.ISource) {
+	if !ok || (p.Kind != netlist.VoltageSource && p.Kind != netlist.CurrentSource) {
 		return nil, &LookupError{What: "source", Name: name, Known: nm.sources}
 	}
 	return p, nil

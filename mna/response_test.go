@@ -274,9 +274,9 @@ func TestControlledSources(t *testing.T) {
 	}
 }
 
-// Part currents and the isource direction (language convention: current
+// Part currents and the current-source direction (language convention: current
 // through a part flows into its first terminal and out of its second; an
-// isource pushes its value into the node on its first terminal, so the
+// current source pushes its value into the node on its first terminal, so the
 // current through it is −J), common practice.
 func TestPartCurrents(t *testing.T) {
 	const r, cv, f = 1e3, 1e-6, 100.0
@@ -297,7 +297,7 @@ func TestPartCurrents(t *testing.T) {
 		{"capacitor", rc(), "C1", iLoop},
 		{"voltage source delivers", rc(), "Vs", -iLoop},
 		{"current source", isrc, "I1", -1},
-		{"resistor fed by isource", isrc, "R1", 1},
+		{"resistor fed by a current source", isrc, "R1", 1},
 	}
 	for _, tc := range cases {
 		sys, err := mna.Build(tc.c, mna.Input{}, mna.Output{Kind: mna.PartCurrent, Part: tc.part})
@@ -310,7 +310,7 @@ func TestPartCurrents(t *testing.T) {
 	}
 	sys := build(t, isrc, mna.Input{}, "a", "")
 	if h := hAt(t, sys, f); !nearC(h, r, 1e-12) {
-		t.Errorf("isource into R: v(a) = %v, want +R = %g", h, r)
+		t.Errorf("current source into R: v(a) = %v, want +R = %g", h, r)
 	}
 	// Output impedance with the source shorted: Z = R/(1 + sRC).
 	if z := hAt(t, build(t, rc(), mna.Input{Inject: "out"}, "out", ""), f); !nearC(z, complex(r, 0)/(1+s*complex(r*cv, 0)), 1e-12) {

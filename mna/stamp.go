@@ -60,9 +60,9 @@ func (b *builder) stamp(p *netlist.Part) error {
 		return b.stampCapacitor(p)
 	case netlist.Inductor:
 		return b.stampInductor(p)
-	case netlist.VSource:
+	case netlist.VoltageSource:
 		return b.stampVSource(p)
-	case netlist.ISource:
+	case netlist.CurrentSource:
 		return b.stampISource(p)
 	case netlist.VCVS:
 		return b.stampVCVS(p)

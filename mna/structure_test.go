@@ -144,7 +144,7 @@ func TestPartErrors(t *testing.T) {
 }
 
 // A numerically singular point is reported with the frequency and the
-// unknown that lost its pivot: an isource into a lossless parallel LC tank
+// unknown that lost its pivot: a current source into a lossless parallel LC tank
 // at its resonance ω0 = 1/√(LC) = 1 rad/s, where Y = sC + 1/(sL) = 0
 // (common practice).
 func TestSingularAtResonance(t *testing.T) {

@@ -8,17 +8,17 @@ type Kind int
 
 // The element kinds of the circuit language.
 const (
-	Resistor  Kind = iota + 1 // two terminals, value in ohms
-	Capacitor                 // two terminals, value in farads
-	Inductor                  // two terminals, value in henries
-	VSource                   // independent small-signal voltage source, + on terminal 0
-	ISource                   // independent current source, pushes current into terminal 0 through the external circuit
-	VCVS                      // voltage-controlled voltage source, gain in V/V
-	VCCS                      // voltage-controlled current source, transconductance in S
-	CCVS                      // current-controlled voltage source, transresistance in ohms
-	CCCS                      // current-controlled current source, gain in A/A
-	OpAmp                     // operational amplifier (noninverting, inverting, output), output referred to ground
-	Coupling                  // mutual inductance between two inductors, value is K
+	Resistor      Kind = iota + 1 // two terminals, value in ohms
+	Capacitor                     // two terminals, value in farads
+	Inductor                      // two terminals, value in henries
+	VoltageSource                 // independent small-signal voltage source, + on terminal 0
+	CurrentSource                 // independent current source, pushes current into terminal 0 through the external circuit
+	VCVS                          // voltage-controlled voltage source, gain in V/V
+	VCCS                          // voltage-controlled current source, transconductance in S
+	CCVS                          // current-controlled voltage source, transresistance in ohms
+	CCCS                          // current-controlled current source, gain in A/A
+	OpAmp                         // operational amplifier (noninverting, inverting, output), output referred to ground
+	Coupling                      // mutual inductance between two inductors, value is K
 )
 
 // kindKeywords are the words that name a kind in a circuit file. A
@@ -27,7 +27,7 @@ const (
 // i(PART).
 var kindKeywords = map[Kind]string{
 	Resistor: "resistor", Capacitor: "capacitor", Inductor: "inductor",
-	VSource: "voltage source", ISource: "current source", VCVS: "voltage source", VCCS: "current source",
+	VoltageSource: "voltage source", CurrentSource: "current source", VCVS: "voltage source", VCCS: "current source",
 	CCVS: "voltage source", CCCS: "current source", OpAmp: "opamp", Coupling: "coupling",
 }
 

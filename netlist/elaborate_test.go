@@ -59,7 +59,7 @@ func TestStatementForms(t *testing.T) {
 		nodes []string
 		value float64
 	}{
-		{"Vin", VSource, []string{"in", "gnd"}, 1}, {"I1", ISource, []string{"gnd", "n1"}, 2e-3},
+		{"Vin", VoltageSource, []string{"in", "gnd"}, 1}, {"I1", CurrentSource, []string{"gnd", "n1"}, 2e-3},
 		{"R1", Resistor, []string{"in", "a"}, R}, {"R2", Resistor, []string{"a", "b"}, R},
 		{"C1", Capacitor, []string{"a", "out"}, 20e-9}, {"C2", Capacitor, []string{"b", "gnd"}, 10e-9},
 		{"U1", OpAmp, []string{"b", "out", "out"}, 0}, {"Gain1", VCVS, []string{"e", "gnd"}, -4},

@@ -24,17 +24,17 @@ const (
 )
 
 var kindSpecs = map[Kind]kindSpec{
-	Resistor:  {"(a, b)", UnitOhm, valueRequired, nil},
-	Capacitor: {"(a, b)", UnitFarad, valueRequired, nil},
-	Inductor:  {"(a, b)", UnitHenry, valueRequired, nil},
-	VSource:   {"(p, n)", UnitVolt, valueDefaultOne, []string{"phase"}},
-	ISource:   {"(a, b)", UnitAmpere, valueDefaultOne, []string{"phase"}},
-	VCVS:      {"(p, n)", "", valueRequired, nil},
-	VCCS:      {"(a, b)", UnitSiemens, valueRequired, nil},
-	CCVS:      {"(p, n)", UnitOhm, valueRequired, nil},
-	CCCS:      {"(a, b)", "", valueRequired, nil},
-	OpAmp:     {"(noninverting, inverting, output)", "", valueNone, []string{"a0", "gbw", "rout", "en", "in", "fen", "fin"}},
-	Coupling:  {"(L1, L2)", "", valueRequired, nil},
+	Resistor:      {"(a, b)", UnitOhm, valueRequired, nil},
+	Capacitor:     {"(a, b)", UnitFarad, valueRequired, nil},
+	Inductor:      {"(a, b)", UnitHenry, valueRequired, nil},
+	VoltageSource: {"(p, n)", UnitVolt, valueDefaultOne, []string{"phase"}},
+	CurrentSource: {"(a, b)", UnitAmpere, valueDefaultOne, []string{"phase"}},
+	VCVS:          {"(p, n)", "", valueRequired, nil},
+	VCCS:          {"(a, b)", UnitSiemens, valueRequired, nil},
+	CCVS:          {"(p, n)", UnitOhm, valueRequired, nil},
+	CCCS:          {"(a, b)", "", valueRequired, nil},
+	OpAmp:         {"(noninverting, inverting, output)", "", valueNone, []string{"a0", "gbw", "rout", "en", "in", "fen", "fin"}},
+	Coupling:      {"(L1, L2)", "", valueRequired, nil},
 }
 
 // Unit returns the unit symbol of the kind's main value (Part.Value): "Ω"
@@ -256,7 +256,7 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 		return
 	}
 	var ctl *control
-	if it := st.Items; (kind == VSource || kind == ISource) && len(it) > 0 && it[0].Expr != nil {
+	if it := st.Items; (kind == VoltageSource || kind == CurrentSource) && len(it) > 0 && it[0].Expr != nil {
 		c, at, msg := splitControl(it[0].Expr)
 		if msg != "" {
 			e.errorf(at, ControlForms, "%s %s: %s", kind, sc.prefix+st.Name, msg)
@@ -351,7 +351,7 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 	}
 	for _, o := range it.opts {
 		switch {
-		case o.Key == "phase" && (kind == VSource || kind == ISource):
+		case o.Key == "phase" && (kind == VoltageSource || kind == CurrentSource):
 			step.phase = compile(o.Value, UnitDegree, "phase")
 		case kind == OpAmp && o.Key == "a0":
 			step.a0 = compile(o.Value, "", "a0")
@@ -434,9 +434,9 @@ func contains(list []string, s string) bool {
 // controlledKind is the kind of a source whose value has the control c.
 func controlledKind(out Kind, c *control) Kind {
 	switch {
-	case out == VSource && c.part == "":
+	case out == VoltageSource && c.part == "":
 		return VCVS
-	case out == VSource:
+	case out == VoltageSource:
 		return CCVS
 	case c.part == "":
 		return VCCS

@@ -457,7 +457,7 @@ func Closest(word string, candidates []string) string {
 // that word abbreviates (same first letter, the rest of word's letters in
 // order: "tf" for "transfer") comes first, the shortest such. Otherwise the
 // edit distance to the candidate, to it without spaces, or to the initials of
-// its words before the last joined to the last ("vsource" for "voltage
+// its words before the last joined to the last ("csource" for "current
 // source"), or to all its initials ("vs"), whichever is least; on a tie a candidate with the same first
 // letter wins, then the first in sorted order. It returns "" only for no
 // candidates.

@@ -11,7 +11,7 @@ func near(a, b float64) bool {
 }
 
 func TestKindUnit(t *testing.T) {
-	want := map[Kind]string{Resistor: "Ω", Capacitor: "F", Inductor: "H", VSource: "V", ISource: "A",
+	want := map[Kind]string{Resistor: "Ω", Capacitor: "F", Inductor: "H", VoltageSource: "V", CurrentSource: "A",
 		VCVS: "", VCCS: "S", CCVS: "Ω", CCCS: "", OpAmp: "", Coupling: ""}
 	for k, u := range want {
 		if k.Unit() != u {

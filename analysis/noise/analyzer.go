@@ -89,7 +89,7 @@ func New(c *netlist.Circuit, cfg Config) (*Analyzer, error) {
 	if cfg.HasInput {
 		p, _ := c.Part(ex.Ex.Source)
 		a.Input, a.InUnit, a.drive, a.feed = p.Name, "V", ex.B, row.Feed
-		if p.Kind == netlist.ISource {
+		if p.Kind == netlist.CurrentSource {
 			a.InUnit = "A"
 		}
 	}

@@ -177,8 +177,8 @@ U1: opamp (p, m, out) en=4nV/rtHz in=1.5pA fen=100Hz fin=1kHz
 
 // TestAdjointEqualsForward checks every source's transfer against a
 // forward solve of the circuit with that source made explicit: an
-// isource in parallel for a resistor's thermal current, a vsource in
-// series for an opamp's en, an isource into the input for in. The
+// a current source in parallel for a resistor's thermal current, a voltage source in
+// series for an opamp's en, a current source into the input for in. The
 // circuit has finite-gain opamps, capacitors, an inductor, a resistor
 // sensed by a cccs (so it has a branch current) and outputs that are a
 // node voltage, a difference and the current through a noisy resistor.
@@ -249,7 +249,7 @@ func partValue(parts []netlist.Part, name string) float64 {
 
 // forwardCircuit returns the circuit with src made an explicit source of
 // unit amplitude, and that source's name; every other source is zeroed by
-// the drive. A resistor gets a series vsource (the Thévenin form of its
+// the drive. A resistor gets a series voltage source (the Thévenin form of its
 // thermal noise, so that the current through it is its terminal current).
 func forwardCircuit(parts []netlist.Part, src Source) (*netlist.Circuit, string) {
 	var out []netlist.Part

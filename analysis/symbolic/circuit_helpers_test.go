@@ -19,8 +19,8 @@ func capa(name, a, b string, v float64) netlist.Part {
 	return two(netlist.Capacitor, name, a, b, v)
 }
 func ind(name, a, b string, v float64) netlist.Part { return two(netlist.Inductor, name, a, b, v) }
-func vsrc(name, p, n string) netlist.Part           { return two(netlist.VSource, name, p, n, 1) }
-func isrc(name, a, b string) netlist.Part           { return two(netlist.ISource, name, a, b, 1) }
+func vsrc(name, p, n string) netlist.Part           { return two(netlist.VoltageSource, name, p, n, 1) }
+func isrc(name, a, b string) netlist.Part           { return two(netlist.CurrentSource, name, a, b, 1) }
 
 func vcvs(name, p, n, c, d string, gain float64) netlist.Part {
 	q := two(netlist.VCVS, name, p, n, gain)

@@ -16,7 +16,7 @@ import (
 // symbolic code: plain float arithmetic, uncoupled inductors stamped as
 // admittances 1/(sL), op-amp gain A(s) = a0·ωt/(ωt + s·a0) evaluated as a
 // number. Conventions follow the circuit language (issue "netlist"): a
-// vccs/cccs pushes its current into its first terminal, an isource pushes
+// vccs/cccs pushes its current into its first terminal, a current source pushes
 // its current into the node of its first terminal.
 func numericH(c *netlist.Circuit, in mna.Input, out mna.Output, s complex128) (complex128, error) {
 	idx := map[string]int{}
@@ -46,7 +46,7 @@ func numericH(c *netlist.Circuit, in mna.Input, out mna.Output, s complex128) (c
 	br := map[string]int{}
 	for _, p := range c.Parts {
 		switch p.Kind {
-		case netlist.VSource, netlist.VCVS, netlist.CCVS, netlist.OpAmp:
+		case netlist.VoltageSource, netlist.VCVS, netlist.CCVS, netlist.OpAmp:
 			br[p.Name] = n
 			n++
 		case netlist.Inductor:
@@ -131,7 +131,7 @@ func numericH(c *netlist.Circuit, in mna.Input, out mna.Output, s complex128) (c
 			mu := complex(p.Value*math.Sqrt(l1.Value*l2.Value), 0)
 			add(br[l1.Name], br[l2.Name], -s*mu)
 			add(br[l2.Name], br[l1.Name], -s*mu)
-		case netlist.VSource:
+		case netlist.VoltageSource:
 			branch(br[p.Name], x, y)
 		case netlist.VCVS:
 			k := br[p.Name]
@@ -191,14 +191,14 @@ func numericH(c *netlist.Circuit, in mna.Input, out mna.Output, s complex128) (c
 	src := in.Source
 	if src == "" && in.Inject == "" {
 		for _, p := range c.Parts {
-			if p.Kind == netlist.VSource || p.Kind == netlist.ISource {
+			if p.Kind == netlist.VoltageSource || p.Kind == netlist.CurrentSource {
 				src = p.Name
 			}
 		}
 	}
 	if in.Inject != "" {
 		a[node(in.Inject)][n] += 1
-	} else if p, _ := c.Part(src); p.Kind == netlist.VSource {
+	} else if p, _ := c.Part(src); p.Kind == netlist.VoltageSource {
 		a[br[src]][n] = 1
 	} else {
 		if i := node(p.Nodes[0]); i >= 0 {

@@ -228,7 +228,7 @@ func buildSystem(c *netlist.Circuit, in mna.Input, out mna.Output, keep []string
 			return nil, fmt.Errorf("part %q: the name %q is reserved for the Laplace variable", p.Name, p.Name)
 		}
 		switch p.Kind {
-		case netlist.Inductor, netlist.VSource, netlist.VCVS, netlist.CCVS, netlist.OpAmp:
+		case netlist.Inductor, netlist.VoltageSource, netlist.VCVS, netlist.CCVS, netlist.OpAmp:
 			bd.br[p.Name] = len(sys.unknowns)
 			sys.unknowns = append(sys.unknowns, "i("+p.Name+")")
 		}
@@ -301,9 +301,9 @@ func (bd *builder) resolveInput(in mna.Input) error {
 	case mna.Drive, mna.SourceTest:
 		p, _ := bd.c.Part(in.Source)
 		switch {
-		case p.Kind == netlist.VSource && in.Kind == mna.Drive:
+		case p.Kind == netlist.VoltageSource && in.Kind == mna.Drive:
 			bd.b[bd.br[p.Name]] = Int(1)
-		case p.Kind == netlist.VSource:
+		case p.Kind == netlist.VoltageSource:
 			// The test current u leaves the + terminal: i = −u
 			// (stampPart writes the row).
 			bd.b[bd.br[p.Name]] = Int(-1)
@@ -357,7 +357,7 @@ func (bd *builder) stampPart(p *netlist.Part) error {
 		k := bd.br[p.Name]
 		bd.stampBranch(k, a, b)
 		bd.stamp(k, k, s.Mul(lv).Neg()) // v_a − v_b − sL·i = 0
-	case netlist.VSource:
+	case netlist.VoltageSource:
 		k := bd.br[p.Name]
 		if in := bd.sys.input; in.Kind == mna.SourceTest && in.Source == p.Name {
 			bd.stamp(a, k, Int(1)) // replaced by a test current: i = −u
@@ -366,7 +366,7 @@ func (bd *builder) stampPart(p *netlist.Part) error {
 			break
 		}
 		bd.stampBranch(k, a, b) // v_a − v_b = u or 0
-	case netlist.ISource:
+	case netlist.CurrentSource:
 		// Stamped only as the input (resolveInput); otherwise open.
 	case netlist.VCVS:
 		e, err := bd.symbol(p.Name, p.Name, p.Value, rankGain, false)
@@ -525,7 +525,7 @@ func (bd *builder) currentForm(name string, seen map[string]bool) (linForm, erro
 			return f, err
 		}
 		y = Var(LaplaceVar).Mul(cv)
-	case netlist.ISource:
+	case netlist.CurrentSource:
 		if bd.sys.input.Source == name {
 			f.feed = Int(-1) // it pushes u out of its first terminal
 		}

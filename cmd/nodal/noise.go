@@ -148,7 +148,7 @@ func noiseConfig(c *netlist.Circuit, in string, out mna.Observation, tempK float
 	if in == "" {
 		n := 0
 		for i := range c.Parts {
-			if k := c.Parts[i].Kind; k == netlist.VSource || k == netlist.ISource {
+			if k := c.Parts[i].Kind; k == netlist.VoltageSource || k == netlist.CurrentSource {
 				n++
 			}
 		}

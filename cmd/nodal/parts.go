@@ -137,7 +137,7 @@ func partExtra(p netlist.Part) map[string]any {
 		x["sense"] = p.Control
 	case netlist.Coupling:
 		x["inductors"] = []string{p.Coupled[0], p.Coupled[1]}
-	case netlist.VSource, netlist.ISource:
+	case netlist.VoltageSource, netlist.CurrentSource:
 		if p.PhaseRad != 0 {
 			x["phase_deg"] = p.PhaseRad * 180 / pi
 		}
@@ -193,7 +193,7 @@ func partValueText(p netlist.Part) string {
 		return notation.Eng(p.Value, p.Kind.Unit()) + "·i(" + p.Control + ")"
 	case netlist.Coupling:
 		return fmt.Sprintf("K=%s", notation.Eng(p.Value, ""))
-	case netlist.VSource, netlist.ISource:
+	case netlist.VoltageSource, netlist.CurrentSource:
 		v := notation.Eng(p.Value, p.Kind.Unit())
 		if p.PhaseRad != 0 {
 			v += fmt.Sprintf(" ∠%.4g°", p.PhaseRad*180/pi)

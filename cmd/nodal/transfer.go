@@ -125,7 +125,7 @@ func (p tfProbe) describe(c *netlist.Circuit, in mna.Input, out mna.Output) (wha
 	}
 	src, _ := c.Part(in.Source)
 	unit = "V/V"
-	if src != nil && src.Kind == netlist.ISource {
+	if src != nil && src.Kind == netlist.CurrentSource {
 		unit = "V/A"
 		if out.Kind == mna.PartCurrent {
 			unit = "A/A"

@@ -394,7 +394,7 @@ func (discard) Write(p []byte) (int, error) { return len(p), nil }
 func sourceNames(c *netlist.Circuit) []string {
 	var out []string
 	for _, p := range c.Parts {
-		if p.Kind == netlist.VSource || p.Kind == netlist.ISource {
+		if p.Kind == netlist.VoltageSource || p.Kind == netlist.CurrentSource {
 			out = append(out, p.Name)
 		}
 	}

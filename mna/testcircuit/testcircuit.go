@@ -44,10 +44,14 @@ func L(name, a, b string, henries float64) netlist.Part {
 }
 
 // V is a voltage source of amplitude volts, + on p.
-func V(name, p, n string, volts float64) netlist.Part { return two(name, netlist.VSource, p, n, volts) }
+func V(name, p, n string, volts float64) netlist.Part {
+	return two(name, netlist.VoltageSource, p, n, volts)
+}
 
 // I is a current source of amplitude amps, through itself from a to b.
-func I(name, a, b string, amps float64) netlist.Part { return two(name, netlist.ISource, a, b, amps) }
+func I(name, a, b string, amps float64) netlist.Part {
+	return two(name, netlist.CurrentSource, a, b, amps)
+}
 
 // VCVS is v(p) − v(n) = gain·(v(c) − v(d)).
 func VCVS(name, p, n string, gain float64, c, d string) netlist.Part {
