@@ -86,10 +86,7 @@ func (c *impedanceCmd) Run(e *env) error {
 		return err
 	}
 	if len(c.Vary) > 0 {
-		out, vary := c.Output, c.Vary
-		c.Output, c.Vary = "", nil
-		defer func() { c.Output, c.Vary = out, vary }()
-		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, c.Run, impedanceOverlay)
+		return runVariedCmd(e, &c.circuitArgs, &c.Output, &c.Vary, c.Plot, c.Format, c.Run, impedanceOverlay)
 	}
 	if err := c.symbolicArgs.check(); err != nil {
 		return err

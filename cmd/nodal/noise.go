@@ -163,10 +163,7 @@ func (c *noiseCmd) Run(e *env) error {
 		return err
 	}
 	if len(c.Vary) > 0 {
-		out, vary := c.Output, c.Vary
-		c.Output, c.Vary = "", nil
-		defer func() { c.Output, c.Vary = out, vary }()
-		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, c.Run, noiseOverlay)
+		return runVariedCmd(e, &c.circuitArgs, &c.Output, &c.Vary, c.Plot, c.Format, c.Run, noiseOverlay)
 	}
 	l, err := c.load(e)
 	if err != nil {

@@ -60,10 +60,7 @@ func (c *timeCmd) run(e *env, kind string) error {
 		return err
 	}
 	if len(c.Vary) > 0 {
-		out, vary := c.Output, c.Vary
-		c.Output, c.Vary = "", nil
-		defer func() { c.Output, c.Vary = out, vary }()
-		return runVaried(e, &c.circuitArgs, &varyArgs{Vary: vary}, out, c.Plot, c.Format, func(e *env) error { return c.run(e, kind) }, timeOverlay)
+		return runVariedCmd(e, &c.circuitArgs, &c.Output, &c.Vary, c.Plot, c.Format, func(e *env) error { return c.run(e, kind) }, timeOverlay)
 	}
 	if err := checkOutputs([]string{c.File}, c.Output, c.Plot); err != nil {
 		return err

@@ -306,3 +306,13 @@ func overlayTitle[D any](runs []variantPlot[D], note string) string {
 	}
 	return runs[0].title + ", " + note
 }
+
+// runVariedCmd is runVaried for a command whose Run serves both the whole
+// run and each value's: it clears the command's -o and --vary (pointed to
+// by output and vary) for the per-value runs and restores them after.
+func runVariedCmd[T any](e *env, a *circuitArgs, output *string, vary *[]string, plotPath, format string, run func(e *env) error, figure func(labels []string, data []T) (*plot.Figure, error)) error {
+	out, vs := *output, *vary
+	*output, *vary = "", nil
+	defer func() { *output, *vary = out, vs }()
+	return runVaried(e, a, &varyArgs{Vary: vs}, out, plotPath, format, run, figure)
+}
