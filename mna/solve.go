@@ -226,7 +226,7 @@ func (f *luFactor) factor() int {
 			}
 		}
 		nz := f.uCol[u0:]
-		inv := 1 / rowk[k]
+		inv := recip(rowk[k])
 		f.dinv[k] = inv
 		for _, i := range rows {
 			ri := a[i*n : i*n+n]
@@ -444,6 +444,9 @@ type Sweeper struct {
 	o    *luOrder
 	f    factorizer
 	x, z []complex128
+	// xHeld: x holds the last Eval's solution (the sparse path keeps it
+	// in elimination steps until X asks for it).
+	xHeld bool
 }
 
 // NewSweeper allocates the working memory for sys, choosing the dense
@@ -466,13 +469,19 @@ func newSweeper(sys *System, forceSparse bool) *Sweeper {
 // seconds, exactly. A numerically singular Y(s) gives a *SingularError.
 func (w *Sweeper) Eval(s complex128) (h, dh complex128, err error) {
 	sys := w.sys
+	w.xHeld = false
 	if err := factorWith(w.f, w.o.p, s); err != nil {
 		return 0, 0, err
+	}
+	if sf, ok := w.f.(*sparseLU); ok {
+		h, dh = sf.transfer(sys.B, sys.L)
+		return h, dh, nil
 	}
 	for i, b := range sys.B {
 		w.x[i] = complex(b, 0)
 	}
 	w.f.solve(w.x)
+	w.xHeld = true
 	h = dotReal(sys.L, w.x)
 	clear(w.z)
 	c := w.o.p.c
@@ -500,4 +509,10 @@ func (w *Sweeper) Clone() *Sweeper {
 
 // X returns the solution vector of the last successful Eval (valid until
 // the next call; do not modify).
-func (w *Sweeper) X() []complex128 { return w.x }
+func (w *Sweeper) X() []complex128 {
+	if sf, ok := w.f.(*sparseLU); ok && !w.xHeld {
+		sf.unknowns(w.x)
+		w.xHeld = true
+	}
+	return w.x
+}

@@ -1,5 +1,7 @@
 package mna
 
+import "math"
+
 // sparseLU is the LU factorisation of Y = G + sC for large systems, in
 // compressed columns, after Gilbert and Peierls ("Sparse partial pivoting
 // in time proportional to arithmetic operations", SIAM J. Sci. Stat.
@@ -35,6 +37,8 @@ type sparseLU struct {
 	p *pencil
 	n int
 
+	// The full factorisation's working state, by original row (rs, rinv,
+	// x) or unknown (cs, colmax).
 	ax             []complex128 // entries of A in the pencil's pattern
 	rs, cs, rinv   []float64
 	colmax         []float64 // per column (unknown): largest |A_ij|
@@ -48,13 +52,27 @@ type sparseLU struct {
 	mark           []int
 	stamp          int
 	topo           []int
-	y              []complex128
 	rowMark        []int
 	posRow, rowPos []int // the dense path's row exchanges, replayed: row at position k and back
 	diagRow        []int // per step: the row the dense path sees on its diagonal
 	havePattern    bool
 	refactors      int
 	repivots       int
+
+	// The same factorisation in elimination steps, made by steps after
+	// each full factor: every vector below is indexed by step k (the
+	// row pivoted at k, the column perm[k]), so refactor and the solves
+	// walk memory in the order of the elimination with no permutation
+	// inside their loops.
+	lPos     []int     // per L entry: the step of its row, pinv[lIdx]
+	aPos     []int     // per pencil entry: the step of its row
+	diagStep []int     // per step: the step of diagRow
+	srs      []float64 // per step: the row scale of prow[k]
+	srinv    []float64 // 1/srs
+	scs      []float64 // per step: the column scale of perm[k]
+	scolmax  []float64 // per step: largest |A_ij| of column perm[k]
+	xs       []complex128
+	w, w2    []complex128
 }
 
 func newSparseLU(o *luOrder) *sparseLU {
@@ -72,9 +90,14 @@ func newSparseLU(o *luOrder) *sparseLU {
 		stack: make([]int, n), pstack: make([]int, n),
 		mark:    make([]int, n),
 		topo:    make([]int, 0, n),
-		y:       make([]complex128, n),
 		rowMark: make([]int, n),
 		posRow:  make([]int, n), rowPos: make([]int, n), diagRow: make([]int, n),
+		aPos:     make([]int, len(p.rowIdx)),
+		diagStep: make([]int, n),
+		srs:      make([]float64, n), srinv: make([]float64, n), scs: make([]float64, n),
+		scolmax: make([]float64, n),
+		xs:      make([]complex128, n),
+		w:       make([]complex128, n), w2: make([]complex128, n),
 	}
 }
 
@@ -88,9 +111,12 @@ func (f *sparseLU) clone() factorizer {
 	copy(g.prow, f.prow)
 	copy(g.pinv, f.pinv)
 	copy(g.diagRow, f.diagRow)
+	copy(g.diagStep, f.diagStep)
+	copy(g.aPos, f.aPos)
 	copy(g.lp, f.lp)
 	copy(g.up, f.up)
 	g.lIdx = append([]int(nil), f.lIdx...)
+	g.lPos = append([]int(nil), f.lPos...)
 	g.uIdx = append([]int(nil), f.uIdx...)
 	g.lVal = make([]complex128, len(f.lVal))
 	g.uVal = make([]complex128, len(f.uVal))
@@ -142,16 +168,19 @@ func (f *sparseLU) assemble(s complex128) {
 // pattern when there is one and its pivots pass, else a full one. It
 // returns the unknown whose pivot vanished, or −1.
 func (f *sparseLU) factorAt(s complex128) int {
-	f.assemble(s)
 	if f.havePattern {
-		if f.refactor() {
+		if f.refactor(s) {
 			f.refactors++
 			return -1
 		}
 		f.repivots++
 	}
+	f.assemble(s)
 	u := f.full()
 	f.havePattern = u < 0
+	if f.havePattern {
+		f.steps()
+	}
 	return u
 }
 
@@ -287,7 +316,7 @@ func (f *sparseLU) full() int {
 		f.posRow[k], f.posRow[pp] = piv, dr
 		f.rowPos[piv], f.rowPos[dr] = k, pp
 		f.pinv[piv], f.prow[k] = k, piv
-		inv := 1 / x[piv]
+		inv := recip(x[piv])
 		f.dinv[k] = inv
 		w := l0
 		for _, i := range rows {
@@ -304,108 +333,185 @@ func (f *sparseLU) full() int {
 	return -1
 }
 
-// refactor redoes the elimination of full on new values with the held
-// pivots and patterns. It reports false, leaving the factorisation
-// invalid, when a pivot falls below pivotKeep times its column's largest
-// candidate or vanishes: full must then run.
-func (f *sparseLU) refactor() bool {
-	n, p, x := f.n, f.p, f.x
+// steps derives the step-indexed form of a full factorisation: the steps
+// of L's rows and of the pencil's rows, and the scales by step.
+func (f *sparseLU) steps() {
+	p := f.p
+	f.lPos = append(f.lPos[:0], f.lIdx...)
+	for t, i := range f.lPos {
+		f.lPos[t] = f.pinv[i]
+	}
+	for e, i := range p.rowIdx {
+		f.aPos[e] = f.pinv[i]
+	}
+	for k := 0; k < f.n; k++ {
+		r, u := f.prow[k], f.o.perm[k]
+		f.diagStep[k] = f.pinv[f.diagRow[k]]
+		f.srs[k], f.srinv[k] = f.rs[r], f.rinv[r]
+		f.scs[k], f.scolmax[k] = f.cs[u], f.colmax[u]
+	}
+}
+
+// refactor assembles A = R·Y(s)·K and redoes the elimination of full on
+// it with the held pivots and patterns, in elimination steps. The values
+// and every decision are those of assemble followed by full: the row
+// scales come from one pass over the pencil, the column scale of each
+// column as it is scattered (a power of two changes no digit, so the
+// column's largest entry scaled is its scaled largest entry). It reports
+// false, leaving the factorisation invalid, when a pivot falls below
+// pivotKeep times its column's largest candidate or vanishes: full must
+// then run.
+func (f *sparseLU) refactor(s complex128) bool {
+	n, p, x := f.n, f.p, f.xs
+	perm, aPos, srs, srinv := f.o.perm, f.aPos, f.srs, f.srinv
+	lp, up, lPos, uIdx := f.lp, f.up, f.lPos, f.uIdx
+	lVal, uVal := f.lVal, f.uVal
+	gv, cv := p.gv, p.cv
+	sr, si := real(s), imag(s)
 	tol := pivotTol * float64(n)
-	for k := 0; k < n; k++ {
-		j := f.o.perm[k]
-		for e := p.colPtr[j]; e < p.colPtr[j+1]; e++ {
-			x[p.rowIdx[e]] = f.ax[e]
+	rmax := srs
+	clear(rmax)
+	for e, k := range aPos {
+		c := cv[e]
+		if m := math.Abs(gv[e]+sr*c) + math.Abs(si*c); m > rmax[k] {
+			rmax[k] = m
 		}
-		for q := f.up[k]; q < f.up[k+1]; q++ {
-			kk := f.uIdx[q]
-			r := f.prow[kk]
-			xk := x[r]
-			x[r] = 0
-			f.uVal[q] = xk
+	}
+	for k, m := range rmax {
+		srs[k] = pow2Inv(m)
+		srinv[k] = 1 / srs[k]
+	}
+	for k := 0; k < n; k++ {
+		j := perm[k]
+		e0, e1 := p.colPtr[j], p.colPtr[j+1]
+		var cmax float64
+		for e := e0; e < e1; e++ {
+			i := aPos[e]
+			c, r := cv[e], srs[i]
+			z := complex((gv[e]+sr*c)*r, (si*c)*r)
+			x[i] = z
+			if m := mag1(z); m > cmax {
+				cmax = m
+			}
+		}
+		cs := pow2Inv(cmax)
+		if cs != 1 {
+			for e := e0; e < e1; e++ {
+				x[aPos[e]] *= complex(cs, 0)
+			}
+		}
+		f.scs[k], f.scolmax[k] = cs, cmax*cs
+		for q := up[k]; q < up[k+1]; q++ {
+			kk := uIdx[q]
+			xk := x[kk]
+			x[kk] = 0
+			uVal[q] = xk
 			if xk == 0 {
 				continue
 			}
-			for t := f.lp[kk]; t < f.lp[kk+1]; t++ {
-				x[f.lIdx[t]] -= f.lVal[t] * xk
+			ls, lv := lPos[lp[kk]:lp[kk+1]], lVal[lp[kk]:lp[kk+1]]
+			for t, i := range ls {
+				x[i] -= lv[t] * xk
 			}
 		}
-		pr := f.prow[k]
-		pv := x[pr]
-		x[pr] = 0
+		pv := x[k]
+		x[k] = 0
 		pm := mag1(pv)
-		pu := pm * f.rinv[pr]
+		pu := pm * srinv[k]
 		other, bestScaled := 0.0, pm // other: the largest candidate but the pivot
+		ds := f.diagStep[k]
 		diag := -1.0
-		if f.diagRow[k] == pr {
+		if ds == k {
 			diag = pu
 		}
-		for t := f.lp[k]; t < f.lp[k+1]; t++ {
-			i := f.lIdx[t]
+		ls := lPos[lp[k]:lp[k+1]]
+		for _, i := range ls {
 			m := mag1(x[i])
-			if v := m; v > bestScaled {
-				bestScaled = v
+			if m > bestScaled {
+				bestScaled = m
 			}
-			if v := m * f.rinv[i]; v > other {
+			if v := m * srinv[i]; v > other {
 				other = v
 			}
-			if i == f.diagRow[k] {
-				diag = m * f.rinv[i]
+			if i == ds {
+				diag = m * srinv[i]
 			}
 		}
-		best := pu
-		if other > best {
-			best = other
-		}
+		best := max(pu, other)
 		// The held pivot must be the one full would choose: the diagonal
 		// while it passes the threshold, else the strictly largest.
 		keep := diag >= 0 && diag >= pivotKeep*best
-		ok := (keep && f.diagRow[k] == pr) || (!keep && pu > other)
-		if pm == 0 || bestScaled <= tol*f.colmax[j] || !ok {
-			for t := f.lp[k]; t < f.lp[k+1]; t++ {
-				x[f.lIdx[t]] = 0
+		ok := (keep && ds == k) || (!keep && pu > other)
+		if pm == 0 || bestScaled <= tol*f.scolmax[k] || !ok {
+			for _, i := range ls {
+				x[i] = 0
 			}
 			return false
 		}
-		inv := 1 / pv
+		inv := recip(pv)
 		f.dinv[k] = inv
-		for t := f.lp[k]; t < f.lp[k+1]; t++ {
-			i := f.lIdx[t]
-			f.lVal[t] = x[i] * inv
+		lv := lVal[lp[k]:lp[k+1]]
+		for t, i := range ls {
+			lv[t] = x[i] * inv
 			x[i] = 0
 		}
 	}
 	return true
 }
 
-// solve overwrites x (indexed by unknown) with Y⁻¹x: with A = R·Y·K and
-// A(:, perm) = Pᵀ·L·U, x ← K·perm·U⁻¹·L⁻¹·P·R·x.
-func (f *sparseLU) solve(x []complex128) {
-	n, y := f.n, f.y
-	for i := range x {
-		x[i] *= complex(f.rs[i], 0)
+// recip is 1/z by Smith's method, the operations of Go's complex
+// division of 1 by a finite non-zero z written out (no call, no checks
+// for infinities), so its value is that of 1/z bit for bit.
+func recip(z complex128) complex128 {
+	a, b := real(z), imag(z)
+	if math.Abs(a) >= math.Abs(b) {
+		ratio := b / a
+		denom := a + ratio*b
+		return complex(1/denom, -ratio/denom)
 	}
+	ratio := a / b
+	denom := b + ratio*a
+	return complex(ratio/denom, -1/denom)
+}
+
+// solveSteps overwrites w, a right-hand side of A(:, perm) in steps
+// (entry k for the row pivoted at step k), with U⁻¹·L⁻¹·w.
+func (f *sparseLU) solveSteps(w []complex128) {
+	n, lp, up, lPos, uIdx, lVal, uVal, dinv := f.n, f.lp, f.up, f.lPos, f.uIdx, f.lVal, f.uVal, f.dinv
 	for k := 0; k < n; k++ {
-		yk := x[f.prow[k]]
-		y[k] = yk
+		yk := w[k]
 		if yk == 0 {
 			continue
 		}
-		for t := f.lp[k]; t < f.lp[k+1]; t++ {
-			x[f.lIdx[t]] -= f.lVal[t] * yk
+		lv := lVal[lp[k]:lp[k+1]]
+		for t, i := range lPos[lp[k]:lp[k+1]] {
+			w[i] -= lv[t] * yk
 		}
 	}
 	for k := n - 1; k >= 0; k-- {
-		zk := y[k] * f.dinv[k]
-		y[k] = zk
+		zk := w[k] * dinv[k]
+		w[k] = zk
 		if zk == 0 {
 			continue
 		}
-		for q := f.up[k]; q < f.up[k+1]; q++ {
-			y[f.uIdx[q]] -= f.uVal[q] * zk
+		uv := uVal[up[k]:up[k+1]]
+		for q, i := range uIdx[up[k]:up[k+1]] {
+			w[i] -= uv[q] * zk
 		}
 	}
+}
+
+// solve overwrites x (indexed by unknown) with Y⁻¹x: with A = R·Y·K and
+// A(:, perm) = Pᵀ·L·U, x ← K·perm·U⁻¹·L⁻¹·P·R·x.
+func (f *sparseLU) solve(x []complex128) {
+	w := f.w
+	for i, v := range x {
+		k := f.pinv[i]
+		w[k] = v * complex(f.srs[k], 0)
+	}
+	f.solveSteps(w)
 	for k, u := range f.o.perm {
-		x[u] = y[k] * complex(f.cs[u], 0)
+		x[u] = w[k] * complex(f.scs[k], 0)
 	}
 }
 
@@ -413,26 +519,81 @@ func (f *sparseLU) solve(x []complex128) {
 // transpose: Y⁻ᵀ = R·A⁻ᵀ·K and Aᵀ = perm·Uᵀ·Lᵀ·P, so Uᵀ is solved
 // forward (U by columns is Uᵀ by rows), then Lᵀ backward.
 func (f *sparseLU) solveTransposed(x []complex128) {
-	n, y := f.n, f.y
+	n, y := f.n, f.w
 	for k, u := range f.o.perm {
-		y[k] = x[u] * complex(f.cs[u], 0)
+		y[k] = x[u] * complex(f.scs[k], 0)
 	}
 	for k := 0; k < n; k++ {
 		v := y[k]
-		for q := f.up[k]; q < f.up[k+1]; q++ {
-			v -= f.uVal[q] * y[f.uIdx[q]]
+		uv := f.uVal[f.up[k]:f.up[k+1]]
+		for q, i := range f.uIdx[f.up[k]:f.up[k+1]] {
+			v -= uv[q] * y[i]
 		}
 		y[k] = v * f.dinv[k]
 	}
 	for k := n - 1; k >= 0; k-- {
 		v := y[k]
-		for t := f.lp[k]; t < f.lp[k+1]; t++ {
-			v -= f.lVal[t] * y[f.pinv[f.lIdx[t]]]
+		lv := f.lVal[f.lp[k]:f.lp[k+1]]
+		for t, i := range f.lPos[f.lp[k]:f.lp[k+1]] {
+			v -= lv[t] * y[i]
 		}
 		y[k] = v
 	}
 	for k := 0; k < n; k++ {
-		r := f.prow[k]
-		x[r] = y[k] * complex(f.rs[r], 0)
+		x[f.prow[k]] = y[k] * complex(f.srs[k], 0)
+	}
+}
+
+// transfer returns h = l·Y⁻¹·b and dh = −l·Y⁻¹·C·Y⁻¹·b (b, l real, by
+// unknown) from the held factorisation with two solves in steps: the
+// solution stays in f.w (unscaled by K, see unknowns) and C·x is formed
+// in steps, so no vector is permuted.
+func (f *sparseLU) transfer(b, l []float64) (h, dh complex128) {
+	p, w, w2, pinv, srs, scs := f.p, f.w, f.w2, f.pinv, f.srs, f.scs
+	clear(w)
+	for i, v := range b {
+		if v != 0 {
+			k := pinv[i]
+			w[k] = complex(v*srs[k], 0)
+		}
+	}
+	f.solveSteps(w)
+	h = f.dotSteps(l, w)
+	// w2 = R·C·x in steps, x = K·w column by column (unknown order, as
+	// the dense path sums).
+	clear(w2)
+	for j := 0; j < f.n; j++ {
+		k := f.o.inv[j]
+		xj := w[k] * complex(scs[k], 0)
+		if xj == 0 {
+			continue
+		}
+		for e := p.colPtr[j]; e < p.colPtr[j+1]; e++ {
+			if c := p.cv[e]; c != 0 {
+				i := f.aPos[e]
+				w2[i] += complex(c*srs[i], 0) * xj
+			}
+		}
+	}
+	f.solveSteps(w2)
+	return h, -f.dotSteps(l, w2)
+}
+
+// dotSteps is Σ l_i·x_i for the solution x = K·w held in steps.
+func (f *sparseLU) dotSteps(l []float64, w []complex128) complex128 {
+	var h complex128
+	for i, li := range l {
+		if li != 0 {
+			k := f.o.inv[i] // the step of unknown i's column
+			h += complex(li, 0) * (w[k] * complex(f.scs[k], 0))
+		}
+	}
+	return h
+}
+
+// unknowns writes the solution of the last transfer, by unknown, into x.
+func (f *sparseLU) unknowns(x []complex128) {
+	for k, u := range f.o.perm {
+		x[u] = f.w[k] * complex(f.scs[k], 0)
 	}
 }
