@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bufio"
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
@@ -65,15 +66,56 @@ type sweepPoint struct {
 }
 
 // MarshalJSON writes Mag and PhaseDeg as null when they are not finite.
-func (p sweepPoint) MarshalJSON() ([]byte, error) {
-	return json.Marshal(struct {
-		FreqHz      float64  `json:"freq_hz"`
-		Mag         *float64 `json:"mag"`
-		MagDB       *float64 `json:"mag_db"`
-		PhaseDeg    *float64 `json:"phase_deg"`
-		GroupDelayS *float64 `json:"group_delay_s"`
-		Note        string   `json:"note,omitempty"`
-	}{p.FreqHz, finiteOrNil(p.Mag), p.MagDB, finiteOrNil(p.PhaseDeg), p.GroupDelayS, p.Note})
+func (p sweepPoint) MarshalJSON() ([]byte, error) { return appendPointJSON(nil, p), nil }
+
+// appendPointJSON appends the compact JSON of p, the bytes encoding/json
+// gives the struct (keys in field order, null for a non-finite number,
+// note left out when empty), without reflection.
+func appendPointJSON(b []byte, p sweepPoint) []byte {
+	b = append(b, `{"freq_hz":`...)
+	b = appendJSONNumber(b, &p.FreqHz)
+	b = append(b, `,"mag":`...)
+	b = appendJSONNumber(b, finiteOrNil(p.Mag))
+	b = append(b, `,"mag_db":`...)
+	b = appendJSONNumber(b, p.MagDB)
+	b = append(b, `,"phase_deg":`...)
+	b = appendJSONNumber(b, finiteOrNil(p.PhaseDeg))
+	b = append(b, `,"group_delay_s":`...)
+	b = appendJSONNumber(b, p.GroupDelayS)
+	if p.Note != "" {
+		b = append(b, `,"note":`...)
+		b = appendJSONString(b, p.Note)
+	}
+	return append(b, '}')
+}
+
+// appendJSONNumber appends *v as encoding/json writes a float64 (the
+// shortest digits that read back exactly; exponent form below 1e-6 and
+// from 1e21, as in ECMAScript), or null for nil. *v must be finite.
+func appendJSONNumber(b []byte, v *float64) []byte {
+	if v == nil {
+		return append(b, "null"...)
+	}
+	f := *v
+	format := byte('f')
+	if a := math.Abs(f); a != 0 && (a < 1e-6 || a >= 1e21) {
+		format = 'e'
+	}
+	b = strconv.AppendFloat(b, f, format, -1, 64)
+	if format == 'e' {
+		// e-07 → e-7, as encoding/json does.
+		if n := len(b); n >= 4 && b[n-4] == 'e' && b[n-3] == '-' && b[n-2] == '0' {
+			b[n-2] = b[n-1]
+			b = b[:n-1]
+		}
+	}
+	return b
+}
+
+// appendJSONString appends s as encoding/json quotes it.
+func appendJSONString(b []byte, s string) []byte {
+	q, _ := json.Marshal(s) // a string always marshals
+	return append(b, q...)
 }
 
 // sweepJSON is the JSON document of one output.
@@ -271,16 +313,11 @@ func (c *sweepCmd) Run(e *env) error {
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		switch c.Format {
 		case "json":
-			docs := make([]sweepJSON, len(resps))
+			docs := make([]sweepDoc, len(resps))
 			for i, r := range resps {
-				docs[i] = responseJSON(r)
-				docs[i].Variant = vs[of[i]].json()
-				docs[i].stabilityJSON = newStabilityJSON(stabs[of[i]])
+				docs[i] = sweepDoc{r: r, variant: vs[of[i]].json(), stab: newStabilityJSON(stabs[of[i]])}
 			}
-			if len(docs) == 1 && len(c.Vary) == 0 {
-				return writeJSON(w, docs[0])
-			}
-			return writeJSON(w, docs)
+			return writeSweepJSON(w, docs, len(docs) != 1 || len(c.Vary) != 0)
 		case "csv":
 			warn()
 			return responseCSV(w, resps)
@@ -306,16 +343,86 @@ func finiteOrNil(v float64) *float64 {
 func responseJSON(r *response.Response) sweepJSON {
 	d := sweepJSON{Input: r.Input, Output: r.Output, Points: make([]sweepPoint, len(r.FreqHz))}
 	for i := range r.FreqHz {
-		d.Points[i] = sweepPoint{FreqHz: r.FreqHz[i], Mag: r.Mag[i], MagDB: finiteOrNil(r.MagDB[i]),
-			PhaseDeg: response.WrapDeg(r.PhaseDeg[i]), GroupDelayS: finiteOrNil(r.GroupDelayS[i])}
-		if i < len(r.AtPole) && r.AtPole[i] {
-			d.Points[i].Note = response.PoleNote
-		}
-		if underflowAt(r, i) {
-			d.Points[i].Mag, d.Points[i].Note = math.NaN(), response.UnderflowNote
-		}
+		d.Points[i] = sweepPointOf(r, i)
 	}
 	return d
+}
+
+// sweepPointOf is point i of r for JSON, phase wrapped to (−180, 180].
+func sweepPointOf(r *response.Response, i int) sweepPoint {
+	p := sweepPoint{FreqHz: r.FreqHz[i], Mag: r.Mag[i], MagDB: finiteOrNil(r.MagDB[i]),
+		PhaseDeg: response.WrapDeg(r.PhaseDeg[i]), GroupDelayS: finiteOrNil(r.GroupDelayS[i])}
+	if i < len(r.AtPole) && r.AtPole[i] {
+		p.Note = response.PoleNote
+	}
+	if underflowAt(r, i) {
+		p.Mag, p.Note = math.NaN(), response.UnderflowNote
+	}
+	return p
+}
+
+// sweepDoc is one output of the sweep command for JSON: the document
+// sweepJSON describes, its points still in the response.
+type sweepDoc struct {
+	r       *response.Response
+	variant []variantJSON
+	stab    stabilityJSON
+}
+
+// writeSweepJSON writes the documents (a list unless one is given with
+// list false) in one streaming pass: each point goes from the response
+// to compact JSON to the indenting writer, with no document built and no
+// reflection per point. The bytes are those writeJSON gives the
+// sweepJSON values (TestSweepJSONStreamMatchesEncoder).
+func writeSweepJSON(w io.Writer, docs []sweepDoc, list bool) error {
+	bw := bufio.NewWriterSize(w, 64<<10)
+	iw := &indentWriter{w: bw}
+	var b []byte
+	flush := func() {
+		iw.Write(b)
+		b = b[:0]
+	}
+	if list {
+		b = append(b, '[')
+	}
+	for d, doc := range docs {
+		if d > 0 {
+			b = append(b, ',')
+		}
+		b = append(b, `{"input":`...)
+		b = appendJSONString(b, doc.r.Input)
+		b = append(b, `,"output":`...)
+		b = appendJSONString(b, doc.r.Output)
+		if len(doc.variant) > 0 {
+			v, err := json.Marshal(doc.variant)
+			if err != nil {
+				return err
+			}
+			b = append(append(b, `,"variant":`...), v...)
+		}
+		b = append(b, `,"points":[`...)
+		for i := range doc.r.FreqHz {
+			if i > 0 {
+				b = append(b, ',')
+			}
+			b = appendPointJSON(b, sweepPointOf(doc.r, i))
+			if len(b) > 32<<10 {
+				flush()
+			}
+		}
+		st, err := json.Marshal(doc.stab)
+		if err != nil {
+			return err
+		}
+		// The embedded stabilityJSON's members follow the points.
+		b = append(append(b, "],"...), st[1:]...)
+	}
+	if list {
+		b = append(b, ']')
+	}
+	b = append(b, '\n')
+	flush()
+	return bw.Flush()
 }
 
 // underflowAt reports whether point i of r is below float64's range.
