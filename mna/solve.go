@@ -474,7 +474,7 @@ func (w *Sweeper) Eval(s complex128) (h, dh complex128, err error) {
 		return 0, 0, err
 	}
 	if sf, ok := w.f.(*sparseLU); ok {
-		h, dh = sf.transfer(sys.B, sys.L)
+		h, dh = sf.transfer(sys.B, sys.L, s)
 		return h, dh, nil
 	}
 	for i, b := range sys.B {

@@ -73,6 +73,15 @@ type sparseLU struct {
 	scolmax  []float64 // per step: largest |A_ij| of column perm[k]
 	xs       []complex128
 	w, w2    []complex128
+
+	// transfer's record of the entries it flushed (see transfer).
+	flushes   []flush
+	sens      []float64 // per step: the adjoint magnitude weighing a back-solve flush
+	w3        []complex128
+	flushSkip int // points left to solve without flushing
+	// flushKept and flushRedone count the points whose flushed solve was
+	// kept (an underflow) and redone.
+	flushKept, flushRedone int
 }
 
 func newSparseLU(o *luOrder) *sparseLU {
@@ -98,6 +107,7 @@ func newSparseLU(o *luOrder) *sparseLU {
 		scolmax: make([]float64, n),
 		xs:      make([]complex128, n),
 		w:       make([]complex128, n), w2: make([]complex128, n),
+		flushes: make([]flush, 0, 16), sens: make([]float64, n), w3: make([]complex128, n),
 	}
 }
 
@@ -476,30 +486,7 @@ func recip(z complex128) complex128 {
 
 // solveSteps overwrites w, a right-hand side of A(:, perm) in steps
 // (entry k for the row pivoted at step k), with U⁻¹·L⁻¹·w.
-func (f *sparseLU) solveSteps(w []complex128) {
-	n, lp, up, lPos, uIdx, lVal, uVal, dinv := f.n, f.lp, f.up, f.lPos, f.uIdx, f.lVal, f.uVal, f.dinv
-	for k := 0; k < n; k++ {
-		yk := w[k]
-		if yk == 0 {
-			continue
-		}
-		lv := lVal[lp[k]:lp[k+1]]
-		for t, i := range lPos[lp[k]:lp[k+1]] {
-			w[i] -= lv[t] * yk
-		}
-	}
-	for k := n - 1; k >= 0; k-- {
-		zk := w[k] * dinv[k]
-		w[k] = zk
-		if zk == 0 {
-			continue
-		}
-		uv := uVal[up[k]:up[k+1]]
-		for q, i := range uIdx[up[k]:up[k+1]] {
-			w[i] -= uv[q] * zk
-		}
-	}
-}
+func (f *sparseLU) solveSteps(w []complex128) { f.solveFlushed(w, 0) }
 
 // solve overwrites x (indexed by unknown) with Y⁻¹x: with A = R·Y·K and
 // A(:, perm) = Pᵀ·L·U, x ← K·perm·U⁻¹·L⁻¹·P·R·x.
@@ -544,23 +531,79 @@ func (f *sparseLU) solveTransposed(x []complex128) {
 	}
 }
 
+// flushBelow is the magnitude (|re| + |im|) below which transfer, in
+// its first attempt, sets an entry of a triangular solve to zero instead
+// of carrying it on: 2⁻¹⁰²², the smallest normal float64. Arithmetic on
+// subnormal numbers is tens of times slower on x86, and a long ladder
+// far above its corner fills most of its solution with them.
+const flushBelow = 0x1p-1022
+
+// underflowSure is the bound below which |H| is certainly under
+// float64's normal range: 2⁻¹⁰²⁴, a quarter of flushBelow, so that what
+// the first-order bound of transfer leaves out (products of two
+// sub-normal-sized changes) cannot lift |H| to 2⁻¹⁰²².
+const underflowSure = 0x1p-1024
+
+// flushRetry is the number of points transfer solves without flushing
+// after a point whose flushed solve had to be redone (a sweep near the
+// edge of the range would otherwise pay twice at every point).
+const flushRetry = 8
+
+// maxFlushes caps the flushes transfer records for its bound; past it
+// the point is redone without flushing.
+const maxFlushes = 1024
+
+// flush is one entry a flushed solve set to zero: its step and the
+// magnitude of the change it makes to the solve's right-hand side.
+type flush struct {
+	k    int
+	m    float64
+	back bool // in the back solve (else the forward one)
+}
+
 // transfer returns h = l·Y⁻¹·b and dh = −l·Y⁻¹·C·Y⁻¹·b (b, l real, by
-// unknown) from the held factorisation with two solves in steps: the
-// solution stays in f.w (unscaled by K, see unknowns) and C·x is formed
-// in steps, so no vector is permuted.
-func (f *sparseLU) transfer(b, l []float64) (h, dh complex128) {
-	p, w, w2, pinv, srs, scs := f.p, f.w, f.w2, f.pinv, f.srs, f.scs
-	clear(w)
-	for i, v := range b {
-		if v != 0 {
-			k := pinv[i]
-			w[k] = complex(v*srs[k], 0)
-		}
+// unknown) from the held factorisation with two solves in elimination
+// steps: y = A⁻¹·R·b (the solution, K·y, stays in f.w; see unknowns),
+// then z = A⁻¹·(R·C·K)·y, formed in steps, so no vector is permuted:
+// h = (K·lᵀ)ᵀ·y and dh = −(K·lᵀ)ᵀ·z.
+//
+// Subnormal entries: the first solve for y flushes every entry below
+// flushBelow to zero. Each flush is a change of that solve's right-hand
+// side (at step k of the forward solve by the entry ũ_k dropped; of the
+// back solve by U_kk·ỹ_k, the entry before its division), so it changes
+// h by exactly that change times the adjoint's entry there (a_k·ũ_k with
+// a = A⁻ᵀ·K·lᵀ; v_k·U_kk·ỹ_k with v = U⁻ᵀ·K·lᵀ, the adjoint's
+// intermediate). When nothing was flushed the point goes on as without
+// flushing. When something was, the adjoint is solved (flushed too) and
+// the flushed y kept only if |h| plus the sum of those changes'
+// magnitudes is below underflowSure: the exact |H| is then below
+// float64's normal range too, a point that analysis reports as an
+// underflow whatever its digits, and dh (which has none either) is
+// taken as −aᵀ·(R·C·K)·y without a further solve. Otherwise the point is
+// solved again without flushing (gradual underflow, every digit), as it
+// always is at s = 0.
+func (f *sparseLU) transfer(b, l []float64, s complex128) (h, dh complex128) {
+	tiny := flushBelow
+	if f.flushSkip > 0 || s == 0 {
+		tiny = 0
+		f.flushSkip = max(0, f.flushSkip-1)
 	}
-	f.solveSteps(w)
-	h = f.dotSteps(l, w)
+	f.rhsSteps(b)
+	f.solveFlushed(f.w, tiny)
+	if len(f.flushes) > 0 {
+		if h, dh, ok := f.underflowed(l); ok {
+			f.flushKept++
+			return h, dh
+		}
+		f.flushRedone++
+		f.flushSkip = flushRetry
+		f.rhsSteps(b)
+		f.solveFlushed(f.w, 0)
+	}
+	h = f.dotSteps(l, f.w)
 	// w2 = R·C·x in steps, x = K·w column by column (unknown order, as
 	// the dense path sums).
+	p, w, w2, srs, scs := f.p, f.w, f.w2, f.srs, f.scs
 	clear(w2)
 	for j := 0; j < f.n; j++ {
 		k := f.o.inv[j]
@@ -575,8 +618,136 @@ func (f *sparseLU) transfer(b, l []float64) (h, dh complex128) {
 			}
 		}
 	}
-	f.solveSteps(w2)
+	f.solveFlushed(w2, 0)
 	return h, -f.dotSteps(l, w2)
+}
+
+// rhsSteps sets f.w to R·b in steps.
+func (f *sparseLU) rhsSteps(b []float64) {
+	clear(f.w)
+	for i, v := range b {
+		if v != 0 {
+			k := f.pinv[i]
+			f.w[k] = complex(v*f.srs[k], 0)
+		}
+	}
+}
+
+// underflowed weighs the flushes of the solve for y in f.w (see
+// transfer): it solves the adjoint into f.w3 and reports whether
+// |h| + Σ|change|·|adjoint| is below underflowSure, with h and
+// dh = −aᵀ·(R·C·K)·y.
+func (f *sparseLU) underflowed(l []float64) (h, dh complex128, ok bool) {
+	if len(f.flushes) >= maxFlushes {
+		return 0, 0, false
+	}
+	n, a, w := f.n, f.w3, f.w
+	lp, up, lPos, uIdx, lVal, uVal, dinv := f.lp, f.up, f.lPos, f.uIdx, f.lVal, f.uVal, f.dinv
+	clear(a)
+	for i, li := range l {
+		if li != 0 {
+			k := f.o.inv[i]
+			a[k] = complex(li*f.scs[k], 0)
+		}
+	}
+	// Uᵀ forward and Lᵀ backward, each entry gathered from the finished
+	// ones (U by columns is Uᵀ by rows), flushed below flushBelow.
+	for k := 0; k < n; k++ {
+		v := a[k]
+		uv := uVal[up[k]:up[k+1]]
+		for q, i := range uIdx[up[k]:up[k+1]] {
+			v -= uv[q] * a[i]
+		}
+		if v *= dinv[k]; mag1(v) < flushBelow {
+			v = 0
+		}
+		a[k] = v
+	}
+	for _, fl := range f.flushes {
+		if fl.back {
+			f.sens[fl.k] = mag1(a[fl.k]) // v_k
+		}
+	}
+	for k := n - 1; k >= 0; k-- {
+		v := a[k]
+		lv := lVal[lp[k]:lp[k+1]]
+		for t, i := range lPos[lp[k]:lp[k+1]] {
+			v -= lv[t] * a[i]
+		}
+		if mag1(v) < flushBelow {
+			v = 0
+		}
+		a[k] = v
+	}
+	h = f.dotSteps(l, w)
+	// The bound, scaled by 2⁶⁰⁰ (exact: every flushed magnitude is below
+	// 2⁻¹⁰²²) so that no product underflows.
+	const scale = 0x1p600
+	bound := mag1(h) * scale
+	for _, fl := range f.flushes {
+		sens := f.sens[fl.k]
+		if !fl.back {
+			sens = mag1(a[fl.k])
+		}
+		bound += fl.m * scale * sens
+	}
+	if !(bound <= underflowSure*scale) {
+		return 0, 0, false
+	}
+	p, srs, scs := f.p, f.srs, f.scs
+	for k := 0; k < n; k++ {
+		yk := w[k]
+		if yk == 0 {
+			continue
+		}
+		var acc complex128
+		j := f.o.perm[k]
+		for e := p.colPtr[j]; e < p.colPtr[j+1]; e++ {
+			if c := p.cv[e]; c != 0 {
+				i := f.aPos[e]
+				acc += complex(c*srs[i], 0) * a[i]
+			}
+		}
+		dh -= acc * (yk * complex(scs[k], 0))
+	}
+	return h, dh, true
+}
+
+// solveFlushed is solveSteps with every entry below tiny (0: none)
+// flushed to zero, the flushes recorded in f.flushes (see transfer).
+func (f *sparseLU) solveFlushed(w []complex128, tiny float64) {
+	n, lp, up, lPos, uIdx, lVal, uVal, dinv := f.n, f.lp, f.up, f.lPos, f.uIdx, f.lVal, f.uVal, f.dinv
+	f.flushes = f.flushes[:0]
+	for k := 0; k < n; k++ {
+		yk := w[k]
+		if m := mag1(yk); m < tiny || m == 0 {
+			if m != 0 {
+				f.flushes = append(f.flushes, flush{k: k, m: m})
+				w[k] = 0
+			}
+			continue
+		}
+		lv := lVal[lp[k]:lp[k+1]]
+		for t, i := range lPos[lp[k]:lp[k+1]] {
+			w[i] -= lv[t] * yk
+		}
+	}
+	for k := n - 1; k >= 0; k-- {
+		wk := w[k]
+		zk := wk * dinv[k]
+		if m := mag1(zk); m < tiny || m == 0 {
+			if m != 0 {
+				f.flushes = append(f.flushes, flush{k: k, m: mag1(wk), back: true})
+			}
+			w[k] = 0
+			continue
+		}
+		w[k] = zk
+		uv := uVal[up[k]:up[k+1]]
+		for q, i := range uIdx[up[k]:up[k+1]] {
+			w[i] -= uv[q] * zk
+		}
+	}
 }
 
 // dotSteps is Σ l_i·x_i for the solution x = K·w held in steps.
