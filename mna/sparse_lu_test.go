@@ -399,9 +399,10 @@ func BenchmarkEvalPathLadder(b *testing.B) {
 // times slower on x86) dominates the time.
 func BenchmarkSweepLadder(b *testing.B) {
 	for _, k := range []int{1000, 10000, 100000} {
-		ckt := rcLadder(b, k-2, 1, 1e-12) // k−2 sections: k unknowns with n0 and the source branch
 		b.Run(fmt.Sprintf("unknowns=%d", k), func(b *testing.B) {
+			ckt := rcLadder(b, k-2, 1, 1e-12) // k−2 sections: k unknowns with n0 and the source branch
 			b.ReportAllocs()
+			b.ResetTimer()
 			for i := 0; i < b.N; i++ {
 				sys, err := Build(ckt, Input{}, Output{Kind: NodeVoltage, Node: fmt.Sprint("n", k-2)})
 				if err != nil {
@@ -488,5 +489,34 @@ func TestFlushedSweepMatchesGradual(t *testing.T) {
 	}
 	if kept == 0 || redone == 0 || normal == 0 || under == 0 {
 		t.Errorf("flushes kept %d, redone %d; points normal %d, below the range %d: want each path taken", kept, redone, normal, under)
+	}
+}
+
+// BenchmarkSweepCableLadder: BenchmarkSweepLadder on the cable ladder of
+// the whole-process measurements (1 kΩ and 10 nF a section, as
+// /work-style generated files use): above a few hundred hertz most of the
+// far sections' voltages are below float64's normal range, so this
+// measures the sweep with its flushed solves (see sparseLU.transfer);
+// the output is the far node, whose |H| underflows at most points.
+func BenchmarkSweepCableLadder(b *testing.B) {
+	for _, k := range []int{10000, 100000} {
+		b.Run(fmt.Sprintf("unknowns=%d", k), func(b *testing.B) {
+			ckt := rcLadder(b, k-2, 1e3, 10e-9)
+			b.ReportAllocs()
+			b.ResetTimer()
+			for i := 0; i < b.N; i++ {
+				sys, err := Build(ckt, Input{}, Output{Kind: NodeVoltage, Node: fmt.Sprint("n", k-2)})
+				if err != nil {
+					b.Fatal(err)
+				}
+				w := NewSweeper(sys)
+				for p := 0; p < 1000; p++ {
+					f := math.Pow(10, 6*float64(p)/999)
+					if _, _, err := w.Eval(complex(0, 2*math.Pi*f)); err != nil {
+						b.Fatal(err)
+					}
+				}
+			}
+		})
 	}
 }
