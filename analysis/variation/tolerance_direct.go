@@ -72,9 +72,11 @@ import (
 // Tolerances of the direct path (dimensionless).
 const (
 	// directRankGap: an eigenvalue μ of G⁻¹C counts as non-zero above
-	// directRankGap·max|μ| and as zero below directRankGap²·max|μ|; one
-	// between the two sends the run to the exact path.
-	directRankGap = 1e-8
+	// directRankGap·max|μ| and as zero (rounding) below
+	// directRoundLevel·max|μ|; one between the two sends the run to the
+	// exact path (so do natural frequencies more than 10⁷ apart).
+	directRankGap    = 1e-7
+	directRoundLevel = 1e-11
 	// directStableMargin: a natural frequency with Re λ ≥
 	// −directStableMargin·|λ| (Q above about 5000) is left to the exact
 	// stability test.
@@ -264,7 +266,7 @@ func (w *directWorker) stable() bool {
 		switch {
 		case a > directRankGap*big:
 			w.roots = append(w.roots, -1/m)
-		case a > directRankGap*directRankGap*big:
+		case a > directRoundLevel*big:
 			return false
 		}
 	}
