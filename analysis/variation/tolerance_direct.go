@@ -36,11 +36,13 @@ import (
 // submatrix on the columns where C has entries (M = W·Pᵀ has the non-zero
 // eigenvalues of Pᵀ·W; common practice of linear algebra). A run is
 // vouched stable when the non-zero μ are separated from the rounding-level
-// ones by a clear gap (directRankGap), number as many as the nominal
-// circuit's natural frequencies, and every λ has Re λ < −directStableMargin·|λ|
-// (the exact test puts the axis at 10⁻⁹·|λ|: the margin leaves room for
-// the eigenvalue error of near-repeated roots, about ε^(1/k)·|λ| for k
-// coinciding roots). Anything else (Y(0) singular, a root within the
+// ones by a clear gap (directRankGap, directRoundLevel), number as many as
+// the nominal circuit's natural frequencies, and every λ has
+// Re λ < −directStableMargin·|λ| (the exact test puts the axis at
+// 10⁻⁹·|λ|: the margin leaves room for the eigenvalue error of
+// near-repeated roots, about ε^(1/k)·|λ| for k coinciding roots; such a
+// cluster keeps its mean to rounding, so a true root on or right of the
+// axis leaves a computed one there too, and the run is sent on). Anything else (Y(0) singular, a root within the
 // margin of the axis or right of it) is decided by stability.Analyze.
 //
 // f3db. With the reference the DC gain (a low-pass: H(0) finite and
@@ -412,7 +414,10 @@ func (w *directWorker) f3dbHz() (float64, error) {
 func (w *directWorker) product(u float64) (g, dg float64) {
 	om := math.Exp(u)
 	g = math.Ln2
-	add := func(mu []complex128, sign float64) {
+	// The factors are multiplied (one logarithm per point), the product
+	// folded into g before it could leave the range of a float64.
+	prod := 1.0
+	add := func(mu []complex128, num bool) {
 		for _, m := range mu {
 			if m == 0 {
 				continue // a root at infinity: the factor is 1
@@ -420,13 +425,23 @@ func (w *directWorker) product(u float64) (g, dg float64) {
 			// |1 + jωμ|² = (1 − ω·Im μ)² + (ω·Re μ)²
 			a, b := 1-om*imag(m), om*real(m)
 			v := a*a + b*b
-			g += sign * math.Log(v)
-			dg += sign * 2 * (-a*om*imag(m) + b*om*real(m)) / v
+			d := 2 * (-a*om*imag(m) + b*om*real(m)) / v
+			if num {
+				prod *= v
+				dg += d
+			} else {
+				prod /= v
+				dg -= d
+			}
+			if prod > 1e100 || prod < 1e-100 {
+				g += math.Log(prod)
+				prod = 1
+			}
 		}
 	}
-	add(w.muZ, 1)
-	add(w.muN, -1)
-	return g, dg
+	add(w.muZ, true)
+	add(w.muN, false)
+	return g + math.Log(prod), dg
 }
 
 // polish checks the crossing u (ln ω) on H itself and refines it by Newton
