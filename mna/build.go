@@ -61,12 +61,7 @@ func BuildMatrices(c *netlist.Circuit) (*Matrices, error) {
 	if err != nil {
 		return nil, err
 	}
-	for i := range c.Parts {
-		if err := b.stamp(&c.Parts[i]); err != nil {
-			return nil, err
-		}
-	}
-	if err := b.stampCouplings(); err != nil {
+	if err := b.stampAll(); err != nil {
 		return nil, err
 	}
 	return b.matrices(), nil

@@ -54,6 +54,9 @@ type MetricEvaluator struct {
 	phaseRefDeg []float64
 	// tempK is the resistors' temperature of the noise metrics (K).
 	tempK float64
+	// direct, when not nil, evaluates runs by restamping and direct
+	// solves (tolerance_direct.go), falling back to the paths above.
+	direct *directPath
 }
 
 // NewMetricEvaluator parses the metric names (an unknown one is an error
@@ -86,6 +89,7 @@ func NewMetricEvaluatorAt(nominal *netlist.Circuit, in mna.Input, out mna.Output
 	for _, m := range e.metrics {
 		e.spot = e.spot && m.Spec.Spot
 	}
+	e.direct = newDirectPath(e, nominal)
 	return e, nil
 }
 
@@ -96,6 +100,11 @@ func (e *MetricEvaluator) Metrics() []string { return e.names }
 // circuit that is not stable is an error wrapping stability.ErrUnstable (its
 // metrics do not exist), so tolerance runs count it.
 func (e *MetricEvaluator) Eval(c *netlist.Circuit) ([]float64, error) {
+	if e.direct != nil {
+		if v, err := e.direct.eval(e, c); !errors.Is(err, errUncertain) {
+			return v, err
+		}
+	}
 	if e.spot {
 		if err := loop.NewCircuit(c).CheckStable(); err != nil {
 			return nil, err

@@ -1,0 +1,201 @@
+package variation
+
+import (
+	"context"
+	"errors"
+	"math"
+	"os"
+	"testing"
+
+	"nodal/analysis/stability"
+)
+
+// directCases are circuits on which the direct path (restamp, eigenvalue
+// stability, f3db from the factored form polished on H) must agree with
+// the extraction path run by run: the logger filter, a peaking
+// Sallen-Key (Q ≈ 5), a low-pass with a notch below its corner (a zero
+// pair on the jω axis, so the lowest crossing is set by the zeros), the
+// 6th-order cascade (17 unknowns: the compressed-column solver) and an
+// equal-component Sallen-Key whose gain of 2.9 ± 5 % makes some draws
+// unstable (Q = 1/(3 − K); common practice).
+var directCases = []struct {
+	name    string
+	src     string
+	metrics []string
+	// unstable is true when some draws are not stable.
+	unstable bool
+}{
+	{"logger", "", []string{"f3db", "gain@1kHz", "phase@3kHz", "dc"}, false},
+	{"peaking", `
+let R = 10k ±1%
+let C = 10nF ±5%
+Vin: voltage source (in, gnd) 1
+R1: resistor (in, a) R
+R2: resistor (a, b) R ±1%
+C1: capacitor (a, out) 10*C ±2%
+C2: capacitor (b, gnd) C/10
+U1: opamp (b, out, out) a0=100k gbw=10MHz
+`, []string{"f3db", "gain@2kHz"}, false},
+	// The trap L1–C1 notches at 1 kHz, far below R1·C1's 15.9 kHz: the
+	// lowest crossing is just below the notch (TestDirectNotchCrossing).
+	{"notch below the corner", `
+Vin: voltage source (in, gnd) 1
+R1: resistor (in, out) 1k ±5%
+L1: inductor (out, m) 2.533H ±5%
+C1: capacitor (m, gnd) 10nF ±5%
+C2: capacitor (out, gnd) 1nF ±5%
+`, []string{"f3db"}, false},
+	{"6th order", tol6thOrder, []string{"f3db"}, false},
+	{"sometimes unstable", `
+let K = 2.9 ±5%
+Vin: voltage source (in, gnd) 1
+R1: resistor (in, a) 10k ±1%
+C1: capacitor (a, out) 10nF ±1%
+R2: resistor (a, b) 10k ±1%
+C2: capacitor (b, gnd) 10nF ±1%
+E1: voltage source (out, gnd) K*v(b, gnd)
+`, []string{"f3db"}, true},
+}
+
+func directCircuit(t *testing.T, src string) string {
+	if src != "" {
+		return src
+	}
+	b, err := os.ReadFile("../../testdata/examples/logger_antialias.nodal")
+	if err != nil {
+		t.Fatal(err)
+	}
+	return string(b)
+}
+
+// TestDirectPathAgreesWithExtraction evaluates 300 draws of each case by
+// the direct path and by the extraction path (Extract, Metric.Eval: the
+// reference every other report uses) and requires the same verdict and
+// the same values: Hz metrics to 1e-9 relative, dB and degree metrics to
+// 1e-9 absolute (the figures are reported to 6 digits). It also requires
+// that the direct path served most stable draws, so the comparison is
+// not empty.
+func TestDirectPathAgreesWithExtraction(t *testing.T) {
+	for _, tc := range directCases {
+		t.Run(tc.name, func(t *testing.T) {
+			c := tolLoad(t, directCircuit(t, tc.src))
+			ev := tolEvaluator(t, c, "out", tc.metrics...)
+			if ev.direct == nil {
+				t.Fatal("no direct path")
+			}
+			buf := make([]float64, len(c.Variations))
+			served, unstable := 0, 0
+			const draws = 300
+			for i := 0; i < draws; i++ {
+				drawFactors(c.Variations, 3, i, buf)
+				vc, err := c.Vary(buf)
+				if err != nil {
+					t.Fatal(err)
+				}
+				want, werr := ev.evalExtract(vc, true)
+				got, gerr := ev.direct.eval(ev, vc)
+				if errors.Is(gerr, errUncertain) {
+					if werr == nil && !tc.unstable {
+						t.Logf("draw %d: left to the extraction path", i)
+					}
+					if errors.Is(werr, stability.ErrUnstable) {
+						unstable++
+					}
+					continue
+				}
+				if werr != nil || gerr != nil {
+					t.Fatalf("draw %d: direct %v, extraction %v", i, gerr, werr)
+				}
+				served++
+				for j, name := range tc.metrics {
+					d := math.Abs(got[j] - want[j])
+					if metricUnit(name) == "Hz" {
+						d /= math.Abs(want[j])
+					}
+					if d > 1e-9 {
+						t.Errorf("draw %d: %s = %.15g direct, %.15g extracted", i, name, got[j], want[j])
+					}
+				}
+			}
+			if served < draws/2 {
+				t.Errorf("the direct path served %d of %d draws", served, draws)
+			}
+			if tc.unstable && unstable == 0 {
+				t.Errorf("no unstable draw among %d: the case does not test the fallback", draws)
+			}
+			t.Logf("direct %d, unstable %d of %d", served, unstable, draws)
+		})
+	}
+}
+
+// TestDirectPathRefuses checks the cases the direct path leaves to the
+// extraction path: a high-pass (f3db's reference is not the DC gain), a
+// metric that needs the poles (q), a probe whose row holds a part value.
+func TestDirectPathRefuses(t *testing.T) {
+	hp := tolLoad(t, `
+Vin: voltage source (in, gnd) 1
+C1: capacitor (in, out) 10nF ±5%
+R1: resistor (out, gnd) 10k ±1%
+`)
+	if ev := tolEvaluator(t, hp, "out", "f3db"); ev.direct != nil {
+		t.Error("high-pass f3db: direct path used")
+	}
+	c := tolLoad(t, directCircuit(t, ""))
+	if ev := tolEvaluator(t, c, "out", "f3db", "q"); ev.direct != nil {
+		t.Error("q: direct path used")
+	}
+}
+
+// TestMonteCarloDirectMatchesExtraction runs the same seeded Monte Carlo
+// with and without the direct path: the same runs finish, fail and are
+// unstable, and every statistic agrees to 1e-12 relative, or 1e-12
+// absolute for dB and degrees (the values differ in the last digits
+// only: two roundings of one root search, two solves at s = 0).
+func TestMonteCarloDirectMatchesExtraction(t *testing.T) {
+	for _, tc := range []int{0, 4} {
+		c := tolLoad(t, directCircuit(t, directCases[tc].src))
+		fast := tolEvaluator(t, c, "out", directCases[tc].metrics...)
+		slow := tolEvaluator(t, c, "out", directCases[tc].metrics...)
+		slow.direct = nil
+		opt := MonteCarloOptions{Runs: 1000, Seed: 11, Workers: 2}
+		a, err := MonteCarlo(context.Background(), c, fast, opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, err := MonteCarlo(context.Background(), c, slow, opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if a.Finished != b.Finished || a.Failed != b.Failed || a.Unstable != b.Unstable {
+			t.Fatalf("%s: finished/failed/unstable %d/%d/%d direct, %d/%d/%d extracted",
+				directCases[tc].name, a.Finished, a.Failed, a.Unstable, b.Finished, b.Failed, b.Unstable)
+		}
+		for j := range a.Metrics {
+			x, y := a.Metrics[j], b.Metrics[j]
+			for _, p := range [][2]float64{{x.Nominal, y.Nominal}, {x.Mean, y.Mean}, {x.Std, y.Std}, {x.Min, y.Min}, {x.Max, y.Max}} {
+				tol := 1e-12 * math.Abs(p[1])
+				if metricPerPercent(x.Name) {
+					tol = 1e-12
+				}
+				if math.Abs(p[0]-p[1]) > tol {
+					t.Errorf("%s %s: %v direct, %v extracted", directCases[tc].name, x.Name, p[0], p[1])
+				}
+			}
+		}
+	}
+}
+
+// TestDirectNotchCrossing checks that the notch case tests what it says:
+// its nominal −3 dB frequency lies just below the trap's 1/(2π√(L1·C1)) =
+// 1 kHz, not at the R1·C1 corner.
+func TestDirectNotchCrossing(t *testing.T) {
+	c := tolLoad(t, directCases[2].src)
+	v, err := tolEvaluator(t, c, "out", "f3db").Eval(c)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fn := 1 / (2 * math.Pi * math.Sqrt(2.533*10e-9))
+	if !(v[0] < fn && v[0] > 0.8*fn) {
+		t.Errorf("f3db %v Hz; want just below the notch at %v Hz", v[0], fn)
+	}
+}

@@ -1,0 +1,33 @@
+package variation
+
+import (
+	"context"
+	"os"
+	"runtime"
+	"testing"
+)
+
+// BenchmarkMonteCarloLogger times 10 000 Monte Carlo runs of f3db on the
+// 7-part vibration-logger anti-alias filter (testdata/examples/
+// logger_antialias.nodal), the whole analysis per op on 2 workers, and
+// reports ns/run and the bytes allocated per run (B/run).
+func BenchmarkMonteCarloLogger(b *testing.B) {
+	src, err := os.ReadFile("../../testdata/examples/logger_antialias.nodal")
+	if err != nil {
+		b.Fatal(err)
+	}
+	c := tolLoad(b, string(src))
+	ev := tolEvaluator(b, c, "out", "f3db")
+	const runs = 10000
+	var before, after runtime.MemStats
+	runtime.ReadMemStats(&before)
+	for b.Loop() {
+		res, err := MonteCarlo(context.Background(), c, ev, MonteCarloOptions{Runs: runs, Seed: 1, Workers: 2})
+		if err != nil || res.Failed != 0 {
+			b.Fatal(err, res.Failed)
+		}
+	}
+	runtime.ReadMemStats(&after)
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/runs, "ns/run")
+	b.ReportMetric(float64(after.TotalAlloc-before.TotalAlloc)/float64(b.N)/runs, "B/run")
+}
