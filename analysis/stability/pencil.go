@@ -5,6 +5,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"nodal/analysis/transfer"
 )
 
 // This file finds the finite generalised eigenvalues of a real square
@@ -54,7 +56,7 @@ const (
 // axis". a and e are not changed. Errors: ErrSingularPencil for
 // det ≡ 0, or a non-converging eigenvalue iteration.
 //
-// The pencil is first permuted to block triangular form (blockTriangular):
+// The pencil is first permuted to block triangular form (transfer.BlockTriangular):
 // its roots are those of the diagonal blocks, each found on its own, so a
 // chain of identical stages that do not load one another gives each stage's
 // roots to rounding instead of one defective N-fold root split by about
@@ -65,7 +67,7 @@ func FiniteEigenvalues(a, e *mat.Dense) (roots []complex128, w0 float64, err err
 	if r, c := e.Dims(); r != n || c != n {
 		return nil, 0, errors.New("natural frequencies: G and C differ in size")
 	}
-	blocks := blockTriangular(a, e)
+	blocks := transfer.BlockTriangular(a, e)
 	if len(blocks) < 2 {
 		return wholeEigenvalues(a, e)
 	}
@@ -74,8 +76,8 @@ func FiniteEigenvalues(a, e *mat.Dense) (roots []complex128, w0 float64, err err
 		w0 = an / en
 	}
 	for _, b := range blocks {
-		sa := subMatrix(a, b.rows, b.cols)
-		se := subMatrix(e, b.rows, b.cols)
+		sa := transfer.SubMatrix(a, b.Rows, b.Cols)
+		se := transfer.SubMatrix(e, b.Rows, b.Cols)
 		r, _, err := wholeEigenvalues(sa, se)
 		if err != nil {
 			return nil, 0, err

@@ -2,6 +2,7 @@ package symbolic
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"testing"
 
@@ -62,5 +63,28 @@ func BenchmarkRCLadder(b *testing.B) {
 				b.ReportMetric(float64(terms), "den-terms")
 			})
 		}
+	}
+}
+
+// BenchmarkWorkBudgetStop is the fully symbolic 20-stage finite-gain
+// chain (61 parts), which must stop at DefaultMaxWork (issue 19 target:
+// under 2 s and 500 MB from the command line), and the same chain with
+// two parts kept, which must complete.
+func BenchmarkWorkBudgetStop(b *testing.B) {
+	c := opampChain(20)
+	for _, tc := range []struct {
+		name string
+		keep []string
+	}{{"all-symbolic", nil}, {"keep-two", []string{"R1a", "R1b"}}} {
+		b.Run(tc.name, func(b *testing.B) {
+			b.ReportAllocs()
+			for i := 0; i < b.N; i++ {
+				_, err := Transfer(context.Background(), c, inputAuto, nodeOut("n20"), Options{Keep: tc.keep})
+				var se *SizeError
+				if (tc.keep == nil) != errors.As(err, &se) {
+					b.Fatalf("%s: %v", tc.name, err)
+				}
+			}
+		})
 	}
 }

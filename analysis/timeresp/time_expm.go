@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"math/cmplx"
+	"sort"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -76,10 +77,11 @@ func newCascade(h *transfer.TransferFunction) (*cascade, error) {
 		}
 		secs = append(secs, s)
 	}
-	for _, p := range linP {
+	zOf, linZ := pairNearest(linP, linZ)
+	for i, p := range linP {
 		s := section{p: p, z: []float64{1}}
-		if len(linZ) > 0 {
-			s.z, linZ = linZ[0], linZ[1:]
+		if zOf[i] != nil {
+			s.z = zOf[i]
 		}
 		secs = append(secs, s)
 	}
@@ -162,6 +164,46 @@ func newCascade(h *transfer.TransferFunction) (*cascade, error) {
 		c.a = nil
 	}
 	return c, nil
+}
+
+// pairNearest gives real poles their real zeros, nearest first (by the
+// ratio of the root magnitudes; a zero at s = 0 is nearest to none), so
+// that a pole and a zero that almost cancel share a section whose gain
+// stays near 1 (common practice in cascade design). Apart, the zero's
+// section gains 10⁵ or more (the zero 6.30107e6 rad/s beside the pole
+// 6.30112e6 of a capacitor current behind a finite-gain follower), the
+// augmented matrix's norm grows with it, and the exponential by scaling
+// and squaring loses 5e-5 of the response. It returns the zero of each
+// pole (nil for none) and the zeros left over, in their order.
+func pairNearest(poles, zeros [][]float64) (zOf [][]float64, rest [][]float64) {
+	type cand struct {
+		i, j int
+		d    float64
+	}
+	var cs []cand
+	for i, p := range poles {
+		for j, z := range zeros {
+			d := math.Inf(1)
+			if a, b := math.Abs(p[0]), math.Abs(z[0]); a > 0 && b > 0 {
+				d = math.Abs(math.Log(a / b))
+			}
+			cs = append(cs, cand{i, j, d})
+		}
+	}
+	sort.SliceStable(cs, func(a, b int) bool { return cs[a].d < cs[b].d })
+	zOf = make([][]float64, len(poles))
+	used := make([]bool, len(zeros))
+	for _, c := range cs {
+		if zOf[c.i] == nil && !used[c.j] && !math.IsInf(c.d, 1) {
+			zOf[c.i], used[c.j] = zeros[c.j], true
+		}
+	}
+	for j, z := range zeros {
+		if !used[j] {
+			rest = append(rest, z)
+		}
+	}
+	return zOf, rest
 }
 
 // splitByDegree separates quadratic factors from linear ones.

@@ -211,7 +211,7 @@ const pfCheckTol = 1e-7
 // conditioned for clustered poles. When they disagree, the samples are
 // replaced by the matrix exponential's, and the closed form and the
 // figures computed on it are withheld with a note (the final value of a
-// step, H(0), is kept).
+// step, H(0), is kept: exactly 0 when H has a zero at s = 0).
 //
 // With only set (no partial fractions at all: the gain does not fit a
 // float64), the samples are the matrix exponential's and the note says
@@ -256,8 +256,11 @@ func crossCheck(r *TimeResponse, tf *transfer.TransferFunction, step bool, n int
 	final := r.Metrics.Final
 	why := fmt.Sprintf("the partial-fraction form is ill-conditioned for these poles (off the matrix exponential by %.2g of the largest value)", diff/math.Max(scale, math.SmallestNonzeroFloat64))
 	r.Metrics = Metrics{Note: "figures withheld: " + why + "; the samples are from the matrix exponential"}
-	if dc := tf.DCGain(); step && final != nil && dc.Power == 0 {
-		v := dc.Gain
+	if dc := tf.DCGain(); step && final != nil && dc.Power >= 0 {
+		v := dc.Gain // H(0); exactly 0 with a zero at s = 0
+		if dc.Power > 0 {
+			v = 0
+		}
 		r.Metrics.Final = &v
 	}
 	r.ClosedFormWithheld = why

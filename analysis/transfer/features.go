@@ -50,12 +50,16 @@ type MultipleRoot struct {
 // DistinctPoles returns each distinct pole once with its multiplicity,
 // in the order of Poles (Extract merges an m-fold pole split by rounding
 // into m equal values, so equality is exact).
-func (h *TransferFunction) DistinctPoles() []MultipleRoot { return distinctRoots(h.Poles) }
+func (h *TransferFunction) DistinctPoles() []MultipleRoot { return DistinctRoots(h.Poles) }
 
 // DistinctZeros is DistinctPoles for the zeros.
-func (h *TransferFunction) DistinctZeros() []MultipleRoot { return distinctRoots(h.Zeros) }
+func (h *TransferFunction) DistinctZeros() []MultipleRoot { return DistinctRoots(h.Zeros) }
 
-func distinctRoots(roots []complex128) []MultipleRoot {
+// DistinctRoots returns each distinct value of roots once with the number
+// of times it occurs, in the order of first occurrence (a conjugate pair
+// is two distinct roots, each with the pair's multiplicity). Equality is
+// exact: Extract makes the members of a multiple root equal.
+func DistinctRoots(roots []complex128) []MultipleRoot {
 	var out []MultipleRoot
 next:
 	for _, r := range roots {

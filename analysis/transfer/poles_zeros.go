@@ -416,14 +416,12 @@ func (f *complexLU) logDerivative(e *mat.Dense, cols []int) complex128 {
 // mean and not polished; a real root stays real; for a conjugate pair only
 // the member with positive imaginary part is iterated and mirrored.
 func polishRoots(a, e *mat.Dense, roots []complex128) {
-	raw := append([]complex128(nil), roots...)
-	mergeClusters(roots)
 	cols := nonzeroCols(e)
 	var f complexLU
-	splitFalseClusters(a, e, cols, &f, roots, raw)
+	mergeChecked(a, e, cols, &f, roots)
 	for i := range roots {
-		if imag(roots[i]) < 0 || inCluster(roots, i) {
-			continue
+		if imag(roots[i]) < 0 || roots[i] == 0 || inCluster(roots, i) {
+			continue // an exact 0 is the rank test's (deflateOrigin)
 		}
 		partner := -1
 		if imag(roots[i]) > 0 {
@@ -478,6 +476,23 @@ func polishRoots(a, e *mat.Dense, roots []complex128) {
 	}
 }
 
+// mergeChecked merges the groups of roots that are one multiple root
+// split by rounding (mergeClusters) and then checks every merged group
+// of three or more against det(a + s·e) itself (splitFalseClusters), so a
+// merge decided from the eigen-solver's values alone never stands
+// unchecked. cols are the non-zero columns of e; f is scratch.
+func mergeChecked(a, e *mat.Dense, cols []int, f *complexLU, roots []complex128) {
+	raw := append([]complex128(nil), roots...)
+	mergeClusters(roots)
+	splitFalseClusters(a, e, cols, f, roots, raw)
+}
+
+// mergeRoots is mergeChecked for a pencil whose roots are not polished.
+func mergeRoots(a, e *mat.Dense, roots []complex128) {
+	var f complexLU
+	mergeChecked(a, e, nonzeroCols(e), &f, roots)
+}
+
 // inCluster reports whether another root lies within clusterTol of roots[i]
 // (its own conjugate excluded). After mergeClusters the members of a
 // cluster are equal, so this finds them.
@@ -518,13 +533,15 @@ func multipleRootTol(m int) float64 {
 // near with the tolerance of its size: candidates are linked with
 // multipleRootTol(len(roots)); a group of k roots whose diameter exceeds
 // multipleRootTol(k) is split again with multipleRootTol(k−1), and so on
-// down to clusterTol for pairs.
+// down to clusterTol for pairs. Roots exactly 0 are left as they are.
 func mergeClusters(roots []complex128) {
-	all := make([]int, len(roots))
-	for i := range all {
-		all[i] = i
+	var all []int
+	for i, r := range roots {
+		if r != 0 { // an exact 0 is the rank test's (deflateOrigin)
+			all = append(all, i)
+		}
 	}
-	mergeGroups(roots, all, len(roots))
+	mergeGroups(roots, all, len(all))
 }
 
 // mergeGroups links the roots idx with multipleRootTol(m) and merges or
@@ -573,8 +590,19 @@ func mergeGroups(roots []complex128, idx []int, m int) {
 }
 
 // jordanLikeTol bounds the normalised power sums of jordanLike: for a
-// 22-fold pole split by rounding they were seen below 2e-7 up to q = 12.
+// 22-fold pole split by rounding they were seen below 2e-7 up to q = 12;
+// for the 15-fold pole of fifteen high-pass stages of gain 2 (rounding
+// amplified along the chain) 3e-9, 1e-7, 2.5e-6, 4e-5, 4e-4 for
+// q = 2 … 6.
 const jordanLikeTol = 1e-4
+
+// jordanLikeMaxQ is the highest power sum jordanLike tests: enough to
+// tell a polygon around its mean from distinct roots (whose sums are of
+// the size of Σ|rᵢ − c|^q from q = 2 on), while the higher sums, which
+// rounding in the low coefficients of the characteristic polynomial
+// fills, are left to the check of the merged group against the pencil
+// (splitFalseClusters).
+const jordanLikeMaxQ = 4
 
 // jordanLike reports whether the roots idx (k of them, k ≥ 3) are one
 // k-fold root split by rounding however wide the split: a perturbation δ
@@ -585,9 +613,11 @@ const jordanLikeTol = 1e-4
 // Σ|rᵢ − c|^q. Rounding in every coefficient of the characteristic
 // polynomial, not only the constant one, makes the sums grow with q
 // (relative size δ^((k−q)/k) roughly), so the test asks
-// |Σ(rᵢ − c)^q| ≤ jordanLikeTol·Σ|rᵢ − c|^q for q = 2 … ⌈k/2⌉, and every |rᵢ − c| below (1e8·ε)^(1/k)·|c| (a
+// |Σ(rᵢ − c)^q| ≤ jordanLikeTol·Σ|rᵢ − c|^q for q = 2 … min(⌈k/2⌉,
+// jordanLikeMaxQ), and every |rᵢ − c| below (1e8·ε)^(1/k)·|c| (a
 // condition of 10⁸; 0.45 for k = 22, 2.8e-3 for k = 3); the check of the
-// extracted H against direct solves catches a wrong merge.
+// merged group against the pencil (mergeChecked) and of the extracted H
+// against direct solves catch a wrong merge.
 func jordanLike(roots []complex128, idx []int) bool {
 	k := len(idx)
 	if k < 3 {
@@ -611,7 +641,7 @@ func jordanLike(roots []complex128, idx []int) bool {
 		}
 		pw[j] = d[j]
 	}
-	for q := 2; q <= (k+1)/2; q++ {
+	for q := 2; q <= min((k+1)/2, jordanLikeMaxQ); q++ {
 		var sum complex128
 		abs := 0.0
 		for j := range pw {
@@ -712,15 +742,16 @@ func clusterShaped(a, e *mat.Dense, cols []int, f *complexLU, roots, raw []compl
 	for i := range vals {
 		vals[i] = mu
 	}
-	return groupFits(a, e, cols, f, roots, raw, members, vals)
+	return groupFits(a, e, cols, f, roots, raw, members, vals, true)
 }
 
 // groupFits reports whether the roots members, given the values vals,
 // match det(a + s·e): the logarithmic derivative at two points 4ρ from
-// their mean (ρ the eigen-solver's spread), less 1/(s − r) of every root
+// their mean (ρ the eigen-solver's spread; at least groupFitMinRadius),
+// less 1/(s − r) of every root
 // (vals for the members), is below clusterShapeTol·k/|s − mean|. A point
 // that cannot be evaluated is no evidence against the values.
-func groupFits(a, e *mat.Dense, cols []int, f *complexLU, roots, raw []complex128, members []int, vals []complex128) bool {
+func groupFits(a, e *mat.Dense, cols []int, f *complexLU, roots, raw []complex128, members []int, vals []complex128, wide bool) bool {
 	var mu complex128
 	for _, v := range vals {
 		mu += v
@@ -736,8 +767,31 @@ func groupFits(a, e *mat.Dense, cols []int, f *complexLU, roots, raw []complex12
 	if rho == 0 {
 		return true
 	}
+	// At 4ρ first; then, with wide and when that is closer, at
+	// groupFitMinRadius: next to a k-fold root A + sE is conditioned as
+	// |μ/(s − μ)|^k, and for a group the eigen-solver split only a little
+	// (the triple pole of a block of three unknowns, by 1.6e-5) rounding
+	// at 4ρ exceeds the tolerance. The values fit when they fit at either
+	// radius. The candidate values of splitOff, themselves estimates from
+	// the split values, are tested at 4ρ only, where an estimate a little
+	// off still shows.
+	radii := []float64{4 * rho}
+	if r := groupFitMinRadius(len(members)) * cmplx.Abs(mu); wide && r > 4*rho {
+		radii = append(radii, r)
+	}
+	for _, radius := range radii {
+		if fitsAt(a, e, cols, f, roots, in, vals, mu, radius) {
+			return true
+		}
+	}
+	return false
+}
+
+// fitsAt is the test of groupFits at two points radius from mu.
+func fitsAt(a, e *mat.Dense, cols []int, f *complexLU, roots []complex128, in map[int]bool, vals []complex128, mu complex128, radius float64) bool {
+	k := float64(len(vals))
 	for _, th := range []float64{0.7, 2.1} {
-		s := mu + cmplx.Rect(4*rho, th)
+		s := mu + cmplx.Rect(radius, th)
 		if f.factor(a, e, s) {
 			continue
 		}
@@ -755,6 +809,16 @@ func groupFits(a, e *mat.Dense, cols []int, f *complexLU, roots, raw []complex12
 		}
 	}
 	return true
+}
+
+// groupFitMinRadius returns the least distance, relative to the group's
+// mean, at which groupFits evaluates the pencil for a group of k roots
+// when 4ρ is closer:
+// 4·multipleRootTol(k) (2.4e-3 for k = 3, where A + sE is conditioned
+// near 10⁸ and a false merge of roots 10⁻⁵ apart still shows as
+// (10⁻⁵/2.4e-3)² above clusterShapeTol), at most 0.1.
+func groupFitMinRadius(k int) float64 {
+	return math.Min(4*multipleRootTol(k), 0.1)
 }
 
 // splitOff tries, for a real group of k ≥ 3 equal roots that is not one
@@ -786,7 +850,7 @@ func splitOff(a, e *mat.Dense, cols []int, f *complexLU, roots, raw []complex128
 			vals[i] = av
 		}
 		vals[k-1] = bv
-		if groupFits(a, e, cols, f, roots, raw, members, vals) {
+		if groupFits(a, e, cols, f, roots, raw, members, vals, false) {
 			return vals, true
 		}
 	}

@@ -72,7 +72,7 @@ const MaxExtractUnknowns = 2000
 // with the positive imaginary part first; roots within 1e-10 of the
 // characteristic frequency of zero are exactly 0, and so is a cluster of m
 // roots around 0 that rounding split from an m-fold root at s = 0 (see
-// snapOrigin). If H ≡ 0, Num is [0],
+// deflateOrigin). If H ≡ 0, Num is [0],
 // Den is [1] and there are no poles or zeros. Zeros at infinity are not
 // listed (len(Zeros) may be below or, for improper H, above len(Poles)).
 func Extract(sys *mna.System) (*TransferFunction, error) {
@@ -157,8 +157,10 @@ const verifyPoints = 12
 // tenth of the smallest non-zero root magnitude to ten times the largest
 // (the sweep range and more). They must agree within verifyTol relative,
 // or within 1e-10 of Σ|Lᵢxᵢ| (the response's own scale: a cancellation
-// in the output is rounding in both), or within verifyFloor of the peak. A frequency where the circuit is
-// singular (a pole on the jω axis) is skipped. An H ≡ 0 (decided by
+// in the output is rounding in both), or within verifyFloor of the peak.
+// A frequency where the direct solve fails (a pole on the jω axis) is
+// skipped; failing at all of them is ErrIllConditioned (the extraction
+// itself solved G + σC, so the circuit is not singular). An H ≡ 0 (decided by
 // the rank of the bordered pencil) is checked against rounding of the
 // whole solution instead.
 func verifyExtraction(sys *mna.System, tf *TransferFunction) error {
@@ -185,12 +187,16 @@ func verifyExtraction(sys *mna.System, tf *TransferFunction) error {
 	}
 	pts := make([]point, verifyPoints)
 	peak := 0.0
+	var solveErr error
 	zero := tf.ScaledGain == 0 && tf.Gain == 0
 	for k := range pts {
 		w := lo * math.Pow(hi/lo, (float64(k)+0.5)/verifyPoints)
 		s := complex(0, w)
 		x, err := sys.SolveAll(s)
 		if err != nil {
+			if solveErr == nil {
+				solveErr = err
+			}
 			continue
 		}
 		p := point{w: w, hf: tf.EvalFactored(s), evaluated: true}
@@ -221,8 +227,12 @@ func verifyExtraction(sys *mna.System, tf *TransferFunction) error {
 		}
 	}
 	if evaluated == 0 {
-		// Singular at every check frequency, as a sweep would find it.
-		return ErrSingularSystem
+		// The extraction found G + σC regular at a real shift, so the
+		// circuit is not singular for every frequency; the solves that
+		// check it failed (a badly scaled high-gain chain, or poles on
+		// the jω axis at every check point): no check, no H.
+		return fmt.Errorf("%w: the direct solves that check it failed at all %d check frequencies from %.4g to %.4g rad/s (%v)",
+			ErrIllConditioned, verifyPoints, lo, hi, solveErr)
 	}
 	return nil
 }
@@ -581,19 +591,14 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 			return &TransferFunction{Num: []float64{0}, Den: []float64{1}}, nil
 		}
 	}
-	poles, err := finiteEigenvalues(s.g, s.c, shiftFactors[:])
+	poles, err := pencilRoots(s.g, s.c, polish, aRankTol)
 	if err != nil {
 		if errors.Is(err, errSingularPencil) {
 			return nil, ErrSingularSystem
 		}
 		return nil, fmt.Errorf("transfer function poles: %w", err)
 	}
-	if polish {
-		polishRoots(s.g, s.c, poles)
-	} else {
-		mergeClusters(poles)
-	}
-	zeros, err := finiteEigenvalues(s.gb, s.cb, shiftFactors[:])
+	zeros, err := pencilRoots(s.gb, s.cb, polish, aRankTol)
 	if errors.Is(err, errSingularPencil) {
 		// The bordered pencil looks singular while G + sC is not: its
 		// determinant −det(G + sC)·H(s) vanishes identically, so H ≡ 0
@@ -605,7 +610,7 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 		if math.Abs(hSig) <= roundingGainTol*hNorm && !hStable {
 			return &TransferFunction{Num: []float64{0}, Den: []float64{1}}, nil
 		}
-		zeros, err = finiteEigenvaluesTol(s.gb, s.cb, shiftFactors[:], tinyRankTol)
+		zeros, err = pencilRoots(s.gb, s.cb, polish, tinyRankTol)
 		if errors.Is(err, errSingularPencil) {
 			return nil, fmt.Errorf("%w: the response (|H| = %.3g at s = %.4g rad/s) is too small beside the circuit's other quantities (%.3g) to factor its zeros in float64",
 				ErrIllConditioned, math.Abs(hSig), sigma*s.wc, hNorm)
@@ -614,15 +619,8 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 	if err != nil {
 		return nil, fmt.Errorf("transfer function zeros: %w", err)
 	}
-	if polish {
-		polishRoots(s.gb, s.cb, zeros)
-	} else {
-		mergeClusters(zeros)
-	}
 
-	snapOrigin(poles, originMultiplicity(s.g, s.c))
 	s.rawCentre = rootCentre(poles) * s.wc
-	snapOrigin(zeros, originMultiplicity(s.gb, s.cb))
 	snapAxis(poles)
 	snapAxis(zeros)
 	poles, zeros, cancelled := cancelPairs(poles, zeros)
@@ -722,8 +720,8 @@ func hasRootAtZero(lists ...[]complex128) bool {
 }
 
 // originGuard (scaled units): the rank test's m roots at s = 0 are set
-// to 0 only when the eigen-solver also put them below this, so a rank
-// decision alone never moves a genuine root.
+// to 0 only when the eigen-solver also put them below originGuardFor(m),
+// at least this, so a rank decision alone never moves a genuine root.
 const originGuard = 1e-3
 
 // originMultiplicity returns the multiplicity of s = 0 as a root of
@@ -744,31 +742,73 @@ func originMultiplicity(a, e *mat.Dense) int {
 	return n - r
 }
 
-// snapOrigin sets the m smallest roots exactly to 0 when all of them lie
-// below originGuard (an m-fold root at s = 0 split by rounding, as the
-// rank test says: two series capacitors, the current of a coupling
-// capacitor, H ∝ s²).
-func snapOrigin(roots []complex128, m int) {
-	if m <= 0 || m > len(roots) {
-		return
+// originGuardFor returns the bound (scaled units) below which the m
+// smallest eigen-solver roots must lie for the rank test's m-fold root at
+// s = 0 to be taken: originGuard, or the split (1e8·ε)^(1/m) of an m-fold
+// root under a relative perturbation of 10⁸ε when that is wider (0.025
+// for m = 5, 0.17 for m = 10, 0.31 for m = 15: fifteen high-pass stages).
+func originGuardFor(m int) float64 {
+	return math.Max(originGuard, math.Pow(1e8*0x1p-52, 1/float64(m)))
+}
+
+// deflateOrigin returns the roots of det(a + s·e) with the rank test's
+// m-fold root at s = 0 made exact (see originMultiplicity), given raw,
+// the eigen-solver's roots of the whole pencil: when the m smallest of
+// raw lie below originGuardFor(m), the other roots are computed again
+// from the pencil with s = 0 deflated exactly (nonzeroRoots), so that
+// rounding of the origin root (split by ε^(1/m) into a polygon) neither
+// stands for it nor disturbs a small genuine root beside it (the
+// 0.089 rad/s zero next to the zero at s = 0 of a capacitor current
+// behind a finite-gain follower). When the deflated pencil does not give
+// len(raw) − m roots, the m smallest raw roots are set to 0 instead.
+// raw is returned unchanged when the rank test finds no root at s = 0 or
+// the guard fails.
+func deflateOrigin(a, e *mat.Dense, raw []complex128) []complex128 {
+	m := originMultiplicity(a, e)
+	if m <= 0 || m > len(raw) {
+		return raw
 	}
-	idx := make([]int, len(roots))
+	idx := make([]int, len(raw))
 	for i := range idx {
 		idx[i] = i
 	}
-	sort.SliceStable(idx, func(a, b int) bool { return cmplx.Abs(roots[idx[a]]) < cmplx.Abs(roots[idx[b]]) })
-	if cmplx.Abs(roots[idx[m-1]]) > originGuard {
-		return
+	sort.SliceStable(idx, func(x, y int) bool { return cmplx.Abs(raw[idx[x]]) < cmplx.Abs(raw[idx[y]]) })
+	if cmplx.Abs(raw[idx[m-1]]) > originGuardFor(m) {
+		return raw
 	}
+	if nz, err := nonzeroRoots(a, e); err == nil && len(nz) == len(raw)-m {
+		out := make([]complex128, m, len(raw))
+		return append(out, nz...)
+	}
+	out := append([]complex128(nil), raw...)
 	for _, i := range idx[:m] {
-		roots[i] = 0
+		out[i] = 0
 	}
+	return out
+}
+
+// nonzeroRoots returns the finite roots of det(a + s·e) other than s = 0:
+// the staircase of deflateInfinite on the reversed pencil e + t·a
+// (t = 1/s) removes its infinite eigenvalues, i.e. the roots at s = 0,
+// by orthogonal transformations, leaving r×r blocks (A′, E′) with E′
+// (from a) non-singular and det(A′ + t·E′) ∝ t^(n−r)·det(a + e/t); the
+// finite roots of the pencil E′ + s·A′ are then the non-zero finite roots
+// of the original (none is 0 since E′ is non-singular).
+func nonzeroRoots(a, e *mat.Dense) ([]complex128, error) {
+	p, err := deflateInfinite(e, a)
+	if err != nil {
+		return nil, err
+	}
+	if p.a == nil {
+		return nil, nil
+	}
+	return finiteEigenvalues(p.e, p.a, shiftFactors[:])
 }
 
 // snapAxis sets to 0 the real part of complex roots within
 // zeroRootTol·|r| of the jω axis (a Q above 10⁹ is rounding of an
 // undamped pair, e.g. a notch). Roots at s = 0 are decided by the rank
-// test alone (snapOrigin): a tiny genuine root (a 2 TΩ resistor with
+// test alone (deflateOrigin): a tiny genuine root (a 2 TΩ resistor with
 // 1 pF far from the characteristic frequency) is never set to 0.
 func snapAxis(roots []complex128) {
 	for i, r := range roots {

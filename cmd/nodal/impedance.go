@@ -153,10 +153,17 @@ func (c *impedanceCmd) Run(e *env) error {
 			return err
 		}
 	}
+	// The circuit's stability, as every other command states it: a
+	// warning beside the table, the keys in JSON.
+	stab, err := circuitStability(l)
+	if err != nil {
+		return err
+	}
 	rep := newTFReport(r)
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		if c.Format == "json" {
 			doc := impedanceJSON{tfJSON: tfDoc(rep), Points: []impedancePoint{}}
+			doc.stabilityJSON = newStabilityJSON(stab)
 			for i, f := range resp.FreqHz {
 				doc.Points = append(doc.Points, impedancePoint{FreqHz: f, MagOhm: finiteOrNil(resp.Mag[i]), PhaseDeg: finiteOrNil(resp.PhaseDeg[i])})
 			}
@@ -166,6 +173,7 @@ func (c *impedanceCmd) Run(e *env) error {
 			}
 			return writeJSON(w, doc)
 		}
+		warnStability(e.stderr, stab)
 		if err := rep.closedForm(w); err != nil {
 			return err
 		}

@@ -278,14 +278,14 @@ type tfJSON struct {
 	PeakingReason string   `json:"peaking_reason,omitempty"`
 	// F0Hz and Q are of the dominant pole pair (DominantPair); null with
 	// pair_reason when there is none ("first-order: no pole pair").
-	F0Hz       *float64      `json:"f0_hz"`
-	Q          *float64      `json:"q"`
-	PairReason string        `json:"pair_reason,omitempty"`
-	Poles      []complexJSON `json:"poles"`
-	Unit       string        `json:"unit"`
-	What       string        `json:"what"`
-	ZeroPairs  []pairJSON    `json:"zero_pairs"`
-	Zeros      []complexJSON `json:"zeros"`
+	F0Hz       *float64   `json:"f0_hz"`
+	Q          *float64   `json:"q"`
+	PairReason string     `json:"pair_reason,omitempty"`
+	Poles      []rootJSON `json:"poles"`
+	Unit       string     `json:"unit"`
+	What       string     `json:"what"`
+	ZeroPairs  []pairJSON `json:"zero_pairs"`
+	Zeros      []rootJSON `json:"zeros"`
 	stabilityJSON
 }
 
@@ -308,6 +308,26 @@ type pairJSON struct {
 
 // qOnAxis is the reason a pair on the jω axis has no number for Q.
 const qOnAxis = "pair on the jω axis"
+
+// rootJSON is a distinct pole or zero, s = re + j·im in rad/s, and the
+// number of times it is a root (an m-fold root is listed once; a
+// conjugate pair is two entries).
+type rootJSON struct {
+	Re           float64 `json:"re"`
+	Im           float64 `json:"im"`
+	Multiplicity int     `json:"multiplicity"`
+}
+
+// distinctRootsJSON returns each distinct root of rs once with its
+// multiplicity, [] for none.
+func distinctRootsJSON(rs []complex128) []rootJSON {
+	d := transfer.DistinctRoots(rs)
+	out := make([]rootJSON, len(d))
+	for i, r := range d {
+		out[i] = rootJSON{Re: real(r.Root), Im: imag(r.Root), Multiplicity: r.Multiplicity}
+	}
+	return out
+}
 
 // rootsJSON returns rs as complexJSON, [] for none.
 func rootsJSON(rs []complex128) []complexJSON {
@@ -333,7 +353,7 @@ func pairsJSON(ps []transfer.RootPair) []pairJSON {
 func tfDoc(rep *tfReport) tfJSON {
 	h := rep.r.tf
 	doc := tfJSON{What: rep.r.what, Unit: rep.r.unit,
-		Poles: rootsJSON(h.Poles), Zeros: rootsJSON(h.Zeros), Pairs: pairsJSON(rep.pairs), ZeroPairs: pairsJSON(rep.zeroPairs),
+		Poles: distinctRootsJSON(h.Poles), Zeros: distinctRootsJSON(h.Zeros), Pairs: pairsJSON(rep.pairs), ZeroPairs: pairsJSON(rep.zeroPairs),
 		Factored: factoredText(h), ODE: odeText(rep.ode, rep.r.yName, rep.r.uName),
 		HFAsymptote: asymptoteJSON{Gain: finiteOrNil(rep.hf.Gain), Power: rep.hf.Power, SlopeDBPerDecade: finiteOrNil(rep.hf.SlopeDBPerDecade)}}
 	if h.Fits() {

@@ -191,27 +191,27 @@ type loopPoint struct {
 // points of T, every crossover with its margin, the smallest margins
 // (null when there is no crossover) and the closed loop's stability.
 type loopJSON struct {
-	Part              string        `json:"part"`
-	Num               []float64     `json:"num"`
-	Den               []float64     `json:"den"`
-	Poles             []complexJSON `json:"poles"`
-	Zeros             []complexJSON `json:"zeros"`
-	Gain              *float64      `json:"gain"`
-	Factored          string        `json:"factored"`
-	Points            []loopPoint   `json:"points"`
-	CrossoversHz      []float64     `json:"crossovers_hz"`
-	PhaseMarginsDeg   []float64     `json:"phase_margins_deg"`
-	PhaseCrossoversHz []float64     `json:"phase_crossovers_hz"`
-	GainMarginsDB     []float64     `json:"gain_margins_db"`
-	PhaseMarginDeg    *float64      `json:"phase_margin_deg"`
-	GainMarginDB      *float64      `json:"gain_margin_db"`
+	Part              string      `json:"part"`
+	Num               []float64   `json:"num"`
+	Den               []float64   `json:"den"`
+	Poles             []rootJSON  `json:"poles"`
+	Zeros             []rootJSON  `json:"zeros"`
+	Gain              *float64    `json:"gain"`
+	Factored          string      `json:"factored"`
+	Points            []loopPoint `json:"points"`
+	CrossoversHz      []float64   `json:"crossovers_hz"`
+	PhaseMarginsDeg   []float64   `json:"phase_margins_deg"`
+	PhaseCrossoversHz []float64   `json:"phase_crossovers_hz"`
+	GainMarginsDB     []float64   `json:"gain_margins_db"`
+	PhaseMarginDeg    *float64    `json:"phase_margin_deg"`
+	GainMarginDB      *float64    `json:"gain_margin_db"`
 	stabilityJSON
 }
 
 // loopDoc returns the JSON document of a loop gain.
 func loopDoc(lr *loopResult, st *stability.Result, freqs, mag, ph []float64) loopJSON {
 	f := lr.Figures
-	doc := loopJSON{Part: lr.Part, Poles: rootsJSON(lr.T.Poles), Zeros: rootsJSON(lr.T.Zeros), Factored: factoredText(lr.T),
+	doc := loopJSON{Part: lr.Part, Poles: distinctRootsJSON(lr.T.Poles), Zeros: distinctRootsJSON(lr.T.Zeros), Factored: factoredText(lr.T),
 		Points: make([]loopPoint, len(freqs)), CrossoversHz: []float64{}, PhaseMarginsDeg: []float64{},
 		PhaseCrossoversHz: []float64{}, GainMarginsDB: []float64{}, stabilityJSON: newStabilityJSON(st)}
 	if lr.T.Fits() {

@@ -257,10 +257,10 @@ func fillResponse(e *env, l *loaded, q tfRequest, d *report.Data, rr reportRun, 
 	for _, cz := range h.Cancelled {
 		d.Notes = append(d.Notes, fmt.Sprintf("%sA pole-zero pair at s = %s rad/s cancels: that mode does not reach the output.", responsePrefix(d), complexText(cz)))
 	}
-	for _, p := range h.Poles {
+	for _, p := range h.DistinctPoles() {
 		d.Roots = append(d.Roots, reportRoot(report.Pole, p))
 	}
-	for _, z := range h.Zeros {
+	for _, z := range h.DistinctZeros() {
 		d.Roots = append(d.Roots, reportRoot(report.Zero, z))
 	}
 	// Bode plot over the default range.
@@ -394,9 +394,10 @@ func reportStep(h *transfer.TransferFunction) (*report.Step, error) {
 }
 
 // reportRoot converts a pole or zero for the report.
-func reportRoot(k report.RootKind, s complex128) report.Root {
+func reportRoot(k report.RootKind, m transfer.MultipleRoot) report.Root {
+	s := m.Root
 	mag := math.Hypot(real(s), imag(s))
-	r := report.Root{Kind: k, S: s, F0Hz: mag / (2 * math.Pi)}
+	r := report.Root{Kind: k, S: s, F0Hz: mag / (2 * math.Pi), Multiplicity: m.Multiplicity}
 	if imag(s) != 0 {
 		q := transfer.PairOf(s).Q // +Inf on the jω axis
 		r.Q = &q

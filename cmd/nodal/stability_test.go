@@ -50,30 +50,25 @@ func TestSwappedInputs(t *testing.T) {
 	if r.code != exitInput || !strings.Contains(r.stderr, "no steady state exists") || r.stdout != "" {
 		t.Errorf("drive: exit %d, stdout %q, stderr %q", r.code, r.stdout, r.stderr)
 	}
-	r = runNodal(t, "", "transfer", sw, "--out", "out", "--format", "json")
-	var doc struct {
-		Stability     string                     `json:"stability"`
-		UnstablePoles []struct{ Re, Im float64 } `json:"unstable_poles"`
+	// transfer, noise and impedance state the stability: the warning
+	// beside the table, the keys in JSON (the root a(s)·β = 1,
+	// s = ωt/11 − ωt/A0, closed form). impedance printed no warning and
+	// "stability": "" before.
+	for _, args := range [][]string{{"transfer", sw, "--out", "out"}, {"noise", sw, "--out", "out"}, {"impedance", sw, "--port", "Vin"}} {
+		if args[0] != "transfer" {
+			r = runNodal(t, "", args...)
+			if r.code != 0 || !strings.Contains(r.stderr, "the circuit is unstable") || !strings.Contains(r.stderr, "571136 rad/s") {
+				t.Errorf("%s: exit %d, stderr %q", args[0], r.code, r.stderr)
+			}
+		}
+		st, poles := stabilityKeys(t, runNodal(t, "", append(args, "--format", "json")...).stdout)
+		if st != "unstable" || len(poles) != 1 || real(poles[0]) < 5.71e5 || real(poles[0]) > 5.712e5 {
+			t.Errorf("%s json: stability %q, unstable_poles %v", args[0], st, poles)
+		}
 	}
-	if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
-		t.Fatal(err)
-	}
-	if doc.Stability != "unstable" || len(doc.UnstablePoles) != 1 || doc.UnstablePoles[0].Re < 5.71e5 || doc.UnstablePoles[0].Re > 5.712e5 {
-		t.Errorf("tf json: %+v", doc)
-	}
-	// noise states the stability too: the warning beside the table, the
-	// keys in JSON (the root a(s)·β = 1, s = ωt/11 − ωt/A0, closed form).
-	r = runNodal(t, "", "noise", sw, "--out", "out")
-	if r.code != 0 || !strings.Contains(r.stderr, "the circuit is unstable") || !strings.Contains(r.stderr, "571136 rad/s") {
-		t.Errorf("noise: exit %d, stderr %q", r.code, r.stderr)
-	}
-	r = runNodal(t, "", "noise", sw, "--out", "out", "--format", "json")
-	doc.Stability, doc.UnstablePoles = "", nil
-	if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
-		t.Fatal(err)
-	}
-	if doc.Stability != "unstable" || len(doc.UnstablePoles) != 1 || doc.UnstablePoles[0].Re < 5.71e5 || doc.UnstablePoles[0].Re > 5.712e5 {
-		t.Errorf("noise json: %+v", doc)
+	st, poles := stabilityKeys(t, runNodal(t, "", "impedance", "../../testdata/examples/tone_lowpass_ideal.nodal", "--port", "Vin", "--format", "json").stdout)
+	if st != "stable" || poles == nil || len(poles) != 0 {
+		t.Errorf("impedance json of a stable filter: stability %q, unstable_poles %v", st, poles)
 	}
 	r = runNodal(t, "", "transfer", filepath.Join(stabilityCircuits, "swapped_ideal.nodal"), "--out", "out")
 	if r.code != 0 || !strings.Contains(r.stderr, "U1: the loop around U1 is unstable with a finite-gain op-amp") || !strings.Contains(r.stderr, "are its inputs swapped?") {
@@ -144,4 +139,25 @@ func TestReportStability(t *testing.T) {
 	if strings.Contains(r.stdout, "not stable as drawn") {
 		t.Error("report: banner on a stable circuit")
 	}
+}
+
+// stabilityKeys reads "stability" and "unstable_poles" of a JSON
+// document; poles is nil when the key is absent or null.
+func stabilityKeys(t *testing.T, doc string) (string, []complex128) {
+	t.Helper()
+	var d struct {
+		Stability     string                     `json:"stability"`
+		UnstablePoles []struct{ Re, Im float64 } `json:"unstable_poles"`
+	}
+	if err := json.Unmarshal([]byte(doc), &d); err != nil {
+		t.Fatalf("%v\n%s", err, doc)
+	}
+	if d.UnstablePoles == nil {
+		return d.Stability, nil
+	}
+	out := []complex128{}
+	for _, p := range d.UnstablePoles {
+		out = append(out, complex(p.Re, p.Im))
+	}
+	return d.Stability, out
 }

@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"nodal/cmd/nodal/notation"
+	"strconv"
 	"strings"
 
 	"nodal/analysis/response"
@@ -439,11 +440,13 @@ func (rep *tfReport) figureRows() [][2]string {
 	return rows
 }
 
-// rootsTable prints poles or zeros with their meaning.
+// rootsTable prints poles or zeros with their meaning, each distinct
+// root once with its multiplicity.
 func rootsTable(w io.Writer, what string, roots []complex128) error {
 	fmt.Fprintln(w, what)
-	t := newTable(w, "re_rad_s", "im_rad_s", "freq_hz", "meaning")
-	for _, r := range roots {
+	t := newTable(w, "re_rad_s", "im_rad_s", "freq_hz", "multiplicity", "meaning")
+	for _, d := range transfer.DistinctRoots(roots) {
+		r := d.Root
 		mag := math.Hypot(real(r), imag(r))
 		meaning := ""
 		switch {
@@ -461,7 +464,7 @@ func rootsTable(w io.Writer, what string, roots []complex128) error {
 				meaning += ", right half-plane"
 			}
 		}
-		if err := t.row(num(real(r)), num(imag(r)), num(mag/(2*math.Pi)), meaning); err != nil {
+		if err := t.row(num(real(r)), num(imag(r)), num(mag/(2*math.Pi)), strconv.Itoa(d.Multiplicity), meaning); err != nil {
 			return err
 		}
 	}

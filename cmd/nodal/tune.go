@@ -7,6 +7,7 @@ import (
 	"io"
 	"maps"
 	"math"
+	"net"
 	"net/url"
 	"nodal/analysis/stability"
 	"slices"
@@ -30,7 +31,7 @@ import (
 type tuneCmd struct {
 	File string `arg:"" help:"Circuit file (.nodal) to tune; it is watched and, on request, rewritten (- reads standard input, for --print only)." type:"string"`
 	requireProbe
-	Addr  string `help:"Serve on this address, HOST:PORT (port 0 picks a free one); default 127.0.0.1:0. An address that is not loopback is served only when named here." placeholder:"HOST:PORT"`
+	Addr  string `help:"Serve on this address, HOST:PORT (port 0 picks a free one); default 127.0.0.1:0. An address that is not loopback, or every interface (0.0.0.0:PORT), is served only when named here, with a warning that the page is reachable from the network." placeholder:"HOST:PORT"`
 	Print string `help:"Print the figures and verdicts for this query string (?R=6.8k&C1=2.2n) as JSON and exit, serving nothing." placeholder:"QUERY"`
 	// Format is json only (what --print writes); it is here so that -o
 	// x.json and --format behave as in every other command.
@@ -124,11 +125,25 @@ func (c *tuneCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	fmt.Fprintf(e.stderr, "nodal tune: %s at %s (Ctrl-C stops)\n", c.File, tune.URL(ln.Addr()))
-	if !tune.IsLoopback(ln) {
-		fmt.Fprintf(e.stderr, "nodal tune: warning: %s is not a loopback address: anyone who can reach it can read the circuit and rewrite %s\n", ln.Addr(), c.File)
-	}
+	fmt.Fprint(e.stderr, tuneServingText(ln, c.File))
 	return srv.Serve(e.ctx, ln)
+}
+
+// tuneServingText is what tune says on standard error once it listens:
+// the URL, and a warning when the page is reachable from the network (an
+// address that is not loopback, or every interface).
+func tuneServingText(ln net.Listener, file string) string {
+	if tune.IsEveryInterface(ln) {
+		_, port, _ := net.SplitHostPort(ln.Addr().String())
+		return fmt.Sprintf("nodal tune: %s at http://127.0.0.1:%s/ and this machine's other addresses (Ctrl-C stops)\n"+
+			"nodal tune: warning: serving on every interface (port %s): the page is reachable from the network; anyone who can reach this machine can read the circuit and rewrite %s\n",
+			file, port, port, file)
+	}
+	out := fmt.Sprintf("nodal tune: %s at %s (Ctrl-C stops)\n", file, tune.URL(ln.Addr()))
+	if !tune.IsLoopback(ln) {
+		out += fmt.Sprintf("nodal tune: warning: %s is not a loopback address: the page is reachable from the network; anyone who can reach it can read the circuit and rewrite %s\n", ln.Addr(), file)
+	}
+	return out
 }
 
 // tuneControl is one slider: a top-level let or a part value.
@@ -393,16 +408,6 @@ type tuneVerdictJSON struct {
 	Reason      string   `json:"reason,omitempty"`
 }
 
-// tuneStabilityJSON says whether the current setting is stable, from the
-// natural frequencies of the whole circuit (package stability), so a mode
-// that cancels out of the H shown still counts.
-type tuneStabilityJSON struct {
-	Stable        bool          `json:"stable"`
-	Basis         string        `json:"basis"`
-	Reason        string        `json:"reason,omitempty"`
-	UnstablePoles []complexJSON `json:"unstable_poles,omitempty"`
-}
-
 // tuneStabilityBasis says what the stability verdict is read from.
 const tuneStabilityBasis = "natural frequencies of the circuit (every finite root of det(G + sC))"
 
@@ -410,18 +415,26 @@ const tuneStabilityBasis = "natural frequencies of the circuit (every finite roo
 // function as `nodal transfer` gives it, the step response as `nodal time`, the
 // Bode points as `nodal sweep` (current and nominal) and the verdicts.
 type tuneDoc struct {
-	File         string            `json:"file"`
-	Query        string            `json:"query"`
-	Response     string            `json:"response"`
-	Values       []tuneValueJSON   `json:"values"`
-	Stability    tuneStabilityJSON `json:"stability"`
-	Transfer     tfJSON            `json:"transfer"`
-	Step         *timeJSON         `json:"step"`
-	StepReason   string            `json:"step_reason,omitempty"`
-	StepText     string            `json:"step_text,omitempty"` // the step figures for people
-	Bode         sweepJSON         `json:"bode"`
-	NominalBode  *sweepJSON        `json:"nominal_bode"`
-	Requirements []tuneVerdictJSON `json:"requirements"`
+	File     string          `json:"file"`
+	Query    string          `json:"query"`
+	Response string          `json:"response"`
+	Values   []tuneValueJSON `json:"values"`
+	// The stability of the current setting, as every command writes it
+	// ("stability": "stable", "marginal", "unstable" or "unchecked", and
+	// "unstable_poles", rad/s), from the natural frequencies of the whole
+	// circuit (package stability), so a mode that cancels out of the H
+	// shown still counts; StabilityBasis says so, StabilityReason why a
+	// setting is not stable.
+	stabilityJSON
+	StabilityBasis  string            `json:"stability_basis"`
+	StabilityReason string            `json:"stability_reason,omitempty"`
+	Transfer        tfJSON            `json:"transfer"`
+	Step            *timeJSON         `json:"step"`
+	StepReason      string            `json:"step_reason,omitempty"`
+	StepText        string            `json:"step_text,omitempty"` // the step figures for people
+	Bode            sweepJSON         `json:"bode"`
+	NominalBode     *sweepJSON        `json:"nominal_bode"`
+	Requirements    []tuneVerdictJSON `json:"requirements"`
 	// Figures are the rows of the transfer command's figure table and the
 	// pole pairs, written for people (cmd/nodal/notation), in order.
 	Figures []tuneFigureJSON `json:"figures"`
@@ -496,11 +509,15 @@ func (b *tuneBackend) analyse(ctx context.Context, c *netlist.Circuit, v *tuneVa
 	rep := newTFReport(r)
 	doc := &tuneDoc{File: b.name, Query: b.query(v), Response: response.OutputLabel(r.sys.Output), Transfer: tfDoc(rep),
 		Values: b.values(c, v), NominalBode: &nom.sweep}
-	stab, res, err := tuneStability(c)
+	res, err := stability.Analyze(c, stability.Options{})
 	if err != nil {
 		return nil, &tune.RequestError{Err: err}
 	}
-	doc.Stability = stab
+	doc.stabilityJSON = newStabilityJSON(res)
+	doc.StabilityBasis = tuneStabilityBasis
+	if lines := stabilityLines(res); res.Class != stability.Stable && len(lines) > 0 {
+		doc.StabilityReason = lines[0]
+	}
 	doc.Transfer.stabilityJSON = newStabilityJSON(res)
 	for _, row := range rep.figureRows() {
 		doc.Figures = append(doc.Figures, tuneFigureJSON{Name: row[0], Text: row[1]})
@@ -557,20 +574,6 @@ func (b *tuneBackend) analyse(ctx context.Context, c *netlist.Circuit, v *tuneVa
 		doc.Requirements = append(doc.Requirements, d)
 	}
 	return doc, ctx.Err()
-}
-
-// tuneStability reads stability off the poles of H: a pole with Re > 0,
-// or a repeated pole on the jω axis, makes the response grow without bound.
-func tuneStability(c *netlist.Circuit) (tuneStabilityJSON, *stability.Result, error) {
-	res, err := stability.Analyze(c, stability.Options{})
-	if err != nil {
-		return tuneStabilityJSON{}, nil, err
-	}
-	d := tuneStabilityJSON{Stable: res.Class == stability.Stable, Basis: tuneStabilityBasis, UnstablePoles: complexDocs(res.Offending)}
-	if !d.Stable {
-		d.Reason = fmt.Sprintf("%s: natural frequencies %s", res.Class, offendingText(res.Offending))
-	}
-	return d, res, nil
 }
 
 // values lists every control's value in c, with the nearest standard

@@ -19,6 +19,7 @@ import (
 	"time"
 
 	"nodal/analysis/stdvalue"
+	"nodal/cmd/nodal/tune"
 	"nodal/netlist"
 )
 
@@ -251,15 +252,16 @@ func TestTuneVerdictsAndStability(t *testing.T) {
 		if r.code != 0 {
 			t.Fatalf("K=%g: exit %d: %s", k, r.code, r.stderr)
 		}
-		st := tuneJSONAt(t, []byte(r.stdout), "stability").(map[string]any)
-		if st["stable"] != (k < 3) {
-			t.Errorf("K=%g: stability %v", k, st)
+		// "stability" is a string, as in every other command's JSON.
+		st, ok := tuneJSONAt(t, []byte(r.stdout), "stability").(string)
+		if want := map[bool]string{true: "stable", false: "unstable"}[k < 3]; !ok || st != want {
+			t.Errorf("K=%g: stability %v, want %q", k, tuneJSONAt(t, []byte(r.stdout), "stability"), want)
 		}
 		if k < 3 {
 			continue
 		}
 		re, im := (k-3)/(2*rc), math.Sqrt(4-(3-k)*(3-k))/(2*rc)
-		poles := st["unstable_poles"].([]any)
+		poles := tuneJSONAt(t, []byte(r.stdout), "unstable_poles").([]any)
 		if len(poles) != 2 {
 			t.Fatalf("K=%g: unstable poles %v", k, poles)
 		}
@@ -269,8 +271,8 @@ func TestTuneVerdictsAndStability(t *testing.T) {
 				t.Errorf("K=%g: pole %v, want %g ± j%g", k, z, re, im)
 			}
 		}
-		if !strings.Contains(st["reason"].(string), "right half-plane") {
-			t.Errorf("K=%g: reason %q", k, st["reason"])
+		if reason, _ := tuneJSONAt(t, []byte(r.stdout), "stability_reason").(string); !strings.Contains(reason, "right half-plane") {
+			t.Errorf("K=%g: reason %q", k, reason)
 		}
 	}
 }
@@ -311,10 +313,10 @@ func TestTuneBadValues(t *testing.T) {
 	}
 }
 
-// TestTuneRefusesAddress: an address on every interface or a host name is
-// refused with exit status 2 before anything is served.
+// TestTuneRefusesAddress: a host name is refused with exit status 2
+// before anything is served.
 func TestTuneRefusesAddress(t *testing.T) {
-	for _, addr := range []string{"0.0.0.0:0", ":0", "example.com:8040"} {
+	for _, addr := range []string{"example.com:8040", "127.0.0.1"} {
 		r := runNodal(t, "", "tune", tuneFile, "--addr", addr)
 		if r.code != exitInput || !strings.Contains(r.stderr, "--addr") {
 			t.Errorf("--addr %s: exit %d, stderr %q", addr, r.code, r.stderr)
@@ -436,5 +438,31 @@ func TestTuneConcurrentRequests(t *testing.T) {
 	close(errs)
 	for err := range errs {
 		t.Error(err)
+	}
+}
+
+// TestTuneServingText: every interface (0.0.0.0 named with --addr) and an
+// address that is not loopback are served with a warning on standard
+// error that the page is reachable from the network; loopback without.
+func TestTuneServingText(t *testing.T) {
+	for _, c := range []struct {
+		addr string
+		warn string
+	}{
+		{"127.0.0.1:0", ""},
+		{"0.0.0.0:0", "serving on every interface"},
+	} {
+		ln, err := tune.Listen(c.addr, true)
+		if err != nil {
+			t.Fatal(err)
+		}
+		text := tuneServingText(ln, "f.nodal")
+		ln.Close()
+		switch {
+		case c.warn == "" && strings.Contains(text, "warning"):
+			t.Errorf("%s: %q, want no warning", c.addr, text)
+		case c.warn != "" && !(strings.Contains(text, "warning: "+c.warn) && strings.Contains(text, "reachable from the network") && strings.Contains(text, "rewrite f.nodal")):
+			t.Errorf("%s: %q, want the warning %q", c.addr, text, c.warn)
+		}
 	}
 }

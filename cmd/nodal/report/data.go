@@ -174,6 +174,9 @@ type Root struct {
 	S    complex128
 	F0Hz float64
 	Q    *float64
+	// Multiplicity is how many times S is a root (an m-fold root is one
+	// Root); 0 means 1.
+	Multiplicity int
 }
 
 // Plot is a figure drawn inline as SVG: either Figure (rendered by the

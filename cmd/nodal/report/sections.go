@@ -295,7 +295,7 @@ func responseSections(d *Data) []section {
 	}
 
 	if len(d.Roots) > 0 {
-		t := table{Header: []string{"", "real part", "imaginary part", "f0", "Q"}, Right: []bool{false, true, true, true, true}}
+		t := table{Header: []string{"", "real part", "imaginary part", "f0", "Q", "multiplicity"}, Right: []bool{false, true, true, true, true, true}}
 		for _, r := range d.Roots {
 			q := "—"
 			if r.Q != nil {
@@ -303,7 +303,7 @@ func responseSections(d *Data) []section {
 			}
 			t.Rows = append(t.Rows, row{Cells: []string{r.Kind.String(),
 				notation.Digits(real(r.S), 6, "rad/s"), notation.Digits(imag(r.S), 6, "rad/s"),
-				notation.Digits(r.F0Hz, 5, "Hz"), q}})
+				notation.Digits(r.F0Hz, 5, "Hz"), q, strconv.Itoa(max(r.Multiplicity, 1))}})
 		}
 		s := section{ID: "roots", Heading: "Poles and zeros", Tables: []table{t},
 			Paras: []string{"f0 = |s|/2π; Q = |s|/(−2·Re s) for complex pairs."}}

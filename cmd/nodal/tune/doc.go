@@ -1,7 +1,9 @@
 // Package tune serves the page of `nodal tune`: one HTML page, its style
 // and its script (embedded, nothing loaded from elsewhere) and a small JSON
-// API, on a loopback address only, with the Host header checked against
-// the address served (protection against DNS rebinding) and a per-server
+// API, on a loopback address unless another address (or every interface)
+// is named on purpose, with the Host header checked against the address
+// served (on every interface, the machine's own addresses; protection
+// against DNS rebinding) and a per-server
 // token on every request that changes a file (protection against other
 // sites posting to it).
 //

@@ -13,9 +13,10 @@ const DefaultAddr = "127.0.0.1:0"
 // Listen opens the page's listening socket on addr (HOST:PORT, port 0 for
 // a free one). A loopback host (127.0.0.0/8, ::1 or localhost, which is
 // taken as 127.0.0.1 without asking a resolver) is always accepted. Any
-// other IP address is accepted only when named is true (the user gave it
-// with --addr), since the page would then be reachable from the network;
-// a wildcard (empty host, 0.0.0.0, ::) and a host name are always refused.
+// other IP address, and a wildcard (empty host, 0.0.0.0, ::: every
+// interface), is accepted only when named is true (the user gave it with
+// --addr), since the page is then reachable from the network (the caller
+// warns, see IsEveryInterface); a host name is always refused.
 func Listen(addr string, named bool) (net.Listener, error) {
 	host, port, err := net.SplitHostPort(addr)
 	if err != nil {
@@ -27,7 +28,9 @@ func Listen(addr string, named bool) (net.Listener, error) {
 	ip := net.ParseIP(host)
 	switch {
 	case host == "" || ip != nil && ip.IsUnspecified():
-		return nil, fmt.Errorf("--addr %q: refusing to serve on every interface; name one address (127.0.0.1 keeps the page on this machine)", addr)
+		if !named {
+			return nil, fmt.Errorf("refusing to serve on %s, every interface; name it with --addr to serve there on purpose (127.0.0.1 keeps the page on this machine)", addr)
+		}
 	case ip == nil:
 		return nil, fmt.Errorf("--addr %q: give an IP address, not a host name (127.0.0.1 keeps the page on this machine)", addr)
 	case !ip.IsLoopback() && !named:
@@ -44,4 +47,11 @@ func Listen(addr string, named bool) (net.Listener, error) {
 func IsLoopback(ln net.Listener) bool {
 	ta, ok := ln.Addr().(*net.TCPAddr)
 	return ok && ta.IP.IsLoopback()
+}
+
+// IsEveryInterface reports whether ln listens on a wildcard address
+// (0.0.0.0 or ::): every interface of the machine.
+func IsEveryInterface(ln net.Listener) bool {
+	ta, ok := ln.Addr().(*net.TCPAddr)
+	return ok && ta.IP.IsUnspecified()
 }

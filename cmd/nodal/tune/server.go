@@ -226,7 +226,8 @@ func URL(addr net.Addr) string { return "http://" + addr.String() + "/" }
 
 // Handler is the server's handler for requests arriving at addr: every
 // request whose Host header is not that address (or localhost with its
-// port) is refused with 403.
+// port; on every interface, one of the machine's addresses, see
+// allowedHosts) is refused with 403.
 func (s *Server) Handler(addr net.Addr) http.Handler {
 	hosts := allowedHosts(addr)
 	mux := http.NewServeMux()
@@ -251,11 +252,31 @@ func (s *Server) Handler(addr net.Addr) http.Handler {
 	})
 }
 
-// allowedHosts are the Host header values of requests to addr.
+// allowedHosts are the Host header values of requests to addr: the
+// address itself, localhost with its port for a loopback address, and for
+// a wildcard (every interface) each address of the machine's interfaces
+// and localhost with the port, so a request must still name this machine
+// by an IP address (a DNS-rebinding page names its own host).
 func allowedHosts(addr net.Addr) map[string]bool {
 	out := map[string]bool{strings.ToLower(addr.String()): true}
-	if ta, ok := addr.(*net.TCPAddr); ok && ta.IP.IsLoopback() {
-		out[net.JoinHostPort("localhost", fmt.Sprint(ta.Port))] = true
+	ta, ok := addr.(*net.TCPAddr)
+	if !ok {
+		return out
+	}
+	port := fmt.Sprint(ta.Port)
+	if ta.IP.IsLoopback() || ta.IP.IsUnspecified() {
+		out[net.JoinHostPort("localhost", port)] = true
+	}
+	if ta.IP.IsUnspecified() {
+		out[net.JoinHostPort("127.0.0.1", port)] = true
+		out[net.JoinHostPort("::1", port)] = true
+		if as, err := net.InterfaceAddrs(); err == nil {
+			for _, a := range as {
+				if n, ok := a.(*net.IPNet); ok {
+					out[strings.ToLower(net.JoinHostPort(n.IP.String(), port))] = true
+				}
+			}
+		}
 	}
 	return out
 }

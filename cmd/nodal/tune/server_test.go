@@ -112,29 +112,31 @@ func post(t *testing.T, addr, path, token, origin, body string) (int, string) {
 }
 
 // TestListenRefusesNonLoopback: only loopback is served unless the address
-// is named on purpose; wildcards and host names never are.
+// is named on purpose (a wildcard, every interface, included: the command
+// then warns); host names never are.
 func TestListenRefusesNonLoopback(t *testing.T) {
 	cases := []struct {
 		addr  string
 		named bool
 		want  string // "" accepted, else part of the error
+		every bool   // accepted on every interface
 	}{
-		{"127.0.0.1:0", false, ""},
-		{"localhost:0", false, ""},
-		{"127.0.0.1:0", true, ""},
-		{"192.0.2.1:0", false, "not a loopback address; name it with --addr"},
-		{"0.0.0.0:0", false, "every interface"},
-		{"0.0.0.0:0", true, "every interface"},
-		{"[::]:0", true, "every interface"},
-		{":0", true, "every interface"},
-		{"example.com:0", true, "not a host name"},
-		{"127.0.0.1", false, "want HOST:PORT"},
+		{"127.0.0.1:0", false, "", false},
+		{"localhost:0", false, "", false},
+		{"127.0.0.1:0", true, "", false},
+		{"192.0.2.1:0", false, "not a loopback address; name it with --addr", false},
+		{"0.0.0.0:0", false, "every interface; name it with --addr", false},
+		{":0", false, "every interface; name it with --addr", false},
+		{"0.0.0.0:0", true, "", true},
+		{":0", true, "", true},
+		{"example.com:0", true, "not a host name", false},
+		{"127.0.0.1", false, "want HOST:PORT", false},
 	}
 	for _, c := range cases {
 		ln, err := Listen(c.addr, c.named)
 		if ln != nil {
-			if !IsLoopback(ln) {
-				t.Errorf("%s: listening on %s, not loopback", c.addr, ln.Addr())
+			if IsEveryInterface(ln) != c.every || (!c.every && !IsLoopback(ln)) {
+				t.Errorf("%s: listening on %s (every interface %v, want %v)", c.addr, ln.Addr(), IsEveryInterface(ln), c.every)
 			}
 			ln.Close()
 		}
@@ -321,5 +323,44 @@ func TestLineDiff(t *testing.T) {
 	}
 	if got := LineDiff([]byte("a\n"), []byte("a\nb\n")); len(got) != 1 || got[0].Line != 2 || got[0].New != "b" {
 		t.Errorf("LineDiff of a longer text = %+v", got)
+	}
+}
+
+// TestEveryInterfaceHosts: on every interface (--addr 0.0.0.0:PORT named
+// on purpose) a request must still name this machine: localhost,
+// 127.0.0.1 or one of its interface addresses with the port pass, another
+// host (a DNS-rebinding page) or another port gets 403.
+func TestEveryInterfaceHosts(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "f.nodal")
+	if err := os.WriteFile(path, []byte("first line\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	s, err := New(Config{Path: path, Load: fakeLoad, Poll: 20 * time.Millisecond, Save: func([]byte) error { return nil }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ln, err := Listen("0.0.0.0:0", true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan error, 1)
+	go func() { done <- s.Serve(ctx, ln) }()
+	defer func() { cancel(); <-done }()
+	_, port, _ := net.SplitHostPort(ln.Addr().String())
+	addr := net.JoinHostPort("127.0.0.1", port)
+	for _, c := range []struct {
+		host string
+		code int
+	}{
+		{"127.0.0.1:" + port, 200},
+		{"localhost:" + port, 200},
+		{"evil.example:" + port, 403},
+		{"0.0.0.0:1", 403},
+		{"127.0.0.1:1", 403},
+	} {
+		if code, body := get(t, addr, c.host, "/api/model"); code != c.code {
+			t.Errorf("Host %q: status %d (%s), want %d", c.host, code, body, c.code)
+		}
 	}
 }

@@ -174,13 +174,13 @@
       r.box.dataset.value = v.value;
       r.nearest.textContent = v.nearest_text || '';
     });
-    var unstable = !d.stability.stable;
+    var unstable = d.stability !== 'stable';
     renderFigures(d, unstable);
     renderRequirements(d.requirements || [], unstable);
     var u = $('unstable');
     u.hidden = !unstable;
     if (unstable) {
-      u.textContent = d.stability.reason + ' (' + d.stability.unstable_poles.map(function (p) {
+      u.textContent = d.stability_reason + ' (' + d.unstable_poles.map(function (p) {
         return fmt(p.re, '', 4) + (p.im ? (p.im > 0 ? ' + j' : ' − j') + fmt(Math.abs(p.im), '', 4) : '');
       }).join(', ') + ' rad/s): no response is drawn for this setting.';
     }
@@ -212,7 +212,7 @@
       figure(dl, f.name, text, f3 ? 'fig-f3db' : '', data);
     });
     figure(dl, 'H(s)', t.factored + '  [' + t.unit + ']');
-    figure(dl, 'stability', d.stability.stable ? 'stable: no pole of H in the right half-plane' : d.stability.reason, 'fig-stability');
+    figure(dl, 'stability', d.stability === 'stable' ? 'stable: no pole of H in the right half-plane' : d.stability_reason, 'fig-stability');
   }
 
   // renderRequirements lists every require with its value and verdict; for
