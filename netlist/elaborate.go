@@ -35,7 +35,7 @@ func Load(name string, src []byte, ov Overrides) (*Circuit, error) {
 	if err != nil {
 		return nil, err
 	}
-	return Elaborate(f, ov)
+	return elaborate(f, ov, true)
 }
 
 // Elaborate evaluates and validates a parsed file into a flat Circuit:
@@ -44,19 +44,38 @@ func Load(name string, src []byte, ov Overrides) (*Circuit, error) {
 // (errors and warnings, sorted by position); on success warnings are in
 // Circuit.Warnings.
 func Elaborate(f *File, ov Overrides) (*Circuit, error) {
+	return elaborate(f, ov, false)
+}
+
+// elaborate is Elaborate; release drops each top-level statement from
+// f.Stmts once elaborated (Load, which owns f), so that the syntax tree is
+// freed while the circuit grows.
+func elaborate(f *File, ov Overrides, release bool) (*Circuit, error) {
+	// The top-level elements size the part and node tables up front (a
+	// ladder has about one node per part), sparing the copies of growth.
+	n := 0
+	for _, st := range f.Stmts {
+		if st.Element != nil {
+			n++
+		}
+	}
+	n = min(n, MaxParts)
 	e := &elab{
 		f:         f,
 		ov:        ov,
-		c:         &Circuit{File: f.Name, Nodes: []string{Ground}},
+		c:         &Circuit{File: f.Name, Nodes: append(make([]string, 0, n+1), Ground), Parts: make([]Part, 0, n)},
 		m:         &model{},
 		blocks:    map[string]*BlockStmt{},
 		sizes:     map[string]blockSize{},
-		partIndex: map[string]int{},
-		nodeIndex: map[string]int{Ground: 0},
-		touches:   []nodeTouch{{}},
+		partIndex: make(map[string]int, n),
+		nodeIndex: make(map[string]int, n+1),
+		touches:   append(make([]nodeTouch, 0, n+1), nodeTouch{}),
 		cycles:    map[int]bool{},
 		usedOv:    map[string]bool{},
+		topParts:  n,
+		release:   release,
 	}
+	e.nodeIndex[Ground] = 0
 	e.run()
 	if err := e.diags.Err(); err != nil {
 		e.diags.Sort()
@@ -87,6 +106,8 @@ type elab struct {
 	usedOv    map[string]bool
 	tooBig    bool
 	work      int
+	topParts  int  // top-level element statements (a capacity hint)
+	release   bool // drop top-level statements once elaborated
 }
 
 type nodeTouch struct {
@@ -110,7 +131,7 @@ func (e *elab) errorf(p lexer.Position, hint, format string, args ...any) {
 }
 
 func (e *elab) run() {
-	global := &scope{vars: map[string]varInfo{}, elems: map[string]lexer.Position{}}
+	global := &scope{vars: map[string]varInfo{}, elems: make(map[string]lexer.Position, e.topParts)}
 	for _, st := range e.f.Stmts {
 		if st.Block != nil {
 			e.defineBlock(st.Block)
@@ -119,7 +140,10 @@ func (e *elab) run() {
 			e.response(st.Response)
 		}
 	}
-	for _, st := range e.f.Stmts {
+	for i, st := range e.f.Stmts {
+		if e.release && st.Block == nil && st.Response == nil {
+			e.f.Stmts[i] = nil // Elaborate reads it no more
+		}
 		switch {
 		case st.Title != nil:
 			if e.c.Title != "" {

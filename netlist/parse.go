@@ -5,8 +5,10 @@ import (
 	"errors"
 	"fmt"
 	"reflect"
+	"runtime"
 	"sort"
 	"strings"
+	"sync"
 	"unicode/utf8"
 
 	"github.com/alecthomas/participle/v2"
@@ -51,18 +53,101 @@ func Parse(name string, src []byte) (*File, error) {
 	// The token buffer is reused from line to line, a line is refused past
 	// MaxLineTokens tokens, and parsing stops after syntax.MaxReported
 	// errors with a note, so memory stays a small multiple of the file.
+	if flat, ok := f.parseParallel(src, runtime.GOMAXPROCS(0)); ok {
+		var diags ErrorList
+		f.Stmts, diags = f.nest(flat, nil, false)
+		diags.Sort()
+		return f, diags.Err()
+	}
+	p := f.parseLines(src, 0, len(src), 1)
+	if p.lexFailed {
+		return f.parseWhole(name, src)
+	}
 	var diags ErrorList
-	var flat []*Stmt
+	f.Stmts, diags = f.nest(p.flat, p.diags, p.stopped)
+	diags.Sort()
+	return f, diags.Err()
+}
+
+// parallelMinBytes is the smallest file parsed in pieces on several
+// processors.
+const parallelMinBytes = 1 << 18
+
+// parseParallel parses src in one piece per processor (procs, at most 8), each
+// piece whole lines with its own shape memo, and returns the statements
+// in order; ok is false, and src must be parsed in one piece, when src is
+// small, one processor is available or a piece found anything to report
+// (so that diagnostics, and the stop after syntax.MaxReported, are those
+// of the one-piece parse).
+func (f *File) parseParallel(src []byte, procs int) (flat []*Stmt, ok bool) {
+	n := min(procs, 8, len(src)/parallelMinBytes)
+	if n < 2 {
+		return nil, false
+	}
+	pieces := make([]parsedLines, n)
+	var wg sync.WaitGroup
+	start, lineNo := 0, 1
+	for k := range n {
+		stop := len(src) // the last piece takes the line after a final newline
+		if k < n-1 {
+			stop = start + (len(src)-start)/(n-k)
+			if nl := bytes.IndexByte(src[stop:], '\n'); nl >= 0 {
+				stop += nl // the piece ends with the line holding stop
+			} else {
+				stop = len(src)
+			}
+		}
+		wg.Add(1)
+		go func(k, start, stop, lineNo int) {
+			defer wg.Done()
+			pieces[k] = f.parseLines(src, start, stop, lineNo)
+		}(k, start, stop, lineNo)
+		if stop == len(src) {
+			pieces = pieces[:k+1]
+			break
+		}
+		lineNo += bytes.Count(src[start:stop+1], []byte{'\n'})
+		start = stop + 1
+	}
+	wg.Wait()
+	total := 0
+	for _, p := range pieces {
+		if p.lexFailed || len(p.diags) > 0 {
+			return nil, false
+		}
+		total += len(p.flat)
+	}
+	flat = make([]*Stmt, 0, total)
+	for _, p := range pieces {
+		flat = append(flat, p.flat...)
+	}
+	return flat, true
+}
+
+// parsedLines is the result of parsing some lines of a file.
+type parsedLines struct {
+	flat      []*Stmt   // statements in order, blocks not yet nested
+	diags     ErrorList // syntax errors, unsorted
+	stopped   bool      // stopped after syntax.MaxReported errors
+	lexFailed bool      // a line did not lex: parse the whole file instead
+}
+
+// parseLines parses the lines of src that start at byte offsets from
+// start to stop (inclusive; stop = len(src) takes the empty line after a
+// final newline), the first being line lineNo of the file.
+func (f *File) parseLines(src []byte, start, stop, lineNo int) parsedLines {
+	var p parsedLines
 	var line []lexer.Token
-	stopped := false
-	for start, lineNo := 0, 1; start <= len(src); lineNo++ {
+	memo := newShapeMemo()
+	name := f.Name
+	for ; start <= stop && start <= len(src); lineNo++ {
 		end := bytes.IndexByte(src[start:], '\n')
 		if end < 0 {
 			end = len(src)
 		} else {
 			end += start
 		}
-		if len(diags) >= syntax.MaxReported {
+		if len(p.diags) >= syntax.MaxReported {
 			if len(bytes.TrimSpace(src[start:])) == 0 {
 				break // nothing left to check
 			}
@@ -70,8 +155,8 @@ func Parse(name string, src []byte) (*File, error) {
 			if bytes.HasSuffix(src, []byte{'\n'}) {
 				last-- // the empty line after the final newline
 			}
-			diags = append(diags, f.diagAt(start, SevError, fmt.Sprintf("stopped after %d errors; lines %d to %d were not checked", len(diags), lineNo, last), "fix these and run again"))
-			stopped = true
+			p.diags = append(p.diags, f.diagAt(start, SevError, fmt.Sprintf("stopped after %d errors; lines %d to %d were not checked", len(p.diags), lineNo, last), "fix these and run again"))
+			p.stopped = true
 			break
 		}
 		if blankLine(src[start:end]) {
@@ -81,29 +166,28 @@ func Parse(name string, src []byte) (*File, error) {
 		var err error
 		var over int
 		if line, over, err = lexLine(name, src[start:end], start, lineNo, line[:0]); err != nil {
-			return f.parseWhole(name, src)
+			p.lexFailed = true
+			return p
 		}
 		switch {
 		case over >= 0:
 			if d := f.nestingDiag(line); d != nil {
-				diags = append(diags, d)
+				p.diags = append(p.diags, d)
 				break
 			}
-			diags = append(diags, f.diagAt(over, SevError, fmt.Sprintf("line %d has more than %d tokens", lineNo, MaxLineTokens), "split it with let"))
+			p.diags = append(p.diags, f.diagAt(over, SevError, fmt.Sprintf("line %d has more than %d tokens", lineNo, MaxLineTokens), "split it with let"))
 		case len(line) > 0:
 			line = append(line, lexer.EOFToken(lexer.Position{Filename: name, Offset: end, Line: lineNo, Column: end - start + 1}))
-			st, d := f.parseLine(line)
+			st, d := f.parseLine(line, memo)
 			if d != nil {
-				diags = append(diags, d)
+				p.diags = append(p.diags, d)
 			} else {
-				flat = append(flat, st)
+				p.flat = append(p.flat, st)
 			}
 		}
 		start = end + 1
 	}
-	f.Stmts, diags = f.nest(flat, diags, stopped)
-	diags.Sort()
-	return f, diags.Err()
+	return p
 }
 
 // MaxLineTokens is how many significant tokens (words, numbers,
@@ -171,7 +255,7 @@ func (f *File) parseWhole(name string, src []byte) (*File, error) {
 	var diags ErrorList
 	var flat []*Stmt
 	for _, line := range splitLines(all) {
-		st, d := f.parseLine(line)
+		st, d := f.parseLine(line, nil)
 		if d != nil {
 			diags = append(diags, d)
 			continue
@@ -190,6 +274,9 @@ var (
 	symIdent   = lexDef.Symbols()["Ident"]
 	symValue   = lexDef.Symbols()["Value"]
 	symBad     = lexDef.Symbols()["Bad"]
+	symPunct   = lexDef.Symbols()["Punct"]
+	symPlusMin = lexDef.Symbols()["PlusMinus"]
+	symRange   = lexDef.Symbols()["Range"]
 )
 
 // splitLines cuts the token stream at newlines, dropping lines with no
@@ -233,22 +320,33 @@ func (s *sliceLexer) Next() (lexer.Token, error) {
 	return t, nil
 }
 
-// parseLine parses the statement on one line.
-func (f *File) parseLine(line []lexer.Token) (*Stmt, *Diagnostic) {
+// parseLine parses the statement on one line, through memo (nil: parse
+// directly).
+func (f *File) parseLine(line []lexer.Token, memo *shapeMemo) (*Stmt, *Diagnostic) {
 	line = mergeSpacedUnits(line)
 	if d := f.nestingDiag(line); d != nil {
 		return nil, d
 	}
-	pl, err := lexer.Upgrade(&sliceLexer{toks: line}, symSpace, symComment)
-	if err == nil {
-		var st *Stmt
-		st, err = stmtParser.ParseFromLexer(pl)
-		if err == nil {
-			compactTokens(reflect.ValueOf(st))
-			return st, nil
-		}
+	st, err := memo.parse(line)
+	if err != nil {
+		return nil, f.syntaxDiag(line, err)
 	}
-	return nil, f.syntaxDiag(line, err)
+	return st, nil
+}
+
+// parseTokens is participle's parse of one line's tokens (ending in EOF),
+// with its Tokens fields compacted.
+func parseTokens(line []lexer.Token) (*Stmt, error) {
+	pl, err := lexer.Upgrade(&sliceLexer{toks: line}, symSpace, symComment)
+	if err != nil {
+		return nil, err
+	}
+	st, err := stmtParser.ParseFromLexer(pl)
+	if err != nil {
+		return nil, err
+	}
+	compactTokens(reflect.ValueOf(st))
+	return st, nil
 }
 
 // nestingDiag reports a line that nests deeper than syntax.MaxNesting, at the
