@@ -31,7 +31,7 @@ const (
 
 // Load parses and elaborates a circuit file: Parse followed by Elaborate.
 func Load(name string, src []byte, ov Overrides) (*Circuit, error) {
-	f, err := Parse(name, src)
+	f, err := parseFile(name, src, true)
 	if err != nil {
 		return nil, err
 	}
@@ -54,9 +54,9 @@ func elaborate(f *File, ov Overrides, release bool) (*Circuit, error) {
 	// The top-level elements size the part and node tables up front (a
 	// ladder has about one node per part), sparing the copies of growth.
 	n := 0
-	for _, st := range f.Stmts {
-		if st.Element != nil {
-			n++
+	for i := range f.stmtCount() {
+		if st := f.peek(i); st == nil || st.Element != nil {
+			n++ // a deferred statement is an element
 		}
 	}
 	n = min(n, MaxParts)
@@ -132,17 +132,19 @@ func (e *elab) errorf(p lexer.Position, hint, format string, args ...any) {
 
 func (e *elab) run() {
 	global := &scope{vars: map[string]varInfo{}, elems: make(map[string]lexer.Position, e.topParts)}
-	for _, st := range e.f.Stmts {
-		if st.Block != nil {
+	for i := range e.f.stmtCount() {
+		st := e.f.peek(i)
+		if st != nil && st.Block != nil {
 			e.defineBlock(st.Block)
 		}
-		if st.Response != nil {
+		if st != nil && st.Response != nil {
 			e.response(st.Response)
 		}
 	}
-	for i, st := range e.f.Stmts {
+	for i := range e.f.stmtCount() {
+		st := e.f.stmt(i)
 		if e.release && st.Block == nil && st.Response == nil {
-			e.f.Stmts[i] = nil // Elaborate reads it no more
+			e.f.drop(i) // Elaborate reads it no more
 		}
 		switch {
 		case st.Title != nil:

@@ -75,6 +75,14 @@ type File struct {
 	Stmts  []*Stmt // top-level statements in order; a block statement holds its body
 
 	text *syntax.Text // positions and source lines of diagnostics
+
+	// Load's parse (parseFile with deferring) leaves Stmts nil and holds
+	// the top-level statements here instead, element statements deferred
+	// (see stmtEntry); str is Source as the string their tokens are
+	// pieces of.
+	deferring bool
+	entries   []stmtEntry
+	str       string
 }
 
 // Stmt is one statement: exactly one of its pointer fields is set.

@@ -100,6 +100,7 @@ type shapeMemo struct {
 	key       []byte
 	sig       []lexer.Token // the significant tokens of the line, then EOF
 	scratch   []lexer.Token
+	deferring bool // element statements of known shapes are left unbuilt (Load)
 }
 
 func newShapeMemo() *shapeMemo {
@@ -116,28 +117,35 @@ const (
 )
 
 // parse parses one line (its tokens, spaces included, ending in EOF),
-// through the template of its shape when there is one.
-func (m *shapeMemo) parse(line []lexer.Token) (*Stmt, error) {
+// through the template of its shape when there is one. When the memo
+// defers and the line is an element statement of a known shape, st is nil
+// and tpl is the template to build it from (with m.sig, see deferLine).
+func (m *shapeMemo) parse(line []lexer.Token) (st *Stmt, tpl *shapeTemplate, err error) {
 	if m == nil || !m.shape(line) {
-		return parseTokens(line)
+		st, err = parseTokens(line)
+		return st, nil, err
 	}
 	tpl, known := m.templates[string(m.key)]
 	if known {
 		if tpl == nil {
-			return parseTokens(line)
+			st, err = parseTokens(line)
+			return st, nil, err
 		}
-		return instantiate(tpl, m.sig), nil
+		if m.deferring && tpl.element {
+			return nil, tpl, nil
+		}
+		return instantiate(tpl, m.sig), nil, nil
 	}
-	st, err := parseTokens(line)
+	st, err = parseTokens(line)
 	if err != nil || len(m.templates) >= maxShapes {
-		return st, err
+		return st, nil, err
 	}
 	tpl = m.template(line)
 	if tpl != nil && !reflect.DeepEqual(instantiate(tpl, m.sig), st) {
 		tpl = nil
 	}
 	m.templates[string(m.key)] = tpl
-	return st, nil
+	return st, nil, nil
 }
 
 // shape computes the key and the significant tokens of a line; false when
@@ -192,7 +200,12 @@ func (m *shapeMemo) template(line []lexer.Token) *shapeTemplate {
 	if !ok {
 		return nil
 	}
-	return compileTemplate(st)
+	tpl := compileTemplate(st)
+	tpl.element = st.Element != nil
+	for _, t := range m.sig {
+		tpl.types = append(tpl.types, t.Type)
+	}
+	return tpl
 }
 
 // markTemplate replaces, in place, every position and Tokens slice under
@@ -258,93 +271,119 @@ func markPos(p lexer.Position, index map[int]int, ok *bool) lexer.Position {
 // instantiate returns a fresh copy of a template with the values and
 // positions of the tokens sig.
 func instantiate(tpl *shapeTemplate, sig []lexer.Token) *Stmt {
-	return tpl.root.build(sig).Interface().(*Stmt)
+	return tpl.build(sig)
 }
 
-// shapeTemplate is a template tree compiled for copying: each node is
-// copied whole, then only its placeholders and children are set.
+// shapeTemplate is a template tree compiled for copying. All the nodes of
+// a line live in one arena, a struct with one field per node, one array
+// per slice of nodes and one per Tokens slice (reflect.StructOf): a line
+// costs one allocation, a copy of the template arena, and then only its
+// placeholders and links are set.
 type shapeTemplate struct {
-	root *tplNode
+	types   []lexer.TokenType // the types of the significant tokens, then EOF
+	element bool              // the statement is an element statement
+	arena   reflect.Value     // the template arena, placeholders in place
+	pos   []tplPatch    // lexer.Position fields ← the token's position
+	strs  []tplPatch    // string fields ← the token's value
+	toks  []tplTokens   // Tokens fields
+	ptrs  []tplPatch    // pointer fields ← the node at arg
+	lists []tplList     // slices of nodes ← the arena array at arg
 }
 
-// tplNode is one struct of a template.
-type tplNode struct {
-	val      reflect.Value // the template struct (placeholders in place)
-	pos      []tplPatch    // lexer.Position fields ← the token's position
-	strs     []tplPatch    // string fields ← the token's value
-	toks     []tplPatch    // Tokens fields ← a one-token slice
-	children []tplChild    // pointer and slice fields
-}
+// tplPatch sets field of the node in arena field node from arg (a token
+// index or an arena field).
+type tplPatch struct{ node, field, arg int }
 
-type tplPatch struct{ field, tok int }
+// tplTokens is a Tokens field holding token tok, through the arena array
+// at arr.
+type tplTokens struct{ node, field, arr, tok int }
 
-// tplChild is a pointer field (one node) or a slice of pointers.
-type tplChild struct {
-	field int
-	slice reflect.Type // nil for a pointer field
-	nodes []*tplNode
+// tplList is a slice field holding the nodes elems, through the arena
+// array at arr.
+type tplList struct {
+	node, field, arr int
+	elems            []int
 }
 
 // compileTemplate compiles a marked template tree (see markTemplate).
 func compileTemplate(st *Stmt) *shapeTemplate {
-	return &shapeTemplate{root: compileNode(reflect.ValueOf(st).Elem())}
+	t := &shapeTemplate{}
+	var fields []reflect.StructField
+	var vals []reflect.Value
+	add := func(typ reflect.Type, v reflect.Value) int {
+		fields = append(fields, reflect.StructField{Name: "F" + strconv.Itoa(len(fields)), Type: typ})
+		vals = append(vals, v)
+		return len(fields) - 1
+	}
+	var node func(v reflect.Value) int
+	node = func(v reflect.Value) int {
+		n := add(v.Type(), v)
+		for i := range v.NumField() {
+			f := v.Field(i)
+			switch {
+			case f.Type() == positionType:
+				if p := f.Interface().(lexer.Position); p.Line < 0 {
+					t.pos = append(t.pos, tplPatch{n, i, -p.Line - 1})
+				}
+			case f.Type() == tokenSlice:
+				if toks := f.Interface().([]lexer.Token); len(toks) == 1 {
+					arr := add(reflect.ArrayOf(1, positionTokenType), reflect.Value{})
+					t.toks = append(t.toks, tplTokens{n, i, arr, -toks[0].Pos.Line - 1})
+				}
+			case f.Kind() == reflect.String:
+				if s := f.String(); strings.HasPrefix(s, placeholderMark) {
+					j, _ := strconv.Atoi(s[len(placeholderMark):])
+					t.strs = append(t.strs, tplPatch{n, i, j})
+				}
+			case f.Kind() == reflect.Pointer && !f.IsNil():
+				t.ptrs = append(t.ptrs, tplPatch{n, i, node(f.Elem())})
+			case f.Kind() == reflect.Slice && !f.IsNil():
+				l := tplList{node: n, field: i}
+				for j := range f.Len() {
+					l.elems = append(l.elems, node(f.Index(j).Elem()))
+				}
+				l.arr = add(reflect.ArrayOf(f.Len(), f.Type().Elem()), reflect.Value{})
+				t.lists = append(t.lists, l)
+			}
+		}
+		return n
+	}
+	node(reflect.ValueOf(st).Elem())
+	t.arena = reflect.New(reflect.StructOf(fields)).Elem()
+	for i, v := range vals {
+		if v.IsValid() {
+			t.arena.Field(i).Set(v)
+		}
+	}
+	return t
 }
 
-func compileNode(v reflect.Value) *tplNode {
-	n := &tplNode{val: v}
-	for i := range v.NumField() {
-		f := v.Field(i)
-		switch {
-		case f.Type() == positionType:
-			if p := f.Interface().(lexer.Position); p.Line < 0 {
-				n.pos = append(n.pos, tplPatch{i, -p.Line - 1})
-			}
-		case f.Type() == tokenSlice:
-			if toks := f.Interface().([]lexer.Token); len(toks) == 1 {
-				n.toks = append(n.toks, tplPatch{i, -toks[0].Pos.Line - 1})
-			}
-		case f.Kind() == reflect.String:
-			if s := f.String(); strings.HasPrefix(s, placeholderMark) {
-				j, _ := strconv.Atoi(s[len(placeholderMark):])
-				n.strs = append(n.strs, tplPatch{i, j})
-			}
-		case f.Kind() == reflect.Pointer && !f.IsNil():
-			n.children = append(n.children, tplChild{field: i, nodes: []*tplNode{compileNode(f.Elem())}})
-		case f.Kind() == reflect.Slice && !f.IsNil():
-			c := tplChild{field: i, slice: f.Type()}
-			for j := range f.Len() {
-				c.nodes = append(c.nodes, compileNode(f.Index(j).Elem()))
-			}
-			n.children = append(n.children, c)
-		}
-	}
-	return n
-}
+var positionTokenType = reflect.TypeOf(lexer.Token{})
 
-// build returns a pointer to a new copy of the node.
-func (n *tplNode) build(sig []lexer.Token) reflect.Value {
-	p := reflect.New(n.val.Type())
-	v := p.Elem()
-	v.Set(n.val)
-	for _, f := range n.pos {
-		*v.Field(f.field).Addr().Interface().(*lexer.Position) = sig[f.tok].Pos
+// build returns a new copy of the template's statement.
+func (t *shapeTemplate) build(sig []lexer.Token) *Stmt {
+	a := reflect.New(t.arena.Type()).Elem()
+	a.Set(t.arena)
+	for _, p := range t.pos {
+		*a.Field(p.node).Field(p.field).Addr().Interface().(*lexer.Position) = sig[p.arg].Pos
 	}
-	for _, f := range n.strs {
-		*v.Field(f.field).Addr().Interface().(*string) = sig[f.tok].Value
+	for _, p := range t.strs {
+		*a.Field(p.node).Field(p.field).Addr().Interface().(*string) = sig[p.arg].Value
 	}
-	for _, f := range n.toks {
-		*v.Field(f.field).Addr().Interface().(*[]lexer.Token) = []lexer.Token{sig[f.tok]}
+	for _, p := range t.toks {
+		arr := a.Field(p.arr)
+		*arr.Addr().Interface().(*[1]lexer.Token) = [1]lexer.Token{sig[p.tok]}
+		a.Field(p.node).Field(p.field).Set(arr.Slice3(0, 1, 1))
 	}
-	for _, c := range n.children {
-		if c.slice == nil {
-			v.Field(c.field).Set(c.nodes[0].build(sig))
-			continue
+	for _, p := range t.ptrs {
+		a.Field(p.node).Field(p.field).Set(a.Field(p.arg).Addr())
+	}
+	for _, l := range t.lists {
+		arr := a.Field(l.arr)
+		for j, e := range l.elems {
+			arr.Index(j).Set(a.Field(e).Addr())
 		}
-		s := reflect.MakeSlice(c.slice, len(c.nodes), len(c.nodes))
-		for j, e := range c.nodes {
-			s.Index(j).Set(e.build(sig))
-		}
-		v.Field(c.field).Set(s)
+		a.Field(l.node).Field(l.field).Set(arr.Slice3(0, len(l.elems), len(l.elems)))
 	}
-	return p
+	return a.Field(0).Addr().Interface().(*Stmt)
 }

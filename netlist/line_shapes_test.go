@@ -103,7 +103,7 @@ func corpusLines(t *testing.T) []string {
 // line with no significant token).
 func lineTokens(t *testing.T, l string) []lexer.Token {
 	t.Helper()
-	toks, over, err := lexLine("memo", []byte(l), 0, 1, nil)
+	toks, over, err := lexLine("memo", l, 0, 1, nil)
 	if err != nil || over >= 0 {
 		t.Fatalf("lexLine(%q): over %d, %v", l, over, err)
 	}
@@ -129,7 +129,7 @@ func TestShapeMemoMatchesParticiple(t *testing.T) {
 		want, wantErr := parseTokens(toks)
 		_, known := memo.templates[string(shapeKey(memo, toks))]
 		tplBefore := known && memo.templates[string(memo.key)] != nil
-		got, err := memo.parse(toks)
+		got, _, err := memo.parse(toks)
 		if (err == nil) != (wantErr == nil) || err != nil && err.Error() != wantErr.Error() {
 			t.Fatalf("%q: memo error %v, participle %v", l, err, wantErr)
 		}
@@ -168,7 +168,7 @@ func TestShapeMemoBounded(t *testing.T) {
 	for _, l := range []string{"R1: resistor (a, b) 1k", "R1: resistor (a, b) 1k"} {
 		toks := lineTokens(t, l)
 		want, _ := parseTokens(toks)
-		got, err := full.parse(toks)
+		got, _, err := full.parse(toks)
 		if err != nil || !reflect.DeepEqual(got, want) || len(full.templates) != maxShapes {
 			t.Fatalf("full memo: %v, %d templates", err, len(full.templates))
 		}
@@ -249,18 +249,51 @@ func TestParseParallelMatchesOnePiece(t *testing.T) {
 	src := []byte(b.String())
 	for _, procs := range []int{2, 3} {
 		f := newFile("p.nodal", src)
-		flat, ok := f.parseParallel(src, procs)
+		flat, ok := f.parseParallel(src, string(src), procs)
 		if !ok {
 			t.Fatalf("procs %d: not parsed in pieces", procs)
 		}
-		one := f.parseLines(src, 0, len(src), 1)
+		one := f.parseLines(src, string(src), 0, len(src), 1)
 		if len(one.diags) > 0 || !reflect.DeepEqual(flat, one.flat) {
 			t.Fatalf("procs %d: %d statements in pieces, %d in one piece (diags %v)", procs, len(flat), len(one.flat), one.diags)
 		}
 	}
 	bad := append(append([]byte(nil), src...), "R: resistor (a b) 1\n"...)
 	f := newFile("p.nodal", bad)
-	if _, ok := f.parseParallel(bad, 2); ok {
+	if _, ok := f.parseParallel(bad, string(bad), 2); ok {
 		t.Fatal("a file with a syntax error was parsed in pieces")
+	}
+}
+
+// TestDeferredStmts checks that Load's parse, with element statements
+// deferred and built on demand, gives the statements and the diagnostics
+// of Parse, for every corpus text and a large file parsed in pieces.
+func TestDeferredStmts(t *testing.T) {
+	var big strings.Builder
+	big.WriteString("V: voltage source (n0, gnd) 1\nblock cell (a, b)\nR: resistor (a, b) 1k\nend\n")
+	for i := 1; big.Len() < 3*parallelMinBytes; i++ {
+		fmt.Fprintf(&big, "R%d: resistor (n%d, n%d) 1kΩ # é %d\nX%d: cell (n%d, m%d)\n\tC%d: capacitor (m%d, 0) 10 n\n", i, i-1, i, i, i, i, i, i, i)
+	}
+	deferred := 0
+	for _, text := range append(corpusTexts(t), big.String()) {
+		want, wantErr := Parse("d.nodal", []byte(text))
+		got, err := parseFile("d.nodal", []byte(text), true)
+		if (err == nil) != (wantErr == nil) || err != nil && err.Error() != wantErr.Error() {
+			t.Fatalf("deferred parse error %v, Parse %v", err, wantErr)
+		}
+		if got.Stmts != nil || got.stmtCount() != len(want.Stmts) {
+			t.Fatalf("%d deferred statements, Parse %d", got.stmtCount(), len(want.Stmts))
+		}
+		for i, st := range want.Stmts {
+			if got.peek(i) == nil {
+				deferred++
+			}
+			if b := got.stmt(i); !reflect.DeepEqual(b, st) {
+				t.Fatalf("statement %d at %v differs from Parse's", i, st.Pos)
+			}
+		}
+	}
+	if deferred < 1000 {
+		t.Fatalf("only %d statements were deferred", deferred)
 	}
 }
