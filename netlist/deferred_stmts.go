@@ -23,18 +23,19 @@ type stmtEntry struct {
 // deferredStmt is what builds a deferred statement.
 type deferredStmt struct {
 	tpl       *shapeTemplate
-	toks      []int32 // offset and length of each significant token, then of EOF
+	toks      []int32 // offset and length of each token the template reads (tpl.used)
 	lineNo    int32
 	lineStart int32 // byte offset of the line's start
 }
 
-// deferLine records the significant tokens m.sig of a line whose
-// statement is deferred, appending their extents to pool; ok is false when
-// a token is not a piece of the source as it stands (then the statement is
-// built at once).
+// deferLine records the tokens of a line (its significant tokens sig)
+// that tpl reads, appending their extents to pool; ok is false when one
+// is not a piece of the source as it stands (then the statement is built
+// at once).
 func deferLine(text string, sig []lexer.Token, tpl *shapeTemplate, lineStart int, pool []int32) (d deferredStmt, out []int32, ok bool) {
 	from := len(pool)
-	for _, t := range sig {
+	for _, i := range tpl.used {
+		t := sig[i]
 		off := t.Pos.Offset
 		if off < 0 || off+len(t.Value) > len(text) || text[off:off+len(t.Value)] != t.Value || off > 1<<31-1 {
 			return deferredStmt{}, pool[:from], false
@@ -46,13 +47,16 @@ func deferLine(text string, sig []lexer.Token, tpl *shapeTemplate, lineStart int
 
 // build makes the statement of a deferred line: the tokens as the line's
 // lexer gave them (columns in runes from the line's start, the EOF's in
-// bytes, as Parse sets it), then the template filled with them.
-func (d *deferredStmt) build(name, text string) *Stmt {
-	sig := make([]lexer.Token, len(d.tpl.types))
+// bytes, as Parse sets it), then the template filled with them. buf is
+// scratch for the tokens, reused from call to call.
+func (d *deferredStmt) build(name, text string, buf *[]lexer.Token) *Stmt {
+	sig := append((*buf)[:0], make([]lexer.Token, len(d.tpl.types))...)
+	*buf = sig
 	start := int(d.lineStart)
 	col, at := 1, start
-	for i, typ := range d.tpl.types {
-		off, n := int(d.toks[2*i]), int(d.toks[2*i+1])
+	for k, i := range d.tpl.used {
+		typ := d.tpl.types[i]
+		off, n := int(d.toks[2*k]), int(d.toks[2*k+1])
 		if typ == lexer.EOF {
 			sig[i] = lexer.EOFToken(lexer.Position{Filename: name, Offset: off, Line: int(d.lineNo), Column: off - start + 1})
 			continue
@@ -88,7 +92,7 @@ func (f *File) stmt(i int) *Stmt {
 		return f.Stmts[i]
 	}
 	if e := &f.entries[i]; e.st == nil {
-		return e.build(f.Name, f.str)
+		return e.build(f.Name, f.str, &f.sigBuf)
 	}
 	return f.entries[i].st
 }

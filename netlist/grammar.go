@@ -83,6 +83,7 @@ type File struct {
 	deferring bool
 	entries   []stmtEntry
 	str       string
+	sigBuf    []lexer.Token // scratch of deferredStmt.build
 }
 
 // Stmt is one statement: exactly one of its pointer fields is set.

@@ -281,13 +281,14 @@ func instantiate(tpl *shapeTemplate, sig []lexer.Token) *Stmt {
 // placeholders and links are set.
 type shapeTemplate struct {
 	types   []lexer.TokenType // the types of the significant tokens, then EOF
+	used    []int             // the indexes of the tokens the patches read, ascending
 	element bool              // the statement is an element statement
 	arena   reflect.Value     // the template arena, placeholders in place
-	pos   []tplPatch    // lexer.Position fields ← the token's position
-	strs  []tplPatch    // string fields ← the token's value
-	toks  []tplTokens   // Tokens fields
-	ptrs  []tplPatch    // pointer fields ← the node at arg
-	lists []tplList     // slices of nodes ← the arena array at arg
+	pos     []tplPatch        // lexer.Position fields ← the token's position
+	strs    []tplPatch        // string fields ← the token's value
+	toks    []tplTokens       // Tokens fields
+	ptrs    []tplPatch        // pointer fields ← the node at arg
+	lists   []tplList         // slices of nodes ← the arena array at arg
 }
 
 // tplPatch sets field of the node in arena field node from arg (a token
@@ -349,6 +350,21 @@ func compileTemplate(st *Stmt) *shapeTemplate {
 		return n
 	}
 	node(reflect.ValueOf(st).Elem())
+	read := map[int]bool{}
+	for _, p := range t.pos {
+		read[p.arg] = true
+	}
+	for _, p := range t.strs {
+		read[p.arg] = true
+	}
+	for _, p := range t.toks {
+		read[p.tok] = true
+	}
+	for i := range maxShapeTokens + 1 {
+		if read[i] {
+			t.used = append(t.used, i)
+		}
+	}
 	t.arena = reflect.New(reflect.StructOf(fields)).Elem()
 	for i, v := range vals {
 		if v.IsValid() {

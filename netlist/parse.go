@@ -146,9 +146,9 @@ func (f *File) parseParallel(src []byte, text string, procs int) (flat []stmtEnt
 // parsedLines is the result of parsing some lines of a file.
 type parsedLines struct {
 	flat      []stmtEntry // statements in order, blocks not yet nested
-	diags     ErrorList // syntax errors, unsorted
-	stopped   bool      // stopped after syntax.MaxReported errors
-	lexFailed bool      // a line did not lex: parse the whole file instead
+	diags     ErrorList   // syntax errors, unsorted
+	stopped   bool        // stopped after syntax.MaxReported errors
+	lexFailed bool        // a line did not lex: parse the whole file instead
 }
 
 // parseLines parses the lines of src that start at byte offsets from
@@ -160,6 +160,9 @@ func (f *File) parseLines(src []byte, text string, start, stop, lineNo int) pars
 	var p parsedLines
 	var line []lexer.Token
 	var pool []int32 // token extents of deferred statements
+	if f.deferring {
+		pool = make([]int32, 0, (stop-start)/3) // about what a netlist needs
+	}
 	memo := newShapeMemo()
 	memo.deferring = f.deferring
 	name := f.Name
@@ -489,7 +492,7 @@ func (f *File) nest(flat []stmtEntry, diags ErrorList, stopped bool) ([]stmtEntr
 			top = append(top, e)
 			continue
 		case st == nil:
-			st = e.build(f.Name, f.str)
+			st = e.build(f.Name, f.str, &f.sigBuf)
 		}
 		switch {
 		case st.Block != nil:
