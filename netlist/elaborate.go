@@ -111,9 +111,9 @@ type elab struct {
 }
 
 type nodeTouch struct {
-	n    int
-	part string
-	pos  lexer.Position
+	n    int32  // terminals on the node
+	off  int32  // byte offset of the first one
+	part string // its part
 }
 
 // pendingRef is a reference to another element, resolved once all parts
@@ -131,7 +131,7 @@ func (e *elab) errorf(p lexer.Position, hint, format string, args ...any) {
 }
 
 func (e *elab) run() {
-	global := &scope{vars: map[string]varInfo{}, elems: make(map[string]lexer.Position, e.topParts)}
+	global := &scope{vars: map[string]varInfo{}, elems: make(map[string]int, e.topParts)}
 	for i := range e.f.stmtCount() {
 		st := e.f.peek(i)
 		if st != nil && st.Block != nil {
@@ -207,7 +207,7 @@ type scope struct {
 	parent *scope             // the top level, for block scopes
 	ports  map[string]string  // block port → node of the instantiating scope
 	stack  []string           // block names being expanded, outermost first
-	elems  map[string]lexer.Position
+	elems  map[string]int // element name → byte offset of its statement
 	fixed  bool // the instance was marked fixed: all its parts are
 	block  *BlockStmt
 }
@@ -482,7 +482,7 @@ func (e *elab) touch(node, part string, p lexer.Position) {
 	}
 	t := &e.touches[i]
 	if t.n == 0 {
-		t.part, t.pos = part, p
+		t.part, t.off = part, int32(p.Offset)
 	}
 	t.n++
 }
@@ -539,7 +539,7 @@ func (e *elab) checkTopology() {
 	}
 	for i := 1; i < len(e.c.Nodes); i++ {
 		if t := e.touches[i]; t.n == 1 {
-			e.diags = append(e.diags, e.f.diag(t.pos, SevWarning, fmt.Sprintf("node %q is connected to only one terminal (of %s)", e.c.Nodes[i], t.part), ""))
+			e.diags = append(e.diags, e.f.diagAt(int(t.off), SevWarning, fmt.Sprintf("node %q is connected to only one terminal (of %s)", e.c.Nodes[i], t.part), ""))
 		}
 	}
 }

@@ -475,7 +475,7 @@ func lineHint(line []lexer.Token, bad lexer.Token, hint string) string {
 // A deferred statement (an element) stays deferred at the top level and
 // is built inside a block.
 func (f *File) nest(flat []stmtEntry, diags ErrorList, stopped bool) ([]stmtEntry, ErrorList) {
-	top := make([]stmtEntry, 0, len(flat))
+	top := flat[:0] // filtered in place: top never overtakes the entry read
 	var open *Stmt
 	dropped := 0
 	report := func(d *Diagnostic) {
