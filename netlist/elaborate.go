@@ -207,8 +207,8 @@ type scope struct {
 	parent *scope             // the top level, for block scopes
 	ports  map[string]string  // block port → node of the instantiating scope
 	stack  []string           // block names being expanded, outermost first
-	elems  map[string]int // element name → byte offset of its statement
-	fixed  bool // the instance was marked fixed: all its parts are
+	elems  map[string]int     // element name → byte offset of its statement
+	fixed  bool               // the instance was marked fixed: all its parts are
 	block  *BlockStmt
 }
 
