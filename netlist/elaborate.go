@@ -23,7 +23,10 @@ type Overrides map[string]float64
 const (
 	// MaxParts is the most parts a circuit may have after expanding
 	// blocks: the memory budget of a circuit. Parts are held sparse from
-	// the stamps on, so 10⁶ parts fit in about 1 GB through a sweep.
+	// the stamps on, so 10⁶ parts fit in about 1 GB through a sweep; Load
+	// of a plain netlist of 10⁶ parts (38 MB) holds at most about 0.8 GB
+	// live (the Circuit's Parts, 330 bytes each, and the elaboration's
+	// name tables), 10⁵ parts peak near 130 MB.
 	MaxParts = 1_000_000
 	// MaxBlockDepth is the deepest nesting of block instances.
 	MaxBlockDepth = 64
@@ -31,11 +34,11 @@ const (
 
 // Load parses and elaborates a circuit file: Parse followed by Elaborate.
 func Load(name string, src []byte, ov Overrides) (*Circuit, error) {
-	f, err := Parse(name, src)
+	f, err := parseFile(name, src, true)
 	if err != nil {
 		return nil, err
 	}
-	return Elaborate(f, ov)
+	return elaborate(f, ov, true)
 }
 
 // Elaborate evaluates and validates a parsed file into a flat Circuit:
@@ -44,19 +47,38 @@ func Load(name string, src []byte, ov Overrides) (*Circuit, error) {
 // (errors and warnings, sorted by position); on success warnings are in
 // Circuit.Warnings.
 func Elaborate(f *File, ov Overrides) (*Circuit, error) {
+	return elaborate(f, ov, false)
+}
+
+// elaborate is Elaborate; release drops each top-level statement from
+// f.Stmts once elaborated (Load, which owns f), so that the syntax tree is
+// freed while the circuit grows.
+func elaborate(f *File, ov Overrides, release bool) (*Circuit, error) {
+	// The top-level elements size the part and node tables up front (a
+	// ladder has about one node per part), sparing the copies of growth.
+	n := 0
+	for i := range f.stmtCount() {
+		if st := f.peek(i); st == nil || st.Element != nil {
+			n++ // a deferred statement is an element
+		}
+	}
+	n = min(n, MaxParts)
 	e := &elab{
 		f:         f,
 		ov:        ov,
-		c:         &Circuit{File: f.Name, Nodes: []string{Ground}},
+		c:         &Circuit{File: f.Name, Nodes: append(make([]string, 0, n+1), Ground), Parts: make([]Part, 0, n)},
 		m:         &model{},
 		blocks:    map[string]*BlockStmt{},
 		sizes:     map[string]blockSize{},
-		partIndex: map[string]int{},
-		nodeIndex: map[string]int{Ground: 0},
-		touches:   []nodeTouch{{}},
+		partIndex: make(map[string]int, n),
+		nodeIndex: make(map[string]int, n+1),
+		touches:   append(make([]nodeTouch, 0, n+1), nodeTouch{}),
 		cycles:    map[int]bool{},
 		usedOv:    map[string]bool{},
+		topParts:  n,
+		release:   release,
 	}
+	e.nodeIndex[Ground] = 0
 	e.run()
 	if err := e.diags.Err(); err != nil {
 		e.diags.Sort()
@@ -87,12 +109,14 @@ type elab struct {
 	usedOv    map[string]bool
 	tooBig    bool
 	work      int
+	topParts  int  // top-level element statements (a capacity hint)
+	release   bool // drop top-level statements once elaborated
 }
 
 type nodeTouch struct {
-	n    int
-	part string
-	pos  lexer.Position
+	n    int32  // terminals on the node
+	off  int32  // byte offset of the first one
+	part string // its part
 }
 
 // pendingRef is a reference to another element, resolved once all parts
@@ -110,16 +134,21 @@ func (e *elab) errorf(p lexer.Position, hint, format string, args ...any) {
 }
 
 func (e *elab) run() {
-	global := &scope{vars: map[string]varInfo{}, elems: map[string]lexer.Position{}}
-	for _, st := range e.f.Stmts {
-		if st.Block != nil {
+	global := &scope{vars: map[string]varInfo{}, elems: make(map[string]int, e.topParts)}
+	for i := range e.f.stmtCount() {
+		st := e.f.peek(i)
+		if st != nil && st.Block != nil {
 			e.defineBlock(st.Block)
 		}
-		if st.Response != nil {
+		if st != nil && st.Response != nil {
 			e.response(st.Response)
 		}
 	}
-	for _, st := range e.f.Stmts {
+	for i := range e.f.stmtCount() {
+		st := e.f.stmt(i)
+		if e.release && st.Block == nil && st.Response == nil {
+			e.f.drop(i) // Elaborate reads it no more
+		}
 		switch {
 		case st.Title != nil:
 			if e.c.Title != "" {
@@ -181,8 +210,8 @@ type scope struct {
 	parent *scope             // the top level, for block scopes
 	ports  map[string]string  // block port → node of the instantiating scope
 	stack  []string           // block names being expanded, outermost first
-	elems  map[string]lexer.Position
-	fixed  bool // the instance was marked fixed: all its parts are
+	elems  map[string]int     // element name → byte offset of its statement
+	fixed  bool               // the instance was marked fixed: all its parts are
 	block  *BlockStmt
 }
 
@@ -456,7 +485,7 @@ func (e *elab) touch(node, part string, p lexer.Position) {
 	}
 	t := &e.touches[i]
 	if t.n == 0 {
-		t.part, t.pos = part, p
+		t.part, t.off = part, int32(p.Offset)
 	}
 	t.n++
 }
@@ -513,7 +542,7 @@ func (e *elab) checkTopology() {
 	}
 	for i := 1; i < len(e.c.Nodes); i++ {
 		if t := e.touches[i]; t.n == 1 {
-			e.diags = append(e.diags, e.f.diag(t.pos, SevWarning, fmt.Sprintf("node %q is connected to only one terminal (of %s)", e.c.Nodes[i], t.part), ""))
+			e.diags = append(e.diags, e.f.diagAt(int(t.off), SevWarning, fmt.Sprintf("node %q is connected to only one terminal (of %s)", e.c.Nodes[i], t.part), ""))
 		}
 	}
 }

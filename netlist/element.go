@@ -232,10 +232,10 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 		return
 	}
 	if prev, dup := sc.elems[st.Name]; dup {
-		e.errorf(st.Pos, "", "duplicate name %q (first defined at %s)", st.Name, e.f.Position(prev))
+		e.errorf(st.Pos, "", "duplicate name %q (first defined at %s)", st.Name, e.f.posAt(prev))
 		return
 	}
-	sc.elems[st.Name] = st.Pos
+	sc.elems[st.Name] = st.Pos.Offset
 	before := len(e.diags)
 	word := st.Kind.Word()
 	kind, ok := KindByKeyword(word)
@@ -496,7 +496,7 @@ func (e *elab) instance(sc *scope, st *ElementStmt, b *BlockStmt) {
 		parent: global,
 		ports:  map[string]string{},
 		stack:  append(append([]string(nil), sc.stack...), b.Name),
-		elems:  map[string]lexer.Position{},
+		elems:  map[string]int{},
 		fixed:  sc.fixed || it.fixed,
 		block:  b,
 	}

@@ -5,8 +5,10 @@ import (
 	"errors"
 	"fmt"
 	"reflect"
+	"runtime"
 	"sort"
 	"strings"
+	"sync"
 	"unicode/utf8"
 
 	"github.com/alecthomas/participle/v2"
@@ -25,7 +27,15 @@ const MaxSourceBytes = 64 << 20
 // statements that did parse. Input that is not UTF-8 text (invalid UTF-8
 // or NUL bytes) or larger than MaxSourceBytes is refused.
 func Parse(name string, src []byte) (*File, error) {
+	return parseFile(name, src, false)
+}
+
+// parseFile is Parse; with deferring (Load) the top-level element
+// statements are left unbuilt in f.entries (see stmtEntry) and f.Stmts is
+// nil.
+func parseFile(name string, src []byte, deferring bool) (*File, error) {
 	f := newFile(name, src)
+	f.deferring = deferring
 	if len(src) > MaxSourceBytes {
 		return f, ErrorList{{Pos: f.posAt(0), Msg: fmt.Sprintf("file is %d bytes; circuit files are limited to %d bytes (64 MiB)", len(src), MaxSourceBytes)}}
 	}
@@ -51,18 +61,119 @@ func Parse(name string, src []byte) (*File, error) {
 	// The token buffer is reused from line to line, a line is refused past
 	// MaxLineTokens tokens, and parsing stops after syntax.MaxReported
 	// errors with a note, so memory stays a small multiple of the file.
-	var diags ErrorList
-	var flat []*Stmt
+	f.str = string(src)
+	if flat, ok := f.parseParallel(src, f.str, runtime.GOMAXPROCS(0)); ok {
+		return f, f.finish(flat, nil, false)
+	}
+	p := f.parseLines(src, f.str, 0, len(src), 1)
+	if p.lexFailed {
+		return f.parseWhole(name, src)
+	}
+	return f, f.finish(p.flat, p.diags, p.stopped)
+}
+
+// finish nests the statements of the file into f (f.Stmts, or f.entries
+// when deferring) and returns the sorted diagnostics, nil for none.
+func (f *File) finish(flat []stmtEntry, diags ErrorList, stopped bool) error {
+	top, diags := f.nest(flat, diags, stopped)
+	if f.deferring {
+		f.entries = top
+	} else {
+		f.Stmts = make([]*Stmt, len(top))
+		for i, e := range top {
+			f.Stmts[i] = e.st
+		}
+	}
+	diags.Sort()
+	return diags.Err()
+}
+
+// parallelMinBytes is the smallest file parsed in pieces on several
+// processors.
+const parallelMinBytes = 1 << 18
+
+// parseParallel parses src in one piece per processor (procs, at most 8), each
+// piece whole lines with its own shape memo, and returns the statements
+// in order; ok is false, and src must be parsed in one piece, when src is
+// small, one processor is available or a piece found anything to report
+// (so that diagnostics, and the stop after syntax.MaxReported, are those
+// of the one-piece parse).
+func (f *File) parseParallel(src []byte, text string, procs int) (flat []stmtEntry, ok bool) {
+	n := min(procs, 8, len(src)/parallelMinBytes)
+	if n < 2 {
+		return nil, false
+	}
+	pieces := make([]parsedLines, n)
+	var wg sync.WaitGroup
+	start, lineNo := 0, 1
+	for k := range n {
+		stop := len(src) // the last piece takes the line after a final newline
+		if k < n-1 {
+			stop = start + (len(src)-start)/(n-k)
+			if nl := bytes.IndexByte(src[stop:], '\n'); nl >= 0 {
+				stop += nl // the piece ends with the line holding stop
+			} else {
+				stop = len(src)
+			}
+		}
+		wg.Add(1)
+		go func(k, start, stop, lineNo int) {
+			defer wg.Done()
+			pieces[k] = f.parseLines(src, text, start, stop, lineNo)
+		}(k, start, stop, lineNo)
+		if stop == len(src) {
+			pieces = pieces[:k+1]
+			break
+		}
+		lineNo += bytes.Count(src[start:stop+1], []byte{'\n'})
+		start = stop + 1
+	}
+	wg.Wait()
+	total := 0
+	for _, p := range pieces {
+		if p.lexFailed || len(p.diags) > 0 {
+			return nil, false
+		}
+		total += len(p.flat)
+	}
+	flat = make([]stmtEntry, 0, total)
+	for _, p := range pieces {
+		flat = append(flat, p.flat...)
+	}
+	return flat, true
+}
+
+// parsedLines is the result of parsing some lines of a file.
+type parsedLines struct {
+	flat      []stmtEntry // statements in order, blocks not yet nested
+	diags     ErrorList   // syntax errors, unsorted
+	stopped   bool        // stopped after syntax.MaxReported errors
+	lexFailed bool        // a line did not lex: parse the whole file instead
+}
+
+// parseLines parses the lines of src that start at byte offsets from
+// start to stop (inclusive; stop = len(src) takes the empty line after a
+// final newline), the first being line lineNo of the file. text is src as
+// a string: the token values of every line are pieces of it, one copy of
+// the file shared by the whole tree.
+func (f *File) parseLines(src []byte, text string, start, stop, lineNo int) parsedLines {
+	var p parsedLines
 	var line []lexer.Token
-	stopped := false
-	for start, lineNo := 0, 1; start <= len(src); lineNo++ {
+	var pool []int32 // token extents of deferred statements
+	if f.deferring {
+		pool = make([]int32, 0, (stop-start)/3) // about what a netlist needs
+	}
+	memo := newShapeMemo()
+	memo.deferring = f.deferring
+	name := f.Name
+	for ; start <= stop && start <= len(src); lineNo++ {
 		end := bytes.IndexByte(src[start:], '\n')
 		if end < 0 {
 			end = len(src)
 		} else {
 			end += start
 		}
-		if len(diags) >= syntax.MaxReported {
+		if len(p.diags) >= syntax.MaxReported {
 			if len(bytes.TrimSpace(src[start:])) == 0 {
 				break // nothing left to check
 			}
@@ -70,8 +181,8 @@ func Parse(name string, src []byte) (*File, error) {
 			if bytes.HasSuffix(src, []byte{'\n'}) {
 				last-- // the empty line after the final newline
 			}
-			diags = append(diags, f.diagAt(start, SevError, fmt.Sprintf("stopped after %d errors; lines %d to %d were not checked", len(diags), lineNo, last), "fix these and run again"))
-			stopped = true
+			p.diags = append(p.diags, f.diagAt(start, SevError, fmt.Sprintf("stopped after %d errors; lines %d to %d were not checked", len(p.diags), lineNo, last), "fix these and run again"))
+			p.stopped = true
 			break
 		}
 		if blankLine(src[start:end]) {
@@ -80,30 +191,37 @@ func Parse(name string, src []byte) (*File, error) {
 		}
 		var err error
 		var over int
-		if line, over, err = lexLine(name, src[start:end], start, lineNo, line[:0]); err != nil {
-			return f.parseWhole(name, src)
+		if line, over, err = lexLine(name, text[start:end], start, lineNo, line[:0]); err != nil {
+			p.lexFailed = true
+			return p
 		}
 		switch {
 		case over >= 0:
 			if d := f.nestingDiag(line); d != nil {
-				diags = append(diags, d)
+				p.diags = append(p.diags, d)
 				break
 			}
-			diags = append(diags, f.diagAt(over, SevError, fmt.Sprintf("line %d has more than %d tokens", lineNo, MaxLineTokens), "split it with let"))
+			p.diags = append(p.diags, f.diagAt(over, SevError, fmt.Sprintf("line %d has more than %d tokens", lineNo, MaxLineTokens), "split it with let"))
 		case len(line) > 0:
 			line = append(line, lexer.EOFToken(lexer.Position{Filename: name, Offset: end, Line: lineNo, Column: end - start + 1}))
-			st, d := f.parseLine(line)
-			if d != nil {
-				diags = append(diags, d)
-			} else {
-				flat = append(flat, st)
+			st, tpl, d := f.parseLine(line, memo)
+			switch {
+			case d != nil:
+				p.diags = append(p.diags, d)
+			case st == nil:
+				var e stmtEntry
+				var ok bool
+				if e.deferredStmt, pool, ok = deferLine(text, memo.sig, tpl, start, pool); !ok {
+					e.st = instantiate(tpl, memo.sig)
+				}
+				p.flat = append(p.flat, e)
+			default:
+				p.flat = append(p.flat, stmtEntry{st: st})
 			}
 		}
 		start = end + 1
 	}
-	f.Stmts, diags = f.nest(flat, diags, stopped)
-	diags.Sort()
-	return f, diags.Err()
+	return p
 }
 
 // MaxLineTokens is how many significant tokens (words, numbers,
@@ -128,8 +246,8 @@ func blankLine(text []byte) bool {
 // returns buf empty when the line has no significant token. over is the
 // byte offset of the token past MaxLineTokens significant ones (lexing
 // stops there, buf holding the tokens before it), or -1.
-func lexLine(name string, text []byte, start, lineNo int, buf []lexer.Token) (toks []lexer.Token, over int, err error) {
-	lx, err := lexDef.LexString(name, string(text))
+func lexLine(name string, text string, start, lineNo int, buf []lexer.Token) (toks []lexer.Token, over int, err error) {
+	lx, err := lexDef.LexString(name, text)
 	if err != nil {
 		return nil, -1, err
 	}
@@ -169,18 +287,16 @@ func (f *File) parseWhole(name string, src []byte) (*File, error) {
 		return f, ErrorList{f.lexDiag(err)}
 	}
 	var diags ErrorList
-	var flat []*Stmt
+	var flat []stmtEntry
 	for _, line := range splitLines(all) {
-		st, d := f.parseLine(line)
+		st, _, d := f.parseLine(line, nil)
 		if d != nil {
 			diags = append(diags, d)
 			continue
 		}
-		flat = append(flat, st)
+		flat = append(flat, stmtEntry{st: st})
 	}
-	f.Stmts, diags = f.nest(flat, diags, false)
-	diags.Sort()
-	return f, diags.Err()
+	return f, f.finish(flat, diags, false)
 }
 
 var (
@@ -190,6 +306,9 @@ var (
 	symIdent   = lexDef.Symbols()["Ident"]
 	symValue   = lexDef.Symbols()["Value"]
 	symBad     = lexDef.Symbols()["Bad"]
+	symPunct   = lexDef.Symbols()["Punct"]
+	symPlusMin = lexDef.Symbols()["PlusMinus"]
+	symRange   = lexDef.Symbols()["Range"]
 )
 
 // splitLines cuts the token stream at newlines, dropping lines with no
@@ -233,22 +352,35 @@ func (s *sliceLexer) Next() (lexer.Token, error) {
 	return t, nil
 }
 
-// parseLine parses the statement on one line.
-func (f *File) parseLine(line []lexer.Token) (*Stmt, *Diagnostic) {
+// parseLine parses the statement on one line, through memo (nil: parse
+// directly).
+// A deferred element statement (see shapeMemo.parse) comes back as its
+// template, st nil.
+func (f *File) parseLine(line []lexer.Token, memo *shapeMemo) (*Stmt, *shapeTemplate, *Diagnostic) {
 	line = mergeSpacedUnits(line)
 	if d := f.nestingDiag(line); d != nil {
-		return nil, d
+		return nil, nil, d
 	}
+	st, tpl, err := memo.parse(line)
+	if err != nil {
+		return nil, nil, f.syntaxDiag(line, err)
+	}
+	return st, tpl, nil
+}
+
+// parseTokens is participle's parse of one line's tokens (ending in EOF),
+// with its Tokens fields compacted.
+func parseTokens(line []lexer.Token) (*Stmt, error) {
 	pl, err := lexer.Upgrade(&sliceLexer{toks: line}, symSpace, symComment)
-	if err == nil {
-		var st *Stmt
-		st, err = stmtParser.ParseFromLexer(pl)
-		if err == nil {
-			compactTokens(reflect.ValueOf(st))
-			return st, nil
-		}
+	if err != nil {
+		return nil, err
 	}
-	return nil, f.syntaxDiag(line, err)
+	st, err := stmtParser.ParseFromLexer(pl)
+	if err != nil {
+		return nil, err
+	}
+	compactTokens(reflect.ValueOf(st))
+	return st, nil
 }
 
 // nestingDiag reports a line that nests deeper than syntax.MaxNesting, at the
@@ -340,8 +472,10 @@ func lineHint(line []lexer.Token, bad lexer.Token, hint string) string {
 // nest groups block bodies under their headers and reports misplaced
 // statements. stopped says parsing ended early, so an open block is not
 // reported as lacking its end.
-func (f *File) nest(flat []*Stmt, diags ErrorList, stopped bool) ([]*Stmt, ErrorList) {
-	var top []*Stmt
+// A deferred statement (an element) stays deferred at the top level and
+// is built inside a block.
+func (f *File) nest(flat []stmtEntry, diags ErrorList, stopped bool) ([]stmtEntry, ErrorList) {
+	top := flat[:0] // filtered in place: top never overtakes the entry read
 	var open *Stmt
 	dropped := 0
 	report := func(d *Diagnostic) {
@@ -351,7 +485,15 @@ func (f *File) nest(flat []*Stmt, diags ErrorList, stopped bool) ([]*Stmt, Error
 			dropped++
 		}
 	}
-	for _, st := range flat {
+	for _, e := range flat {
+		st := e.st
+		switch {
+		case st == nil && open == nil:
+			top = append(top, e)
+			continue
+		case st == nil:
+			st = e.build(f.Name, f.str, &f.sigBuf)
+		}
 		switch {
 		case st.Block != nil:
 			if open != nil {
@@ -359,7 +501,7 @@ func (f *File) nest(flat []*Stmt, diags ErrorList, stopped bool) ([]*Stmt, Error
 				continue
 			}
 			open = st
-			top = append(top, st)
+			top = append(top, stmtEntry{st: st})
 		case st.End != nil:
 			if open == nil {
 				report(f.diag(st.Pos, SevError, "end without a block", ""))
@@ -374,7 +516,7 @@ func (f *File) nest(flat []*Stmt, diags ErrorList, stopped bool) ([]*Stmt, Error
 			}
 			open.Block.Body = append(open.Block.Body, st)
 		default:
-			top = append(top, st)
+			top = append(top, stmtEntry{st: st})
 		}
 	}
 	if open != nil && !stopped {

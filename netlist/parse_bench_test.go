@@ -44,3 +44,43 @@ func BenchmarkParse100k(b *testing.B) {
 	b.ReportMetric(float64(int64(after.HeapAlloc)-int64(before.HeapAlloc))/float64(len(src)), "live-B/byte")
 	runtime.KeepAlive(f)
 }
+
+// BenchmarkLoad100k parses and elaborates a file of 100,001 parts (the
+// target is under 1 s); B/byte and live-B/byte as in BenchmarkParse100k,
+// live-B/byte being what the Circuit keeps.
+func BenchmarkLoad100k(b *testing.B) {
+	src := ladderSource(50000)
+	b.SetBytes(int64(len(src)))
+	b.ReportAllocs()
+	var before, after runtime.MemStats
+	runtime.GC()
+	runtime.ReadMemStats(&before)
+	var c *Circuit
+	for i := 0; i < b.N; i++ {
+		var err error
+		if c, err = Load("ladder.nodal", src, nil); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.StopTimer()
+	runtime.ReadMemStats(&after)
+	b.ReportMetric(float64(after.TotalAlloc-before.TotalAlloc)/float64(b.N)/float64(len(src)), "B/byte")
+	runtime.GC()
+	runtime.ReadMemStats(&after)
+	b.ReportMetric(float64(int64(after.HeapAlloc)-int64(before.HeapAlloc))/float64(len(src)), "live-B/byte")
+	runtime.KeepAlive(c)
+}
+
+// BenchmarkElaborate100k elaborates a parsed file of 100,001 parts.
+func BenchmarkElaborate100k(b *testing.B) {
+	f, err := Parse("ladder.nodal", ladderSource(50000))
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	for b.Loop() {
+		if _, err := Elaborate(f, nil); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

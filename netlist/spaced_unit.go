@@ -19,11 +19,14 @@ import (
 // or "(" (an option or a call), and makes a valid number when attached
 // ("1"+word parses). Since a number followed by a name is otherwise a
 // syntax error, no valid file changes meaning.
+// toks itself is returned when nothing merges (most lines: no copy).
 func mergeSpacedUnits(toks []lexer.Token) []lexer.Token {
-	out := make([]lexer.Token, 0, len(toks))
+	var out []lexer.Token // nil until the first merge
 	for i := 0; i < len(toks); i++ {
 		t := toks[i]
-		out = append(out, t)
+		if out != nil {
+			out = append(out, t)
+		}
 		if t.Type != symValue || !endsInDigit(t.Value) || i+2 >= len(toks) || toks[i+1].Type != symSpace {
 			continue
 		}
@@ -40,10 +43,16 @@ func mergeSpacedUnits(toks []lexer.Token) []lexer.Token {
 		if n, err := syntax.ParseNumber("1" + word); !meg && (err != nil || (n.Unit == "" && n.Exp10 == 0)) {
 			continue
 		}
+		if out == nil {
+			out = append(make([]lexer.Token, 0, len(toks)), toks[:i+1]...)
+		}
 		merged := t
 		merged.Value = t.Value + toks[i+1].Value + word
 		out[len(out)-1] = merged
 		i = j - 1
+	}
+	if out == nil {
+		return toks
 	}
 	return out
 }
