@@ -6,10 +6,10 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
-	"strings"
 	"testing"
 
 	"nodal/mna"
+	"nodal/mna/testcircuit"
 	"nodal/netlist"
 )
 
@@ -17,20 +17,12 @@ import (
 // ground at each node), driven at n0, observed at the open end nk.
 func ladder(t testing.TB, k int, r, c float64) *mna.System {
 	t.Helper()
-	var b strings.Builder
-	fmt.Fprintf(&b, "Vin: voltage source (n0, gnd) 1\n")
+	parts := []netlist.Part{testcircuit.V("Vin", "n0", netlist.Ground, 1)}
 	for j := 1; j <= k; j++ {
-		fmt.Fprintf(&b, "R%d: resistor (n%d, n%d) %g\nC%d: capacitor (n%d, gnd) %g\n", j, j-1, j, r, j, j, c)
+		a, b := fmt.Sprint("n", j-1), fmt.Sprint("n", j)
+		parts = append(parts, testcircuit.R(fmt.Sprint("R", j), a, b, r), testcircuit.C(fmt.Sprint("C", j), b, netlist.Ground, c))
 	}
-	ckt, err := netlist.Load("ladder.nodal", []byte(b.String()), netlist.Overrides{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	sys, err := mna.Build(ckt, mna.Input{}, mna.Output{Kind: mna.NodeVoltage, Node: fmt.Sprint("n", k)})
-	if err != nil {
-		t.Fatal(err)
-	}
-	return sys
+	return testcircuit.Build(t, testcircuit.New(parts...), mna.Output{Kind: mna.NodeVoltage, Node: fmt.Sprint("n", k)})
 }
 
 // ladderPole is the j-th pole (rad/s, j = 1…k) of the uniform RC ladder

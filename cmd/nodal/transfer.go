@@ -235,18 +235,8 @@ func (c *transferCmd) Run(e *env) error {
 		}
 		return err
 	}
-	if c.Plot != "" {
-		format, err := plot.FormatFromPath(c.Plot)
-		if err != nil {
-			return err
-		}
-		fig, err := plot.PoleZero(r.tf.Poles, r.tf.Zeros, plot.PoleZeroOptions{Title: "poles (×) and zeros (○) of " + r.what})
-		if err != nil {
-			return err
-		}
-		if err := writeTo(e, c.Plot, []string{c.File, c.Output}, func(w io.Writer) error { return fig.Encode(w, format) }); err != nil {
-			return err
-		}
+	if err := c.plotRoots(e, r.tf, "poles (×) and zeros (○) of "+r.what); err != nil {
+		return err
 	}
 	stab, err := circuitStability(l)
 	if err != nil {
@@ -262,6 +252,22 @@ func (c *transferCmd) Run(e *env) error {
 		warnStability(e.stderr, stab)
 		return rep.table(w)
 	})
+}
+
+// plotRoots draws the pole-zero map of h to --plot, if given.
+func (c *transferCmd) plotRoots(e *env, h *transfer.TransferFunction, title string) error {
+	if c.Plot == "" {
+		return nil
+	}
+	format, err := plot.FormatFromPath(c.Plot)
+	if err != nil {
+		return err
+	}
+	fig, err := plot.PoleZero(h.Poles, h.Zeros, plot.PoleZeroOptions{Title: title})
+	if err != nil {
+		return err
+	}
+	return writeTo(e, c.Plot, []string{c.File, c.Output}, func(w io.Writer) error { return fig.Encode(w, format) })
 }
 
 // variantTFJSON is the transfer function of one --vary value.
@@ -412,17 +418,19 @@ func (rep *tfReport) closedForm(w io.Writer) error {
 		fmt.Fprintf(w, "cancelled pole-zero pair at s = %s rad/s (a mode the output does not see)\n", complexText(cz))
 	}
 	fmt.Fprintln(w)
+	return rootsTables(w, h)
+}
+
+// rootsTables prints the poles and the zeros (or "no finite zeros").
+func rootsTables(w io.Writer, h *transfer.TransferFunction) error {
 	if err := rootsTable(w, "poles", h.Poles); err != nil {
 		return err
 	}
 	if len(h.Zeros) > 0 {
 		fmt.Fprintln(w)
-		if err := rootsTable(w, "zeros", h.Zeros); err != nil {
-			return err
-		}
-	} else {
-		fmt.Fprintln(w, "\nno finite zeros")
+		return rootsTable(w, "zeros", h.Zeros)
 	}
+	fmt.Fprintln(w, "\nno finite zeros")
 	return nil
 }
 

@@ -10,7 +10,6 @@ import (
 	"nodal/analysis/reduce"
 	"nodal/analysis/response"
 	"nodal/cmd/nodal/notation"
-	"nodal/cmd/nodal/plot"
 	"nodal/mna"
 	"nodal/netlist/syntax"
 )
@@ -140,18 +139,8 @@ func (c *transferCmd) runReduced(e *env, l *loaded, p tfProbe, sys *mna.System) 
 	}
 	what, unit := p.describe(l.circuit, sys.Input, sys.Output)
 	r := &tfResult{tf: m.TF, sys: sys, what: what, yName: p.yName, uName: p.uName, unit: unit}
-	if c.Plot != "" {
-		format, err := plot.FormatFromPath(c.Plot)
-		if err != nil {
-			return err
-		}
-		fig, err := plot.PoleZero(m.TF.Poles, m.TF.Zeros, plot.PoleZeroOptions{Title: fmt.Sprintf("dominant poles (×) and zeros (○) of %s: reduced model of order %d", r.what, m.Order)})
-		if err != nil {
-			return err
-		}
-		if err := writeTo(e, c.Plot, []string{c.File, c.Output}, func(w io.Writer) error { return fig.Encode(w, format) }); err != nil {
-			return err
-		}
+	if err := c.plotRoots(e, m.TF, fmt.Sprintf("dominant poles (×) and zeros (○) of %s: reduced model of order %d", r.what, m.Order)); err != nil {
+		return err
 	}
 	stab, err := circuitStability(l)
 	if err != nil {
@@ -218,16 +207,8 @@ func (rep *tfReport) reducedTable(w io.Writer, m *reduce.Model) error {
 	fmt.Fprintf(w, "zero-pole:  %s\n", zpkText(h))
 	fmt.Fprintln(w, "            (s and every frequency in rad/s)")
 	fmt.Fprintln(w)
-	if err := rootsTable(w, "poles", h.Poles); err != nil {
+	if err := rootsTables(w, h); err != nil {
 		return err
-	}
-	if len(h.Zeros) > 0 {
-		fmt.Fprintln(w)
-		if err := rootsTable(w, "zeros", h.Zeros); err != nil {
-			return err
-		}
-	} else {
-		fmt.Fprintln(w, "\nno finite zeros")
 	}
 	fmt.Fprintln(w)
 	t := newTable(w, "figure", "value")
