@@ -134,6 +134,53 @@ func TestReduceSmallCircuitIsExact(t *testing.T) {
 	}
 }
 
+// lossyLine is a transmission line of k LC sections (250 nH with 0.1 Ω in
+// series, 100 pF to ground: cut-off near 32 MHz, 5 ns a section) between
+// a 50 Ω source and a 50 Ω load, observed at the load.
+func lossyLine(t testing.TB, k int) *mna.System {
+	t.Helper()
+	parts := []netlist.Part{testcircuit.V("Vin", "in", netlist.Ground, 1), testcircuit.R("Rs", "in", "a0", 50)}
+	for j := 1; j <= k; j++ {
+		a, b, m := fmt.Sprint("a", j-1), fmt.Sprint("a", j), fmt.Sprint("b", j)
+		parts = append(parts, testcircuit.L(fmt.Sprint("L", j), a, m, 250e-9), testcircuit.R(fmt.Sprint("R", j), m, b, 0.1),
+			testcircuit.C(fmt.Sprint("C", j), b, netlist.Ground, 100e-12))
+	}
+	parts = append(parts, testcircuit.R("Rl", fmt.Sprint("a", k), netlist.Ground, 50))
+	return testcircuit.Build(t, testcircuit.New(parts...), mna.Output{Kind: mna.NodeVoltage, Node: fmt.Sprint("a", k)})
+}
+
+// TestLineReducedAndRefused: the 200-section line (603 unknowns, a 1 µs
+// delay: 5 turns of phase by 5 MHz) reduces over 10 kHz–5 MHz with
+// complex expansion points and matches direct solves; up to 60 MHz, past
+// the cut-off where every section matters, the reduction ends (no hang)
+// with ErrNotVerified and no model.
+func TestLineReducedAndRefused(t *testing.T) {
+	sys := lossyLine(t, 200)
+	m, err := Reduce(context.Background(), sys, Options{FromHz: 1e4, ToHz: 5e6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := 0; i < 97; i++ {
+		f := 1e4 * math.Pow(500, (float64(i)+0.5)/97)
+		s := complex(0, 2*math.Pi*f)
+		hd, err := sys.H(s)
+		if err != nil {
+			t.Fatal(err)
+		}
+		r := m.TF.EvalFactored(s) / hd
+		if db, deg := 20*math.Log10(cmplx.Abs(r)), cmplx.Phase(r)*180/math.Pi; math.Abs(db) > 0.01 || math.Abs(deg) > 0.1 {
+			t.Errorf("%.4g Hz: off by %.3g dB / %.3g°", f, db, deg)
+		}
+	}
+	if !m.Stable {
+		t.Errorf("RLC line: reduced poles not all stable: %v", m.TF.Poles)
+	}
+	m, err = Reduce(context.Background(), sys, Options{FromHz: 1e4, ToHz: 6e7})
+	if !errors.Is(err, ErrNotVerified) || m != nil {
+		t.Fatalf("to 60 MHz: got %v, %v; want ErrNotVerified", m, err)
+	}
+}
+
 // BenchmarkReduceLadder10k: the reduction (check grid of direct solves
 // included, building not) of the 10,000-section ladder over the range
 // transfer picks for it, 10 µHz–100 mHz.

@@ -150,16 +150,31 @@ func Reduce(ctx context.Context, sys *mna.System, opt Options) (*Model, error) {
 	}
 	sGain := complex(0, grid[top].w)
 	target := complex(wLo, 0)
+	stalls := 0
+	var lastErrs []float64
 	for len(bs.v) < opt.MaxOrder {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
+		k0 := len(bs.v)
 		if err := extend(sys, bs, &exps, target); err != nil {
 			return nil, err
 		}
 		if len(bs.v) == 0 {
 			return nil, errors.New("reduce: the input does not reach the unknowns (B is zero or singular)")
 		}
+		if len(bs.v) == k0 {
+			// Nothing new at that point: a new one where no point is yet,
+			// or the sequence ends.
+			stalls++
+			w, ok := freshPoint(exps, grid, lastErrs)
+			if !ok || stalls > maxStalls {
+				break
+			}
+			target = complex(0, w)
+			continue
+		}
+		stalls = 0
 		rm := bs.reduced()
 		tf, err := rm.transferFunction(wMid, wMid, sGain)
 		if err != nil {
@@ -167,6 +182,7 @@ func Reduce(ctx context.Context, sys *mna.System, opt Options) (*Model, error) {
 			continue
 		}
 		worst, e, db, deg := compare(tf, grid, opt)
+		lastErrs = pointErrors(tf, grid, opt)
 		if e < best.e {
 			best.tf, best.e, best.db, best.deg, best.atHz = tf, e, db, deg, grid[worst].w/(2*math.Pi)
 		}
@@ -206,8 +222,46 @@ func Reduce(ctx context.Context, sys *mna.System, opt Options) (*Model, error) {
 	if best.tf == nil {
 		return nil, fmt.Errorf("%w within %g dB and %g° over %g–%g Hz: no reduced model up to order %d could be formed", ErrNotVerified, opt.TolDB, opt.TolDeg, opt.FromHz, opt.ToHz, opt.MaxOrder)
 	}
-	return nil, fmt.Errorf("%w within %g dB and %g° over %g–%g Hz up to order %d (the best, order %d, is off by %.3g dB / %.3g° at %.4g Hz)",
-		ErrNotVerified, opt.TolDB, opt.TolDeg, opt.FromHz, opt.ToHz, opt.MaxOrder, best.tf.Order(), best.db, best.deg, best.atHz)
+	return nil, fmt.Errorf("%w within %g dB and %g° over %.4g–%.4g Hz with up to %d basis vectors at %d expansion points (the best, order %d, is off by %.3g dB / %.3g° at %.4g Hz)",
+		ErrNotVerified, opt.TolDB, opt.TolDeg, opt.FromHz, opt.ToHz, len(bs.v), len(exps), best.tf.Order(), best.db, best.deg, best.atHz)
+}
+
+// maxStalls is how many expansion points in a row may add nothing to the
+// basis before the reduction gives up.
+const maxStalls = 8
+
+// freshPoint is the check frequency (rad/s) of largest error (errs, by
+// grid point; the lowest frequency when nil) that is more than a factor
+// 1.5 from every expansion point; ok is false when there is none.
+func freshPoint(exps []*expansion, grid []checkPoint, errs []float64) (float64, bool) {
+	best, bestE := 0.0, -1.0
+	for i, p := range grid {
+		far := true
+		for _, x := range exps {
+			if r := cmplx.Abs(x.s) / p.w; r < 1.5 && r > 1/1.5 {
+				far = false
+				break
+			}
+		}
+		e := 0.0
+		if i < len(errs) {
+			e = errs[i]
+		}
+		if far && e > bestE {
+			best, bestE = p.w, e
+		}
+	}
+	return best, bestE >= 0
+}
+
+// pointErrors is the normalised error (≤ 1 passes) of tf at each check
+// point.
+func pointErrors(tf *transfer.TransferFunction, grid []checkPoint, opt Options) []float64 {
+	out := make([]float64, len(grid))
+	for i := range grid {
+		_, out[i], _, _ = compare(tf, grid[i:i+1], opt)
+	}
+	return out
 }
 
 // nextTarget is where the next basis vectors come from: the expansion

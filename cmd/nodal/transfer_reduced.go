@@ -67,10 +67,12 @@ const scanStepsPerDecade = 4
 // response within shapeWindowDB of its largest gain): from a decade below
 // the lowest pole of an unverified model expanded about DC (about the
 // parts' lowest corner when Y(0) is singular), rounded down to a decade,
-// up to where direct solves stepping up from there first find the gain
-// shapeWindowDB below the largest so far (rounded up to 1, 2 or 5 times
-// a power of ten), or to ten times the parts' highest corner when it
-// never falls that far. from (Hz), when above 0, is a given low end.
+// up to where direct solves stepping up from there (4 a decade) first
+// find the gain shapeWindowDB below the largest so far (found by
+// bisection when that step fell off a cliff; rounded up to 1,
+// 2 or 5 times a power of ten when the gain there is still within twice
+// the window), or to ten times the parts' highest corner when it never
+// falls that far. from (Hz), when above 0, is a given low end.
 func exploreRange(e *env, l *loaded, sys *mna.System, from float64) (float64, float64, error) {
 	pLo, pHi := response.DefaultRange(l.circuit)
 	lo := from
@@ -93,23 +95,51 @@ func exploreRange(e *env, l *loaded, sys *mna.System, from float64) (float64, fl
 	}
 	w := mna.NewSweeper(sys)
 	limit := 10 * math.Max(pHi, lo)
+	gain := func(f float64) (float64, bool) {
+		h, _, err := w.Eval(complex(0, 2*math.Pi*f))
+		return cmplx.Abs(h), err == nil // an error: a pole on the axis
+	}
+	window := math.Pow(10, -shapeWindowDB/20.0)
 	top := 0.0
-	f := lo
-	for ; f < limit; f *= math.Pow(10, 1.0/scanStepsPerDecade) {
+	f, prev := lo, 0.0
+	for ; f < limit; prev, f = f, f*math.Pow(10, 1.0/scanStepsPerDecade) {
 		if err := e.ctx.Err(); err != nil {
 			return 0, 0, err
 		}
-		h, _, err := w.Eval(complex(0, 2*math.Pi*f))
-		if err != nil {
-			continue // a pole on the axis: the next step
+		g, ok := gain(f)
+		if !ok {
+			continue
 		}
-		g := cmplx.Abs(h)
 		top = math.Max(top, g)
-		if top > 0 && g < top*math.Pow(10, -shapeWindowDB/20.0) {
+		if top > 0 && g < top*window {
 			break
 		}
 	}
-	return lo, roundUp125(math.Min(f, limit)), nil
+	// A cliff (a line above its cut-off falls thousands of dB in one
+	// step): bisect, in log f, for where the gain crosses the window.
+	if g, ok := gain(f); ok && prev > 0 && f < limit && g < top*window*window {
+		a, b := prev, f
+		for i := 0; i < 30 && b/a > 1.001; i++ {
+			m := math.Sqrt(a * b)
+			if gm, ok := gain(m); ok && gm < top*window {
+				b = m
+			} else {
+				a = m
+			}
+		}
+		f = b
+	}
+	f = math.Min(f, limit)
+	// Rounded up only while the gain there is within twice the window
+	// of the peak: past a steep roll-off (a line above its cut-off) the
+	// rounded end could be thousands of dB down, where nothing can be
+	// checked.
+	if r := roundUp125(f); r <= limit {
+		if h, _, err := w.Eval(complex(0, 2*math.Pi*r)); err == nil && cmplx.Abs(h) >= top*math.Pow(10, -2*shapeWindowDB/20.0) {
+			return lo, r, nil
+		}
+	}
+	return lo, f, nil
 }
 
 // roundUp125 rounds f > 0 up to 1, 2 or 5 times a power of ten.
