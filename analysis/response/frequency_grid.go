@@ -73,7 +73,11 @@ func LinearGrid(from, to float64, n int) []float64 {
 // gbw/a0. A circuit with none of these gets 10 Hz to 100 kHz. This is a
 // first estimate: the circuit's poles and zeros give a better one.
 func DefaultRange(c *netlist.Circuit) (fromHz, toHz float64) {
-	var rs, cs, ls []float64
+	// Each corner is monotone in both of its part values, so its extremes
+	// over all pairs are at the extreme values: the smallest and largest
+	// positive R, C and L stand for every pair (O(parts), not O(parts²):
+	// a 10,000-section ladder has 10⁸ pairs).
+	var r, cp, l valueSpan
 	lo, hi := math.Inf(1), math.Inf(-1)
 	note := func(f float64) {
 		if f > 0 && !math.IsInf(f, 0) {
@@ -83,11 +87,11 @@ func DefaultRange(c *netlist.Circuit) (fromHz, toHz float64) {
 	for _, p := range c.Parts {
 		switch p.Kind {
 		case netlist.Resistor:
-			rs = append(rs, p.Value)
+			r.add(p.Value)
 		case netlist.Capacitor:
-			cs = append(cs, p.Value)
+			cp.add(p.Value)
 		case netlist.Inductor:
-			ls = append(ls, p.Value)
+			l.add(p.Value)
 		case netlist.OpAmp:
 			note(p.GBWHz)
 			if p.A0 > 0 {
@@ -96,21 +100,46 @@ func DefaultRange(c *netlist.Circuit) (fromHz, toHz float64) {
 		}
 	}
 	const twoPi = 2 * math.Pi
-	for _, r := range rs {
-		for _, cv := range cs {
-			note(1 / (twoPi * r * cv))
+	for _, rv := range r.ends() {
+		for _, cv := range cp.ends() {
+			note(1 / (twoPi * rv * cv))
 		}
-		for _, l := range ls {
-			note(r / (twoPi * l))
+		for _, lv := range l.ends() {
+			note(rv / (twoPi * lv))
 		}
 	}
-	for _, l := range ls {
-		for _, cv := range cs {
-			note(1 / (twoPi * math.Sqrt(l*cv)))
+	for _, lv := range l.ends() {
+		for _, cv := range cp.ends() {
+			note(1 / (twoPi * math.Sqrt(lv*cv)))
 		}
 	}
 	if lo > hi {
 		return 10, 100e3
 	}
 	return lo / 100, hi * 100
+}
+
+// valueSpan is the smallest and largest positive finite part value seen.
+type valueSpan struct {
+	min, max float64
+	any      bool
+}
+
+func (v *valueSpan) add(x float64) {
+	if !(x > 0) || math.IsInf(x, 0) {
+		return // gives no corner
+	}
+	if !v.any {
+		v.min, v.max, v.any = x, x, true
+		return
+	}
+	v.min, v.max = math.Min(v.min, x), math.Max(v.max, x)
+}
+
+// ends returns the extreme values (none when no value was seen).
+func (v valueSpan) ends() []float64 {
+	if !v.any {
+		return nil
+	}
+	return []float64{v.min, v.max}
 }

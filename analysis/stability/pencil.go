@@ -114,32 +114,28 @@ func balanced(a, e *mat.Dense, w0 float64) (*mat.Dense, *mat.Dense) {
 	n, _ := a.Dims()
 	as, es := mat.DenseCopyOf(a), mat.NewDense(n, n, nil)
 	es.Scale(w0, e)
-	// line returns pointers to the entries of row (or column) i of both.
-	line := func(i int, row bool) (a, e []*float64) {
-		ra, re := as.RawMatrix(), es.RawMatrix()
-		for j := 0; j < n; j++ {
-			k := i*ra.Stride + j
-			if !row {
-				k = j*ra.Stride + i
-			}
-			a, e = append(a, &ra.Data[k]), append(e, &re.Data[k])
-		}
-		return a, e
-	}
+	// Rows then columns, eight sweeps, each line scaled by the power of
+	// two that brings its maximum of |A| + |w0·E| near 1; the entries are
+	// reached in place through the raw storage (strides: 1 along a row,
+	// Stride down a column).
+	ra, re := as.RawMatrix(), es.RawMatrix()
 	for sweep := 0; sweep < 8; sweep++ {
 		for i := 0; i < 2*n; i++ {
-			a, e := line(i%n, i < n)
+			start, step := (i%n)*ra.Stride, 1
+			if i >= n {
+				start, step = i%n, ra.Stride
+			}
 			m := 0.0
-			for j := range a {
-				m = math.Max(m, math.Abs(*a[j])+math.Abs(*e[j]))
+			for j, k := 0, start; j < n; j, k = j+1, k+step {
+				m = math.Max(m, math.Abs(ra.Data[k])+math.Abs(re.Data[k]))
 			}
 			if m == 0 {
 				continue
 			}
 			f := math.Ldexp(1, -math.Ilogb(m))
-			for j := range a {
-				*a[j] *= f
-				*e[j] *= f
+			for j, k := 0, start; j < n; j, k = j+1, k+step {
+				ra.Data[k] *= f
+				re.Data[k] *= f
 			}
 		}
 	}

@@ -253,22 +253,22 @@ func checkDoc(res *check.CheckResult, agrees bool, sc symbolicCheck) checkJSON {
 // pole at DC and 0 for a zero there; gain_dc_db only for a finite,
 // non-zero DC gain; f3db and the peak only when they exist.
 type tfJSON struct {
-	Cancelled   []complexJSON `json:"cancelled,omitempty"`
-	Den         []float64     `json:"den"`
-	F3dBHz      []float64     `json:"f3db_hz,omitempty"`
-	F3dBRefDB   *float64      `json:"f3db_ref_db,omitempty"`
-	Factored    string        `json:"factored"`
-	Gain        *float64      `json:"gain"`
-	GainDC      *float64      `json:"gain_dc"`
-	GainDCDB    *float64      `json:"gain_dc_db,omitempty"`
-	HFAsymptote asymptoteJSON `json:"hf_asymptote"`
-	Num         []float64     `json:"num"`
+	Cancelled   []complexJSON  `json:"cancelled,omitempty"`
+	Den         []float64      `json:"den"`
+	F3dBHz      []float64      `json:"f3db_hz,omitempty"`
+	F3dBRefDB   *float64       `json:"f3db_ref_db,omitempty"`
+	Factored    string         `json:"factored"`
+	Gain        *float64       `json:"gain"`
+	GainDC      *float64       `json:"gain_dc"`
+	GainDCDB    *float64       `json:"gain_dc_db,omitempty"`
+	HFAsymptote *asymptoteJSON `json:"hf_asymptote,omitempty"`
+	Num         []float64      `json:"num"`
 	// NumScaled, DenScaled: the coefficients in ŝ = s/ScaleRadS, given
 	// only when those in s do not fit a float64 (Num, Den, Gain null).
 	NumScaled []float64  `json:"num_scaled,omitempty"`
 	DenScaled []float64  `json:"den_scaled,omitempty"`
 	ScaleRadS *float64   `json:"scale_rad_s,omitempty"`
-	ODE       string     `json:"ode"`
+	ODE       string     `json:"ode,omitempty"`
 	Pairs     []pairJSON `json:"pairs"`
 	PeakDB    *float64   `json:"peak_db,omitempty"`
 	PeakHz    *float64   `json:"peak_hz,omitempty"`
@@ -286,6 +286,11 @@ type tfJSON struct {
 	What       string     `json:"what"`
 	ZeroPairs  []pairJSON `json:"zero_pairs"`
 	Zeros      []rootJSON `json:"zeros"`
+	// Reduced is true when the roots are the dominant ones of a reduced
+	// model (ReducedModel says which and how it was verified; the ode and
+	// hf_asymptote keys are then left out), false for the full extraction.
+	Reduced      bool         `json:"reduced"`
+	ReducedModel *reducedJSON `json:"reduced_model,omitempty"`
 	stabilityJSON
 }
 
@@ -355,7 +360,7 @@ func tfDoc(rep *tfReport) tfJSON {
 	doc := tfJSON{What: rep.r.what, Unit: rep.r.unit,
 		Poles: distinctRootsJSON(h.Poles), Zeros: distinctRootsJSON(h.Zeros), Pairs: pairsJSON(rep.pairs), ZeroPairs: pairsJSON(rep.zeroPairs),
 		Factored: factoredText(h), ODE: odeText(rep.ode, rep.r.yName, rep.r.uName),
-		HFAsymptote: asymptoteJSON{Gain: finiteOrNil(rep.hf.Gain), Power: rep.hf.Power, SlopeDBPerDecade: finiteOrNil(rep.hf.SlopeDBPerDecade)}}
+		HFAsymptote: &asymptoteJSON{Gain: finiteOrNil(rep.hf.Gain), Power: rep.hf.Power, SlopeDBPerDecade: finiteOrNil(rep.hf.SlopeDBPerDecade)}}
 	if h.Fits() {
 		doc.Num, doc.Den, doc.Gain = h.Num, h.Den, finiteOrNil(h.Gain)
 	} else {

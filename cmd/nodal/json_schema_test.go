@@ -26,6 +26,7 @@ var schemaCases = []struct {
 	{"sweep", []string{"sweep", rcFile, "--out", "out", "--at", "1k,2k", "--format", "json"}},
 	{"transfer", []string{"transfer", "../../testdata/examples/logger_antialias.nodal", "--out", "out", "--format", "json"}},
 	{"transfer_rc", []string{"transfer", rcFile, "--out", "out", "--format", "json"}},
+	{"transfer_reduced", []string{"transfer", "../../testdata/perf/cable_ladder_1000.nodal", "--out", "n1000", "--format", "json"}},
 	{"noise", []string{"noise", rcFile, "--out", "out", "--band", "10..10k", "--format", "json"}},
 	{"transfer_axis", []string{"transfer", "testdata/lc_tank.nodal", "--out", "out", "--format", "json"}},
 	{"transfer_symbolic", []string{"transfer", rcFile, "--out", "out", "--symbolic", "--format", "json"}},
