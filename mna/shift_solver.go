@@ -13,33 +13,15 @@ import "fmt"
 // hold factorisations at several shifts at once.
 type ShiftSolver struct {
 	sys *System
-	o   *luOrder
-	f   factorizer
-	s   complex128
-	ok  bool // a factorisation at s is held
+	heldFactor
 }
 
 // NewShiftSolver allocates the working memory for sys (the dense path for
 // small systems, the sparse one above denseMaxUnknowns, as NewSweeper).
+// Factor and S are those of Solver.
 func NewShiftSolver(sys *System) *ShiftSolver {
-	o := sys.order()
-	return &ShiftSolver{sys: sys, o: o, f: newFactorizer(o, false)}
+	return &ShiftSolver{sys: sys, heldFactor: newHeldFactor(sys.order())}
 }
-
-// Factor assembles and factors Y(s) at the complex frequency s (rad/s). A
-// numerically singular Y(s) gives a *SingularError and leaves the
-// ShiftSolver without a factorisation.
-func (w *ShiftSolver) Factor(s complex128) error {
-	w.ok = false
-	if err := factorWith(w.f, w.o.p, s); err != nil {
-		return err
-	}
-	w.s, w.ok = s, true
-	return nil
-}
-
-// S returns the complex frequency (rad/s) of the last successful Factor.
-func (w *ShiftSolver) S() complex128 { return w.s }
 
 // Solve overwrites x (length Size(), indexed by unknown) with Y(s)⁻¹·x for
 // the s of the last Factor.
@@ -62,8 +44,8 @@ func (w *ShiftSolver) SolveTransposed(x []complex128) error {
 }
 
 func (w *ShiftSolver) check(nx int) error {
-	if !w.ok {
-		return fmt.Errorf("solve: no factorisation (call Factor first, and check its error)")
+	if err := w.held(); err != nil {
+		return err
 	}
 	if n := w.sys.Size(); nx != n {
 		return fmt.Errorf("solve: x has length %d, the system has %d unknowns", nx, n)

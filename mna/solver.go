@@ -13,23 +13,32 @@ import "fmt"
 // BrokenControl) come with their own Matrices (Excited.M): make a Solver
 // for those.
 type Solver struct {
-	m  *Matrices
+	m *Matrices
+	heldFactor
+}
+
+// NewSolver allocates the working memory for m.
+func NewSolver(m *Matrices) *Solver {
+	return &Solver{m: m, heldFactor: newHeldFactor(m.order())}
+}
+
+// heldFactor is the one factorisation of Y(s) a Solver or ShiftSolver
+// holds: Factor and S, and the check every solve makes before using it.
+type heldFactor struct {
 	o  *luOrder
 	f  factorizer
 	s  complex128
 	ok bool // a factorisation at s is held
 }
 
-// NewSolver allocates the working memory for m.
-func NewSolver(m *Matrices) *Solver {
-	o := m.order()
-	return &Solver{m: m, o: o, f: newFactorizer(o, false)}
+func newHeldFactor(o *luOrder) heldFactor {
+	return heldFactor{o: o, f: newFactorizer(o, false)}
 }
 
 // Factor assembles and factors Y(s) at the complex frequency s (rad/s). A
-// numerically singular Y(s) gives a *SingularError and leaves the Solver
-// without a factorisation.
-func (w *Solver) Factor(s complex128) error {
+// numerically singular Y(s) gives a *SingularError and leaves no
+// factorisation held.
+func (w *heldFactor) Factor(s complex128) error {
 	w.ok = false
 	if err := factorWith(w.f, w.o.p, s); err != nil {
 		return err
@@ -39,7 +48,15 @@ func (w *Solver) Factor(s complex128) error {
 }
 
 // S returns the complex frequency (rad/s) of the last successful Factor.
-func (w *Solver) S() complex128 { return w.s }
+func (w *heldFactor) S() complex128 { return w.s }
+
+// held reports a missing factorisation.
+func (w *heldFactor) held() error {
+	if !w.ok {
+		return fmt.Errorf("solve: no factorisation (call Factor first, and check its error)")
+	}
+	return nil
+}
 
 // Solve writes x = Y(s)⁻¹·b for the frequency of the last Factor; b (real)
 // and x have length Size() of the Matrices. The response of an output row
@@ -80,8 +97,8 @@ func (w *Solver) Adjoint(r Row, z []complex128) error {
 
 func (w *Solver) check(nb, nx int) error {
 	n := w.m.Size()
-	if !w.ok {
-		return fmt.Errorf("solve: no factorisation (call Factor first, and check its error)")
+	if err := w.held(); err != nil {
+		return err
 	}
 	if nb != n || nx != n {
 		return fmt.Errorf("solve: vectors of length %d and %d, the system has %d unknowns", nb, nx, n)
