@@ -61,7 +61,7 @@ func TestUsageErrorsExitTwo(t *testing.T) {
 		{"a value of many commands", []string{"json", rcFile}, `unknown command "json"; the nearest is`},
 		{"old zin", []string{"transfer", rcFile, "--zin", "Vs"}, "unknown flag --zin"},
 		{"old zout", []string{"transfer", rcFile, "--zout", "out"}, "unknown flag --zout"},
-		{"old vsource", []string{"parts", "-"}, `unknown element kind or block "vsource" (the nearest is "voltage source"`},
+		{"misspelt voltage source", []string{"parts", "-"}, `unknown element kind or block "voltsource" (the nearest is "voltage source"`},
 		{"missing file", []string{"parts", "testdata/no-such.nodal"}, "no-such.nodal"},
 		{"unknown node lists nodes", []string{"sweep", rcFile, "--out", "nowhere"}, `(nodes: "gnd", "in", "out")`},
 		{"unknown source lists sources", []string{"sweep", rcFile, "--out", "out", "--in", "V9"}, "Vs"},
@@ -69,7 +69,7 @@ func TestUsageErrorsExitTwo(t *testing.T) {
 		{"bad signal", []string{"drive", rcFile, "--out", "out", "--signal", "sin(2*pi*t +)"}, "--signal"},
 	}
 	for _, tc := range cases {
-		r := runNodal(t, "Vs: vsource (in, gnd) 1\nR1: resistor (in, gnd) 1k\n", tc.args...)
+		r := runNodal(t, "Vs: voltsource (in, gnd) 1\nR1: resistor (in, gnd) 1k\n", tc.args...)
 		if r.code != exitInput || !strings.Contains(r.stderr, tc.want) {
 			t.Errorf("%s: code %d, stderr %q; want exit 2 mentioning %q", tc.name, r.code, r.stderr, tc.want)
 		}
