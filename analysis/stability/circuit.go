@@ -53,11 +53,11 @@ func OfMatrices(m *mna.Matrices) (Class, []complex128, []complex128, error) {
 	if m.Size() > MaxUnknowns {
 		return Unchecked, nil, nil, nil
 	}
-	roots, w0, err := FiniteEigenvalues(m.G.Dense(), m.C.Dense())
+	roots, _, err := FiniteEigenvalues(m.G.Dense(), m.C.Dense())
 	if err != nil {
 		return Unstable, nil, nil, err
 	}
-	cl, off := Classify(roots, w0)
+	cl, off := Classify(roots)
 	return cl, roots, off, nil
 }
 

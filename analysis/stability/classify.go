@@ -60,31 +60,21 @@ const (
 	// AxisTol: |Re λ| at or below AxisTol·|λ| is on the jω axis (a tank
 	// with Q above about 5·10⁸ counts as lossless).
 	AxisTol = 1e-9
-	// zeroTol: |λ| at or below zeroTol·ω0 is s = 0 exactly (about 10⁶
-	// times the rounding of the scaled pencil).
-	zeroTol = 1e-10
-	// zeroClusterTol: k ≥ 2 roots within zeroClusterTol·ω0 of 0 whose
-	// mean is no larger than their spread are one k-fold root at s = 0
-	// split by rounding (by about ε^(1/k)·ω0).
-	zeroClusterTol = 1e-7
-	// repeatTol: two axis frequencies closer than repeatTol·|λ| (or
-	// zeroClusterTol·ω0) are one repeated frequency.
+	// repeatTol: two axis frequencies closer than repeatTol times the
+	// larger magnitude are one repeated frequency (two exact zeros are).
 	repeatTol = 1e-6
 )
 
-// Classify snaps roots that are zero or on the jω axis within the
-// tolerances above (w0, rad/s, is the characteristic frequency returned
-// by FiniteEigenvalues), sorts them by decreasing real part, and returns
-// the class with the offending roots: for Unstable every root in the
-// closed right half-plane, for Marginal those on the axis, for Stable
-// none. roots is changed in place.
-func Classify(roots []complex128, w0 float64) (Class, []complex128) {
-	snapZeroCluster(roots, w0)
+// Classify snaps roots on the jω axis within AxisTol, sorts them by
+// decreasing real part, and returns the class with the offending roots:
+// for Unstable every root in the closed right half-plane, for Marginal
+// those on the axis, for Stable none. roots is changed in place. A root
+// at s = 0 must be exactly 0 (FiniteEigenvalues decides it by a rank
+// test); no magnitude is judged "zero" here, so the class does not depend
+// on the units of the circuit's values.
+func Classify(roots []complex128) (Class, []complex128) {
 	for i, r := range roots {
-		switch {
-		case cmplx.Abs(r) <= zeroTol*w0:
-			roots[i] = 0
-		case math.Abs(real(r)) <= AxisTol*cmplx.Abs(r):
+		if imag(r) != 0 && math.Abs(real(r)) <= AxisTol*cmplx.Abs(r) {
 			roots[i] = complex(0, imag(r))
 		}
 	}
@@ -106,7 +96,7 @@ func Classify(roots []complex128, w0 float64) (Class, []complex128) {
 	repeated := false
 	for i := range axis {
 		for j := i + 1; j < len(axis); j++ {
-			sc := math.Max(repeatTol*cmplx.Abs(axis[i]), zeroClusterTol*w0)
+			sc := repeatTol * math.Max(cmplx.Abs(axis[i]), cmplx.Abs(axis[j]))
 			if cmplx.Abs(axis[i]-axis[j]) <= sc {
 				repeated = true
 			}
@@ -119,30 +109,4 @@ func Classify(roots []complex128, w0 float64) (Class, []complex128) {
 		return Marginal, axis
 	}
 	return Stable, nil
-}
-
-// snapZeroCluster sets to 0 the roots near s = 0 that are one multiple
-// root split by rounding (see zeroClusterTol).
-func snapZeroCluster(roots []complex128, w0 float64) {
-	var idx []int
-	var mean complex128
-	for i, r := range roots {
-		if cmplx.Abs(r) <= zeroClusterTol*w0 {
-			idx = append(idx, i)
-			mean += r
-		}
-	}
-	if len(idx) < 2 {
-		return
-	}
-	mean /= complex(float64(len(idx)), 0)
-	spread := 0.0
-	for _, i := range idx {
-		spread = math.Max(spread, cmplx.Abs(roots[i]-mean))
-	}
-	if cmplx.Abs(mean) <= spread {
-		for _, i := range idx {
-			roots[i] = 0
-		}
-	}
 }

@@ -1,9 +1,13 @@
 package stability
 
 import (
+	"cmp"
 	"errors"
 	"math"
+	"math/cmplx"
+	"slices"
 
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"nodal/analysis/transfer"
@@ -15,8 +19,11 @@ import (
 //
 // Method (index reduction by orthogonal compression):
 //
-//  0. Scale: s = ω0·ŝ with ω0 = ‖A‖_F/‖E‖_F, then balance rows and columns
-//     of |A| + |ω0·E| by powers of two (exact in floating point).
+//  0. Scale: s = ω0·ŝ and D1·(A + sE)·D2 with ω0, D1, D2 powers of two
+//     (exact in floating point) from Ward's least-squares balancing of the
+//     entries' exponents, then max-balancing of |A| + |ω0·E| (equilibrate):
+//     invariant under any diagonal scaling of the input, so no decision
+//     below depends on the units of the circuit's values.
 //  1. Compress E by its SVD, E = U·Σ·Vᵀ, rank r (singular values above
 //     eRankTol·‖E‖): Uᵀ(A + sE)V has a zero E in its last m = n − r rows
 //     and columns. If r = n, the eigenvalues are those of −Σ⁻¹·UᵀAV
@@ -34,9 +41,13 @@ import (
 //     lacks full rank m', det(A + sE) ≡ 0 (a singular pencil).
 //  4. Repeat from 1 on the smaller pencil.
 //
-// Every rank decision is on a block that is either a scaled capacitance
-// or inductance (E) or a scaled conductance or incidence (A), so the
-// singular values that count are far above the rounding-level ones.
+// Every rank decision is on a block of the equilibrated pencil that is
+// either a scaled capacitance or inductance (E) or a scaled conductance or
+// incidence (A), so the singular values that count are far above the
+// rounding-level ones, whatever the units (a 5·10⁻¹³ S conductance beside
+// a unit incidence of a source branch is an entry near 1 after scaling).
+// The multiplicity of s = 0 is decided by the same reduction run on the
+// reversed pencil E + tA (wholeEigenvalues).
 // Because infinite eigenvalues are removed before any eigenvalue is
 // computed, they cannot show up as large finite ones.
 
@@ -52,16 +63,21 @@ const (
 
 // FiniteEigenvalues returns every finite root of det(a + s·e) (rad/s when
 // a is G and e is C of an MNA system) and the characteristic frequency ω0
-// (rad/s) of the scaling, by which callers judge "small" and "on the
-// axis". a and e are not changed. Errors: ErrSingularPencil for
-// det ≡ 0, or a non-converging eigenvalue iteration.
+// (rad/s) of the equilibration of the whole pencil (see equilibrate). a
+// and e are not changed. Roots at s = 0 are exactly 0, decided by a rank
+// test (see wholeEigenvalues); no other root is ever set to 0. Errors:
+// ErrSingularPencil for det ≡ 0, or a non-converging eigenvalue iteration.
+//
+// Every rank decision is made on an equilibrated pencil, so scaling the
+// rows and columns of a + s·e (impedance scaling: every R and L by 10^k,
+// every C by 10^−k) changes neither the roots nor any decision.
 //
 // The pencil is first permuted to block triangular form (transfer.BlockTriangular):
-// its roots are those of the diagonal blocks, each found on its own, so a
-// chain of identical stages that do not load one another gives each stage's
-// roots to rounding instead of one defective N-fold root split by about
-// ε^(1/N) (into the right half-plane at N ≥ 18 for inverting stages of
-// gain 10). ω0 is that of the whole pencil.
+// its roots are those of the diagonal blocks, each equilibrated and solved
+// on its own, so a chain of identical stages that do not load one another
+// gives each stage's roots to rounding instead of one defective N-fold root
+// split by about ε^(1/N) (into the right half-plane at N ≥ 18 for
+// inverting stages of gain 10).
 func FiniteEigenvalues(a, e *mat.Dense) (roots []complex128, w0 float64, err error) {
 	n, _ := a.Dims()
 	if r, c := e.Dims(); r != n || c != n {
@@ -71,10 +87,7 @@ func FiniteEigenvalues(a, e *mat.Dense) (roots []complex128, w0 float64, err err
 	if len(blocks) < 2 {
 		return wholeEigenvalues(a, e)
 	}
-	w0 = 1
-	if an, en := mat.Norm(a, 2), mat.Norm(e, 2); an > 0 && en > 0 {
-		w0 = an / en
-	}
+	_, _, w0 = equilibrate(a, e)
 	for _, b := range blocks {
 		sa := transfer.SubMatrix(a, b.Rows, b.Cols)
 		se := transfer.SubMatrix(e, b.Rows, b.Cols)
@@ -87,35 +100,205 @@ func FiniteEigenvalues(a, e *mat.Dense) (roots []complex128, w0 float64, err err
 	return roots, w0, nil
 }
 
-// wholeEigenvalues is FiniteEigenvalues on the pencil as one block.
-func wholeEigenvalues(a, e *mat.Dense) (roots []complex128, w0 float64, err error) {
-	an, en := mat.Norm(a, 2), mat.Norm(e, 2)
+// wholeEigenvalues is FiniteEigenvalues on the pencil as one block: the
+// roots of the equilibrated pencil (in units of its ω0), with the
+// multiplicity m of s = 0 from a rank test, the number of infinite
+// eigenvalues of the reversed pencil e + t·a (t = 1/s) that its index
+// reduction removes (m = n − deg det(e + t·a)). The m smallest roots are
+// set to 0 when the eigenvalue iteration also put them below
+// transfer.OriginGuard(m) (in units of ω0), as the transfer function's
+// roots at s = 0 are decided; a rank test alone never moves a root, and
+// no tolerance on |s| does either, so a tiny genuine root (a 10 TΩ leak
+// across an integrator's 10 nF) stays.
+func wholeEigenvalues(a, e *mat.Dense) ([]complex128, float64, error) {
+	as, es, w0 := equilibrate(a, e)
+	an, en := mat.Norm(as, 2), mat.Norm(es, 2)
 	if en == 0 {
-		if an == 0 || !fullRank(a, aRankTol*an) {
+		if an == 0 || !fullRank(as, aRankTol*an) {
 			return nil, 0, ErrSingularPencil
 		}
-		return nil, 0, nil
+		return nil, w0, nil
 	}
-	w0 = 1
-	if an > 0 {
-		w0 = an / en
+	roots, _, err := reduce(as, es, false)
+	if err != nil {
+		return nil, 0, err
 	}
-	as, es := balanced(a, e, w0)
-	roots, err = reduce(as, es)
+	snapOrigin(roots, func() int {
+		n, _ := as.Dims()
+		if clearlyRegular(as) {
+			return 0
+		}
+		_, finite, err := reduce(es, as, true)
+		if err != nil {
+			return 0
+		}
+		return n - finite
+	})
 	for i := range roots {
 		roots[i] *= complex(w0, 0)
 	}
-	return roots, w0, err
+	return roots, w0, nil
 }
 
-// balanced returns D1·A·D2 and D1·(w0·E)·D2 with power-of-two diagonal
-// D1, D2 that bring the row and column maxima of |A| + |w0·E| near 1.
-func balanced(a, e *mat.Dense, w0 float64) (*mat.Dense, *mat.Dense) {
+// clearlyRegular reports whether the condition estimate of the square m
+// shows its smallest singular value far above eRankTol·‖m‖₂
+// (σmin ≥ ‖m‖₁/(√n·cond₁)), so that reduce would find it of full rank
+// without an SVD.
+func clearlyRegular(m *mat.Dense) bool {
+	n, _ := m.Dims()
+	var lu mat.LU
+	lu.Factorize(m)
+	c := lu.Cond()
+	return !math.IsInf(c, 0) && !math.IsNaN(c) && c*math.Sqrt(float64(n))*eRankTol*mat.Norm(m, 2)*10 < mat.Norm(m, 1)
+}
+
+// snapOrigin sets to 0 the m smallest roots (scaled units), m from
+// multiplicity, when they all lie below transfer.OriginGuard(m). The rank
+// test is run only when some root could pass that guard.
+func snapOrigin(roots []complex128, multiplicity func() int) {
+	if len(roots) == 0 {
+		return
+	}
+	idx := make([]int, len(roots))
+	for i := range idx {
+		idx[i] = i
+	}
+	slices.SortStableFunc(idx, func(x, y int) int { return cmp.Compare(cmplx.Abs(roots[x]), cmplx.Abs(roots[y])) })
+	if cmplx.Abs(roots[idx[0]]) > transfer.OriginGuard(len(roots)) {
+		return // OriginGuard grows with m: no m can pass
+	}
+	m := multiplicity()
+	if m <= 0 || m > len(roots) || cmplx.Abs(roots[idx[m-1]]) > transfer.OriginGuard(m) {
+		return
+	}
+	for _, i := range idx[:m] {
+		roots[i] = 0
+	}
+}
+
+// equilibrate returns D1·a·D2, ω0·D1·e·D2 and ω0 (rad/s per scaled unit),
+// with D1, D2 diagonal and ω0 powers of two (exact in floating point),
+// chosen first by the least-squares balancing of Ward ("Balancing the
+// generalized eigenvalue problem", SIAM J. Sci. Stat. Comput. 2, 1981):
+// row scales r, column scales c and the frequency scale w minimise
+//
+//	Σ_{a_ij ≠ 0} (log₂|a_ij| + r_i + c_j)² + Σ_{e_ij ≠ 0} (log₂|e_ij| + r_i + c_j + w)²,
+//
+// so that every non-zero entry of both matrices is as near 1 as a diagonal
+// scaling allows, then by max-balancing sweeps (balanced). The minimiser
+// of that sum is unique up to r + t, c − t, which leaves the scaled
+// matrices unchanged, so a diagonal scaling of the input (impedance
+// scaling) shifts r and c and leaves the result unchanged up to the
+// rounding of the exponents to integers; ω0 = 2^w is the pencil's own
+// frequency scale (1/RC for one RC section), not that of its largest
+// entry. When a or e is zero, ω0 = 1.
+func equilibrate(a, e *mat.Dense) (as, es *mat.Dense, w0 float64) {
 	n, _ := a.Dims()
-	as, es := mat.DenseCopyOf(a), mat.NewDense(n, n, nil)
-	es.Scale(w0, e)
+	type entry struct {
+		i, j int
+		l    float64 // log₂ |value|
+		dyn  bool    // an entry of e
+	}
+	var ents []entry
+	var na, ne int
+	for _, m := range []struct {
+		x   *mat.Dense
+		dyn bool
+	}{{a, false}, {e, true}} {
+		raw := m.x.RawMatrix()
+		for i := 0; i < n; i++ {
+			for j, v := range raw.Data[i*raw.Stride : i*raw.Stride+n] {
+				if v != 0 {
+					ents = append(ents, entry{i, j, math.Log2(math.Abs(v)), m.dyn})
+					if m.dyn {
+						ne++
+					} else {
+						na++
+					}
+				}
+			}
+		}
+	}
+	withW := na > 0 && ne > 0
+	// Unknowns x = (r_0 … r_{n−1}, c_0 … c_{n−1}, w); the normal equations
+	// JᵀJ·x = −Jᵀℓ (J has a row per entry with ones at r_i, c_j and, for
+	// an entry of e, w) are solved by conjugate gradients, matrix-free.
+	dim := 2*n + 1
+	apply := func(x, out []float64) {
+		clear(out)
+		for _, t := range ents {
+			y := x[t.i] + x[n+t.j]
+			if t.dyn && withW {
+				y += x[2*n]
+			}
+			out[t.i] += y
+			out[n+t.j] += y
+			if t.dyn && withW {
+				out[2*n] += y
+			}
+		}
+	}
+	b := make([]float64, dim)
+	for _, t := range ents {
+		b[t.i] -= t.l
+		b[n+t.j] -= t.l
+		if t.dyn && withW {
+			b[2*n] -= t.l
+		}
+	}
+	x := conjugateGradient(apply, b, 1e-10, 10*dim)
+	as, es = mat.DenseCopyOf(a), mat.DenseCopyOf(e)
+	w0 = 1
+	if withW {
+		w0 = math.Ldexp(1, int(math.Round(x[2*n])))
+	}
+	ra, re := as.RawMatrix(), es.RawMatrix()
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			k := i*ra.Stride + j
+			f := int(math.Round(x[i]) + math.Round(x[n+j]))
+			ra.Data[k] = math.Ldexp(ra.Data[k], f)
+			re.Data[k] = math.Ldexp(re.Data[k], f) * w0
+		}
+	}
+	balanced(as, es)
+	return as, es, w0
+}
+
+// conjugateGradient solves the symmetric positive semidefinite system
+// apply(x) = b from x = 0 (for a consistent b, the solution of least
+// norm) until the residual is below tol·‖b‖ or after maxIter steps
+// (Hestenes and Stiefel, J. Res. Nat. Bur. Standards 49, 1952).
+func conjugateGradient(apply func(x, out []float64), b []float64, tol float64, maxIter int) []float64 {
+	x := make([]float64, len(b))
+	r := slices.Clone(b)
+	p := slices.Clone(b)
+	ap := make([]float64, len(b))
+	rr := floats.Dot(r, r)
+	stop := tol * tol * rr
+	for it := 0; it < maxIter && rr > stop; it++ {
+		apply(p, ap)
+		pap := floats.Dot(p, ap)
+		if pap <= 0 {
+			break
+		}
+		alpha := rr / pap
+		floats.AddScaled(x, alpha, p)
+		floats.AddScaled(r, -alpha, ap)
+		next := floats.Dot(r, r)
+		floats.AddScaledTo(p, r, next/rr, p)
+		rr = next
+	}
+	return x
+}
+
+// balanced scales, in place, the rows and columns of a and e (already
+// equilibrated, e carrying ω0) by powers of two that bring the maxima of
+// |a| + |e| along each line near 1.
+func balanced(as, es *mat.Dense) {
+	n, _ := as.Dims()
 	// Rows then columns, eight sweeps, each line scaled by the power of
-	// two that brings its maximum of |A| + |w0·E| near 1; the entries are
+	// two that brings its maximum of |A| + |E| near 1; the entries are
 	// reached in place through the raw storage (strides: 1 along a row,
 	// Stride down a column).
 	ra, re := as.RawMatrix(), es.RawMatrix()
@@ -139,7 +322,6 @@ func balanced(a, e *mat.Dense, w0 float64) (*mat.Dense, *mat.Dense) {
 			}
 		}
 	}
-	return as, es
 }
 
 // fullRank reports whether every singular value of m exceeds tol.
@@ -175,29 +357,33 @@ func svdFull(m mat.Matrix, tol float64) (u, v *mat.Dense, vals []float64, rank i
 }
 
 // reduce runs steps 1–4 on the scaled pencil and returns its finite
-// eigenvalues in scaled units.
-func reduce(a, e *mat.Dense) ([]complex128, error) {
+// eigenvalues in scaled units and their number; with countOnly, only the
+// number (the degree of det(a + s·e)), and no eigenvalue is computed.
+func reduce(a, e *mat.Dense, countOnly bool) ([]complex128, int, error) {
 	eTol := eRankTol * mat.Norm(e, 2)
 	aTol := aRankTol * mat.Norm(a, 2)
 	for {
 		n, _ := a.Dims()
 		if n == 0 {
-			return nil, nil
+			return nil, 0, nil
 		}
 		// Step 1.
 		u, v, sig, r, err := svdFull(e, eTol)
 		if err != nil {
-			return nil, err
+			return nil, 0, err
 		}
 		if r == 0 {
 			if !fullRank(a, aTol) {
-				return nil, ErrSingularPencil
+				return nil, 0, ErrSingularPencil
 			}
-			return nil, nil
+			return nil, 0, nil
 		}
 		var at mat.Dense
 		at.Product(u.T(), a, v)
 		if r == n {
+			if countOnly {
+				return nil, n, nil
+			}
 			for i := 0; i < n; i++ {
 				for j := 0; j < n; j++ {
 					at.Set(i, j, -at.At(i, j)/sig[i])
@@ -205,15 +391,15 @@ func reduce(a, e *mat.Dense) ([]complex128, error) {
 			}
 			var eig mat.Eigen
 			if !eig.Factorize(&at, mat.EigenNone) {
-				return nil, errors.New("natural frequencies: eigenvalue iteration did not converge")
+				return nil, 0, errors.New("natural frequencies: eigenvalue iteration did not converge")
 			}
-			return eig.Values(nil), nil
+			return eig.Values(nil), n, nil
 		}
 		m := n - r
 		// Step 2: rotate the algebraic block to diag(S_q, 0).
 		p, q, s, rq, err := svdFull(at.Slice(r, n, r, n), aTol)
 		if err != nil {
-			return nil, err
+			return nil, 0, err
 		}
 		rot := mat.NewDense(n, n, nil) // rows: diag(I, Pᵀ)
 		col := mat.NewDense(n, n, nil) // cols: diag(I, Q)
@@ -254,21 +440,21 @@ func reduce(a, e *mat.Dense) ([]complex128, error) {
 		}
 		// Step 3: A22 is zero now (exactly, up to rounding).
 		if mm > r {
-			return nil, ErrSingularPencil
+			return nil, 0, ErrSingularPencil
 		}
 		_, v21, _, rk21, err := svdFull(a3.Slice(r, k, 0, r), aTol)
 		if err != nil {
-			return nil, err
+			return nil, 0, err
 		}
 		u12, _, _, rk12, err := svdFull(a3.Slice(0, r, r, k), aTol)
 		if err != nil {
-			return nil, err
+			return nil, 0, err
 		}
 		if rk21 < mm || rk12 < mm {
-			return nil, ErrSingularPencil
+			return nil, 0, ErrSingularPencil
 		}
 		if r == mm {
-			return nil, nil // only infinite eigenvalues remain
+			return nil, 0, nil // only infinite eigenvalues remain
 		}
 		nb := v21.Slice(0, r, mm, r) // null(A21)
 		zb := u12.Slice(0, r, mm, r) // range(A12)⊥

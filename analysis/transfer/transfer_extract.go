@@ -720,7 +720,7 @@ func hasRootAtZero(lists ...[]complex128) bool {
 }
 
 // originGuard (scaled units): the rank test's m roots at s = 0 are set
-// to 0 only when the eigen-solver also put them below originGuardFor(m),
+// to 0 only when the eigen-solver also put them below OriginGuard(m),
 // at least this, so a rank decision alone never moves a genuine root.
 const originGuard = 1e-3
 
@@ -742,19 +742,21 @@ func originMultiplicity(a, e *mat.Dense) int {
 	return n - r
 }
 
-// originGuardFor returns the bound (scaled units) below which the m
+// OriginGuard returns the bound (scaled units) below which the m
 // smallest eigen-solver roots must lie for the rank test's m-fold root at
 // s = 0 to be taken: originGuard, or the split (1e8·ε)^(1/m) of an m-fold
 // root under a relative perturbation of 10⁸ε when that is wider (0.025
 // for m = 5, 0.17 for m = 10, 0.31 for m = 15: fifteen high-pass stages).
-func originGuardFor(m int) float64 {
+// analysis/stability takes its natural frequencies at s = 0 by the same
+// rule, in the units of its own equilibration.
+func OriginGuard(m int) float64 {
 	return math.Max(originGuard, math.Pow(1e8*0x1p-52, 1/float64(m)))
 }
 
 // deflateOrigin returns the roots of det(a + s·e) with the rank test's
 // m-fold root at s = 0 made exact (see originMultiplicity), given raw,
 // the eigen-solver's roots of the whole pencil: when the m smallest of
-// raw lie below originGuardFor(m), the other roots are computed again
+// raw lie below OriginGuard(m), the other roots are computed again
 // from the pencil with s = 0 deflated exactly (nonzeroRoots), so that
 // rounding of the origin root (split by ε^(1/m) into a polygon) neither
 // stands for it nor disturbs a small genuine root beside it (the
@@ -773,7 +775,7 @@ func deflateOrigin(a, e *mat.Dense, raw []complex128) []complex128 {
 		idx[i] = i
 	}
 	sort.SliceStable(idx, func(x, y int) bool { return cmplx.Abs(raw[idx[x]]) < cmplx.Abs(raw[idx[y]]) })
-	if cmplx.Abs(raw[idx[m-1]]) > originGuardFor(m) {
+	if cmplx.Abs(raw[idx[m-1]]) > OriginGuard(m) {
 		return raw
 	}
 	if nz, err := nonzeroRoots(a, e); err == nil && len(nz) == len(raw)-m {
