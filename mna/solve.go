@@ -92,6 +92,27 @@ func newLUFactor(o *luOrder) *luFactor {
 // column is at the level of rounding error.
 const pivotTol = 4 * 2.220446049250313e-16
 
+// The pivot decision of both LU paths lives in the two functions below
+// (and heldPivotFails of sparse_lu.go, which composes them for the
+// refactorisation): every factorisation asks them, none repeats their
+// rule.
+
+// pivotVanished is the judgement of a vanished pivot in a column of an
+// n-unknown system: its largest candidate, equilibrated (bestScaled), is
+// zero or at most pivotTol·n times the column's largest entry before
+// elimination (colmax).
+func pivotVanished(bestScaled, colmax float64, n int) bool {
+	return bestScaled == 0 || bestScaled <= pivotTol*float64(n)*colmax
+}
+
+// keepDiagonal is the threshold rule: the diagonal candidate, of
+// magnitude diag before equilibration (negative when the column has
+// none), stays the pivot while it is at least pivotKeep times the
+// largest candidate's magnitude best; else the largest is taken.
+func keepDiagonal(diag, best float64) bool {
+	return diag >= 0 && diag >= pivotKeep*best
+}
+
 // mag1 is |re|+|im|, a cheap norm within √2 of |z|.
 func mag1(z complex128) float64 { return math.Abs(real(z)) + math.Abs(imag(z)) }
 
@@ -165,7 +186,6 @@ func pow2Inv(m float64) float64 {
 // index of its column (unknown), else -1.
 func (f *luFactor) factor() int {
 	n, a := f.n, f.a
-	tol := pivotTol * float64(n)
 	f.lRow, f.lVal, f.uCol = f.lRow[:0], f.lVal[:0], f.uCol[:0]
 	for k := 0; k < n; k++ {
 		f.lStart[k], f.uStart[k] = len(f.lRow), len(f.uCol)
@@ -189,11 +209,11 @@ func (f *luFactor) factor() int {
 				}
 			}
 		}
-		if bestScaled == 0 || bestScaled <= tol*f.colmax[k] {
+		if pivotVanished(bestScaled, f.colmax[k], n) {
 			return k
 		}
 		diag *= f.rinv[k]
-		if diag >= pivotKeep*best {
+		if keepDiagonal(diag, best) {
 			p = k
 		}
 		f.piv[k] = p

@@ -244,7 +244,6 @@ func (f *sparseLU) reach(j int) {
 // full factors A with pivot search, making the patterns of L and U.
 func (f *sparseLU) full() int {
 	n, p, x := f.n, f.p, f.x
-	tol := pivotTol * float64(n)
 	for i := range f.pinv {
 		f.pinv[i] = -1
 	}
@@ -312,14 +311,14 @@ func (f *sparseLU) full() int {
 				diag = m * f.rinv[i]
 			}
 		}
-		if bestScaled == 0 || bestScaled <= tol*f.colmax[j] {
+		if pivotVanished(bestScaled, f.colmax[j], n) {
 			for _, i := range rows {
 				x[i] = 0
 			}
 			f.lIdx = f.lIdx[:l0]
 			return j
 		}
-		if diag >= 0 && diag >= pivotKeep*best {
+		if keepDiagonal(diag, best) {
 			piv = dr
 		}
 		pp := f.rowPos[piv]
@@ -378,7 +377,6 @@ func (f *sparseLU) refactor(s complex128) bool {
 	lVal, uVal := f.lVal, f.uVal
 	gv, cv := p.gv, p.cv
 	sr, si := real(s), imag(s)
-	tol := pivotTol * float64(n)
 	rmax := srs
 	clear(rmax)
 	for e, k := range aPos {
@@ -447,12 +445,7 @@ func (f *sparseLU) refactor(s complex128) bool {
 				diag = m * srinv[i]
 			}
 		}
-		best := max(pu, other)
-		// The held pivot must be the one full would choose: the diagonal
-		// while it passes the threshold, else the strictly largest.
-		keep := diag >= 0 && diag >= pivotKeep*best
-		ok := (keep && ds == k) || (!keep && pu > other)
-		if pm == 0 || bestScaled <= tol*f.scolmax[k] || !ok {
+		if heldPivotFails(pm, pu, other, diag, bestScaled, f.scolmax[k], n, ds == k) {
 			for _, i := range ls {
 				x[i] = 0
 			}
@@ -467,6 +460,23 @@ func (f *sparseLU) refactor(s complex128) bool {
 		}
 	}
 	return true
+}
+
+// heldPivotFails is the refactorisation's pivot decision at one step:
+// whether the pivot held from the last full factorisation must be given
+// up, because it is not the one full would choose now (the diagonal
+// while keepDiagonal passes it, else the strictly largest candidate) or
+// the column's pivot has vanished (pivotVanished). pm is the held
+// pivot's equilibrated magnitude and pu its magnitude before
+// equilibration; other is the largest other candidate's magnitude before
+// equilibration, diag the diagonal candidate's (negative when the column
+// has none) and bestScaled the largest equilibrated candidate; colmax is
+// the column's largest entry, n the system's size, and diagHeld says
+// whether the held pivot is the diagonal.
+func heldPivotFails(pm, pu, other, diag, bestScaled, colmax float64, n int, diagHeld bool) bool {
+	keep := keepDiagonal(diag, max(pu, other))
+	ok := (keep && diagHeld) || (!keep && pu > other)
+	return pm == 0 || pivotVanished(bestScaled, colmax, n) || !ok
 }
 
 // recip is 1/z by Smith's method, the operations of Go's complex
