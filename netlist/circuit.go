@@ -200,12 +200,17 @@ type Circuit struct {
 	// model recomputes part values for Vary; nil in a hand-built Circuit, in
 	// which case Vary scales part values directly (parts only).
 	model valueModel
+	// varySlots is VaryInto's working memory when this circuit is the
+	// target (never shared: Clone drops it).
+	varySlots []float64
 }
 
 // valueModel recomputes every part value from multiplicative factors on the
 // circuit's Variations. It is implemented by the elaborator.
 type valueModel interface {
-	revalue(dst *Circuit, factors []float64) error
+	// revalue writes into dst the values for factors, using slots
+	// (grown as needed) as working memory, and returns slots.
+	revalue(dst *Circuit, factors, slots []float64) ([]float64, error)
 }
 
 // Part returns the part with the given hierarchical name.
@@ -245,6 +250,7 @@ func (c *Circuit) Clone() *Circuit {
 	d.Responses = append([]Response(nil), c.Responses...)
 	d.Variations = append([]Variation(nil), c.Variations...)
 	d.Warnings = append(ErrorList(nil), c.Warnings...)
+	d.varySlots = nil
 	return &d
 }
 
@@ -260,23 +266,45 @@ func (c *Circuit) Vary(factors []float64) (*Circuit, error) {
 		return nil, fmt.Errorf("vary: %d factors for %d toleranced items", len(factors), len(c.Variations))
 	}
 	d := c.Clone()
+	if err := c.VaryInto(d, factors); err != nil {
+		return nil, err
+	}
+	d.varySlots = nil
+	return d, nil
+}
+
+// VaryInto writes into dst the values Vary(factors) would give, without
+// copying the circuit: dst must be c.Clone() (or c.Vary of it) or a
+// circuit VaryInto has filled from c before, and then holds exactly what
+// Vary returns (the values every Variation touches are rewritten; nothing
+// else of dst is changed). It is how a tolerance run keeps one copy of
+// the circuit per goroutine. dst is not safe for concurrent use; c is
+// only read, so many goroutines may VaryInto their own copies of one c.
+// After an error dst's values are unspecified until the next successful
+// VaryInto.
+func (c *Circuit) VaryInto(dst *Circuit, factors []float64) error {
+	if len(factors) != len(c.Variations) {
+		return fmt.Errorf("vary: %d factors for %d toleranced items", len(factors), len(c.Variations))
+	}
+	if dst == c || dst.model != c.model || len(dst.Parts) != len(c.Parts) || len(dst.Params) != len(c.Params) {
+		return fmt.Errorf("vary: the target is not a copy of this circuit")
+	}
 	if c.model != nil {
-		if err := c.model.revalue(d, factors); err != nil {
-			return nil, err
-		}
-		return d, nil
+		var err error
+		dst.varySlots, err = c.model.revalue(dst, factors, dst.varySlots)
+		return err
 	}
 	for i, v := range c.Variations {
 		if v.IsParam {
-			return nil, fmt.Errorf("vary: parameter %q cannot be varied in a hand-built circuit", v.Name)
+			return fmt.Errorf("vary: parameter %q cannot be varied in a hand-built circuit", v.Name)
 		}
-		p, ok := d.Part(v.Name)
+		p, ok := dst.Part(v.Name)
 		if !ok {
-			return nil, fmt.Errorf("vary: no part %q", v.Name)
+			return fmt.Errorf("vary: no part %q", v.Name)
 		}
 		p.Value = v.Nominal * factors[i]
 	}
-	return d, nil
+	return nil
 }
 
 // Lookup returns the SI value of a top-level parameter or, failing that,

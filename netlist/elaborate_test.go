@@ -302,6 +302,57 @@ func TestVaryConcurrent(t *testing.T) {
 	wg.Wait()
 }
 
+// TestVaryIntoMatchesVary checks that one copy filled again and again by
+// VaryInto holds exactly what Vary returns for every set of factors, in
+// any order (a value a draw rewrites is rewritten by every later draw),
+// through blocks and shared lets, and that a failed draw leaves the next
+// one correct; a target that is not a copy of the circuit is refused.
+func TestVaryIntoMatchesVary(t *testing.T) {
+	for _, src := range []string{allForms, blockSrc} {
+		c, err := Load("vary.nodal", []byte(src), nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		dst := c.Clone()
+		for k := 0; k < 40; k++ {
+			f := ones(len(c.Variations))
+			for i := range f {
+				f[i] = 1 + 0.01*float64((k*7+i*3)%11-5)
+			}
+			if k == 5 && len(f) > 4 && src == allForms {
+				f[4] = -1 // L2 negative: an error, then the next draw
+				if err := c.VaryInto(dst, f); err == nil {
+					t.Fatal("VaryInto accepted a negative inductance")
+				}
+				continue
+			}
+			want, err := c.Vary(f)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if err := c.VaryInto(dst, f); err != nil {
+				t.Fatal(err)
+			}
+			got := *dst
+			got.varySlots = nil
+			if !reflect.DeepEqual(&got, want) {
+				t.Fatalf("draw %d: VaryInto differs from Vary", k)
+			}
+		}
+		if err := c.VaryInto(c, ones(len(c.Variations))); err == nil {
+			t.Error("VaryInto into the circuit itself accepted")
+		}
+	}
+	other, err := Load("blocks.nodal", []byte(blockSrc), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, _ := Load("forms.nodal", []byte(allForms), nil)
+	if err := c.VaryInto(other, ones(len(c.Variations))); err == nil {
+		t.Error("VaryInto into another circuit accepted")
+	}
+}
+
 func TestOverrides(t *testing.T) {
 	c, err := Load("forms.nodal", []byte(allForms), Overrides{"fc": 1000})
 	if err != nil {

@@ -47,9 +47,8 @@ func (m *model) finish(nominal []float64) {
 }
 
 // revalue implements valueModel.
-func (m *model) revalue(dst *Circuit, factors []float64) error {
-	slots := make([]float64, len(m.nominal))
-	copy(slots, m.nominal)
+func (m *model) revalue(dst *Circuit, factors, slots []float64) ([]float64, error) {
+	slots = append(slots[:0], m.nominal...)
 	for _, l := range m.lets {
 		var v float64
 		if l.design {
@@ -61,7 +60,7 @@ func (m *model) revalue(dst *Circuit, factors []float64) error {
 			v *= factors[l.vi]
 		}
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("vary: parameter %s is not finite (%v)", l.name, v)
+			return slots, fmt.Errorf("vary: parameter %s is not finite (%v)", l.name, v)
 		}
 		slots[l.slot] = v
 		if l.param >= 0 {
@@ -76,8 +75,8 @@ func (m *model) revalue(dst *Circuit, factors []float64) error {
 		}
 		p := &dst.Parts[s.idx]
 		if msg := s.apply(p, slots, f); msg != "" {
-			return fmt.Errorf("vary: %s %s: %s", p.Kind, p.Name, msg)
+			return slots, fmt.Errorf("vary: %s %s: %s", p.Kind, p.Name, msg)
 		}
 	}
-	return nil
+	return slots, nil
 }

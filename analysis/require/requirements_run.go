@@ -101,10 +101,7 @@ func judgeRuns(ctx context.Context, c *netlist.Circuit, ev variation.Evaluator, 
 	reqs := c.Requirements
 	m := len(ev.Metrics())
 	workers := variation.ResolveWorkers(opt.Workers, opt.Runs)
-	buf := make([][]float64, workers)
-	for w := range buf {
-		buf[w] = make([]float64, len(c.Variations))
-	}
+	ws := variation.NewWorkspaces(c, workers)
 	type outcome struct {
 		vals []float64
 		err  error
@@ -112,8 +109,8 @@ func judgeRuns(ctx context.Context, c *netlist.Circuit, ev variation.Evaluator, 
 	passed := make([]int, len(reqs))
 	all := 0
 	done := variation.StreamJobs(ctx, opt.Runs, workers, opt.Progress, func(w, i int) outcome {
-		variation.DrawFactors(c.Variations, opt.Seed, i, buf[w])
-		vals, err := variation.EvalVaried(c, ev, buf[w], m)
+		variation.DrawFactors(c.Variations, opt.Seed, i, ws.Factors(w))
+		vals, err := ws.Eval(w, ev, m)
 		return outcome{vals, err}
 	}, func(_ int, o outcome) {
 		if o.err != nil {
@@ -156,13 +153,10 @@ func evalRows(ctx context.Context, c *netlist.Circuit, ev variation.Evaluator, c
 	m := len(ev.Metrics())
 	rows := make([][]float64, count)
 	errs := make([]error, count)
-	buf := make([][]float64, variation.ResolveWorkers(workers, count))
-	for w := range buf {
-		buf[w] = make([]float64, len(c.Variations))
-	}
+	ws := variation.NewWorkspaces(c, variation.ResolveWorkers(workers, count))
 	_, cancelled := variation.ForEachJob(ctx, count, workers, progress, func(w, i int) {
-		factors(w, i, buf[w])
-		rows[i], errs[i] = variation.EvalVaried(c, ev, buf[w], m)
+		factors(w, i, ws.Factors(w))
+		rows[i], errs[i] = ws.Eval(w, ev, m)
 	})
 	if cancelled {
 		return nil, fmt.Errorf("verify: %w", context.Cause(ctx))

@@ -2,6 +2,8 @@ package variation
 
 import (
 	"context"
+	"errors"
+	"fmt"
 
 	"nodal/netlist"
 )
@@ -35,10 +37,60 @@ func EvalNominal(what string, c *netlist.Circuit, ev Evaluator) ([]float64, erro
 	return evalNominal(what, c, ev)
 }
 
-// EvalVaried evaluates ev on c varied by factors (all > 0), checking it
+// Workspaces are the working copies of a tolerance run, one per worker:
+// the factors of the worker's current draw (Factors) and a copy of the
+// circuit varied in place by them (netlist.Circuit.VaryInto), so that no
+// run copies the circuit. Worker w uses only its own entry; different
+// workers may run concurrently.
+type Workspaces struct {
+	c       *netlist.Circuit
+	factors [][]float64
+	circ    []*netlist.Circuit
+}
+
+// NewWorkspaces returns the workspaces of workers (≥ 1) workers on c.
+func NewWorkspaces(c *netlist.Circuit, workers int) *Workspaces {
+	ws := &Workspaces{c: c, factors: make([][]float64, workers), circ: make([]*netlist.Circuit, workers)}
+	for w := range ws.factors {
+		ws.factors[w] = make([]float64, len(c.Variations))
+		ws.circ[w] = c.Clone()
+	}
+	return ws
+}
+
+// Factors returns worker w's factors (len(c.Variations)), to be filled
+// before Vary or Eval.
+func (ws *Workspaces) Factors(w int) []float64 { return ws.factors[w] }
+
+// Vary returns worker w's copy of c varied by its factors (all > 0),
+// valid until the worker's next Vary or Eval.
+func (ws *Workspaces) Vary(w int) (*netlist.Circuit, error) {
+	for _, f := range ws.factors[w] {
+		if !(f > 0) {
+			return nil, errors.New("a drawn factor is ≤ 0")
+		}
+	}
+	if err := ws.c.VaryInto(ws.circ[w], ws.factors[w]); err != nil {
+		return nil, err
+	}
+	return ws.circ[w], nil
+}
+
+// Eval evaluates ev on c varied by worker w's factors, checking that it
 // gives m values.
-func EvalVaried(c *netlist.Circuit, ev Evaluator, factors []float64, m int) ([]float64, error) {
-	return evalVaried(c, ev, factors, m)
+func (ws *Workspaces) Eval(w int, ev Evaluator, m int) ([]float64, error) {
+	vc, err := ws.Vary(w)
+	if err != nil {
+		return nil, err
+	}
+	v, err := ev.Eval(vc)
+	if err != nil {
+		return nil, err
+	}
+	if len(v) != m {
+		return nil, fmt.Errorf("evaluator gave %d values for %d metrics", len(v), m)
+	}
+	return v, nil
 }
 
 // Derivatives returns d[i][j] = ∂M_j/∂(x_i/x_i0), the change of metric j

@@ -63,10 +63,8 @@ func Envelope(ctx context.Context, c *netlist.Circuit, in mna.Input, out mna.Out
 		return nil, fmt.Errorf("envelope: nominal circuit: %w", err)
 	}
 	workers := resolveWorkers(opt.Workers, opt.Runs)
-	factors := make([][]float64, workers)
-	for w := range factors {
-		factors[w] = make([]float64, len(c.Variations))
-	}
+	ws := NewWorkspaces(c, workers)
+	sweepers := newRestampedSweepers(c, in, out, workers)
 	res.MinDB, res.MaxDB = slices.Clone(res.NominalDB), slices.Clone(res.NominalDB)
 	res.MinPhaseDeg, res.MaxPhaseDeg = slices.Clone(res.NominalPhaseDeg), slices.Clone(res.NominalPhaseDeg)
 	type curve struct {
@@ -74,19 +72,18 @@ func Envelope(ctx context.Context, c *netlist.Circuit, in mna.Input, out mna.Out
 		err    error
 	}
 	finished := streamJobs(ctx, opt.Runs, workers, opt.Progress, func(w, i int) curve {
-		f := factors[w]
-		drawFactors(c.Variations, opt.Seed, i, f)
-		for _, v := range f {
-			if !(v > 0) {
-				return curve{err: fmt.Errorf("a drawn factor is ≤ 0")}
-			}
-		}
-		vc, err := c.Vary(f)
+		drawFactors(c.Variations, opt.Seed, i, ws.Factors(w))
+		vc, err := ws.Vary(w)
 		if err != nil {
 			return curve{err: err}
 		}
 		cv := curve{db: make([]float64, n), ph: make([]float64, n)}
-		if err := bodeCurve(vc, in, out, freqsHz, cv.db, cv.ph); err != nil {
+		if sw := sweepers.restamp(w, vc); sw != nil {
+			err = sweepCurve(sw, freqsHz, cv.db, cv.ph)
+		} else {
+			err = bodeCurve(vc, in, out, freqsHz, cv.db, cv.ph)
+		}
+		if err != nil {
 			return curve{err: err}
 		}
 		return cv
@@ -115,13 +112,50 @@ func Envelope(ctx context.Context, c *netlist.Circuit, in mna.Input, out mna.Out
 	return res, nil
 }
 
+// restampedSweepers are the per-worker Sweepers of an envelope: each
+// worker's own mna.Restamper of the nominal system, so a run writes its
+// values into the held pattern instead of building its system. nil when
+// the probe cannot be restamped (every run is then built).
+type restampedSweepers struct {
+	r  []*mna.Restamper
+	sw []*mna.Sweeper
+}
+
+func newRestampedSweepers(c *netlist.Circuit, in mna.Input, out mna.Output, workers int) *restampedSweepers {
+	tmpl, err := mna.NewRestamper(c, in, out)
+	if err != nil {
+		return nil
+	}
+	s := &restampedSweepers{r: make([]*mna.Restamper, workers), sw: make([]*mna.Sweeper, workers)}
+	for w := range s.r {
+		s.r[w] = tmpl.Clone()
+		s.sw[w] = mna.NewSweeper(s.r[w].System())
+	}
+	return s
+}
+
+// restamp writes vc's values into worker w's system and returns its
+// Sweeper, or nil when vc must be built instead (no restamper, or vc's
+// stamps leave the pattern: Build then names what is wrong).
+func (s *restampedSweepers) restamp(w int, vc *netlist.Circuit) *mna.Sweeper {
+	if s == nil || s.r[w].Restamp(vc) != nil {
+		return nil
+	}
+	return s.sw[w]
+}
+
 // bodeCurve fills db and phaseDeg (unwrapped) with the response of c.
 func bodeCurve(c *netlist.Circuit, in mna.Input, out mna.Output, freqsHz, db, phaseDeg []float64) error {
 	sys, err := mna.Build(c, in, out)
 	if err != nil {
 		return err
 	}
-	sw := mna.NewSweeper(sys)
+	return sweepCurve(mna.NewSweeper(sys), freqsHz, db, phaseDeg)
+}
+
+// sweepCurve fills db and phaseDeg (unwrapped) with the response of sw's
+// system.
+func sweepCurve(sw *mna.Sweeper, freqsHz, db, phaseDeg []float64) error {
 	for k, f := range freqsHz {
 		h, _, err := sw.Eval(complex(0, omegaOf(f)))
 		if err != nil {

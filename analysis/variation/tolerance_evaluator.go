@@ -22,7 +22,8 @@ import (
 // them ("gain@1kHz", "f3db"); for a name ParseMetric knows, the unit
 // follows from it (dB, deg, Hz or none), otherwise the value is treated as
 // a plain ratio. Eval must be safe for concurrent use by many goroutines
-// and must not modify c. A run whose Eval fails (a singular draw, no −3 dB
+// and must neither modify c nor keep it after returning (the engines vary
+// one copy of the circuit per goroutine in place, run after run). A run whose Eval fails (a singular draw, no −3 dB
 // point) is counted as failed, not fatal.
 type Evaluator interface {
 	Metrics() []string

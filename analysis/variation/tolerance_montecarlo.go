@@ -59,12 +59,8 @@ func MonteCarlo(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt Monte
 		return nil, err
 	}
 	m := len(names)
-	nv := len(c.Variations)
 	workers := resolveWorkers(opt.Workers, opt.Runs)
-	buf := make([][]float64, workers)
-	for w := range buf {
-		buf[w] = make([]float64, nv)
-	}
+	ws := NewWorkspaces(c, workers)
 	acc := make([]*metricAccumulator, m)
 	for j := range acc {
 		acc[j] = newMetricAccumulator(opt.Runs)
@@ -75,8 +71,8 @@ func MonteCarlo(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt Monte
 		err  error
 	}
 	res.Finished = streamJobs(ctx, opt.Runs, workers, opt.Progress, func(w, i int) outcome {
-		drawFactors(c.Variations, opt.Seed, i, buf[w])
-		v, err := evalVaried(c, ev, buf[w], m)
+		drawFactors(c.Variations, opt.Seed, i, ws.Factors(w))
+		v, err := ws.Eval(w, ev, m)
 		return outcome{v, err}
 	}, func(i int, o outcome) {
 		if o.err != nil {
@@ -125,27 +121,6 @@ func evalNominal(what string, c *netlist.Circuit, ev Evaluator) ([]float64, erro
 	}
 	if len(v) != len(ev.Metrics()) {
 		return nil, fmt.Errorf("%s: evaluator gave %d values for %d metrics", what, len(v), len(ev.Metrics()))
-	}
-	return v, nil
-}
-
-// evalVaried evaluates ev on c varied by factors, checking the count.
-func evalVaried(c *netlist.Circuit, ev Evaluator, factors []float64, m int) ([]float64, error) {
-	for _, f := range factors {
-		if !(f > 0) {
-			return nil, errors.New("a drawn factor is ≤ 0")
-		}
-	}
-	vc, err := c.Vary(factors)
-	if err != nil {
-		return nil, err
-	}
-	v, err := ev.Eval(vc)
-	if err != nil {
-		return nil, err
-	}
-	if len(v) != m {
-		return nil, fmt.Errorf("evaluator gave %d values for %d metrics", len(v), m)
 	}
 	return v, nil
 }

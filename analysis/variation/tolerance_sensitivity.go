@@ -104,8 +104,9 @@ func derivatives(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt Sens
 	k, m := len(c.Variations), len(ev.Metrics())
 	vals := make([][]float64, 2*k)
 	errs := make([]error, 2*k)
-	_, cancelled := forEachJob(ctx, 2*k, opt.Workers, nil, func(_, job int) {
-		f := make([]float64, k)
+	ws := NewWorkspaces(c, resolveWorkers(opt.Workers, 2*k))
+	_, cancelled := forEachJob(ctx, 2*k, opt.Workers, nil, func(w, job int) {
+		f := ws.Factors(w)
 		for i := range f {
 			f[i] = 1
 		}
@@ -114,7 +115,7 @@ func derivatives(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt Sens
 			sign = -1
 		}
 		f[i] = 1 + sign*h
-		vals[job], errs[job] = evalVaried(c, ev, f, m)
+		vals[job], errs[job] = ws.Eval(w, ev, m)
 	})
 	if cancelled {
 		return nil, fmt.Errorf("sensitivity: %w", context.Cause(ctx))

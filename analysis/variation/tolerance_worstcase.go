@@ -102,15 +102,16 @@ func WorstCase(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt WorstC
 	res.Corners = len(corners)
 	vals := make([][]float64, len(corners))
 	errs := make([]error, len(corners))
-	_, cancelled := forEachJob(ctx, len(corners), opt.Workers, nil, func(_, n int) {
-		f := make([]float64, k)
+	ws := NewWorkspaces(c, resolveWorkers(opt.Workers, len(corners)))
+	_, cancelled := forEachJob(ctx, len(corners), opt.Workers, nil, func(w, n int) {
+		f := ws.Factors(w)
 		for i, v := range c.Variations {
 			f[i] = 1 - v.Tol.Rel
 			if corners[n][i] {
 				f[i] = 1 + v.Tol.Rel
 			}
 		}
-		vals[n], errs[n] = evalVaried(c, ev, f, m)
+		vals[n], errs[n] = ws.Eval(w, ev, m)
 	})
 	if cancelled {
 		return nil, fmt.Errorf("worst case: %w", context.Cause(ctx))
