@@ -50,6 +50,12 @@ func deferLine(text string, sig []lexer.Token, tpl *shapeTemplate, lineStart int
 // bytes, as Parse sets it), then the template filled with them. buf is
 // scratch for the tokens, reused from call to call.
 func (d *deferredStmt) build(name, text string, buf *[]lexer.Token) *Stmt {
+	return instantiate(d.tpl, d.tokens(name, text, buf))
+}
+
+// tokens returns the significant tokens of a deferred line as the line's
+// lexer gave them (those the template does not read left zero), in buf.
+func (d *deferredStmt) tokens(name, text string, buf *[]lexer.Token) []lexer.Token {
 	sig := append((*buf)[:0], make([]lexer.Token, len(d.tpl.types))...)
 	*buf = sig
 	start := int(d.lineStart)
@@ -65,7 +71,7 @@ func (d *deferredStmt) build(name, text string, buf *[]lexer.Token) *Stmt {
 		at = off
 		sig[i] = lexer.Token{Type: typ, Value: text[off : off+n], Pos: lexer.Position{Filename: name, Offset: off, Line: int(d.lineNo), Column: col}}
 	}
-	return instantiate(d.tpl, sig)
+	return sig
 }
 
 // stmtCount is the number of top-level statements of the file.
@@ -95,6 +101,28 @@ func (f *File) stmt(i int) *Stmt {
 		return e.build(f.Name, f.str, &f.sigBuf)
 	}
 	return f.entries[i].st
+}
+
+// scratchStmt returns top-level statement i like stmt, except that a
+// deferred statement is built in its template's scratch tree: it is valid
+// only until the next call, and nothing may keep a pointer into it (Load's
+// elaboration, which keeps values and strings only, and drops each
+// top-level statement once elaborated). A syntax tree is about a kilobyte,
+// so building each one anew would be most of what Load allocates.
+func (f *File) scratchStmt(i int) *Stmt {
+	e := &f.entries[i]
+	if !f.deferring || e.st != nil {
+		return f.stmt(i)
+	}
+	if f.scratch == nil {
+		f.scratch = map[*shapeTemplate]*scratchTree{}
+	}
+	s := f.scratch[e.tpl]
+	if s == nil {
+		s = &scratchTree{}
+		f.scratch[e.tpl] = s
+	}
+	return e.tpl.buildIn(s, e.tokens(f.Name, f.str, &f.sigBuf))
 }
 
 // drop forgets top-level statement i (Load, once it is elaborated).

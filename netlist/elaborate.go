@@ -145,7 +145,13 @@ func (e *elab) run() {
 		}
 	}
 	for i := range e.f.stmtCount() {
-		st := e.f.stmt(i)
+		st := e.f.peek(i)
+		switch {
+		case e.release:
+			st = e.f.scratchStmt(i) // nothing below keeps a pointer into st
+		case st == nil:
+			st = e.f.stmt(i)
+		}
 		if e.release && st.Block == nil && st.Response == nil {
 			e.f.drop(i) // Elaborate reads it no more
 		}

@@ -84,6 +84,7 @@ type File struct {
 	entries   []stmtEntry
 	str       string
 	sigBuf    []lexer.Token // scratch of deferredStmt.build
+	scratch   map[*shapeTemplate]*scratchTree
 }
 
 // Stmt is one statement: exactly one of its pointer fields is set.

@@ -380,16 +380,16 @@ var positionTokenType = reflect.TypeOf(lexer.Token{})
 func (t *shapeTemplate) build(sig []lexer.Token) *Stmt {
 	a := reflect.New(t.arena.Type()).Elem()
 	a.Set(t.arena)
-	for _, p := range t.pos {
-		*a.Field(p.node).Field(p.field).Addr().Interface().(*lexer.Position) = sig[p.arg].Pos
-	}
-	for _, p := range t.strs {
-		*a.Field(p.node).Field(p.field).Addr().Interface().(*string) = sig[p.arg].Value
-	}
+	t.link(a)
+	t.fill(a, sig)
+	return a.Field(0).Addr().Interface().(*Stmt)
+}
+
+// link sets the pointers and slices of arena a to a's own nodes and
+// arrays.
+func (t *shapeTemplate) link(a reflect.Value) {
 	for _, p := range t.toks {
-		arr := a.Field(p.arr)
-		*arr.Addr().Interface().(*[1]lexer.Token) = [1]lexer.Token{sig[p.tok]}
-		a.Field(p.node).Field(p.field).Set(arr.Slice3(0, 1, 1))
+		a.Field(p.node).Field(p.field).Set(a.Field(p.arr).Slice3(0, 1, 1))
 	}
 	for _, p := range t.ptrs {
 		a.Field(p.node).Field(p.field).Set(a.Field(p.arg).Addr())
@@ -401,5 +401,40 @@ func (t *shapeTemplate) build(sig []lexer.Token) *Stmt {
 		}
 		a.Field(l.node).Field(l.field).Set(arr.Slice3(0, len(l.elems), len(l.elems)))
 	}
-	return a.Field(0).Addr().Interface().(*Stmt)
+}
+
+// fill sets the placeholders of a linked arena a from the tokens sig.
+func (t *shapeTemplate) fill(a reflect.Value, sig []lexer.Token) {
+	for _, p := range t.pos {
+		*a.Field(p.node).Field(p.field).Addr().Interface().(*lexer.Position) = sig[p.arg].Pos
+	}
+	for _, p := range t.strs {
+		*a.Field(p.node).Field(p.field).Addr().Interface().(*string) = sig[p.arg].Value
+	}
+	for _, p := range t.toks {
+		*a.Field(p.arr).Addr().Interface().(*[1]lexer.Token) = [1]lexer.Token{sig[p.tok]}
+	}
+}
+
+// scratchTree is one reusable tree of a template (see File.scratchStmt):
+// arena, rewritten for every statement built in it, and linked, a copy of
+// the template linked to arena's own nodes, which restores it first.
+type scratchTree struct {
+	arena, linked reflect.Value
+}
+
+// buildIn builds the template's statement in the scratch tree s (made on
+// first use), overwriting the statement built there before.
+func (t *shapeTemplate) buildIn(s *scratchTree, sig []lexer.Token) *Stmt {
+	if !s.arena.IsValid() {
+		s.arena = reflect.New(t.arena.Type()).Elem()
+		s.arena.Set(t.arena)
+		t.link(s.arena)
+		s.linked = reflect.New(t.arena.Type()).Elem()
+		s.linked.Set(s.arena)
+	} else {
+		s.arena.Set(s.linked)
+	}
+	t.fill(s.arena, sig)
+	return s.arena.Field(0).Addr().Interface().(*Stmt)
 }

@@ -269,13 +269,8 @@ func TestParseParallelMatchesOnePiece(t *testing.T) {
 // deferred and built on demand, gives the statements and the diagnostics
 // of Parse, for every corpus text and a large file parsed in pieces.
 func TestDeferredStmts(t *testing.T) {
-	var big strings.Builder
-	big.WriteString("V: voltage source (n0, gnd) 1\nblock cell (a, b)\nR: resistor (a, b) 1k\nend\n")
-	for i := 1; big.Len() < 3*parallelMinBytes; i++ {
-		fmt.Fprintf(&big, "R%d: resistor (n%d, n%d) 1kΩ # é %d\nX%d: cell (n%d, m%d)\n\tC%d: capacitor (m%d, 0) 10 n\n", i, i-1, i, i, i, i, i, i, i)
-	}
 	deferred := 0
-	for _, text := range append(corpusTexts(t), big.String()) {
+	for _, text := range append(corpusTexts(t), bigDeferredText()) {
 		want, wantErr := Parse("d.nodal", []byte(text))
 		got, err := parseFile("d.nodal", []byte(text), true)
 		if (err == nil) != (wantErr == nil) || err != nil && err.Error() != wantErr.Error() {
@@ -295,5 +290,62 @@ func TestDeferredStmts(t *testing.T) {
 	}
 	if deferred < 1000 {
 		t.Fatalf("only %d statements were deferred", deferred)
+	}
+}
+
+// bigDeferredText is a file over three parallel pieces long whose element
+// lines are deferred by Load, with block instances among them.
+func bigDeferredText() string {
+	var big strings.Builder
+	big.WriteString("V: voltage source (n0, gnd) 1\nblock cell (a, b)\nR: resistor (a, b) 1k\nend\n")
+	for i := 1; big.Len() < 3*parallelMinBytes; i++ {
+		fmt.Fprintf(&big, "R%d: resistor (n%d, n%d) 1kΩ # é %d\nX%d: cell (n%d, m%d)\n\tC%d: capacitor (m%d, 0) 10 n\n", i, i-1, i, i, i, i, i, i, i)
+	}
+	return big.String()
+}
+
+// Load builds each deferred statement in one reused tree per line shape
+// (File.scratchStmt); its circuit, diagnostics and Vary must be those of
+// Elaborate over Parse, which builds every tree anew. A value kept from a
+// reused tree would be overwritten by the lines after it and differ here.
+func TestLoadMatchesElaborate(t *testing.T) {
+	texts := append(corpusTexts(t), bigDeferredText(),
+		"let K = 2\nV: voltage source (a, gnd) 1 phase=10\nR1: resistor (a, b) K*1k ±1%\nR2: resistor (b, gnd) 2k ±2% normal\nE1: voltage source (c, gnd) 3*v(a, b)\nF1: current source (c, gnd) 2*i(V)\nR3: resistor (c, gnd) 1k\n")
+	compared := 0
+	for _, text := range texts {
+		got, err := Load("m.nodal", []byte(text), nil)
+		f, perr := Parse("m.nodal", []byte(text))
+		var want *Circuit
+		wantErr := perr
+		if perr == nil {
+			want, wantErr = Elaborate(f, nil)
+		}
+		if (err == nil) != (wantErr == nil) || err != nil && err.Error() != wantErr.Error() {
+			t.Fatalf("Load error %v, Elaborate %v", err, wantErr)
+		}
+		if err != nil {
+			continue
+		}
+		compared++
+		factors := make([]float64, len(want.Variations))
+		for i := range factors {
+			factors[i] = 1 + 0.01*float64(i%7)
+		}
+		vg, errG := got.Vary(factors)
+		vw, errW := want.Vary(factors)
+		if (errG == nil) != (errW == nil) {
+			t.Fatalf("Vary: %v vs %v", errG, errW)
+		}
+		for _, c := range []*Circuit{got, want, vg, vw} {
+			if c != nil {
+				c.model = nil
+			}
+		}
+		if !reflect.DeepEqual(got, want) || !reflect.DeepEqual(vg, vw) {
+			t.Fatalf("%.60q: Load's circuit differs from Elaborate's", text)
+		}
+	}
+	if compared < 10 {
+		t.Fatalf("only %d circuits compared", compared)
 	}
 }

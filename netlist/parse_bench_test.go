@@ -3,8 +3,11 @@ package netlist
 import (
 	"fmt"
 	"runtime"
+	"runtime/metrics"
 	"strings"
+	"sync/atomic"
 	"testing"
+	"time"
 )
 
 // ladderSource is the text of a uniform RC ladder of k sections (2k+1
@@ -47,7 +50,9 @@ func BenchmarkParse100k(b *testing.B) {
 
 // BenchmarkLoad100k parses and elaborates a file of 100,001 parts (the
 // target is under 1 s); B/byte and live-B/byte as in BenchmarkParse100k,
-// live-B/byte being what the Circuit keeps.
+// live-B/byte being what the Circuit keeps, and peak-B/byte the highest
+// heap seen during one Load (live and garbage not yet collected, sampled
+// every 0.2 ms; the figure a process's memory follows) per input byte.
 func BenchmarkLoad100k(b *testing.B) {
 	src := ladderSource(50000)
 	b.SetBytes(int64(len(src)))
@@ -56,19 +61,55 @@ func BenchmarkLoad100k(b *testing.B) {
 	runtime.GC()
 	runtime.ReadMemStats(&before)
 	var c *Circuit
+	var peak uint64
 	for i := 0; i < b.N; i++ {
 		var err error
-		if c, err = Load("ladder.nodal", src, nil); err != nil {
+		p := peakHeap(func() { c, err = Load("ladder.nodal", src, nil) })
+		if err != nil {
 			b.Fatal(err)
+		}
+		peak = max(peak, p)
+		if i < b.N-1 {
+			c = nil
 		}
 	}
 	b.StopTimer()
 	runtime.ReadMemStats(&after)
 	b.ReportMetric(float64(after.TotalAlloc-before.TotalAlloc)/float64(b.N)/float64(len(src)), "B/byte")
+	b.ReportMetric(float64(peak)/float64(len(src)), "peak-B/byte")
 	runtime.GC()
 	runtime.ReadMemStats(&after)
 	b.ReportMetric(float64(int64(after.HeapAlloc)-int64(before.HeapAlloc))/float64(len(src)), "live-B/byte")
 	runtime.KeepAlive(c)
+}
+
+// peakHeap runs f after a collection and returns the highest heap (bytes
+// of heap objects, live or not yet collected) above the heap before it,
+// sampled while f runs.
+func peakHeap(f func()) uint64 {
+	runtime.GC()
+	sample := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
+	read := func() uint64 { metrics.Read(sample); return sample[0].Value.Uint64() }
+	base := read()
+	var done atomic.Bool
+	var peak atomic.Uint64
+	stopped := make(chan struct{})
+	go func() {
+		defer close(stopped)
+		s := []metrics.Sample{{Name: sample[0].Name}}
+		for !done.Load() {
+			metrics.Read(s)
+			if v := s[0].Value.Uint64(); v > peak.Load() {
+				peak.Store(v)
+			}
+			time.Sleep(200 * time.Microsecond)
+		}
+	}()
+	f()
+	peak.Store(max(peak.Load(), read()))
+	done.Store(true)
+	<-stopped
+	return peak.Load() - min(base, peak.Load())
 }
 
 // BenchmarkElaborate100k elaborates a parsed file of 100,001 parts.
