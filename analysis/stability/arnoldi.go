@@ -70,8 +70,9 @@ func searchUnstable(g, c *mna.Sparse, rows []int) (search, error) {
 		return out, nil // no capacitance or inductance: no finite frequency
 	}
 	// The slowest root of a chain of k sections sits near rate/k² (the
-	// uniform ladder, p₁ ≈ −π²/(4k²)·4/RC), the fastest near 4·rate.
-	lo /= float64(k) * float64(k)
+	// uniform ladder, p₁ ≈ −π²/(4k²)·4/RC), the fastest near 4·rate; the
+	// range goes four times past each.
+	lo /= 4 * float64(k) * float64(k)
 	hi *= 8
 	ratio := float64(searchRatio)
 	if n := math.Log(hi/lo) / math.Log(ratio); n > searchMaxShifts {
