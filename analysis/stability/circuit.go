@@ -55,6 +55,10 @@ type Result struct {
 	// Filled by Options.Explain.
 	Polarity            []string
 	PolarityFrequencies []complex128
+
+	// suspects, when not nil, are the only gain elements whose broken
+	// control can change an offending frequency (large.go).
+	suspects map[string]bool
 }
 
 // Err is nil for a Stable result and otherwise the error of a question
@@ -124,7 +128,7 @@ func Analyze(c *netlist.Circuit, opt Options) (*Result, error) {
 func involved(c *netlist.Circuit, m *mna.Matrices, res *Result, want func(string) bool) []string {
 	var out []string
 	for _, name := range m.GainParts() {
-		if !want(name) {
+		if !want(name) || (res.suspects != nil && !res.suspects[name]) {
 			continue
 		}
 		e, err := m.Excite(mna.Excitation{Kind: mna.BrokenControl, Part: name})

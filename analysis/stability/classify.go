@@ -73,6 +73,11 @@ const (
 	// only passive stamps (closed half-plane); the other blocks were
 	// computed and are stable or marginal.
 	ReasonPassiveBlock
+	// ReasonPassiveBlocks: every diagonal block larger than MaxUnknowns
+	// holds only passive stamps and is proven strictly stable as
+	// ReasonPassive proves a whole circuit; the other blocks were computed
+	// (Natural) and decide the class.
+	ReasonPassiveBlocks
 	// ReasonFound: a natural frequency in the right half-plane was found
 	// in a large block by shift-and-invert Arnoldi and checked by its
 	// residual (Result.Backward); Natural holds only the frequencies found
@@ -98,6 +103,8 @@ func (r Reason) String() string {
 		return "every part is passive, but a lossless mode on the jω axis is not ruled out"
 	case ReasonPassiveBlock:
 		return "a block of the circuit too large to solve holds only passive parts, which keeps its natural frequencies in the closed left half-plane but does not prove them strictly inside"
+	case ReasonPassiveBlocks:
+		return "every block of the circuit too large to solve holds only passive parts and can have no natural frequency on the jω axis; the other blocks were solved"
 	case ReasonFound:
 		return "a natural frequency in the right half-plane was found by shift-and-invert Arnoldi and checked by its residual"
 	case ReasonSomeNatural:

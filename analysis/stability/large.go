@@ -1,6 +1,7 @@
 package stability
 
 import (
+	"fmt"
 	"math"
 	"slices"
 
@@ -37,10 +38,6 @@ import (
 // largeResult returns the stability of the circuit c with matrices m,
 // m.Size() > MaxUnknowns.
 func largeResult(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
-	verdict, passive := passiveCertificate(c, m)
-	if passive && verdict.strict() {
-		return &Result{Class: Stable, Reason: ReasonPassive}, nil
-	}
 	n := m.Size()
 	adj := make([][]int, n)
 	add := func(i, j int, _ float64) { adj[i] = append(adj[i], j) }
@@ -48,13 +45,26 @@ func largeResult(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 	m.C.Each(add)
 	blocks := transfer.BlockTriangularPattern(adj)
 	if blocks == nil {
-		return nil, ErrSingularPencil
+		return nil, ErrSingularPencil // no perfect matching: det ≡ 0 by structure
 	}
 	w0 := normRatio(m.G, m.C)
+	verdict, passive := passiveCertificate(c, m)
+	if passive && verdict.strict() {
+		// The certificate assumes det(G + sC) ≢ 0. A passive circuit has
+		// no natural frequency at s = w0 > 0, so Y(w0) is regular unless
+		// det ≡ 0.
+		y := mna.NewShiftSolver(&mna.System{Unknowns: m.Unknowns, G: m.G, C: m.C})
+		if err := y.Factor(complex(w0, 0)); err != nil {
+			return nil, fmt.Errorf("%w (Y(s) is singular at s = %g rad/s, where a passive circuit has no natural frequency)", ErrSingularPencil, w0)
+		}
+		return &Result{Class: Stable, Reason: ReasonPassive}, nil
+	}
 	gainIn := gainEntryTest(c, m)
 	res := &Result{}
 	var roots, found []complex128
+	var suspect []transfer.PencilBlock // blocks with an offending frequency
 	passiveBlock, unchecked := false, false
+	strictBlocks := 0 // large blocks proven strictly stable by blockCertificate
 	for _, b := range blocks {
 		g, cm := m.G.Sub(b.Rows, b.Cols), m.C.Sub(b.Rows, b.Cols)
 		if len(b.Rows) <= MaxUnknowns {
@@ -63,7 +73,20 @@ func largeResult(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 				return nil, err
 			}
 			roots = append(roots, r...)
+			if cl, _ := Classify(slices.Clone(r), w0); cl != Stable {
+				suspect = append(suspect, b)
+			}
 			continue
+		}
+		if !passive && passivePrincipal(b, gainIn) {
+			in := make([]bool, n)
+			for _, r := range b.Rows {
+				in[r] = true
+			}
+			if v, ok := blockCertificate(c, m, in); ok && v.strict() {
+				strictBlocks++
+				continue // strictly stable, nothing left to say
+			}
 		}
 		res.LargestBlock = max(res.LargestBlock, len(b.Rows))
 		if passive || passivePrincipal(b, gainIn) {
@@ -75,6 +98,9 @@ func largeResult(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 			return nil, err
 		}
 		found = append(found, s.poles...)
+		if len(s.poles) > 0 {
+			suspect = append(suspect, b)
+		}
 		res.Backward = max(res.Backward, s.backward)
 		if res.SearchedRad[0] == 0 || s.lo < res.SearchedRad[0] {
 			res.SearchedRad[0] = s.lo
@@ -84,10 +110,14 @@ func largeResult(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 			unchecked = true
 		}
 	}
+	res.suspects = suspects(m, suspect)
 	cl, off := Classify(roots, w0)
 	res.Natural = append(roots, found...)
 	sortByRealPart(res.Natural)
+	computed := !unchecked && !passiveBlock && strictBlocks == 0 && len(found) == 0
 	switch {
+	case computed:
+		res.Class, res.Offending, res.AllNatural = cl, off, true
 	case cl == Unstable || len(found) > 0:
 		res.Class, res.Offending = Unstable, append(found, off...)
 		sortByRealPart(res.Offending)
@@ -105,8 +135,8 @@ func largeResult(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 				res.Reason = ReasonPassiveZero
 			}
 		}
-	default:
-		res.Class, res.Offending, res.AllNatural = cl, off, true
+	default: // every large block proven strictly stable by blockCertificate
+		res.Class, res.Offending, res.Reason = cl, off, ReasonPassiveBlocks
 	}
 	return res, nil
 }
@@ -198,4 +228,30 @@ func passivePrincipal(b transfer.PencilBlock, ge gainEntries) bool {
 		}
 	}
 	return true
+}
+
+// suspects returns the gain elements with a control term inside one of
+// the blocks: only breaking those can change a block's frequencies
+// (removing entries never merges blocks, and an entry between two blocks
+// is in none of the diagonal blocks), so involved tries no other.
+func suspects(m *mna.Matrices, blocks []transfer.PencilBlock) map[string]bool {
+	out := map[string]bool{}
+	if len(blocks) == 0 {
+		return out
+	}
+	rowIn, colIn := make([]int, m.Size()), make([]int, m.Size())
+	for k, b := range blocks {
+		for _, r := range b.Rows {
+			rowIn[r] = k + 1
+		}
+		for _, c := range b.Cols {
+			colIn[c] = k + 1
+		}
+	}
+	m.GainEntries(func(part string, i, j int) {
+		if rowIn[i] != 0 && rowIn[i] == colIn[j] {
+			out[part] = true
+		}
+	})
+	return out
 }

@@ -280,3 +280,58 @@ func BenchmarkLargeLadderStability(b *testing.B) {
 		})
 	}
 }
+
+// TestLargeBlocks: a large circuit split by its block triangular form.
+// An ideal buffer (VCVS) driving a 2000-section RC ladder leaves the
+// ladder a block of passive stamps alone, proven strictly stable by the
+// certificate on its own network; driving an undamped LC ladder instead
+// leaves it only "passive". 400 buffered RC stages (1,202 unknowns) with a negative
+// resistance (a VCCS feeding its node from itself, gm = 2/R) in the last
+// give that stage's root s = (gm − 1/R)/C = 1/(RC) (KCL at the node,
+// common practice), every natural frequency computed, and name the VCCS.
+func TestLargeBlocks(t *testing.T) {
+	const r, c = 1e3, 1e-8
+	buffered := []netlist.Part{testcircuit.V("Vin", "x", "gnd", 1), testcircuit.R("Rx", "x", "y", r), testcircuit.C("Cy", "y", "gnd", c),
+		testcircuit.VCVS("E1", "n0", "gnd", 3, "y", "gnd")}
+	rc, lc := slices.Clone(buffered), slices.Clone(buffered)
+	for j := 1; j <= 2000; j++ {
+		a, b := fmt.Sprintf("n%d", j-1), fmt.Sprintf("n%d", j)
+		rc = append(rc, testcircuit.R(fmt.Sprintf("R%d", j), a, b, r), testcircuit.C(fmt.Sprintf("C%d", j), b, "gnd", c))
+		lc = append(lc, testcircuit.L(fmt.Sprintf("L%d", j), a, b, 1e-6), testcircuit.C(fmt.Sprintf("C%d", j), b, "gnd", c))
+	}
+	neg := bufferedLadders(400, 1, r, c, 1)
+	neg.Parts = append(neg.Parts, testcircuit.VCCS("G1", "s400n1", "gnd", 2/r, "s400n1", "gnd"))
+	neg = testcircuit.New(neg.Parts...)
+	tests := []struct {
+		name     string
+		c        *netlist.Circuit
+		class    Class
+		reason   Reason
+		all      bool
+		off      []complex128
+		involved []string
+	}{
+		{"buffer and RC ladder", testcircuit.New(rc...), Stable, ReasonPassiveBlocks, false, nil, nil},
+		{"buffer and LC ladder", testcircuit.New(lc...), Passive, ReasonPassiveBlock, false, nil, nil},
+		{"400 stages, one negative resistance", neg, Unstable, ReasonComputed, true, []complex128{1 / (r * c)}, []string{"G1"}},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			res, err := Analyze(tt.c, Options{Explain: true})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if res.Class != tt.class || res.Reason != tt.reason || res.AllNatural != tt.all || !slices.Equal(res.Involved, tt.involved) {
+				t.Fatalf("class %v, reason %v, all %v, involved %v; want %v, %v, %v, %v", res.Class, res.Reason, res.AllNatural, res.Involved, tt.class, tt.reason, tt.all, tt.involved)
+			}
+			if len(res.Offending) != len(tt.off) {
+				t.Fatalf("offending %v, want %v", res.Offending, tt.off)
+			}
+			for i, z := range tt.off {
+				if cmplx.Abs(res.Offending[i]-z) > 1e-9*cmplx.Abs(z) {
+					t.Fatalf("offending %v, want %v", res.Offending, tt.off)
+				}
+			}
+		})
+	}
+}

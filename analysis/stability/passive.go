@@ -77,12 +77,23 @@ const (
 // an op-amp. A gain element whose control m has broken (absent from
 // gains) is its zeroed output: a short for a voltage output, an open for
 // a current output.
-func passiveRoles(c *netlist.Circuit, gains map[string]bool) ([]passiveRole, bool) {
+//
+// With a block mask in (in[k]: unknown k is in the block), the roles are
+// those of the block's own network (see blockCertificate): a part whose
+// branch current is outside the block is open, and a gain element is its
+// zeroed output (its control terms lie outside the block).
+func passiveRoles(c *netlist.Circuit, m *mna.Matrices, gains map[string]bool, in []bool) ([]passiveRole, bool) {
 	roles := make([]passiveRole, len(c.Parts))
 	for i := range c.Parts {
 		p := &c.Parts[i]
+		if in != nil {
+			if k := m.BranchIndex(p.Name); k >= 0 && !in[k] {
+				roles[i] = roleOpen
+				continue
+			}
+		}
 		r, ok := kindRoles[p.Kind]
-		if !ok || (r.gain && gains[p.Name]) {
+		if !ok || (r.gain && in == nil && gains[p.Name]) {
 			return nil, false
 		}
 		roles[i] = r.role
@@ -111,11 +122,27 @@ func passiveCertificate(c *netlist.Circuit, m *mna.Matrices) (passiveVerdict, bo
 	for _, g := range m.GainParts() {
 		gains[g] = true
 	}
-	roles, ok := passiveRoles(c, gains)
+	roles, ok := passiveRoles(c, m, gains, nil)
 	if !ok {
 		return passiveVerdict{}, false
 	}
-	g := newPartGraph(c)
+	g := newPartGraph(c, m, nil)
+	return passiveVerdict{zero: g.zeroAtDC(roles), axisFree: g.axisFree(c, roles)}, true
+}
+
+// blockCertificate returns the verdict on one principal diagonal block of
+// m that holds no gain entry (passivePrincipal), in[k] marking its
+// unknowns. Its sub-pencil is the MNA pencil of the block's own network:
+// every node outside the block grounded, every branch current outside it
+// zero (that part open, its law dropped with its row), each gain element
+// its zeroed output; the certificate above applies to that network
+// (whose Ground is every outside node).
+func blockCertificate(c *netlist.Circuit, m *mna.Matrices, in []bool) (passiveVerdict, bool) {
+	roles, ok := passiveRoles(c, m, nil, in)
+	if !ok {
+		return passiveVerdict{}, false
+	}
+	g := newPartGraph(c, m, in)
 	return passiveVerdict{zero: g.zeroAtDC(roles), axisFree: g.axisFree(c, roles)}, true
 }
 
@@ -127,13 +154,22 @@ type partGraph struct {
 	incident [][]int  // incident[v]: the parts with a terminal at node v
 }
 
-func newPartGraph(c *netlist.Circuit) *partGraph {
+// newPartGraph returns the graph of c; with a block mask in, every node
+// whose voltage is outside the block is Ground.
+func newPartGraph(c *netlist.Circuit, m *mna.Matrices, in []bool) *partGraph {
 	at := make(map[string]int, len(c.Nodes)+1)
 	at[netlist.Ground] = 0
+	count := 1
 	for _, n := range c.Nodes {
-		if _, ok := at[n]; !ok {
-			at[n] = len(at)
+		if _, ok := at[n]; ok {
+			continue
 		}
+		if k := m.NodeIndex(n); in != nil && (k < 0 || !in[k]) {
+			at[n] = 0
+			continue
+		}
+		at[n] = count
+		count++
 	}
 	g := &partGraph{ends: make([][2]int, len(c.Parts))}
 	for i := range c.Parts {
@@ -144,14 +180,15 @@ func newPartGraph(c *netlist.Circuit) *partGraph {
 		}
 		for t, name := range p.Nodes {
 			v, ok := at[name]
-			if !ok {
-				v = len(at)
+			if !ok { // not in c.Nodes (a circuit built by hand)
+				v = count
 				at[name] = v
+				count++
 			}
 			g.ends[i][t] = v
 		}
 	}
-	g.nodes = len(at)
+	g.nodes = count
 	g.incident = make([][]int, g.nodes)
 	for i, e := range g.ends {
 		if e[0] >= 0 {

@@ -83,7 +83,7 @@ func foundText(res *stability.Result) string {
 		return ""
 	}
 	if res.Reason != stability.ReasonFound {
-		return fmt.Sprintf(" (a block of %d unknowns was not searched for more)", res.LargestBlock)
+		return fmt.Sprintf(" (the natural frequencies of a block of %d unknowns were not all computed)", res.LargestBlock)
 	}
 	return fmt.Sprintf(" (found by shift-and-invert Arnoldi in a block of %d unknowns and checked: an exact natural frequency of the circuit with G and C changed by at most %s of their norms; the other natural frequencies were not computed)",
 		res.LargestBlock, engNumber(res.Backward))
