@@ -129,6 +129,14 @@ func (m *Matrices) Excite(ex Excitation) (*Excited, error) {
 		for i, r := range ctl.rows {
 			add(r, -ctl.w[i])
 		}
+		// The broken element is no gain element of the copy (GainEntries,
+		// GainParts): its control terms are gone from G.
+		e.M.controls = make(map[string]control, len(m.controls)-1)
+		for part, c := range m.controls {
+			if part != ex.Part {
+				e.M.controls[part] = c
+			}
+		}
 	}
 	return e, nil
 }

@@ -75,8 +75,8 @@ func (x *Circuit) Stable() (bool, error) {
 	if err != nil {
 		return false, err
 	}
-	if st.Class == stability.Unchecked {
-		return false, stability.ErrUnchecked
+	if st.Class == stability.Unchecked || st.Class == stability.Passive {
+		return false, st.Err()
 	}
 	return st.Class == stability.Stable, nil
 }
@@ -88,13 +88,7 @@ func (x *Circuit) CheckStable() error {
 	if err != nil {
 		return err
 	}
-	if st.Class == stability.Unchecked {
-		return stability.ErrUnchecked
-	}
-	if st.Class != stability.Stable {
-		return fmt.Errorf("%w: %s", stability.ErrUnstable, st.Class)
-	}
-	return nil
+	return st.Err()
 }
 
 // ErrLoopGain marks an error in extracting the loop gain a metric names

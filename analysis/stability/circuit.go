@@ -19,12 +19,31 @@ const (
 // Result is the stability of one circuit.
 type Result struct {
 	Class Class
-	// Natural is every finite natural frequency (rad/s), sorted by
-	// decreasing real part.
+	// Reason says how the class was reached (every frequency computed,
+	// the passivity certificate, the search of a large block).
+	Reason Reason
+	// AllNatural reports whether Natural holds every finite natural
+	// frequency of the circuit. It is false when a diagonal block larger
+	// than MaxUnknowns was judged without computing its frequencies
+	// (Reason says how); a caller that counts or uses the natural
+	// frequencies must require it.
+	AllNatural bool
+	// Natural is every finite natural frequency (rad/s) when AllNatural,
+	// else those that were computed or found; sorted by decreasing real
+	// part.
 	Natural []complex128
 	// Offending are the natural frequencies that make the circuit marginal
-	// or unstable (rad/s): empty when Stable.
+	// or unstable (rad/s): empty when Stable or Passive; when not
+	// AllNatural, those found.
 	Offending []complex128
+	// LargestBlock is the number of unknowns of the largest diagonal block
+	// whose frequencies were not computed (0 when none).
+	LargestBlock int
+	// SearchedRad is the range of real shifts (rad/s) of the Arnoldi
+	// search of ReasonNotFound and ReasonFound, and Backward the largest
+	// backward error η of a frequency found (dimensionless, arnoldi.go).
+	SearchedRad [2]float64
+	Backward    float64
 	// Involved names the gain elements (controlled sources, op-amps with
 	// a finite gain) whose loop carries an offending frequency: breaking
 	// the element's control removes at least one. Filled by Options.Explain.
@@ -36,29 +55,47 @@ type Result struct {
 	// Filled by Options.Explain.
 	Polarity            []string
 	PolarityFrequencies []complex128
+
+	// suspects, when not nil, are the only gain elements whose broken
+	// control can change an offending frequency (large.go).
+	suspects map[string]bool
+}
+
+// Err is nil for a Stable result and otherwise the error of a question
+// that needs a stable circuit: wrapping ErrUnstable (Marginal, Unstable)
+// or ErrUnchecked with the reason (Unchecked, Passive).
+func (r *Result) Err() error {
+	switch r.Class {
+	case Stable:
+		return nil
+	case Unchecked, Passive:
+		return fmt.Errorf("%w (%s): %s", ErrUnchecked, r.Class, r.Reason)
+	}
+	return fmt.Errorf("%w: %s", ErrUnstable, r.Class)
 }
 
 // Options choose how much Analyze explains.
 type Options struct {
 	// Explain fills Involved and Polarity, at the cost of one more
-	// eigenvalue computation per gain element and per ideal op-amp.
+	// stability analysis per gain element and per ideal op-amp.
 	Explain bool
 }
 
-// OfMatrices returns the class, every natural frequency and the offending
-// ones of the circuit whose MNA matrices are m (rad/s).
-//
-// Past MaxUnknowns it returns Unchecked with no frequencies.
-func OfMatrices(m *mna.Matrices) (Class, []complex128, []complex128, error) {
+// ofMatrices returns the stability of the circuit c whose MNA matrices
+// are m (the class, the natural frequencies, the offending ones, rad/s):
+// every natural frequency by the dense method up to MaxUnknowns unknowns,
+// and past it the large-circuit path (large.go), which reads c's parts
+// for the passive certificate.
+func ofMatrices(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 	if m.Size() > MaxUnknowns {
-		return Unchecked, nil, nil, nil
+		return largeResult(c, m)
 	}
 	roots, _, err := FiniteEigenvalues(m.G.Dense(), m.C.Dense())
 	if err != nil {
-		return Unstable, nil, nil, err
+		return nil, err
 	}
 	cl, off := Classify(roots)
-	return cl, roots, off, nil
+	return &Result{Class: cl, Natural: roots, Offending: off, AllNatural: true}, nil
 }
 
 // Analyze builds the MNA matrices of c and returns its stability.
@@ -69,35 +106,41 @@ func Analyze(c *netlist.Circuit, opt Options) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
-	cl, nat, off, err := OfMatrices(m)
+	res, err := ofMatrices(c, m)
 	if err != nil {
 		return nil, fmt.Errorf("stability: %w", err)
 	}
-	res := &Result{Class: cl, Natural: nat, Offending: off}
-	if !opt.Explain || cl == Unchecked {
+	if !opt.Explain || res.Class == Unchecked || res.Class == Passive {
 		return res, nil
 	}
-	if cl != Stable {
-		res.Involved = involved(c, m, len(off), func(*netlist.Part) bool { return true })
+	if res.Class != Stable {
+		res.Involved = involved(c, m, res, func(string) bool { return true })
 	}
 	return res, res.polarity(c)
 }
 
-// involved lists the parts p (with want(p)) whose broken control leaves
-// fewer than n offending natural frequencies in the circuit of m.
-func involved(c *netlist.Circuit, m *mna.Matrices, n int, want func(*netlist.Part) bool) []string {
+// involved lists the gain elements p (with want(p)) whose broken control
+// leaves provably fewer offending natural frequencies than res has in the
+// circuit of m. Only the gain elements are tried (mna.Matrices.GainParts):
+// the other parts have no control to break. A broken circuit whose
+// result is not complete counts only when it is proven free of what res
+// found: not Unchecked, and either every frequency known or not Unstable.
+func involved(c *netlist.Circuit, m *mna.Matrices, res *Result, want func(string) bool) []string {
 	var out []string
-	for i := range c.Parts {
-		p := &c.Parts[i]
-		if !want(p) {
+	for _, name := range m.GainParts() {
+		if !want(name) || (res.suspects != nil && !res.suspects[name]) {
 			continue
 		}
-		e, err := m.Excite(mna.Excitation{Kind: mna.BrokenControl, Part: p.Name})
+		e, err := m.Excite(mna.Excitation{Kind: mna.BrokenControl, Part: name})
 		if err != nil {
-			continue // not a gain element
+			continue
 		}
-		if _, _, off, err := OfMatrices(e.M); err == nil && len(off) < n {
-			out = append(out, p.Name)
+		b, err := ofMatrices(c, e.M)
+		if err != nil || b.Class == Unchecked || (!b.AllNatural && b.Class == Unstable) {
+			continue
+		}
+		if len(b.Offending) < len(res.Offending) {
+			out = append(out, name)
 		}
 	}
 	return out
@@ -126,13 +169,13 @@ func (res *Result) polarity(c *netlist.Circuit) error {
 	if err != nil {
 		return err
 	}
-	cl, _, off, err := OfMatrices(m)
-	if err != nil || cl != Unstable {
+	fr, err := ofMatrices(f, m)
+	if err != nil || fr.Class != Unstable {
 		return nil // the finite model changes nothing we can judge
 	}
-	res.PolarityFrequencies = off
-	res.Polarity = involved(f, m, len(off), func(p *netlist.Part) bool {
-		q, _ := c.Part(p.Name)
+	res.PolarityFrequencies = fr.Offending
+	res.Polarity = involved(f, m, fr, func(name string) bool {
+		q, _ := c.Part(name)
 		return q != nil && isIdealOpAmp(q)
 	})
 	if len(res.Polarity) == 0 {

@@ -3,7 +3,6 @@ package stability
 import (
 	"cmp"
 	"errors"
-	"fmt"
 	"math"
 	"math/cmplx"
 	"slices"
@@ -26,23 +25,98 @@ const (
 	// Unstable: a natural frequency in the right half-plane, or a repeated
 	// one on the jω axis.
 	Unstable
-	// Unchecked: the circuit has more than MaxUnknowns unknowns, past which
-	// nodal does not solve the dense eigenvalue problem of its natural
-	// frequencies; nothing is claimed, and no requirement on stability
-	// passes.
+	// Unchecked: the circuit has more than MaxUnknowns unknowns and a
+	// diagonal block of its pencil larger than MaxUnknowns with active
+	// parts in it, where nodal found no natural frequency in the right
+	// half-plane but cannot prove there is none (Result.Reason says so);
+	// nothing is claimed, and no requirement on stability passes.
 	Unchecked
+	// Passive: proven to have every natural frequency in the closed left
+	// half-plane, those on the jω axis simple, by the passivity of the
+	// parts (passive.go), but not proven strictly inside it (a lossless
+	// mode or a frequency at s = 0 is possible; Result.Reason says which).
+	// Not Stable: no requirement on stability passes.
+	Passive
 )
 
-// MaxUnknowns is the size of the largest MNA system whose natural
-// frequencies are computed (a dense eigenvalue problem, O(n³)).
+// MaxUnknowns is the size of the largest system, or of the largest
+// diagonal block of its block triangular form, whose natural frequencies
+// are computed (a dense eigenvalue problem, O(n³)).
 const MaxUnknowns = 1000
 
-// ErrUnchecked is the error of a stability question about a circuit past
-// MaxUnknowns.
-var ErrUnchecked = fmt.Errorf("stability not checked: the circuit has more than %d unknowns", MaxUnknowns)
+// ErrUnchecked is the error of a stability question nodal cannot answer
+// (the classes Unchecked and Passive); it is wrapped with the reason.
+var ErrUnchecked = errors.New("stability not proven")
 
-// String is the word used in output and JSON: "stable", "marginal" or
-// "unstable".
+// Reason says how a Result was reached.
+type Reason int
+
+const (
+	// ReasonComputed: every natural frequency was computed (Natural), as
+	// one pencil or block by block.
+	ReasonComputed Reason = iota
+	// ReasonPassive: every part is passive (resistors, capacitors,
+	// inductors and couplings of positive values, zeroed sources), the
+	// circuit has no natural frequency at s = 0 and none on the jω axis
+	// by the propagation of passive.go: strictly stable, with no
+	// frequency computed.
+	ReasonPassive
+	// ReasonPassiveZero: every part is passive and s = 0 is a natural
+	// frequency (a node reached only through capacitors and current
+	// sources, or a loop of inductors and voltage sources).
+	ReasonPassiveZero
+	// ReasonPassiveLossless: every part is passive; a lossless mode on the
+	// jω axis is not ruled out (an inductor or capacitor no resistor
+	// damps, as seen by the propagation).
+	ReasonPassiveLossless
+	// ReasonPassiveBlock: a diagonal block larger than MaxUnknowns holds
+	// only passive stamps (closed half-plane); the other blocks were
+	// computed and are stable or marginal.
+	ReasonPassiveBlock
+	// ReasonPassiveBlocks: every diagonal block larger than MaxUnknowns
+	// holds only passive stamps and is proven strictly stable as
+	// ReasonPassive proves a whole circuit; the other blocks were computed
+	// (Natural) and decide the class.
+	ReasonPassiveBlocks
+	// ReasonFound: a natural frequency in the right half-plane was found
+	// in a large block by shift-and-invert Arnoldi and checked by its
+	// residual (Result.Backward); Natural holds only the frequencies found
+	// and those of the blocks computed.
+	ReasonFound
+	// ReasonSomeNatural: a computed block is unstable; a larger block was
+	// not fully computed.
+	ReasonSomeNatural
+	// ReasonNotFound: a diagonal block larger than MaxUnknowns has active
+	// parts; shift-and-invert Arnoldi over Result.SearchedRad found no
+	// natural frequency in the right half-plane, which proves nothing.
+	ReasonNotFound
+)
+
+// String is the reason in words, without figures (cmd/nodal adds them).
+func (r Reason) String() string {
+	switch r {
+	case ReasonPassive:
+		return "every part is passive and no natural frequency can lie on the jω axis"
+	case ReasonPassiveZero:
+		return "every part is passive, and s = 0 is a natural frequency (a node reached only through capacitors or current sources, or a loop of inductors and voltage sources)"
+	case ReasonPassiveLossless:
+		return "every part is passive, but a lossless mode on the jω axis is not ruled out"
+	case ReasonPassiveBlock:
+		return "a block of the circuit too large to solve holds only passive parts, which keeps its natural frequencies in the closed left half-plane but does not prove them strictly inside"
+	case ReasonPassiveBlocks:
+		return "every block of the circuit too large to solve holds only passive parts and can have no natural frequency on the jω axis; the other blocks were solved"
+	case ReasonFound:
+		return "a natural frequency in the right half-plane was found by shift-and-invert Arnoldi and checked by its residual"
+	case ReasonSomeNatural:
+		return "a block of the circuit has a natural frequency in the right half-plane or repeated on the jω axis"
+	case ReasonNotFound:
+		return "a block of the circuit too large to solve has active parts; shift-and-invert Arnoldi found no natural frequency in the right half-plane, which does not prove there is none"
+	}
+	return "every natural frequency was computed"
+}
+
+// String is the word used in output and JSON: "stable", "marginal",
+// "unstable", "not checked" or "passive".
 func (c Class) String() string {
 	switch c {
 	case Marginal:
@@ -51,6 +125,8 @@ func (c Class) String() string {
 		return "unstable"
 	case Unchecked:
 		return "not checked"
+	case Passive:
+		return "passive"
 	}
 	return "stable"
 }

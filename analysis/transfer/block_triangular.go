@@ -31,78 +31,160 @@ func BlockTriangular(a, e *mat.Dense) []PencilBlock {
 			}
 		}
 	}
+	return BlockTriangularPattern(adj)
+}
+
+// BlockTriangularPattern is BlockTriangular on a pattern given by rows:
+// adj[i] lists the columns with an entry in row i of an n×n pencil,
+// n = len(adj). Its cost is O(n + entries) for the strongly connected
+// components and, for the matching, a cheap pass (each row takes a free
+// column of its own) then augmenting paths from the rows left over
+// (depth-first, one visit mark per search; O(n·entries) at worst, about
+// linear for circuit matrices, whose rows nearly all match at once). The
+// searches keep their own stacks, so a chain of 10⁵ unknowns needs no deep
+// recursion.
+func BlockTriangularPattern(adj [][]int) []PencilBlock {
+	n := len(adj)
 	rowOf := make([]int, n) // rowOf[j]: the row matched to column j, −1 none
+	colOf := make([]int, n)
 	for j := range rowOf {
-		rowOf[j] = -1
+		rowOf[j], colOf[j] = -1, -1
 	}
-	var seen []bool
-	var augment func(i int) bool
-	augment = func(i int) bool {
-		for _, j := range adj[i] {
-			if seen[j] {
-				continue
-			}
-			seen[j] = true
-			if rowOf[j] < 0 || augment(rowOf[j]) {
-				rowOf[j] = i
-				return true
-			}
+	for i := range n { // cheap pass: the diagonal first, else any free column
+		if hasEntry(adj[i], i) && rowOf[i] < 0 {
+			rowOf[i], colOf[i] = i, i
 		}
-		return false
 	}
 	for i := range n {
-		seen = make([]bool, n)
-		if !augment(i) {
+		if colOf[i] >= 0 {
+			continue
+		}
+		for _, j := range adj[i] {
+			if rowOf[j] < 0 {
+				rowOf[j], colOf[i] = i, j
+				break
+			}
+		}
+	}
+	mark := make([]int, n) // mark[j] == search: column j visited in this search
+	next := make([]int, n) // next[i]: the position reached in adj[i]
+	for j := range mark {
+		mark[j] = -1
+	}
+	var path []int // rows on the current augmenting path
+	for i0 := range n {
+		if colOf[i0] >= 0 {
+			continue
+		}
+		path = append(path[:0], i0)
+		next[i0] = 0
+		found := false
+		for len(path) > 0 && !found {
+			i := path[len(path)-1]
+			if next[i] == len(adj[i]) {
+				path = path[:len(path)-1]
+				continue
+			}
+			j := adj[i][next[i]]
+			next[i]++
+			if mark[j] == i0 {
+				continue
+			}
+			mark[j] = i0
+			if rowOf[j] < 0 {
+				// Augment along the path: each row takes the column it
+				// reached, the last one the free column j.
+				for k := len(path) - 1; k >= 0; k-- {
+					r := path[k]
+					prev := colOf[r]
+					rowOf[j], colOf[r] = r, j
+					j = prev
+				}
+				found = true
+				continue
+			}
+			r := rowOf[j]
+			next[r] = 0
+			path = append(path, r)
+		}
+		if !found {
 			return nil
 		}
 	}
-	colOf := make([]int, n)
-	for j, i := range rowOf {
-		colOf[i] = j
+	return strongComponents(adj, rowOf, colOf)
+}
+
+// hasEntry reports whether row lists column j.
+func hasEntry(row []int, j int) bool {
+	for _, c := range row {
+		if c == j {
+			return true
+		}
 	}
-	// Tarjan's strongly connected components on rows.
+	return false
+}
+
+// strongComponents returns the strongly connected components of the graph
+// row i → row rowOf[j] for each column j of adj[i] (Tarjan's algorithm,
+// with an explicit stack), each as a block of rows and their matched
+// columns, in the order Tarjan's algorithm completes them.
+func strongComponents(adj [][]int, rowOf, colOf []int) []PencilBlock {
+	n := len(adj)
 	index := make([]int, n)
 	low := make([]int, n)
 	onStack := make([]bool, n)
+	pos := make([]int, n) // pos[i]: the position reached in adj[i]
 	for i := range index {
 		index[i] = -1
 	}
-	var stack []int
+	var stack, call []int
 	var blocks []PencilBlock
-	next := 0
-	var visit func(i int)
-	visit = func(i int) {
-		index[i], low[i] = next, next
-		next++
-		stack = append(stack, i)
-		onStack[i] = true
-		for _, j := range adj[i] {
-			k := rowOf[j]
-			if index[k] < 0 {
-				visit(k)
-				low[i] = min(low[i], low[k])
-			} else if onStack[k] {
-				low[i] = min(low[i], index[k])
-			}
+	count := 0
+	for root := range n {
+		if index[root] >= 0 {
+			continue
 		}
-		if low[i] == index[i] {
-			var b PencilBlock
-			for {
-				k := stack[len(stack)-1]
-				stack = stack[:len(stack)-1]
-				onStack[k] = false
-				b.Rows = append(b.Rows, k)
-				b.Cols = append(b.Cols, colOf[k])
-				if k == i {
-					break
+		call = append(call[:0], root)
+		index[root], low[root] = count, count
+		count++
+		stack = append(stack, root)
+		onStack[root] = true
+		for len(call) > 0 {
+			i := call[len(call)-1]
+			if pos[i] < len(adj[i]) {
+				k := rowOf[adj[i][pos[i]]]
+				pos[i]++
+				switch {
+				case index[k] < 0:
+					index[k], low[k] = count, count
+					count++
+					stack = append(stack, k)
+					onStack[k] = true
+					call = append(call, k)
+				case onStack[k]:
+					low[i] = min(low[i], index[k])
 				}
+				continue
 			}
-			blocks = append(blocks, b)
-		}
-	}
-	for i := range n {
-		if index[i] < 0 {
-			visit(i)
+			call = call[:len(call)-1]
+			if len(call) > 0 {
+				p := call[len(call)-1]
+				low[p] = min(low[p], low[i])
+			}
+			if low[i] == index[i] {
+				var b PencilBlock
+				for {
+					k := stack[len(stack)-1]
+					stack = stack[:len(stack)-1]
+					onStack[k] = false
+					b.Rows = append(b.Rows, k)
+					b.Cols = append(b.Cols, colOf[k])
+					if k == i {
+						break
+					}
+				}
+				blocks = append(blocks, b)
+			}
 		}
 	}
 	return blocks

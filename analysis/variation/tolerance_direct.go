@@ -128,8 +128,8 @@ func newDirectPath(e *MetricEvaluator, nominal *netlist.Circuit) *directPath {
 		return nil
 	}
 	st, err := stability.Analyze(nominal, stability.Options{})
-	if err != nil || st.Class != stability.Stable {
-		return nil
+	if err != nil || st.Class != stability.Stable || !st.AllNatural {
+		return nil // it counts the natural frequencies and solves them densely
 	}
 	d.template, d.natural = r, len(st.Natural)
 	n := r.Matrices().Size()

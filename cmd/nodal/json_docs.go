@@ -23,16 +23,22 @@ type complexJSON struct {
 }
 
 // stabilityJSON is the stability part of a JSON document: the class
-// ("stable", "marginal" or "unstable") and the offending natural
-// frequencies (rad/s; empty when stable).
+// ("stable", "marginal", "unstable", "passive": no natural frequency in
+// the right half-plane but not proven strictly stable, or "not checked"),
+// how it was reached (stability.Reason in words), whether every natural
+// frequency was computed, and the offending natural frequencies (rad/s;
+// empty when stable; only those found when not all were computed).
 type stabilityJSON struct {
-	Stability     string        `json:"stability"`
-	UnstablePoles []complexJSON `json:"unstable_poles"`
+	Stability       string        `json:"stability"`
+	StabilityReason string        `json:"stability_reason"`
+	AllNatural      bool          `json:"all_natural_computed"`
+	UnstablePoles   []complexJSON `json:"unstable_poles"`
 }
 
 // newStabilityJSON fills stabilityJSON from a result.
 func newStabilityJSON(res *stability.Result) stabilityJSON {
-	return stabilityJSON{Stability: res.Class.String(), UnstablePoles: rootsJSON(res.Offending)}
+	return stabilityJSON{Stability: res.Class.String(), StabilityReason: res.Reason.String(),
+		AllNatural: res.AllNatural, UnstablePoles: rootsJSON(res.Offending)}
 }
 
 // complexDoc returns z as a complexJSON.

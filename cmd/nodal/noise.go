@@ -456,6 +456,8 @@ func noiseJSON(r *noiseRun) object {
 	if r.stab != nil {
 		st := newStabilityJSON(r.stab)
 		doc.set("stability", st.Stability)
+		doc.set("stability_reason", st.StabilityReason)
+		doc.set("all_natural_computed", st.AllNatural)
 		doc.set("unstable_poles", st.UnstablePoles)
 	}
 	return doc

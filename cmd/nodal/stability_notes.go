@@ -45,9 +45,9 @@ func stabilityLines(res *stability.Result) []string {
 	var out []string
 	switch res.Class {
 	case stability.Unstable:
-		out = append(out, "the circuit is unstable: "+offendingText(res.Offending)+"; no steady state exists and responses grow"+involvedText(res.Involved))
-	case stability.Unchecked:
-		out = append(out, fmt.Sprintf("stability not checked: the circuit has more than %d unknowns, past which nodal does not compute its natural frequencies; nothing here says it is stable", stability.MaxUnknowns))
+		out = append(out, "the circuit is unstable: "+offendingText(res.Offending)+"; no steady state exists and responses grow"+involvedText(res.Involved)+foundText(res))
+	case stability.Unchecked, stability.Passive:
+		out = append(out, unprovenText(res))
 	case stability.Marginal:
 		out = append(out, "the circuit is marginally stable: "+offendingText(res.Offending)+"; a response at those frequencies does not decay"+involvedText(res.Involved))
 	}
@@ -56,6 +56,37 @@ func stabilityLines(res *stability.Result) []string {
 			p, p, engNumber(stability.FiniteOpAmpA0), notation.Eng(stability.FiniteOpAmpGBWHz, "Hz"), naturalList(res.PolarityFrequencies)))
 	}
 	return out
+}
+
+// unprovenText is the warning of a circuit whose stability nodal cannot
+// prove (the classes Unchecked and Passive), with the reason.
+func unprovenText(res *stability.Result) string {
+	past := fmt.Sprintf("past %d unknowns nodal does not compute every natural frequency", stability.MaxUnknowns)
+	switch res.Reason {
+	case stability.ReasonPassiveZero:
+		return "stability not proven strict: every part is passive, so no natural frequency lies in the right half-plane, but s = 0 is one (a node reached only through capacitors or current sources, or a loop of inductors and voltage sources); " + past
+	case stability.ReasonPassiveLossless:
+		return "stability not proven strict: every part is passive, so no natural frequency lies in the right half-plane, but a lossless mode on the jω axis (a capacitor or inductor no resistor damps) is not ruled out; " + past
+	case stability.ReasonPassiveBlock:
+		return fmt.Sprintf("stability not proven strict: a block of %d unknowns holds only passive parts, so none of its natural frequencies lies in the right half-plane, but they are not computed (%s); the other blocks are stable or marginal", res.LargestBlock, past)
+	case stability.ReasonNotFound:
+		return fmt.Sprintf("stability not checked: a block of %d unknowns has active parts; shift-and-invert Arnoldi with shifts from %s to %s found no natural frequency in the right half-plane, which does not prove there is none (%s); nothing here says it is stable",
+			res.LargestBlock, notation.Eng(res.SearchedRad[0], "rad/s"), notation.Eng(res.SearchedRad[1], "rad/s"), past)
+	}
+	return "stability not checked: " + res.Reason.String() + "; nothing here says it is stable"
+}
+
+// foundText says how the offending frequencies of a large circuit were
+// found ("" when every natural frequency was computed).
+func foundText(res *stability.Result) string {
+	if res.AllNatural {
+		return ""
+	}
+	if res.Reason != stability.ReasonFound {
+		return fmt.Sprintf(" (the natural frequencies of a block of %d unknowns were not all computed)", res.LargestBlock)
+	}
+	return fmt.Sprintf(" (found by shift-and-invert Arnoldi in a block of %d unknowns and checked: an exact natural frequency of the circuit with G and C changed by at most %s of their norms; the other natural frequencies were not computed)",
+		res.LargestBlock, engNumber(res.Backward))
 }
 
 // offendingText says where the offending natural frequencies lie.
