@@ -47,7 +47,8 @@ type Analyzer struct {
 	z      []complex128
 	m      *mna.Matrices
 	ob     mna.Observation
-	stale  error // the error of the last Revalue, nil after a successful one
+	stale  error    // the error of the last Revalue, nil after a successful one
+	spare  []Source // Revalue's working memory (the sources before the last one)
 }
 
 // New builds the matrices of c once and resolves the output and input.
@@ -115,10 +116,11 @@ func NewOn(c *netlist.Circuit, m *mna.Matrices, cfg Config) (*Analyzer, error) {
 // first circuit, so a probe whose row or drive depends on part values
 // (not a node voltage) must not be revalued. An error (a value Sources
 // refuses, other parts) makes every At fail with it until a Revalue
-// succeeds.
+// succeeds. Sources is replaced; its memory of two Revalues back is
+// reused, so a copy of it kept across Revalues must be cloned.
 func (a *Analyzer) Revalue(c *netlist.Circuit) error {
 	n := len(a.Sources)
-	src, err := Sources(c, a.m, a.ob, a.TempK)
+	src, err := appendSources(a.spare[:0], c, a.m, a.ob, a.TempK)
 	if err == nil && len(src) != n {
 		err = fmt.Errorf("noise: %d sources, not %d: not the circuit of this analysis", len(src), n)
 	}
@@ -126,7 +128,7 @@ func (a *Analyzer) Revalue(c *netlist.Circuit) error {
 	if err != nil {
 		return err
 	}
-	a.Sources = src
+	a.Sources, a.spare = src, a.Sources
 	return nil
 }
 

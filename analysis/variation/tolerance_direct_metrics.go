@@ -254,27 +254,41 @@ func (w *directWorker) computePeak() error {
 		v, d := w.product(u)
 		return v - math.Ln2, d
 	}
-	grid, lo, hi, _ := w.rootSpan(w.grid[:0])
+	slope := func(u float64) float64 { return w.slope(math.Exp(u)) }
+	res, lo, hi, _ := w.rootSpan(w.grid[:0])
 	if math.IsInf(lo, 1) {
 		return errUncertain
 	}
 	lo, hi = lo-2*math.Ln10, hi+2*math.Ln10
 	step := math.Ln10 / directPeakPerDecade
-	for x := lo; x <= hi+step/2; x += step {
-		grid = append(grid, x)
-	}
-	grid = sortedWithin(grid, lo, hi+step/2)
-	w.grid = grid
-	// Candidates: the DC end (g = 0) and every maximum of g on the grid.
+	res = sortedWithin(res, lo, hi+step/2)
+	w.grid = res
+	// Candidates: the DC end (g = 0) and every maximum of g on the grid:
+	// the regular points lo + i·step and the resonance points, visited in
+	// one ascending sequence.
 	bestU, bestG, second := math.Inf(-1), 0.0, math.Inf(-1)
 	prevU, prevD := math.NaN(), 0.0
-	for _, u := range grid {
+	// ω of the regular points by multiplication (the grid only brackets:
+	// each maximum is closed on exact values).
+	omReg, ratio := math.Exp(lo), math.Exp(step)
+	for i, f := 0, 0; ; {
+		u, om := lo+float64(i)*step, omReg
+		if f < len(res) && res[f] < u {
+			u, om = res[f], math.Exp(res[f])
+			f++
+		} else {
+			i++
+			omReg *= ratio
+		}
+		if u > hi+step/2 {
+			break
+		}
 		if u == prevU {
 			continue
 		}
-		_, du := g(u)
+		du := w.slope(om)
 		if prevD > 0 && du <= 0 {
-			x := bisectDown(func(u float64) float64 { _, d := g(u); return d }, prevU, u)
+			x := bisectDown(slope, prevU, u)
 			if gx, _ := g(x); gx > bestG {
 				bestU, bestG, second = x, gx, bestG
 			} else {
@@ -286,7 +300,7 @@ func (w *directWorker) computePeak() error {
 	// H is strictly proper (nominalFits; the degrees follow the
 	// structure): |H(∞)| = 0 does not compete, and the product must fall
 	// at the top of the scan, below the peak.
-	if gHi, dHi := g(grid[len(grid)-1]); !(dHi < 0 && gHi < bestG) {
+	if gHi, dHi := g(prevU); !(dHi < 0 && gHi < bestG) {
 		return errUncertain
 	}
 	if bestG-second <= directTie {
@@ -310,14 +324,27 @@ func (w *directWorker) computePeak() error {
 	// The place: one Newton step on the direct slope, with the product's
 	// curvature (a central difference of its slope).
 	const du = 1e-4
-	_, d1 := g(bestU + du)
-	_, d0 := g(bestU - du)
-	curv := (d1 - d0) / (2 * du)
-	slope := 2 * real(complex(0, om)*dh/h)
-	if !(curv < 0) || !(math.Abs(slope/curv) <= directPeakShift) {
+	curv := (slope(bestU+du) - slope(bestU-du)) / (2 * du)
+	direct := 2 * real(complex(0, om)*dh/h)
+	if !(curv < 0) || !(math.Abs(direct/curv) <= directPeakShift) {
 		w.fpeakErr = errUncertain
 	}
 	return nil
+}
+
+// slope returns d ln|H(jω)|²/d ln ω on the product (the dg of product,
+// without its logarithms), ω in rad/s.
+func (w *directWorker) slope(om float64) float64 {
+	dg := 0.0
+	for _, m := range w.muZ {
+		a, b := 1-om*imag(m), om*real(m)
+		dg += 2 * (-a*om*imag(m) + b*om*real(m)) / (a*a + b*b)
+	}
+	for _, m := range w.muN {
+		a, b := 1-om*imag(m), om*real(m)
+		dg -= 2 * (-a*om*imag(m) + b*om*real(m)) / (a*a + b*b)
+	}
+	return dg
 }
 
 // sortedWithin sorts u ascending and keeps the values in [lo, hi].
