@@ -25,8 +25,8 @@ import (
 // the fill-reducing order and the working memory kept), its stability is
 // decided from the eigenvalues of a small matrix, and the metrics come
 // from direct solves of H(jω) (mna.Sweeper): gain@F, phase@F and dc at
-// their frequency, f3db by a bracketed root search. No transfer function
-// is extracted. Whatever the direct path cannot vouch for sends that run
+// their frequency, f3db by a bracketed root search (and the metrics of
+// tolerance_direct_metrics.go). No transfer function is extracted. Whatever the direct path cannot vouch for sends that run
 // to the extraction path (errUncertain), so the numbers are those of
 // Metric.Eval on the extracted transfer function to the last digits
 // reported (tested against it in tolerance_direct_test.go).

@@ -179,7 +179,7 @@ R1: resistor (out, gnd) 10k ±1%
 // absolute for dB and degrees (the values differ in the last digits
 // only: two roundings of one root search, two solves at s = 0).
 func TestMonteCarloDirectMatchesExtraction(t *testing.T) {
-	for _, name := range []string{"logger", "logger pair", "sometimes unstable"} {
+	for _, name := range []string{"logger", "logger pair", "logger peak", "logger noise", "sometimes unstable"} {
 		src, metrics := directCase(t, name)
 		c := tolLoad(t, src)
 		fast := tolEvaluator(t, c, "out", metrics...)
