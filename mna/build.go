@@ -79,6 +79,7 @@ type builder struct {
 	g, cap   []triplet // the stamps, summed into Sparse matrices at the end
 	edges    []edge
 	controls map[string]control
+	term     [3]int // terminals' working memory (its result is used at once)
 }
 
 func newBuilder(c *netlist.Circuit) (*builder, error) {

@@ -28,12 +28,16 @@ type edge struct {
 }
 
 // terminals returns the node rows of p's terminals after checking their
-// count.
+// count, in the builder's working memory: valid until the next call.
 func (b *builder) terminals(p *netlist.Part, want int) ([]int, error) {
 	if len(p.Nodes) != want {
 		return nil, &PartError{Part: p.Name, Msg: fmt.Sprintf("a %s has %d terminals, not %d", p.Kind, want, len(p.Nodes))}
 	}
-	rows := make([]int, want)
+	rows := b.term[:0]
+	if want > len(b.term) {
+		rows = make([]int, 0, want)
+	}
+	rows = rows[:want]
 	for i, n := range p.Nodes {
 		rows[i] = b.node(n)
 	}

@@ -45,6 +45,10 @@ type Analyzer struct {
 	drive  []float64 // right-hand side of the unit input; nil without input
 	feed   float64   // the row's feed-through of the input
 	z      []complex128
+	m      *mna.Matrices
+	ob     mna.Observation
+	stale  error    // the error of the last Revalue, nil after a successful one
+	spare  []Source // Revalue's working memory (the sources before the last one)
 }
 
 // New builds the matrices of c once and resolves the output and input.
@@ -55,7 +59,16 @@ func New(c *netlist.Circuit, cfg Config) (*Analyzer, error) {
 	if err != nil {
 		return nil, err
 	}
+	return NewOn(c, m, cfg)
+}
+
+// NewOn is New on matrices m that are c's own: mna.BuildMatrices of c, or
+// those of an mna.Restamper holding c's values. The Analyzer solves on m
+// as it is at each call, so after m is restamped with another circuit's
+// values, Revalue with that circuit makes the Analyzer that circuit's.
+func NewOn(c *netlist.Circuit, m *mna.Matrices, cfg Config) (*Analyzer, error) {
 	var ex *mna.Excited
+	var err error
 	if cfg.HasInput {
 		ex, err = m.Excite(mna.Excitation{Kind: mna.Drive, Source: cfg.Input})
 	} else {
@@ -82,7 +95,7 @@ func New(c *netlist.Circuit, cfg Config) (*Analyzer, error) {
 		return nil, err
 	}
 	a := &Analyzer{Sources: src, OutUnit: "V", Output: observationName(ob), TempK: cfg.TempK,
-		solver: mna.NewSolver(m), row: row, z: make([]complex128, m.Size())}
+		solver: mna.NewSolver(m), row: row, z: make([]complex128, m.Size()), m: m, ob: ob}
 	if ob.Kind != mna.NodeVoltage {
 		a.OutUnit = "A"
 	}
@@ -94,6 +107,29 @@ func New(c *netlist.Circuit, cfg Config) (*Analyzer, error) {
 		}
 	}
 	return a, nil
+}
+
+// Revalue takes the noise sources' densities from c, a circuit with the
+// parts of the one the Analyzer was made for (its values restamped into
+// the Analyzer's matrices, mna.Restamper): resistor values, opamp en and
+// in, their corners. The output row and the input drive are those of the
+// first circuit, so a probe whose row or drive depends on part values
+// (not a node voltage) must not be revalued. An error (a value Sources
+// refuses, other parts) makes every At fail with it until a Revalue
+// succeeds. Sources is replaced; its memory of two Revalues back is
+// reused, so a copy of it kept across Revalues must be cloned.
+func (a *Analyzer) Revalue(c *netlist.Circuit) error {
+	n := len(a.Sources)
+	src, err := appendSources(a.spare[:0], c, a.m, a.ob, a.TempK)
+	if err == nil && len(src) != n {
+		err = fmt.Errorf("noise: %d sources, not %d: not the circuit of this analysis", len(src), n)
+	}
+	a.stale = err
+	if err != nil {
+		return err
+	}
+	a.Sources, a.spare = src, a.Sources
+	return nil
 }
 
 // observationName writes an observation as the command line does.
@@ -122,6 +158,9 @@ func (a *Analyzer) HasInput() bool { return a.drive != nil }
 func (a *Analyzer) At(fHz float64, contrib []float64) (outPSD, gain float64, err error) {
 	if !(fHz > 0) || math.IsInf(fHz, 0) {
 		return 0, 0, fmt.Errorf("noise: frequency %g Hz; want a finite value > 0", fHz)
+	}
+	if a.stale != nil {
+		return 0, 0, a.stale
 	}
 	if len(contrib) != len(a.Sources) {
 		return 0, 0, fmt.Errorf("noise: %d contribution slots for %d sources", len(contrib), len(a.Sources))

@@ -94,11 +94,15 @@ func (s *Source) gain(z []complex128) complex128 {
 // in at each input not on Ground (when > 0). Capacitors, inductors, controlled and
 // independent sources are noiseless.
 func Sources(c *netlist.Circuit, m *mna.Matrices, ob mna.Observation, tempK float64) ([]Source, error) {
+	return appendSources(nil, c, m, ob, tempK)
+}
+
+// appendSources appends the sources Sources lists to out.
+func appendSources(out []Source, c *netlist.Circuit, m *mna.Matrices, ob mna.Observation, tempK float64) ([]Source, error) {
 	if !(tempK > 0) || math.IsInf(tempK, 0) {
 		return nil, fmt.Errorf("noise: temperature %g K; want a finite value > 0", tempK)
 	}
 	kT4 := 4 * BoltzmannJPerK * tempK
-	var out []Source
 	for i := range c.Parts {
 		p := &c.Parts[i]
 		switch p.Kind {

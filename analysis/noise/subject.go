@@ -35,7 +35,15 @@ func MetricSubject(c *netlist.Circuit, out mna.Observation, base netlist.MetricS
 	if err != nil {
 		return nil, err
 	}
-	return &metricSubject{MetricSubject: base, a: a, scratch: make([]float64, len(a.Sources))}, nil
+	return MetricSubjectOf(a, base), nil
+}
+
+// MetricSubjectOf returns base with NoiseDensityAt and NoiseRMS answered
+// by a, as MetricSubject does (the same computation), for a caller that
+// keeps one Analyzer and revalues it (Analyzer.Revalue). Not safe for
+// concurrent use.
+func MetricSubjectOf(a *Analyzer, base netlist.MetricSubject) netlist.MetricSubject {
+	return &metricSubject{MetricSubject: base, a: a}
 }
 
 func (s *metricSubject) voltage() error {
@@ -49,6 +57,9 @@ func (s *metricSubject) voltage() error {
 func (s *metricSubject) NoiseDensityAt(freqHz float64) (float64, error) {
 	if err := s.voltage(); err != nil {
 		return 0, err
+	}
+	if len(s.scratch) != len(s.a.Sources) {
+		s.scratch = make([]float64, len(s.a.Sources))
 	}
 	psd, _, err := s.a.At(freqHz, s.scratch)
 	return math.Sqrt(psd), err

@@ -109,7 +109,7 @@ func judgeRuns(ctx context.Context, c *netlist.Circuit, ev variation.Evaluator, 
 	passed := make([]int, len(reqs))
 	all := 0
 	done := variation.StreamJobs(ctx, opt.Runs, workers, opt.Progress, func(w, i int) outcome {
-		variation.DrawFactors(c.Variations, opt.Seed, i, ws.Factors(w))
+		ws.Draw(w, opt.Seed, i)
 		vals, err := ws.Eval(w, ev, m)
 		return outcome{vals, err}
 	}, func(_ int, o outcome) {

@@ -46,21 +46,29 @@ type Workspaces struct {
 	c       *netlist.Circuit
 	factors [][]float64
 	circ    []*netlist.Circuit
+	draws   []*drawer
 }
 
 // NewWorkspaces returns the workspaces of workers (≥ 1) workers on c.
 func NewWorkspaces(c *netlist.Circuit, workers int) *Workspaces {
-	ws := &Workspaces{c: c, factors: make([][]float64, workers), circ: make([]*netlist.Circuit, workers)}
+	ws := &Workspaces{c: c, factors: make([][]float64, workers), circ: make([]*netlist.Circuit, workers), draws: make([]*drawer, workers)}
 	for w := range ws.factors {
 		ws.factors[w] = make([]float64, len(c.Variations))
 		ws.circ[w] = c.Clone()
+		ws.draws[w] = newDrawer()
 	}
 	return ws
 }
 
 // Factors returns worker w's factors (len(c.Variations)), to be filled
-// before Vary or Eval.
+// before Vary or Eval (or by Draw).
 func (ws *Workspaces) Factors(w int) []float64 { return ws.factors[w] }
+
+// Draw fills worker w's factors with those of Monte Carlo run run, as
+// DrawFactors does.
+func (ws *Workspaces) Draw(w int, seed uint64, run int) {
+	ws.draws[w].draw(ws.c.Variations, seed, run, ws.factors[w])
+}
 
 // Vary returns worker w's copy of c varied by its factors (all > 0),
 // valid until the worker's next Vary or Eval.

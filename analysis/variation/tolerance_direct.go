@@ -13,6 +13,7 @@ import (
 	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
 
+	"nodal/analysis/noise"
 	"nodal/analysis/stability"
 	"nodal/analysis/transfer"
 	"nodal/mna"
@@ -24,8 +25,8 @@ import (
 // the fill-reducing order and the working memory kept), its stability is
 // decided from the eigenvalues of a small matrix, and the metrics come
 // from direct solves of H(jω) (mna.Sweeper): gain@F, phase@F and dc at
-// their frequency, f3db by a bracketed root search. No transfer function
-// is extracted. Whatever the direct path cannot vouch for sends that run
+// their frequency, f3db by a bracketed root search (and the metrics of
+// tolerance_direct_metrics.go). No transfer function is extracted. Whatever the direct path cannot vouch for sends that run
 // to the extraction path (errUncertain), so the numbers are those of
 // Metric.Eval on the extracted transfer function to the last digits
 // reported (tested against it in tolerance_direct_test.go).
@@ -101,11 +102,12 @@ var errUncertain = errors.New("direct path: not certain")
 // newDirectPath): the restamper of the nominal circuit, cloned per
 // goroutine, and what the nominal circuit fixes.
 type directPath struct {
-	template *mna.Restamper
-	pool     sync.Pool // of *directWorker
-	natural  int       // the nominal circuit's number of finite natural frequencies
-	dynCols  []int     // the columns of C with an entry
-	f3db     bool      // the f3db metric is computed directly
+	template      *mna.Restamper
+	pool          sync.Pool // of *directWorker
+	natural       int       // the nominal circuit's number of finite natural frequencies
+	dynCols       []int     // the columns of C with an entry
+	f3db          bool      // the f3db metric is computed directly
+	directMetrics           // the other metrics beyond the spot ones (tolerance_direct_metrics.go)
 }
 
 // newDirectPath returns the direct path for e's metrics on the nominal
@@ -119,7 +121,7 @@ func newDirectPath(e *MetricEvaluator, nominal *netlist.Circuit) *directPath {
 		case m.Spec.Spot:
 		case m.Spec.Name == "f3db":
 			d.f3db = true
-		default:
+		case !d.take(m.Spec, e, nominal):
 			return nil
 		}
 	}
@@ -140,24 +142,25 @@ func newDirectPath(e *MetricEvaluator, nominal *netlist.Circuit) *directPath {
 			d.dynCols = append(d.dynCols, j)
 		}
 	}
-	if d.f3db {
-		if !d.f3dbApplies(nominal, e) {
-			return nil
-		}
+	if !d.nominalApplies(nominal, e) {
+		return nil
 	}
 	d.pool.New = func() any { return newDirectWorker(d) }
 	// The nominal circuit itself must pass: otherwise nothing is gained.
-	w := d.pool.Get().(*directWorker)
-	defer d.pool.Put(w)
-	if err := w.load(nominal); err != nil {
+	if _, err := d.eval(e, nominal); err != nil {
 		return nil
 	}
 	return d
 }
 
-// f3dbApplies reports whether the nominal f3db has the DC gain as its
-// reference (the direct search knows no other).
-func (d *directPath) f3dbApplies(nominal *netlist.Circuit, e *MetricEvaluator) bool {
+// nominalApplies reports whether the nominal transfer function is one the
+// direct metrics know: for f3db (and peaking) the DC gain as the
+// reference, for the pole metrics no mode cancelled out of H (see
+// directMetrics.nominalFits).
+func (d *directPath) nominalApplies(nominal *netlist.Circuit, e *MetricEvaluator) bool {
+	if !d.f3db && !d.needsTF() {
+		return true
+	}
 	sys, err := mna.Build(nominal, e.in, e.out)
 	if err != nil {
 		return false
@@ -166,6 +169,15 @@ func (d *directPath) f3dbApplies(nominal *netlist.Circuit, e *MetricEvaluator) b
 	if err != nil {
 		return false
 	}
+	if d.f3db && !lowPassRef(tf) {
+		return false
+	}
+	return d.nominalFits(tf, d.natural)
+}
+
+// lowPassRef reports whether tf's −3 dB and passband reference is its DC
+// gain, finite and non-zero (the direct searches know no other).
+func lowPassRef(tf *transfer.TransferFunction) bool {
 	dc := tf.DCGain()
 	return dc.Power == 0 && dc.Gain != 0 && !math.IsInf(dc.Gain, 0)
 }
@@ -191,6 +203,12 @@ type directWorker struct {
 	roots    []complex128 // the finite natural frequencies, rad/s
 	grid     []float64
 	h0       float64 // H(0)
+	// zerosState is 0 until zeros are computed for the loaded circuit,
+	// then 1 when muZ holds them, −1 when they could not be.
+	zerosState int8
+	directRun                        // the loaded circuit's other figures (tolerance_direct_metrics.go)
+	sub        netlist.MetricSubject // what the metrics are evaluated on (subject)
+	na         *noise.Analyzer       // the noise of the restamped matrices, for the noise metrics
 }
 
 func newDirectWorker(d *directPath) *directWorker {
@@ -202,6 +220,7 @@ func newDirectWorker(d *directPath) *directWorker {
 		w.m, w.z = mat.NewDense(k, k, nil), mat.NewDense(k, k, nil)
 		w.muN, w.muZ = make([]complex128, k), make([]complex128, k)
 	}
+	w.sub = w.subject()
 	return w
 }
 
@@ -209,6 +228,7 @@ func newDirectWorker(d *directPath) *directWorker {
 // (errUncertain when it cannot), leaving H(0) in h0, the natural
 // frequencies in roots and muN.
 func (w *directWorker) load(c *netlist.Circuit) error {
+	w.zerosState, w.directRun = 0, directRun{}
 	if err := w.r.Restamp(c); err != nil {
 		return errUncertain // the exact path rebuilds it and names what is wrong
 	}
@@ -226,7 +246,7 @@ func (w *directWorker) load(c *netlist.Circuit) error {
 	if !w.stable() {
 		return errUncertain
 	}
-	return nil
+	return w.revalue(c)
 }
 
 // stable computes the natural frequencies from the eigenvalues of G⁻¹C on
@@ -313,9 +333,20 @@ func (w *directWorker) eigenvalues(a *mat.Dense, dst []complex128) bool {
 }
 
 // zeros computes muZ, the eigenvalues of the bordered pencil's M_b⁻¹C_b on
-// the dynamic columns: X − x_B·(L·X)/H(0) (see the file comment).
+// the dynamic columns: X − x_B·(L·X)/H(0) (see the file comment), once
+// per loaded circuit.
 func (w *directWorker) zeros() bool {
-	if w.h0 == 0 {
+	if w.zerosState == 0 {
+		w.zerosState = -1
+		if w.computeZeros() {
+			w.zerosState = 1
+		}
+	}
+	return w.zerosState == 1
+}
+
+func (w *directWorker) computeZeros() bool {
+	if w.h0 == 0 || len(w.d.dynCols) == 0 {
 		return false
 	}
 	for r, i := range w.d.dynCols {
@@ -333,13 +364,12 @@ func (d *directPath) eval(e *MetricEvaluator, c *netlist.Circuit) ([]float64, er
 	if err := w.load(c); err != nil {
 		return nil, err
 	}
-	sub := directSubject{spotSubject{w.sw}, w}
 	out := make([]float64, len(e.metrics))
 	for i, m := range e.metrics {
-		v, err := m.Spec.Eval(sub, m.Param)
+		v, err := m.Spec.Eval(w.sub, m.Param)
 		if err != nil {
-			if errors.Is(err, errUncertain) {
-				return nil, err
+			if errors.Is(err, errUncertain) || !m.Spec.Spot {
+				return nil, errUncertain // the exact path says what is wrong
 			}
 			return nil, fmt.Errorf("%s: %w", m.Name, err)
 		}
@@ -354,8 +384,9 @@ func (d *directPath) eval(e *MetricEvaluator, c *netlist.Circuit) ([]float64, er
 	return out, nil
 }
 
-// directSubject answers the spot quantities by direct solves and F3dBHz by
-// the direct search of the loaded circuit.
+// directSubject answers the spot quantities by direct solves, F3dBHz by
+// the direct search of the loaded circuit, and the quantities of
+// tolerance_direct_metrics.go.
 type directSubject struct {
 	spotSubject
 	w *directWorker
@@ -535,9 +566,31 @@ func closeBracket(g func(u float64) (float64, float64), a, b, ga, gb float64) fl
 // so with N roots ln|H(jω)/H(0)|² stays within N·x²/(1 − x²) of 0; ρ makes
 // that ln 2/2, half the way to the −3 dB level.
 func (w *directWorker) scanGrid() (resonance []float64, lo, hi float64) {
+	grid, lo, hi, nroots := w.rootSpan(w.grid[:0])
+	if nroots == 0 {
+		return nil, 0, -1
+	}
+	half := math.Ln2 / 2
+	rho := math.Sqrt(half / (float64(nroots) + half))
+	lo, hi = lo+math.Log(rho), hi+2*math.Ln10
+	kept := grid[:0]
+	for _, u := range grid {
+		if u >= lo && u <= hi {
+			kept = append(kept, u)
+		}
+	}
+	slices.Sort(kept)
+	w.grid = kept
+	return kept, lo, hi
+}
+
+// rootSpan appends to grid the resonance points of every complex root of
+// the loaded circuit, natural frequency or zero (u = ln ω, see scanGrid),
+// unsorted, and returns it with lo = ln of the smallest |root|, hi = ln of
+// the largest of those above the rounding level (directRankGap·max|μ|)
+// and the number of roots (μ ≠ 0).
+func (w *directWorker) rootSpan(grid []float64) (_ []float64, lo, hi float64, nroots int) {
 	lo, hi = math.Inf(1), math.Inf(-1)
-	grid := w.grid[:0]
-	nroots := 0
 	big := 0.0
 	for _, mu := range [...][]complex128{w.muN, w.muZ} {
 		for _, m := range mu {
@@ -570,19 +623,5 @@ func (w *directWorker) scanGrid() (resonance []float64, lo, hi float64) {
 			}
 		}
 	}
-	if math.IsInf(lo, 1) {
-		return nil, 0, -1
-	}
-	half := math.Ln2 / 2
-	rho := math.Sqrt(half / (float64(nroots) + half))
-	lo, hi = lo+math.Log(rho), hi+2*math.Ln10
-	kept := grid[:0]
-	for _, u := range grid {
-		if u >= lo && u <= hi {
-			kept = append(kept, u)
-		}
-	}
-	slices.Sort(kept)
-	w.grid = kept
-	return kept, lo, hi
+	return grid, lo, hi, nroots
 }

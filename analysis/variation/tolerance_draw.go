@@ -37,7 +37,32 @@ func splitmix64(x uint64) uint64 {
 //     are NOT truncated: about 0.27 % of them fall outside ±tol. A factor
 //     ≤ 0 (possible only for tolerances near 100 %) makes the run fail.
 func drawFactors(vars []netlist.Variation, seed uint64, run int, dst []float64) {
-	rng := runStream(seed, run)
+	fillFactors(vars, runStream(seed, run), dst)
+}
+
+// drawer makes drawFactors' draws for one goroutine with one generator,
+// reseeded for each run (the same stream as runStream's, so the same
+// factors) instead of made anew.
+type drawer struct {
+	pcg rand.PCG
+	rng *rand.Rand
+}
+
+func newDrawer() *drawer {
+	d := &drawer{}
+	d.rng = rand.New(&d.pcg)
+	return d
+}
+
+// draw fills dst with the factors of run run, as drawFactors does.
+func (d *drawer) draw(vars []netlist.Variation, seed uint64, run int, dst []float64) {
+	d.pcg.Seed(seed, splitmix64(uint64(run)))
+	fillFactors(vars, d.rng, dst)
+}
+
+// fillFactors fills dst with one factor per Variation from rng (see
+// drawFactors).
+func fillFactors(vars []netlist.Variation, rng *rand.Rand, dst []float64) {
 	for i, v := range vars {
 		if v.Tol.Dist == netlist.Normal {
 			dst[i] = 1 + v.Tol.Rel/3*rng.NormFloat64()

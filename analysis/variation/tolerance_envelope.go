@@ -72,7 +72,7 @@ func Envelope(ctx context.Context, c *netlist.Circuit, in mna.Input, out mna.Out
 		err    error
 	}
 	finished := streamJobs(ctx, opt.Runs, workers, opt.Progress, func(w, i int) curve {
-		drawFactors(c.Variations, opt.Seed, i, ws.Factors(w))
+		ws.Draw(w, opt.Seed, i)
 		vc, err := ws.Vary(w)
 		if err != nil {
 			return curve{err: err}

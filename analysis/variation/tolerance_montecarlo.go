@@ -71,7 +71,7 @@ func MonteCarlo(ctx context.Context, c *netlist.Circuit, ev Evaluator, opt Monte
 		err  error
 	}
 	res.Finished = streamJobs(ctx, opt.Runs, workers, opt.Progress, func(w, i int) outcome {
-		drawFactors(c.Variations, opt.Seed, i, ws.Factors(w))
+		ws.Draw(w, opt.Seed, i)
 		v, err := ws.Eval(w, ev, m)
 		return outcome{v, err}
 	}, func(i int, o outcome) {

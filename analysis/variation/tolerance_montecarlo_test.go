@@ -343,3 +343,22 @@ func BenchmarkMonteCarlo6thOrderSpot10k(b *testing.B) {
 		}
 	}
 }
+
+// TestDrawerMatchesDrawFactors checks that a worker's reseeded generator
+// (Workspaces.Draw) gives each run exactly the factors of drawFactors, a
+// generator made anew for the run, in any order of runs, for uniform and
+// normal items.
+func TestDrawerMatchesDrawFactors(t *testing.T) {
+	c := tolLoad(t, directCircuit(t, ""))
+	ws := NewWorkspaces(c, 1)
+	want := make([]float64, len(c.Variations))
+	for _, run := range []int{0, 1, 2, 1000, 7, 7, 123456, 3} {
+		ws.Draw(0, 42, run)
+		drawFactors(c.Variations, 42, run, want)
+		for i, f := range ws.Factors(0) {
+			if f != want[i] {
+				t.Fatalf("run %d, item %s: %v drawn, %v from drawFactors", run, c.Variations[i].Name, f, want[i])
+			}
+		}
+	}
+}
