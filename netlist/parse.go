@@ -248,27 +248,23 @@ func blankLine(text []byte) bool {
 	return true
 }
 
-// lexLine appends to buf the tokens of one line (without its newline)
+// lexLine appends to buf the tokens of one line (without its newline),
+// lexDef's tokens found by lineRules (lex_rules.go), of a line
 // that starts at byte offset start and is line lineNo of the file, or
 // returns buf empty when the line has no significant token. over is the
 // byte offset of the token past MaxLineTokens significant ones (lexing
 // stops there, buf holding the tokens before it), or -1.
 func lexLine(name string, text string, start, lineNo int, buf []lexer.Token) (toks []lexer.Token, over int, err error) {
-	lx, err := lexDef.LexString(name, text)
-	if err != nil {
-		return nil, -1, err
-	}
 	significant := 0
-	for {
-		t, err := lx.Next()
-		if err != nil {
-			return nil, -1, err
+	col := 1
+	for i := 0; i < len(text); {
+		typ, end, ok := nextToken(text, i)
+		if !ok {
+			return nil, -1, lexLineError(name, text, lineNo)
 		}
-		if t.EOF() {
-			break
-		}
-		t.Pos.Offset += start
-		t.Pos.Line = lineNo
+		t := lexer.Token{Type: typ, Value: text[i:end], Pos: lexer.Position{Filename: name, Offset: start + i, Line: lineNo, Column: col}}
+		col += utf8.RuneCountInString(t.Value)
+		i = end
 		if t.Type != symSpace && t.Type != symComment {
 			if significant++; significant > MaxLineTokens {
 				return buf, t.Pos.Offset, nil
@@ -280,6 +276,19 @@ func lexLine(name string, text string, start, lineNo int, buf []lexer.Token) (to
 		return buf[:0], -1, nil
 	}
 	return buf, -1, nil
+}
+
+// lexLineError is participle's error for a line lexLine cannot lex (none
+// is expected: the Bad rule matches any character).
+func lexLineError(name, text string, lineNo int) error {
+	lx, err := lexDef.LexString(name, text)
+	if err == nil {
+		_, err = lexer.ConsumeAll(lx)
+	}
+	if err == nil {
+		err = fmt.Errorf("%s:%d: the line lexer and participle's disagree", name, lineNo)
+	}
+	return err
 }
 
 // parseWhole is the former whole-file path: lex everything, then parse
