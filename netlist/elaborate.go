@@ -55,8 +55,7 @@ func Elaborate(f *File, ov Overrides) (*Circuit, error) {
 // freed while the circuit grows.
 func elaborate(f *File, ov Overrides, release bool) (*Circuit, error) {
 	// The top-level elements size the part and node tables up front (a
-	// ladder has about one node per two parts), sparing the copies of
-	// growth.
+	// ladder of n parts has (n+3)/2 nodes), sparing the copies of growth.
 	n := 0
 	for i := range f.stmtCount() {
 		if st := f.peek(i); st == nil || st.Element != nil {
@@ -67,12 +66,12 @@ func elaborate(f *File, ov Overrides, release bool) (*Circuit, error) {
 	e := &elab{
 		f:         f,
 		ov:        ov,
-		c:         &Circuit{File: f.Name, Nodes: append(make([]string, 0, n/2+1), Ground), Parts: make([]Part, 0, n)},
+		c:         &Circuit{File: f.Name, Nodes: append(make([]string, 0, n/2+2), Ground), Parts: make([]Part, 0, n)},
 		m:         &model{},
 		blocks:    map[string]*BlockStmt{},
 		sizes:     map[string]blockSize{},
-		nodeIndex: make(map[string]int, n/2+1),
-		touches:   append(make([]nodeTouch, 0, n/2+1), nodeTouch{}),
+		nodeIndex: make(map[string]int, n/2+2),
+		touches:   append(make([]nodeTouch, 0, n/2+2), nodeTouch{}),
 		cycles:    map[int]bool{},
 		usedOv:    map[string]bool{},
 		topParts:  n,
@@ -222,6 +221,7 @@ type scope struct {
 	elems  map[string]int     // element name → byte offset of its statement
 	fixed  bool               // the instance was marked fixed: all its parts are
 	block  *BlockStmt
+	comp   *exprCompiler // made by elab.compiler
 }
 
 func (s *scope) lookup(name string) (varInfo, bool) {
@@ -241,10 +241,14 @@ func (s *scope) visibleNames() []string {
 	return out
 }
 
+// compiler returns the expression compiler of a scope (one per scope).
 func (e *elab) compiler(sc *scope) *exprCompiler {
-	return &exprCompiler{sc: sc, report: func(p lexer.Position, msg, hint string) {
-		e.diags = append(e.diags, e.f.diag(p, SevError, msg, hint))
-	}}
+	if sc.comp == nil {
+		sc.comp = &exprCompiler{sc: sc, report: func(p lexer.Position, msg, hint string) {
+			e.diags = append(e.diags, e.f.diag(p, SevError, msg, hint))
+		}}
+	}
+	return sc.comp
 }
 
 // span returns the source range of an expression.

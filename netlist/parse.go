@@ -166,10 +166,6 @@ type parsedLines struct {
 func (f *File) parseLines(src []byte, text string, start, stop, lineNo int, flat []stmtEntry) parsedLines {
 	p := parsedLines{flat: flat}
 	var line []lexer.Token
-	var pool []int32 // token extents of deferred statements
-	if f.deferring {
-		pool = make([]int32, 0, (stop-start)/3) // about what a netlist needs
-	}
 	memo := newShapeMemo()
 	memo.deferring = f.deferring
 	name := f.Name
@@ -216,12 +212,7 @@ func (f *File) parseLines(src []byte, text string, start, stop, lineNo int, flat
 			case d != nil:
 				p.diags = append(p.diags, d)
 			case st == nil:
-				var e stmtEntry
-				var ok bool
-				if e.deferredStmt, pool, ok = deferLine(text, memo.sig, tpl, start, pool); !ok {
-					e.st = instantiate(tpl, memo.sig)
-				}
-				p.flat = append(p.flat, e)
+				p.flat = append(p.flat, stmtEntry{deferredStmt: deferredStmt{tpl: tpl, lineNo: int32(lineNo), lineStart: int32(start)}})
 			default:
 				p.flat = append(p.flat, stmtEntry{st: st})
 			}
