@@ -4,7 +4,8 @@ import "fmt"
 
 // Kind is the kind of an element, named in the circuit file by an explicit
 // keyword. The first letter of an element's name never implies its kind.
-type Kind int
+// It is one byte, so that a Part packs it with its flags.
+type Kind uint8
 
 // The element kinds of the circuit language.
 const (
@@ -105,18 +106,22 @@ const Ground = "gnd"
 // Nodes holds the terminal node names in the order of the kind's terminals
 // (the reference node is always Ground); Value is in SI units, finite, and
 // > 0 for resistors, capacitors and inductors.
+//
+// The fields are laid out for size (Kind and the flags share one word): a
+// circuit of 10⁶ parts holds 10⁶ of them.
 type Part struct {
-	Name  string
-	Kind  Kind
-	Nodes []string // terminal nodes; two for two-terminal kinds, three for OpAmp, none for Coupling
+	Name      string
+	Kind      Kind
+	Fixed     bool     // marked fixed in the file: standard-value rounding leaves it alone
+	Noiseless bool     // a resistor marked noiseless (see the noise model below)
+	Nodes     []string // terminal nodes; two for two-terminal kinds, three for OpAmp, none for Coupling
 
 	// Value is the element's main value in SI units: ohms, farads, henries,
 	// the source amplitude (V or A, default 1), the controlled-source gain
 	// (V/V, S, ohms or A/A) or the coupling factor K. Zero for OpAmp.
 	Value float64
 
-	Tol   Tolerance // the part's own tolerance; zero when exact
-	Fixed bool      // marked fixed in the file: standard-value rounding leaves it alone
+	Tol Tolerance // the part's own tolerance; zero when exact
 
 	PhaseRad float64 // independent sources: phase of the small-signal amplitude, radians
 
@@ -138,7 +143,6 @@ type Part struct {
 	// and an input current noise density InAPerRtHz (A/√Hz, from each
 	// input to Ground, the two uncorrelated), with 1/f corners FenHz and
 	// FinHz (Hz): density(f) = white·√(1 + fc/f).
-	Noiseless  bool
 	EnVPerRtHz float64
 	InAPerRtHz float64
 	FenHz      float64
@@ -148,10 +152,10 @@ type Part struct {
 	ValueSpan Span // where the value expression stands in the source (empty when the value was defaulted)
 }
 
-// Span is a half-open byte range [Start, End) of a source file, with the
-// position of its start.
+// Span is a half-open byte range [Start, End) of a source file (the line
+// and column of Start are those of the part or parameter that holds it,
+// or File.Position of the offset).
 type Span struct {
-	Pos        Pos
 	Start, End int // byte offsets into the source
 }
 

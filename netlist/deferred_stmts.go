@@ -1,7 +1,8 @@
 package netlist
 
 import (
-	"unicode/utf8"
+	"fmt"
+	"strings"
 
 	"github.com/alecthomas/participle/v2/lexer"
 )
@@ -10,9 +11,10 @@ import (
 // statement only when the elaborator comes to it, and drops it right
 // after, so the syntax tree of a large file (about a kilobyte a line) is
 // never all in memory at once. Until then the statement is its line's
-// template (whose shape fixes the token types) and, per significant token,
-// its byte offset and length in the source (8 bytes a token). Parse builds
-// every statement as before; Load's trees are the same (TestDeferredStmts).
+// template (whose shape fixes the token types) and where the line starts:
+// building it lexes the line again (a small part of the cost of parsing
+// it), so nothing is kept per token. Parse builds every statement as
+// before; Load's trees are the same (TestDeferredStmts).
 
 // stmtEntry is one statement in order: st, or a deferred one (st nil).
 type stmtEntry struct {
@@ -23,55 +25,56 @@ type stmtEntry struct {
 // deferredStmt is what builds a deferred statement.
 type deferredStmt struct {
 	tpl       *shapeTemplate
-	toks      []int32 // offset and length of each token the template reads (tpl.used)
 	lineNo    int32
 	lineStart int32 // byte offset of the line's start
 }
 
-// deferLine records the tokens of a line (its significant tokens sig)
-// that tpl reads, appending their extents to pool; ok is false when one
-// is not a piece of the source as it stands (then the statement is built
-// at once).
-func deferLine(text string, sig []lexer.Token, tpl *shapeTemplate, lineStart int, pool []int32) (d deferredStmt, out []int32, ok bool) {
-	from := len(pool)
-	for _, i := range tpl.used {
-		t := sig[i]
-		off := t.Pos.Offset
-		if off < 0 || off+len(t.Value) > len(text) || text[off:off+len(t.Value)] != t.Value || off > 1<<31-1 {
-			return deferredStmt{}, pool[:from], false
-		}
-		pool = append(pool, int32(off), int32(len(t.Value)))
-	}
-	return deferredStmt{tpl: tpl, toks: pool[from:len(pool):len(pool)], lineNo: int32(sig[0].Pos.Line), lineStart: int32(lineStart)}, pool, true
-}
-
-// build makes the statement of a deferred line: the tokens as the line's
-// lexer gave them (columns in runes from the line's start, the EOF's in
-// bytes, as Parse sets it), then the template filled with them. buf is
-// scratch for the tokens, reused from call to call.
+// build makes the statement of a deferred line. buf is scratch for the
+// tokens, reused from call to call.
 func (d *deferredStmt) build(name, text string, buf *[]lexer.Token) *Stmt {
-	return instantiate(d.tpl, d.tokens(name, text, buf))
+	sig, st := d.tokens(name, text, buf)
+	if st != nil {
+		return st
+	}
+	return instantiate(d.tpl, sig)
 }
 
-// tokens returns the significant tokens of a deferred line as the line's
-// lexer gave them (those the template does not read left zero), in buf.
-func (d *deferredStmt) tokens(name, text string, buf *[]lexer.Token) []lexer.Token {
-	sig := append((*buf)[:0], make([]lexer.Token, len(d.tpl.types))...)
-	*buf = sig
+// tokens returns the significant tokens of a deferred line, then EOF, as
+// parseLines gave them to the template (the line lexed, its spaced units
+// merged), in buf. Lexing is deterministic, so they have the template's
+// types; if they had not, st is the line parsed by participle instead.
+func (d *deferredStmt) tokens(name, text string, buf *[]lexer.Token) (sig []lexer.Token, st *Stmt) {
 	start := int(d.lineStart)
-	col, at := 1, start
-	for k, i := range d.tpl.used {
-		typ := d.tpl.types[i]
-		off, n := int(d.toks[2*k]), int(d.toks[2*k+1])
-		if typ == lexer.EOF {
-			sig[i] = lexer.EOFToken(lexer.Position{Filename: name, Offset: off, Line: int(d.lineNo), Column: off - start + 1})
-			continue
-		}
-		col += utf8.RuneCountInString(text[at:off])
-		at = off
-		sig[i] = lexer.Token{Type: typ, Value: text[off : off+n], Pos: lexer.Position{Filename: name, Offset: off, Line: int(d.lineNo), Column: col}}
+	end := strings.IndexByte(text[start:], '\n')
+	if end < 0 {
+		end = len(text)
+	} else {
+		end += start
 	}
-	return sig
+	line, _, err := lexLine(name, text[start:end], start, int(d.lineNo), (*buf)[:0])
+	line = append(line, lexer.EOFToken(lexer.Position{Filename: name, Offset: end, Line: int(d.lineNo), Column: end - start + 1}))
+	line = mergeSpacedUnits(line)
+	*buf = line
+	sig = line[:0]
+	for _, t := range line {
+		if t.Type != symSpace && t.Type != symComment {
+			sig = append(sig, t) // in place: sig never overtakes the token read
+		}
+	}
+	if err == nil && len(sig) == len(d.tpl.types) {
+		same := true
+		for i, t := range sig {
+			same = same && t.Type == d.tpl.types[i]
+		}
+		if same {
+			return sig, nil
+		}
+	}
+	st, err = parseTokens(line)
+	if err != nil {
+		panic(fmt.Sprintf("netlist: deferred line %d no longer parses: %v", d.lineNo, err))
+	}
+	return nil, st
 }
 
 // stmtCount is the number of top-level statements of the file.
@@ -122,7 +125,11 @@ func (f *File) scratchStmt(i int) *Stmt {
 		s = &scratchTree{}
 		f.scratch[e.tpl] = s
 	}
-	return e.tpl.buildIn(s, e.tokens(f.Name, f.str, &f.sigBuf))
+	sig, st := e.tokens(f.Name, f.str, &f.sigBuf)
+	if st != nil {
+		return st
+	}
+	return e.tpl.buildIn(s, sig)
 }
 
 // drop forgets top-level statement i (Load, once it is elaborated).

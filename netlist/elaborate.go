@@ -55,7 +55,7 @@ func Elaborate(f *File, ov Overrides) (*Circuit, error) {
 // freed while the circuit grows.
 func elaborate(f *File, ov Overrides, release bool) (*Circuit, error) {
 	// The top-level elements size the part and node tables up front (a
-	// ladder has about one node per part), sparing the copies of growth.
+	// ladder of n parts has (n+3)/2 nodes), sparing the copies of growth.
 	n := 0
 	for i := range f.stmtCount() {
 		if st := f.peek(i); st == nil || st.Element != nil {
@@ -66,13 +66,12 @@ func elaborate(f *File, ov Overrides, release bool) (*Circuit, error) {
 	e := &elab{
 		f:         f,
 		ov:        ov,
-		c:         &Circuit{File: f.Name, Nodes: append(make([]string, 0, n+1), Ground), Parts: make([]Part, 0, n)},
+		c:         &Circuit{File: f.Name, Nodes: append(make([]string, 0, n/2+2), Ground), Parts: make([]Part, 0, n)},
 		m:         &model{},
 		blocks:    map[string]*BlockStmt{},
 		sizes:     map[string]blockSize{},
-		partIndex: make(map[string]int, n),
-		nodeIndex: make(map[string]int, n+1),
-		touches:   append(make([]nodeTouch, 0, n+1), nodeTouch{}),
+		nodeIndex: make(map[string]int, n/2+2),
+		touches:   append(make([]nodeTouch, 0, n/2+2), nodeTouch{}),
 		cycles:    map[int]bool{},
 		usedOv:    map[string]bool{},
 		topParts:  n,
@@ -101,8 +100,8 @@ type elab struct {
 	blocks map[string]*BlockStmt
 	sizes  map[string]blockSize // expandedSize of each block, once computed
 
-	partIndex map[string]int // hierarchical part name → index in c.Parts
 	nodeIndex map[string]int // node name → index in c.Nodes
+	nodeSlab  []string       // where the parts' Nodes are cut from
 	touches   []nodeTouch    // per node: terminal count and the first one
 	pending   []pendingRef
 	cycles    map[int]bool // offsets of instances already reported as cycles
@@ -182,6 +181,9 @@ func (e *elab) run() {
 }
 
 func (e *elab) checkOverrides() {
+	if len(e.usedOv) == len(e.ov) {
+		return // every override was used
+	}
 	var names []string
 	for _, p := range e.c.Params {
 		names = append(names, p.Name)
@@ -219,6 +221,7 @@ type scope struct {
 	elems  map[string]int     // element name → byte offset of its statement
 	fixed  bool               // the instance was marked fixed: all its parts are
 	block  *BlockStmt
+	comp   *exprCompiler // made by elab.compiler
 }
 
 func (s *scope) lookup(name string) (varInfo, bool) {
@@ -238,16 +241,20 @@ func (s *scope) visibleNames() []string {
 	return out
 }
 
+// compiler returns the expression compiler of a scope (one per scope).
 func (e *elab) compiler(sc *scope) *exprCompiler {
-	return &exprCompiler{sc: sc, report: func(p lexer.Position, msg, hint string) {
-		e.diags = append(e.diags, e.f.diag(p, SevError, msg, hint))
-	}}
+	if sc.comp == nil {
+		sc.comp = &exprCompiler{sc: sc, report: func(p lexer.Position, msg, hint string) {
+			e.diags = append(e.diags, e.f.diag(p, SevError, msg, hint))
+		}}
+	}
+	return sc.comp
 }
 
 // span returns the source range of an expression.
 func (e *elab) span(x *Expr) Span {
 	start := x.Pos.Offset
-	return Span{Pos: e.f.posAt(start), Start: start, End: tokensEnd(start, x.Tokens)}
+	return Span{Start: start, End: tokensEnd(start, x.Tokens)}
 }
 
 // tokensEnd returns the byte offset just after the last significant token,
@@ -480,6 +487,18 @@ func (e *elab) node(sc *scope, r *NodeRef) string {
 	return sc.prefix + name
 }
 
+// partNodes returns an empty slice of capacity k for a part's Nodes, cut
+// from a shared slab (one allocation per 4096 terminals, not one per
+// part); the capacity is exact, so an append to it copies.
+func (e *elab) partNodes(k int) []string {
+	if len(e.nodeSlab) < k {
+		e.nodeSlab = make([]string, max(4096, k))
+	}
+	out := e.nodeSlab[:0:k]
+	e.nodeSlab = e.nodeSlab[k:]
+	return out
+}
+
 // touch counts one terminal on a node.
 func (e *elab) touch(node, part string, p lexer.Position) {
 	i, ok := e.nodeIndex[node]
@@ -496,13 +515,22 @@ func (e *elab) touch(node, part string, p lexer.Position) {
 	t.n++
 }
 
+// resolvePending resolves the references to other elements, through an
+// index of the parts by name made only when there are any.
 func (e *elab) resolvePending() {
+	if len(e.pending) == 0 {
+		return
+	}
+	partIndex := make(map[string]int, len(e.c.Parts))
+	for i, p := range e.c.Parts {
+		partIndex[p.Name] = i
+	}
 	for _, r := range e.pending {
 		p := &e.c.Parts[r.part]
-		j, ok := e.partIndex[r.target]
+		j, ok := partIndex[r.target]
 		if !ok {
 			var names []string
-			for n := range e.partIndex {
+			for n := range partIndex {
 				names = append(names, n)
 			}
 			e.errorf(r.pos, suggest(r.target, names), "%s %s: no element %q", p.Kind, p.Name, r.target)

@@ -94,7 +94,7 @@ func TestStatementForms(t *testing.T) {
 	if p := part("R2"); p.Fixed || p.Tol != (Tolerance{0.01, Normal}) {
 		t.Errorf("R2 %+v", p)
 	}
-	if p := part("C1"); string(c.sourceOf(p.ValueSpan)) != "2*C" || p.ValueSpan.Pos.Line != 11 || p.Pos.Line != 11 || p.Pos.Col != 1 {
+	if p := part("C1"); string(c.sourceOf(p.ValueSpan)) != "2*C" || strings.Count(string(c.sourceOf(Span{End: p.ValueSpan.Start})), "\n") != 10 || p.Pos.Line != 11 || p.Pos.Col != 1 {
 		t.Errorf("C1 span %+v pos %v", p.ValueSpan, p.Pos)
 	}
 	if p := part("L2"); p.Tol.Rel != 0.1 {

@@ -280,6 +280,7 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 			e.pending = append(e.pending, pendingRef{part: idx, target: sc.prefix + t.Name, pos: t.Pos, slot: i})
 		}
 	} else {
+		p.Nodes = e.partNodes(len(st.Terms))
 		for _, t := range st.Terms {
 			n := e.node(sc, t)
 			p.Nodes = append(p.Nodes, n)
@@ -386,7 +387,6 @@ func (e *elab) element(sc *scope, st *ElementStmt) {
 		}
 		e.errorf(at, "", "%s %s: %s", kind, full, msg)
 	}
-	e.partIndex[full] = idx
 	if p.Tol.Rel > 0 {
 		step.vi = len(e.c.Variations)
 		e.c.Variations = append(e.c.Variations, Variation{Name: full, Nominal: p.Value, Tol: p.Tol, Pos: p.Pos})

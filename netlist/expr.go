@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strings"
+	"unicode"
 
 	"github.com/alecthomas/participle/v2/lexer"
 
@@ -197,7 +198,11 @@ func (c *exprCompiler) primary(p *Primary) (compiled, bool) {
 	}
 	// A value written SI style with a space ("10 kΩ") arrives as one
 	// token (mergeSpacedUnits); the number is read without the blanks.
-	lit, err := syntax.ParseNumber(strings.Join(strings.Fields(p.Number), ""))
+	num := p.Number
+	if strings.IndexFunc(num, unicode.IsSpace) >= 0 {
+		num = strings.Join(strings.Fields(num), "")
+	}
+	lit, err := syntax.ParseNumber(num)
 	if err != nil {
 		hint := ""
 		if strings.HasSuffix(p.Number, "pi") {

@@ -119,7 +119,7 @@ const (
 // parse parses one line (its tokens, spaces included, ending in EOF),
 // through the template of its shape when there is one. When the memo
 // defers and the line is an element statement of a known shape, st is nil
-// and tpl is the template to build it from (with m.sig, see deferLine).
+// and tpl is the template to build it from (see deferredStmt).
 func (m *shapeMemo) parse(line []lexer.Token) (st *Stmt, tpl *shapeTemplate, err error) {
 	if m == nil || !m.shape(line) {
 		st, err = parseTokens(line)
@@ -281,7 +281,6 @@ func instantiate(tpl *shapeTemplate, sig []lexer.Token) *Stmt {
 // placeholders and links are set.
 type shapeTemplate struct {
 	types   []lexer.TokenType // the types of the significant tokens, then EOF
-	used    []int             // the indexes of the tokens the patches read, ascending
 	element bool              // the statement is an element statement
 	arena   reflect.Value     // the template arena, placeholders in place
 	pos     []tplPatch        // lexer.Position fields ← the token's position
@@ -350,21 +349,6 @@ func compileTemplate(st *Stmt) *shapeTemplate {
 		return n
 	}
 	node(reflect.ValueOf(st).Elem())
-	read := map[int]bool{}
-	for _, p := range t.pos {
-		read[p.arg] = true
-	}
-	for _, p := range t.strs {
-		read[p.arg] = true
-	}
-	for _, p := range t.toks {
-		read[p.tok] = true
-	}
-	for i := range maxShapeTokens + 1 {
-		if read[i] {
-			t.used = append(t.used, i)
-		}
-	}
 	t.arena = reflect.New(reflect.StructOf(fields)).Elem()
 	for i, v := range vals {
 		if v.IsValid() {

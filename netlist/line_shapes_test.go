@@ -253,7 +253,7 @@ func TestParseParallelMatchesOnePiece(t *testing.T) {
 		if !ok {
 			t.Fatalf("procs %d: not parsed in pieces", procs)
 		}
-		one := f.parseLines(src, string(src), 0, len(src), 1)
+		one := f.parseLines(src, string(src), 0, len(src), 1, nil)
 		if len(one.diags) > 0 || !reflect.DeepEqual(flat, one.flat) {
 			t.Fatalf("procs %d: %d statements in pieces, %d in one piece (diags %v)", procs, len(flat), len(one.flat), one.diags)
 		}

@@ -65,7 +65,7 @@ func parseFile(name string, src []byte, deferring bool) (*File, error) {
 	if flat, ok := f.parseParallel(src, f.str, runtime.GOMAXPROCS(0)); ok {
 		return f, f.finish(flat, nil, false)
 	}
-	p := f.parseLines(src, f.str, 0, len(src), 1)
+	p := f.parseLines(src, f.str, 0, len(src), 1, make([]stmtEntry, 0, bytes.Count(src, []byte{'\n'})+1))
 	if p.lexFailed {
 		return f.parseWhole(name, src)
 	}
@@ -106,6 +106,10 @@ func (f *File) parseParallel(src []byte, text string, procs int) (flat []stmtEnt
 	pieces := make([]parsedLines, n)
 	var wg sync.WaitGroup
 	start, lineNo := 0, 1
+	// The statements of every piece go to one array with a window per
+	// piece as long as its lines (a statement is one line or more), moved
+	// together once all are parsed: no copy of the whole, and no growth.
+	all := make([]stmtEntry, bytes.Count(src, []byte{'\n'})+1)
 	for k := range n {
 		stop := len(src) // the last piece takes the line after a final newline
 		if k < n-1 {
@@ -116,30 +120,33 @@ func (f *File) parseParallel(src []byte, text string, procs int) (flat []stmtEnt
 				stop = len(src)
 			}
 		}
+		lines := bytes.Count(src[start:min(stop+1, len(src))], []byte{'\n'})
+		end := lineNo - 1 + lines // the piece's lines end with a newline
+		if stop == len(src) {
+			end++ // and the last piece has the line after
+		}
+		window := all[lineNo-1 : lineNo-1 : end]
 		wg.Add(1)
-		go func(k, start, stop, lineNo int) {
+		go func(out *parsedLines, start, stop, lineNo int) {
 			defer wg.Done()
-			pieces[k] = f.parseLines(src, text, start, stop, lineNo)
-		}(k, start, stop, lineNo)
+			*out = f.parseLines(src, text, start, stop, lineNo, window)
+		}(&pieces[k], start, stop, lineNo)
 		if stop == len(src) {
 			pieces = pieces[:k+1]
 			break
 		}
-		lineNo += bytes.Count(src[start:stop+1], []byte{'\n'})
+		lineNo += lines
 		start = stop + 1
 	}
 	wg.Wait()
-	total := 0
+	flat = all[:0]
 	for _, p := range pieces {
 		if p.lexFailed || len(p.diags) > 0 {
 			return nil, false
 		}
-		total += len(p.flat)
+		flat = append(flat, p.flat...) // moves down within all (copy allows the overlap)
 	}
-	flat = make([]stmtEntry, 0, total)
-	for _, p := range pieces {
-		flat = append(flat, p.flat...)
-	}
+	clear(all[len(flat):])
 	return flat, true
 }
 
@@ -155,14 +162,10 @@ type parsedLines struct {
 // start to stop (inclusive; stop = len(src) takes the empty line after a
 // final newline), the first being line lineNo of the file. text is src as
 // a string: the token values of every line are pieces of it, one copy of
-// the file shared by the whole tree.
-func (f *File) parseLines(src []byte, text string, start, stop, lineNo int) parsedLines {
-	var p parsedLines
+// the file shared by the whole tree. The statements are appended to flat.
+func (f *File) parseLines(src []byte, text string, start, stop, lineNo int, flat []stmtEntry) parsedLines {
+	p := parsedLines{flat: flat}
 	var line []lexer.Token
-	var pool []int32 // token extents of deferred statements
-	if f.deferring {
-		pool = make([]int32, 0, (stop-start)/3) // about what a netlist needs
-	}
 	memo := newShapeMemo()
 	memo.deferring = f.deferring
 	name := f.Name
@@ -209,12 +212,7 @@ func (f *File) parseLines(src []byte, text string, start, stop, lineNo int) pars
 			case d != nil:
 				p.diags = append(p.diags, d)
 			case st == nil:
-				var e stmtEntry
-				var ok bool
-				if e.deferredStmt, pool, ok = deferLine(text, memo.sig, tpl, start, pool); !ok {
-					e.st = instantiate(tpl, memo.sig)
-				}
-				p.flat = append(p.flat, e)
+				p.flat = append(p.flat, stmtEntry{deferredStmt: deferredStmt{tpl: tpl, lineNo: int32(lineNo), lineStart: int32(start)}})
 			default:
 				p.flat = append(p.flat, stmtEntry{st: st})
 			}
@@ -241,27 +239,23 @@ func blankLine(text []byte) bool {
 	return true
 }
 
-// lexLine appends to buf the tokens of one line (without its newline)
+// lexLine appends to buf the tokens of one line (without its newline),
+// lexDef's tokens found by lineRules (lex_rules.go), of a line
 // that starts at byte offset start and is line lineNo of the file, or
 // returns buf empty when the line has no significant token. over is the
 // byte offset of the token past MaxLineTokens significant ones (lexing
 // stops there, buf holding the tokens before it), or -1.
 func lexLine(name string, text string, start, lineNo int, buf []lexer.Token) (toks []lexer.Token, over int, err error) {
-	lx, err := lexDef.LexString(name, text)
-	if err != nil {
-		return nil, -1, err
-	}
 	significant := 0
-	for {
-		t, err := lx.Next()
-		if err != nil {
-			return nil, -1, err
+	col := 1
+	for i := 0; i < len(text); {
+		typ, end, ok := nextToken(text, i)
+		if !ok {
+			return nil, -1, lexLineError(name, text, lineNo)
 		}
-		if t.EOF() {
-			break
-		}
-		t.Pos.Offset += start
-		t.Pos.Line = lineNo
+		t := lexer.Token{Type: typ, Value: text[i:end], Pos: lexer.Position{Filename: name, Offset: start + i, Line: lineNo, Column: col}}
+		col += utf8.RuneCountInString(t.Value)
+		i = end
 		if t.Type != symSpace && t.Type != symComment {
 			if significant++; significant > MaxLineTokens {
 				return buf, t.Pos.Offset, nil
@@ -273,6 +267,19 @@ func lexLine(name string, text string, start, lineNo int, buf []lexer.Token) (to
 		return buf[:0], -1, nil
 	}
 	return buf, -1, nil
+}
+
+// lexLineError is participle's error for a line lexLine cannot lex (none
+// is expected: the Bad rule matches any character).
+func lexLineError(name, text string, lineNo int) error {
+	lx, err := lexDef.LexString(name, text)
+	if err == nil {
+		_, err = lexer.ConsumeAll(lx)
+	}
+	if err == nil {
+		err = fmt.Errorf("%s:%d: the line lexer and participle's disagree", name, lineNo)
+	}
+	return err
 }
 
 // parseWhole is the former whole-file path: lex everything, then parse

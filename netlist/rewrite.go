@@ -500,5 +500,5 @@ func blockHasParam(b *BlockStmt, key string) bool {
 // spanOf returns the source range of an expression.
 func spanOf(f *File, x *Expr) Span {
 	start := x.Pos.Offset
-	return Span{Pos: f.posAt(start), Start: start, End: tokensEnd(start, x.Tokens)}
+	return Span{Start: start, End: tokensEnd(start, x.Tokens)}
 }

@@ -24,8 +24,9 @@ const MaxNesting = 64
 // "," or starts the expression add a level that lasts until the next
 // binary operator at the same parenthesis depth.
 func TooDeep(toks []lexer.Token, skip ...lexer.TokenType) (tok lexer.Token, ok bool) {
-	chains := []int{0} // chained signs and powers per open parenthesis
-	depth := 0         // open parentheses plus every chain
+	var stack [16]int
+	chains := append(stack[:0], 0) // chained signs and powers per open parenthesis
+	depth := 0                     // open parentheses plus every chain
 	prevOperand := false
 	for _, tok := range toks {
 		if tok.EOF() || slices.Contains(skip, tok.Type) {
