@@ -27,24 +27,27 @@ import (
 //     Two roots within directSeparation of each other (a nearly double
 //     root, a complex pair nearly on the real axis: the extraction may
 //     merge or split them) or two complex pairs equally close to the jω
-//     axis within directTie (the choice of the dominant one) send the run
-//     on.
+//     axis within directPairTie (the choice of the dominant one) send the
+//     run on.
 //   - peak, fpeak and peaking: the stationary points of |H(jω)|² on the
 //     product of tolerance_direct.go, on a grid as fine as the
 //     extraction's (transfer Peak: 80 points a decade of ω from two
 //     decades below the smallest root to two above the largest, and the
 //     resonance points of every complex root), each maximum closed by
-//     bisection; the DC end is the other candidate (the nominal H strictly
-//     proper, which the structure keeps, so |H(∞)| = 0 does not compete;
-//     the product must fall at the top of the scan, below the peak). The peak gain is |H| from a direct
-//     solve at the highest, which must agree with the product within
-//     directAgree. fpeak is served only when no other candidate is within
-//     directTie of it in ln|H|² (rounding would pick the place; the gain
-//     differs by less than that) and the maximum's location is well
+//     bisection; the DC end is the other candidate: the nominal H is
+//     strictly proper, as the draws of one structure are (the degrees
+//     in s follow the structure for all but special values), so
+//     |H(∞)| = 0 does not compete, and the product must fall at the top
+//     of the scan, below the peak (where a draw that gained a zero would
+//     show). The peak gain is |H| from a direct solve at the highest
+//     candidate, which must agree with the product within directAgree.
+//     fpeak is served only when no other candidate is within
+//     directPeakTie of it in ln|H|² (rounding would pick the place; the
+//     gain differs by less than that) and the maximum's place is well
 //     conditioned: one Newton step on the direct solve's d ln|H|²/d ln ω
-//     (with the product's curvature) moves it by at most directPeakShift
-//     in ln ω; a flat maximum (a response barely peaking) goes on.
-//     peaking needs the nominal passband reference to be the DC gain.
+//     (with the product's curvature) moves it by at most
+//     directPeakShift in ln ω; a flat maximum goes on. peaking needs
+//     the nominal passband reference to be the DC gain.
 //   - noise@F and noise_rms@F1..F2: noise.Analyzer on the restamped
 //     matrices themselves (noise.NewOn, Analyzer.Revalue with the run's
 //     values), the same computation on the same G and C as a rebuilt
@@ -55,10 +58,15 @@ const (
 	// directSeparation: two natural frequencies closer than this times
 	// their magnitude are a cluster the extraction may merge.
 	directSeparation = 1e-6
-	// directTie: candidates for the dominant pair (|Re p|) or the peak
-	// (ln|H|²) closer than this (relative, absolute in ln|H|²) are a tie
-	// that rounding decides.
-	directTie = 1e-10
+	// directPairTie: two complex pairs whose |Re p| differ by less than
+	// this (relative) are a tie for the dominant pair that rounding
+	// decides (the roots' own errors are about 10⁻¹³ relative).
+	directPairTie = 1e-9
+	// directPeakTie: two candidates for the peak whose ln|H|² differ by
+	// less than this are a tie for its place that rounding decides; the
+	// gains then differ by less than 4.4·10⁻¹¹ dB, so the peak gain
+	// stands (the product's rounding is about 10⁻¹⁴).
+	directPeakTie = 1e-11
 	// directPeakShift: the largest move of fpeak, in ln ω, that one
 	// Newton step on the direct solves may make for the product's maximum
 	// to be served.
@@ -227,7 +235,7 @@ func (w *directWorker) computePair() (transfer.RootPair, error) {
 	if imag(p.Root) != 0 {
 		d := math.Abs(real(p.Root))
 		for _, r := range w.roots {
-			if imag(r) > 0 && r != p.Root && math.Abs(math.Abs(real(r))-d) <= directTie*d {
+			if imag(r) > 0 && r != p.Root && math.Abs(math.Abs(real(r))-d) <= directPairTie*d {
 				return transfer.RootPair{}, errUncertain
 			}
 		}
@@ -303,9 +311,9 @@ func (w *directWorker) computePeak() error {
 	if gHi, dHi := g(prevU); !(dHi < 0 && gHi < bestG) {
 		return errUncertain
 	}
-	if bestG-second <= directTie {
+	if bestG-second <= directPeakTie {
 		// Two candidates equally high: rounding picks the place (the gain
-		// differs by less than directTie in ln|H|²).
+		// differs by less than directPeakTie in ln|H|²).
 		w.fpeakErr = errUncertain
 	}
 	if math.IsInf(bestU, -1) {

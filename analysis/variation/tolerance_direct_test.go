@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"nodal/analysis/stability"
+	"nodal/analysis/transfer"
 )
 
 // directCases are circuits on which the direct path (restamp, eigenvalue
@@ -165,7 +166,7 @@ R1: resistor (out, gnd) 10k ±1%
 		t.Error("phase_margin@U1: direct path used")
 	}
 	// The notch's gain is flat at DC to rounding: a "maximum" of the
-	// product within directTie of the DC end, so which one is the peak's
+	// product within directPeakTie of the DC end, so which one is the peak's
 	// place is rounding's choice.
 	src, _ := directCase(t, "notch below the corner")
 	if ev := tolEvaluator(t, tolLoad(t, src), "out", "fpeak"); ev.direct != nil {
@@ -226,5 +227,37 @@ func TestDirectNotchCrossing(t *testing.T) {
 	fn := 1 / (2 * math.Pi * math.Sqrt(2.533*10e-9))
 	if !(v[0] < fn && v[0] > 0.8*fn) {
 		t.Errorf("f3db %v Hz; want just below the notch at %v Hz", v[0], fn)
+	}
+}
+
+// TestDirectPairRefusesTies checks the two refusals of the direct f0 and
+// q on natural frequencies given by hand: two complex pairs equally close
+// to the jω axis (the dominant one is rounding's choice) and a nearly
+// double real pole (the extraction may merge it); well separated roots
+// give transfer.DominantPair's pair.
+func TestDirectPairRefusesTies(t *testing.T) {
+	w := &directWorker{d: &directPath{directMetrics: directMetrics{pair: true}}}
+	for _, tc := range []struct {
+		name  string
+		roots []complex128
+		ok    bool
+	}{
+		{"separated", []complex128{complex(-100, 1000), complex(-100, -1000), complex(-300, 5000), complex(-300, -5000), -1e5}, true},
+		{"equal damping", []complex128{complex(-100, 1000), complex(-100, -1000), complex(-100*(1+1e-12), 5000), complex(-100*(1+1e-12), -5000)}, false},
+		{"nearly double", []complex128{-1000, -1000 * (1 + 1e-9), -5e4}, false},
+	} {
+		w.roots, w.pairDone = tc.roots, false
+		p, err := w.dominantPair()
+		if tc.ok != (err == nil) {
+			t.Errorf("%s: error %v", tc.name, err)
+			continue
+		}
+		if tc.ok {
+			tf := transfer.TransferFunction{Poles: tc.roots}
+			want, _ := tf.DominantPair()
+			if p != want {
+				t.Errorf("%s: %+v; want %+v", tc.name, p, want)
+			}
+		}
 	}
 }
