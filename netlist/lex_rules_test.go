@@ -3,11 +3,13 @@ package netlist
 import (
 	"math/rand/v2"
 	"regexp"
-	"regexp/syntax"
+	resyntax "regexp/syntax"
 	"strings"
 	"testing"
 
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // lexLine must give participle's tokens (lexDef, the same rules tried one
@@ -56,7 +58,7 @@ func TestLineLexer(t *testing.T) {
 		}
 	}
 	// The frequent tokens are the ones matched without regexp.
-	for _, name := range []string{"Ident", "Space", "Punct", "Comment", "PlusMinus", "Range"} {
+	for _, name := range []string{"Ident", "Space", "Punct", "Comment", "PlusMinus", "Range", "Value", "String", "Newline", "Bad"} {
 		for _, r := range lineRules {
 			if r.typ == lexDef.Symbols()[name] && r.simple == nil {
 				t.Errorf("rule %s is matched by regexp", name)
@@ -88,18 +90,26 @@ func TestSimplePatterns(t *testing.T) {
 		{`(a|)b`, false},
 		{`(a*)*`, false},
 		{`a{2,3}`, false},
-		{`(?i)ab`, false},
+		{`(?i)ab`, true},
+		{`(?i)k+`, true},
 		{`a?ab`, false},
 		{`(a\.b?)*\.`, true},
 		{`(a\.?)*\.`, false},
 		{`(a\.b?)*c`, true},
 		{`x(a|b)+y`, true},
+		{`[ab]+a*`, true}, // the rest may be empty: greedy is leftmost-first
+		{`(ab)?a*`, true},
+		{`(ab)?a`, false},
+		{`[a.]+\.?b`, false},
+		{syntax.NumberPattern, true},
+		{`(\d+(\.\d+)?|\.\d+)([eE][+-]?\d+)?x`, true},
+		{`\d+([eE][+-]?\d+)?e`, false},
 	} {
-		tree, err := syntax.Parse(c.pattern, syntax.Perl)
+		tree, err := resyntax.Parse(c.pattern, resyntax.Perl)
 		if err != nil {
 			t.Fatal(err)
 		}
-		n, ok := compileSimple(tree, byteSet{}, true)
+		n, ok := compileSimple(tree, byteSet{}, true, true)
 		if ok != c.simple {
 			t.Errorf("%s: simple %v, want %v", c.pattern, ok, c.simple)
 			continue
@@ -109,11 +119,11 @@ func TestSimplePatterns(t *testing.T) {
 		}
 		re := regexp.MustCompile("^(?:" + c.pattern + ")")
 		rng := rand.New(rand.NewPCG(7, uint64(len(c.pattern))))
-		alphabet := "ab.xyzc09_\"\\\n#A+-±d"
+		alphabet := []rune("ab.xyzc09_\"\\\n#A+-±deEkK\u212a%°µΩ5")
 		for range 5000 {
 			var b strings.Builder
 			for range rng.IntN(12) {
-				b.WriteByte(alphabet[rng.IntN(len(alphabet))])
+				b.WriteRune(alphabet[rng.IntN(len(alphabet))])
 			}
 			s := b.String()
 			loc := re.FindStringIndex(s)
