@@ -6,6 +6,7 @@ import (
 	resyntax "regexp/syntax"
 	"strings"
 	"testing"
+	"unicode/utf8"
 
 	"github.com/alecthomas/participle/v2/lexer"
 
@@ -28,34 +29,7 @@ func TestLineLexer(t *testing.T) {
 	}
 	lines = append(lines, "a.b.c a. a.1 a..b 1..2 1e 1e+ 1e+5k 4k7 .5 5. \"x\\\"y\" \"open \\", "\xff\xfe bad", "R1: resistor (n0, n1) 1k ±5% # note")
 	for _, l := range lines {
-		want, wantErr := lexer.ConsumeAll(must(lexDef.LexString("x", l)))
-		got, _, err := lexLine("x", l, 100, 7, nil)
-		if (err == nil) != (wantErr == nil) {
-			t.Fatalf("%q: error %v, participle's %v", l, err, wantErr)
-		}
-		if err != nil {
-			continue
-		}
-		want = want[:len(want)-1] // participle's EOF
-		significant := 0
-		for _, w := range want {
-			if w.Type != symSpace && w.Type != symComment {
-				significant++
-			}
-		}
-		if significant == 0 {
-			want = nil
-		}
-		if len(got) != len(want) {
-			t.Fatalf("%q: %d tokens, participle's %d", l, len(got), len(want))
-		}
-		for i, w := range want {
-			w.Pos.Offset += 100
-			w.Pos.Line = 7
-			if got[i] != w {
-				t.Fatalf("%q: token %d is %v, participle's %v", l, i, got[i], w)
-			}
-		}
+		checkLineLexer(t, l)
 	}
 	// The frequent tokens are the ones matched without regexp.
 	for _, name := range []string{"Ident", "Space", "Punct", "Comment", "PlusMinus", "Range", "Value", "String", "Newline", "Bad"} {
@@ -133,4 +107,52 @@ func TestSimplePatterns(t *testing.T) {
 			}
 		}
 	}
+}
+
+// checkLineLexer fails t when lexLine's tokens of one line (no newline)
+// differ from participle's (lexDef), or one fails where the other does
+// not.
+func checkLineLexer(t *testing.T, l string) {
+	t.Helper()
+	want, wantErr := lexer.ConsumeAll(must(lexDef.LexString("x", l)))
+	got, _, err := lexLine("x", l, 100, 7, nil)
+	if (err == nil) != (wantErr == nil) {
+		t.Fatalf("%q: error %v, participle's %v", l, err, wantErr)
+	}
+	if err != nil {
+		return
+	}
+	want = want[:len(want)-1] // participle's EOF
+	significant := 0
+	for _, w := range want {
+		if w.Type != symSpace && w.Type != symComment {
+			significant++
+		}
+	}
+	if significant == 0 {
+		want = nil
+	}
+	if len(got) != len(want) {
+		t.Fatalf("%q: %d tokens, participle's %d", l, len(got), len(want))
+	}
+	for i, w := range want {
+		w.Pos.Offset += 100
+		w.Pos.Line = 7
+		if got[i] != w {
+			t.Fatalf("%q: token %d is %v, participle's %v", l, i, got[i], w)
+		}
+	}
+}
+
+// FuzzLineLexer: lexLine gives participle's tokens on any line of UTF-8
+// text (lines hold no newline and files are checked to be UTF-8 first).
+func FuzzLineLexer(f *testing.F) {
+	f.Add("R1: resistor (n0, n1) 1k ±5% # note")
+	f.Add("let x = 1e-3*sqrt(2)/(4k7 + .5) \"s\\\"\" 1..2 a.b.c a. 10 kΩ")
+	f.Fuzz(func(t *testing.T, l string) {
+		if strings.Contains(l, "\n") || !utf8.ValidString(l) || len(l) > 1<<12 {
+			t.Skip()
+		}
+		checkLineLexer(t, l)
+	})
 }
