@@ -46,13 +46,19 @@ func (k Kind) String() string {
 // "voltage source" and "current source" it is the independent source (the
 // value decides whether it is controlled).
 func KindByKeyword(word string) (Kind, bool) {
-	for k := Resistor; k <= Coupling; k++ {
-		if kindKeywords[k] == word {
-			return k, true
-		}
-	}
-	return 0, false
+	k, ok := keywordKinds[word]
+	return k, ok
 }
+
+// keywordKinds maps each keyword to the first kind in constant order that
+// it names.
+var keywordKinds = func() map[string]Kind {
+	m := map[string]Kind{}
+	for k := Coupling; k >= Resistor; k-- {
+		m[kindKeywords[k]] = k
+	}
+	return m
+}()
 
 // Keywords returns every element keyword once, in the order of the Kind
 // constants.

@@ -24,9 +24,9 @@ const (
 	// MaxParts is the most parts a circuit may have after expanding
 	// blocks: the memory budget of a circuit. Parts are held sparse from
 	// the stamps on, so 10⁶ parts fit in about 1 GB through a sweep; Load
-	// of a plain netlist of 10⁶ parts (38 MB) holds at most about 0.8 GB
-	// live (the Circuit's Parts, 330 bytes each, and the elaboration's
-	// name tables), 10⁵ parts peak near 130 MB.
+	// of a plain netlist of 10⁶ parts (38 MB) peaks near 0.5 GB of heap,
+	// 13× the file (the Circuit's Parts, 272 bytes each, the source and
+	// the elaboration's name tables); 10⁵ parts peak near 46 MB.
 	MaxParts = 1_000_000
 	// MaxBlockDepth is the deepest nesting of block instances.
 	MaxBlockDepth = 64

@@ -3,6 +3,8 @@ package netlist
 import (
 	"regexp"
 	"regexp/syntax"
+	"slices"
+	"unicode"
 	"unicode/utf8"
 
 	"github.com/alecthomas/participle/v2/lexer"
@@ -19,11 +21,11 @@ import (
 //     every byte), so a skipped rule is one that could not have matched;
 //   - a pattern made of character classes, literals, greedy repetitions
 //     and alternatives that never need backtracking (compileSimple checks
-//     it: what a repetition or alternative may start with is disjoint from
-//     what may follow it) is matched by walking its syntax tree
-//     (simpleNode), without the regexp engine and its allocations; any
-//     other pattern (the number token, syntax.NumberPattern) goes through
-//     regexp as participle would.
+//     it) is matched by walking its syntax tree (simpleNode), without the
+//     regexp engine and its allocations; any other pattern goes through
+//     regexp as participle would, on the text up to the first character
+//     no match can hold (lineRule.chars). Every rule of circuit files is
+//     of the first kind, syntax.NumberPattern included.
 //
 // TestLineLexer checks that the tokens are lexDef's on the corpus and on
 // random text.
@@ -33,6 +35,12 @@ type lineRule struct {
 	typ    lexer.TokenType
 	re     *regexp.Regexp // the anchored pattern, as participle compiles it
 	simple simpleNode     // nil: match with re
+	// chars are the bytes a match of re can hold (128: any non-ASCII
+	// character), valid when cut: re is then run on the text up to the
+	// first byte outside them, where every match ends anyway (regexp's
+	// cost grows with the length of the text it is given).
+	chars byteSet
+	cut   bool
 }
 
 // lineRules are lexDef's rules in its order; byFirst[b] lists (indexes
@@ -53,9 +61,11 @@ func compileLineRules(rules []lexer.SimpleRule) ([]lineRule, [129][]int) {
 		if first.empty { // a pattern that can match nothing is tried everywhere
 			first = byteSet{all: true}
 		}
-		if n, ok := compileSimple(tree, byteSet{}, true); ok {
+		if n, ok := compileSimple(tree, byteSet{}, true, true); ok {
 			lr.simple = n
 		}
+		lr.chars = charSet(tree)
+		lr.cut = !lr.chars.all
 		out = append(out, lr)
 		for b := range 129 {
 			if first.all || first.has(b) {
@@ -117,10 +127,10 @@ func firstSet(re *syntax.Regexp) byteSet {
 		if len(re.Rune) == 0 {
 			return byteSet{empty: true}
 		}
-		if re.Flags&syntax.FoldCase != 0 {
-			return byteSet{all: true}
+		c := literalClass(re, 0)
+		for i := 0; i+1 < len(c); i += 2 {
+			s.addRange(c[i], c[i+1])
 		}
-		s.addRange(re.Rune[0], re.Rune[0])
 	case syntax.OpCharClass:
 		for i := 0; i+1 < len(re.Rune); i += 2 {
 			s.addRange(re.Rune[i], re.Rune[i+1])
@@ -156,6 +166,54 @@ func firstSet(re *syntax.Regexp) byteSet {
 	default: // any character, assertions, counted repeats: anything
 		return byteSet{all: true, empty: true}
 	}
+	return s
+}
+
+// literalClass returns the characters rune i of a literal matches, as
+// ranges: itself, or under (?i) every rune of its simple case folding
+// orbit ("E", "e"; "k", "K" and the Kelvin sign), as regexp matches it.
+func literalClass(re *syntax.Regexp, i int) []rune {
+	r := re.Rune[i]
+	if re.Flags&syntax.FoldCase == 0 {
+		return []rune{r, r}
+	}
+	orbit := []rune{r}
+	for f := unicode.SimpleFold(r); f != r; f = unicode.SimpleFold(f) {
+		orbit = append(orbit, f)
+	}
+	slices.Sort(orbit)
+	var out []rune
+	for _, c := range orbit {
+		out = append(out, c, c)
+	}
+	return out
+}
+
+// charSet returns the bytes a match of re can hold (all for a construct
+// it does not know, an assertion included, whose truth could depend on the
+// text after the match).
+func charSet(re *syntax.Regexp) byteSet {
+	var s byteSet
+	switch re.Op {
+	case syntax.OpLiteral, syntax.OpCharClass, syntax.OpAnyCharNotNL:
+		s = firstSet(re)
+		if re.Op == syntax.OpLiteral {
+			for i := range re.Rune {
+				c := literalClass(re, i)
+				for k := 0; k+1 < len(c); k += 2 {
+					s.addRange(c[k], c[k+1])
+				}
+			}
+		}
+	case syntax.OpCapture, syntax.OpStar, syntax.OpPlus, syntax.OpQuest, syntax.OpConcat, syntax.OpAlternate:
+		for _, sub := range re.Sub {
+			s = s.union(charSet(sub))
+		}
+	case syntax.OpEmptyMatch:
+	default:
+		return byteSet{all: true}
+	}
+	s.empty = false
 	return s
 }
 
@@ -231,18 +289,27 @@ func (a altNode) match(s string, i int) (int, bool) {
 }
 
 // compileSimple compiles re into a simpleNode when matching it needs no
-// backtracking, given follow, what may come after it in the pattern
-// (empty set when it ends the pattern); top is true for the whole
-// pattern, where an alternative that matches ends the match.
-func compileSimple(re *syntax.Regexp, follow byteSet, top bool) (simpleNode, bool) {
+// backtracking, given follow, what may come after it in the pattern, and
+// restEmpty, whether all that follows it to the end of the pattern may be
+// empty; top is true for the whole pattern, where an alternative that
+// matches ends the match.
+//
+// A repetition (or an optional part) is taken each time its part can
+// start and match; that is the leftmost-first choice (regexp's, as a
+// backtracking matcher would find it) when what follows cannot start at
+// the same character (then the other choice could not continue), or when
+// all that follows may be empty (then the first choice cannot fail
+// later). A repetition that starts and fails stops where it started,
+// which is where backtracking would resume.
+func compileSimple(re *syntax.Regexp, follow byteSet, restEmpty, top bool) (simpleNode, bool) {
 	switch re.Op {
 	case syntax.OpLiteral:
-		if re.Flags&syntax.FoldCase != 0 || len(re.Rune) == 0 {
+		if len(re.Rune) == 0 {
 			return nil, false
 		}
 		q := make(seqNode, len(re.Rune))
-		for i, r := range re.Rune {
-			q[i] = classNode{[]rune{r, r}}
+		for i := range re.Rune {
+			q[i] = classNode{literalClass(re, i)}
 		}
 		if len(q) == 1 {
 			return q[0], true
@@ -253,17 +320,13 @@ func compileSimple(re *syntax.Regexp, follow byteSet, top bool) (simpleNode, boo
 	case syntax.OpAnyCharNotNL:
 		return classNode{[]rune{0, '\n' - 1, '\n' + 1, utf8.MaxRune}}, true
 	case syntax.OpCapture:
-		return compileSimple(re.Sub[0], follow, top)
+		return compileSimple(re.Sub[0], follow, restEmpty, top)
 	case syntax.OpStar, syntax.OpPlus, syntax.OpQuest:
-		// Each repetition is taken while the part can start, which is
-		// right when what follows cannot start there too; a repetition
-		// that starts and fails stops the loop where it began, which
-		// is where backtracking would resume.
 		f := firstSet(re.Sub[0])
-		if f.empty || !f.disjoint(follow) {
+		if f.empty || !f.disjoint(follow) && !restEmpty {
 			return nil, false
 		}
-		sub, ok := compileSimple(re.Sub[0], f.union(follow), false)
+		sub, ok := compileSimple(re.Sub[0], f.union(follow), restEmpty, false)
 		if !ok {
 			return nil, false
 		}
@@ -277,9 +340,9 @@ func compileSimple(re *syntax.Regexp, follow byteSet, top bool) (simpleNode, boo
 		return r, true
 	case syntax.OpConcat:
 		q := make(seqNode, len(re.Sub))
-		after := follow
+		after, afterEmpty := follow, restEmpty
 		for i := len(re.Sub) - 1; i >= 0; i-- {
-			n, ok := compileSimple(re.Sub[i], after, false)
+			n, ok := compileSimple(re.Sub[i], after, afterEmpty, false)
 			if !ok {
 				return nil, false
 			}
@@ -288,7 +351,7 @@ func compileSimple(re *syntax.Regexp, follow byteSet, top bool) (simpleNode, boo
 			if f.empty {
 				after = f.union(after)
 			} else {
-				after = f
+				after, afterEmpty = f, false
 			}
 		}
 		return q, true
@@ -303,7 +366,7 @@ func compileSimple(re *syntax.Regexp, follow byteSet, top bool) (simpleNode, boo
 				return nil, false
 			}
 			seen = seen.union(f)
-			n, ok := compileSimple(sub, follow, top)
+			n, ok := compileSimple(sub, follow, restEmpty, top)
 			if !ok {
 				return nil, false
 			}
@@ -320,7 +383,20 @@ func (r *lineRule) matchAt(line string, i int) (end int, ok bool) {
 	if r.simple != nil {
 		return r.simple.match(line, i)
 	}
-	if loc := r.re.FindStringIndex(line[i:]); loc != nil {
+	text := line[i:]
+	if r.cut {
+		for j := 0; j < len(text); j++ {
+			b := int(text[j])
+			if b >= utf8.RuneSelf {
+				b = 128
+			}
+			if !r.chars.has(b) {
+				text = text[:j]
+				break
+			}
+		}
+	}
+	if loc := r.re.FindStringIndex(text); loc != nil {
 		return i + loc[1], true
 	}
 	return i, false

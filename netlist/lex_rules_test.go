@@ -3,11 +3,14 @@ package netlist
 import (
 	"math/rand/v2"
 	"regexp"
-	"regexp/syntax"
+	resyntax "regexp/syntax"
 	"strings"
 	"testing"
+	"unicode/utf8"
 
 	"github.com/alecthomas/participle/v2/lexer"
+
+	"nodal/netlist/syntax"
 )
 
 // lexLine must give participle's tokens (lexDef, the same rules tried one
@@ -26,37 +29,10 @@ func TestLineLexer(t *testing.T) {
 	}
 	lines = append(lines, "a.b.c a. a.1 a..b 1..2 1e 1e+ 1e+5k 4k7 .5 5. \"x\\\"y\" \"open \\", "\xff\xfe bad", "R1: resistor (n0, n1) 1k ±5% # note")
 	for _, l := range lines {
-		want, wantErr := lexer.ConsumeAll(must(lexDef.LexString("x", l)))
-		got, _, err := lexLine("x", l, 100, 7, nil)
-		if (err == nil) != (wantErr == nil) {
-			t.Fatalf("%q: error %v, participle's %v", l, err, wantErr)
-		}
-		if err != nil {
-			continue
-		}
-		want = want[:len(want)-1] // participle's EOF
-		significant := 0
-		for _, w := range want {
-			if w.Type != symSpace && w.Type != symComment {
-				significant++
-			}
-		}
-		if significant == 0 {
-			want = nil
-		}
-		if len(got) != len(want) {
-			t.Fatalf("%q: %d tokens, participle's %d", l, len(got), len(want))
-		}
-		for i, w := range want {
-			w.Pos.Offset += 100
-			w.Pos.Line = 7
-			if got[i] != w {
-				t.Fatalf("%q: token %d is %v, participle's %v", l, i, got[i], w)
-			}
-		}
+		checkLineLexer(t, l)
 	}
 	// The frequent tokens are the ones matched without regexp.
-	for _, name := range []string{"Ident", "Space", "Punct", "Comment", "PlusMinus", "Range"} {
+	for _, name := range []string{"Ident", "Space", "Punct", "Comment", "PlusMinus", "Range", "Value", "String", "Newline", "Bad"} {
 		for _, r := range lineRules {
 			if r.typ == lexDef.Symbols()[name] && r.simple == nil {
 				t.Errorf("rule %s is matched by regexp", name)
@@ -88,18 +64,26 @@ func TestSimplePatterns(t *testing.T) {
 		{`(a|)b`, false},
 		{`(a*)*`, false},
 		{`a{2,3}`, false},
-		{`(?i)ab`, false},
+		{`(?i)ab`, true},
+		{`(?i)k+`, true},
 		{`a?ab`, false},
 		{`(a\.b?)*\.`, true},
 		{`(a\.?)*\.`, false},
 		{`(a\.b?)*c`, true},
 		{`x(a|b)+y`, true},
+		{`[ab]+a*`, true}, // the rest may be empty: greedy is leftmost-first
+		{`(ab)?a*`, true},
+		{`(ab)?a`, false},
+		{`[a.]+\.?b`, false},
+		{syntax.NumberPattern, true},
+		{`(\d+(\.\d+)?|\.\d+)([eE][+-]?\d+)?x`, true},
+		{`\d+([eE][+-]?\d+)?e`, false},
 	} {
-		tree, err := syntax.Parse(c.pattern, syntax.Perl)
+		tree, err := resyntax.Parse(c.pattern, resyntax.Perl)
 		if err != nil {
 			t.Fatal(err)
 		}
-		n, ok := compileSimple(tree, byteSet{}, true)
+		n, ok := compileSimple(tree, byteSet{}, true, true)
 		if ok != c.simple {
 			t.Errorf("%s: simple %v, want %v", c.pattern, ok, c.simple)
 			continue
@@ -109,11 +93,11 @@ func TestSimplePatterns(t *testing.T) {
 		}
 		re := regexp.MustCompile("^(?:" + c.pattern + ")")
 		rng := rand.New(rand.NewPCG(7, uint64(len(c.pattern))))
-		alphabet := "ab.xyzc09_\"\\\n#A+-±d"
+		alphabet := []rune("ab.xyzc09_\"\\\n#A+-±deEkK\u212a%°µΩ5")
 		for range 5000 {
 			var b strings.Builder
 			for range rng.IntN(12) {
-				b.WriteByte(alphabet[rng.IntN(len(alphabet))])
+				b.WriteRune(alphabet[rng.IntN(len(alphabet))])
 			}
 			s := b.String()
 			loc := re.FindStringIndex(s)
@@ -123,4 +107,52 @@ func TestSimplePatterns(t *testing.T) {
 			}
 		}
 	}
+}
+
+// checkLineLexer fails t when lexLine's tokens of one line (no newline)
+// differ from participle's (lexDef), or one fails where the other does
+// not.
+func checkLineLexer(t *testing.T, l string) {
+	t.Helper()
+	want, wantErr := lexer.ConsumeAll(must(lexDef.LexString("x", l)))
+	got, _, err := lexLine("x", l, 100, 7, nil)
+	if (err == nil) != (wantErr == nil) {
+		t.Fatalf("%q: error %v, participle's %v", l, err, wantErr)
+	}
+	if err != nil {
+		return
+	}
+	want = want[:len(want)-1] // participle's EOF
+	significant := 0
+	for _, w := range want {
+		if w.Type != symSpace && w.Type != symComment {
+			significant++
+		}
+	}
+	if significant == 0 {
+		want = nil
+	}
+	if len(got) != len(want) {
+		t.Fatalf("%q: %d tokens, participle's %d", l, len(got), len(want))
+	}
+	for i, w := range want {
+		w.Pos.Offset += 100
+		w.Pos.Line = 7
+		if got[i] != w {
+			t.Fatalf("%q: token %d is %v, participle's %v", l, i, got[i], w)
+		}
+	}
+}
+
+// FuzzLineLexer: lexLine gives participle's tokens on any line of UTF-8
+// text (lines hold no newline and files are checked to be UTF-8 first).
+func FuzzLineLexer(f *testing.F) {
+	f.Add("R1: resistor (n0, n1) 1k ±5% # note")
+	f.Add("let x = 1e-3*sqrt(2)/(4k7 + .5) \"s\\\"\" 1..2 a.b.c a. 10 kΩ")
+	f.Fuzz(func(t *testing.T, l string) {
+		if strings.Contains(l, "\n") || !utf8.ValidString(l) || len(l) > 1<<12 {
+			t.Skip()
+		}
+		checkLineLexer(t, l)
+	})
 }

@@ -240,7 +240,7 @@ func blankLine(text []byte) bool {
 }
 
 // lexLine appends to buf the tokens of one line (without its newline),
-// lexDef's tokens found by lineRules (lex_rules.go), of a line
+// the tokens lexDef gives, found with lineRules (lex_rules.go), for a line
 // that starts at byte offset start and is line lineNo of the file, or
 // returns buf empty when the line has no significant token. over is the
 // byte offset of the token past MaxLineTokens significant ones (lexing
