@@ -94,6 +94,9 @@ func ofMatrices(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
+	if zeroExcluded(m.G, m.C, m.Unknowns) {
+		w0 = 0
+	}
 	cl, off := Classify(roots, w0)
 	return &Result{Class: cl, Natural: roots, Offending: off, AllNatural: true}, nil
 }

@@ -6,6 +6,8 @@ import (
 	"math"
 	"math/cmplx"
 	"slices"
+
+	"nodal/mna"
 )
 
 // ErrUnstable marks a circuit whose natural frequencies are not all in
@@ -153,7 +155,9 @@ const (
 // by FiniteEigenvalues), sorts them by decreasing real part, and returns
 // the class with the offending roots: for Unstable every root in the
 // closed right half-plane, for Marginal those on the axis, for Stable
-// none. roots is changed in place.
+// none. roots is changed in place. A caller that knows s = 0 is not a
+// natural frequency (Y(0) regular: zeroExcluded) passes w0 = 0, and no
+// root is snapped to 0.
 func Classify(roots []complex128, w0 float64) (Class, []complex128) {
 	snapZeroCluster(roots, w0)
 	for i, r := range roots {
@@ -221,4 +225,15 @@ func snapZeroCluster(roots []complex128, w0 float64) {
 			roots[i] = 0
 		}
 	}
+}
+
+// zeroExcluded reports whether s = 0 is certainly not a natural
+// frequency of the pencil (g, c): Y(0) = G factors with no vanished pivot
+// (mna's LU judges that on the equilibrated matrix). The zero snapping of
+// Classify then must not act: its scale w0 = ‖G‖/‖C‖ grows with the gain
+// entries of controlled sources (a gain of 10⁴ after a 400-section RC
+// ladder puts 1e-7·w0 above the ladder's slowest roots, which were then
+// taken for a repeated root at s = 0, "unstable").
+func zeroExcluded(g, c *mna.Sparse, unknowns []string) bool {
+	return mna.NewShiftSolver(&mna.System{Unknowns: unknowns, G: g, C: c}).Factor(0) == nil
 }

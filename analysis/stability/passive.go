@@ -293,7 +293,9 @@ func (g *partGraph) axisFree(c *netlist.Circuit, roles []passiveRole) bool {
 		if p := &c.Parts[i]; p.Kind == netlist.Coupling {
 			a, okA := index[p.Coupled[0]]
 			b, okB := index[p.Coupled[1]]
-			if okA && okB && a != b {
+			// An inductor opened in a block (its current outside it) is no
+			// longer coupled: its current is zero and its voltage free.
+			if okA && okB && a != b && roles[a] == roleInductor && roles[b] == roleInductor {
 				join(a, b)
 			}
 		}
