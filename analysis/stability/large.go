@@ -48,20 +48,19 @@ func largeResult(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 		return nil, ErrSingularPencil // no perfect matching: det ≡ 0 by structure
 	}
 	w0 := normRatio(m.G, m.C)
-	if zeroExcluded(m.G, m.C, m.Unknowns) {
-		w0 = 0 // Classify snaps nothing to s = 0
-	}
 	verdict, passive := passiveCertificate(c, m)
 	if passive && verdict.strict() {
 		// The certificate assumes det(G + sC) ≢ 0. A passive circuit has
 		// no natural frequency at s = w0 > 0, so Y(w0) is regular unless
 		// det ≡ 0.
-		w := normRatio(m.G, m.C)
 		y := mna.NewShiftSolver(&mna.System{Unknowns: m.Unknowns, G: m.G, C: m.C})
-		if err := y.Factor(complex(w, 0)); err != nil {
-			return nil, fmt.Errorf("%w (Y(s) is singular at s = %g rad/s, where a passive circuit has no natural frequency)", ErrSingularPencil, w)
+		if err := y.Factor(complex(w0, 0)); err != nil {
+			return nil, fmt.Errorf("%w (Y(s) is singular at s = %g rad/s, where a passive circuit has no natural frequency)", ErrSingularPencil, w0)
 		}
 		return &Result{Class: Stable, Reason: ReasonPassive}, nil
+	}
+	if zeroExcluded(m.G, m.C, m.Unknowns) {
+		w0 = 0 // Classify snaps nothing to s = 0
 	}
 	gainIn := gainEntryTest(c, m)
 	res := &Result{}
