@@ -29,8 +29,8 @@ import (
 // The search therefore finds unstable frequencies; it cannot show that
 // there is none.
 //
-// Each Ritz value with Re λ > 0 is refined by inverse iteration with
-// Rayleigh updates on the complex factorisation of Y(λ) and kept only when
+// Each Ritz value with Re λ > 0 is refined by Rayleigh quotient iteration
+// on the complex factorisation of Y(λ) until λ settles, and kept only when
 // the backward error of the pair (λ, x),
 //
 //	η = ‖(G + λC)x‖ / ((‖G‖_F + |λ|·‖C‖_F)·‖x‖)
@@ -43,13 +43,14 @@ import (
 
 // Parameters of the search.
 const (
-	searchRatio       = 2  // ratio of consecutive shifts
-	searchSteps       = 30 // Arnoldi vectors per shift
-	searchMaxShifts   = 60 // most shifts per block
-	searchCandidates  = 4  // Ritz values refined per shift
-	searchBackward    = 1e-10
-	searchAxisMargin  = 1e-6
-	searchRefineSteps = 3 // factorisations at the refined λ, each with searchRefineSteps inverse iterations
+	searchRatio      = 2  // ratio of consecutive shifts
+	searchSteps      = 30 // Arnoldi vectors per shift
+	searchMaxShifts  = 60 // most shifts per block
+	searchCandidates = 4  // Ritz values refined per shift
+	searchBackward   = 1e-12
+	searchAxisMargin = 1e-6
+	searchRounds     = 10    // most factorisations of the Rayleigh quotient iteration
+	searchConverged  = 1e-13 // it stops when λ moves by at most this, relative
 )
 
 // search is what searchUnstable found in one block.
@@ -278,17 +279,23 @@ func (o *blockOperator) arnoldi(sigma float64, start []float64) ([]ritzPair, err
 	return out, nil
 }
 
-// refine polishes (λ, x) by inverse iteration on Y(λ) with Rayleigh
-// updates of λ and returns it with its backward error η; ok is false when
-// the iteration breaks down.
+// refine polishes (λ, x) by Rayleigh quotient iteration: Y(λ) factored
+// at the current λ, two inverse iterations, λ updated from the quotient,
+// until λ moves by at most searchConverged·|λ| (at most searchRounds
+// factorisations). It returns λ with the backward error η of the pair;
+// ok is false when the iteration breaks down or does not settle.
 func (o *blockOperator) refine(lam complex128, x []complex128) (complex128, float64, bool) {
-	normalize(x)
-	for round := 0; round < searchRefineSteps; round++ {
+	if !normalize(x) {
+		return 0, 0, false
+	}
+	settled := false
+	for round := 0; round < searchRounds && !settled; round++ {
 		if err := o.cplx.Factor(lam); err != nil {
-			break // Y(λ) singular to rounding: λ is as good as it gets
+			settled = true // Y(λ) singular to rounding: λ is as good as it gets
+			break
 		}
-		base := lam
-		for it := 0; it < searchRefineSteps; it++ {
+		base, prev := lam, lam
+		for it := 0; it < 2; it++ {
 			o.mulCc(x, o.y)
 			if err := o.cplx.Solve(o.y); err != nil {
 				return 0, 0, false
@@ -306,8 +313,10 @@ func (o *blockOperator) refine(lam complex128, x []complex128) (complex128, floa
 				return 0, 0, false
 			}
 		}
+		settled = cmplx.Abs(lam-prev) <= searchConverged*cmplx.Abs(lam)
 	}
-	return lam, o.backwardError(lam, x), !cmplx.IsNaN(lam) && !cmplx.IsInf(lam)
+	ok := settled && !cmplx.IsNaN(lam) && !cmplx.IsInf(lam)
+	return lam, o.backwardError(lam, x), ok
 }
 
 // backwardError is η of the pair (λ, x) (see the top of this file).

@@ -354,31 +354,34 @@ func phaseShiftLoaded(k int, gain float64) *netlist.Circuit {
 	return testcircuit.New(parts...)
 }
 
-// TestLargeComplexUnstable: an inverting gain of 100 round a loaded
-// phase-shift network oscillates (a complex pair in the right
-// half-plane). The pair found by Arnoldi in the 2000-section block equals
-// the dense path's on a 400-section load: a ladder's input impedance
-// converges as e^(−2kγ), cosh γ = 1 + sRC/2, so 400 and 2000 sections
-// load p2 alike to rounding at |s|·RC near 1 (chain-matrix theory of
-// uniform ladders, common practice).
+// TestLargeComplexUnstable: an inverting gain round a loaded phase-shift
+// network oscillates (a complex pair in the right half-plane, from
+// Re/|λ| = 0.024 at gain 35 to 0.47 at gain 10⁵). The pair found by
+// Arnoldi in the 2000-section block equals the dense path's on a
+// 400-section load, once: a ladder's input impedance converges as
+// e^(−2kγ), cosh γ = 1 + sRC/2, so 400 and 2000 sections load p2 alike to
+// rounding at |s|·RC near 1 (chain-matrix theory of uniform ladders,
+// common practice).
 func TestLargeComplexUnstable(t *testing.T) {
-	dense, err := Analyze(phaseShiftLoaded(400, -100), Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	big, err := Analyze(phaseShiftLoaded(2000, -100), Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
-	if dense.Class != Unstable || !dense.AllNatural || len(dense.Offending) != 2 || imag(dense.Offending[0]) == 0 {
-		t.Fatalf("dense: class %v, offending %v; want one complex pair", dense.Class, dense.Offending)
-	}
-	if big.Class != Unstable || big.Reason != ReasonFound || len(big.Offending) != 2 {
-		t.Fatalf("large: class %v, reason %v, offending %v; want the pair", big.Class, big.Reason, big.Offending)
-	}
-	for i := range 2 {
-		if d := cmplx.Abs(big.Offending[i] - dense.Offending[i]); d > 1e-9*cmplx.Abs(dense.Offending[i]) {
-			t.Fatalf("large %v, dense %v", big.Offending, dense.Offending)
+	for _, gain := range []float64{-35, -100, -1e5} {
+		dense, err := Analyze(phaseShiftLoaded(400, gain), Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		big, err := Analyze(phaseShiftLoaded(2000, gain), Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if dense.Class != Unstable || !dense.AllNatural || len(dense.Offending) != 2 || imag(dense.Offending[0]) == 0 {
+			t.Fatalf("gain %g, dense: class %v, offending %v; want one complex pair", gain, dense.Class, dense.Offending)
+		}
+		if big.Class != Unstable || big.Reason != ReasonFound || len(big.Offending) != 2 || big.Backward > searchBackward {
+			t.Fatalf("gain %g, large: class %v, reason %v, offending %v, η %g; want the pair", gain, big.Class, big.Reason, big.Offending, big.Backward)
+		}
+		for i := range 2 {
+			if d := cmplx.Abs(big.Offending[i] - dense.Offending[i]); d > 1e-9*cmplx.Abs(dense.Offending[i]) {
+				t.Fatalf("gain %g: large %v, dense %v", gain, big.Offending, dense.Offending)
+			}
 		}
 	}
 }
