@@ -2,6 +2,7 @@ package stability
 
 import (
 	"fmt"
+	"math"
 
 	"nodal/mna"
 	"nodal/netlist"
@@ -94,10 +95,7 @@ func ofMatrices(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
-	if zeroExcluded(m.G, m.C, m.Unknowns) {
-		w0 = 0
-	}
-	cl, off := Classify(roots, w0)
+	cl, off := Classify(roots, math.Min(w0, zeroScale(m)))
 	return &Result{Class: cl, Natural: roots, Offending: off, AllNatural: true}, nil
 }
 

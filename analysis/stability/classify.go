@@ -155,9 +155,7 @@ const (
 // by FiniteEigenvalues), sorts them by decreasing real part, and returns
 // the class with the offending roots: for Unstable every root in the
 // closed right half-plane, for Marginal those on the axis, for Stable
-// none. roots is changed in place. A caller that knows s = 0 is not a
-// natural frequency (Y(0) regular: zeroExcluded) passes w0 = 0, and no
-// root is snapped to 0.
+// none. roots is changed in place.
 func Classify(roots []complex128, w0 float64) (Class, []complex128) {
 	snapZeroCluster(roots, w0)
 	for i, r := range roots {
@@ -227,13 +225,24 @@ func snapZeroCluster(roots []complex128, w0 float64) {
 	}
 }
 
-// zeroExcluded reports whether s = 0 is certainly not a natural
-// frequency of the pencil (g, c): Y(0) = G factors with no vanished pivot
-// (mna's LU judges that on the equilibrated matrix). The zero snapping of
-// Classify then must not act: its scale w0 = ‖G‖/‖C‖ grows with the gain
-// entries of controlled sources (a gain of 10⁴ after a 400-section RC
-// ladder puts 1e-7·w0 above the ladder's slowest roots, which were then
-// taken for a repeated root at s = 0, "unstable").
-func zeroExcluded(g, c *mna.Sparse, unknowns []string) bool {
-	return mna.NewShiftSolver(&mna.System{Unknowns: unknowns, G: g, C: c}).Factor(0) == nil
+// zeroScale is the w0 (rad/s) by which Classify judges a root to be s = 0:
+// ‖G‖_F/‖C‖_F with the control terms of gain elements left out of G (1 when
+// either norm is zero). A gain is dimensionless or in other units than
+// the conductances beside it; counted, a gain of 10⁴ after a 400-section
+// RC ladder put 1e-7·w0 above the ladder's slowest roots, which were then
+// taken for a repeated root at s = 0 ("unstable").
+func zeroScale(m *mna.Matrices) float64 {
+	gain := map[[2]int]bool{}
+	m.GainEntries(func(_ string, i, j int) { gain[[2]int{i, j}] = true })
+	gn := 0.0
+	m.G.Each(func(i, j int, v float64) {
+		if !gain[[2]int{i, j}] {
+			gn = math.Hypot(gn, v)
+		}
+	})
+	cn := frobenius(m.C)
+	if gn == 0 || cn == 0 {
+		return 1
+	}
+	return gn / cn
 }
