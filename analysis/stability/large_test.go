@@ -222,14 +222,14 @@ func unstableRoot(k int, r, c, gain float64) float64 {
 }
 
 // TestLargeActiveBlock: a large block with a gain element is searched by
-// shift-and-invert Arnoldi. With loop gain 2 round a 2000-section ladder
+// shift-and-invert Arnoldi. With loop gain 2 round a 2000- or 8000-section ladder
 // the unstable root of the chain-matrix equation is found, checked by its
 // residual and agrees with the closed form (and, on a 300-section ladder,
 // the dense path finds the same root); with loop gain 0.5 nothing is
 // found and the class is Unchecked, never Stable.
 func TestLargeActiveBlock(t *testing.T) {
 	const r, c = 1e3, 1e-8
-	for _, k := range []int{300, 2000} {
+	for _, k := range []int{300, 2000, 8000} {
 		want := unstableRoot(k, r, c, 2)
 		res, err := Analyze(feedbackLadder(k, r, c, 2), Options{Explain: true})
 		if err != nil {
