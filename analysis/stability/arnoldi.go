@@ -29,32 +29,35 @@ import (
 // The search therefore finds unstable frequencies; it cannot show that
 // there is none.
 //
-// Each Ritz value with Re λ > 0 is refined by inverse iteration with
-// Rayleigh updates on the complex factorisation of Y(λ) and kept only when
+// Each Ritz value with Re λ > 0 is refined by Rayleigh quotient iteration
+// on the complex factorisation of Y(λ) until λ settles, and kept only when
 // the backward error of the pair (λ, x),
 //
 //	η = ‖(G + λC)x‖ / ((‖G‖_F + |λ|·‖C‖_F)·‖x‖)
 //
 // (Tisseur, Linear Algebra Appl. 309 (2000), from memory) is at most
-// searchBackward and Re λ > searchAxisMargin·|λ|: λ is then an exact
-// natural frequency of the block with G and C changed by at most η of
-// their norms, far enough right of the axis for that not to move it
-// across. Its conjugate is one too (real matrices).
+// searchBackward, Re λ > searchAxisMargin·|λ| and Re λ > 10·δ, δ the
+// first-order bound on its error from its left vector (errorBound): λ is
+// then an exact natural frequency of the block with G and C changed by at
+// most η of their norms, and the circuit's own lies within δ of it, right
+// of the axis. Its conjugate is one too (real matrices).
 
 // Parameters of the search.
 const (
-	searchRatio       = 2  // ratio of consecutive shifts
-	searchSteps       = 30 // Arnoldi vectors per shift
-	searchMaxShifts   = 60 // most shifts per block
-	searchCandidates  = 4  // Ritz values refined per shift
-	searchBackward    = 1e-10
-	searchAxisMargin  = 1e-6
-	searchRefineSteps = 3 // factorisations at the refined λ, each with searchRefineSteps inverse iterations
+	searchRatio      = 2  // ratio of consecutive shifts
+	searchSteps      = 30 // Arnoldi vectors per shift
+	searchMaxShifts  = 60 // most shifts per block
+	searchCandidates = 4  // Ritz values refined per shift
+	searchBackward   = 1e-12
+	searchAxisMargin = 1e-6
+	searchRounds     = 10    // most factorisations of the Rayleigh quotient iteration
+	searchConverged  = 1e-13 // it stops when λ moves by at most this, relative
 )
 
 // search is what searchUnstable found in one block.
 type search struct {
 	poles    []complex128 // checked right half-plane natural frequencies (rad/s), conjugates included
+	bounds   []float64    // their first-order error bounds δ (rad/s), see errorBound
 	backward float64      // the largest backward error η among them
 	lo, hi   float64      // the range of shifts tried (rad/s)
 }
@@ -94,29 +97,53 @@ func searchUnstable(g, c *mna.Sparse, rows []int) (search, error) {
 			return out, err
 		}
 		for _, r := range ritz {
+			if out.near(r.lambda) {
+				continue // it would refine to one already found
+			}
 			lam, eta, ok := op.refine(r.lambda, r.vec)
 			if !ok || real(lam) <= searchAxisMargin*cmplx.Abs(lam) || eta > searchBackward {
 				continue
 			}
-			out.add(lam, eta)
+			delta := op.errorBound(lam, r.vec, eta)
+			if !(real(lam) > 10*delta) {
+				continue // too near the axis for its own error bound
+			}
+			out.add(lam, eta, delta)
 		}
 	}
 	return out, nil
 }
 
-// add keeps a checked frequency and its conjugate, once.
-func (s *search) add(lam complex128, eta float64) {
-	if math.Abs(imag(lam)) <= 1e-12*cmplx.Abs(lam) {
+// near reports whether a Ritz value lies within 10⁻⁴ of its modulus of a
+// frequency already found.
+func (s *search) near(lam complex128) bool {
+	for _, p := range s.poles {
+		if cmplx.Abs(p-lam) <= 1e-4*cmplx.Abs(lam) {
+			return true
+		}
+	}
+	return false
+}
+
+// add keeps a checked frequency and its conjugate, once: two whose
+// distance is within ten times the sum of their error bounds are one
+// (an ill-conditioned root, such as the slow root of a long ladder,
+// refined from several Ritz values agrees with itself only to its
+// condition number times the rounding).
+func (s *search) add(lam complex128, eta, delta float64) {
+	if math.Abs(imag(lam)) <= math.Max(1e-12*cmplx.Abs(lam), delta) {
 		lam = complex(real(lam), 0)
 	}
-	for _, p := range s.poles {
-		if cmplx.Abs(p-lam) <= 1e-8*cmplx.Abs(lam) {
+	for i, p := range s.poles {
+		if cmplx.Abs(p-lam) <= math.Max(1e-8*cmplx.Abs(lam), 10*(s.bounds[i]+delta)) {
 			return
 		}
 	}
 	s.poles = append(s.poles, lam)
+	s.bounds = append(s.bounds, delta)
 	if imag(lam) != 0 {
 		s.poles = append(s.poles, cmplx.Conj(lam))
+		s.bounds = append(s.bounds, delta)
 	}
 	s.backward = max(s.backward, eta)
 }
@@ -278,17 +305,23 @@ func (o *blockOperator) arnoldi(sigma float64, start []float64) ([]ritzPair, err
 	return out, nil
 }
 
-// refine polishes (λ, x) by inverse iteration on Y(λ) with Rayleigh
-// updates of λ and returns it with its backward error η; ok is false when
-// the iteration breaks down.
+// refine polishes (λ, x) by Rayleigh quotient iteration: Y(λ) factored
+// at the current λ, two inverse iterations, λ updated from the quotient,
+// until λ moves by at most searchConverged·|λ| (at most searchRounds
+// factorisations). It returns λ with the backward error η of the pair;
+// ok is false when the iteration breaks down or does not settle.
 func (o *blockOperator) refine(lam complex128, x []complex128) (complex128, float64, bool) {
-	normalize(x)
-	for round := 0; round < searchRefineSteps; round++ {
+	if !normalize(x) {
+		return 0, 0, false
+	}
+	settled := false
+	for round := 0; round < searchRounds && !settled; round++ {
 		if err := o.cplx.Factor(lam); err != nil {
-			break // Y(λ) singular to rounding: λ is as good as it gets
+			settled = true // Y(λ) singular to rounding: λ is as good as it gets
+			break
 		}
-		base := lam
-		for it := 0; it < searchRefineSteps; it++ {
+		base, prev := lam, lam
+		for it := 0; it < 2; it++ {
 			o.mulCc(x, o.y)
 			if err := o.cplx.Solve(o.y); err != nil {
 				return 0, 0, false
@@ -306,8 +339,67 @@ func (o *blockOperator) refine(lam complex128, x []complex128) (complex128, floa
 				return 0, 0, false
 			}
 		}
+		settled = cmplx.Abs(lam-prev) <= searchConverged*cmplx.Abs(lam)
 	}
-	return lam, o.backwardError(lam, x), !cmplx.IsNaN(lam) && !cmplx.IsInf(lam)
+	ok := settled && !cmplx.IsNaN(lam) && !cmplx.IsInf(lam)
+	return lam, o.backwardError(lam, x), ok
+}
+
+// errorBound returns δ (rad/s), the first-order bound on the distance
+// from λ to the exact natural frequency it approximates:
+//
+//	δ = η·(‖G‖_F + |λ|·‖C‖_F)·‖x‖·‖y‖ / |yᵀ·C·x|
+//
+// with y the left vector (yᵀ(G + λC) = 0, by inverse iteration on the
+// transposed factorisation of Y(λ)) and η the backward error of
+// (λ, x) (first-order perturbation of a simple eigenvalue of a pencil;
+// Higham and Higham, SIAM J. Matrix Anal. Appl. 20 (1998), from memory).
+// +Inf when it cannot be computed.
+func (o *blockOperator) errorBound(lam complex128, x []complex128, eta float64) float64 {
+	y := append([]complex128(nil), x...)
+	if !normalize(y) {
+		return math.Inf(1)
+	}
+	// Y(λ) itself is singular to rounding once λ has settled: a shift a
+	// little away (the nearest that factors) serves inverse iteration as
+	// well while no other natural frequency is as near.
+	held := false
+	for _, off := range []float64{1e-9, 1e-6, 1e-3} {
+		if o.cplx.Factor(lam*complex(1+off, 0)) == nil {
+			held = true
+			break
+		}
+	}
+	if !held {
+		return math.Inf(1)
+	}
+	for it := 0; it < 3; it++ {
+		o.mulCTc(y, o.y)
+		if err := o.cplx.SolveTransposed(o.y); err != nil {
+			return math.Inf(1)
+		}
+		copy(y, o.y)
+		if !normalize(y) {
+			return math.Inf(1)
+		}
+	}
+	o.mulCc(x, o.y)
+	var d complex128
+	xn := 0.0
+	for i := range y {
+		d += y[i] * o.y[i]
+		xn = math.Hypot(xn, cmplx.Abs(x[i]))
+	}
+	if d == 0 || xn == 0 {
+		return math.Inf(1)
+	}
+	return eta * (o.gn + cmplx.Abs(lam)*o.cn) * xn / cmplx.Abs(d)
+}
+
+// mulCTc sets out = Cᵀ·x (complex).
+func (o *blockOperator) mulCTc(x, out []complex128) {
+	clear(out)
+	o.c.Each(func(i, j int, v float64) { out[j] += complex(v, 0) * x[i] })
 }
 
 // backwardError is η of the pair (λ, x) (see the top of this file).

@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/cmplx"
 	"slices"
+
 )
 
 // ErrUnstable marks a circuit whose natural frequencies are not all in

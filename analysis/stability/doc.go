@@ -10,6 +10,13 @@
 // open left half-plane, Marginal when the rightmost ones lie on the jω
 // axis and are simple (an ideal integrator, a lossless tank), Unstable
 // otherwise (a right half-plane frequency, or a repeated one on the axis).
+// Past MaxUnknowns unknowns (large.go) a circuit may also be Passive (no
+// natural frequency in the right half-plane, proven from its parts, but
+// not proven strictly stable) or Unchecked (an active block too large to
+// solve in which no unstable frequency was found); Result.Reason says how
+// a class was reached and Result.AllNatural whether every natural
+// frequency was computed.
 //
-// The package depends on mna and gonum only; it never prints.
+// The package depends on mna, netlist, transfer (the block triangular
+// form) and gonum; it never prints.
 package stability

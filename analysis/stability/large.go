@@ -49,6 +49,9 @@ func largeResult(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 	}
 	w0 := normRatio(m.G, m.C)
 	verdict, passive := passiveCertificate(c, m)
+	if passive && verdict.singular {
+		return nil, fmt.Errorf("%w (voltage sources close a loop)", ErrSingularPencil)
+	}
 	if passive && verdict.strict() {
 		// The certificate assumes det(G + sC) ≢ 0. A passive circuit has
 		// no natural frequency at s = w0 > 0, so Y(w0) is regular unless

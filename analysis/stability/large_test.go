@@ -222,14 +222,14 @@ func unstableRoot(k int, r, c, gain float64) float64 {
 }
 
 // TestLargeActiveBlock: a large block with a gain element is searched by
-// shift-and-invert Arnoldi. With loop gain 2 round a 2000-section ladder
+// shift-and-invert Arnoldi. With loop gain 2 round a 2000- or 8000-section ladder
 // the unstable root of the chain-matrix equation is found, checked by its
 // residual and agrees with the closed form (and, on a 300-section ladder,
 // the dense path finds the same root); with loop gain 0.5 nothing is
 // found and the class is Unchecked, never Stable.
 func TestLargeActiveBlock(t *testing.T) {
 	const r, c = 1e3, 1e-8
-	for _, k := range []int{300, 2000} {
+	for _, k := range []int{300, 2000, 8000} {
 		want := unstableRoot(k, r, c, 2)
 		res, err := Analyze(feedbackLadder(k, r, c, 2), Options{Explain: true})
 		if err != nil {
@@ -334,4 +334,75 @@ func TestLargeBlocks(t *testing.T) {
 			}
 		})
 	}
+}
+
+// phaseShiftLoaded is a three-section RC phase-shift loop (E1 = gain ×
+// v(p3) driving p0) whose middle node p2 is loaded through Rl by k RC
+// sections (1 kΩ, 10 nF): one block of about 2k unknowns.
+func phaseShiftLoaded(k int, gain float64) *netlist.Circuit {
+	const r, c = 1e3, 1e-8
+	parts := []netlist.Part{testcircuit.VCVS("E1", "p0", "gnd", gain, "p3", "gnd"), testcircuit.I("I1", "gnd", "p1", 1)}
+	for j := 1; j <= 3; j++ {
+		parts = append(parts, testcircuit.R(fmt.Sprintf("Rp%d", j), fmt.Sprintf("p%d", j-1), fmt.Sprintf("p%d", j), r),
+			testcircuit.C(fmt.Sprintf("Cp%d", j), fmt.Sprintf("p%d", j), "gnd", c))
+	}
+	parts = append(parts, testcircuit.R("Rl", "p2", "n0", 10*r))
+	for j := 1; j <= k; j++ {
+		a, b := fmt.Sprintf("n%d", j-1), fmt.Sprintf("n%d", j)
+		parts = append(parts, testcircuit.R(fmt.Sprintf("R%d", j), a, b, r), testcircuit.C(fmt.Sprintf("C%d", j), b, "gnd", c))
+	}
+	return testcircuit.New(parts...)
+}
+
+// TestLargeComplexUnstable: an inverting gain round a loaded phase-shift
+// network oscillates (a complex pair in the right half-plane, from
+// Re/|λ| = 0.024 at gain 35 to 0.47 at gain 10⁵). The pair found by
+// Arnoldi in the 2000-section block equals the dense path's on a
+// 400-section load, once: a ladder's input impedance converges as
+// e^(−2kγ), cosh γ = 1 + sRC/2, so 400 and 2000 sections load p2 alike to
+// rounding at |s|·RC near 1 (chain-matrix theory of uniform ladders,
+// common practice).
+func TestLargeComplexUnstable(t *testing.T) {
+	for _, gain := range []float64{-35, -100, -1e5} {
+		dense, err := Analyze(phaseShiftLoaded(400, gain), Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		big, err := Analyze(phaseShiftLoaded(2000, gain), Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if dense.Class != Unstable || !dense.AllNatural || len(dense.Offending) != 2 || imag(dense.Offending[0]) == 0 {
+			t.Fatalf("gain %g, dense: class %v, offending %v; want one complex pair", gain, dense.Class, dense.Offending)
+		}
+		if big.Class != Unstable || big.Reason != ReasonFound || len(big.Offending) != 2 || big.Backward > searchBackward {
+			t.Fatalf("gain %g, large: class %v, reason %v, offending %v, η %g; want the pair", gain, big.Class, big.Reason, big.Offending, big.Backward)
+		}
+		for i := range 2 {
+			if d := cmplx.Abs(big.Offending[i] - dense.Offending[i]); d > 1e-9*cmplx.Abs(dense.Offending[i]) {
+				t.Fatalf("gain %g: large %v, dense %v", gain, big.Offending, dense.Offending)
+			}
+		}
+	}
+}
+
+// TestNoFalseZeroRoots: s = 0 is a natural frequency only when Y(0) is
+// singular (det(G + s·C) at s = 0 is det G). A 400-section RC ladder read
+// by a buffer of gain 10⁴ is stable (its roots are the ladder's, closed
+// form above, and the buffer adds none); the gain entry once inflated the
+// scale by which roots are snapped to 0, and the ladder's slowest roots
+// were reported as a repeated root at s = 0, "unstable".
+func TestNoFalseZeroRoots(t *testing.T) {
+	const r, c = 1e3, 1e-8
+	lad := testcircuit.RCLadder(400, r, c)
+	lad.Parts = append(lad.Parts, testcircuit.VCVS("E1", "o", "gnd", 1e4, "n400", "gnd"), testcircuit.R("RL", "o", "gnd", 1e3))
+	lad = testcircuit.New(lad.Parts...)
+	res, err := Analyze(lad, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Class != Stable || !res.AllNatural {
+		t.Fatalf("class %v, offending %v; want stable", res.Class, res.Offending)
+	}
+	matchReal(t, res.Natural, ladderPoles(400, r, c), 1e-9)
 }

@@ -28,7 +28,7 @@ import (
 //
 // No root on the jω axis with ω ≠ 0. At s = jω the same sum gives
 // Σ_R R·|i|² = 0: in such a mode every resistor carries neither current
-// nor voltage. passiveAxis propagates what must then vanish (a capacitor
+// nor voltage. axisFree propagates what must then vanish (a capacitor
 // or a single inductor with zero voltage has zero current and the other
 // way round, as ω ≠ 0; a set of coupled inductors with zero currents has
 // zero voltages; KCL at a node whose other branch currents vanish; node
@@ -52,13 +52,16 @@ type passiveVerdict struct {
 	// inductor loop, by structure).
 	zero bool
 	// axisFree: no natural frequency jω with ω ≠ 0 (every unknown is
-	// forced to zero by passiveAxis).
+	// forced to zero by axisFree).
 	axisFree bool
+	// singular: voltage sources alone close a loop, det(G + sC) ≡ 0; the
+	// verdict proves nothing then.
+	singular bool
 }
 
 // strict reports whether the verdict proves every natural frequency in
 // the open left half-plane.
-func (v passiveVerdict) strict() bool { return !v.zero && v.axisFree }
+func (v passiveVerdict) strict() bool { return !v.zero && v.axisFree && !v.singular }
 
 // passiveRole is how a part enters the certificate.
 type passiveRole int
@@ -126,8 +129,7 @@ func passiveCertificate(c *netlist.Circuit, m *mna.Matrices) (passiveVerdict, bo
 	if !ok {
 		return passiveVerdict{}, false
 	}
-	g := newPartGraph(c, m, nil)
-	return passiveVerdict{zero: g.zeroAtDC(roles), axisFree: g.axisFree(c, roles)}, true
+	return newPartGraph(c, m, nil).verdict(c, roles), true
 }
 
 // blockCertificate returns the verdict on one principal diagonal block of
@@ -142,8 +144,13 @@ func blockCertificate(c *netlist.Circuit, m *mna.Matrices, in []bool) (passiveVe
 	if !ok {
 		return passiveVerdict{}, false
 	}
-	g := newPartGraph(c, m, in)
-	return passiveVerdict{zero: g.zeroAtDC(roles), axisFree: g.axisFree(c, roles)}, true
+	return newPartGraph(c, m, in).verdict(c, roles), true
+}
+
+// verdict runs the certificate on the graph.
+func (g *partGraph) verdict(c *netlist.Circuit, roles []passiveRole) passiveVerdict {
+	zero, singular := g.zeroAtDC(roles)
+	return passiveVerdict{zero: zero, singular: singular, axisFree: g.axisFree(c, roles)}
 }
 
 // partGraph is the circuit as a graph: nodes by index (Ground 0), each
@@ -203,8 +210,9 @@ func newPartGraph(c *netlist.Circuit, m *mna.Matrices, in []bool) *partGraph {
 
 // zeroAtDC reports whether s = 0 is a natural frequency: a node with no
 // path to Ground through resistors, inductors and shorts, or a loop of
-// inductors and shorts (union-find, common practice).
-func (g *partGraph) zeroAtDC(roles []passiveRole) bool {
+// inductors and shorts (union-find, common practice); singular reports a
+// loop of shorts alone (det(G + sC) ≡ 0).
+func (g *partGraph) zeroAtDC(roles []passiveRole) (zero, singular bool) {
 	parent := make([]int, g.nodes)
 	for i := range parent {
 		parent[i] = i
@@ -217,18 +225,21 @@ func (g *partGraph) zeroAtDC(roles []passiveRole) bool {
 		}
 		return v
 	}
-	// Shorts first (inductors and voltage sources): a cycle among them is
-	// an inductor loop. Voltage sources alone never close one (mna's
-	// structure check refuses such a loop).
-	for i, e := range g.ends {
-		if e[0] < 0 || (roles[i] != roleInductor && roles[i] != roleShort) {
-			continue
+	// Voltage sources first, then inductors: a cycle the inductors close
+	// is an inductor loop. A cycle of voltage sources alone makes the
+	// pencil singular (mna's structure check refuses it; here it is only
+	// not taken for a root at s = 0).
+	for _, want := range []passiveRole{roleShort, roleInductor} {
+		for i, e := range g.ends {
+			if e[0] < 0 || roles[i] != want {
+				continue
+			}
+			a, b := find(e[0]), find(e[1])
+			if a == b {
+				return want == roleInductor, want == roleShort
+			}
+			parent[a] = b
 		}
-		a, b := find(e[0]), find(e[1])
-		if a == b {
-			return true
-		}
-		parent[a] = b
 	}
 	for i, e := range g.ends {
 		if e[0] >= 0 && roles[i] == roleResistor {
@@ -238,10 +249,10 @@ func (g *partGraph) zeroAtDC(roles []passiveRole) bool {
 	root := find(0)
 	for v := 1; v < g.nodes; v++ {
 		if find(v) != root {
-			return true
+			return true, false
 		}
 	}
-	return false
+	return false, false
 }
 
 // axisFree reports whether the propagation described at the top of this
@@ -293,7 +304,9 @@ func (g *partGraph) axisFree(c *netlist.Circuit, roles []passiveRole) bool {
 		if p := &c.Parts[i]; p.Kind == netlist.Coupling {
 			a, okA := index[p.Coupled[0]]
 			b, okB := index[p.Coupled[1]]
-			if okA && okB && a != b {
+			// An inductor opened in a block (its current outside it) is no
+			// longer coupled: its current is zero and its voltage free.
+			if okA && okB && a != b && roles[a] == roleInductor && roles[b] == roleInductor {
 				join(a, b)
 			}
 		}
