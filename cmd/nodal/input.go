@@ -162,7 +162,7 @@ func probeFor(c *netlist.Circuit, in, out, ref string) (p mna.Probe, name string
 		case c.HasNode("out"):
 			out = "out"
 		default:
-			return mna.Probe{}, "", fmt.Errorf("say which output to analyse with --out NODE, --out i(PART) or a response statement in the file (the circuit has no node named out; nodes: %s)", strings.Join(c.Nodes[1:], ", "))
+			return mna.Probe{}, "", fmt.Errorf("say which output to analyse with --out NODE, --out i(PART) or a response statement in the file (the circuit has no node named out; nodes: %s)", shortList(c.Nodes[1:], maxNamesInMessage))
 		}
 	}
 	r, ok := c.Response(out)
@@ -236,3 +236,16 @@ func (p *probeArgs) system(l *loaded) (*mna.System, error) {
 
 // errUsage marks a usage error discovered after flag parsing.
 var errUsage = errors.New("usage")
+
+// maxNamesInMessage is how many names an error message lists before it
+// says how many more there are.
+const maxNamesInMessage = 20
+
+// shortList joins the first max names with commas and says how many it
+// left out, so a message about a circuit of 10⁵ nodes stays one short line.
+func shortList(names []string, max int) string {
+	if len(names) <= max {
+		return strings.Join(names, ", ")
+	}
+	return fmt.Sprintf("%s … and %d more", strings.Join(names[:max], ", "), len(names)-max)
+}
