@@ -527,7 +527,8 @@ func (w *Sweeper) Eval(s complex128) (h, dh complex128, err error) {
 // range (below it, H is below it too, as with Eval). On the sparse path,
 // while the held pivots pass at both points, the two are refactored and
 // solved in one pass, their operations side by side (sparse_lu_pair.go),
-// which takes less time than two Evals; otherwise it is two Evals. X then
+// a few per cent faster than two Evals on RC ladders of 1,000 and 10,000
+// unknowns (BenchmarkEvalPairLadder); otherwise it is two Evals. X then
 // gives sb's solution.
 func (w *Sweeper) EvalPair(sa, sb complex128) (ha, dha, hb, dhb complex128, errA, errB error) {
 	if sf, ok := w.f.(*sparseLU); ok {
