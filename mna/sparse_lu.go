@@ -640,9 +640,27 @@ func (f *sparseLU) settleFlushes(b, l []float64) (h, dh complex128, done bool) {
 	if len(f.flushes) == 0 {
 		return 0, 0, false
 	}
-	if h, dh, ok := f.underflowed(l); ok {
-		f.flushKept++
-		return h, dh, true
+	weighed := f.weighable()
+	if weighed {
+		f.adjointStart(l)
+		f.adjointSolve()
+	}
+	return f.settleWeighed(b, l, weighed)
+}
+
+// weighable reports whether the flushes of the last solve are to be
+// weighed by the adjoint: there are some, and fewer than maxFlushes.
+func (f *sparseLU) weighable() bool { return len(f.flushes) > 0 && len(f.flushes) < maxFlushes }
+
+// settleWeighed is settleFlushes after the adjoint was solved into f.w3
+// (weighed) or not: the flushed solve is kept when weighed and certainly
+// below the range, else solved again without flushing.
+func (f *sparseLU) settleWeighed(b, l []float64, weighed bool) (h, dh complex128, done bool) {
+	if weighed {
+		if h, dh, ok := f.underflowBound(l); ok {
+			f.flushKept++
+			return h, dh, true
+		}
 	}
 	f.flushRedone++
 	f.flushSkip = flushRetry
@@ -682,16 +700,10 @@ func (f *sparseLU) rhsSteps(b []float64) {
 	}
 }
 
-// underflowed weighs the flushes of the solve for y in f.w (see
-// transfer): it solves the adjoint into f.w3 and reports whether
-// |h| + Σ|change|·|adjoint| is below underflowSure, with h and
-// dh = −aᵀ·(R·C·K)·y.
-func (f *sparseLU) underflowed(l []float64) (h, dh complex128, ok bool) {
-	if len(f.flushes) >= maxFlushes {
-		return 0, 0, false
-	}
-	n, a, w := f.n, f.w3, f.w
-	lp, up, lPos, uIdx, lVal, uVal, dinv := f.lp, f.up, f.lPos, f.uIdx, f.lVal, f.uVal, f.dinv
+// adjointStart sets f.w3 to K·lᵀ in steps, the right-hand side of the
+// adjoint a = A⁻ᵀ·K·lᵀ that weighs a flushed solve (see transfer).
+func (f *sparseLU) adjointStart(l []float64) {
+	a := f.w3
 	clear(a)
 	for i, li := range l {
 		if li != 0 {
@@ -699,8 +711,16 @@ func (f *sparseLU) underflowed(l []float64) (h, dh complex128, ok bool) {
 			a[k] = complex(li*f.scs[k], 0)
 		}
 	}
-	// Uᵀ forward and Lᵀ backward, each entry gathered from the finished
-	// ones (U by columns is Uᵀ by rows), flushed below flushBelow.
+}
+
+// adjointSolve overwrites f.w3 with A⁻ᵀ·f.w3: Uᵀ forward and Lᵀ
+// backward, each entry gathered from the finished ones (U by columns is
+// Uᵀ by rows), flushed below flushBelow; between the two it records in
+// f.sens the intermediate's magnitude at the steps of the back solve's
+// flushes.
+func (f *sparseLU) adjointSolve() {
+	n, a := f.n, f.w3
+	lp, up, lPos, uIdx, lVal, uVal, dinv := f.lp, f.up, f.lPos, f.uIdx, f.lVal, f.uVal, f.dinv
 	for k := 0; k < n; k++ {
 		v := a[k]
 		uv := uVal[up[k]:up[k+1]]
@@ -712,11 +732,7 @@ func (f *sparseLU) underflowed(l []float64) (h, dh complex128, ok bool) {
 		}
 		a[k] = v
 	}
-	for _, fl := range f.flushes {
-		if fl.back {
-			f.sens[fl.k] = mag1(a[fl.k]) // v_k
-		}
-	}
+	f.backSens()
 	for k := n - 1; k >= 0; k-- {
 		v := a[k]
 		lv := lVal[lp[k]:lp[k+1]]
@@ -728,6 +744,24 @@ func (f *sparseLU) underflowed(l []float64) (h, dh complex128, ok bool) {
 		}
 		a[k] = v
 	}
+}
+
+// backSens records in f.sens the magnitude of the adjoint's
+// intermediate v = U⁻ᵀ·K·lᵀ (in f.w3) at the back solve's flushes.
+func (f *sparseLU) backSens() {
+	for _, fl := range f.flushes {
+		if fl.back {
+			f.sens[fl.k] = mag1(f.w3[fl.k]) // v_k
+		}
+	}
+}
+
+// underflowBound reports, from the adjoint in f.w3 (adjointSolve),
+// whether |h| + Σ|change|·|adjoint| over the flushes of the solve for y
+// in f.w is below underflowSure (see transfer), with h and
+// dh = −aᵀ·(R·C·K)·y.
+func (f *sparseLU) underflowBound(l []float64) (h, dh complex128, ok bool) {
+	n, a, w := f.n, f.w3, f.w
 	h = f.dotSteps(l, w)
 	// The bound, scaled by 2⁶⁰⁰ (exact: every flushed magnitude is below
 	// 2⁻¹⁰²²) so that no product underflows.

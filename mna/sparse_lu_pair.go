@@ -168,8 +168,17 @@ func (f *sparseLU) transferPair(g *sparseLU, b, l []float64, sa, sb complex128) 
 	f.rhsSteps(b)
 	g.rhsSteps(b)
 	f.solveFlushedPair(g, f.w, g.w, f.flushTiny(sa), g.flushTiny(sb))
-	ha, dha, doneA := f.settleFlushes(b, l)
-	hb, dhb, doneB := g.settleFlushes(b, l)
+	var doneA, doneB bool
+	if f.weighable() && g.weighable() {
+		f.adjointStart(l)
+		g.adjointStart(l)
+		f.adjointSolvePair(g)
+		ha, dha, doneA = f.settleWeighed(b, l, true)
+		hb, dhb, doneB = g.settleWeighed(b, l, true)
+	} else {
+		ha, dha, doneA = f.settleFlushes(b, l)
+		hb, dhb, doneB = g.settleFlushes(b, l)
+	}
 	if !doneA {
 		ha = f.dotSteps(l, f.w)
 		f.cSteps()
@@ -193,6 +202,26 @@ func (f *sparseLU) transferPair(g *sparseLU, b, l []float64, sa, sb complex128) 
 		dhb = -g.dotSteps(l, g.w2)
 	}
 	return ha, dha, hb, dhb
+}
+
+// adjointSolvePair is f.adjointSolve() and g.adjointSolve() (g f's twin)
+// in one pass.
+func (f *sparseLU) adjointSolvePair(g *sparseLU) {
+	n, lp, up, lPos, uIdx := f.n, f.lp, f.up, f.lPos, f.uIdx
+	aa, ab := f.w3, g.w3
+	lva, uva, lvb, uvb, dia, dib := f.lVal, f.uVal, g.lVal, g.uVal, f.dinv, g.dinv
+	for k := 0; k < n; k++ {
+		u0, u1 := up[k], up[k+1]
+		va, vb := gatherPair(uIdx[u0:u1], uva[u0:u1], uvb[u0:u1], aa, ab, aa[k], ab[k])
+		aa[k], ab[k] = flushed(va*dia[k]), flushed(vb*dib[k])
+	}
+	f.backSens()
+	g.backSens()
+	for k := n - 1; k >= 0; k-- {
+		l0, l1 := lp[k], lp[k+1]
+		va, vb := gatherPair(lPos[l0:l1], lva[l0:l1], lvb[l0:l1], aa, ab, aa[k], ab[k])
+		aa[k], ab[k] = flushed(va), flushed(vb)
+	}
 }
 
 // solveFlushedPair is f.solveFlushed(wa, ta) and g.solveFlushed(wb, tb)
@@ -259,4 +288,23 @@ func subPair(ix []int, xa, xb, va, vb []complex128, ya, yb complex128, a, b bool
 			xb[i] -= vb[t] * yb
 		}
 	}
+}
+
+// flushed is v, or 0 when v is below flushBelow.
+func flushed(v complex128) complex128 {
+	if mag1(v) < flushBelow {
+		return 0
+	}
+	return v
+}
+
+// gatherPair is ya − Σ va[t]·aa[ix[t]] and yb − Σ vb[t]·ab[ix[t]],
+// summed in the order of ix (va and vb as long as ix).
+func gatherPair(ix []int, va, vb, aa, ab []complex128, ya, yb complex128) (complex128, complex128) {
+	va, vb = va[:len(ix)], vb[:len(ix)]
+	for t, i := range ix {
+		ya -= va[t] * aa[i]
+		yb -= vb[t] * ab[i]
+	}
+	return ya, yb
 }
