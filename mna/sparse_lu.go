@@ -82,6 +82,10 @@ type sparseLU struct {
 	// flushKept and flushRedone count the points whose flushed solve was
 	// kept (an underflow) and redone.
 	flushKept, flushRedone int
+
+	// twin holds the second point of a pair (sparse_lu_pair.go), nil
+	// until the first pair.
+	twin *sparseLU
 }
 
 func newSparseLU(o *luOrder) *sparseLU {
@@ -377,18 +381,7 @@ func (f *sparseLU) refactor(s complex128) bool {
 	lVal, uVal := f.lVal, f.uVal
 	gv, cv := p.gv, p.cv
 	sr, si := real(s), imag(s)
-	rmax := srs
-	clear(rmax)
-	for e, k := range aPos {
-		c := cv[e]
-		if m := math.Abs(gv[e]+sr*c) + math.Abs(si*c); m > rmax[k] {
-			rmax[k] = m
-		}
-	}
-	for k, m := range rmax {
-		srs[k] = pow2Inv(m)
-		srinv[k] = 1 / srs[k]
-	}
+	f.stepRowScales(s)
 	for k := 0; k < n; k++ {
 		j := perm[k]
 		e0, e1 := p.colPtr[j], p.colPtr[j+1]
@@ -462,6 +455,24 @@ func (f *sparseLU) refactor(s complex128) bool {
 	return true
 }
 
+// stepRowScales sets the row scales of Y(s) by step (srs, and srinv its
+// inverse) for refactor: one pass over the pencil in the held pattern.
+func (f *sparseLU) stepRowScales(s complex128) {
+	gv, cv, srs := f.p.gv, f.p.cv, f.srs
+	sr, si := real(s), imag(s)
+	clear(srs)
+	for e, k := range f.aPos {
+		c := cv[e]
+		if m := math.Abs(gv[e]+sr*c) + math.Abs(si*c); m > srs[k] {
+			srs[k] = m
+		}
+	}
+	for k, m := range srs {
+		srs[k] = pow2Inv(m)
+		f.srinv[k] = 1 / srs[k]
+	}
+}
+
 // heldPivotFails is the refactorisation's pivot decision at one step:
 // whether the pivot held from the last full factorisation must be given
 // up, because it is not the one full would choose now (the diagonal
@@ -481,17 +492,22 @@ func heldPivotFails(pm, pu, other, diag, bestScaled, colmax float64, n int, diag
 
 // recip is 1/z by Smith's method, the operations of Go's complex
 // division of 1 by a finite non-zero z written out (no call, no checks
-// for infinities), so its value is that of 1/z bit for bit.
+// for infinities), so its value is that of 1/z (a zero part may differ
+// in sign where the ratio underflows: −ratio here, 0 − ratio there).
+//
+// Written for the inliner: |a| < |b| is compared on the bits without the
+// sign (the same order for every value but NaN, which gives NaN on both
+// branches).
 func recip(z complex128) complex128 {
 	a, b := real(z), imag(z)
-	if math.Abs(a) >= math.Abs(b) {
-		ratio := b / a
-		denom := a + ratio*b
-		return complex(1/denom, -ratio/denom)
+	if math.Float64bits(a)<<1 < math.Float64bits(b)<<1 {
+		ratio := a / b
+		denom := b + ratio*a
+		return complex(ratio/denom, -1/denom)
 	}
-	ratio := a / b
-	denom := b + ratio*a
-	return complex(ratio/denom, -1/denom)
+	ratio := b / a
+	denom := a + ratio*b
+	return complex(1/denom, -ratio/denom)
 }
 
 // solveSteps overwrites w, a right-hand side of A(:, perm) in steps
@@ -593,26 +609,69 @@ type flush struct {
 // solved again without flushing (gradual underflow, every digit), as it
 // always is at s = 0.
 func (f *sparseLU) transfer(b, l []float64, s complex128) (h, dh complex128) {
-	tiny := flushBelow
-	if f.flushSkip > 0 || s == 0 {
-		tiny = 0
-		f.flushSkip = max(0, f.flushSkip-1)
-	}
 	f.rhsSteps(b)
-	f.solveFlushed(f.w, tiny)
-	if len(f.flushes) > 0 {
-		if h, dh, ok := f.underflowed(l); ok {
-			f.flushKept++
-			return h, dh
-		}
-		f.flushRedone++
-		f.flushSkip = flushRetry
-		f.rhsSteps(b)
-		f.solveFlushed(f.w, 0)
+	f.solveFlushed(f.w, f.flushTiny(s))
+	if h, dh, ok := f.settleFlushes(b, l); ok {
+		return h, dh
 	}
 	h = f.dotSteps(l, f.w)
-	// w2 = R·C·x in steps, x = K·w column by column (unknown order, as
-	// the dense path sums).
+	f.cSteps()
+	f.solveFlushed(f.w2, 0)
+	return h, -f.dotSteps(l, f.w2)
+}
+
+// flushTiny is the flush bound of transfer's first solve at s: flushBelow,
+// or 0 (no flushing) at s = 0 and for the flushRetry points after a
+// point whose flushed solve was redone.
+func (f *sparseLU) flushTiny(s complex128) float64 {
+	if f.flushSkip > 0 || s == 0 {
+		f.flushSkip = max(0, f.flushSkip-1)
+		return 0
+	}
+	return flushBelow
+}
+
+// settleFlushes decides on the flushes of the solve for y just made in
+// f.w from R·b (see transfer): none, or too many to keep, leave f.w the
+// exact solution (solved again without flushing when something was
+// flushed) and report false; a point certainly below float64's range
+// gives its h and dh and true.
+func (f *sparseLU) settleFlushes(b, l []float64) (h, dh complex128, done bool) {
+	if len(f.flushes) == 0 {
+		return 0, 0, false
+	}
+	weighed := f.weighable()
+	if weighed {
+		f.adjointStart(l)
+		f.adjointSolve()
+	}
+	return f.settleWeighed(b, l, weighed)
+}
+
+// weighable reports whether the flushes of the last solve are to be
+// weighed by the adjoint: there are some, and fewer than maxFlushes.
+func (f *sparseLU) weighable() bool { return len(f.flushes) > 0 && len(f.flushes) < maxFlushes }
+
+// settleWeighed is settleFlushes after the adjoint was solved into f.w3
+// (weighed) or not: the flushed solve is kept when weighed and certainly
+// below the range, else solved again without flushing.
+func (f *sparseLU) settleWeighed(b, l []float64, weighed bool) (h, dh complex128, done bool) {
+	if weighed {
+		if h, dh, ok := f.underflowBound(l); ok {
+			f.flushKept++
+			return h, dh, true
+		}
+	}
+	f.flushRedone++
+	f.flushSkip = flushRetry
+	f.rhsSteps(b)
+	f.solveFlushed(f.w, 0)
+	return 0, 0, false
+}
+
+// cSteps sets f.w2 to R·C·x in steps, x = K·w the solution of the first
+// solve, summed column by column in unknown order as the dense path sums.
+func (f *sparseLU) cSteps() {
 	p, w, w2, srs, scs := f.p, f.w, f.w2, f.srs, f.scs
 	clear(w2)
 	for j := 0; j < f.n; j++ {
@@ -628,8 +687,6 @@ func (f *sparseLU) transfer(b, l []float64, s complex128) (h, dh complex128) {
 			}
 		}
 	}
-	f.solveFlushed(w2, 0)
-	return h, -f.dotSteps(l, w2)
 }
 
 // rhsSteps sets f.w to R·b in steps.
@@ -643,16 +700,10 @@ func (f *sparseLU) rhsSteps(b []float64) {
 	}
 }
 
-// underflowed weighs the flushes of the solve for y in f.w (see
-// transfer): it solves the adjoint into f.w3 and reports whether
-// |h| + Σ|change|·|adjoint| is below underflowSure, with h and
-// dh = −aᵀ·(R·C·K)·y.
-func (f *sparseLU) underflowed(l []float64) (h, dh complex128, ok bool) {
-	if len(f.flushes) >= maxFlushes {
-		return 0, 0, false
-	}
-	n, a, w := f.n, f.w3, f.w
-	lp, up, lPos, uIdx, lVal, uVal, dinv := f.lp, f.up, f.lPos, f.uIdx, f.lVal, f.uVal, f.dinv
+// adjointStart sets f.w3 to K·lᵀ in steps, the right-hand side of the
+// adjoint a = A⁻ᵀ·K·lᵀ that weighs a flushed solve (see transfer).
+func (f *sparseLU) adjointStart(l []float64) {
+	a := f.w3
 	clear(a)
 	for i, li := range l {
 		if li != 0 {
@@ -660,8 +711,16 @@ func (f *sparseLU) underflowed(l []float64) (h, dh complex128, ok bool) {
 			a[k] = complex(li*f.scs[k], 0)
 		}
 	}
-	// Uᵀ forward and Lᵀ backward, each entry gathered from the finished
-	// ones (U by columns is Uᵀ by rows), flushed below flushBelow.
+}
+
+// adjointSolve overwrites f.w3 with A⁻ᵀ·f.w3: Uᵀ forward and Lᵀ
+// backward, each entry gathered from the finished ones (U by columns is
+// Uᵀ by rows), flushed below flushBelow; between the two it records in
+// f.sens the intermediate's magnitude at the steps of the back solve's
+// flushes.
+func (f *sparseLU) adjointSolve() {
+	n, a := f.n, f.w3
+	lp, up, lPos, uIdx, lVal, uVal, dinv := f.lp, f.up, f.lPos, f.uIdx, f.lVal, f.uVal, f.dinv
 	for k := 0; k < n; k++ {
 		v := a[k]
 		uv := uVal[up[k]:up[k+1]]
@@ -673,11 +732,7 @@ func (f *sparseLU) underflowed(l []float64) (h, dh complex128, ok bool) {
 		}
 		a[k] = v
 	}
-	for _, fl := range f.flushes {
-		if fl.back {
-			f.sens[fl.k] = mag1(a[fl.k]) // v_k
-		}
-	}
+	f.backSens()
 	for k := n - 1; k >= 0; k-- {
 		v := a[k]
 		lv := lVal[lp[k]:lp[k+1]]
@@ -689,6 +744,24 @@ func (f *sparseLU) underflowed(l []float64) (h, dh complex128, ok bool) {
 		}
 		a[k] = v
 	}
+}
+
+// backSens records in f.sens the magnitude of the adjoint's
+// intermediate v = U⁻ᵀ·K·lᵀ (in f.w3) at the back solve's flushes.
+func (f *sparseLU) backSens() {
+	for _, fl := range f.flushes {
+		if fl.back {
+			f.sens[fl.k] = mag1(f.w3[fl.k]) // v_k
+		}
+	}
+}
+
+// underflowBound reports, from the adjoint in f.w3 (adjointSolve),
+// whether |h| + Σ|change|·|adjoint| over the flushes of the solve for y
+// in f.w is below underflowSure (see transfer), with h and
+// dh = −aᵀ·(R·C·K)·y.
+func (f *sparseLU) underflowBound(l []float64) (h, dh complex128, ok bool) {
+	n, a, w := f.n, f.w3, f.w
 	h = f.dotSteps(l, w)
 	// The bound, scaled by 2⁶⁰⁰ (exact: every flushed magnitude is below
 	// 2⁻¹⁰²²) so that no product underflows.

@@ -325,7 +325,8 @@ func TestSparseLadderMatchesGolden(t *testing.T) {
 }
 
 // TestSparseSweeperNoAlloc: after the first point, Eval on the sparse
-// path allocates nothing.
+// path allocates nothing, nor does EvalPair after the first pair (which
+// makes the twin).
 func TestSparseSweeperNoAlloc(t *testing.T) {
 	sys, err := Build(rcLadder(t, 200, 1e3, 1e-8), Input{}, Output{Kind: NodeVoltage, Node: "n200"})
 	if err != nil {
@@ -344,6 +345,15 @@ func TestSparseSweeperNoAlloc(t *testing.T) {
 	})
 	if allocs != 0 {
 		t.Errorf("%v allocations per point", allocs)
+	}
+	allocs = testing.AllocsPerRun(100, func() {
+		i += 2
+		if _, _, _, _, err1, err2 := w.EvalPair(complex(0, float64(i)), complex(0, float64(i+1))); err1 != nil || err2 != nil {
+			t.Fatal(err1, err2)
+		}
+	})
+	if allocs != 0 || w.f.(*sparseLU).twin == nil {
+		t.Errorf("%v allocations per pair (twin made: %v)", allocs, w.f.(*sparseLU).twin != nil)
 	}
 }
 

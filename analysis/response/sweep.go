@@ -9,6 +9,7 @@ import (
 	"runtime"
 	"slices"
 	"sync"
+	"sync/atomic"
 
 	"nodal/mna"
 )
@@ -125,40 +126,65 @@ func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int)
 	defer cancel()
 	errs := make([]error, workers)
 	var wg sync.WaitGroup
-	chunk := (n + workers - 1) / workers
 	// One Sweeper makes the symbolic step (order, pivots, L/U patterns)
 	// at the first point; every worker starts from a copy of it.
 	base := mna.NewSweeper(sys)
 	if n > 0 {
 		base.Eval(complex(0, 2*math.Pi*freqsHz[0])) // a singular point is Eval'd again below
 	}
+	// Workers take blocks of consecutive points in turn (sweepBlock, or
+	// fewer so that a short sweep still reaches every worker; a loaded or
+	// slower worker takes fewer blocks), two points per EvalPair. A
+	// point's values do not depend on which worker computes it or on the
+	// points before it (see mna.Sweeper.EvalPair).
+	block := min(sweepBlock, max(2, (n+workers-1)/workers))
+	var next atomic.Int64
 	for w := 0; w < workers; w++ {
-		lo, hi := w*chunk, min(n, (w+1)*chunk)
 		wg.Add(1)
-		go func(w, lo, hi int) {
+		go func(w int) {
 			defer wg.Done()
 			ev := base.Clone()
-			for i := lo; i < hi; i++ {
-				if i%32 == 0 {
-					if err := ctx.Err(); err != nil {
-						errs[w] = err
+			// put stores point i; false when the sweep must stop.
+			put := func(i int, hi, dhi complex128, err error) bool {
+				var se *mna.SingularError
+				switch {
+				case errors.As(err, &se):
+					h[i], dh[i], atPole[i], singular[i] = cmplx.Inf(), complex(math.NaN(), 0), true, err
+				case err != nil:
+					errs[w] = err
+					cancel()
+					return false
+				default:
+					h[i], dh[i] = hi, dhi
+				}
+				return true
+			}
+			for {
+				lo := int(next.Add(int64(block))) - block
+				if lo >= n {
+					return
+				}
+				if err := ctx.Err(); err != nil {
+					errs[w] = err
+					return
+				}
+				hi := min(n, lo+block)
+				for i := lo; i < hi; i += 2 {
+					sa := complex(0, 2*math.Pi*freqsHz[i])
+					if i+1 == hi {
+						ha, dha, err := ev.Eval(sa)
+						if !put(i, ha, dha, err) {
+							return
+						}
+						continue
+					}
+					ha, dha, hb, dhb, errA, errB := ev.EvalPair(sa, complex(0, 2*math.Pi*freqsHz[i+1]))
+					if !put(i, ha, dha, errA) || !put(i+1, hb, dhb, errB) {
 						return
 					}
 				}
-				var err error
-				h[i], dh[i], err = ev.Eval(complex(0, 2*math.Pi*freqsHz[i]))
-				var se *mna.SingularError
-				if errors.As(err, &se) {
-					h[i], dh[i], atPole[i], singular[i] = cmplx.Inf(), complex(math.NaN(), 0), true, err
-					continue
-				}
-				if err != nil {
-					errs[w] = err
-					cancel()
-					return
-				}
 			}
-		}(w, lo, hi)
+		}(w)
 	}
 	wg.Wait()
 	if err := firstError(ctx, errs); err != nil {
@@ -174,6 +200,10 @@ func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int)
 	r := newResponse(InputLabel(sys.Input), OutputLabel(sys.Output), freqsHz, h, dh, atPole, under)
 	return r, nil
 }
+
+// sweepBlock is the largest number of consecutive points a worker of
+// Sweep takes at a time; the context is checked before each block.
+const sweepBlock = 32
 
 // Sum is the response H₁ + H₂ + … of responses over the same frequencies
 // from the same input (a crossover's acoustic sum), labelled output; its

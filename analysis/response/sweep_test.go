@@ -89,21 +89,42 @@ func TestSweepUnwrapsPhase(t *testing.T) {
 	}
 }
 
-// The result does not depend on the worker count, bit for bit.
+// The result does not depend on the worker count, bit for bit, and on
+// the sparse path (a 60-section RC ladder, 62 unknowns, whose points go
+// two per EvalPair in blocks) every point is bit for bit what one
+// Sweeper's Eval gives at it alone: the design claim of Sweep and
+// mna.Sweeper.EvalPair. Point counts: odd, below and above the block.
 func TestSweepWorkerIndependence(t *testing.T) {
-	sys := buildV(t, testcircuit.TowThomas(2, 1e3, 3, 1e5, 1e6), "lp2")
-	freqs := response.LogGrid(10, 1e5, 37)
-	ref, err := response.Sweep(context.Background(), sys, freqs, 1)
-	if err != nil {
-		t.Fatal(err)
-	}
-	for _, w := range []int{2, 3, 7, 1000, 0} {
-		got, err := response.Sweep(context.Background(), sys, freqs, w)
+	ladder := buildV(t, testcircuit.RCLadder(60, 1e3, 10e-9), "n60")
+	for _, tc := range []struct {
+		name  string
+		sys   *mna.System
+		freqs []float64
+	}{
+		{"tow-thomas", buildV(t, testcircuit.TowThomas(2, 1e3, 3, 1e5, 1e6), "lp2"), response.LogGrid(10, 1e5, 37)},
+		{"ladder 37", ladder, response.LogGrid(1, 1e5, 37)},
+		{"ladder 301", ladder, response.LogGrid(1, 1e5, 301)},
+		{"ladder 5", ladder, response.LogGrid(1, 1e5, 5)},
+	} {
+		ref, err := response.Sweep(context.Background(), tc.sys, tc.freqs, 1)
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !reflect.DeepEqual(got, ref) {
-			t.Errorf("workers=%d: result differs from one worker", w)
+		for _, w := range []int{2, 3, 7, 1000, 0} {
+			got, err := response.Sweep(context.Background(), tc.sys, tc.freqs, w)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !reflect.DeepEqual(got, ref) {
+				t.Errorf("%s, workers=%d: result differs from one worker", tc.name, w)
+			}
+		}
+		one := mna.NewSweeper(tc.sys)
+		for i, f := range tc.freqs {
+			h, _, err := one.Eval(complex(0, 2*math.Pi*f))
+			if err != nil || h != ref.H[i] {
+				t.Errorf("%s at %g Hz: Sweep %v, Eval alone %v (%v)", tc.name, f, ref.H[i], h, err)
+			}
 		}
 	}
 }
