@@ -139,3 +139,30 @@ func TestHighGainCascadesMatchClosedForm(t *testing.T) {
 		})
 	}
 }
+
+// TestTankAtResonanceStaysSingular: the componentwise test still finds
+// Y(s) singular where it is: a parallel LC tank (L·10^k, C·10^−k) driven
+// by a current, at s = j/√(LC), is a pole on the jω axis on both paths
+// (a *SingularError), and 10⁻⁴ off it the impedance is the closed form
+// Z = 1/(sC + 1/(sL)) (common practice) to 1e-9.
+func TestTankAtResonanceStaysSingular(t *testing.T) {
+	gnd := netlist.Ground
+	for _, k := range []int{-15, -9, -3, 0, 3, 9, 12} {
+		f := math.Pow(10, float64(k))
+		l, c := 10e-3*f, 10e-9/f
+		circ := testcircuit.New(testcircuit.I("I1", "a", gnd, 1), testcircuit.L("L1", "a", gnd, l), testcircuit.C("C1", "a", gnd, c))
+		sys := build(t, circ, mna.Input{}, "a", "")
+		w0 := 1 / math.Sqrt(l*c)
+		for name, w := range map[string]*mna.Sweeper{"sparse": mna.NewSparseSweeper(sys), "dense": mna.NewDenseSweeper(sys)} {
+			if _, _, err := w.Eval(complex(0, w0)); err == nil {
+				t.Errorf("k=%d %s: no error at resonance, want a singular system", k, name)
+			}
+			s := complex(0, w0*(1+1e-4))
+			h, _, err := w.Eval(s)
+			want := 1 / (s*complex(c, 0) + 1/(s*complex(l, 0)))
+			if err != nil || relDiffC(h, want) > 1e-9 {
+				t.Errorf("k=%d %s off resonance: %v (%v), want %v", k, name, h, err, want)
+			}
+		}
+	}
+}
