@@ -384,13 +384,17 @@ func normInf(v []float64) float64 {
 }
 
 // balance returns row and column scale factors (powers of two) that bring
-// the rows and columns of |g| + |c| to a largest entry near 1.
+// the rows and columns of |g| + |c| to a largest entry near 1: max-
+// balancing sweeps started from the least-squares balancing (LogBalance),
+// so that the result does not depend on the units of the values (a
+// start at 1 leaves it to the sweeps, whose fixed point is not unique).
 func balance(g, c *mat.Dense) (rs, ks []float64) {
 	n, _ := g.Dims()
 	rs = make([]float64, n)
 	ks = make([]float64, n)
+	re, ce, _ := LogBalance(g, c, false)
 	for i := range rs {
-		rs[i], ks[i] = 1, 1
+		rs[i], ks[i] = math.Ldexp(1, re[i]), math.Ldexp(1, ce[i])
 	}
 	mag := func(i, j int) float64 { return math.Abs(g.At(i, j)) + math.Abs(c.At(i, j)) }
 	for sweep := 0; sweep < 4; sweep++ {
