@@ -12,10 +12,11 @@ import "math"
 // Threshold partial pivoting: in column k (unknown perm[k]) the diagonal
 // row is kept while its magnitude is at least pivotKeep times the
 // largest candidate's, else the largest is taken; magnitudes are those
-// before row equilibration, as in the dense path, and a pivot has
-// vanished when the largest equilibrated candidate is at most
-// pivotTol·n times the column's largest entry (see Numerical
-// conventions in DEVELOPERS.md).
+// before row equilibration, as in the dense path, and whether a pivot
+// has vanished is decided by pivotVanished (solve.go): a candidate small
+// beside the column's largest entry is only suspect, and full judges it
+// by the componentwise test (dropRounding); refactor hands a suspect
+// pivot to full (see Numerical conventions in DEVELOPERS.md).
 //
 // The first factorisation (full) fixes the pivot rows and the patterns of
 // L and U; every later frequency only refactors: the same operations on
