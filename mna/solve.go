@@ -38,6 +38,7 @@ type luFactor struct {
 	rinv   []float64    // 1/rs of the rows in their current (exchanged) order, for factor
 	w      []complex128 // scratch: a right-hand side in elimination positions
 	rows   []int        // scratch: rows below the pivot with a non-zero in its column
+	am     []float64    // with factor's track: |A| + |L|·|U| by position, allocated on first use
 
 	pat []patEntry // the non-zeros of G and C, fixed when the factor is made
 	p   *pencil
@@ -92,18 +93,10 @@ func newLUFactor(o *luOrder) *luFactor {
 // column is at the level of rounding error.
 const pivotTol = 4 * 2.220446049250313e-16
 
-// The pivot decision of both LU paths lives in the two functions below
-// (and heldPivotFails of sparse_lu.go, which composes them for the
-// refactorisation): every factorisation asks them, none repeats their
-// rule.
-
-// pivotVanished is the judgement of a vanished pivot in a column of an
-// n-unknown system: its largest candidate, equilibrated (bestScaled), is
-// zero or at most pivotTol·n times the column's largest entry before
-// elimination (colmax).
-func pivotVanished(bestScaled, colmax float64, n int) bool {
-	return bestScaled == 0 || bestScaled <= pivotTol*float64(n)*colmax
-}
+// The pivot decision of both LU paths lives in pivotVanished and
+// keepDiagonal below (and heldPivotFails of sparse_lu.go, which composes
+// them for the refactorisation): every factorisation asks them, none
+// repeats their rule.
 
 // keepDiagonal is the threshold rule: the diagonal candidate, of
 // magnitude diag before equilibration (negative when the column has
@@ -183,13 +176,58 @@ func pow2Inv(m float64) float64 {
 	return math.Float64frombits((2045-math.Float64bits(m)>>52)<<52) * scale
 }
 
+// pivotVanished is the one rule by which both LU paths decide that the
+// elimination of a column left no pivot, so that Y(s) is numerically
+// singular there (a pole on the jω axis for a sweep). best is the largest
+// candidate magnitude of the column after elimination and colmax its
+// largest entry before it, both equilibrated; n is the system's size.
+//
+// A candidate above pivotTol·n·colmax is a pivot. A smaller one is only
+// suspect: a chain of gains makes exact pivots many decades below their
+// column's entries (twenty stages of gain 100: 10⁻⁴⁰), and so do values
+// of 10⁻¹⁵ Ω beside 10¹² F. rounding then decides, scale-invariantly:
+// it zeroes every candidate whose magnitude is at most tol times the
+// magnitudes of the terms it was computed from, |A_ij| + Σ_k |L_ik|·|U_kj|
+// (the componentwise bound on the rounding error of Gaussian elimination,
+// |ΔA| ≤ γ_n·|L̂|·|Û|: Higham, Accuracy and Stability of Numerical
+// Algorithms, 2nd ed., 2002, Theorem 9.3), chooses the pivot again among
+// the others, and reports whether none is left. A nil rounding (a
+// refactorisation, which cannot choose again) counts a suspect pivot as
+// vanished, so that a full factorisation with pivot search redoes the
+// point.
+func pivotVanished(best, colmax float64, n int, rounding func(tol float64) bool) bool {
+	tol := pivotTol * float64(n)
+	switch {
+	case best == 0:
+		return true
+	case best > tol*colmax:
+		return false
+	case rounding == nil:
+		return true
+	}
+	return rounding(tol)
+}
+
 // factor runs Gaussian elimination with partial pivoting in place. It
 // skips zero multipliers and zero entries of the pivot row, so a sparse
 // MNA matrix costs far less than n³. On a vanished pivot it returns the
-// index of its column (unknown), else -1.
-func (f *luFactor) factor() int {
+// index of its column (unknown), else -1. With track, it also keeps in
+// am the magnitudes |A| + |L|·|U| that pivotVanished's componentwise test
+// reads; without, a suspect pivot returns needTrack (factorAt then
+// factors again with track).
+func (f *luFactor) factor(track bool) int {
 	n, a := f.n, f.a
 	f.lRow, f.lVal, f.uCol = f.lRow[:0], f.lVal[:0], f.uCol[:0]
+	var am []float64
+	if track {
+		if len(f.am) != n*n {
+			f.am = make([]float64, n*n)
+		}
+		am = f.am
+		for i, z := range a {
+			am[i] = mag1(z)
+		}
+	}
 	for k := 0; k < n; k++ {
 		f.lStart[k], f.uStart[k] = len(f.lRow), len(f.uCol)
 		// One pass down column k: the pivot candidate and the rows
@@ -199,21 +237,19 @@ func (f *luFactor) factor() int {
 		// is exactly that of the unscaled matrix, scaled by powers of
 		// two; the vanished-pivot judgement uses the equilibrated
 		// magnitudes.
-		diag := mag1(a[k*n+k])
-		p, best, bestScaled := k, diag*f.rinv[k], diag
-		rows := f.rows[:0]
-		for i := k + 1; i < n; i++ {
-			if z := a[i*n+k]; z != 0 {
-				rows = append(rows, i)
-				m := mag1(z)
-				bestScaled = math.Max(bestScaled, m)
-				if m*f.rinv[i] > best {
-					p, best = i, m*f.rinv[i]
-				}
+		diag, p, best, bestScaled, rows := f.candidates(k)
+		suspect := false
+		if pivotVanished(bestScaled, f.colmax[k], n, func(tol float64) bool {
+			suspect = true
+			return !track || f.dropRounding(k, tol)
+		}) {
+			if suspect && !track {
+				return needTrack
 			}
-		}
-		if pivotVanished(bestScaled, f.colmax[k], n) {
 			return k
+		}
+		if suspect {
+			diag, p, best, bestScaled, rows = f.candidates(k)
 		}
 		diag *= f.rinv[k]
 		if keepDiagonal(diag, best) {
@@ -228,6 +264,12 @@ func (f *luFactor) factor() int {
 			rk, rp := a[k*n+k:k*n+n], a[p*n+k:p*n+n]
 			for j := range rk {
 				rk[j], rp[j] = rp[j], rk[j]
+			}
+			if track {
+				mk, mp := am[k*n+k:k*n+n], am[p*n+k:p*n+n]
+				for j := range mk {
+					mk[j], mp[j] = mp[j], mk[j]
+				}
 			}
 			f.rinv[k], f.rinv[p] = f.rinv[p], f.rinv[k]
 			for r, i := range rows {
@@ -260,11 +302,60 @@ func (f *luFactor) factor() int {
 			for _, j := range nz {
 				ri[j] -= l * rowk[j]
 			}
+			if track {
+				ml, mi := mag1(l), am[i*n:i*n+n]
+				for _, j := range nz {
+					mi[j] += ml * mag1(rowk[j])
+				}
+			}
 		}
 	}
 	f.lStart[n], f.uStart[n] = len(f.lRow), len(f.uCol)
 	return -1
 }
+
+// candidates scans column k from the diagonal down: the diagonal's
+// magnitude, the rule's pivot p (the largest magnitude before
+// equilibration) and its magnitude best, the largest equilibrated
+// magnitude bestScaled, and the rows below the diagonal with a non-zero.
+func (f *luFactor) candidates(k int) (diag float64, p int, best, bestScaled float64, rows []int) {
+	n, a := f.n, f.a
+	diag = mag1(a[k*n+k])
+	p, best, bestScaled = k, diag*f.rinv[k], diag
+	rows = f.rows[:0]
+	for i := k + 1; i < n; i++ {
+		if z := a[i*n+k]; z != 0 {
+			rows = append(rows, i)
+			m := mag1(z)
+			bestScaled = math.Max(bestScaled, m)
+			if m*f.rinv[i] > best {
+				p, best = i, m*f.rinv[i]
+			}
+		}
+	}
+	return diag, p, best, bestScaled, rows
+}
+
+// dropRounding zeroes the entries of column k, from the diagonal down,
+// that are rounding error by pivotVanished's componentwise test against
+// the tracked magnitudes am, and reports whether none is left.
+func (f *luFactor) dropRounding(k int, tol float64) bool {
+	n, a, am := f.n, f.a, f.am
+	left := false
+	for i := k; i < n; i++ {
+		if z := a[i*n+k]; z != 0 {
+			if mag1(z) <= tol*am[i*n+k] {
+				a[i*n+k] = 0
+			} else {
+				left = true
+			}
+		}
+	}
+	return !left
+}
+
+// needTrack is factor's answer to a suspect pivot met without tracking.
+const needTrack = -2
 
 // solve overwrites x (indexed by unknown) with Y⁻¹x using the
 // factorisation.
@@ -351,10 +442,16 @@ func (f *luFactor) clone() factorizer {
 }
 
 // factorAt assembles and factors Y(s); a vanished pivot gives the index
-// of its unknown, else -1.
+// of its unknown, else -1. A suspect pivot (see pivotVanished) has the
+// point factored again with the componentwise magnitudes tracked.
 func (f *luFactor) factorAt(s complex128) int {
 	f.assemble(s)
-	if k := f.factor(); k >= 0 {
+	k := f.factor(false)
+	if k == needTrack {
+		f.assemble(s)
+		k = f.factor(true)
+	}
+	if k >= 0 {
 		return f.perm[k]
 	}
 	return -1

@@ -50,8 +50,9 @@ const (
 	searchCandidates = 4  // Ritz values refined per shift
 	searchBackward   = 1e-12
 	searchAxisMargin = 1e-6
-	searchRounds     = 10    // most factorisations of the Rayleigh quotient iteration
-	searchConverged  = 1e-13 // it stops when λ moves by at most this, relative
+	searchRounds     = 10                         // most factorisations of the Rayleigh quotient iteration
+	searchConverged  = 1e-13                      // it stops when λ moves by at most this, relative
+	searchRounding   = 64 * 2.220446049250313e-16 // or when its backward error is at rounding level
 )
 
 // search is what searchUnstable found in one block.
@@ -339,7 +340,13 @@ func (o *blockOperator) refine(lam complex128, x []complex128) (complex128, floa
 				return 0, 0, false
 			}
 		}
-		settled = cmplx.Abs(lam-prev) <= searchConverged*cmplx.Abs(lam)
+		// Settled when λ stops moving, or when (λ, x) is already an exact
+		// eigenpair of a pencil within rounding of G, C (backward error at
+		// the level of ε): an ill-conditioned root then wanders by its
+		// condition times ε from round to round and would never stop
+		// moving, though nothing better is to be had.
+		settled = cmplx.Abs(lam-prev) <= searchConverged*cmplx.Abs(lam) ||
+			o.backwardError(lam, x) <= searchRounding
 	}
 	ok := settled && !cmplx.IsNaN(lam) && !cmplx.IsInf(lam)
 	return lam, o.backwardError(lam, x), ok

@@ -7,7 +7,6 @@ import (
 	"math/cmplx"
 	"slices"
 
-	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"nodal/analysis/transfer"
@@ -178,118 +177,29 @@ func snapOrigin(roots []complex128, multiplicity func() int) {
 
 // equilibrate returns D1·a·D2, ω0·D1·e·D2 and ω0 (rad/s per scaled unit),
 // with D1, D2 diagonal and ω0 powers of two (exact in floating point),
-// chosen first by the least-squares balancing of Ward ("Balancing the
-// generalized eigenvalue problem", SIAM J. Sci. Stat. Comput. 2, 1981):
-// row scales r, column scales c and the frequency scale w minimise
-//
-//	Σ_{a_ij ≠ 0} (log₂|a_ij| + r_i + c_j)² + Σ_{e_ij ≠ 0} (log₂|e_ij| + r_i + c_j + w)²,
-//
-// so that every non-zero entry of both matrices is as near 1 as a diagonal
-// scaling allows, then by max-balancing sweeps (balanced). The minimiser
-// of that sum is unique up to r + t, c − t, which leaves the scaled
-// matrices unchanged, so a diagonal scaling of the input (impedance
-// scaling) shifts r and c and leaves the result unchanged up to the
-// rounding of the exponents to integers; ω0 = 2^w is the pencil's own
-// frequency scale (1/RC for one RC section), not that of its largest
-// entry. When a or e is zero, ω0 = 1.
+// chosen first by Ward's least-squares balancing (transfer.LogBalance,
+// with the frequency scale), so that every non-zero entry of both
+// matrices is as near 1 as a diagonal scaling allows, then by
+// max-balancing sweeps (balanced). A diagonal scaling of the input
+// (impedance scaling) leaves the result unchanged up to the rounding of
+// the exponents to integers; ω0 is the pencil's own frequency scale
+// (1/RC for one RC section), not that of its largest entry. When a or e
+// is zero, ω0 = 1.
 func equilibrate(a, e *mat.Dense) (as, es *mat.Dense, w0 float64) {
 	n, _ := a.Dims()
-	type entry struct {
-		i, j int
-		l    float64 // log₂ |value|
-		dyn  bool    // an entry of e
-	}
-	var ents []entry
-	var na, ne int
-	for _, m := range []struct {
-		x   *mat.Dense
-		dyn bool
-	}{{a, false}, {e, true}} {
-		raw := m.x.RawMatrix()
-		for i := 0; i < n; i++ {
-			for j, v := range raw.Data[i*raw.Stride : i*raw.Stride+n] {
-				if v != 0 {
-					ents = append(ents, entry{i, j, math.Log2(math.Abs(v)), m.dyn})
-					if m.dyn {
-						ne++
-					} else {
-						na++
-					}
-				}
-			}
-		}
-	}
-	withW := na > 0 && ne > 0
-	// Unknowns x = (r_0 … r_{n−1}, c_0 … c_{n−1}, w); the normal equations
-	// JᵀJ·x = −Jᵀℓ (J has a row per entry with ones at r_i, c_j and, for
-	// an entry of e, w) are solved by conjugate gradients, matrix-free.
-	dim := 2*n + 1
-	apply := func(x, out []float64) {
-		clear(out)
-		for _, t := range ents {
-			y := x[t.i] + x[n+t.j]
-			if t.dyn && withW {
-				y += x[2*n]
-			}
-			out[t.i] += y
-			out[n+t.j] += y
-			if t.dyn && withW {
-				out[2*n] += y
-			}
-		}
-	}
-	b := make([]float64, dim)
-	for _, t := range ents {
-		b[t.i] -= t.l
-		b[n+t.j] -= t.l
-		if t.dyn && withW {
-			b[2*n] -= t.l
-		}
-	}
-	x := conjugateGradient(apply, b, 1e-10, 10*dim)
+	r, c, w := transfer.LogBalance(a, e, true)
 	as, es = mat.DenseCopyOf(a), mat.DenseCopyOf(e)
-	w0 = 1
-	if withW {
-		w0 = math.Ldexp(1, int(math.Round(x[2*n])))
-	}
+	w0 = math.Ldexp(1, w)
 	ra, re := as.RawMatrix(), es.RawMatrix()
 	for i := 0; i < n; i++ {
 		for j := 0; j < n; j++ {
 			k := i*ra.Stride + j
-			f := int(math.Round(x[i]) + math.Round(x[n+j]))
-			ra.Data[k] = math.Ldexp(ra.Data[k], f)
-			re.Data[k] = math.Ldexp(re.Data[k], f) * w0
+			ra.Data[k] = math.Ldexp(ra.Data[k], r[i]+c[j])
+			re.Data[k] = math.Ldexp(re.Data[k], r[i]+c[j]) * w0
 		}
 	}
 	balanced(as, es)
 	return as, es, w0
-}
-
-// conjugateGradient solves the symmetric positive semidefinite system
-// apply(x) = b from x = 0 (for a consistent b, the solution of least
-// norm) until the residual is below tol·‖b‖ or after maxIter steps
-// (Hestenes and Stiefel, J. Res. Nat. Bur. Standards 49, 1952).
-func conjugateGradient(apply func(x, out []float64), b []float64, tol float64, maxIter int) []float64 {
-	x := make([]float64, len(b))
-	r := slices.Clone(b)
-	p := slices.Clone(b)
-	ap := make([]float64, len(b))
-	rr := floats.Dot(r, r)
-	stop := tol * tol * rr
-	for it := 0; it < maxIter && rr > stop; it++ {
-		apply(p, ap)
-		pap := floats.Dot(p, ap)
-		if pap <= 0 {
-			break
-		}
-		alpha := rr / pap
-		floats.AddScaled(x, alpha, p)
-		floats.AddScaled(r, -alpha, ap)
-		next := floats.Dot(r, r)
-		floats.AddScaledTo(p, r, next/rr, p)
-		rr = next
-	}
-	return x
 }
 
 // balanced scales, in place, the rows and columns of a and e (already

@@ -184,7 +184,7 @@ func pickCols(m *mat.Dense, idx []int) *mat.Dense {
 
 // eigenvaluesShifted returns the eigenvalues of the reduced pencil by
 // shift-and-invert with the real shift sigma, or errBadShift.
-func (p reducedPencil) eigenvaluesShifted(sigma float64, relaxed bool) ([]complex128, error) {
+func (p reducedPencil) eigenvaluesShifted(sigma float64, level shiftLevel) ([]complex128, error) {
 	if p.a == nil {
 		return nil, nil
 	}
@@ -194,7 +194,7 @@ func (p reducedPencil) eigenvaluesShifted(sigma float64, relaxed bool) ([]comple
 	x.Add(x, p.a)
 	var lu mat.LU
 	lu.Factorize(x)
-	if !shiftAccepted(&lu, relaxed) {
+	if !shiftAccepted(&lu, level) {
 		return nil, errBadShift
 	}
 	var m mat.Dense
@@ -228,9 +228,9 @@ func finiteEigenvaluesTol(a, e *mat.Dense, shifts []float64, aTol float64) ([]co
 	if err != nil {
 		return nil, err
 	}
-	for _, relaxed := range []bool{false, true} {
+	for _, level := range shiftLevels {
 		for _, sigma := range shifts {
-			roots, err := p.eigenvaluesShifted(sigma, relaxed)
+			roots, err := p.eigenvaluesShifted(sigma, level)
 			if errors.Is(err, errBadShift) {
 				continue
 			}
@@ -240,24 +240,45 @@ func finiteEigenvaluesTol(a, e *mat.Dense, shifts []float64, aTol float64) ([]co
 	return nil, errSingularPencil
 }
 
+// shiftLevel is how ill conditioned a shifted matrix may be and still
+// be used: each level is tried on every shift before the next.
+type shiftLevel int
+
+const (
+	// strictShift: a condition estimate of at most maxShiftCond.
+	strictShift shiftLevel = iota
+	// relaxedShift: at most relaxedShiftCond.
+	relaxedShift
+	// anyShift: any finite condition estimate. A chain of gains is as ill
+	// conditioned as its gain (twenty stages of gain 100: 10⁴⁰) at every
+	// shift and still factors stably with partial pivoting (the sweep's
+	// componentwise pivot test, mna's pivotVanished, judges such a
+	// matrix regular).
+	anyShift
+)
+
+// shiftLevels are the levels in the order they are tried.
+var shiftLevels = [...]shiftLevel{strictShift, relaxedShift, anyShift}
+
 // shiftAccepted reports whether the factored shifted matrix x may be
-// used: strictly, when its condition estimate is at most maxShiftCond;
-// relaxed (when no shift passes strictly), when it is at most
-// relaxedShiftCond. A circuit with a wide gain spread (fifteen gain
-// stages, 10¹⁵ from input to output) has matrices that ill conditioned
-// at every shift and still factors stably, as the sweep's pivot rule
-// says; the check of the extracted H against direct solves
-// (verifyExtraction) judges the result, and a circuit singular at every
-// check frequency is ErrSingularSystem there.
-func shiftAccepted(lu *mat.LU, relaxed bool) bool {
+// used at the given level (see shiftLevel). A circuit with a wide gain
+// spread (fifteen gain stages, 10¹⁵ from input to output) has matrices
+// that ill conditioned at every shift and still factors stably, as the
+// sweep's pivot rule says; the check of the extracted H against direct
+// solves (verifyExtraction) judges the result, and a circuit singular at
+// every check frequency is ErrSingularSystem there.
+func shiftAccepted(lu *mat.LU, level shiftLevel) bool {
 	c := lu.Cond()
 	if math.IsInf(c, 0) || math.IsNaN(c) {
 		return false
 	}
-	if !relaxed {
+	switch level {
+	case strictShift:
 		return c <= maxShiftCond
+	case relaxedShift:
+		return c <= relaxedShiftCond
 	}
-	return c <= relaxedShiftCond
+	return true
 }
 
 // relaxedShiftCond: the largest condition estimate of a shifted matrix

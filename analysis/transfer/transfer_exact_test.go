@@ -3,6 +3,7 @@ package transfer
 import (
 	"errors"
 	"math"
+	"math/cmplx"
 	"testing"
 
 	"nodal/mna"
@@ -67,14 +68,22 @@ func TestTinyGainsAndHighQ(t *testing.T) {
 		sys := testcircuit.Build(t, testcircuit.New(testcircuit.I("Iin", "t", "gnd", 1), testcircuit.R("Rp", "t", "gnd", r),
 			testcircuit.L("L1", "t", "gnd", l), testcircuit.C("C1", "t", "gnd", c)), mna.Output{Kind: mna.NodeVoltage, Node: "t"})
 		tf := mustExtract(t, sys)
-		// Z = (s/C)/(s² + s/(RC) + 1/(LC)); Q = R·√(C/L).
-		re := -1 / (2 * r * c)
-		p := complex(re, math.Sqrt(1/(l*c)-re*re))
-		if len(tf.Poles) != 2 || relErr(tf.Poles[0], p) > 1e-9 || math.Abs(real(tf.Poles[0])-re) > 1e-6*math.Abs(re) {
+		// Z = (s/C)/(s² + s/(RC) + 1/(LC)) (common practice): poles
+		// s = −ω0/(2Q) ± jω0·√(1 − 1/(4Q²)) with ω0 = 1/√(LC),
+		// Q = R·√(C/L); gain (leading coefficient ratio) 1/C. The real
+		// part, 1.7e-8 of |s|, must be right to 1e-9 of itself, not of |s|.
+		w0, q0 := 1/math.Sqrt(l*c), r*math.Sqrt(c/l)
+		re := -w0 / (2 * q0)
+		p := complex(re, w0*math.Sqrt(1-1/(4*q0*q0)))
+		if len(tf.Poles) != 2 || relErr(tf.Poles[0], p) > 1e-9 || math.Abs(real(tf.Poles[0])-re) > 1e-9*math.Abs(re) ||
+			tf.Poles[1] != cmplx.Conj(tf.Poles[0]) {
 			t.Fatalf("poles %v, want %v and its conjugate", tf.Poles, p)
 		}
-		if q := tf.PolePairs()[0].Q; math.Abs(q-r*math.Sqrt(c/l)) > 1e-6*q {
-			t.Errorf("Q = %g, want %g", q, r*math.Sqrt(c/l))
+		if q := tf.PolePairs()[0].Q; math.Abs(q-q0) > 1e-9*q0 {
+			t.Errorf("Q = %.12g, want %.12g", q, q0)
+		}
+		if math.Abs(tf.Gain-1/c) > 1e-9/c {
+			t.Errorf("gain %.12g, want %.12g", tf.Gain, 1/c)
 		}
 		if len(tf.Zeros) != 1 || tf.Zeros[0] != 0 {
 			t.Errorf("zeros %v, want [0]", tf.Zeros)

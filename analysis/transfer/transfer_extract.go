@@ -384,13 +384,17 @@ func normInf(v []float64) float64 {
 }
 
 // balance returns row and column scale factors (powers of two) that bring
-// the rows and columns of |g| + |c| to a largest entry near 1.
+// the rows and columns of |g| + |c| to a largest entry near 1: max-
+// balancing sweeps started from the least-squares balancing (LogBalance),
+// so that the result does not depend on the units of the values (a
+// start at 1 leaves it to the sweeps, whose fixed point is not unique).
 func balance(g, c *mat.Dense) (rs, ks []float64) {
 	n, _ := g.Dims()
 	rs = make([]float64, n)
 	ks = make([]float64, n)
+	re, ce, _ := LogBalance(g, c, false)
 	for i := range rs {
-		rs[i], ks[i] = 1, 1
+		rs[i], ks[i] = math.Ldexp(1, re[i]), math.Ldexp(1, ce[i])
 	}
 	mag := func(i, j int) float64 { return math.Abs(g.At(i, j)) + math.Abs(c.At(i, j)) }
 	for sweep := 0; sweep < 4; sweep++ {
@@ -432,13 +436,13 @@ func pow2Inv(m float64) float64 {
 // stable reports whether the refinement step left H unchanged to 1e-3
 // relative (and non-zero): a genuine tiny H is computed stably, while a
 // value that is rounding of a cancellation moves by its own size.
-func (s *scaledSystem) evalAtShift(sigma float64, relaxed bool) (h, scale, norm float64, stable, ok bool) {
+func (s *scaledSystem) evalAtShift(sigma float64, level shiftLevel) (h, scale, norm float64, stable, ok bool) {
 	x := mat.NewDense(s.n, s.n, nil)
 	x.Scale(sigma, s.c)
 	x.Add(x, s.g)
 	var lu mat.LU
 	lu.Factorize(x)
-	if !shiftAccepted(&lu, relaxed) {
+	if !shiftAccepted(&lu, level) {
 		return 0, 0, 0, false, false
 	}
 	var v mat.VecDense
@@ -557,10 +561,10 @@ func (s *scaledSystem) evalDC() (float64, bool) {
 func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 	// H at a well-conditioned shift (used for the gain).
 	sigma, hSig, hScale, hNorm, hStable := 0.0, 0.0, 0.0, 0.0, false
-	found, relaxed := false, false
-	for _, relaxed = range []bool{false, true} {
+	found, level := false, strictShift
+	for _, level = range shiftLevels {
 		for _, f := range shiftFactors {
-			if h, sc, nm, st, ok := s.evalAtShift(f, relaxed); ok {
+			if h, sc, nm, st, ok := s.evalAtShift(f, level); ok {
 				sigma, hSig, hScale, hNorm, hStable, found = f, h, sc, nm, st, true
 				break
 			}
@@ -579,7 +583,7 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 			if f == sigma {
 				continue
 			}
-			if h, sc, _, _, ok := s.evalAtShift(f, relaxed); ok {
+			if h, sc, _, _, ok := s.evalAtShift(f, level); ok {
 				zero = sc == 0 || math.Abs(h) <= nullGainTol*sc
 				if !zero {
 					sigma, hSig = f, h

@@ -17,18 +17,30 @@ import (
 // lossy: passive, hence stable) with optional unity-gain buffers (ideal
 // op-amp followers, which keep stability: they only isolate) driven from
 // node n0, and returns it with one of its nodes to read. Values span
-// several decades.
+// several decades, and the whole circuit is impedance-scaled by 10^k,
+// k uniform in [−12, 12] (R, L times 10^k, C divided by it: the same
+// H(s), common practice), so that no decision may depend on the units.
 func randomStableCircuit(rng *rand.Rand, order int) (*netlist.Circuit, string) {
 	parts := []netlist.Part{testcircuit.V("Vin", "n0", "gnd", 1)}
 	val := func(lo, decades float64) float64 { return lo * math.Pow(10, decades*rng.Float64()) }
+	imp := math.Pow(10, 24*rng.Float64()-12)
 	nodes := []string{"n0"}
 	stores := 0
 	for k := 1; stores < order; k++ {
 		prev := nodes[rng.IntN(len(nodes))]
 		node := fmt.Sprintf("n%d", k)
 		if rng.IntN(5) == 0 {
-			// A buffer: its output is a new node driven from prev.
-			parts = append(parts, testcircuit.OpAmp(fmt.Sprintf("U%d", k), prev, node, node, 0, 0, 0))
+			// A buffer: its output is a new node driven from prev, a
+			// follower or a non-inverting amplifier of gain 2 to 100
+			// (ideal op-amps: they only isolate and amplify).
+			if rng.IntN(2) == 0 {
+				parts = append(parts, testcircuit.OpAmp(fmt.Sprintf("U%d", k), prev, node, node, 0, 0, 0))
+			} else {
+				fb, ra := node+"f", val(1e3, 2)
+				parts = append(parts, testcircuit.OpAmp(fmt.Sprintf("U%d", k), prev, fb, node, 0, 0, 0),
+					testcircuit.R(fmt.Sprintf("Ra%d", k), fb, "gnd", ra),
+					testcircuit.R(fmt.Sprintf("Rb%d", k), fb, node, ra*val(1, 2)))
+			}
 			nodes = append(nodes, node)
 			continue
 		}
@@ -49,6 +61,14 @@ func randomStableCircuit(rng *rand.Rand, order int) (*netlist.Circuit, string) {
 			stores += 2
 		}
 		nodes = append(nodes, node)
+	}
+	for i := range parts {
+		switch parts[i].Kind {
+		case netlist.Resistor, netlist.Inductor:
+			parts[i].Value *= imp
+		case netlist.Capacitor:
+			parts[i].Value /= imp
+		}
 	}
 	return testcircuit.New(parts...), nodes[1+rng.IntN(len(nodes)-1)]
 }
