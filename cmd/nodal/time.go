@@ -8,9 +8,11 @@ import (
 	"nodal/cmd/nodal/notation"
 	"strconv"
 
+	"nodal/analysis/reduce"
 	"nodal/analysis/response"
 	"nodal/analysis/timeresp"
 	"nodal/analysis/transfer"
+	"nodal/analysis/transient"
 	"nodal/cmd/nodal/plot"
 	"nodal/netlist/syntax"
 )
@@ -73,8 +75,16 @@ func (c *timeCmd) run(e *env, kind string) error {
 	if err != nil {
 		return err
 	}
-	tf, err := transfer.Extract(sys)
-	if err != nil {
+	// Above the reduced-model size the response comes from the verified
+	// reduced model transfer gives (time_reduced.go).
+	var model *reduce.Model
+	var tf *transfer.TransferFunction
+	if sys.Size() > reducedAboveUnknowns {
+		if model, err = timeReducedModel(e, l, sys); err != nil {
+			return err
+		}
+		tf = model.TF
+	} else if tf, err = transfer.Extract(sys); err != nil {
 		return err
 	}
 	opt := timeresp.TimeOptions{Points: c.Points}
@@ -101,6 +111,15 @@ func (c *timeCmd) run(e *env, kind string) error {
 	if err != nil {
 		return err
 	}
+	// Samples that no independent computation confirmed (a reduced
+	// model's, or the matrix exponential's without partial fractions to
+	// compare with) are held to the integration of the full circuit.
+	var chk *transient.Result
+	if model != nil || r.IllConditioned {
+		if chk, err = checkTimeResponse(e, sys, r); err != nil {
+			return err
+		}
+	}
 	stab, err := circuitStability(l)
 	if err != nil {
 		return err
@@ -117,6 +136,10 @@ func (c *timeCmd) run(e *env, kind string) error {
 		case "json":
 			doc := timeDoc(r)
 			doc.Stability = stab.Class.String()
+			if model != nil {
+				doc.ReducedModel = newReducedJSON(model)
+			}
+			doc.TimeCheck = newTimeCheckJSON(chk)
 			return writeJSON(w, doc)
 		case "csv":
 			cw := csv.NewWriter(w)
@@ -132,13 +155,18 @@ func (c *timeCmd) run(e *env, kind string) error {
 			return cw.Error()
 		}
 		warnStability(e.stderr, stab)
-		return timeTable(w, r, sys.Input.Source, response.OutputLabel(sys.Output))
+		return timeTable(w, r, sys.Input.Source, response.OutputLabel(sys.Output), model, chk)
 	})
 }
 
 // timeTable prints the closed form, the figures and the samples.
-func timeTable(w io.Writer, r *timeresp.TimeResponse, in, out string) error {
-	fmt.Fprintf(w, "%s response of %s to a unit %s of %s\n\n", r.Kind, out, r.Kind, in)
+func timeTable(w io.Writer, r *timeresp.TimeResponse, in, out string, model *reduce.Model, chk *transient.Result) error {
+	fmt.Fprintf(w, "%s response of %s to a unit %s of %s\n", r.Kind, out, r.Kind, in)
+	timeReducedStatement(w, model, chk)
+	fmt.Fprintln(w)
+	if model != nil && len(r.Modes) > 0 {
+		fmt.Fprintln(w, "closed form of the reduced model (its poles near and past the top of the verified range are the model's own):")
+	}
 	fmt.Fprintln(w, closedFormText(r))
 	if r.Unstable {
 		fmt.Fprintln(w, "\nthe circuit is UNSTABLE: poles in the right half-plane or repeated on the jω axis:")

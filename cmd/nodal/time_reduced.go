@@ -1,0 +1,81 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io"
+
+	"nodal/analysis/reduce"
+	"nodal/analysis/timeresp"
+	"nodal/analysis/transient"
+	"nodal/cmd/nodal/notation"
+	"nodal/mna"
+)
+
+// timeReducedModel is the reduced model a time response of a circuit
+// above reducedAboveUnknowns is computed from: the one transfer verifies,
+// over the same default range.
+func timeReducedModel(e *env, l *loaded, sys *mna.System) (*reduce.Model, error) {
+	from, to, err := exploreRange(e, l, sys, 0)
+	if err != nil {
+		return nil, err
+	}
+	m, err := reduce.Reduce(e.ctx, sys, reduce.Options{FromHz: from, ToHz: to})
+	if err != nil {
+		if errors.Is(err, reduce.ErrNotVerified) {
+			return nil, fmt.Errorf("time response of %d unknowns: %w; no samples are printed that were not verified", sys.Size(), err)
+		}
+		return nil, fmt.Errorf("time response of %d unknowns (reduced model): %w", sys.Size(), err)
+	}
+	return m, nil
+}
+
+// checkTimeResponse holds the samples of r to the time-domain
+// integration of the full circuit (analysis/transient) and refuses them,
+// with the figures, when they disagree or cannot be checked.
+func checkTimeResponse(e *env, sys *mna.System, r *timeresp.TimeResponse) (*transient.Result, error) {
+	chk, err := transient.Check(e.ctx, sys, r, transient.Options{})
+	if err != nil {
+		return nil, fmt.Errorf("%s response of %d unknowns: %w; nothing is printed that nodal cannot stand behind", r.Kind, sys.Size(), err)
+	}
+	return chk, nil
+}
+
+// timeReducedStatement says where the samples come from and how they
+// were checked (the reduced model may be nil: the full extraction).
+func timeReducedStatement(w io.Writer, m *reduce.Model, chk *transient.Result) {
+	if m != nil {
+		fmt.Fprintf(w, "from a reduced model of order %d (of %d unknowns: Krylov projection, PRIMA-style, at %d expansion points),\n"+
+			"verified against direct solves at %d frequencies over %s–%s within %s dB and %s°, realized as a cascade and\n"+
+			"exponentiated (the final value is the circuit's DC gain from a direct solve).\n",
+			m.Order, m.Unknowns, len(m.Expansions), m.CheckPoints, notation.Eng(m.FromHz, "Hz"), notation.Eng(m.ToHz, "Hz"),
+			trimFloat(m.MaxErrDB, 2), trimFloat(m.MaxErrDeg, 2))
+	}
+	if chk != nil {
+		fmt.Fprintf(w, "Samples checked at %d times against the integration of the full circuit (C·x′ + G·x = B·u, TR-BDF2 with\n"+
+			"Richardson extrapolation, %d steps): largest difference %s of the response's scale %s (tolerance %s; the\n"+
+			"integration's own error estimate %s).\n",
+			chk.Checked, chk.Steps, trimFloat(chk.MaxDiff, 2), num(chk.Scale), trimFloat(chk.Tol, 2), trimFloat(chk.MaxIntErr, 2))
+	}
+}
+
+// timeCheckJSON is, in a time document, how the samples were checked
+// against the integration of the full circuit.
+type timeCheckJSON struct {
+	Method       string  `json:"method"`
+	Checked      int     `json:"checked_times"`
+	Steps        int     `json:"steps"`
+	Scale        float64 `json:"scale"`
+	MaxDiff      float64 `json:"max_difference"`
+	AtS          float64 `json:"at_s"`
+	Tol          float64 `json:"tolerance"`
+	IntegrationE float64 `json:"integration_error_estimate"`
+}
+
+func newTimeCheckJSON(c *transient.Result) *timeCheckJSON {
+	if c == nil {
+		return nil
+	}
+	return &timeCheckJSON{Method: "TR-BDF2 with Richardson extrapolation on the full sparse system", Checked: c.Checked, Steps: c.Steps,
+		Scale: c.Scale, MaxDiff: c.MaxDiff, AtS: c.AtS, Tol: c.Tol, IntegrationE: c.MaxIntErr}
+}
