@@ -13,7 +13,7 @@ import (
 // DefaultTol is the largest difference allowed between a response's
 // samples and the integration of the full system, relative to the
 // response's scale (the larger of |final value| and the largest |y| of
-// the samples).
+// the full system at the checked times).
 const DefaultTol = 1e-4
 
 // DefaultMaxChecked is the largest number of sample times checked; a
@@ -47,7 +47,8 @@ type Result struct {
 	// values there, Full the integration's (extrapolated).
 	TimesS, Samples, Full []float64
 	Checked               int
-	// Scale is max(|final value|, largest |y| of the samples).
+	// Scale is max(|final value|, largest |y| of the full system at the
+	// checked times).
 	Scale float64
 	// MaxDiff is the largest |sample − full| over the checked times
 	// divided by Scale, at AtS (s).
@@ -61,6 +62,7 @@ type Result struct {
 	Steps int
 	// Agree reports MaxDiff ≤ Tol.
 	Agree bool
+	errs  []float64 // the integration's error estimate at each time
 }
 
 // ErrDisagree means the samples differ from the full system's
@@ -73,9 +75,9 @@ var ErrNotResolved = errors.New("the time-domain integration of the full circuit
 
 // Check integrates the full system sys (TR-BDF2 with Richardson
 // extrapolation, see the package doc) for the kind of r (a unit step or
-// a unit impulse, its Dirac term excluded) and compares r's samples at
-// up to opt.MaxChecked of their times t > 0 (evenly chosen, the last
-// included). It refines the integration (halving every step) until its
+// a unit impulse, its Dirac term r.Dirac excluded) and compares r's
+// samples at up to opt.MaxChecked of their times t > 0 (evenly chosen,
+// the last included) and at t = 0 when r has a sample there (y(0⁺)). It refines the integration (halving every step) until its
 // error estimate is within integrationShare of the tolerance. The error
 // is ErrDisagree, with the figures, when a sample is off by more than the
 // tolerance, and ErrNotResolved when the integration cannot be resolved
@@ -94,14 +96,9 @@ func Check(ctx context.Context, sys *mna.System, r *timeresp.TimeResponse, opt O
 		return nil, errors.New("time-domain check: no samples to check")
 	}
 	res := &Result{Tol: opt.Tol}
-	for _, p := range r.Points {
-		res.Scale = math.Max(res.Scale, math.Abs(p.Y))
-	}
-	if r.Metrics.Final != nil {
-		res.Scale = math.Max(res.Scale, math.Abs(*r.Metrics.Final))
-	}
 	pts := r.Points
-	if pts[0].TS == 0 {
+	atZero := pts[0].TS == 0
+	if atZero {
 		pts = pts[1:]
 	}
 	k := (len(pts) + opt.MaxChecked - 1) / opt.MaxChecked
@@ -109,30 +106,27 @@ func Check(ctx context.Context, sys *mna.System, r *timeresp.TimeResponse, opt O
 	for i := len(pts) - 1; i >= 0; i -= k {
 		idx = append([]int{i}, idx...)
 	}
-	for _, i := range idx {
-		res.TimesS = append(res.TimesS, pts[i].TS)
-		res.Samples = append(res.Samples, pts[i].Y)
+	times := make([]float64, len(idx))
+	for j, i := range idx {
+		times[j] = pts[i].TS
 	}
-	res.Checked = len(idx)
-	if err := checkTimes(res.TimesS); err != nil {
+	if err := checkTimes(times); err != nil {
 		return nil, err
-	}
-	if res.Scale == 0 {
-		res.Scale = math.SmallestNonzeroFloat64
 	}
 	impulse := r.Kind == "impulse"
 	it := newIntegrator(sys, impulse)
-	sub := max(gradeRepeat, (400+res.Checked-1)/res.Checked)
-	steps := mesh(res.TimesS, sub, impulse)
-	var coarse []float64
+	it.dirac = r.Dirac
+	sub := max(gradeRepeat, (400+len(times)-1)/len(times))
+	steps := mesh(times, sub, impulse)
+	var coarse *coarseRun
 	for {
-		in, fine, err := it.richardson(ctx, res.TimesS, steps, coarse)
+		in, fine, err := it.richardson(ctx, times, steps, coarse)
 		if err != nil {
 			return nil, err
 		}
-		res.Full, res.Steps = in.Y, in.Steps
+		res.fill(in, r, atZero)
 		res.MaxIntErr = 0
-		for _, e := range in.ErrEst {
+		for _, e := range res.errs {
 			res.MaxIntErr = math.Max(res.MaxIntErr, e/res.Scale)
 		}
 		if res.MaxIntErr <= integrationShare*opt.Tol {
@@ -146,10 +140,50 @@ func Check(ctx context.Context, sys *mna.System, r *timeresp.TimeResponse, opt O
 	}
 	res.compare()
 	if !res.Agree {
-		return res, fmt.Errorf("%w: at t = %.4g s the samples differ from it by %.2g of the response's scale (%.6g against %.6g; tolerance %.2g)",
-			ErrDisagree, res.AtS, res.MaxDiff, res.sampleAt(res.AtS), res.fullAt(res.AtS), opt.Tol)
+		return res, fmt.Errorf("%w: at t = %.4g s the sample is %.6g, the full circuit gives %.6g, off by %.2g of the response's scale %.4g (tolerance %.2g)",
+			ErrDisagree, res.AtS, res.sampleAt(res.AtS), res.fullAt(res.AtS), res.MaxDiff, res.Scale, opt.Tol)
 	}
 	return res, nil
+}
+
+// fill sets the times, samples, full values and their error estimates
+// (t = 0 first when r has it: y(0⁺)), Checked, Steps and Scale: the
+// larger of |final value| and the largest |y| of the full system.
+func (res *Result) fill(in *Integration, r *timeresp.TimeResponse, atZero bool) {
+	res.TimesS, res.Samples, res.Full, res.errs = nil, nil, nil, nil
+	if atZero {
+		res.TimesS = append(res.TimesS, 0)
+		res.Samples = append(res.Samples, r.Points[0].Y)
+		res.Full = append(res.Full, in.Y0)
+		res.errs = append(res.errs, in.Err0)
+	}
+	res.TimesS = append(res.TimesS, in.TimesS...)
+	res.Full = append(res.Full, in.Y...)
+	res.errs = append(res.errs, in.ErrEst...)
+	for _, t := range in.TimesS {
+		res.Samples = append(res.Samples, sampleAt(r, t))
+	}
+	res.Checked, res.Steps = len(res.TimesS), in.Steps
+	res.Scale = 0
+	for _, y := range res.Full {
+		res.Scale = math.Max(res.Scale, math.Abs(y))
+	}
+	if r.Metrics.Final != nil {
+		res.Scale = math.Max(res.Scale, math.Abs(*r.Metrics.Final))
+	}
+	if res.Scale == 0 || math.IsNaN(res.Scale) {
+		res.Scale = math.SmallestNonzeroFloat64
+	}
+}
+
+// sampleAt is r's sample at time t (one of its sample times).
+func sampleAt(r *timeresp.TimeResponse, t float64) float64 {
+	for _, p := range r.Points {
+		if p.TS == t {
+			return p.Y
+		}
+	}
+	return math.NaN()
 }
 
 // compare sets MaxDiff, AtS and Agree.

@@ -57,13 +57,16 @@ func TestIntegrateLadderGolden(t *testing.T) {
 			want    []float64
 		}{{false, lad.Step}, {true, lad.Impulse}} {
 			t.Run(fmt.Sprintf("%d/impulse=%v", lad.Sections, tc.impulse), func(t *testing.T) {
-				in, err := Integrate(context.Background(), sys, tc.impulse, lad.TS[1:], 16)
+				in, err := Integrate(context.Background(), sys, tc.impulse, 0, lad.TS[1:], 16)
 				if err != nil {
 					t.Fatal(err)
 				}
 				scale := 0.0
 				for _, y := range tc.want {
 					scale = math.Max(scale, math.Abs(y))
+				}
+				if math.Abs(in.Y0-tc.want[0]) > 2e-6*scale || in.Err0 > 1e-6*scale {
+					t.Errorf("y(0+) = %.3g ± %.2g, reference %.3g", in.Y0, in.Err0, tc.want[0])
 				}
 				for k, y := range in.Y {
 					d := math.Abs(y - tc.want[k+1])
@@ -115,7 +118,7 @@ func TestCheckRefusesWrongModel(t *testing.T) {
 					if err != nil {
 						t.Fatalf("%s: %v", kind, err)
 					}
-					if res.MaxDiff > 1e-6 || res.Checked != 50 {
+					if res.MaxDiff > 1e-6 || res.Checked != 51 { // t = 0 and 50 more
 						t.Errorf("%s: difference %.2g at %d times", kind, res.MaxDiff, res.Checked)
 					}
 					continue
@@ -133,7 +136,7 @@ func TestCheckRefusesWrongModel(t *testing.T) {
 func TestIntegrateBadTimes(t *testing.T) {
 	sys := testcircuit.Build(t, testcircuit.RCLadder(3, 1e3, 10e-9), mna.Output{Kind: mna.NodeVoltage, Node: "n3"})
 	for _, ts := range [][]float64{nil, {0, 1}, {2, 1}, {1, 1}, {1, math.Inf(1)}, {math.NaN()}} {
-		if _, err := Integrate(context.Background(), sys, false, ts, 8); !errors.Is(err, ErrBadTimes) {
+		if _, err := Integrate(context.Background(), sys, false, 0, ts, 8); !errors.Is(err, ErrBadTimes) {
 			t.Errorf("%v: %v", ts, err)
 		}
 	}

@@ -37,6 +37,7 @@ type integrator struct {
 	solvers map[float64]*mna.ShiftSolver
 	work    []complex128
 	impulse bool
+	dirac   float64 // the impulse response's δ weight, taken off y(0⁺)
 }
 
 func newIntegrator(sys *mna.System, impulse bool) *integrator {
@@ -129,8 +130,10 @@ func mesh(times []float64, sub int, impulse bool) []meshStep {
 }
 
 // run integrates over the steps and returns y at the end of each target
-// step; a step that ends on target k is taken to end at times[k].
-func (it *integrator) run(ctx context.Context, times []float64, steps []meshStep) ([]float64, error) {
+// step (a step that ends on target k is taken to end at times[k]) and y
+// at the end of the first step, less the Dirac weight dirac's share of
+// it (dirac/h for an impulse).
+func (it *integrator) run(ctx context.Context, times []float64, steps []meshStep, dirac float64) ([]float64, float64, error) {
 	n := it.sys.Size()
 	x := make([]float64, n)
 	xg := make([]float64, n)
@@ -141,11 +144,11 @@ func (it *integrator) run(ctx context.Context, times []float64, steps []meshStep
 	if it.impulse {
 		u = 0
 	}
-	t := 0.0
+	t, y0 := 0.0, 0.0
 	for k, st := range steps {
 		if k%64 == 0 {
 			if err := ctx.Err(); err != nil {
-				return nil, err
+				return nil, 0, err
 			}
 		}
 		h := st.h
@@ -164,7 +167,7 @@ func (it *integrator) run(ctx context.Context, times []float64, steps []meshStep
 				r[i] += b * bu
 			}
 			if err := it.solve(1/h, r); err != nil {
-				return nil, err
+				return nil, 0, err
 			}
 			copy(x, r)
 		} else {
@@ -181,7 +184,7 @@ func (it *integrator) run(ctx context.Context, times []float64, steps []meshStep
 				r[i] *= sigma
 			}
 			if err := it.solve(sigma, r); err != nil {
-				return nil, err
+				return nil, 0, err
 			}
 			copy(xg, r)
 			// BDF2 stage: (C + dhG)·x₁ = C·(x_γ − (1−γ)²·x)/(γ(2−γ)) + dh·B·u.
@@ -198,23 +201,34 @@ func (it *integrator) run(ctx context.Context, times []float64, steps []meshStep
 				r[i] *= sigma
 			}
 			if err := it.solve(sigma, r); err != nil {
-				return nil, err
+				return nil, 0, err
 			}
 			copy(x, r)
 		}
 		t += h
+		if k == 0 {
+			y0 = it.output(x)
+			if it.impulse {
+				y0 -= dirac / h
+			}
+		}
 		if st.target >= 0 {
 			t = times[st.target]
-			y := 0.0
-			for i, l := range it.sys.L {
-				if l != 0 {
-					y += l * x[i]
-				}
-			}
-			ys[st.target] = y
+			ys[st.target] = it.output(x)
 		}
 	}
-	return ys, nil
+	return ys, y0, nil
+}
+
+// output is y = L·x.
+func (it *integrator) output(x []float64) float64 {
+	y := 0.0
+	for i, l := range it.sys.L {
+		if l != 0 {
+			y += l * x[i]
+		}
+	}
+	return y
 }
 
 // halved is the mesh with every step split in two.
@@ -235,11 +249,16 @@ func halved(steps []meshStep) []meshStep {
 // extrapolated value at TimesS[k] (s) and ErrEst[k] ≥ 0 the size of the
 // difference of the two integrations behind it divided by 3, an estimate
 // of the error of the finer one (the extrapolated value is expected to be
-// closer still). Steps is the number of steps of the finer integration.
+// closer still). Y0 is y(0⁺), extrapolated linearly from the ends of the
+// first steps of the two integrations (h₀ and h₀/2, about 10⁻⁹ of the
+// first gap), the Dirac term excluded, with Err0 the size of their
+// difference. Steps is the number of steps of the finer integration.
 type Integration struct {
 	TimesS []float64
 	Y      []float64
 	ErrEst []float64
+	Y0     float64
+	Err0   float64
 	Steps  int
 }
 
@@ -253,11 +272,14 @@ var ErrBadTimes = errors.New("time-domain integration: the times must be positiv
 // steps in each gap between consecutive times (at least gradeRepeat) on
 // the coarser of the two meshes. The impulse response excludes any Dirac
 // term at t = 0 (the times are positive).
-func Integrate(ctx context.Context, sys *mna.System, impulse bool, times []float64, sub int) (*Integration, error) {
+// dirac is the weight of the impulse response's δ(t) (H(∞)), taken off
+// Y0.
+func Integrate(ctx context.Context, sys *mna.System, impulse bool, dirac float64, times []float64, sub int) (*Integration, error) {
 	if err := checkTimes(times); err != nil {
 		return nil, err
 	}
 	it := newIntegrator(sys, impulse)
+	it.dirac = dirac
 	steps := mesh(times, max(sub, gradeRepeat), impulse)
 	out, _, err := it.richardson(ctx, times, steps, nil)
 	return out, err
@@ -280,23 +302,32 @@ func checkTimes(times []float64) error {
 // nil, is the run on steps already made) and returns the extrapolated
 // values and the run on the halved steps, the coarse run of the next
 // refinement.
-func (it *integrator) richardson(ctx context.Context, times []float64, steps []meshStep, coarse []float64) (*Integration, []float64, error) {
-	var err error
+func (it *integrator) richardson(ctx context.Context, times []float64, steps []meshStep, coarse *coarseRun) (*Integration, *coarseRun, error) {
 	if coarse == nil {
-		if coarse, err = it.run(ctx, times, steps); err != nil {
+		ys, y0, err := it.run(ctx, times, steps, it.dirac)
+		if err != nil {
 			return nil, nil, err
 		}
+		coarse = &coarseRun{ys, y0}
 	}
 	fineSteps := halved(steps)
-	fine, err := it.run(ctx, times, fineSteps)
+	fine, fine0, err := it.run(ctx, times, fineSteps, it.dirac)
 	if err != nil {
 		return nil, nil, err
 	}
-	out := &Integration{TimesS: times, Y: make([]float64, len(times)), ErrEst: make([]float64, len(times)), Steps: len(fineSteps)}
+	out := &Integration{TimesS: times, Y: make([]float64, len(times)), ErrEst: make([]float64, len(times)), Steps: len(fineSteps),
+		Y0: 2*fine0 - coarse.y0, Err0: math.Abs(fine0 - coarse.y0)}
 	for k := range times {
-		d := (fine[k] - coarse[k]) / 3
+		d := (fine[k] - coarse.ys[k]) / 3
 		out.Y[k] = fine[k] + d
 		out.ErrEst[k] = math.Abs(d)
 	}
-	return out, fine, nil
+	return out, &coarseRun{fine, fine0}, nil
+}
+
+// coarseRun is one integration's values at the times and after its
+// first step.
+type coarseRun struct {
+	ys []float64
+	y0 float64
 }
