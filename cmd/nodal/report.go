@@ -282,7 +282,7 @@ func fillResponse(e *env, l *loaded, q tfRequest, d *report.Data, rr reportRun, 
 		return nil, 0, 0, err
 	}
 	d.PoleZero = report.Plot{Figure: pz, Caption: "pole-zero map (× poles, ○ zeros), rad/s"}
-	if st, err := reportStep(h); err == nil {
+	if st, err := reportStep(e, r); err == nil {
 		d.Step = st
 	} else {
 		d.Notes = append(d.Notes, responsePrefix(d)+"No step response: "+err.Error())
@@ -346,9 +346,9 @@ func addStabilitySections(l *loaded, d *report.Data) error {
 	return nil
 }
 
-// reportStep computes the step response section.
-func reportStep(h *transfer.TransferFunction) (*report.Step, error) {
-	sr, err := timeresp.Step(h, timeresp.TimeOptions{Points: 400})
+// reportStep computes the step response section (checkedStep).
+func reportStep(e *env, r *tfResult) (*report.Step, error) {
+	sr, err := checkedStep(e.ctx, r.sys, r.tf, timeresp.TimeOptions{Points: 400})
 	if err != nil {
 		return nil, err
 	}

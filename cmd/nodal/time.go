@@ -116,7 +116,7 @@ func (c *timeCmd) run(e *env, kind string) error {
 	// compare with) are held to the integration of the full circuit.
 	var chk *transient.Result
 	if model != nil || r.IllConditioned {
-		if chk, err = checkTimeResponse(e, sys, r); err != nil {
+		if chk, err = checkTimeResponse(e.ctx, sys, r); err != nil {
 			return err
 		}
 	}

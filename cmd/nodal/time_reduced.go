@@ -1,12 +1,14 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
 
 	"nodal/analysis/reduce"
 	"nodal/analysis/timeresp"
+	"nodal/analysis/transfer"
 	"nodal/analysis/transient"
 	"nodal/cmd/nodal/notation"
 	"nodal/mna"
@@ -33,8 +35,8 @@ func timeReducedModel(e *env, l *loaded, sys *mna.System) (*reduce.Model, error)
 // checkTimeResponse holds the samples of r to the time-domain
 // integration of the full circuit (analysis/transient) and refuses them,
 // with the figures, when they disagree or cannot be checked.
-func checkTimeResponse(e *env, sys *mna.System, r *timeresp.TimeResponse) (*transient.Result, error) {
-	chk, err := transient.Check(e.ctx, sys, r, transient.Options{})
+func checkTimeResponse(ctx context.Context, sys *mna.System, r *timeresp.TimeResponse) (*transient.Result, error) {
+	chk, err := transient.Check(ctx, sys, r, transient.Options{})
 	if err != nil {
 		return nil, fmt.Errorf("%s response of %d unknowns: %w; nothing is printed that nodal cannot stand behind", r.Kind, sys.Size(), err)
 	}
@@ -78,4 +80,19 @@ func newTimeCheckJSON(c *transient.Result) *timeCheckJSON {
 	}
 	return &timeCheckJSON{Method: "TR-BDF2 with Richardson extrapolation on the full sparse system", Checked: c.Checked, Steps: c.Steps,
 		Scale: c.Scale, MaxDiff: c.MaxDiff, AtS: c.AtS, Tol: c.Tol, IntegrationE: c.MaxIntErr}
+}
+
+// checkedStep is the step response of tf (the transfer function of sys)
+// for report and tune: when its samples are the matrix exponential's
+// alone (no partial fractions to compare them with) they are held to
+// the integration of the full circuit, and a disagreement is the error.
+func checkedStep(ctx context.Context, sys *mna.System, tf *transfer.TransferFunction, opt timeresp.TimeOptions) (*timeresp.TimeResponse, error) {
+	r, err := timeresp.Step(tf, opt)
+	if err != nil || !r.IllConditioned {
+		return r, err
+	}
+	if _, err := checkTimeResponse(ctx, sys, r); err != nil {
+		return nil, err
+	}
+	return r, nil
 }

@@ -127,3 +127,38 @@ func TestTimeReducedLadderGolden(t *testing.T) {
 		}
 	}
 }
+
+// TestTimeHighOrderChecked: the 200-section ladder (202 unknowns, full
+// extraction) has no partial-fraction form at either end (at n1 its
+// residues overflow, where the samples used to be empty with exit 0):
+// the matrix exponential's samples are given, every one of them, and
+// they pass the integration of the full circuit.
+func TestTimeHighOrderChecked(t *testing.T) {
+	file := ladderFile(t, 200)
+	for _, out := range []string{"n1", "n200"} {
+		r := runNodal(t, "", "time", file, "--out", out, "--points", "21", "--format", "json")
+		if r.code != 0 {
+			t.Fatalf("%s: exit %d: %s", out, r.code, r.stderr)
+		}
+		var doc struct {
+			Metrics struct {
+				Final *float64 `json:"final"`
+			} `json:"metrics"`
+			Points       []struct{ Y float64 } `json:"points"`
+			ReducedModel *json.RawMessage      `json:"reduced_model"`
+			TimeCheck    *struct {
+				Checked int     `json:"checked_times"`
+				MaxDiff float64 `json:"max_difference"`
+			} `json:"time_check"`
+		}
+		if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
+			t.Fatal(err)
+		}
+		if len(doc.Points) != 21 || doc.ReducedModel != nil || doc.TimeCheck == nil || doc.TimeCheck.Checked != 21 || !(doc.TimeCheck.MaxDiff <= 1e-4) {
+			t.Errorf("%s: %d points, reduced %v, check %+v", out, len(doc.Points), doc.ReducedModel != nil, doc.TimeCheck)
+		}
+		if doc.Metrics.Final == nil || *doc.Metrics.Final != 1 {
+			t.Errorf("%s: final value %v, want exactly 1", out, doc.Metrics.Final)
+		}
+	}
+}
