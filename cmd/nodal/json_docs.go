@@ -83,6 +83,9 @@ type timeJSON struct {
 	// integration of the full circuit (when they were).
 	ReducedModel *reducedJSON   `json:"reduced_model,omitempty"`
 	TimeCheck    *timeCheckJSON `json:"time_check,omitempty"`
+	// ReducedRefused says why a reduced model's samples were refused
+	// when those shown are the full extraction's instead.
+	ReducedRefused string `json:"reduced_model_refused,omitempty"`
 }
 
 // modeJSON is one term t^power·e^(σt)·(cos·cos ωt + sin·sin ωt).

@@ -99,24 +99,25 @@ func (c *timeCmd) run(e *env, kind string) error {
 	if c.Points < 2 || c.Points > maxPoints {
 		return fmt.Errorf("--points must be between 2 and %d", maxPoints)
 	}
-	var r *timeresp.TimeResponse
-	if kind == "step" {
-		r, err = timeresp.Step(tf, opt)
-	} else {
-		r, err = timeresp.Impulse(tf, opt)
-	}
-	if errors.Is(err, timeresp.ErrNoTimeScale) {
-		return fmt.Errorf("%w with --until T", err)
-	}
+	r, err := timeSamples(tf, kind, opt)
 	if err != nil {
 		return err
 	}
 	// Samples that no independent computation confirmed (a reduced
 	// model's, or the matrix exponential's without partial fractions to
-	// compare with) are held to the integration of the full circuit.
+	// compare with) are held to the integration of the full circuit;
+	// a reduced model's that fail are replaced by the full extraction's
+	// where it can be made (fullTimeFallback).
 	var chk *transient.Result
+	var refused error
 	if model != nil || r.IllConditioned {
-		if chk, err = checkTimeResponse(e.ctx, sys, r); err != nil {
+		chk, err = checkTimeResponse(e.ctx, sys, r)
+		if err != nil && model != nil && errors.Is(err, transient.ErrDisagree) {
+			if r2, chk2, ok := fullTimeFallback(e, sys, kind, opt); ok {
+				refused, r, chk, model, err = errors.Unwrap(err), r2, chk2, nil, nil
+			}
+		}
+		if err != nil {
 			return err
 		}
 	}
@@ -139,6 +140,9 @@ func (c *timeCmd) run(e *env, kind string) error {
 			if model != nil {
 				doc.ReducedModel = newReducedJSON(model)
 			}
+			if refused != nil {
+				doc.ReducedRefused = refused.Error()
+			}
 			doc.TimeCheck = newTimeCheckJSON(chk)
 			return writeJSON(w, doc)
 		case "csv":
@@ -155,13 +159,16 @@ func (c *timeCmd) run(e *env, kind string) error {
 			return cw.Error()
 		}
 		warnStability(e.stderr, stab)
-		return timeTable(w, r, sys.Input.Source, response.OutputLabel(sys.Output), model, chk)
+		return timeTable(w, r, sys.Input.Source, response.OutputLabel(sys.Output), model, chk, refused)
 	})
 }
 
 // timeTable prints the closed form, the figures and the samples.
-func timeTable(w io.Writer, r *timeresp.TimeResponse, in, out string, model *reduce.Model, chk *transient.Result) error {
+func timeTable(w io.Writer, r *timeresp.TimeResponse, in, out string, model *reduce.Model, chk *transient.Result, refused error) error {
 	fmt.Fprintf(w, "%s response of %s to a unit %s of %s\n", r.Kind, out, r.Kind, in)
+	if refused != nil {
+		fmt.Fprintf(w, "The reduced model's samples were refused (%v);\nthese are from the full extraction of the transfer function.\n", refused)
+	}
 	timeReducedStatement(w, model, chk)
 	fmt.Fprintln(w)
 	if model != nil && len(r.Modes) > 0 {

@@ -96,3 +96,41 @@ func checkedStep(ctx context.Context, sys *mna.System, tf *transfer.TransferFunc
 	}
 	return r, nil
 }
+
+// timeSamples is the step or impulse response of tf.
+func timeSamples(tf *transfer.TransferFunction, kind string, opt timeresp.TimeOptions) (*timeresp.TimeResponse, error) {
+	var r *timeresp.TimeResponse
+	var err error
+	if kind == "step" {
+		r, err = timeresp.Step(tf, opt)
+	} else {
+		r, err = timeresp.Impulse(tf, opt)
+	}
+	if errors.Is(err, timeresp.ErrNoTimeScale) {
+		return nil, fmt.Errorf("%w with --until T", err)
+	}
+	return r, err
+}
+
+// fullTimeFallback is the response from the full extraction of the
+// system (at most transfer.MaxExtractUnknowns unknowns), held to the
+// integration of the full circuit like the reduced model's: ok is false
+// when it cannot be made or fails the check too.
+func fullTimeFallback(e *env, sys *mna.System, kind string, opt timeresp.TimeOptions) (*timeresp.TimeResponse, *transient.Result, bool) {
+	if sys.Size() > transfer.MaxExtractUnknowns {
+		return nil, nil, false
+	}
+	tf, err := transfer.Extract(sys)
+	if err != nil {
+		return nil, nil, false
+	}
+	r, err := timeSamples(tf, kind, opt)
+	if err != nil {
+		return nil, nil, false
+	}
+	chk, err := checkTimeResponse(e.ctx, sys, r)
+	if err != nil {
+		return nil, nil, false
+	}
+	return r, chk, true
+}
