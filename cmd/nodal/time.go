@@ -44,6 +44,14 @@ their poles, and get no settling figures.
 For an impulse: where H(s) is proper but not strictly proper the response
 holds a Dirac term δ(t), which is named with its weight, not sampled.
 
+Above 300 unknowns the response comes from the verified reduced model
+that transfer gives, and the output says so. Samples that rest on one
+computation alone (a reduced model's, or the matrix exponential's when
+there are no partial fractions) are checked against an integration of
+the full circuit (TR-BDF2 with Richardson extrapolation) and refused,
+with the figures, when they differ by more than 1e-4 of the response's
+scale.
+
 Examples:
 
     nodal time testdata/examples/logger_antialias.nodal --out out
