@@ -88,7 +88,7 @@ func (c *timeCmd) run(e *env, kind string) error {
 	var model *reduce.Model
 	var tf *transfer.TransferFunction
 	if sys.Size() > reducedAboveUnknowns {
-		if model, err = timeReducedModel(e, l, sys); err != nil {
+		if model, err = reducedModelFor(e, l, sys); err != nil {
 			return err
 		}
 		tf = model.TF

@@ -14,10 +14,10 @@ import (
 	"nodal/mna"
 )
 
-// timeReducedModel is the reduced model a time response of a circuit
-// above reducedAboveUnknowns is computed from: the one transfer verifies,
-// over the same default range.
-func timeReducedModel(e *env, l *loaded, sys *mna.System) (*reduce.Model, error) {
+// reducedModelFor is the reduced model a time response (or a report) of
+// a circuit above reducedAboveUnknowns is computed from: the one transfer
+// verifies, over the same default range.
+func reducedModelFor(e *env, l *loaded, sys *mna.System) (*reduce.Model, error) {
 	from, to, err := exploreRange(e, l, sys, 0)
 	if err != nil {
 		return nil, err
@@ -82,13 +82,14 @@ func newTimeCheckJSON(c *transient.Result) *timeCheckJSON {
 		Scale: c.Scale, MaxDiff: c.MaxDiff, AtS: c.AtS, Tol: c.Tol, IntegrationE: c.MaxIntErr}
 }
 
-// checkedStep is the step response of tf (the transfer function of sys)
-// for report and tune: when its samples are the matrix exponential's
-// alone (no partial fractions to compare them with) they are held to
-// the integration of the full circuit, and a disagreement is the error.
-func checkedStep(ctx context.Context, sys *mna.System, tf *transfer.TransferFunction, opt timeresp.TimeOptions) (*timeresp.TimeResponse, error) {
+// checkedStep is the step response of tf (the transfer function of sys,
+// reduced when reduced is set) for report and tune: when its samples are
+// a reduced model's or the matrix exponential's alone (no partial
+// fractions to compare them with) they are held to the integration of
+// the full circuit, and a disagreement is the error.
+func checkedStep(ctx context.Context, sys *mna.System, tf *transfer.TransferFunction, opt timeresp.TimeOptions, reduced bool) (*timeresp.TimeResponse, error) {
 	r, err := timeresp.Step(tf, opt)
-	if err != nil || !r.IllConditioned {
+	if err != nil || !r.IllConditioned && !reduced {
 		return r, err
 	}
 	if _, err := checkTimeResponse(ctx, sys, r); err != nil {

@@ -176,3 +176,28 @@ func TestTimeHighOrderChecked(t *testing.T) {
 		}
 	}
 }
+
+// TestReportReducedLadder: a report of the 1,000-section ladder (1,002
+// unknowns; the full extraction is ill-conditioned there) is made from
+// the verified reduced model, says so, and has a step response whose
+// final value is the DC gain 1.
+func TestReportReducedLadder(t *testing.T) {
+	out := filepath.Join(t.TempDir(), "r.txt")
+	r := runNodal(t, "", "report", "../../testdata/perf/cable_ladder_1000.nodal", "--out", "n1000", "--format", "text", "-o", out)
+	if r.code != 0 {
+		t.Fatalf("exit %d: %s", r.code, r.stderr)
+	}
+	b, err := os.ReadFile(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	txt := string(b)
+	for _, s := range []string{"reduced model of order", "of 1002 unknowns", "checked against the integration of the full circuit", "H(s) ≈", "Step response", "final value       │       1 │"} {
+		if !strings.Contains(txt, s) {
+			t.Errorf("report lacks %q", s)
+		}
+	}
+	if strings.Contains(txt, "No step response") {
+		t.Errorf("report has no step response")
+	}
+}
