@@ -30,18 +30,26 @@ type entry struct {
 	v    float64
 }
 
-// integrator holds the matrices and the factorisations of G + σC by σ.
+// heldSolver is a factorisation of G + σC and when it was last used.
+type heldSolver struct {
+	sigma float64
+	lu    *mna.ShiftSolver
+	used  int
+}
+
+// integrator holds the matrices and the last factorisations of G + σC.
 type integrator struct {
 	sys     *mna.System
 	g, c    []entry
-	solvers map[float64]*mna.ShiftSolver
+	solvers []heldSolver
+	tick    int
 	work    []complex128
 	impulse bool
 	dirac   float64 // the impulse response's δ weight, taken off y(0⁺)
 }
 
 func newIntegrator(sys *mna.System, impulse bool) *integrator {
-	it := &integrator{sys: sys, solvers: map[float64]*mna.ShiftSolver{}, work: make([]complex128, sys.Size()), impulse: impulse}
+	it := &integrator{sys: sys, work: make([]complex128, sys.Size()), impulse: impulse}
 	sys.G.Each(func(i, j int, v float64) { it.g = append(it.g, entry{i, j, v}) })
 	sys.C.Each(func(i, j int, v float64) { it.c = append(it.c, entry{i, j, v}) })
 	return it
@@ -59,15 +67,41 @@ func mulAdd(m []entry, x []float64, a float64, y []float64, b float64) {
 	}
 }
 
-// solve overwrites r with (G + σC)⁻¹·r.
+// heldSolvers is how many factorisations the integrator keeps: the
+// step sizes come in runs (each graded level, then the uniform step), so
+// a few suffice, and the memory stays a few factorisations whatever the
+// number of levels.
+const heldSolvers = 4
+
+// solve overwrites r with (G + σC)⁻¹·r, refactoring the least recently
+// used of the held solvers when none holds σ.
 func (it *integrator) solve(sigma float64, r []float64) error {
-	lu := it.solvers[sigma]
+	it.tick++
+	var lu *mna.ShiftSolver
+	for i := range it.solvers {
+		if it.solvers[i].sigma == sigma {
+			it.solvers[i].used = it.tick
+			lu = it.solvers[i].lu
+		}
+	}
 	if lu == nil {
-		lu = mna.NewShiftSolver(it.sys)
-		if err := lu.Factor(complex(sigma, 0)); err != nil {
+		var h *heldSolver
+		if len(it.solvers) < heldSolvers {
+			it.solvers = append(it.solvers, heldSolver{lu: mna.NewShiftSolver(it.sys)})
+			h = &it.solvers[len(it.solvers)-1]
+		} else {
+			h = &it.solvers[0]
+			for i := range it.solvers {
+				if it.solvers[i].used < h.used {
+					h = &it.solvers[i]
+				}
+			}
+		}
+		h.sigma, h.used = math.NaN(), it.tick
+		if err := h.lu.Factor(complex(sigma, 0)); err != nil {
 			return fmt.Errorf("time-domain integration: G + %g·C: %w", sigma, err)
 		}
-		it.solvers[sigma] = lu
+		h.sigma, lu = sigma, h.lu
 	}
 	for i, v := range r {
 		it.work[i] = complex(v, 0)

@@ -108,26 +108,32 @@ func (c *timeCmd) run(e *env, kind string) error {
 		return fmt.Errorf("--points must be between 2 and %d", maxPoints)
 	}
 	r, err := timeSamples(tf, kind, opt)
-	if err != nil {
+	if err != nil && (model == nil || errors.Is(err, timeresp.ErrNoTimeScale)) {
 		return err
+	}
+	if err != nil {
+		err = fmt.Errorf("%s response of %d unknowns: the reduced model of order %d gives none (%w)", kind, sys.Size(), model.Order, err)
 	}
 	// Samples that no independent computation confirmed (a reduced
 	// model's, or the matrix exponential's without partial fractions to
 	// compare with) are held to the integration of the full circuit;
-	// a reduced model's that fail are replaced by the full extraction's
-	// where it can be made (fullTimeFallback).
+	// when a reduced model gives none or they fail, the full
+	// extraction's replace them where it can be made (fullTimeFallback).
 	var chk *transient.Result
 	var refused error
-	if model != nil || r.IllConditioned {
+	if err == nil && (model != nil || r.IllConditioned) {
 		chk, err = checkTimeResponse(e.ctx, sys, r)
-		if err != nil && model != nil && errors.Is(err, transient.ErrDisagree) {
-			if r2, chk2, ok := fullTimeFallback(e, sys, kind, opt); ok {
-				refused, r, chk, model, err = errors.Unwrap(err), r2, chk2, nil, nil
+	}
+	if err != nil && model != nil && (r == nil || errors.Is(err, transient.ErrDisagree)) {
+		if r2, chk2, ok := fullTimeFallback(e, sys, kind, opt); ok {
+			refused, r, chk, model, err = err, r2, chk2, nil, nil
+			if u := errors.Unwrap(refused); r != nil && errors.Is(refused, transient.ErrDisagree) && u != nil {
+				refused = u
 			}
 		}
-		if err != nil {
-			return err
-		}
+	}
+	if err != nil {
+		return err
 	}
 	stab, err := circuitStability(l)
 	if err != nil {
@@ -175,7 +181,7 @@ func (c *timeCmd) run(e *env, kind string) error {
 func timeTable(w io.Writer, r *timeresp.TimeResponse, in, out string, model *reduce.Model, chk *transient.Result, refused error) error {
 	fmt.Fprintf(w, "%s response of %s to a unit %s of %s\n", r.Kind, out, r.Kind, in)
 	if refused != nil {
-		fmt.Fprintf(w, "The reduced model's samples were refused (%v);\nthese are from the full extraction of the transfer function.\n", refused)
+		fmt.Fprintf(w, "The reduced model's response was not used (%v);\nthese samples are from the full extraction of the transfer function.\n", refused)
 	}
 	timeReducedStatement(w, model, chk)
 	fmt.Fprintln(w)

@@ -1,30 +1,16 @@
 package main
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 )
-
-// ladderFile writes a uniform RC ladder of k sections (1 kΩ, 10 nF),
-// driven at n0 and open at nK, and returns its path.
-func ladderFile(t *testing.T, k int) string {
-	t.Helper()
-	var b strings.Builder
-	fmt.Fprintf(&b, "title \"ladder %d\"\nV1: voltage source (n0, gnd) 1\n", k)
-	for j := 0; j < k; j++ {
-		fmt.Fprintf(&b, "R%d: resistor (n%d, n%d) 1k\nC%d: capacitor (n%d, gnd) 10n\n", j, j, j+1, j, j+1)
-	}
-	path := filepath.Join(t.TempDir(), fmt.Sprintf("ladder%d.nodal", k))
-	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	return path
-}
 
 // TestTimeReducedLadderGolden: the step and impulse responses of the
 // 300- and 1,000-section ladders (302 and 1,002 unknowns, read at the far
@@ -53,7 +39,7 @@ func TestTimeReducedLadderGolden(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, lad := range g.Ladders {
-		file := ladderFile(t, lad.Sections)
+		file := tuneLadder(t, lad.Sections)
 		for _, kind := range []string{"step", "impulse"} {
 			want := lad.Step
 			if kind == "impulse" {
@@ -127,7 +113,7 @@ func TestTimeReducedLadderGolden(t *testing.T) {
 				}
 				txt := runNodal(t, "", args...)
 				if refusedAtZero {
-					if !strings.Contains(txt.stdout, "The reduced model's samples were refused") || !strings.Contains(txt.stdout, "full extraction") {
+					if !strings.Contains(txt.stdout, "The reduced model's response was not used") || !strings.Contains(txt.stdout, "full extraction") {
 						t.Errorf("text does not say the reduced model was refused:\n%s", txt.stdout)
 					}
 					return
@@ -148,7 +134,7 @@ func TestTimeReducedLadderGolden(t *testing.T) {
 // the matrix exponential's samples are given, every one of them, and
 // they pass the integration of the full circuit.
 func TestTimeHighOrderChecked(t *testing.T) {
-	file := ladderFile(t, 200)
+	file := tuneLadder(t, 200)
 	for _, out := range []string{"n1", "n200"} {
 		r := runNodal(t, "", "time", file, "--out", out, "--points", "21", "--format", "json")
 		if r.code != 0 {
@@ -199,5 +185,50 @@ func TestReportReducedLadder(t *testing.T) {
 	}
 	if strings.Contains(txt, "No step response") {
 		t.Errorf("report has no step response")
+	}
+}
+
+// TestTimeReducedNearEnd: at the first node of the 300-section ladder the
+// reduced model has more zeros than poles, so it gives no time response;
+// the full extraction's (checked) is given instead, and the output says
+// why.
+func TestTimeReducedNearEnd(t *testing.T) {
+	r := runNodal(t, "", "time", tuneLadder(t, 300), "--out", "n1", "--points", "11", "--format", "json")
+	if r.code != 0 {
+		t.Fatalf("exit %d: %s", r.code, r.stderr)
+	}
+	var doc struct {
+		Refused   string           `json:"reduced_model_refused"`
+		Reduced   *json.RawMessage `json:"reduced_model"`
+		TimeCheck *struct {
+			MaxDiff float64 `json:"max_difference"`
+		} `json:"time_check"`
+		Points []struct{ Y float64 } `json:"points"`
+	}
+	if err := json.Unmarshal([]byte(r.stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(doc.Refused, "more zeros") || doc.Reduced != nil || doc.TimeCheck == nil || !(doc.TimeCheck.MaxDiff <= 1e-4) || len(doc.Points) != 11 {
+		t.Errorf("%+v", doc)
+	}
+}
+
+// BenchmarkTimeCommandLadder is the whole `nodal time` (reduced model,
+// its samples and the time-domain check of the full circuit) of the
+// 1,000- and 10,000-section ladders in one process. One op is one
+// command.
+func BenchmarkTimeCommandLadder(b *testing.B) {
+	for _, n := range []int{1000, 10000} {
+		path := tuneLadder(b, n)
+		b.Run(fmt.Sprintf("sections=%d", n), func(b *testing.B) {
+			args := []string{"time", path, "--out", fmt.Sprint("n", n)}
+			b.ReportAllocs()
+			for i := 0; i < b.N; i++ {
+				e := &env{ctx: context.Background(), stdout: io.Discard, stderr: io.Discard}
+				if code := run(e, args); code != 0 {
+					b.Fatalf("exit %d", code)
+				}
+			}
+		})
 	}
 }
