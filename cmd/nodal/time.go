@@ -84,14 +84,24 @@ func (c *timeCmd) run(e *env, kind string) error {
 		return err
 	}
 	// Above the reduced-model size the response comes from the verified
-	// reduced model transfer gives (time_reduced.go).
+	// reduced model transfer gives (time_reduced.go); when none can be
+	// verified, from the full extraction where it can be made, checked.
 	var model *reduce.Model
 	var tf *transfer.TransferFunction
+	var refused error // why a reduced model's response was not used
 	if sys.Size() > reducedAboveUnknowns {
 		if model, err = reducedModelFor(e, l, sys); err != nil {
-			return err
+			if !errors.Is(err, reduce.ErrNotVerified) || sys.Size() > transfer.MaxExtractUnknowns {
+				return err
+			}
+			full, ferr := transfer.Extract(sys)
+			if ferr != nil {
+				return fmt.Errorf("%w; the full extraction: %w", err, ferr)
+			}
+			tf, refused = full, err
+		} else {
+			tf = model.TF
 		}
-		tf = model.TF
 	} else if tf, err = transfer.Extract(sys); err != nil {
 		return err
 	}
@@ -120,7 +130,6 @@ func (c *timeCmd) run(e *env, kind string) error {
 	// when a reduced model gives none or they fail, the full
 	// extraction's replace them where it can be made (fullTimeFallback).
 	var chk *transient.Result
-	var refused error
 	if err == nil && (model != nil || r.IllConditioned) {
 		chk, err = checkTimeResponse(e.ctx, sys, r)
 	}
@@ -133,6 +142,9 @@ func (c *timeCmd) run(e *env, kind string) error {
 		}
 	}
 	if err != nil {
+		if refused != nil && model == nil {
+			return fmt.Errorf("%w; the full extraction's samples were tried because %v", err, refused)
+		}
 		return err
 	}
 	stab, err := circuitStability(l)

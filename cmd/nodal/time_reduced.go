@@ -47,11 +47,15 @@ func checkTimeResponse(ctx context.Context, sys *mna.System, r *timeresp.TimeRes
 // were checked (the reduced model may be nil: the full extraction).
 func timeReducedStatement(w io.Writer, m *reduce.Model, chk *transient.Result) {
 	if m != nil {
+		dc := ""
+		if m.TF.DirectDC != nil {
+			dc = " (the final value is the circuit's DC gain from a direct solve)"
+		}
 		fmt.Fprintf(w, "from a reduced model of order %d (of %d unknowns: Krylov projection, PRIMA-style, at %d expansion points),\n"+
 			"verified against direct solves at %d frequencies over %s–%s within %s dB and %s°, realized as a cascade and\n"+
-			"exponentiated (the final value is the circuit's DC gain from a direct solve).\n",
+			"exponentiated%s.\n",
 			m.Order, m.Unknowns, len(m.Expansions), m.CheckPoints, notation.Eng(m.FromHz, "Hz"), notation.Eng(m.ToHz, "Hz"),
-			trimFloat(m.MaxErrDB, 2), trimFloat(m.MaxErrDeg, 2))
+			trimFloat(m.MaxErrDB, 2), trimFloat(m.MaxErrDeg, 2), dc)
 	}
 	if chk != nil {
 		fmt.Fprintf(w, "Samples checked at %d times against the integration of the full circuit (C·x′ + G·x = B·u, TR-BDF2 with\n"+

@@ -232,3 +232,26 @@ func BenchmarkTimeCommandLadder(b *testing.B) {
 		})
 	}
 }
+
+// TestTimeLineNotResolved: a lossy LC line of 110 sections (333
+// unknowns) delays its step by about 0.55 µs with reflections; no reduced
+// model is verified over its range, the full extraction (order 220) has
+// no partial fractions, and the integration of the full circuit cannot
+// resolve the edges within its step budget, so nothing is printed and the
+// message says why (exit 2).
+func TestTimeLineNotResolved(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("title \"lossy line\"\nV1: voltage source (n0, gnd) 1\nRs: resistor (n0, a0) 50\n")
+	for k := 0; k < 110; k++ {
+		fmt.Fprintf(&b, "L%d: inductor (a%d, m%d) 250n\nR%d: resistor (m%d, a%d) 0.5\nC%d: capacitor (a%d, gnd) 100p\n", k, k, k, k, k, k+1, k, k+1)
+	}
+	b.WriteString("RL: resistor (a110, gnd) 50\n")
+	path := filepath.Join(t.TempDir(), "line.nodal")
+	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	r := runNodal(t, "", "time", path, "--out", "a110", "--points", "11")
+	if r.code != 2 || r.stdout != "" || !strings.Contains(r.stderr, "could not be made accurate enough") || !strings.Contains(r.stderr, "no reduced model matched") {
+		t.Errorf("exit %d, stdout %q, stderr %q", r.code, r.stdout, r.stderr)
+	}
+}
