@@ -75,7 +75,7 @@ var ErrNotResolved = errors.New("the time-domain integration of the full circuit
 
 // Check integrates the full system sys (TR-BDF2 with Richardson
 // extrapolation, see the package doc) for the kind of r (a unit step or
-// a unit impulse, its Dirac term r.Dirac excluded) and compares r's
+// a unit impulse, its Dirac term excluded) and compares r's
 // samples at up to opt.MaxChecked of their times t > 0 (evenly chosen,
 // the last included) and at t = 0 when r has a sample there (y(0⁺)). It refines the integration (halving every step) until its
 // error estimate is within integrationShare of the tolerance. The error
@@ -115,7 +115,6 @@ func Check(ctx context.Context, sys *mna.System, r *timeresp.TimeResponse, opt O
 	}
 	impulse := r.Kind == "impulse"
 	it := newIntegrator(sys, impulse)
-	it.dirac = r.Dirac
 	sub := max(gradeRepeat, (400+len(times)-1)/len(times))
 	steps := mesh(times, sub, impulse)
 	var coarse *coarseRun

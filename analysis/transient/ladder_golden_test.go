@@ -57,7 +57,7 @@ func TestIntegrateLadderGolden(t *testing.T) {
 			want    []float64
 		}{{false, lad.Step}, {true, lad.Impulse}} {
 			t.Run(fmt.Sprintf("%d/impulse=%v", lad.Sections, tc.impulse), func(t *testing.T) {
-				in, err := Integrate(context.Background(), sys, tc.impulse, 0, lad.TS[1:], 16)
+				in, err := Integrate(context.Background(), sys, tc.impulse, lad.TS[1:], 16)
 				if err != nil {
 					t.Fatal(err)
 				}
@@ -136,7 +136,7 @@ func TestCheckRefusesWrongModel(t *testing.T) {
 func TestIntegrateBadTimes(t *testing.T) {
 	sys := testcircuit.Build(t, testcircuit.RCLadder(3, 1e3, 10e-9), mna.Output{Kind: mna.NodeVoltage, Node: "n3"})
 	for _, ts := range [][]float64{nil, {0, 1}, {2, 1}, {1, 1}, {1, math.Inf(1)}, {math.NaN()}} {
-		if _, err := Integrate(context.Background(), sys, false, 0, ts, 8); !errors.Is(err, ErrBadTimes) {
+		if _, err := Integrate(context.Background(), sys, false, ts, 8); !errors.Is(err, ErrBadTimes) {
 			t.Errorf("%v: %v", ts, err)
 		}
 	}
@@ -157,5 +157,42 @@ func BenchmarkCheckLadder10000(b *testing.B) {
 		if _, err := Check(context.Background(), sys, r, Options{Tol: 1}); err != nil {
 			b.Fatal(err)
 		}
+	}
+}
+
+// TestCheckDiracAndJump: an RC high-pass (series 1 nF, shunt 1 kΩ) has
+// H = sτ/(1 + sτ): its step jumps to y(0⁺) = 1 and its impulse response
+// is δ(t) − e^(−t/τ)/τ (common practice), so y(0⁺) = −1/τ, read after
+// the second step (the first holds the δ). Both pass the check, t = 0
+// included, and the step with a wrong jump (y(0) = 0) does not.
+func TestCheckDiracAndJump(t *testing.T) {
+	c := testcircuit.New(testcircuit.V("V1", "in", "gnd", 1), testcircuit.C("C1", "in", "out", 1e-9), testcircuit.R("R1", "out", "gnd", 1e3))
+	sys := testcircuit.Build(t, c, mna.Output{Kind: mna.NodeVoltage, Node: "out"})
+	tf, err := transfer.Extract(sys)
+	if err != nil {
+		t.Fatal(err)
+	}
+	st, err := timeresp.Step(tf, timeresp.TimeOptions{Points: 41})
+	if err != nil {
+		t.Fatal(err)
+	}
+	im, err := timeresp.Impulse(tf, timeresp.TimeOptions{Points: 41})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(im.Dirac-1) > 1e-12 || math.Abs(im.Points[0].Y+1e6) > 1e-3 || math.Abs(st.Points[0].Y-1) > 1e-12 {
+		t.Fatalf("dirac %g, impulse y(0+) %g, step y(0+) %g", im.Dirac, im.Points[0].Y, st.Points[0].Y)
+	}
+	for _, r := range []*timeresp.TimeResponse{st, im} {
+		res, err := Check(context.Background(), sys, r, Options{})
+		// 1e-5: the impulse's first step puts 1/h₀ (h₀ ≈ 10⁻¹¹·τ) into the
+		// source's branch, and its rounding is left in y(0⁺) (2.5e-6 here).
+		if err != nil || res.TimesS[0] != 0 || math.Abs(res.Full[0]-r.Points[0].Y) > 1e-5*res.Scale {
+			t.Errorf("%s: %v, y(0+) %g against %g", r.Kind, err, res.Full[0], r.Points[0].Y)
+		}
+	}
+	st.Points[0].Y = 0
+	if _, err := Check(context.Background(), sys, st, Options{}); !errors.Is(err, ErrDisagree) {
+		t.Errorf("a step without its jump at t = 0 passed: %v", err)
 	}
 }

@@ -45,7 +45,6 @@ type integrator struct {
 	tick    int
 	work    []complex128
 	impulse bool
-	dirac   float64 // the impulse response's δ weight, taken off y(0⁺)
 }
 
 func newIntegrator(sys *mna.System, impulse bool) *integrator {
@@ -165,9 +164,8 @@ func mesh(times []float64, sub int, impulse bool) []meshStep {
 
 // run integrates over the steps and returns y at the end of each target
 // step (a step that ends on target k is taken to end at times[k]) and y
-// at the end of the first step, less the Dirac weight dirac's share of
-// it (dirac/h for an impulse).
-func (it *integrator) run(ctx context.Context, times []float64, steps []meshStep, dirac float64) ([]float64, float64, error) {
+// at the end of the first step (of the second for an impulse).
+func (it *integrator) run(ctx context.Context, times []float64, steps []meshStep) ([]float64, float64, error) {
 	n := it.sys.Size()
 	x := make([]float64, n)
 	xg := make([]float64, n)
@@ -240,11 +238,11 @@ func (it *integrator) run(ctx context.Context, times []float64, steps []meshStep
 			copy(x, r)
 		}
 		t += h
-		if k == 0 {
+		// y(0⁺) from the end of the first step, or for an impulse of the
+		// second (the first holds the δ's spike in the algebraic unknowns
+		// and the Dirac term of y, the second restores the equations).
+		if k == 0 && !it.impulse || k == 1 && it.impulse {
 			y0 = it.output(x)
-			if it.impulse {
-				y0 -= dirac / h
-			}
 		}
 		if st.target >= 0 {
 			t = times[st.target]
@@ -285,8 +283,8 @@ func halved(steps []meshStep) []meshStep {
 // of the error of the finer one (the extrapolated value is expected to be
 // closer still). Y0 is y(0⁺), extrapolated linearly from the ends of the
 // first steps of the two integrations (h₀ and h₀/2, about 10⁻⁹ of the
-// first gap), the Dirac term excluded, with Err0 the size of their
-// difference. Steps is the number of steps of the finer integration.
+// first gap; for an impulse the second steps, at 2h₀ and h₀, so the
+// Dirac term is not in it), with Err0 the size of their difference. Steps is the number of steps of the finer integration.
 type Integration struct {
 	TimesS []float64
 	Y      []float64
@@ -306,14 +304,11 @@ var ErrBadTimes = errors.New("time-domain integration: the times must be positiv
 // steps in each gap between consecutive times (at least gradeRepeat) on
 // the coarser of the two meshes. The impulse response excludes any Dirac
 // term at t = 0 (the times are positive).
-// dirac is the weight of the impulse response's δ(t) (H(∞)), taken off
-// Y0.
-func Integrate(ctx context.Context, sys *mna.System, impulse bool, dirac float64, times []float64, sub int) (*Integration, error) {
+func Integrate(ctx context.Context, sys *mna.System, impulse bool, times []float64, sub int) (*Integration, error) {
 	if err := checkTimes(times); err != nil {
 		return nil, err
 	}
 	it := newIntegrator(sys, impulse)
-	it.dirac = dirac
 	steps := mesh(times, max(sub, gradeRepeat), impulse)
 	out, _, err := it.richardson(ctx, times, steps, nil)
 	return out, err
@@ -338,14 +333,14 @@ func checkTimes(times []float64) error {
 // refinement.
 func (it *integrator) richardson(ctx context.Context, times []float64, steps []meshStep, coarse *coarseRun) (*Integration, *coarseRun, error) {
 	if coarse == nil {
-		ys, y0, err := it.run(ctx, times, steps, it.dirac)
+		ys, y0, err := it.run(ctx, times, steps)
 		if err != nil {
 			return nil, nil, err
 		}
 		coarse = &coarseRun{ys, y0}
 	}
 	fineSteps := halved(steps)
-	fine, fine0, err := it.run(ctx, times, fineSteps, it.dirac)
+	fine, fine0, err := it.run(ctx, times, fineSteps)
 	if err != nil {
 		return nil, nil, err
 	}
