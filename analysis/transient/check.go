@@ -75,10 +75,11 @@ var ErrNotResolved = errors.New("the time-domain integration of the full circuit
 
 // Check integrates the full system sys (TR-BDF2 with Richardson
 // extrapolation, see the package doc) for the kind of r (a unit step or
-// a unit impulse, its Dirac term excluded) and compares r's
-// samples at up to opt.MaxChecked of their times t > 0 (evenly chosen,
-// the last included) and at t = 0 when r has a sample there (y(0⁺)). It refines the integration (halving every step) until its
-// error estimate is within integrationShare of the tolerance. The error
+// a unit impulse, its Dirac term excluded) and compares r's samples at
+// up to opt.MaxChecked of their times t > 0 (evenly chosen, the last
+// included) and at t = 0 when r has a sample there (y(0⁺)). It refines
+// the integration (halving every step) until its error estimate is
+// within integrationShare of the tolerance. The error
 // is ErrDisagree, with the figures, when a sample is off by more than the
 // tolerance, and ErrNotResolved when the integration cannot be resolved
 // within maxSteps; the Result is returned with either.

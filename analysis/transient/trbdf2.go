@@ -284,7 +284,8 @@ func halved(steps []meshStep) []meshStep {
 // closer still). Y0 is y(0⁺), extrapolated linearly from the ends of the
 // first steps of the two integrations (h₀ and h₀/2, about 10⁻⁹ of the
 // first gap; for an impulse the second steps, at 2h₀ and h₀, so the
-// Dirac term is not in it), with Err0 the size of their difference. Steps is the number of steps of the finer integration.
+// Dirac term is not in it), with Err0 the size of their difference.
+// Steps is the number of steps of the finer integration.
 type Integration struct {
 	TimesS []float64
 	Y      []float64
