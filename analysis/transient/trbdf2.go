@@ -125,7 +125,7 @@ type meshStep struct {
 // mesh returns the steps from t = 0 through the sorted positive times:
 // sub equal steps in each gap between consecutive times, the first
 // gradeRepeat of them (of the first gap) replaced by a start graded by
-// halvings from 2⁻ᵍʳᵃᵈᵉᴸᵉᵛᵉˡˢ of that step. A step's end lands on a time
+// halvings from 2^−gradeLevels of that step. A step's end lands on a time
 // up to rounding of the sum, which the last step of each gap absorbs.
 func mesh(times []float64, sub int, impulse bool) []meshStep {
 	var steps []meshStep

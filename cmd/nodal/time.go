@@ -2,7 +2,6 @@ package main
 
 import (
 	"encoding/csv"
-	"errors"
 	"fmt"
 	"io"
 	"nodal/cmd/nodal/notation"
@@ -11,7 +10,6 @@ import (
 	"nodal/analysis/reduce"
 	"nodal/analysis/response"
 	"nodal/analysis/timeresp"
-	"nodal/analysis/transfer"
 	"nodal/analysis/transient"
 	"nodal/cmd/nodal/plot"
 	"nodal/netlist/syntax"
@@ -83,28 +81,6 @@ func (c *timeCmd) run(e *env, kind string) error {
 	if err != nil {
 		return err
 	}
-	// Above the reduced-model size the response comes from the verified
-	// reduced model transfer gives (time_reduced.go); when none can be
-	// verified, from the full extraction where it can be made, checked.
-	var model *reduce.Model
-	var tf *transfer.TransferFunction
-	var refused error // why a reduced model's response was not used
-	if sys.Size() > reducedAboveUnknowns {
-		if model, err = reducedModelFor(e, l, sys); err != nil {
-			if !errors.Is(err, reduce.ErrNotVerified) || sys.Size() > transfer.MaxExtractUnknowns {
-				return err
-			}
-			full, ferr := transfer.Extract(sys)
-			if ferr != nil {
-				return fmt.Errorf("%w; the full extraction: %w", err, ferr)
-			}
-			tf, refused = full, err
-		} else {
-			tf = model.TF
-		}
-	} else if tf, err = transfer.Extract(sys); err != nil {
-		return err
-	}
 	opt := timeresp.TimeOptions{Points: c.Points}
 	if c.Until != "" {
 		if opt.UntilS, err = syntax.ParseFlag("--until", c.Until, "s"); err != nil {
@@ -117,34 +93,8 @@ func (c *timeCmd) run(e *env, kind string) error {
 	if c.Points < 2 || c.Points > maxPoints {
 		return fmt.Errorf("--points must be between 2 and %d", maxPoints)
 	}
-	r, err := timeSamples(tf, kind, opt)
-	if err != nil && (model == nil || errors.Is(err, timeresp.ErrNoTimeScale)) {
-		return err
-	}
+	r, model, chk, refused, err := timeResponseOf(e, l, sys, kind, opt)
 	if err != nil {
-		err = fmt.Errorf("%s response of %d unknowns: the reduced model of order %d gives none (%w)", kind, sys.Size(), model.Order, err)
-	}
-	// Samples that no independent computation confirmed (a reduced
-	// model's, or the matrix exponential's without partial fractions to
-	// compare with) are held to the integration of the full circuit;
-	// when a reduced model gives none or they fail, the full
-	// extraction's replace them where it can be made (fullTimeFallback).
-	var chk *transient.Result
-	if err == nil && (model != nil || r.IllConditioned) {
-		chk, err = checkTimeResponse(e.ctx, sys, r)
-	}
-	if err != nil && model != nil && (r == nil || errors.Is(err, transient.ErrDisagree)) {
-		if r2, chk2, ok := fullTimeFallback(e, sys, kind, opt); ok {
-			refused, r, chk, model, err = err, r2, chk2, nil, nil
-			if u := errors.Unwrap(refused); r != nil && errors.Is(refused, transient.ErrDisagree) && u != nil {
-				refused = u
-			}
-		}
-	}
-	if err != nil {
-		if refused != nil && model == nil {
-			return fmt.Errorf("%w; the full extraction's samples were tried because %v", err, refused)
-		}
 		return err
 	}
 	stab, err := circuitStability(l)

@@ -139,3 +139,65 @@ func fullTimeFallback(e *env, sys *mna.System, kind string, opt timeresp.TimeOpt
 	}
 	return r, chk, true
 }
+
+// timeResponseOf is the response of sys to a unit step or impulse (kind)
+// with the reduced model it came from (nil for the full extraction), the
+// time-domain check of its samples (nil when they were not checked) and
+// why a reduced model's response was not used (nil when it was, or when
+// none was tried).
+//
+// Above reducedAboveUnknowns the response comes from the verified reduced
+// model transfer gives; when none can be verified, gives no response
+// (more zeros than poles) or its samples fail the check, from the full
+// extraction where it can be made (fullTimeFallback). Samples that no
+// independent computation confirmed (a reduced model's, or the matrix
+// exponential's without partial fractions to compare with) are held to
+// the integration of the full circuit.
+func timeResponseOf(e *env, l *loaded, sys *mna.System, kind string, opt timeresp.TimeOptions) (r *timeresp.TimeResponse, model *reduce.Model, chk *transient.Result, refused error, err error) {
+	var tf *transfer.TransferFunction
+	switch {
+	case sys.Size() <= reducedAboveUnknowns:
+		if tf, err = transfer.Extract(sys); err != nil {
+			return nil, nil, nil, nil, err
+		}
+	default:
+		model, err = reducedModelFor(e, l, sys)
+		if err == nil {
+			tf = model.TF
+			break
+		}
+		if !errors.Is(err, reduce.ErrNotVerified) || sys.Size() > transfer.MaxExtractUnknowns {
+			return nil, nil, nil, nil, err
+		}
+		full, ferr := transfer.Extract(sys)
+		if ferr != nil {
+			return nil, nil, nil, nil, fmt.Errorf("%w; the full extraction: %w", err, ferr)
+		}
+		tf, refused = full, err
+	}
+	r, err = timeSamples(tf, kind, opt)
+	if err != nil && (model == nil || errors.Is(err, timeresp.ErrNoTimeScale)) {
+		return nil, nil, nil, nil, err
+	}
+	if err != nil {
+		err = fmt.Errorf("%s response of %d unknowns: the reduced model of order %d gives none (%w)", kind, sys.Size(), model.Order, err)
+	} else if model != nil || r.IllConditioned {
+		chk, err = checkTimeResponse(e.ctx, sys, r)
+	}
+	if err != nil && model != nil && (r == nil || errors.Is(err, transient.ErrDisagree)) {
+		if r2, chk2, ok := fullTimeFallback(e, sys, kind, opt); ok {
+			why := err
+			if errors.Is(err, transient.ErrDisagree) {
+				why = errors.Unwrap(err) // the figures, without the refusal's wording
+			}
+			return r2, nil, chk2, why, nil
+		}
+	}
+	if err != nil {
+		if refused != nil {
+			return nil, nil, nil, nil, fmt.Errorf("%w; the full extraction's samples were tried because %v", err, refused)
+		}
+		return nil, nil, nil, nil, err
+	}
+	return r, model, chk, refused, nil
+}
