@@ -6,6 +6,9 @@
 //   - transfer: the transfer function, its extraction, poles and zeros,
 //     and its features (pairs, f0, Q, −3 dB, peak, DC gain, ODE, metrics).
 //   - timeresp: step and impulse responses by partial fractions.
+//   - transient: the integration of the full sparse descriptor system
+//     (TR-BDF2 with Richardson extrapolation) and the check of a step or
+//     impulse response's samples against it.
 //   - steady: the steady state under a sum of sinusoids and a DC level.
 //   - check: comparing a hand derivation with the circuit's transfer
 //     function.

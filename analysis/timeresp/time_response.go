@@ -168,6 +168,11 @@ func timeResponse(tf *transfer.TransferFunction, kind string, opt TimeOptions) (
 	}
 	if !noPF {
 		r.Modes = modes(groups, laurent(tf.Gain, tf.Zeros, groups))
+		// Residues that overflowed (a gain that fits with products of
+		// pole differences that do not) leave no partial fractions either.
+		if !finiteModes(r.Modes) {
+			noPF, r.Modes = true, nil
+		}
 	}
 
 	r.SpanS = opt.UntilS
@@ -188,7 +193,7 @@ func timeResponse(tf *transfer.TransferFunction, kind string, opt TimeOptions) (
 		}
 		r.Overflow = false
 		if !crossCheck(r, tf, kind == "step", opt.Points, true) {
-			return nil, fmt.Errorf("%s response: the gain does not fit a float64 and no state-space realization was found", kind)
+			return nil, fmt.Errorf("%s response: the gain or the residues do not fit a float64 and no state-space realization was found", kind)
 		}
 		return r, nil
 	}
@@ -234,7 +239,7 @@ func crossCheck(r *TimeResponse, tf *transfer.TransferFunction, step bool, n int
 			}
 			r.Points = append(r.Points, Point{TS: r.SpanS * float64(i) / float64(n-1), Y: y})
 		}
-		why := "at this order the gain does not fit a float64, so there is no partial-fraction form"
+		why := "at this order the gain or the residues do not fit a float64, so there is no partial-fraction form"
 		r.Metrics.Note = "figures withheld: " + why + "; the samples are from the matrix exponential"
 		r.ClosedFormWithheld = why
 		expmFigures(r, c, step, why)
@@ -542,4 +547,14 @@ func bisect(f func(float64) float64, a, b float64) float64 {
 		}
 	}
 	return a + (b-a)/2
+}
+
+// finiteModes reports whether every coefficient of ms is finite.
+func finiteModes(ms []Mode) bool {
+	for _, m := range ms {
+		if math.IsNaN(m.Cos) || math.IsInf(m.Cos, 0) || math.IsNaN(m.Sin) || math.IsInf(m.Sin, 0) {
+			return false
+		}
+	}
+	return true
 }

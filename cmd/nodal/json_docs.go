@@ -78,6 +78,14 @@ type timeJSON struct {
 	// Stability is the circuit's (every natural frequency, see
 	// stabilityJSON); UnstablePoles above are those of H only.
 	Stability string `json:"stability"`
+	// ReducedModel says, above the reduced-model size, which verified
+	// model the samples come from; TimeCheck how they were held to the
+	// integration of the full circuit (when they were).
+	ReducedModel *reducedJSON   `json:"reduced_model,omitempty"`
+	TimeCheck    *timeCheckJSON `json:"time_check,omitempty"`
+	// ReducedRefused says why a reduced model's samples were refused
+	// when those shown are the full extraction's instead.
+	ReducedRefused string `json:"reduced_model_refused,omitempty"`
 }
 
 // modeJSON is one term t^power·e^(σt)·(cos·cos ωt + sin·sin ωt).

@@ -36,6 +36,7 @@ var schemaCases = []struct {
 	{"check", []string{"check", rcFile, "--out", "out", "--ode", "R1*C1*y' + y = u", "--format", "json"}},
 	{"drive", []string{"drive", rcFile, "--out", "out", "--signal", "sin(2*pi*1k*t) + 1", "--format", "json"}},
 	{"time_step", []string{"time", "../../testdata/examples/logger_antialias.nodal", "--out", "out", "--points", "5", "--format", "json"}},
+	{"time_reduced", []string{"time", "../../testdata/perf/cable_ladder_1000.nodal", "--out", "n1000", "--points", "5", "--format", "json"}},
 	{"time_impulse", []string{"time", rcFile, "--input", "impulse", "--out", "out", "--points", "5", "--format", "json"}},
 	{"tolerance", []string{"tolerance", rcFile, "--out", "out", "--metric", "f3db", "--metric", "gain@1kHz", "--worst-case", "--sensitivity", "--runs", "20", "--format", "json"}},
 	{"verify", []string{"verify", "testdata/bridge_pass.nodal", "--runs", "20", "--format", "json"}},

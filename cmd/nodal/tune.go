@@ -532,7 +532,7 @@ func (b *tuneBackend) analyse(ctx context.Context, c *netlist.Circuit, v *tuneVa
 	}
 	doc.Bode = responseJSON(sw)
 	doc.Bode.stabilityJSON = newStabilityJSON(res)
-	st, err := timeresp.Step(r.tf, timeresp.TimeOptions{Points: 400})
+	st, err := checkedStep(ctx, r.sys, r.tf, timeresp.TimeOptions{Points: 400}, false)
 	switch {
 	case errors.Is(err, timeresp.ErrNoTimeScale):
 		doc.StepReason = "no time scale: H has no pole off s = 0"
