@@ -2,6 +2,7 @@ package stability
 
 import (
 	"fmt"
+	"slices"
 
 	"nodal/mna"
 	"nodal/netlist"
@@ -95,6 +96,9 @@ func ofMatrices(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 		return nil, err
 	}
 	cl, off := Classify(roots)
+	if cl == Unstable && !slices.ContainsFunc(off, func(r complex128) bool { return real(r) != 0 }) && semisimpleAxis(m.G.Dense(), m.C.Dense(), off) {
+		cl = Marginal // repeated on the axis, but with as many modes as roots
+	}
 	return &Result{Class: cl, Natural: roots, Offending: off, AllNatural: true}, nil
 }
 
@@ -121,7 +125,8 @@ func Analyze(c *netlist.Circuit, opt Options) (*Result, error) {
 
 // involved lists the gain elements p (with want(p)) whose broken control
 // leaves provably fewer offending natural frequencies than res has in the
-// circuit of m. Only the gain elements are tried (mna.Matrices.GainParts):
+// circuit of m, or whose broken control leaves an unstable circuit
+// marginal. Only the gain elements are tried (mna.Matrices.GainParts):
 // the other parts have no control to break. A broken circuit whose
 // result is not complete counts only when it is proven free of what res
 // found: not Unchecked, and either every frequency known or not Unstable.
@@ -139,7 +144,10 @@ func involved(c *netlist.Circuit, m *mna.Matrices, res *Result, want func(string
 		if err != nil || b.Class == Unchecked || (!b.AllNatural && b.Class == Unstable) {
 			continue
 		}
-		if len(b.Offending) < len(res.Offending) {
+		// Fewer offending frequencies, or the same ones no longer growing
+		// (a tank driven at its own resonance by its twin through the
+		// part: the broken circuit is two free tanks, marginal).
+		if len(b.Offending) < len(res.Offending) || res.Class == Unstable && b.Class == Marginal {
 			out = append(out, name)
 		}
 	}

@@ -6,7 +6,6 @@ import (
 	"math"
 	"math/cmplx"
 	"slices"
-
 )
 
 // ErrUnstable marks a circuit whose natural frequencies are not all in
@@ -21,10 +20,13 @@ const (
 	// Stable: every natural frequency in the open left half-plane.
 	Stable Class = iota
 	// Marginal: the rightmost natural frequencies lie on the jω axis and
-	// are simple; none is in the right half-plane.
+	// are simple, or repeated with as many independent modes as their
+	// multiplicity (ofMatrices, semisimpleAxis); none is in the right
+	// half-plane.
 	Marginal
 	// Unstable: a natural frequency in the right half-plane, or a repeated
-	// one on the jω axis.
+	// one on the jω axis (Classify; ofMatrices makes it Marginal when the
+	// repeated root is semisimple).
 	Unstable
 	// Unchecked: the circuit has more than MaxUnknowns unknowns and a
 	// diagonal block of its pencil larger than MaxUnknowns with active

@@ -43,6 +43,12 @@ func TestAnalyzeCircuits(t *testing.T) {
 		// 1/(RC)² /s²: a double frequency at 0.
 		{file: "double_integrator.nodal", class: Unstable, offending: []complex128{0, 0}, src: "common practice"},
 		{file: "sallen_key_ideal.nodal", class: Stable, src: "common practice"},
+		// A repeated frequency on the axis with as many independent modes
+		// as its multiplicity gives bounded responses; only a Jordan chain
+		// (t·e^(s0·t)) grows (common practice).
+		{file: "capacitive_divider.nodal", class: Marginal, offending: []complex128{0, 0}, src: "two floating nodes: G zero on both"},
+		{file: "twin_tanks.nodal", class: Marginal, offending: []complex128{complex(0, 1e5), complex(0, 1e5), complex(0, -1e5), complex(0, -1e5)}, src: "common practice"},
+		{file: "driven_twin_tank.nodal", class: Unstable, offending: []complex128{complex(0, 1e5), complex(0, 1e5), complex(0, -1e5), complex(0, -1e5)}, involved: []string{"G1"}, src: "resonant drive: t·sin(ω0·t)"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.file, func(t *testing.T) {

@@ -12,12 +12,14 @@ import (
 // double pole splits by ~1e-8 and a triple by ~1e-5 relative; poles closer
 // than clusterRel relative to their size are treated as one repeated pole.
 // Values within axisRel of an axis (relative to the pole's magnitude) are
-// put on it. absRel scales an absolute floor from the largest pole, so that
-// a pole computed as 1e-20 next to poles of 1e3 counts as s = 0.
+// put on it. There is no absolute floor: the poles come from
+// transfer.Extract, which already sets the roots at s = 0 exactly (its rank
+// test), so a small pole next to large ones is genuine. A 1 TΩ·1 pF input
+// behind a 1 kΩ·1 nF filter has poles at −1e-3 and −1e9 rad/s; a floor of
+// 1e-12 of the largest pole made the first one s = 0 and the step a ramp.
 const (
 	clusterRel = 1e-5
 	axisRel    = 1e-9
-	absRel     = 1e-12
 )
 
 // poleGroup is a distinct pole p of multiplicity mult.
@@ -32,14 +34,11 @@ type poleGroup struct {
 // conjugate pairs of equal multiplicity. Groups are sorted by real part
 // descending (slowest/most unstable first), then imaginary part descending.
 func clusterPoles(ps []complex128) ([]poleGroup, error) {
-	scale := 0.0
 	for _, p := range ps {
 		if cmplx.IsInf(p) || cmplx.IsNaN(p) {
 			return nil, fmt.Errorf("pole %v is not finite", p)
 		}
-		scale = math.Max(scale, cmplx.Abs(p))
 	}
-	abs := absRel * scale
 	parent := make([]int, len(ps))
 	for i := range parent {
 		parent[i] = i
@@ -53,7 +52,7 @@ func clusterPoles(ps []complex128) ([]poleGroup, error) {
 	}
 	for i := range ps {
 		for j := i + 1; j < len(ps); j++ {
-			tol := clusterRel*math.Max(cmplx.Abs(ps[i]), cmplx.Abs(ps[j])) + abs
+			tol := clusterRel * math.Max(cmplx.Abs(ps[i]), cmplx.Abs(ps[j]))
 			if cmplx.Abs(ps[i]-ps[j]) <= tol {
 				parent[find(j)] = find(i)
 			}
@@ -74,8 +73,8 @@ func clusterPoles(ps []complex128) ([]poleGroup, error) {
 	for _, r := range roots {
 		c := sums[r] / complex(float64(counts[r]), 0)
 		re, im := real(c), imag(c)
-		tolAxis := axisRel*cmplx.Abs(c) + abs
-		if math.Abs(im) <= clusterRel*cmplx.Abs(c)+abs {
+		tolAxis := axisRel * cmplx.Abs(c)
+		if math.Abs(im) <= clusterRel*cmplx.Abs(c) {
 			im = 0
 		}
 		if math.Abs(re) <= tolAxis {
@@ -96,7 +95,7 @@ func clusterPoles(ps []complex128) ([]poleGroup, error) {
 		}
 		ok := false
 		for _, h := range groups {
-			tol := clusterRel*cmplx.Abs(g.p) + abs
+			tol := clusterRel * cmplx.Abs(g.p)
 			if h.mult == g.mult && cmplx.Abs(h.p-cmplx.Conj(g.p)) <= tol {
 				ok = true
 				break

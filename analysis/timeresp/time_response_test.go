@@ -380,3 +380,58 @@ func BenchmarkStepEighthOrder(b *testing.B) {
 		}
 	}
 }
+
+// Two real poles decades apart, H = p1·p2/((s − p1)(s − p2)): the step is
+// y(t) = 1 + (p2·e^(p1·t) − p1·e^(p2·t))/(p1 − p2) (standard Laplace
+// table, common practice). The first row is a 1 TΩ·1 pF electrometer input
+// behind a 1 kΩ·1 nF filter: D(s) = s² + 1001000001·s + 10⁶ (hand-written
+// node equations), roots from the quadratic formula with mpmath at 40
+// digits. A floor of 10⁻¹² of the largest pole once put the slow pole at
+// s = 0 and printed the step as a ramp t/1ks; then the matrix exponential,
+// off by 1.5e-4 at twelve decades of stiffness, replaced the exact partial
+// fractions. The slow pole must stay a pole, the closed form must be kept,
+// and the samples, final value, rise and settling times must match.
+func TestStepWidelySeparatedPoles(t *testing.T) {
+	for _, c := range []struct {
+		name   string
+		p1, p2 float64
+	}{
+		{"electrometer 1e-3 and 1e9 rad/s", -9.990009980039930119780419e-4, -1001000000.999000999001996},
+		{"1 and 1e14 rad/s", -1, -1e14},
+		{"1e-6 and 1e6 rad/s", -1e-6, -1e6},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			h := tfRoots(c.p1*c.p2, nil, []complex128{complex(c.p1, 0), complex(c.p2, 0)})
+			r, err := Step(h, TimeOptions{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if r.ClosedFormWithheld != "" || r.IllConditioned {
+				t.Errorf("closed form withheld: %q", r.ClosedFormWithheld)
+			}
+			for _, m := range r.Modes {
+				if m.SigmaPerS == 0 && m.Power > 0 {
+					t.Errorf("mode %+v: a ramp, the slow pole taken for s = 0", m)
+				}
+			}
+			tau := -1 / c.p1
+			if math.Abs(r.SpanS-7*tau) > 1e-9*7*tau {
+				t.Errorf("span %g s, want 7 slow time constants %g s", r.SpanS, 7*tau)
+			}
+			exact := func(t float64) float64 {
+				return 1 + (c.p2*math.Exp(c.p1*t)-c.p1*math.Exp(c.p2*t))/(c.p1-c.p2)
+			}
+			for _, p := range r.Points {
+				if d := math.Abs(p.Y - exact(p.TS)); d > 1e-9 {
+					t.Fatalf("y(%g) = %.12g, want %.12g", p.TS, p.Y, exact(p.TS))
+				}
+			}
+			m := r.Metrics
+			closeTo(t, "final", m.Final, 1, 1e-12)
+			// the fast pole delays the slow exponential by 1/|p2|, negligible here
+			closeTo(t, "rise", m.RiseTimeS, math.Log(9)*tau, 1e-6)
+			closeTo(t, "settling", m.SettlingTimeS, math.Log(50)*tau, 1e-6)
+			mustJSON(t, r)
+		})
+	}
+}

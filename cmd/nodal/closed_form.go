@@ -104,6 +104,9 @@ func groupPieces(ms []timeresp.Mode) []piece {
 				out = append(out, piece{m.Cos, ""})
 				continue
 			}
+			if m.Cos == 0 {
+				continue // no such term: 0^(−1/k) would print t/+Inf
+			}
 			T := math.Pow(math.Abs(m.Cos), -1/float64(m.Power))
 			out = append(out, piece{math.Copysign(1, m.Cos), powerText("t/"+notation.Compact(T, "s"), m.Power)})
 		}

@@ -52,6 +52,10 @@ func TestClosedForm(t *testing.T) {
 			want: "y(t) = 1 − (1 + t/1ms + 0.5·(t/1ms)²)·e^(−t/1ms)"},
 		{name: "repeated pair", h: transfer.FromRoots(1, nil, []complex128{rp, cmplx.Conj(rp), rp, cmplx.Conj(rp)}), impulse: true,
 			want: "·(t/3.33s)·e^(−t/3.33s)·sin(2π·152mHz·t", contain: true},
+		// 1/(sτ)² steps to t²/(2τ²) = (t/(√2·τ))², with no t¹ term (two
+		// ideal integrators in cascade; the zero t coefficient once printed
+		// as "t/+Inffs").
+		{name: "double integrator", h: transfer.FromRoots(1/(tau*tau), nil, []complex128{0, 0}), opt: timeresp.TimeOptions{UntilS: 5e-3}, want: "y(t) = (t/1.41ms)²"},
 		{name: "integrator", h: transfer.FromRoots(1/tau, nil, []complex128{0}), opt: timeresp.TimeOptions{UntilS: 5e-3}, want: "y(t) = t/1ms"},
 		{name: "unstable", h: transfer.FromRoots(-1/tau, nil, []complex128{1 / tau}), want: "y(t) = 1 − e^(t/1ms)"},
 	} {

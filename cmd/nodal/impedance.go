@@ -134,6 +134,11 @@ func (c *impedanceCmd) Run(e *env) error {
 			hi = response.Extreme{FreqHz: x.FreqHz, Mag: x.Mag}
 		}
 	}
+	if ok { // the extremes between the rows, not only at them
+		eval := func(w float64) complex128 { return r.tf.Eval(complex(0, w)) }
+		lo = response.RefineExtreme(resp, lo, true, eval)
+		hi = response.RefineExtreme(resp, hi, false, eval)
+	}
 	title := r.what
 	if l.circuit.Title != "" {
 		title = l.circuit.Title + ": " + title
