@@ -58,6 +58,9 @@ type MetricEvaluator struct {
 	// direct, when not nil, evaluates runs by restamping and direct
 	// solves (tolerance_direct.go), falling back to the paths above.
 	direct *directPath
+	// swept, when not nil, evaluates every run by direct solves of H
+	// (tolerance_swept.go): the extraction refused the nominal circuit.
+	swept *sweptPath
 }
 
 // NewMetricEvaluator parses the metric names (an unknown one is an error
@@ -86,6 +89,20 @@ func NewMetricEvaluatorAt(nominal *netlist.Circuit, in mna.Input, out mna.Output
 		e.spot = e.spot && m.Spec.Spot
 	}
 	nom, err := e.evalExtract(nominal, false)
+	if err != nil && refused(err) {
+		// A circuit the extraction refuses (too large, ill-conditioned)
+		// takes the swept path when its metrics allow it.
+		sp, serr := newSweptPath(e, nominal)
+		if serr != nil {
+			return nil, fmt.Errorf("nominal circuit: %w; by direct solves: %w", err, serr)
+		}
+		e.phaseRefDeg = make([]float64, len(e.metrics))
+		if nom, err = sp.eval(e, nominal); err != nil {
+			return nil, fmt.Errorf("nominal circuit: %w", err)
+		}
+		e.phaseRefDeg, e.swept = nom, sp
+		return e, nil
+	}
 	if err != nil && e.spot {
 		// Spot metrics need no transfer function (the runs take evalSpot
 		// too): a circuit too large to extract is solved at each point,
@@ -108,6 +125,9 @@ func (e *MetricEvaluator) Metrics() []string { return e.names }
 // circuit that is not stable is an error wrapping stability.ErrUnstable (its
 // metrics do not exist), so tolerance runs count it.
 func (e *MetricEvaluator) Eval(c *netlist.Circuit) ([]float64, error) {
+	if e.swept != nil {
+		return e.swept.eval(e, c)
+	}
 	if e.direct != nil {
 		if v, err := e.direct.eval(e, c); !errors.Is(err, errUncertain) {
 			return v, err
@@ -120,6 +140,12 @@ func (e *MetricEvaluator) Eval(c *netlist.Circuit) ([]float64, error) {
 		return e.evalSpot(c)
 	}
 	return e.evalExtract(c, true)
+}
+
+// refused reports whether err is the extraction refusing a circuit (too
+// large, ill-conditioned) rather than a metric failing on it.
+func refused(err error) bool {
+	return errors.Is(err, transfer.ErrIllConditioned) || errors.Is(err, transfer.ErrTooLarge)
 }
 
 // evalSpot evaluates gain@F, phase@F and dc from H solved at each point.
