@@ -154,7 +154,13 @@ func (e *MetricEvaluator) evalSpot(c *netlist.Circuit) ([]float64, error) {
 	if err != nil {
 		return nil, err
 	}
-	sub := spotSubject{mna.NewSweeper(sys)}
+	return e.evalOn(spotSubject{mna.NewSweeper(sys)})
+}
+
+// evalOn evaluates every metric on sub (a subject of direct solves), each
+// phase moved to the branch of the nominal value; a non-finite value is
+// an error.
+func (e *MetricEvaluator) evalOn(sub netlist.MetricSubject) ([]float64, error) {
 	out := make([]float64, len(e.metrics))
 	for i, m := range e.metrics {
 		v, err := m.Spec.Eval(sub, m.Param)
@@ -164,10 +170,10 @@ func (e *MetricEvaluator) evalSpot(c *netlist.Circuit) ([]float64, error) {
 		if m.Spec.Turns {
 			v = e.nearBranch(i, v)
 		}
-		out[i] = v
-		if math.IsNaN(out[i]) || math.IsInf(out[i], 0) {
-			return nil, nonFiniteMetric(m.Name, out[i])
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, nonFiniteMetric(m.Name, v)
 		}
+		out[i] = v
 	}
 	return out, nil
 }

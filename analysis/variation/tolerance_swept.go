@@ -206,22 +206,7 @@ func (p *sweptPath) eval(e *MetricEvaluator, c *netlist.Circuit) ([]float64, err
 		}
 		sw = mna.NewSweeper(sys)
 	}
-	sub := sweptSubject{spotSubject{sw}, p}
-	out := make([]float64, len(e.metrics))
-	for i, m := range e.metrics {
-		v, err := m.Spec.Eval(sub, m.Param)
-		if err != nil {
-			return nil, fmt.Errorf("%s: %w", m.Name, err)
-		}
-		if m.Spec.Turns {
-			v = e.nearBranch(i, v)
-		}
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, nonFiniteMetric(m.Name, v)
-		}
-		out[i] = v
-	}
-	return out, nil
+	return e.evalOn(sweptSubject{spotSubject{sw}, p})
 }
 
 // keepsCertificate reports whether the nominal circuit's passivity
