@@ -23,8 +23,10 @@ import (
 // the reference as for the extraction path's low-pass. Let
 // g(u) = ln|H(jω)|² − ln(|H(0)|²/2), ω = e^u rad/s: g starts at ln 2 at
 // DC and the crossing is its first sign change. It is found on the log
-// grid of sweptPerDecade points a decade from lo, the nominal circuit's
-// flat band (below it the nominal |H| stays within sweptFlat of |H(0)|),
+// grid of sweptPerDecade points a decade from lo, one decade below the
+// end of the nominal circuit's flat band (from sweptLowHz up, the grid
+// points where the nominal |H|² stays within sweptFlat of |H(0)|²: a run
+// whose parts move by tolerances is not expected to fall by half there),
 // up to hi, sweptAbove decades past the nominal crossing; the bracket is
 // closed by Newton steps on g from the same solves (d g/du =
 // 2·Re(jω·H′/H), kept inside the bracket: closeBracket) to about
@@ -46,8 +48,9 @@ import (
 const (
 	// sweptPerDecade is the spacing of the f3db scan, points a decade of ω.
 	sweptPerDecade = 40
-	// sweptFlat: the scan of a run starts one decade below the highest
-	// nominal grid point whose |H|² is within this (relative) of |H(0)|².
+	// sweptFlat: the scan of a run starts one decade below the last
+	// nominal grid point of the flat band, where |H|² stays within this
+	// (relative) of |H(0)|².
 	sweptFlat = 1e-2
 	// sweptAbove: decades scanned past the nominal crossing.
 	sweptAbove = 4
@@ -137,7 +140,7 @@ func (p *sweptPath) nominalRange(sw *mna.Sweeper) error {
 		return err
 	}
 	step := math.Ln10 / sweptPerDecade
-	flat := lo
+	flat, inBand := lo, true
 	for i := 0; ; i++ {
 		u := lo + float64(i)*step
 		if u > hi {
@@ -154,7 +157,9 @@ func (p *sweptPath) nominalRange(sw *mna.Sweeper) error {
 			p.lo, p.hi = flat-math.Ln10, u+sweptAbove*math.Ln10
 			return nil
 		}
-		if g >= math.Ln2+math.Log1p(-sweptFlat) {
+		// g − ln 2 = ln(|H|²/|H(0)|²).
+		inBand = inBand && math.Abs(g-math.Ln2) <= -math.Log1p(-sweptFlat)
+		if inBand {
 			flat = u
 		}
 	}
@@ -185,6 +190,16 @@ func levelAt(sw *mna.Sweeper, u, target float64) (g, dg float64, err error) {
 		return math.Inf(-1), 0, nil
 	}
 	return logMag2(h) - target, 2 * real(complex(0, om)*dh/h), nil
+}
+
+// levelPair returns g at ua and ub (see levelAt), both solved in one
+// Sweeper.EvalPair.
+func levelPair(sw *mna.Sweeper, ua, ub, target float64) ([2]float64, error) {
+	ha, _, hb, _, errA, errB := sw.EvalPair(complex(0, math.Exp(ua)), complex(0, math.Exp(ub)))
+	if err := errors.Join(errA, errB); err != nil {
+		return [2]float64{}, err
+	}
+	return [2]float64{logMag2(ha) - target, logMag2(hb) - target}, nil
 }
 
 // eval returns the metrics of the run c (spot values and f3db).
@@ -255,15 +270,21 @@ func (p *sweptPath) crossing(sw *mna.Sweeper) (float64, error) {
 	}
 	step := math.Ln10 / sweptPerDecade
 	prevU, prevG := 0.0, 0.0
+	// The grid is solved two points at a time (Sweeper.EvalPair factors
+	// both in one pass), then visited in order.
+	var pair [2]float64
 	for i := 0; ; i++ {
 		u := p.lo + float64(i)*step
 		if u > p.hi+step/2 {
 			return 0, fmt.Errorf("%w: |H| stays above |H(0)|/√2 up to %.4g Hz", errNoCrossing, math.Exp(p.hi)/(2*math.Pi))
 		}
-		g, _, err := levelAt(sw, u, target)
-		if err != nil {
-			return 0, err
+		if i%2 == 0 {
+			var err error
+			if pair, err = levelPair(sw, u, u+step, target); err != nil {
+				return 0, err
+			}
 		}
+		g := pair[i%2]
 		if g <= 0 {
 			if i == 0 {
 				return 0, fmt.Errorf("%w: |H| is already below |H(0)|/√2 at %.4g Hz, the bottom of the scan", errNoCrossing, math.Exp(u)/(2*math.Pi))
