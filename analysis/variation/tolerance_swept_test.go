@@ -234,3 +234,37 @@ func BenchmarkSweptLadder(b *testing.B) {
 		})
 	}
 }
+
+// TestSweptLadderScaling checks a run of the swept path against time
+// scaling (common practice): every R and C of an RC network times k
+// divides each natural frequency, hence f3db, by k², so the 1,000-section
+// ladder with both at 1.01 (and both at 0.99) must give the nominal f3db
+// over 1.01² (0.99²), to 1e-10 relative (the solves' rounding, see
+// TestSweptLadderF3dBReference); the run is certified (no stability
+// analysis), the nominal range serves it.
+func TestSweptLadderScaling(t *testing.T) {
+	const n = 1000
+	c := tolLoad(t, ladderSrc(n, "±1%"))
+	ev := tolEvaluator(t, c, fmt.Sprintf("n%d", n), "f3db")
+	if ev.swept == nil || !ev.swept.certified {
+		t.Fatal("not on the certified swept path")
+	}
+	nominal := ev.phaseRefDeg
+	for _, k := range []float64{1.01, 0.99} {
+		f := make([]float64, len(c.Variations))
+		for i := range f {
+			f[i] = k
+		}
+		vc, err := c.Vary(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got, err := ev.Eval(vc)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if want := nominal[0] / (k * k); math.Abs(got[0]-want) > 1e-10*want {
+			t.Errorf("k = %g: f3db %.15g Hz, want %.15g", k, got[0], want)
+		}
+	}
+}
