@@ -14,8 +14,8 @@ import (
 
 // The swept path of a MetricEvaluator: the metrics of circuits whose
 // transfer function the extraction refuses (past transfer.MaxExtractUnknowns,
-// or transfer.ErrIllConditioned) and whose metrics are spot values and
-// f3db. Every run is restamped into the nominal system's pattern
+// or transfer.ErrIllConditioned) and whose metrics are spot values, f3db,
+// peak and fpeak. Every run is restamped into the nominal system's pattern
 // (mna.Restamper; a draw the pattern does not take is rebuilt) and H is
 // solved directly (mna.Sweeper on the sparse LU): no pole is computed.
 //
@@ -35,6 +35,12 @@ import (
 // the grid vouches for: an error saying where it looked. The grid is the
 // one bound of this method: a dip below −3 dB that lies wholly between
 // two grid points (5.9 % apart in ω at 40 a decade) is not seen.
+//
+// peak and fpeak: the DC end and every maximum of ln|H|² on the same
+// grid (lo to hi, the nominal −3 dB point fixing it), each closed by
+// bisection on the sign of the slope from direct solves (peakOf); the
+// scan must end with |H| falling below the peak, and a place within
+// rounding of another candidate's gain is not served.
 //
 // Stability. A nominal circuit proven strictly stable by the passivity
 // certificate (stability.ReasonPassive) stays proven for a draw that
@@ -91,6 +97,8 @@ func newSweptPath(e *MetricEvaluator, nominal *netlist.Circuit) (*sweptPath, err
 		case m.Spec.Spot:
 		case m.Spec.Name == "f3db":
 			p.f3db = true
+		case m.Spec.Name == "peak" || m.Spec.Name == "fpeak":
+			p.f3db = true // the peak scan uses the f3db scan's range
 		default:
 			return nil, fmt.Errorf("%s needs the transfer function's poles or the whole circuit", m.Name)
 		}
@@ -144,7 +152,7 @@ func (p *sweptPath) nominalRange(sw *mna.Sweeper) error {
 	for i := 0; ; i++ {
 		u := lo + float64(i)*step
 		if u > hi {
-			return fmt.Errorf("f3db: |H| stays above |H(0)|/√2 from %g Hz to %g Hz", sweptLowHz, sweptHighHz)
+			return fmt.Errorf("the direct search range is set by the nominal −3 dB point: |H| stays above |H(0)|/√2 from %g Hz to %g Hz", sweptLowHz, sweptHighHz)
 		}
 		g, _, err := levelAt(sw, u, target)
 		if err != nil {
@@ -152,7 +160,7 @@ func (p *sweptPath) nominalRange(sw *mna.Sweeper) error {
 		}
 		if g <= 0 {
 			if i == 0 {
-				return fmt.Errorf("f3db: |H| is already below |H(0)|/√2 at %g Hz", sweptLowHz)
+				return fmt.Errorf("the direct search range is set by the nominal −3 dB point: |H| is already below |H(0)|/√2 at %g Hz", sweptLowHz)
 			}
 			p.lo, p.hi = flat-math.Ln10, u+sweptAbove*math.Ln10
 			return nil
@@ -170,11 +178,11 @@ func (p *sweptPath) nominalRange(sw *mna.Sweeper) error {
 func halfPowerLevel(sw *mna.Sweeper) (float64, error) {
 	h0, _, err := sw.Eval(0)
 	if err != nil {
-		return 0, fmt.Errorf("f3db: the DC gain is the reference of a direct −3 dB search: %w", err)
+		return 0, fmt.Errorf("the DC gain is the reference of a direct −3 dB search: %w", err)
 	}
 	a := logMag2(h0)
 	if math.IsInf(a, 0) || math.IsNaN(a) {
-		return 0, fmt.Errorf("f3db: the DC gain |H(0)| = %g is no reference for a direct −3 dB search (a low-pass is needed)", math.Sqrt(math.Exp(a)))
+		return 0, fmt.Errorf("the DC gain |H(0)| = %g is no reference for a direct −3 dB search (a low-pass is needed)", math.Sqrt(math.Exp(a)))
 	}
 	return a - math.Ln2, nil
 }
@@ -221,7 +229,7 @@ func (p *sweptPath) eval(e *MetricEvaluator, c *netlist.Circuit) ([]float64, err
 		}
 		sw = mna.NewSweeper(sys)
 	}
-	return e.evalOn(sweptSubject{spotSubject{sw}, p})
+	return e.evalOn(sweptSubject{spotSubject{sw}, p, &sweptPeak{}})
 }
 
 // keepsCertificate reports whether the nominal circuit's passivity
@@ -250,7 +258,8 @@ func (p *sweptPath) keepsCertificate(c *netlist.Circuit) bool {
 // sweptSubject answers the spot quantities and f3db by direct solves.
 type sweptSubject struct {
 	spotSubject
-	p *sweptPath
+	p    *sweptPath
+	peak *sweptPeak // the run's peak, found once for peak and fpeak
 }
 
 // errNoCrossing marks a run with no −3 dB point in the scanned range.
@@ -304,5 +313,121 @@ func (p *sweptPath) crossing(sw *mna.Sweeper) (float64, error) {
 			return x, solveErr
 		}
 		prevU, prevG = u, g
+	}
+}
+
+// sweptPeak is one run's peak: |H| at its maximum (ratio), where (rad/s,
+// 0 at DC), the error of the search and of the place alone.
+type sweptPeak struct {
+	done           bool
+	gain, omegaRad float64
+	err, placeErr  error
+}
+
+// sweptPeakTie: two candidates for the peak whose ln|H|² differ by less
+// than this are a tie that rounding decides (the gains differ by less than
+// 4.4·10⁻¹¹ dB): the peak gain stands, its place is not served.
+const sweptPeakTie = 1e-11
+
+func (s sweptSubject) PeakDB() (float64, error) {
+	s.findPeak()
+	return 20 * math.Log10(s.peak.gain), s.peak.err
+}
+
+func (s sweptSubject) PeakHz() (float64, error) {
+	s.findPeak()
+	if s.peak.err != nil {
+		return 0, s.peak.err
+	}
+	return s.peak.omegaRad / (2 * math.Pi), s.peak.placeErr
+}
+
+func (s sweptSubject) findPeak() {
+	if !s.peak.done {
+		s.peak.done = true
+		s.p.peakOf(s.sw, s.peak)
+	}
+}
+
+// peakOf finds the largest |H(jω)| of the loaded run: the DC end and
+// every maximum of ln|H|² on the f3db scan's grid [lo, hi], each closed
+// by bisection on the sign of d ln|H|²/d ln ω = 2·Re(jω·H′/H) from direct
+// solves. The scan must end falling, below the peak (a gain still rising
+// at hi, or a biproper H whose limit might compete, is an error saying
+// so); a maximum within sweptPeakTie of another candidate leaves the
+// place unserved.
+func (p *sweptPath) peakOf(sw *mna.Sweeper, pk *sweptPeak) {
+	h0, _, err := sw.Eval(0)
+	if err != nil {
+		pk.err = fmt.Errorf("the DC end of a direct peak search: %w", err)
+		return
+	}
+	best, second := logMag2(h0), math.Inf(-1)
+	bestU := math.Inf(-1)
+	slope := func(u float64) (float64, error) {
+		om := math.Exp(u)
+		h, dh, err := sw.Eval(complex(0, om))
+		if err != nil {
+			return 0, err
+		}
+		return 2 * real(complex(0, om)*dh/h), nil
+	}
+	step := math.Ln10 / sweptPerDecade
+	n := int(math.Ceil((p.hi-p.lo)/step)) + 1
+	g := make([]float64, n)
+	for i := 0; i < n; i += 2 {
+		u := p.lo + float64(i)*step
+		ha, _, hb, _, errA, errB := sw.EvalPair(complex(0, math.Exp(u)), complex(0, math.Exp(u+step)))
+		if err := errors.Join(errA, errB); err != nil {
+			pk.err = err
+			return
+		}
+		g[i] = logMag2(ha)
+		if i+1 < n {
+			g[i+1] = logMag2(hb)
+		}
+	}
+	for i := 1; i+1 < n; i++ {
+		if !(g[i] > g[i-1] && g[i] >= g[i+1]) {
+			continue
+		}
+		// A maximum between u[i-1] and u[i+1]: bisect the slope's sign.
+		a, b := p.lo+float64(i-1)*step, p.lo+float64(i+1)*step
+		for it := 0; it < 200 && b-a > 1e-15*math.Max(1, math.Abs(a)); it++ {
+			mid := 0.5 * (a + b)
+			d, err := slope(mid)
+			if err != nil {
+				pk.err = err
+				return
+			}
+			if d > 0 {
+				a = mid
+			} else {
+				b = mid
+			}
+		}
+		u := 0.5 * (a + b)
+		h, _, err := sw.Eval(complex(0, math.Exp(u)))
+		if err != nil {
+			pk.err = err
+			return
+		}
+		if v := logMag2(h); v > best {
+			best, second, bestU = v, best, u
+		} else {
+			second = math.Max(second, v)
+		}
+	}
+	top := p.lo + float64(n-1)*step
+	if d, err := slope(top); err != nil || !(d < 0 && g[n-1] < best) {
+		pk.err = fmt.Errorf("|H| does not fall below its peak by %.4g Hz, the top of the scan: no peak the scan vouches for", math.Exp(top)/(2*math.Pi))
+		return
+	}
+	pk.gain = math.Sqrt(math.Exp(best))
+	if !math.IsInf(bestU, -1) {
+		pk.omegaRad = math.Exp(bestU)
+	}
+	if best-second <= sweptPeakTie {
+		pk.placeErr = errors.New("two maxima of |H| within rounding of each other: the place of the peak is not determined")
 	}
 }
