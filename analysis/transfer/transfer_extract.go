@@ -50,6 +50,17 @@ var shiftFactors = [...]float64{1, 1.7182818, 0.5772157, 3.1415927, 0.3183099, 7
 // only direct sparse solves (sweeps) are offered.
 const MaxExtractUnknowns = 2000
 
+// ErrTooLarge is wrapped by the error of Extract for a system of more
+// than MaxExtractUnknowns unknowns.
+var ErrTooLarge = errors.New("too large for the transfer-function extraction")
+
+// tooLargeError is Extract's refusal of a large system: its message, and
+// errors.Is(err, ErrTooLarge).
+type tooLargeError struct{ msg string }
+
+func (e tooLargeError) Error() string        { return e.msg }
+func (e tooLargeError) Is(target error) bool { return target == ErrTooLarge }
+
 // Extract returns the exact rational transfer function of the MNA system,
 // H(s) = L·(G + sC)⁻¹·B, in factored and polynomial form (s in rad/s).
 //
@@ -93,7 +104,7 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 		return nil, errors.New("transfer function: empty system")
 	}
 	if n > MaxExtractUnknowns {
-		return nil, fmt.Errorf("transfer function: %d unknowns is more than the %d the full extraction takes (it works on dense n×n copies of G and C); a sweep over a given range (--from, --to) handles this size", n, MaxExtractUnknowns)
+		return nil, tooLargeError{fmt.Sprintf("transfer function: %d unknowns is more than the %d the full extraction takes (it works on dense n×n copies of G and C); a sweep over a given range (--from, --to) handles this size", n, MaxExtractUnknowns)}
 	}
 	for i := 0; i < n; i++ {
 		for j := 0; j < n; j++ {

@@ -58,6 +58,9 @@ type MetricEvaluator struct {
 	// direct, when not nil, evaluates runs by restamping and direct
 	// solves (tolerance_direct.go), falling back to the paths above.
 	direct *directPath
+	// swept, when not nil, evaluates every run by direct solves of H
+	// (tolerance_swept.go): the extraction refused the nominal circuit.
+	swept *sweptPath
 }
 
 // NewMetricEvaluator parses the metric names (an unknown one is an error
@@ -86,6 +89,20 @@ func NewMetricEvaluatorAt(nominal *netlist.Circuit, in mna.Input, out mna.Output
 		e.spot = e.spot && m.Spec.Spot
 	}
 	nom, err := e.evalExtract(nominal, false)
+	if err != nil && refused(err) {
+		// A circuit the extraction refuses (too large, ill-conditioned)
+		// takes the swept path when its metrics allow it.
+		sp, serr := newSweptPath(e, nominal)
+		if serr != nil {
+			return nil, fmt.Errorf("nominal circuit: %w; by direct solves: %w", err, serr)
+		}
+		e.phaseRefDeg = make([]float64, len(e.metrics))
+		if nom, err = sp.eval(e, nominal); err != nil {
+			return nil, fmt.Errorf("nominal circuit: %w", err)
+		}
+		e.phaseRefDeg, e.swept = nom, sp
+		return e, nil
+	}
 	if err != nil && e.spot {
 		// Spot metrics need no transfer function (the runs take evalSpot
 		// too): a circuit too large to extract is solved at each point,
@@ -108,6 +125,9 @@ func (e *MetricEvaluator) Metrics() []string { return e.names }
 // circuit that is not stable is an error wrapping stability.ErrUnstable (its
 // metrics do not exist), so tolerance runs count it.
 func (e *MetricEvaluator) Eval(c *netlist.Circuit) ([]float64, error) {
+	if e.swept != nil {
+		return e.swept.eval(e, c)
+	}
 	if e.direct != nil {
 		if v, err := e.direct.eval(e, c); !errors.Is(err, errUncertain) {
 			return v, err
@@ -122,13 +142,25 @@ func (e *MetricEvaluator) Eval(c *netlist.Circuit) ([]float64, error) {
 	return e.evalExtract(c, true)
 }
 
+// refused reports whether err is the extraction refusing a circuit (too
+// large, ill-conditioned) rather than a metric failing on it.
+func refused(err error) bool {
+	return errors.Is(err, transfer.ErrIllConditioned) || errors.Is(err, transfer.ErrTooLarge)
+}
+
 // evalSpot evaluates gain@F, phase@F and dc from H solved at each point.
 func (e *MetricEvaluator) evalSpot(c *netlist.Circuit) ([]float64, error) {
 	sys, err := mna.Build(c, e.in, e.out)
 	if err != nil {
 		return nil, err
 	}
-	sub := spotSubject{mna.NewSweeper(sys)}
+	return e.evalOn(spotSubject{mna.NewSweeper(sys)})
+}
+
+// evalOn evaluates every metric on sub (a subject of direct solves), each
+// phase moved to the branch of the nominal value; a non-finite value is
+// an error.
+func (e *MetricEvaluator) evalOn(sub netlist.MetricSubject) ([]float64, error) {
 	out := make([]float64, len(e.metrics))
 	for i, m := range e.metrics {
 		v, err := m.Spec.Eval(sub, m.Param)
@@ -138,10 +170,10 @@ func (e *MetricEvaluator) evalSpot(c *netlist.Circuit) ([]float64, error) {
 		if m.Spec.Turns {
 			v = e.nearBranch(i, v)
 		}
-		out[i] = v
-		if math.IsNaN(out[i]) || math.IsInf(out[i], 0) {
-			return nil, nonFiniteMetric(m.Name, out[i])
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, nonFiniteMetric(m.Name, v)
 		}
+		out[i] = v
 	}
 	return out, nil
 }
