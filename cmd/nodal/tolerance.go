@@ -531,7 +531,9 @@ func toleranceTables(w io.Writer, r *toleranceResult) error {
 	return nil
 }
 
-// cornerText writes a corner as "R1+ C1+ R2− C2−" (+ high, − low).
+// cornerText writes a corner as "R1+ C1+ R2− C2−" (+ high, − low); past
+// maxNamesInMessage items it says "every item high" or lists the first
+// ones and how many more, so a 1000-part corner stays one short line.
 func cornerText(c variation.ToleranceCorner) string {
 	var parts []string
 	for _, n := range c.High {
@@ -540,10 +542,17 @@ func cornerText(c variation.ToleranceCorner) string {
 	for _, n := range c.Low {
 		parts = append(parts, n+"−")
 	}
-	if len(parts) == 0 {
+	switch {
+	case len(parts) == 0:
 		return "any corner (no toleranced item moves it)"
+	case len(parts) <= maxNamesInMessage:
+		return strings.Join(parts, " ")
+	case len(c.Low) == 0:
+		return fmt.Sprintf("every toleranced item high (+), all %d of them", len(parts))
+	case len(c.High) == 0:
+		return fmt.Sprintf("every toleranced item low (−), all %d of them", len(parts))
 	}
-	return strings.Join(parts, " ")
+	return fmt.Sprintf("%s … and %d more (--format json lists every item)", strings.Join(parts[:maxNamesInMessage], " "), len(parts)-maxNamesInMessage)
 }
 
 // textHistogram draws bins equal-width bins of values from min to max as

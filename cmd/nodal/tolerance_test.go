@@ -5,6 +5,7 @@ import (
 	"context"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"math"
 	"nodal/analysis/variation"
 	"os"
@@ -218,4 +219,31 @@ func TestCornerTextNamesOnlyWhatMoves(t *testing.T) {
 	if got := cornerText(variation.ToleranceCorner{}); got != "any corner (no toleranced item moves it)" {
 		t.Errorf("empty corner %q", got)
 	}
+	// A corner of many items stays one line (common practice: a message
+	// line stays short; the JSON lists every item).
+	many := make([]string, 1000)
+	for i := range many {
+		many[i] = fmt.Sprintf("R%d", i)
+	}
+	for _, tc := range []struct {
+		c    variation.ToleranceCorner
+		want string
+	}{
+		{variation.ToleranceCorner{High: many}, "every toleranced item high (+), all 1000 of them"},
+		{variation.ToleranceCorner{Low: many}, "every toleranced item low (−), all 1000 of them"},
+		{variation.ToleranceCorner{High: many[:990], Low: many[990:]}, strings.Join(plusAll(many[:20]), " ") + " … and 980 more (--format json lists every item)"},
+	} {
+		if got := cornerText(tc.c); got != tc.want {
+			t.Errorf("cornerText(%d high, %d low) = %q, want %q", len(tc.c.High), len(tc.c.Low), got, tc.want)
+		}
+	}
+}
+
+// plusAll marks every name high, as cornerText writes it.
+func plusAll(names []string) []string {
+	out := make([]string, len(names))
+	for i, n := range names {
+		out[i] = n + "+"
+	}
+	return out
 }
