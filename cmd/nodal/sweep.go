@@ -201,7 +201,7 @@ func sweepTraces(e *env, traces []sweepTrace, freqs []float64, workers int) ([]*
 			}
 			terms = append(terms, r)
 		}
-		r, err := response.Sum(t.label, terms...)
+		r, err := response.Sum(e.ctx, t.label, terms...)
 		if err != nil {
 			return nil, err
 		}
