@@ -13,6 +13,13 @@ import (
 
 // Unwrapping the phase of a sweep by its group delay.
 //
+// The phase is anchored at 0 Hz where H(0) is finite and not 0 (arg H(0)
+// is 0° or 180°, H(0) being real), followed from there to the first point
+// as a step between points: the phase is then the one continuous from DC
+// whatever the sweep's first frequency. Where H has a zero or a pole at
+// 0 Hz (or that first step cannot be resolved), the first point keeps its
+// principal value, in (−180°, 180°].
+//
 // Between two consecutive points with a phase, a and b, the change of
 // arg H is known modulo 360° from the two values of H; the turn is picked
 // by the change the group delay predicts, the trapezoid rule in ln f on
@@ -158,8 +165,11 @@ func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() 
 			idx = append(idx, i)
 		}
 	}
-	if len(idx) < 2 {
+	if len(idx) == 0 {
 		return nil
+	}
+	if len(idx) == 1 {
+		return r.anchorAtDC(ctx, idx[0], newEval)
 	}
 	pt := func(i int) phasePoint { return phasePoint{r.FreqHz[i], r.H[i], r.dh[i]} }
 	delta := make([]float64, len(idx)-1)
@@ -206,6 +216,9 @@ func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() 
 			}
 		}
 	}
+	if err := r.anchorAtDC(ctx, idx[0], newEval); err != nil {
+		return err
+	}
 	for k := range delta {
 		a, b := idx[k], idx[k+1]
 		if !resolved[k] || r.PhaseUnresolved[a] {
@@ -249,4 +262,28 @@ func sumEval(evs []pointEval) pointEval {
 		}
 		return h, dh, false, nil
 	}
+}
+
+// anchorAtDC sets the phase of point i, the first with a phase, to the
+// phase followed from 0 Hz: arg H(0) (0° or 180°, H(0) being real) plus
+// the change from 0 Hz to point i resolved as a step between points. It
+// leaves the principal value where H(0) is 0 or a pole, where that step
+// cannot be resolved, or with no evaluator.
+func (r *Response) anchorAtDC(ctx context.Context, i int, newEval func() pointEval) error {
+	if newEval == nil || r.FreqHz[i] == 0 {
+		return nil
+	}
+	ev := newEval()
+	h, dh, singular, err := ev(0)
+	if err != nil || singular || !(cmplx.Abs(h) >= MinNormalMag) || cmplx.IsInf(h) || cmplx.IsNaN(dh) {
+		return err
+	}
+	budget := refineSolves
+	d, ok, err := resolveStep(ctx, ev, phasePoint{0, h, dh}, phasePoint{r.FreqHz[i], r.H[i], r.dh[i]}, 0, &budget)
+	if err != nil || !ok {
+		return err
+	}
+	want := (cmplx.Phase(h) + d) * 180 / math.Pi
+	r.PhaseDeg[i] += 360 * math.Round((want-r.PhaseDeg[i])/360)
+	return nil
 }

@@ -23,8 +23,8 @@ import (
 // MagDB = 20·log10|H| (−Inf where H = 0). PhaseDeg is arg H in degrees,
 // unwrapped along the sweep by the group delay, whatever the spacing of
 // the points (see unwrapPhase in phase_unwrap.go): the first point with a
-// phase lies in (−180, 180] (the principal value; the phase is anchored
-// there, not at DC), each next one is the previous plus the phase change
+// phase is followed from arg H(0) at 0 Hz, or, where H has a zero or a
+// pole at 0 Hz, is its principal value in (−180, 180]; each next one is the previous plus the phase change
 // between them, followed through exact solves between the points where
 // the step is too coarse to pick the turn from the two ends alone.
 // PhaseUnresolved marks the points after a step whose turn could not be
