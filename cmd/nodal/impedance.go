@@ -179,6 +179,7 @@ func (c *impedanceCmd) Run(e *env) error {
 			return writeJSON(w, doc)
 		}
 		warnStability(e.stderr, stab)
+		warnPhaseUnresolved(e.stderr, []*response.Response{resp})
 		if err := rep.closedForm(w); err != nil {
 			return err
 		}
@@ -220,7 +221,7 @@ func (c *impedanceCmd) Run(e *env) error {
 		fmt.Fprintln(w)
 		ft := newTable(w, "freq_hz", "mag_ohm", "phase_deg")
 		for i, f := range resp.FreqHz {
-			if err := ft.row(num(f), num(resp.Mag[i]), fixed(resp.PhaseDeg[i], 3)); err != nil {
+			if err := ft.row(num(f), num(resp.Mag[i]), phaseCell(resp, i)); err != nil {
 				return err
 			}
 		}
