@@ -151,11 +151,20 @@ func resolveStep(ctx context.Context, ev pointEval, a, b phasePoint, depth int, 
 	}
 }
 
+// phaseStep is one step of the unwrapping: from a to b, the change
+// delta (radians) once resolved.
+type phaseStep struct {
+	a, b           phasePoint
+	delta          float64
+	skip, resolved bool
+}
+
 // unwrapPhase replaces r.PhaseDeg (principal values, NaN where there is
 // no phase) by the phase unwrapped by the group delay (see the top of
-// this file) and sets r.PhaseUnresolved. The steps that need refining are
-// shared among workers goroutines, each with its own evaluator from
-// newEval (nil: no refinement); every step is resolved the same way
+// this file) and sets r.PhaseUnresolved. The steps that need refining
+// (the one from 0 Hz to the first point among them) are shared among
+// workers goroutines, each with its own evaluator from newEval (nil: no
+// refinement and no anchor at 0 Hz); every step is resolved the same way
 // whatever the worker, so the result does not depend on their number.
 func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() pointEval) error {
 	r.PhaseUnresolved = make([]bool, len(r.PhaseDeg))
@@ -168,17 +177,32 @@ func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() 
 	if len(idx) == 0 {
 		return nil
 	}
-	if len(idx) == 1 {
-		return r.anchorAtDC(ctx, idx[0], newEval)
-	}
 	pt := func(i int) phasePoint { return phasePoint{r.FreqHz[i], r.H[i], r.dh[i]} }
-	delta := make([]float64, len(idx)-1)
-	resolved := make([]bool, len(idx)-1)
+	// steps[0] runs from 0 Hz to the first point (skipped where H(0) is
+	// 0 or a pole, or the first point is at 0 Hz); steps[k] from point
+	// idx[k−1] to idx[k].
+	steps := make([]phaseStep, len(idx))
+	steps[0] = phaseStep{b: pt(idx[0]), skip: true}
+	if newEval != nil && r.FreqHz[idx[0]] > 0 {
+		h, dh, singular, err := newEval()(0)
+		if err != nil {
+			return err
+		}
+		if !singular && cmplx.Abs(h) >= MinNormalMag && !cmplx.IsInf(h) && !cmplx.IsNaN(dh) {
+			steps[0].a, steps[0].skip = phasePoint{0, h, dh}, false
+		}
+	}
+	for k := 1; k < len(idx); k++ {
+		steps[k] = phaseStep{a: pt(idx[k-1]), b: pt(idx[k])}
+	}
 	var pending []int
-	for k := range delta {
-		d, pred, dis, res := stepChange(pt(idx[k]), pt(idx[k+1]))
-		if safe(pred, dis, res) {
-			delta[k], resolved[k] = d, true
+	for k := range steps {
+		st := &steps[k]
+		if st.skip {
+			continue
+		}
+		if d, pred, dis, res := stepChange(st.a, st.b); safe(pred, dis, res) {
+			st.delta, st.resolved = d, true
 		} else {
 			pending = append(pending, k)
 		}
@@ -200,9 +224,9 @@ func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() 
 					if j >= len(pending) {
 						return
 					}
-					k := pending[j]
+					st := &steps[pending[j]]
 					budget := refineSolves
-					delta[k], resolved[k], errs[j] = resolveStep(ctx, ev, pt(idx[k]), pt(idx[k+1]), 0, &budget)
+					st.delta, st.resolved, errs[j] = resolveStep(ctx, ev, st.a, st.b, 0, &budget)
 					if errs[j] != nil {
 						return
 					}
@@ -216,18 +240,21 @@ func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() 
 			}
 		}
 	}
-	if err := r.anchorAtDC(ctx, idx[0], newEval); err != nil {
-		return err
+	// The anchor: arg H(0) (0° or 180°, H(0) being real) plus the change
+	// to the first point; else the first point's principal value.
+	if st := steps[0]; !st.skip && st.resolved {
+		want := (cmplx.Phase(st.a.h) + st.delta) * 180 / math.Pi
+		r.PhaseDeg[idx[0]] += 360 * math.Round((want-r.PhaseDeg[idx[0]])/360)
 	}
-	for k := range delta {
-		a, b := idx[k], idx[k+1]
-		if !resolved[k] || r.PhaseUnresolved[a] {
+	for k := 1; k < len(idx); k++ {
+		a, b := idx[k-1], idx[k]
+		if !steps[k].resolved || r.PhaseUnresolved[a] {
 			r.PhaseUnresolved[b] = true
 			continue
 		}
 		// b's principal value on the turn nearest a's phase plus the
 		// change: an exact value plus whole turns, no rounding carried.
-		want := r.PhaseDeg[a] + delta[k]*180/math.Pi
+		want := r.PhaseDeg[a] + steps[k].delta*180/math.Pi
 		r.PhaseDeg[b] += 360 * math.Round((want-r.PhaseDeg[b])/360)
 	}
 	return nil
@@ -262,28 +289,4 @@ func sumEval(evs []pointEval) pointEval {
 		}
 		return h, dh, false, nil
 	}
-}
-
-// anchorAtDC sets the phase of point i, the first with a phase, to the
-// phase followed from 0 Hz: arg H(0) (0° or 180°, H(0) being real) plus
-// the change from 0 Hz to point i resolved as a step between points. It
-// leaves the principal value where H(0) is 0 or a pole, where that step
-// cannot be resolved, or with no evaluator.
-func (r *Response) anchorAtDC(ctx context.Context, i int, newEval func() pointEval) error {
-	if newEval == nil || r.FreqHz[i] == 0 {
-		return nil
-	}
-	ev := newEval()
-	h, dh, singular, err := ev(0)
-	if err != nil || singular || !(cmplx.Abs(h) >= MinNormalMag) || cmplx.IsInf(h) || cmplx.IsNaN(dh) {
-		return err
-	}
-	budget := refineSolves
-	d, ok, err := resolveStep(ctx, ev, phasePoint{0, h, dh}, phasePoint{r.FreqHz[i], r.H[i], r.dh[i]}, 0, &budget)
-	if err != nil || !ok {
-		return err
-	}
-	want := (cmplx.Phase(h) + d) * 180 / math.Pi
-	r.PhaseDeg[i] += 360 * math.Round((want-r.PhaseDeg[i])/360)
-	return nil
 }
