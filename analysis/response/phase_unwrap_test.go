@@ -154,3 +154,27 @@ func TestPhaseUnwrapAxisPole(t *testing.T) {
 		}
 	}
 }
+
+// TestPhaseUnwrapSum: the sum of two sweeps of ten buffered RC stages
+// (2H, the same phase) at one point a decade is refined by solving both
+// terms between the points: −10·atan(ωRC) (closed form, common practice).
+func TestPhaseUnwrapSum(t *testing.T) {
+	fs := []float64{15.9155, 159.155, 1591.55}
+	var terms []*response.Response
+	for range 2 {
+		r, err := response.Sweep(context.Background(), bufferedRC(t, 10), fs, 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		terms = append(terms, r)
+	}
+	sum, err := response.Sum(context.Background(), "twice", terms...)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, f := range fs {
+		if want := bufferedRCPhaseDeg(10, f); math.Abs(sum.PhaseDeg[i]-want) > 1e-9 || sum.PhaseUnresolved[i] {
+			t.Errorf("%g Hz: phase %.12g° (unresolved %v), want %.12g°", f, sum.PhaseDeg[i], sum.PhaseUnresolved[i], want)
+		}
+	}
+}

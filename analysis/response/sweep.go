@@ -24,9 +24,11 @@ import (
 // unwrapped along the sweep by the group delay, whatever the spacing of
 // the points (see unwrapPhase in phase_unwrap.go): the first point with a
 // phase is followed from arg H(0) at 0 Hz, or, where H has a zero or a
-// pole at 0 Hz, is its principal value in (−180, 180]; each next one is the previous plus the phase change
-// between them, followed through exact solves between the points where
-// the step is too coarse to pick the turn from the two ends alone.
+// pole at 0 Hz, is its principal value in (−180, 180]; each next one is
+// the previous plus the phase change between them, followed through
+// exact solves between the points where the step is too coarse to pick
+// the turn from the two ends alone; a pole on the jω axis between two
+// points is a jump of −180°, a zero +180°.
 // PhaseUnresolved marks the points after a step whose turn could not be
 // resolved: their PhaseDeg is the principal value. GroupDelayS is
 // τ = −d(arg H)/dω = −Re(H'(s)/H(s)) at s = jω in seconds, computed exactly
