@@ -165,6 +165,7 @@ func (c *impedanceCmd) Run(e *env) error {
 		return err
 	}
 	rep := newTFReport(r)
+	warnPhaseUnresolved(e.stderr, []*response.Response{resp})
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		if c.Format == "json" {
 			doc := impedanceJSON{tfJSON: tfDoc(rep), Points: []impedancePoint{}}
@@ -179,7 +180,6 @@ func (c *impedanceCmd) Run(e *env) error {
 			return writeJSON(w, doc)
 		}
 		warnStability(e.stderr, stab)
-		warnPhaseUnresolved(e.stderr, []*response.Response{resp})
 		if err := rep.closedForm(w); err != nil {
 			return err
 		}
