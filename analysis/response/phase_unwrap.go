@@ -53,24 +53,32 @@ const (
 // pole (no H). err is a solver failure other than a singular matrix.
 type pointEval func(fHz float64) (h, dh complex128, singular bool, err error)
 
-// phasePoint is one point of a step: frequency (Hz), H and dH/ds.
+// phasePoint is one point of a step: frequency (Hz), H and dH/ds, the
+// slope dφ/dω = −τ (s) and the principal arg H (radians).
 type phasePoint struct {
-	f     float64
-	h, dh complex128
+	f       float64
+	h, dh   complex128
+	slope   float64
+	phaseRd float64
+}
+
+// newPhasePoint is the point at fHz with H = h and dH/ds = dh.
+func newPhasePoint(fHz float64, h, dh complex128) phasePoint {
+	return phasePoint{fHz, h, dh, real(dh / h), cmplx.Phase(h)}
 }
 
 // stepChange is the phase change from a to b (radians): the change of
 // arg H on the turn nearest the prediction, the prediction, half the
 // difference between the two ends' predictions and the residual.
 func stepChange(a, b phasePoint) (delta, pred, disagree, resid float64) {
-	ga, gb := real(a.dh/a.h), real(b.dh/b.h) // dφ/dω = −τ (s)
+	ga, gb := a.slope, b.slope
 	sa, sb, du := ga, gb, 2*math.Pi*(b.f-a.f)
 	if a.f > 0 {
 		sa, sb, du = ga*2*math.Pi*a.f, gb*2*math.Pi*b.f, math.Log(b.f/a.f)
 	}
 	pred = (sa + sb) / 2 * du
 	disagree = math.Abs(sa-sb) * du / 2
-	w := wrapRad(cmplx.Phase(b.h) - cmplx.Phase(a.h))
+	w := wrapRad(b.phaseRd - a.phaseRd)
 	delta = w + 2*math.Pi*math.Round((pred-w)/(2*math.Pi))
 	return delta, pred, disagree, delta - pred
 }
@@ -94,7 +102,7 @@ func axisJump(a, b phasePoint, pred, disagree, resid float64) (float64, bool) {
 		return 0, false
 	}
 	ma, mb := -imag(a.dh/a.h), -imag(b.dh/b.h) // d ln|H|/dω
-	w := wrapRad(cmplx.Phase(b.h) - cmplx.Phase(a.h))
+	w := wrapRad(b.phaseRd - a.phaseRd)
 	turn := func(want float64) float64 { return w + 2*math.Pi*math.Round((want-w)/(2*math.Pi)) }
 	switch {
 	case ma > 0 && mb < 0:
@@ -136,7 +144,7 @@ func resolveStep(ctx context.Context, ev pointEval, a, b phasePoint, depth int, 
 			return 0, false, err
 		}
 		if !singular && cmplx.Abs(h) >= MinNormalMag && !cmplx.IsInf(h) && !cmplx.IsNaN(dh) {
-			m := phasePoint{fm, h, dh}
+			m := newPhasePoint(fm, h, dh)
 			d1, ok, err := resolveStep(ctx, ev, a, m, depth+1, budget)
 			if !ok || err != nil {
 				return 0, false, err
@@ -151,14 +159,6 @@ func resolveStep(ctx context.Context, ev pointEval, a, b phasePoint, depth int, 
 	}
 }
 
-// phaseStep is one step of the unwrapping: from a to b, the change
-// delta (radians) once resolved.
-type phaseStep struct {
-	a, b           phasePoint
-	delta          float64
-	skip, resolved bool
-}
-
 // unwrapPhase replaces r.PhaseDeg (principal values, NaN where there is
 // no phase) by the phase unwrapped by the group delay (see the top of
 // this file) and sets r.PhaseUnresolved. The steps that need refining
@@ -167,45 +167,57 @@ type phaseStep struct {
 // refinement and no anchor at 0 Hz); every step is resolved the same way
 // whatever the worker, so the result does not depend on their number.
 func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() pointEval) error {
-	r.PhaseUnresolved = make([]bool, len(r.PhaseDeg))
-	var idx []int
-	for i, p := range r.PhaseDeg {
-		if !math.IsNaN(p) && r.H[i] != 0 && !math.IsNaN(real(r.dh[i])) {
-			idx = append(idx, i)
+	n := len(r.PhaseDeg)
+	r.PhaseUnresolved = make([]bool, n)
+	has := func(i int) bool { return !math.IsNaN(r.PhaseDeg[i]) && r.H[i] != 0 && !math.IsNaN(r.GroupDelayS[i]) }
+	pt := func(i int) phasePoint {
+		return phasePoint{r.FreqHz[i], r.H[i], r.dh[i], -r.GroupDelayS[i], r.PhaseDeg[i] * math.Pi / 180}
+	}
+	first := -1
+	for i := range n {
+		if has(i) {
+			first = i
+			break
 		}
 	}
-	if len(idx) == 0 {
+	if first < 0 {
 		return nil
 	}
-	pt := func(i int) phasePoint { return phasePoint{r.FreqHz[i], r.H[i], r.dh[i]} }
-	// steps[0] runs from 0 Hz to the first point (skipped where H(0) is
-	// 0 or a pole, or the first point is at 0 Hz); steps[k] from point
-	// idx[k−1] to idx[k].
-	steps := make([]phaseStep, len(idx))
-	steps[0] = phaseStep{b: pt(idx[0]), skip: true}
-	if newEval != nil && r.FreqHz[idx[0]] > 0 {
+	// delta[i] is the change from the previous point with a phase to
+	// point i (NaN until resolved); delta[first] the change from 0 Hz
+	// (NaN where H(0) is 0 or a pole, or the first point is at 0 Hz).
+	// A step to refine goes from a to b, its change into delta[i].
+	type step struct {
+		a, b phasePoint
+		i    int
+	}
+	delta := make([]float64, n)
+	for i := range delta {
+		delta[i] = math.NaN()
+	}
+	var pending []step
+	var dc phasePoint
+	if newEval != nil && r.FreqHz[first] > 0 {
 		h, dh, singular, err := newEval()(0)
 		if err != nil {
 			return err
 		}
 		if !singular && cmplx.Abs(h) >= MinNormalMag && !cmplx.IsInf(h) && !cmplx.IsNaN(dh) {
-			steps[0].a, steps[0].skip = phasePoint{0, h, dh}, false
+			dc = newPhasePoint(0, h, dh)
+			pending = append(pending, step{dc, pt(first), first})
 		}
 	}
-	for k := 1; k < len(idx); k++ {
-		steps[k] = phaseStep{a: pt(idx[k-1]), b: pt(idx[k])}
-	}
-	var pending []int
-	for k := range steps {
-		st := &steps[k]
-		if st.skip {
+	for a, i := first, first+1; i < n; i++ {
+		if !has(i) {
 			continue
 		}
-		if d, pred, dis, res := stepChange(st.a, st.b); safe(pred, dis, res) {
-			st.delta, st.resolved = d, true
+		pa, pb := pt(a), pt(i)
+		if d, pred, dis, res := stepChange(pa, pb); safe(pred, dis, res) {
+			delta[i] = d
 		} else {
-			pending = append(pending, k)
+			pending = append(pending, step{pa, pb, i})
 		}
+		a = i
 	}
 	if len(pending) > 0 {
 		errs := make([]error, len(pending))
@@ -224,11 +236,14 @@ func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() 
 					if j >= len(pending) {
 						return
 					}
-					st := &steps[pending[j]]
+					st := pending[j]
 					budget := refineSolves
-					st.delta, st.resolved, errs[j] = resolveStep(ctx, ev, st.a, st.b, 0, &budget)
-					if errs[j] != nil {
+					d, ok, err := resolveStep(ctx, ev, st.a, st.b, 0, &budget)
+					if errs[j] = err; err != nil {
 						return
+					}
+					if ok {
+						delta[st.i] = d
 					}
 				}
 			}()
@@ -242,20 +257,24 @@ func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() 
 	}
 	// The anchor: arg H(0) (0° or 180°, H(0) being real) plus the change
 	// to the first point; else the first point's principal value.
-	if st := steps[0]; !st.skip && st.resolved {
-		want := (cmplx.Phase(st.a.h) + st.delta) * 180 / math.Pi
-		r.PhaseDeg[idx[0]] += 360 * math.Round((want-r.PhaseDeg[idx[0]])/360)
+	if d := delta[first]; !math.IsNaN(d) {
+		want := (dc.phaseRd + d) * 180 / math.Pi
+		r.PhaseDeg[first] += 360 * math.Round((want-r.PhaseDeg[first])/360)
 	}
-	for k := 1; k < len(idx); k++ {
-		a, b := idx[k-1], idx[k]
-		if !steps[k].resolved || r.PhaseUnresolved[a] {
-			r.PhaseUnresolved[b] = true
+	for a, i := first, first+1; i < n; i++ {
+		if !has(i) {
 			continue
 		}
-		// b's principal value on the turn nearest a's phase plus the
-		// change: an exact value plus whole turns, no rounding carried.
-		want := r.PhaseDeg[a] + steps[k].delta*180/math.Pi
-		r.PhaseDeg[b] += 360 * math.Round((want-r.PhaseDeg[b])/360)
+		if math.IsNaN(delta[i]) || r.PhaseUnresolved[a] {
+			r.PhaseUnresolved[i] = true
+		} else {
+			// i's principal value on the turn nearest a's phase plus
+			// the change: an exact value plus whole turns, no rounding
+			// carried.
+			want := r.PhaseDeg[a] + delta[i]*180/math.Pi
+			r.PhaseDeg[i] += 360 * math.Round((want-r.PhaseDeg[i])/360)
+		}
+		a = i
 	}
 	return nil
 }
