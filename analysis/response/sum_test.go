@@ -1,6 +1,7 @@
 package response
 
 import (
+	"context"
 	"math"
 	"math/cmplx"
 	"testing"
@@ -22,7 +23,7 @@ func TestSum(t *testing.T) {
 	}
 	lp := mk("V", "lp", func(s complex128) complex128 { return 1 / (1 + s) }, func(s complex128) complex128 { return -1 / ((1 + s) * (1 + s)) })
 	hp := mk("V", "hp", func(s complex128) complex128 { return s / (1 + s) }, func(s complex128) complex128 { return 1 / ((1 + s) * (1 + s)) })
-	sum, err := Sum("lp+hp", lp, hp)
+	sum, err := Sum(context.Background(), "lp+hp", lp, hp)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -32,11 +33,11 @@ func TestSum(t *testing.T) {
 		}
 	}
 	other := mk("W", "x", func(s complex128) complex128 { return 1 }, func(s complex128) complex128 { return 0 })
-	if _, err := Sum("bad", lp, other); err == nil {
+	if _, err := Sum(context.Background(), "bad", lp, other); err == nil {
 		t.Error("a sum over two inputs was accepted")
 	}
 	short := newResponse("V", "y", freqs[:2], lp.H[:2], lp.dh[:2], make([]bool, 2), make([]bool, 2))
-	if _, err := Sum("bad", lp, short); err == nil {
+	if _, err := Sum(context.Background(), "bad", lp, short); err == nil {
 		t.Error("a sum over different frequencies was accepted")
 	}
 }

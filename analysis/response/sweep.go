@@ -21,8 +21,16 @@ import (
 // input and output kinds make it); multiply by the System's
 // SourceAmplitude for the phasor the file's drive gives. Mag = |H|;
 // MagDB = 20·log10|H| (−Inf where H = 0). PhaseDeg is arg H in degrees,
-// unwrapped along the sweep: the first point lies in (−180, 180], each next
-// one differs from its predecessor by at most 180°. GroupDelayS is
+// unwrapped along the sweep by the group delay, whatever the spacing of
+// the points (see unwrapPhase in phase_unwrap.go): the first point with a
+// phase is followed from arg H(0) at 0 Hz, or, where H has a zero or a
+// pole at 0 Hz, is its principal value in (−180, 180]; each next one is
+// the previous plus the phase change between them, followed through
+// exact solves between the points where the step is too coarse to pick
+// the turn from the two ends alone; a pole on the jω axis between two
+// points is a jump of −180°, a zero +180°.
+// PhaseUnresolved marks the points after a step whose turn could not be
+// resolved: their PhaseDeg is the principal value. GroupDelayS is
 // τ = −d(arg H)/dω = −Re(H'(s)/H(s)) at s = jω in seconds, computed exactly
 // from dH/ds (NaN where H = 0).
 type Response struct {
@@ -45,8 +53,17 @@ type Response struct {
 	// computed is not |H|. There Mag is 0 and MagDB, PhaseDeg and
 	// GroupDelayS are NaN; the sweep goes on.
 	Underflow []bool
+	// PhaseUnresolved marks the points whose unwrapped phase is not known
+	// to the turn: at or after a step where the change of phase could not
+	// be followed within the refinement budget (or, for a Sum, without a
+	// system to solve between the points). Their PhaseDeg is the
+	// principal value, in (−180, 180]; the sweep goes on.
+	PhaseUnresolved []bool
 
 	dh []complex128 // dH/ds at s = j2πf, for Sum's group delay
+	// systems are the systems whose H sum to this response, solved
+	// between the points for the phase of a Sum.
+	systems []*mna.System
 }
 
 // PoleNote is the reason given for a point of a sweep that sits on a pole.
@@ -198,6 +215,11 @@ func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int)
 		return v, err == nil
 	})
 	r := newResponse(InputLabel(sys.Input), OutputLabel(sys.Output), freqsHz, h, dh, atPole, under)
+	r.systems = []*mna.System{sys}
+	err := r.unwrapPhase(ctx, workers, func() pointEval { return sweeperEval(base.Clone()) })
+	if err != nil {
+		return nil, fmt.Errorf("sweep: phase: %w", err)
+	}
 	return r, nil
 }
 
@@ -208,8 +230,10 @@ const sweepBlock = 32
 // Sum is the response H₁ + H₂ + … of responses over the same frequencies
 // from the same input (a crossover's acoustic sum), labelled output; its
 // group delay is exact, from the sum of the derivatives. A point on a
-// jω-axis pole of any term is on a pole of the sum.
-func Sum(output string, rs ...*Response) (*Response, error) {
+// jω-axis pole of any term is on a pole of the sum. Its phase is
+// unwrapped as Sweep's, solving the terms' systems between the points
+// where a step needs it; it stops with ctx's error when ctx is cancelled.
+func Sum(ctx context.Context, output string, rs ...*Response) (*Response, error) {
 	if len(rs) == 0 {
 		return nil, errors.New("sum of responses: no responses")
 	}
@@ -235,7 +259,30 @@ func Sum(output string, rs ...*Response) (*Response, error) {
 	for i := range n {
 		under[i] = termUnder[i] && !atPole[i] && cmplx.Abs(h[i]) < MinNormalMag
 	}
-	return newResponse(rs[0].Input, output, rs[0].FreqHz, h, dh, atPole, under), nil
+	r := newResponse(rs[0].Input, output, rs[0].FreqHz, h, dh, atPole, under)
+	if len(rs) == 1 {
+		r.PhaseDeg, r.PhaseUnresolved, r.systems = rs[0].PhaseDeg, rs[0].PhaseUnresolved, rs[0].systems
+		return r, nil
+	}
+	// Between the points the sum is refined by solving every term's
+	// systems there.
+	for _, t := range rs {
+		r.systems = append(r.systems, t.systems...)
+	}
+	newEval := func() pointEval {
+		evs := make([]pointEval, len(r.systems))
+		for i, sys := range r.systems {
+			evs[i] = sweeperEval(mna.NewSweeper(sys))
+		}
+		return sumEval(evs)
+	}
+	if len(r.systems) == 0 {
+		newEval = nil
+	}
+	if err := r.unwrapPhase(ctx, 1, newEval); err != nil {
+		return nil, fmt.Errorf("sum of responses: phase: %w", err)
+	}
+	return r, nil
 }
 
 // firstError prefers a solver error over the cancellation it caused, and
@@ -293,7 +340,6 @@ func newResponse(input, output string, freqsHz []float64, h, dh []complex128, at
 			r.Mag[i], r.MagDB[i], r.PhaseDeg[i], r.GroupDelayS[i] = 0, math.NaN(), math.NaN(), math.NaN()
 		}
 	}
-	UnwrapDeg(r.PhaseDeg)
 	return r
 }
 

@@ -165,6 +165,7 @@ func (c *impedanceCmd) Run(e *env) error {
 		return err
 	}
 	rep := newTFReport(r)
+	warnPhaseUnresolved(e.stderr, []*response.Response{resp})
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {
 		if c.Format == "json" {
 			doc := impedanceJSON{tfJSON: tfDoc(rep), Points: []impedancePoint{}}
@@ -220,7 +221,7 @@ func (c *impedanceCmd) Run(e *env) error {
 		fmt.Fprintln(w)
 		ft := newTable(w, "freq_hz", "mag_ohm", "phase_deg")
 		for i, f := range resp.FreqHz {
-			if err := ft.row(num(f), num(resp.Mag[i]), fixed(resp.PhaseDeg[i], 3)); err != nil {
+			if err := ft.row(num(f), num(resp.Mag[i]), phaseCell(resp, i)); err != nil {
 				return err
 			}
 		}

@@ -201,7 +201,7 @@ func sweepTraces(e *env, traces []sweepTrace, freqs []float64, workers int) ([]*
 			}
 			terms = append(terms, r)
 		}
-		r, err := response.Sum(t.label, terms...)
+		r, err := response.Sum(e.ctx, t.label, terms...)
 		if err != nil {
 			return nil, err
 		}
@@ -305,6 +305,7 @@ func (c *sweepCmd) Run(e *env) error {
 		}
 	}
 	warnUnderflow(e.stderr, resps)
+	warnPhaseUnresolved(e.stderr, resps)
 	warn := func() {
 		for _, st := range stabs {
 			warnStability(e.stderr, st)
@@ -454,6 +455,40 @@ func warnUnderflow(w io.Writer, resps []*response.Response) {
 	}
 }
 
+// phaseUnresolvedAt reports whether point i of r has no unwrapped phase.
+func phaseUnresolvedAt(r *response.Response, i int) bool {
+	return i < len(r.PhaseUnresolved) && r.PhaseUnresolved[i]
+}
+
+// phaseCell is the phase_deg cell of point i of r: the unwrapped phase,
+// or the principal value marked "mod 360" where the turn is not known.
+func phaseCell(r *response.Response, i int) string {
+	if phaseUnresolvedAt(r, i) {
+		return fixed(r.PhaseDeg[i], 3) + " mod 360"
+	}
+	return fixed(r.PhaseDeg[i], 3)
+}
+
+// warnPhaseUnresolved writes one warning per response whose phase could
+// not be followed between its points, naming where that starts.
+func warnPhaseUnresolved(w io.Writer, resps []*response.Response) {
+	for _, r := range resps {
+		n, first := 0, -1
+		for i := range r.FreqHz {
+			if phaseUnresolvedAt(r, i) {
+				if first < 0 {
+					first = i
+				}
+				n++
+			}
+		}
+		if n == 0 {
+			continue
+		}
+		fmt.Fprintf(w, "nodal: warning: %s: the phase could not be followed from the point before %s Hz to it within the refinement budget (%d of %d points): phase_deg there is the principal value, in (−180°, 180°], shown as \"mod 360\" in the table (JSON's phase_deg is always the principal value)\n", r.Output, num(r.FreqHz[first]), n, len(r.FreqHz))
+	}
+}
+
 // responseCSV writes the responses with a header row; an output column is
 // added when there are several.
 func responseCSV(w io.Writer, resps []*response.Response) error {
@@ -495,7 +530,7 @@ func responseTable(w io.Writer, r *response.Response, unit string) error {
 	fmt.Fprintln(w)
 	t := newTable(w, "freq_hz", "mag", "mag_db", "phase_deg", "group_delay_s")
 	for i := range r.FreqHz {
-		row := []string{num(r.FreqHz[i]), num(r.Mag[i]), fixed(r.MagDB[i], 4), fixed(r.PhaseDeg[i], 3), num(r.GroupDelayS[i])}
+		row := []string{num(r.FreqHz[i]), num(r.Mag[i]), fixed(r.MagDB[i], 4), phaseCell(r, i), num(r.GroupDelayS[i])}
 		if underflowAt(r, i) {
 			row = []string{row[0], underflowCell, "-", "-", "-"}
 		}
@@ -524,7 +559,7 @@ func responsesTable(w io.Writer, resps []*response.Response) error {
 				row = append(row, underflowCell, "-")
 				continue
 			}
-			row = append(row, fixed(r.MagDB[i], 4), fixed(r.PhaseDeg[i], 3))
+			row = append(row, fixed(r.MagDB[i], 4), phaseCell(r, i))
 		}
 		if err := t.row(row...); err != nil {
 			return err
