@@ -112,7 +112,7 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 	// every pole at s = 0, whatever the rank test on the scaled pencil
 	// says: a genuine slow pole (a 1 TΩ resistor into 1 mF, 10⁻¹⁹ of the
 	// fastest scale) is never taken for an integrator.
-	regularAt0 := mna.NewShiftSolver(sys).Factor(0) == nil
+	regularAt0 := len(sys.DCSingular) == 0 && mna.NewShiftSolver(sys).Factor(0) == nil
 	// Orders above polishMaxOrder are not polished first (the shift-and-
 	// invert eigenvalues are then accurate enough as a rule, and Newton on
 	// the determinant costs O(n⁴)); the check against direct solves
