@@ -1,6 +1,7 @@
 package transfer
 
 import (
+	"fmt"
 	"math"
 	"testing"
 
@@ -36,6 +37,48 @@ func TestSlowPoleSpreads(t *testing.T) {
 		}
 		if dc := tf.DCGain(); dc.Power != 0 || math.Abs(dc.Gain-1) > tol {
 			t.Errorf("%s: DC gain %+v, want 1 within %.2g", cs.Name, dc, tol)
+		}
+	}
+}
+
+// TestSlowZeroNotAtOrigin: a coupling capacitor C1 = 1 µF shunted by a
+// leak Rl into R2 = 10 Ω ∥ C2 = 1 pF has
+// H(s) = (gl + s·C1)/(gl + g2 + s·(C1 + C2)) (nodal analysis, common
+// practice): a zero at −gl/C1, 10⁻⁸ … 10⁻¹⁴ rad/s for Rl = 100 GΩ …
+// 10²⁰ Ω, beside a pole at −(gl + g2)/(C1 + C2) ≈ −10⁵, and DC gain
+// gl/(gl + g2). H(0) is then far above its own rounding (dcGainNonzero),
+// which refutes a zero at s = 0: the zero is never reported as s.
+func TestSlowZeroNotAtOrigin(t *testing.T) {
+	const c1, r2, c2 = 1e-6, 10.0, 1e-12
+	for _, rl := range []float64{1e11, 1e14, 1e18, 1e20} {
+		src := fmt.Sprintf(`title "leaky coupling capacitor"
+Vin: voltage source (in, gnd) 1
+C1: capacitor (in, out) %g
+Rl: resistor (in, out) %g
+R2: resistor (out, gnd) %g
+C2: capacitor (out, gnd) %g
+`, c1, rl, r2, c2)
+		sys := loadSystem(t, "leak.nodal", []byte(src), "out")
+		tf, err := Extract(sys)
+		if err != nil {
+			t.Errorf("Rl = %g: %v", rl, err)
+			continue
+		}
+		gl, g2 := 1/rl, 1/r2
+		zero, pole, dc := -gl/c1, -(gl+g2)/(c1+c2), gl/(gl+g2)
+		const tol = 1e-9
+		if len(tf.Zeros) != 1 || len(tf.Poles) != 1 {
+			t.Errorf("Rl = %g: zeros %v poles %v, want %g and %g", rl, tf.Zeros, tf.Poles, zero, pole)
+			continue
+		}
+		if z := tf.Zeros[0]; imag(z) != 0 || math.Abs(real(z)-zero) > tol*math.Abs(zero) {
+			t.Errorf("Rl = %g: zero %v, want %.12g", rl, z, zero)
+		}
+		if p := tf.Poles[0]; imag(p) != 0 || math.Abs(real(p)-pole) > tol*math.Abs(pole) {
+			t.Errorf("Rl = %g: pole %v, want %.12g", rl, p, pole)
+		}
+		if g := tf.DCGain(); g.Power != 0 || math.Abs(g.Gain-dc) > tol*dc {
+			t.Errorf("Rl = %g: DC gain %+v, want %.12g", rl, g, dc)
 		}
 	}
 }

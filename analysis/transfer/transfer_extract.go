@@ -112,7 +112,11 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 	// every pole at s = 0, whatever the rank test on the scaled pencil
 	// says: a genuine slow pole (a 1 TΩ resistor into 1 mF, 10⁻¹⁹ of the
 	// fastest scale) is never taken for an integrator.
-	regularAt0 := len(sys.DCSingular) == 0 && mna.NewShiftSolver(sys).Factor(0) == nil
+	dc := mna.NewShiftSolver(sys)
+	regularAt0 := len(sys.DCSingular) == 0 && dc.Factor(0) == nil
+	// With Y(0) regular, a zero at s = 0 is H(0) = 0: an H(0) above its
+	// own rounding refutes it (the zeros' pencil is then regular at 0).
+	dcNonzero := regularAt0 && dcGainNonzero(sys, dc)
 	// Orders above polishMaxOrder are not polished first (the shift-and-
 	// invert eigenvalues are then accurate enough as a rule, and Newton on
 	// the determinant costs O(n⁴)); the check against direct solves
@@ -120,7 +124,7 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 	var verr error
 	for _, polish := range []bool{n <= polishMaxOrder, true} {
 		first := newScaledSystem(sys, wc)
-		first.regularAt0 = regularAt0
+		first.regularAt0, first.dcNonzero = regularAt0, dcNonzero
 		t, err := first.extract(polish)
 		if err != nil {
 			return nil, err
@@ -134,7 +138,7 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 		// gain point's G + sC rounds away the capacitors' admittances.
 		if c := first.rawCentre; c > 0 && (c > 100*wc || c < wc/100) {
 			second := newScaledSystem(sys, c)
-			second.regularAt0 = regularAt0
+			second.regularAt0, second.dcNonzero = regularAt0, dcNonzero
 			if t2, err2 := second.extract(polish); err2 == nil {
 				t = t2
 			}
@@ -148,6 +152,42 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 	}
 	return nil, verr
 }
+
+// dcGainNonzero reports whether H(0) = L·G⁻¹·B, from the factorisation
+// of Y(0) held by dc, exceeds dcNonzeroFactor·n·ε times the first-order
+// bound of its rounding, Σ|zᵢ|·(|G|·|x| + |B|)ᵢ with x = G⁻¹B and
+// z = G⁻ᵀLᵀ (a perturbation |ΔG| ≤ γ|G|, |ΔB| ≤ γ|B| moves L·x by
+// zᵀ(ΔB − ΔG·x): Higham, Accuracy and Stability of Numerical Algorithms,
+// 2nd ed., 2002, §7.2). Stamp rounding is inside that bound, so a bridge
+// balanced in exact arithmetic is not refuted; a 10⁻¹⁷ transfer through a
+// 10¹⁸ Ω leak (a zero at −10⁻¹² rad/s beside a pole at −10⁵) is.
+func dcGainNonzero(sys *mna.System, dc *mna.ShiftSolver) bool {
+	n := len(sys.B)
+	x := make([]complex128, n)
+	z := make([]complex128, n)
+	for i := range x {
+		x[i], z[i] = complex(sys.B[i], 0), complex(sys.L[i], 0)
+	}
+	if dc.Solve(x) != nil || dc.SolveTransposed(z) != nil {
+		return false
+	}
+	h := 0.0
+	gx := make([]float64, n)
+	for i := range x {
+		h += sys.L[i] * real(x[i])
+		gx[i] = math.Abs(sys.B[i])
+	}
+	sys.G.Each(func(i, j int, v float64) { gx[i] += math.Abs(v) * cmplx.Abs(x[j]) })
+	bound := 0.0
+	for i, g := range gx {
+		bound += cmplx.Abs(z[i]) * g
+	}
+	return finite(h) && finite(bound) && math.Abs(h) > dcNonzeroFactor*float64(n)*0x1p-52*bound
+}
+
+// dcNonzeroFactor is the safety factor of dcGainNonzero over the
+// first-order rounding bound.
+const dcNonzeroFactor = 100
 
 // polishMaxOrder is the largest system size whose roots are always
 // polished by Newton steps.
@@ -358,6 +398,9 @@ type scaledSystem struct {
 	// regularAt0: Y(0) = G factors regularly by mna's scale-invariant
 	// pivot rule (mna.ShiftSolver at s = 0), so no pole is at s = 0.
 	regularAt0 bool
+	// dcNonzero: regularAt0 and H(0) is non-zero beyond its rounding
+	// (dcGainNonzero), so no zero is at s = 0.
+	dcNonzero bool
 }
 
 // newScaledSystem balances sys for the characteristic frequency wc (rad/s).
@@ -625,7 +668,7 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 		}
 		return nil, fmt.Errorf("transfer function poles: %w", err)
 	}
-	zeros, err := pencilRoots(s.gb, s.cb, polish, aRankTol, false)
+	zeros, err := pencilRoots(s.gb, s.cb, polish, aRankTol, s.dcNonzero)
 	if errors.Is(err, errSingularPencil) {
 		// The bordered pencil looks singular while G + sC is not: its
 		// determinant −det(G + sC)·H(s) vanishes identically, so H ≡ 0
