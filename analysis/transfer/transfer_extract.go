@@ -72,7 +72,11 @@ const MaxExtractUnknowns = 2000
 // with the positive imaginary part first; roots within 1e-10 of the
 // characteristic frequency of zero are exactly 0, and so is a cluster of m
 // roots around 0 that rounding split from an m-fold root at s = 0 (see
-// deflateOrigin). If H ≡ 0, Num is [0],
+// deflateOrigin) — unless Y(0) = G factors regularly by mna's pivot rule
+// and the structure finds no DC singularity, which refutes every pole at
+// s = 0 (an H(0) above its rounding bound refutes every zero there,
+// dcGainNonzero), and the slow roots are computed to full relative
+// accuracy instead (SlowRoots). If H ≡ 0, Num is [0],
 // Den is [1] and there are no poles or zeros. Zeros at infinity are not
 // listed (len(Zeros) may be below or, for improper H, above len(Poles)).
 func Extract(sys *mna.System) (*TransferFunction, error) {
