@@ -238,6 +238,17 @@ func (f *luFactor) factor(track bool) int {
 		// two; the vanished-pivot judgement uses the equilibrated
 		// magnitudes.
 		diag, p, best, bestScaled, rows := f.candidates(k)
+		if track {
+			// Every candidate that is rounding of the terms it came
+			// from is 0, in every column, not only where the pivot is
+			// suspect: kept as a multiplier, such a residue carries its
+			// rounding into a later pivot whose own magnitudes |L|·|U|
+			// are then as tiny as it is (a group of nodes whose
+			// conductances sum to zero only up to the rounding of
+			// the stamped diagonal g₁ + g₂), and that pivot would pass.
+			f.dropRounding(k, pivotTol*float64(n))
+			diag, p, best, bestScaled, rows = f.candidates(k)
+		}
 		suspect := false
 		if pivotVanished(bestScaled, f.colmax[k], n, func(tol float64) bool {
 			suspect = true

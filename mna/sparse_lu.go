@@ -57,8 +57,11 @@ type sparseLU struct {
 	posRow, rowPos []int // the dense path's row exchanges, replayed: row at position k and back
 	diagRow        []int // per step: the row the dense path sees on its diagonal
 	havePattern    bool
-	refactors      int
-	repivots       int
+	// sawSuspect: full met a suspect pivot (pivotVanished); dropAll:
+	// full zeroes every rounding residue of every column (dropRounding).
+	sawSuspect, dropAll bool
+	refactors           int
+	repivots            int
 
 	// The same factorisation in elimination steps, made by steps after
 	// each full factor: every vector below is indexed by step k (the
@@ -192,7 +195,15 @@ func (f *sparseLU) factorAt(s complex128) int {
 		f.repivots++
 	}
 	f.assemble(s)
+	f.sawSuspect = false
 	u := f.full()
+	if u < 0 && f.sawSuspect {
+		// A suspect pivot was met: factor again with every rounding
+		// residue dropped, as the dense path does with tracking.
+		f.dropAll = true
+		u = f.full()
+		f.dropAll = false
+	}
 	f.havePattern = u < 0
 	if f.havePattern {
 		f.steps()
@@ -303,9 +314,15 @@ func (f *sparseLU) full() int {
 		dr := f.posRow[k]
 		f.diagRow[k] = dr
 		piv, best, bestScaled, diag := f.candidates(rows, dr)
+		if f.dropAll {
+			// As the dense path with tracking (solve.go, factor): every
+			// rounding residue is 0 before it can become a multiplier.
+			f.dropRounding(j, k, rows, pivotTol*float64(n))
+			piv, best, bestScaled, diag = f.candidates(rows, dr)
+		}
 		suspect := false
 		if pivotVanished(bestScaled, f.colmax[j], n, func(tol float64) bool {
-			suspect = true
+			suspect, f.sawSuspect = true, true
 			return f.dropRounding(j, k, rows, tol)
 		}) {
 			for _, i := range rows {

@@ -91,7 +91,11 @@ func ofMatrices(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 	if m.Size() > MaxUnknowns {
 		return largeResult(c, m)
 	}
-	roots, _, err := FiniteEigenvalues(m.G.Dense(), m.C.Dense())
+	// A regular Y(0) by the sweep's componentwise pivot rule (mna's
+	// pivotVanished; Higham 2002, Theorem 9.3) refutes every natural
+	// frequency at s = 0.
+	regularAt0 := mna.NewSolver(m).Factor(0) == nil
+	roots, _, err := finiteEigenvalues(m.G.Dense(), m.C.Dense(), regularAt0)
 	if err != nil {
 		return nil, err
 	}

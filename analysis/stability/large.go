@@ -68,10 +68,12 @@ func largeResult(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 	var suspect []transfer.PencilBlock // blocks with an offending frequency
 	passiveBlock, unchecked := false, false
 	strictBlocks := 0 // large blocks proven strictly stable by blockCertificate
+	// Y(0) regular by mna's pivot rule: no block has a root at s = 0.
+	regularAt0 := mna.NewSolver(m).Factor(0) == nil
 	for _, b := range blocks {
 		g, cm := m.G.Sub(b.Rows, b.Cols), m.C.Sub(b.Rows, b.Cols)
 		if len(b.Rows) <= MaxUnknowns {
-			r, _, err := wholeEigenvalues(g.Dense(), cm.Dense())
+			r, _, err := wholeEigenvalues(g.Dense(), cm.Dense(), regularAt0)
 			if err != nil {
 				return nil, err
 			}

@@ -78,19 +78,27 @@ const (
 // split by about ε^(1/N) (into the right half-plane at N ≥ 18 for
 // inverting stages of gain 10).
 func FiniteEigenvalues(a, e *mat.Dense) (roots []complex128, w0 float64, err error) {
+	return finiteEigenvalues(a, e, false)
+}
+
+// finiteEigenvalues is FiniteEigenvalues; regularAt0 says that a is known
+// to be regular (Y(0) = G factors by mna's scale-invariant pivot rule):
+// then no root is at s = 0 and the rank test is not asked (see
+// wholeEigenvalues).
+func finiteEigenvalues(a, e *mat.Dense, regularAt0 bool) (roots []complex128, w0 float64, err error) {
 	n, _ := a.Dims()
 	if r, c := e.Dims(); r != n || c != n {
 		return nil, 0, errors.New("natural frequencies: G and C differ in size")
 	}
 	blocks := transfer.BlockTriangular(a, e)
 	if len(blocks) < 2 {
-		return wholeEigenvalues(a, e)
+		return wholeEigenvalues(a, e, regularAt0)
 	}
 	_, _, w0 = equilibrate(a, e)
 	for _, b := range blocks {
 		sa := transfer.SubMatrix(a, b.Rows, b.Cols)
 		se := transfer.SubMatrix(e, b.Rows, b.Cols)
-		r, _, err := wholeEigenvalues(sa, se)
+		r, _, err := wholeEigenvalues(sa, se, regularAt0)
 		if err != nil {
 			return nil, 0, err
 		}
@@ -109,7 +117,15 @@ func FiniteEigenvalues(a, e *mat.Dense) (roots []complex128, w0 float64, err err
 // roots at s = 0 are decided; a rank test alone never moves a root, and
 // no tolerance on |s| does either, so a tiny genuine root (a 10 TΩ leak
 // across an integrator's 10 nF) stays.
-func wholeEigenvalues(a, e *mat.Dense) ([]complex128, float64, error) {
+//
+// With regularAt0 (a regular by mna's pivot rule, which refutes any root
+// at s = 0) the rank test is skipped, and the roots far below ω0 are
+// taken from shift-and-invert at σ = 0 (the reversed pencil) instead,
+// which gives them to full relative accuracy (transfer.SlowRoots; this
+// file's reduce decides the rank of a by SVD, which would drop a slow
+// pole 10⁻¹⁴ of ω0 as rounding): a slow pole
+// 10⁻¹⁹ of the fastest scale keeps its sign.
+func wholeEigenvalues(a, e *mat.Dense, regularAt0 bool) ([]complex128, float64, error) {
 	as, es, w0 := equilibrate(a, e)
 	an, en := mat.Norm(as, 2), mat.Norm(es, 2)
 	if en == 0 {
@@ -121,6 +137,13 @@ func wholeEigenvalues(a, e *mat.Dense) ([]complex128, float64, error) {
 	roots, _, err := reduce(as, es, false)
 	if err != nil {
 		return nil, 0, err
+	}
+	if regularAt0 {
+		roots = transfer.SlowRoots(as, es, roots)
+		for i := range roots {
+			roots[i] *= complex(w0, 0)
+		}
+		return roots, w0, nil
 	}
 	snapOrigin(roots, func() int {
 		n, _ := as.Dims()

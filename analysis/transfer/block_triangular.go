@@ -216,15 +216,15 @@ func SubMatrix(m *mat.Dense, rows, cols []int) *mat.Dense {
 // asks for Newton steps on a block larger than polishMaxOrder (smaller
 // ones are always polished); aTol is the rank tolerance of
 // deflateInfiniteTol.
-func pencilRoots(a, e *mat.Dense, polish bool, aTol float64) ([]complex128, error) {
+func pencilRoots(a, e *mat.Dense, polish bool, aTol float64, regularAt0 bool) ([]complex128, error) {
 	blocks := BlockTriangular(a, e)
 	n, _ := a.Dims()
 	if len(blocks) < 2 {
-		return blockRoots(a, e, polish || n <= polishMaxOrder, aTol)
+		return blockRoots(a, e, polish || n <= polishMaxOrder, aTol, regularAt0)
 	}
 	var all []complex128
 	for _, b := range blocks {
-		r, err := blockRoots(SubMatrix(a, b.Rows, b.Cols), SubMatrix(e, b.Rows, b.Cols), polish || len(b.Rows) <= polishMaxOrder, aTol)
+		r, err := blockRoots(SubMatrix(a, b.Rows, b.Cols), SubMatrix(e, b.Rows, b.Cols), polish || len(b.Rows) <= polishMaxOrder, aTol, regularAt0)
 		if err != nil {
 			return nil, err
 		}
@@ -238,13 +238,22 @@ func pencilRoots(a, e *mat.Dense, polish bool, aTol float64) ([]complex128, erro
 // values, the root at s = 0 made exact (deflateOrigin), the others then
 // polished (which merges split multiple roots) or, unpolished, merged and
 // checked against the pencil (mergeRoots); merging and polishing leave
-// an exact 0 as it is.
-func blockRoots(a, e *mat.Dense, polish bool, aTol float64) ([]complex128, error) {
+// an exact 0 as it is. regularAt0 says that a (the whole pencil's a, of
+// which this is a diagonal block) is regular by mna's scale-invariant
+// pivot rule: then no root is at s = 0, the rank test is not asked, and
+// the roots far below the scaled unit are taken from shift-and-invert at
+// σ = 0 instead (slowRoots), where they are computed to full relative
+// accuracy.
+func blockRoots(a, e *mat.Dense, polish bool, aTol float64, regularAt0 bool) ([]complex128, error) {
 	roots, err := finiteEigenvaluesTol(a, e, shiftFactors[:], aTol)
 	if err != nil {
 		return nil, err
 	}
-	roots = deflateOrigin(a, e, roots)
+	if regularAt0 {
+		roots = slowRoots(a, e, roots, aTol)
+	} else {
+		roots = deflateOrigin(a, e, roots)
+	}
 	if polish {
 		polishRoots(a, e, roots)
 	} else {

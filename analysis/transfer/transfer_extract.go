@@ -83,7 +83,11 @@ func (e tooLargeError) Is(target error) bool { return target == ErrTooLarge }
 // with the positive imaginary part first; roots within 1e-10 of the
 // characteristic frequency of zero are exactly 0, and so is a cluster of m
 // roots around 0 that rounding split from an m-fold root at s = 0 (see
-// deflateOrigin). If H ≡ 0, Num is [0],
+// deflateOrigin) — unless Y(0) = G factors regularly by mna's pivot rule
+// and the structure finds no DC singularity, which refutes every pole at
+// s = 0 (an H(0) above its rounding bound refutes every zero there,
+// dcGainNonzero), and the slow roots are computed to full relative
+// accuracy instead (SlowRoots). If H ≡ 0, Num is [0],
 // Den is [1] and there are no poles or zeros. Zeros at infinity are not
 // listed (len(Zeros) may be below or, for improper H, above len(Poles)).
 func Extract(sys *mna.System) (*TransferFunction, error) {
@@ -118,6 +122,16 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 	}
 
 	wc := characteristicFreq(sys)
+	// A regular factorisation of Y(0) = G by the sweep's componentwise
+	// pivot rule (Higham 2002, Theorem 9.3; mna's pivotVanished) refutes
+	// every pole at s = 0, whatever the rank test on the scaled pencil
+	// says: a genuine slow pole (a 1 TΩ resistor into 1 mF, 10⁻¹⁹ of the
+	// fastest scale) is never taken for an integrator.
+	dc := mna.NewShiftSolver(sys)
+	regularAt0 := len(sys.DCSingular) == 0 && dc.Factor(0) == nil
+	// With Y(0) regular, a zero at s = 0 is H(0) = 0: an H(0) above its
+	// own rounding refutes it (the zeros' pencil is then regular at 0).
+	dcNonzero := regularAt0 && dcGainNonzero(sys, dc)
 	// Orders above polishMaxOrder are not polished first (the shift-and-
 	// invert eigenvalues are then accurate enough as a rule, and Newton on
 	// the determinant costs O(n⁴)); the check against direct solves
@@ -125,6 +139,7 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 	var verr error
 	for _, polish := range []bool{n <= polishMaxOrder, true} {
 		first := newScaledSystem(sys, wc)
+		first.regularAt0, first.dcNonzero = regularAt0, dcNonzero
 		t, err := first.extract(polish)
 		if err != nil {
 			return nil, err
@@ -137,7 +152,9 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 		// would centre the pass 10⁻⁶ below every other root, where the
 		// gain point's G + sC rounds away the capacitors' admittances.
 		if c := first.rawCentre; c > 0 && (c > 100*wc || c < wc/100) {
-			if t2, err2 := newScaledSystem(sys, c).extract(polish); err2 == nil {
+			second := newScaledSystem(sys, c)
+			second.regularAt0, second.dcNonzero = regularAt0, dcNonzero
+			if t2, err2 := second.extract(polish); err2 == nil {
 				t = t2
 			}
 		}
@@ -150,6 +167,42 @@ func Extract(sys *mna.System) (*TransferFunction, error) {
 	}
 	return nil, verr
 }
+
+// dcGainNonzero reports whether H(0) = L·G⁻¹·B, from the factorisation
+// of Y(0) held by dc, exceeds dcNonzeroFactor·n·ε times the first-order
+// bound of its rounding, Σ|zᵢ|·(|G|·|x| + |B|)ᵢ with x = G⁻¹B and
+// z = G⁻ᵀLᵀ (a perturbation |ΔG| ≤ γ|G|, |ΔB| ≤ γ|B| moves L·x by
+// zᵀ(ΔB − ΔG·x): Higham, Accuracy and Stability of Numerical Algorithms,
+// 2nd ed., 2002, §7.2). Stamp rounding is inside that bound, so a bridge
+// balanced in exact arithmetic is not refuted; a 10⁻¹⁷ transfer through a
+// 10¹⁸ Ω leak (a zero at −10⁻¹² rad/s beside a pole at −10⁵) is.
+func dcGainNonzero(sys *mna.System, dc *mna.ShiftSolver) bool {
+	n := len(sys.B)
+	x := make([]complex128, n)
+	z := make([]complex128, n)
+	for i := range x {
+		x[i], z[i] = complex(sys.B[i], 0), complex(sys.L[i], 0)
+	}
+	if dc.Solve(x) != nil || dc.SolveTransposed(z) != nil {
+		return false
+	}
+	h := 0.0
+	gx := make([]float64, n)
+	for i := range x {
+		h += sys.L[i] * real(x[i])
+		gx[i] = math.Abs(sys.B[i])
+	}
+	sys.G.Each(func(i, j int, v float64) { gx[i] += math.Abs(v) * cmplx.Abs(x[j]) })
+	bound := 0.0
+	for i, g := range gx {
+		bound += cmplx.Abs(z[i]) * g
+	}
+	return finite(h) && finite(bound) && math.Abs(h) > dcNonzeroFactor*float64(n)*0x1p-52*bound
+}
+
+// dcNonzeroFactor is the safety factor of dcGainNonzero over the
+// first-order rounding bound.
+const dcNonzeroFactor = 100
 
 // polishMaxOrder is the largest system size whose roots are always
 // polished by Newton steps.
@@ -166,7 +219,7 @@ const verifyPoints = 12
 // verifyExtraction compares the factored H(jω) with direct sparse solves
 // of the circuit at verifyPoints frequencies spaced geometrically from a
 // tenth of the smallest non-zero root magnitude to ten times the largest
-// (the sweep range and more). They must agree within verifyTol relative,
+// (the sweep range and more), and at s = 0 where Y(0) is regular. They must agree within verifyTol relative,
 // or within 1e-10 of Σ|Lᵢxᵢ| (the response's own scale: a cancellation
 // in the output is rounding in both), or within verifyFloor of the peak.
 // A frequency where the direct solve fails (a pole on the jω axis) is
@@ -196,16 +249,25 @@ func verifyExtraction(sys *mna.System, tf *TransferFunction) error {
 		scale     float64
 		evaluated bool
 	}
-	pts := make([]point, verifyPoints)
+	// The last point is s = 0 itself: where Y(0) is regular (the solve
+	// succeeds), a claimed pole at s = 0 gives an infinite factored H
+	// there and fails, so a slow pole taken for an integrator cannot pass
+	// (the geometric points start a decade below the slowest non-zero
+	// root, and a root at 0 has no decade). Where Y(0) is singular the
+	// point is skipped like any on a pole.
+	pts := make([]point, verifyPoints+1)
 	peak := 0.0
 	var solveErr error
 	zero := tf.ScaledGain == 0 && tf.Gain == 0
 	for k := range pts {
-		w := lo * math.Pow(hi/lo, (float64(k)+0.5)/verifyPoints)
+		w := 0.0
+		if k < verifyPoints {
+			w = lo * math.Pow(hi/lo, (float64(k)+0.5)/verifyPoints)
+		}
 		s := complex(0, w)
 		x, err := sys.SolveAll(s)
 		if err != nil {
-			if solveErr == nil {
+			if solveErr == nil && k < verifyPoints {
 				solveErr = err
 			}
 			continue
@@ -231,7 +293,9 @@ func verifyExtraction(sys *mna.System, tf *TransferFunction) error {
 		if !p.evaluated {
 			continue
 		}
-		evaluated++
+		if p.w > 0 {
+			evaluated++ // s = 0 alone is no check of the range
+		}
 		if d := cmplx.Abs(p.hf - p.hd); !(d <= verifyTol*cmplx.Abs(p.hd)+1e-10*p.scale+verifyFloor*peak) {
 			return fmt.Errorf("%w: at %.6g rad/s the factored form gives %.10g, a direct solve %.10g (relative difference %.2g, allowed %.2g)",
 				ErrIllConditioned, p.w, p.hf, p.hd, d/cmplx.Abs(p.hd), verifyTol)
@@ -346,6 +410,12 @@ type scaledSystem struct {
 	// the rank test sets to s = 0: where the roots are, for a second
 	// pass.
 	rawCentre float64
+	// regularAt0: Y(0) = G factors regularly by mna's scale-invariant
+	// pivot rule (mna.ShiftSolver at s = 0), so no pole is at s = 0.
+	regularAt0 bool
+	// dcNonzero: regularAt0 and H(0) is non-zero beyond its rounding
+	// (dcGainNonzero), so no zero is at s = 0.
+	dcNonzero bool
 }
 
 // newScaledSystem balances sys for the characteristic frequency wc (rad/s).
@@ -606,14 +676,14 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 			return &TransferFunction{Num: []float64{0}, Den: []float64{1}}, nil
 		}
 	}
-	poles, err := pencilRoots(s.g, s.c, polish, aRankTol)
+	poles, err := pencilRoots(s.g, s.c, polish, aRankTol, s.regularAt0)
 	if err != nil {
 		if errors.Is(err, errSingularPencil) {
 			return nil, ErrSingularSystem
 		}
 		return nil, fmt.Errorf("transfer function poles: %w", err)
 	}
-	zeros, err := pencilRoots(s.gb, s.cb, polish, aRankTol)
+	zeros, err := pencilRoots(s.gb, s.cb, polish, aRankTol, s.dcNonzero)
 	if errors.Is(err, errSingularPencil) {
 		// The bordered pencil looks singular while G + sC is not: its
 		// determinant −det(G + sC)·H(s) vanishes identically, so H ≡ 0
@@ -625,7 +695,7 @@ func (s *scaledSystem) extract(polish bool) (*TransferFunction, error) {
 		if math.Abs(hSig) <= roundingGainTol*hNorm && !hStable {
 			return &TransferFunction{Num: []float64{0}, Den: []float64{1}}, nil
 		}
-		zeros, err = pencilRoots(s.gb, s.cb, polish, tinyRankTol)
+		zeros, err = pencilRoots(s.gb, s.cb, polish, tinyRankTol, false)
 		if errors.Is(err, errSingularPencil) {
 			return nil, fmt.Errorf("%w: the response (|H| = %.3g at s = %.4g rad/s) is too small beside the circuit's other quantities (%.3g) to factor its zeros in float64",
 				ErrIllConditioned, math.Abs(hSig), sigma*s.wc, hNorm)
@@ -800,6 +870,82 @@ func deflateOrigin(a, e *mat.Dense, raw []complex128) []complex128 {
 	out := append([]complex128(nil), raw...)
 	for _, i := range idx[:m] {
 		out[i] = 0
+	}
+	return out
+}
+
+// slowRootBound (scaled units): below it, a root from shift-and-invert
+// at the characteristic frequency carries an absolute error of about
+// ε·(largest root), more than a root 10⁻¹⁹ of it is worth; such roots are
+// taken from the inversion at σ = 0 instead (SlowRoots).
+const slowRootBound = originGuard
+
+// slowRoots is SlowRoots with the rank tolerance aTol of the deflation.
+func slowRoots(a, e *mat.Dense, raw []complex128, aTol float64) []complex128 {
+	if !hasSlowRoot(raw) {
+		return raw
+	}
+	p, err := deflateInfiniteTol(a, e, aTol)
+	if err != nil {
+		return raw
+	}
+	slow, err := p.eigenvaluesShifted(0, anyShift)
+	if err != nil {
+		return raw
+	}
+	return mergeSlowRoots(raw, slow)
+}
+
+// SlowRoots returns raw, an eigen-solver's roots of det(a + s·e) in
+// scaled units (the characteristic frequency is 1, as after Extract's or
+// analysis/stability's equilibration), with those below slowRootBound
+// replaced by the roots of shift-and-invert at σ = 0 (the eigenvalues μ
+// of a⁻¹e on the pencil with its infinite eigenvalues deflated, s = −1/μ:
+// the reversed pencil e + t·a, t = 1/s), whose error relative to each
+// root is about ε·|s|/|s_min|, full accuracy
+// for the slow ones. The caller knows a to be regular (Y(0) factors by
+// mna's pivot rule, which refutes any root at s = 0), so any condition
+// number of a is accepted; raw is returned when the inversion fails or
+// the two computations do not count the same roots below the bound.
+func SlowRoots(a, e *mat.Dense, raw []complex128) []complex128 {
+	return slowRoots(a, e, raw, aRankTol)
+}
+
+// hasSlowRoot reports whether a root lies below slowRootBound.
+func hasSlowRoot(roots []complex128) bool {
+	for _, r := range roots {
+		if cmplx.Abs(r) < slowRootBound {
+			return true
+		}
+	}
+	return false
+}
+
+// mergeSlowRoots combines two computations of the same roots (scaled
+// units, where the characteristic frequency is 1): fast, accurate
+// relative to the largest root (shift-and-invert near 1), and slow,
+// accurate relative to each small root (inversion at s = 0, the reversed
+// pencil). Roots of fast below slowRootBound are replaced by the roots of
+// slow below it; fast is returned unchanged when it has none there or
+// when the two do not count the same number of roots on each side of the
+// bound (a root straddling it: both are then accurate near it).
+func mergeSlowRoots(fast, slow []complex128) []complex128 {
+	if !hasSlowRoot(fast) {
+		return fast
+	}
+	out := make([]complex128, 0, len(fast))
+	for _, r := range slow {
+		if cmplx.Abs(r) < slowRootBound {
+			out = append(out, r)
+		}
+	}
+	for _, r := range fast {
+		if cmplx.Abs(r) >= slowRootBound {
+			out = append(out, r)
+		}
+	}
+	if len(out) != len(fast) {
+		return fast
 	}
 	return out
 }
