@@ -214,7 +214,7 @@ func (c *verifyCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	rm, err := require.NewProbeMetrics(l.circuit.Requirements, probes)
+	rm, err := require.NewProbeMetrics(l.circuit, l.circuit.Requirements, probes)
 	if err != nil {
 		return err
 	}
