@@ -19,7 +19,7 @@ import (
 func TestLoopMetrics(t *testing.T) {
 	ps := testcircuit.Load(t, "../loop/testdata/phase_shift.nodal", nil)
 	reqs := []netlist.Requirement{{Metric: "stable", Op: netlist.Holds}, {Metric: "gain_margin@E1"}, {Metric: "phase_margin@E1"}, {Metric: "crossover@E1"}}
-	rm, err := NewRequirementMetrics(reqs, mna.Input{}, mna.Output{Node: "c3"})
+	rm, err := NewRequirementMetrics(ps, reqs, mna.Input{}, mna.Output{Node: "c3"})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -56,7 +56,7 @@ func TestLoopMetrics(t *testing.T) {
 func TestLoopMetricBadPart(t *testing.T) {
 	ps := testcircuit.Load(t, "../loop/testdata/phase_shift.nodal", nil)
 	pos := netlist.Pos{File: "ps.nodal", Line: 7, Col: 1}
-	rm, err := NewRequirementMetrics([]netlist.Requirement{{Metric: "phase_margin@R1", Pos: pos}}, mna.Input{}, mna.Output{Node: "c3"})
+	rm, err := NewRequirementMetrics(ps, []netlist.Requirement{{Metric: "phase_margin@R1", Pos: pos}}, mna.Input{}, mna.Output{Node: "c3"})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -30,7 +30,7 @@ require q above 0.5
 	if err != nil {
 		t.Fatal(err)
 	}
-	rm, err := NewRequirementMetrics(c.Requirements, mna.Input{}, mna.Output{Kind: mna.NodeVoltage, Node: "out"})
+	rm, err := NewRequirementMetrics(c, c.Requirements, mna.Input{}, mna.Output{Kind: mna.NodeVoltage, Node: "out"})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -6,6 +6,8 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync"
+	"sync/atomic"
 
 	"nodal/analysis/loop"
 	"nodal/analysis/stability"
@@ -243,26 +245,53 @@ type RequirementMetrics struct {
 	// TempK is the temperature of every resistor (K) for the noise
 	// metrics noise@F and noise_rms@F1..F2; 0 is noise.DefaultTempK.
 	TempK float64
+	// nominal is a copy of the nominal circuit (read-only): it places the
+	// direct-solve scans of a probe whose extraction is refused.
+	nominal *netlist.Circuit
+	swept   []*sweptProbe // per probe, prepared at its first refusal
+}
+
+// sweptProbe is the direct-solve path of one probe (variation.SweptSubjects),
+// prepared once, at the first circuit whose extraction is refused.
+type sweptProbe struct {
+	once sync.Once
+	s    *variation.SweptSubjects
+	err  error
+	// ready is set once s is prepared: later circuits of this probe go to
+	// direct solves without trying the extraction again, as the tolerance
+	// runs of a refused nominal circuit do.
+	ready   atomic.Bool
+	refusal error // the extraction's refusal that prepared s
 }
 
 // NewRequirementMetrics parses the metric of every requirement, all taken
-// on the transfer from in to out. An unknown metric is an error naming the
-// requirement and the valid metrics.
-func NewRequirementMetrics(reqs []netlist.Requirement, in mna.Input, out mna.Output) (*RequirementMetrics, error) {
+// on the transfer from in to out of circuits like nominal. An unknown
+// metric is an error naming the requirement and the valid metrics.
+//
+// A circuit whose transfer function the extraction refuses (too large,
+// ill-conditioned) is judged by direct solves of H, as the tolerance runs
+// judge it (variation.SweptSubjects, its scans placed by nominal): gain@F,
+// dc, f3db, peak and fpeak; stable and the loop metrics on the whole
+// circuit as always. Any other metric on such a circuit is an error naming
+// the requirement, the metric and why, never a value.
+func NewRequirementMetrics(nominal *netlist.Circuit, reqs []netlist.Requirement, in mna.Input, out mna.Output) (*RequirementMetrics, error) {
 	probes := make([]mna.Probe, len(reqs))
 	for i := range probes {
 		probes[i] = mna.Probe{Ex: in, Ob: out}
 	}
-	return NewProbeMetrics(reqs, probes)
+	return NewProbeMetrics(nominal, reqs, probes)
 }
 
 // NewProbeMetrics is NewRequirementMetrics with one probe per requirement
 // (probes[i] for reqs[i]).
-func NewProbeMetrics(reqs []netlist.Requirement, probes []mna.Probe) (*RequirementMetrics, error) {
+func NewProbeMetrics(nominal *netlist.Circuit, reqs []netlist.Requirement, probes []mna.Probe) (*RequirementMetrics, error) {
 	if len(probes) != len(reqs) {
 		return nil, fmt.Errorf("requirement metrics: %d probes for %d requirements", len(probes), len(reqs))
 	}
-	r := &RequirementMetrics{}
+	if nominal == nil {
+		return nil, fmt.Errorf("requirement metrics: no nominal circuit")
+	}
+	r := &RequirementMetrics{nominal: nominal.Clone()}
 	for i, q := range reqs {
 		m, err := transfer.ParseMetric(q.Metric)
 		if err != nil {
@@ -277,6 +306,9 @@ func NewProbeMetrics(reqs []netlist.Requirement, probes []mna.Probe) (*Requireme
 			r.probes = append(r.probes, probes[i])
 		}
 		r.of = append(r.of, k)
+	}
+	for range r.probes {
+		r.swept = append(r.swept, &sweptProbe{})
 	}
 	return r, nil
 }
@@ -310,6 +342,12 @@ func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, e
 			continue
 		}
 		stable, err := circ.Stable()
+		if errors.Is(err, stability.ErrUnchecked) {
+			// passive or not checked (a large circuit): the requirement
+			// is not met, with the reason; the other metrics stand.
+			vals[i], why[i] = 0, err
+			continue
+		}
 		if err != nil {
 			return nil, nil, err
 		}
@@ -329,15 +367,33 @@ func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, e
 				idx, ms = append(idx, i), append(ms, r.metrics[i])
 			}
 		}
-		tf, err := transfer.ExtractFor(ms, c, p.Ex, p.Ob)
-		if err != nil {
-			return nil, nil, err
+		var sub netlist.MetricSubject
+		var tf *transfer.TransferFunction
+		var err error
+		if r.swept[k].ready.Load() {
+			err = r.swept[k].refusal
+		} else {
+			tf, err = transfer.ExtractFor(ms, c, p.Ex, p.Ob)
 		}
-		sub, err := variation.MetricSubject(c, p.Ob, tf, circ, ms, r.TempK)
-		if err != nil {
+		switch {
+		case variation.Refused(err):
+			s, release, serr := r.sweptSubject(k, c, idx, err)
+			if serr != nil {
+				return nil, nil, serr
+			}
+			defer release()
+			sub = circuitSubject{s, circ}
+		case err != nil:
 			return nil, nil, err
+		default:
+			if sub, err = variation.MetricSubject(c, p.Ob, tf, circ, ms, r.TempK); err != nil {
+				return nil, nil, err
+			}
 		}
 		for _, i := range idx {
+			if why[i] != nil {
+				continue // stable, passive or not checked
+			}
 			v, err := r.metrics[i].EvalOn(sub)
 			if errors.Is(err, loop.ErrLoopGain) {
 				// no such gain element, an ideal op-amp: the requirement is wrong
@@ -351,6 +407,54 @@ func (r *RequirementMetrics) evaluate(c *netlist.Circuit) ([]float64, []error, e
 	}
 	return vals, why, nil
 }
+
+// sweptSubject returns the direct-solve subject of c for probe k, whose
+// extraction was refused with refusal, and its release. The metrics idx
+// of the probe must be served by direct solves (or be judged on the whole
+// circuit); phase@F is not served: a direct solve knows only its principal
+// value, not the branch a requirement's limits are written on.
+func (r *RequirementMetrics) sweptSubject(k int, c *netlist.Circuit, idx []int, refusal error) (netlist.MetricSubject, func(), error) {
+	var ms []transfer.Metric
+	for _, i := range idx {
+		m := r.metrics[i]
+		if m.Spec.Circuit {
+			continue
+		}
+		err := variation.SweptServes(m)
+		if err == nil && m.Spec.Name == "phase" {
+			err = fmt.Errorf("%s: a direct solve gives the phase only on its principal branch (−180°, 180°], so the branch of the limits cannot be vouched for", m.Name)
+		}
+		if err != nil {
+			return nil, nil, fmt.Errorf("%s: require %s: %w; by direct solves: %w", r.pos[i], m.Name, refusal, err)
+		}
+		ms = append(ms, m)
+	}
+	sp := r.swept[k]
+	sp.once.Do(func() {
+		p := r.probes[k]
+		sp.s, sp.err = variation.NewSweptSubjects(r.nominal, p.Ex, p.Ob, ms)
+		if sp.err == nil {
+			sp.refusal = refusal
+			sp.ready.Store(true)
+		}
+	})
+	if sp.err != nil {
+		return nil, nil, fmt.Errorf("%s: require %s: %w; by direct solves: %w", r.pos[idx[0]], r.names[idx[0]], refusal, sp.err)
+	}
+	return sp.s.Subject(c)
+}
+
+// circuitSubject answers the metrics judged on the whole circuit (stable,
+// the loop metrics) from circ and the others from a direct-solve subject.
+type circuitSubject struct {
+	netlist.MetricSubject
+	circ *loop.Circuit
+}
+
+func (s circuitSubject) Stable() (bool, error)                    { return s.circ.Stable() }
+func (s circuitSubject) PhaseMarginDeg(p string) (float64, error) { return s.circ.PhaseMarginDeg(p) }
+func (s circuitSubject) GainMarginDB(p string) (float64, error)   { return s.circ.GainMarginDB(p) }
+func (s circuitSubject) CrossoverHz(p string) (float64, error)    { return s.circ.CrossoverHz(p) }
 
 // WithStable returns reqs with the implicit first requirement `stable`
 // (verify judges every circuit on it), unless reqs names it already.

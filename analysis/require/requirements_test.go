@@ -378,7 +378,7 @@ func TestVerifyErrors(t *testing.T) {
 // q does not exist for a single real pole.
 func TestRequirementMetricsRC(t *testing.T) {
 	c := loadRC(t, "require f3db below 1.6kHz\nrequire gain@1.5915494kHz within -3.1dB..-2.9dB\nrequire q above 0.5\n")
-	rm, err := NewRequirementMetrics(c.Requirements, mna.Input{}, mna.Output{Kind: mna.NodeVoltage, Node: "out"})
+	rm, err := NewRequirementMetrics(c, c.Requirements, mna.Input{}, mna.Output{Kind: mna.NodeVoltage, Node: "out"})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -421,7 +421,7 @@ func TestRequirementMetricsRC(t *testing.T) {
 		}
 	}
 	bad := []netlist.Requirement{{Metric: "bandwidth"}}
-	if _, err := NewRequirementMetrics(bad, mna.Input{}, mna.Output{}); err == nil || !strings.Contains(err.Error(), "f3db") {
+	if _, err := NewRequirementMetrics(c, bad, mna.Input{}, mna.Output{}); err == nil || !strings.Contains(err.Error(), "f3db") {
 		t.Errorf("unknown metric: %v", err)
 	}
 }

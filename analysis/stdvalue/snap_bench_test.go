@@ -41,7 +41,7 @@ func BenchmarkVerifyLogger(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	rm, err := require.NewRequirementMetrics(c.Requirements, mna.Input{}, mna.Output{Kind: mna.NodeVoltage, Node: "out"})
+	rm, err := require.NewRequirementMetrics(c, c.Requirements, mna.Input{}, mna.Output{Kind: mna.NodeVoltage, Node: "out"})
 	if err != nil {
 		b.Fatal(err)
 	}

@@ -89,7 +89,7 @@ func NewMetricEvaluatorAt(nominal *netlist.Circuit, in mna.Input, out mna.Output
 		e.spot = e.spot && m.Spec.Spot
 	}
 	nom, err := e.evalExtract(nominal, false)
-	if err != nil && refused(err) {
+	if err != nil && Refused(err) {
 		// A circuit the extraction refuses (too large, ill-conditioned)
 		// takes the swept path when its metrics allow it.
 		sp, serr := newSweptPath(e, nominal)
@@ -142,9 +142,9 @@ func (e *MetricEvaluator) Eval(c *netlist.Circuit) ([]float64, error) {
 	return e.evalExtract(c, true)
 }
 
-// refused reports whether err is the extraction refusing a circuit (too
+// Refused reports whether err is the extraction refusing a circuit (too
 // large, ill-conditioned) rather than a metric failing on it.
-func refused(err error) bool {
+func Refused(err error) bool {
 	return errors.Is(err, transfer.ErrIllConditioned) || errors.Is(err, transfer.ErrTooLarge)
 }
 

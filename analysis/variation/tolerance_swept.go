@@ -8,6 +8,7 @@ import (
 
 	"nodal/analysis/loop"
 	"nodal/analysis/stability"
+	"nodal/analysis/transfer"
 	"nodal/mna"
 	"nodal/netlist"
 )
@@ -91,17 +92,8 @@ type sweptWorker struct {
 // newSweptPath returns the swept path for e's metrics on the nominal
 // circuit, or an error saying why it cannot serve them.
 func newSweptPath(e *MetricEvaluator, nominal *netlist.Circuit) (*sweptPath, error) {
-	p := &sweptPath{in: e.in, out: e.out, nparts: len(nominal.Parts)}
-	for _, m := range e.metrics {
-		switch {
-		case m.Spec.Spot:
-		case m.Spec.Name == "f3db":
-			p.f3db = true
-		case m.Spec.Name == "peak" || m.Spec.Name == "fpeak":
-			p.f3db = true // the peak scan uses the f3db scan's range
-		default:
-			return nil, fmt.Errorf("%s needs the transfer function's poles or the whole circuit", m.Name)
-		}
+	if err := sweptServes(e.metrics); err != nil {
+		return nil, err
 	}
 	st, err := stability.Analyze(nominal, stability.Options{})
 	if err != nil {
@@ -110,6 +102,39 @@ func newSweptPath(e *MetricEvaluator, nominal *netlist.Circuit) (*sweptPath, err
 	if err := st.Err(); err != nil {
 		return nil, err
 	}
+	return newSweptPathOf(nominal, e.in, e.out, e.metrics, st)
+}
+
+// sweptServes returns an error naming the first metric of ms the swept
+// path cannot serve, and why.
+func sweptServes(ms []transfer.Metric) error {
+	for _, m := range ms {
+		if err := SweptServes(m); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// SweptServes returns nil when the swept path serves m (gain@F, phase@F,
+// dc, f3db, peak, fpeak), otherwise an error naming m and why not.
+func SweptServes(m transfer.Metric) error {
+	switch {
+	case m.Spec.Spot, m.Spec.Name == "f3db", m.Spec.Name == "peak", m.Spec.Name == "fpeak":
+		return nil
+	}
+	return fmt.Errorf("%s needs the transfer function's poles or the whole circuit", m.Name)
+}
+
+// newSweptPathOf is newSweptPath for metrics ms (all served, sweptServes)
+// with the nominal circuit's stability st already known; it does not ask
+// that the nominal circuit be stable.
+func newSweptPathOf(nominal *netlist.Circuit, in mna.Input, out mna.Output, ms []transfer.Metric, st *stability.Result) (*sweptPath, error) {
+	p := &sweptPath{in: in, out: out, nparts: len(nominal.Parts)}
+	for _, m := range ms {
+		// the peak scan uses the f3db scan's range
+		p.f3db = p.f3db || m.Spec.Name == "f3db" || m.Spec.Name == "peak" || m.Spec.Name == "fpeak"
+	}
 	p.certified = st.Class == stability.Stable && st.Reason == stability.ReasonPassive
 	p.couplings = map[int]float64{}
 	for i, part := range nominal.Parts {
@@ -117,7 +142,7 @@ func newSweptPath(e *MetricEvaluator, nominal *netlist.Circuit) (*sweptPath, err
 			p.couplings[i] = part.Value
 		}
 	}
-	r, err := mna.NewRestamper(nominal, e.in, e.out)
+	r, err := mna.NewRestamper(nominal, in, out)
 	if err != nil {
 		return nil, err
 	}
@@ -217,19 +242,70 @@ func (p *sweptPath) eval(e *MetricEvaluator, c *netlist.Circuit) ([]float64, err
 			return nil, err
 		}
 	}
+	sub, release, err := p.subject(c)
+	if err != nil {
+		return nil, err
+	}
+	defer release()
+	return e.evalOn(sub)
+}
+
+// subject returns the direct-solve subject of c (no stability check) and
+// the release to call once its metrics are read.
+func (p *sweptPath) subject(c *netlist.Circuit) (sweptSubject, func(), error) {
 	w := p.pool.Get().(*sweptWorker)
-	defer p.pool.Put(w)
+	release := func() { p.pool.Put(w) }
 	sw := w.sw
 	if err := w.r.Restamp(c); err != nil {
 		// The pattern does not take this draw (a value that removes a
 		// stamp): build its own system.
 		sys, err := mna.Build(c, p.in, p.out)
 		if err != nil {
-			return nil, err
+			release()
+			return sweptSubject{}, nil, err
 		}
 		sw = mna.NewSweeper(sys)
 	}
-	return e.evalOn(sweptSubject{spotSubject{sw}, p, &sweptPeak{}})
+	return sweptSubject{spotSubject{sw}, p, &sweptPeak{}}, release, nil
+}
+
+// SweptSubjects serves, by direct solves of H on the sparse LU, the
+// metrics of the swept path (gain@F, phase@F, dc, f3db, peak, fpeak; see
+// the file comment) for circuits whose transfer function the extraction
+// refuses: what package require judges such requirements on, with the
+// same definitions as the tolerance runs. The f3db and peak scans of every
+// circuit are placed by the nominal circuit given to NewSweptSubjects.
+// Phases are principal values (−180°, 180°]. Safe for concurrent use.
+type SweptSubjects struct{ p *sweptPath }
+
+// NewSweptSubjects prepares the swept path of metrics ms from in to out
+// on the nominal circuit; an error names a metric no direct solve serves,
+// or says why the nominal circuit gives the scans no range. Stability is
+// not judged here (the caller judges it on the whole circuit).
+func NewSweptSubjects(nominal *netlist.Circuit, in mna.Input, out mna.Output, ms []transfer.Metric) (*SweptSubjects, error) {
+	if err := sweptServes(ms); err != nil {
+		return nil, err
+	}
+	st, err := stability.Analyze(nominal, stability.Options{})
+	if err != nil {
+		return nil, err
+	}
+	p, err := newSweptPathOf(nominal, in, out, ms, st)
+	if err != nil {
+		return nil, err
+	}
+	return &SweptSubjects{p}, nil
+}
+
+// Subject returns the metric subject of c (the same parts as the nominal
+// circuit, values varied) answering the swept metrics by direct solves,
+// and release, to be called once its metrics have been read.
+func (s *SweptSubjects) Subject(c *netlist.Circuit) (netlist.MetricSubject, func(), error) {
+	sub, release, err := s.p.subject(c)
+	if err != nil {
+		return nil, nil, err
+	}
+	return sub, release, nil
 }
 
 // keepsCertificate reports whether the nominal circuit's passivity

@@ -2,17 +2,16 @@ package variation
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
-	"os"
 	"strconv"
 	"strings"
 	"testing"
 
 	"nodal/analysis/transfer"
 	"nodal/mna"
+	"nodal/mna/testcircuit"
 )
 
 // ladderSrc is a uniform RC ladder of n sections (1 kΩ, 10 nF, as
@@ -102,40 +101,27 @@ func TestSweptPathAgreesWithExtraction(t *testing.T) {
 // about (4N/π)² (common practice of numerical linear algebra), 4·10⁷·ε
 // ≈ 10⁻⁸ at 10,000 sections as a bound; 1.5·10⁻¹⁰ is seen.
 func TestSweptLadderF3dBReference(t *testing.T) {
-	raw, err := os.ReadFile("../../testdata/reference/ladder/ladder_f3db.json")
+	ref, err := testcircuit.LadderF3dBReference("../../testdata/reference/ladder/ladder_f3db.json")
 	if err != nil {
 		t.Fatal(err)
 	}
-	var g struct {
-		Ladders []struct {
-			Sections int    `json:"sections"`
-			F3dBHz   string `json:"f3db_hz"`
-		} `json:"ladders"`
-	}
-	if err := json.Unmarshal(raw, &g); err != nil {
-		t.Fatal(err)
-	}
 	checked := 0
-	for _, l := range g.Ladders {
-		if l.Sections < 1000 {
+	for sections, want := range ref {
+		if sections < 1000 {
 			continue
 		}
-		want, err := strconv.ParseFloat(l.F3dBHz, 64)
-		if err != nil {
-			t.Fatal(err)
-		}
-		c := tolLoad(t, ladderSrc(l.Sections, "±1%"))
-		ev := tolEvaluator(t, c, fmt.Sprintf("n%d", l.Sections), "f3db")
+		c := tolLoad(t, ladderSrc(sections, "±1%"))
+		ev := tolEvaluator(t, c, fmt.Sprintf("n%d", sections), "f3db")
 		if ev.swept == nil {
-			t.Fatalf("%d sections: not on the swept path", l.Sections)
+			t.Fatalf("%d sections: not on the swept path", sections)
 		}
 		got := ev.phaseRefDeg[0] // the nominal value
 		tol := 1e-10
-		if l.Sections > 1000 {
+		if sections > 1000 {
 			tol = 1e-9
 		}
 		if d := math.Abs(got-want) / want; d > tol {
-			t.Errorf("%d sections: f3db %.15g Hz, reference %.15g (rel %.2g)", l.Sections, got, want, d)
+			t.Errorf("%d sections: f3db %.15g Hz, reference %.15g (rel %.2g)", sections, got, want, d)
 		}
 		checked++
 	}

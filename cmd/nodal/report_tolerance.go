@@ -133,7 +133,7 @@ func addVerdicts(e *env, c *netlist.Circuit, in mna.Input, out mna.Output, d *re
 			probes[i] = p
 		}
 	}
-	rm, err := require.NewProbeMetrics(c.Requirements, probes)
+	rm, err := require.NewProbeMetrics(c, c.Requirements, probes)
 	if err != nil {
 		return err
 	}

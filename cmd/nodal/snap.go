@@ -209,7 +209,7 @@ func (c *snapCmd) requirementMoves(l *loaded, res *stdvalue.SnapResult) ([]snapR
 	if err != nil {
 		return nil, "metrics not shown: " + err.Error(), nil
 	}
-	rm, err := require.NewProbeMetrics(l.circuit.Requirements, probes)
+	rm, err := require.NewProbeMetrics(l.circuit, l.circuit.Requirements, probes)
 	if err != nil {
 		return nil, "", err
 	}

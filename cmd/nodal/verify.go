@@ -169,6 +169,7 @@ type verdictJSON struct {
 
 	nominal, worstMin, worstMax float64 // as evaluated, ±Inf and NaN included, for the table
 	stable                      bool    // the requirement is `stable` (values 1 or 0)
+	unproven                    bool    // stable: the nominal class is passive or not checked
 }
 
 // stableText reads the value of the stable metric.
@@ -214,7 +215,7 @@ func (c *verifyCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	rm, err := require.NewProbeMetrics(l.circuit.Requirements, probes)
+	rm, err := require.NewProbeMetrics(l.circuit, l.circuit.Requirements, probes)
 	if err != nil {
 		return err
 	}
@@ -272,6 +273,7 @@ func (c *verifyCmd) Run(e *env) error {
 			unstableNoted = true
 			rep.Requirements[len(rep.Requirements)-1].NominalReason = "not stable"
 		} else if why[i] != nil {
+			rep.Requirements[len(rep.Requirements)-1].unproven = errors.Is(why[i], stability.ErrUnchecked)
 			rep.Requirements[len(rep.Requirements)-1].NominalReason = why[i].Error()
 			rep.Notes = append(rep.Notes, fmt.Sprintf("%s: at nominal values: %v", d.Requirement.Text, why[i]))
 		}
@@ -392,6 +394,9 @@ func verifyTable(w io.Writer, rep *verifyReport) error {
 			}
 		} else if v.stable {
 			nominal = stableText(v.nominal)
+		}
+		if v.unproven {
+			nominal = "not proven"
 		}
 		if err := t.row(v.Response, strings.TrimPrefix(v.Requirement, "require "), nominal, passText(v.NominalPass), worst, passText(v.WorstPass), yield); err != nil {
 			return err
