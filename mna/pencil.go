@@ -71,8 +71,12 @@ type luOrder struct {
 	inv  []int
 }
 
-func newLUOrder(p *pencil) *luOrder {
-	o := &luOrder{p: p, perm: minimumDegree(p)}
+func newLUOrder(p *pencil) *luOrder { return newLUOrderWith(p, fillReducingOrder(p)) }
+
+// newLUOrderWith is the luOrder of p eliminating perm (a permutation of
+// 0 … n−1) in its order.
+func newLUOrderWith(p *pencil, perm []int) *luOrder {
+	o := &luOrder{p: p, perm: perm}
 	o.inv = make([]int, p.n)
 	for k, u := range o.perm {
 		o.inv[u] = k
@@ -117,7 +121,11 @@ const pivotKeep = 0.1
 // index), so the order is deterministic. Cost: Σ over steps of the
 // neighbour lists touched, O(n log n) for a ladder or any network whose
 // fill stays bounded.
-func minimumDegree(p *pencil) []int {
+func minimumDegree(p *pencil) []int { return minimumDegreeGraph(symmetricAdjacency(p)) }
+
+// symmetricAdjacency returns the neighbour lists of the symmetrised
+// pattern of p without the diagonal (a neighbour may be listed twice).
+func symmetricAdjacency(p *pencil) [][]int {
 	n := p.n
 	adj := make([][]int, n)
 	for j := 0; j < n; j++ {
@@ -128,6 +136,13 @@ func minimumDegree(p *pencil) []int {
 			}
 		}
 	}
+	return adj
+}
+
+// minimumDegreeGraph is minimumDegree on the graph adj (consumed: its
+// lists become the elimination graph), ties broken by vertex index.
+func minimumDegreeGraph(adj [][]int) []int {
+	n := len(adj)
 	mark := make([]int, n) // mark[u] == stamp: u seen in this pass
 	stamp := 0
 	done := make([]bool, n)
