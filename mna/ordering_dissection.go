@@ -1,6 +1,9 @@
 package mna
 
-import "slices"
+import (
+	"math"
+	"slices"
+)
 
 // Fill-reducing orders beyond minimum degree, and the rule that chooses
 // between them.
@@ -29,17 +32,25 @@ const ndLeaf = 128
 
 // fillReducingOrder returns the elimination order of p: minimum degree's,
 // or nested dissection's when that predicts strictly less fill.
+// Minimum degree runs first until its first fill-in: an order with none
+// (a ladder, a tree) has the least fill there is, L's pattern being at
+// least A's, and is kept without trying nested dissection. Otherwise it
+// runs again after nested dissection, bounded by that order's fill, so on
+// meshes its costly last steps (cliques of about √n unknowns) are not
+// taken once it has lost.
 func fillReducingOrder(p *pencil) []int {
-	md := minimumDegree(p)
 	if p.n < ndMinUnknowns {
+		return minimumDegree(p)
+	}
+	if md, _, ok := minimumDegreeBounded(symmetricAdjacency(p), math.MaxInt64, 0); ok {
 		return md
 	}
 	adj := simpleAdjacency(p)
 	nd := nestedDissection(adj)
-	if symbolicFill(adj, nd) < symbolicFill(adj, md) {
-		return nd
+	if md, _, ok := minimumDegreeBounded(symmetricAdjacency(p), symbolicFill(adj, nd), math.MaxInt64); ok {
+		return md
 	}
-	return md
+	return nd
 }
 
 // simpleAdjacency is symmetricAdjacency with every list sorted and free of
@@ -212,12 +223,15 @@ func (d *dissector) bfs(root, t int) [][]int {
 		start = end
 	}
 	d.queue = q
-	// The levels alias d.queue; copy them out so the next BFS keeps them.
-	out := make([][]int, len(levels))
+	// The levels alias d.queue; move them to a copy of it (one
+	// allocation) so the next BFS keeps them.
+	c := slices.Clone(q)
+	off := 0
 	for i, l := range levels {
-		out[i] = slices.Clone(l)
+		levels[i] = c[off : off+len(l) : off+len(l)]
+		off += len(l)
 	}
-	return out
+	return levels
 }
 
 func (d *dissector) reached(levels [][]int) int {

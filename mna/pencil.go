@@ -2,6 +2,7 @@ package mna
 
 import (
 	"container/heap"
+	"math"
 	"sync"
 )
 
@@ -142,6 +143,18 @@ func symmetricAdjacency(p *pencil) [][]int {
 // minimumDegreeGraph is minimumDegree on the graph adj (consumed: its
 // lists become the elimination graph), ties broken by vertex index.
 func minimumDegreeGraph(adj [][]int) []int {
+	perm, _, _ := minimumDegreeBounded(adj, math.MaxInt64, math.MaxInt64)
+	return perm
+}
+
+// minimumDegreeBounded is minimumDegreeGraph that also returns the fill
+// of its order (the entries of L below the diagonal: the degree of each
+// unknown in the elimination graph when it is eliminated, symbolicFill's
+// count) and gives up, returning ok false and no order, as soon as that
+// fill exceeds maxFill or the fill-in (the edges elimination adds to the
+// graph) exceeds maxFillIn, so an order known to be beaten costs no more
+// than the work up to there.
+func minimumDegreeBounded(adj [][]int, maxFill, maxFillIn int64) (perm []int, fill int64, ok bool) {
 	n := len(adj)
 	mark := make([]int, n) // mark[u] == stamp: u seen in this pass
 	stamp := 0
@@ -164,8 +177,9 @@ func minimumDegreeGraph(adj [][]int) []int {
 		h = append(h, degItem{len(adj[v]), v})
 	}
 	heap.Init(&h)
-	perm := make([]int, 0, n)
+	perm = make([]int, 0, n)
 	nb := make([]int, 0)
+	var fillIn int64
 	for len(perm) < n {
 		it := heap.Pop(&h).(degItem)
 		v := it.v
@@ -174,15 +188,24 @@ func minimumDegreeGraph(adj [][]int) []int {
 		}
 		done[v] = true
 		perm = append(perm, v)
+		if fill += int64(len(adj[v])); fill > maxFill {
+			return nil, fill, false
+		}
 		nb = append(nb[:0], adj[v]...)
 		adj[v] = nil
+		var grown int64 // twice the fill-in of this step
 		for _, u := range nb {
+			before := len(adj[u]) - 1 // v goes
 			adj[u] = append(adj[u], nb...)
 			dedup(u)
+			grown += int64(len(adj[u]) - before)
 			heap.Push(&h, degItem{len(adj[u]), u})
 		}
+		if fillIn += grown / 2; fillIn > maxFillIn {
+			return nil, fill, false
+		}
 	}
-	return perm
+	return perm, fill, true
 }
 
 // degItem is an unknown and its degree when pushed.
