@@ -151,9 +151,10 @@ func minimumDegreeGraph(adj [][]int) []int {
 // of its order (the entries of L below the diagonal: the degree of each
 // unknown in the elimination graph when it is eliminated, symbolicFill's
 // count) and gives up, returning ok false and no order, as soon as that
-// fill exceeds maxFill or the fill-in (the edges elimination adds to the
-// graph) exceeds maxFillIn, so an order known to be beaten costs no more
-// than the work up to there.
+// fill is sure to exceed maxFill (the fill so far and the edges left in
+// the elimination graph, each an entry of L to come, exceed it) or the
+// fill-in (the edges elimination adds to the graph) exceeds maxFillIn, so
+// an order known to be beaten costs no more than the work up to there.
 func minimumDegreeBounded(adj [][]int, maxFill, maxFillIn int64) (perm []int, fill int64, ok bool) {
 	n := len(adj)
 	mark := make([]int, n) // mark[u] == stamp: u seen in this pass
@@ -172,10 +173,13 @@ func minimumDegreeBounded(adj [][]int, maxFill, maxFillIn int64) (perm []int, fi
 		adj[v] = out
 	}
 	h := make(degHeap, 0, n)
+	var edges int64 // of the elimination graph
 	for v := 0; v < n; v++ {
 		dedup(v)
 		h = append(h, degItem{len(adj[v]), v})
+		edges += int64(len(adj[v]))
 	}
+	edges /= 2
 	heap.Init(&h)
 	perm = make([]int, 0, n)
 	nb := make([]int, 0)
@@ -188,9 +192,8 @@ func minimumDegreeBounded(adj [][]int, maxFill, maxFillIn int64) (perm []int, fi
 		}
 		done[v] = true
 		perm = append(perm, v)
-		if fill += int64(len(adj[v])); fill > maxFill {
-			return nil, fill, false
-		}
+		fill += int64(len(adj[v]))
+		edges -= int64(len(adj[v]))
 		nb = append(nb[:0], adj[v]...)
 		adj[v] = nil
 		var grown int64 // twice the fill-in of this step
@@ -201,7 +204,11 @@ func minimumDegreeBounded(adj [][]int, maxFill, maxFillIn int64) (perm []int, fi
 			grown += int64(len(adj[u]) - before)
 			heap.Push(&h, degItem{len(adj[u]), u})
 		}
-		if fillIn += grown / 2; fillIn > maxFillIn {
+		fillIn += grown / 2
+		edges += grown / 2
+		// Every edge left in the elimination graph is an entry of L to
+		// come, so fill + edges is a lower bound of the final fill.
+		if fillIn > maxFillIn || fill+edges > maxFill {
 			return nil, fill, false
 		}
 	}
