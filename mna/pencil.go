@@ -2,6 +2,7 @@ package mna
 
 import (
 	"container/heap"
+	"math"
 	"sync"
 )
 
@@ -71,8 +72,12 @@ type luOrder struct {
 	inv  []int
 }
 
-func newLUOrder(p *pencil) *luOrder {
-	o := &luOrder{p: p, perm: minimumDegree(p)}
+func newLUOrder(p *pencil) *luOrder { return newLUOrderWith(p, fillReducingOrder(p)) }
+
+// newLUOrderWith is the luOrder of p eliminating perm (a permutation of
+// 0 … n−1) in its order.
+func newLUOrderWith(p *pencil, perm []int) *luOrder {
+	o := &luOrder{p: p, perm: perm}
 	o.inv = make([]int, p.n)
 	for k, u := range o.perm {
 		o.inv[u] = k
@@ -117,7 +122,11 @@ const pivotKeep = 0.1
 // index), so the order is deterministic. Cost: Σ over steps of the
 // neighbour lists touched, O(n log n) for a ladder or any network whose
 // fill stays bounded.
-func minimumDegree(p *pencil) []int {
+func minimumDegree(p *pencil) []int { return minimumDegreeGraph(symmetricAdjacency(p)) }
+
+// symmetricAdjacency returns the neighbour lists of the symmetrised
+// pattern of p without the diagonal (a neighbour may be listed twice).
+func symmetricAdjacency(p *pencil) [][]int {
 	n := p.n
 	adj := make([][]int, n)
 	for j := 0; j < n; j++ {
@@ -128,6 +137,26 @@ func minimumDegree(p *pencil) []int {
 			}
 		}
 	}
+	return adj
+}
+
+// minimumDegreeGraph is minimumDegree on the graph adj (consumed: its
+// lists become the elimination graph), ties broken by vertex index.
+func minimumDegreeGraph(adj [][]int) []int {
+	perm, _, _ := minimumDegreeBounded(adj, math.MaxInt64, math.MaxInt64)
+	return perm
+}
+
+// minimumDegreeBounded is minimumDegreeGraph that also returns the fill
+// of its order (the entries of L below the diagonal: the degree of each
+// unknown in the elimination graph when it is eliminated, symbolicFill's
+// count) and gives up, returning ok false and no order, as soon as that
+// fill is sure to exceed maxFill (the fill so far and the edges left in
+// the elimination graph, each an entry of L to come, exceed it) or the
+// fill-in (the edges elimination adds to the graph) exceeds maxFillIn, so
+// an order known to be beaten costs no more than the work up to there.
+func minimumDegreeBounded(adj [][]int, maxFill, maxFillIn int64) (perm []int, fill int64, ok bool) {
+	n := len(adj)
 	mark := make([]int, n) // mark[u] == stamp: u seen in this pass
 	stamp := 0
 	done := make([]bool, n)
@@ -144,13 +173,17 @@ func minimumDegree(p *pencil) []int {
 		adj[v] = out
 	}
 	h := make(degHeap, 0, n)
+	var edges int64 // of the elimination graph
 	for v := 0; v < n; v++ {
 		dedup(v)
 		h = append(h, degItem{len(adj[v]), v})
+		edges += int64(len(adj[v]))
 	}
+	edges /= 2
 	heap.Init(&h)
-	perm := make([]int, 0, n)
+	perm = make([]int, 0, n)
 	nb := make([]int, 0)
+	var fillIn int64
 	for len(perm) < n {
 		it := heap.Pop(&h).(degItem)
 		v := it.v
@@ -159,15 +192,27 @@ func minimumDegree(p *pencil) []int {
 		}
 		done[v] = true
 		perm = append(perm, v)
+		fill += int64(len(adj[v]))
+		edges -= int64(len(adj[v]))
 		nb = append(nb[:0], adj[v]...)
 		adj[v] = nil
+		var grown int64 // twice the fill-in of this step
 		for _, u := range nb {
+			before := len(adj[u]) - 1 // v goes
 			adj[u] = append(adj[u], nb...)
 			dedup(u)
+			grown += int64(len(adj[u]) - before)
 			heap.Push(&h, degItem{len(adj[u]), u})
 		}
+		fillIn += grown / 2
+		edges += grown / 2
+		// Every edge left in the elimination graph is an entry of L to
+		// come, so fill + edges is a lower bound of the final fill.
+		if fillIn > maxFillIn || fill+edges > maxFill {
+			return nil, fill, false
+		}
 	}
-	return perm
+	return perm, fill, true
 }
 
 // degItem is an unknown and its degree when pushed.

@@ -128,7 +128,8 @@ func TestEvalPairMatchesEval(t *testing.T) {
 // ladders, one point per Eval against two per EvalPair, after the first
 // point (the pattern): one op is the 1,000 points. "cable" is 1 kΩ and
 // 10 nF a section, most of whose far voltages underflow (flushed solves);
-// "normal" is 1 Ω and 1 pF, every value in the normal range.
+// "normal" is 1 Ω and 1 pF, every value in the normal range. nnz(L+U) as
+// in BenchmarkEvalMesh.
 func BenchmarkEvalPairLadder(b *testing.B) {
 	for _, k := range []int{1000, 10000} {
 		for _, kind := range []struct {
@@ -165,6 +166,7 @@ func BenchmarkEvalPairLadder(b *testing.B) {
 							}
 						}
 					}
+					b.ReportMetric(float64(factorNNZ(b, w)), "nnz(L+U)")
 				})
 			}
 		}

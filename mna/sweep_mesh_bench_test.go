@@ -39,7 +39,8 @@ func rcMesh(tb testing.TB, side int, r, c float64) *netlist.Circuit {
 // n·log₂n, so the growth with n can be read across sizes. For a 2-D grid a
 // direct LU cannot do better than about n^1.5 operations with the best
 // ordering (nested dissection: George, SIAM J. Numer. Anal. 10 (1973)),
-// fill n·log n; a ladder's is n (BenchmarkEvalPairLadder).
+// fill n·log n; a ladder's is n (BenchmarkEvalPairLadder). nnz(L+U) is
+// the held factorisation's (unit diagonal of L not counted, U's counted).
 func BenchmarkEvalMesh(b *testing.B) {
 	for _, side := range []int{16, 32, 64, 128} {
 		sys, err := Build(rcMesh(b, side, 10, 1e-12), Input{}, Output{Kind: NodeVoltage, Node: fmt.Sprintf("m%d_%d", side-1, side-1)})
@@ -62,6 +63,18 @@ func BenchmarkEvalMesh(b *testing.B) {
 			}
 			perPoint := float64(b.Elapsed().Nanoseconds()) / float64(b.N)
 			b.ReportMetric(perPoint/(float64(n)*math.Log2(float64(n))), "ns/nlogn")
+			b.ReportMetric(float64(factorNNZ(b, w)), "nnz(L+U)")
 		})
 	}
+}
+
+// factorNNZ returns the entries of the sparse path's L and U as held after
+// the last factorisation: L below its unit diagonal, U with its diagonal.
+func factorNNZ(tb testing.TB, w *Sweeper) int {
+	tb.Helper()
+	f, ok := w.f.(*sparseLU)
+	if !ok {
+		tb.Fatalf("%T is not the sparse path", w.f)
+	}
+	return len(f.lIdx) + len(f.uIdx) + f.n
 }
