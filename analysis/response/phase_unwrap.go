@@ -116,7 +116,13 @@ func axisJump(a, b phasePoint, pred, disagree, resid float64) (float64, bool) {
 // resolveStep is the phase change from a to b (radians), refined by
 // solves of ev between them; ok false when it cannot be resolved within
 // depth levels and *budget solves.
+// A step down in frequency (b below a, as --at may list) is the step
+// up from b to a with its sign changed.
 func resolveStep(ctx context.Context, ev pointEval, a, b phasePoint, depth int, budget *int) (float64, bool, error) {
+	if b.f < a.f {
+		d, ok, err := resolveStep(ctx, ev, b, a, depth, budget)
+		return -d, ok, err
+	}
 	delta, pred, dis, res := stepChange(a, b)
 	if safe(pred, dis, res) {
 		return delta, true, nil
@@ -212,8 +218,12 @@ func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() 
 			continue
 		}
 		pa, pb := pt(a), pt(i)
-		if d, pred, dis, res := stepChange(pa, pb); safe(pred, dis, res) {
-			delta[i] = d
+		lo, hi, sign := pa, pb, 1.0
+		if pb.f < pa.f { // a step down: the change up from pb to pa, negated
+			lo, hi, sign = pb, pa, -1
+		}
+		if d, pred, dis, res := stepChange(lo, hi); safe(pred, dis, res) {
+			delta[i] = sign * d
 		} else {
 			pending = append(pending, step{pa, pb, i})
 		}
