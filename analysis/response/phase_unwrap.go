@@ -5,6 +5,7 @@ import (
 	"errors"
 	"math"
 	"math/cmplx"
+	"slices"
 	"sync"
 	"sync/atomic"
 
@@ -32,6 +33,15 @@ import (
 // exactly, and each half resolved the same way, to refineDepth levels and
 // refineSolves solves per step. The extra points are only used, never
 // returned. A dense grid rarely needs any (the check costs a few flops).
+//
+// A resonance much narrower than the step between two points (two
+// high-Q sections, a high-Q all-pass) turns the phase by whole turns
+// that neither end's delay shows, so a step is also never taken as it is
+// when it holds a mark of Response.marksHz (SweepOptions.PhaseMarksHz,
+// the circuit's resonances): it is split at the mark first, and each
+// half, which then ends at the resonance, is resolved as above. Without
+// marks (a circuit too large for its natural frequencies to be known)
+// such a hidden turn is not seen.
 //
 // A pole (or zero) on the jω axis makes the phase jump by 180° where the
 // delay sees nothing. A step that still differs from its prediction by
@@ -118,17 +128,23 @@ func axisJump(a, b phasePoint, pred, disagree, resid float64) (float64, bool) {
 // depth levels and *budget solves.
 // A step down in frequency (b below a, as --at may list) is the step
 // up from b to a with its sign changed.
-func resolveStep(ctx context.Context, ev pointEval, a, b phasePoint, depth int, budget *int) (float64, bool, error) {
+//
+// marks are the frequencies (sorted) at which a step that holds one is
+// split first (see the top of this file).
+func resolveStep(ctx context.Context, ev pointEval, a, b phasePoint, depth int, budget *int, marks []float64) (float64, bool, error) {
 	if b.f < a.f {
-		d, ok, err := resolveStep(ctx, ev, b, a, depth, budget)
+		d, ok, err := resolveStep(ctx, ev, b, a, depth, budget, marks)
 		return -d, ok, err
 	}
+	marks = marksInside(marks, a.f, b.f)
 	delta, pred, dis, res := stepChange(a, b)
-	if safe(pred, dis, res) {
-		return delta, true, nil
-	}
-	if d, ok := axisJump(a, b, pred, dis, res); ok {
-		return d, true, nil
+	if len(marks) == 0 {
+		if safe(pred, dis, res) {
+			return delta, true, nil
+		}
+		if d, ok := axisJump(a, b, pred, dis, res); ok {
+			return d, true, nil
+		}
 	}
 	if ev == nil || depth >= refineDepth {
 		return 0, false, nil
@@ -139,6 +155,9 @@ func resolveStep(ctx context.Context, ev pointEval, a, b phasePoint, depth int, 
 	fm := b.f / 2
 	if a.f > 0 {
 		fm = math.Sqrt(a.f) * math.Sqrt(b.f)
+	}
+	if len(marks) > 0 {
+		fm = marks[len(marks)/2]
 	}
 	for try := 0; ; try++ {
 		if !(fm > a.f && fm < b.f) || *budget <= 0 {
@@ -151,18 +170,49 @@ func resolveStep(ctx context.Context, ev pointEval, a, b phasePoint, depth int, 
 		}
 		if !singular && cmplx.Abs(h) >= MinNormalMag && !cmplx.IsInf(h) && !cmplx.IsNaN(dh) {
 			m := newPhasePoint(fm, h, dh)
-			d1, ok, err := resolveStep(ctx, ev, a, m, depth+1, budget)
+			d1, ok, err := resolveStep(ctx, ev, a, m, depth+1, budget, marks)
 			if !ok || err != nil {
 				return 0, false, err
 			}
-			d2, ok, err := resolveStep(ctx, ev, m, b, depth+1, budget)
+			d2, ok, err := resolveStep(ctx, ev, m, b, depth+1, budget, marks)
 			return d1 + d2, ok, err
 		}
 		if !singular || try > 0 {
 			return 0, false, nil // no phase there (|H| below the range)
 		}
-		fm += (b.f - fm) / 1024 // on a pole: split just beside it
+		// On a pole: split just beside it, and let that mark go (the
+		// split beside it ends a half at the resonance, as the mark
+		// would).
+		marks = slices.DeleteFunc(slices.Clone(marks), func(m float64) bool { return m == fm })
+		fm += (b.f - fm) / 1024
 	}
+}
+
+// phaseMarks returns the positive finite frequencies of marks, sorted
+// and without repeats (a new slice).
+func phaseMarks(marks []float64) []float64 {
+	var out []float64
+	for _, m := range marks {
+		if m > 0 && !math.IsInf(m, 0) {
+			out = append(out, m)
+		}
+	}
+	slices.Sort(out)
+	return slices.Compact(out)
+}
+
+// marksInside returns the marks strictly between lo and hi (Hz), a
+// subslice of the sorted marks.
+func marksInside(marks []float64, lo, hi float64) []float64 {
+	i, _ := slices.BinarySearch(marks, lo)
+	for i < len(marks) && marks[i] <= lo {
+		i++
+	}
+	j, _ := slices.BinarySearch(marks, hi)
+	if j < i {
+		j = i
+	}
+	return marks[i:j]
 }
 
 // unwrapPhase replaces r.PhaseDeg (principal values, NaN where there is
@@ -222,7 +272,7 @@ func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() 
 		if pb.f < pa.f { // a step down: the change up from pb to pa, negated
 			lo, hi, sign = pb, pa, -1
 		}
-		if d, pred, dis, res := stepChange(lo, hi); safe(pred, dis, res) {
+		if d, pred, dis, res := stepChange(lo, hi); safe(pred, dis, res) && len(marksInside(r.marksHz, lo.f, hi.f)) == 0 {
 			delta[i] = sign * d
 		} else {
 			pending = append(pending, step{pa, pb, i})
@@ -248,7 +298,7 @@ func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() 
 					}
 					st := pending[j]
 					budget := refineSolves
-					d, ok, err := resolveStep(ctx, ev, st.a, st.b, 0, &budget)
+					d, ok, err := resolveStep(ctx, ev, st.a, st.b, 0, &budget, r.marksHz)
 					if errs[j] = err; err != nil {
 						return
 					}

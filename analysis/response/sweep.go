@@ -61,6 +61,8 @@ type Response struct {
 	PhaseUnresolved []bool
 
 	dh []complex128 // dH/ds at s = j2πf, for Sum's group delay
+
+	marksHz []float64 // SweepOptions.PhaseMarksHz, sorted, positive and finite
 	// systems are the systems whose H sum to this response, solved
 	// between the points for the phase of a Sum.
 	systems []*mna.System
@@ -124,6 +126,25 @@ func underflowPoints(freqsHz []float64, h []complex128, atPole []bool, eval func
 // Response.AtPole); only when every point is singular does Sweep fail,
 // with the *mna.SingularError of the first.
 func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int) (*Response, error) {
+	return SweepWith(ctx, sys, freqsHz, SweepOptions{Workers: workers})
+}
+
+// SweepOptions are the settings of SweepWith.
+type SweepOptions struct {
+	// Workers is the number of goroutines (≤ 0: runtime.NumCPU()).
+	Workers int
+	// PhaseMarksHz are frequencies (Hz) at which the phase unwrapping
+	// always splits a step between two points that holds one: the
+	// circuit's resonances, |Im p|/2π of its natural frequencies p. A
+	// resonance much narrower than the step between two points turns the
+	// phase by whole turns where the group delay at both ends sees
+	// nothing; split there, each half shows it. Order does not matter.
+	PhaseMarksHz []float64
+}
+
+// SweepWith is Sweep with options.
+func SweepWith(ctx context.Context, sys *mna.System, freqsHz []float64, opt SweepOptions) (*Response, error) {
+	workers := opt.Workers
 	for i, f := range freqsHz {
 		if !(f >= 0) || math.IsInf(f, 0) {
 			return nil, fmt.Errorf("sweep: frequency %d is %g Hz; want a finite value ≥ 0", i, f)
@@ -216,6 +237,7 @@ func Sweep(ctx context.Context, sys *mna.System, freqsHz []float64, workers int)
 	})
 	r := newResponse(InputLabel(sys.Input), OutputLabel(sys.Output), freqsHz, h, dh, atPole, under)
 	r.systems = []*mna.System{sys}
+	r.marksHz = phaseMarks(opt.PhaseMarksHz)
 	err := r.unwrapPhase(ctx, workers, func() pointEval { return sweeperEval(base.Clone()) })
 	if err != nil {
 		return nil, fmt.Errorf("sweep: phase: %w", err)
@@ -260,6 +282,11 @@ func Sum(ctx context.Context, output string, rs ...*Response) (*Response, error)
 		under[i] = termUnder[i] && !atPole[i] && cmplx.Abs(h[i]) < MinNormalMag
 	}
 	r := newResponse(rs[0].Input, output, rs[0].FreqHz, h, dh, atPole, under)
+	var marks []float64
+	for _, t := range rs {
+		marks = append(marks, t.marksHz...)
+	}
+	r.marksHz = phaseMarks(marks)
 	if len(rs) == 1 {
 		r.PhaseDeg, r.PhaseUnresolved, r.systems = rs[0].PhaseDeg, rs[0].PhaseUnresolved, rs[0].systems
 		return r, nil

@@ -113,7 +113,14 @@ func (c *impedanceCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	resp, err := response.Sweep(e.ctx, r.sys, freqs, 0)
+	// The circuit's stability, as every other command states it: a
+	// warning beside the table, the keys in JSON; its resonances serve
+	// the phase unwrapping.
+	stab, err := circuitStability(l)
+	if err != nil {
+		return err
+	}
+	resp, err := response.SweepWith(e.ctx, r.sys, freqs, response.SweepOptions{PhaseMarksHz: resonanceMarks(stab)})
 	if err != nil {
 		return err
 	}
@@ -158,12 +165,7 @@ func (c *impedanceCmd) Run(e *env) error {
 			return err
 		}
 	}
-	// The circuit's stability, as every other command states it: a
-	// warning beside the table, the keys in JSON.
-	stab, err := circuitStability(l)
-	if err != nil {
-		return err
-	}
+
 	rep := newTFReport(r)
 	warnPhaseUnresolved(e.stderr, []*response.Response{resp})
 	return writeTo(e, c.Output, []string{c.File, c.Plot}, func(w io.Writer) error {

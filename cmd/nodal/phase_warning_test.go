@@ -1,6 +1,8 @@
 package main
 
 import (
+	"fmt"
+	"math"
 	"strings"
 	"testing"
 
@@ -29,5 +31,26 @@ func TestPhaseUnresolvedShown(t *testing.T) {
 	}
 	if strings.Contains(table.String(), "-57.106 mod") {
 		t.Errorf("a resolved point is marked:\n%s", table.String())
+	}
+}
+
+// TestSweepPhaseSeesHiddenResonances: two high-Q sections between 100 Hz
+// and 10 kHz turn the phase by −360° that the group delay at the two
+// points does not show; the sweep splits the step at the circuit's
+// resonances and prints −359.974° at 10 kHz (closed form: the sum of
+// −atan2(ωRC, 1 − ω²LC) over the sections, common practice; impedance
+// uses the same marks).
+func TestSweepPhaseSeesHiddenResonances(t *testing.T) {
+	r := runNodal(t, "", "sweep", "testdata/high_q_pair.nodal", "--at", "100,10k")
+	w := 2 * math.Pi * 10e3
+	want := 0.0
+	for _, lc := range [][2]float64{{15.9155e-3, 1.59155e-6}, {13.2629e-3, 1.32629e-6}} {
+		want -= math.Atan2(w*0.2*lc[1], 1-w*w*lc[0]*lc[1]) * 180 / math.Pi
+	}
+	if r.code != 0 || !strings.Contains(r.stdout, fmt.Sprintf("%.3f", -want)) && !strings.Contains(r.stdout, fmt.Sprintf("%.3f", want)) {
+		t.Fatalf("code %d; want %.3f° at 10 kHz in:\n%s%s", r.code, want, r.stdout, r.stderr)
+	}
+	if !strings.Contains(r.stdout, "-359.974") {
+		t.Errorf("want -359.974 at 10 kHz:\n%s", r.stdout)
 	}
 }

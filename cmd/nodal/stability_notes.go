@@ -152,3 +152,22 @@ func warnStability(w io.Writer, res *stability.Result) {
 		fmt.Fprintln(w, "nodal: warning: "+line)
 	}
 }
+
+// resonanceMarks are the resonances of the circuit whose stability is st:
+// |Im p|/2π (Hz) of its complex natural frequencies p, where a sweep's
+// phase unwrapping splits a step between two points
+// (response.SweepOptions.PhaseMarksHz) so that a resonance narrower than
+// the step cannot hide a whole turn. None for st nil or without natural
+// frequencies (a large circuit's are not all computed).
+func resonanceMarks(st *stability.Result) []float64 {
+	if st == nil {
+		return nil
+	}
+	var marks []float64
+	for _, p := range st.Natural {
+		if imag(p) > 0 {
+			marks = append(marks, imag(p)/(2*math.Pi))
+		}
+	}
+	return marks
+}

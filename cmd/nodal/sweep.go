@@ -132,6 +132,7 @@ type sweepJSON struct {
 type sweepTrace struct {
 	label   string
 	systems []*mna.System
+	marksHz []float64 // the circuit's resonances (resonanceMarks), for the phase unwrapping
 }
 
 // traces resolves the --out values: each a response, a node, i(PART) or
@@ -195,7 +196,7 @@ func sweepTraces(e *env, traces []sweepTrace, freqs []float64, workers int) ([]*
 	for _, t := range traces {
 		var terms []*response.Response
 		for _, sys := range t.systems {
-			r, err := response.Sweep(e.ctx, sys, freqs, workers)
+			r, err := response.SweepWith(e.ctx, sys, freqs, response.SweepOptions{Workers: workers, PhaseMarksHz: t.marksHz})
 			if err != nil {
 				return nil, err
 			}
@@ -280,6 +281,15 @@ func (c *sweepCmd) Run(e *env) error {
 	if err := checkWork("sweep", len(l.circuit.Parts), len(freqs), len(traces), "outputs"); err != nil {
 		return err
 	}
+	stabs := make([]*stability.Result, len(ls))
+	for i, l := range ls {
+		if stabs[i], err = circuitStability(l); err != nil {
+			return err
+		}
+	}
+	for i := range traces {
+		traces[i].marksHz = resonanceMarks(stabs[of[i]])
+	}
 	resps, err := sweepTraces(e, traces, freqs, c.Workers)
 	if err != nil {
 		return err
@@ -295,12 +305,6 @@ func (c *sweepCmd) Run(e *env) error {
 	}
 	if c.Plot != "" {
 		if err := writeBodePlot(e, c.Plot, []string{c.File, c.Output}, l, tfs, resps); err != nil {
-			return err
-		}
-	}
-	stabs := make([]*stability.Result, len(ls))
-	for i, l := range ls {
-		if stabs[i], err = circuitStability(l); err != nil {
 			return err
 		}
 	}
