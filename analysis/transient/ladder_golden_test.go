@@ -2,11 +2,9 @@ package transient
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
-	"os"
 	"testing"
 
 	"nodal/analysis/timeresp"
@@ -15,30 +13,13 @@ import (
 	"nodal/mna/testcircuit"
 )
 
-// ladderGolden is testdata/reference/ladder_step/ladder_step.json, written
-// by gen_ladder_step.py beside it (a modal solution of the hand-written
-// ladder equations, checked there against scipy's expm).
-type ladderGolden struct {
-	Ladders []struct {
-		Sections int       `json:"sections"`
-		ROhm     float64   `json:"r_ohm"`
-		CFarad   float64   `json:"c_farad"`
-		UntilS   float64   `json:"until_s"`
-		Output   string    `json:"output"`
-		TS       []float64 `json:"t_s"`
-		Step     []float64 `json:"step"`
-		Impulse  []float64 `json:"impulse"`
-	} `json:"ladders"`
-}
-
-func loadLadderGolden(t testing.TB) ladderGolden {
+// loadLadderGolden reads testdata/reference/ladder_step/ladder_step.json,
+// written by gen_ladder_step.py beside it (a modal solution of the
+// hand-written ladder equations, checked there against scipy's expm).
+func loadLadderGolden(t testing.TB) []testcircuit.LadderStep {
 	t.Helper()
-	b, err := os.ReadFile("../../testdata/reference/ladder_step/ladder_step.json")
+	g, err := testcircuit.LadderStepReference("../../testdata/reference/ladder_step/ladder_step.json")
 	if err != nil {
-		t.Fatal(err)
-	}
-	var g ladderGolden
-	if err := json.Unmarshal(b, &g); err != nil {
 		t.Fatal(err)
 	}
 	return g
@@ -50,7 +31,7 @@ func loadLadderGolden(t testing.TB) ladderGolden {
 // own error estimate is not smaller than its actual error.
 func TestIntegrateLadderGolden(t *testing.T) {
 	g := loadLadderGolden(t)
-	for _, lad := range g.Ladders {
+	for _, lad := range g {
 		sys := testcircuit.Build(t, testcircuit.RCLadder(lad.Sections, lad.ROhm, lad.CFarad), mna.Output{Kind: mna.NodeVoltage, Node: lad.Output})
 		for _, tc := range []struct {
 			impulse bool

@@ -10,6 +10,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"nodal/mna/testcircuit"
 )
 
 // TestTimeReducedLadderGolden: the step and impulse responses of the
@@ -21,24 +23,11 @@ import (
 // the check's tolerance, 1e-4 of the response's scale; the final value
 // of the step is the DC gain, exactly 1.
 func TestTimeReducedLadderGolden(t *testing.T) {
-	b, err := os.ReadFile("../../testdata/reference/ladder_step/ladder_step.json")
+	ladders, err := testcircuit.LadderStepReference("../../testdata/reference/ladder_step/ladder_step.json")
 	if err != nil {
 		t.Fatal(err)
 	}
-	var g struct {
-		Ladders []struct {
-			Sections int       `json:"sections"`
-			UntilS   float64   `json:"until_s"`
-			Output   string    `json:"output"`
-			TS       []float64 `json:"t_s"`
-			Step     []float64 `json:"step"`
-			Impulse  []float64 `json:"impulse"`
-		} `json:"ladders"`
-	}
-	if err := json.Unmarshal(b, &g); err != nil {
-		t.Fatal(err)
-	}
-	for _, lad := range g.Ladders {
+	for _, lad := range ladders {
 		file := tuneLadder(t, lad.Sections)
 		for _, kind := range []string{"step", "impulse"} {
 			want := lad.Step
