@@ -70,3 +70,51 @@ func TestPhaseMarksHighQ(t *testing.T) {
 		}
 	}
 }
+
+// bufferedCR is n stages of C 1 µF into R 1 kΩ to ground, each read by a
+// VCVS of gain g (1 for all but the last, which has gain last) that drives
+// the next: H = last·∏ sRC/(1 + sRC), a zero of order n at DC.
+func bufferedCR(t testing.TB, n int, last float64) *mna.System {
+	t.Helper()
+	parts := []netlist.Part{testcircuit.V("V1", "m0", gnd, 1)}
+	prev := "m0"
+	for k := 1; k <= n; k++ {
+		a, m := "a"+string(rune('0'+k)), "m"+string(rune('0'+k))
+		g := 1.0
+		if k == n {
+			g = last
+		}
+		parts = append(parts, testcircuit.C("C"+a, prev, a, 1e-6), testcircuit.R("R"+a, a, gnd, 1e3), testcircuit.VCVS("E"+a, m, gnd, g, a, gnd))
+		prev = m
+	}
+	return testcircuit.Build(t, testcircuit.New(parts...), mna.Output{Kind: mna.NodeVoltage, Node: prev})
+}
+
+// TestPhaseAnchorAtDCZero: where H has a zero of order n at DC the phase
+// is continuous from its low-frequency limit n·90° (c·s^n with c > 0;
+// +180° more for c < 0), whatever the order of the points: three buffered
+// CR high-pass stages give 3·(90° − atan ωRC) (closed form, common
+// practice) at 1 Hz and 100 kHz listed either way round; an inverting last
+// stage adds 180°.
+func TestPhaseAnchorAtDCZero(t *testing.T) {
+	for _, tc := range []struct {
+		last  float64
+		extra float64 // degrees
+	}{{1, 0}, {-1, 180}} {
+		sys := bufferedCR(t, 3, tc.last)
+		want := func(f float64) float64 {
+			return 3*(90-math.Atan(2*math.Pi*f*1e-3)*180/math.Pi) + tc.extra
+		}
+		for _, fs := range [][]float64{{1, 100e3}, {100e3, 1}, {100e3, 10, 1, 1e4}} {
+			r, err := response.Sweep(context.Background(), sys, fs, 1)
+			if err != nil {
+				t.Fatal(err)
+			}
+			for i, f := range fs {
+				if math.Abs(r.PhaseDeg[i]-want(f)) > 1e-9 || r.PhaseUnresolved[i] {
+					t.Errorf("gain %g, points %v: %g Hz: phase %.12g° (unresolved %v), want %.12g°", tc.last, fs, f, r.PhaseDeg[i], r.PhaseUnresolved[i], want(f))
+				}
+			}
+		}
+	}
+}

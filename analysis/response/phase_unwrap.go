@@ -17,9 +17,12 @@ import (
 // The phase is anchored at 0 Hz where H(0) is finite and not 0 (arg H(0)
 // is 0° or 180°, H(0) being real), followed from there to the first point
 // as a step between points: the phase is then the one continuous from DC
-// whatever the sweep's first frequency. Where H has a zero or a pole at
-// 0 Hz (or that first step cannot be resolved), the first point keeps its
-// principal value, in (−180°, 180°].
+// whatever the sweep's first frequency. Where H has a zero or a pole of
+// order |k| at 0 Hz it is anchored at its low-frequency limit k·90° (plus
+// 180° when H ≈ c·s^k has c < 0; lowAnchor), checked six and seven
+// decades below the lowest point; where that limit is not reached there
+// (a corner further down), or a step cannot be resolved, the first point
+// keeps its principal value, in (−180°, 180°].
 //
 // Between two consecutive points with a phase, a and b, the change of
 // arg H is known modulo 360° from the two values of H; the turn is picked
@@ -188,6 +191,66 @@ func resolveStep(ctx context.Context, ev pointEval, a, b phasePoint, depth int, 
 	}
 }
 
+// lowAnchorRatio is how far below the first point lowAnchor looks for
+// the low-frequency asymptote c·s^k of H.
+const lowAnchorRatio = 1e-6
+
+// lowAnchor is the anchor of the phase where H has a zero or a pole at
+// 0 Hz: near DC, H ≈ c·s^k with c real, so arg H tends to k·90° (plus
+// 180° for c < 0), the limit the phase is continuous from (an integrator
+// −90°, a k-fold high-pass +k·90°; common practice). It solves H at
+// f1·lowAnchorRatio and a decade below (f1 the first point's frequency)
+// and takes k = d ln H / d ln s there, s·H′/H, when both are within
+// 10⁻³ of the same integer with no imaginary part; the point returned is
+// the upper of the two with its phase on the turn of k·90° (+180°). ok
+// is false when H is not yet c·s^k there (a corner below that), or has
+// no normal value: the first point then keeps its principal value.
+func lowAnchor(ev pointEval, f1Hz float64) (phasePoint, bool, error) {
+	if ev == nil || !(f1Hz > 0) {
+		return phasePoint{}, false, nil
+	}
+	var k [2]float64
+	var pts [2]phasePoint
+	for i, f := range []float64{f1Hz * lowAnchorRatio, f1Hz * lowAnchorRatio / 10} {
+		h, dh, singular, err := ev(f)
+		if err != nil {
+			return phasePoint{}, false, err
+		}
+		if singular || h == 0 || cmplx.Abs(h) < MinNormalMag || cmplx.IsInf(h) || cmplx.IsNaN(dh) {
+			return phasePoint{}, false, nil
+		}
+		s := complex(0, 2*math.Pi*f)
+		v := s * dh / h
+		if math.Abs(imag(v)) > 1e-3 || math.Abs(real(v)-math.Round(real(v))) > 1e-3 {
+			return phasePoint{}, false, nil
+		}
+		k[i], pts[i] = math.Round(real(v)), newPhasePoint(f, h, dh)
+	}
+	if k[0] != k[1] || k[0] == 0 {
+		return phasePoint{}, false, nil
+	}
+	p := pts[0]
+	// c = H/s^k is real; its sign decides the extra half turn.
+	c := p.h / cmplx.Pow(complex(0, 2*math.Pi*p.f), complex(k[0], 0))
+	target := k[0] * math.Pi / 2
+	if real(c) < 0 {
+		target += math.Pi
+	}
+	p.phaseRd += 2 * math.Pi * math.Round((target-p.phaseRd)/(2*math.Pi))
+	return p, true, nil
+}
+
+// lowestPositive is the lowest of fs above 0 (0 when there is none).
+func lowestPositive(fs []float64) float64 {
+	lo := 0.0
+	for _, f := range fs {
+		if f > 0 && (lo == 0 || f < lo) {
+			lo = f
+		}
+	}
+	return lo
+}
+
 // phaseMarks returns the positive finite frequencies of marks, sorted
 // and without repeats (a new slice).
 func phaseMarks(marks []float64) []float64 {
@@ -258,8 +321,13 @@ func (r *Response) unwrapPhase(ctx context.Context, workers int, newEval func() 
 		if err != nil {
 			return err
 		}
-		if !singular && cmplx.Abs(h) >= MinNormalMag && !cmplx.IsInf(h) && !cmplx.IsNaN(dh) {
+		if !singular && cmplx.Abs(h) >= MinNormalMag && !cmplx.IsInf(h) && !cmplx.IsNaN(dh) && h != 0 {
 			dc = newPhasePoint(0, h, dh)
+			pending = append(pending, step{dc, pt(first), first})
+		} else if low, ok, err := lowAnchor(newEval(), lowestPositive(r.FreqHz)); err != nil {
+			return err
+		} else if ok {
+			dc = low
 			pending = append(pending, step{dc, pt(first), first})
 		}
 	}
