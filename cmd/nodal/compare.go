@@ -106,7 +106,7 @@ func (c *compareCmd) Run(e *env) error {
 	if err != nil {
 		return err
 	}
-	if err := warnUnstable(e, la); err != nil {
+	if err := warnUnstable(e, la, ta); err != nil {
 		return err
 	}
 	var b *response.Response
@@ -132,7 +132,7 @@ func (c *compareCmd) Run(e *env) error {
 		if err != nil {
 			return err
 		}
-		if err := warnUnstable(e, lb); err != nil {
+		if err := warnUnstable(e, lb, tb); err != nil {
 			return err
 		}
 		freqs, err = c.frequencies(func() (float64, float64) {
@@ -169,13 +169,18 @@ func (c *compareCmd) Run(e *env) error {
 }
 
 // warnUnstable says on standard error when the circuit is not stable (its
-// frequency response is then not what a measurement would show).
-func warnUnstable(e *env, l *loaded) error {
+// frequency response is then not what a measurement would show), and
+// gives the traces of that circuit its resonances for the phase
+// unwrapping (resonanceMarks).
+func warnUnstable(e *env, l *loaded, ts []sweepTrace) error {
 	st, err := circuitStability(l)
 	if err != nil {
 		return err
 	}
 	warnStability(e.stderr, st)
+	for i := range ts {
+		ts[i].marksHz = resonanceMarks(st)
+	}
 	return nil
 }
 
