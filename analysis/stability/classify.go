@@ -93,6 +93,12 @@ const (
 	// parts; shift-and-invert Arnoldi over Result.SearchedRad found no
 	// natural frequency in the right half-plane, which proves nothing.
 	ReasonNotFound
+	// ReasonRepeatedAxis: every natural frequency was computed, block by
+	// block, and some are repeated on the jω axis across blocks spanning
+	// more than MaxUnknowns unknowns, so whether they have as many modes
+	// as their multiplicity (marginal) or form a Jordan chain (unstable)
+	// was not decided.
+	ReasonRepeatedAxis
 )
 
 // String is the reason in words, without figures (cmd/nodal adds them).
@@ -114,6 +120,8 @@ func (r Reason) String() string {
 		return "a block of the circuit has a natural frequency in the right half-plane or repeated on the jω axis"
 	case ReasonNotFound:
 		return "a block of the circuit too large to solve has active parts; shift-and-invert Arnoldi found no natural frequency in the right half-plane, which does not prove there is none"
+	case ReasonRepeatedAxis:
+		return "a natural frequency is repeated on the jω axis across blocks too large to solve together, so whether it has as many modes as its multiplicity (marginal) or grows (unstable) was not decided"
 	}
 	return "every natural frequency was computed"
 }

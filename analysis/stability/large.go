@@ -3,6 +3,7 @@ package stability
 import (
 	"fmt"
 	"math"
+	"math/cmplx"
 	"slices"
 
 	"nodal/analysis/transfer"
@@ -70,7 +71,8 @@ func largeResult(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 	strictBlocks := 0 // large blocks proven strictly stable by blockCertificate
 	// Y(0) regular by mna's pivot rule: no block has a root at s = 0.
 	regularAt0 := mna.NewSolver(m).Factor(0) == nil
-	for _, b := range blocks {
+	var blockOf []int // per root of roots: the index in blocks of its block
+	for bi, b := range blocks {
 		g, cm := m.G.Sub(b.Rows, b.Cols), m.C.Sub(b.Rows, b.Cols)
 		if len(b.Rows) <= MaxUnknowns {
 			r, _, err := wholeEigenvalues(g.Dense(), cm.Dense(), regularAt0)
@@ -78,6 +80,9 @@ func largeResult(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 				return nil, err
 			}
 			roots = append(roots, r...)
+			for range r {
+				blockOf = append(blockOf, bi)
+			}
 			if cl, _ := Classify(slices.Clone(r)); cl != Stable {
 				suspect = append(suspect, b)
 			}
@@ -116,11 +121,21 @@ func largeResult(c *netlist.Circuit, m *mna.Matrices) (*Result, error) {
 		}
 	}
 	res.suspects = suspects(m, suspect)
+	rootBlocks := slices.Clone(roots) // roots in block order, before Classify sorts them
 	cl, off := Classify(roots)
+	repeatUndecided := false
+	if cl == Unstable && len(off) > 0 && !slices.ContainsFunc(off, func(r complex128) bool { return real(r) != 0 }) {
+		if cl = axisRepeatsAcrossBlocks(m, blocks, rootBlocks, blockOf, off); cl == Unchecked {
+			repeatUndecided, cl = true, Marginal // what the other blocks' verdicts are weighed against below
+		}
+	}
 	res.Natural = append(roots, found...)
 	sortByRealPart(res.Natural)
 	computed := !unchecked && !passiveBlock && strictBlocks == 0 && len(found) == 0
 	switch {
+	case repeatUndecided && len(found) == 0:
+		res.Class, res.Offending, res.Reason = Unchecked, off, ReasonRepeatedAxis
+		res.AllNatural = computed
 	case computed:
 		res.Class, res.Offending, res.AllNatural = cl, off, true
 	case cl == Unstable || len(found) > 0:
@@ -259,4 +274,47 @@ func suspects(m *mna.Matrices, blocks []transfer.PencilBlock) map[string]bool {
 		}
 	})
 	return out
+}
+
+// axisRepeatsAcrossBlocks decides the class of a large circuit whose only
+// offending natural frequencies, off, are repeated on the jω axis (Classify
+// said Unstable): roots are the dense blocks' natural frequencies in block
+// order, blockOf the index in blocks of each one's block. The repeated
+// roots may sit in different diagonal blocks of the block triangular
+// form, where a one-way coupling can still make a Jordan chain (a tank
+// driving its twin) or not (two tanks side by side). The blocks from the
+// first to the last holding an axis root, with every block between them
+// (a chain can only run forward through them), form one principal
+// sub-pencil with the same modes at those frequencies (blocks outside the
+// range have other spectra and decouple: common practice, the Sylvester
+// equation of disjoint spectra), and semisimpleAxis decides on it when it
+// has at most MaxUnknowns unknowns: Marginal when every repeated one has
+// as many modes as its multiplicity, else Unstable. A larger range is
+// Unchecked (the verdict is not decided).
+func axisRepeatsAcrossBlocks(m *mna.Matrices, blocks []transfer.PencilBlock, roots []complex128, blockOf []int, off []complex128) Class {
+	lo, hi := len(blocks), -1
+	for i, r := range roots {
+		if real(r) == 0 || math.Abs(real(r)) <= AxisTol*cmplx.Abs(r) {
+			for _, o := range off {
+				if cmplx.Abs(r-o) <= repeatTol*math.Max(cmplx.Abs(r), cmplx.Abs(o)) {
+					lo, hi = min(lo, blockOf[i]), max(hi, blockOf[i])
+				}
+			}
+		}
+	}
+	if hi < lo {
+		return Unstable
+	}
+	var rows, cols []int
+	for _, b := range blocks[lo : hi+1] {
+		rows = append(rows, b.Rows...)
+		cols = append(cols, b.Cols...)
+	}
+	if len(rows) > MaxUnknowns {
+		return Unchecked
+	}
+	if semisimpleAxis(m.G.Sub(rows, cols).Dense(), m.C.Sub(rows, cols).Dense(), off) {
+		return Marginal
+	}
+	return Unstable
 }
